@@ -1,0 +1,245 @@
+//! From a parsed [`Expr`] to a canonical [`Form`], resolving names.
+//!
+//! Design decision: name resolution happens here, once, with a [`Names`] table that says what
+//! every identifier means (symbol, defined subexpression, arbitrary function) and what to do
+//! with an unknown one. Errors keep the span of the offending node.
+
+use super::{CanonError, Form, Store};
+use crate::expr::{BinOp, Expr, ExprKind, Span};
+use rustc_hash::{FxHashMap, FxHashSet};
+
+/// What an identifier that [`Names`] does not know means.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Unknown {
+    /// A free symbol (a value) or an arbitrary function (when applied).
+    Free,
+    /// An error, with a "did you mean" hint.
+    Error,
+}
+
+/// The built-in functions of the expression language.
+pub const BUILTINS: [&str; 9] = ["sin", "cos", "tan", "exp", "log", "sqrt", "sinh", "cosh", "tanh"];
+
+/// The name table used to build forms.
+#[derive(Clone, Debug)]
+pub struct Names {
+    symbols: FxHashSet<String>,
+    defined: FxHashMap<String, Form>,
+    functions: FxHashSet<String>,
+    /// What an unknown identifier means.
+    pub unknown: Unknown,
+}
+
+impl Names {
+    /// A table in which every unknown name is a free symbol or arbitrary function.
+    pub fn free() -> Names {
+        Names { symbols: FxHashSet::default(), defined: FxHashMap::default(), functions: FxHashSet::default(), unknown: Unknown::Free }
+    }
+    /// A table in which only declared names are allowed.
+    pub fn strict() -> Names {
+        Names { unknown: Unknown::Error, ..Names::free() }
+    }
+    /// Declares a symbol (coordinate, parameter).
+    pub fn symbol(&mut self, name: &str) {
+        self.symbols.insert(name.to_string());
+    }
+    /// Declares a named subexpression.
+    pub fn define(&mut self, name: &str, f: Form) {
+        self.defined.insert(name.to_string(), f);
+    }
+    /// Declares an arbitrary function of one argument.
+    pub fn function(&mut self, name: &str) {
+        self.functions.insert(name.to_string());
+    }
+    /// True if the name is declared as anything (or is built in).
+    pub fn is_declared(&self, name: &str) -> bool {
+        self.symbols.contains(name)
+            || self.defined.contains_key(name)
+            || self.functions.contains(name)
+            || BUILTINS.contains(&name)
+            || name == "pi"
+    }
+    fn all_names(&self) -> Vec<&str> {
+        let mut v: Vec<&str> = self
+            .symbols
+            .iter()
+            .chain(self.defined.keys())
+            .chain(self.functions.iter())
+            .map(|s| s.as_str())
+            .chain(BUILTINS.iter().copied())
+            .chain(std::iter::once("pi"))
+            .collect();
+        v.sort();
+        v
+    }
+    /// The declared name closest to `name`, if any is close.
+    pub fn suggest(&self, name: &str) -> Option<String> {
+        let mut best: Option<(usize, &str)> = None;
+        for cand in self.all_names() {
+            let d = edit_distance(name, cand);
+            let limit = (name.len().max(cand.len()) / 3).max(1);
+            if d <= limit && best.is_none_or(|(bd, _)| d < bd) {
+                best = Some((d, cand));
+            }
+        }
+        best.map(|b| b.1.to_string())
+    }
+}
+
+fn edit_distance(a: &str, b: &str) -> usize {
+    let a: Vec<char> = a.chars().collect();
+    let b: Vec<char> = b.chars().collect();
+    let mut prev: Vec<usize> = (0..=b.len()).collect();
+    for i in 1..=a.len() {
+        let mut cur = vec![i; b.len() + 1];
+        for j in 1..=b.len() {
+            let sub = prev[j - 1] + usize::from(a[i - 1] != b[j - 1]);
+            cur[j] = sub.min(prev[j] + 1).min(cur[j - 1] + 1);
+        }
+        prev = cur;
+    }
+    prev[b.len()]
+}
+
+/// An error while building a form, with the span of the offending node.
+#[derive(Clone, Debug, PartialEq, thiserror::Error, miette::Diagnostic)]
+#[error("{message}")]
+pub struct BuildError {
+    /// What is wrong.
+    pub message: String,
+    /// Where.
+    #[label("here")]
+    pub span: Span,
+    /// How to fix it.
+    #[help]
+    pub help: Option<String>,
+}
+
+impl BuildError {
+    fn new(message: impl Into<String>, span: Span, help: Option<String>) -> BuildError {
+        BuildError { message: message.into(), span, help }
+    }
+    fn canon(e: CanonError, span: Span) -> BuildError {
+        BuildError::new(e.to_string(), span, None)
+    }
+}
+
+impl Store {
+    /// Builds the canonical form of `e` with the names in `names`.
+    pub fn build(&mut self, e: &Expr, names: &Names) -> Result<Form, BuildError> {
+        let c = |r: Result<Form, CanonError>| r.map_err(|err| BuildError::canon(err, e.span));
+        match &e.kind {
+            ExprKind::Num(q) => Ok(self.rational(q.clone())),
+            ExprKind::Ident(n) => self.resolve_ident(n, e.span, names),
+            ExprKind::Neg(a) => {
+                let a = self.build(a, names)?;
+                c(self.neg(a))
+            }
+            ExprKind::Binary(op, a, b) => {
+                let fa = self.build(a, names)?;
+                let fb = self.build(b, names)?;
+                match op {
+                    BinOp::Add => c(self.add(fa, fb)),
+                    BinOp::Sub => c(self.sub(fa, fb)),
+                    BinOp::Mul => c(self.mul(fa, fb)),
+                    BinOp::Div => self.div(fa, fb).map_err(|err| match err {
+                        CanonError::DivisionByZero => BuildError::new(
+                            "division by an expression that is identically zero",
+                            b.span,
+                            Some("this denominator simplifies to 0".into()),
+                        ),
+                        other => BuildError::canon(other, e.span),
+                    }),
+                    BinOp::Pow => c(self.pow(fa, fb)),
+                }
+            }
+            ExprKind::Call { name, name_span, primes, arg } => {
+                let a = self.build(arg, names)?;
+                if BUILTINS.contains(&name.as_str()) {
+                    if *primes > 0 {
+                        return Err(BuildError::new(
+                            format!("`{name}` is built in; primes mark derivatives of arbitrary functions only"),
+                            *name_span,
+                            Some(format!("differentiate with the operator, e.g. d_x({name}(x))")),
+                        ));
+                    }
+                    return c(match name.as_str() {
+                        "sin" => self.sin(a),
+                        "cos" => self.cos(a),
+                        "tan" => self.tan(a),
+                        "exp" => self.exp(a),
+                        "log" => self.log(a),
+                        "sqrt" => self.root(a, 2),
+                        "sinh" => self.sinh(a),
+                        "cosh" => self.cosh(a),
+                        "tanh" => self.tanh(a),
+                        _ => unreachable!("every builtin is listed"),
+                    });
+                }
+                if names.functions.contains(name) || (names.unknown == Unknown::Free && !names.is_declared(name)) {
+                    return Ok(self.func(name, *primes, a));
+                }
+                let what = if names.symbols.contains(name) || names.defined.contains_key(name) {
+                    format!("`{name}` is not a function")
+                } else {
+                    format!("unknown function `{name}`")
+                };
+                let help = if names.symbols.contains(name) || names.defined.contains_key(name) {
+                    Some(format!("to multiply, write `{name}*(...)`; arbitrary functions are declared in [functions]"))
+                } else {
+                    Some(match names.suggest(name) {
+                        Some(s) => format!("did you mean `{s}`? Arbitrary functions are declared in [functions]"),
+                        None => "declare arbitrary functions in [functions]".into(),
+                    })
+                };
+                Err(BuildError::new(what, *name_span, help))
+            }
+            ExprKind::Deriv { vars, arg } => {
+                let mut f = self.build(arg, names)?;
+                for (v, span) in vars {
+                    let known_symbol = names.symbols.contains(v);
+                    if !known_symbol && (names.unknown == Unknown::Error || names.is_declared(v)) {
+                        return Err(BuildError::new(
+                            format!("cannot differentiate by `{v}`: it is not a coordinate or parameter"),
+                            *span,
+                            names.suggest(v).map(|s| format!("did you mean `{s}`?")),
+                        ));
+                    }
+                    let k = self.symbol_kernel(v);
+                    f = self.diff(f, k).map_err(|err| BuildError::canon(err, e.span))?;
+                }
+                Ok(f)
+            }
+        }
+    }
+
+    fn resolve_ident(&mut self, n: &str, span: Span, names: &Names) -> Result<Form, BuildError> {
+        if let Some(&f) = names.defined.get(n) {
+            return Ok(f);
+        }
+        if names.symbols.contains(n) {
+            return Ok(self.symbol(n));
+        }
+        if n == "pi" {
+            return Ok(self.pi());
+        }
+        if BUILTINS.contains(&n) || names.functions.contains(n) {
+            return Err(BuildError::new(
+                format!("`{n}` is a function and needs an argument"),
+                span,
+                Some(format!("write `{n}(...)`")),
+            ));
+        }
+        match names.unknown {
+            Unknown::Free => Ok(self.symbol(n)),
+            Unknown::Error => Err(BuildError::new(
+                format!("undeclared name `{n}`"),
+                span,
+                Some(match names.suggest(n) {
+                    Some(s) => format!("did you mean `{s}`? Parameters go in [parameters], named subexpressions in [define]"),
+                    None => "declare it in [parameters] or [define]".into(),
+                }),
+            )),
+        }
+    }
+}

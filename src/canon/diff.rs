@@ -1,0 +1,134 @@
+//! Exact partial derivatives of canonical forms.
+//!
+//! Design decision: differentiation works on canonical forms, not on the parsed tree, through
+//! logarithmic derivatives of kernels: d(c * prod k^n * e^E) = c * m * (sum n * dk/k + dE).
+//! Results are cached per (form, variable), so a tensor computation that needs the same
+//! derivative twice pays once.
+
+use super::{CResult, Form, Kernel, KernelId, Rat, Store};
+
+impl Store {
+    /// The partial derivative of `f` by the symbol `var` (other symbols are independent).
+    pub fn diff(&mut self, f: Form, var: KernelId) -> CResult<Form> {
+        if let Some(&d) = self.diff_cache.get(&(f, var)) {
+            return Ok(d);
+        }
+        if !self.form_deps(f).contains(&var) {
+            self.diff_cache.insert((f, var), self.zero);
+            return Ok(self.zero);
+        }
+        let r = self.rats[f.0 as usize].clone();
+        let num = self.intern_rat(Rat { num: r.num.clone(), den: Vec::new() });
+        let dnum = self.diff_poly(&r.num, var)?;
+        let d = if r.den.is_empty() {
+            dnum
+        } else {
+            // d(N/D) = (dN - N * sum_j e_j dF_j / F_j) / D
+            let den = self.intern_rat(Rat { num: vec![(self.unit, super::Coeff::one())], den: r.den.clone() });
+            let mut logd = self.zero;
+            for &(fid, e) in &r.den {
+                let p = self.factors[fid.0 as usize].clone();
+                let dp = self.diff_poly(&p, var)?;
+                if dp == self.zero {
+                    continue;
+                }
+                let pf = self.intern_rat(Rat { num: p, den: Vec::new() });
+                let q = self.div(dp, pf)?;
+                let q = self.scale(q, &super::Coeff::int(e as i64))?;
+                logd = self.add(logd, q)?;
+            }
+            let t = self.mul(num, logd)?;
+            let top = self.sub(dnum, t)?;
+            self.mul(top, den)?
+        };
+        self.diff_cache.insert((f, var), d);
+        Ok(d)
+    }
+
+    /// Derivative of a numerator polynomial.
+    fn diff_poly(&mut self, p: &super::Poly, var: KernelId) -> CResult<Form> {
+        let mut acc = self.zero;
+        for (m, c) in p {
+            let mono = self.monos[m.0 as usize].clone();
+            let mut dlog = self.zero;
+            for &(k, e) in &mono.pows {
+                let dk = self.dlog_kernel(k, var)?;
+                if dk == self.zero {
+                    continue;
+                }
+                let t = self.scale(dk, &super::Coeff::int(e as i64))?;
+                dlog = self.add(dlog, t)?;
+            }
+            if let Some(ex) = mono.exp {
+                let de = self.diff(ex, var)?;
+                dlog = self.add(dlog, de)?;
+            }
+            if dlog == self.zero {
+                continue;
+            }
+            let term = self.intern_rat(Rat { num: vec![(*m, c.clone())], den: Vec::new() });
+            let t = self.mul(term, dlog)?;
+            acc = self.add(acc, t)?;
+        }
+        Ok(acc)
+    }
+
+    /// The logarithmic derivative d(k)/k of a kernel by `var`.
+    fn dlog_kernel(&mut self, k: KernelId, var: KernelId) -> CResult<Form> {
+        if let Some(&d) = self.dlog_cache.get(&(k, var)) {
+            return Ok(d);
+        }
+        let d = match self.kernel(k).clone() {
+            Kernel::Sym(_) => {
+                if k == var {
+                    let kf = self.kernel_form(k);
+                    self.inv(kf)?
+                } else {
+                    self.zero
+                }
+            }
+            Kernel::Pi => self.zero,
+            Kernel::Root { radicand, q } => {
+                // d(R^(1/q)) / R^(1/q) = R' / (q R)
+                let dr = self.diff(radicand, var)?;
+                if dr == self.zero {
+                    self.zero
+                } else {
+                    let t = self.div(dr, radicand)?;
+                    self.scale(t, &super::Coeff::rational(super::Q::new(1.into(), (q as i64).into())))?
+                }
+            }
+            Kernel::Log(a) => {
+                // d(log A) / log A = A' / (A log A)
+                let da = self.diff(a, var)?;
+                if da == self.zero {
+                    self.zero
+                } else {
+                    let kf = self.kernel_form(k);
+                    let den = self.mul(a, kf)?;
+                    self.div(da, den)?
+                }
+            }
+            Kernel::Func { name, order, arg } => {
+                // d F^(n)(g) = F^(n+1)(g) g'
+                let dg = self.diff(arg, var)?;
+                if dg == self.zero {
+                    self.zero
+                } else {
+                    let next = self.func(&name, order + 1, arg);
+                    let kf = self.kernel_form(k);
+                    let t = self.mul(next, dg)?;
+                    self.div(t, kf)?
+                }
+            }
+        };
+        self.dlog_cache.insert((k, var), d);
+        Ok(d)
+    }
+
+    /// Derivative by a symbol given by name.
+    pub fn diff_by_name(&mut self, f: Form, var: &str) -> CResult<Form> {
+        let k = self.symbol_kernel(var);
+        self.diff(f, k)
+    }
+}

@@ -1,0 +1,1141 @@
+//! Canonical forms: expressions as rational functions over kernels with exact coefficients.
+//!
+//! Model. A canonical form ([`Form`]) is a quotient `N / D`:
+//! - `N` is an expanded sum of terms `c * m`, with `c` an exact [`Coeff`] in Q(sqrt 2, sqrt 3, i)
+//!   and `m` a monomial: a product of kernel powers (integer exponents, negative allowed) times
+//!   at most one exponential `exp(E)`, `E` itself a canonical form.
+//! - `D` is a product of powers of normalised multi-term polynomials, kept *factored*, so that
+//!   common denominators need no gcd: N / D is zero exactly when N is.
+//! - Kernels are symbols, `pi`, principal roots `R^(1/q)`, logarithms and arbitrary functions
+//!   `F^(n)(arg)`, each with canonical arguments, interned once.
+//!
+//! Key design decision: trigonometric and hyperbolic functions are rewritten through
+//! exponentials (sin a = (e^(ia) - e^(-ia))/(2i)), and exponentials merge (e^a e^b = e^(a+b)),
+//! so every trig identity with symbolic arguments becomes polynomial arithmetic. The constant
+//! part i*pi*k/12 of an exponent is taken out exactly as a coefficient (the field holds all
+//! 24th roots of unity). Every rewrite is an identity of the principal branches: sqrt(x^2) stays
+//! a root kernel with the relation k^2 = x^2, never x.
+//!
+//! Soundness argument for "zero": each construction step replaces an expression by an equal
+//! one (where both are defined), so a numerator that cancels to no terms proves the expression
+//! zero wherever it is defined. Completeness is partial (kernels may be algebraically
+//! dependent in ways not modelled, e.g. log(x^2) and log(x)); the zero tester then falls back
+//! to certified numerical witnesses or says "undecided".
+//!
+//! **Invariants:** coefficients are exact (floating point appears only in [`crate::zero`]'s
+//! witnesses); a form is interned, so equal forms in one [`Store`] have equal ids; the numerator
+//! never holds a zero coefficient; root kernels appear with exponents in `0..q`.
+
+mod build;
+mod coeff;
+mod diff;
+mod eval;
+mod print;
+
+pub use build::{BuildError, Names, Unknown};
+pub use coeff::{Coeff, Q};
+pub use eval::{FunctionSample, Point};
+
+use num_bigint::BigInt;
+use num_integer::Integer;
+use num_traits::{Signed, ToPrimitive, Zero};
+use rustc_hash::FxHashMap;
+use std::rc::Rc;
+use std::time::Instant;
+
+/// A canonical form in a [`Store`]. Equal forms of one store have equal ids.
+#[derive(Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Debug)]
+pub struct Form(u32);
+
+/// An interned kernel.
+#[derive(Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Debug)]
+pub struct KernelId(u32);
+
+/// An interned monomial.
+#[derive(Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Debug)]
+struct MonoId(u32);
+
+/// An interned denominator factor (a normalised polynomial with two or more terms).
+#[derive(Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Debug)]
+struct FactorId(u32);
+
+/// The indivisible building blocks of canonical forms.
+#[derive(Clone, PartialEq, Eq, Hash, Debug)]
+pub enum Kernel {
+    /// A symbol: a coordinate, a parameter or a free symbol.
+    Sym(Rc<str>),
+    /// The constant pi.
+    Pi,
+    /// The principal root `radicand^(1/q)`, `q >= 2`.
+    Root {
+        /// What is under the root.
+        radicand: Form,
+        /// The root's order.
+        q: u32,
+    },
+    /// The principal natural logarithm.
+    Log(Form),
+    /// An arbitrary function of one argument, differentiated `order` times.
+    Func {
+        /// The function's name.
+        name: Rc<str>,
+        /// How many derivatives.
+        order: u32,
+        /// The argument.
+        arg: Form,
+    },
+}
+
+#[derive(Clone, PartialEq, Eq, Hash, Debug)]
+struct Mono {
+    /// Sorted by kernel id, no zero exponents.
+    pows: Vec<(KernelId, i32)>,
+    /// The exponent of the monomial's exponential factor, if any (never the zero form).
+    exp: Option<Form>,
+}
+
+type Term = (MonoId, Coeff);
+/// Sorted by monomial id, no zero coefficients.
+type Poly = Vec<Term>;
+
+#[derive(Clone, PartialEq, Eq, Hash, Debug)]
+struct Rat {
+    num: Poly,
+    /// Sorted by factor id, positive exponents.
+    den: Vec<(FactorId, u32)>,
+}
+
+/// Why a computation on canonical forms stopped.
+#[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
+pub enum CanonError {
+    /// An intermediate result grew past the term limit.
+    #[error("too large: an intermediate result has over {0} terms")]
+    TooLarge(usize),
+    /// The time limit ran out.
+    #[error("too slow: stopped after the time limit of {0} ms")]
+    Timeout(u64),
+    /// Division by an expression that is identically zero.
+    #[error("division by an expression that is identically zero")]
+    DivisionByZero,
+    /// A power that is not defined, such as 0^(-1).
+    #[error("{0}")]
+    Undefined(String),
+}
+
+/// Result of an operation on canonical forms.
+pub type CResult<T> = Result<T, CanonError>;
+
+/// Limits that keep every computation bounded.
+#[derive(Clone, Copy, Debug)]
+pub struct Limits {
+    /// Largest number of terms any intermediate numerator may have.
+    pub max_terms: usize,
+    /// Wall-clock budget, checked inside multiplication.
+    pub deadline: Option<(Instant, u64)>,
+}
+
+impl Default for Limits {
+    fn default() -> Self {
+        Limits { max_terms: 200_000, deadline: None }
+    }
+}
+
+/// The arena of canonical forms, kernels and monomials, with the caches of derived results.
+pub struct Store {
+    kernels: Vec<Kernel>,
+    kernel_ids: FxHashMap<Kernel, KernelId>,
+    monos: Vec<Mono>,
+    mono_ids: FxHashMap<Mono, MonoId>,
+    factors: Vec<Poly>,
+    factor_ids: FxHashMap<Poly, FactorId>,
+    rats: Vec<Rat>,
+    rat_ids: FxHashMap<Rat, Form>,
+    mono_mul_cache: FxHashMap<(MonoId, MonoId), (MonoId, Coeff, Form)>,
+    diff_cache: FxHashMap<(Form, KernelId), Form>,
+    dlog_cache: FxHashMap<(KernelId, KernelId), Form>,
+    deps_cache: FxHashMap<KernelId, Rc<[KernelId]>>,
+    /// The limits in force.
+    pub limits: Limits,
+    unit: MonoId,
+    zero: Form,
+    one: Form,
+}
+
+impl Default for Store {
+    fn default() -> Self {
+        Store::new()
+    }
+}
+
+impl Store {
+    /// An empty store with default limits.
+    pub fn new() -> Store {
+        let mut s = Store {
+            kernels: Vec::new(),
+            kernel_ids: FxHashMap::default(),
+            monos: Vec::new(),
+            mono_ids: FxHashMap::default(),
+            factors: Vec::new(),
+            factor_ids: FxHashMap::default(),
+            rats: Vec::new(),
+            rat_ids: FxHashMap::default(),
+            mono_mul_cache: FxHashMap::default(),
+            diff_cache: FxHashMap::default(),
+            dlog_cache: FxHashMap::default(),
+            deps_cache: FxHashMap::default(),
+            limits: Limits::default(),
+            unit: MonoId(0),
+            zero: Form(0),
+            one: Form(0),
+        };
+        s.unit = s.intern_mono(Mono { pows: Vec::new(), exp: None });
+        s.zero = s.intern_rat(Rat { num: Vec::new(), den: Vec::new() });
+        s.one = s.intern_rat(Rat { num: vec![(s.unit, Coeff::one())], den: Vec::new() });
+        s
+    }
+
+    // ----- interning -------------------------------------------------------------------
+
+    fn intern_kernel(&mut self, k: Kernel) -> KernelId {
+        if let Some(&id) = self.kernel_ids.get(&k) {
+            return id;
+        }
+        let id = KernelId(self.kernels.len() as u32);
+        self.kernels.push(k.clone());
+        self.kernel_ids.insert(k, id);
+        id
+    }
+    fn intern_mono(&mut self, m: Mono) -> MonoId {
+        if let Some(&id) = self.mono_ids.get(&m) {
+            return id;
+        }
+        let id = MonoId(self.monos.len() as u32);
+        self.monos.push(m.clone());
+        self.mono_ids.insert(m, id);
+        id
+    }
+    fn intern_factor(&mut self, p: Poly) -> FactorId {
+        if let Some(&id) = self.factor_ids.get(&p) {
+            return id;
+        }
+        let id = FactorId(self.factors.len() as u32);
+        self.factors.push(p.clone());
+        self.factor_ids.insert(p, id);
+        id
+    }
+    fn intern_rat(&mut self, r: Rat) -> Form {
+        if let Some(&id) = self.rat_ids.get(&r) {
+            return id;
+        }
+        let id = Form(self.rats.len() as u32);
+        self.rats.push(r.clone());
+        self.rat_ids.insert(r, id);
+        id
+    }
+
+    /// The kernel behind an id.
+    pub fn kernel(&self, k: KernelId) -> &Kernel {
+        &self.kernels[k.0 as usize]
+    }
+
+    // ----- constructors ----------------------------------------------------------------
+
+    /// The form 0.
+    pub fn zero(&self) -> Form {
+        self.zero
+    }
+    /// The form 1.
+    pub fn one(&self) -> Form {
+        self.one
+    }
+    /// True if `f` is the zero form (a proof that the expression is identically zero).
+    pub fn is_zero(&self, f: Form) -> bool {
+        f == self.zero
+    }
+    /// A constant coefficient.
+    pub fn constant(&mut self, c: Coeff) -> Form {
+        if c.is_zero() {
+            return self.zero;
+        }
+        let unit = self.unit;
+        self.intern_rat(Rat { num: vec![(unit, c)], den: Vec::new() })
+    }
+    /// A rational constant.
+    pub fn rational(&mut self, q: Q) -> Form {
+        self.constant(Coeff::rational(q))
+    }
+    /// An integer constant.
+    pub fn int(&mut self, n: i64) -> Form {
+        self.constant(Coeff::int(n))
+    }
+    /// The symbol called `name`.
+    pub fn symbol(&mut self, name: &str) -> Form {
+        let k = self.symbol_kernel(name);
+        self.kernel_form(k)
+    }
+    /// The kernel of the symbol called `name`.
+    pub fn symbol_kernel(&mut self, name: &str) -> KernelId {
+        self.intern_kernel(Kernel::Sym(Rc::from(name)))
+    }
+    /// The constant pi.
+    pub fn pi(&mut self) -> Form {
+        let k = self.intern_kernel(Kernel::Pi);
+        self.kernel_form(k)
+    }
+    fn kernel_form(&mut self, k: KernelId) -> Form {
+        let m = self.intern_mono(Mono { pows: vec![(k, 1)], exp: None });
+        self.intern_rat(Rat { num: vec![(m, Coeff::one())], den: Vec::new() })
+    }
+    /// The arbitrary function `name` differentiated `order` times, at `arg`.
+    pub fn func(&mut self, name: &str, order: u32, arg: Form) -> Form {
+        let k = self.intern_kernel(Kernel::Func { name: Rc::from(name), order, arg });
+        self.kernel_form(k)
+    }
+
+    /// The number of terms of the numerator (a size measure).
+    pub fn num_terms(&self, f: Form) -> usize {
+        self.rats[f.0 as usize].num.len()
+    }
+
+    /// If `f` is a constant coefficient, that coefficient.
+    pub fn as_constant(&self, f: Form) -> Option<Coeff> {
+        let r = &self.rats[f.0 as usize];
+        if !r.den.is_empty() {
+            return None;
+        }
+        match r.num.as_slice() {
+            [] => Some(Coeff::zero()),
+            [(m, c)] if *m == self.unit => Some(c.clone()),
+            _ => None,
+        }
+    }
+
+    /// If `f` is a rational constant, that number.
+    pub fn as_rational(&self, f: Form) -> Option<Q> {
+        self.as_constant(f)?.as_rational()
+    }
+
+    /// If `f` is a lone symbol, its name.
+    pub fn as_symbol(&self, f: Form) -> Option<Rc<str>> {
+        let r = &self.rats[f.0 as usize];
+        if !r.den.is_empty() {
+            return None;
+        }
+        match r.num.as_slice() {
+            [(m, c)] if c.is_one() => {
+                let mono = &self.monos[m.0 as usize];
+                match (mono.pows.as_slice(), mono.exp) {
+                    ([(k, 1)], None) => match self.kernel(*k) {
+                        Kernel::Sym(s) => Some(s.clone()),
+                        _ => None,
+                    },
+                    _ => None,
+                }
+            }
+            _ => None,
+        }
+    }
+
+    fn check_size(&self, n: usize) -> CResult<()> {
+        if n > self.limits.max_terms {
+            return Err(CanonError::TooLarge(self.limits.max_terms));
+        }
+        if let Some((t, ms)) = self.limits.deadline {
+            if Instant::now() > t {
+                return Err(CanonError::Timeout(ms));
+            }
+        }
+        Ok(())
+    }
+
+    // ----- polynomial arithmetic -------------------------------------------------------
+
+    fn poly_add(a: &Poly, b: &Poly) -> Poly {
+        let mut out = Vec::with_capacity(a.len() + b.len());
+        let (mut i, mut j) = (0, 0);
+        while i < a.len() && j < b.len() {
+            match a[i].0.cmp(&b[j].0) {
+                std::cmp::Ordering::Less => {
+                    out.push(a[i].clone());
+                    i += 1;
+                }
+                std::cmp::Ordering::Greater => {
+                    out.push(b[j].clone());
+                    j += 1;
+                }
+                std::cmp::Ordering::Equal => {
+                    let c = a[i].1.add(&b[j].1);
+                    if !c.is_zero() {
+                        out.push((a[i].0, c));
+                    }
+                    i += 1;
+                    j += 1;
+                }
+            }
+        }
+        out.extend_from_slice(&a[i..]);
+        out.extend_from_slice(&b[j..]);
+        out
+    }
+
+    fn poly_scale(a: &Poly, c: &Coeff) -> Poly {
+        if c.is_zero() {
+            return Vec::new();
+        }
+        a.iter().map(|(m, x)| (*m, x.mul(c))).collect()
+    }
+
+    fn sort_terms(acc: FxHashMap<MonoId, Coeff>) -> Poly {
+        let mut v: Poly = acc.into_iter().filter(|(_, c)| !c.is_zero()).collect();
+        v.sort_by_key(|t| t.0);
+        v
+    }
+
+    /// Product of two numerators, as a form (root reductions may bring denominators).
+    fn poly_mul(&mut self, a: &Poly, b: &Poly) -> CResult<Rat> {
+        if a.is_empty() || b.is_empty() {
+            return Ok(Rat { num: Vec::new(), den: Vec::new() });
+        }
+        self.check_size(a.len().saturating_mul(b.len()) / 4)?;
+        let mut acc: FxHashMap<MonoId, Coeff> = FxHashMap::default();
+        let mut extras: Vec<(MonoId, Coeff, Form)> = Vec::new();
+        for (ma, ca) in a {
+            for (mb, cb) in b {
+                let (m, f, extra) = self.mono_mul(*ma, *mb)?;
+                let c = ca.mul(cb).mul(&f);
+                if c.is_zero() {
+                    continue;
+                }
+                if extra == self.one {
+                    let e = acc.entry(m).or_insert_with(Coeff::zero);
+                    *e = e.add(&c);
+                } else {
+                    extras.push((m, c, extra));
+                }
+            }
+            self.check_size(acc.len())?;
+        }
+        let mut r = Rat { num: Self::sort_terms(acc), den: Vec::new() };
+        for (m, c, extra) in extras {
+            let t = self.intern_rat(Rat { num: vec![(m, c)], den: Vec::new() });
+            let p = self.mul(t, extra)?;
+            let cur = self.intern_rat(r);
+            let s = self.add(cur, p)?;
+            r = self.rats[s.0 as usize].clone();
+        }
+        Ok(r)
+    }
+
+    /// The product of two monomials: a reduced monomial, a coefficient from the exponential's
+    /// constant part, and a form from root reductions (usually one).
+    fn mono_mul(&mut self, a: MonoId, b: MonoId) -> CResult<(MonoId, Coeff, Form)> {
+        if a == self.unit {
+            return Ok((b, Coeff::one(), self.one));
+        }
+        if b == self.unit {
+            return Ok((a, Coeff::one(), self.one));
+        }
+        let key = if a <= b { (a, b) } else { (b, a) };
+        if let Some(r) = self.mono_mul_cache.get(&key) {
+            return Ok(r.clone());
+        }
+        let ma = self.monos[a.0 as usize].clone();
+        let mb = self.monos[b.0 as usize].clone();
+        let mut pows = ma.pows.clone();
+        for (k, e) in mb.pows {
+            match pows.binary_search_by_key(&k, |p| p.0) {
+                Ok(i) => pows[i].1 += e,
+                Err(i) => pows.insert(i, (k, e)),
+            }
+        }
+        pows.retain(|p| p.1 != 0);
+        let exp = match (ma.exp, mb.exp) {
+            (None, None) => None,
+            (Some(x), None) | (None, Some(x)) => Some(x),
+            (Some(x), Some(y)) => Some(self.add(x, y)?),
+        };
+        let r = self.make_mono(pows, exp)?;
+        self.mono_mul_cache.insert(key, r.clone());
+        Ok(r)
+    }
+
+    /// Builds a reduced monomial from kernel powers and an exponent: root powers are brought
+    /// into `0..q` through `k^q = radicand`, and the exponent's constant `i*pi*k/12` part is
+    /// taken out as an exact coefficient.
+    fn make_mono(&mut self, mut pows: Vec<(KernelId, i32)>, exp: Option<Form>) -> CResult<(MonoId, Coeff, Form)> {
+        let mut extra = self.one;
+        let mut i = 0;
+        while i < pows.len() {
+            let (k, e) = pows[i];
+            if let Kernel::Root { radicand, q } = *self.kernel(k) {
+                let q = q as i32;
+                let (d, r) = e.div_mod_floor(&q);
+                if d != 0 {
+                    let p = self.powi(radicand, d as i64)?;
+                    extra = self.mul(extra, p)?;
+                    if r == 0 {
+                        pows.remove(i);
+                        continue;
+                    }
+                    pows[i].1 = r;
+                }
+            }
+            i += 1;
+        }
+        let mut coeff = Coeff::one();
+        let exp = match exp {
+            Some(e) => {
+                let (rest, c, pulled) = self.split_exponent(e)?;
+                coeff = c;
+                if pulled != self.one {
+                    extra = self.mul(extra, pulled)?;
+                }
+                if rest == self.zero { None } else { Some(rest) }
+            }
+            None => None,
+        };
+        let m = self.intern_mono(Mono { pows, exp });
+        Ok((m, coeff, extra))
+    }
+
+    /// Splits an exponent E into (rest, c, p) with exp(E) = c * p * exp(rest):
+    /// `c` is exp(i*pi*k/12) for the exponent's pi term when exact, and `p` collects
+    /// exp(q*log(A)) = A^q for rational q.
+    fn split_exponent(&mut self, e: Form) -> CResult<(Form, Coeff, Form)> {
+        let r = self.rats[e.0 as usize].clone();
+        if !r.den.is_empty() {
+            return Ok((e, Coeff::one(), self.one));
+        }
+        let pi = self.intern_kernel(Kernel::Pi);
+        let mut rest: Poly = Vec::new();
+        let mut coeff = Coeff::one();
+        let mut pulled = self.one;
+        for (m, c) in r.num {
+            let mono = self.monos[m.0 as usize].clone();
+            if mono.exp.is_none() && mono.pows.len() == 1 && mono.pows[0].1 == 1 {
+                let k = mono.pows[0].0;
+                if k == pi {
+                    if let Some(q) = c.as_imag_rational() {
+                        // exp(i*pi*q) depends only on q mod 2.
+                        let two = Q::from_integer(BigInt::from(2));
+                        let q = &q - (&q / &two).floor() * &two;
+                        let twelve_q = &q * Q::from_integer(BigInt::from(12));
+                        if twelve_q.is_integer() {
+                            let k = twelve_q.to_integer().to_i64().unwrap_or(0);
+                            coeff = coeff.mul(&Coeff::unit_root24(k));
+                        } else {
+                            rest.push((m, Coeff::rational(q).mul(&Coeff::i())));
+                        }
+                        continue;
+                    }
+                }
+                if let Kernel::Log(arg) = *self.kernel(k) {
+                    if let Some(q) = c.as_rational() {
+                        // exp(q*log(A)) = A^q for the principal branches.
+                        let p = self.pow_rational(arg, &q)?;
+                        pulled = self.mul(pulled, p)?;
+                        continue;
+                    }
+                }
+            }
+            rest.push((m, c));
+        }
+        rest.sort_by_key(|t| t.0);
+        let rest = self.intern_rat(Rat { num: rest, den: Vec::new() });
+        Ok((rest, coeff, pulled))
+    }
+
+    /// Expands a factored denominator (or any product of factors) into a numerator.
+    fn expand_factors(&mut self, fs: &[(FactorId, u32)]) -> CResult<Form> {
+        let mut acc = self.one;
+        for &(f, e) in fs {
+            let p = self.factors[f.0 as usize].clone();
+            let pf = self.intern_rat(Rat { num: p, den: Vec::new() });
+            for _ in 0..e {
+                acc = self.mul(acc, pf)?;
+            }
+        }
+        Ok(acc)
+    }
+
+    // ----- field operations on forms --------------------------------------------------
+
+    /// `a + b`.
+    pub fn add(&mut self, a: Form, b: Form) -> CResult<Form> {
+        if a == self.zero {
+            return Ok(b);
+        }
+        if b == self.zero {
+            return Ok(a);
+        }
+        let ra = self.rats[a.0 as usize].clone();
+        let rb = self.rats[b.0 as usize].clone();
+        if ra.den == rb.den {
+            let num = Self::poly_add(&ra.num, &rb.num);
+            self.check_size(num.len())?;
+            let den = if num.is_empty() { Vec::new() } else { ra.den };
+            return Ok(self.intern_rat(Rat { num, den }));
+        }
+        // Common denominator: the factor-wise maximum of the exponents.
+        let mut lcm = ra.den.clone();
+        for &(f, e) in &rb.den {
+            match lcm.binary_search_by_key(&f, |p| p.0) {
+                Ok(i) => lcm[i].1 = lcm[i].1.max(e),
+                Err(i) => lcm.insert(i, (f, e)),
+            }
+        }
+        let missing = |den: &[(FactorId, u32)]| -> Vec<(FactorId, u32)> {
+            lcm.iter()
+                .filter_map(|&(f, e)| {
+                    let have = den.iter().find(|p| p.0 == f).map(|p| p.1).unwrap_or(0);
+                    (e > have).then_some((f, e - have))
+                })
+                .collect()
+        };
+        let ma = missing(&ra.den);
+        let mb = missing(&rb.den);
+        let xa = self.expand_factors(&ma)?;
+        let xb = self.expand_factors(&mb)?;
+        let na = self.intern_rat(Rat { num: ra.num, den: Vec::new() });
+        let nb = self.intern_rat(Rat { num: rb.num, den: Vec::new() });
+        let pa = self.mul(na, xa)?;
+        let pb = self.mul(nb, xb)?;
+        let sum = self.add(pa, pb)?;
+        // pa, pb came from numerators times polynomials: their own denominators (from root
+        // reductions) are merged by the recursive add; now divide by the common denominator.
+        let rs = self.rats[sum.0 as usize].clone();
+        if rs.num.is_empty() {
+            return Ok(self.zero);
+        }
+        let mut den = rs.den;
+        for (f, e) in lcm {
+            match den.binary_search_by_key(&f, |p| p.0) {
+                Ok(i) => den[i].1 += e,
+                Err(i) => den.insert(i, (f, e)),
+            }
+        }
+        Ok(self.intern_rat(Rat { num: rs.num, den }))
+    }
+
+    /// `-a`.
+    pub fn neg(&mut self, a: Form) -> CResult<Form> {
+        self.scale(a, &Coeff::int(-1))
+    }
+
+    /// `c * a` for a constant `c`.
+    pub fn scale(&mut self, a: Form, c: &Coeff) -> CResult<Form> {
+        if c.is_zero() {
+            return Ok(self.zero);
+        }
+        let r = self.rats[a.0 as usize].clone();
+        Ok(self.intern_rat(Rat { num: Self::poly_scale(&r.num, c), den: r.den }))
+    }
+
+    /// `a - b`.
+    pub fn sub(&mut self, a: Form, b: Form) -> CResult<Form> {
+        let nb = self.neg(b)?;
+        self.add(a, nb)
+    }
+
+    /// `a * b`.
+    pub fn mul(&mut self, a: Form, b: Form) -> CResult<Form> {
+        if a == self.zero || b == self.zero {
+            return Ok(self.zero);
+        }
+        if a == self.one {
+            return Ok(b);
+        }
+        if b == self.one {
+            return Ok(a);
+        }
+        let ra = self.rats[a.0 as usize].clone();
+        let rb = self.rats[b.0 as usize].clone();
+        let prod = self.poly_mul(&ra.num, &rb.num)?;
+        if prod.num.is_empty() {
+            return Ok(self.zero);
+        }
+        let mut den = prod.den;
+        for (f, e) in ra.den.into_iter().chain(rb.den) {
+            match den.binary_search_by_key(&f, |p| p.0) {
+                Ok(i) => den[i].1 += e,
+                Err(i) => den.insert(i, (f, e)),
+            }
+        }
+        Ok(self.intern_rat(Rat { num: prod.num, den }))
+    }
+
+    /// `1 / a`; an error if `a` is identically zero.
+    pub fn inv(&mut self, a: Form) -> CResult<Form> {
+        if a == self.zero {
+            return Err(CanonError::DivisionByZero);
+        }
+        let r = self.rats[a.0 as usize].clone();
+        let den = self.expand_factors(&r.den)?;
+        // Take out the monomial content (the lowest power of every non-root kernel, and a
+        // shared exponential), then make the leading coefficient one.
+        let (content, cofactor) = self.split_content(&r.num)?;
+        let mono = self.monos[content.0 as usize].clone();
+        let inv_pows: Vec<(KernelId, i32)> = mono.pows.iter().map(|&(k, e)| (k, -e)).collect();
+        let inv_exp = match mono.exp {
+            Some(e) => Some(self.neg(e)?),
+            None => None,
+        };
+        let (m, c, extra) = self.make_mono(inv_pows, inv_exp)?;
+        let minv = self.intern_rat(Rat { num: vec![(m, c)], den: Vec::new() });
+        let minv = self.mul(minv, extra)?;
+        let part = self.mul(den, minv)?;
+        if cofactor.len() == 1 {
+            // A single term whose monomial is one (content took the rest) or a root power.
+            let (cm, cc) = cofactor[0].clone();
+            let cinv = cc.inv().ok_or(CanonError::DivisionByZero)?;
+            let rest = if cm == self.unit {
+                self.one
+            } else {
+                // Only root kernels remain: 1/k^e = k^(q-e) / radicand.
+                let mono = self.monos[cm.0 as usize].clone();
+                let pows: Vec<(KernelId, i32)> = mono.pows.iter().map(|&(k, e)| (k, -e)).collect();
+                let (m, c, extra) = self.make_mono(pows, None)?;
+                let t = self.intern_rat(Rat { num: vec![(m, c)], den: Vec::new() });
+                self.mul(t, extra)?
+            };
+            let rest = self.scale(rest, &cinv)?;
+            return self.mul(part, rest);
+        }
+        let lead = self.leading_coeff(&cofactor);
+        let linv = lead.inv().ok_or(CanonError::DivisionByZero)?;
+        let normalised = Self::poly_scale(&cofactor, &linv);
+        let fid = self.intern_factor(normalised);
+        let q = self.intern_rat(Rat { num: vec![(self.unit, linv)], den: vec![(fid, 1)] });
+        self.mul(part, q)
+    }
+
+    /// The coefficient of the term that leads in the structural (history-independent) order.
+    fn leading_coeff(&mut self, p: &Poly) -> Coeff {
+        let mut best: Option<(String, &Coeff)> = None;
+        for (m, c) in p {
+            let key = self.mono_key(*m);
+            if best.as_ref().is_none_or(|(k, _)| key > *k) {
+                best = Some((key, c));
+            }
+        }
+        best.map(|b| b.1.clone()).unwrap_or_else(Coeff::one)
+    }
+
+    /// Splits a numerator into a content monomial and the cofactor polynomial.
+    fn split_content(&mut self, p: &Poly) -> CResult<(MonoId, Poly)> {
+        if p.len() == 1 {
+            let (m, c) = &p[0];
+            let mono = self.monos[m.0 as usize].clone();
+            let (roots, others): (Vec<_>, Vec<_>) =
+                mono.pows.iter().partition(|(k, _)| matches!(self.kernel(*k), Kernel::Root { .. }));
+            let content = self.intern_mono(Mono { pows: others, exp: mono.exp });
+            let rest = self.intern_mono(Mono { pows: roots, exp: None });
+            return Ok((content, vec![(rest, c.clone())]));
+        }
+        let monos: Vec<Mono> = p.iter().map(|(m, _)| self.monos[m.0 as usize].clone()).collect();
+        let mut content: Vec<(KernelId, i32)> = Vec::new();
+        let first = &monos[0];
+        let all_kernels: std::collections::BTreeSet<KernelId> =
+            monos.iter().flat_map(|m| m.pows.iter().map(|p| p.0)).collect();
+        for k in all_kernels {
+            if matches!(self.kernel(k), Kernel::Root { .. }) {
+                continue;
+            }
+            let min = monos
+                .iter()
+                .map(|m| m.pows.iter().find(|p| p.0 == k).map(|p| p.1).unwrap_or(0))
+                .min()
+                .unwrap_or(0);
+            if min != 0 {
+                content.push((k, min));
+            }
+        }
+        let shared_exp = if monos.iter().all(|m| m.exp == first.exp) { first.exp } else { None };
+        if content.is_empty() && shared_exp.is_none() {
+            return Ok((self.unit, p.clone()));
+        }
+        let mut out: FxHashMap<MonoId, Coeff> = FxHashMap::default();
+        for ((_, c), m) in p.iter().zip(&monos) {
+            let mut pows = m.pows.clone();
+            for &(k, e) in &content {
+                if let Some(x) = pows.iter_mut().find(|p| p.0 == k) {
+                    x.1 -= e;
+                } else {
+                    pows.push((k, -e));
+                }
+            }
+            pows.retain(|p| p.1 != 0);
+            pows.sort_by_key(|p| p.0);
+            let exp = if shared_exp.is_some() { None } else { m.exp };
+            let id = self.intern_mono(Mono { pows, exp });
+            let e = out.entry(id).or_insert_with(Coeff::zero);
+            *e = e.add(c);
+        }
+        let content = self.intern_mono(Mono { pows: content, exp: shared_exp });
+        Ok((content, Self::sort_terms(out)))
+    }
+
+    /// `a / b`.
+    pub fn div(&mut self, a: Form, b: Form) -> CResult<Form> {
+        let ib = self.inv(b)?;
+        self.mul(a, ib)
+    }
+
+    /// `a^n` for an integer `n`.
+    pub fn powi(&mut self, a: Form, n: i64) -> CResult<Form> {
+        if n == 0 {
+            return Ok(self.one);
+        }
+        if n < 0 {
+            let p = self.powi(a, -n)?;
+            return self.inv(p);
+        }
+        let mut result = self.one;
+        let mut base = a;
+        let mut n = n as u64;
+        while n > 0 {
+            if n & 1 == 1 {
+                result = self.mul(result, base)?;
+            }
+            n >>= 1;
+            if n > 0 {
+                base = self.mul(base, base)?;
+            }
+        }
+        Ok(result)
+    }
+
+    /// `a^q` for a rational `q`, with the principal branch: `a^(p/q) = (a^(1/q))^p`.
+    pub fn pow_rational(&mut self, a: Form, q: &Q) -> CResult<Form> {
+        if q.is_integer() {
+            let n = q.to_integer().to_i64().ok_or(CanonError::TooLarge(self.limits.max_terms))?;
+            if n.abs() > 10_000 {
+                return Err(CanonError::TooLarge(self.limits.max_terms));
+            }
+            return self.powi(a, n);
+        }
+        if a == self.zero {
+            return if q.is_positive() {
+                Ok(self.zero)
+            } else {
+                Err(CanonError::Undefined("0 to a negative power".into()))
+            };
+        }
+        if a == self.one {
+            return Ok(self.one);
+        }
+        let den = q.denom().to_u32().filter(|d| *d <= 1000).ok_or(CanonError::TooLarge(self.limits.max_terms))?;
+        let num = q.numer().to_i64().filter(|n| n.abs() <= 10_000).ok_or(CanonError::TooLarge(self.limits.max_terms))?;
+        let root = self.root(a, den)?;
+        self.powi(root, num)
+    }
+
+    /// The principal root `a^(1/q)`.
+    pub fn root(&mut self, a: Form, q: u32) -> CResult<Form> {
+        if q == 1 || a == self.zero || a == self.one {
+            return Ok(a);
+        }
+        // Exact square roots of positive rationals k^2 * m, m in {1, 2, 3, 6}.
+        if q == 2 {
+            if let Some(r) = self.as_rational(a) {
+                if r.is_positive() {
+                    if let Some(c) = exact_sqrt(&r) {
+                        return Ok(self.constant(c));
+                    }
+                }
+            }
+        }
+        let k = self.intern_kernel(Kernel::Root { radicand: a, q });
+        Ok(self.kernel_form(k))
+    }
+
+    /// `exp(a)`.
+    pub fn exp(&mut self, a: Form) -> CResult<Form> {
+        if a == self.zero {
+            return Ok(self.one);
+        }
+        let (m, c, extra) = self.make_mono(Vec::new(), Some(a))?;
+        let t = self.intern_rat(Rat { num: vec![(m, c)], den: Vec::new() });
+        self.mul(t, extra)
+    }
+
+    /// The principal `log(a)`.
+    pub fn log(&mut self, a: Form) -> CResult<Form> {
+        if a == self.one {
+            return Ok(self.zero);
+        }
+        if a == self.zero {
+            return Err(CanonError::Undefined("log(0)".into()));
+        }
+        let k = self.intern_kernel(Kernel::Log(a));
+        Ok(self.kernel_form(k))
+    }
+
+    /// `(exp(i a), exp(-i a))`.
+    fn exp_i_pair(&mut self, a: Form) -> CResult<(Form, Form)> {
+        let ia = self.scale(a, &Coeff::i())?;
+        let p = self.exp(ia)?;
+        let nia = self.neg(ia)?;
+        let m = self.exp(nia)?;
+        Ok((p, m))
+    }
+
+    /// `sin(a) = (e^(ia) - e^(-ia)) / (2i)`.
+    pub fn sin(&mut self, a: Form) -> CResult<Form> {
+        let (p, m) = self.exp_i_pair(a)?;
+        let d = self.sub(p, m)?;
+        // 1/(2i) = -i/2
+        self.scale(d, &Coeff::i().mul(&Coeff::rational(Q::new((-1).into(), 2.into()))))
+    }
+    /// `cos(a) = (e^(ia) + e^(-ia)) / 2`.
+    pub fn cos(&mut self, a: Form) -> CResult<Form> {
+        let (p, m) = self.exp_i_pair(a)?;
+        let s = self.add(p, m)?;
+        self.scale(s, &Coeff::rational(Q::new(1.into(), 2.into())))
+    }
+    /// `tan(a) = sin(a) / cos(a)`.
+    pub fn tan(&mut self, a: Form) -> CResult<Form> {
+        let s = self.sin(a)?;
+        let c = self.cos(a)?;
+        self.div(s, c)
+    }
+    /// `sinh(a) = (e^a - e^(-a)) / 2`.
+    pub fn sinh(&mut self, a: Form) -> CResult<Form> {
+        let p = self.exp(a)?;
+        let na = self.neg(a)?;
+        let m = self.exp(na)?;
+        let d = self.sub(p, m)?;
+        self.scale(d, &Coeff::rational(Q::new(1.into(), 2.into())))
+    }
+    /// `cosh(a) = (e^a + e^(-a)) / 2`.
+    pub fn cosh(&mut self, a: Form) -> CResult<Form> {
+        let p = self.exp(a)?;
+        let na = self.neg(a)?;
+        let m = self.exp(na)?;
+        let d = self.add(p, m)?;
+        self.scale(d, &Coeff::rational(Q::new(1.into(), 2.into())))
+    }
+    /// `tanh(a) = sinh(a) / cosh(a)`.
+    pub fn tanh(&mut self, a: Form) -> CResult<Form> {
+        let s = self.sinh(a)?;
+        let c = self.cosh(a)?;
+        self.div(s, c)
+    }
+
+    /// `a^b` for any exponent: rational exponents exactly, otherwise `exp(b*log(a))`.
+    pub fn pow(&mut self, a: Form, b: Form) -> CResult<Form> {
+        if let Some(q) = self.as_rational(b) {
+            return self.pow_rational(a, &q);
+        }
+        if a == self.zero {
+            return Err(CanonError::Undefined("0 to a symbolic power".into()));
+        }
+        let l = self.log(a)?;
+        let e = self.mul(b, l)?;
+        self.exp(e)
+    }
+
+    /// The symbols that `f` depends on, sorted.
+    pub fn free_symbols(&mut self, f: Form) -> Vec<Rc<str>> {
+        let ks = self.form_deps(f);
+        let mut v: Vec<Rc<str>> = ks
+            .iter()
+            .filter_map(|k| match self.kernel(*k) {
+                Kernel::Sym(s) => Some(s.clone()),
+                _ => None,
+            })
+            .collect();
+        v.sort();
+        v.dedup();
+        v
+    }
+
+    /// The names of the arbitrary functions that `f` uses, sorted.
+    pub fn functions_used(&mut self, f: Form) -> Vec<Rc<str>> {
+        let mut out = Vec::new();
+        let mut stack = vec![f];
+        let mut seen = rustc_hash::FxHashSet::default();
+        while let Some(g) = stack.pop() {
+            if !seen.insert(g) {
+                continue;
+            }
+            let r = self.rats[g.0 as usize].clone();
+            let mut polys = vec![r.num];
+            polys.extend(r.den.iter().map(|(fid, _)| self.factors[fid.0 as usize].clone()));
+            for p in polys {
+                for (m, _) in p {
+                    let mono = &self.monos[m.0 as usize];
+                    if let Some(e) = mono.exp {
+                        stack.push(e);
+                    }
+                    for (k, _) in &mono.pows {
+                        match self.kernel(*k) {
+                            Kernel::Sym(_) | Kernel::Pi => {}
+                            Kernel::Root { radicand, .. } => stack.push(*radicand),
+                            Kernel::Log(a) => stack.push(*a),
+                            Kernel::Func { name, arg, .. } => {
+                                out.push(name.clone());
+                                stack.push(*arg);
+                            }
+                        }
+                    }
+                }
+            }
+        }
+        out.sort();
+        out.dedup();
+        out
+    }
+
+    /// Symbol kernels a kernel depends on.
+    fn kernel_deps(&mut self, k: KernelId) -> Rc<[KernelId]> {
+        if let Some(d) = self.deps_cache.get(&k) {
+            return d.clone();
+        }
+        let d: Rc<[KernelId]> = match self.kernel(k).clone() {
+            Kernel::Sym(_) => Rc::from(vec![k]),
+            Kernel::Pi => Rc::from(Vec::new()),
+            Kernel::Root { radicand: a, .. } | Kernel::Log(a) | Kernel::Func { arg: a, .. } => self.form_deps(a),
+        };
+        self.deps_cache.insert(k, d.clone());
+        d
+    }
+
+    fn poly_deps(&mut self, p: &Poly, out: &mut Vec<KernelId>) {
+        for (m, _) in p {
+            let mono = self.monos[m.0 as usize].clone();
+            for (k, _) in mono.pows {
+                out.extend(self.kernel_deps(k).iter().copied());
+            }
+            if let Some(e) = mono.exp {
+                out.extend(self.form_deps(e).iter().copied());
+            }
+        }
+    }
+
+    /// Symbol kernels a form depends on.
+    fn form_deps(&mut self, f: Form) -> Rc<[KernelId]> {
+        let r = self.rats[f.0 as usize].clone();
+        let mut out = Vec::new();
+        self.poly_deps(&r.num, &mut out);
+        for (fid, _) in &r.den {
+            let p = self.factors[fid.0 as usize].clone();
+            self.poly_deps(&p, &mut out);
+        }
+        out.sort();
+        out.dedup();
+        Rc::from(out)
+    }
+
+    /// Substitutes forms for symbols: `f` with every symbol in `subs` replaced.
+    pub fn substitute(&mut self, f: Form, subs: &FxHashMap<KernelId, Form>) -> CResult<Form> {
+        let mut memo = FxHashMap::default();
+        self.subst_form(f, subs, &mut memo)
+    }
+
+    fn subst_form(
+        &mut self,
+        f: Form,
+        subs: &FxHashMap<KernelId, Form>,
+        memo: &mut FxHashMap<Form, Form>,
+    ) -> CResult<Form> {
+        if let Some(&g) = memo.get(&f) {
+            return Ok(g);
+        }
+        let deps = self.form_deps(f);
+        if !deps.iter().any(|k| subs.contains_key(k)) {
+            memo.insert(f, f);
+            return Ok(f);
+        }
+        let r = self.rats[f.0 as usize].clone();
+        let num = self.subst_poly(&r.num, subs, memo)?;
+        let mut den = self.one;
+        for (fid, e) in r.den {
+            let p = self.factors[fid.0 as usize].clone();
+            let pf = self.subst_poly(&p, subs, memo)?;
+            let pe = self.powi(pf, e as i64)?;
+            den = self.mul(den, pe)?;
+        }
+        let g = self.div(num, den)?;
+        memo.insert(f, g);
+        Ok(g)
+    }
+
+    fn subst_poly(
+        &mut self,
+        p: &Poly,
+        subs: &FxHashMap<KernelId, Form>,
+        memo: &mut FxHashMap<Form, Form>,
+    ) -> CResult<Form> {
+        let mut acc = self.zero;
+        for (m, c) in p {
+            let mono = self.monos[m.0 as usize].clone();
+            let mut t = self.constant(c.clone());
+            for (k, e) in mono.pows {
+                let kf = self.subst_kernel(k, subs, memo)?;
+                let ke = self.powi(kf, e as i64)?;
+                t = self.mul(t, ke)?;
+            }
+            if let Some(e) = mono.exp {
+                let es = self.subst_form(e, subs, memo)?;
+                let x = self.exp(es)?;
+                t = self.mul(t, x)?;
+            }
+            acc = self.add(acc, t)?;
+        }
+        Ok(acc)
+    }
+
+    fn subst_kernel(
+        &mut self,
+        k: KernelId,
+        subs: &FxHashMap<KernelId, Form>,
+        memo: &mut FxHashMap<Form, Form>,
+    ) -> CResult<Form> {
+        if let Some(&f) = subs.get(&k) {
+            return Ok(f);
+        }
+        match self.kernel(k).clone() {
+            Kernel::Sym(_) | Kernel::Pi => Ok(self.kernel_form(k)),
+            Kernel::Root { radicand, q } => {
+                let a = self.subst_form(radicand, subs, memo)?;
+                self.root(a, q)
+            }
+            Kernel::Log(a) => {
+                let a = self.subst_form(a, subs, memo)?;
+                self.log(a)
+            }
+            Kernel::Func { name, order, arg } => {
+                let a = self.subst_form(arg, subs, memo)?;
+                Ok(self.func(&name, order, a))
+            }
+        }
+    }
+}
+
+/// sqrt(r) exactly when r = (a/b)^2 * m with m in {1, 2, 3, 6}.
+fn exact_sqrt(r: &Q) -> Option<Coeff> {
+    let n = r.numer() * r.denom();
+    // sqrt(n/d) = sqrt(n*d)/d
+    let (k, m) = square_split(&n)?;
+    let small = Coeff::sqrt_of_small(m)?;
+    Some(small.mul(&Coeff::rational(Q::new(k, r.denom().clone()))))
+}
+
+/// Writes n = k^2 * m with m squarefree in {1, 2, 3, 6}, if possible.
+fn square_split(n: &BigInt) -> Option<(BigInt, u32)> {
+    for m in [1u32, 2, 3, 6] {
+        let mm = BigInt::from(m);
+        if (n % &mm).is_zero() {
+            let rest = n / &mm;
+            let s = rest.sqrt();
+            if &s * &s == rest {
+                return Some((s, m));
+            }
+        }
+    }
+    None
+}
+
+#[cfg(test)]
+mod tests;

@@ -1,0 +1,549 @@
+//! Printing canonical forms back in readable real form.
+//!
+//! Design decision: printing goes through a small tree ([`Pretty`]) so that plain text and
+//! LaTeX share one conversion. Exponentials `c e^(P + iQ) + c' e^(P - iQ)` are regrouped as
+//! `e^P ((c + c') cos Q + i (c - c') sin Q)`, so a real expression prints with sin and cos and
+//! no `i`. Terms are ordered by their printed text, never by ids, so output does not depend on
+//! the order in which forms were built.
+
+use super::{Coeff, Form, Kernel, KernelId, MonoId, Rat, Store};
+use rustc_hash::FxHashMap;
+use std::fmt::Write as _;
+
+/// A printable expression tree, produced from a canonical form.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Pretty {
+    /// A constant.
+    Num(Coeff),
+    /// A symbol or `pi`.
+    Name(String),
+    /// `name(arg)`: sin, cos, exp, log, an arbitrary function with primes.
+    Call(String, Box<Pretty>),
+    /// `arg^(1/q)`; q = 2 prints as sqrt.
+    Root(Box<Pretty>, u32),
+    /// `base^n`, n >= 2.
+    Pow(Box<Pretty>, u32),
+    /// `coeff * numerator factors / denominator factors`.
+    Prod(Coeff, Vec<Pretty>, Vec<Pretty>),
+    /// A sum of terms.
+    Sum(Vec<Pretty>),
+    /// `numerator / denominator`.
+    Quot(Box<Pretty>, Box<Pretty>),
+}
+
+impl Store {
+    /// A deterministic structural key of a monomial (used to choose a history-independent
+    /// leading term).
+    pub(super) fn mono_key(&mut self, m: MonoId) -> String {
+        let mono = self.monos[m.0 as usize].clone();
+        let mut s = String::new();
+        for (k, e) in mono.pows {
+            let _ = write!(s, "{}^{e};", self.kernel_key(k));
+        }
+        if let Some(ex) = mono.exp {
+            let _ = write!(s, "exp[{}]", self.form_key(ex));
+        }
+        s
+    }
+
+    fn kernel_key(&mut self, k: KernelId) -> String {
+        match self.kernel(k).clone() {
+            Kernel::Sym(n) => format!("s:{n}"),
+            Kernel::Pi => "pi".into(),
+            Kernel::Root { radicand, q } => format!("root{q}[{}]", self.form_key(radicand)),
+            Kernel::Log(a) => format!("log[{}]", self.form_key(a)),
+            Kernel::Func { name, order, arg } => format!("f:{name}:{order}[{}]", self.form_key(arg)),
+        }
+    }
+
+    /// A deterministic structural key of a form.
+    pub(super) fn form_key(&mut self, f: Form) -> String {
+        let r = self.rats[f.0 as usize].clone();
+        let mut terms: Vec<String> = r.num.iter().map(|(m, c)| format!("{c}*{}", self.mono_key(*m))).collect();
+        terms.sort();
+        let mut s = terms.join("+");
+        let mut dens: Vec<String> = r
+            .den
+            .iter()
+            .map(|(fid, e)| {
+                let p = self.factors[fid.0 as usize].clone();
+                let pf = self.intern_rat(Rat { num: p, den: Vec::new() });
+                format!("({})^{e}", self.form_key(pf))
+            })
+            .collect();
+        dens.sort();
+        if !dens.is_empty() {
+            s.push_str(" / ");
+            s.push_str(&dens.join("*"));
+        }
+        s
+    }
+
+    /// The real-form printing tree of `f`.
+    pub fn pretty(&mut self, f: Form) -> Pretty {
+        let r = self.rats[f.0 as usize].clone();
+        if r.den.is_empty() {
+            return self.pretty_poly(&r.num, &Coeff::one());
+        }
+        // Normalise each denominator factor for display so that its first printed term has
+        // coefficient one, moving the unit into the numerator.
+        let mut scale = Coeff::one();
+        let mut den_parts = Vec::new();
+        for (fid, e) in &r.den {
+            let p = self.factors[fid.0 as usize].clone();
+            let first = match self.pretty_poly(&p, &Coeff::one()) {
+                Pretty::Sum(ts) => ts.first().map(leading_num).unwrap_or_else(Coeff::one),
+                t => leading_num(&t),
+            };
+            let u = if first.is_zero() { Coeff::one() } else { first };
+            let uinv = u.inv().unwrap_or_else(Coeff::one);
+            for _ in 0..*e {
+                scale = scale.mul(&uinv);
+            }
+            let fp = self.pretty_poly(&p, &uinv);
+            den_parts.push(if *e == 1 { fp } else { Pretty::Pow(Box::new(fp), *e) });
+        }
+        den_parts.sort_by_key(to_text);
+        let num = self.pretty_poly(&r.num, &scale);
+        let den = if den_parts.len() == 1 {
+            den_parts.pop().unwrap()
+        } else {
+            Pretty::Prod(Coeff::one(), den_parts, Vec::new())
+        };
+        Pretty::Quot(Box::new(num), Box::new(den))
+    }
+
+    /// Plain text in the input syntax.
+    pub fn to_text(&mut self, f: Form) -> String {
+        to_text(&self.pretty(f))
+    }
+
+    /// LaTeX.
+    pub fn to_latex(&mut self, f: Form) -> String {
+        to_latex(&self.pretty(f))
+    }
+
+    fn pretty_kernel(&mut self, k: KernelId) -> Pretty {
+        match self.kernel(k).clone() {
+            Kernel::Sym(n) => Pretty::Name(n.to_string()),
+            Kernel::Pi => Pretty::Name("pi".into()),
+            Kernel::Root { radicand, q } => Pretty::Root(Box::new(self.pretty(radicand)), q),
+            Kernel::Log(a) => Pretty::Call("log".into(), Box::new(self.pretty(a))),
+            Kernel::Func { name, order, arg } => {
+                Pretty::Call(format!("{name}{}", "'".repeat(order as usize)), Box::new(self.pretty(arg)))
+            }
+        }
+    }
+
+    /// Splits an exponent into real and imaginary parts, each a form; `None` if the exponent
+    /// has a denominator.
+    fn split_re_im(&mut self, e: Form) -> Option<(Form, Form)> {
+        let r = self.rats[e.0 as usize].clone();
+        if !r.den.is_empty() {
+            return None;
+        }
+        let re: Vec<_> = r.num.iter().map(|(m, c)| (*m, c.re())).filter(|t| !t.1.is_zero()).collect();
+        let im: Vec<_> = r.num.iter().map(|(m, c)| (*m, c.im())).filter(|t| !t.1.is_zero()).collect();
+        let re = self.intern_rat(Rat { num: re, den: Vec::new() });
+        let im = self.intern_rat(Rat { num: im, den: Vec::new() });
+        Some((re, im))
+    }
+
+    fn pretty_poly(&mut self, p: &super::Poly, scale: &Coeff) -> Pretty {
+        // Group terms by (kernel powers, real exponent, |imaginary exponent|).
+        type Key = (Vec<(KernelId, i32)>, Option<Form>, Option<Form>, Option<Form>);
+        let mut groups: FxHashMap<Key, (Coeff, Coeff)> = FxHashMap::default();
+        let mut order: Vec<Key> = Vec::new();
+        for (m, c) in p {
+            let c = c.mul(scale);
+            let mono = self.monos[m.0 as usize].clone();
+            let (raw, re, im, sign) = match mono.exp {
+                None => (None, None, None, 1),
+                Some(e) => match self.split_re_im(e) {
+                    None => (Some(e), None, None, 1),
+                    Some((re, im)) => {
+                        let re = (re != self.zero).then_some(re);
+                        if im == self.zero {
+                            (None, re, None, 1)
+                        } else {
+                            // Choose the sign of Q whose printed first coefficient is positive.
+                            let neg = match self.pretty(im) {
+                                Pretty::Sum(ts) => ts.first().map(|t| leading_num(t).looks_negative()),
+                                t => Some(leading_num(&t).looks_negative()),
+                            }
+                            .unwrap_or(false);
+                            if neg {
+                                let nim = self.neg(im).unwrap_or(im);
+                                (None, re, Some(nim), -1)
+                            } else {
+                                (None, re, Some(im), 1)
+                            }
+                        }
+                    }
+                },
+            };
+            let key = (mono.pows.clone(), raw, re, im);
+            let entry = groups.entry(key.clone()).or_insert_with(|| {
+                order.push(key);
+                (Coeff::zero(), Coeff::zero())
+            });
+            if sign > 0 {
+                entry.0 = entry.0.add(&c);
+            } else {
+                entry.1 = entry.1.add(&c);
+            }
+        }
+        let mut terms = Vec::new();
+        for key in order {
+            let (a, b) = groups[&key].clone();
+            let (pows, raw, re, im) = key;
+            let mut nums = Vec::new();
+            let mut dens = Vec::new();
+            for (k, e) in pows {
+                let kp = self.pretty_kernel(k);
+                let f = if e.unsigned_abs() == 1 { kp } else { Pretty::Pow(Box::new(kp), e.unsigned_abs()) };
+                if e > 0 { nums.push(f) } else { dens.push(f) }
+            }
+            if let Some(raw) = raw {
+                nums.push(Pretty::Call("exp".into(), Box::new(self.pretty(raw))));
+            }
+            if let Some(re) = re {
+                nums.push(Pretty::Call("exp".into(), Box::new(self.pretty(re))));
+            }
+            match im {
+                None => {
+                    if !a.is_zero() {
+                        terms.push(Pretty::Prod(a, nums, dens));
+                    }
+                }
+                Some(q) => {
+                    let qp = self.pretty(q);
+                    let cc = a.add(&b);
+                    let sc = a.sub(&b).mul(&Coeff::i());
+                    if !cc.is_zero() {
+                        let mut n = nums.clone();
+                        n.push(Pretty::Call("cos".into(), Box::new(qp.clone())));
+                        terms.push(Pretty::Prod(cc, n, dens.clone()));
+                    }
+                    if !sc.is_zero() {
+                        let mut n = nums;
+                        n.push(Pretty::Call("sin".into(), Box::new(qp)));
+                        terms.push(Pretty::Prod(sc, n, dens));
+                    }
+                }
+            }
+        }
+        for t in &mut terms {
+            if let Pretty::Prod(_, n, d) = t {
+                n.sort_by_key(to_text);
+                d.sort_by_key(to_text);
+            }
+        }
+        // Order: more factors first, then by text of the factors, so output is stable.
+        terms.sort_by_cached_key(|t| match t {
+            Pretty::Prod(_, n, d) => {
+                let deg: u32 = n.iter().map(degree).sum::<u32>();
+                let text: String = n.iter().chain(d.iter()).map(to_text).collect::<Vec<_>>().join("*");
+                (u32::MAX - deg, text.is_empty(), text)
+            }
+            _ => (0, false, String::new()),
+        });
+        match terms.len() {
+            0 => Pretty::Num(Coeff::zero()),
+            1 => terms.pop().unwrap(),
+            _ => Pretty::Sum(terms),
+        }
+    }
+}
+
+fn degree(p: &Pretty) -> u32 {
+    match p {
+        Pretty::Pow(_, n) => *n,
+        _ => 1,
+    }
+}
+
+fn leading_num(t: &Pretty) -> Coeff {
+    match t {
+        Pretty::Prod(c, _, _) => c.clone(),
+        Pretty::Num(c) => c.clone(),
+        _ => Coeff::one(),
+    }
+}
+
+/// Plain text in the input syntax (parses back to an equal canonical form).
+pub fn to_text(p: &Pretty) -> String {
+    let mut s = String::new();
+    text(p, &mut s);
+    s
+}
+
+fn text_atom(p: &Pretty, s: &mut String) {
+    match p {
+        Pretty::Name(_) | Pretty::Call(..) | Pretty::Root(_, 2) => text(p, s),
+        Pretty::Num(c) if c.as_rational().is_some_and(|q| q.is_integer() && q >= num_rational::BigRational::from_integer(0.into())) => text(p, s),
+        Pretty::Prod(c, n, d) if c.is_one() && n.len() == 1 && d.is_empty() => text_atom(&n[0], s),
+        _ => {
+            s.push('(');
+            text(p, s);
+            s.push(')');
+        }
+    }
+}
+
+/// A factor of a product: powers need no parentheses, since `^` binds tighter than `*`.
+fn text_factor(p: &Pretty, s: &mut String) {
+    match p {
+        Pretty::Pow(..) => text(p, s),
+        _ => text_atom(p, s),
+    }
+}
+
+fn text(p: &Pretty, s: &mut String) {
+    match p {
+        Pretty::Num(c) => {
+            let _ = write!(s, "{c}");
+        }
+        Pretty::Name(n) => s.push_str(n),
+        Pretty::Call(f, a) => {
+            s.push_str(f);
+            s.push('(');
+            text(a, s);
+            s.push(')');
+        }
+        Pretty::Root(a, 2) => {
+            s.push_str("sqrt(");
+            text(a, s);
+            s.push(')');
+        }
+        Pretty::Root(a, q) => {
+            text_atom(a, s);
+            let _ = write!(s, "^(1/{q})");
+        }
+        Pretty::Pow(b, n) => {
+            text_atom(b, s);
+            let _ = write!(s, "^{n}");
+        }
+        Pretty::Prod(c, n, d) => {
+            let neg = c.looks_negative();
+            let c = if neg { c.neg() } else { c.clone() };
+            if neg {
+                s.push('-');
+            }
+            // Write the rational coefficient's numerator in front and its denominator below.
+            let (cn, cd) = match c.as_rational() {
+                Some(q) => (Some(Coeff::rational(num_rational::BigRational::from_integer(q.numer().clone()))), {
+                    let d = q.denom().clone();
+                    (d != 1.into()).then_some(d)
+                }),
+                None => (Some(c.clone()), None),
+            };
+            let mut first = true;
+            if let Some(cn) = cn {
+                if !cn.is_one() || n.is_empty() {
+                    let _ = write!(s, "{cn}");
+                    first = false;
+                }
+            }
+            for f in n {
+                if !first {
+                    s.push('*');
+                }
+                text_factor(f, s);
+                first = false;
+            }
+            let mut dens: Vec<String> = Vec::new();
+            if let Some(cd) = cd {
+                dens.push(cd.to_string());
+            }
+            for f in d {
+                let mut t = String::new();
+                text_factor(f, &mut t);
+                dens.push(t);
+            }
+            if !dens.is_empty() {
+                s.push('/');
+                if dens.len() == 1 {
+                    s.push_str(&dens[0]);
+                } else {
+                    let _ = write!(s, "({})", dens.join("*"));
+                }
+            }
+        }
+        Pretty::Sum(ts) => {
+            for (i, t) in ts.iter().enumerate() {
+                let mut piece = String::new();
+                text(t, &mut piece);
+                if i > 0 {
+                    if let Some(rest) = piece.strip_prefix('-') {
+                        s.push_str(" - ");
+                        s.push_str(rest);
+                        continue;
+                    }
+                    s.push_str(" + ");
+                }
+                s.push_str(&piece);
+            }
+        }
+        Pretty::Quot(a, b) => {
+            match **a {
+                Pretty::Sum(_) => {
+                    s.push('(');
+                    text(a, s);
+                    s.push(')');
+                }
+                _ => text(a, s),
+            }
+            s.push('/');
+            text_atom(b, s);
+        }
+    }
+}
+
+/// LaTeX rendering of the same tree.
+pub fn to_latex(p: &Pretty) -> String {
+    let mut s = String::new();
+    latex(p, &mut s);
+    s
+}
+
+fn latex_coeff(c: &Coeff) -> String {
+    let t = c.to_string();
+    t.replace("sqrt(2)", "\\sqrt{2}").replace("sqrt(3)", "\\sqrt{3}").replace("sqrt(6)", "\\sqrt{6}").replace('*', " ")
+}
+
+fn latex_name(n: &str) -> String {
+    const GREEK: [&str; 24] = [
+        "alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa", "lambda", "mu", "nu",
+        "xi", "pi", "rho", "sigma", "tau", "upsilon", "phi", "chi", "psi", "omega", "Omega",
+    ];
+    let (base, sub) = match n.split_once('_') {
+        Some((b, s)) => (b, Some(s)),
+        None => (n, None),
+    };
+    let b = if GREEK.contains(&base) { format!("\\{base}") } else { base.to_string() };
+    match sub {
+        Some(s) => format!("{b}_{{{s}}}"),
+        None => b,
+    }
+}
+
+fn latex_atom(p: &Pretty, s: &mut String) {
+    match p {
+        Pretty::Name(_) | Pretty::Call(..) | Pretty::Root(..) => latex(p, s),
+        _ => {
+            s.push_str("\\left(");
+            latex(p, s);
+            s.push_str("\\right)");
+        }
+    }
+}
+
+fn latex(p: &Pretty, s: &mut String) {
+    match p {
+        Pretty::Num(c) => s.push_str(&latex_coeff(c)),
+        Pretty::Name(n) => s.push_str(&latex_name(n)),
+        Pretty::Call(f, a) => {
+            let primes = f.chars().filter(|c| *c == '\'').count();
+            let base: String = f.chars().filter(|c| *c != '\'').collect();
+            match base.as_str() {
+                "sin" | "cos" | "exp" | "log" => {
+                    let _ = write!(s, "\\{base}");
+                }
+                _ => s.push_str(&latex_name(&base)),
+            }
+            s.push_str(&"'".repeat(primes));
+            s.push_str("\\left(");
+            latex(a, s);
+            s.push_str("\\right)");
+        }
+        Pretty::Root(a, q) => {
+            if *q == 2 {
+                s.push_str("\\sqrt{");
+            } else {
+                let _ = write!(s, "\\sqrt[{q}]{{");
+            }
+            latex(a, s);
+            s.push('}');
+        }
+        Pretty::Pow(b, n) => {
+            latex_atom(b, s);
+            let _ = write!(s, "^{{{n}}}");
+        }
+        Pretty::Prod(c, n, d) => {
+            let neg = c.looks_negative();
+            let c = if neg { c.neg() } else { c.clone() };
+            if neg {
+                s.push('-');
+            }
+            let mut top = String::new();
+            let mut bottom = String::new();
+            match c.as_rational() {
+                Some(q) => {
+                    if !q.numer().is_one_int() || n.is_empty() {
+                        top.push_str(&q.numer().to_string());
+                    }
+                    if !q.denom().is_one_int() {
+                        bottom.push_str(&q.denom().to_string());
+                    }
+                }
+                None => {
+                    if !c.is_one() {
+                        top.push_str(&latex_coeff(&c));
+                    }
+                }
+            }
+            for f in n {
+                if !top.is_empty() {
+                    top.push_str(" \\, ");
+                }
+                latex_atom(f, &mut top);
+            }
+            for f in d {
+                if !bottom.is_empty() {
+                    bottom.push_str(" \\, ");
+                }
+                latex_atom(f, &mut bottom);
+            }
+            if top.is_empty() {
+                top.push('1');
+            }
+            if bottom.is_empty() {
+                s.push_str(&top);
+            } else {
+                let _ = write!(s, "\\frac{{{top}}}{{{bottom}}}");
+            }
+        }
+        Pretty::Sum(ts) => {
+            for (i, t) in ts.iter().enumerate() {
+                let mut piece = String::new();
+                latex(t, &mut piece);
+                if i > 0 {
+                    if let Some(rest) = piece.strip_prefix('-') {
+                        s.push_str(" - ");
+                        s.push_str(rest);
+                        continue;
+                    }
+                    s.push_str(" + ");
+                }
+                s.push_str(&piece);
+            }
+        }
+        Pretty::Quot(a, b) => {
+            s.push_str("\\frac{");
+            latex(a, s);
+            s.push_str("}{");
+            latex(b, s);
+            s.push('}');
+        }
+    }
+}
+
+trait IsOneInt {
+    fn is_one_int(&self) -> bool;
+}
+impl IsOneInt for num_bigint::BigInt {
+    fn is_one_int(&self) -> bool {
+        *self == num_bigint::BigInt::from(1)
+    }
+}

@@ -1,0 +1,191 @@
+//! The zero test: is a canonical form identically zero?
+//!
+//! Three verdicts, never more than the evidence shows:
+//! - [`Verdict::Zero`]: the canonical form has no terms. That is a proof, because every step
+//!   of canonicalisation is an identity.
+//! - [`Verdict::Nonzero`]: at a seeded random point, a certified interval enclosure of the
+//!   value excludes zero. That point is the witness; the seed is printed so it can be rerun.
+//! - [`Verdict::Undecided`]: the canonical form is not empty but no point certified a nonzero
+//!   value (numerically consistent with zero), or a size or time limit was reached.
+//!
+//! **Invariant:** "zero" is only ever claimed from an empty canonical form; floating point
+//! can produce "nonzero" (with a certified enclosure) or "undecided", never "zero".
+
+use crate::canon::{CanonError, Form, FunctionSample, KernelId, Names, Point, Store};
+use crate::interval::{CInterval, Interval};
+use rustc_hash::FxHashMap;
+use std::fmt;
+use std::rc::Rc;
+
+/// The outcome of a zero test.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Verdict {
+    /// Proved identically zero: the canonical form cancels to 0.
+    Zero,
+    /// Certified nonzero at the witness point.
+    Nonzero(Witness),
+    /// Neither proved nor refuted, with the reason.
+    Undecided(String),
+}
+
+impl Verdict {
+    /// A one-word label: `zero`, `nonzero` or `undecided`.
+    pub fn label(&self) -> &'static str {
+        match self {
+            Verdict::Zero => "zero",
+            Verdict::Nonzero(_) => "nonzero",
+            Verdict::Undecided(_) => "undecided",
+        }
+    }
+}
+
+/// A point at which a value is certified nonzero.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Witness {
+    /// The symbol values, sorted by name.
+    pub point: Vec<(String, f64)>,
+    /// A certified enclosure of the value there.
+    pub value: CInterval,
+    /// The seed that produced the point.
+    pub seed: u64,
+}
+
+impl fmt::Display for Witness {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let pts: Vec<String> = self.point.iter().map(|(n, v)| format!("{n} = {v}")).collect();
+        let re = self.value.re.mid();
+        let im = self.value.im.mid();
+        let val = if self.value.im.contains_zero() && self.value.im.width() <= 1e-300 + self.value.re.width() {
+            format!("{re:.6e}")
+        } else {
+            format!("{re:.6e} + {im:.6e} i")
+        };
+        if pts.is_empty() {
+            write!(f, "value {val} (enclosure {})", self.value)
+        } else {
+            write!(f, "at {}: value {val} (certified enclosure {})", pts.join(", "), self.value)
+        }
+    }
+}
+
+/// How the zero test samples points.
+#[derive(Clone, Debug)]
+pub struct Sampling {
+    /// Seed of the random points.
+    pub seed: u64,
+    /// How many points to try before giving up.
+    pub points: usize,
+    /// Symbols with a typical value: sampled within a factor of 2 of it, same sign.
+    pub typical: FxHashMap<KernelId, f64>,
+    /// Samples of arbitrary functions; functions without one get a generic built-in sample.
+    pub samples: FxHashMap<Rc<str>, FunctionSample>,
+}
+
+impl Default for Sampling {
+    fn default() -> Self {
+        Sampling { seed: 0x5eed_1a96_7a7e, points: 32, typical: FxHashMap::default(), samples: FxHashMap::default() }
+    }
+}
+
+/// A small deterministic generator (SplitMix64), so that witnesses are reproducible.
+#[derive(Clone, Debug)]
+pub struct SplitMix64(u64);
+
+impl SplitMix64 {
+    /// A generator from a seed.
+    pub fn new(seed: u64) -> SplitMix64 {
+        SplitMix64(seed)
+    }
+    /// The next 64 random bits.
+    pub fn next_u64(&mut self) -> u64 {
+        self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+        z ^ (z >> 31)
+    }
+    /// Uniform in [0, 1).
+    pub fn next_f64(&mut self) -> f64 {
+        (self.next_u64() >> 11) as f64 / (1u64 << 53) as f64
+    }
+}
+
+/// A generic sample for the `index`-th arbitrary function without one: smooth, with all
+/// derivatives nonzero at generic points, different for each index.
+pub fn generic_sample(store: &mut Store, index: usize) -> FunctionSample {
+    let j = index as i64;
+    let text = format!("exp(-u^2/{}) * (1 + {}*u/7) + sin({}*u/4)/{}", 4 + j, j + 2, 5 + 2 * j, j + 2);
+    let e = crate::parse::parse(&text).expect("the generic sample parses");
+    let f = store.build(&e, &Names::free()).expect("the generic sample builds");
+    FunctionSample { var: store.symbol_kernel("u"), form: f }
+}
+
+/// Decides whether `f` is identically zero.
+pub fn decide(store: &mut Store, f: Form, sampling: &Sampling) -> Verdict {
+    if store.is_zero(f) {
+        return Verdict::Zero;
+    }
+    let syms = store.free_symbols(f);
+    let funcs = store.functions_used(f);
+    let mut point = Point::default();
+    for (i, name) in funcs.iter().enumerate() {
+        let s = match sampling.samples.get(name) {
+            Some(s) => s.clone(),
+            None => generic_sample(store, i),
+        };
+        point.samples.insert(name.clone(), s);
+    }
+    let kernels: Vec<(Rc<str>, KernelId)> = syms.iter().map(|s| (s.clone(), store.symbol_kernel(s))).collect();
+    let mut rng = SplitMix64::new(sampling.seed);
+    let mut evaluated = 0usize;
+    let mut widest = 0f64;
+    for _ in 0..sampling.points {
+        let mut coords = Vec::new();
+        for (name, k) in &kernels {
+            let v = match sampling.typical.get(k) {
+                Some(&t) if t != 0.0 => t * (0.5 + 1.5 * rng.next_f64()),
+                _ => {
+                    let mag = 0.25 + 1.75 * rng.next_f64();
+                    if rng.next_u64() & 1 == 1 { -mag } else { mag }
+                }
+            };
+            // Round to a short decimal so the witness can be typed back in exactly.
+            let v = (v * 1e6).round() / 1e6;
+            if let Some(p) = Interval::point(v) {
+                point.values.insert(*k, CInterval::from_real(p));
+            }
+            coords.push((name.to_string(), v));
+        }
+        if let Some(val) = store.eval_interval(f, &point) {
+            evaluated += 1;
+            if val.excludes_zero() {
+                return Verdict::Nonzero(Witness { point: coords, value: val, seed: sampling.seed });
+            }
+            widest = widest.max(val.re.width()).max(val.im.width());
+        }
+    }
+    let n = store.num_terms(f);
+    if evaluated == 0 {
+        Verdict::Undecided(format!(
+            "not reduced to zero ({n} terms left), and none of {} sample points could be evaluated (seed {:#x})",
+            sampling.points, sampling.seed
+        ))
+    } else {
+        Verdict::Undecided(format!(
+            "not reduced to zero ({n} terms left), but numerically zero at {evaluated} random points: \
+             every certified enclosure contains 0 (widest {widest:.1e}; seed {:#x})",
+            sampling.seed
+        ))
+    }
+}
+
+/// Decides whether `a - b` is identically zero.
+pub fn decide_equal(store: &mut Store, a: Form, b: Form, sampling: &Sampling) -> Result<Verdict, CanonError> {
+    let d = store.sub(a, b)?;
+    Ok(decide(store, d, sampling))
+}
+
+/// A limit error as an undecided verdict.
+pub fn undecided_from(e: &CanonError) -> Verdict {
+    Verdict::Undecided(e.to_string())
+}
