@@ -359,8 +359,30 @@ pub fn rational_interval(q: &Q) -> Option<crate::interval::Interval> {
     Interval::new(v - a, v + a)
 }
 
+/// `10^k` as `Some(k)` for k >= 6.
+pub(crate) fn big_power_of_ten(n: &BigInt) -> Option<usize> {
+    let s = n.to_string();
+    let k = s.len() - 1;
+    (k >= 6 && s.starts_with('1') && s[1..].bytes().all(|b| b == b'0')).then_some(k)
+}
+
+/// Rationals print as `p/q`, except that a very large or small power of ten uses exponent
+/// notation (`3e-30`, `2e12`), which the parser reads back exactly.
 fn fmt_rational(q: &Q, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-    if q.is_integer() { write!(f, "{}", q.numer()) } else { write!(f, "{}/{}", q.numer(), q.denom()) }
+    if q.is_integer() {
+        let n = q.numer();
+        let s = n.magnitude().to_string();
+        let zeros = s.len() - s.trim_end_matches('0').len();
+        if zeros >= 6 {
+            let sign = if n.is_negative() { "-" } else { "" };
+            return write!(f, "{sign}{}e{zeros}", &s[..s.len() - zeros]);
+        }
+        return write!(f, "{n}");
+    }
+    if let Some(k) = big_power_of_ten(q.denom()) {
+        return write!(f, "{}e-{k}", q.numer());
+    }
+    write!(f, "{}/{}", q.numer(), q.denom())
 }
 
 /// Prints in the input syntax: `3/4`, `sqrt(2)/2`, `(1 + sqrt(3))/4`, `i/2`.

@@ -27,12 +27,12 @@
 //! never holds a zero coefficient; root kernels appear with exponents in `0..q`.
 
 mod build;
-mod coeff;
+pub(crate) mod coeff;
 mod diff;
 mod eval;
 mod print;
 
-pub use build::{BuildError, Names, Unknown};
+pub use build::{BUILTINS, BuildError, Names, Unknown};
 pub use coeff::{Coeff, Q};
 pub use eval::{FunctionSample, Point};
 
@@ -680,26 +680,15 @@ impl Store {
             Some(e) => Some(self.neg(e)?),
             None => None,
         };
+        // Negative root powers reduce through the radicand: 1/k = k^(q-1)/radicand.
         let (m, c, extra) = self.make_mono(inv_pows, inv_exp)?;
         let minv = self.intern_rat(Rat { num: vec![(m, c)], den: Vec::new() });
         let minv = self.mul(minv, extra)?;
         let part = self.mul(den, minv)?;
-        if cofactor.len() == 1 {
-            // A single term whose monomial is one (content took the rest) or a root power.
-            let (cm, cc) = cofactor[0].clone();
+        if let [(cm, cc)] = cofactor.as_slice() {
+            debug_assert!(*cm == self.unit, "the content of a single term is the whole monomial");
             let cinv = cc.inv().ok_or(CanonError::DivisionByZero)?;
-            let rest = if cm == self.unit {
-                self.one
-            } else {
-                // Only root kernels remain: 1/k^e = k^(q-e) / radicand.
-                let mono = self.monos[cm.0 as usize].clone();
-                let pows: Vec<(KernelId, i32)> = mono.pows.iter().map(|&(k, e)| (k, -e)).collect();
-                let (m, c, extra) = self.make_mono(pows, None)?;
-                let t = self.intern_rat(Rat { num: vec![(m, c)], den: Vec::new() });
-                self.mul(t, extra)?
-            };
-            let rest = self.scale(rest, &cinv)?;
-            return self.mul(part, rest);
+            return self.scale(part, &cinv);
         }
         let lead = self.leading_coeff(&cofactor);
         let linv = lead.inv().ok_or(CanonError::DivisionByZero)?;
@@ -721,16 +710,12 @@ impl Store {
         best.map(|b| b.1.clone()).unwrap_or_else(Coeff::one)
     }
 
-    /// Splits a numerator into a content monomial and the cofactor polynomial.
+    /// Splits a numerator into a content monomial (the lowest power of every kernel, and a
+    /// shared exponential) and the cofactor polynomial.
     fn split_content(&mut self, p: &Poly) -> CResult<(MonoId, Poly)> {
         if p.len() == 1 {
             let (m, c) = &p[0];
-            let mono = self.monos[m.0 as usize].clone();
-            let (roots, others): (Vec<_>, Vec<_>) =
-                mono.pows.iter().partition(|(k, _)| matches!(self.kernel(*k), Kernel::Root { .. }));
-            let content = self.intern_mono(Mono { pows: others, exp: mono.exp });
-            let rest = self.intern_mono(Mono { pows: roots, exp: None });
-            return Ok((content, vec![(rest, c.clone())]));
+            return Ok((*m, vec![(self.unit, c.clone())]));
         }
         let monos: Vec<Mono> = p.iter().map(|(m, _)| self.monos[m.0 as usize].clone()).collect();
         let mut content: Vec<(KernelId, i32)> = Vec::new();
@@ -738,9 +723,6 @@ impl Store {
         let all_kernels: std::collections::BTreeSet<KernelId> =
             monos.iter().flat_map(|m| m.pows.iter().map(|p| p.0)).collect();
         for k in all_kernels {
-            if matches!(self.kernel(k), Kernel::Root { .. }) {
-                continue;
-            }
             let min = monos
                 .iter()
                 .map(|m| m.pows.iter().find(|p| p.0 == k).map(|p| p.1).unwrap_or(0))
@@ -754,6 +736,7 @@ impl Store {
         if content.is_empty() && shared_exp.is_none() {
             return Ok((self.unit, p.clone()));
         }
+        // Dividing by the content lowers exponents only, so root powers stay in 0..q.
         let mut out: FxHashMap<MonoId, Coeff> = FxHashMap::default();
         for ((_, c), m) in p.iter().zip(&monos) {
             let mut pows = m.pows.clone();

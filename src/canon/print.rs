@@ -240,19 +240,30 @@ impl Store {
             }
         }
         // Order: more factors first, then by text of the factors, so output is stable.
+        // Order: higher degree first, then terms made of plain names before composite ones
+        // (so `t - sqrt(...)`), then by text, so output is stable.
         terms.sort_by_cached_key(|t| match t {
             Pretty::Prod(_, n, d) => {
                 let deg: u32 = n.iter().map(degree).sum::<u32>();
+                let composite = n.iter().chain(d.iter()).filter(|f| !is_plain(f)).count();
                 let text: String = n.iter().chain(d.iter()).map(to_text).collect::<Vec<_>>().join("*");
-                (u32::MAX - deg, text.is_empty(), text)
+                (u32::MAX - deg, text.is_empty(), composite, text)
             }
-            _ => (0, false, String::new()),
+            _ => (0, false, 0, String::new()),
         });
         match terms.len() {
             0 => Pretty::Num(Coeff::zero()),
             1 => terms.pop().unwrap(),
             _ => Pretty::Sum(terms),
         }
+    }
+}
+
+fn is_plain(p: &Pretty) -> bool {
+    match p {
+        Pretty::Name(_) => true,
+        Pretty::Pow(b, _) => matches!(**b, Pretty::Name(_)),
+        _ => false,
     }
 }
 
@@ -331,7 +342,7 @@ fn text(p: &Pretty, s: &mut String) {
                 s.push('-');
             }
             // Write the rational coefficient's numerator in front and its denominator below.
-            let (cn, cd) = match c.as_rational() {
+            let (cn, cd) = match c.as_rational().filter(|q| super::coeff::big_power_of_ten(q.denom()).is_none()) {
                 Some(q) => (Some(Coeff::rational(num_rational::BigRational::from_integer(q.numer().clone()))), {
                     let d = q.denom().clone();
                     (d != 1.into()).then_some(d)
@@ -395,7 +406,7 @@ fn text(p: &Pretty, s: &mut String) {
                 _ => text(a, s),
             }
             s.push('/');
-            text_atom(b, s);
+            text_factor(b, s);
         }
     }
 }

@@ -67,7 +67,8 @@ pub(crate) fn tokenize(src: &str) -> Result<Vec<Token>, ParseError> {
             }
             b'A'..=b'Z' | b'a'..=b'z' | b'_' => {
                 let mut end = i;
-                while end < bytes.len() && (bytes[end].is_ascii_alphanumeric() || bytes[end] == b'_')
+                while end < bytes.len()
+                    && (bytes[end].is_ascii_alphanumeric() || bytes[end] == b'_')
                 {
                     end += 1;
                 }
@@ -134,7 +135,11 @@ pub(crate) fn tokenize(src: &str) -> Result<Vec<Token>, ParseError> {
                 .with_help("write `F'(x)` for the derivative of `F` at `x`, with no space"));
             }
             b'=' => {
-                let len = if bytes.get(i + 1) == Some(&b'=') { 2 } else { 1 };
+                let len = if bytes.get(i + 1) == Some(&b'=') {
+                    2
+                } else {
+                    1
+                };
                 return Err(ParseError::new(
                     format!("unexpected `{}`", &src[i..i + len]),
                     Span::new(i, i + len),
@@ -253,8 +258,10 @@ fn number(src: &str, start: usize) -> Result<(TokKind, usize), ParseError> {
             };
             end = exp_end;
         } else {
-            let followed_by_name =
-                j == end + 1 && bytes.get(j).is_some_and(|b| b.is_ascii_alphabetic() || *b == b'_');
+            let followed_by_name = j == end + 1
+                && bytes
+                    .get(j)
+                    .is_some_and(|b| b.is_ascii_alphabetic() || *b == b'_');
             if !followed_by_name {
                 return Err(ParseError::new(
                     "missing digits in exponent",

@@ -103,14 +103,23 @@ pub fn parse(src: &str) -> Result<Expr, ParseError> {
                 .with_help("write an expression, e.g. `x^2 - 1`"),
         );
     }
-    let node = p.expr(0)?;
+    let node = p.expr(0).map_err(|e| *e)?;
     let tok = p.peek();
     match tok.kind {
-        TokKind::Eof => Ok(node.expr),
-        TokKind::RParen => Err(ParseError::new("unmatched `)`", tok.span, "no `(` before this")),
-        _ => Err(p.stray(tok)),
+        TokKind::Eof => Ok(*node.expr),
+        TokKind::RParen => Err(ParseError::new(
+            "unmatched `)`",
+            tok.span,
+            "no `(` before this",
+        )),
+        _ => Err(*p.stray(tok)),
     }
 }
+
+/// Inside the parser errors are boxed and built by out-of-line functions, so that the frames
+/// of the recursive descent stay small; [`MAX_DEPTH`] levels must fit a thread's stack even
+/// in unoptimised builds.
+type PResult<T> = Result<T, Box<ParseError>>;
 
 /// Binding powers `(left, right)` of the binary operators; a higher number binds tighter.
 /// Left-associative operators have `right = left + 1`, the right-associative `^` has
@@ -129,10 +138,21 @@ fn infix(kind: &TokKind) -> Option<(BinOp, u8, u8)> {
 /// Between `* /` (3) and `^` (7): `-a*b` is `(-a)*b` and `-a^b` is `-(a^b)`.
 const PREFIX_BP: u8 = 5;
 
-/// A parsed node and the number of levels of its tree.
+/// A parsed node and the number of levels of its tree. Boxed from the start: every node but
+/// the root becomes a boxed child, and a small return value keeps the recursion's frames small.
 struct Node {
-    expr: Expr,
+    expr: Box<Expr>,
     depth: usize,
+}
+
+/// What is known of a call once its `(` is consumed.
+struct CallHead {
+    name: String,
+    name_span: Span,
+    primes: u32,
+    /// The variables, for a derivative operator `d_x_y`.
+    vars: Option<Vec<(String, Span)>>,
+    open: Span,
 }
 
 struct Parser<'s> {
@@ -160,13 +180,8 @@ impl Parser<'_> {
         self.pos.checked_sub(1).map(|i| &self.toks[i])
     }
 
-    /// The source text of a token, shortened for use in a message.
-    fn text(&self, tok: &Token) -> String {
-        self.text_at(tok.span)
-    }
-
     /// The source text at `span`, shortened for use in a message.
-    fn text_at(&self, span: Span) -> String {
+    fn text(&self, span: Span) -> String {
         let text = &self.src[span.start..span.end];
         if text.chars().count() > 24 {
             let head: String = text.chars().take(20).collect();
@@ -177,20 +192,20 @@ impl Parser<'_> {
     }
 
     /// A node of `depth` levels, refused when the tree gets too deep.
-    fn node(&self, kind: ExprKind, span: Span, depth: usize) -> Result<Node, ParseError> {
+    fn node(&self, kind: ExprKind, span: Span, depth: usize) -> PResult<Node> {
         if depth > MAX_DEPTH {
-            return Err(too_deep(span, MAX_DEPTH));
+            return Err(too_deep(span));
         }
         Ok(Node {
-            expr: Expr::new(kind, span),
+            expr: Box::new(Expr::new(kind, span)),
             depth,
         })
     }
 
     /// Parses operands joined by operators that bind at least as tight as `min_bp`.
-    fn expr(&mut self, min_bp: u8) -> Result<Node, ParseError> {
+    fn expr(&mut self, min_bp: u8) -> PResult<Node> {
         if self.nesting >= MAX_DEPTH {
-            return Err(too_deep(self.peek().span, MAX_DEPTH));
+            return Err(too_deep(self.peek().span));
         }
         self.nesting += 1;
         let result = self.expr_loop(min_bp);
@@ -198,7 +213,7 @@ impl Parser<'_> {
         result
     }
 
-    fn expr_loop(&mut self, min_bp: u8) -> Result<Node, ParseError> {
+    fn expr_loop(&mut self, min_bp: u8) -> PResult<Node> {
         let mut lhs = self.operand()?;
         loop {
             let kind = &self.peek().kind;
@@ -215,77 +230,90 @@ impl Parser<'_> {
             }
             self.bump();
             let rhs = self.expr(rbp)?;
-            let span = lhs.expr.span.join(rhs.expr.span);
-            let depth = lhs.depth.max(rhs.depth) + 1;
-            let kind = ExprKind::Binary(op, Box::new(lhs.expr), Box::new(rhs.expr));
-            lhs = self.node(kind, span, depth)?;
+            lhs = self.binary(op, lhs, rhs)?;
         }
         Ok(lhs)
     }
 
+    fn binary(&self, op: BinOp, lhs: Node, rhs: Node) -> PResult<Node> {
+        let span = lhs.expr.span.join(rhs.expr.span);
+        let depth = lhs.depth.max(rhs.depth) + 1;
+        self.node(ExprKind::Binary(op, lhs.expr, rhs.expr), span, depth)
+    }
+
     /// A number, a name, a call, a parenthesised expression, or a signed operand.
-    fn operand(&mut self) -> Result<Node, ParseError> {
-        let tok = self.peek().clone();
-        match tok.kind {
-            TokKind::Num(n) => {
-                self.bump();
-                self.node(ExprKind::Num(n), tok.span, 1)
-            }
-            TokKind::Ident { name, primes } => {
-                self.bump();
-                let next = self.peek();
-                if next.kind == TokKind::LParen && next.span.start == tok.span.end {
-                    self.call(name, primes, tok.span)
-                } else if primes > 0 {
-                    Err(ParseError::new(
-                        format!("`{}` must be followed by `(`", self.text_at(tok.span)),
-                        tok.span,
-                        "primes mark the derivative of a function",
-                    )
-                    .with_help(format!(
-                        "write `{}(u)` for the derivative of `{name}` at `u`",
-                        self.text_at(tok.span)
-                    )))
-                } else {
-                    self.node(ExprKind::Ident(name), tok.span, 1)
-                }
-            }
-            TokKind::LParen => {
-                self.bump();
-                let mut inner = self.expr(0)?;
-                let close = self.close(tok.span, None)?;
-                inner.expr.span = tok.span.join(close);
-                Ok(inner)
-            }
-            TokKind::Minus => {
-                self.bump();
-                let arg = self.expr(PREFIX_BP)?;
-                let span = tok.span.join(arg.expr.span);
-                self.node(ExprKind::Neg(Box::new(arg.expr)), span, arg.depth + 1)
-            }
-            TokKind::Plus => {
-                self.bump();
-                let mut arg = self.expr(PREFIX_BP)?;
-                arg.expr.span = tok.span.join(arg.expr.span);
-                Ok(arg)
-            }
+    fn operand(&mut self) -> PResult<Node> {
+        // One small function per case: in unoptimised builds a function's frame holds the
+        // temporaries of all its arms, and this one is on every level of the recursion.
+        match self.peek().kind {
+            TokKind::Ident { .. } if self.at_call() => self.call(),
+            TokKind::Num(_) | TokKind::Ident { .. } => self.leaf(),
+            TokKind::LParen => self.group(),
+            TokKind::Minus | TokKind::Plus => self.signed(),
             _ => Err(self.expected_operand()),
         }
     }
 
-    /// `name(arg)`, `name''(arg)` or `d_x_y(arg)`; the name is consumed and `(` is next.
-    fn call(&mut self, name: String, primes: u32, name_span: Span) -> Result<Node, ParseError> {
+    /// `( expr )`: the inner node, its span widened to cover the parentheses.
+    fn group(&mut self) -> PResult<Node> {
+        let open = self.bump().span;
+        let mut inner = self.expr(0)?;
+        let close = self.close(open, None)?;
+        inner.expr.span = open.join(close);
+        Ok(inner)
+    }
+
+    /// `-a` or `+a`; a unary plus leaves no node, only a wider span.
+    fn signed(&mut self) -> PResult<Node> {
+        let sign = self.bump();
+        let mut arg = self.expr(PREFIX_BP)?;
+        let span = sign.span.join(arg.expr.span);
+        if sign.kind == TokKind::Plus {
+            arg.expr.span = span;
+            return Ok(arg);
+        }
+        self.node(ExprKind::Neg(arg.expr), span, arg.depth + 1)
+    }
+
+    /// True if a name stands next, directly followed by `(`.
+    fn at_call(&self) -> bool {
+        let name = self.peek();
+        let next = &self.toks[(self.pos + 1).min(self.toks.len() - 1)];
+        matches!(name.kind, TokKind::Ident { .. })
+            && next.kind == TokKind::LParen
+            && next.span.start == name.span.end
+    }
+
+    /// A number or a name that is not called.
+    fn leaf(&mut self) -> PResult<Node> {
+        let tok = self.bump();
+        match tok.kind {
+            TokKind::Ident { name, primes: 0 } => self.node(ExprKind::Ident(name), tok.span, 1),
+            TokKind::Ident { name, .. } => Err(self.primes_without_call(&name, tok.span)),
+            TokKind::Num(n) => self.node(ExprKind::Num(n), tok.span, 1),
+            _ => Err(self.stray(&tok)),
+        }
+    }
+
+    /// `name(arg)`, `name''(arg)` or `d_x_y(arg)`; [`Parser::at_call`] holds.
+    fn call(&mut self) -> PResult<Node> {
+        let head = self.call_head()?;
+        let arg = self.expr(0)?;
+        let close = self.close(head.open, Some(head.name_span))?;
+        self.finish_call(head, arg, close)
+    }
+
+    /// Consumes the name and the `(` of a call, checking the name of a derivative operator
+    /// and that an argument follows.
+    fn call_head(&mut self) -> PResult<CallHead> {
+        let tok = self.bump();
+        let TokKind::Ident { name, primes } = tok.kind else {
+            return Err(self.stray(&tok));
+        };
+        let name_span = tok.span;
         let vars = if name.starts_with("d_") {
             if primes > 0 {
-                let bare = Span::new(name_span.start, name_span.start + name.len());
-                return Err(ParseError::new(
-                    "primes cannot mark a derivative operator",
-                    Span::new(bare.end, name_span.end),
-                    "remove these",
-                )
-                .with_help(format!(
-                    "repeat the variable instead, e.g. `{name}_x(f)` differentiates once more by `x`"
-                )));
+                return Err(primed_operator(&name, name_span));
             }
             Some(deriv_vars(&name, name_span)?)
         } else {
@@ -293,80 +321,129 @@ impl Parser<'_> {
         };
         let open = self.bump().span;
         if self.peek().kind == TokKind::RParen {
-            let close = self.peek().span;
-            return Err(ParseError::new(
-                format!("`{}()` has no argument", self.text_at(name_span)),
-                name_span.join(close),
-                "empty call",
-            )
-            .with_help("functions take exactly one argument, e.g. `f(x)`"));
+            return Err(self.empty_call(name_span));
         }
-        let arg = self.expr(0)?;
-        let close = self.close(open, Some(name_span))?;
-        let span = name_span.join(close);
-        let depth = arg.depth + 1;
-        let arg = Box::new(arg.expr);
-        let kind = match vars {
-            Some(vars) => ExprKind::Deriv { vars, arg },
+        Ok(CallHead {
+            name,
+            name_span,
+            primes,
+            vars,
+            open,
+        })
+    }
+
+    fn finish_call(&self, head: CallHead, arg: Node, close: Span) -> PResult<Node> {
+        let span = head.name_span.join(close);
+        let kind = match head.vars {
+            Some(vars) => ExprKind::Deriv {
+                vars,
+                arg: arg.expr,
+            },
             None => ExprKind::Call {
-                name,
-                name_span,
-                primes,
-                arg,
+                name: head.name,
+                name_span: head.name_span,
+                primes: head.primes,
+                arg: arg.expr,
             },
         };
-        self.node(kind, span, depth)
+        self.node(kind, span, arg.depth + 1)
     }
 
     /// Consumes the `)` matching the `(` at `open`; `call` is the function name's span when the
     /// parentheses belong to a call. Returns the span of the `)`.
-    fn close(&mut self, open: Span, call: Option<Span>) -> Result<Span, ParseError> {
-        let tok = self.peek().clone();
-        match tok.kind {
-            TokKind::RParen => {
-                self.bump();
-                Ok(tok.span)
-            }
-            TokKind::Eof => Err(ParseError::new("unclosed `(`", tok.span, "expected `)` here")
-                .with_related(open, "opened here")),
-            TokKind::Comma => match call {
-                Some(name) => Err(ParseError::new(
-                    "functions take one argument",
-                    tok.span,
-                    "second argument starts after this",
-                )
-                .with_related(name, "this function")),
-                None => Err(self.stray(&tok)),
-            },
-            _ => Err(self.stray(&tok)),
+    fn close(&mut self, open: Span, call: Option<Span>) -> PResult<Span> {
+        if self.peek().kind == TokKind::RParen {
+            Ok(self.bump().span)
+        } else {
+            Err(self.unclosed(open, call))
         }
     }
 
-    /// The error for a token standing where an operand must start.
-    fn expected_operand(&self) -> ParseError {
+    // The error builders below run once per failed parse; keeping them out of line keeps the
+    // recursive functions above lean.
+
+    #[cold]
+    #[inline(never)]
+    fn unclosed(&self, open: Span, call: Option<Span>) -> Box<ParseError> {
         let tok = self.peek();
-        let found = self.text(tok);
+        let err = match (&tok.kind, call) {
+            (TokKind::Eof, _) => ParseError::new("unclosed `(`", tok.span, "expected `)` here")
+                .with_related(open, "opened here"),
+            (TokKind::Comma, Some(name)) => ParseError::new(
+                "functions take one argument",
+                tok.span,
+                "second argument starts after this",
+            )
+            .with_related(name, "this function"),
+            _ => return self.stray(tok),
+        };
+        Box::new(err)
+    }
+
+    #[cold]
+    #[inline(never)]
+    fn primes_without_call(&self, name: &str, span: Span) -> Box<ParseError> {
+        let written = self.text(span);
+        Box::new(
+            ParseError::new(
+                format!("`{written}` must be followed by `(`"),
+                span,
+                "primes mark the derivative of a function",
+            )
+            .with_help(format!(
+                "write `{written}(u)` for the derivative of `{name}` at `u`"
+            )),
+        )
+    }
+
+    #[cold]
+    #[inline(never)]
+    fn empty_call(&self, name_span: Span) -> Box<ParseError> {
+        Box::new(
+            ParseError::new(
+                format!("`{}()` has no argument", self.text(name_span)),
+                name_span.join(self.peek().span),
+                "empty call",
+            )
+            .with_help("functions take exactly one argument, e.g. `f(x)`"),
+        )
+    }
+
+    /// The error for a token standing where an operand must start.
+    #[cold]
+    #[inline(never)]
+    fn expected_operand(&self) -> Box<ParseError> {
+        let tok = self.peek();
+        let found = self.text(tok.span);
         let Some(prev) = self.prev() else {
             return match tok.kind {
-                TokKind::RParen => ParseError::new("unmatched `)`", tok.span, "no `(` before this"),
+                TokKind::RParen => Box::new(ParseError::new(
+                    "unmatched `)`",
+                    tok.span,
+                    "no `(` before this",
+                )),
                 TokKind::Comma => self.stray(tok),
-                _ => ParseError::new(
+                _ => Box::new(ParseError::new(
                     format!("expected an operand before `{found}`"),
                     tok.span,
                     "nothing on the left of this operator",
-                ),
+                )),
             };
         };
-        let after = self.text(prev);
-        match (&prev.kind, &tok.kind) {
-            (TokKind::LParen, TokKind::RParen) => {
-                ParseError::new("empty parentheses", prev.span.join(tok.span), "nothing inside")
-                    .with_help("put an expression between `(` and `)`")
-            }
-            (TokKind::LParen, TokKind::Eof) => {
-                ParseError::new("unclosed `(`", tok.span, "expected an expression and `)` here")
-                    .with_related(prev.span, "opened here")
-            }
+        let after = self.text(prev.span);
+        let err = match (&prev.kind, &tok.kind) {
+            (TokKind::LParen, TokKind::RParen) => ParseError::new(
+                "empty parentheses",
+                prev.span.join(tok.span),
+                "nothing inside",
+            )
+            .with_help("put an expression between `(` and `)`"),
+            (TokKind::LParen, TokKind::Eof) => ParseError::new(
+                "unclosed `(`",
+                tok.span,
+                "expected an expression and `)` here",
+            )
+            .with_related(prev.span, "opened here"),
             (_, TokKind::Eof) => ParseError::new(
                 format!("expected an operand after `{after}`"),
                 prev.span,
@@ -383,66 +460,60 @@ impl Parser<'_> {
                 tok.span,
                 "expected an operand here",
             ),
-        }
+        };
+        Box::new(err)
     }
 
     /// The error for two operands side by side, e.g. `2x` or `(a)(b)`.
-    fn missing_operator(&self) -> ParseError {
+    #[cold]
+    #[inline(never)]
+    fn missing_operator(&self) -> Box<ParseError> {
         let right = self.peek();
         // Called only after an operand was parsed, so there is a previous token.
         let Some(left) = self.prev() else {
             return self.stray(right);
         };
-        let (l, r) = (self.text(left), self.text(right));
+        let (l, r) = (self.text(left.span), self.text(right.span));
         let help = if matches!(left.kind, TokKind::Ident { .. }) && right.kind == TokKind::LParen {
             format!("write `{l}*(` for a product, or `{l}(` with no space for a function call")
         } else {
             format!("write `{l}*{r}`; lingrav never multiplies implicitly")
         };
-        ParseError::new(
-            format!("missing operator between `{l}` and `{r}`"),
-            left.span.join(right.span),
-            "missing operator",
+        Box::new(
+            ParseError::new(
+                format!("missing operator between `{l}` and `{r}`"),
+                left.span.join(right.span),
+                "missing operator",
+            )
+            .with_help(help),
         )
-        .with_help(help)
     }
 
     /// The error for a token that cannot stand where it is, e.g. a `,` outside a call.
-    fn stray(&self, tok: &Token) -> ParseError {
+    #[cold]
+    #[inline(never)]
+    fn stray(&self, tok: &Token) -> Box<ParseError> {
         let err = ParseError::new(
-            format!("unexpected `{}`", self.text(tok)),
+            format!("unexpected `{}`", self.text(tok.span)),
             tok.span,
             "not expected here",
         );
-        if tok.kind == TokKind::Comma {
+        Box::new(if tok.kind == TokKind::Comma {
             err.with_help("a `,` can only separate arguments, and functions take one argument")
         } else {
             err
-        }
+        })
     }
 }
 
 /// The variables of a derivative operator `d_x_y`, each with its span.
-fn deriv_vars(name: &str, name_span: Span) -> Result<Vec<(String, Span)>, ParseError> {
+fn deriv_vars(name: &str, name_span: Span) -> PResult<Vec<(String, Span)>> {
     let mut vars = Vec::new();
     let mut at = name_span.start + 2;
-    let bare = Span::new(name_span.start, name_span.start + name.len());
     for piece in name[2..].split('_') {
         let span = Span::new(at, at + piece.len());
-        if piece.is_empty() {
-            return Err(ParseError::new(
-                "empty variable name in derivative operator",
-                bare,
-                "in this operator",
-            )
-            .with_help("separate variables by single `_`, e.g. `d_x(f)` or `d_t_x(f)`"));
-        }
-        if piece.starts_with(|c: char| c.is_ascii_digit()) {
-            return Err(ParseError::new(
-                format!("derivative variable `{piece}` must be a name"),
-                span,
-                "starts with a digit",
-            ));
+        if piece.is_empty() || piece.starts_with(|c: char| c.is_ascii_digit()) {
+            return Err(bad_deriv_var(name, name_span, piece, span));
         }
         vars.push((piece.to_string(), span));
         at = span.end + 1;
@@ -450,10 +521,51 @@ fn deriv_vars(name: &str, name_span: Span) -> Result<Vec<(String, Span)>, ParseE
     Ok(vars)
 }
 
-fn too_deep(span: Span, limit: usize) -> ParseError {
-    ParseError::new("expression nested too deeply", span, "too deep here").with_help(format!(
-        "at most {limit} levels are accepted; split the expression into smaller parts"
-    ))
+#[cold]
+#[inline(never)]
+fn bad_deriv_var(name: &str, name_span: Span, piece: &str, span: Span) -> Box<ParseError> {
+    let err = if piece.is_empty() {
+        let bare = Span::new(name_span.start, name_span.start + name.len());
+        ParseError::new(
+            "empty variable name in derivative operator",
+            bare,
+            "in this operator",
+        )
+        .with_help("separate variables by single `_`, e.g. `d_x(f)` or `d_t_x(f)`")
+    } else {
+        ParseError::new(
+            format!("derivative variable `{piece}` must be a name"),
+            span,
+            "starts with a digit",
+        )
+    };
+    Box::new(err)
+}
+
+#[cold]
+#[inline(never)]
+fn primed_operator(name: &str, name_span: Span) -> Box<ParseError> {
+    let primes = Span::new(name_span.start + name.len(), name_span.end);
+    Box::new(
+        ParseError::new(
+            "primes cannot mark a derivative operator",
+            primes,
+            "remove these",
+        )
+        .with_help(format!(
+            "repeat the variable instead, e.g. `{name}_x(f)` differentiates once more by `x`"
+        )),
+    )
+}
+
+#[cold]
+#[inline(never)]
+fn too_deep(span: Span) -> Box<ParseError> {
+    Box::new(
+        ParseError::new("expression nested too deeply", span, "too deep here").with_help(format!(
+            "at most {MAX_DEPTH} levels are accepted; split the expression into smaller parts"
+        )),
+    )
 }
 
 #[cfg(test)]
@@ -468,7 +580,9 @@ mod tests {
             ExprKind::Num(n) => ExprKind::Num(n.clone()),
             ExprKind::Ident(s) => ExprKind::Ident(s.clone()),
             ExprKind::Neg(a) => ExprKind::Neg(Box::new(strip(a))),
-            ExprKind::Binary(op, a, b) => ExprKind::Binary(*op, Box::new(strip(a)), Box::new(strip(b))),
+            ExprKind::Binary(op, a, b) => {
+                ExprKind::Binary(*op, Box::new(strip(a)), Box::new(strip(b)))
+            }
             ExprKind::Call {
                 name, primes, arg, ..
             } => ExprKind::Call {
@@ -478,7 +592,10 @@ mod tests {
                 arg: Box::new(strip(arg)),
             },
             ExprKind::Deriv { vars, arg } => ExprKind::Deriv {
-                vars: vars.iter().map(|(v, _)| (v.clone(), Span::default())).collect(),
+                vars: vars
+                    .iter()
+                    .map(|(v, _)| (v.clone(), Span::default()))
+                    .collect(),
                 arg: Box::new(strip(arg)),
             },
         };
@@ -548,7 +665,12 @@ mod tests {
                     "{src:?}: message {:?} lacks {msg:?}",
                     err.message
                 );
-                assert_eq!(err.span, Span::new(start, end), "{src:?}: span of {:?}", err.message);
+                assert_eq!(
+                    err.span,
+                    Span::new(start, end),
+                    "{src:?}: span of {:?}",
+                    err.message
+                );
             }
         }
     }
@@ -600,9 +722,15 @@ mod tests {
     #[test]
     fn numbers_are_read_exactly() {
         let e = parse("1.5e-3").expect("parses");
-        assert_eq!(e.kind, ExprKind::Num(BigRational::new(3.into(), 2000.into())));
+        assert_eq!(
+            e.kind,
+            ExprKind::Num(BigRational::new(3.into(), 2000.into()))
+        );
         let e = parse("2E4").expect("parses");
-        assert_eq!(e.kind, ExprKind::Num(BigRational::from_integer(20000.into())));
+        assert_eq!(
+            e.kind,
+            ExprKind::Num(BigRational::from_integer(20000.into()))
+        );
     }
 
     #[test]
@@ -613,7 +741,11 @@ mod tests {
         let ExprKind::Binary(BinOp::Mul, sum, call) = &e.kind else {
             panic!("{e:?}")
         };
-        assert_eq!(sum.span, Span::new(0, 7), "parentheses belong to the inner node");
+        assert_eq!(
+            sum.span,
+            Span::new(0, 7),
+            "parentheses belong to the inner node"
+        );
         let ExprKind::Call { name_span, arg, .. } = &call.kind else {
             panic!("{call:?}")
         };
@@ -630,7 +762,10 @@ mod tests {
         };
         assert_eq!(
             vars,
-            &vec![("t".to_string(), Span::new(2, 3)), ("xy".to_string(), Span::new(4, 6))]
+            &vec![
+                ("t".to_string(), Span::new(2, 3)),
+                ("xy".to_string(), Span::new(4, 6))
+            ]
         );
     }
 
@@ -641,7 +776,11 @@ mod tests {
             ("   ", "empty expression", (0, 3)),
             ("x +", "expected an operand after `+`", (2, 3)),
             ("x + )", "expected an operand after `+`, found `)`", (4, 5)),
-            ("x * / y", "expected an operand after `*`, found `/`", (4, 5)),
+            (
+                "x * / y",
+                "expected an operand after `*`, found `/`",
+                (4, 5),
+            ),
             ("* x", "expected an operand before `*`", (0, 1)),
             ("(x + y", "unclosed `(`", (6, 6)),
             ("(", "unclosed `(`", (1, 1)),
@@ -657,7 +796,11 @@ mod tests {
             ("x × y", "unexpected character `×`", (2, 4)),
             ("\u{0}", "unexpected character `\\0`", (0, 1)),
             ("x ** 2", "`**` is not an operator", (2, 4)),
-            ("x * * 2", "expected an operand after `*`, found `*`", (4, 5)),
+            (
+                "x * * 2",
+                "expected an operand after `*`, found `*`",
+                (4, 5),
+            ),
             ("x = y", "unexpected `=`", (2, 3)),
             ("2x", "missing operator between `2` and `x`", (0, 2)),
             ("2 x", "missing operator between `2` and `x`", (0, 3)),
@@ -669,13 +812,33 @@ mod tests {
             ("-2x", "missing operator between `2` and `x`", (1, 3)),
             ("F'", "`F'` must be followed by `(`", (0, 2)),
             ("F' (u)", "`F'` must be followed by `(`", (0, 2)),
-            ("F '(u)", "a prime `'` must directly follow a function name", (2, 3)),
+            (
+                "F '(u)",
+                "a prime `'` must directly follow a function name",
+                (2, 3),
+            ),
             ("'", "a prime", (0, 1)),
-            ("d_(f)", "empty variable name in derivative operator", (0, 2)),
-            ("d_x__y(f)", "empty variable name in derivative operator", (0, 6)),
-            ("d_x_(f)", "empty variable name in derivative operator", (0, 4)),
+            (
+                "d_(f)",
+                "empty variable name in derivative operator",
+                (0, 2),
+            ),
+            (
+                "d_x__y(f)",
+                "empty variable name in derivative operator",
+                (0, 6),
+            ),
+            (
+                "d_x_(f)",
+                "empty variable name in derivative operator",
+                (0, 4),
+            ),
             ("d_1(f)", "derivative variable `1` must be a name", (2, 3)),
-            ("d_x'(f)", "primes cannot mark a derivative operator", (3, 4)),
+            (
+                "d_x'(f)",
+                "primes cannot mark a derivative operator",
+                (3, 4),
+            ),
             ("1e999999999", "exponent too large", (0, 11)),
             ("1e-10001", "exponent too large", (0, 8)),
             ("1e", "missing digits in exponent", (0, 2)),
@@ -706,7 +869,10 @@ mod tests {
         let err = parse("f(x, y)").unwrap_err();
         assert_eq!(err.related_span, Some(Span::new(0, 1)));
         let err = parse("1 + (x").unwrap_err().shifted(10);
-        assert_eq!((err.span, err.related_span), (Span::new(16, 16), Some(Span::new(14, 15))));
+        assert_eq!(
+            (err.span, err.related_span),
+            (Span::new(16, 16), Some(Span::new(14, 15)))
+        );
     }
 
     #[test]
@@ -725,10 +891,18 @@ mod tests {
 
     #[test]
     fn nesting_is_limited() {
-        let ok = format!("{}x{}", "(".repeat(MAX_DEPTH - 1), ")".repeat(MAX_DEPTH - 1));
+        let ok = format!(
+            "{}x{}",
+            "(".repeat(MAX_DEPTH - 1),
+            ")".repeat(MAX_DEPTH - 1)
+        );
         check(&ok, "x");
         let deep = format!("{}x{}", "(".repeat(MAX_DEPTH), ")".repeat(MAX_DEPTH));
-        check_err(&deep, "expression nested too deeply", (MAX_DEPTH, MAX_DEPTH + 1));
+        check_err(
+            &deep,
+            "expression nested too deeply",
+            (MAX_DEPTH, MAX_DEPTH + 1),
+        );
         for src in [
             "-".repeat(100_000) + "x",
             "x^".repeat(100_000) + "x",
@@ -764,19 +938,34 @@ mod tests {
     fn arb_expr() -> impl Strategy<Value = Expr> {
         let at = Span::default();
         let leaf = prop_oneof![
-            (0u64..1000).prop_map(move |n| Expr::new(ExprKind::Num(BigRational::from_integer(n.into())), at)),
+            (0u64..1000).prop_map(move |n| Expr::new(
+                ExprKind::Num(BigRational::from_integer(n.into())),
+                at
+            )),
             prop::sample::select(vec!["x", "y", "t", "pi", "F_1", "d_x", "e", "u2"])
                 .prop_map(move |s| Expr::new(ExprKind::Ident(s.into()), at)),
         ];
         leaf.prop_recursive(6, 48, 2, move |inner| {
-            let ops = prop::sample::select(vec![BinOp::Add, BinOp::Sub, BinOp::Mul, BinOp::Div, BinOp::Pow]);
+            let ops = prop::sample::select(vec![
+                BinOp::Add,
+                BinOp::Sub,
+                BinOp::Mul,
+                BinOp::Div,
+                BinOp::Pow,
+            ]);
             prop_oneof![
-                inner.clone().prop_map(move |a| Expr::new(ExprKind::Neg(Box::new(a)), at)),
+                inner
+                    .clone()
+                    .prop_map(move |a| Expr::new(ExprKind::Neg(Box::new(a)), at)),
                 (ops, inner.clone(), inner.clone()).prop_map(move |(op, a, b)| {
                     Expr::new(ExprKind::Binary(op, Box::new(a), Box::new(b)), at)
                 }),
-                (prop::sample::select(vec!["sin", "F", "G_2"]), 0u32..3, inner.clone()).prop_map(
-                    move |(name, primes, arg)| {
+                (
+                    prop::sample::select(vec!["sin", "F", "G_2"]),
+                    0u32..3,
+                    inner.clone()
+                )
+                    .prop_map(move |(name, primes, arg)| {
                         let kind = ExprKind::Call {
                             name: name.into(),
                             name_span: at,
@@ -784,14 +973,21 @@ mod tests {
                             arg: Box::new(arg),
                         };
                         Expr::new(kind, at)
-                    }
-                ),
-                (prop::collection::vec(prop::sample::select(vec!["x", "t", "r"]), 1..4), inner).prop_map(
-                    move |(vars, arg)| {
+                    }),
+                (
+                    prop::collection::vec(prop::sample::select(vec!["x", "t", "r"]), 1..4),
+                    inner
+                )
+                    .prop_map(move |(vars, arg)| {
                         let vars = vars.into_iter().map(|v| (v.to_string(), at)).collect();
-                        Expr::new(ExprKind::Deriv { vars, arg: Box::new(arg) }, at)
-                    }
-                ),
+                        Expr::new(
+                            ExprKind::Deriv {
+                                vars,
+                                arg: Box::new(arg),
+                            },
+                            at,
+                        )
+                    }),
             ]
         })
     }
@@ -825,7 +1021,7 @@ mod tests {
 
     proptest! {
         #[test]
-        fn arbitrary_text_never_panics(src in ".*") {
+        fn arbitrary_text_never_panics(src in "(?s).{0,64}") {
             never_panics(&src);
         }
 

@@ -53,17 +53,16 @@ pub struct Witness {
 impl fmt::Display for Witness {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         let pts: Vec<String> = self.point.iter().map(|(n, v)| format!("{n} = {v}")).collect();
-        let re = self.value.re.mid();
-        let im = self.value.im.mid();
-        let val = if self.value.im.contains_zero() && self.value.im.width() <= 1e-300 + self.value.re.width() {
-            format!("{re:.6e}")
+        if !pts.is_empty() {
+            write!(f, "at {}: ", pts.join(", "))?;
+        }
+        let (re, im) = (self.value.re, self.value.im);
+        if im.contains_zero() {
+            write!(f, "value {:.6e} (certified in {re})", re.mid())
+        } else if re.contains_zero() {
+            write!(f, "value {:.6e}*i (imaginary part certified in {im})", im.mid())
         } else {
-            format!("{re:.6e} + {im:.6e} i")
-        };
-        if pts.is_empty() {
-            write!(f, "value {val} (enclosure {})", self.value)
-        } else {
-            write!(f, "at {}: value {val} (certified enclosure {})", pts.join(", "), self.value)
+            write!(f, "value {:.6e} {} {:.6e}*i (certified in {re} + i{im})", re.mid(), if im.mid() < 0.0 { "-" } else { "+" }, im.mid().abs())
         }
     }
 }
