@@ -12,6 +12,8 @@ pub mod canon;
 pub mod expr;
 pub mod interval;
 pub mod parse;
+pub mod problem;
+pub mod tensor;
 pub mod zero;
 
 pub use expr::{Expr, ExprKind, Span};

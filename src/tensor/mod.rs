@@ -1,0 +1,290 @@
+//! The tensor layer: linearized-gravity quantities of a perturbation, component by component.
+//!
+//! Conventions: signature (-,+,+,+), coordinates (t,x,y,z) with indices 0..3, all indices of h
+//! and T down, eta = diag(-1, 1, 1, 1), Riemann sign as in Misner, Thorne & Wheeler (1973):
+//! R_{abcd} = (1/2)(d_b d_c h_ad + d_a d_d h_bc - d_a d_c h_bd - d_b d_d h_ac) at first order.
+//!
+//! Design decision: a [`Linearized`] value owns the perturbation and memoises every derived
+//! quantity, so checking several claims differentiates each component once (the store also
+//! caches derivatives).
+//!
+//! **Invariant:** every quantity is exact (canonical forms); nothing here evaluates numerically.
+
+use crate::canon::{CResult, Coeff, Form, KernelId, Store};
+
+/// Coordinate names in index order.
+pub const COORDS: [&str; 4] = ["t", "x", "y", "z"];
+
+/// The flat metric's diagonal: eta_{mu mu} = eta^{mu mu}.
+pub const ETA: [i64; 4] = [-1, 1, 1, 1];
+
+/// A symmetric 4x4 array of forms (both indices down unless said otherwise).
+pub type Sym4 = [[Form; 4]; 4];
+
+/// The six antisymmetric index pairs in order tx, ty, tz, xy, xz, yz.
+pub const PAIRS: [(usize, usize); 6] = [(0, 1), (0, 2), (0, 3), (1, 2), (1, 3), (2, 3)];
+
+/// The 20 algebraically independent Riemann components: pairs (A, B) with A <= B, leaving
+/// out (tz, xy), which the cyclic identity R_txyz + R_tyzx + R_tzxy = 0 determines.
+pub fn riemann_independent() -> Vec<[usize; 4]> {
+    let mut v = Vec::new();
+    for (i, a) in PAIRS.iter().enumerate() {
+        for b in &PAIRS[i..] {
+            if *a == (0, 3) && *b == (1, 2) {
+                continue;
+            }
+            v.push([a.0, a.1, b.0, b.1]);
+        }
+    }
+    v
+}
+
+/// Name of a component from its indices, e.g. `[0, 1]` -> "tx".
+pub fn index_name(idx: &[usize]) -> String {
+    idx.iter().map(|&i| COORDS[i]).collect()
+}
+
+/// A perturbation with memoised derived quantities.
+pub struct Linearized {
+    /// h_{mu nu}.
+    pub h: Sym4,
+    coords: [KernelId; 4],
+    dh: Option<[Sym4; 4]>,
+    riemann: Option<Vec<([usize; 4], Form)>>,
+    ricci: Option<Sym4>,
+    hbar: Option<Sym4>,
+}
+
+fn zeros(store: &Store) -> Sym4 {
+    [[store.zero(); 4]; 4]
+}
+
+impl Linearized {
+    /// Wraps a perturbation.
+    pub fn new(store: &mut Store, h: Sym4) -> Linearized {
+        let coords = COORDS.map(|c| store.symbol_kernel(c));
+        Linearized { h, coords, dh: None, riemann: None, ricci: None, hbar: None }
+    }
+
+    /// The kernel of coordinate `mu`.
+    pub fn coord(&self, mu: usize) -> KernelId {
+        self.coords[mu]
+    }
+
+    /// d_rho h_{mu nu}, indexed [rho][mu][nu].
+    pub fn dh(&mut self, store: &mut Store) -> CResult<[Sym4; 4]> {
+        if let Some(d) = self.dh {
+            return Ok(d);
+        }
+        let mut d = [zeros(store); 4];
+        for (rho, drho) in d.iter_mut().enumerate() {
+            for mu in 0..4 {
+                for nu in mu..4 {
+                    let v = store.diff(self.h[mu][nu], self.coords[rho])?;
+                    drho[mu][nu] = v;
+                    drho[nu][mu] = v;
+                }
+            }
+        }
+        self.dh = Some(d);
+        Ok(d)
+    }
+
+    /// d_a d_b h_{mu nu}.
+    fn ddh(&mut self, store: &mut Store, a: usize, b: usize, mu: usize, nu: usize) -> CResult<Form> {
+        let d = self.dh(store)?;
+        // Differentiate in a fixed order so the cache is shared between (a, b) and (b, a).
+        let (first, second) = if a <= b { (a, b) } else { (b, a) };
+        store.diff(d[first][mu][nu], self.coords[second])
+    }
+
+    /// The trace h = eta^{mu nu} h_{mu nu}.
+    pub fn trace(&self, store: &mut Store) -> CResult<Form> {
+        let mut t = store.zero();
+        for mu in 0..4 {
+            let term = store.scale(self.h[mu][mu], &Coeff::int(ETA[mu]))?;
+            t = store.add(t, term)?;
+        }
+        Ok(t)
+    }
+
+    /// The trace-reversed perturbation hbar_{mu nu} = h_{mu nu} - (1/2) eta_{mu nu} h.
+    pub fn hbar(&mut self, store: &mut Store) -> CResult<Sym4> {
+        if let Some(h) = self.hbar {
+            return Ok(h);
+        }
+        let tr = self.trace(store)?;
+        let half = Coeff::rational(crate::canon::Q::new(1.into(), 2.into()));
+        let mut out = self.h;
+        for (mu, row) in out.iter_mut().enumerate() {
+            let shift = store.scale(tr, &half.mul(&Coeff::int(ETA[mu])))?;
+            row[mu] = store.sub(self.h[mu][mu], shift)?;
+        }
+        self.hbar = Some(out);
+        Ok(out)
+    }
+
+    /// The linearized Christoffel symbols Gamma^l_{mu nu}, indexed [l][mu][nu].
+    pub fn christoffel(&mut self, store: &mut Store) -> CResult<[Sym4; 4]> {
+        let d = self.dh(store)?;
+        let half = Coeff::rational(crate::canon::Q::new(1.into(), 2.into()));
+        let mut g = [zeros(store); 4];
+        for (l, gl) in g.iter_mut().enumerate() {
+            for mu in 0..4 {
+                for nu in mu..4 {
+                    // Gamma_{l mu nu} = (1/2)(d_mu h_{l nu} + d_nu h_{l mu} - d_l h_{mu nu})
+                    let a = store.add(d[mu][l][nu], d[nu][l][mu])?;
+                    let b = store.sub(a, d[l][mu][nu])?;
+                    let v = store.scale(b, &half.mul(&Coeff::int(ETA[l])))?;
+                    gl[mu][nu] = v;
+                    gl[nu][mu] = v;
+                }
+            }
+        }
+        Ok(g)
+    }
+
+    /// R_{abcd} at first order.
+    pub fn riemann_component(&mut self, store: &mut Store, [a, b, c, d]: [usize; 4]) -> CResult<Form> {
+        let t1 = self.ddh(store, b, c, a, d)?;
+        let t2 = self.ddh(store, a, d, b, c)?;
+        let t3 = self.ddh(store, a, c, b, d)?;
+        let t4 = self.ddh(store, b, d, a, c)?;
+        let s = store.add(t1, t2)?;
+        let s = store.sub(s, t3)?;
+        let s = store.sub(s, t4)?;
+        store.scale(s, &Coeff::rational(crate::canon::Q::new(1.into(), 2.into())))
+    }
+
+    /// The 20 independent Riemann components with their indices.
+    pub fn riemann(&mut self, store: &mut Store) -> CResult<Vec<([usize; 4], Form)>> {
+        if let Some(r) = &self.riemann {
+            return Ok(r.clone());
+        }
+        let mut out = Vec::new();
+        for idx in riemann_independent() {
+            out.push((idx, self.riemann_component(store, idx)?));
+        }
+        self.riemann = Some(out.clone());
+        Ok(out)
+    }
+
+    /// The Ricci tensor R_{mu nu} = eta^{rho sigma} R_{rho mu sigma nu}.
+    pub fn ricci(&mut self, store: &mut Store) -> CResult<Sym4> {
+        if let Some(r) = self.ricci {
+            return Ok(r);
+        }
+        let mut out = zeros(store);
+        for mu in 0..4 {
+            for nu in mu..4 {
+                let mut acc = store.zero();
+                for rho in 0..4 {
+                    let c = self.riemann_component(store, [rho, mu, rho, nu])?;
+                    let c = store.scale(c, &Coeff::int(ETA[rho]))?;
+                    acc = store.add(acc, c)?;
+                }
+                out[mu][nu] = acc;
+                out[nu][mu] = acc;
+            }
+        }
+        self.ricci = Some(out);
+        Ok(out)
+    }
+
+    /// The Ricci scalar R = eta^{mu nu} R_{mu nu}.
+    pub fn ricci_scalar(&mut self, store: &mut Store) -> CResult<Form> {
+        let r = self.ricci(store)?;
+        let mut acc = store.zero();
+        for (mu, row) in r.iter().enumerate() {
+            let c = store.scale(row[mu], &Coeff::int(ETA[mu]))?;
+            acc = store.add(acc, c)?;
+        }
+        Ok(acc)
+    }
+
+    /// The linearized Einstein tensor G_{mu nu} = R_{mu nu} - (1/2) eta_{mu nu} R.
+    pub fn einstein(&mut self, store: &mut Store) -> CResult<Sym4> {
+        let r = self.ricci(store)?;
+        let s = self.ricci_scalar(store)?;
+        let mut g = r;
+        for (mu, row) in g.iter_mut().enumerate() {
+            let shift = store.scale(s, &Coeff::rational(crate::canon::Q::new(ETA[mu].into(), 2.into())))?;
+            row[mu] = store.sub(r[mu][mu], shift)?;
+        }
+        Ok(g)
+    }
+
+    /// The flat d'Alembertian of hbar: (box hbar)_{mu nu} = eta^{rho sigma} d_rho d_sigma hbar_{mu nu}.
+    pub fn box_hbar(&mut self, store: &mut Store) -> CResult<Sym4> {
+        let hb = self.hbar(store)?;
+        box_of(store, &hb, &self.coords)
+    }
+
+    /// The Lorenz divergence V_nu = d^mu hbar_{mu nu}.
+    pub fn lorenz(&mut self, store: &mut Store) -> CResult<[Form; 4]> {
+        let hb = self.hbar(store)?;
+        divergence(store, &hb, &self.coords)
+    }
+
+    /// The transverse-traceless conditions, each with its name: h_{t mu} = 0, h^i_i = 0,
+    /// d_i h_{ij} = 0.
+    pub fn tt_conditions(&mut self, store: &mut Store) -> CResult<Vec<(String, Form)>> {
+        let mut out = self.synchronous_conditions();
+        let mut tr = store.zero();
+        for i in 1..4 {
+            tr = store.add(tr, self.h[i][i])?;
+        }
+        out.push(("h_xx + h_yy + h_zz".to_string(), tr));
+        let d = self.dh(store)?;
+        for j in 1..4 {
+            let mut acc = store.zero();
+            for (i, di) in d.iter().enumerate().skip(1) {
+                acc = store.add(acc, di[i][j])?;
+            }
+            out.push((format!("d_i h_i{}", COORDS[j]), acc));
+        }
+        Ok(out)
+    }
+
+    /// The synchronous-gauge conditions h_{t mu} = 0.
+    pub fn synchronous_conditions(&self) -> Vec<(String, Form)> {
+        (0..4).map(|mu| (format!("h_t{}", COORDS[mu]), self.h[0][mu])).collect()
+    }
+}
+
+/// (box A)_{mu nu} for a symmetric array.
+pub fn box_of(store: &mut Store, a: &Sym4, coords: &[KernelId; 4]) -> CResult<Sym4> {
+    let mut out = zeros(store);
+    for mu in 0..4 {
+        for nu in mu..4 {
+            let mut acc = store.zero();
+            for (rho, &c) in coords.iter().enumerate() {
+                let d1 = store.diff(a[mu][nu], c)?;
+                let d2 = store.diff(d1, c)?;
+                let term = store.scale(d2, &Coeff::int(ETA[rho]))?;
+                acc = store.add(acc, term)?;
+            }
+            out[mu][nu] = acc;
+            out[nu][mu] = acc;
+        }
+    }
+    Ok(out)
+}
+
+/// The divergence V_nu = eta^{mu rho} d_rho A_{mu nu}.
+pub fn divergence(store: &mut Store, a: &Sym4, coords: &[KernelId; 4]) -> CResult<[Form; 4]> {
+    let mut out = [store.zero(); 4];
+    for (nu, slot) in out.iter_mut().enumerate() {
+        let mut acc = store.zero();
+        for (mu, &c) in coords.iter().enumerate() {
+            let d = store.diff(a[mu][nu], c)?;
+            let term = store.scale(d, &Coeff::int(ETA[mu]))?;
+            acc = store.add(acc, term)?;
+        }
+        *slot = acc;
+    }
+    Ok(out)
+}
+
+#[cfg(test)]
+mod tests;
