@@ -254,9 +254,12 @@ impl Coeff {
     /// A certified enclosure of the value, for interval evaluation; `None` on overflow.
     pub fn to_interval(&self) -> Option<crate::interval::CInterval> {
         use crate::interval::{CInterval, Interval};
-        // f64 neighbours of sqrt(2) and sqrt(3) that bracket the exact values.
-        let sqrt2 = Interval::new(1.414_213_562_373_095, 1.414_213_562_373_095_2)?;
-        let sqrt3 = Interval::new(1.732_050_807_568_877_2, 1.732_050_807_568_877_4)?;
+        // The correctly rounded f64 values, one ulp outward on each side, bracket the exact
+        // square roots.
+        let s2 = std::f64::consts::SQRT_2;
+        let s3 = 3f64.sqrt();
+        let sqrt2 = Interval::new(s2.next_down(), s2.next_up())?;
+        let sqrt3 = Interval::new(s3.next_down(), s3.next_up())?;
         let mut re = Interval::ZERO;
         let mut im = Interval::ZERO;
         for (b, q) in &self.parts {

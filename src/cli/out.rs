@@ -66,5 +66,6 @@ pub fn with_source(
     name: &str,
     text: &str,
 ) -> miette::Report {
-    miette::Report::new(diag).with_source_code(miette::NamedSource::new(name, text.to_string()))
+    // A trailing space gives a label at the very end of the input a place to be drawn.
+    miette::Report::new(diag).with_source_code(miette::NamedSource::new(name, format!("{text} ")))
 }
