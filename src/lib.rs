@@ -9,6 +9,7 @@
 #![warn(missing_docs)]
 
 pub mod canon;
+pub mod check;
 pub mod expr;
 pub mod interval;
 pub mod parse;

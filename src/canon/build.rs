@@ -18,7 +18,9 @@ pub enum Unknown {
 }
 
 /// The built-in functions of the expression language.
-pub const BUILTINS: [&str; 9] = ["sin", "cos", "tan", "exp", "log", "sqrt", "sinh", "cosh", "tanh"];
+pub const BUILTINS: [&str; 9] = [
+    "sin", "cos", "tan", "exp", "log", "sqrt", "sinh", "cosh", "tanh",
+];
 
 /// The name table used to build forms.
 #[derive(Clone, Debug)]
@@ -33,11 +35,19 @@ pub struct Names {
 impl Names {
     /// A table in which every unknown name is a free symbol or arbitrary function.
     pub fn free() -> Names {
-        Names { symbols: FxHashSet::default(), defined: FxHashMap::default(), functions: FxHashSet::default(), unknown: Unknown::Free }
+        Names {
+            symbols: FxHashSet::default(),
+            defined: FxHashMap::default(),
+            functions: FxHashSet::default(),
+            unknown: Unknown::Free,
+        }
     }
     /// A table in which only declared names are allowed.
     pub fn strict() -> Names {
-        Names { unknown: Unknown::Error, ..Names::free() }
+        Names {
+            unknown: Unknown::Error,
+            ..Names::free()
+        }
     }
     /// Declares a symbol (coordinate, parameter).
     pub fn symbol(&mut self, name: &str) {
@@ -77,7 +87,13 @@ impl Names {
         let mut best: Option<(usize, &str)> = None;
         for cand in self.all_names() {
             let d = edit_distance(name, cand);
-            let limit = (name.len().max(cand.len()) / 3).max(1);
+            // Short names are all close to each other: for them only a change of case counts.
+            let longest = name.len().max(cand.len());
+            let limit = if longest <= 2 {
+                usize::from(name.eq_ignore_ascii_case(cand))
+            } else {
+                (longest / 3).max(1)
+            };
             if d <= limit && best.is_none_or(|(bd, _)| d < bd) {
                 best = Some((d, cand));
             }
@@ -86,19 +102,30 @@ impl Names {
     }
 }
 
+/// Edit distance with adjacent transpositions counted as one edit (`omgea` is one from `omega`).
 fn edit_distance(a: &str, b: &str) -> usize {
     let a: Vec<char> = a.chars().collect();
     let b: Vec<char> = b.chars().collect();
-    let mut prev: Vec<usize> = (0..=b.len()).collect();
-    for i in 1..=a.len() {
-        let mut cur = vec![i; b.len() + 1];
-        for j in 1..=b.len() {
-            let sub = prev[j - 1] + usize::from(a[i - 1] != b[j - 1]);
-            cur[j] = sub.min(prev[j] + 1).min(cur[j - 1] + 1);
-        }
-        prev = cur;
+    let mut d = vec![vec![0usize; b.len() + 1]; a.len() + 1];
+    for (i, row) in d.iter_mut().enumerate() {
+        row[0] = i;
     }
-    prev[b.len()]
+    for j in 0..=b.len() {
+        d[0][j] = j;
+    }
+    for i in 1..=a.len() {
+        for j in 1..=b.len() {
+            let cost = usize::from(a[i - 1] != b[j - 1]);
+            let mut v = (d[i - 1][j] + 1)
+                .min(d[i][j - 1] + 1)
+                .min(d[i - 1][j - 1] + cost);
+            if i > 1 && j > 1 && a[i - 1] == b[j - 2] && a[i - 2] == b[j - 1] {
+                v = v.min(d[i - 2][j - 2] + 1);
+            }
+            d[i][j] = v;
+        }
+    }
+    d[a.len()][b.len()]
 }
 
 /// An error while building a form, with the span of the offending node.
@@ -117,7 +144,11 @@ pub struct BuildError {
 
 impl BuildError {
     fn new(message: impl Into<String>, span: Span, help: Option<String>) -> BuildError {
-        BuildError { message: message.into(), span, help }
+        BuildError {
+            message: message.into(),
+            span,
+            help,
+        }
     }
     fn canon(e: CanonError, span: Span) -> BuildError {
         BuildError::new(e.to_string(), span, None)
@@ -153,14 +184,23 @@ impl Store {
                     BinOp::Pow => c(self.pow(fa, fb)),
                 }
             }
-            ExprKind::Call { name, name_span, primes, arg } => {
+            ExprKind::Call {
+                name,
+                name_span,
+                primes,
+                arg,
+            } => {
                 let a = self.build(arg, names)?;
                 if BUILTINS.contains(&name.as_str()) {
                     if *primes > 0 {
                         return Err(BuildError::new(
-                            format!("`{name}` is built in; primes mark derivatives of arbitrary functions only"),
+                            format!(
+                                "`{name}` is built in; primes mark derivatives of arbitrary functions only"
+                            ),
                             *name_span,
-                            Some(format!("differentiate with the operator, e.g. d_x({name}(x))")),
+                            Some(format!(
+                                "differentiate with the operator, e.g. d_x({name}(x))"
+                            )),
                         ));
                     }
                     return c(match name.as_str() {
@@ -176,7 +216,9 @@ impl Store {
                         _ => unreachable!("every builtin is listed"),
                     });
                 }
-                if names.functions.contains(name) || (names.unknown == Unknown::Free && !names.is_declared(name)) {
+                if names.functions.contains(name)
+                    || (names.unknown == Unknown::Free && !names.is_declared(name))
+                {
                     return Ok(self.func(name, *primes, a));
                 }
                 let what = if names.symbols.contains(name) || names.defined.contains_key(name) {
@@ -185,10 +227,14 @@ impl Store {
                     format!("unknown function `{name}`")
                 };
                 let help = if names.symbols.contains(name) || names.defined.contains_key(name) {
-                    Some(format!("to multiply, write `{name}*(...)`; arbitrary functions are declared in [functions]"))
+                    Some(format!(
+                        "to multiply, write `{name}*(...)`; arbitrary functions are declared in [functions]"
+                    ))
                 } else {
                     Some(match names.suggest(name) {
-                        Some(s) => format!("did you mean `{s}`? Arbitrary functions are declared in [functions]"),
+                        Some(s) => format!(
+                            "did you mean `{s}`? Arbitrary functions are declared in [functions]"
+                        ),
                         None => "declare arbitrary functions in [functions]".into(),
                     })
                 };
@@ -200,13 +246,17 @@ impl Store {
                     let known_symbol = names.symbols.contains(v);
                     if !known_symbol && (names.unknown == Unknown::Error || names.is_declared(v)) {
                         return Err(BuildError::new(
-                            format!("cannot differentiate by `{v}`: it is not a coordinate or parameter"),
+                            format!(
+                                "cannot differentiate by `{v}`: it is not a coordinate or parameter"
+                            ),
                             *span,
                             names.suggest(v).map(|s| format!("did you mean `{s}`?")),
                         ));
                     }
                     let k = self.symbol_kernel(v);
-                    f = self.diff(f, k).map_err(|err| BuildError::canon(err, e.span))?;
+                    f = self
+                        .diff(f, k)
+                        .map_err(|err| BuildError::canon(err, e.span))?;
                 }
                 Ok(f)
             }
@@ -236,7 +286,9 @@ impl Store {
                 format!("undeclared name `{n}`"),
                 span,
                 Some(match names.suggest(n) {
-                    Some(s) => format!("did you mean `{s}`? Parameters go in [parameters], named subexpressions in [define]"),
+                    Some(s) => format!(
+                        "did you mean `{s}`? Parameters go in [parameters], named subexpressions in [define]"
+                    ),
                     None => "declare it in [parameters] or [define]".into(),
                 }),
             )),

@@ -54,11 +54,19 @@ impl Coeff {
     }
     /// The imaginary unit.
     pub fn i() -> Coeff {
-        Coeff { parts: vec![(IMAG, Q::one())] }
+        Coeff {
+            parts: vec![(IMAG, Q::one())],
+        }
     }
     /// A rational number.
     pub fn rational(q: Q) -> Coeff {
-        if q.is_zero() { Coeff::zero() } else { Coeff { parts: vec![(0, q)] } }
+        if q.is_zero() {
+            Coeff::zero()
+        } else {
+            Coeff {
+                parts: vec![(0, q)],
+            }
+        }
     }
     /// An integer.
     pub fn int(n: i64) -> Coeff {
@@ -66,7 +74,13 @@ impl Coeff {
     }
     /// `q * sqrt(2)^a * sqrt(3)^b * i^c` for the basis index `a + 2b + 4c`.
     fn basis(index: u8, q: Q) -> Coeff {
-        if q.is_zero() { Coeff::zero() } else { Coeff { parts: vec![(index, q)] } }
+        if q.is_zero() {
+            Coeff::zero()
+        } else {
+            Coeff {
+                parts: vec![(index, q)],
+            }
+        }
     }
     /// sqrt(m) for m in {2, 3, 6}; `None` otherwise.
     pub fn sqrt_of_small(m: u32) -> Option<Coeff> {
@@ -114,12 +128,24 @@ impl Coeff {
     }
     /// The real part.
     pub fn re(&self) -> Coeff {
-        Coeff { parts: self.parts.iter().filter(|p| p.0 & IMAG == 0).cloned().collect() }
+        Coeff {
+            parts: self
+                .parts
+                .iter()
+                .filter(|p| p.0 & IMAG == 0)
+                .cloned()
+                .collect(),
+        }
     }
     /// The imaginary part (a real number).
     pub fn im(&self) -> Coeff {
         Coeff {
-            parts: self.parts.iter().filter(|p| p.0 & IMAG != 0).map(|(b, q)| (b & !IMAG, q.clone())).collect(),
+            parts: self
+                .parts
+                .iter()
+                .filter(|p| p.0 & IMAG != 0)
+                .map(|(b, q)| (b & !IMAG, q.clone()))
+                .collect(),
         }
     }
     /// If this is `i*q` with q rational, returns q.
@@ -144,7 +170,9 @@ impl Coeff {
     }
     /// Negation.
     pub fn neg(&self) -> Coeff {
-        Coeff { parts: self.parts.iter().map(|(b, q)| (*b, -q)).collect() }
+        Coeff {
+            parts: self.parts.iter().map(|(b, q)| (*b, -q)).collect(),
+        }
     }
     /// Difference.
     pub fn sub(&self, o: &Coeff) -> Coeff {
@@ -159,10 +187,14 @@ impl Coeff {
             if q.is_one() {
                 return self.clone();
             }
-            return Coeff { parts: self.parts.iter().map(|(b, p)| (*b, p * q)).collect() };
+            return Coeff {
+                parts: self.parts.iter().map(|(b, p)| (*b, p * q)).collect(),
+            };
         }
         if let [(0, q)] = self.parts.as_slice() {
-            return Coeff { parts: o.parts.iter().map(|(b, p)| (*b, p * q)).collect() };
+            return Coeff {
+                parts: o.parts.iter().map(|(b, p)| (*b, p * q)).collect(),
+            };
         }
         let mut v = Vec::with_capacity(self.parts.len() * o.parts.len());
         for (a, p) in &self.parts {
@@ -179,7 +211,13 @@ impl Coeff {
             parts: self
                 .parts
                 .iter()
-                .map(|(b, q)| if (b & mask).count_ones() % 2 == 1 { (*b, -q) } else { (*b, q.clone()) })
+                .map(|(b, q)| {
+                    if (b & mask).count_ones() % 2 == 1 {
+                        (*b, -q)
+                    } else {
+                        (*b, q.clone())
+                    }
+                })
                 .collect(),
         }
     }
@@ -202,7 +240,9 @@ impl Coeff {
         let z = y.mul(&c2);
         let c3 = z.conj_by(SQRT2);
         let w = z.mul(&c3);
-        let n = w.as_rational().expect("norm of a field element is rational");
+        let n = w
+            .as_rational()
+            .expect("norm of a field element is rational");
         Some(c1.mul(&c2).mul(&c3).mul(&Coeff::rational(n.recip())))
     }
     /// Quotient; `None` when dividing by zero.
@@ -474,7 +514,9 @@ mod tests {
 
     #[test]
     fn inverse_of_mixed_element() {
-        let x = Coeff::unit_root24(1).add(&Coeff::int(3)).add(&Coeff::sqrt_of_small(6).unwrap());
+        let x = Coeff::unit_root24(1)
+            .add(&Coeff::int(3))
+            .add(&Coeff::sqrt_of_small(6).unwrap());
         let y = x.inv().unwrap();
         assert!(x.mul(&y).is_one());
         assert!(Coeff::zero().inv().is_none());
@@ -484,6 +526,9 @@ mod tests {
     fn display_forms() {
         assert_eq!(Coeff::unit_root24(3).re().to_string(), "sqrt(2)/2");
         assert_eq!(Coeff::i().neg().to_string(), "-i");
-        assert_eq!(Coeff::rational(Q::new((-3).into(), 4.into())).to_string(), "-3/4");
+        assert_eq!(
+            Coeff::rational(Q::new((-3).into(), 4.into())).to_string(),
+            "-3/4"
+        );
     }
 }

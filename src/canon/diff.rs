@@ -18,13 +18,19 @@ impl Store {
             return Ok(self.zero);
         }
         let r = self.rats[f.0 as usize].clone();
-        let num = self.intern_rat(Rat { num: r.num.clone(), den: Vec::new() });
+        let num = self.intern_rat(Rat {
+            num: r.num.clone(),
+            den: Vec::new(),
+        });
         let dnum = self.diff_poly(&r.num, var)?;
         let d = if r.den.is_empty() {
             dnum
         } else {
             // d(N/D) = (dN - N * sum_j e_j dF_j / F_j) / D
-            let den = self.intern_rat(Rat { num: vec![(self.unit, super::Coeff::one())], den: r.den.clone() });
+            let den = self.intern_rat(Rat {
+                num: vec![(self.unit, super::Coeff::one())],
+                den: r.den.clone(),
+            });
             let mut logd = self.zero;
             for &(fid, e) in &r.den {
                 let p = self.factors[fid.0 as usize].clone();
@@ -32,7 +38,10 @@ impl Store {
                 if dp == self.zero {
                     continue;
                 }
-                let pf = self.intern_rat(Rat { num: p, den: Vec::new() });
+                let pf = self.intern_rat(Rat {
+                    num: p,
+                    den: Vec::new(),
+                });
                 let q = self.div(dp, pf)?;
                 let q = self.scale(q, &super::Coeff::int(e as i64))?;
                 logd = self.add(logd, q)?;
@@ -66,7 +75,10 @@ impl Store {
             if dlog == self.zero {
                 continue;
             }
-            let term = self.intern_rat(Rat { num: vec![(*m, c.clone())], den: Vec::new() });
+            let term = self.intern_rat(Rat {
+                num: vec![(*m, c.clone())],
+                den: Vec::new(),
+            });
             let t = self.mul(term, dlog)?;
             acc = self.add(acc, t)?;
         }
@@ -95,7 +107,10 @@ impl Store {
                     self.zero
                 } else {
                     let t = self.div(dr, radicand)?;
-                    self.scale(t, &super::Coeff::rational(super::Q::new(1.into(), (q as i64).into())))?
+                    self.scale(
+                        t,
+                        &super::Coeff::rational(super::Q::new(1.into(), (q as i64).into())),
+                    )?
                 }
             }
             Kernel::Log(a) => {

@@ -85,7 +85,10 @@ impl Store {
     /// missing value, a denominator enclosing zero, a root or logarithm near its branch cut,
     /// overflow).
     pub fn eval_interval(&mut self, f: Form, pt: &Point) -> Option<CInterval> {
-        let mut memo = Memo { kernels: FxHashMap::default(), forms: FxHashMap::default() };
+        let mut memo = Memo {
+            kernels: FxHashMap::default(),
+            forms: FxHashMap::default(),
+        };
         self.eval_form(f, pt, &mut memo)
     }
 
@@ -142,7 +145,10 @@ impl Store {
                 let r = self.eval_form(radicand, pt, memo)?;
                 // Principal root exp(log(R)/q); log needs Re R > 0 (away from the branch cut).
                 let l = principal_log(r)?;
-                let inv_q = crate::canon::coeff::rational_interval(&super::Q::new(1.into(), (q as i64).into()))?;
+                let inv_q = crate::canon::coeff::rational_interval(&super::Q::new(
+                    1.into(),
+                    (q as i64).into(),
+                ))?;
                 let l = CInterval::new(l.re.mul(inv_q)?, l.im.mul(inv_q)?);
                 l.exp()
             }
@@ -157,7 +163,10 @@ impl Store {
                 // The sample sees the same parameter values, with its variable set to the argument.
                 let mut inner = pt.clone();
                 inner.values.insert(sample.var, a);
-                let mut inner_memo = Memo { kernels: FxHashMap::default(), forms: FxHashMap::default() };
+                let mut inner_memo = Memo {
+                    kernels: FxHashMap::default(),
+                    forms: FxHashMap::default(),
+                };
                 self.eval_form(d, &inner, &mut inner_memo)
             }
         };
@@ -168,6 +177,9 @@ impl Store {
     /// The numerator of `f` as a form (used by the zero test to report witnesses).
     pub fn numerator(&mut self, f: Form) -> Form {
         let r = self.rats[f.0 as usize].clone();
-        self.intern_rat(Rat { num: r.num, den: Vec::new() })
+        self.intern_rat(Rat {
+            num: r.num,
+            den: Vec::new(),
+        })
     }
 }

@@ -136,7 +136,10 @@ pub struct Limits {
 
 impl Default for Limits {
     fn default() -> Self {
-        Limits { max_terms: 200_000, deadline: None }
+        Limits {
+            max_terms: 200_000,
+            deadline: None,
+        }
     }
 }
 
@@ -188,9 +191,18 @@ impl Store {
             zero: Form(0),
             one: Form(0),
         };
-        s.unit = s.intern_mono(Mono { pows: Vec::new(), exp: None });
-        s.zero = s.intern_rat(Rat { num: Vec::new(), den: Vec::new() });
-        s.one = s.intern_rat(Rat { num: vec![(s.unit, Coeff::one())], den: Vec::new() });
+        s.unit = s.intern_mono(Mono {
+            pows: Vec::new(),
+            exp: None,
+        });
+        s.zero = s.intern_rat(Rat {
+            num: Vec::new(),
+            den: Vec::new(),
+        });
+        s.one = s.intern_rat(Rat {
+            num: vec![(s.unit, Coeff::one())],
+            den: Vec::new(),
+        });
         s
     }
 
@@ -258,7 +270,10 @@ impl Store {
             return self.zero;
         }
         let unit = self.unit;
-        self.intern_rat(Rat { num: vec![(unit, c)], den: Vec::new() })
+        self.intern_rat(Rat {
+            num: vec![(unit, c)],
+            den: Vec::new(),
+        })
     }
     /// A rational constant.
     pub fn rational(&mut self, q: Q) -> Form {
@@ -283,12 +298,22 @@ impl Store {
         self.kernel_form(k)
     }
     fn kernel_form(&mut self, k: KernelId) -> Form {
-        let m = self.intern_mono(Mono { pows: vec![(k, 1)], exp: None });
-        self.intern_rat(Rat { num: vec![(m, Coeff::one())], den: Vec::new() })
+        let m = self.intern_mono(Mono {
+            pows: vec![(k, 1)],
+            exp: None,
+        });
+        self.intern_rat(Rat {
+            num: vec![(m, Coeff::one())],
+            den: Vec::new(),
+        })
     }
     /// The arbitrary function `name` differentiated `order` times, at `arg`.
     pub fn func(&mut self, name: &str, order: u32, arg: Form) -> Form {
-        let k = self.intern_kernel(Kernel::Func { name: Rc::from(name), order, arg });
+        let k = self.intern_kernel(Kernel::Func {
+            name: Rc::from(name),
+            order,
+            arg,
+        });
         self.kernel_form(k)
     }
 
@@ -394,7 +419,10 @@ impl Store {
     /// Product of two numerators, as a form (root reductions may bring denominators).
     fn poly_mul(&mut self, a: &Poly, b: &Poly) -> CResult<Rat> {
         if a.is_empty() || b.is_empty() {
-            return Ok(Rat { num: Vec::new(), den: Vec::new() });
+            return Ok(Rat {
+                num: Vec::new(),
+                den: Vec::new(),
+            });
         }
         self.check_size(a.len().saturating_mul(b.len()) / 4)?;
         let mut acc: FxHashMap<MonoId, Coeff> = FxHashMap::default();
@@ -415,9 +443,15 @@ impl Store {
             }
             self.check_size(acc.len())?;
         }
-        let mut r = Rat { num: Self::sort_terms(acc), den: Vec::new() };
+        let mut r = Rat {
+            num: Self::sort_terms(acc),
+            den: Vec::new(),
+        };
         for (m, c, extra) in extras {
-            let t = self.intern_rat(Rat { num: vec![(m, c)], den: Vec::new() });
+            let t = self.intern_rat(Rat {
+                num: vec![(m, c)],
+                den: Vec::new(),
+            });
             let p = self.mul(t, extra)?;
             let cur = self.intern_rat(r);
             let s = self.add(cur, p)?;
@@ -462,7 +496,11 @@ impl Store {
     /// Builds a reduced monomial from kernel powers and an exponent: root powers are brought
     /// into `0..q` through `k^q = radicand`, and the exponent's constant `i*pi*k/12` part is
     /// taken out as an exact coefficient.
-    fn make_mono(&mut self, mut pows: Vec<(KernelId, i32)>, exp: Option<Form>) -> CResult<(MonoId, Coeff, Form)> {
+    fn make_mono(
+        &mut self,
+        mut pows: Vec<(KernelId, i32)>,
+        exp: Option<Form>,
+    ) -> CResult<(MonoId, Coeff, Form)> {
         let mut extra = self.one;
         let mut i = 0;
         while i < pows.len() {
@@ -541,7 +579,10 @@ impl Store {
             rest.push((m, c));
         }
         rest.sort_by_key(|t| t.0);
-        let rest = self.intern_rat(Rat { num: rest, den: Vec::new() });
+        let rest = self.intern_rat(Rat {
+            num: rest,
+            den: Vec::new(),
+        });
         Ok((rest, coeff, pulled))
     }
 
@@ -550,7 +591,10 @@ impl Store {
         let mut acc = self.one;
         for &(f, e) in fs {
             let p = self.factors[f.0 as usize].clone();
-            let pf = self.intern_rat(Rat { num: p, den: Vec::new() });
+            let pf = self.intern_rat(Rat {
+                num: p,
+                den: Vec::new(),
+            });
             for _ in 0..e {
                 acc = self.mul(acc, pf)?;
             }
@@ -596,8 +640,14 @@ impl Store {
         let mb = missing(&rb.den);
         let xa = self.expand_factors(&ma)?;
         let xb = self.expand_factors(&mb)?;
-        let na = self.intern_rat(Rat { num: ra.num, den: Vec::new() });
-        let nb = self.intern_rat(Rat { num: rb.num, den: Vec::new() });
+        let na = self.intern_rat(Rat {
+            num: ra.num,
+            den: Vec::new(),
+        });
+        let nb = self.intern_rat(Rat {
+            num: rb.num,
+            den: Vec::new(),
+        });
         let pa = self.mul(na, xa)?;
         let pb = self.mul(nb, xb)?;
         let sum = self.add(pa, pb)?;
@@ -628,7 +678,10 @@ impl Store {
             return Ok(self.zero);
         }
         let r = self.rats[a.0 as usize].clone();
-        Ok(self.intern_rat(Rat { num: Self::poly_scale(&r.num, c), den: r.den }))
+        Ok(self.intern_rat(Rat {
+            num: Self::poly_scale(&r.num, c),
+            den: r.den,
+        }))
     }
 
     /// `a - b`.
@@ -682,11 +735,17 @@ impl Store {
         };
         // Negative root powers reduce through the radicand: 1/k = k^(q-1)/radicand.
         let (m, c, extra) = self.make_mono(inv_pows, inv_exp)?;
-        let minv = self.intern_rat(Rat { num: vec![(m, c)], den: Vec::new() });
+        let minv = self.intern_rat(Rat {
+            num: vec![(m, c)],
+            den: Vec::new(),
+        });
         let minv = self.mul(minv, extra)?;
         let part = self.mul(den, minv)?;
         if let [(cm, cc)] = cofactor.as_slice() {
-            debug_assert!(*cm == self.unit, "the content of a single term is the whole monomial");
+            debug_assert!(
+                *cm == self.unit,
+                "the content of a single term is the whole monomial"
+            );
             let cinv = cc.inv().ok_or(CanonError::DivisionByZero)?;
             return self.scale(part, &cinv);
         }
@@ -694,7 +753,10 @@ impl Store {
         let linv = lead.inv().ok_or(CanonError::DivisionByZero)?;
         let normalised = Self::poly_scale(&cofactor, &linv);
         let fid = self.intern_factor(normalised);
-        let q = self.intern_rat(Rat { num: vec![(self.unit, linv)], den: vec![(fid, 1)] });
+        let q = self.intern_rat(Rat {
+            num: vec![(self.unit, linv)],
+            den: vec![(fid, 1)],
+        });
         self.mul(part, q)
     }
 
@@ -717,11 +779,16 @@ impl Store {
             let (m, c) = &p[0];
             return Ok((*m, vec![(self.unit, c.clone())]));
         }
-        let monos: Vec<Mono> = p.iter().map(|(m, _)| self.monos[m.0 as usize].clone()).collect();
+        let monos: Vec<Mono> = p
+            .iter()
+            .map(|(m, _)| self.monos[m.0 as usize].clone())
+            .collect();
         let mut content: Vec<(KernelId, i32)> = Vec::new();
         let first = &monos[0];
-        let all_kernels: std::collections::BTreeSet<KernelId> =
-            monos.iter().flat_map(|m| m.pows.iter().map(|p| p.0)).collect();
+        let all_kernels: std::collections::BTreeSet<KernelId> = monos
+            .iter()
+            .flat_map(|m| m.pows.iter().map(|p| p.0))
+            .collect();
         for k in all_kernels {
             let min = monos
                 .iter()
@@ -732,7 +799,11 @@ impl Store {
                 content.push((k, min));
             }
         }
-        let shared_exp = if monos.iter().all(|m| m.exp == first.exp) { first.exp } else { None };
+        let shared_exp = if monos.iter().all(|m| m.exp == first.exp) {
+            first.exp
+        } else {
+            None
+        };
         if content.is_empty() && shared_exp.is_none() {
             return Ok((self.unit, p.clone()));
         }
@@ -754,7 +825,10 @@ impl Store {
             let e = out.entry(id).or_insert_with(Coeff::zero);
             *e = e.add(c);
         }
-        let content = self.intern_mono(Mono { pows: content, exp: shared_exp });
+        let content = self.intern_mono(Mono {
+            pows: content,
+            exp: shared_exp,
+        });
         Ok((content, Self::sort_terms(out)))
     }
 
@@ -791,7 +865,10 @@ impl Store {
     /// `a^q` for a rational `q`, with the principal branch: `a^(p/q) = (a^(1/q))^p`.
     pub fn pow_rational(&mut self, a: Form, q: &Q) -> CResult<Form> {
         if q.is_integer() {
-            let n = q.to_integer().to_i64().ok_or(CanonError::TooLarge(self.limits.max_terms))?;
+            let n = q
+                .to_integer()
+                .to_i64()
+                .ok_or(CanonError::TooLarge(self.limits.max_terms))?;
             if n.abs() > 10_000 {
                 return Err(CanonError::TooLarge(self.limits.max_terms));
             }
@@ -807,8 +884,16 @@ impl Store {
         if a == self.one {
             return Ok(self.one);
         }
-        let den = q.denom().to_u32().filter(|d| *d <= 1000).ok_or(CanonError::TooLarge(self.limits.max_terms))?;
-        let num = q.numer().to_i64().filter(|n| n.abs() <= 10_000).ok_or(CanonError::TooLarge(self.limits.max_terms))?;
+        let den = q
+            .denom()
+            .to_u32()
+            .filter(|d| *d <= 1000)
+            .ok_or(CanonError::TooLarge(self.limits.max_terms))?;
+        let num = q
+            .numer()
+            .to_i64()
+            .filter(|n| n.abs() <= 10_000)
+            .ok_or(CanonError::TooLarge(self.limits.max_terms))?;
         let root = self.root(a, den)?;
         self.powi(root, num)
     }
@@ -838,7 +923,10 @@ impl Store {
             return Ok(self.one);
         }
         let (m, c, extra) = self.make_mono(Vec::new(), Some(a))?;
-        let t = self.intern_rat(Rat { num: vec![(m, c)], den: Vec::new() });
+        let t = self.intern_rat(Rat {
+            num: vec![(m, c)],
+            den: Vec::new(),
+        });
         self.mul(t, extra)
     }
 
@@ -868,7 +956,10 @@ impl Store {
         let (p, m) = self.exp_i_pair(a)?;
         let d = self.sub(p, m)?;
         // 1/(2i) = -i/2
-        self.scale(d, &Coeff::i().mul(&Coeff::rational(Q::new((-1).into(), 2.into()))))
+        self.scale(
+            d,
+            &Coeff::i().mul(&Coeff::rational(Q::new((-1).into(), 2.into()))),
+        )
     }
     /// `cos(a) = (e^(ia) + e^(-ia)) / 2`.
     pub fn cos(&mut self, a: Form) -> CResult<Form> {
@@ -944,7 +1035,11 @@ impl Store {
             }
             let r = self.rats[g.0 as usize].clone();
             let mut polys = vec![r.num];
-            polys.extend(r.den.iter().map(|(fid, _)| self.factors[fid.0 as usize].clone()));
+            polys.extend(
+                r.den
+                    .iter()
+                    .map(|(fid, _)| self.factors[fid.0 as usize].clone()),
+            );
             for p in polys {
                 for (m, _) in p {
                     let mono = &self.monos[m.0 as usize];
@@ -978,7 +1073,9 @@ impl Store {
         let d: Rc<[KernelId]> = match self.kernel(k).clone() {
             Kernel::Sym(_) => Rc::from(vec![k]),
             Kernel::Pi => Rc::from(Vec::new()),
-            Kernel::Root { radicand: a, .. } | Kernel::Log(a) | Kernel::Func { arg: a, .. } => self.form_deps(a),
+            Kernel::Root { radicand: a, .. } | Kernel::Log(a) | Kernel::Func { arg: a, .. } => {
+                self.form_deps(a)
+            }
         };
         self.deps_cache.insert(k, d.clone());
         d

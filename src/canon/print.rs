@@ -52,14 +52,20 @@ impl Store {
             Kernel::Pi => "pi".into(),
             Kernel::Root { radicand, q } => format!("root{q}[{}]", self.form_key(radicand)),
             Kernel::Log(a) => format!("log[{}]", self.form_key(a)),
-            Kernel::Func { name, order, arg } => format!("f:{name}:{order}[{}]", self.form_key(arg)),
+            Kernel::Func { name, order, arg } => {
+                format!("f:{name}:{order}[{}]", self.form_key(arg))
+            }
         }
     }
 
     /// A deterministic structural key of a form.
     pub(super) fn form_key(&mut self, f: Form) -> String {
         let r = self.rats[f.0 as usize].clone();
-        let mut terms: Vec<String> = r.num.iter().map(|(m, c)| format!("{c}*{}", self.mono_key(*m))).collect();
+        let mut terms: Vec<String> = r
+            .num
+            .iter()
+            .map(|(m, c)| format!("{c}*{}", self.mono_key(*m)))
+            .collect();
         terms.sort();
         let mut s = terms.join("+");
         let mut dens: Vec<String> = r
@@ -67,7 +73,10 @@ impl Store {
             .iter()
             .map(|(fid, e)| {
                 let p = self.factors[fid.0 as usize].clone();
-                let pf = self.intern_rat(Rat { num: p, den: Vec::new() });
+                let pf = self.intern_rat(Rat {
+                    num: p,
+                    den: Vec::new(),
+                });
                 format!("({})^{e}", self.form_key(pf))
             })
             .collect();
@@ -101,7 +110,11 @@ impl Store {
                 scale = scale.mul(&uinv);
             }
             let fp = self.pretty_poly(&p, &uinv);
-            den_parts.push(if *e == 1 { fp } else { Pretty::Pow(Box::new(fp), *e) });
+            den_parts.push(if *e == 1 {
+                fp
+            } else {
+                Pretty::Pow(Box::new(fp), *e)
+            });
         }
         den_parts.sort_by_key(to_text);
         let num = self.pretty_poly(&r.num, &scale);
@@ -129,9 +142,10 @@ impl Store {
             Kernel::Pi => Pretty::Name("pi".into()),
             Kernel::Root { radicand, q } => Pretty::Root(Box::new(self.pretty(radicand)), q),
             Kernel::Log(a) => Pretty::Call("log".into(), Box::new(self.pretty(a))),
-            Kernel::Func { name, order, arg } => {
-                Pretty::Call(format!("{name}{}", "'".repeat(order as usize)), Box::new(self.pretty(arg)))
-            }
+            Kernel::Func { name, order, arg } => Pretty::Call(
+                format!("{name}{}", "'".repeat(order as usize)),
+                Box::new(self.pretty(arg)),
+            ),
         }
     }
 
@@ -142,16 +156,37 @@ impl Store {
         if !r.den.is_empty() {
             return None;
         }
-        let re: Vec<_> = r.num.iter().map(|(m, c)| (*m, c.re())).filter(|t| !t.1.is_zero()).collect();
-        let im: Vec<_> = r.num.iter().map(|(m, c)| (*m, c.im())).filter(|t| !t.1.is_zero()).collect();
-        let re = self.intern_rat(Rat { num: re, den: Vec::new() });
-        let im = self.intern_rat(Rat { num: im, den: Vec::new() });
+        let re: Vec<_> = r
+            .num
+            .iter()
+            .map(|(m, c)| (*m, c.re()))
+            .filter(|t| !t.1.is_zero())
+            .collect();
+        let im: Vec<_> = r
+            .num
+            .iter()
+            .map(|(m, c)| (*m, c.im()))
+            .filter(|t| !t.1.is_zero())
+            .collect();
+        let re = self.intern_rat(Rat {
+            num: re,
+            den: Vec::new(),
+        });
+        let im = self.intern_rat(Rat {
+            num: im,
+            den: Vec::new(),
+        });
         Some((re, im))
     }
 
     fn pretty_poly(&mut self, p: &super::Poly, scale: &Coeff) -> Pretty {
         // Group terms by (kernel powers, real exponent, |imaginary exponent|).
-        type Key = (Vec<(KernelId, i32)>, Option<Form>, Option<Form>, Option<Form>);
+        type Key = (
+            Vec<(KernelId, i32)>,
+            Option<Form>,
+            Option<Form>,
+            Option<Form>,
+        );
         let mut groups: FxHashMap<Key, (Coeff, Coeff)> = FxHashMap::default();
         let mut order: Vec<Key> = Vec::new();
         for (m, c) in p {
@@ -168,7 +203,9 @@ impl Store {
                         } else {
                             // Choose the sign of Q whose printed first coefficient is positive.
                             let neg = match self.pretty(im) {
-                                Pretty::Sum(ts) => ts.first().map(|t| leading_num(t).looks_negative()),
+                                Pretty::Sum(ts) => {
+                                    ts.first().map(|t| leading_num(t).looks_negative())
+                                }
                                 t => Some(leading_num(&t).looks_negative()),
                             }
                             .unwrap_or(false);
@@ -201,7 +238,11 @@ impl Store {
             let mut dens = Vec::new();
             for (k, e) in pows {
                 let kp = self.pretty_kernel(k);
-                let f = if e.unsigned_abs() == 1 { kp } else { Pretty::Pow(Box::new(kp), e.unsigned_abs()) };
+                let f = if e.unsigned_abs() == 1 {
+                    kp
+                } else {
+                    Pretty::Pow(Box::new(kp), e.unsigned_abs())
+                };
                 if e > 0 { nums.push(f) } else { dens.push(f) }
             }
             if let Some(raw) = raw {
@@ -246,7 +287,12 @@ impl Store {
             Pretty::Prod(_, n, d) => {
                 let deg: u32 = n.iter().map(degree).sum::<u32>();
                 let composite = n.iter().chain(d.iter()).filter(|f| !is_plain(f)).count();
-                let text: String = n.iter().chain(d.iter()).map(to_text).collect::<Vec<_>>().join("*");
+                let text: String = n
+                    .iter()
+                    .chain(d.iter())
+                    .map(to_text)
+                    .collect::<Vec<_>>()
+                    .join("*");
                 (u32::MAX - deg, text.is_empty(), composite, text)
             }
             _ => (0, false, 0, String::new()),
@@ -292,7 +338,13 @@ pub fn to_text(p: &Pretty) -> String {
 fn text_atom(p: &Pretty, s: &mut String) {
     match p {
         Pretty::Name(_) | Pretty::Call(..) | Pretty::Root(_, 2) => text(p, s),
-        Pretty::Num(c) if c.as_rational().is_some_and(|q| q.is_integer() && q >= num_rational::BigRational::from_integer(0.into())) => text(p, s),
+        Pretty::Num(c)
+            if c.as_rational().is_some_and(|q| {
+                q.is_integer() && q >= num_rational::BigRational::from_integer(0.into())
+            }) =>
+        {
+            text(p, s)
+        }
         Pretty::Prod(c, n, d) if c.is_one() && n.len() == 1 && d.is_empty() => text_atom(&n[0], s),
         _ => {
             s.push('(');
@@ -342,11 +394,19 @@ fn text(p: &Pretty, s: &mut String) {
                 s.push('-');
             }
             // Write the rational coefficient's numerator in front and its denominator below.
-            let (cn, cd) = match c.as_rational().filter(|q| super::coeff::big_power_of_ten(q.denom()).is_none()) {
-                Some(q) => (Some(Coeff::rational(num_rational::BigRational::from_integer(q.numer().clone()))), {
-                    let d = q.denom().clone();
-                    (d != 1.into()).then_some(d)
-                }),
+            let (cn, cd) = match c
+                .as_rational()
+                .filter(|q| super::coeff::big_power_of_ten(q.denom()).is_none())
+            {
+                Some(q) => (
+                    Some(Coeff::rational(num_rational::BigRational::from_integer(
+                        q.numer().clone(),
+                    ))),
+                    {
+                        let d = q.denom().clone();
+                        (d != 1.into()).then_some(d)
+                    },
+                ),
                 None => (Some(c.clone()), None),
             };
             let mut first = true;
@@ -420,19 +480,27 @@ pub fn to_latex(p: &Pretty) -> String {
 
 fn latex_coeff(c: &Coeff) -> String {
     let t = c.to_string();
-    t.replace("sqrt(2)", "\\sqrt{2}").replace("sqrt(3)", "\\sqrt{3}").replace("sqrt(6)", "\\sqrt{6}").replace('*', " ")
+    t.replace("sqrt(2)", "\\sqrt{2}")
+        .replace("sqrt(3)", "\\sqrt{3}")
+        .replace("sqrt(6)", "\\sqrt{6}")
+        .replace('*', " ")
 }
 
 fn latex_name(n: &str) -> String {
     const GREEK: [&str; 24] = [
-        "alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa", "lambda", "mu", "nu",
-        "xi", "pi", "rho", "sigma", "tau", "upsilon", "phi", "chi", "psi", "omega", "Omega",
+        "alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa",
+        "lambda", "mu", "nu", "xi", "pi", "rho", "sigma", "tau", "upsilon", "phi", "chi", "psi",
+        "omega", "Omega",
     ];
     let (base, sub) = match n.split_once('_') {
         Some((b, s)) => (b, Some(s)),
         None => (n, None),
     };
-    let b = if GREEK.contains(&base) { format!("\\{base}") } else { base.to_string() };
+    let b = if GREEK.contains(&base) {
+        format!("\\{base}")
+    } else {
+        base.to_string()
+    };
     match sub {
         Some(s) => format!("{b}_{{{s}}}"),
         None => b,

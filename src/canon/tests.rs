@@ -5,7 +5,9 @@ use crate::zero::{Sampling, Verdict, decide};
 
 fn form(store: &mut Store, s: &str) -> Form {
     let e = crate::parse::parse(s).unwrap_or_else(|e| panic!("parse {s}: {e:?}"));
-    store.build(&e, &Names::free()).unwrap_or_else(|e| panic!("build {s}: {e:?}"))
+    store
+        .build(&e, &Names::free())
+        .unwrap_or_else(|e| panic!("build {s}: {e:?}"))
 }
 
 /// The verdict on `a - b`.
@@ -24,7 +26,10 @@ fn check_identity(a: &str, b: &str) {
 
 fn check_not_identity(a: &str, b: &str) {
     let v = verdict(a, b);
-    assert!(matches!(v, Verdict::Nonzero(_)), "{a} = {b} should be refuted, got {v:?}");
+    assert!(
+        matches!(v, Verdict::Nonzero(_)),
+        "{a} = {b} should be refuted, got {v:?}"
+    );
 }
 
 fn check_text(input: &str, printed: &str) {
@@ -78,7 +83,10 @@ fn exact_values_at_rational_multiples_of_pi() {
 #[test]
 fn algebraic_kernels() {
     check_identity("sqrt(x^2 + y^2 + z^2)^2", "x^2 + y^2 + z^2");
-    check_identity("1/sqrt(x^2 + y^2 + z^2)^3", "sqrt(x^2 + y^2 + z^2)/(x^2 + y^2 + z^2)^2");
+    check_identity(
+        "1/sqrt(x^2 + y^2 + z^2)^3",
+        "sqrt(x^2 + y^2 + z^2)/(x^2 + y^2 + z^2)^2",
+    );
     check_identity("sqrt(x)*sqrt(x)", "x");
     check_identity("x^(3/2)", "x*sqrt(x)");
     check_identity("sqrt(8)", "2*sqrt(2)");
@@ -127,4 +135,3 @@ fn division_by_zero_is_an_error() {
     let err = st.build(&e, &Names::free()).unwrap_err();
     assert!(err.message.contains("identically zero"), "{err:?}");
 }
-

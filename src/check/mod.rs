@@ -88,7 +88,11 @@ pub struct CheckReport {
 impl CheckReport {
     /// The overall status: fails if any asserted claim fails, else undecided if any is.
     pub fn overall(&self) -> Status {
-        let counted: Vec<&ClaimReport> = self.claims.iter().filter(|c| c.asserted.is_some() || !self.has_claims).collect();
+        let counted: Vec<&ClaimReport> = self
+            .claims
+            .iter()
+            .filter(|c| c.asserted.is_some() || !self.has_claims)
+            .collect();
         if self.has_claims && counted.iter().any(|c| c.status == Status::Fails) {
             Status::Fails
         } else if counted.iter().any(|c| c.status == Status::Undecided) {
@@ -102,7 +106,11 @@ impl CheckReport {
 /// Residuals longer than this are cut in reports.
 const RESIDUAL_CHARS: usize = 600;
 
-fn verdicts_for(store: &mut Store, named: Vec<(String, Form)>, sampling: &Sampling) -> Vec<Component> {
+fn verdicts_for(
+    store: &mut Store,
+    named: Vec<(String, Form)>,
+    sampling: &Sampling,
+) -> Vec<Component> {
     named
         .into_iter()
         .map(|(name, f)| {
@@ -116,20 +124,34 @@ fn verdicts_for(store: &mut Store, named: Vec<(String, Form)>, sampling: &Sampli
                     t
                 }
             });
-            Component { name, verdict, residual }
+            Component {
+                name,
+                verdict,
+                residual,
+            }
         })
         .collect()
 }
 
 fn method_text(components: &[Component], status: Status, expect_zero: bool) -> String {
     let n = components.len();
-    let zero = components.iter().filter(|c| matches!(c.verdict, Verdict::Zero)).count();
-    let nonzero = components.iter().filter(|c| matches!(c.verdict, Verdict::Nonzero(_))).count();
+    let zero = components
+        .iter()
+        .filter(|c| matches!(c.verdict, Verdict::Zero))
+        .count();
+    let nonzero = components
+        .iter()
+        .filter(|c| matches!(c.verdict, Verdict::Nonzero(_)))
+        .count();
     let undecided = n - zero - nonzero;
     match (status, expect_zero) {
-        (Status::Holds, true) | (Status::Fails, false) => format!("exact: all {n} components reduce to 0"),
+        (Status::Holds, true) | (Status::Fails, false) => {
+            format!("exact: all {n} components reduce to 0")
+        }
         (Status::Fails, true) | (Status::Holds, false) => {
-            format!("certified: {nonzero} of {n} components nonzero at a witness point, {zero} proved 0")
+            format!(
+                "certified: {nonzero} of {n} components nonzero at a witness point, {zero} proved 0"
+            )
         }
         (Status::Undecided, _) => format!(
             "{zero} of {n} proved 0, {undecided} undecided (not reduced to zero; no certified nonzero value), {nonzero} nonzero"
@@ -150,7 +172,14 @@ fn claim(
     let refs: Vec<&Verdict> = components.iter().map(|c| &c.verdict).collect();
     let status = Status::of(&refs, expect_zero);
     let method = method_text(&components, status, expect_zero);
-    ClaimReport { key: key.into(), title: title.into(), asserted, status, method, components }
+    ClaimReport {
+        key: key.into(),
+        title: title.into(),
+        asserted,
+        status,
+        method,
+        components,
+    }
 }
 
 fn limit_report(key: &str, title: &str, asserted: Option<bool>, e: CanonError) -> ClaimReport {
@@ -165,7 +194,11 @@ fn limit_report(key: &str, title: &str, asserted: Option<bool>, e: CanonError) -
 }
 
 /// The field-equation residuals G1_{mu nu} - 8 pi T_{mu nu}.
-pub fn field_equation_residuals(store: &mut Store, lin: &mut Linearized, source: Option<&Sym4>) -> Result<Vec<(String, Form)>, CanonError> {
+pub fn field_equation_residuals(
+    store: &mut Store,
+    lin: &mut Linearized,
+    source: Option<&Sym4>,
+) -> Result<Vec<(String, Form)>, CanonError> {
     let g = lin.einstein(store)?;
     let pi = store.pi();
     let eight_pi = store.scale(pi, &Coeff::int(8))?;
@@ -185,11 +218,17 @@ pub fn field_equation_residuals(store: &mut Store, lin: &mut Linearized, source:
     Ok(out)
 }
 
-fn gauge_components(store: &mut Store, lin: &mut Linearized, g: Gauge) -> Result<Vec<(String, Form)>, CanonError> {
+fn gauge_components(
+    store: &mut Store,
+    lin: &mut Linearized,
+    g: Gauge,
+) -> Result<Vec<(String, Form)>, CanonError> {
     Ok(match g {
         Gauge::Lorenz => {
             let v = lin.lorenz(store)?;
-            (0..4).map(|nu| (format!("d^mu hbar_mu{}", COORDS[nu]), v[nu])).collect()
+            (0..4)
+                .map(|nu| (format!("d^mu hbar_mu{}", COORDS[nu]), v[nu]))
+                .collect()
         }
         Gauge::Tt => lin.tt_conditions(store)?,
         Gauge::Synchronous => lin.synchronous_conditions(),
@@ -224,23 +263,42 @@ pub fn check(problem: &mut Problem) -> CheckReport {
         };
         out.push(match divergence(store, t, &coords) {
             Ok(v) => {
-                let named = (0..4).map(|nu| (format!("d^mu T_mu{}", COORDS[nu]), v[nu])).collect();
-                claim(store, "source_conservation", title, asserted, named, &sampling)
+                let named = (0..4)
+                    .map(|nu| (format!("d^mu T_mu{}", COORDS[nu]), v[nu]))
+                    .collect();
+                claim(
+                    store,
+                    "source_conservation",
+                    title,
+                    asserted,
+                    named,
+                    &sampling,
+                )
             }
             Err(e) => limit_report("source_conservation", title, asserted, e),
         });
     }
 
-    let fe_title = if source.is_some() { "field equations G1 = 8 pi T" } else { "vacuum field equations G1 = 0" };
+    let fe_title = if source.is_some() {
+        "field equations G1 = 8 pi T"
+    } else {
+        "vacuum field equations G1 = 0"
+    };
     let (fe, gauges, pg) = match &claims {
         Some(c) => (c.field_equations, c.gauge.clone(), c.pure_gauge),
-        None => (None, vec![Gauge::Lorenz, Gauge::Tt, Gauge::Synchronous], None),
+        None => (
+            None,
+            vec![Gauge::Lorenz, Gauge::Tt, Gauge::Synchronous],
+            None,
+        ),
     };
     if fe.is_some() || !has_claims {
-        out.push(match field_equation_residuals(store, &mut lin, source.as_ref()) {
-            Ok(named) => claim(store, "field_equations", fe_title, fe, named, &sampling),
-            Err(e) => limit_report("field_equations", fe_title, fe, e),
-        });
+        out.push(
+            match field_equation_residuals(store, &mut lin, source.as_ref()) {
+                Ok(named) => claim(store, "field_equations", fe_title, fe, named, &sampling),
+                Err(e) => limit_report("field_equations", fe_title, fe, e),
+            },
+        );
     }
     for g in gauges {
         let key = format!("gauge.{}", g.name());
@@ -254,11 +312,17 @@ pub fn check(problem: &mut Problem) -> CheckReport {
         let title = "pure gauge (linearized Riemann tensor = 0)";
         out.push(match lin.riemann(store) {
             Ok(r) => {
-                let named = r.into_iter().map(|(idx, f)| (format!("R_{}", index_name(&idx)), f)).collect();
+                let named = r
+                    .into_iter()
+                    .map(|(idx, f)| (format!("R_{}", index_name(&idx)), f))
+                    .collect();
                 claim(store, "pure_gauge", title, pg, named, &sampling)
             }
             Err(e) => limit_report("pure_gauge", title, pg, e),
         });
     }
-    CheckReport { claims: out, has_claims }
+    CheckReport {
+        claims: out,
+        has_claims,
+    }
 }

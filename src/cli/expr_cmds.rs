@@ -31,7 +31,10 @@ impl LimitArgs {
         let mut s = Store::new();
         s.limits = Limits {
             max_terms: self.max_terms,
-            deadline: Some((Instant::now() + Duration::from_millis(self.time_limit), self.time_limit)),
+            deadline: Some((
+                Instant::now() + Duration::from_millis(self.time_limit),
+                self.time_limit,
+            )),
         };
         s
     }
@@ -87,7 +90,9 @@ pub struct DiffArgs {
 /// Parses and builds one command-line expression, with errors pointing into it.
 fn build_arg(store: &mut Store, text: &str, label: &str) -> Result<Form, Failure> {
     let e = lingrav::parse::parse(text).map_err(|e| with_source(e, label, text))?;
-    let f = store.build(&e, &Names::free()).map_err(|e| with_source(e, label, text))?;
+    let f = store
+        .build(&e, &Names::free())
+        .map_err(|e| with_source(e, label, text))?;
     Ok(f)
 }
 
@@ -106,7 +111,11 @@ pub fn zero(a: ZeroArgs) -> Result<Outcome, Failure> {
         }
         None => Ok(f),
     };
-    let sampling = Sampling { seed: a.seed, points: a.points, ..Sampling::default() };
+    let sampling = Sampling {
+        seed: a.seed,
+        points: a.points,
+        ..Sampling::default()
+    };
     let (verdict, residual) = match diff {
         Ok(d) => (decide(&mut st, d, &sampling), Some(d)),
         Err(e) => (limit_failure(e), None),
@@ -175,7 +184,9 @@ pub fn diff(a: DiffArgs) -> Result<Outcome, Failure> {
     let mut f = build_arg(&mut st, &a.expr, "expression")?;
     for v in &a.vars {
         let ok = !v.is_empty()
-            && v.chars().next().is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
+            && v.chars()
+                .next()
+                .is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
             && v.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
         if !ok || lingrav::canon::BUILTINS.contains(&v.as_str()) || v == "pi" {
             return Err(Failure::Input(miette::miette!(

@@ -2,10 +2,10 @@
 
 mod expr_cmds;
 mod out;
+mod problem_cmds;
 
 use clap::{Parser, Subcommand};
 use std::process::ExitCode;
-
 
 const AFTER_HELP: &str = "\
 Conventions: signature (-,+,+,+), coordinates (t,x,y,z), G = c = 1, indices of h and T down.
@@ -45,6 +45,23 @@ Examples:
   lingrav diff 'F(t - r)/r' t t            # second time derivative
   lingrav diff 'sqrt(x^2 + y^2 + z^2)' x   # prints x/sqrt(x^2 + y^2 + z^2)")]
     Diff(expr_cmds::DiffArgs),
+    /// Check a perturbation's claims: field equations, gauge conditions, pure gauge.
+    #[command(after_help = "\
+Example:
+  lingrav check worked/oblique_wave.toml
+  lingrav check --format json worked/oblique_wave.toml
+
+One line per claim: holds (proved exactly), fails (with the failing components, their
+simplified residuals and a certified witness point) or undecided (with the reason).
+Without a [claims] table every property is reported. Exit 0 every claim holds, 1 one
+fails, 3 one is undecided and none fails, 2 bad input.")]
+    Check(problem_cmds::CheckArgs),
+    /// Print a derived quantity (Einstein, Ricci, Riemann, ...) component by component.
+    #[command(after_help = "\
+Examples:
+  lingrav show worked/quadrupole_field.toml einstein
+  lingrav show --latex worked/static_mass.toml riemann")]
+    Show(problem_cmds::ShowArgs),
 }
 
 /// Runs the command line and returns the exit code.
@@ -61,6 +78,8 @@ pub fn run() -> ExitCode {
         Command::Zero(a) => expr_cmds::zero(a),
         Command::Simplify(a) => expr_cmds::simplify(a),
         Command::Diff(a) => expr_cmds::diff(a),
+        Command::Check(a) => problem_cmds::run_check(a),
+        Command::Show(a) => problem_cmds::run_show(a),
     };
     out::finish(result)
 }

@@ -94,7 +94,7 @@ fn status_word(c: &ClaimReport, has_claims: bool) -> &'static str {
 
 fn title(c: &ClaimReport) -> String {
     match c.asserted {
-        Some(false) => format!("NOT {}", c.title),
+        Some(false) => format!("not {}", c.title.replace(" = 0)", " != 0)")),
         _ => c.title.clone(),
     }
 }
@@ -116,14 +116,28 @@ fn render_text(label: &str, name: Option<&str>, r: &CheckReport) -> String {
     }
     for c in &r.claims {
         let informational = r.has_claims && c.asserted.is_none();
-        let word = if informational { format!("({})", c.status.label()) } else { status_word(c, r.has_claims).to_string() };
+        let word = if informational {
+            format!("({})", c.status.label())
+        } else {
+            status_word(c, r.has_claims).to_string()
+        };
         let _ = writeln!(s, "  {word:<10} {}", title(c));
         let _ = writeln!(s, "  {:<10} {}", "", c.method);
         // List what stands in the way: nonzero and undecided components of a vanishing claim.
-        let shown: Vec<_> = c.components.iter().filter(|k| !matches!(k.verdict, Verdict::Zero)).collect();
+        let shown: Vec<_> = c
+            .components
+            .iter()
+            .filter(|k| !matches!(k.verdict, Verdict::Zero))
+            .collect();
         if c.asserted != Some(false) && c.status != Status::Holds {
             for k in shown.iter().take(LISTED) {
-                let _ = writeln!(s, "  {:<10}   {} = {}", "", k.name, k.residual.as_deref().unwrap_or("0"));
+                let _ = writeln!(
+                    s,
+                    "  {:<10}   {} = {}",
+                    "",
+                    k.name,
+                    k.residual.as_deref().unwrap_or("0")
+                );
                 match &k.verdict {
                     Verdict::Nonzero(w) => {
                         let _ = writeln!(s, "  {:<10}     nonzero {w}", "");
@@ -135,19 +149,32 @@ fn render_text(label: &str, name: Option<&str>, r: &CheckReport) -> String {
                 }
             }
             if shown.len() > LISTED {
-                let _ = writeln!(s, "  {:<10}   ... and {} more (see --format json)", "", shown.len() - LISTED);
+                let _ = writeln!(
+                    s,
+                    "  {:<10}   ... and {} more (see --format json)",
+                    "",
+                    shown.len() - LISTED
+                );
             }
         }
     }
     let overall = r.overall();
     let summary = if r.has_claims {
         let asserted: Vec<_> = r.claims.iter().filter(|c| c.asserted.is_some()).collect();
-        let fails = asserted.iter().filter(|c| c.status == Status::Fails).count();
-        let und = asserted.iter().filter(|c| c.status == Status::Undecided).count();
+        let fails = asserted
+            .iter()
+            .filter(|c| c.status == Status::Fails)
+            .count();
+        let und = asserted
+            .iter()
+            .filter(|c| c.status == Status::Undecided)
+            .count();
         match overall {
             Status::Holds => format!("every claim holds ({} checked, exact)", asserted.len()),
             Status::Fails => format!("{fails} of {} claims fail", asserted.len()),
-            Status::Undecided => format!("{und} of {} claims undecided, none fails", asserted.len()),
+            Status::Undecided => {
+                format!("{und} of {} claims undecided, none fails", asserted.len())
+            }
         }
     } else {
         match overall {
@@ -213,9 +240,13 @@ pub fn run_show(a: ShowArgs) -> Result<Outcome, Failure> {
     let mut lin = Linearized::new(store, p.h);
     let limit = |e: lingrav::canon::CanonError| Failure::Input(miette::miette!("{e}"));
     let mut rows: Vec<(String, lingrav::canon::Form)> = Vec::new();
-    let sym = |letter: &str, m: &[[lingrav::canon::Form; 4]; 4]| -> Vec<(String, lingrav::canon::Form)> {
-        lingrav::problem::COMPONENTS.iter().map(|&(i, j)| (format!("{letter}_{}", index_name(&[i, j])), m[i][j])).collect()
-    };
+    let sym =
+        |letter: &str, m: &[[lingrav::canon::Form; 4]; 4]| -> Vec<(String, lingrav::canon::Form)> {
+            lingrav::problem::COMPONENTS
+                .iter()
+                .map(|&(i, j)| (format!("{letter}_{}", index_name(&[i, j])), m[i][j]))
+                .collect()
+        };
     match a.quantity {
         Quantity::H => rows = sym("h", &p.h),
         Quantity::Trace => rows.push(("h".into(), lin.trace(store).map_err(limit)?)),
@@ -224,7 +255,10 @@ pub fn run_show(a: ShowArgs) -> Result<Outcome, Failure> {
             let g = lin.christoffel(store).map_err(limit)?;
             for (l, gl) in g.iter().enumerate() {
                 for &(i, j) in &lingrav::problem::COMPONENTS {
-                    rows.push((format!("Gamma^{}_{}", COORDS[l], index_name(&[i, j])), gl[i][j]));
+                    rows.push((
+                        format!("Gamma^{}_{}", COORDS[l], index_name(&[i, j])),
+                        gl[i][j],
+                    ));
                 }
             }
         }
@@ -252,12 +286,19 @@ pub fn run_show(a: ShowArgs) -> Result<Outcome, Failure> {
             zeros += 1;
             continue;
         }
-        let body = if a.latex { store.to_latex(f) } else { store.to_text(f) };
+        let body = if a.latex {
+            store.to_latex(f)
+        } else {
+            store.to_text(f)
+        };
         let name = if a.latex { latex_label(&name) } else { name };
         let _ = writeln!(s, "{name} = {body}");
     }
     if zeros > 0 {
-        let _ = writeln!(s, "({zeros} further components are exactly 0; --all lists them)");
+        let _ = writeln!(
+            s,
+            "({zeros} further components are exactly 0; --all lists them)"
+        );
     }
     print(&s)?;
     Ok(Outcome::Holds)
@@ -265,7 +306,10 @@ pub fn run_show(a: ShowArgs) -> Result<Outcome, Failure> {
 
 fn latex_label(name: &str) -> String {
     // "G_tx" -> "G_{tx}", "Gamma^t_xy" -> "\Gamma^{t}_{xy}"
-    let name = name.replace("Gamma", "\\Gamma").replace("hbar", "\\bar{h}").replace("box_", "\\Box ");
+    let name = name
+        .replace("Gamma", "\\Gamma")
+        .replace("hbar", "\\bar{h}")
+        .replace("box_", "\\Box ");
     let mut out = String::new();
     let mut chars = name.chars().peekable();
     while let Some(c) = chars.next() {

@@ -91,6 +91,10 @@ fn power(a: f64, b: f64) -> Result<f64, EvalError> {
 
 impl Expr {
     /// The value of this expression, with symbols and functions from `ev`.
+    ///
+    /// # Errors
+    ///
+    /// The first [`EvalError`] met, evaluating operands left to right.
     pub fn eval(&self, ev: &Evaluator) -> Result<f64, EvalError> {
         // Each kind of node has its own function, so the frame that recursion stacks up stays
         // small even in unoptimised builds.

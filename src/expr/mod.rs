@@ -164,12 +164,18 @@ impl fmt::Display for Expr {
                 ExprKind::Binary(BinOp::Mul | BinOp::Div, ..) => 2,
                 ExprKind::Neg(_) => 3,
                 ExprKind::Binary(BinOp::Pow, ..) => 4,
-                ExprKind::Num(n) if !n.is_integer() || n < &BigRational::from_integer(0.into()) => 2,
+                ExprKind::Num(n) if !n.is_integer() || n < &BigRational::from_integer(0.into()) => {
+                    2
+                }
                 _ => 5,
             }
         }
         fn wrap(e: &Expr, min: u8, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-            if prec(e) < min { write!(f, "({e})") } else { write!(f, "{e}") }
+            if prec(e) < min {
+                write!(f, "({e})")
+            } else {
+                write!(f, "{e}")
+            }
         }
         match &self.kind {
             ExprKind::Num(n) => write!(f, "{n}"),
@@ -191,7 +197,9 @@ impl fmt::Display for Expr {
                 write!(f, "{sep}{}{sep}", op.symbol())?;
                 wrap(b, rmin, f)
             }
-            ExprKind::Call { name, primes, arg, .. } => {
+            ExprKind::Call {
+                name, primes, arg, ..
+            } => {
                 write!(f, "{name}{}({arg})", "'".repeat(*primes as usize))
             }
             ExprKind::Deriv { vars, arg } => {

@@ -41,7 +41,7 @@ pub struct ParseError {
     #[label("{label}")]
     pub span: Span,
     /// Short text shown at [`ParseError::span`].
-    pub label: String,
+    pub label: &'static str,
     /// How to fix it, when there is something useful to say.
     #[help]
     pub help: Option<String>,
@@ -49,37 +49,41 @@ pub struct ParseError {
     #[label("{related_label}")]
     pub related_span: Option<Span>,
     /// Short text shown at [`ParseError::related_span`]; empty when there is none.
-    pub related_label: String,
+    pub related_label: &'static str,
 }
 
 impl ParseError {
     /// An error at `span` with no help and no second place.
-    pub fn new(message: impl Into<String>, span: Span, label: impl Into<String>) -> ParseError {
+    #[must_use]
+    pub fn new(message: impl Into<String>, span: Span, label: &'static str) -> ParseError {
         ParseError {
             message: message.into(),
             span,
-            label: label.into(),
+            label,
             help: None,
             related_span: None,
-            related_label: String::new(),
+            related_label: "",
         }
     }
 
     /// The same error with a help line.
+    #[must_use]
     pub fn with_help(mut self, help: impl Into<String>) -> ParseError {
         self.help = Some(help.into());
         self
     }
 
     /// The same error with a second labelled place.
-    pub fn with_related(mut self, span: Span, label: impl Into<String>) -> ParseError {
+    #[must_use]
+    pub fn with_related(mut self, span: Span, label: &'static str) -> ParseError {
         self.related_span = Some(span);
-        self.related_label = label.into();
+        self.related_label = label;
         self
     }
 
     /// The same error with its spans moved right by `offset` bytes, for an expression that was
     /// cut out of a larger text.
+    #[must_use]
     pub fn shifted(mut self, offset: usize) -> ParseError {
         self.span = self.span.shifted(offset);
         self.related_span = self.related_span.map(|s| s.shifted(offset));
@@ -89,6 +93,10 @@ impl ParseError {
 
 /// Parses one expression; the whole of `src` must be that expression (surrounding whitespace
 /// is fine).
+///
+/// # Errors
+///
+/// A [`ParseError`] for the first problem found, left to right.
 pub fn parse(src: &str) -> Result<Expr, ParseError> {
     let toks = lex::tokenize(src)?;
     let mut p = Parser {

@@ -63,7 +63,14 @@ impl Linearized {
     /// Wraps a perturbation.
     pub fn new(store: &mut Store, h: Sym4) -> Linearized {
         let coords = COORDS.map(|c| store.symbol_kernel(c));
-        Linearized { h, coords, dh: None, riemann: None, ricci: None, hbar: None }
+        Linearized {
+            h,
+            coords,
+            dh: None,
+            riemann: None,
+            ricci: None,
+            hbar: None,
+        }
     }
 
     /// The kernel of coordinate `mu`.
@@ -91,7 +98,14 @@ impl Linearized {
     }
 
     /// d_a d_b h_{mu nu}.
-    fn ddh(&mut self, store: &mut Store, a: usize, b: usize, mu: usize, nu: usize) -> CResult<Form> {
+    fn ddh(
+        &mut self,
+        store: &mut Store,
+        a: usize,
+        b: usize,
+        mu: usize,
+        nu: usize,
+    ) -> CResult<Form> {
         let d = self.dh(store)?;
         // Differentiate in a fixed order so the cache is shared between (a, b) and (b, a).
         let (first, second) = if a <= b { (a, b) } else { (b, a) };
@@ -145,7 +159,11 @@ impl Linearized {
     }
 
     /// R_{abcd} at first order.
-    pub fn riemann_component(&mut self, store: &mut Store, [a, b, c, d]: [usize; 4]) -> CResult<Form> {
+    pub fn riemann_component(
+        &mut self,
+        store: &mut Store,
+        [a, b, c, d]: [usize; 4],
+    ) -> CResult<Form> {
         let t1 = self.ddh(store, b, c, a, d)?;
         let t2 = self.ddh(store, a, d, b, c)?;
         let t3 = self.ddh(store, a, c, b, d)?;
@@ -153,7 +171,10 @@ impl Linearized {
         let s = store.add(t1, t2)?;
         let s = store.sub(s, t3)?;
         let s = store.sub(s, t4)?;
-        store.scale(s, &Coeff::rational(crate::canon::Q::new(1.into(), 2.into())))
+        store.scale(
+            s,
+            &Coeff::rational(crate::canon::Q::new(1.into(), 2.into())),
+        )
     }
 
     /// The 20 independent Riemann components with their indices.
@@ -208,7 +229,10 @@ impl Linearized {
         let s = self.ricci_scalar(store)?;
         let mut g = r;
         for (mu, row) in g.iter_mut().enumerate() {
-            let shift = store.scale(s, &Coeff::rational(crate::canon::Q::new(ETA[mu].into(), 2.into())))?;
+            let shift = store.scale(
+                s,
+                &Coeff::rational(crate::canon::Q::new(ETA[mu].into(), 2.into())),
+            )?;
             row[mu] = store.sub(r[mu][mu], shift)?;
         }
         Ok(g)
@@ -248,7 +272,9 @@ impl Linearized {
 
     /// The synchronous-gauge conditions h_{t mu} = 0.
     pub fn synchronous_conditions(&self) -> Vec<(String, Form)> {
-        (0..4).map(|mu| (format!("h_t{}", COORDS[mu]), self.h[0][mu])).collect()
+        (0..4)
+            .map(|mu| (format!("h_t{}", COORDS[mu]), self.h[0][mu]))
+            .collect()
     }
 }
 

@@ -11,7 +11,10 @@ fn form(store: &mut Store, s: &str) -> Form {
 fn sym4(store: &mut Store, comps: &[(&str, &str)]) -> Sym4 {
     let mut h = zeros(store);
     for (k, v) in comps {
-        let idx: Vec<usize> = k.chars().map(|c| COORDS.iter().position(|n| n.starts_with(c)).unwrap()).collect();
+        let idx: Vec<usize> = k
+            .chars()
+            .map(|c| COORDS.iter().position(|n| n.starts_with(c)).unwrap())
+            .collect();
         let f = form(store, v);
         h[idx[0]][idx[1]] = f;
         h[idx[1]][idx[0]] = f;
@@ -88,7 +91,12 @@ fn ricci_matches_closed_form() {
             let ddtr = st.diff(dtr, l.coords[n]).unwrap();
             acc = st.sub(acc, ddtr).unwrap();
             acc = st.sub(acc, boxh[m][n]).unwrap();
-            let half = st.scale(acc, &Coeff::rational(crate::canon::Q::new(1.into(), 2.into()))).unwrap();
+            let half = st
+                .scale(
+                    acc,
+                    &Coeff::rational(crate::canon::Q::new(1.into(), 2.into())),
+                )
+                .unwrap();
             let diff = st.sub(half, ricci[m][n]).unwrap();
             assert!(st.is_zero(diff), "R_{m}{n}");
         }
@@ -123,7 +131,12 @@ fn einstein_matches_trace_reversed_form() {
             let b = st.diff(div[m], l.coords[n]).unwrap();
             acc = st.sub(acc, a).unwrap();
             acc = st.sub(acc, b).unwrap();
-            let expected = st.scale(acc, &Coeff::rational(crate::canon::Q::new((-1).into(), 2.into()))).unwrap();
+            let expected = st
+                .scale(
+                    acc,
+                    &Coeff::rational(crate::canon::Q::new((-1).into(), 2.into())),
+                )
+                .unwrap();
             let d = st.sub(expected, g[m][n]).unwrap();
             assert!(st.is_zero(d), "G_{m}{n}");
         }
@@ -135,7 +148,8 @@ fn pure_gauge_has_vanishing_riemann() {
     // Linearized Riemann is gauge invariant (Carroll 2004, sec. 7.1; common practice):
     // h = d_m xi_n + d_n xi_m for arbitrary xi gives R = 0.
     let mut st = Store::new();
-    let xi = ["A(t - 2*x + y)", "B(x*y + z)", "C(t*z)", "D(t + x + y + z)"].map(|s| form(&mut st, s));
+    let xi =
+        ["A(t - 2*x + y)", "B(x*y + z)", "C(t*z)", "D(t + x + y + z)"].map(|s| form(&mut st, s));
     let coords = COORDS.map(|c| st.symbol_kernel(c));
     let mut h = zeros(&st);
     for m in 0..4 {
@@ -156,12 +170,20 @@ fn tt_plane_wave_solves_vacuum_equations() {
     // Misner, Thorne & Wheeler (1973), sec. 35.6 (common practice): h_xx = -h_yy = F(t - z),
     // h_xy = G(t - z) is a vacuum solution in TT gauge.
     let mut st = Store::new();
-    let h = sym4(&mut st, &[("xx", "F(t - z)"), ("yy", "-F(t - z)"), ("xy", "G(t - z)")]);
+    let h = sym4(
+        &mut st,
+        &[("xx", "F(t - z)"), ("yy", "-F(t - z)"), ("xy", "G(t - z)")],
+    );
     let mut l = Linearized::new(&mut st, h);
     let g = l.einstein(&mut st).unwrap();
     assert!(all_zero(&st, &g));
     assert!(l.lorenz(&mut st).unwrap().iter().all(|f| st.is_zero(*f)));
-    assert!(l.tt_conditions(&mut st).unwrap().iter().all(|(_, f)| st.is_zero(*f)));
+    assert!(
+        l.tt_conditions(&mut st)
+            .unwrap()
+            .iter()
+            .all(|(_, f)| st.is_zero(*f))
+    );
     // But it is not pure gauge: R_txtx = -(1/2) F''.
     let r = l.riemann_component(&mut st, [0, 1, 0, 1]).unwrap();
     let expected = form(&mut st, "-F''(t - z)/2");

@@ -52,7 +52,11 @@ pub struct Witness {
 
 impl fmt::Display for Witness {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        let pts: Vec<String> = self.point.iter().map(|(n, v)| format!("{n} = {v}")).collect();
+        let pts: Vec<String> = self
+            .point
+            .iter()
+            .map(|(n, v)| format!("{n} = {v}"))
+            .collect();
         if !pts.is_empty() {
             write!(f, "at {}: ", pts.join(", "))?;
         }
@@ -60,9 +64,19 @@ impl fmt::Display for Witness {
         if im.contains_zero() {
             write!(f, "value {:.6e} (certified in {re})", re.mid())
         } else if re.contains_zero() {
-            write!(f, "value {:.6e}*i (imaginary part certified in {im})", im.mid())
+            write!(
+                f,
+                "value {:.6e}*i (imaginary part certified in {im})",
+                im.mid()
+            )
         } else {
-            write!(f, "value {:.6e} {} {:.6e}*i (certified in {re} + i{im})", re.mid(), if im.mid() < 0.0 { "-" } else { "+" }, im.mid().abs())
+            write!(
+                f,
+                "value {:.6e} {} {:.6e}*i (certified in {re} + i{im})",
+                re.mid(),
+                if im.mid() < 0.0 { "-" } else { "+" },
+                im.mid().abs()
+            )
         }
     }
 }
@@ -82,7 +96,12 @@ pub struct Sampling {
 
 impl Default for Sampling {
     fn default() -> Self {
-        Sampling { seed: 0x5eed_1a96_7a7e, points: 32, typical: FxHashMap::default(), samples: FxHashMap::default() }
+        Sampling {
+            seed: 0x5eed_1a96_7a7e,
+            points: 32,
+            typical: FxHashMap::default(),
+            samples: FxHashMap::default(),
+        }
     }
 }
 
@@ -113,10 +132,21 @@ impl SplitMix64 {
 /// derivatives nonzero at generic points, different for each index.
 pub fn generic_sample(store: &mut Store, index: usize) -> FunctionSample {
     let j = index as i64;
-    let text = format!("exp(-u^2/{}) * (1 + {}*u/7) + sin({}*u/4)/{}", 4 + j, j + 2, 5 + 2 * j, j + 2);
+    let text = format!(
+        "exp(-u^2/{}) * (1 + {}*u/7) + sin({}*u/4)/{}",
+        4 + j,
+        j + 2,
+        5 + 2 * j,
+        j + 2
+    );
     let e = crate::parse::parse(&text).expect("the generic sample parses");
-    let f = store.build(&e, &Names::free()).expect("the generic sample builds");
-    FunctionSample { var: store.symbol_kernel("u"), form: f }
+    let f = store
+        .build(&e, &Names::free())
+        .expect("the generic sample builds");
+    FunctionSample {
+        var: store.symbol_kernel("u"),
+        form: f,
+    }
 }
 
 /// Decides whether `f` is identically zero.
@@ -124,7 +154,7 @@ pub fn decide(store: &mut Store, f: Form, sampling: &Sampling) -> Verdict {
     if store.is_zero(f) {
         return Verdict::Zero;
     }
-    let syms = store.free_symbols(f);
+    let mut syms = store.free_symbols(f);
     let funcs = store.functions_used(f);
     let mut point = Point::default();
     for (i, name) in funcs.iter().enumerate() {
@@ -132,9 +162,21 @@ pub fn decide(store: &mut Store, f: Form, sampling: &Sampling) -> Verdict {
             Some(s) => s.clone(),
             None => generic_sample(store, i),
         };
+        // Parameters that appear only inside a sample still need values.
+        let var = store.kernel(s.var).clone();
+        for p in store.free_symbols(s.form) {
+            if !matches!(&var, crate::canon::Kernel::Sym(v) if *v == p) {
+                syms.push(p);
+            }
+        }
         point.samples.insert(name.clone(), s);
     }
-    let kernels: Vec<(Rc<str>, KernelId)> = syms.iter().map(|s| (s.clone(), store.symbol_kernel(s))).collect();
+    syms.sort();
+    syms.dedup();
+    let kernels: Vec<(Rc<str>, KernelId)> = syms
+        .iter()
+        .map(|s| (s.clone(), store.symbol_kernel(s)))
+        .collect();
     let mut rng = SplitMix64::new(sampling.seed);
     let mut evaluated = 0usize;
     let mut widest = 0f64;
@@ -158,7 +200,11 @@ pub fn decide(store: &mut Store, f: Form, sampling: &Sampling) -> Verdict {
         if let Some(val) = store.eval_interval(f, &point) {
             evaluated += 1;
             if val.excludes_zero() {
-                return Verdict::Nonzero(Witness { point: coords, value: val, seed: sampling.seed });
+                return Verdict::Nonzero(Witness {
+                    point: coords,
+                    value: val,
+                    seed: sampling.seed,
+                });
             }
             widest = widest.max(val.re.width()).max(val.im.width());
         }
@@ -179,7 +225,12 @@ pub fn decide(store: &mut Store, f: Form, sampling: &Sampling) -> Verdict {
 }
 
 /// Decides whether `a - b` is identically zero.
-pub fn decide_equal(store: &mut Store, a: Form, b: Form, sampling: &Sampling) -> Result<Verdict, CanonError> {
+pub fn decide_equal(
+    store: &mut Store,
+    a: Form,
+    b: Form,
+    sampling: &Sampling,
+) -> Result<Verdict, CanonError> {
     let d = store.sub(a, b)?;
     Ok(decide(store, d, sampling))
 }

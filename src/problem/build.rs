@@ -1,0 +1,316 @@
+//! A [`ProblemFile`] to a [`Problem`]: names resolved, every expression built.
+//!
+//! Order of work: all declarations are checked first (a name declared twice is reported at
+//! its second place in the file), then parameters, function samples, defines (each with the
+//! names declared before it), the perturbation and the source.
+
+use super::{COORDINATES, Component, ExprText, Problem, ProblemError, ProblemFile};
+use crate::canon::{Form, FunctionSample, Names, Store};
+use crate::expr::{Expr, ExprKind, Span};
+use crate::zero::Sampling;
+use rustc_hash::FxHashMap;
+use std::rc::Rc;
+
+type Tensor = [[Form; 4]; 4];
+type TensorText = [[Option<String>; 4]; 4];
+
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum Kind {
+    Parameter,
+    Function,
+    Define,
+}
+
+impl Kind {
+    fn noun(self) -> &'static str {
+        match self {
+            Kind::Parameter => "a parameter",
+            Kind::Function => "a function",
+            Kind::Define => "a define",
+        }
+    }
+}
+
+const ONCE: &str = "each name is declared once, in one of [parameters], [functions] and [define]";
+
+/// Said when an error inside a string can only be shown at the whole string.
+const WHOLE_STRING: &str = "this string has escapes or line breaks, so the error is shown at \
+                            the whole string; a literal string '...' shows the exact place";
+
+struct Builder<'a> {
+    file: &'a ProblemFile,
+    store: Store,
+}
+
+impl Builder<'_> {
+    fn err(&self, message: impl Into<String>, span: Span, label: &'static str) -> ProblemError {
+        self.file.error(message, span, label)
+    }
+
+    /// An error at `span` of the expression `e`, pointed into the file.
+    fn expr_err(
+        &self,
+        e: &ExprText,
+        message: String,
+        span: Span,
+        label: &'static str,
+        help: Option<String>,
+    ) -> ProblemError {
+        let help = match (e.offset, help) {
+            (Some(_), h) => h,
+            (None, Some(h)) => Some(format!("{h}\n{WHOLE_STRING}")),
+            (None, None) => Some(WHOLE_STRING.to_string()),
+        };
+        self.err(message, e.file_span(span), label)
+            .with_help_opt(help)
+    }
+
+    fn parse(&self, e: &ExprText) -> Result<Expr, ProblemError> {
+        crate::parse::parse(&e.text).map_err(|pe| {
+            let mut err = self.expr_err(e, pe.message, pe.span, pe.label, pe.help);
+            if let (Some(rs), Some(_)) = (pe.related_span, e.offset) {
+                err = err.with_related(e.file_span(rs), pe.related_label);
+            }
+            err
+        })
+    }
+
+    fn build(&mut self, e: &ExprText, expr: &Expr, names: &Names) -> Result<Form, ProblemError> {
+        self.store
+            .build(expr, names)
+            .map_err(|be| self.expr_err(e, be.message, be.span, "here", be.help))
+    }
+
+    fn parse_and_build(&mut self, e: &ExprText, names: &Names) -> Result<Form, ProblemError> {
+        let expr = self.parse(e)?;
+        self.build(e, &expr, names)
+    }
+
+    /// Each name at most once across [parameters], [functions] and [define].
+    fn check_declarations(&self) -> Result<(), ProblemError> {
+        let f = self.file;
+        let mut decls: Vec<(&str, Span, Kind)> = f
+            .parameters
+            .iter()
+            .map(|p| (p.name.as_str(), p.name_span, Kind::Parameter))
+            .chain(
+                f.functions
+                    .iter()
+                    .map(|d| (d.name.as_str(), d.name_span, Kind::Function)),
+            )
+            .chain(
+                f.defines
+                    .iter()
+                    .map(|d| (d.name.as_str(), d.name_span, Kind::Define)),
+            )
+            .collect();
+        decls.sort_by_key(|d| d.1.start);
+        let mut seen: FxHashMap<&str, (Span, Kind)> = FxHashMap::default();
+        for (name, span, kind) in decls {
+            if let Some(&(first, first_kind)) = seen.get(name) {
+                return Err(self
+                    .err(
+                        format!(
+                            "`{name}` is declared twice: as {} and as {}",
+                            first_kind.noun(),
+                            kind.noun()
+                        ),
+                        span,
+                        "declared again here",
+                    )
+                    .with_related(first, "first declared here")
+                    .with_help(ONCE));
+            }
+            seen.insert(name, (span, kind));
+        }
+        Ok(())
+    }
+
+    /// A function sample may use only `u`, the parameters and built-in functions.
+    fn check_sample(&self, e: &ExprText, expr: &Expr) -> Result<(), ProblemError> {
+        let help = "a sample is a function of `u` alone: it may use `u`, the parameters, `pi` and \
+                    the built-in functions, e.g. F = 'exp(-u^2)'";
+        let f = self.file;
+        let mut bad: Option<(String, Span)> = None;
+        expr.walk(&mut |node| {
+            if bad.is_some() {
+                return;
+            }
+            let mut uses = |n: &str, span: Span| {
+                if n == "u" || f.parameters.iter().any(|p| p.name == n) {
+                    return;
+                }
+                let what = if COORDINATES.contains(&n) {
+                    format!("the coordinate `{n}`")
+                } else if f.defines.iter().any(|d| d.name == n) {
+                    format!("the define `{n}`")
+                } else {
+                    return;
+                };
+                bad = Some((what, span));
+            };
+            match &node.kind {
+                ExprKind::Ident(n) => uses(n, node.span),
+                ExprKind::Deriv { vars, .. } => {
+                    for (v, span) in vars {
+                        uses(v, *span);
+                    }
+                }
+                ExprKind::Call {
+                    name, name_span, ..
+                } if f.functions.iter().any(|d| &d.name == name) => {
+                    bad = Some((format!("the arbitrary function `{name}`"), *name_span));
+                }
+                _ => {}
+            }
+        });
+        match bad {
+            Some((what, span)) => Err(self.expr_err(
+                e,
+                format!("a function sample may not use {what}"),
+                span,
+                "not allowed in a sample",
+                Some(help.to_string()),
+            )),
+            None => Ok(()),
+        }
+    }
+
+    /// A define may use only the defines before it.
+    fn check_define_order(
+        &self,
+        index: usize,
+        e: &ExprText,
+        expr: &Expr,
+    ) -> Result<(), ProblemError> {
+        let defines = &self.file.defines;
+        for (n, span) in expr.idents() {
+            let Some(j) = defines.iter().position(|d| d.name == n) else {
+                continue;
+            };
+            if j == index {
+                return Err(self.expr_err(
+                    e,
+                    format!("`{n}` is used in its own definition"),
+                    span,
+                    "used here",
+                    Some("a define cannot refer to itself".to_string()),
+                ));
+            }
+            if j > index {
+                let this = &defines[index].name;
+                return Err(self
+                    .expr_err(
+                        e,
+                        format!("`{n}` is used in the definition of `{this}` but defined later"),
+                        span,
+                        "defined later",
+                        Some(format!(
+                            "defines are built in order: move `{n}` above `{this}` in [define]"
+                        )),
+                    )
+                    .with_related(defines[j].name_span, "defined here"));
+            }
+        }
+        Ok(())
+    }
+
+    fn tensor(
+        &mut self,
+        components: &[Component],
+        names: &Names,
+    ) -> Result<(Tensor, TensorText), ProblemError> {
+        let zero = self.store.zero();
+        let mut m = [[zero; 4]; 4];
+        let mut text: [[Option<String>; 4]; 4] = Default::default();
+        for c in components {
+            let f = self.parse_and_build(&c.expr, names)?;
+            m[c.mu][c.nu] = f;
+            m[c.nu][c.mu] = f;
+            text[c.mu][c.nu] = Some(c.expr.text.clone());
+            text[c.nu][c.mu] = Some(c.expr.text.clone());
+        }
+        Ok((m, text))
+    }
+}
+
+pub(super) fn build(file: &ProblemFile) -> Result<Problem, ProblemError> {
+    let mut b = Builder {
+        file,
+        store: Store::new(),
+    };
+    b.check_declarations()?;
+
+    let mut names = Names::strict();
+    for c in COORDINATES {
+        names.symbol(c);
+    }
+    let mut sampling = Sampling::default();
+    for p in &file.parameters {
+        names.symbol(&p.name);
+        let k = b.store.symbol_kernel(&p.name);
+        sampling.typical.insert(k, p.value);
+    }
+
+    let mut sample_names = Names::strict();
+    sample_names.symbol("u");
+    for p in &file.parameters {
+        sample_names.symbol(&p.name);
+    }
+    let var = b.store.symbol_kernel("u");
+    for f in &file.functions {
+        names.function(&f.name);
+        let expr = b.parse(&f.expr)?;
+        b.check_sample(&f.expr, &expr)?;
+        let form = b.build(&f.expr, &expr, &sample_names)?;
+        sampling
+            .samples
+            .insert(Rc::from(f.name.as_str()), FunctionSample { var, form });
+    }
+
+    for (i, d) in file.defines.iter().enumerate() {
+        let expr = b.parse(&d.expr)?;
+        b.check_define_order(i, &d.expr, &expr)?;
+        let form = b.build(&d.expr, &expr, &names)?;
+        names.define(&d.name, form);
+    }
+
+    let (h, h_text) = b.tensor(&file.perturbation, &names)?;
+    let (source, source_text) = match &file.source {
+        Some(components) => {
+            let (m, t) = b.tensor(components, &names)?;
+            (Some(m), Some(t))
+        }
+        None => (None, None),
+    };
+
+    Ok(Problem {
+        name: file.name.clone(),
+        path: file.path.clone(),
+        text: file.text.clone(),
+        store: b.store,
+        names,
+        parameters: file
+            .parameters
+            .iter()
+            .map(|p| (p.name.clone(), p.value))
+            .collect(),
+        functions: file
+            .functions
+            .iter()
+            .map(|f| (f.name.clone(), f.expr.text.clone()))
+            .collect(),
+        defines: file
+            .defines
+            .iter()
+            .map(|d| (d.name.clone(), d.expr.text.clone()))
+            .collect(),
+        h,
+        h_text,
+        source,
+        source_text,
+        claims: file.claims.clone(),
+        grid: file.grid.clone(),
+        sampling,
+    })
+}

@@ -1,0 +1,632 @@
+//! TOML text to a [`ProblemFile`]: the structure of the file, checked key by key.
+//!
+//! The file is parsed into toml's spanned document tree, whose tables are sorted by key; the
+//! entries are put back into file order by the start of their keys.
+
+use super::{
+    COMPONENTS, COORDINATES, Claims, Component, ExprText, Gauge, GridSpec, NamedExpr, Parameter,
+    ProblemError, ProblemFile, closest,
+};
+use crate::canon::{Names, Store};
+use crate::expr::Span;
+use std::borrow::Cow;
+use toml::Spanned;
+use toml::de::{DeTable, DeValue};
+
+/// The top-level keys, in the order the documentation lists them.
+pub(super) const TOP_KEYS: [&str; 8] = [
+    "name",
+    "parameters",
+    "functions",
+    "define",
+    "perturbation",
+    "source",
+    "claims",
+    "grid",
+];
+const CLAIM_KEYS: [&str; 3] = ["field_equations", "gauge", "pure_gauge"];
+const GRID_KEYS: [&str; 3] = ["center", "width", "points"];
+/// Fewest resolutions the grid check needs to estimate a convergence order.
+pub(super) const MIN_RESOLUTIONS: usize = 3;
+/// Fewest points per side at one resolution.
+pub(super) const MIN_POINTS: usize = 5;
+
+const PARAMETER_HELP: &str = "a parameter's value is its typical size for numeric checks, \
+                              e.g. `A = 1.0e-3` or `k = '3/5'`";
+
+type Key<'i> = Spanned<Cow<'i, str>>;
+type Value<'i> = Spanned<DeValue<'i>>;
+
+/// The file being read: where errors point.
+struct Cx<'a> {
+    path: &'a str,
+    text: &'a str,
+}
+
+fn span_of<T>(s: &Spanned<T>) -> Span {
+    let r = s.span();
+    Span::new(r.start, r.end)
+}
+
+/// A table's entries in file order.
+fn entries<'t, 'i>(t: &'t DeTable<'i>) -> Vec<(&'t Key<'i>, &'t Value<'i>)> {
+    let mut v: Vec<_> = t.iter().collect();
+    v.sort_by_key(|(k, _)| k.span().start);
+    v
+}
+
+fn quoted_list(names: &[&str]) -> String {
+    names
+        .iter()
+        .map(|n| format!("`{n}`"))
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+impl Cx<'_> {
+    fn err(&self, message: impl Into<String>, span: Span, label: &'static str) -> ProblemError {
+        ProblemError::new(self.path, self.text, message, span, label)
+    }
+
+    fn type_error(&self, what: &str, expected: &str, v: &Value<'_>) -> ProblemError {
+        self.err(
+            format!("{what} must be {expected}, not {}", article(v.get_ref())),
+            span_of(v),
+            "wrong type",
+        )
+    }
+
+    fn unknown_key(&self, key: &Key<'_>, table: &str, allowed: &[&str]) -> ProblemError {
+        let name: &str = key.get_ref();
+        let message = if table.is_empty() {
+            format!("unknown top-level key `{name}`")
+        } else {
+            format!("unknown key `{name}` in [{table}]")
+        };
+        let mut help = format!("the allowed keys are {}", quoted_list(allowed));
+        if let Some(s) = closest(name, allowed) {
+            help = format!(
+                "did you mean `{s}`? The allowed keys are {}",
+                quoted_list(allowed)
+            );
+        }
+        self.err(message, span_of(key), "unknown key")
+            .with_help(help)
+    }
+
+    fn table<'t, 'i>(
+        &self,
+        key: &Key<'_>,
+        v: &'t Value<'i>,
+    ) -> Result<&'t DeTable<'i>, ProblemError> {
+        match v.get_ref() {
+            DeValue::Table(t) => Ok(t),
+            _ => {
+                let name: &str = key.get_ref();
+                Err(self
+                    .type_error(&format!("`{name}`"), "a table", v)
+                    .with_help(format!(
+                        "write `[{name}]` on a line of its own, followed by `key = value` lines"
+                    )))
+            }
+        }
+    }
+
+    fn string(&self, what: &str, v: &Value<'_>) -> Result<ExprText, ProblemError> {
+        match v.get_ref() {
+            DeValue::String(s) => Ok(self.expr_text(s, span_of(v))),
+            _ => Err(self.type_error(what, "a string", v).with_help(
+                "write expressions in quotes, preferably single quotes: 'A*cos(omega*t)'",
+            )),
+        }
+    }
+
+    fn expr_text(&self, s: &str, token: Span) -> ExprText {
+        // The content maps byte for byte exactly when the text between the quotes is the
+        // decoded string (no escapes, not multi-line).
+        let inner = token
+            .end
+            .checked_sub(1)
+            .filter(|&e| e > token.start)
+            .and_then(|e| self.text.get(token.start + 1..e));
+        let offset = (inner == Some(s)).then_some(token.start + 1);
+        ExprText {
+            text: s.to_string(),
+            token,
+            offset,
+        }
+    }
+
+    fn bool(&self, what: &str, v: &Value<'_>) -> Result<bool, ProblemError> {
+        match v.get_ref() {
+            DeValue::Boolean(b) => Ok(*b),
+            _ => Err(self
+                .type_error(what, "true or false", v)
+                .with_help("write `true` or `false`, without quotes")),
+        }
+    }
+
+    /// A TOML integer or float as a finite f64.
+    fn number(&self, what: &str, v: &Value<'_>) -> Result<f64, ProblemError> {
+        let x = match v.get_ref() {
+            DeValue::Integer(i) => i64::from_str_radix(i.as_str(), i.radix())
+                .map(|n| n as f64)
+                .map_err(|_| {
+                    self.err(format!("{what} is too large"), span_of(v), "out of range")
+                })?,
+            DeValue::Float(f) => f.as_str().parse::<f64>().map_err(|_| {
+                self.err(
+                    format!("{what} is not a number"),
+                    span_of(v),
+                    "not a number",
+                )
+            })?,
+            _ => return Err(self.type_error(what, "a number", v)),
+        };
+        if !x.is_finite() {
+            return Err(self.err(format!("{what} must be finite"), span_of(v), "not finite"));
+        }
+        Ok(x)
+    }
+
+    /// A name declared in [parameters], [functions] or [define]: it must be something an
+    /// expression can refer to.
+    fn declared_name(&self, key: &Key<'_>) -> Result<(String, Span), ProblemError> {
+        let name: &str = key.get_ref();
+        let span = span_of(key);
+        let mut chars = name.chars();
+        let valid = chars
+            .next()
+            .is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
+            && chars.all(|c| c.is_ascii_alphanumeric() || c == '_');
+        if !valid {
+            return Err(self
+                .err(format!("`{name}` is not a valid name"), span, "not a name")
+                .with_help(
+                    "names are ASCII letters, digits and `_`, starting with a letter or `_`",
+                ));
+        }
+        if COORDINATES.contains(&name) {
+            return Err(self
+                .err(
+                    format!("`{name}` is a coordinate and cannot be declared"),
+                    span,
+                    "reserved",
+                )
+                .with_help(
+                    "the coordinates t, x, y, z are always available; choose another name",
+                ));
+        }
+        if name == "pi" {
+            return Err(self
+                .err(
+                    "`pi` is a built-in constant and cannot be declared",
+                    span,
+                    "reserved",
+                )
+                .with_help("choose another name"));
+        }
+        if crate::canon::BUILTINS.contains(&name) {
+            return Err(self
+                .err(
+                    format!("`{name}` is a built-in function and cannot be declared"),
+                    span,
+                    "reserved",
+                )
+                .with_help(format!(
+                    "choose another name; the built-in functions are {}",
+                    crate::canon::BUILTINS.join(", ")
+                )));
+        }
+        if name.starts_with("d_") {
+            return Err(self
+                .err(
+                    format!("`{name}` starts with `d_`, which is reserved for derivatives"),
+                    span,
+                    "reserved",
+                )
+                .with_help(
+                    "`d_x(f)` differentiates f by x; choose a name that does not start with `d_`",
+                ));
+        }
+        Ok((name.to_string(), span))
+    }
+
+    fn parameters(&self, t: &DeTable<'_>) -> Result<Vec<Parameter>, ProblemError> {
+        let mut out = Vec::new();
+        for (k, v) in entries(t) {
+            let (name, name_span) = self.declared_name(k)?;
+            let what = format!("parameter `{name}`");
+            let value = match v.get_ref() {
+                DeValue::String(s) => self.constant(&what, &self.expr_text(s, span_of(v)))?,
+                DeValue::Integer(_) | DeValue::Float(_) => self.number(&what, v)?,
+                _ => {
+                    return Err(self
+                        .type_error(&what, "a number", v)
+                        .with_help(PARAMETER_HELP));
+                }
+            };
+            out.push(Parameter {
+                name,
+                name_span,
+                value,
+                value_span: span_of(v),
+            });
+        }
+        Ok(out)
+    }
+
+    /// The value of a string holding a constant such as `3/5` or `pi/4`.
+    fn constant(&self, what: &str, e: &ExprText) -> Result<f64, ProblemError> {
+        let help = "write a number such as 0.6 or a constant such as '3/5'";
+        let expr = crate::parse::parse(&e.text).map_err(|pe| {
+            self.err(pe.message.clone(), e.file_span(pe.span), pe.label)
+                .with_help_opt(pe.help.clone())
+        })?;
+        if let Some((n, span)) = expr.idents().into_iter().find(|(n, _)| *n != "pi") {
+            return Err(self
+                .err(
+                    format!("{what} must be a constant, but its value uses `{n}`"),
+                    e.file_span(span),
+                    "not a constant",
+                )
+                .with_help(help));
+        }
+        let mut store = Store::new();
+        let form = store.build(&expr, &Names::strict()).map_err(|be| {
+            self.err(be.message.clone(), e.file_span(be.span), "here")
+                .with_help_opt(be.help.clone())
+        })?;
+        let v = store.eval_interval(form, &crate::canon::Point::default());
+        match v {
+            Some(z) if z.im == crate::interval::Interval::ZERO && z.re.mid().is_finite() => {
+                Ok(z.re.mid())
+            }
+            _ => Err(self
+                .err(
+                    format!("{what} must be a finite real number"),
+                    e.token,
+                    "not a finite real number",
+                )
+                .with_help(help)),
+        }
+    }
+
+    fn named_exprs(&self, table: &str, t: &DeTable<'_>) -> Result<Vec<NamedExpr>, ProblemError> {
+        let mut out = Vec::new();
+        for (k, v) in entries(t) {
+            let (name, name_span) = self.declared_name(k)?;
+            let what = if table == "functions" {
+                format!("the sample of function `{name}`")
+            } else {
+                format!("the definition of `{name}`")
+            };
+            let expr = self.string(&what, v)?;
+            out.push(NamedExpr {
+                name,
+                name_span,
+                expr,
+            });
+        }
+        Ok(out)
+    }
+
+    /// [perturbation] or [source]: keys are pairs of coordinates, each pair at most once.
+    fn components(&self, table: &str, t: &DeTable<'_>) -> Result<Vec<Component>, ProblemError> {
+        let letter = if table == "source" { "T" } else { "h" };
+        let mut out: Vec<Component> = Vec::new();
+        for (k, v) in entries(t) {
+            let key: &str = k.get_ref();
+            let key_span = span_of(k);
+            let Some((mu, nu)) = component_indices(key) else {
+                let valid: Vec<String> = COMPONENTS
+                    .iter()
+                    .map(|&(a, b)| super::component_name(a, b))
+                    .collect();
+                let mut help = format!(
+                    "the components of {letter} are {} (`xt` means the same as `tx`)",
+                    valid.join(", ")
+                );
+                if component_indices(&key.to_lowercase()).is_some() {
+                    help = format!("write the key in lowercase; {help}");
+                }
+                return Err(self
+                    .err(
+                        format!("`{key}` is not a component of {letter}_{{mu nu}}"),
+                        key_span,
+                        "not a component",
+                    )
+                    .with_help(help));
+            };
+            if let Some(first) = out.iter().find(|c| (c.mu, c.nu) == (mu, nu)) {
+                let first_key = first.key.as_str();
+                return Err(self
+                    .err(
+                        format!(
+                            "component {letter}_{} given twice: as `{first_key}` and as `{key}`",
+                            super::component_name(mu, nu)
+                        ),
+                        key_span,
+                        "given again here",
+                    )
+                    .with_related(first.key_span, "first given here")
+                    .with_help(format!(
+                        "{letter} is symmetric, so `{first_key}` and `{key}` are the same \
+                         component; keep one"
+                    )));
+            }
+            let what = format!("component {letter}_{}", super::component_name(mu, nu));
+            let expr = self.string(&what, v)?;
+            out.push(Component {
+                mu,
+                nu,
+                key: key.to_string(),
+                key_span,
+                expr,
+            });
+        }
+        Ok(out)
+    }
+
+    fn claims(&self, t: &DeTable<'_>) -> Result<Claims, ProblemError> {
+        let mut c = Claims::default();
+        for (k, v) in entries(t) {
+            match &**k.get_ref() {
+                "field_equations" => c.field_equations = Some(self.bool("`field_equations`", v)?),
+                "pure_gauge" => c.pure_gauge = Some(self.bool("`pure_gauge`", v)?),
+                "gauge" => c.gauge = self.gauges(v)?,
+                _ => return Err(self.unknown_key(k, "claims", &CLAIM_KEYS)),
+            }
+        }
+        Ok(c)
+    }
+
+    /// A gauge name or a list of them.
+    fn gauges(&self, v: &Value<'_>) -> Result<Vec<Gauge>, ProblemError> {
+        let items: Vec<&Value<'_>> = match v.get_ref() {
+            DeValue::Array(a) => a.iter().collect(),
+            DeValue::String(_) => vec![v],
+            _ => {
+                return Err(self
+                    .type_error("`gauge`", "a list of gauge names", v)
+                    .with_help(format!(
+                        "e.g. gauge = ['lorenz']; the gauges are {}",
+                        quoted_list(&Gauge::NAMES)
+                    )));
+            }
+        };
+        let mut out: Vec<(Gauge, Span)> = Vec::new();
+        for item in items {
+            let DeValue::String(s) = item.get_ref() else {
+                return Err(self
+                    .type_error("a gauge", "a string", item)
+                    .with_help(format!("the gauges are {}", quoted_list(&Gauge::NAMES))));
+            };
+            let span = span_of(item);
+            let Some(g) = Gauge::parse(s) else {
+                let mut help = format!("the gauges are {}", quoted_list(&Gauge::NAMES));
+                if let Some(near) = closest(s, &Gauge::NAMES) {
+                    help = format!(
+                        "did you mean `{near}`? The gauges are {}",
+                        quoted_list(&Gauge::NAMES)
+                    );
+                }
+                return Err(self
+                    .err(format!("unknown gauge `{s}`"), span, "unknown gauge")
+                    .with_help(help));
+            };
+            if let Some((_, first)) = out.iter().find(|(h, _)| *h == g) {
+                return Err(self
+                    .err(
+                        format!("gauge `{s}` listed twice"),
+                        span,
+                        "listed again here",
+                    )
+                    .with_related(*first, "first listed here"));
+            }
+            out.push((g, span));
+        }
+        Ok(out.into_iter().map(|(g, _)| g).collect())
+    }
+
+    fn grid(&self, t: &DeTable<'_>) -> Result<GridSpec, ProblemError> {
+        let mut g = GridSpec::default();
+        for (k, v) in entries(t) {
+            match &**k.get_ref() {
+                "center" => g.center = Some(self.center(v)?),
+                "width" => {
+                    let w = self.number("`width`", v)?;
+                    if w <= 0.0 {
+                        return Err(self
+                            .err("`width` must be positive", span_of(v), "not positive")
+                            .with_help(
+                                "the width is the grid's extent in each coordinate, e.g. 0.5",
+                            ));
+                    }
+                    g.width = Some(w);
+                }
+                "points" => g.points = Some(self.points(v)?),
+                _ => return Err(self.unknown_key(k, "grid", &GRID_KEYS)),
+            }
+        }
+        Ok(g)
+    }
+
+    fn center(&self, v: &Value<'_>) -> Result<[f64; 4], ProblemError> {
+        let help = "the centre is [t, x, y, z], e.g. center = [0.0, 0.1, 0.2, 0.3]";
+        let DeValue::Array(a) = v.get_ref() else {
+            return Err(self
+                .type_error("`center`", "a list of four numbers", v)
+                .with_help(help));
+        };
+        if a.len() != 4 {
+            return Err(self
+                .err(
+                    format!(
+                        "`center` must have four numbers (t, x, y, z), not {}",
+                        a.len()
+                    ),
+                    span_of(v),
+                    "expected four numbers",
+                )
+                .with_help(help));
+        }
+        let mut c = [0.0; 4];
+        for (i, item) in a.iter().enumerate() {
+            c[i] = self.number(
+                &format!("the {} coordinate of `center`", COORDINATES[i]),
+                item,
+            )?;
+        }
+        Ok(c)
+    }
+
+    fn points(&self, v: &Value<'_>) -> Result<Vec<usize>, ProblemError> {
+        let help = format!(
+            "list at least {MIN_RESOLUTIONS} increasing resolutions of at least {MIN_POINTS} \
+             points each, e.g. points = [8, 16, 32]"
+        );
+        let DeValue::Array(a) = v.get_ref() else {
+            return Err(self
+                .type_error("`points`", "a list of integers", v)
+                .with_help(help));
+        };
+        let mut out: Vec<usize> = Vec::new();
+        for item in a.iter() {
+            let DeValue::Integer(i) = item.get_ref() else {
+                return Err(self
+                    .type_error("a number of points", "an integer", item)
+                    .with_help(help));
+            };
+            let span = span_of(item);
+            let n = i64::from_str_radix(i.as_str(), i.radix()).ok();
+            let n = match n.map(usize::try_from) {
+                Some(Ok(n)) if n >= MIN_POINTS => n,
+                _ => {
+                    return Err(self
+                        .err(
+                            format!("a resolution must have at least {MIN_POINTS} points"),
+                            span,
+                            "too few points",
+                        )
+                        .with_help(help));
+                }
+            };
+            if let Some(&prev) = out.last()
+                && n <= prev
+            {
+                return Err(self
+                    .err(
+                        format!("resolutions must increase, but {n} follows {prev}"),
+                        span,
+                        "not increasing",
+                    )
+                    .with_help(help));
+            }
+            out.push(n);
+        }
+        if out.len() < MIN_RESOLUTIONS {
+            return Err(self
+                .err(
+                    format!(
+                        "`points` must list at least {MIN_RESOLUTIONS} resolutions, not {}",
+                        out.len()
+                    ),
+                    span_of(v),
+                    "too few resolutions",
+                )
+                .with_help(help));
+        }
+        Ok(out)
+    }
+}
+
+/// `(mu, nu)` with `mu <= nu` for a key made of two of `t x y z`.
+fn component_indices(key: &str) -> Option<(usize, usize)> {
+    let idx = |c: char| COORDINATES.iter().position(|n| n.starts_with(c));
+    let mut chars = key.chars();
+    let a = idx(chars.next()?)?;
+    let b = idx(chars.next()?)?;
+    if chars.next().is_some() {
+        return None;
+    }
+    Some((a.min(b), a.max(b)))
+}
+
+/// "a string", "an integer", ... for a value's type.
+fn article(v: &DeValue<'_>) -> &'static str {
+    match v {
+        DeValue::String(_) => "a string",
+        DeValue::Integer(_) => "an integer",
+        DeValue::Float(_) => "a float",
+        DeValue::Boolean(_) => "a boolean",
+        DeValue::Datetime(_) => "a date-time",
+        DeValue::Array(_) => "a list",
+        DeValue::Table(_) => "a table",
+    }
+}
+
+pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemError> {
+    let cx = Cx { path, text };
+    let root = DeTable::parse(text).map_err(|e| {
+        let span = e
+            .span()
+            .map_or(Span::new(0, 0), |r| Span::new(r.start, r.end));
+        cx.err(
+            format!("invalid TOML: {}", e.message().trim()),
+            span,
+            "here",
+        )
+    })?;
+    let mut file = ProblemFile {
+        path: path.to_string(),
+        text: text.to_string(),
+        name: None,
+        parameters: Vec::new(),
+        functions: Vec::new(),
+        defines: Vec::new(),
+        perturbation: Vec::new(),
+        source: None,
+        claims: None,
+        grid: None,
+    };
+    let mut saw_perturbation = false;
+    for (k, v) in entries(root.get_ref()) {
+        match &**k.get_ref() {
+            "name" => match v.get_ref() {
+                DeValue::String(s) => file.name = Some(s.to_string()),
+                _ => return Err(cx.type_error("`name`", "a string", v)),
+            },
+            "parameters" => file.parameters = cx.parameters(cx.table(k, v)?)?,
+            "functions" => file.functions = cx.named_exprs("functions", cx.table(k, v)?)?,
+            "define" => file.defines = cx.named_exprs("define", cx.table(k, v)?)?,
+            "perturbation" => {
+                file.perturbation = cx.components("perturbation", cx.table(k, v)?)?;
+                saw_perturbation = true;
+            }
+            "source" => file.source = Some(cx.components("source", cx.table(k, v)?)?),
+            "claims" => file.claims = Some(cx.claims(cx.table(k, v)?)?),
+            "grid" => file.grid = Some(cx.grid(cx.table(k, v)?)?),
+            _ => {
+                let mut e = cx.unknown_key(k, "", &TOP_KEYS);
+                if matches!(v.get_ref(), DeValue::Table(_)) {
+                    e.message = format!("unknown table [{}]", &**k.get_ref());
+                }
+                return Err(e);
+            }
+        }
+    }
+    if !saw_perturbation {
+        return Err(cx
+            .err(
+                "the file has no [perturbation] table",
+                Span::new(0, 0),
+                "no [perturbation] table",
+            )
+            .with_help(
+                "give h_{mu nu} in a [perturbation] table, e.g. `xx = 'A*cos(omega*(t - z))'`; \
+                 omitted components are 0",
+            ));
+    }
+    Ok(file)
+}
