@@ -166,7 +166,7 @@ impl G {
                 format!("(cos({r}/2)^2 - sin({r}/2)^2)")
             }
             G::Exp(a) => format!("(exp({}/2)^2)", a.rewrite()),
-            G::SqrtSq1(a) => format!("(1 + {}^2)^(1/2)", a.rewrite()),
+            G::SqrtSq1(a) => format!("((1 + {}^2)^(1/2))", a.rewrite()),
             G::F { order, a, b, c } if *order > 0 && *a != 0 => {
                 let inner = G::F {
                     order: order - 1,
@@ -482,8 +482,9 @@ proptest! {
         prop_assert!(again == f, "{} prints as {:?}, which builds to another form", g, text);
     }
 
-    /// The printed form reads back to a form of the same value (division allowed; see
-    /// [`simplify_is_idempotent`] for why arguments of sin, cos and exp stay polynomial).
+    /// The printed form reads back to a form of the same value: the zero test never certifies
+    /// a difference. (With division the form read back may differ, as in the first gap listed
+    /// at [`simplify_is_idempotent`], and the difference is then undecided rather than zero.)
     #[test]
     fn printed_form_reads_back_to_the_same_value(g in expr_in(Lang { division: true, rich_arguments: false })) {
         announce_seed();
@@ -492,7 +493,10 @@ proptest! {
         let text = st.to_text(f);
         let again = st.build(&parse(&text), &Names::free())
             .map_err(|e| TestCaseError::fail(format!("printed form {text:?} does not build: {e:?}")))?;
-        prop_assert!(same_form(&mut st, f, again)?, "{} prints as {:?}, which reads back as another value", g, text);
+        let d = ok(st.sub(f, again))?;
+        let sampling = sampling(&mut st);
+        let v = decide(&mut st, d, &sampling);
+        prop_assert!(!matches!(v, Verdict::Nonzero(_)), "{} prints as {:?}, which reads back as another value: {:?}", g, text, v);
     }
 
     /// The printed form does not depend on what else the store holds (no id-order leaks).
