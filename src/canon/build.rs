@@ -173,14 +173,10 @@ impl Store {
                     BinOp::Add => c(self.add(fa, fb)),
                     BinOp::Sub => c(self.sub(fa, fb)),
                     BinOp::Mul => c(self.mul(fa, fb)),
-                    BinOp::Div => self.div(fa, fb).map_err(|err| match err {
-                        CanonError::DivisionByZero => BuildError::new(
-                            "division by an expression that is identically zero",
-                            b.span,
-                            Some("this denominator simplifies to 0".into()),
-                        ),
-                        other => BuildError::canon(other, e.span),
-                    }),
+                    BinOp::Div => {
+                        let inv = self.inverse_factored(b, fb, names)?;
+                        c(self.mul(fa, inv))
+                    }
                     BinOp::Pow => c(self.pow(fa, fb)),
                 }
             }
@@ -260,6 +256,45 @@ impl Store {
                 }
                 Ok(f)
             }
+        }
+    }
+
+    /// `1 / b` for the denominator `b` (already built as `fb`), inverting a written product
+    /// or integer power factor by factor: 1/(p*q) = (1/p)(1/q) and 1/p^n = (1/p)^n. This keeps
+    /// the denominator factored as written, so printed forms read back to the same form.
+    fn inverse_factored(&mut self, b: &Expr, fb: Form, names: &Names) -> Result<Form, BuildError> {
+        let zero_div = |span: Span| {
+            BuildError::new(
+                "division by an expression that is identically zero",
+                span,
+                Some("this denominator simplifies to 0".into()),
+            )
+        };
+        match &b.kind {
+            ExprKind::Binary(BinOp::Mul, l, r) => {
+                let fl = self.build(l, names)?;
+                let fr = self.build(r, names)?;
+                let il = self.inverse_factored(l, fl, names)?;
+                let ir = self.inverse_factored(r, fr, names)?;
+                self.mul(il, ir).map_err(|err| BuildError::canon(err, b.span))
+            }
+            ExprKind::Binary(BinOp::Pow, base, exp) if matches!(&exp.kind, ExprKind::Num(q) if q.is_integer()) => {
+                let fbase = self.build(base, names)?;
+                let ib = self.inverse_factored(base, fbase, names)?;
+                let n = match &exp.kind {
+                    ExprKind::Num(q) => q.to_integer(),
+                    _ => unreachable!("guarded above"),
+                };
+                let n: i64 = n.try_into().map_err(|_| BuildError::canon(CanonError::TooLarge(self.limits.max_terms), b.span))?;
+                self.powi(ib, n).map_err(|err| match err {
+                    CanonError::DivisionByZero => zero_div(b.span),
+                    other => BuildError::canon(other, b.span),
+                })
+            }
+            _ => self.inv(fb).map_err(|err| match err {
+                CanonError::DivisionByZero => zero_div(b.span),
+                other => BuildError::canon(other, b.span),
+            }),
         }
     }
 

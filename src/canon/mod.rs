@@ -844,8 +844,10 @@ impl Store {
             return Ok(self.one);
         }
         if n < 0 {
-            let p = self.powi(a, -n)?;
-            return self.inv(p);
+            // Invert first, so 1/P^n keeps the factor P with exponent n (the printed form of a
+            // denominator power reads back to the same form).
+            let ia = self.inv(a)?;
+            return self.powi(ia, -n);
         }
         let mut result = self.one;
         let mut base = a;

@@ -92,7 +92,7 @@ impl Store {
     pub fn pretty(&mut self, f: Form) -> Pretty {
         let r = self.rats[f.0 as usize].clone();
         if r.den.is_empty() {
-            return self.pretty_poly(&r.num, &Coeff::one());
+            return self.pretty_collected(&r.num, &Coeff::one());
         }
         // Normalise each denominator factor for display so that its first printed term has
         // coefficient one, moving the unit into the numerator.
@@ -117,7 +117,7 @@ impl Store {
             });
         }
         den_parts.sort_by_key(to_text);
-        let num = self.pretty_poly(&r.num, &scale);
+        let num = self.pretty_collected(&r.num, &scale);
         let den = if den_parts.len() == 1 {
             den_parts.pop().unwrap()
         } else {
@@ -134,6 +134,71 @@ impl Store {
     /// LaTeX.
     pub fn to_latex(&mut self, f: Form) -> String {
         to_latex(&self.pretty(f))
+    }
+
+    /// Like `pretty_poly`, but with the common kernel powers and the rational content of the
+    /// terms written once in front: `m*sqrt(r2)*(y^2 - 2*x^2)` rather than a sum of products.
+    /// Display only: the form itself is unchanged.
+    fn pretty_collected(&mut self, p: &super::Poly, scale: &Coeff) -> Pretty {
+        if p.len() < 2 {
+            return self.pretty_poly(p, scale);
+        }
+        let monos: Vec<super::Mono> = p.iter().map(|(m, _)| self.monos[m.0 as usize].clone()).collect();
+        let kernels: std::collections::BTreeSet<KernelId> = monos.iter().flat_map(|m| m.pows.iter().map(|q| q.0)).collect();
+        let mut content: Vec<(KernelId, i32)> = Vec::new();
+        for k in kernels {
+            let min = monos
+                .iter()
+                .map(|m| m.pows.iter().find(|q| q.0 == k).map(|q| q.1).unwrap_or(0))
+                .min()
+                .unwrap_or(0);
+            let max = monos
+                .iter()
+                .map(|m| m.pows.iter().find(|q| q.0 == k).map(|q| q.1).unwrap_or(0))
+                .max()
+                .unwrap_or(0);
+            // Take out a power shared by all terms (positive), or a common denominator power.
+            let take = if min > 0 { min } else if max < 0 { max } else { 0 };
+            if take != 0 {
+                content.push((k, take));
+            }
+        }
+        let scaled: Vec<Coeff> = p.iter().map(|(_, c)| c.mul(scale)).collect();
+        // A pure fraction (x/2 + 3/4) reads better left alone unless kernels come out too.
+        let g = rational_content(&scaled).filter(|g| !content.is_empty() || !g.numer().is_one_int());
+        if content.is_empty() && g.is_none() {
+            return self.pretty_poly(p, scale);
+        }
+        let g = g.unwrap_or_else(|| super::Q::from_integer(1.into()));
+        let ginv = Coeff::rational(g.recip());
+        let mut cofactor: super::Poly = Vec::with_capacity(p.len());
+        for (m, c) in monos.iter().zip(&scaled) {
+            let mut pows = m.pows.clone();
+            for &(k, e) in &content {
+                if let Some(x) = pows.iter_mut().find(|q| q.0 == k) {
+                    x.1 -= e;
+                }
+            }
+            pows.retain(|q| q.1 != 0);
+            let id = self.intern_mono(super::Mono { pows, exp: m.exp });
+            cofactor.push((id, c.mul(&ginv)));
+        }
+        cofactor.sort_by_key(|t| t.0);
+        let inner = self.pretty_poly(&cofactor, &Coeff::one());
+        if !matches!(inner, Pretty::Sum(_)) {
+            return self.pretty_poly(p, scale);
+        }
+        let mut nums = Vec::new();
+        let mut dens = Vec::new();
+        for (k, e) in content {
+            let kp = self.pretty_kernel(k);
+            let f = if e.unsigned_abs() == 1 { kp } else { Pretty::Pow(Box::new(kp), e.unsigned_abs()) };
+            if e > 0 { nums.push(f) } else { dens.push(f) }
+        }
+        nums.sort_by_key(factor_order);
+        dens.sort_by_key(factor_order);
+        nums.push(inner);
+        Pretty::Prod(Coeff::rational(g), nums, dens)
     }
 
     fn pretty_kernel(&mut self, k: KernelId) -> Pretty {
@@ -202,7 +267,9 @@ impl Store {
                             (None, re, None, 1)
                         } else {
                             // Choose the sign of Q whose printed first coefficient is positive.
-                            let neg = match self.pretty(im) {
+                            // Decide on the uncollected sum, whose first term carries the sign.
+                            let im_num = self.rats[im.0 as usize].num.clone();
+                            let neg = match self.pretty_poly(&im_num, &Coeff::one()) {
                                 Pretty::Sum(ts) => {
                                     ts.first().map(|t| leading_num(t).looks_negative())
                                 }
@@ -276,8 +343,8 @@ impl Store {
         }
         for t in &mut terms {
             if let Pretty::Prod(_, n, d) = t {
-                n.sort_by_key(to_text);
-                d.sort_by_key(to_text);
+                n.sort_by_key(factor_order);
+                d.sort_by_key(factor_order);
             }
         }
         // Order: more factors first, then by text of the factors, so output is stable.
@@ -303,6 +370,25 @@ impl Store {
             _ => Pretty::Sum(terms),
         }
     }
+}
+
+/// The positive rational gcd of rational coefficients, when it is not one.
+fn rational_content(cs: &[Coeff]) -> Option<super::Q> {
+    use num_integer::Integer;
+    let mut num = num_bigint::BigInt::from(0);
+    let mut den = num_bigint::BigInt::from(1);
+    for c in cs {
+        let q = c.as_rational()?;
+        num = num.gcd(q.numer());
+        den = den.lcm(q.denom());
+    }
+    let g = super::Q::new(num, den);
+    (g != super::Q::from_integer(1.into()) && g != super::Q::from_integer(0.into())).then_some(g)
+}
+
+/// Factors of a product print plain names and their powers first (`a*w^2*cos(...)`).
+fn factor_order(p: &Pretty) -> (bool, String) {
+    (!is_plain(p), to_text(p))
 }
 
 fn is_plain(p: &Pretty) -> bool {
@@ -507,6 +593,13 @@ fn latex_name(n: &str) -> String {
     }
 }
 
+fn latex_factor(p: &Pretty, s: &mut String) {
+    match p {
+        Pretty::Pow(..) => latex(p, s),
+        _ => latex_atom(p, s),
+    }
+}
+
 fn latex_atom(p: &Pretty, s: &mut String) {
     match p {
         Pretty::Name(_) | Pretty::Call(..) | Pretty::Root(..) => latex(p, s),
@@ -576,13 +669,13 @@ fn latex(p: &Pretty, s: &mut String) {
                 if !top.is_empty() {
                     top.push_str(" \\, ");
                 }
-                latex_atom(f, &mut top);
+                latex_factor(f, &mut top);
             }
             for f in d {
                 if !bottom.is_empty() {
                     bottom.push_str(" \\, ");
                 }
-                latex_atom(f, &mut bottom);
+                latex_factor(f, &mut bottom);
             }
             if top.is_empty() {
                 top.push('1');
