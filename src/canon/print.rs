@@ -443,7 +443,7 @@ fn text_atom(p: &Pretty, s: &mut String) {
 /// A factor of a product: powers need no parentheses, since `^` binds tighter than `*`.
 fn text_factor(p: &Pretty, s: &mut String) {
     match p {
-        Pretty::Pow(..) => text(p, s),
+        Pretty::Pow(..) | Pretty::Root(..) => text(p, s),
         _ => text_atom(p, s),
     }
 }

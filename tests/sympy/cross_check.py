@@ -39,8 +39,16 @@ from fractions import Fraction
 import mpmath
 import sympy
 
-DPS = 50
+DPS = 60
 REL = 1e-9
+# A symbol that a point leaves out (it cancelled on lingrav's side) gets this value.
+DEFAULT_VALUE = 0.7
+# evalf's precision ceiling (bits) and time budget (s) for one precise value.
+MAXN = 4000
+# Below this size relative to its terms, a precise value is taken as zero: when cancellation
+# exceeds evalf's ceiling it returns a meaningless tiny number rather than exactly 0.
+ZERO_REL = mpmath.mpf(10) ** -300
+PRECISE_BUDGET = 20.0
 SYMBOLS = ["x", "y", "z", "t", "omega", "k", "kx", "ky", "m"]
 SAMPLE_VAR = "u"
 SAMPLES = {"F": "exp(-u^2/3)", "G": "sin(u)/(u^2 + 2)"}
@@ -244,26 +252,50 @@ def concrete(e):
 
 
 class Numeric:
-    """Evaluates a SymPy expression at points with mpmath, at DPS digits."""
+    """Values of a SymPy expression at points, two ways.
+
+    `at`: fast, with mpmath at DPS digits. Catastrophic cancellation can defeat any fixed
+    precision (cosh(100)^2 - sinh(100)^2 needs 90 digits just to see the 1), so every check
+    that would fail on a fast value is redone with `precise`: SymPy's evalf, which raises its
+    working precision until the result has 30 correct digits (or is zero to that accuracy).
+    """
 
     def __init__(self, e):
-        c = concrete(e)
-        self.syms = sorted(c.free_symbols, key=lambda s: s.name)
-        self.fn = sympy.lambdify(self.syms, c, modules="mpmath")
+        self.expr = concrete(e)
+        self.syms = sorted(self.expr.free_symbols, key=lambda s: s.name)
+        self.fn = sympy.lambdify(self.syms, self.expr, modules="mpmath")
 
     def at(self, point):
-        args = [mpmath.mpf(point.get(s.name, 0.7)) for s in self.syms]
+        args = [mpmath.mpf(point.get(s.name, DEFAULT_VALUE)) for s in self.syms]
         try:
             return mpmath.mpc(self.fn(*args))
         except (ZeroDivisionError, ValueError, OverflowError):
             return None
 
+    def precise(self, point, budget=PRECISE_BUDGET):
+        subs = {s: sympy.Rational(point.get(s.name, DEFAULT_VALUE)) for s in self.syms}
+        signal.signal(signal.SIGALRM, _alarm)
+        signal.setitimer(signal.ITIMER_REAL, budget)
+        try:
+            v = self.expr.evalf(30, subs=subs, maxn=MAXN)
+            re, im = v.as_real_imag()
+            return mpmath.mpc(mpmath.mpf(sympy.Float(re, 30)), mpmath.mpf(sympy.Float(im, 30)))
+        except Timeout:
+            return None
+        except (TypeError, ValueError, ZeroDivisionError):
+            return None
+        finally:
+            signal.setitimer(signal.ITIMER_REAL, 0)
+
 
 def clearly_nonzero(v, scale):
-    return v is not None and abs(v) > mpmath.mpf(10) ** -30 * max(scale, 1)
+    """At DPS digits: far above the rounding noise of terms of size `scale`."""
+    return v is not None and abs(v) > mpmath.mpf(10) ** -(DPS - 20) * max(scale, 1)
 
 
-# ----- symbolic zero test -----------------------------------------------------------------
+def precisely_nonzero(v, scale):
+    """For a `precise` value: nonzero and above the noise floor (see ZERO_REL)."""
+    return v is not None and abs(v) > ZERO_REL * max(scale, 1)
 
 
 class Timeout(BaseException):
@@ -272,6 +304,9 @@ class Timeout(BaseException):
 
 def _alarm(signum, frame):
     raise Timeout()
+
+
+# ----- symbolic zero test -----------------------------------------------------------------
 
 
 def symbolic_zero(d, budget):
@@ -332,77 +367,130 @@ class Report:
         self.undecided_list = []
 
 
-def check_value(rep, case, what, point_index, lingrav, ref, scale):
-    """Compares one lingrav enclosure (JSON) with SymPy's value `ref`."""
+class Ref:
+    """SymPy's value of one expression at one point: fast first, precise on demand."""
+
+    def __init__(self, num, point):
+        self.num, self.point = num, point
+        self.value = num.at(point)
+        self.is_precise = False
+
+    def refine(self):
+        if not self.is_precise:
+            self.value = self.num.precise(self.point)
+            self.is_precise = True
+        return self.value
+
+    def magnitude(self):
+        return abs(self.value) if self.value is not None else 0
+
+
+def slack(ref, scale):
+    """How far outside an enclosure SymPy's own error may put its value."""
+    if ref.is_precise:
+        return max(mpmath.mpf(10) ** -25 * abs(ref.value), ZERO_REL * max(scale, 1))  # 30 digits
+    return mpmath.mpf(10) ** -(DPS - 20) * max(scale, 1)  # rounding noise of terms of size scale
+
+
+def judge(lingrav, ref, scale_refs):
+    """'ok', 'imprecise' (lingrav's midpoint is off, its enclosure is right), 'outside' or 'none'."""
+    v = ref.value
+    if v is None:
+        return "none"
+    scale = max([abs(v)] + [r.magnitude() for r in scale_refs])
+    if not in_enclosure(v, lingrav, slack(ref, scale)):
+        return "outside"
+    if abs(mpmath.mpc(*lingrav["f64"]) - v) > REL * max(scale, 1e-12):
+        return "imprecise"
+    return "ok"
+
+
+def check_value(rep, where, lingrav, ref, scale_refs=()):
+    """Compares one lingrav enclosure (JSON) with SymPy's value; `scale_refs` set the size of
+    the terms (for a difference: both sides)."""
     rep.values += 1
-    where = f"{case['id']} {what} at point {point_index}"
-    if ref is None:
-        rep.mismatches.append(f"{where}: SymPy cannot evaluate it, lingrav gives {lingrav}")
-        return
     if lingrav is None:
-        rep.mismatches.append(f"{where}: lingrav cannot evaluate it, SymPy gives {fmt(ref)}")
+        rep.mismatches.append(f"{where}: lingrav cannot evaluate it, SymPy gives {fmt(ref.value)}")
         return
-    slack = mpmath.mpf(10) ** -25 * max(scale, 1)
-    if not in_enclosure(ref, lingrav, slack):
+    verdict = judge(lingrav, ref, scale_refs)
+    if verdict != "ok":
+        ref.refine()
+        verdict = judge(lingrav, ref, scale_refs)
+    if verdict == "none":
+        rep.mismatches.append(f"{where}: SymPy cannot evaluate it, lingrav gives {lingrav['f64']}")
+    elif verdict == "outside":
         rep.mismatches.append(
-            f"{where}: SymPy value {fmt(ref)} lies outside lingrav's certified enclosure "
+            f"{where}: SymPy value {fmt(ref.value)} lies outside lingrav's certified enclosure "
             f"re {lingrav['re']} im {lingrav['im']}"
         )
-        return
-    mid = mpmath.mpc(*lingrav["f64"])
-    tol = REL * max(scale, 1e-12)
-    if abs(mid - ref) > tol:
-        rep.imprecise.append(f"{where}: f64 {lingrav['f64']} vs SymPy {fmt(ref)} (inside a wide enclosure)")
+    elif verdict == "imprecise":
+        rep.imprecise.append(f"{where}: f64 {lingrav['f64']} vs SymPy {fmt(ref.value)} (inside a wide enclosure)")
+
+
+def same_value(a, b, scale_refs=()):
+    """True if two SymPy values of equal expressions agree to their precision."""
+    if a.value is None or b.value is None:
+        return False
+    scale = max([a.magnitude(), b.magnitude()] + [r.magnitude() for r in scale_refs])
+    if a.is_precise and b.is_precise:
+        tol = max(mpmath.mpf(10) ** -25 * max(a.magnitude(), b.magnitude()), ZERO_REL * max(scale, 1))
+        return abs(a.value - b.value) <= tol
+    return abs(a.value - b.value) <= mpmath.mpf(10) ** -(DPS - 20) * max(scale, 1)
 
 
 def check_case(rep, case, budget, rng):
     rep.cases += 1
     cid = case["id"]
     lhs, rhs = to_sympy(case["lhs"]), to_sympy(case["rhs"])
-    canon_lhs, canon_diff = to_sympy(case["canon_lhs"]), to_sympy(case["canon_diff"])
-    canon_deriv = to_sympy(case["canon_deriv"])
-    deriv = sympy.diff(lhs, sym(case["deriv_var"]))
-    n_lhs, n_rhs = Numeric(lhs), Numeric(rhs)
-    n_canon, n_cdiff, n_cderiv, n_deriv = Numeric(canon_lhs), Numeric(canon_diff), Numeric(canon_deriv), Numeric(deriv)
+    x = sym(case["deriv_var"])
+    n_lhs, n_rhs, n_diff, n_deriv = Numeric(lhs), Numeric(rhs), Numeric(lhs - rhs), Numeric(sympy.diff(lhs, x))
+    printed = [
+        ("canonical text of lhs", Numeric(to_sympy(case["canon_lhs"])), "lhs"),
+        ("canonical text of lhs - rhs", Numeric(to_sympy(case["canon_diff"])), "diff"),
+        ("canonical text of the derivative", Numeric(to_sympy(case["canon_deriv"])), "deriv"),
+    ]
 
     # Values at the given points.
     for i, (pt, vals) in enumerate(zip(case["points"], case["values"])):
-        vl, vr, vd = n_lhs.at(pt), n_rhs.at(pt), n_deriv.at(pt)
-        sl = abs(vl) if vl is not None else 1
-        sr = abs(vr) if vr is not None else 1
-        diff = vl - vr if vl is not None and vr is not None else None
-        check_value(rep, case, "lhs", i, vals["lhs"], vl, sl)
-        check_value(rep, case, "rhs", i, vals["rhs"], vr, sr)
-        check_value(rep, case, "canonical text of lhs (reparsed by lingrav)", i, vals["canon"], vl, sl)
-        check_value(rep, case, "lhs - rhs", i, vals["diff"], diff, max(sl, sr))
-        check_value(rep, case, f"d_{case['deriv_var']}(lhs)", i, vals["deriv"], vd, abs(vd) if vd is not None else 1)
+        refs = {"lhs": Ref(n_lhs, pt), "rhs": Ref(n_rhs, pt), "diff": Ref(n_diff, pt), "deriv": Ref(n_deriv, pt)}
+        sides = (refs["lhs"], refs["rhs"])
+        at = f"at point {i}"
+        check_value(rep, f"{cid} lhs {at}", vals["lhs"], refs["lhs"])
+        check_value(rep, f"{cid} rhs {at}", vals["rhs"], refs["rhs"])
+        check_value(rep, f"{cid} canonical text of lhs, reparsed by lingrav, {at}", vals["canon"], refs["lhs"])
+        check_value(rep, f"{cid} lhs - rhs {at}", vals["diff"], refs["diff"], sides)
+        check_value(rep, f"{cid} d_{x}(lhs) {at}", vals["deriv"], refs["deriv"])
         # Printing: lingrav's texts, read by SymPy, equal the originals.
-        for what, num, ref, scale in [
-            ("canonical text of lhs", n_canon, vl, sl),
-            ("canonical text of lhs - rhs", n_cdiff, diff, max(sl, sr)),
-            ("canonical text of the derivative", n_cderiv, vd, abs(vd) if vd is not None else 1),
-        ]:
-            v = num.at(pt)
+        for what, num, original in printed:
             rep.values += 1
-            if v is None or ref is None or abs(v - ref) > mpmath.mpf(10) ** -30 * max(scale, 1):
-                rep.mismatches.append(f"{cid} {what} at point {i}: SymPy reads {fmt(v)}, the original is {fmt(ref)}")
+            mine, ref = Ref(num, pt), refs[original]
+            scale_refs = sides if original == "diff" else ()
+            if not same_value(mine, ref, scale_refs):
+                mine.refine()
+                ref.refine()
+                if not same_value(mine, ref, scale_refs):
+                    rep.mismatches.append(
+                        f"{cid} {what} {at}: SymPy reads {fmt(mine.value)}, the original is {fmt(ref.value)}"
+                    )
 
-    # SymPy's verdict on lhs - rhs: numeric first (cheap and decisive when nonzero).
+    # SymPy's verdict on lhs - rhs: numeric first (cheap and decisive when nonzero), confirmed
+    # precisely before it can contradict lingrav.
+    label = case["verdict"]["label"]
     sympy_verdict = None
     for _ in range(4):
         pt = {s: rng.choice([-1, 1]) * rng.uniform(0.25, 2.0) for s in SYMBOLS}
-        vl, vr = n_lhs.at(pt), n_rhs.at(pt)
-        if vl is None or vr is None:
+        d, sides = Ref(n_diff, pt), (Ref(n_lhs, pt), Ref(n_rhs, pt))
+        if not clearly_nonzero(d.value, max(r.magnitude() for r in sides)):
             continue
-        if clearly_nonzero(vl - vr, max(abs(vl), abs(vr))):
-            sympy_verdict = ("nonzero", pt, vl - vr)
-            break
+        if label == "zero" and not precisely_nonzero(d.refine(), max(r.magnitude() for r in sides)):
+            continue
+        sympy_verdict = ("nonzero", pt, d.value)
+        break
     if sympy_verdict is None:
         proved = symbolic_zero(lhs - rhs, budget)
         sympy_verdict = ("zero",) if proved else ("undecided",)
 
     verdict = case["verdict"]
-    label = verdict["label"]
     problems = []
     if label == "zero":
         if sympy_verdict[0] == "nonzero":
@@ -410,14 +498,17 @@ def check_case(rep, case, budget, rng):
             problems.append(f"lingrav proves zero, but SymPy's lhs - rhs = {fmt(v)} at {pt}")
     elif label == "nonzero":
         w = verdict["witness"]
-        vl, vr = n_lhs.at(w), n_rhs.at(w)
-        v = vl - vr if vl is not None and vr is not None else None
-        scale = max(abs(vl), abs(vr)) if v is not None else 1
-        if not clearly_nonzero(v, scale):
-            problems.append(f"lingrav's witness {w} is not a witness: SymPy's lhs - rhs there is {fmt(v)}")
-        elif not in_enclosure(v, verdict["value"], mpmath.mpf(10) ** -25 * max(scale, 1)):
+        d, sides = Ref(n_diff, w), (Ref(n_lhs, w), Ref(n_rhs, w))
+        scale = max(r.magnitude() for r in sides)
+        ok = clearly_nonzero(d.value, scale) and in_enclosure(d.value, verdict["value"], slack(d, scale))
+        if not ok:
+            d.refine()
+            ok = precisely_nonzero(d.value, scale) and in_enclosure(d.value, verdict["value"], slack(d, scale))
+        if not precisely_nonzero(d.value, scale):
+            problems.append(f"lingrav's witness {w} is not a witness: SymPy's lhs - rhs there is {fmt(d.value)}")
+        elif not ok:
             problems.append(
-                f"at lingrav's witness {w}, SymPy's lhs - rhs = {fmt(v)} lies outside the certified "
+                f"at lingrav's witness {w}, SymPy's lhs - rhs = {fmt(d.value)} lies outside the certified "
                 f"enclosure re {verdict['value']['re']} im {verdict['value']['im']}"
             )
         if sympy_verdict[0] == "zero":
@@ -458,6 +549,8 @@ def main():
             check_case(rep, case, args.budget, rng)
         except SyntaxErr as e:
             rep.disagree.append((case, [f"SymPy side cannot read a text: {e}"]))
+        except Exception as e:  # a failure of the check itself is reported with its case
+            rep.disagree.append((case, [f"the SymPy side failed: {type(e).__name__}: {e}"]))
     elapsed = time.monotonic() - start
 
     for line in rep.undecided_list:
