@@ -414,6 +414,23 @@ fn leading_num(t: &Pretty) -> Coeff {
     }
 }
 
+/// Writes the terms of a sum with ` + ` and ` - ` between them, in either renderer.
+fn join_terms(ts: &[Pretty], render: fn(&Pretty, &mut String), s: &mut String) {
+    for (i, t) in ts.iter().enumerate() {
+        let mut piece = String::new();
+        render(t, &mut piece);
+        if i > 0 {
+            if let Some(rest) = piece.strip_prefix('-') {
+                s.push_str(" - ");
+                s.push_str(rest);
+                continue;
+            }
+            s.push_str(" + ");
+        }
+        s.push_str(&piece);
+    }
+}
+
 /// Plain text in the input syntax (parses back to an equal canonical form).
 pub fn to_text(p: &Pretty) -> String {
     let mut s = String::new();
@@ -527,21 +544,7 @@ fn text(p: &Pretty, s: &mut String) {
                 }
             }
         }
-        Pretty::Sum(ts) => {
-            for (i, t) in ts.iter().enumerate() {
-                let mut piece = String::new();
-                text(t, &mut piece);
-                if i > 0 {
-                    if let Some(rest) = piece.strip_prefix('-') {
-                        s.push_str(" - ");
-                        s.push_str(rest);
-                        continue;
-                    }
-                    s.push_str(" + ");
-                }
-                s.push_str(&piece);
-            }
-        }
+        Pretty::Sum(ts) => join_terms(ts, text, s),
         Pretty::Quot(a, b) => {
             match **a {
                 Pretty::Sum(_) => {
@@ -686,21 +689,7 @@ fn latex(p: &Pretty, s: &mut String) {
                 let _ = write!(s, "\\frac{{{top}}}{{{bottom}}}");
             }
         }
-        Pretty::Sum(ts) => {
-            for (i, t) in ts.iter().enumerate() {
-                let mut piece = String::new();
-                latex(t, &mut piece);
-                if i > 0 {
-                    if let Some(rest) = piece.strip_prefix('-') {
-                        s.push_str(" - ");
-                        s.push_str(rest);
-                        continue;
-                    }
-                    s.push_str(" + ");
-                }
-                s.push_str(&piece);
-            }
-        }
+        Pretty::Sum(ts) => join_terms(ts, latex, s),
         Pretty::Quot(a, b) => {
             s.push_str("\\frac{");
             latex(a, s);
