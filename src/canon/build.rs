@@ -140,19 +140,24 @@ pub struct BuildError {
     /// How to fix it.
     #[help]
     pub help: Option<String>,
+    /// True when a size or time limit stopped the build (not an error in the input).
+    pub limit: bool,
 }
 
 impl BuildError {
     fn new(message: impl Into<String>, span: Span, help: Option<String>) -> BuildError {
         BuildError {
+            limit: false,
             message: message.into(),
             span,
             help,
         }
     }
     fn canon(e: CanonError, span: Span) -> BuildError {
-        BuildError::new(e.to_string(), span, None)
+        let limit = matches!(e, CanonError::TooLarge(_) | CanonError::Timeout(_));
+        BuildError { limit, ..BuildError::new(e.to_string(), span, None) }
     }
+
 }
 
 impl Store {
@@ -278,7 +283,9 @@ impl Store {
                 let ir = self.inverse_factored(r, fr, names)?;
                 self.mul(il, ir).map_err(|err| BuildError::canon(err, b.span))
             }
-            ExprKind::Binary(BinOp::Pow, base, exp) if matches!(&exp.kind, ExprKind::Num(q) if q.is_integer()) => {
+            // A written integer power: (1/P)^n keeps the factor P with exponent n.
+            ExprKind::Binary(BinOp::Pow, base, exp) if matches!(&exp.kind, ExprKind::Num(q) if q.is_integer()) =>
+            {
                 let fbase = self.build(base, names)?;
                 let ib = self.inverse_factored(base, fbase, names)?;
                 let n = match &exp.kind {

@@ -99,7 +99,14 @@ impl Store {
                     self.zero
                 }
             }
-            Kernel::Pi => self.zero,
+            Kernel::Pi => {
+                if k == var {
+                    let kf = self.kernel_form(k);
+                    self.inv(kf)?
+                } else {
+                    self.zero
+                }
+            }
             Kernel::Root { radicand, q } => {
                 // d(R^(1/q)) / R^(1/q) = R' / (q R)
                 let dr = self.diff(radicand, var)?;

@@ -35,6 +35,7 @@ mod print;
 pub use build::{BUILTINS, BuildError, Names, Unknown};
 pub use coeff::{Coeff, Q};
 pub use eval::{FunctionSample, Point};
+pub use print::Pretty;
 
 use num_bigint::BigInt;
 use num_integer::Integer;
@@ -443,15 +444,15 @@ impl Store {
             }
             self.check_size(acc.len())?;
         }
-        let mut r = Rat {
-            num: Self::sort_terms(acc),
-            den: Vec::new(),
-        };
+        let mut r = Rat { num: Self::sort_terms(acc), den: Vec::new() };
+        // Terms that brought a radicand power along: sum those sharing one, then multiply once.
+        let mut by_extra: std::collections::BTreeMap<Form, FxHashMap<MonoId, Coeff>> = std::collections::BTreeMap::new();
         for (m, c, extra) in extras {
-            let t = self.intern_rat(Rat {
-                num: vec![(m, c)],
-                den: Vec::new(),
-            });
+            let e = by_extra.entry(extra).or_default().entry(m).or_insert_with(Coeff::zero);
+            *e = e.add(&c);
+        }
+        for (extra, terms) in by_extra {
+            let t = self.intern_rat(Rat { num: Self::sort_terms(terms), den: Vec::new() });
             let p = self.mul(t, extra)?;
             let cur = self.intern_rat(r);
             let s = self.add(cur, p)?;
@@ -542,6 +543,18 @@ impl Store {
     fn split_exponent(&mut self, e: Form) -> CResult<(Form, Coeff, Form)> {
         let r = self.rats[e.0 as usize].clone();
         if !r.den.is_empty() {
+            // A quotient hides its pi part in the common denominator; when the pi part is
+            // linear, i*q*pi with q rational, d/dpi finds it and it comes out as usual.
+            let pi = self.intern_kernel(Kernel::Pi);
+            let c = self.diff(e, pi)?;
+            if let Some(q) = self.as_constant(c).and_then(|c| c.as_imag_rational()) {
+                let pi_form = self.kernel_form(pi);
+                let part = self.scale(pi_form, &c_imag(&q))?;
+                let rest = self.sub(e, part)?;
+                let (rest2, coeff, pulled) = self.split_exponent(rest)?;
+                let (_, root, _) = self.split_exponent(part)?;
+                return Ok((rest2, coeff.mul(&root), pulled));
+            }
             return Ok((e, Coeff::one(), self.one));
         }
         let pi = self.intern_kernel(Kernel::Pi);
@@ -586,6 +599,98 @@ impl Store {
         Ok((rest, coeff, pulled))
     }
 
+    /// Interns a quotient after cancelling every denominator factor that divides the
+    /// numerator exactly, so that (x + 1)/(x + 1) is 1 and equal quotients share one form.
+    fn intern_cancelled(&mut self, mut r: Rat) -> Form {
+        if !r.den.is_empty() && !r.num.is_empty() {
+            let mut den = Vec::with_capacity(r.den.len());
+            for (fid, mut e) in std::mem::take(&mut r.den) {
+                let f = self.factors[fid.0 as usize].clone();
+                while e > 0 {
+                    match self.poly_div_exact(&r.num, &f) {
+                        Some(q) => {
+                            r.num = q;
+                            e -= 1;
+                        }
+                        None => break,
+                    }
+                }
+                if e > 0 {
+                    den.push((fid, e));
+                }
+            }
+            r.den = den;
+        }
+        self.intern_rat(r)
+    }
+
+    /// `n / f` when `f` divides `n` exactly as polynomials in the kernels (exponentials of
+    /// `n` ride along as independent labels; `f` must have none). Exact division in the free
+    /// polynomial ring is also exact modulo the root relations, so the result is an identity.
+    fn poly_div_exact(&mut self, n: &Poly, f: &Poly) -> Option<Poly> {
+        use std::collections::BTreeMap;
+        let fmonos: Vec<Mono> = f.iter().map(|(m, _)| self.monos[m.0 as usize].clone()).collect();
+        if fmonos.iter().any(|m| m.exp.is_some()) || f.len() < 2 {
+            return None;
+        }
+        let kf: Vec<KernelId> = {
+            let set: std::collections::BTreeSet<KernelId> = fmonos.iter().flat_map(|m| m.pows.iter().map(|p| p.0)).collect();
+            set.into_iter().collect()
+        };
+        let vector = |pows: &[(KernelId, i32)]| -> Vec<i32> {
+            kf.iter().map(|k| pows.iter().find(|p| p.0 == *k).map(|p| p.1).unwrap_or(0)).collect()
+        };
+        let fterms: Vec<(Vec<i32>, Coeff)> = fmonos.iter().zip(f).map(|(m, (_, c))| (vector(&m.pows), c.clone())).collect();
+        let (flead, fcoef) = fterms.iter().max_by(|a, b| a.0.cmp(&b.0)).cloned()?;
+        let finv = fcoef.inv()?;
+        // Group the numerator by everything f does not involve.
+        type Rest = (Vec<(KernelId, i32)>, Option<Form>);
+        let mut groups: BTreeMap<Rest, BTreeMap<Vec<i32>, Coeff>> = BTreeMap::new();
+        for (m, c) in n {
+            let mono = &self.monos[m.0 as usize];
+            let rest: Vec<(KernelId, i32)> = mono.pows.iter().filter(|p| !kf.contains(&p.0)).cloned().collect();
+            groups.entry((rest, mono.exp)).or_default().insert(vector(&mono.pows), c.clone());
+        }
+        let mut out: FxHashMap<MonoId, Coeff> = FxHashMap::default();
+        let mut budget = 4 * (n.len() + f.len()) + 64;
+        for ((rest, exp), mut rem) in groups {
+            while let Some((lead, c)) = rem.iter().next_back().map(|(k, v)| (k.clone(), v.clone())) {
+                budget = budget.checked_sub(1)?;
+                let d: Vec<i32> = lead.iter().zip(&flead).map(|(a, b)| a - b).collect();
+                // The quotient of leading terms must be a monomial with exponents no lower
+                // than the numerator's lowest (Laurent powers are allowed, roots never go
+                // negative because the numerator's root powers are at least 0).
+                let q = c.mul(&finv);
+                for (fv, fc) in &fterms {
+                    let key: Vec<i32> = fv.iter().zip(&d).map(|(a, b)| a + b).collect();
+                    let sub = fc.mul(&q);
+                    let entry = rem.entry(key.clone()).or_insert_with(Coeff::zero);
+                    *entry = entry.sub(&sub);
+                    if entry.is_zero() {
+                        rem.remove(&key);
+                    }
+                }
+                let mut pows = rest.clone();
+                for (k, e) in kf.iter().zip(&d) {
+                    if *e != 0 {
+                        pows.push((*k, *e));
+                    }
+                }
+                pows.sort_by_key(|p| p.0);
+                if pows.iter().any(|(k, e)| *e < 0 && matches!(self.kernel(*k), Kernel::Root { .. })) {
+                    return None;
+                }
+                if rem.keys().next_back().is_some_and(|k| *k >= lead) {
+                    return None; // no progress: not divisible in this order
+                }
+                let id = self.intern_mono(Mono { pows, exp });
+                let e = out.entry(id).or_insert_with(Coeff::zero);
+                *e = e.add(&q);
+            }
+        }
+        Some(Self::sort_terms(out))
+    }
+
     /// Expands a factored denominator (or any product of factors) into a numerator.
     fn expand_factors(&mut self, fs: &[(FactorId, u32)]) -> CResult<Form> {
         let mut acc = self.one;
@@ -618,7 +723,7 @@ impl Store {
             let num = Self::poly_add(&ra.num, &rb.num);
             self.check_size(num.len())?;
             let den = if num.is_empty() { Vec::new() } else { ra.den };
-            return Ok(self.intern_rat(Rat { num, den }));
+            return Ok(self.intern_cancelled(Rat { num, den }));
         }
         // Common denominator: the factor-wise maximum of the exponents.
         let mut lcm = ra.den.clone();
@@ -664,7 +769,7 @@ impl Store {
                 Err(i) => den.insert(i, (f, e)),
             }
         }
-        Ok(self.intern_rat(Rat { num: rs.num, den }))
+        Ok(self.intern_cancelled(Rat { num: rs.num, den }))
     }
 
     /// `-a`.
@@ -714,7 +819,7 @@ impl Store {
                 Err(i) => den.insert(i, (f, e)),
             }
         }
-        Ok(self.intern_rat(Rat { num: prod.num, den }))
+        Ok(self.intern_cancelled(Rat { num: prod.num, den }))
     }
 
     /// `1 / a`; an error if `a` is identically zero.
@@ -844,8 +949,8 @@ impl Store {
             return Ok(self.one);
         }
         if n < 0 {
-            // Invert first, so 1/P^n keeps the factor P with exponent n (the printed form of a
-            // denominator power reads back to the same form).
+            // Invert first: 1/P^n keeps the factor P with exponent n, so a printed power in a
+            // denominator reads back to the same form (cancellation tidies roots: 1/r^3).
             let ia = self.inv(a)?;
             return self.powi(ia, -n);
         }
@@ -1074,7 +1179,8 @@ impl Store {
         }
         let d: Rc<[KernelId]> = match self.kernel(k).clone() {
             Kernel::Sym(_) => Rc::from(vec![k]),
-            Kernel::Pi => Rc::from(Vec::new()),
+            // pi is listed so that an exponent's pi part can be found by differentiating.
+            Kernel::Pi => Rc::from(vec![k]),
             Kernel::Root { radicand: a, .. } | Kernel::Log(a) | Kernel::Func { arg: a, .. } => {
                 self.form_deps(a)
             }
@@ -1107,6 +1213,41 @@ impl Store {
         out.sort();
         out.dedup();
         Rc::from(out)
+    }
+
+    /// The formal conjugate of `f`: every coefficient and every exponent conjugated, kernels
+    /// kept as they are (so it is the complex conjugate when the kernels are real).
+    pub fn conj_formal(&mut self, f: Form) -> CResult<Form> {
+        let r = self.rats[f.0 as usize].clone();
+        let plain = |st: &Store, p: &Poly| p.iter().all(|(m, c)| c.is_real() && st.monos[m.0 as usize].exp.is_none());
+        if plain(self, &r.num) && r.den.iter().all(|(fid, _)| plain(self, &self.factors[fid.0 as usize])) {
+            return Ok(f);
+        }
+        let num = self.conj_poly(&r.num)?;
+        let mut den = self.one;
+        for (fid, e) in r.den {
+            let p = self.factors[fid.0 as usize].clone();
+            let pc = self.conj_poly(&p)?;
+            let pe = self.powi(pc, e as i64)?;
+            den = self.mul(den, pe)?;
+        }
+        self.div(num, den)
+    }
+
+    fn conj_poly(&mut self, p: &Poly) -> CResult<Form> {
+        let mut acc = self.zero;
+        for (m, c) in p {
+            let mono = self.monos[m.0 as usize].clone();
+            let plain = self.intern_mono(Mono { pows: mono.pows, exp: None });
+            let mut t = self.intern_rat(Rat { num: vec![(plain, c.conj())], den: Vec::new() });
+            if let Some(e) = mono.exp {
+                let ec = self.conj_formal(e)?;
+                let x = self.exp(ec)?;
+                t = self.mul(t, x)?;
+            }
+            acc = self.add(acc, t)?;
+        }
+        Ok(acc)
     }
 
     /// Substitutes forms for symbols: `f` with every symbol in `subs` replaced.
@@ -1193,6 +1334,11 @@ impl Store {
             }
         }
     }
+}
+
+/// `i*q`.
+fn c_imag(q: &Q) -> Coeff {
+    Coeff::i().mul(&Coeff::rational(q.clone()))
 }
 
 /// sqrt(r) exactly when r = (a/b)^2 * m with m in {1, 2, 3, 6}.

@@ -217,31 +217,15 @@ impl Store {
     /// Splits an exponent into real and imaginary parts, each a form; `None` if the exponent
     /// has a denominator.
     fn split_re_im(&mut self, e: Form) -> Option<(Form, Form)> {
-        let r = self.rats[e.0 as usize].clone();
-        if !r.den.is_empty() {
-            return None;
-        }
-        let re: Vec<_> = r
-            .num
-            .iter()
-            .map(|(m, c)| (*m, c.re()))
-            .filter(|t| !t.1.is_zero())
-            .collect();
-        let im: Vec<_> = r
-            .num
-            .iter()
-            .map(|(m, c)| (*m, c.im()))
-            .filter(|t| !t.1.is_zero())
-            .collect();
-        let re = self.intern_rat(Rat {
-            num: re,
-            den: Vec::new(),
-        });
-        let im = self.intern_rat(Rat {
-            num: im,
-            den: Vec::new(),
-        });
-        Some((re, im))
+        // E = P + iQ with P = (E + E*)/2 and Q = (E - E*)/(2i), where E* conjugates every
+        // coefficient and exponent but keeps kernels: an algebraic identity for any E, and
+        // the true real and imaginary parts when the kernels are real.
+        let c = self.conj_formal(e).ok()?;
+        let sum = self.add(e, c).ok()?;
+        let p = self.scale(sum, &Coeff::rational(super::Q::new(1.into(), 2.into()))).ok()?;
+        let diff = self.sub(e, c).ok()?;
+        let q = self.scale(diff, &Coeff::i().mul(&Coeff::rational(super::Q::new((-1).into(), 2.into())))).ok()?;
+        Some((p, q))
     }
 
     fn pretty_poly(&mut self, p: &super::Poly, scale: &Coeff) -> Pretty {

@@ -44,8 +44,10 @@ impl LimitArgs {
 #[derive(Args, Debug)]
 pub struct ZeroArgs {
     /// The expression.
+    #[arg(allow_hyphen_values = true)]
     expr: String,
     /// A second expression: test whether EXPR - OTHER is zero.
+    #[arg(allow_hyphen_values = true)]
     other: Option<String>,
     /// Seed of the random witness points.
     #[arg(long, default_value_t = 0x5eed_1a96_7a7e)]
@@ -64,6 +66,7 @@ pub struct ZeroArgs {
 #[derive(Args, Debug)]
 pub struct SimplifyArgs {
     /// The expression.
+    #[arg(allow_hyphen_values = true)]
     expr: String,
     /// Print LaTeX instead of plain text.
     #[arg(long)]
@@ -76,6 +79,7 @@ pub struct SimplifyArgs {
 #[derive(Args, Debug)]
 pub struct DiffArgs {
     /// The expression.
+    #[arg(allow_hyphen_values = true)]
     expr: String,
     /// The variables to differentiate by, in order (`x x` is the second derivative).
     #[arg(required = true, num_args = 1.., value_name = "VAR")]
@@ -87,13 +91,13 @@ pub struct DiffArgs {
     limits: LimitArgs,
 }
 
-/// Parses and builds one command-line expression, with errors pointing into it.
+/// Parses and builds one command-line expression, with errors pointing into it. A size or
+/// time limit reached while building is not bad input: it ends the command as undecided.
 fn build_arg(store: &mut Store, text: &str, label: &str) -> Result<Form, Failure> {
     let e = lingrav::parse::parse(text).map_err(|e| with_source(e, label, text))?;
-    let f = store
-        .build(&e, &Names::free())
-        .map_err(|e| with_source(e, label, text))?;
-    Ok(f)
+    store.build(&e, &Names::free()).map_err(|e| {
+        if e.limit { Failure::GaveUp(e.message) } else { Failure::Input(with_source(e, label, text)) }
+    })
 }
 
 fn limit_failure(e: lingrav::canon::CanonError) -> Verdict {
@@ -166,7 +170,7 @@ fn render(st: &mut Store, f: Form, latex: bool) -> String {
 }
 
 fn algebra_limit(e: lingrav::canon::CanonError) -> Failure {
-    Failure::Input(miette::miette!(code = "lingrav::limit", "{e}"))
+    Failure::GaveUp(e.to_string())
 }
 
 /// `lingrav simplify`.

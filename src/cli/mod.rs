@@ -43,7 +43,7 @@ Examples:
     #[command(after_help = "\
 Examples:
   lingrav diff 'F(t - r)/r' t t            # second time derivative
-  lingrav diff 'sqrt(x^2 + y^2 + z^2)' x   # prints x/sqrt(x^2 + y^2 + z^2)")]
+  lingrav diff 'sqrt(x^2 + y^2 + z^2)' x   # prints x*sqrt(x^2 + y^2 + z^2)/(x^2 + y^2 + z^2)")]
     Diff(expr_cmds::DiffArgs),
     /// Check a perturbation's claims: field equations, gauge conditions, pure gauge.
     #[command(after_help = "\
@@ -59,7 +59,7 @@ fails, 3 one is undecided and none fails, 2 bad input.")]
     /// Print a derived quantity (Einstein, Ricci, Riemann, ...) component by component.
     #[command(after_help = "\
 Examples:
-  lingrav show worked/quadrupole_field.toml einstein
+  lingrav show worked/vibrating_rod.toml einstein
   lingrav show --latex worked/static_mass.toml riemann")]
     Show(problem_cmds::ShowArgs),
 }

@@ -20,6 +20,8 @@ pub enum Failure {
     Input(miette::Report),
     /// The output pipe closed: not an error.
     BrokenPipe,
+    /// A size or time limit stopped the algebra: undecided, with the reason.
+    GaveUp(String),
 }
 
 impl From<miette::Report> for Failure {
@@ -45,6 +47,10 @@ pub fn finish(r: Result<Outcome, Failure>) -> ExitCode {
         Ok(Outcome::Fails) => ExitCode::from(1),
         Ok(Outcome::Undecided) => ExitCode::from(3),
         Err(Failure::BrokenPipe) => ExitCode::from(0),
+        Err(Failure::GaveUp(why)) => {
+            let _ = writeln!(io::stdout(), "undecided: {why}");
+            ExitCode::from(3)
+        }
         Err(Failure::Input(report)) => {
             let _ = writeln!(io::stderr(), "{report:?}");
             ExitCode::from(2)

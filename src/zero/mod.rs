@@ -210,14 +210,15 @@ pub fn decide(store: &mut Store, f: Form, sampling: &Sampling) -> Verdict {
         }
     }
     let n = store.num_terms(f);
+    let n = if n == 1 { "1 term".to_string() } else { format!("{n} terms") };
     if evaluated == 0 {
         Verdict::Undecided(format!(
-            "not reduced to zero ({n} terms left), and none of {} sample points could be evaluated (seed {:#x})",
+            "not reduced to zero ({n} left), and none of {} sample points could be evaluated (seed {:#x})",
             sampling.points, sampling.seed
         ))
     } else {
         Verdict::Undecided(format!(
-            "not reduced to zero ({n} terms left), but numerically zero at {evaluated} random points: \
+            "not reduced to zero ({n} left), but numerically zero at {evaluated} random points: \
              every certified enclosure contains 0 (widest {widest:.1e}; seed {:#x})",
             sampling.seed
         ))

@@ -10,18 +10,20 @@ Rules. The texts are converted to SymPy by a parser of lingrav's syntax (not by 
 replacement), so `^`, exact decimals such as `7e-25`, primes `F'(u)` and operators `d_x_y(f)`
 mean exactly what they mean to lingrav. Then:
 
-- Verdict. SymPy's own verdict on lhs - rhs is "nonzero" when its value at some random point,
-  computed with mpmath at 50 digits, is clearly nonzero; otherwise "zero" when a symbolic
-  simplification reaches 0 within the per-case time budget; otherwise "undecided" (counted,
-  never a disagreement). A disagreement is a contradiction only: lingrav says zero and SymPy's
-  value is clearly nonzero; lingrav says nonzero but SymPy's value at lingrav's own witness is
-  not clearly nonzero or lies outside lingrav's certified enclosure; or SymPy proves zero what
-  lingrav certifies nonzero.
-- Values. At every point, SymPy's value (mpmath, 50 digits) must lie in lingrav's certified
-  enclosure, and the midpoint lingrav reports as its f64 value must be within a relative 1e-9.
-  A midpoint off by more than that inside a correct but wide enclosure is counted as
-  "imprecise", not as a disagreement. SymPy also evaluates lingrav's printed canonical texts,
-  which must equal the originals (a printing bug shows up here).
+- Numbers. Values are computed with mpmath at 60 digits; any check that would fail on such a
+  value is redone with SymPy's evalf, which raises its precision until the value has 30
+  correct digits, so cancellation (cosh(100)^2 - sinh(100)^2) cannot fake a disagreement.
+- Verdict. SymPy's own verdict on lhs - rhs is "nonzero" when its value at some random point
+  is clearly nonzero; otherwise "zero" when a symbolic simplification reaches 0 within the
+  per-case time budget; otherwise "undecided" (counted, never a disagreement). A disagreement
+  is a contradiction only: lingrav says zero and SymPy's value is clearly nonzero; lingrav
+  says nonzero but SymPy's value at lingrav's own witness is not clearly nonzero or lies
+  outside lingrav's certified enclosure; or SymPy proves zero what lingrav certifies nonzero.
+- Values. At every point, SymPy's value must lie in lingrav's certified enclosure, and the
+  midpoint lingrav reports as its f64 value must be within a relative 1e-9. A midpoint off by
+  more than that inside a correct but wide enclosure is counted as "imprecise", not as a
+  disagreement. SymPy also evaluates lingrav's printed canonical texts, which must equal the
+  originals (a printing bug shows up here).
 
 Arbitrary functions get the same concrete samples as on the Rust side.
 Exit status 0 when there is no disagreement, 1 otherwise (with every disagreeing case listed),

@@ -1,0 +1,196 @@
+//! `lingrav zero`, `lingrav simplify` and `lingrav diff` on good input.
+
+use crate::support::{assert_clean, lingrav};
+use serde_json::Value;
+
+/// `lingrav zero ARGS` exits with `code` and prints a first line starting with `verdict:`.
+fn check_zero(args: &[&str], code: i32, verdict: &str) {
+    let mut all = vec!["zero"];
+    all.extend_from_slice(args);
+    let out = lingrav(&all);
+    assert_clean(&all, &out, code);
+    let first = out.0.lines().next().unwrap_or("");
+    assert!(
+        first.starts_with(&format!("{verdict}:")),
+        "lingrav {all:?}: first line {first:?}, expected the verdict `{verdict}`"
+    );
+}
+
+#[test]
+fn zero_exit_codes_follow_the_verdict() {
+    // (arguments, exit code, verdict)
+    let table: &[(&[&str], i32, &str)] = &[
+        (&["sin(x)^2 + cos(x)^2 - 1"], 0, "zero"),
+        (&["cos(3*a)", "4*cos(a)^3 - 3*cos(a)"], 0, "zero"),
+        (&["d_t_t(F(t - z)) - d_z_z(F(t - z))"], 0, "zero"),
+        (&["sqrt(x^2)^2 - x^2"], 0, "zero"),
+        (&["--", "-x^2 + x^2"], 0, "zero"),
+        (&["sqrt(x^2)", "x"], 1, "nonzero"),
+        (&["sin(2*x)", "2*sin(x)"], 1, "nonzero"),
+        (&["x", "x + 1e-30"], 1, "nonzero"),
+        // True for real x, but log(exp(x)) is a kernel of its own: numerically zero everywhere,
+        // never reduced.
+        (&["log(exp(x)) - x"], 3, "undecided"),
+        (&["sqrt(exp(2*x))", "exp(x)"], 3, "undecided"),
+        // False, but by 1e-30: too little for a certified witness in double precision.
+        (&["sin(2*x)", "2*sin(x + 1e-30)*cos(x)"], 3, "undecided"),
+        // Nothing to sample at: honestly undecided.
+        (&["x", "--points", "0"], 3, "undecided"),
+    ];
+    for (args, code, verdict) in table {
+        check_zero(args, *code, verdict);
+    }
+}
+
+#[test]
+fn zero_prints_the_witness_and_its_seed() {
+    let args = ["zero", "sqrt(x^2)", "x", "--seed", "7"];
+    let out = lingrav(&args);
+    assert_clean(&args, &out, 1);
+    assert!(
+        out.0.contains("at x = -") && out.0.contains("(seed 0x7)"),
+        "the witness is a negative x with seed 7:\n{}",
+        out.0
+    );
+    assert_eq!(
+        lingrav(&args).0,
+        out.0,
+        "the same seed gives the same witness"
+    );
+    assert!(
+        out.0.contains("canonical form: -x + sqrt(x^2)"),
+        "the residual is printed:\n{}",
+        out.0
+    );
+}
+
+/// The JSON of `lingrav zero ARGS --format json`, checked to be one document on stdout.
+fn zero_json(args: &[&str], code: i32) -> Value {
+    let mut all = vec!["zero"];
+    all.extend_from_slice(args);
+    all.extend_from_slice(&["--format", "json"]);
+    let out = lingrav(&all);
+    assert_clean(&all, &out, code);
+    serde_json::from_str(&out.0)
+        .unwrap_or_else(|e| panic!("lingrav {all:?}: not JSON ({e}):\n{}", out.0))
+}
+
+#[test]
+fn zero_json_has_verdict_witness_and_reason() {
+    let v = zero_json(&["sin(x)^2 + cos(x)^2", "1"], 0);
+    assert_eq!(v["verdict"], "zero", "{v}");
+    assert!(
+        v.get("witness").is_none() && v.get("reason").is_none(),
+        "{v}"
+    );
+
+    let v = zero_json(&["sqrt(x^2)", "x", "--seed", "7"], 1);
+    assert_eq!(v["verdict"], "nonzero", "{v}");
+    let w = &v["witness"];
+    let x = w["point"]["x"].as_f64().expect("the witness gives x");
+    assert!(x < 0.0, "sqrt(x^2) = x fails only for negative x: {v}");
+    assert_eq!(w["seed"], 7, "{v}");
+    let re = w["value"][0].as_f64().expect("value [re, im]");
+    let lo = w["enclosure"]["re"][0]
+        .as_f64()
+        .expect("enclosure re [lo, hi]");
+    let hi = w["enclosure"]["re"][1]
+        .as_f64()
+        .expect("enclosure re [lo, hi]");
+    assert!(
+        lo <= re && re <= hi && (re - 2.0 * x.abs()).abs() < 1e-9,
+        "value |x| - x = 2|x|, inside its enclosure: {v}"
+    );
+    assert!(v.get("reason").is_none(), "{v}");
+
+    let v = zero_json(&["log(exp(x))", "x"], 3);
+    assert_eq!(v["verdict"], "undecided", "{v}");
+    let reason = v["reason"].as_str().expect("a reason");
+    assert!(reason.contains("numerically zero"), "{v}");
+    assert!(v.get("witness").is_none(), "{v}");
+    assert_eq!(v["canonical_form"], "-x + log(exp(x))", "{v}");
+}
+
+/// `lingrav ARGS` exits 0 and prints `want` and a newline, the same on a second run.
+fn check_prints(args: &[&str], want: &str) {
+    let out = lingrav(args);
+    assert_clean(args, &out, 0);
+    assert_eq!(out.0, format!("{want}\n"), "lingrav {args:?}");
+    assert_eq!(lingrav(args).0, out.0, "lingrav {args:?} is not stable");
+}
+
+#[test]
+fn simplify_prints_stable_readable_forms() {
+    check_prints(&["simplify", "2*sin(x)*cos(x)"], "sin(2*x)");
+    check_prints(&["simplify", "cos(x)^2 + sin(x)^2"], "1");
+    check_prints(&["simplify", "(x + 1)^2"], "x^2 + 2*x + 1");
+    check_prints(&["simplify", "x*y - y*x + 3/4"], "3/4");
+    check_prints(&["simplify", "cos(pi/4)"], "sqrt(2)/2");
+    check_prints(
+        &["simplify", "A*cos(omega*(t - z))"],
+        "A*cos(omega*(t - z))",
+    );
+}
+
+#[test]
+fn simplify_output_simplifies_to_itself() {
+    for e in [
+        "2*sin(x)*cos(x)",
+        "(x + y)^3 - x^3",
+        "exp(x)*exp(-2*x) + sinh(x)",
+        "sqrt(x^2 + y^2)^3",
+        "F(t - x)*cos(k*x)^2",
+    ] {
+        let (once, _, _) = lingrav(&["simplify", e]);
+        let once = once.trim_end();
+        check_prints(&["simplify", "--", once], once);
+    }
+}
+
+#[test]
+fn simplify_latex() {
+    let args = ["simplify", "--latex", "1/sqrt(x^2 + y^2 + z^2)^3"];
+    let out = lingrav(&args);
+    assert_clean(&args, &out, 0);
+    assert!(
+        out.0.starts_with("\\frac{\\sqrt{") && out.0.ends_with("}\n"),
+        "{}",
+        out.0
+    );
+    check_prints(
+        &["simplify", "--latex", "sin(x)/2"],
+        "\\frac{\\sin\\left(x\\right)}{2}",
+    );
+}
+
+#[test]
+fn diff_by_several_variables() {
+    check_prints(&["diff", "x^2*y^3", "x", "y"], "6*x*y^2");
+    check_prints(&["diff", "x^3", "x", "x", "x"], "6");
+    check_prints(&["diff", "x^3", "y"], "0");
+    check_prints(&["diff", "F(t - r)/r", "t", "t"], "F''(-r + t)/r");
+    // (The help example `diff 'sqrt(x^2 + y^2 + z^2)' x` is checked by the general tests.)
+    check_prints(&["diff", "sin(x)", "x", "--latex"], "\\cos\\left(x\\right)");
+    // The order of the variables does not matter.
+    let e = "exp(x*y)*F(x - 2*y)";
+    let (xy, _, _) = lingrav(&["diff", e, "x", "y"]);
+    let (yx, _, _) = lingrav(&["diff", e, "y", "x"]);
+    assert_eq!(xy, yx);
+    // And the result agrees with the derivative operator.
+    let (op, _, _) = lingrav(&["simplify", &format!("d_x_y({e})")]);
+    assert_eq!(xy, op);
+}
+
+#[test]
+fn diff_needs_a_variable_name() {
+    for vars in [&[][..], &["2x"], &["sin"], &["pi"], &["x+y"]] {
+        let mut args = vec!["diff", "x^2"];
+        args.extend_from_slice(vars);
+        let (stdout, stderr, code) = lingrav(&args);
+        assert_eq!(code, 2, "lingrav {args:?}\n{stderr}");
+        assert!(stdout.is_empty(), "lingrav {args:?} printed {stdout:?}");
+        assert!(!stderr.contains("panicked"), "{stderr}");
+    }
+    let (_, stderr, _) = lingrav(&["diff", "x^2", "2x"]);
+    assert!(stderr.contains("cannot differentiate by `2x`"), "{stderr}");
+}

@@ -1,0 +1,181 @@
+//! What every command shares: version, help, usage errors, a closed output pipe.
+
+use crate::support::{assert_clean, command, lingrav};
+use std::io::Read as _;
+use std::path::Path;
+use std::process::Stdio;
+
+#[test]
+fn version() {
+    let want = format!("lingrav {}\n", env!("CARGO_PKG_VERSION"));
+    for args in [&["--version"][..], &["-V"]] {
+        let out = lingrav(args);
+        assert_clean(args, &out, 0);
+        assert_eq!(out.0, want, "lingrav {args:?}");
+    }
+}
+
+/// The subcommands listed by `lingrav --help`, without `help` itself.
+fn subcommands() -> Vec<String> {
+    let out = lingrav(&["--help"]);
+    assert_clean(&["--help"], &out, 0);
+    let mut in_list = false;
+    let mut names = Vec::new();
+    for line in out.0.lines() {
+        if line.starts_with("Commands:") {
+            in_list = true;
+        } else if in_list && line.trim().is_empty() {
+            break;
+        } else if in_list
+            && let Some(name) = line.split_whitespace().next()
+            && name != "help"
+        {
+            names.push(name.to_string());
+        }
+    }
+    names
+}
+
+#[test]
+fn every_command_has_help_with_an_example() {
+    let names = subcommands();
+    for expected in ["zero", "simplify", "diff"] {
+        assert!(
+            names.iter().any(|n| n == expected),
+            "{expected} is not listed: {names:?}"
+        );
+    }
+    for name in &names {
+        let args = [name.as_str(), "--help"];
+        let out = lingrav(&args);
+        assert_clean(&args, &out, 0);
+        let example = format!("  lingrav {name} ");
+        assert!(
+            out.0.contains("Example") && out.0.contains(&example),
+            "`lingrav {name} --help` shows no example:\n{}",
+            out.0
+        );
+    }
+}
+
+/// Every help example that says what it prints (`lingrav CMD 'expr' ARGS  # prints OUT`)
+/// prints exactly that.
+#[test]
+fn help_examples_print_what_they_say() {
+    let mut checked = 0;
+    for name in subcommands() {
+        let (help, _, _) = lingrav(&[name.as_str(), "--help"]);
+        for line in help.lines() {
+            let Some((command, printed)) = line.split_once("# prints ") else {
+                continue;
+            };
+            let args = shell_words(command.trim().strip_prefix("lingrav ").unwrap_or(""));
+            let args: Vec<&str> = args.iter().map(String::as_str).collect();
+            let out = lingrav(&args);
+            assert_clean(&args, &out, 0);
+            assert_eq!(
+                out.0.trim_end(),
+                printed.trim(),
+                "`{}` (from `lingrav {name} --help`)",
+                command.trim()
+            );
+            checked += 1;
+        }
+    }
+    assert!(checked > 0, "no help example says what it prints");
+}
+
+/// Splits a command line written with single quotes, as the help examples are.
+fn shell_words(s: &str) -> Vec<String> {
+    let mut words = Vec::new();
+    let mut cur = String::new();
+    let mut quoted = false;
+    let mut in_word = false;
+    for c in s.chars() {
+        match c {
+            '\'' => {
+                quoted = !quoted;
+                in_word = true;
+            }
+            c if c.is_whitespace() && !quoted => {
+                if in_word {
+                    words.push(std::mem::take(&mut cur));
+                    in_word = false;
+                }
+            }
+            c => {
+                cur.push(c);
+                in_word = true;
+            }
+        }
+    }
+    if in_word {
+        words.push(cur);
+    }
+    words
+}
+
+#[test]
+fn top_level_help_states_the_exit_codes() {
+    let (stdout, _, _) = lingrav(&["--help"]);
+    for needle in ["0 holds", "1 fails", "2 bad input", "3 undecided"] {
+        assert!(
+            stdout.contains(needle),
+            "no `{needle}` in --help:\n{stdout}"
+        );
+    }
+}
+
+#[test]
+fn usage_errors_exit_2() {
+    for args in [
+        &[][..],
+        &["frobnicate"],
+        &["zero"],
+        &["zero", "x", "y", "z"],
+        &["zero", "x", "--seed", "minus one"],
+        &["zero", "x", "--format", "yaml"],
+        &["simplify", "x", "--bogus"],
+    ] {
+        let (stdout, stderr, code) = lingrav(args);
+        assert_eq!(code, 2, "lingrav {args:?}\n{stderr}");
+        assert!(stdout.is_empty(), "lingrav {args:?} printed {stdout:?}");
+        assert!(
+            (stderr.contains("error:") || stderr.contains("Usage:"))
+                && !stderr.contains("panicked"),
+            "lingrav {args:?}:\n{stderr}"
+        );
+    }
+}
+
+/// A reader that stops early (`lingrav simplify ... | head -c 16`) is not an error: exit 0,
+/// nothing on standard error. The output is larger than a pipe buffer, so the write is still
+/// in progress when the pipe closes.
+#[test]
+fn a_closed_pipe_is_not_an_error() {
+    let args = ["simplify", "(a + b + c + d + e + f + 1)^9"];
+    let (full, _, _) = lingrav(&args);
+    assert!(
+        full.len() > 1 << 16,
+        "the output ({} bytes) must outgrow a 64 KiB pipe buffer for this test to mean anything",
+        full.len()
+    );
+    let mut child = command(Path::new(env!("CARGO_MANIFEST_DIR")), &args)
+        .stdin(Stdio::null())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("lingrav runs");
+    let mut head = [0u8; 16];
+    child
+        .stdout
+        .take()
+        .expect("piped stdout")
+        .read_exact(&mut head)
+        .expect("the first bytes arrive");
+    // The read end is closed here, when the pipe is dropped.
+    let out = child.wait_with_output().expect("lingrav finishes");
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(0), "stderr:\n{stderr}");
+    assert!(stderr.is_empty(), "stderr:\n{stderr}");
+}

@@ -1,0 +1,76 @@
+//! Running the built binary, shared by every CLI test module.
+
+#![allow(
+    dead_code,
+    reason = "each test module uses a different subset of the helpers"
+)]
+
+use std::path::Path;
+use std::process::{Command, Stdio};
+
+/// What one run of the binary produced.
+#[derive(Debug)]
+pub struct Run {
+    /// Standard output, as text.
+    pub stdout: String,
+    /// Standard error, as text.
+    pub stderr: String,
+    /// The exit code; `None` if the process was ended by a signal.
+    pub code: Option<i32>,
+}
+
+/// Runs `lingrav` with `args` in the crate's root directory and returns
+/// `(stdout, stderr, exit code)`. A run ended by a signal fails the test.
+pub fn lingrav(args: &[&str]) -> (String, String, i32) {
+    lingrav_in(Path::new(env!("CARGO_MANIFEST_DIR")), args)
+}
+
+/// Like [`lingrav`], with `dir` as the working directory (for relative file arguments).
+pub fn lingrav_in(dir: &Path, args: &[&str]) -> (String, String, i32) {
+    let r = run(dir, args);
+    let code = r.code.unwrap_or_else(|| {
+        panic!(
+            "lingrav {args:?} was ended by a signal\nstderr:\n{}",
+            r.stderr
+        )
+    });
+    (r.stdout, r.stderr, code)
+}
+
+/// The full result of a run, for tests that care how the process ended.
+pub fn run(dir: &Path, args: &[&str]) -> Run {
+    let out = command(dir, args)
+        .stdin(Stdio::null())
+        .output()
+        .unwrap_or_else(|e| panic!("cannot run lingrav {args:?}: {e}"));
+    Run {
+        stdout: String::from_utf8_lossy(&out.stdout).into_owned(),
+        stderr: String::from_utf8_lossy(&out.stderr).into_owned(),
+        code: out.status.code(),
+    }
+}
+
+/// The command for `lingrav args` in `dir`, with a plain environment for diagnostics: no
+/// colours and a fixed width, so output does not depend on the terminal running the tests.
+pub fn command(dir: &Path, args: &[&str]) -> Command {
+    let mut c = Command::new(env!("CARGO_BIN_EXE_lingrav"));
+    c.args(args)
+        .current_dir(dir)
+        .env("NO_COLOR", "1")
+        .env("COLUMNS", "100")
+        .env_remove("CLICOLOR_FORCE")
+        .env_remove("FORCE_COLOR");
+    c
+}
+
+/// Asserts that a run was clean: exit `code`, nothing on standard error, no panic.
+pub fn assert_clean(args: &[&str], (stdout, stderr, got): &(String, String, i32), code: i32) {
+    assert_eq!(
+        *got, code,
+        "lingrav {args:?}: exit {got}, expected {code}\nstdout:\n{stdout}\nstderr:\n{stderr}"
+    );
+    assert!(
+        stderr.is_empty(),
+        "lingrav {args:?} wrote to stderr:\n{stderr}"
+    );
+}
