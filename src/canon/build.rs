@@ -155,9 +155,11 @@ impl BuildError {
     }
     fn canon(e: CanonError, span: Span) -> BuildError {
         let limit = matches!(e, CanonError::TooLarge(_) | CanonError::Timeout(_));
-        BuildError { limit, ..BuildError::new(e.to_string(), span, None) }
+        BuildError {
+            limit,
+            ..BuildError::new(e.to_string(), span, None)
+        }
     }
-
 }
 
 impl Store {
@@ -281,7 +283,8 @@ impl Store {
                 let fr = self.build(r, names)?;
                 let il = self.inverse_factored(l, fl, names)?;
                 let ir = self.inverse_factored(r, fr, names)?;
-                self.mul(il, ir).map_err(|err| BuildError::canon(err, b.span))
+                self.mul(il, ir)
+                    .map_err(|err| BuildError::canon(err, b.span))
             }
             // A written integer power: (1/P)^n keeps the factor P with exponent n.
             ExprKind::Binary(BinOp::Pow, base, exp) if matches!(&exp.kind, ExprKind::Num(q) if q.is_integer()) =>
@@ -292,7 +295,9 @@ impl Store {
                     ExprKind::Num(q) => q.to_integer(),
                     _ => unreachable!("guarded above"),
                 };
-                let n: i64 = n.try_into().map_err(|_| BuildError::canon(CanonError::TooLarge(self.limits.max_terms), b.span))?;
+                let n: i64 = n.try_into().map_err(|_| {
+                    BuildError::canon(CanonError::TooLarge(self.limits.max_terms), b.span)
+                })?;
                 self.powi(ib, n).map_err(|err| match err {
                     CanonError::DivisionByZero => zero_div(b.span),
                     other => BuildError::canon(other, b.span),

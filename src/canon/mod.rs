@@ -444,15 +444,26 @@ impl Store {
             }
             self.check_size(acc.len())?;
         }
-        let mut r = Rat { num: Self::sort_terms(acc), den: Vec::new() };
+        let mut r = Rat {
+            num: Self::sort_terms(acc),
+            den: Vec::new(),
+        };
         // Terms that brought a radicand power along: sum those sharing one, then multiply once.
-        let mut by_extra: std::collections::BTreeMap<Form, FxHashMap<MonoId, Coeff>> = std::collections::BTreeMap::new();
+        let mut by_extra: std::collections::BTreeMap<Form, FxHashMap<MonoId, Coeff>> =
+            std::collections::BTreeMap::new();
         for (m, c, extra) in extras {
-            let e = by_extra.entry(extra).or_default().entry(m).or_insert_with(Coeff::zero);
+            let e = by_extra
+                .entry(extra)
+                .or_default()
+                .entry(m)
+                .or_insert_with(Coeff::zero);
             *e = e.add(&c);
         }
         for (extra, terms) in by_extra {
-            let t = self.intern_rat(Rat { num: Self::sort_terms(terms), den: Vec::new() });
+            let t = self.intern_rat(Rat {
+                num: Self::sort_terms(terms),
+                den: Vec::new(),
+            });
             let p = self.mul(t, extra)?;
             let cur = self.intern_rat(r);
             let s = self.add(cur, p)?;
@@ -629,18 +640,30 @@ impl Store {
     /// polynomial ring is also exact modulo the root relations, so the result is an identity.
     fn poly_div_exact(&mut self, n: &Poly, f: &Poly) -> Option<Poly> {
         use std::collections::BTreeMap;
-        let fmonos: Vec<Mono> = f.iter().map(|(m, _)| self.monos[m.0 as usize].clone()).collect();
+        let fmonos: Vec<Mono> = f
+            .iter()
+            .map(|(m, _)| self.monos[m.0 as usize].clone())
+            .collect();
         if fmonos.iter().any(|m| m.exp.is_some()) || f.len() < 2 {
             return None;
         }
         let kf: Vec<KernelId> = {
-            let set: std::collections::BTreeSet<KernelId> = fmonos.iter().flat_map(|m| m.pows.iter().map(|p| p.0)).collect();
+            let set: std::collections::BTreeSet<KernelId> = fmonos
+                .iter()
+                .flat_map(|m| m.pows.iter().map(|p| p.0))
+                .collect();
             set.into_iter().collect()
         };
         let vector = |pows: &[(KernelId, i32)]| -> Vec<i32> {
-            kf.iter().map(|k| pows.iter().find(|p| p.0 == *k).map(|p| p.1).unwrap_or(0)).collect()
+            kf.iter()
+                .map(|k| pows.iter().find(|p| p.0 == *k).map(|p| p.1).unwrap_or(0))
+                .collect()
         };
-        let fterms: Vec<(Vec<i32>, Coeff)> = fmonos.iter().zip(f).map(|(m, (_, c))| (vector(&m.pows), c.clone())).collect();
+        let fterms: Vec<(Vec<i32>, Coeff)> = fmonos
+            .iter()
+            .zip(f)
+            .map(|(m, (_, c))| (vector(&m.pows), c.clone()))
+            .collect();
         let (flead, fcoef) = fterms.iter().max_by(|a, b| a.0.cmp(&b.0)).cloned()?;
         let finv = fcoef.inv()?;
         // Group the numerator by everything f does not involve.
@@ -648,13 +671,22 @@ impl Store {
         let mut groups: BTreeMap<Rest, BTreeMap<Vec<i32>, Coeff>> = BTreeMap::new();
         for (m, c) in n {
             let mono = &self.monos[m.0 as usize];
-            let rest: Vec<(KernelId, i32)> = mono.pows.iter().filter(|p| !kf.contains(&p.0)).cloned().collect();
-            groups.entry((rest, mono.exp)).or_default().insert(vector(&mono.pows), c.clone());
+            let rest: Vec<(KernelId, i32)> = mono
+                .pows
+                .iter()
+                .filter(|p| !kf.contains(&p.0))
+                .cloned()
+                .collect();
+            groups
+                .entry((rest, mono.exp))
+                .or_default()
+                .insert(vector(&mono.pows), c.clone());
         }
         let mut out: FxHashMap<MonoId, Coeff> = FxHashMap::default();
         let mut budget = 4 * (n.len() + f.len()) + 64;
         for ((rest, exp), mut rem) in groups {
-            while let Some((lead, c)) = rem.iter().next_back().map(|(k, v)| (k.clone(), v.clone())) {
+            while let Some((lead, c)) = rem.iter().next_back().map(|(k, v)| (k.clone(), v.clone()))
+            {
                 budget = budget.checked_sub(1)?;
                 let d: Vec<i32> = lead.iter().zip(&flead).map(|(a, b)| a - b).collect();
                 // The quotient of leading terms must be a monomial with exponents no lower
@@ -677,7 +709,10 @@ impl Store {
                     }
                 }
                 pows.sort_by_key(|p| p.0);
-                if pows.iter().any(|(k, e)| *e < 0 && matches!(self.kernel(*k), Kernel::Root { .. })) {
+                if pows
+                    .iter()
+                    .any(|(k, e)| *e < 0 && matches!(self.kernel(*k), Kernel::Root { .. }))
+                {
                     return None;
                 }
                 if rem.keys().next_back().is_some_and(|k| *k >= lead) {
@@ -1219,8 +1254,15 @@ impl Store {
     /// kept as they are (so it is the complex conjugate when the kernels are real).
     pub fn conj_formal(&mut self, f: Form) -> CResult<Form> {
         let r = self.rats[f.0 as usize].clone();
-        let plain = |st: &Store, p: &Poly| p.iter().all(|(m, c)| c.is_real() && st.monos[m.0 as usize].exp.is_none());
-        if plain(self, &r.num) && r.den.iter().all(|(fid, _)| plain(self, &self.factors[fid.0 as usize])) {
+        let plain = |st: &Store, p: &Poly| {
+            p.iter()
+                .all(|(m, c)| c.is_real() && st.monos[m.0 as usize].exp.is_none())
+        };
+        if plain(self, &r.num)
+            && r.den
+                .iter()
+                .all(|(fid, _)| plain(self, &self.factors[fid.0 as usize]))
+        {
             return Ok(f);
         }
         let num = self.conj_poly(&r.num)?;
@@ -1238,8 +1280,14 @@ impl Store {
         let mut acc = self.zero;
         for (m, c) in p {
             let mono = self.monos[m.0 as usize].clone();
-            let plain = self.intern_mono(Mono { pows: mono.pows, exp: None });
-            let mut t = self.intern_rat(Rat { num: vec![(plain, c.conj())], den: Vec::new() });
+            let plain = self.intern_mono(Mono {
+                pows: mono.pows,
+                exp: None,
+            });
+            let mut t = self.intern_rat(Rat {
+                num: vec![(plain, c.conj())],
+                den: Vec::new(),
+            });
             if let Some(e) = mono.exp {
                 let ec = self.conj_formal(e)?;
                 let x = self.exp(ec)?;

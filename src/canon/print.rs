@@ -143,8 +143,14 @@ impl Store {
         if p.len() < 2 {
             return self.pretty_poly(p, scale);
         }
-        let monos: Vec<super::Mono> = p.iter().map(|(m, _)| self.monos[m.0 as usize].clone()).collect();
-        let kernels: std::collections::BTreeSet<KernelId> = monos.iter().flat_map(|m| m.pows.iter().map(|q| q.0)).collect();
+        let monos: Vec<super::Mono> = p
+            .iter()
+            .map(|(m, _)| self.monos[m.0 as usize].clone())
+            .collect();
+        let kernels: std::collections::BTreeSet<KernelId> = monos
+            .iter()
+            .flat_map(|m| m.pows.iter().map(|q| q.0))
+            .collect();
         let mut content: Vec<(KernelId, i32)> = Vec::new();
         for k in kernels {
             let min = monos
@@ -158,14 +164,21 @@ impl Store {
                 .max()
                 .unwrap_or(0);
             // Take out a power shared by all terms (positive), or a common denominator power.
-            let take = if min > 0 { min } else if max < 0 { max } else { 0 };
+            let take = if min > 0 {
+                min
+            } else if max < 0 {
+                max
+            } else {
+                0
+            };
             if take != 0 {
                 content.push((k, take));
             }
         }
         let scaled: Vec<Coeff> = p.iter().map(|(_, c)| c.mul(scale)).collect();
         // A pure fraction (x/2 + 3/4) reads better left alone unless kernels come out too.
-        let g = rational_content(&scaled).filter(|g| !content.is_empty() || !g.numer().is_one_int());
+        let g =
+            rational_content(&scaled).filter(|g| !content.is_empty() || !g.numer().is_one_int());
         if content.is_empty() && g.is_none() {
             return self.pretty_poly(p, scale);
         }
@@ -192,7 +205,11 @@ impl Store {
         let mut dens = Vec::new();
         for (k, e) in content {
             let kp = self.pretty_kernel(k);
-            let f = if e.unsigned_abs() == 1 { kp } else { Pretty::Pow(Box::new(kp), e.unsigned_abs()) };
+            let f = if e.unsigned_abs() == 1 {
+                kp
+            } else {
+                Pretty::Pow(Box::new(kp), e.unsigned_abs())
+            };
             if e > 0 { nums.push(f) } else { dens.push(f) }
         }
         nums.sort_by_key(factor_order);
@@ -222,9 +239,16 @@ impl Store {
         // the true real and imaginary parts when the kernels are real.
         let c = self.conj_formal(e).ok()?;
         let sum = self.add(e, c).ok()?;
-        let p = self.scale(sum, &Coeff::rational(super::Q::new(1.into(), 2.into()))).ok()?;
+        let p = self
+            .scale(sum, &Coeff::rational(super::Q::new(1.into(), 2.into())))
+            .ok()?;
         let diff = self.sub(e, c).ok()?;
-        let q = self.scale(diff, &Coeff::i().mul(&Coeff::rational(super::Q::new((-1).into(), 2.into())))).ok()?;
+        let q = self
+            .scale(
+                diff,
+                &Coeff::i().mul(&Coeff::rational(super::Q::new((-1).into(), 2.into()))),
+            )
+            .ok()?;
         Some((p, q))
     }
 

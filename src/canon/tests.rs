@@ -122,7 +122,10 @@ fn printing_is_readable_real_form() {
     check_text("cos(x)^2 + sin(x)^2", "1");
     check_text("2*sin(x)*cos(x)", "sin(2*x)");
     check_text("A*cos(omega*(t - z))", "A*cos(omega*(t - z))");
-    check_text("m*sqrt(x^2 + y^2 + z^2)*(y^2 - 2*x^2)", "m*sqrt(x^2 + y^2 + z^2)*(-2*x^2 + y^2)");
+    check_text(
+        "m*sqrt(x^2 + y^2 + z^2)*(y^2 - 2*x^2)",
+        "m*sqrt(x^2 + y^2 + z^2)*(-2*x^2 + y^2)",
+    );
     check_text("a*w^2*cos(w*(t - z))", "a*w^2*cos(w*(t - z))");
     check_text("x/2 + 3/4", "x/2 + 3/4");
     check_text("(x + 1)^2", "x^2 + 2*x + 1");

@@ -96,7 +96,11 @@ pub struct DiffArgs {
 fn build_arg(store: &mut Store, text: &str, label: &str) -> Result<Form, Failure> {
     let e = lingrav::parse::parse(text).map_err(|e| with_source(e, label, text))?;
     store.build(&e, &Names::free()).map_err(|e| {
-        if e.limit { Failure::GaveUp(e.message) } else { Failure::Input(with_source(e, label, text)) }
+        if e.limit {
+            Failure::GaveUp(e.message)
+        } else {
+            Failure::Input(with_source(e, label, text))
+        }
     })
 }
 

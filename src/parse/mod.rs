@@ -282,8 +282,10 @@ impl Parser<'_> {
             BinOp::Pow => BinOp::Pow,
         };
         let inverse = matches!(op, BinOp::Sub | BinOp::Div);
-        let right_chain: Vec<(BinOp, Node)> =
-            right_chain.into_iter().map(|(o, n)| (if inverse { flip(o) } else { o }, n)).collect();
+        let right_chain: Vec<(BinOp, Node)> = right_chain
+            .into_iter()
+            .map(|(o, n)| (if inverse { flip(o) } else { o }, n))
+            .collect();
         let right = self.balanced(pivot, right_chain)?;
         self.binary(op, left, right)
     }
@@ -971,7 +973,12 @@ mod tests {
     fn long_sums_become_balanced_trees() {
         // Short chains keep their written shape; long ones (printed forms can have thousands
         // of terms) are balanced, so depth stays logarithmic and nothing overflows.
-        let terms = |n: usize, sep: &str| (0..n).map(|i| format!("x{i}")).collect::<Vec<_>>().join(sep);
+        let terms = |n: usize, sep: &str| {
+            (0..n)
+                .map(|i| format!("x{i}"))
+                .collect::<Vec<_>>()
+                .join(sep)
+        };
         let e = parse(&terms(20, " - ")).expect("parses");
         assert_eq!(e.to_string(), terms(20, " - "));
         for sep in [" + ", " - ", "*", "/"] {

@@ -210,7 +210,11 @@ pub fn decide(store: &mut Store, f: Form, sampling: &Sampling) -> Verdict {
         }
     }
     let n = store.num_terms(f);
-    let n = if n == 1 { "1 term".to_string() } else { format!("{n} terms") };
+    let n = if n == 1 {
+        "1 term".to_string()
+    } else {
+        format!("{n} terms")
+    };
     if evaluated == 0 {
         Verdict::Undecided(format!(
             "not reduced to zero ({n} left), and none of {} sample points could be evaluated (seed {:#x})",
