@@ -8,13 +8,18 @@
 //! Conventions: signature (-,+,+,+), coordinates (t,x,y,z), G = c = 1, indices of h and T down.
 #![warn(missing_docs)]
 
+pub mod adm;
 pub mod canon;
 pub mod check;
+pub mod emit;
+pub mod export;
 pub mod expr;
+pub mod gauge;
 pub mod interval;
 pub mod parse;
 pub mod problem;
 pub mod tensor;
+pub mod tt;
 pub mod zero;
 
 pub use expr::{Expr, ExprKind, Span};

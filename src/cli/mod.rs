@@ -1,8 +1,10 @@
 //! Argument parsing and dispatch.
 
+mod export_cmds;
 mod expr_cmds;
 mod out;
 mod problem_cmds;
+mod tt_cmds;
 
 use clap::{Parser, Subcommand};
 use std::process::ExitCode;
@@ -62,6 +64,95 @@ Examples:
   lingrav show worked/vibrating_rod.toml einstein
   lingrav show --latex worked/static_mass.toml riemann")]
     Show(problem_cmds::ShowArgs),
+    /// The TT part of a perturbation along a direction, its plus and cross polarizations.
+    #[command(after_help = "\
+Examples:
+  lingrav project worked/lorenz_wave.toml --direction 0,0,1
+  lingrav project worked/oblique_wave.toml --direction 3/5,0,4/5 --format json
+  lingrav project worked/lorenz_oblique.toml --direction 2/3,2/3,1/3 --basis 1/3,-2/3,2/3
+  lingrav project worked/lorenz_wave.toml --direction theta=0,phi=0 --output tt.toml
+
+Directions: a unit vector nx,ny,nz (exact: 3/5,0,4/5 or 1/sqrt(3),1/sqrt(3),1/sqrt(3); another
+length is refused unless --normalize), polar angles theta=..,phi=.. (constant expressions, the
+file's parameters allowed), or radial (n = x/r, for the field of a localized source).
+Default basis: u = e_theta, v = e_phi of n's polar angles, phi = 0 on the z axis (so along z,
+h_plus = h^TT_xx and h_cross = h^TT_xy); --basis ax,ay,az sets u, and v = n x u.
+\"not TT\" is |h - h^TT| / |h| (Frobenius norms of the components): exact when 0 or 1, else
+numerical evidence at sample points. --output writes the TT part with the claims proved for it
+(field_equations, gauge tt). Exit 0 (with --output: both proved), 1 one fails, 3 undecided,
+2 bad input.")]
+    Project(tt_cmds::ProjectArgs),
+    /// Apply a gauge transformation, or construct the one that brings a plane wave to TT gauge.
+    #[command(after_help = "\
+Examples:
+  lingrav gauge worked/lorenz_wave.toml --vector 'b*sin(w*(t - z))/(2*w), 0, 0, -b*sin(w*(t - z))/(2*w)'
+  lingrav gauge worked/lorenz_wave.toml --to-tt
+  lingrav gauge worked/lorenz_oblique.toml --to-tt --output oblique_tt.toml
+
+h -> h - d_mu xi_nu - d_nu xi_mu, xi index down; prints h' and whether the Lorenz gauge is
+preserved (box xi_nu = 0). --to-tt builds xi for a Lorenz-gauge plane wave (phase read off
+the perturbation, or --wave-vector w,kx,ky,kz) and verifies h' exactly: TT gauge, Lorenz
+gauge, field equations. Exit: --to-tt 0 proved, 1 fails, 3 undecided; --vector 0 once h' is
+computed; 2 bad input (or not a Lorenz-gauge plane wave).")]
+    Gauge(tt_cmds::GaugeArgs),
+    /// Decide whether two perturbations are the same physics in different gauges.
+    #[command(after_help = "\
+Examples:
+  lingrav compare worked/lorenz_oblique.toml worked/lorenz_oblique_tt.toml
+  lingrav compare --format json worked/lorenz_wave.toml worked/oblique_wave.toml
+
+Same physics: identical linearized Riemann tensors (each of the 20 independent components
+of R[A] - R[B] tested exactly). Exit 0 same, 1 different (the differing components are
+listed with a certified witness), 3 undecided, 2 bad input.")]
+    Compare(tt_cmds::CompareArgs),
+    /// How a ring of free test masses transverse to a direction responds to the TT part.
+    #[command(after_help = "\
+Examples:
+  lingrav ring worked/oblique_wave.toml --direction 3/5,0,4/5 --times 0,0.5,1,1.5
+  lingrav ring worked/lorenz_wave.toml --direction 0,0,1 --radius 2 --times 0,pi/(4*w),pi/(2*w) --svg ring.svg
+
+Masses at L (cos phi u + sin phi v); delta x^i = (1/2) h^TT_ij x^j with h^TT at the ring's
+centre (--at, default the origin), evaluated numerically with the file's parameter values
+and function samples. The SVG shows each time as a panel: the ring at rest (dashed), the
+deformed ring and the masses, displacements exaggerated by a printed factor.")]
+    Ring(tt_cmds::RingArgs),
+    /// Write reference values (h, curvature, ADM data, constraints, Psi4) at your points.
+    #[command(after_help = "\
+Examples:
+  lingrav export worked/linear_wave_testbed.toml --quantity adm,constraints --grid --out adm.csv
+  lingrav export worked/oblique_wave.toml -q h,dh --at points.csv --out h.npy
+  lingrav export worked/oblique_wave.toml -q psi4,hplus,hcross --direction 3/5,0,4/5 --grid --out w.json
+
+Points: --at FILE, a CSV file with one t,x,y,z per line (optional header t,x,y,z; # comments),
+or --grid, the box of the grid check ([grid] table or --center, --width, --points; a spatial
+grid at the centre's t, rows in C order with z fastest; --spacetime lets t vary too).
+Columns: t,x,y,z, then each quantity's components, e.g. h_tt,h_tx,...,h_zz (order tt tx ty tz
+xx xy xz yy yz zz); adm: alpha, beta_x.., gamma_xx.., K_xx.. (MTW/York sign K = -(1/2)(d_t h_ij
+- d_i h_tj - d_j h_ti)); constraints: H, M_x, M_y, M_z (zero for a solution); psi4: psi4_re,
+psi4_im (tetrad n = (d_t - n.d)/sqrt2, m = (u + i v)/sqrt2; Psi4 = -(h_plus'' - i h_cross'')
+for a TT wave along n). .npy: one float64 array, shape (rows, columns), columns as in CSV.
+The sidecar PATH.meta.json holds the column names, conventions, parameter values, every
+column's exact expression and certified error bound, and the tool version. Files appear
+whole (temporary file, then rename); an existing file is kept unless --force. Exit 0
+written, 2 bad input, a point where a value is not finite, or an I/O error (nothing written).")]
+    Export(export_cmds::ExportArgs),
+    /// Emit code (C, Python, Fortran, Rust, LaTeX) that computes the quantities at a point.
+    #[command(after_help = "\
+Examples:
+  lingrav emit worked/linear_wave_testbed.toml --quantity adm --lang c --out adm.c
+  lingrav emit worked/oblique_wave.toml -q h,riemann --lang python --out wave.py
+  lingrav emit worked/vibrating_rod.toml -q h --lang fortran --samples
+
+C:       void lingrav_<quantity>(double t, double x, double y, double z,
+                                 const double *params, double *out);
+Fortran: subroutine lingrav_<quantity>(t, x, y, z, params, out) in module lingrav_formulas.
+Rust:    pub fn lingrav_<quantity>(t, x, y, z: f64, params: &[f64; P], out: &mut [f64; N]).
+Python:  lingrav_<quantity>(t, x, y, z, <parameters with the file's values as defaults>)
+         returns an array of shape (N,) + the broadcast shape of the arguments.
+params holds the file's parameters in file order; out the columns in the order of export.
+Arbitrary functions F are calls to functions you supply, F_d0(u) = F(u), F_d1(u) = F'(u),
+..., or, with --samples, the file's samples. The header comment documents everything.")]
+    Emit(export_cmds::EmitArgs),
 }
 
 /// Runs the command line and returns the exit code.
@@ -80,6 +171,12 @@ pub fn run() -> ExitCode {
         Command::Diff(a) => expr_cmds::diff(a),
         Command::Check(a) => problem_cmds::run_check(a),
         Command::Show(a) => problem_cmds::run_show(a),
+        Command::Project(a) => tt_cmds::run_project(a),
+        Command::Gauge(a) => tt_cmds::run_gauge(a),
+        Command::Compare(a) => tt_cmds::run_compare(a),
+        Command::Ring(a) => tt_cmds::run_ring(a),
+        Command::Export(a) => export_cmds::run_export(a),
+        Command::Emit(a) => export_cmds::run_emit(a),
     };
     out::finish(result)
 }

@@ -1,0 +1,457 @@
+//! The reference-value commands: `export` (numbers at points, with a JSON sidecar) and
+//! `emit` (source code computing the same quantities).
+//!
+//! Both build their plan first: the problem file, the quantity list, the direction, the
+//! parameter values, the points and the output files (opened as temporary files beside
+//! their targets), so every input error, an existing output or an unwritable directory is
+//! reported before any algebra. Output appears whole, by rename, or not at all.
+
+use super::out::{Failure, Outcome, print};
+use clap::{Args, ValueEnum};
+use lingrav::emit::{Lang, Source, emit};
+use lingrav::export::points::{Grid, PointSet, read_points};
+use lingrav::export::quantity::{Quantity, QuantityError, blocks, direction_help, parse_list};
+use lingrav::export::write::{AtomicFile, FileError, Format, commit_all, write_table};
+use lingrav::export::{SidecarInfo, evaluate, sidecar};
+use lingrav::problem::{Problem, ProblemError};
+use lingrav::tt::{Arg, ArgError, Direction, parse_direction, set_basis};
+use std::io::Write as _;
+use std::path::{Path, PathBuf};
+
+/// Which quantities, and the direction some of them need.
+#[derive(Args, Debug)]
+pub struct QuantityArgs {
+    /// Quantities, comma-separated (the option may be repeated): h, hbar, dh, riemann, ricci,
+    /// einstein, adm, constraints, psi4, hplus, hcross.
+    #[arg(long, short = 'q', value_name = "LIST", required = true)]
+    quantity: Vec<String>,
+    /// Propagation direction for psi4, hplus, hcross: a unit vector `nx,ny,nz`, polar angles
+    /// `theta=..,phi=..`, or `radial` (outgoing from the origin).
+    #[arg(long, value_name = "D", allow_hyphen_values = true)]
+    direction: Option<String>,
+    /// First polarization vector u (perpendicular to the direction); v = n x u.
+    #[arg(
+        long,
+        value_name = "AX,AY,AZ",
+        allow_hyphen_values = true,
+        requires = "direction"
+    )]
+    basis: Option<String>,
+    /// Divide the direction (and basis) by its length instead of refusing a non-unit vector.
+    #[arg(long, requires = "direction")]
+    normalize: bool,
+}
+
+/// Data formats of `export`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum DataFormat {
+    /// Comma-separated values with a header line.
+    Csv,
+    /// NumPy .npy (float64, shape (rows, columns)).
+    Npy,
+    /// JSON: {"columns": [...], "rows": [[...], ...]}.
+    Json,
+}
+
+/// Arguments of `lingrav export`.
+#[derive(Args, Debug)]
+#[command(group(clap::ArgGroup::new("where").required(true).args(["at", "grid"])))]
+pub struct ExportArgs {
+    /// The problem file (TOML).
+    file: PathBuf,
+    #[command(flatten)]
+    quantities: QuantityArgs,
+    /// A CSV file of points, one `t,x,y,z` per line (optional header line `t,x,y,z`).
+    #[arg(long, value_name = "POINTS.csv")]
+    at: Option<PathBuf>,
+    /// Evaluate on a grid: the box of the grid check (the file's [grid] table, its first
+    /// resolution, or --center/--width/--points), spatial at the centre's t.
+    #[arg(long)]
+    grid: bool,
+    /// Grid centre (overrides [grid] center; default 0.3,0.4,0.5,0.6).
+    #[arg(
+        long,
+        value_delimiter = ',',
+        value_name = "T,X,Y,Z",
+        allow_hyphen_values = true,
+        requires = "grid"
+    )]
+    center: Option<Vec<f64>>,
+    /// Grid width in each coordinate (overrides [grid] width; default 0.2).
+    #[arg(long, value_name = "W", requires = "grid")]
+    width: Option<f64>,
+    /// Points per coordinate (overrides the first of [grid] points; default 8).
+    #[arg(long, value_name = "N", requires = "grid")]
+    points: Option<usize>,
+    /// Let t vary over the grid too (points^4 rows instead of points^3).
+    #[arg(long, requires = "grid")]
+    spacetime: bool,
+    /// Set a parameter's value for this export, e.g. --set A=1e-6 (repeatable).
+    #[arg(long = "set", value_name = "NAME=VALUE", allow_hyphen_values = true)]
+    set: Vec<String>,
+    /// Data format (default: from the extension of --out).
+    #[arg(long, value_enum)]
+    format: Option<DataFormat>,
+    /// The data file to write; the sidecar goes to the same path with `.meta.json` appended.
+    #[arg(long, value_name = "PATH")]
+    out: PathBuf,
+    /// Replace the data file and sidecar if they exist.
+    #[arg(long)]
+    force: bool,
+}
+
+/// Languages of `emit`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum LangArg {
+    /// C99 (math.h).
+    C,
+    /// Python 3 with NumPy (broadcasts over arrays).
+    Python,
+    /// Fortran 2008 (a module of subroutines).
+    Fortran,
+    /// Rust (functions over f64).
+    Rust,
+    /// LaTeX aligned equations.
+    Latex,
+}
+
+impl LangArg {
+    fn lang(self) -> Lang {
+        match self {
+            LangArg::C => Lang::C,
+            LangArg::Python => Lang::Python,
+            LangArg::Fortran => Lang::Fortran,
+            LangArg::Rust => Lang::Rust,
+            LangArg::Latex => Lang::Latex,
+        }
+    }
+}
+
+/// Arguments of `lingrav emit`.
+#[derive(Args, Debug)]
+pub struct EmitArgs {
+    /// The problem file (TOML).
+    file: PathBuf,
+    #[command(flatten)]
+    quantities: QuantityArgs,
+    /// The language.
+    #[arg(long, value_enum)]
+    lang: LangArg,
+    /// Replace arbitrary functions by the file's samples instead of calling functions you
+    /// supply (F_d0(u) = F, F_d1(u) = F', ...).
+    #[arg(long)]
+    samples: bool,
+    /// Write to this file instead of standard output.
+    #[arg(long, value_name = "PATH")]
+    out: Option<PathBuf>,
+    /// Replace the output file if it exists.
+    #[arg(long)]
+    force: bool,
+}
+
+fn load(path: &Path) -> Result<Problem, Failure> {
+    lingrav::problem::read(path).map_err(|e| Failure::Input(miette::Report::new(e)))
+}
+
+fn arg_failure(e: ArgError) -> Failure {
+    Failure::Input(miette::Report::new(e))
+}
+
+fn file_failure(e: FileError) -> Failure {
+    let help = match &e {
+        FileError::Exists(_) => "choose another name, or pass --force",
+        FileError::NoDirectory(..) => "create the directory first, or write somewhere else",
+        FileError::IsDirectory(_) => "name a file, e.g. --out data.csv",
+        FileError::Io(..) => "check that the directory exists and is writable",
+    };
+    Failure::Input(miette::miette!(help = help, "{e}"))
+}
+
+fn quantity_failure(e: QuantityError) -> Failure {
+    match e {
+        QuantityError::MissingDirection(_) => {
+            Failure::Input(miette::miette!(help = direction_help(), "{e}"))
+        }
+        QuantityError::Algebra(_) => Failure::Input(miette::miette!("{e}")),
+    }
+}
+
+/// The quantity list and the direction, read against the problem's names.
+fn plan_quantities(
+    p: &mut Problem,
+    a: &QuantityArgs,
+) -> Result<(Vec<Quantity>, Option<Direction>), Failure> {
+    let mut qs = Vec::new();
+    for text in &a.quantity {
+        parse_list(Arg::new("--quantity", text), &mut qs).map_err(arg_failure)?;
+    }
+    let needs: Vec<&str> = qs
+        .iter()
+        .filter(|q| q.needs_direction())
+        .map(|q| q.name())
+        .collect();
+    let dir = match &a.direction {
+        Some(d) => {
+            let names = p.names.clone();
+            let sampling = p.sampling.clone();
+            let mut dir = parse_direction(
+                &mut p.store,
+                &names,
+                &sampling,
+                Arg::new("--direction", d),
+                a.normalize,
+            )
+            .map_err(arg_failure)?;
+            if let Some(b) = &a.basis {
+                set_basis(
+                    &mut p.store,
+                    &names,
+                    &sampling,
+                    &mut dir,
+                    Arg::new("--basis", b),
+                    a.normalize,
+                )
+                .map_err(arg_failure)?;
+            }
+            Some(dir)
+        }
+        None if !needs.is_empty() => {
+            return Err(Failure::Input(miette::miette!(
+                help = direction_help(),
+                "{} {} defined relative to a propagation direction: give --direction",
+                needs.join(", "),
+                if needs.len() == 1 { "is" } else { "are" }
+            )));
+        }
+        None => None,
+    };
+    Ok((qs, dir))
+}
+
+fn direction_json(p: &mut Problem, d: &Direction) -> serde_json::Value {
+    let mut v = |x: &[lingrav::canon::Form; 3]| -> Vec<String> {
+        x.iter().map(|f| p.store.to_text(*f)).collect()
+    };
+    let (n, u, w) = (v(&d.n), v(&d.u), v(&d.v));
+    serde_json::json!({
+        "n": n, "u": u, "v": w,
+        "n_note": d.n_note,
+        "basis_note": d.basis_note,
+    })
+}
+
+fn direction_text(p: &mut Problem, d: &Direction) -> String {
+    let mut v = |x: &[lingrav::canon::Form; 3]| -> String {
+        let parts: Vec<String> = x.iter().map(|f| p.store.to_text(*f)).collect();
+        format!("({})", parts.join(", "))
+    };
+    let (n, u, w) = (v(&d.n), v(&d.u), v(&d.v));
+    format!("n = {n}, u = {u}, v = {w}; {}; {}", d.n_note, d.basis_note)
+}
+
+/// Parameter values in file order, and the names set on the command line.
+type Parameters = (Vec<(String, f64)>, Vec<String>);
+
+/// `--set NAME=VALUE` entries applied to the file's parameter values.
+fn plan_parameters(p: &Problem, set: &[String]) -> Result<Parameters, Failure> {
+    let mut params = p.parameters.clone();
+    let mut overridden = Vec::new();
+    for s in set {
+        let arg = Arg::new("--set", s);
+        let Some((name, value)) = s.split_once('=') else {
+            return Err(arg_failure(
+                arg.error(
+                    "expected NAME=VALUE",
+                    lingrav::Span::new(0, s.len()),
+                    "here",
+                )
+                .with_help("e.g. --set A=1e-6"),
+            ));
+        };
+        let name_t = name.trim();
+        let Some(slot) = params.iter_mut().find(|(n, _)| n == name_t) else {
+            let known: Vec<&str> = p.parameters.iter().map(|(n, _)| n.as_str()).collect();
+            let help = if known.is_empty() {
+                "this problem has no [parameters]".to_string()
+            } else {
+                format!("the parameters are {}", known.join(", "))
+            };
+            return Err(arg_failure(
+                arg.error(
+                    format!("`{name_t}` is not a parameter of this problem"),
+                    lingrav::Span::new(0, name.len()),
+                    "unknown",
+                )
+                .with_help(help),
+            ));
+        };
+        let v: f64 = match value.trim().parse::<f64>() {
+            Ok(v) if v.is_finite() => v,
+            _ => {
+                return Err(arg_failure(
+                    arg.error(
+                        format!("`{}` is not a finite number", value.trim()),
+                        lingrav::Span::new(name.len() + 1, s.len()),
+                        "not a number",
+                    )
+                    .with_help("e.g. --set A=1e-6"),
+                ));
+            }
+        };
+        slot.1 = v;
+        if !overridden.iter().any(|o| o == name_t) {
+            overridden.push(name_t.to_string());
+        }
+    }
+    Ok((params, overridden))
+}
+
+fn plan_points(p: &Problem, a: &ExportArgs) -> Result<PointSet, Failure> {
+    if let Some(path) = &a.at {
+        let label = path.display().to_string();
+        let text = std::fs::read_to_string(path).map_err(|e| {
+            Failure::Input(miette::Report::new(ProblemError::whole_file(
+                &label,
+                format!("cannot read the points file `{label}`: {e}"),
+            )))
+        })?;
+        return read_points(&label, &text).map_err(|e| Failure::Input(miette::Report::new(e)));
+    }
+    let center = match &a.center {
+        Some(c) => Some(<[f64; 4]>::try_from(c.as_slice()).map_err(|_| {
+            Failure::Input(miette::miette!(
+                help = "e.g. --center 0,0.1,0.2,0.3 (write --center=-1,0,0,2 for a negative t)",
+                "--center needs four numbers t,x,y,z, not {}",
+                c.len()
+            ))
+        })?),
+        None => None,
+    };
+    let g = Grid::new(p.grid.as_ref(), center, a.width, a.points, a.spacetime).map_err(|e| {
+        Failure::Input(miette::miette!(
+            help = "set the grid in the file's [grid] table (center, width, points) or with \
+                    --center, --width, --points",
+            "{e}"
+        ))
+    })?;
+    Ok(PointSet::grid(g))
+}
+
+fn sidecar_path(out: &Path) -> PathBuf {
+    let mut s = out.as_os_str().to_owned();
+    s.push(".meta.json");
+    PathBuf::from(s)
+}
+
+/// `lingrav export`.
+pub fn run_export(a: ExportArgs) -> Result<Outcome, Failure> {
+    // Plan: every input and output checked before any algebra.
+    let mut p = load(&a.file)?;
+    let (qs, dir) = plan_quantities(&mut p, &a.quantities)?;
+    let (params, overridden) = plan_parameters(&p, &a.set)?;
+    let points = plan_points(&p, &a)?;
+    let format = match a.format {
+        Some(DataFormat::Csv) => Format::Csv,
+        Some(DataFormat::Npy) => Format::Npy,
+        Some(DataFormat::Json) => Format::Json,
+        None => Format::from_path(&a.out).ok_or_else(|| {
+            Failure::Input(miette::miette!(
+                help = "give --format csv|npy|json, or an --out name ending in .csv, .npy or .json",
+                "cannot tell the format of `{}` from its name",
+                a.out.display()
+            ))
+        })?,
+    };
+    let meta_path = sidecar_path(&a.out);
+    let mut data_file = AtomicFile::create(&a.out, a.force).map_err(file_failure)?;
+    let mut meta_file = AtomicFile::create(&meta_path, a.force).map_err(file_failure)?;
+
+    // Compute.
+    let b = blocks(&mut p.store, &p.h, p.source.as_ref(), &qs, dir.as_ref())
+        .map_err(quantity_failure)?;
+    let ev = evaluate(&mut p.store, &b, &points, &params, &p.sampling).map_err(|e| {
+        Failure::Input(miette::miette!(
+            help = "nothing was written; choose points where the field is defined (away from \
+                    singularities such as r = 0)",
+            "{e}"
+        ))
+    })?;
+    let direction = dir.as_ref().map(|d| direction_json(&mut p, d));
+    let data_name = a
+        .out
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    let path_label = a.file.display().to_string();
+    let info = SidecarInfo {
+        file: &path_label,
+        name: p.name.as_deref(),
+        parameters: &params,
+        overridden: &overridden,
+        functions: &p.functions,
+        defines: &p.defines,
+        h_text: &p.h_text,
+        source_text: p.source_text.as_ref(),
+        direction,
+        data_file: &data_name,
+        format,
+        points: &points,
+    };
+    let meta = sidecar(&mut p.store, &b, &ev, &info);
+
+    // Write both files, then put them in place together.
+    let io =
+        |target: &Path, e: std::io::Error| file_failure(FileError::Io(target.to_path_buf(), e));
+    write_table(data_file.writer(), &ev.table, format).map_err(|e| io(&a.out, e))?;
+    let text = serde_json::to_string_pretty(&meta).expect("json");
+    meta_file
+        .writer()
+        .write_all(format!("{text}\n").as_bytes())
+        .map_err(|e| io(&meta_path, e))?;
+    commit_all(vec![data_file, meta_file]).map_err(file_failure)?;
+    print(&format!(
+        "wrote {} rows x {} columns ({}) to {} ({}), sidecar {}\n",
+        ev.table.rows(),
+        ev.table.columns.len(),
+        qs.iter().map(|q| q.name()).collect::<Vec<_>>().join(", "),
+        a.out.display(),
+        format.name(),
+        meta_path.display()
+    ))?;
+    Ok(Outcome::Holds)
+}
+
+/// `lingrav emit`.
+pub fn run_emit(a: EmitArgs) -> Result<Outcome, Failure> {
+    let mut p = load(&a.file)?;
+    let (qs, dir) = plan_quantities(&mut p, &a.quantities)?;
+    let mut file = match &a.out {
+        Some(o) => Some(AtomicFile::create(o, a.force).map_err(file_failure)?),
+        None => None,
+    };
+    let b = blocks(&mut p.store, &p.h, p.source.as_ref(), &qs, dir.as_ref())
+        .map_err(quantity_failure)?;
+    let direction = dir.as_ref().map(|d| direction_text(&mut p, d));
+    let path_label = a.file.display().to_string();
+    let samples = p.sampling.samples.clone();
+    let src = Source {
+        file: &path_label,
+        name: p.name.as_deref(),
+        parameters: &p.parameters,
+        functions: &p.functions,
+        samples: &samples,
+        direction,
+    };
+    let text = emit(&mut p.store, &src, &b, a.lang.lang(), a.samples)
+        .map_err(|e| Failure::Input(miette::miette!("cannot generate code: {e}")))?;
+    match (&mut file, &a.out) {
+        (Some(f), Some(o)) => {
+            f.writer()
+                .write_all(text.as_bytes())
+                .map_err(|e| file_failure(FileError::Io(o.clone(), e)))?;
+            commit_all(vec![file.take().expect("opened")]).map_err(file_failure)?;
+        }
+        _ => print(&text)?,
+    }
+    Ok(Outcome::Holds)
+}

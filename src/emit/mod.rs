@@ -1,0 +1,804 @@
+//! Source code that computes a problem's quantities at a point: C, Python (NumPy), Fortran,
+//! Rust, or LaTeX equations.
+//!
+//! Model. Every column of every requested quantity ([`crate::export::quantity`]) is read
+//! through the engine's real-form printing tree ([`crate::canon::Store::pretty`]) into one
+//! hash-consed DAG ([`dag`]); within each generated function every subexpression used twice
+//! or more becomes a temporary. One function per quantity, with the same layout in every
+//! language:
+//!
+//! - inputs: the coordinates `t, x, y, z`, then the file's parameters (C, Fortran and Rust
+//!   take them as an array `params` in file order; Python as arguments with the file's values
+//!   as defaults), then, for arbitrary functions, the user-supplied derivatives;
+//! - output: the columns in their fixed order (C, Fortran, Rust: an array `out`; Python: an
+//!   array of shape `(columns,) + broadcast shape of the arguments`).
+//!
+//! Arbitrary functions of one argument (a file's `[functions]`) are calls to functions the
+//! user supplies: derivative `k` of `F` is `F_d<k>(u)` (`F_d0` is F itself, `F_d2` is F'').
+//! With `inline_samples` they are replaced by the file's samples and their exact derivatives.
+//!
+//! Key design decision: the code is generated from the exact canonical forms, never from the
+//! text the user wrote, so it computes exactly what `lingrav export` evaluates (up to f64
+//! rounding), and parameters stay symbolic (arguments, not baked-in numbers).
+//!
+//! **Invariants:** output is deterministic (no hash-map order reaches it); identifiers never
+//! collide with the language's keywords or with each other; every emitted name is documented
+//! in the file's header comment.
+
+pub mod dag;
+mod lang;
+
+use crate::canon::{FunctionSample, Store};
+use crate::export::quantity::Block;
+use dag::{Dag, DagError, Id, Symbols};
+use lang::{Printer, Syntax};
+use rustc_hash::FxHashMap;
+use std::fmt::Write as _;
+use std::rc::Rc;
+
+/// A target language.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Lang {
+    /// C99 with `<math.h>`.
+    C,
+    /// Python 3 with NumPy.
+    Python,
+    /// Fortran 2008.
+    Fortran,
+    /// Rust.
+    Rust,
+    /// LaTeX `aligned` equations.
+    Latex,
+}
+
+impl Lang {
+    /// Every language, in the order of [`Lang::NAMES`].
+    pub const ALL: [Lang; 5] = [
+        Lang::C,
+        Lang::Python,
+        Lang::Fortran,
+        Lang::Rust,
+        Lang::Latex,
+    ];
+    /// The names accepted on the command line.
+    pub const NAMES: [&'static str; 5] = ["c", "python", "fortran", "rust", "latex"];
+
+    /// The language's name.
+    #[must_use]
+    pub fn name(self) -> &'static str {
+        let i = Lang::ALL.iter().position(|l| *l == self).unwrap_or(0);
+        Lang::NAMES[i]
+    }
+
+    /// The language with this name (also `py`, `f90`, `rs`, `tex`).
+    #[must_use]
+    pub fn parse(s: &str) -> Option<Lang> {
+        match s.to_ascii_lowercase().as_str() {
+            "c" => Some(Lang::C),
+            "python" | "py" | "numpy" => Some(Lang::Python),
+            "fortran" | "f90" | "f08" => Some(Lang::Fortran),
+            "rust" | "rs" => Some(Lang::Rust),
+            "latex" | "tex" => Some(Lang::Latex),
+            _ => None,
+        }
+    }
+}
+
+/// What the generated file is about, for its header and its inputs.
+pub struct Source<'a> {
+    /// The problem file's path as given.
+    pub file: &'a str,
+    /// The problem's `name`.
+    pub name: Option<&'a str>,
+    /// Parameters and their file values, in file order.
+    pub parameters: &'a [(String, f64)],
+    /// Arbitrary functions and their sample texts, in file order.
+    pub functions: &'a [(String, String)],
+    /// The samples as forms, by name.
+    pub samples: &'a FxHashMap<Rc<str>, FunctionSample>,
+    /// A description of the direction of psi4 / hplus / hcross, if one was given.
+    pub direction: Option<String>,
+}
+
+/// Why code could not be generated.
+#[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
+#[error("{column}: {error}")]
+pub struct EmitError {
+    /// The column whose expression failed.
+    pub column: String,
+    /// What went wrong.
+    pub error: DagError,
+}
+
+const KEYWORDS_C: &[&str] = &[
+    "auto", "break", "case", "char", "const", "continue", "default", "do", "double", "else",
+    "enum", "extern", "float", "for", "goto", "if", "inline", "int", "long", "register",
+    "restrict", "return", "short", "signed", "sizeof", "static", "struct", "switch", "typedef",
+    "union", "unsigned", "void", "volatile", "while", "sin", "cos", "exp", "log", "sqrt", "pow",
+    "params", "out", "main", "NULL",
+];
+const KEYWORDS_PYTHON: &[&str] = &[
+    "False", "None", "True", "and", "as", "assert", "async", "await", "break", "class", "continue",
+    "def", "del", "elif", "else", "except", "finally", "for", "from", "global", "if", "import",
+    "in", "is", "lambda", "nonlocal", "not", "or", "pass", "raise", "return", "try", "while",
+    "with", "yield", "match", "case", "np", "out", "float", "print",
+];
+const KEYWORDS_FORTRAN: &[&str] = &[
+    "real64",
+    "iso_fortran_env",
+    "params",
+    "out",
+    "sin",
+    "cos",
+    "exp",
+    "log",
+    "sqrt",
+    "real",
+    "integer",
+    "lingrav_formulas",
+    "lingrav_nparams",
+];
+const KEYWORDS_RUST: &[&str] = &[
+    "as", "break", "const", "continue", "crate", "else", "enum", "extern", "false", "fn", "for",
+    "if", "impl", "in", "let", "loop", "match", "mod", "move", "mut", "pub", "ref", "return",
+    "self", "Self", "static", "struct", "super", "trait", "true", "type", "unsafe", "use", "where",
+    "while", "async", "await", "dyn", "abstract", "become", "box", "do", "final", "macro",
+    "override", "priv", "typeof", "unsized", "virtual", "yield", "try", "gen", "union", "f64",
+    "params", "out", "_",
+];
+
+/// Identifiers for the variables, user functions and temporaries of one language.
+struct Idents {
+    vars: Vec<String>,
+    users: FxHashMap<(u32, u32), String>,
+    temp_prefix: String,
+}
+
+fn idents(lang: Lang, src: &Source<'_>, funs: &[(u32, u32)]) -> Idents {
+    let (keywords, fold) = match lang {
+        Lang::C => (KEYWORDS_C, false),
+        Lang::Python => (KEYWORDS_PYTHON, false),
+        Lang::Fortran => (KEYWORDS_FORTRAN, true),
+        Lang::Rust | Lang::Latex => (KEYWORDS_RUST, false),
+    };
+    let key = |s: &str| {
+        if fold {
+            s.to_ascii_lowercase()
+        } else {
+            s.to_string()
+        }
+    };
+    let mut taken: Vec<String> = keywords.iter().map(|k| key(k)).collect();
+    let mut vars: Vec<String> = crate::tensor::COORDS
+        .iter()
+        .map(|c| c.to_string())
+        .collect();
+    taken.extend(vars.iter().map(|v| key(v)));
+    let fresh = |base: String, taken: &mut Vec<String>| -> String {
+        let mut n = if lang == Lang::Fortran && !base.starts_with(|c: char| c.is_ascii_alphabetic())
+        {
+            format!("v{base}")
+        } else {
+            base
+        };
+        while taken.contains(&key(&n)) {
+            n.push('_');
+        }
+        taken.push(key(&n));
+        n
+    };
+    for (p, _) in src.parameters {
+        let id = fresh(p.clone(), &mut taken);
+        vars.push(id);
+    }
+    let mut users = FxHashMap::default();
+    for &(f, k) in funs {
+        let name = format!("{}_d{k}", src.functions[f as usize].0);
+        users.insert((f, k), fresh(name, &mut taken));
+    }
+    let mut temp_prefix = "lg_".to_string();
+    while taken.iter().any(|t| t.starts_with(&key(&temp_prefix))) {
+        temp_prefix.insert(2, '_');
+    }
+    Idents {
+        vars,
+        users,
+        temp_prefix,
+    }
+}
+
+/// One generated function: its roots, temporaries and what it uses.
+struct Function<'a> {
+    block: &'a Block,
+    roots: Vec<Id>,
+    temps: Vec<Id>,
+    params_used: Vec<u32>,
+    users_used: Vec<(u32, u32)>,
+}
+
+fn header_lines(
+    src: &Source<'_>,
+    blocks: &[Block],
+    lang: Lang,
+    inline: bool,
+    ids: Option<&Idents>,
+) -> Vec<String> {
+    let mut v = Vec::new();
+    let title = match src.name {
+        Some(n) => format!("{} ({n})", src.file),
+        None => src.file.to_string(),
+    };
+    v.push(format!(
+        "Generated by lingrav {} from {title}.",
+        env!("CARGO_PKG_VERSION")
+    ));
+    v.push(
+        "Conventions: signature (-,+,+,+), coordinates (t,x,y,z), G = c = 1, g = eta + h".into(),
+    );
+    v.push(
+        "to first order in h, all indices down; Riemann sign of Misner, Thorne & Wheeler;".into(),
+    );
+    v.push(
+        "extrinsic curvature with the MTW/York sign K_ij = -(1/(2 alpha))(d_t gamma_ij - ...)."
+            .into(),
+    );
+    if lang != Lang::Latex {
+        v.push(String::new());
+        match lang {
+            Lang::Python => v.push(
+                "Inputs: t, x, y, z, then the parameters (defaults: the file's values); all may be \
+                 NumPy arrays and broadcast together."
+                    .into(),
+            ),
+            _ => v.push(
+                "Inputs: t, x, y, z, and params[] holding the parameters in this order:".into(),
+            ),
+        }
+        if src.parameters.is_empty() {
+            v.push("  (this problem has no parameters)".into());
+        }
+        for (k, (p, val)) in src.parameters.iter().enumerate() {
+            let id = ids.map_or(p.as_str(), |i| i.vars[4 + k].as_str());
+            let index = match lang {
+                Lang::Fortran => format!("params({})", k + 1),
+                Lang::Python => id.to_string(),
+                _ => format!("params[{k}]"),
+            };
+            let renamed = if id != p {
+                format!(" (named {id} here)")
+            } else {
+                String::new()
+            };
+            v.push(format!("  {index} = {p}{renamed}, file value {val:?}"));
+        }
+    }
+    if !src.functions.is_empty() {
+        v.push(String::new());
+        if inline {
+            v.push("Arbitrary functions are replaced by the file's samples (--samples):".into());
+            for (f, s) in src.functions {
+                v.push(format!("  {f}(u) = {s}"));
+            }
+        } else if lang == Lang::Latex {
+            v.push(
+                "Arbitrary functions, with primes for derivatives: ".to_string()
+                    + &src
+                        .functions
+                        .iter()
+                        .map(|f| f.0.as_str())
+                        .collect::<Vec<_>>()
+                        .join(", "),
+            );
+        } else {
+            v.push(
+                "Arbitrary functions are calls to functions you supply: <F>_d<k>(u) is the".into(),
+            );
+            v.push("k-th derivative of F (F_d0 = F, F_d2 = F''). This file uses:".into());
+            if let Some(ids) = ids {
+                let mut used: Vec<(&(u32, u32), &String)> = ids.users.iter().collect();
+                used.sort();
+                for ((f, k), name) in used {
+                    v.push(format!(
+                        "  {name}(u) = derivative {k} of {}",
+                        src.functions[*f as usize].0
+                    ));
+                }
+            }
+            match lang {
+                Lang::C => v.push("declared below; define them as double NAME(double u).".into()),
+                Lang::Fortran => v.push(
+                    "declared external; define them as real(real64) function NAME(u), u real(real64)."
+                        .into(),
+                ),
+                Lang::Rust => v.push("passed as trailing arguments, &dyn Fn(f64) -> f64.".into()),
+                Lang::Python => v.push(
+                    "passed as keyword arguments, callables that accept NumPy arrays.".into(),
+                ),
+                Lang::Latex => {}
+            }
+        }
+    }
+    if let Some(d) = &src.direction {
+        v.push(String::new());
+        v.push(format!("Direction: {d}"));
+    }
+    v.push(String::new());
+    v.push("Functions (outputs in this order):".into());
+    for b in blocks {
+        let cols: Vec<&str> = b.columns.iter().map(|c| c.name.as_str()).collect();
+        v.push(format!(
+            "  lingrav_{}: {}",
+            b.quantity.name(),
+            cols.join(", ")
+        ));
+    }
+    v.push(String::new());
+    for b in blocks {
+        v.push(format!(
+            "{}: {}",
+            b.quantity.name(),
+            b.quantity.definition()
+        ));
+    }
+    v
+}
+
+/// Wraps text to about `width` columns at spaces.
+fn wrap(text: &str, width: usize) -> Vec<String> {
+    let mut out = Vec::new();
+    let mut line = String::new();
+    let lead: String = text.chars().take_while(|c| *c == ' ').collect();
+    for word in text.split_whitespace() {
+        if !line.is_empty() && line.len() + 1 + word.len() > width {
+            out.push(std::mem::take(&mut line));
+            line.push_str(&lead);
+            line.push_str("    ");
+        } else if !line.is_empty() {
+            line.push(' ');
+        } else {
+            line.push_str(&lead);
+        }
+        line.push_str(word);
+    }
+    out.push(line);
+    out
+}
+
+fn comment(lines: &[String], prefix: &str) -> String {
+    let mut s = String::new();
+    for l in lines {
+        for w in wrap(l, 92) {
+            if w.is_empty() {
+                let _ = writeln!(s, "{}", prefix.trim_end());
+            } else {
+                let _ = writeln!(s, "{prefix}{w}");
+            }
+        }
+    }
+    s
+}
+
+/// Generates the source text computing `blocks` in `lang`.
+///
+/// # Errors
+///
+/// An expression with a non-real coefficient, or a sample that cannot be differentiated.
+pub fn emit(
+    store: &mut Store,
+    src: &Source<'_>,
+    blocks: &[Block],
+    lang: Lang,
+    inline_samples: bool,
+) -> Result<String, EmitError> {
+    if lang == Lang::Latex {
+        return Ok(latex(store, src, blocks, inline_samples));
+    }
+    let syms = Symbols {
+        vars: crate::tensor::COORDS
+            .iter()
+            .map(|c| c.to_string())
+            .chain(src.parameters.iter().map(|p| p.0.clone()))
+            .collect(),
+        functions: src
+            .functions
+            .iter()
+            .filter_map(|(n, _)| src.samples.get(n.as_str()).map(|s| (n.clone(), s.clone())))
+            .collect(),
+        inline_samples,
+    };
+    let mut dag = Dag::new();
+    let mut functions = Vec::new();
+    for b in blocks {
+        let mut roots = Vec::with_capacity(b.columns.len());
+        for c in &b.columns {
+            let id = dag.form(store, &syms, c.form).map_err(|error| EmitError {
+                column: c.name.clone(),
+                error,
+            })?;
+            roots.push(id);
+        }
+        let temps = dag.shared(&roots);
+        let (vars, users) = dag.uses(&roots);
+        functions.push(Function {
+            block: b,
+            roots,
+            temps,
+            params_used: vars.into_iter().filter(|v| *v >= 4).collect(),
+            users_used: users,
+        });
+    }
+    let mut all_users: Vec<(u32, u32)> = functions
+        .iter()
+        .flat_map(|f| f.users_used.clone())
+        .collect();
+    all_users.sort_unstable();
+    all_users.dedup();
+    let ids = idents(lang, src, &all_users);
+    let header = header_lines(src, blocks, lang, inline_samples, Some(&ids));
+    Ok(match lang {
+        Lang::C => c_file(&dag, &ids, &header, &functions, &all_users),
+        Lang::Python => python_file(&dag, &ids, src, &header, &functions),
+        Lang::Fortran => fortran_file(&dag, &ids, src, &header, &functions),
+        Lang::Rust => rust_file(&dag, &ids, src, &header, &functions),
+        Lang::Latex => unreachable!("handled above"),
+    })
+}
+
+/// Temporaries of one function and their names.
+fn temp_names(ids: &Idents, f: &Function<'_>) -> FxHashMap<Id, String> {
+    f.temps
+        .iter()
+        .enumerate()
+        .map(|(k, &id)| (id, format!("{}{}", ids.temp_prefix, k + 1)))
+        .collect()
+}
+
+fn printer<'a>(
+    dag: &'a Dag,
+    syntax: &'a dyn Syntax,
+    ids: &'a Idents,
+    temps: &'a FxHashMap<Id, String>,
+) -> Printer<'a> {
+    Printer {
+        dag,
+        syntax,
+        vars: &ids.vars,
+        users: &ids.users,
+        temps,
+    }
+}
+
+fn c_file(
+    dag: &Dag,
+    ids: &Idents,
+    header: &[String],
+    fns: &[Function<'_>],
+    users: &[(u32, u32)],
+) -> String {
+    let mut s = String::from("/*\n");
+    s.push_str(&comment(header, " * "));
+    s.push_str(
+        " *\n * Each function: void lingrav_<quantity>(double t, double x, double y, double z,\n",
+    );
+    s.push_str(" *                                    const double *params, double *out);\n");
+    s.push_str(" * params may be NULL when the problem has no parameters; out receives the columns.\n */\n");
+    s.push_str("#include <math.h>\n\n");
+    let _ = writeln!(s, "#define LINGRAV_NPARAMS {}\n", ids.vars.len() - 4);
+    if !users.is_empty() {
+        s.push_str("/* Supplied by you: derivatives of the arbitrary functions. */\n");
+        for u in users {
+            let _ = writeln!(s, "double {}(double u);", ids.users[u]);
+        }
+        s.push('\n');
+    }
+    for f in fns {
+        let temps = temp_names(ids, f);
+        let p = printer(dag, &lang::C, ids, &temps);
+        let q = f.block.quantity.name();
+        let n = f.roots.len();
+        let _ = writeln!(s, "#define LINGRAV_{}_COLUMNS {n}", q.to_ascii_uppercase());
+        let names: Vec<String> = f
+            .block
+            .columns
+            .iter()
+            .map(|c| format!("\"{}\"", c.name))
+            .collect();
+        let _ = writeln!(
+            s,
+            "const char *const lingrav_{q}_columns[{n}] = {{{}}};\n",
+            names.join(", ")
+        );
+        let mut doc = vec![format!("lingrav_{q}: {}.", f.block.quantity.definition())];
+        doc.push(
+            f.block
+                .columns
+                .iter()
+                .enumerate()
+                .map(|(k, c)| format!("out[{k}] = {}", c.name))
+                .collect::<Vec<_>>()
+                .join(", "),
+        );
+        s.push_str("/*\n");
+        s.push_str(&comment(&doc, " * "));
+        s.push_str(" */\n");
+        let _ = writeln!(
+            s,
+            "void lingrav_{q}(double t, double x, double y, double z, const double *params, double *out)\n{{"
+        );
+        if f.params_used.is_empty() {
+            s.push_str("    (void)params;\n");
+        }
+        for &v in &f.params_used {
+            let _ = writeln!(
+                s,
+                "    const double {} = params[{}];",
+                ids.vars[v as usize],
+                v - 4
+            );
+        }
+        for &t in &f.temps {
+            let _ = writeln!(s, "    const double {} = {};", temps[&t], p.expr(t).full());
+        }
+        for (k, &r) in f.roots.iter().enumerate() {
+            let _ = writeln!(s, "    out[{k}] = {};", p.reference(r).full());
+        }
+        s.push_str("}\n\n");
+    }
+    s
+}
+
+fn py_string(s: &str) -> String {
+    serde_json::to_string(s).unwrap_or_else(|_| "\"\"".into())
+}
+
+fn python_file(
+    dag: &Dag,
+    ids: &Idents,
+    src: &Source<'_>,
+    header: &[String],
+    fns: &[Function<'_>],
+) -> String {
+    let mut s = String::from("\"\"\"\n");
+    for l in header {
+        for w in wrap(l, 92) {
+            s.push_str(&w.replace('\\', "\\\\").replace("\"\"\"", "\\\"\\\"\\\""));
+            s.push('\n');
+        }
+    }
+    s.push_str(
+        "\nEach function returns an array of shape (columns,) + the broadcast shape of its\n\
+         arguments (a scalar point gives shape (columns,)).\n\"\"\"\n\nimport numpy as np\n\n",
+    );
+    let params: Vec<String> = src
+        .parameters
+        .iter()
+        .enumerate()
+        .map(|(k, (_, v))| format!("{}: {:?}", py_string(&ids.vars[4 + k]), v))
+        .collect();
+    let _ = writeln!(s, "PARAMETERS = {{{}}}", params.join(", "));
+    s.push_str("COLUMNS = {\n");
+    for f in fns {
+        let names: Vec<String> = f.block.columns.iter().map(|c| py_string(&c.name)).collect();
+        let _ = writeln!(
+            s,
+            "    {}: ({},),",
+            py_string(f.block.quantity.name()),
+            names.join(", ")
+        );
+    }
+    s.push_str("}\n");
+    for f in fns {
+        let temps = temp_names(ids, f);
+        let p = printer(dag, &lang::Python, ids, &temps);
+        let q = f.block.quantity.name();
+        let mut args: Vec<String> = ["t", "x", "y", "z"].map(String::from).to_vec();
+        for (k, (_, v)) in src.parameters.iter().enumerate() {
+            args.push(format!("{}={:?}", ids.vars[4 + k], v));
+        }
+        if !f.users_used.is_empty() {
+            args.push("*".into());
+            args.extend(f.users_used.iter().map(|u| ids.users[u].clone()));
+        }
+        let _ = writeln!(s, "\n\ndef lingrav_{q}({}):", args.join(", "));
+        let doc = format!(
+            "{}. Returns COLUMNS[{}] stacked along the first axis.",
+            f.block.quantity.definition(),
+            py_string(q)
+        );
+        s.push_str("    \"\"\"");
+        let lines = wrap(&doc, 88);
+        for (k, l) in lines.iter().enumerate() {
+            if k > 0 {
+                s.push_str("\n    ");
+            }
+            s.push_str(&l.replace('\\', "\\\\"));
+        }
+        s.push_str("\"\"\"\n");
+        let inputs: Vec<String> = ["t", "x", "y", "z"]
+            .iter()
+            .map(|c| c.to_string())
+            .chain((4..ids.vars.len()).map(|k| ids.vars[k].clone()))
+            .collect();
+        let _ = writeln!(
+            s,
+            "    {} = (np.asarray(v, dtype=float) for v in ({},))",
+            inputs.join(", "),
+            inputs.join(", ")
+        );
+        let _ = writeln!(
+            s,
+            "    out = np.empty(({},) + np.broadcast_shapes({}))",
+            f.roots.len(),
+            inputs
+                .iter()
+                .map(|i| format!("np.shape({i})"))
+                .collect::<Vec<_>>()
+                .join(", ")
+        );
+        for &t in &f.temps {
+            let _ = writeln!(s, "    {} = {}", temps[&t], p.expr(t).full());
+        }
+        for (k, &r) in f.roots.iter().enumerate() {
+            let _ = writeln!(s, "    out[{k}] = {}", p.reference(r).full());
+        }
+        s.push_str("    return out\n");
+    }
+    s
+}
+
+fn fortran_file(
+    dag: &Dag,
+    ids: &Idents,
+    src: &Source<'_>,
+    header: &[String],
+    fns: &[Function<'_>],
+) -> String {
+    let mut s = comment(header, "! ");
+    s.push_str("!\n! Each routine: subroutine lingrav_<quantity>(t, x, y, z, params, out) with\n");
+    s.push_str("! real(real64), intent(in) :: t, x, y, z, params(*) and real(real64), intent(out) :: out(n).\n");
+    s.push_str("module lingrav_formulas\n  use, intrinsic :: iso_fortran_env, only: real64\n  implicit none\n  private\n");
+    for f in fns {
+        let _ = writeln!(s, "  public :: lingrav_{}", f.block.quantity.name());
+    }
+    let _ = writeln!(
+        s,
+        "  integer, parameter, public :: lingrav_nparams = {}",
+        src.parameters.len()
+    );
+    s.push_str("contains\n");
+    for f in fns {
+        let temps = temp_names(ids, f);
+        let p = printer(dag, &lang::Fortran, ids, &temps);
+        let q = f.block.quantity.name();
+        let mut doc = vec![format!("lingrav_{q}: {}.", f.block.quantity.definition())];
+        doc.push(
+            f.block
+                .columns
+                .iter()
+                .enumerate()
+                .map(|(k, c)| format!("out({}) = {}", k + 1, c.name))
+                .collect::<Vec<_>>()
+                .join(", "),
+        );
+        s.push('\n');
+        s.push_str(&comment(&doc, "  ! "));
+        let _ = writeln!(s, "  subroutine lingrav_{q}(t, x, y, z, params, out)");
+        s.push_str("    real(real64), intent(in) :: t, x, y, z\n    real(real64), intent(in) :: params(*)\n");
+        let _ = writeln!(s, "    real(real64), intent(out) :: out({})", f.roots.len());
+        let mut locals: Vec<String> = f
+            .params_used
+            .iter()
+            .map(|&v| ids.vars[v as usize].clone())
+            .collect();
+        locals.extend(f.temps.iter().map(|t| temps[t].clone()));
+        for chunk in locals.chunks(8) {
+            let _ = writeln!(s, "    real(real64) :: {}", chunk.join(", "));
+        }
+        for u in &f.users_used {
+            let _ = writeln!(s, "    real(real64), external :: {}", ids.users[u]);
+        }
+        for &v in &f.params_used {
+            let _ = writeln!(s, "    {} = params({})", ids.vars[v as usize], v - 3);
+        }
+        for &t in &f.temps {
+            s.push_str(&lang::fortran_lines(
+                "    ",
+                &format!("{} = {}", temps[&t], p.expr(t).full()),
+                100,
+            ));
+        }
+        for (k, &r) in f.roots.iter().enumerate() {
+            s.push_str(&lang::fortran_lines(
+                "    ",
+                &format!("out({}) = {}", k + 1, p.reference(r).full()),
+                100,
+            ));
+        }
+        let _ = writeln!(s, "  end subroutine lingrav_{q}");
+    }
+    s.push_str("\nend module lingrav_formulas\n");
+    s
+}
+
+fn rust_file(
+    dag: &Dag,
+    ids: &Idents,
+    src: &Source<'_>,
+    header: &[String],
+    fns: &[Function<'_>],
+) -> String {
+    let mut s = comment(header, "// ");
+    s.push_str("//\n// Each function: fn lingrav_<quantity>(t, x, y, z, params: &[f64; LINGRAV_NPARAMS],\n");
+    s.push_str("// out: &mut [f64; N], then the supplied functions, if any).\n\n");
+    let np = src.parameters.len();
+    let _ = writeln!(
+        s,
+        "/// Number of parameters, in file order.\npub const LINGRAV_NPARAMS: usize = {np};"
+    );
+    for f in fns {
+        let temps = temp_names(ids, f);
+        let p = printer(dag, &lang::Rust, ids, &temps);
+        let q = f.block.quantity.name();
+        let n = f.roots.len();
+        let names: Vec<String> = f.block.columns.iter().map(|c| py_string(&c.name)).collect();
+        let _ = writeln!(
+            s,
+            "\n/// The columns of [`lingrav_{q}`], in order.\npub const LINGRAV_{}_COLUMNS: [&str; {n}] = [{}];\n",
+            q.to_ascii_uppercase(),
+            names.join(", ")
+        );
+        for l in wrap(&format!("{}.", f.block.quantity.definition()), 92) {
+            let _ = writeln!(s, "/// {}", l.trim_start());
+        }
+        s.push_str("#[allow(non_snake_case, unused_variables, clippy::all)]\n");
+        let mut args = vec![
+            "t: f64".to_string(),
+            "x: f64".into(),
+            "y: f64".into(),
+            "z: f64".into(),
+            format!("params: &[f64; {np}]"),
+            format!("out: &mut [f64; {n}]"),
+        ];
+        args.extend(
+            f.users_used
+                .iter()
+                .map(|u| format!("{}: &dyn Fn(f64) -> f64", ids.users[u])),
+        );
+        let _ = writeln!(s, "pub fn lingrav_{q}({}) {{", args.join(", "));
+        for &v in &f.params_used {
+            let _ = writeln!(s, "    let {} = params[{}];", ids.vars[v as usize], v - 4);
+        }
+        for &t in &f.temps {
+            let _ = writeln!(s, "    let {} = {};", temps[&t], p.expr(t).full());
+        }
+        for (k, &r) in f.roots.iter().enumerate() {
+            let _ = writeln!(s, "    out[{k}] = {};", p.reference(r).full());
+        }
+        s.push_str("}\n");
+    }
+    s
+}
+
+fn latex(store: &mut Store, src: &Source<'_>, blocks: &[Block], inline: bool) -> String {
+    let header = header_lines(src, blocks, Lang::Latex, inline, None);
+    let mut s = comment(&header, "% ");
+    for b in blocks {
+        let _ = writeln!(s, "\n% {}", b.quantity.name());
+        s.push_str("\\begin{aligned}\n");
+        let n = b.columns.len();
+        for (k, c) in b.columns.iter().enumerate() {
+            let body = if store.is_zero(c.form) {
+                "0".to_string()
+            } else {
+                store.to_latex(c.form)
+            };
+            let end = if k + 1 < n { " \\\\" } else { "" };
+            let _ = writeln!(s, "  {} &= {body}{end}", c.latex);
+        }
+        s.push_str("\\end{aligned}\n");
+    }
+    s
+}
+
+#[cfg(test)]
+mod tests;

@@ -1,0 +1,198 @@
+//! Psi4 against the polarizations, quantity lists, and evaluation at points.
+
+use super::quantity::{Quantity, blocks, parse_list, psi4};
+use super::*;
+use crate::canon::{Names, Store};
+use crate::tensor::Linearized;
+use crate::tt::{Arg, Direction, parse_direction, project_perturbation};
+
+fn form(store: &mut Store, s: &str) -> Form {
+    let e = crate::parse::parse(s).unwrap();
+    store.build(&e, &Names::free()).unwrap()
+}
+
+fn direction(store: &mut Store, text: &str) -> Direction {
+    parse_direction(
+        store,
+        &Names::free(),
+        &Sampling::default(),
+        Arg::new("--direction", text),
+        false,
+    )
+    .unwrap()
+}
+
+fn tensor(store: &mut Store, comps: &[(usize, usize, &str)]) -> [[Form; 4]; 4] {
+    let mut h = [[store.zero(); 4]; 4];
+    for &(i, j, s) in comps {
+        let f = form(store, s);
+        h[i][j] = f;
+        h[j][i] = f;
+    }
+    h
+}
+
+#[test]
+fn psi4_of_the_reference_wave() {
+    // Checks sheet, sec. 6: h_+ = A cos w(t - z), h_x = B sin w(t - z) along z, tetrad
+    // n = (d_t - d_z)/sqrt2, m = (d_x + i d_y)/sqrt2: Psi4 = -(h_+'' - i h_x'')
+    // = w^2 (A cos wu - i B sin wu); A = 1e-3, B = 2e-3, w = 3, t - z = 0.4 gives
+    // 0.003261219790290061 - 0.016776703547410076 i.
+    let mut st = Store::new();
+    let h = tensor(
+        &mut st,
+        &[
+            (1, 1, "A*cos(w*(t - z))"),
+            (2, 2, "-A*cos(w*(t - z))"),
+            (1, 2, "B*sin(w*(t - z))"),
+        ],
+    );
+    let dir = direction(&mut st, "0,0,1");
+    let mut lin = Linearized::new(&mut st, h);
+    let (re, im) = psi4(&mut st, &mut lin, &dir).unwrap();
+    let want_re = form(&mut st, "w^2*A*cos(w*(t - z))");
+    let want_im = form(&mut st, "-w^2*B*sin(w*(t - z))");
+    let d = st.sub(re, want_re).unwrap();
+    assert!(st.is_zero(d), "Re Psi4 = {}", st.to_text(re));
+    let d = st.sub(im, want_im).unwrap();
+    assert!(st.is_zero(d), "Im Psi4 = {}", st.to_text(im));
+    let mut pt = Point::default();
+    for (n, v) in [("A", 1e-3), ("B", 2e-3), ("w", 3.0), ("t", 0.9), ("z", 0.5)] {
+        let k = st.symbol_kernel(n);
+        pt.values
+            .insert(k, crate::interval::CInterval::point(v, 0.0).unwrap());
+    }
+    let (r, _) = st.eval_f64(re, &pt).unwrap();
+    let (i, _) = st.eval_f64(im, &pt).unwrap();
+    assert!((r / 0.003261219790290061 - 1.0).abs() < 1e-12, "{r}");
+    assert!((i / -0.016776703547410076 - 1.0).abs() < 1e-12, "{i}");
+}
+
+#[test]
+fn psi4_is_minus_the_second_time_derivative_of_the_polarizations() {
+    // Any TT plane wave along an oblique n with arbitrary profiles F, G of t - n.x:
+    // Psi4 = -(d_t^2 h_plus - i d_t^2 h_cross), h_plus and h_cross from the TT projection in
+    // the direction's own basis, u = (4/5, 0, -3/5), v = (0, 1, 0).
+    let mut st = Store::new();
+    let f = "F(t - (3*x + 4*z)/5)";
+    let g = "G(t - (3*x + 4*z)/5)";
+    let h = tensor(
+        &mut st,
+        &[
+            (1, 1, &format!("16/25*{f}")),
+            (1, 3, &format!("-12/25*{f}")),
+            (3, 3, &format!("9/25*{f}")),
+            (2, 2, &format!("-{f}")),
+            (1, 2, &format!("4/5*{g}")),
+            (2, 3, &format!("-3/5*{g}")),
+        ],
+    );
+    let dir = direction(&mut st, "3/5,0,4/5");
+    let p = project_perturbation(&mut st, &h, &dir).unwrap();
+    let ff = form(&mut st, f);
+    let d = st.sub(p.plus, ff).unwrap();
+    assert!(st.is_zero(d), "h_plus = {}", st.to_text(p.plus));
+    let mut lin = Linearized::new(&mut st, h);
+    let (re, im) = psi4(&mut st, &mut lin, &dir).unwrap();
+    let t = st.symbol_kernel("t");
+    let dp = st.diff(p.plus, t).unwrap();
+    let ddp = st.diff(dp, t).unwrap();
+    let dc = st.diff(p.cross, t).unwrap();
+    let ddc = st.diff(dc, t).unwrap();
+    let a = st.add(re, ddp).unwrap();
+    assert!(st.is_zero(a), "Re Psi4 + h_plus'' = {}", st.to_text(a));
+    let b = st.sub(im, ddc).unwrap();
+    assert!(st.is_zero(b), "Im Psi4 - h_cross'' = {}", st.to_text(b));
+    assert!(!st.is_zero(re) && !st.is_zero(im));
+}
+
+#[test]
+fn psi4_and_riemann_vanish_for_pure_gauge() {
+    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("worked");
+    let mut p = crate::problem::read(&root.join("pure_gauge.toml")).unwrap();
+    let dir = direction(&mut p.store, "radial");
+    let b = blocks(
+        &mut p.store,
+        &p.h,
+        None,
+        &[Quantity::Psi4, Quantity::Riemann],
+        Some(&dir),
+    )
+    .unwrap();
+    for c in b.iter().flat_map(|b| &b.columns) {
+        assert!(
+            p.store.is_zero(c.form),
+            "{} = {}",
+            c.name,
+            p.store.to_text(c.form)
+        );
+    }
+}
+
+#[test]
+fn quantity_lists() {
+    let mut v = Vec::new();
+    parse_list(Arg::new("--quantity", "h, adm,h,psi4"), &mut v).unwrap();
+    assert_eq!(v, [Quantity::H, Quantity::Adm, Quantity::Psi4]);
+    let e = parse_list(Arg::new("--quantity", "h,hplsu"), &mut v).unwrap_err();
+    assert!(
+        e.message.contains("unknown quantity `hplsu`"),
+        "{}",
+        e.message
+    );
+    assert!(e.help.as_deref().unwrap().contains("did you mean `hplus`?"));
+    assert_eq!((e.span.start, e.span.end), (2, 7));
+    for q in Quantity::ALL {
+        assert_eq!(Quantity::parse(q.name()), Some(q));
+    }
+}
+
+#[test]
+fn columns_have_fixed_names_and_counts() {
+    let mut st = Store::new();
+    let h = tensor(&mut st, &[(0, 0, "2*m/sqrt(x^2 + y^2 + z^2)")]);
+    let dir = direction(&mut st, "0,0,1");
+    let b = blocks(&mut st, &h, None, &Quantity::ALL, Some(&dir)).unwrap();
+    let counts: Vec<usize> = b.iter().map(|b| b.columns.len()).collect();
+    assert_eq!(counts, [10, 10, 40, 20, 10, 10, 16, 4, 2, 1, 1]);
+    let names: Vec<&str> = b[0].columns.iter().map(|c| c.name.as_str()).collect();
+    assert_eq!(
+        names,
+        [
+            "h_tt", "h_tx", "h_ty", "h_tz", "h_xx", "h_xy", "h_xz", "h_yy", "h_yz", "h_zz"
+        ]
+    );
+    assert_eq!(b[2].columns[11].name, "d_x_h_tx");
+    assert_eq!(b[3].columns[0].name, "R_txtx");
+    let adm: Vec<&str> = b[6].columns.iter().map(|c| c.name.as_str()).collect();
+    assert_eq!(
+        &adm[..5],
+        ["alpha", "beta_x", "beta_y", "beta_z", "gamma_xx"]
+    );
+    assert_eq!(adm[15], "K_zz");
+    assert_eq!(b[7].columns[0].name, "H");
+    let e = blocks(&mut st, &h, None, &[Quantity::Hplus], None).unwrap_err();
+    assert!(e.to_string().contains("give --direction"));
+}
+
+#[test]
+fn evaluation_names_the_point_of_a_singularity() {
+    let mut st = Store::new();
+    let h = tensor(&mut st, &[(0, 0, "2*m/sqrt(x^2 + y^2 + z^2)")]);
+    let b = blocks(&mut st, &h, None, &[Quantity::H], None).unwrap();
+    let pts = points::read_points("p.csv", "t,x,y,z\n0,1,0,0\n0,0,0,0\n").unwrap();
+    let params = vec![("m".to_string(), 0.5)];
+    let e = evaluate(&mut st, &b, &pts, &params, &Sampling::default()).unwrap_err();
+    assert_eq!((e.row, e.column.as_str()), (1, "h_tt"));
+    assert!(e.point.contains("line 3"), "{}", e.point);
+    let pts = points::read_points("p.csv", "0,1,0,0\n0,0,2,0\n").unwrap();
+    let ev = evaluate(&mut st, &b, &pts, &params, &Sampling::default()).unwrap();
+    assert_eq!(ev.table.columns.len(), 14);
+    assert!((ev.table.row(0)[4] - 1.0).abs() <= 4e-16);
+    assert!((ev.table.row(1)[4] - 0.5).abs() <= 2e-16);
+    assert!(
+        ev.bounds[0] > 0.0 && ev.bounds[0] <= 1e-13,
+        "{:?}",
+        ev.bounds
+    );
+}
