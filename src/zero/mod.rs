@@ -190,8 +190,9 @@ pub fn decide(store: &mut Store, f: Form, sampling: &Sampling) -> Verdict {
                     if rng.next_u64() & 1 == 1 { -mag } else { mag }
                 }
             };
-            // Round to a short decimal so the witness can be typed back in exactly.
-            let v = (v * 1e6).round() / 1e6;
+            // Round to six significant digits so the witness can be typed back in, without
+            // flushing small typical values (an amplitude of 1e-8) to zero.
+            let v: f64 = format!("{v:.5e}").parse().unwrap_or(v);
             if let Some(p) = Interval::point(v) {
                 point.values.insert(*k, CInterval::from_real(p));
             }
