@@ -1,0 +1,483 @@
+//! The `grid` command: the numerical convergence test of a problem's claims.
+
+use super::expr_cmds::Format;
+use super::out::{Failure, Outcome, print};
+use clap::Args;
+use lingrav::grid::{
+    self, ClaimResult, Finding, GridError, GridPlan, GridReport, GridSettings, GridStatus, Progress,
+};
+use std::fmt::Write as _;
+use std::io::{IsTerminal, Write as _};
+use std::path::{Path, PathBuf};
+use std::time::{Duration, Instant};
+
+/// Arguments of `lingrav grid`.
+#[derive(Args, Debug)]
+pub struct GridArgs {
+    /// The problem file (TOML).
+    file: PathBuf,
+    /// Points per side at each resolution, at least three, increasing (overrides [grid]
+    /// points).
+    #[arg(long, value_delimiter = ',', value_name = "N,N,N")]
+    points: Option<Vec<usize>>,
+    /// Order of accuracy of the central differences: 2, 4, 6 or 8.
+    #[arg(long, default_value_t = grid::DEFAULT_ORDER, value_parser = parse_order)]
+    order: u32,
+    /// Centre of the 4-d box (overrides [grid] center).
+    #[arg(
+        long,
+        value_delimiter = ',',
+        value_name = "T,X,Y,Z",
+        allow_hyphen_values = true
+    )]
+    center: Option<Vec<f64>>,
+    /// Side of the 4-d box, the same in t, x, y and z (overrides [grid] width).
+    #[arg(long, value_name = "W")]
+    width: Option<f64>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    format: Format,
+    /// Also draw residual against spacing (log-log, expected slope marked) into this SVG file.
+    #[arg(long, value_name = "FILE.svg")]
+    plot: Option<PathBuf>,
+    /// Where a sample is not finite, skip every stencil that touches it (and count them)
+    /// instead of stopping with an error.
+    #[arg(long)]
+    mask_nonfinite: bool,
+}
+
+fn parse_order(s: &str) -> Result<u32, String> {
+    match s.parse::<u32>() {
+        Ok(n) if grid::ORDERS.contains(&n) => Ok(n),
+        _ => Err(format!("the order is 2, 4, 6 or 8, not `{s}`")),
+    }
+}
+
+fn input_error(message: String, help: &str) -> Failure {
+    Failure::Input(miette::miette!(help = help.to_string(), "{message}"))
+}
+
+/// The grid settings, from the file's [grid] table, the flags and the defaults, and which of
+/// them are defaults.
+fn settings(
+    a: &GridArgs,
+    spec: Option<&lingrav::problem::GridSpec>,
+) -> Result<(GridSettings, Vec<&'static str>), Failure> {
+    let mut s = GridSettings::from_spec(spec, a.order);
+    let mut defaults = Vec::new();
+    let given = |f: fn(&lingrav::problem::GridSpec) -> bool| spec.is_some_and(f);
+    if let Some(p) = &a.points {
+        s.points.clone_from(p);
+    } else if !given(|g| g.points.is_some()) {
+        defaults.push("points");
+    }
+    if let Some(c) = &a.center {
+        let c: [f64; 4] = c.as_slice().try_into().map_err(|_| {
+            input_error(
+                format!("--center needs four numbers t,x,y,z, not {}", c.len()),
+                "e.g. --center 0.3,0.4,0.5,0.6 (write --center=-1,0,0,2 for a negative t)",
+            )
+        })?;
+        s.center = c;
+    } else if !given(|g| g.center.is_some()) {
+        defaults.push("center");
+    }
+    if let Some(w) = a.width {
+        s.width = w;
+    } else if !given(|g| g.width.is_some()) {
+        defaults.push("width");
+    }
+    s.mask_nonfinite = a.mask_nonfinite;
+    s.validate().map_err(|e| {
+        input_error(
+            e.to_string(),
+            "set the grid in the file's [grid] table (center, width, points) or with --center, \
+             --width, --points; e.g. --order 8 --points 12,24,48",
+        )
+    })?;
+    Ok((s, defaults))
+}
+
+/// A one-line progress display on standard error, only when it is a terminal, and only once
+/// a run has taken a moment.
+struct ProgressLine {
+    enabled: bool,
+    start: Instant,
+    last: Option<Instant>,
+}
+
+impl ProgressLine {
+    fn new() -> ProgressLine {
+        ProgressLine {
+            enabled: std::io::stderr().is_terminal(),
+            start: Instant::now(),
+            last: None,
+        }
+    }
+
+    fn update(&mut self, p: Progress) {
+        if !self.enabled || self.start.elapsed() < Duration::from_millis(400) {
+            return;
+        }
+        let now = Instant::now();
+        if self
+            .last
+            .is_some_and(|l| now - l < Duration::from_millis(100))
+        {
+            return;
+        }
+        self.last = Some(now);
+        let frac = p.work.0 as f64 / p.work.1.max(1) as f64;
+        let width = 24;
+        let filled = ((frac * width as f64).round() as usize).min(width);
+        let bar: String = "#".repeat(filled) + &".".repeat(width - filled);
+        let mut e = std::io::stderr().lock();
+        let _ = write!(
+            e,
+            "\r  grid {}/{}: {}^4 points, slab {:>3}/{:<3} [{bar}] {:>3.0}%",
+            p.level + 1,
+            p.levels,
+            p.points,
+            p.slab,
+            p.slabs,
+            frac * 100.0
+        );
+        let _ = e.flush();
+    }
+
+    fn finish(&mut self) {
+        if self.last.is_some() {
+            let mut e = std::io::stderr().lock();
+            let _ = write!(e, "\r{:78}\r", "");
+            let _ = e.flush();
+        }
+    }
+}
+
+/// Writes `text` to `path` through a temporary file in the same directory and a rename, so
+/// the file is either the old one or the whole new one.
+fn write_atomically(path: &Path, text: &str) -> std::io::Result<()> {
+    let dir = path
+        .parent()
+        .filter(|d| !d.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "plot.svg".into());
+    let tmp = dir.join(format!(".{name}.{}.tmp", std::process::id()));
+    let result = (|| {
+        let mut f = std::fs::File::create(&tmp)?;
+        f.write_all(text.as_bytes())?;
+        f.sync_all()?;
+        std::fs::rename(&tmp, path)
+    })();
+    if result.is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+    result
+}
+
+/// `lingrav grid`.
+pub fn run_grid(a: GridArgs) -> Result<Outcome, Failure> {
+    // Plan: read and build the file, resolve the grid, compile, check the plot's folder.
+    let mut problem =
+        lingrav::problem::read(&a.file).map_err(|e| Failure::Input(miette::Report::new(e)))?;
+    let (settings, defaults) = settings(&a, problem.grid.as_ref())?;
+    if let Some(p) = &a.plot {
+        let dir = p
+            .parent()
+            .filter(|d| !d.as_os_str().is_empty())
+            .unwrap_or(Path::new("."));
+        if !dir.is_dir() {
+            return Err(input_error(
+                format!(
+                    "cannot write the plot `{}`: no folder `{}`",
+                    p.display(),
+                    dir.display()
+                ),
+                "create the folder first, or give another path to --plot",
+            ));
+        }
+    }
+    let plan = GridPlan::for_problem(&mut problem).map_err(|e| {
+        input_error(
+            e.to_string(),
+            "every symbol needs a value: coordinates t, x, y, z, parameters from [parameters], \
+             functions with a sample in [functions]",
+        )
+    })?;
+
+    // Compute.
+    let mut line = ProgressLine::new();
+    let result = grid::run(&plan, &settings, &mut |p| line.update(p));
+    line.finish();
+    let report = result.map_err(|e| match &e {
+        GridError::NonFinite { .. } => input_error(
+            format!("cannot sample the perturbation: {e}"),
+            "move the box away from the singular point ([grid] center and width, or --center, \
+             --width), or pass --mask-nonfinite to skip (and count) every stencil that touches it",
+        ),
+        GridError::NotReal { .. } => input_error(
+            format!("cannot sample the perturbation: {e}"),
+            "a component with a complex value (a root or logarithm of a negative number) has no \
+             real grid samples there; move the box or correct the expression",
+        ),
+        _ => input_error(e.to_string(), "see lingrav grid --help"),
+    })?;
+
+    let label = a.file.display().to_string();
+    let text = match a.format {
+        Format::Text => render_text(&label, problem.name.as_deref(), &report, &defaults),
+        Format::Json => render_json(&label, problem.name.as_deref(), &report, &defaults),
+    };
+    if let Some(p) = &a.plot {
+        let title = match problem.name.as_deref() {
+            Some(n) => format!("{label}: {n} (order {})", settings.order),
+            None => format!("{label} (order {})", settings.order),
+        };
+        let svg = grid::plot::svg(&report, &title);
+        write_atomically(p, &svg).map_err(|e| {
+            input_error(
+                format!("cannot write the plot `{}`: {e}", p.display()),
+                "check the path given to --plot",
+            )
+        })?;
+    }
+    print(&text)?;
+    Ok(match report.overall() {
+        GridStatus::Holds => Outcome::Holds,
+        GridStatus::Fails => Outcome::Fails,
+        GridStatus::Inconclusive => Outcome::Undecided,
+    })
+}
+
+fn title(c: &ClaimResult) -> String {
+    match c.asserted {
+        Some(false) => format!("not {}", c.title.replace(" = 0)", " != 0)")),
+        _ => c.title.clone(),
+    }
+}
+
+fn word(c: &ClaimResult, has_claims: bool) -> String {
+    match (has_claims, c.asserted) {
+        (true, Some(_)) => c.status.label().to_string(),
+        (true, None) => format!("({})", c.status.label()),
+        (false, _) => match c.status {
+            GridStatus::Holds => "yes".into(),
+            GridStatus::Fails => "no".into(),
+            GridStatus::Inconclusive => "unclear".into(),
+        },
+    }
+}
+
+fn num(v: f64) -> String {
+    if v == 0.0 {
+        "0".into()
+    } else {
+        format!("{v:.3e}")
+    }
+}
+
+fn wrap(text: &str, indent: usize, width: usize) -> String {
+    let mut out = String::new();
+    let mut line = String::new();
+    for w in text.split_whitespace() {
+        if !line.is_empty() && indent + line.len() + 1 + w.len() > width {
+            let _ = writeln!(out, "{:indent$}{line}", "");
+            line.clear();
+        }
+        if !line.is_empty() {
+            line.push(' ');
+        }
+        line.push_str(w);
+    }
+    if !line.is_empty() {
+        let _ = writeln!(out, "{:indent$}{line}", "");
+    }
+    out
+}
+
+fn render_text(label: &str, name: Option<&str>, r: &GridReport, defaults: &[&str]) -> String {
+    let s0 = &r.settings;
+    let mut s = String::new();
+    match name {
+        Some(n) => {
+            let _ = writeln!(s, "{label}: {n}");
+        }
+        None => {
+            let _ = writeln!(s, "{label}");
+        }
+    }
+    let pts: Vec<String> = s0.points.iter().map(usize::to_string).collect();
+    let _ = writeln!(
+        s,
+        "convergence test on grids (numerical evidence, not proof)"
+    );
+    let _ = writeln!(
+        s,
+        "  box: centre (t, x, y, z) = ({}, {}, {}, {}), side {}; {} points per side",
+        s0.center[0],
+        s0.center[1],
+        s0.center[2],
+        s0.center[3],
+        s0.width,
+        pts.join(", ")
+    );
+    let _ = writeln!(
+        s,
+        "  derivatives: central differences of order {}; residual = largest |component| over \
+         the\n  interior of the coarsest grid (the same region at every resolution)",
+        s0.order
+    );
+    if !defaults.is_empty() {
+        let _ = writeln!(
+            s,
+            "  (default {}: set in [grid] or with --{})",
+            defaults.join(", "),
+            defaults.join(", --")
+        );
+    }
+    if !r.has_claims {
+        let _ = writeln!(
+            s,
+            "  (no [claims] table: reporting which properties the grids support)"
+        );
+    }
+    for l in &r.levels {
+        if l.masked > 0 {
+            let _ = writeln!(
+                s,
+                "  masked: {} non-finite sample values at {} points per side",
+                l.masked, l.points
+            );
+        }
+    }
+    for c in &r.claims {
+        let _ = writeln!(s);
+        let _ = writeln!(s, "  {:<13}{}", word(c, r.has_claims), title(c));
+        let _ = writeln!(
+            s,
+            "  {:13}{:>6}  {:>10}  {:>10}  {:>10}  {:>6}",
+            "", "points", "spacing", "residual", "floor", "order"
+        );
+        for (i, (row, l)) in c.rows.iter().zip(&r.levels).enumerate() {
+            let order = match i.checked_sub(1).and_then(|j| c.orders[j]) {
+                Some(p) => format!("{p:.2}"),
+                None if i == 0 => String::new(),
+                None => "-".into(),
+            };
+            let skipped = if row.skipped > 0 {
+                format!("  ({} points skipped)", row.skipped)
+            } else {
+                String::new()
+            };
+            let _ = writeln!(
+                s,
+                "  {:13}{:>6}  {:>10.3e}  {:>10}  {:>10.1e}  {:>6}{skipped}",
+                "",
+                l.points,
+                l.spacing,
+                num(row.residual),
+                row.floor,
+                order
+            );
+        }
+        s.push_str(&wrap(&c.explanation, 15, 96));
+    }
+    let counted: Vec<&ClaimResult> = r
+        .claims
+        .iter()
+        .filter(|c| c.asserted.is_some() || !r.has_claims)
+        .collect();
+    let by = |st: GridStatus| counted.iter().filter(|c| c.status == st).count();
+    let floor_only = counted
+        .iter()
+        .filter(|c| c.status == GridStatus::Holds && c.finding == Finding::AtFloor)
+        .filter(|c| c.rows.iter().any(|w| w.residual > 0.0))
+        .count();
+    let _ = writeln!(s);
+    let summary = match (r.has_claims, r.overall()) {
+        (true, GridStatus::Holds) => format!("every claim holds ({} checked)", counted.len()),
+        (true, GridStatus::Fails) => {
+            format!("{} of {} claims fail", by(GridStatus::Fails), counted.len())
+        }
+        (true, GridStatus::Inconclusive) => format!(
+            "{} of {} claims inconclusive, none fails",
+            by(GridStatus::Inconclusive),
+            counted.len()
+        ),
+        (false, GridStatus::Inconclusive) => "some properties are unclear".into(),
+        (false, _) => "every property decided".into(),
+    };
+    let floor_note = if floor_only > 0 {
+        format!("; {floor_only} only to within round-off")
+    } else {
+        String::new()
+    };
+    let _ = writeln!(s, "result (numerical evidence): {summary}{floor_note}");
+    s
+}
+
+fn finite(v: f64) -> serde_json::Value {
+    if v.is_finite() {
+        serde_json::json!(v)
+    } else {
+        serde_json::Value::Null
+    }
+}
+
+fn render_json(label: &str, name: Option<&str>, r: &GridReport, defaults: &[&str]) -> String {
+    let claims: Vec<serde_json::Value> = r
+        .claims
+        .iter()
+        .map(|c| {
+            let finding = match &c.finding {
+                Finding::Converges { .. } => "converges",
+                Finding::AtFloor => "within_roundoff",
+                Finding::Stalls { .. } => "stalls",
+                Finding::Unclear(_) => "unclear",
+            };
+            serde_json::json!({
+                "key": c.key,
+                "title": c.title,
+                "asserted": c.asserted,
+                "status": c.status.label(),
+                "finding": finding,
+                "explanation": c.explanation,
+                "observed_orders": c.orders.iter().map(|o| o.map_or(serde_json::Value::Null, finite)).collect::<Vec<_>>(),
+                "levels": c.rows.iter().zip(&r.levels).map(|(row, l)| serde_json::json!({
+                    "points": l.points,
+                    "spacing": finite(l.spacing),
+                    "residual": finite(row.residual),
+                    "roundoff_floor": finite(row.floor),
+                    "largest_component": row.worst.as_ref().map(|w| w.component.clone()),
+                    "largest_at": row.worst.as_ref().map(|w| w.point.to_vec()),
+                    "skipped_points": row.skipped,
+                })).collect::<Vec<_>>(),
+            })
+        })
+        .collect();
+    let s0 = &r.settings;
+    let j = serde_json::json!({
+        "file": label,
+        "name": name,
+        "method": "convergence test on grids (numerical evidence, not proof)",
+        "grid": {
+            "center": s0.center.to_vec(),
+            "width": s0.width,
+            "order": s0.order,
+            "points": s0.points,
+            "spacings": r.levels.iter().map(|l| l.spacing).collect::<Vec<_>>(),
+            "interior_points": r.levels.iter().map(|l| l.interior).collect::<Vec<_>>(),
+            "masked_samples": r.levels.iter().map(|l| l.masked).collect::<Vec<_>>(),
+            "defaults": defaults,
+        },
+        "sample_errors": r.sample_errors.iter().map(|(n, e)| (n.clone(), finite(*e))).collect::<serde_json::Map<_, _>>(),
+        "has_claims": r.has_claims,
+        "result": r.overall().label(),
+        "claims": claims,
+        "conventions": { "signature": "-+++", "coordinates": "t,x,y,z", "units": "G = c = 1", "indices": "h and T down" },
+    });
+    format!("{}\n", serde_json::to_string_pretty(&j).expect("json"))
+}

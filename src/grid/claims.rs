@@ -1,0 +1,335 @@
+//! Each claim as a list of components, each component a linear combination of samples and
+//! derivatives of `h` and `T` at a point.
+//!
+//! These formulas are written here from the definitions, independently of
+//! [`crate::tensor`], so that the grid check is a second opinion and not the same code run
+//! numerically. With `eta = diag(-1, 1, 1, 1)`, `h = eta^{mn} h_mn`, `d` partial derivatives:
+//! - Ricci: `R_mn = (1/2)(d_s d_m h^s_n + d_s d_n h^s_m - d_m d_n h - box h_mn)`, with
+//!   `box = eta^{ss} d_s d_s`; Einstein `G_mn = R_mn - (1/2) eta_mn eta^{rs} R_rs`;
+//! - Lorenz: `d^m hbar_mn = eta^{mm} d_m h_mn - (1/2) d_n h`;
+//! - TT: `h_tm`, `h_xx + h_yy + h_zz`, `d_i h_ij`; synchronous: `h_tm`;
+//! - Riemann (sign of Misner, Thorne & Wheeler 1973, at first order):
+//!   `R_abcd = (1/2)(d_b d_c h_ad + d_a d_d h_bc - d_a d_c h_bd - d_b d_d h_ac)`, for the 21
+//!   pairs `(ab) <= (cd)` of antisymmetric index pairs;
+//! - source conservation: `d^m T_mn = eta^{mm} d_m T_mn`.
+
+// Index loops mirror the tensor formulas they implement.
+#![allow(clippy::needless_range_loop)]
+
+use crate::problem::{Claims, Gauge};
+use std::collections::BTreeMap;
+
+const ETA: [f64; 4] = [-1.0, 1.0, 1.0, 1.0];
+const AXES: [&str; 4] = ["t", "x", "y", "z"];
+
+/// Which tensor a sample belongs to.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum Field {
+    /// The perturbation `h_{mu nu}`.
+    H,
+    /// The source `T_{mu nu}`.
+    T,
+}
+
+/// A derivative of a sample: none, first along an axis, or second along two (sorted).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum Deriv {
+    /// The sample itself.
+    Value,
+    /// `d_a`.
+    D1(u8),
+    /// `d_a d_b`, `a <= b`.
+    D2(u8, u8),
+}
+
+impl Deriv {
+    /// Highest order of differentiation.
+    #[must_use]
+    pub fn order(self) -> u32 {
+        match self {
+            Deriv::Value => 0,
+            Deriv::D1(_) => 1,
+            Deriv::D2(..) => 2,
+        }
+    }
+    /// True if it differentiates along the axis.
+    #[must_use]
+    pub fn involves(self, axis: u8) -> bool {
+        match self {
+            Deriv::Value => false,
+            Deriv::D1(a) => a == axis,
+            Deriv::D2(a, b) => a == axis || b == axis,
+        }
+    }
+}
+
+/// One term's target: a derivative of one component of `h` or `T` (indices sorted).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub struct Atom {
+    /// `h` or `T`.
+    pub field: Field,
+    /// The smaller index.
+    pub mu: u8,
+    /// The larger index.
+    pub nu: u8,
+    /// The derivative.
+    pub deriv: Deriv,
+}
+
+/// A linear combination of atoms.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct Combo(pub BTreeMap<Atom, f64>);
+
+impl Combo {
+    fn add(&mut self, field: Field, m: usize, n: usize, deriv: Deriv, c: f64) {
+        let (mu, nu) = (m.min(n) as u8, m.max(n) as u8);
+        let deriv = match deriv {
+            Deriv::D2(a, b) => Deriv::D2(a.min(b), a.max(b)),
+            d => d,
+        };
+        let e = self
+            .0
+            .entry(Atom {
+                field,
+                mu,
+                nu,
+                deriv,
+            })
+            .or_insert(0.0);
+        *e += c;
+        if *e == 0.0 {
+            self.0.remove(&Atom {
+                field,
+                mu,
+                nu,
+                deriv,
+            });
+        }
+    }
+    fn plus(&mut self, other: &Combo, c: f64) {
+        for (a, v) in &other.0 {
+            self.add(a.field, a.mu as usize, a.nu as usize, a.deriv, c * v);
+        }
+    }
+}
+
+/// A claim in grid terms.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ClaimSpec {
+    /// Machine key, the same as the exact check's.
+    pub key: String,
+    /// Human description.
+    pub title: String,
+    /// `Some(true)`: the components vanish; `Some(false)`: they do not; `None`: only report.
+    pub asserted: Option<bool>,
+    /// The named components.
+    pub components: Vec<(String, Combo)>,
+}
+
+fn d2(a: usize, b: usize) -> Deriv {
+    Deriv::D2(a as u8, b as u8)
+}
+
+fn ricci() -> [[Combo; 4]; 4] {
+    let mut r: [[Combo; 4]; 4] = Default::default();
+    for m in 0..4 {
+        for n in m..4 {
+            let c = &mut r[m][n];
+            for s in 0..4 {
+                // (1/2) d_s d_m h^s_n + (1/2) d_s d_n h^s_m
+                c.add(Field::H, s, n, d2(s, m), 0.5 * ETA[s]);
+                c.add(Field::H, s, m, d2(s, n), 0.5 * ETA[s]);
+                // -(1/2) d_m d_n h, h = eta^{ss} h_ss
+                c.add(Field::H, s, s, d2(m, n), -0.5 * ETA[s]);
+                // -(1/2) box h_mn
+                c.add(Field::H, m, n, d2(s, s), -0.5 * ETA[s]);
+            }
+            r[n][m] = r[m][n].clone();
+        }
+    }
+    r
+}
+
+fn field_equations(with_source: bool) -> Vec<(String, Combo)> {
+    let r = ricci();
+    let mut scalar = Combo::default();
+    for m in 0..4 {
+        scalar.plus(&r[m][m], ETA[m]);
+    }
+    let mut out = Vec::new();
+    for m in 0..4 {
+        for n in m..4 {
+            let mut g = r[m][n].clone();
+            if m == n {
+                g.plus(&scalar, -0.5 * ETA[m]);
+            }
+            let name = if with_source {
+                g.add(Field::T, m, n, Deriv::Value, -8.0 * std::f64::consts::PI);
+                format!("G_{0}{1} - 8*pi*T_{0}{1}", AXES[m], AXES[n])
+            } else {
+                format!("G_{}{}", AXES[m], AXES[n])
+            };
+            out.push((name, g));
+        }
+    }
+    out
+}
+
+fn lorenz() -> Vec<(String, Combo)> {
+    (0..4)
+        .map(|n| {
+            let mut c = Combo::default();
+            for m in 0..4 {
+                c.add(Field::H, m, n, Deriv::D1(m as u8), ETA[m]);
+                c.add(Field::H, m, m, Deriv::D1(n as u8), -0.5 * ETA[m]);
+            }
+            (format!("d^mu hbar_mu{}", AXES[n]), c)
+        })
+        .collect()
+}
+
+fn synchronous() -> Vec<(String, Combo)> {
+    (0..4)
+        .map(|m| {
+            let mut c = Combo::default();
+            c.add(Field::H, 0, m, Deriv::Value, 1.0);
+            (format!("h_t{}", AXES[m]), c)
+        })
+        .collect()
+}
+
+fn tt() -> Vec<(String, Combo)> {
+    let mut out = synchronous();
+    let mut tr = Combo::default();
+    for i in 1..4 {
+        tr.add(Field::H, i, i, Deriv::Value, 1.0);
+    }
+    out.push(("h_xx + h_yy + h_zz".into(), tr));
+    for j in 1..4 {
+        let mut c = Combo::default();
+        for i in 1..4 {
+            c.add(Field::H, i, j, Deriv::D1(i as u8), 1.0);
+        }
+        out.push((format!("d_i h_i{}", AXES[j]), c));
+    }
+    out
+}
+
+fn riemann() -> Vec<(String, Combo)> {
+    let pairs = [(0, 1), (0, 2), (0, 3), (1, 2), (1, 3), (2, 3)];
+    let mut out = Vec::new();
+    for (i, &(a, b)) in pairs.iter().enumerate() {
+        for &(c, d) in &pairs[i..] {
+            let mut k = Combo::default();
+            k.add(Field::H, a, d, d2(b, c), 0.5);
+            k.add(Field::H, b, c, d2(a, d), 0.5);
+            k.add(Field::H, b, d, d2(a, c), -0.5);
+            k.add(Field::H, a, c, d2(b, d), -0.5);
+            out.push((format!("R_{}{}{}{}", AXES[a], AXES[b], AXES[c], AXES[d]), k));
+        }
+    }
+    out
+}
+
+fn conservation() -> Vec<(String, Combo)> {
+    (0..4)
+        .map(|n| {
+            let mut c = Combo::default();
+            for m in 0..4 {
+                c.add(Field::T, m, n, Deriv::D1(m as u8), ETA[m]);
+            }
+            (format!("d^mu T_mu{}", AXES[n]), c)
+        })
+        .collect()
+}
+
+/// The flat d'Alembertian of the trace-reversed perturbation, `(box hbar)_mn`: not a claim of
+/// problem files, but the field equations in Lorenz gauge (`G1 = -(1/2) box hbar`), used by
+/// the benchmarks.
+#[must_use]
+pub fn box_hbar() -> ClaimSpec {
+    let mut components = Vec::new();
+    for m in 0..4 {
+        for n in m..4 {
+            let mut c = Combo::default();
+            for s in 0..4 {
+                c.add(Field::H, m, n, d2(s, s), ETA[s]);
+                if m == n {
+                    // hbar_mm = h_mm - (1/2) eta_mm h
+                    for r in 0..4 {
+                        c.add(Field::H, r, r, d2(s, s), -0.5 * ETA[m] * ETA[r] * ETA[s]);
+                    }
+                }
+            }
+            components.push((format!("box hbar_{}{}", AXES[m], AXES[n]), c));
+        }
+    }
+    ClaimSpec {
+        key: "box_hbar".into(),
+        title: "box hbar = 0".into(),
+        asserted: Some(true),
+        components,
+    }
+}
+
+fn gauge_title(g: Gauge) -> &'static str {
+    match g {
+        Gauge::Lorenz => "Lorenz gauge (d^mu hbar_{mu nu} = 0)",
+        Gauge::Tt => "TT gauge (h_{t mu} = 0, h^i_i = 0, d_i h_{ij} = 0)",
+        Gauge::Synchronous => "synchronous gauge (h_{t mu} = 0)",
+    }
+}
+
+/// The claims of a problem, in the order the exact check reports them: source conservation
+/// (when there is a source), field equations, gauges, pure gauge. Without a [claims] table
+/// every property is listed, unasserted.
+#[must_use]
+pub fn claim_specs(claims: Option<&Claims>, with_source: bool) -> Vec<ClaimSpec> {
+    let mut out = Vec::new();
+    let has_claims = claims.is_some();
+    if with_source {
+        out.push(ClaimSpec {
+            key: "source_conservation".into(),
+            title: "source conservation (d^mu T_{mu nu} = 0)".into(),
+            asserted: claims.and_then(|c| c.field_equations.filter(|b| *b)),
+            components: conservation(),
+        });
+    }
+    let (fe, gauges, pg) = match claims {
+        Some(c) => (c.field_equations, c.gauge.clone(), c.pure_gauge),
+        None => (None, Gauge::ALL.to_vec(), None),
+    };
+    if fe.is_some() || !has_claims {
+        out.push(ClaimSpec {
+            key: "field_equations".into(),
+            title: if with_source {
+                "field equations G1 = 8 pi T".into()
+            } else {
+                "vacuum field equations G1 = 0".into()
+            },
+            asserted: fe,
+            components: field_equations(with_source),
+        });
+    }
+    for g in gauges {
+        out.push(ClaimSpec {
+            key: format!("gauge.{}", g.name()),
+            title: gauge_title(g).into(),
+            asserted: has_claims.then_some(true),
+            components: match g {
+                Gauge::Lorenz => lorenz(),
+                Gauge::Tt => tt(),
+                Gauge::Synchronous => synchronous(),
+            },
+        });
+    }
+    if pg.is_some() || !has_claims {
+        out.push(ClaimSpec {
+            key: "pure_gauge".into(),
+            title: "pure gauge (linearized Riemann tensor = 0)".into(),
+            asserted: pg,
+            components: riemann(),
+        });
+    }
+    out
+}

@@ -1,0 +1,772 @@
+//! The grid check: a numerical second opinion on a problem's claims, by convergence test.
+//!
+//! Model. The perturbation `h` (and the source `T`) is sampled on a 4-d box of lattice points
+//! at three or more resolutions. Derivatives are taken by central finite differences of order
+//! `q` (2, 4, 6 or 8; weights from Fornberg's algorithm, [`stencil`]), as a simulation code
+//! would; mixed second derivatives are products of first-derivative stencils. Each claim's
+//! components are written from the definitions in terms of these samples and derivatives
+//! ([`claims`]), never from the symbolic derivatives of [`crate::tensor`], so that this is an
+//! independent opinion. The residual of a claim at a resolution is the largest |component|
+//! over the components and the interior points of the coarsest grid's interior region (where
+//! its stencil fits inside the box), the same region at every resolution so that the
+//! residuals compare like with like.
+//!
+//! If a claim is true its residual is truncation error and falls like `spacing^q` until it
+//! reaches round-off; if it is false the residual stalls at the size of the defect. The
+//! verdict rule ([`verdict`]): with the observed order `p` between the two finest resolutions,
+//! - the finest residual is within the round-off floor: the components vanish *to within
+//!   round-off* (and a defect smaller than the floor cannot be seen: the report says so);
+//! - `p >= q - 1/2`: they vanish (falling at the stencil's order);
+//! - `|p| < 1/2` and the residual more than 10 times the floor: they do not vanish;
+//! - otherwise inconclusive, with the reason.
+//!
+//! A claim `= true` holds when its components vanish, a claim `= false` when they do not.
+//! Everything here is numerical evidence, not proof, and is labelled so.
+//!
+//! Round-off floor. Every sample carries a running error bound from its tape
+//! ([`crate::tape::Tape::eval_bounds`]), the largest over a 6^4 lattice spanning the box
+//! taken as the sample error `e_c` of channel `c`. A first difference amplifies it by
+//! `sum |w1| / spacing`, a second by `sum |w2| / spacing^2` (mixed: `(sum |w1|)^2 /
+//! spacing^2`), and a component by the sum of |coefficients| of its terms; the floor of a claim
+//! is the largest over its components. It is an estimate (a bound at the probe points), so a
+//! claim is called false only well above it.
+//!
+//! Key design decision: memory stays bounded by streaming over `t` ([`sweep`]): only the
+//! `q + 1` slabs (3-d grids at one `t`) that the stencil reaches are held, plus one slab of
+//! the channels that do not depend on `t`: `(q + 2) * n^3 * channels * 8` bytes for `n` points
+//! per side, never `n^4`.
+//!
+//! **Invariants:** no symbolic derivative of `h` or `T` is taken here (samples of arbitrary
+//! functions are differentiated symbolically, which defines the sample, not the
+//! perturbation); a non-finite sample is an error naming its point unless masking was asked
+//! for, and masked points are counted, never silently dropped; results do not depend on the
+//! number of threads.
+
+pub mod claims;
+pub mod plot;
+pub mod stencil;
+pub mod sweep;
+#[cfg(test)]
+mod tests;
+pub mod verdict;
+
+pub use claims::{Atom, ClaimSpec, Combo, Deriv, Field, box_hbar, claim_specs};
+pub use stencil::{ORDERS, Stencil};
+pub use sweep::{Box4, Sweep};
+pub use verdict::{Finding, classify, observed_orders};
+
+use crate::canon::{Form, FunctionSample, Store};
+use crate::problem::{GridSpec, Problem};
+use crate::tape::{Compiler, Node, Tape, TapeError};
+use rustc_hash::FxHashMap;
+use std::rc::Rc;
+
+/// The default centre (t, x, y, z): away from the origin, where point sources sit.
+pub const DEFAULT_CENTER: [f64; 4] = [0.3, 0.4, 0.5, 0.6];
+/// The default side of the box.
+pub const DEFAULT_WIDTH: f64 = 0.2;
+/// The default order of the stencils.
+pub const DEFAULT_ORDER: u32 = 4;
+/// Points per side of the probe lattice for the round-off floor.
+pub const PROBE_POINTS: usize = 6;
+/// Fewest resolutions for a convergence test.
+pub const MIN_RESOLUTIONS: usize = 3;
+
+/// The default resolutions for stencils of order `order`: `n, 2n, 4n` points per side with
+/// `n = max(8, order + 4)`, so the coarsest has at least four interior points per side.
+#[must_use]
+pub fn default_points(order: u32) -> Vec<usize> {
+    let n = 8usize.max(order as usize + 4);
+    vec![n, 2 * n, 4 * n]
+}
+
+/// Why the grid check could not run.
+#[derive(Clone, Debug, PartialEq, thiserror::Error)]
+pub enum GridError {
+    /// A sample is not finite (a pole, `r = 0` of a point source, an overflow).
+    #[error(
+        "{component} is {value} at (t, x, y, z) = ({}, {}, {}, {}) (a grid point at {points} points per side)",
+        point[0], point[1], point[2], point[3]
+    )]
+    NonFinite {
+        /// The component, e.g. `h_tt`.
+        component: String,
+        /// The point.
+        point: [f64; 4],
+        /// `NaN` or `infinite`.
+        value: String,
+        /// Points per side of the resolution where it happened.
+        points: usize,
+    },
+    /// A sample has an imaginary part that is not round-off.
+    #[error(
+        "{component} is not real: imaginary part {imaginary:.3e} at (t, x, y, z) = ({}, {}, {}, {}), where the largest |value| is {magnitude:.3e}",
+        point[0], point[1], point[2], point[3]
+    )]
+    NotReal {
+        /// The component.
+        component: String,
+        /// Where the imaginary part is largest.
+        point: [f64; 4],
+        /// Its size.
+        imaginary: f64,
+        /// The largest |value| of the component.
+        magnitude: f64,
+    },
+    /// A component cannot be compiled for evaluation.
+    #[error("cannot evaluate {component}: {error}")]
+    Compile {
+        /// The component.
+        component: String,
+        /// Why.
+        error: TapeError,
+    },
+    /// A resolution too coarse for the stencil.
+    #[error(
+        "central differences of order {order} need at least {needed} points per side; {got} is too few"
+    )]
+    TooFewPoints {
+        /// The order.
+        order: u32,
+        /// Points needed.
+        needed: usize,
+        /// Points given.
+        got: usize,
+    },
+    /// Settings that make no grid.
+    #[error("{0}")]
+    Settings(String),
+}
+
+/// A sampled component of `h` or `T`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Channel {
+    /// `h_xx`, `T_tt`, ...
+    pub name: String,
+    /// Which tensor.
+    pub field: Field,
+    /// Smaller index.
+    pub mu: usize,
+    /// Larger index.
+    pub nu: usize,
+    /// Whether it depends on `t` (sampled every slab) or not (sampled once).
+    pub dynamic: bool,
+    /// Its output number in its tape.
+    pub(crate) slot: usize,
+}
+
+/// A claim component in grid terms.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ComponentPlan {
+    /// Its name, e.g. `G_tx`.
+    pub name: String,
+    /// `(atom, coefficient)`: indices into [`GridPlan::atoms`].
+    pub terms: Vec<(usize, f64)>,
+}
+
+/// A claim ready to be evaluated on grids.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ClaimPlan {
+    /// Machine key (as the exact check's).
+    pub key: String,
+    /// Description.
+    pub title: String,
+    /// What the file asserts.
+    pub asserted: Option<bool>,
+    /// The components.
+    pub components: Vec<ComponentPlan>,
+}
+
+/// Everything compiled before any sampling: the channels and their tapes, the derivatives
+/// needed, the claims.
+#[derive(Clone, Debug)]
+pub struct GridPlan {
+    /// The sampled components (those that are not identically zero).
+    pub channels: Vec<Channel>,
+    /// `(channel, derivative)` pairs the claims need.
+    pub atoms: Vec<(usize, Deriv)>,
+    /// The claims.
+    pub claims: Vec<ClaimPlan>,
+    /// True if the file had a [claims] table.
+    pub has_claims: bool,
+    pub(crate) dynamic: Tape,
+    pub(crate) statics: Tape,
+}
+
+const AXES: [&str; 4] = ["t", "x", "y", "z"];
+
+impl GridPlan {
+    /// The plan for a problem's claims (or, without [claims], every property).
+    ///
+    /// # Errors
+    ///
+    /// A component that cannot be compiled (a symbol without a value, a function without a
+    /// sample).
+    pub fn for_problem(p: &mut Problem) -> Result<GridPlan, GridError> {
+        let specs = claim_specs(p.claims.as_ref(), p.source.is_some());
+        let has_claims = p.claims.is_some();
+        let h = p.h;
+        let source = p.source;
+        let params = p.parameters.clone();
+        let samples = p.sampling.samples.clone();
+        GridPlan::new(
+            &mut p.store,
+            &h,
+            source.as_ref(),
+            specs,
+            has_claims,
+            &params,
+            &samples,
+        )
+    }
+
+    /// The plan for `specs` over `h` and `source`, with parameter values `constants` and
+    /// function samples `samples`.
+    ///
+    /// # Errors
+    ///
+    /// As [`GridPlan::for_problem`].
+    pub fn new(
+        store: &mut Store,
+        h: &[[Form; 4]; 4],
+        source: Option<&[[Form; 4]; 4]>,
+        specs: Vec<ClaimSpec>,
+        has_claims: bool,
+        constants: &[(String, f64)],
+        samples: &FxHashMap<Rc<str>, FunctionSample>,
+    ) -> Result<GridPlan, GridError> {
+        let mut compiler = Compiler::new(store, &AXES, constants, samples);
+        let mut channels = Vec::new();
+        let mut nodes: Vec<Node> = Vec::new();
+        let mut index: FxHashMap<(Field, usize, usize), usize> = FxHashMap::default();
+        let tensors = [(Field::H, "h", Some(h)), (Field::T, "T", source)];
+        for (field, letter, m) in tensors {
+            let Some(m) = m else { continue };
+            for (mu, nu) in crate::problem::COMPONENTS {
+                let f = m[mu][nu];
+                let name = format!("{letter}_{}{}", AXES[mu], AXES[nu]);
+                let node = compiler.form(f).map_err(|error| GridError::Compile {
+                    component: name.clone(),
+                    error,
+                })?;
+                // Identically zero components are not sampled: their terms drop out.
+                if compiler.builder.is_zero(node) {
+                    continue;
+                }
+                let dynamic = compiler.builder.mask(node) & 1 != 0;
+                index.insert((field, mu, nu), channels.len());
+                channels.push(Channel {
+                    name,
+                    field,
+                    mu,
+                    nu,
+                    dynamic,
+                    slot: 0,
+                });
+                nodes.push(node);
+            }
+        }
+        let mut dyn_nodes = Vec::new();
+        let mut static_nodes = Vec::new();
+        for (ch, &n) in channels.iter_mut().zip(&nodes) {
+            let list = if ch.dynamic {
+                &mut dyn_nodes
+            } else {
+                &mut static_nodes
+            };
+            ch.slot = list.len();
+            list.push(n);
+        }
+        let dynamic = compiler.builder.finish(&dyn_nodes);
+        let statics = compiler.builder.finish(&static_nodes);
+
+        let mut atoms: Vec<(usize, Deriv)> = Vec::new();
+        let mut atom_index: FxHashMap<(usize, Deriv), usize> = FxHashMap::default();
+        let mut claims = Vec::new();
+        for spec in specs {
+            let mut components = Vec::new();
+            for (name, combo) in spec.components {
+                let mut terms = Vec::new();
+                for (atom, coef) in combo.0 {
+                    let Some(&c) = index.get(&(atom.field, atom.mu as usize, atom.nu as usize))
+                    else {
+                        continue;
+                    };
+                    // A channel that does not depend on t has t-derivatives exactly 0.
+                    if !channels[c].dynamic && atom.deriv.involves(0) {
+                        continue;
+                    }
+                    let key = (c, atom.deriv);
+                    let a = *atom_index.entry(key).or_insert_with(|| {
+                        atoms.push(key);
+                        atoms.len() - 1
+                    });
+                    terms.push((a, coef));
+                }
+                components.push(ComponentPlan { name, terms });
+            }
+            claims.push(ClaimPlan {
+                key: spec.key,
+                title: spec.title,
+                asserted: spec.asserted,
+                components,
+            });
+        }
+        Ok(GridPlan {
+            channels,
+            atoms,
+            claims,
+            has_claims,
+            dynamic,
+            statics,
+        })
+    }
+
+    /// Instructions in the tapes: (channels that depend on t, channels that do not).
+    #[must_use]
+    pub fn instructions(&self) -> (usize, usize) {
+        (self.dynamic.len(), self.statics.len())
+    }
+
+    /// Channel indices in output order of the `dynamic` (or static) tape.
+    pub(crate) fn channel_order(&self, dynamic: bool) -> Vec<usize> {
+        let mut v: Vec<(usize, usize)> = self
+            .channels
+            .iter()
+            .enumerate()
+            .filter(|(_, c)| c.dynamic == dynamic)
+            .map(|(i, c)| (c.slot, i))
+            .collect();
+        v.sort_unstable();
+        v.into_iter().map(|(_, i)| i).collect()
+    }
+
+    /// The round-off floor of every component of every claim at spacing `h`, from the
+    /// per-channel sample errors `errors`.
+    #[must_use]
+    pub fn floors(&self, errors: &[f64], st: &Stencil, h: f64) -> Vec<Vec<f64>> {
+        let (g1, g2) = (st.d1_gain(), st.d2_gain());
+        let gain = |d: Deriv| match d {
+            Deriv::Value => 1.0,
+            Deriv::D1(_) => g1 / h,
+            Deriv::D2(a, b) if a == b => g2 / (h * h),
+            Deriv::D2(..) => g1 * g1 / (h * h),
+        };
+        self.claims
+            .iter()
+            .map(|c| {
+                c.components
+                    .iter()
+                    .map(|k| {
+                        k.terms
+                            .iter()
+                            .map(|&(a, coef)| {
+                                let (ch, d) = self.atoms[a];
+                                coef.abs() * gain(d) * errors[ch]
+                            })
+                            .sum()
+                    })
+                    .collect()
+            })
+            .collect()
+    }
+}
+
+/// Resolved settings of a grid check.
+#[derive(Clone, Debug, PartialEq)]
+pub struct GridSettings {
+    /// Centre of the box (t, x, y, z).
+    pub center: [f64; 4],
+    /// Side of the box.
+    pub width: f64,
+    /// Points per side at each resolution, increasing.
+    pub points: Vec<usize>,
+    /// Order of the stencils.
+    pub order: u32,
+    /// Skip stencils that touch a non-finite sample instead of stopping.
+    pub mask_nonfinite: bool,
+}
+
+impl GridSettings {
+    /// Settings from a file's [grid] table (if any) with defaults for what it leaves out.
+    #[must_use]
+    pub fn from_spec(spec: Option<&GridSpec>, order: u32) -> GridSettings {
+        let spec = spec.cloned().unwrap_or_default();
+        GridSettings {
+            center: spec.center.unwrap_or(DEFAULT_CENTER),
+            width: spec.width.unwrap_or(DEFAULT_WIDTH),
+            points: spec.points.unwrap_or_else(|| default_points(order)),
+            order,
+            mask_nonfinite: false,
+        }
+    }
+
+    /// The spacing at `points` points per side.
+    #[must_use]
+    pub fn spacing(&self, points: usize) -> f64 {
+        self.width / (points as f64 - 1.0)
+    }
+
+    /// Checks that the settings make a convergence test.
+    ///
+    /// # Errors
+    ///
+    /// An order other than 2, 4, 6, 8; fewer than three resolutions; resolutions not
+    /// increasing; a resolution too coarse for the stencil; a width or centre not finite and
+    /// positive.
+    pub fn validate(&self) -> Result<(), GridError> {
+        if !ORDERS.contains(&self.order) {
+            return Err(GridError::Settings(format!(
+                "the order must be 2, 4, 6 or 8, not {}",
+                self.order
+            )));
+        }
+        if self.points.len() < MIN_RESOLUTIONS {
+            return Err(GridError::Settings(format!(
+                "a convergence test needs at least {MIN_RESOLUTIONS} resolutions, not {}",
+                self.points.len()
+            )));
+        }
+        if self.points.windows(2).any(|w| w[1] <= w[0]) {
+            return Err(GridError::Settings(
+                "the points per side must increase from one resolution to the next".into(),
+            ));
+        }
+        let needed = self.order as usize + 1;
+        if let Some(&got) = self.points.iter().find(|&&n| n < needed) {
+            return Err(GridError::TooFewPoints {
+                order: self.order,
+                needed,
+                got,
+            });
+        }
+        if !(self.width.is_finite() && self.width > 0.0) {
+            return Err(GridError::Settings(format!(
+                "the width must be a positive number, not {}",
+                self.width
+            )));
+        }
+        if self.center.iter().any(|c| !c.is_finite()) {
+            return Err(GridError::Settings(
+                "the centre must be four finite numbers".into(),
+            ));
+        }
+        Ok(())
+    }
+}
+
+/// Where a run is, for a progress display.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Progress {
+    /// Resolution number (0-based) and how many.
+    pub level: usize,
+    /// How many resolutions.
+    pub levels: usize,
+    /// Points per side of this resolution.
+    pub points: usize,
+    /// Slabs done at this resolution.
+    pub slab: usize,
+    /// Slabs at this resolution.
+    pub slabs: usize,
+    /// Lattice points done so far over all resolutions, and in all.
+    pub work: (u64, u64),
+}
+
+/// A claim's verdict on the grids.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
+pub enum GridStatus {
+    /// The numbers support the claim.
+    Holds,
+    /// The numbers contradict it.
+    Fails,
+    /// Neither.
+    Inconclusive,
+}
+
+impl GridStatus {
+    /// `holds`, `fails`, `inconclusive`.
+    #[must_use]
+    pub fn label(self) -> &'static str {
+        match self {
+            GridStatus::Holds => "holds",
+            GridStatus::Fails => "fails",
+            GridStatus::Inconclusive => "inconclusive",
+        }
+    }
+}
+
+/// Where a residual was largest.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Worst {
+    /// The component.
+    pub component: String,
+    /// The point (t, x, y, z).
+    pub point: [f64; 4],
+}
+
+/// One resolution of one claim.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Row {
+    /// Largest |component| over the interior points.
+    pub residual: f64,
+    /// The estimated round-off floor.
+    pub floor: f64,
+    /// Where the residual is largest (`None` when it is exactly 0).
+    pub worst: Option<Worst>,
+    /// Interior points skipped because their stencil touched a masked sample.
+    pub skipped: usize,
+}
+
+/// A claim and what the grids show.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ClaimResult {
+    /// Machine key.
+    pub key: String,
+    /// Description.
+    pub title: String,
+    /// What the file asserts.
+    pub asserted: Option<bool>,
+    /// One row per resolution.
+    pub rows: Vec<Row>,
+    /// Observed orders between successive resolutions.
+    pub orders: Vec<Option<f64>>,
+    /// What the residuals show.
+    pub finding: Finding,
+    /// The verdict.
+    pub status: GridStatus,
+    /// The verdict in words.
+    pub explanation: String,
+}
+
+impl ClaimResult {
+    /// True if the verdict rests on the round-off floor (a defect below it is invisible).
+    #[must_use]
+    pub fn at_floor(&self) -> bool {
+        self.finding == Finding::AtFloor
+    }
+}
+
+/// One resolution.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Level {
+    /// Points per side.
+    pub points: usize,
+    /// Spacing.
+    pub spacing: f64,
+    /// Interior points.
+    pub interior: usize,
+    /// Non-finite sample values that were masked.
+    pub masked: usize,
+}
+
+/// The result of a grid check.
+#[derive(Clone, Debug, PartialEq)]
+pub struct GridReport {
+    /// The settings used.
+    pub settings: GridSettings,
+    /// The resolutions.
+    pub levels: Vec<Level>,
+    /// The claims.
+    pub claims: Vec<ClaimResult>,
+    /// True if the file had a [claims] table.
+    pub has_claims: bool,
+    /// Per channel: name and estimated rounding error of its samples.
+    pub sample_errors: Vec<(String, f64)>,
+}
+
+impl GridReport {
+    /// The overall status, counted as the exact check counts: fails if an asserted claim
+    /// fails, else inconclusive if any counted claim is.
+    #[must_use]
+    pub fn overall(&self) -> GridStatus {
+        let counted: Vec<&ClaimResult> = self
+            .claims
+            .iter()
+            .filter(|c| c.asserted.is_some() || !self.has_claims)
+            .collect();
+        if self.has_claims && counted.iter().any(|c| c.status == GridStatus::Fails) {
+            GridStatus::Fails
+        } else if counted.iter().any(|c| c.status == GridStatus::Inconclusive) {
+            GridStatus::Inconclusive
+        } else {
+            GridStatus::Holds
+        }
+    }
+}
+
+fn point_text(p: &[f64; 4]) -> String {
+    format!("({:.4}, {:.4}, {:.4}, {:.4})", p[0], p[1], p[2], p[3])
+}
+
+fn explain(finding: &Finding, rows: &[Row], q: u32) -> String {
+    let last = rows.last().expect("at least one resolution");
+    let (r, f) = (last.residual, last.floor);
+    match finding {
+        Finding::Converges { order } => format!(
+            "the residual falls at order {order:.2} (stencil order {q}) down to {r:.1e}: the \
+             components vanish; a defect smaller than about {r:.0e} would not show at these \
+             resolutions"
+        ),
+        Finding::AtFloor => {
+            if rows.iter().all(|w| w.residual == 0.0) {
+                "the residual is exactly 0 at every resolution: the components vanish".into()
+            } else {
+                format!(
+                    "the residual {r:.1e} is within the round-off floor {f:.1e}: the components \
+                     vanish to within round-off; a defect below about {f:.0e} cannot be seen \
+                     numerically"
+                )
+            }
+        }
+        Finding::Stalls { order } => {
+            let at = last
+                .worst
+                .as_ref()
+                .map(|w| {
+                    format!(
+                        "; largest: {} at (t, x, y, z) = {}",
+                        w.component,
+                        point_text(&w.point)
+                    )
+                })
+                .unwrap_or_default();
+            format!(
+                "the residual stalls at {r:.2e} (observed order {order:.2}), {:.0e} times the \
+                 round-off floor: the components do not vanish{at}",
+                r / f.max(f64::MIN_POSITIVE)
+            )
+        }
+        Finding::Unclear(why) => why.clone(),
+    }
+}
+
+/// Runs the grid check: samples at every resolution, residuals, floors, verdicts.
+/// `progress` is called after every slab.
+///
+/// # Errors
+///
+/// Settings that make no convergence test, a non-finite sample (unless masking), a sample
+/// that is not real.
+pub fn run(
+    plan: &GridPlan,
+    settings: &GridSettings,
+    progress: &mut dyn FnMut(Progress),
+) -> Result<GridReport, GridError> {
+    settings.validate()?;
+    let st = Stencil::central(settings.order).expect("validated order");
+    let errors = sweep::probe_errors(plan, settings.center, settings.width, PROBE_POINTS);
+    let total: u64 = settings.points.iter().map(|&n| (n as u64).pow(4)).sum();
+    let mut done = 0u64;
+    let mut levels = Vec::new();
+    let mut sweeps = Vec::new();
+    let nlev = settings.points.len();
+    // Residuals are compared on one region: the interior of the coarsest grid.
+    let inset = settings.spacing(settings.points[0]) * st.half as f64;
+    let region: [[f64; 2]; 4] = std::array::from_fn(|a| {
+        let c = settings.center[a];
+        [
+            c - settings.width / 2.0 + inset,
+            c + settings.width / 2.0 - inset,
+        ]
+    });
+    for (li, &n) in settings.points.iter().enumerate() {
+        let b = Box4 {
+            center: settings.center,
+            spacing: settings.spacing(n),
+            counts: [n; 4],
+        };
+        let per_slab = (n as u64).pow(3);
+        let base = done;
+        let sw = sweep::sweep(
+            plan,
+            &b,
+            &st,
+            settings.mask_nonfinite,
+            Some(region),
+            &mut |slab, slabs| {
+                progress(Progress {
+                    level: li,
+                    levels: nlev,
+                    points: n,
+                    slab,
+                    slabs,
+                    work: (base + slab as u64 * per_slab, total),
+                });
+            },
+        )?;
+        done += (n as u64).pow(4);
+        levels.push(Level {
+            points: n,
+            spacing: b.spacing,
+            interior: sw.interior,
+            masked: sw.masked,
+        });
+        sweeps.push((b, sw));
+    }
+    let spacings: Vec<f64> = levels.iter().map(|l| l.spacing).collect();
+    let floors: Vec<Vec<Vec<f64>>> = spacings
+        .iter()
+        .map(|&h| plan.floors(&errors, &st, h))
+        .collect();
+    let mut claims = Vec::new();
+    for (ci, claim) in plan.claims.iter().enumerate() {
+        let mut rows = Vec::new();
+        for (li, (b, sw)) in sweeps.iter().enumerate() {
+            let comps = &sw.best[ci];
+            let mut worst: Option<(f64, usize)> = None;
+            for (k, &(v, _)) in comps.iter().enumerate() {
+                if v > 0.0 && worst.is_none_or(|(w, _)| v > w) {
+                    worst = Some((v, k));
+                }
+            }
+            let floor = floors[li][ci].iter().copied().fold(0.0, f64::max);
+            rows.push(Row {
+                residual: worst.map_or(0.0, |w| w.0),
+                floor,
+                worst: worst.map(|(_, k)| Worst {
+                    component: claim.components[k].name.clone(),
+                    point: b.point(comps[k].1),
+                }),
+                skipped: sw.skipped[ci],
+            });
+        }
+        let residuals: Vec<f64> = rows.iter().map(|r| r.residual).collect();
+        let fl: Vec<f64> = rows.iter().map(|r| r.floor).collect();
+        let orders = observed_orders(&residuals, &spacings);
+        let last = sweeps.last().expect("resolutions");
+        let finding = if last.1.skipped[ci] >= last.1.interior {
+            Finding::Unclear("every interior point's stencil touches a masked sample".into())
+        } else {
+            classify(&residuals, &fl, &spacings, settings.order)
+        };
+        let expect = claim.asserted.unwrap_or(true);
+        let status = match finding.vanishes() {
+            Some(v) if v == expect => GridStatus::Holds,
+            Some(_) => GridStatus::Fails,
+            None => GridStatus::Inconclusive,
+        };
+        let explanation = explain(&finding, &rows, settings.order);
+        claims.push(ClaimResult {
+            key: claim.key.clone(),
+            title: claim.title.clone(),
+            asserted: claim.asserted,
+            rows,
+            orders,
+            finding,
+            status,
+            explanation,
+        });
+    }
+    Ok(GridReport {
+        settings: settings.clone(),
+        levels,
+        claims,
+        has_claims: plan.has_claims,
+        sample_errors: plan
+            .channels
+            .iter()
+            .zip(&errors)
+            .map(|(c, &e)| (c.name.clone(), e))
+            .collect(),
+    })
+}

@@ -1,0 +1,547 @@
+//! One resolution: sample the channels slab by slab and take the residuals at interior points.
+//!
+//! Streaming over `t`: the samples of the channels that depend on `t` live in a ring of
+//! `order + 1` slabs (3-d grids at one `t`), exactly what a stencil centred on the middle slab
+//! reaches; the channels that do not depend on `t` are sampled once into one more slab.
+//! Residuals are computed on the middle slab as soon as the ring is full, so memory is
+//! `(order + 2) * nx * ny * nz * channels * 8` bytes, never the whole 4-d grid.
+//!
+//! Within a slab, sampling runs over `x`-planes in parallel, and residuals over `x`-planes of
+//! the middle slab in parallel, each plane line by line along `z`, so every stencil term is a
+//! contiguous multiply-add. Reductions are per plane and merged in plane order, so the result
+//! does not depend on scheduling.
+
+use super::claims::Deriv;
+use super::stencil::Stencil;
+use super::{Channel, GridError, GridPlan};
+use crate::tape::{Lattice, PlaneOutcome, PlaneWork, Tape};
+
+/// A 4-d box of lattice points: `counts[a]` points along axis `a` (t, x, y, z), `spacing`
+/// apart, centred on `center`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Box4 {
+    /// The centre (t, x, y, z).
+    pub center: [f64; 4],
+    /// The spacing, the same along every axis.
+    pub spacing: f64,
+    /// Points along each axis.
+    pub counts: [usize; 4],
+}
+
+impl Box4 {
+    /// The coordinate of point `i` along `axis`.
+    #[must_use]
+    pub fn coord(&self, axis: usize, i: usize) -> f64 {
+        let n = self.counts[axis] as f64;
+        self.center[axis] + (i as f64 - (n - 1.0) / 2.0) * self.spacing
+    }
+
+    fn coords(&self, axis: usize) -> Vec<f64> {
+        (0..self.counts[axis])
+            .map(|i| self.coord(axis, i))
+            .collect()
+    }
+
+    /// The point with lattice indices `idx`.
+    #[must_use]
+    pub fn point(&self, idx: [usize; 4]) -> [f64; 4] {
+        std::array::from_fn(|a| self.coord(a, idx[a]))
+    }
+}
+
+/// The residuals of one resolution.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Sweep {
+    /// Per claim, per component: the largest |residual| and the lattice indices where.
+    pub best: Vec<Vec<(f64, [usize; 4])>>,
+    /// Per claim: interior points skipped because a sample in the stencil was masked.
+    pub skipped: Vec<usize>,
+    /// Interior points (where the stencil fits) in the measured region.
+    pub interior: usize,
+    /// Sample values (point, channel) that were not finite and were masked.
+    pub masked: usize,
+}
+
+/// One stencil term: offsets along (t, x, y, z) and weight (spacing included).
+#[derive(Clone, Copy, Debug)]
+struct Term {
+    d: [i32; 4],
+    w: f64,
+}
+
+fn terms(deriv: Deriv, st: &Stencil, h: f64) -> Vec<Term> {
+    let s = st.half as i32;
+    let unit = |a: u8, k: i32| {
+        let mut d = [0; 4];
+        d[a as usize] = k;
+        d
+    };
+    let mut out = Vec::new();
+    match deriv {
+        Deriv::Value => out.push(Term { d: [0; 4], w: 1.0 }),
+        Deriv::D1(a) => {
+            for k in -s..=s {
+                let w = st.d1[(k + s) as usize];
+                if w != 0.0 {
+                    out.push(Term {
+                        d: unit(a, k),
+                        w: w / h,
+                    });
+                }
+            }
+        }
+        Deriv::D2(a, b) if a == b => {
+            for k in -s..=s {
+                let w = st.d2[(k + s) as usize];
+                if w != 0.0 {
+                    out.push(Term {
+                        d: unit(a, k),
+                        w: w / (h * h),
+                    });
+                }
+            }
+        }
+        Deriv::D2(a, b) => {
+            // The mixed derivative as the product of two first-derivative stencils.
+            for j in -s..=s {
+                for k in -s..=s {
+                    let w = st.d1[(j + s) as usize] * st.d1[(k + s) as usize];
+                    if w != 0.0 {
+                        let mut d = unit(a, j);
+                        d[b as usize] = k;
+                        out.push(Term { d, w: w / (h * h) });
+                    }
+                }
+            }
+        }
+    }
+    out
+}
+
+/// How many workers share a slab's planes.
+fn workers() -> usize {
+    #[cfg(feature = "parallel")]
+    {
+        rayon::current_num_threads().max(1)
+    }
+    #[cfg(not(feature = "parallel"))]
+    {
+        1
+    }
+}
+
+/// Runs `f(state, i, piece)` on every `chunk`-long piece of `buf` (piece `i` is plane `i`):
+/// the pieces are split into one contiguous run per state, so each worker reuses its state
+/// (registers) for all its planes and across calls. Results in plane order.
+fn each_plane<S: Send, R: Send>(
+    buf: &mut [f64],
+    chunk: usize,
+    states: &mut [S],
+    f: impl Fn(&mut S, usize, &mut [f64]) -> R + Sync + Send,
+) -> Vec<R> {
+    let n = buf.len() / chunk;
+    let per = n.div_ceil(states.len().max(1)).max(1);
+    let run = |k: usize, piece: &mut [f64], s: &mut S| -> Vec<R> {
+        piece
+            .chunks_mut(chunk)
+            .enumerate()
+            .map(|(j, c)| f(s, k * per + j, c))
+            .collect()
+    };
+    #[cfg(feature = "parallel")]
+    let runs: Vec<Vec<R>> = {
+        use rayon::prelude::*;
+        buf.par_chunks_mut(per * chunk)
+            .zip(states.par_iter_mut())
+            .enumerate()
+            .map(|(k, (piece, s))| run(k, piece, s))
+            .collect()
+    };
+    #[cfg(not(feature = "parallel"))]
+    let runs: Vec<Vec<R>> = buf
+        .chunks_mut(per * chunk)
+        .zip(states.iter_mut())
+        .enumerate()
+        .map(|(k, (piece, s))| run(k, piece, s))
+        .collect();
+    runs.into_iter().flatten().collect()
+}
+
+/// `f(i)` for `i` in `range`, in parallel; results in order.
+fn each_index<R: Send>(
+    range: std::ops::Range<usize>,
+    f: impl Fn(usize) -> R + Sync + Send,
+) -> Vec<R> {
+    #[cfg(feature = "parallel")]
+    {
+        use rayon::prelude::*;
+        range.into_par_iter().map(f).collect()
+    }
+    #[cfg(not(feature = "parallel"))]
+    {
+        range.map(f).collect()
+    }
+}
+
+/// Largest |imaginary part| met per channel, with where, and the largest |value|.
+struct Reality {
+    im: Vec<(f64, [usize; 4])>,
+    abs: Vec<f64>,
+}
+
+/// Samples one slab of `tape`'s outputs into `buf` (`[ix][output][iy][iz]`).
+fn sample_slab(
+    lat: &Lattice<'_>,
+    xs: &[f64],
+    buf: &mut [f64],
+    outputs: usize,
+    works: &mut [PlaneWork],
+) -> Vec<PlaneOutcome> {
+    if outputs == 0 {
+        return Vec::new();
+    }
+    let chunk = outputs * lat.plane_len();
+    each_plane(buf, chunk, works, |ws, ix, out| lat.plane(ws, xs[ix], out))
+}
+
+/// Records what a slab's sampling found; an error for a non-finite value unless masking.
+#[allow(clippy::too_many_arguments)]
+fn absorb(
+    outcomes: &[PlaneOutcome],
+    it: usize,
+    channels: &[usize],
+    plan: &GridPlan,
+    b: &Box4,
+    mask: bool,
+    masked: &mut usize,
+    reality: &mut Reality,
+) -> Result<(), GridError> {
+    let nz = b.counts[3];
+    for (ix, o) in outcomes.iter().enumerate() {
+        if let Some((j, iy, iz, v)) = o.first_nonfinite
+            && !mask
+        {
+            {
+                let ch: &Channel = &plan.channels[channels[j]];
+                return Err(GridError::NonFinite {
+                    component: ch.name.clone(),
+                    point: b.point([it, ix, iy, iz]),
+                    value: if v.re.is_nan() || v.im.is_nan() {
+                        "NaN".into()
+                    } else {
+                        "infinite".into()
+                    },
+                    points: b.counts[1],
+                });
+            }
+        }
+        *masked += o.nonfinite;
+        for (j, &c) in channels.iter().enumerate() {
+            reality.abs[c] = reality.abs[c].max(o.max_abs[j]);
+            let (im, lane) = o.max_im[j];
+            if im > reality.im[c].0 {
+                reality.im[c] = (im, [it, ix, lane / nz, lane % nz]);
+            }
+        }
+    }
+    Ok(())
+}
+
+/// The index range along `axis` of the interior points (where the stencil of half-width `s`
+/// fits) whose coordinate lies in `[lo, hi]` (with a relative slack of 1e-9 of the box).
+fn measured(b: &Box4, axis: usize, s: usize, region: Option<[f64; 2]>) -> std::ops::Range<usize> {
+    let n = b.counts[axis];
+    let Some([lo, hi]) = region else {
+        return s..n - s;
+    };
+    let slack = 1e-9 * b.spacing * n as f64;
+    let inside = |i: usize| {
+        let c = b.coord(axis, i);
+        c >= lo - slack && c <= hi + slack
+    };
+    let first = (s..n - s).find(|&i| inside(i));
+    match first {
+        Some(f) => {
+            f..(f..n - s)
+                .take_while(|&i| inside(i))
+                .last()
+                .map_or(f, |l| l + 1)
+        }
+        None => s..s,
+    }
+}
+
+/// Samples and residuals at one resolution. Residuals are taken at the interior points
+/// (where the stencil fits) that lie in `region` (per axis `[lo, hi]`; `None`: all of them),
+/// so that resolutions can be compared on one region. `progress(done, total)` is called
+/// after every slab.
+///
+/// # Errors
+///
+/// A sample that is not finite (unless `mask`), or one that is not real.
+pub fn sweep(
+    plan: &GridPlan,
+    b: &Box4,
+    st: &Stencil,
+    mask: bool,
+    region: Option<[[f64; 2]; 4]>,
+    progress: &mut dyn FnMut(usize, usize),
+) -> Result<Sweep, GridError> {
+    let s = st.half;
+    let [nt, nx, ny, nz] = b.counts;
+    if b.counts.iter().any(|&n| n < 2 * s + 1) {
+        return Err(GridError::TooFewPoints {
+            order: st.order,
+            needed: 2 * s + 1,
+            got: *b.counts.iter().min().unwrap_or(&0),
+        });
+    }
+    let (ts, xs, ys, zs) = (b.coords(0), b.coords(1), b.coords(2), b.coords(3));
+    let plane = ny * nz;
+    let nd = plan.dynamic.outputs();
+    let ns = plan.statics.outputs();
+    let dyn_channels: Vec<usize> = plan.channel_order(true);
+    let static_channels: Vec<usize> = plan.channel_order(false);
+    let mut reality = Reality {
+        im: vec![(0.0, [0; 4]); plan.channels.len()],
+        abs: vec![0.0; plan.channels.len()],
+    };
+    let mut masked = 0usize;
+
+    // Channels that do not depend on t: one slab for every t.
+    let mut stat = vec![0.0; nx * ns * plane];
+    if ns > 0 {
+        let lat = Lattice::new(&plan.statics, &ys, &zs);
+        let mut works: Vec<PlaneWork> = (0..workers()).map(|_| lat.workspace()).collect();
+        let outcomes = sample_slab(&lat, &xs, &mut stat, ns, &mut works);
+        absorb(
+            &outcomes,
+            nt / 2,
+            &static_channels,
+            plan,
+            b,
+            mask,
+            &mut masked,
+            &mut reality,
+        )?;
+        // A masked static sample is masked at every t.
+        masked *= nt;
+    }
+
+    let w = 2 * s + 1;
+    let mut ring: Vec<Vec<f64>> = (0..w).map(|_| vec![0.0; nx * nd * plane]).collect();
+    let mut lat = Lattice::new(&plan.dynamic, &ys, &zs);
+    let mut works: Vec<PlaneWork> = (0..workers()).map(|_| lat.workspace()).collect();
+
+    // Stencil terms of every atom, and the claims' components as (atom, coefficient) lists.
+    let atom_terms: Vec<Vec<Term>> = plan
+        .atoms
+        .iter()
+        .map(|&(_, d)| terms(d, st, b.spacing))
+        .collect();
+    let ranges: [std::ops::Range<usize>; 4] =
+        std::array::from_fn(|a| measured(b, a, s, region.map(|r| r[a])));
+    let len = ranges[3].len();
+    let mut best: Vec<Vec<(f64, [usize; 4])>> = plan
+        .claims
+        .iter()
+        .map(|c| vec![(0.0, [0; 4]); c.components.len()])
+        .collect();
+    let mut skipped = vec![0usize; plan.claims.len()];
+
+    for it in 0..nt {
+        if nd > 0 {
+            lat.set_t(ts[it]);
+            let slab = &mut ring[it % w];
+            let outcomes = sample_slab(&lat, &xs, slab, nd, &mut works);
+            absorb(
+                &outcomes,
+                it,
+                &dyn_channels,
+                plan,
+                b,
+                mask,
+                &mut masked,
+                &mut reality,
+            )?;
+        }
+        if it >= 2 * s && ranges[0].contains(&(it - s)) && len > 0 {
+            let center = it - s;
+            let window = Window {
+                ring: &ring,
+                center,
+                w,
+                stat: &stat,
+                nd,
+                ns,
+                ny,
+                nz,
+            };
+            let planes = each_index(ranges[1].clone(), |ix| {
+                residual_plane(plan, &window, &atom_terms, ix, &ranges, center)
+            });
+            for p in planes {
+                for (ci, claim) in p.best.iter().enumerate() {
+                    for (k, &(v, at)) in claim.iter().enumerate() {
+                        if v > best[ci][k].0 {
+                            best[ci][k] = (v, at);
+                        }
+                    }
+                    skipped[ci] += p.skipped[ci];
+                }
+            }
+        }
+        progress(it + 1, nt);
+    }
+
+    for (c, ch) in plan.channels.iter().enumerate() {
+        let (im, at) = reality.im[c];
+        if im > 1e-6 * reality.abs[c] && im > 0.0 {
+            return Err(GridError::NotReal {
+                component: ch.name.clone(),
+                point: b.point(at),
+                imaginary: im,
+                magnitude: reality.abs[c],
+            });
+        }
+    }
+    let interior = ranges.iter().map(std::ops::Range::len).product();
+    Ok(Sweep {
+        best,
+        skipped,
+        interior,
+        masked,
+    })
+}
+
+/// The samples a stencil centred on slab `center` can reach.
+struct Window<'a> {
+    ring: &'a [Vec<f64>],
+    center: usize,
+    w: usize,
+    stat: &'a [f64],
+    nd: usize,
+    ns: usize,
+    ny: usize,
+    nz: usize,
+}
+
+impl Window<'_> {
+    /// The `z`-line of `channel` at slab offset `dt`, plane `ix`, row `iy`.
+    fn line(&self, ch: &Channel, dt: i32, ix: usize, iy: usize) -> &[f64] {
+        let plane = self.ny * self.nz;
+        if ch.dynamic {
+            let slab = &self.ring[(self.center as i64 + i64::from(dt)) as usize % self.w];
+            let start = (ix * self.nd + ch.slot) * plane + iy * self.nz;
+            &slab[start..start + self.nz]
+        } else {
+            let start = (ix * self.ns + ch.slot) * plane + iy * self.nz;
+            &self.stat[start..start + self.nz]
+        }
+    }
+}
+
+struct PlaneResult {
+    best: Vec<Vec<(f64, [usize; 4])>>,
+    skipped: Vec<usize>,
+}
+
+fn residual_plane(
+    plan: &GridPlan,
+    win: &Window<'_>,
+    atom_terms: &[Vec<Term>],
+    ix: usize,
+    ranges: &[std::ops::Range<usize>; 4],
+    it: usize,
+) -> PlaneResult {
+    let (z0, len) = (ranges[3].start, ranges[3].len());
+    let mut best: Vec<Vec<(f64, [usize; 4])>> = plan
+        .claims
+        .iter()
+        .map(|c| vec![(0.0, [0; 4]); c.components.len()])
+        .collect();
+    let mut skipped = vec![0usize; plan.claims.len()];
+    let mut atoms = vec![0.0; plan.atoms.len() * len];
+    let mut r = vec![0.0; len];
+    let mut skip = vec![false; len];
+    for iy in ranges[2].clone() {
+        for (k, (&(c, _), ts)) in plan.atoms.iter().zip(atom_terms).enumerate() {
+            let ch = &plan.channels[c];
+            let acc = &mut atoms[k * len..(k + 1) * len];
+            acc.fill(0.0);
+            for t in ts {
+                let line = win.line(
+                    ch,
+                    t.d[0],
+                    (ix as i64 + i64::from(t.d[1])) as usize,
+                    (iy as i64 + i64::from(t.d[2])) as usize,
+                );
+                let from = (z0 as i64 + i64::from(t.d[3])) as usize;
+                for (a, &v) in acc.iter_mut().zip(&line[from..from + len]) {
+                    *a += t.w * v;
+                }
+            }
+        }
+        for (ci, claim) in plan.claims.iter().enumerate() {
+            skip.fill(false);
+            for (k, comp) in claim.components.iter().enumerate() {
+                r.fill(0.0);
+                for &(a, coef) in &comp.terms {
+                    for (x, &v) in r.iter_mut().zip(&atoms[a * len..(a + 1) * len]) {
+                        *x += coef * v;
+                    }
+                }
+                let b = &mut best[ci][k];
+                for (i, &v) in r.iter().enumerate() {
+                    let v = v.abs();
+                    if v.is_nan() {
+                        skip[i] = true;
+                    } else if v > b.0 {
+                        *b = (v, [it, ix, iy, z0 + i]);
+                    }
+                }
+            }
+            skipped[ci] += skip.iter().filter(|&&x| x).count();
+        }
+    }
+    PlaneResult { best, skipped }
+}
+
+/// Per channel, the largest running error bound of the samples at `n^4` points spread over
+/// the box `center +- width/2` (both ends included), ignoring points where the bound is not
+/// finite: the absolute rounding error of a sample, for the round-off floor.
+#[must_use]
+pub fn probe_errors(plan: &GridPlan, center: [f64; 4], width: f64, n: usize) -> Vec<f64> {
+    let n = n.max(2);
+    let at = |a: usize, i: usize| center[a] - width / 2.0 + width * i as f64 / (n - 1) as f64;
+    let per_point = |p: usize| -> Vec<f64> {
+        let idx = [p / (n * n * n), (p / (n * n)) % n, (p / n) % n, p % n];
+        let x: [f64; 4] = std::array::from_fn(|a| at(a, idx[a]));
+        let mut e = vec![0.0; plan.channels.len()];
+        for (tape, dynamic) in [(&plan.dynamic, true), (&plan.statics, false)] {
+            let chans = plan.channel_order(dynamic);
+            for (j, (_, b)) in tape_bounds(tape, &x).into_iter().enumerate() {
+                if b.is_finite() {
+                    e[chans[j]] = b;
+                }
+            }
+        }
+        e
+    };
+    let all = each_index(0..n.pow(4), per_point);
+    let mut out = vec![0.0f64; plan.channels.len()];
+    for e in all {
+        for (o, v) in out.iter_mut().zip(e) {
+            *o = o.max(v);
+        }
+    }
+    out
+}
+
+fn tape_bounds(tape: &Tape, x: &[f64; 4]) -> Vec<(crate::tape::C64, f64)> {
+    if tape.outputs() == 0 {
+        Vec::new()
+    } else {
+        tape.eval_bounds(x)
+    }
+}

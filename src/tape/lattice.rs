@@ -1,0 +1,341 @@
+//! Evaluation of a four-input tape `(t, x, y, z)` on a lattice, one `x`-plane at a time.
+//!
+//! Every instruction is placed by what it depends on:
+//! - neither `t` nor `x`: computed once, on the `(y, z)` sub-grid it needs (a row over `z`, a
+//!   column over `y`, a plane, or a single value);
+//! - `t` but not `x`: once per slab (value of `t`);
+//! - `x`: once per plane, over its own `(y, z)` sub-grid.
+//!
+//! Operands are broadcast to the result's shape as the instruction runs. Values of the first
+//! two kinds are held for the whole slab; plane values live in a per-thread [`PlaneWork`]
+//! whose registers are reused once a value is dead.
+
+use super::lane::{Shape, spread};
+use super::{C64, Lane, Op, Tape, allocate, apply};
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Level {
+    Fixed,
+    Slab,
+    Plane,
+}
+
+const T_BIT: u8 = 1;
+const X_BIT: u8 = 2;
+const Y_BIT: u8 = 4;
+const Z_BIT: u8 = 8;
+
+/// A tape prepared for one lattice's `y` and `z` coordinates.
+pub struct Lattice<'t> {
+    tape: &'t Tape,
+    ny: usize,
+    nz: usize,
+    ys: Vec<f64>,
+    zs: Vec<f64>,
+    shape: Vec<Shape>,
+    level: Vec<Level>,
+    fixed: Vec<u32>,
+    slab: Vec<u32>,
+    plane: Vec<u32>,
+    slot: Vec<u32>,
+    preg: Vec<u32>,
+    npreg: usize,
+    real: Vec<Vec<f64>>,
+    cplx: Vec<Vec<C64>>,
+}
+
+/// Per-thread registers for [`Lattice::plane`].
+pub struct PlaneWork {
+    real: Vec<Vec<f64>>,
+    cplx: Option<Vec<Vec<C64>>>,
+    lanes: usize,
+}
+
+/// What one plane's evaluation found.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct PlaneOutcome {
+    /// The first non-finite value (output, row `iy`, lane `iz`, value), if any.
+    pub first_nonfinite: Option<(usize, usize, usize, C64)>,
+    /// How many values were not finite.
+    pub nonfinite: usize,
+    /// True if the plane was evaluated in complex arithmetic.
+    pub complex: bool,
+    /// Per output: the largest |imaginary part| and its lane `iy * nz + iz`.
+    pub max_im: Vec<(f64, usize)>,
+    /// Per output: the largest |value| (of a plane evaluated in complex arithmetic; 0 for one
+    /// that stayed real, where there is no imaginary part to compare with it).
+    pub max_abs: Vec<f64>,
+}
+
+/// True if every value is finite: branch-free over blocks, so it vectorizes.
+fn all_finite(v: &[f64]) -> bool {
+    const EXP: u64 = 0x7ff0_0000_0000_0000;
+    v.chunks(16).all(|c| {
+        c.iter()
+            .fold(0u64, |acc, x| acc | u64::from(x.to_bits() & EXP == EXP))
+            == 0
+    })
+}
+
+impl<'t> Lattice<'t> {
+    /// Prepares `tape` (inputs `t, x, y, z`) for the coordinates `ys` and `zs`, and computes
+    /// everything that depends on neither `t` nor `x`.
+    ///
+    /// # Panics
+    ///
+    /// If the tape does not have exactly four inputs.
+    #[must_use]
+    pub fn new(tape: &'t Tape, ys: &[f64], zs: &[f64]) -> Lattice<'t> {
+        assert_eq!(tape.inputs(), 4, "a lattice tape has inputs t, x, y, z");
+        let (ny, nz) = (ys.len(), zs.len());
+        let n = tape.ops.len();
+        let mut shape = Vec::with_capacity(n);
+        let mut level = Vec::with_capacity(n);
+        for &m in &tape.masks {
+            shape.push(Shape {
+                ny: if m & Y_BIT != 0 { ny } else { 1 },
+                nz: if m & Z_BIT != 0 { nz } else { 1 },
+            });
+            level.push(if m & (T_BIT | X_BIT) == 0 {
+                Level::Fixed
+            } else if m & X_BIT == 0 {
+                Level::Slab
+            } else {
+                Level::Plane
+            });
+        }
+        let pick =
+            |l: Level| -> Vec<u32> { (0..n as u32).filter(|&i| level[i as usize] == l).collect() };
+        let (fixed, slab, plane) = (pick(Level::Fixed), pick(Level::Slab), pick(Level::Plane));
+        let mut slot = vec![u32::MAX; n];
+        let mut real = Vec::new();
+        let mut cplx = Vec::new();
+        for &i in fixed.iter().chain(&slab) {
+            slot[i as usize] = real.len() as u32;
+            let len = shape[i as usize].len();
+            real.push(vec![0.0; len]);
+            cplx.push(vec![C64::default(); len]);
+        }
+        let mut keep = vec![false; n];
+        for &o in &tape.outputs {
+            keep[o as usize] = true;
+        }
+        let external: Vec<bool> = level.iter().map(|&l| l != Level::Plane).collect();
+        let (preg, npreg) = allocate(&tape.ops, &plane, &keep, &external);
+        let mut lat = Lattice {
+            tape,
+            ny,
+            nz,
+            ys: ys.to_vec(),
+            zs: zs.to_vec(),
+            shape,
+            level,
+            fixed,
+            slab,
+            plane,
+            slot,
+            preg,
+            npreg,
+            real,
+            cplx,
+        };
+        let fixed = std::mem::take(&mut lat.fixed);
+        lat.run_persistent(&fixed, 0.0);
+        lat.fixed = fixed;
+        lat
+    }
+
+    /// Sets `t` and computes everything that depends on `t` but not on `x`.
+    pub fn set_t(&mut self, t: f64) {
+        let slab = std::mem::take(&mut self.slab);
+        self.run_persistent(&slab, t);
+        self.slab = slab;
+    }
+
+    fn run_persistent(&mut self, schedule: &[u32], t: f64) {
+        let mut real = std::mem::take(&mut self.real);
+        let mut cplx = std::mem::take(&mut self.cplx);
+        if !self.tape.complex {
+            self.persistent_pass(&mut real, schedule, t);
+        }
+        self.persistent_pass(&mut cplx, schedule, t);
+        self.real = real;
+        self.cplx = cplx;
+    }
+
+    fn persistent_pass<T: Lane>(&self, regs: &mut [Vec<T>], schedule: &[u32], t: f64) {
+        for &i in schedule {
+            let i = i as usize;
+            let op = self.tape.ops[i];
+            let s = self.slot[i] as usize;
+            let mut d = std::mem::take(&mut regs[s]);
+            match op {
+                Op::Const(c) => d[0] = T::from_c64(c),
+                Op::Input(0) => d[0] = T::from_f64(t),
+                Op::Input(2) => {
+                    for (o, &y) in d.iter_mut().zip(&self.ys) {
+                        *o = T::from_f64(y);
+                    }
+                }
+                Op::Input(3) => {
+                    for (o, &z) in d.iter_mut().zip(&self.zs) {
+                        *o = T::from_f64(z);
+                    }
+                }
+                Op::Input(_) => unreachable!("x is a plane input"),
+                _ => {
+                    let [a, b] = op.operands();
+                    let a = a.expect("operand") as usize;
+                    let b = b.map_or(a, |b| b as usize);
+                    apply(
+                        op,
+                        &mut d,
+                        self.shape[i],
+                        (&regs[self.slot[a] as usize], self.shape[a]),
+                        (&regs[self.slot[b] as usize], self.shape[b]),
+                    );
+                }
+            }
+            regs[s] = d;
+        }
+    }
+
+    /// Registers for one thread.
+    #[must_use]
+    pub fn workspace(&self) -> PlaneWork {
+        let lanes = self.ny * self.nz;
+        PlaneWork {
+            real: vec![vec![0.0; lanes]; self.npreg],
+            cplx: None,
+            lanes,
+        }
+    }
+
+    /// Values per output in one plane: `ny * nz`.
+    #[must_use]
+    pub fn plane_len(&self) -> usize {
+        self.ny * self.nz
+    }
+
+    fn plane_pass<T: Lane>(&self, regs: &mut [Vec<T>], persistent: &[Vec<T>], x: f64) {
+        for &i in &self.plane {
+            let i = i as usize;
+            let op = self.tape.ops[i];
+            let r = self.preg[i] as usize;
+            let mut d = std::mem::take(&mut regs[r]);
+            match op {
+                Op::Input(1) => d[0] = T::from_f64(x),
+                Op::Const(_) | Op::Input(_) => unreachable!("only x is a plane leaf"),
+                _ => {
+                    let [a, b] = op.operands();
+                    let a = a.expect("operand") as usize;
+                    let b = b.map_or(a, |b| b as usize);
+                    let src = |k: usize| -> &[T] {
+                        if self.level[k] == Level::Plane {
+                            &regs[self.preg[k] as usize]
+                        } else {
+                            &persistent[self.slot[k] as usize]
+                        }
+                    };
+                    apply(
+                        op,
+                        &mut d,
+                        self.shape[i],
+                        (src(a), self.shape[a]),
+                        (src(b), self.shape[b]),
+                    );
+                }
+            }
+            regs[r] = d;
+        }
+    }
+
+    fn output_source<'a, T: Lane>(
+        &self,
+        o: usize,
+        regs: &'a [Vec<T>],
+        persistent: &'a [Vec<T>],
+    ) -> &'a [T] {
+        if self.level[o] == Level::Plane {
+            &regs[self.preg[o] as usize]
+        } else {
+            &persistent[self.slot[o] as usize]
+        }
+    }
+
+    /// Evaluates every output on the plane at `x` of the current slab: output `j` at row
+    /// `iy`, lane `iz` goes to `out[(j * ny + iy) * nz + iz]` (its real part; a non-finite
+    /// value is stored as NaN and reported).
+    ///
+    /// # Panics
+    ///
+    /// If `out` is not `outputs * ny * nz` long or `ws` belongs to another lattice.
+    pub fn plane(&self, ws: &mut PlaneWork, x: f64, out: &mut [f64]) -> PlaneOutcome {
+        let m = self.tape.outputs.len();
+        let len = self.ny * self.nz;
+        assert_eq!(out.len(), m * len, "output length");
+        assert_eq!(ws.lanes, len, "workspace of another lattice");
+        let full = Shape {
+            ny: self.ny,
+            nz: self.nz,
+        };
+        let mut outcome = PlaneOutcome {
+            max_im: vec![(0.0, 0); m],
+            max_abs: vec![0.0; m],
+            ..PlaneOutcome::default()
+        };
+        if !self.tape.complex {
+            self.plane_pass(&mut ws.real, &self.real, x);
+            let mut finite = true;
+            for (j, &o) in self.tape.outputs.iter().enumerate() {
+                let o = o as usize;
+                let dst = &mut out[j * len..(j + 1) * len];
+                spread(
+                    dst,
+                    full,
+                    self.output_source(o, &ws.real, &self.real),
+                    self.shape[o],
+                );
+                finite &= all_finite(dst);
+            }
+            if finite {
+                return outcome;
+            }
+        }
+        outcome.complex = true;
+        let npreg = self.npreg;
+        let regs = ws
+            .cplx
+            .get_or_insert_with(|| vec![vec![C64::default(); len]; npreg]);
+        self.plane_pass(regs, &self.cplx, x);
+        let mut tmp = vec![C64::default(); len];
+        for (j, &o) in self.tape.outputs.iter().enumerate() {
+            let o = o as usize;
+            spread(
+                &mut tmp,
+                full,
+                self.output_source(o, regs, &self.cplx),
+                self.shape[o],
+            );
+            let (mut mx, mut im) = (0f64, (0f64, 0usize));
+            for (lane, z) in tmp.iter().enumerate() {
+                if z.is_finite() {
+                    out[j * len + lane] = z.re;
+                    mx = mx.max(z.abs());
+                    if z.im.abs() > im.0 {
+                        im = (z.im.abs(), lane);
+                    }
+                } else {
+                    out[j * len + lane] = f64::NAN;
+                    outcome.nonfinite += 1;
+                    if outcome.first_nonfinite.is_none() {
+                        outcome.first_nonfinite = Some((j, lane / self.nz, lane % self.nz, *z));
+                    }
+                }
+            }
+            outcome.max_abs[j] = mx;
+            outcome.max_im[j] = im;
+        }
+        outcome
+    }
+}

@@ -1,0 +1,280 @@
+use super::*;
+use crate::canon::{FunctionSample, Names, Point, Store};
+use crate::interval::{CInterval, Interval};
+use crate::zero::SplitMix64;
+use rustc_hash::FxHashMap;
+use std::rc::Rc;
+
+const COORDS: [&str; 4] = ["t", "x", "y", "z"];
+
+/// A store with the sample `F(u) = exp(-u^2/3) + u/5` and the parameter `a = 0.7`.
+struct Setup {
+    store: Store,
+    samples: FxHashMap<Rc<str>, FunctionSample>,
+    constants: Vec<(String, f64)>,
+}
+
+fn setup() -> Setup {
+    let mut store = Store::new();
+    let e = crate::parse::parse("exp(-u^2/3) + u/5").unwrap();
+    let form = store.build(&e, &Names::free()).unwrap();
+    let var = store.symbol_kernel("u");
+    let mut samples = FxHashMap::default();
+    samples.insert(Rc::from("F"), FunctionSample { var, form });
+    Setup {
+        store,
+        samples,
+        constants: vec![("a".to_string(), 0.7)],
+    }
+}
+
+fn build(store: &mut Store, text: &str) -> crate::canon::Form {
+    let e = crate::parse::parse(text).unwrap_or_else(|e| panic!("{text}: {e}"));
+    store
+        .build(&e, &Names::free())
+        .unwrap_or_else(|e| panic!("{text}: {e:?}"))
+}
+
+fn reference(s: &mut Setup, f: crate::canon::Form, x: &[f64; 4]) -> Option<(f64, f64)> {
+    let mut pt = Point::default();
+    for (i, c) in COORDS.iter().enumerate() {
+        let k = s.store.symbol_kernel(c);
+        pt.values
+            .insert(k, CInterval::from_real(Interval::point(x[i]).unwrap()));
+    }
+    let k = s.store.symbol_kernel("a");
+    pt.values
+        .insert(k, CInterval::from_real(Interval::point(0.7).unwrap()));
+    pt.samples = s.samples.clone();
+    s.store.eval_f64(f, &pt)
+}
+
+/// A random expression over t, x, y, z, the parameter a and the function F: positive
+/// arguments for log and sqrt, so that it is real and finite on the test box.
+fn random_expr(rng: &mut SplitMix64, depth: u32) -> String {
+    let leaf = |rng: &mut SplitMix64| -> String {
+        match rng.next_u64() % 7 {
+            0 => "t".into(),
+            1 => "x".into(),
+            2 => "y".into(),
+            3 => "z".into(),
+            4 => "a".into(),
+            5 => format!("{}/{}", rng.next_u64() % 9 + 1, rng.next_u64() % 5 + 1),
+            _ => "pi".into(),
+        }
+    };
+    if depth == 0 {
+        return leaf(rng);
+    }
+    let a = random_expr(rng, depth - 1);
+    let b = random_expr(rng, depth - 1);
+    match rng.next_u64() % 12 {
+        0 => format!("({a}) + ({b})"),
+        1 => format!("({a}) - ({b})"),
+        2 | 3 => format!("({a})*({b})"),
+        4 => format!("({a})/(2 + ({b})^2)"),
+        5 => format!("({a})^{}", rng.next_u64() % 3 + 2),
+        6 => format!("sin({a})"),
+        7 => format!("cos({a}) * ({b})"),
+        8 => format!("exp(({a})/4)"),
+        9 => format!("log(1 + ({a})^2)"),
+        10 => format!("sqrt(1 + ({b})^2) - ({a})"),
+        _ => format!("F''({a}) + F({b})"),
+    }
+}
+
+fn close(a: f64, b: f64, scale: f64) -> bool {
+    (a - b).abs() <= 1e-9 * scale.max(1.0)
+}
+
+#[test]
+fn tape_agrees_with_interval_evaluation_on_random_forms() {
+    let seed = 0x7a9e_0001_u64;
+    let mut rng = SplitMix64::new(seed);
+    let mut s = setup();
+    for case in 0..60 {
+        let text = random_expr(&mut rng, 3);
+        let f = build(&mut s.store, &text);
+        let samples = s.samples.clone();
+        let consts = s.constants.clone();
+        let mut c = Compiler::new(&mut s.store, &COORDS, &consts, &samples);
+        let node = c
+            .form(f)
+            .unwrap_or_else(|e| panic!("seed {seed:#x} case {case} `{text}`: {e}"));
+        let tape = c.builder.finish(&[node]);
+        let mut batch = Batch::new(&tape);
+        let pts: Vec<[f64; 4]> = (0..5)
+            .map(|_| std::array::from_fn(|_| rng.next_f64() * 2.0 - 1.0))
+            .collect();
+        let cols: Vec<Vec<f64>> = (0..4).map(|i| pts.iter().map(|p| p[i]).collect()).collect();
+        let refs: Vec<&[f64]> = cols.iter().map(|c| c.as_slice()).collect();
+        let mut out = vec![0.0; pts.len()];
+        batch.eval(&refs, &mut out);
+        for (p, x) in pts.iter().enumerate() {
+            let Some((re, im)) = reference(&mut s, f, x) else {
+                continue;
+            };
+            let z = tape.eval_point(x)[0];
+            assert!(
+                close(z.re, re, re.abs()) && close(z.im, im, re.abs()),
+                "seed {seed:#x} case {case} `{text}` at {x:?}: tape {z:?}, reference ({re}, {im})"
+            );
+            assert!(
+                close(out[p], re, re.abs()),
+                "seed {seed:#x} case {case} `{text}` at {x:?}: batch {}, reference {re}",
+                out[p]
+            );
+        }
+    }
+}
+
+#[test]
+fn lattice_agrees_with_pointwise_evaluation() {
+    let seed = 0x7a9e_0002_u64;
+    let mut rng = SplitMix64::new(seed);
+    let mut s = setup();
+    let texts: Vec<String> = (0..8).map(|_| random_expr(&mut rng, 3)).collect();
+    // Plus a few of known structure: t and z only, y only, everything, a constant.
+    let mut texts = texts;
+    texts.extend(
+        [
+            "a*cos(2*(t - z))",
+            "sin(y)/3",
+            "1/sqrt(x^2 + y^2 + z^2)",
+            "pi/7",
+        ]
+        .map(String::from),
+    );
+    let forms: Vec<_> = texts.iter().map(|t| build(&mut s.store, t)).collect();
+    let samples = s.samples.clone();
+    let consts = s.constants.clone();
+    let mut c = Compiler::new(&mut s.store, &COORDS, &consts, &samples);
+    let nodes: Vec<Node> = forms.iter().map(|&f| c.form(f).unwrap()).collect();
+    let tape = c.builder.finish(&nodes);
+    let ys = [0.3, 0.5, 0.7];
+    let zs = [-0.4, -0.1, 0.2, 0.6];
+    let mut lat = Lattice::new(&tape, &ys, &zs);
+    let mut ws = lat.workspace();
+    let mut out = vec![0.0; tape.outputs() * lat.plane_len()];
+    for t in [0.25, -0.5] {
+        lat.set_t(t);
+        for x in [0.1, 0.9] {
+            let outcome = lat.plane(&mut ws, x, &mut out);
+            assert_eq!(outcome.nonfinite, 0);
+            for (iy, &y) in ys.iter().enumerate() {
+                for (iz, &z) in zs.iter().enumerate() {
+                    let want = tape.eval_point(&[t, x, y, z]);
+                    for (j, w) in want.iter().enumerate() {
+                        let got = out[(j * ys.len() + iy) * zs.len() + iz];
+                        assert!(
+                            close(got, w.re, w.re.abs()),
+                            "seed {seed:#x} `{}` at {:?}: lattice {got}, point {}",
+                            texts[j],
+                            [t, x, y, z],
+                            w.re
+                        );
+                    }
+                }
+            }
+        }
+    }
+}
+
+#[test]
+fn common_subexpressions_are_shared_across_outputs() {
+    let mut s = setup();
+    let texts = [
+        "1/sqrt(x^2 + y^2 + z^2)",
+        "x/sqrt(x^2 + y^2 + z^2)^3",
+        "y*z/sqrt(x^2 + y^2 + z^2)^5",
+    ];
+    let forms: Vec<_> = texts.iter().map(|t| build(&mut s.store, t)).collect();
+    let mut sizes = Vec::new();
+    for &f in &forms {
+        let mut c = Compiler::new(&mut s.store, &COORDS, &[], &FxHashMap::default());
+        let n = c.form(f).unwrap();
+        sizes.push(c.builder.finish(&[n]).len());
+    }
+    let mut c = Compiler::new(&mut s.store, &COORDS, &[], &FxHashMap::default());
+    let nodes: Vec<Node> = forms.iter().map(|&f| c.form(f).unwrap()).collect();
+    let joint = c.builder.finish(&nodes).len();
+    // x^2 + y^2 + z^2 and its root (at least 8 instructions) are built once, not three times.
+    assert!(
+        joint + 2 * 8 <= sizes.iter().sum::<usize>(),
+        "joint tape {joint} vs separate {sizes:?}"
+    );
+}
+
+#[test]
+fn real_path_falls_back_to_principal_complex_values() {
+    let mut s = setup();
+    // sqrt(x) at x = -4 is 2i (principal); log(x) at x = -1 is i*pi.
+    let f = build(&mut s.store, "sqrt(x)");
+    let g = build(&mut s.store, "log(x)");
+    let mut c = Compiler::new(&mut s.store, &COORDS, &[], &FxHashMap::default());
+    let nodes = [c.form(f).unwrap(), c.form(g).unwrap()];
+    let tape = c.builder.finish(&nodes);
+    assert!(tape.is_real());
+    let z = tape.eval_point(&[0.0, -4.0, 0.0, 0.0]);
+    assert!(
+        (z[0].im - 2.0).abs() < 1e-15 && z[0].re.abs() < 1e-15,
+        "{z:?}"
+    );
+    let z = tape.eval_point(&[0.0, -1.0, 0.0, 0.0]);
+    assert!((z[1].im - std::f64::consts::PI).abs() < 1e-15, "{z:?}");
+    let mut batch = Batch::new(&tape);
+    let cols = [vec![0.0; 2], vec![-4.0, 4.0], vec![0.0; 2], vec![0.0; 2]];
+    let refs: Vec<&[f64]> = cols.iter().map(|c| c.as_slice()).collect();
+    let mut out = vec![0.0; 4];
+    let report = batch.eval(&refs, &mut out);
+    assert_eq!(report.complex_blocks, 1);
+    assert!(report.max_im_ratio > 0.5, "{report:?}");
+    assert!((out[1] - 2.0).abs() < 1e-15, "{out:?}");
+}
+
+#[test]
+fn building_folds_constants_and_trivial_operations() {
+    let mut b = TapeBuilder::new(1);
+    let x = b.input(0);
+    let one = b.real(1.0);
+    let zero = b.real(0.0);
+    assert_eq!(b.mul(x, one), x);
+    assert_eq!(b.add(zero, x), x);
+    let nx = b.neg(x);
+    assert_eq!(b.neg(nx), x);
+    let two = b.real(2.0);
+    let three = b.real(3.0);
+    let six = b.mul(two, three);
+    assert_eq!(b.value(six), Some(C64::real(6.0)));
+    // x + (-x) is x - x, which is 0.
+    let s = b.add(x, nx);
+    assert_eq!(b.value(s), Some(C64::real(0.0)));
+    // Commutative operations are shared whatever the operand order.
+    assert_eq!(b.mul(x, two), b.mul(two, x));
+}
+
+#[test]
+fn running_error_bound_covers_the_cancellation_error() {
+    // (x + 1e8) - 1e8 at x = 0.1 loses about 8 digits; the bound must cover the true error.
+    let mut b = TapeBuilder::new(1);
+    let x = b.input(0);
+    let big = b.real(1e8);
+    let s = b.add(x, big);
+    let d = b.sub(s, big);
+    let tape = b.finish(&[d]);
+    let (v, e) = tape.eval_bounds(&[0.1])[0];
+    let err = (v.re - 0.1).abs();
+    assert!(err > 1e-12, "the test needs a visible error, got {err}");
+    assert!(e >= err, "bound {e} below the error {err}");
+    assert!(e < 1e-6, "bound {e} is far too loose");
+}
+
+#[test]
+fn unbound_names_and_missing_samples_are_errors() {
+    let mut s = setup();
+    let f = build(&mut s.store, "q*x");
+    let g = build(&mut s.store, "G(x)");
+    let mut c = Compiler::new(&mut s.store, &COORDS, &[], &FxHashMap::default());
+    assert_eq!(c.form(f), Err(TapeError::Unbound("q".into())));
+    assert_eq!(c.form(g), Err(TapeError::NoSample("G".into())));
+}
