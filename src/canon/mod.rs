@@ -613,7 +613,11 @@ impl Store {
     /// Interns a quotient after cancelling every denominator factor that divides the
     /// numerator exactly, so that (x + 1)/(x + 1) is 1 and equal quotients share one form.
     fn intern_cancelled(&mut self, mut r: Rat) -> Form {
-        if !r.den.is_empty() && !r.num.is_empty() {
+        // Trial division costs about |N| |F| per factor and attempt; large numerators (deep in a
+        // tensor computation) skip it: cancellation is for readable and unique small forms,
+        // the zero test does not need it.
+        const CANCEL_MAX_TERMS: usize = 48;
+        if !r.den.is_empty() && !r.num.is_empty() && r.num.len() <= CANCEL_MAX_TERMS {
             let mut den = Vec::with_capacity(r.den.len());
             for (fid, mut e) in std::mem::take(&mut r.den) {
                 let f = self.factors[fid.0 as usize].clone();
@@ -685,13 +689,19 @@ impl Store {
         let mut out: FxHashMap<MonoId, Coeff> = FxHashMap::default();
         let mut budget = 4 * (n.len() + f.len()) + 64;
         for ((rest, exp), mut rem) in groups {
+            // f has lowest power 0 in each of its kernels (its content was taken out), so a
+            // quotient q = n/f has, kernel by kernel, the same lowest power as n: a quotient
+            // term below it proves that f does not divide n.
+            let lowest: Vec<i32> = (0..kf.len())
+                .map(|i| rem.keys().map(|v| v[i]).min().unwrap_or(0))
+                .collect();
             while let Some((lead, c)) = rem.iter().next_back().map(|(k, v)| (k.clone(), v.clone()))
             {
                 budget = budget.checked_sub(1)?;
                 let d: Vec<i32> = lead.iter().zip(&flead).map(|(a, b)| a - b).collect();
-                // The quotient of leading terms must be a monomial with exponents no lower
-                // than the numerator's lowest (Laurent powers are allowed, roots never go
-                // negative because the numerator's root powers are at least 0).
+                if d.iter().zip(&lowest).any(|(a, b)| a < b) {
+                    return None;
+                }
                 let q = c.mul(&finv);
                 for (fv, fc) in &fterms {
                     let key: Vec<i32> = fv.iter().zip(&d).map(|(a, b)| a + b).collect();
