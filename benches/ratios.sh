@@ -62,12 +62,12 @@ summary=$(mktemp)
 trap 'rm -f "$summary"' EXIT
 echo
 sympy_rc=0
-python3 benches/check_sympy.py --mode both "${sympy_opts[@]}" --lingrav "$bin" --summary "$summary" \
-    "${files[@]}" || sympy_rc=$?
+python3 benches/check_sympy.py --mode both "${sympy_opts[@]}" --lingrav "$bin" \
+    --summary "$summary" "${files[@]}" || sympy_rc=$?
 
 echo
 printf '%-22s %11s %13s %8s %13s %8s  %s\n' case "lingrav ms" "sympy plain s" ratio \
-    "sympy tuned s" ratio "verdicts agree"
+    "sympy tuned s" ratio "agree (plain/tuned)"
 ratio() {
     awk -v s="$1" -v ms="$2" 'BEGIN {
         if (s == "") printf "-"
