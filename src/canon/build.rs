@@ -154,7 +154,7 @@ impl BuildError {
         }
     }
     fn canon(e: CanonError, span: Span) -> BuildError {
-        let limit = matches!(e, CanonError::TooLarge(_) | CanonError::Timeout(_));
+        let limit = e.is_limit();
         BuildError {
             limit,
             ..BuildError::new(e.to_string(), span, None)

@@ -23,9 +23,24 @@ const SQRT3: u8 = 2;
 const IMAG: u8 = 4;
 
 /// An element of Q(sqrt 2, sqrt 3, i).
-#[derive(Clone, PartialEq, Eq, Hash, Debug, Default)]
+#[derive(Clone, PartialEq, Eq, Debug, Default)]
 pub struct Coeff {
     parts: Vec<(u8, Q)>,
+}
+
+/// Hashes numerator and denominator directly. `BigRational`'s own `Hash` walks the continued
+/// fraction recursively (one stack frame per partial quotient), which overflows the stack on a
+/// rational such as (1 + 10^-20)^2000; our rationals are always in lowest terms with a
+/// positive denominator, so hashing the pair agrees with equality.
+impl std::hash::Hash for Coeff {
+    fn hash<H: std::hash::Hasher>(&self, h: &mut H) {
+        h.write_usize(self.parts.len());
+        for (b, q) in &self.parts {
+            h.write_u8(*b);
+            q.numer().hash(h);
+            q.denom().hash(h);
+        }
+    }
 }
 
 fn basis_product(a: u8, b: u8) -> (u8, i64) {
@@ -357,6 +372,16 @@ impl Coeff {
         }
     }
 
+    /// The size in bits of the largest numerator or denominator (a cost measure: the limits
+    /// refuse products of coefficients that would grow past a cap).
+    pub fn bits(&self) -> u64 {
+        self.parts
+            .iter()
+            .map(|(_, q)| q.numer().bits().max(q.denom().bits()))
+            .max()
+            .unwrap_or(0)
+    }
+
     /// Number of nonzero rational components.
     pub fn len(&self) -> usize {
         self.parts.len()
@@ -368,38 +393,64 @@ impl Coeff {
 }
 
 /// A certified enclosure of a rational number; `None` if it is beyond the f64 range.
+///
+/// Exact integer arithmetic, no floating-point conversion of big integers: with
+/// `k` chosen so that `m = floor(|n| 2^k / d)` has about 64 bits, the value lies in
+/// `[m, m + 1] 2^-k`; both ends are rounded outward to f64 and scaled by powers of two with
+/// outward rounding (an underflow gives the bound 0 or the smallest subnormal on the right
+/// side, never a bound on the wrong side).
 pub fn rational_interval(q: &Q) -> Option<crate::interval::Interval> {
     use crate::interval::Interval;
-    let n = q.numer().to_f64()?;
-    let d = q.denom().to_f64()?;
-    if n.is_finite() && d.is_finite() && d != 0.0 {
-        // With both parts exact in f64 only the division rounds (one ulp); otherwise each
-        // conversion and the division round once, and three ulps cover them.
-        let v = n / d;
-        let exact_parts = q.numer().bits() <= 53 && q.denom().bits() <= 53;
-        if exact_parts && q.denom().magnitude().count_ones() == 1 {
-            // Exact operands and a power-of-two divisor: the quotient is exact.
-            return Interval::point(v);
-        }
-        let steps = if exact_parts { 1 } else { 3 };
-        let (mut lo, mut hi) = (v, v);
-        for _ in 0..steps {
-            lo = lo.next_down();
-            hi = hi.next_up();
-        }
-        return Interval::new(lo, hi);
+    if q.is_zero() {
+        return Some(Interval::ZERO);
     }
-    // Huge numerator and denominator: scale both down by the same power of two first.
-    let shift = q.numer().bits().max(q.denom().bits()).saturating_sub(900);
-    let n = (q.numer() >> shift).to_f64()?;
-    let d = (q.denom() >> shift).to_f64()?;
-    if d == 0.0 || !n.is_finite() || !d.is_finite() {
+    let n = q.numer().magnitude();
+    let d = q.denom().magnitude();
+    // Small exact cases: both parts exactly representable and a power-of-two divisor.
+    if n.bits() <= 53 && d.bits() <= 53 && d.count_ones() == 1 {
+        let v = n.to_f64()? / d.to_f64()?;
+        let v = if q.is_negative() { -v } else { v };
+        return Interval::point(v);
+    }
+    let k: i64 = 64 - (n.bits() as i64 - d.bits() as i64);
+    let scaled_n = if k >= 0 {
+        n << (k as usize)
+    } else {
+        n >> ((-k) as usize)
+    };
+    // With k < 0 the shift truncates n, so floor(n 2^k) / d still bounds from below, and
+    // (floor(n 2^k) + 1) / d from above; the quotient's floor keeps both directions.
+    let m = &scaled_n / d; // floor, since both are nonnegative
+    let m = m.to_u128()?;
+    // True value |q| in [m, m + 2] * 2^-k (one unit for each truncation).
+    let lo = (m as f64).next_down().max(0.0);
+    let hi = ((m + 2) as f64).next_up();
+    let lo = scale_pow2(lo, -k, false);
+    let hi = scale_pow2(hi, -k, true);
+    if !hi.is_finite() {
         return None;
     }
-    let v = n / d;
-    // Truncation of both by the shift changes the ratio by a relative 2^-850 at most.
-    let a = v.abs() * 1e-14 + f64::MIN_POSITIVE;
-    Interval::new(v - a, v + a)
+    if q.is_negative() {
+        Interval::new(-hi, -lo)
+    } else {
+        Interval::new(lo, hi)
+    }
+}
+
+/// `x * 2^e` rounded down (`up = false`) or up, for `x >= 0`: scaling by a power of two is
+/// exact unless it overflows or leaves the normal range, where the step is widened by one ulp.
+fn scale_pow2(mut x: f64, mut e: i64, up: bool) -> f64 {
+    while e != 0 {
+        let step = e.clamp(-1000, 1000);
+        let y = x * 2f64.powi(step as i32);
+        x = if up {
+            y.next_up()
+        } else {
+            y.next_down().max(0.0)
+        };
+        e -= step;
+    }
+    x
 }
 
 /// `10^k` as `Some(k)` for k >= 6.

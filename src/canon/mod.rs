@@ -121,7 +121,26 @@ pub enum CanonError {
     /// A power that is not defined, such as 0^(-1).
     #[error("{0}")]
     Undefined(String),
+    /// An exact coefficient would grow past the size cap (in bits).
+    #[error("too large: an exact number would have over {0} bits")]
+    NumberTooLarge(u64),
 }
+
+impl CanonError {
+    /// True for the errors that mean "a size, time or memory limit was reached" (the answer
+    /// is undecided), as opposed to an expression that is not defined.
+    pub fn is_limit(&self) -> bool {
+        matches!(
+            self,
+            CanonError::TooLarge(_) | CanonError::Timeout(_) | CanonError::NumberTooLarge(_)
+        )
+    }
+}
+
+/// The largest numerator or denominator, in bits, that a product of coefficients may reach.
+/// Big-integer gcds grow with the square of the size, so this bounds the time of every
+/// coefficient operation (2^18 bits is about 79,000 decimal digits).
+pub const MAX_COEFF_BITS: u64 = 1 << 18;
 
 /// Result of an operation on canonical forms.
 pub type CResult<T> = Result<T, CanonError>;
@@ -426,6 +445,11 @@ impl Store {
             });
         }
         self.check_size(a.len().saturating_mul(b.len()) / 4)?;
+        let bits = |p: &Poly| p.iter().map(|(_, c)| c.bits()).max().unwrap_or(0);
+        let (ba, bb) = (bits(a), bits(b));
+        if ba + bb > MAX_COEFF_BITS {
+            return Err(CanonError::NumberTooLarge(MAX_COEFF_BITS));
+        }
         let mut acc: FxHashMap<MonoId, Coeff> = FxHashMap::default();
         let mut extras: Vec<(MonoId, Coeff, Form)> = Vec::new();
         for (ma, ca) in a {
@@ -563,8 +587,13 @@ impl Store {
                 let part = self.scale(pi_form, &c_imag(&q))?;
                 let rest = self.sub(e, part)?;
                 let (rest2, coeff, pulled) = self.split_exponent(rest)?;
-                let (_, root, _) = self.split_exponent(part)?;
-                return Ok((rest2, coeff.mul(&root), pulled));
+                // The pi part splits into an exact root of unity (denominators 1, 2, 3, 4, 6,
+                // 12) and, for any other denominator, a remainder i*pi*r that stays in the
+                // exponent. Nothing may be dropped: exp(E) = c * p * exp(rest) exactly.
+                let (pi_rest, root, pi_pulled) = self.split_exponent(part)?;
+                let rest = self.add(rest2, pi_rest)?;
+                let pulled = self.mul(pulled, pi_pulled)?;
+                return Ok((rest, coeff.mul(&root), pulled));
             }
             return Ok((e, Coeff::one(), self.one));
         }
@@ -583,7 +612,10 @@ impl Store {
                         let q = &q - (&q / &two).floor() * &two;
                         let twelve_q = &q * Q::from_integer(BigInt::from(12));
                         if twelve_q.is_integer() {
-                            let k = twelve_q.to_integer().to_i64().unwrap_or(0);
+                            // q is in [0, 2), so 12 q is an integer in 0..24.
+                            let k = twelve_q.to_integer().to_i64().ok_or_else(|| {
+                                CanonError::Undefined("pi multiple out of range".into())
+                            })?;
                             coeff = coeff.mul(&Coeff::unit_root24(k));
                         } else {
                             rest.push((m, Coeff::rational(q).mul(&Coeff::i())));
@@ -1003,6 +1035,7 @@ impl Store {
         let mut base = a;
         let mut n = n as u64;
         while n > 0 {
+            self.check_size(0)?;
             if n & 1 == 1 {
                 result = self.mul(result, base)?;
             }

@@ -140,3 +140,87 @@ fn division_by_zero_is_an_error() {
     let err = st.build(&e, &Names::free()).unwrap_err();
     assert!(err.message.contains("identically zero"), "{err:?}");
 }
+
+// ----- issue 9: soundness regressions ------------------------------------------------------
+
+#[test]
+fn issue9_pi_multiples_beside_a_quotient_are_kept() {
+    // The pi part of an exponent with a denominator outside 1, 2, 3, 4, 6, 12 stays in the
+    // exponent; it used to be dropped when the exponent also had a quotient part.
+    check_not_identity("sin(pi/5)*exp(1/(x+1))", "0");
+    check_not_identity("sin(pi/9)*exp(q/(2 + y^2))", "0");
+    check_not_identity("cos(w*(t - z)/(1 + v) + pi/8)", "cos(w*(t - z)/(1 + v))");
+    check_not_identity("exp(1/(x+1) + pi/7)", "exp(1/(x+1))");
+    // The identities themselves still hold.
+    check_identity("sin(pi/5)*exp(1/(x+1))", "(exp(1/(x+1)))*sin(pi/5)");
+    check_identity(
+        "cos(w*(t - z)/(1 + v) + pi/8)",
+        "cos(w*(t - z)/(1 + v))*cos(pi/8) - sin(w*(t - z)/(1 + v))*sin(pi/8)",
+    );
+    check_identity(
+        "sin(a/(1 + b) + pi/4)",
+        "(sin(a/(1 + b)) + cos(a/(1 + b)))/sqrt(2)",
+    );
+    check_identity("exp(1/(x+1) + 2*pi/5)*exp(-pi/5)", "exp(1/(x+1) + pi/5)");
+}
+
+#[test]
+fn issue9_long_continued_fractions_hash_without_recursion() {
+    // (1 + 10^-20)^2000 has a continued fraction with very many partial quotients; hashing it
+    // used to recurse once per quotient and overflow the stack.
+    let v = verdict("(1 + 1e-20)^2000 - (1 + 1e-20)^1999*(1 + 1e-20)", "0");
+    assert_eq!(v, Verdict::Zero);
+}
+
+#[test]
+fn issue9_huge_coefficients_are_refused_not_computed() {
+    let mut st = Store::new();
+    let e = crate::parse::parse("(1 + 1e-9000)^10000").unwrap();
+    let err = st.build(&e, &Names::free()).unwrap_err();
+    assert!(err.limit, "{err:?}");
+    assert!(err.message.contains("bits"), "{}", err.message);
+}
+
+#[test]
+fn issue9_rational_enclosures_contain_the_value_at_every_scale() {
+    use num_bigint::BigInt;
+    use num_traits::Pow;
+    let two = BigInt::from(2);
+    let cases: Vec<Q> = vec![
+        Q::new(
+            BigInt::from(3) * two.clone().pow(199u32),
+            two.clone().pow(1100u32),
+        ),
+        Q::new(BigInt::from(1), BigInt::from(10).pow(400u32)),
+        Q::new(BigInt::from(-7), BigInt::from(10).pow(310u32)),
+        Q::new(BigInt::from(10).pow(300u32) + 1, BigInt::from(3)),
+        Q::new(BigInt::from(1), BigInt::from(3)),
+        Q::new(two.clone().pow(1023u32) * 3 + 1, two.clone().pow(1024u32)),
+        Q::new(BigInt::from(10).pow(30u32) + 1, BigInt::from(10).pow(30u32)),
+    ];
+    for q in cases {
+        let iv = coeff::rational_interval(&q).expect("within range");
+        // Exact comparison of the bounds (f64 values are dyadic rationals) with q.
+        let lo = Q::from_float(iv.lo()).unwrap();
+        let hi = Q::from_float(iv.hi()).unwrap();
+        assert!(lo <= q && q <= hi, "{q} not in {iv}");
+        if !q.is_zero() {
+            assert!(iv.lo() != 0.0 || iv.hi() != 0.0);
+        }
+    }
+    // Beyond the f64 range there is no enclosure.
+    assert!(coeff::rational_interval(&Q::from_integer(BigInt::from(10).pow(400u32))).is_none());
+}
+
+#[test]
+fn issue9_tiny_and_huge_factors_never_give_a_false_witness() {
+    // Exactly zero, but not reduced to zero by the canonical form (the denominators are not
+    // factored): the verdict must not be "nonzero" whatever the scale of the factor.
+    for c in ["3e-300*7e-310", "1e-400", "1e300*1e300", "(2^199*3)/2^1100"] {
+        let v = verdict(
+            &format!("{c}*exp(1/(x^2 - 1))"),
+            &format!("{c}*exp(1/((x - 1)*(x + 1)))"),
+        );
+        assert!(!matches!(v, Verdict::Nonzero(_)), "{c}: {v:?}");
+    }
+}
