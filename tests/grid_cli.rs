@@ -40,6 +40,7 @@ const POINTS: &str = "8,12,16";
 fn grid_verdicts_agree_with_the_exact_check_on_every_worked_example() {
     let mut problems = Vec::new();
     let mut compared = 0;
+    let mut unresolved_seen = 0;
     for file in worked_files() {
         let f = file.to_str().unwrap();
         let exact = json(&lingrav(&["check", "--format", "json", f]));
@@ -58,6 +59,13 @@ fn grid_verdicts_agree_with_the_exact_check_on_every_worked_example() {
                 .find(|g| g["key"] == key)
                 .unwrap_or_else(|| panic!("{f}: no grid claim {key}"));
             compared += 1;
+            // Within the round-off floor the grid cannot tell (issue 9): that is never a
+            // contradiction of a proof, but it is never a confirmation either.
+            let unresolved = g["status"] == "unresolved";
+            if unresolved && status == "holds" && c["asserted"] == true {
+                unresolved_seen += 1;
+                continue;
+            }
             if g["status"] != status {
                 problems.push(format!(
                     "{f}: {key}: exact {status}, grid {} ({})",
@@ -70,11 +78,21 @@ fn grid_verdicts_agree_with_the_exact_check_on_every_worked_example() {
             "fails" => Some(1),
             _ => None,
         };
-        if want.is_some() && code != want {
+        let unresolved_overall = grid["result"] == "unresolved";
+        if want == Some(0) && unresolved_overall {
+            // Exit 3: undecided at the floor, never "fails".
+            if code != Some(3) {
+                problems.push(format!("{f}: exit {code:?} for a result not resolvable"));
+            }
+        } else if want.is_some() && code != want {
             problems.push(format!("{f}: exit {code:?}, exact check gives {want:?}"));
         }
     }
     assert!(compared >= 20, "only {compared} claims compared");
+    assert!(
+        unresolved_seen < compared,
+        "every claim was within the round-off floor: the comparison shows nothing"
+    );
     assert!(problems.is_empty(), "{}", problems.join("\n"));
 }
 

@@ -248,7 +248,7 @@ pub fn run_grid(a: GridArgs) -> Result<Outcome, Failure> {
     Ok(match report.overall() {
         GridStatus::Holds => Outcome::Holds,
         GridStatus::Fails => Outcome::Fails,
-        GridStatus::Inconclusive => Outcome::Undecided,
+        GridStatus::Inconclusive | GridStatus::Unresolved => Outcome::Undecided,
     })
 }
 
@@ -267,6 +267,7 @@ fn word(c: &ClaimResult, has_claims: bool) -> String {
             GridStatus::Holds => "yes".into(),
             GridStatus::Fails => "no".into(),
             GridStatus::Inconclusive => "unclear".into(),
+            GridStatus::Unresolved => "unresolved".into(),
         },
     }
 }
@@ -391,11 +392,6 @@ fn render_text(label: &str, name: Option<&str>, r: &GridReport, defaults: &[&str
         .filter(|c| c.asserted.is_some() || !r.has_claims)
         .collect();
     let by = |st: GridStatus| counted.iter().filter(|c| c.status == st).count();
-    let floor_only = counted
-        .iter()
-        .filter(|c| c.status == GridStatus::Holds && c.finding == Finding::AtFloor)
-        .filter(|c| c.rows.iter().any(|w| w.residual > 0.0))
-        .count();
     let _ = writeln!(s);
     let summary = match (r.has_claims, r.overall()) {
         (true, GridStatus::Holds) => format!("every claim holds ({} checked)", counted.len()),
@@ -407,15 +403,17 @@ fn render_text(label: &str, name: Option<&str>, r: &GridReport, defaults: &[&str
             by(GridStatus::Inconclusive),
             counted.len()
         ),
-        (false, GridStatus::Inconclusive) => "some properties are unclear".into(),
+        (true, GridStatus::Unresolved) => format!(
+            "{} of {} claims not resolvable at the round-off floor, none fails",
+            by(GridStatus::Unresolved),
+            counted.len()
+        ),
+        (false, GridStatus::Inconclusive | GridStatus::Unresolved) => {
+            "some properties are unclear".into()
+        }
         (false, _) => "every property decided".into(),
     };
-    let floor_note = if floor_only > 0 {
-        format!("; {floor_only} only to within round-off")
-    } else {
-        String::new()
-    };
-    let _ = writeln!(s, "result (numerical evidence): {summary}{floor_note}");
+    let _ = writeln!(s, "result (numerical evidence): {summary}");
     s
 }
 

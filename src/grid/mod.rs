@@ -57,7 +57,7 @@ pub use verdict::{Finding, classify, observed_orders};
 
 use crate::canon::{Form, FunctionSample, Store};
 use crate::problem::{GridSpec, Problem};
-use crate::tape::{Compiler, Node, Tape, TapeError};
+use crate::tape::{Binding, Compiler, Lowering, Node, Tape, TapeError, UserExprs};
 use rustc_hash::FxHashMap;
 use std::rc::Rc;
 
@@ -205,23 +205,46 @@ impl GridPlan {
     pub fn for_problem(p: &mut Problem) -> Result<GridPlan, GridError> {
         let specs = claim_specs(p.claims.as_ref(), p.source.is_some());
         let has_claims = p.claims.is_some();
-        let h = p.h;
-        let source = p.source;
-        let params = p.parameters.clone();
-        let samples = p.sampling.samples.clone();
-        GridPlan::new(
-            &mut p.store,
-            &h,
-            source.as_ref(),
-            specs,
-            has_claims,
-            &params,
-            &samples,
-        )
+        // Sampled through the user's own expressions (defines, d_ operator, function samples),
+        // not through the canonical form: the grid is a second opinion on the exact route.
+        let mut bindings = FxHashMap::default();
+        for (i, a) in AXES.iter().enumerate() {
+            bindings.insert((*a).to_string(), Binding::Input(i));
+        }
+        for (name, v) in &p.parameters {
+            bindings.insert(name.clone(), Binding::Value(*v));
+        }
+        let user = UserExprs {
+            defines: p.defines.clone(),
+            functions: p.functions.clone(),
+        };
+        let compile_error =
+            |component: String| move |error| GridError::Compile { component, error };
+        let mut lowering =
+            Lowering::new(4, bindings, &user).map_err(compile_error("[define]".into()))?;
+        let mut comps = Vec::new();
+        let tensors = [
+            (Field::H, "h", Some(&p.h_text)),
+            (Field::T, "T", p.source_text.as_ref()),
+        ];
+        for (field, letter, m) in tensors {
+            let Some(m) = m else { continue };
+            for (mu, nu) in crate::problem::COMPONENTS {
+                let name = format!("{letter}_{}{}", AXES[mu], AXES[nu]);
+                let Some(text) = m[mu][nu].as_ref() else {
+                    continue;
+                };
+                let node = lowering
+                    .expression(text)
+                    .map_err(compile_error(name.clone()))?;
+                comps.push((field, name, mu, nu, node));
+            }
+        }
+        GridPlan::assemble(lowering.builder, comps, specs, has_claims)
     }
 
-    /// The plan for `specs` over `h` and `source`, with parameter values `constants` and
-    /// function samples `samples`.
+    /// The plan for `specs` over the canonical forms `h` and `source`, with parameter values
+    /// `constants` and function samples `samples` (tests and benchmarks of the tape).
     ///
     /// # Errors
     ///
@@ -236,9 +259,7 @@ impl GridPlan {
         samples: &FxHashMap<Rc<str>, FunctionSample>,
     ) -> Result<GridPlan, GridError> {
         let mut compiler = Compiler::new(store, &AXES, constants, samples);
-        let mut channels = Vec::new();
-        let mut nodes: Vec<Node> = Vec::new();
-        let mut index: FxHashMap<(Field, usize, usize), usize> = FxHashMap::default();
+        let mut comps = Vec::new();
         let tensors = [(Field::H, "h", Some(h)), (Field::T, "T", source)];
         for (field, letter, m) in tensors {
             let Some(m) = m else { continue };
@@ -249,22 +270,38 @@ impl GridPlan {
                     component: name.clone(),
                     error,
                 })?;
-                // Identically zero components are not sampled: their terms drop out.
-                if compiler.builder.is_zero(node) {
-                    continue;
-                }
-                let dynamic = compiler.builder.mask(node) & 1 != 0;
-                index.insert((field, mu, nu), channels.len());
-                channels.push(Channel {
-                    name,
-                    field,
-                    mu,
-                    nu,
-                    dynamic,
-                    slot: 0,
-                });
-                nodes.push(node);
+                comps.push((field, name, mu, nu, node));
             }
+        }
+        let builder = std::mem::replace(&mut compiler.builder, crate::tape::TapeBuilder::new(4));
+        GridPlan::assemble(builder, comps, specs, has_claims)
+    }
+
+    fn assemble(
+        builder: crate::tape::TapeBuilder,
+        comps: Vec<(Field, String, usize, usize, Node)>,
+        specs: Vec<ClaimSpec>,
+        has_claims: bool,
+    ) -> Result<GridPlan, GridError> {
+        let mut channels = Vec::new();
+        let mut nodes: Vec<Node> = Vec::new();
+        let mut index: FxHashMap<(Field, usize, usize), usize> = FxHashMap::default();
+        for (field, name, mu, nu, node) in comps {
+            // Identically zero components are not sampled: their terms drop out.
+            if builder.is_zero(node) {
+                continue;
+            }
+            let dynamic = builder.mask(node) & 1 != 0;
+            index.insert((field, mu, nu), channels.len());
+            channels.push(Channel {
+                name,
+                field,
+                mu,
+                nu,
+                dynamic,
+                slot: 0,
+            });
+            nodes.push(node);
         }
         let mut dyn_nodes = Vec::new();
         let mut static_nodes = Vec::new();
@@ -277,8 +314,8 @@ impl GridPlan {
             ch.slot = list.len();
             list.push(n);
         }
-        let dynamic = compiler.builder.finish(&dyn_nodes);
-        let statics = compiler.builder.finish(&static_nodes);
+        let dynamic = builder.finish(&dyn_nodes);
+        let statics = builder.finish(&static_nodes);
 
         let mut atoms: Vec<(usize, Deriv)> = Vec::new();
         let mut atom_index: FxHashMap<(usize, Deriv), usize> = FxHashMap::default();
@@ -481,16 +518,20 @@ pub enum GridStatus {
     Fails,
     /// Neither.
     Inconclusive,
+    /// The residual is within the round-off floor (and not exactly zero): a defect below the
+    /// floor cannot be seen, so the numbers neither support nor contradict the claim.
+    Unresolved,
 }
 
 impl GridStatus {
-    /// `holds`, `fails`, `inconclusive`.
+    /// `holds`, `fails`, `inconclusive`, `unresolved` (within the round-off floor).
     #[must_use]
     pub fn label(self) -> &'static str {
         match self {
             GridStatus::Holds => "holds",
             GridStatus::Fails => "fails",
             GridStatus::Inconclusive => "inconclusive",
+            GridStatus::Unresolved => "unresolved",
         }
     }
 }
@@ -588,6 +629,8 @@ impl GridReport {
             GridStatus::Fails
         } else if counted.iter().any(|c| c.status == GridStatus::Inconclusive) {
             GridStatus::Inconclusive
+        } else if counted.iter().any(|c| c.status == GridStatus::Unresolved) {
+            GridStatus::Unresolved
         } else {
             GridStatus::Holds
         }
@@ -612,9 +655,9 @@ fn explain(finding: &Finding, rows: &[Row], q: u32) -> String {
                 "the residual is exactly 0 at every resolution: the components vanish".into()
             } else {
                 format!(
-                    "the residual {r:.1e} is within the round-off floor {f:.1e}: the components \
-                     vanish to within round-off; a defect below about {f:.0e} cannot be seen \
-                     numerically"
+                    "not resolvable at this floor: the residual {r:.1e} is within the round-off \
+                     floor {f:.1e}, so a defect below about {f:.0e} cannot be seen numerically \
+                     (neither evidence that the components vanish nor that they do not)"
                 )
             }
         }
@@ -740,7 +783,11 @@ pub fn run(
             classify(&residuals, &fl, &spacings, settings.order)
         };
         let expect = claim.asserted.unwrap_or(true);
+        // Within the round-off floor nothing below the floor can be seen: unless the residual
+        // is exactly 0 at every resolution, that is "not resolvable", never evidence.
+        let unresolved = finding == Finding::AtFloor && rows.iter().any(|w| w.residual != 0.0);
         let status = match finding.vanishes() {
+            _ if unresolved => GridStatus::Unresolved,
             Some(v) if v == expect => GridStatus::Holds,
             Some(_) => GridStatus::Fails,
             None => GridStatus::Inconclusive,

@@ -215,6 +215,7 @@ pub fn svg(report: &GridReport, title: &str) -> String {
             GridStatus::Holds => "holds",
             GridStatus::Fails => "fails",
             GridStatus::Inconclusive => "inconclusive",
+            GridStatus::Unresolved => "not resolvable",
         };
         let zero = if pts.is_empty() { ", exactly 0" } else { "" };
         let not = if c.asserted == Some(false) {

@@ -34,12 +34,14 @@
 mod compile;
 mod lane;
 mod lattice;
+mod lower;
 #[cfg(test)]
 mod tests;
 
 pub use compile::{Compiler, TapeError};
 pub use lane::{C64, Lane};
 pub use lattice::{Lattice, PlaneOutcome, PlaneWork};
+pub use lower::{Binding, Lowering, UserExprs};
 
 use lane::{Shape, map1, spread, zip2};
 use rustc_hash::FxHashMap;
