@@ -22,7 +22,7 @@
 use crate::interval::Interval;
 use num_bigint::{BigInt, BigUint, Sign};
 use num_rational::BigRational;
-use num_traits::{One, Zero};
+use num_traits::{One, ToPrimitive, Zero};
 use std::fmt;
 
 /// A certified enclosure of a real number, as jet coefficients need it.
@@ -234,6 +234,19 @@ pub fn rational_interval(q: &BigRational) -> Option<Interval> {
     let (n, d) = (q.numer(), q.denom());
     if n.is_zero() {
         return Some(Interval::ZERO);
+    }
+    // Fast path: numerator and denominator exact in f64, so one correctly rounded division
+    // is within half an ulp, and one step outward encloses it (no step if d = 1).
+    if n.bits() <= 53 && d.bits() <= 53 {
+        if let (Some(nf), Some(df)) = (n.to_f64(), d.to_f64()) {
+            let v = nf / df;
+            if d.is_one() {
+                return Interval::point(v);
+            }
+            if v != 0.0 && v.abs() >= f64::MIN_POSITIVE {
+                return Interval::new(v.next_down(), v.next_up());
+            }
+        }
     }
     // BigRational keeps the denominator positive.
     let negative = (n.sign() == Sign::Minus) != (d.sign() == Sign::Minus);

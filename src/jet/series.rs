@@ -295,11 +295,26 @@ impl<S: Scalar> Jet<S> {
             // alpha! = 1: no rounding step.
             return Some(c.clone());
         }
-        let mut f = BigRational::from_integer(1.into());
+        // alpha! as an exact f64 while it is below 2^53 (it usually is), else exactly.
+        let mut small: Option<u64> = Some(1);
         for &e in exps {
-            f *= factorial(u32::from(e));
+            for k in 2..=u64::from(e) {
+                small = small
+                    .and_then(|f| f.checked_mul(k))
+                    .filter(|&f| f < 1 << 53);
+            }
         }
-        c.mul(&S::from_rational(&f, ctx)?)
+        let f = match small {
+            Some(f) => S::from_f64(f as f64)?,
+            None => {
+                let mut f = BigRational::from_integer(1.into());
+                for &e in exps {
+                    f *= factorial(u32::from(e));
+                }
+                S::from_rational(&f, ctx)?
+            }
+        };
+        c.mul(&f)
     }
 
     /// The same jet truncated to `order` (no change if already at or below it).
@@ -540,8 +555,16 @@ impl<S: Scalar> Jet<S> {
     /// Coefficients `v / k!` for `k = 0..=order`, with `v` cycling through `cycle`.
     fn cyclic(cycle: &[S], order: u32, ctx: &S::Ctx) -> Option<Vec<S>> {
         let mut out = Vec::with_capacity(order as usize + 1);
+        let mut fact = 1.0f64; // k!, exact in f64 up to 18!
         for k in 0..=order {
-            let f = S::from_rational(&factorial(k), ctx)?;
+            if k > 1 {
+                fact *= f64::from(k);
+            }
+            let f = if k <= 18 {
+                S::from_f64(fact)?
+            } else {
+                S::from_rational(&factorial(k), ctx)?
+            };
             out.push(cycle[k as usize % cycle.len()].div(&f)?);
         }
         Some(out)

@@ -320,3 +320,65 @@ fn helpers_list_names() {
     assert_eq!(exact_rational(&p("-(4/2)^3 + 1")), Some(int(-7)));
     assert_eq!(exact_rational(&p("1/(2 - 2)")), None);
 }
+
+mod against_direct_evaluation {
+    use super::*;
+    use crate::expr::Evaluator;
+    use proptest::prelude::*;
+
+    const EXPRS: [&str; 8] = [
+        "x*y + 3",
+        "sin(x*y)/(2 + cos(x))",
+        "exp(-x^2/3) * (1 + 2*x/7) + tanh(y)",
+        "sqrt(1 + x^2 + y^2)^3 - log(2 + sinh(x)^2)",
+        "(1 + x^2)^(y/3) + tan(x/4)",
+        "cosh(y)^-2 + x^(4/2) - pi*y",
+        "F(x - y) + F''(x*y)",
+        "d_x(sin(x*y)) - y*cos(x*y) + 1",
+    ];
+
+    proptest! {
+        /// The value of each jet meets the plain f64 evaluation of the same text (a loose
+        /// check of the value, independent of jets), and is tight.
+        #[test]
+        fn values_meet_the_f64_evaluator(x0 in -2.0f64..2.0, y0 in -2.0f64..2.0) {
+            let c = Case {
+                scope: Scope {
+                    vars: vec!["x".into(), "y".into()],
+                    functions: vec![("F".into(), p("u^3 - u"))],
+                    ..Scope::default()
+                },
+                values: Vec::new(),
+            };
+            let mut values: FxHashMap<String, Interval> = FxHashMap::default();
+            values.insert("x".into(), Interval::point(x0).unwrap());
+            values.insert("y".into(), Interval::point(y0).unwrap());
+            for src in EXPRS {
+                let prog = c.program(src, 2).unwrap();
+                let j = prog.eval_roots(&values, &()).unwrap().remove(0).unwrap();
+                let want = if src.starts_with("d_x") {
+                    1.0
+                } else {
+                    p(src)
+                        .eval(&Evaluator {
+                            values: &|n| match n {
+                                "x" => Some(x0),
+                                "y" => Some(y0),
+                                _ => None,
+                            },
+                            functions: &|_, k, u| match k {
+                                0 => Some(u * u * u - u),
+                                2 => Some(6.0 * u),
+                                _ => None,
+                            },
+                        })
+                        .unwrap()
+                };
+                let v = j.value();
+                let tol = 1e-12 * want.abs().max(1.0);
+                prop_assert!(v.lo() - tol <= want && want <= v.hi() + tol, "{}: {} vs {}", src, v, want);
+                prop_assert!(v.width() < 1e-10 * want.abs().max(1.0), "{}: {}", src, v);
+            }
+        }
+    }
+}
