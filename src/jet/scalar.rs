@@ -236,11 +236,12 @@ pub fn rational_interval(q: &BigRational) -> Option<Interval> {
         return Some(Interval::ZERO);
     }
     // Fast path: numerator and denominator exact in f64, so one correctly rounded division
-    // is within half an ulp, and one step outward encloses it (no step if d = 1).
+    // is within half an ulp, and one step outward encloses it.
     if n.bits() <= 53 && d.bits() <= 53 {
         if let (Some(nf), Some(df)) = (n.to_f64(), d.to_f64()) {
             let v = nf / df;
-            if d.is_one() {
+            // Division by a power of two (no underflow here: |v| >= 2^-53) is exact.
+            if d.magnitude().count_ones() == 1 {
                 return Interval::point(v);
             }
             if v != 0.0 && v.abs() >= f64::MIN_POSITIVE {
