@@ -1,0 +1,548 @@
+//! The second opinion on claims: every component evaluated at points by certified jets.
+//!
+//! Model. The exact route turns a claim into component expressions and proves them zero or
+//! finds a certified nonzero witness. The audit recomputes the same components at a point
+//! from the problem's *texts*, re-parsed: jets (Taylor coefficients to order 2 in t, x, y, z,
+//! with interval coefficients, see [`crate::jet`]) of every `h_{mu nu}` and `T_{mu nu}`,
+//! then each component as a linear combination of their derivatives, by the formulas of
+//! [`crate::grid::claims`] (written from the definitions, independently of
+//! [`crate::tensor`]). So a component the exact route proved zero must get an enclosure
+//! containing 0 at every point; one that excludes 0 shows the proof was wrong. A certified
+//! witness of the exact route must be certified again here at the same point.
+//!
+//! Key design decision: independence is structural. The audit shares only the parser with
+//! the exact route: texts are parsed again, defines and arbitrary functions are evaluated as
+//! written (through their samples), and the component formulas come from the grid check.
+//! One [`Program`] plans all of a problem's jets, so each define is evaluated once per point
+//! and the jets of `h` are shared by every claim.
+//!
+//! **Invariant:** never calls `canon`, `zero` or `tensor`; an enclosure is reported only if
+//! every step of it was certified, `None` otherwise.
+
+use crate::expr::Expr;
+use crate::grid::claims::{Atom, Deriv, Field, claim_specs};
+use crate::interval::Interval;
+use crate::jet::eval::{called_functions, free_names};
+use crate::jet::{EvalError, Jet, Program, Scalar, Scope};
+use crate::parse::{ParseError, parse};
+use crate::problem::{COORDINATES, Problem, component_name};
+use rustc_hash::FxHashMap;
+
+/// Why an audit cannot be set up or run.
+#[derive(Clone, Debug, PartialEq, thiserror::Error)]
+pub enum AuditError {
+    /// A text of the problem does not parse (cannot happen for a problem that was built).
+    #[error("{what} does not parse: {error}")]
+    Parse {
+        /// Which text.
+        what: String,
+        /// The parser's error.
+        error: Box<ParseError>,
+    },
+    /// The expressions cannot be evaluated at any point.
+    #[error("cannot evaluate: {0}")]
+    Eval(#[from] EvalError),
+    /// A point without a value for a coordinate or symbol.
+    #[error("the point has no value for `{0}`")]
+    Missing(String),
+    /// A point naming something that is not a coordinate or parameter.
+    #[error("`{0}` is not a coordinate or parameter of the problem")]
+    Unknown(String),
+    /// A coefficient of a claim formula that the audit does not know how to enclose.
+    #[error("unexpected coefficient {1} in component `{0}`")]
+    Coefficient(String, f64),
+}
+
+/// One component of one claim at a point.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ComponentValue {
+    /// The claim's key, as in the exact check (`field_equations`, `gauge.lorenz`, ...).
+    pub claim: String,
+    /// The component's name, as in the exact check (`G_tt`, `d^mu hbar_mux`, `R_txtx`, ...).
+    pub component: String,
+    /// A certified enclosure of its value; `None` if it cannot be evaluated there.
+    pub value: Option<Interval>,
+}
+
+/// A claim as the audit evaluates it.
+#[derive(Clone, Debug)]
+pub struct AuditClaim {
+    /// Machine key.
+    pub key: String,
+    /// What the file asserts: `Some(true)` vanishing, `Some(false)` not, `None` report only.
+    pub asserted: Option<bool>,
+    /// Each component's name and its terms: an enclosure of the coefficient and the atom.
+    components: Vec<(String, Vec<(Interval, Atom)>)>,
+}
+
+impl AuditClaim {
+    /// The component names, in order.
+    pub fn component_names(&self) -> impl Iterator<Item = &str> {
+        self.components.iter().map(|(n, _)| n.as_str())
+    }
+}
+
+/// A problem prepared for auditing: parsed texts, the planned jets, the claim formulas.
+#[derive(Debug)]
+pub struct Audit {
+    program: Program,
+    /// Root index of each component of `h` (both orders of the indices); `None`: zero.
+    h: [[Option<usize>; 4]; 4],
+    /// Likewise for `T`, when there is a source.
+    t: Option<[[Option<usize>; 4]; 4]>,
+    parameters: Vec<(String, f64)>,
+    claims: Vec<AuditClaim>,
+}
+
+/// Jets to this order in `h`: every claim needs at most second derivatives.
+const H_ORDER: u32 = 2;
+/// And in `T`: values and first derivatives.
+const T_ORDER: u32 = 1;
+
+fn parse_text(what: impl FnOnce() -> String, text: &str) -> Result<Expr, AuditError> {
+    parse(text).map_err(|error| AuditError::Parse {
+        what: what(),
+        error: Box::new(error),
+    })
+}
+
+/// Roots for the given texts of a symmetric tensor; returns the index table.
+fn tensor_roots(
+    texts: &[[Option<String>; 4]; 4],
+    label: &str,
+    order: u32,
+    roots: &mut Vec<(Expr, u32)>,
+) -> Result<[[Option<usize>; 4]; 4], AuditError> {
+    let mut idx = [[None; 4]; 4];
+    for mu in 0..4 {
+        for nu in mu..4 {
+            if let Some(text) = &texts[mu][nu] {
+                let e = parse_text(|| format!("{label}_{}", component_name(mu, nu)), text)?;
+                roots.push((e, order));
+                idx[mu][nu] = Some(roots.len() - 1);
+                idx[nu][mu] = Some(roots.len() - 1);
+            }
+        }
+    }
+    Ok(idx)
+}
+
+/// The claims of the problem with enclosed coefficients, named as the exact check names
+/// them.
+fn audit_claims(problem: &Problem) -> Result<Vec<AuditClaim>, AuditError> {
+    let eight_pi = Interval::pi(&())
+        .and_then(|p| p.scale(-8.0))
+        .ok_or_else(|| AuditError::Coefficient("8 pi".into(), -8.0))?;
+    let specs = claim_specs(problem.claims.as_ref(), problem.source.is_some());
+    let mut out = Vec::new();
+    for spec in specs {
+        let mut components = Vec::new();
+        for (name, combo) in spec.components {
+            // The exact check lists the 20 independent Riemann components: R_tzxy is fixed by
+            // the cyclic identity and left out.
+            if spec.key == "pure_gauge" && name == "R_tzxy" {
+                continue;
+            }
+            let mut terms = Vec::new();
+            for (atom, &c) in &combo.0 {
+                // Coefficients are sums of +-1/2 and +-1/4 (exact in f64), except the source
+                // term of the field equations, -8 pi, which is enclosed properly.
+                let coef = if atom.field == Field::T && atom.deriv == Deriv::Value {
+                    if c != -8.0 * std::f64::consts::PI {
+                        return Err(AuditError::Coefficient(name, c));
+                    }
+                    eight_pi
+                } else if (c * 4.0).fract() == 0.0 && c.abs() <= 64.0 {
+                    Interval::point(c).ok_or_else(|| AuditError::Coefficient(name.clone(), c))?
+                } else {
+                    return Err(AuditError::Coefficient(name, c));
+                };
+                terms.push((coef, *atom));
+            }
+            components.push((name, terms));
+        }
+        out.push(AuditClaim {
+            key: spec.key,
+            asserted: spec.asserted,
+            components,
+        });
+    }
+    Ok(out)
+}
+
+impl Audit {
+    /// Prepares the audit of `problem` from its texts.
+    ///
+    /// # Errors
+    ///
+    /// A text that does not parse or cannot be planned (an unknown name, jets too large).
+    pub fn new(problem: &Problem) -> Result<Audit, AuditError> {
+        let mut scope = Scope {
+            vars: COORDINATES.iter().map(|c| c.to_string()).collect(),
+            parameters: problem.parameters.iter().map(|(n, _)| n.clone()).collect(),
+            ..Scope::default()
+        };
+        for (name, text) in &problem.defines {
+            let e = parse_text(|| format!("define `{name}`"), text)?;
+            scope.defines.push((name.clone(), e));
+        }
+        for (name, text) in &problem.functions {
+            let e = parse_text(|| format!("sample of `{name}`"), text)?;
+            scope.functions.push((name.clone(), e));
+        }
+        let mut roots = Vec::new();
+        let h = tensor_roots(&problem.h_text, "h", H_ORDER, &mut roots)?;
+        let t = match &problem.source_text {
+            Some(texts) => Some(tensor_roots(texts, "T", T_ORDER, &mut roots)?),
+            None => None,
+        };
+        let program = Program::new(&scope, roots)?;
+        Ok(Audit {
+            program,
+            h,
+            t,
+            parameters: problem.parameters.clone(),
+            claims: audit_claims(problem)?,
+        })
+    }
+
+    /// The claims, in the order of the exact check's report.
+    pub fn claims(&self) -> &[AuditClaim] {
+        &self.claims
+    }
+
+    /// The values of every variable and parameter: the point's, else a parameter's typical
+    /// value.
+    fn values<N: AsRef<str>>(
+        &self,
+        point: &[(N, f64)],
+    ) -> Result<FxHashMap<String, Interval>, AuditError> {
+        let mut values = FxHashMap::default();
+        for (name, v) in &self.parameters {
+            values.insert(
+                name.clone(),
+                Interval::point(*v).ok_or(AuditError::Missing(name.clone()))?,
+            );
+        }
+        for (name, v) in point {
+            let name = name.as_ref();
+            if !COORDINATES.contains(&name) && !self.parameters.iter().any(|(p, _)| p == name) {
+                return Err(AuditError::Unknown(name.to_string()));
+            }
+            let v = Interval::point(*v).ok_or(AuditError::Missing(name.to_string()))?;
+            values.insert(name.to_string(), v);
+        }
+        for c in COORDINATES {
+            if !values.contains_key(c) {
+                return Err(AuditError::Missing(c.to_string()));
+            }
+        }
+        Ok(values)
+    }
+
+    /// Jets of `h` (and `T`) at the point: values and derivatives up to second order.
+    ///
+    /// `point` gives every coordinate and may override parameters' typical values.
+    ///
+    /// # Errors
+    ///
+    /// A coordinate without a value, or a name that is neither coordinate nor parameter.
+    pub fn fields_at<N: AsRef<str>>(&self, point: &[(N, f64)]) -> Result<Fields, AuditError> {
+        let values = self.values(point)?;
+        let jets = self.program.eval_roots(&values, &())?;
+        let table = |idx: &[[Option<usize>; 4]; 4]| {
+            std::array::from_fn(|mu| {
+                std::array::from_fn(|nu| match idx[mu][nu] {
+                    None => Comp::Zero,
+                    Some(i) => match &jets[i] {
+                        Some(j) => Comp::Jet(j.clone()),
+                        None => Comp::NotHere,
+                    },
+                })
+            })
+        };
+        Ok(Fields {
+            h: table(&self.h),
+            t: self.t.as_ref().map(table),
+        })
+    }
+
+    /// Every component of every claim at the point, in the exact check's order.
+    ///
+    /// # Errors
+    ///
+    /// As [`Audit::fields_at`].
+    pub fn components_at<N: AsRef<str>>(
+        &self,
+        point: &[(N, f64)],
+    ) -> Result<Vec<ComponentValue>, AuditError> {
+        let fields = self.fields_at(point)?;
+        let mut cache: FxHashMap<Atom, Option<Interval>> = FxHashMap::default();
+        let mut out = Vec::new();
+        for claim in &self.claims {
+            for (name, terms) in &claim.components {
+                let mut acc = Some(Interval::ZERO);
+                for (c, atom) in terms {
+                    let v = *cache.entry(*atom).or_insert_with(|| fields.atom(atom));
+                    acc = acc.and_then(|a| a.add(v?.mul(*c)?));
+                }
+                out.push(ComponentValue {
+                    claim: claim.key.clone(),
+                    component: name.clone(),
+                    value: acc,
+                });
+            }
+        }
+        Ok(out)
+    }
+
+    /// `point` with every coordinate it lacks set to `fill`: a witness of the exact route
+    /// names only the symbols its component depends on, and the audit needs all four
+    /// coordinates (other components of `h` may depend on the missing ones).
+    pub fn complete<N: AsRef<str>>(&self, point: &[(N, f64)], fill: f64) -> Vec<(String, f64)> {
+        let mut out: Vec<(String, f64)> = point
+            .iter()
+            .map(|(n, v)| (n.as_ref().to_string(), *v))
+            .collect();
+        for c in COORDINATES {
+            if !out.iter().any(|(n, _)| n == c) {
+                out.push((c.to_string(), fill));
+            }
+        }
+        out
+    }
+
+    /// `count` reproducible points for `seed`: coordinates in `±[0.25, 2]`, parameters within
+    /// a factor of 2 of their typical value (same sign), each rounded to six significant
+    /// digits so it can be typed back in.
+    pub fn seeded_points(&self, seed: u64, count: usize) -> Vec<Vec<(String, f64)>> {
+        let mut rng = SplitMix64(seed);
+        (0..count)
+            .map(|_| {
+                let mut p = Vec::new();
+                for c in COORDINATES {
+                    p.push((c.to_string(), rng.signed_unit()));
+                }
+                for (name, typical) in &self.parameters {
+                    let v = if *typical == 0.0 {
+                        rng.signed_unit()
+                    } else {
+                        round6(typical * (0.5 + 1.5 * rng.next_f64()))
+                    };
+                    p.push((name.clone(), v));
+                }
+                p
+            })
+            .collect()
+    }
+}
+
+fn round6(v: f64) -> f64 {
+    format!("{v:.5e}").parse().unwrap_or(v)
+}
+
+/// A small deterministic generator (SplitMix64), kept here so the audit depends on nothing
+/// of the zero test.
+struct SplitMix64(u64);
+
+impl SplitMix64 {
+    fn next_u64(&mut self) -> u64 {
+        self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+        z ^ (z >> 31)
+    }
+    fn next_f64(&mut self) -> f64 {
+        (self.next_u64() >> 11) as f64 / (1u64 << 53) as f64
+    }
+    /// `±[0.25, 2]`, rounded to six digits.
+    fn signed_unit(&mut self) -> f64 {
+        let mag = 0.25 + 1.75 * self.next_f64();
+        round6(if self.next_u64() & 1 == 1 { -mag } else { mag })
+    }
+}
+
+/// One component of `h` or `T` at a point.
+#[derive(Clone, Debug)]
+enum Comp {
+    /// Omitted in the file: exactly 0.
+    Zero,
+    /// Its jet.
+    Jet(Jet<Interval>),
+    /// Cannot be evaluated at this point.
+    NotHere,
+}
+
+/// `h_{mu nu}` and `T_{mu nu}` at a point with their derivatives (h to second order, T to
+/// first), as certified enclosures.
+#[derive(Clone, Debug)]
+pub struct Fields {
+    h: [[Comp; 4]; 4],
+    t: Option<[[Comp; 4]; 4]>,
+}
+
+impl Fields {
+    fn get(&self, field: Field, mu: usize, nu: usize, d: &[usize]) -> Option<Interval> {
+        let comp = match field {
+            Field::H => &self.h[mu][nu],
+            Field::T => &self.t.as_ref()?[mu][nu],
+        };
+        match comp {
+            Comp::Zero => Some(Interval::ZERO),
+            Comp::NotHere => None,
+            Comp::Jet(j) => {
+                let mut exps = vec![0u8; j.space().vars()];
+                for &a in d {
+                    exps[a] += 1;
+                }
+                j.partial(&exps, &())
+            }
+        }
+    }
+
+    /// `h_{mu nu}`; `None` if it cannot be evaluated here.
+    pub fn h(&self, mu: usize, nu: usize) -> Option<Interval> {
+        self.get(Field::H, mu, nu, &[])
+    }
+
+    /// `d_rho h_{mu nu}`.
+    pub fn dh(&self, rho: usize, mu: usize, nu: usize) -> Option<Interval> {
+        self.get(Field::H, mu, nu, &[rho])
+    }
+
+    /// `d_a d_b h_{mu nu}`.
+    pub fn ddh(&self, a: usize, b: usize, mu: usize, nu: usize) -> Option<Interval> {
+        self.get(Field::H, mu, nu, &[a, b])
+    }
+
+    /// `T_{mu nu}`; `None` without a source or if it cannot be evaluated here.
+    pub fn t(&self, mu: usize, nu: usize) -> Option<Interval> {
+        self.get(Field::T, mu, nu, &[])
+    }
+
+    /// `d_rho T_{mu nu}`.
+    pub fn dt(&self, rho: usize, mu: usize, nu: usize) -> Option<Interval> {
+        self.get(Field::T, mu, nu, &[rho])
+    }
+
+    /// The value of an atom of a claim formula.
+    pub fn atom(&self, a: &Atom) -> Option<Interval> {
+        let (mu, nu) = (a.mu as usize, a.nu as usize);
+        match a.deriv {
+            Deriv::Value => self.get(a.field, mu, nu, &[]),
+            Deriv::D1(r) => self.get(a.field, mu, nu, &[r as usize]),
+            Deriv::D2(r, s) => self.get(a.field, mu, nu, &[r as usize, s as usize]),
+        }
+    }
+}
+
+/// The text of the generic sample of the `index`-th arbitrary function without one: smooth,
+/// with all derivatives nonzero at generic points, different for each index. The same
+/// formula as the zero test's, written out again so that the audit does not depend on it.
+pub fn generic_sample_text(index: usize) -> String {
+    let j = index as i64;
+    format!(
+        "exp(-u^2/{}) * (1 + {}*u/7) + sin({}*u/4)/{}",
+        4 + j,
+        j + 2,
+        5 + 2 * j,
+        j + 2
+    )
+}
+
+/// A single expression's jet at a point, with the names of its variables.
+#[derive(Clone, Debug)]
+pub struct ExprJet {
+    /// The jet's variables, in order.
+    pub vars: Vec<String>,
+    /// The jet; `None` if the expression cannot be evaluated at the point.
+    pub jet: Option<Jet<Interval>>,
+}
+
+impl ExprJet {
+    /// The value.
+    pub fn value(&self) -> Option<Interval> {
+        self.jet.as_ref().map(|j| *j.value())
+    }
+
+    /// The partial derivative by the listed variables (repetition for higher order), e.g.
+    /// `["x", "x", "t"]`; `None` beyond the order, for a name that is not a variable, or if
+    /// the expression cannot be evaluated.
+    pub fn derivative(&self, by: &[&str]) -> Option<Interval> {
+        let j = self.jet.as_ref()?;
+        let mut exps = vec![0u8; self.vars.len()];
+        for v in by {
+            let i = self.vars.iter().position(|n| n == v)?;
+            exps[i] = exps[i].checked_add(1)?;
+        }
+        j.partial(&exps, &())
+    }
+}
+
+/// The jet of one expression, as the `zero` and `diff` commands see it: every name is a free
+/// symbol and must have a value in `point`; `vars` (and every name differentiated by `d_`)
+/// are the jet's variables, to total order `order`; calls of unknown names are arbitrary
+/// functions, with the sample given in `samples` (texts in `u`) or else the generic sample
+/// ([`generic_sample_text`]) numbered by the function's first appearance among those without
+/// one.
+///
+/// # Errors
+///
+/// A sample that does not parse, a name without a value, a primed built-in, jets too large.
+pub fn eval_expr_at<N: AsRef<str>>(
+    expr: &Expr,
+    point: &[(N, f64)],
+    vars: &[&str],
+    order: u32,
+    samples: &[(&str, &str)],
+) -> Result<ExprJet, AuditError> {
+    let mut scope = Scope {
+        vars: vars.iter().map(|v| v.to_string()).collect(),
+        ..Scope::default()
+    };
+    for n in free_names(expr) {
+        if !scope.vars.contains(&n) {
+            scope.parameters.push(n);
+        }
+    }
+    let mut generic = 0;
+    for f in called_functions(expr) {
+        let text = match samples.iter().find(|(n, _)| *n == f) {
+            Some((_, t)) => t.to_string(),
+            None => {
+                generic += 1;
+                generic_sample_text(generic - 1)
+            }
+        };
+        let e = parse_text(|| format!("sample of `{f}`"), &text)?;
+        scope.functions.push((f, e));
+    }
+    // Sample parameters need values too.
+    for (_, e) in &scope.functions {
+        for n in free_names(e) {
+            if n != crate::jet::eval::SAMPLE_VAR && !scope.parameters.contains(&n) {
+                scope.parameters.push(n);
+            }
+        }
+    }
+    let program = Program::new(&scope, vec![(expr.clone(), order)])?;
+    let mut values = FxHashMap::default();
+    for (name, v) in point {
+        let v = Interval::point(*v).ok_or(AuditError::Missing(name.as_ref().to_string()))?;
+        values.insert(name.as_ref().to_string(), v);
+    }
+    for n in program.vars().iter().chain(&scope.parameters) {
+        if !values.contains_key(n) {
+            return Err(AuditError::Missing(n.clone()));
+        }
+    }
+    let jet = program.eval_roots(&values, &())?.remove(0);
+    Ok(ExprJet {
+        vars: program.vars().to_vec(),
+        jet,
+    })
+}
+
+#[cfg(test)]
+mod tests;

@@ -1,0 +1,689 @@
+//! Truncated multivariate Taylor series ("jets") with enclosure coefficients.
+//!
+//! Model. A [`Jet`] of order `N` in `n` variables stands for the Taylor polynomial of a
+//! smooth function `f` at a point `p`: the coefficients `c_alpha = (d^alpha f)(p) / alpha!`
+//! for every multi-index `alpha` with `|alpha| <= N`. Arithmetic on jets is arithmetic on
+//! these polynomials modulo terms of total degree above `N`, which is exactly how Taylor
+//! coefficients of sums, products and compositions combine. Each coefficient is a
+//! [`Scalar`] enclosure, so the result encloses the exact Taylor coefficients of the exact
+//! function at the exact point.
+//!
+//! Key design decision: coefficients are stored in graded order (degree 0, then all of
+//! degree 1, ...), so the coefficients of order `k` are a prefix of those of order `N`, and
+//! one precomputed [`JetSpace`] (the monomials, a product table listing for each output
+//! monomial the pairs of input monomials that multiply to it, and derivative tables) serves
+//! every order up to its maximum. A product is then one tight loop over the table, and a
+//! jet is truncated to a lower order by taking a prefix. The space is shared through `Rc`.
+//!
+//! Elementary functions use `f(a0 + d) = sum_k f^(k)(a0)/k! d^k`, where `a0` is the constant
+//! coefficient and `d` the rest (nilpotent: `d^(N+1) = 0`), by Horner's rule. The univariate
+//! coefficients `f^(k)(a0)/k!` come from closed forms (exp, log, powers, sin, cos, sinh,
+//! cosh) or from the differential equations `t' = 1 + t^2` (tan) and `t' = 1 - t^2` (tanh).
+//! The constant coefficient `a0` of `d` is exactly 0 by construction, not `a0 - a0` computed
+//! in enclosure arithmetic, so the composition stays tight.
+//!
+//! `None` from any operation means "cannot evaluate here": a logarithm or even root of a
+//! value that may be `<= 0`, a division by a value that may be 0, an overflow.
+
+use super::scalar::{Scalar, factorial};
+use num_bigint::BigInt;
+use num_rational::BigRational;
+use rustc_hash::FxHashMap;
+use std::rc::Rc;
+
+/// Most coefficients a jet may have.
+pub const MAX_COEFFS: usize = 100_000;
+
+/// Most entries of a product table (pairs of monomials), about 16 MB.
+pub const MAX_PAIRS: usize = 2_000_000;
+
+/// Why a [`JetSpace`] cannot be built.
+#[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
+pub enum SpaceError {
+    /// The jets would be too large.
+    #[error(
+        "jets of order {order} in {vars} variables need {coeffs} coefficients and {pairs} \
+         product terms (at most {MAX_COEFFS} and {MAX_PAIRS}): too many derivatives"
+    )]
+    TooLarge {
+        /// Number of variables.
+        vars: usize,
+        /// Highest total order.
+        order: u32,
+        /// Coefficients per jet (saturating).
+        coeffs: usize,
+        /// Entries of the product table (saturating).
+        pairs: usize,
+    },
+}
+
+/// `C(n + k, k)`, saturating.
+fn binom_sat(n: usize, k: usize) -> usize {
+    let mut r: u128 = 1;
+    for i in 1..=k as u128 {
+        r = r * (n as u128 + i) / i;
+        if r > u128::from(u64::MAX) {
+            return usize::MAX;
+        }
+    }
+    usize::try_from(r).unwrap_or(usize::MAX)
+}
+
+/// The monomials of total degree `<= max_order` in `vars` variables, in graded order, with
+/// the tables that jets over them share.
+#[derive(Debug)]
+pub struct JetSpace {
+    vars: usize,
+    max_order: u32,
+    /// Exponents of monomial `i` at `exps[i * vars ..][.. vars]`.
+    exps: Vec<u8>,
+    /// `len_of[k]`: number of monomials of degree `<= k`.
+    len_of: Vec<usize>,
+    /// Pairs for output `c` are `pairs[pair_start[c] .. pair_start[c + 1]]`.
+    pair_start: Vec<u32>,
+    pairs: Vec<(u32, u32)>,
+    /// `deriv[v][i] = (j, e)`: monomial `i` times `x_v` is monomial `j`, and `e` is the
+    /// exponent of `x_v` in `j`; for `i` of degree below `max_order`.
+    deriv: Vec<Vec<(u32, u32)>>,
+    index: FxHashMap<Vec<u8>, u32>,
+}
+
+impl JetSpace {
+    /// The space of jets in `vars` variables up to total order `max_order`.
+    ///
+    /// # Errors
+    ///
+    /// [`SpaceError::TooLarge`] beyond [`MAX_COEFFS`] coefficients or [`MAX_PAIRS`] table
+    /// entries (checked before anything is allocated), or above order 255.
+    pub fn new(vars: usize, max_order: u32) -> Result<Rc<JetSpace>, SpaceError> {
+        let coeffs = binom_sat(vars, max_order as usize);
+        // Pairs (alpha, beta) with |alpha| + |beta| <= N: monomials in 2n variables.
+        let pairs = binom_sat(2 * vars, max_order as usize);
+        if coeffs > MAX_COEFFS || pairs > MAX_PAIRS || max_order > 255 {
+            return Err(SpaceError::TooLarge {
+                vars,
+                order: max_order,
+                coeffs,
+                pairs,
+            });
+        }
+        let mut exps: Vec<u8> = Vec::with_capacity(coeffs * vars);
+        let mut len_of = Vec::with_capacity(max_order as usize + 1);
+        let mut cur = vec![0u8; vars];
+        for deg in 0..=max_order {
+            push_degree(&mut exps, &mut cur, 0, deg);
+            len_of.push(if vars == 0 { 1 } else { exps.len() / vars });
+        }
+        let len = *len_of.last().unwrap_or(&1);
+        let mono = |i: usize| &exps[i * vars..(i + 1) * vars];
+        let mut index = FxHashMap::default();
+        for i in 0..len {
+            index.insert(mono(i).to_vec(), i as u32);
+        }
+        let degree = |i: usize| mono(i).iter().map(|&e| u32::from(e)).sum::<u32>();
+        // Product table, bucketed by output.
+        let mut buckets: Vec<Vec<(u32, u32)>> = vec![Vec::new(); len];
+        let mut sum = vec![0u8; vars];
+        for i in 0..len {
+            let di = degree(i);
+            for j in 0..len_of[(max_order - di) as usize] {
+                for v in 0..vars {
+                    sum[v] = mono(i)[v] + mono(j)[v];
+                }
+                let c = index[&sum];
+                buckets[c as usize].push((i as u32, j as u32));
+            }
+        }
+        let mut pair_start = Vec::with_capacity(len + 1);
+        let mut table = Vec::with_capacity(pairs.min(MAX_PAIRS));
+        for b in buckets {
+            pair_start.push(table.len() as u32);
+            table.extend(b);
+        }
+        pair_start.push(table.len() as u32);
+        let below = if max_order == 0 {
+            0
+        } else {
+            len_of[max_order as usize - 1]
+        };
+        let deriv = (0..vars)
+            .map(|v| {
+                (0..below)
+                    .map(|i| {
+                        let mut m = mono(i).to_vec();
+                        m[v] += 1;
+                        (index[&m], u32::from(m[v]))
+                    })
+                    .collect()
+            })
+            .collect();
+        Ok(Rc::new(JetSpace {
+            vars,
+            max_order,
+            exps,
+            len_of,
+            pair_start,
+            pairs: table,
+            deriv,
+            index,
+        }))
+    }
+
+    /// Number of variables.
+    pub fn vars(&self) -> usize {
+        self.vars
+    }
+
+    /// Highest order of jets over this space.
+    pub fn max_order(&self) -> u32 {
+        self.max_order
+    }
+
+    /// Number of coefficients of a jet of order `order`.
+    pub fn len(&self, order: u32) -> usize {
+        self.len_of[order as usize]
+    }
+
+    /// Exponents of the `i`-th monomial.
+    pub fn monomial(&self, i: usize) -> &[u8] {
+        &self.exps[i * self.vars..(i + 1) * self.vars]
+    }
+
+    /// The position of a monomial given by its exponents, if within the space.
+    pub fn position(&self, exps: &[u8]) -> Option<usize> {
+        self.index.get(exps).map(|&i| i as usize)
+    }
+}
+
+/// All exponent vectors of total degree `deg` in the variables `v..`, lexicographically
+/// descending, appended to `out`.
+fn push_degree(out: &mut Vec<u8>, cur: &mut [u8], v: usize, deg: u32) {
+    if v + 1 >= cur.len() {
+        if let Some(last) = cur.len().checked_sub(1) {
+            cur[last] = deg as u8;
+            out.extend_from_slice(cur);
+            cur[last] = 0;
+        }
+        return;
+    }
+    for e in (0..=deg).rev() {
+        cur[v] = e as u8;
+        push_degree(out, cur, v + 1, deg - e);
+    }
+    cur[v] = 0;
+}
+
+/// A truncated Taylor series: see the module documentation.
+#[derive(Clone, Debug)]
+pub struct Jet<S: Scalar> {
+    space: Rc<JetSpace>,
+    order: u32,
+    /// Coefficients in graded order; `len == space.len(order)`.
+    c: Vec<S>,
+    /// True when every coefficient but the first is an exact 0 by construction (not merely
+    /// an enclosure containing 0): lets products and functions of constants skip the tables.
+    constant: bool,
+}
+
+/// Exact rational `p/q` as an enclosure.
+fn ratio<S: Scalar>(p: i64, q: i64, ctx: &S::Ctx) -> Option<S> {
+    S::from_rational(&BigRational::new(BigInt::from(p), BigInt::from(q)), ctx)
+}
+
+impl<S: Scalar> Jet<S> {
+    /// The constant `value` as a jet of order `order` (at most the space's maximum).
+    pub fn constant(space: &Rc<JetSpace>, order: u32, value: S) -> Jet<S> {
+        let order = order.min(space.max_order);
+        let mut c = vec![S::zero(); space.len(order)];
+        c[0] = value;
+        Jet {
+            space: space.clone(),
+            order,
+            c,
+            constant: true,
+        }
+    }
+
+    /// The variable `var` at the point `value`: `value + dx_var`.
+    pub fn variable(space: &Rc<JetSpace>, order: u32, var: usize, value: S) -> Jet<S> {
+        let mut j = Jet::constant(space, order, value);
+        if order >= 1 && var < space.vars {
+            // Degree-1 monomials come right after the constant, in variable order.
+            j.c[1 + var] = S::one();
+            j.constant = false;
+        }
+        j
+    }
+
+    /// The space this jet lives in.
+    pub fn space(&self) -> &Rc<JetSpace> {
+        &self.space
+    }
+
+    /// The truncation order.
+    pub fn order(&self) -> u32 {
+        self.order
+    }
+
+    /// The coefficients `c_alpha = d^alpha f / alpha!` in graded order.
+    pub fn coeffs(&self) -> &[S] {
+        &self.c
+    }
+
+    /// The constant coefficient: the value at the point.
+    pub fn value(&self) -> &S {
+        &self.c[0]
+    }
+
+    /// True if the jet is a constant by construction.
+    pub fn is_constant(&self) -> bool {
+        self.constant
+    }
+
+    /// The coefficient of the monomial with exponents `exps` (`c_alpha`), if it is within
+    /// the order.
+    pub fn coeff(&self, exps: &[u8]) -> Option<&S> {
+        let i = self.space.position(exps)?;
+        self.c.get(i)
+    }
+
+    /// The partial derivative `d^alpha f` at the point: `c_alpha * alpha!`, or `None` if
+    /// `alpha` is beyond the order or the product overflows.
+    pub fn partial(&self, exps: &[u8], ctx: &S::Ctx) -> Option<S> {
+        let c = self.coeff(exps)?;
+        if exps.iter().all(|&e| e <= 1) {
+            // alpha! = 1: no rounding step.
+            return Some(c.clone());
+        }
+        // alpha! as an exact f64 while it is below 2^53 (it usually is), else exactly.
+        let mut small: Option<u64> = Some(1);
+        for &e in exps {
+            for k in 2..=u64::from(e) {
+                small = small
+                    .and_then(|f| f.checked_mul(k))
+                    .filter(|&f| f < 1 << 53);
+            }
+        }
+        let f = match small {
+            Some(f) => S::from_f64(f as f64)?,
+            None => {
+                let mut f = BigRational::from_integer(1.into());
+                for &e in exps {
+                    f *= factorial(u32::from(e));
+                }
+                S::from_rational(&f, ctx)?
+            }
+        };
+        c.mul(&f)
+    }
+
+    /// The same jet truncated to `order` (no change if already at or below it).
+    pub fn truncate(&self, order: u32) -> Jet<S> {
+        if order >= self.order {
+            return self.clone();
+        }
+        Jet {
+            space: self.space.clone(),
+            order,
+            c: self.c[..self.space.len(order)].to_vec(),
+            constant: self.constant,
+        }
+    }
+
+    /// Both operands at the lower of their orders.
+    fn common<'a>(&'a self, rhs: &'a Jet<S>) -> (u32, &'a [S], &'a [S]) {
+        debug_assert!(
+            Rc::ptr_eq(&self.space, &rhs.space),
+            "jets of different spaces"
+        );
+        let order = self.order.min(rhs.order);
+        let n = self.space.len(order);
+        (order, &self.c[..n], &rhs.c[..n])
+    }
+
+    fn with(&self, order: u32, c: Vec<S>, constant: bool) -> Jet<S> {
+        Jet {
+            space: self.space.clone(),
+            order,
+            c,
+            constant,
+        }
+    }
+
+    /// Sum.
+    pub fn add(&self, rhs: &Jet<S>) -> Option<Jet<S>> {
+        let (order, a, b) = self.common(rhs);
+        let c = if self.constant || rhs.constant {
+            // Only the constant coefficient changes.
+            let (base, k) = if rhs.constant { (a, &b[0]) } else { (b, &a[0]) };
+            let mut c = base.to_vec();
+            c[0] = c[0].add(k)?;
+            c
+        } else {
+            a.iter()
+                .zip(b)
+                .map(|(x, y)| x.add(y))
+                .collect::<Option<_>>()?
+        };
+        Some(self.with(order, c, self.constant && rhs.constant))
+    }
+
+    /// Difference.
+    pub fn sub(&self, rhs: &Jet<S>) -> Option<Jet<S>> {
+        self.add(&rhs.neg())
+    }
+
+    /// Negation.
+    pub fn neg(&self) -> Jet<S> {
+        self.with(
+            self.order,
+            self.c.iter().map(S::neg).collect(),
+            self.constant,
+        )
+    }
+
+    /// Every coefficient times the enclosure `k`.
+    pub fn scale(&self, k: &S) -> Option<Jet<S>> {
+        let c = if self.constant {
+            let mut c = self.c.clone();
+            c[0] = c[0].mul(k)?;
+            c
+        } else {
+            self.c.iter().map(|x| x.mul(k)).collect::<Option<_>>()?
+        };
+        Some(self.with(self.order, c, self.constant))
+    }
+
+    /// Product with the exact rational `q`.
+    pub fn scale_rational(&self, q: &BigRational, ctx: &S::Ctx) -> Option<Jet<S>> {
+        self.scale(&S::from_rational(q, ctx)?)
+    }
+
+    /// Product, by the space's table.
+    pub fn mul(&self, rhs: &Jet<S>) -> Option<Jet<S>> {
+        if self.constant {
+            return rhs.truncate(self.order).scale(&self.c[0]);
+        }
+        if rhs.constant {
+            return self.truncate(rhs.order).scale(&rhs.c[0]);
+        }
+        let (order, a, b) = self.common(rhs);
+        let sp = &*self.space;
+        let mut c = Vec::with_capacity(a.len());
+        for k in 0..a.len() {
+            let (s, e) = (sp.pair_start[k] as usize, sp.pair_start[k + 1] as usize);
+            // Every output has at least one pair; starting from it (not from 0) saves a
+            // rounding step.
+            let (i0, j0) = sp.pairs[s];
+            let mut acc = a[i0 as usize].mul(&b[j0 as usize])?;
+            for &(i, j) in &sp.pairs[s + 1..e] {
+                acc = acc.add(&a[i as usize].mul(&b[j as usize])?)?;
+            }
+            c.push(acc);
+        }
+        Some(self.with(order, c, false))
+    }
+
+    /// `sum_k coeffs[k] d^k` with `d` this jet minus its constant coefficient (Horner).
+    ///
+    /// `coeffs` must have at least `order + 1` entries: the univariate Taylor coefficients of
+    /// a function at the constant coefficient.
+    pub fn compose(&self, coeffs: &[S]) -> Option<Jet<S>> {
+        let n = self.order as usize;
+        if self.constant || n == 0 {
+            return Some(self.with(
+                self.order,
+                {
+                    let mut c = vec![S::zero(); self.c.len()];
+                    c[0] = coeffs.first()?.clone();
+                    c
+                },
+                true,
+            ));
+        }
+        if coeffs.len() <= n {
+            return None;
+        }
+        let mut d = self.clone();
+        d.c[0] = S::zero();
+        let mut r = Jet::constant(&self.space, self.order, coeffs[n].clone());
+        for k in (0..n).rev() {
+            r = r.mul(&d)?;
+            r.c[0] = r.c[0].add(&coeffs[k])?;
+        }
+        Some(r)
+    }
+
+    /// Reciprocal `1/self`; `None` if the value may be 0.
+    pub fn recip(&self, ctx: &S::Ctx) -> Option<Jet<S>> {
+        self.powi(-1, ctx)
+    }
+
+    /// Quotient; `None` if the divisor's value may be 0.
+    pub fn div(&self, rhs: &Jet<S>, ctx: &S::Ctx) -> Option<Jet<S>> {
+        if rhs.constant {
+            let c = if self.constant {
+                let mut c = self.c.clone();
+                c[0] = c[0].div(&rhs.c[0])?;
+                c
+            } else {
+                self.c
+                    .iter()
+                    .map(|x| x.div(&rhs.c[0]))
+                    .collect::<Option<_>>()?
+            };
+            let order = self.order.min(rhs.order);
+            return Some(self.with(self.order, c, self.constant).truncate(order));
+        }
+        self.mul(&rhs.recip(ctx)?)
+    }
+
+    /// Integer power: `binom(n, k) a0^(n - k)` composed; negative `n` needs a value that
+    /// excludes 0.
+    pub fn powi(&self, n: i64, ctx: &S::Ctx) -> Option<Jet<S>> {
+        let a0 = &self.c[0];
+        if n < 0 && a0.contains_zero() {
+            return None;
+        }
+        if self.constant {
+            return Some(self.with(
+                self.order,
+                {
+                    let mut c = self.c.clone();
+                    c[0] = a0.powi(n)?;
+                    c
+                },
+                true,
+            ));
+        }
+        let order = self.order as i64;
+        let mut coeffs = Vec::with_capacity(order as usize + 1);
+        // binom(n, k) as an exact rational, updated by (n - k + 1)/k.
+        let mut b = BigRational::from_integer(1.into());
+        for k in 0..=order {
+            if k > 0 {
+                b *= BigRational::new(BigInt::from(n - k + 1), BigInt::from(k));
+            }
+            if n >= 0 && k > n {
+                coeffs.push(S::zero());
+                continue;
+            }
+            coeffs.push(S::from_rational(&b, ctx)?.mul(&a0.powi(n - k)?)?);
+        }
+        self.compose(&coeffs)
+    }
+
+    /// Real power `self^(p/q)` for a rational exponent: integer exponents as [`Jet::powi`];
+    /// otherwise the value must be certified positive.
+    pub fn pow_rational(&self, r: &BigRational, ctx: &S::Ctx) -> Option<Jet<S>> {
+        if r.is_integer() {
+            let n: i64 = r.to_integer().try_into().ok()?;
+            return self.powi(n, ctx);
+        }
+        let a0 = &self.c[0];
+        if !a0.is_positive() {
+            return None;
+        }
+        let half = BigRational::new(1.into(), 2.into());
+        let base = if *r == half {
+            a0.sqrt()?
+        } else {
+            S::from_rational(r, ctx)?.mul(&a0.ln()?)?.exp()?
+        };
+        self.by_coeffs(|order| {
+            let inv = a0.recip()?;
+            let mut out = vec![base.clone()];
+            let mut b = BigRational::from_integer(1.into());
+            for k in 1..=order as i64 {
+                b *= (r - BigRational::from_integer(BigInt::from(k - 1)))
+                    / BigRational::from_integer(BigInt::from(k));
+                // binom(r, k) a0^(r - k), with a0^(r - k) = a0^r a0^-k.
+                out.push(S::from_rational(&b, ctx)?.mul(&base)?.mul(&inv.powi(k)?)?);
+            }
+            Some(out)
+        })
+    }
+
+    /// Composes with the univariate coefficients produced by `coeffs(order)`, or applies the
+    /// function to the constant of a constant jet.
+    fn by_coeffs(&self, coeffs: impl FnOnce(u32) -> Option<Vec<S>>) -> Option<Jet<S>> {
+        let order = if self.constant { 0 } else { self.order };
+        let c = coeffs(order)?;
+        self.compose(&c)
+    }
+
+    /// Coefficients `v / k!` for `k = 0..=order`, with `v` cycling through `cycle`.
+    fn cyclic(cycle: &[S], order: u32, ctx: &S::Ctx) -> Option<Vec<S>> {
+        let mut out = Vec::with_capacity(order as usize + 1);
+        let mut fact = 1.0f64; // k!, exact in f64 up to 18!
+        for k in 0..=order {
+            if k > 1 {
+                fact *= f64::from(k);
+            }
+            let f = if k <= 18 {
+                S::from_f64(fact)?
+            } else {
+                S::from_rational(&factorial(k), ctx)?
+            };
+            out.push(cycle[k as usize % cycle.len()].div(&f)?);
+        }
+        Some(out)
+    }
+
+    /// Exponential.
+    pub fn exp(&self, ctx: &S::Ctx) -> Option<Jet<S>> {
+        let e = self.c[0].exp()?;
+        self.by_coeffs(|n| Self::cyclic(&[e], n, ctx))
+    }
+
+    /// Natural logarithm; `None` unless the value is certified positive.
+    pub fn ln(&self, ctx: &S::Ctx) -> Option<Jet<S>> {
+        let a0 = &self.c[0];
+        if !a0.is_positive() {
+            return None;
+        }
+        self.by_coeffs(|n| {
+            let inv = a0.recip()?;
+            let mut out = vec![a0.ln()?];
+            for k in 1..=i64::from(n) {
+                let sign = if k % 2 == 1 { 1 } else { -1 };
+                out.push(inv.powi(k)?.mul(&ratio::<S>(sign, k, ctx)?)?);
+            }
+            Some(out)
+        })
+    }
+
+    /// Square root; `None` unless the value is certified positive (a constant jet may have
+    /// value 0).
+    pub fn sqrt(&self, ctx: &S::Ctx) -> Option<Jet<S>> {
+        if self.constant {
+            let v = self.c[0].sqrt()?;
+            return Some(Jet::constant(&self.space, self.order, v));
+        }
+        self.pow_rational(&BigRational::new(1.into(), 2.into()), ctx)
+    }
+
+    /// Sine.
+    pub fn sin(&self, ctx: &S::Ctx) -> Option<Jet<S>> {
+        let (s, c) = (self.c[0].sin()?, self.c[0].cos()?);
+        self.by_coeffs(|n| Self::cyclic(&[s.clone(), c.clone(), s.neg(), c.neg()], n, ctx))
+    }
+
+    /// Cosine.
+    pub fn cos(&self, ctx: &S::Ctx) -> Option<Jet<S>> {
+        let (s, c) = (self.c[0].sin()?, self.c[0].cos()?);
+        self.by_coeffs(|n| Self::cyclic(&[c.clone(), s.neg(), c.neg(), s.clone()], n, ctx))
+    }
+
+    /// Hyperbolic sine.
+    pub fn sinh(&self, ctx: &S::Ctx) -> Option<Jet<S>> {
+        let (s, c) = self.c[0].sinh_cosh()?;
+        self.by_coeffs(|n| Self::cyclic(&[s, c], n, ctx))
+    }
+
+    /// Hyperbolic cosine.
+    pub fn cosh(&self, ctx: &S::Ctx) -> Option<Jet<S>> {
+        let (s, c) = self.c[0].sinh_cosh()?;
+        self.by_coeffs(|n| Self::cyclic(&[c, s], n, ctx))
+    }
+
+    /// Coefficients of `t(a0 + s)` with `t' = 1 + sign t^2`, `t(a0) = t0`.
+    fn riccati(t0: S, sign: i64, order: u32, ctx: &S::Ctx) -> Option<Vec<S>> {
+        let mut t = vec![t0];
+        for k in 0..order as usize {
+            let mut sq = S::zero();
+            for i in 0..=k {
+                sq = sq.add(&t[i].mul(&t[k - i])?)?;
+            }
+            let mut rhs = if sign > 0 { sq } else { sq.neg() };
+            if k == 0 {
+                rhs = rhs.add(&S::one())?;
+            }
+            t.push(rhs.div(&S::from_i64(k as i64 + 1, ctx)?)?);
+        }
+        Some(t)
+    }
+
+    /// Tangent; `None` if the cosine of the value may be 0.
+    pub fn tan(&self, ctx: &S::Ctx) -> Option<Jet<S>> {
+        let t0 = self.c[0].sin()?.div(&self.c[0].cos()?)?;
+        self.by_coeffs(|n| Self::riccati(t0, 1, n, ctx))
+    }
+
+    /// Hyperbolic tangent.
+    pub fn tanh(&self, ctx: &S::Ctx) -> Option<Jet<S>> {
+        let (s, c) = self.c[0].sinh_cosh()?;
+        let t0 = s.div(&c)?;
+        self.by_coeffs(|n| Self::riccati(t0, -1, n, ctx))
+    }
+
+    /// General power `self^e = exp(e ln self)`; `None` unless the base is certified positive.
+    pub fn pow(&self, e: &Jet<S>, ctx: &S::Ctx) -> Option<Jet<S>> {
+        self.ln(ctx)?.mul(e)?.exp(ctx)
+    }
+
+    /// `d/dx_var`: the jet of the derivative, one order lower. `None` for a jet of order 0
+    /// (its derivative is not known) or an overflow.
+    pub fn derivative(&self, var: usize) -> Option<Jet<S>> {
+        if self.order == 0 || var >= self.space.vars {
+            return None;
+        }
+        let order = self.order - 1;
+        let n = self.space.len(order);
+        if self.constant {
+            return Some(Jet::constant(&self.space, order, S::zero()));
+        }
+        let table = &self.space.deriv[var];
+        let c = (0..n)
+            .map(|i| {
+                let (j, e) = table[i];
+                let f = S::from_f64(f64::from(e))?;
+                self.c[j as usize].mul(&f)
+            })
+            .collect::<Option<_>>()?;
+        Some(self.with(order, c, false))
+    }
+}
+
+#[cfg(test)]
+mod tests;

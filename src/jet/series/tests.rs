@@ -1,0 +1,199 @@
+use super::*;
+use crate::interval::Interval;
+use proptest::prelude::*;
+
+type J = Jet<Interval>;
+
+fn pt(x: f64) -> Interval {
+    Interval::point(x).expect("finite")
+}
+
+/// Two enclosures of the same exact number must meet.
+fn meet(a: &Interval, b: &Interval) -> bool {
+    a.lo() <= b.hi() && b.lo() <= a.hi()
+}
+
+fn same(a: &J, b: &J) -> bool {
+    a.coeffs().len() == b.coeffs().len()
+        && a.coeffs().iter().zip(b.coeffs()).all(|(x, y)| meet(x, y))
+}
+
+/// `x` and `y` at `(x0, y0)` in a 2-variable space of order `n`.
+fn xy(x0: f64, y0: f64, n: u32) -> (J, J) {
+    let sp = JetSpace::new(2, n).expect("small");
+    (
+        Jet::variable(&sp, n, 0, pt(x0)),
+        Jet::variable(&sp, n, 1, pt(y0)),
+    )
+}
+
+#[test]
+fn space_sizes_and_order() {
+    let sp = JetSpace::new(4, 2).expect("small");
+    assert_eq!((sp.len(0), sp.len(1), sp.len(2)), (1, 5, 15));
+    assert_eq!(sp.monomial(0), &[0, 0, 0, 0]);
+    assert_eq!(sp.monomial(1), &[1, 0, 0, 0]);
+    assert_eq!(sp.monomial(4), &[0, 0, 0, 1]);
+    assert_eq!(sp.monomial(5), &[2, 0, 0, 0]);
+    // Degree 2 after the 5 of degree <= 1: 2000 1100 1010 1001 0200 0110 0101 ...
+    assert_eq!(sp.position(&[0, 1, 0, 1]), Some(11));
+    let sp = JetSpace::new(0, 3).expect("small");
+    assert_eq!(sp.len(3), 1);
+    assert!(matches!(
+        JetSpace::new(12, 12),
+        Err(SpaceError::TooLarge { .. })
+    ));
+    assert!(matches!(
+        JetSpace::new(6, 40),
+        Err(SpaceError::TooLarge { .. })
+    ));
+}
+
+#[test]
+fn products_are_polynomial_products() {
+    // (x + y)^2 at (0, 0): x^2 + 2xy + y^2.
+    let (x, y) = xy(0.0, 0.0, 3);
+    let s = x.add(&y).expect("finite");
+    let sq = s.mul(&s).expect("finite");
+    assert!(sq.coeff(&[2, 0]).expect("in order").contains(1.0));
+    assert!(sq.coeff(&[1, 1]).expect("in order").contains(2.0));
+    assert!(sq.coeff(&[0, 2]).expect("in order").contains(1.0));
+    assert!(sq.coeff(&[3, 0]).expect("in order").contains(0.0));
+    let cube = sq.mul(&s).expect("finite");
+    assert!(cube.coeff(&[2, 1]).expect("in order").contains(3.0));
+    assert!(cube.partial(&[2, 1], &()).expect("in order").contains(6.0));
+    // A jet truncated to order 1 drops the squares.
+    let t = cube.truncate(1);
+    assert_eq!(t.coeffs().len(), 3);
+    assert!(t.mul(&sq).expect("finite").order() == 1);
+}
+
+#[test]
+fn derivative_lowers_the_order() {
+    let (x, y) = xy(2.0, 3.0, 3);
+    // f = x^2 y: d_x f = 2 x y = 12, d_x d_y f = 2 x = 4.
+    let f = x.mul(&x).and_then(|xx| xx.mul(&y)).expect("finite");
+    let fx = f.derivative(0).expect("order 3");
+    assert_eq!(fx.order(), 2);
+    assert!(fx.value().contains(12.0));
+    let fxy = fx.derivative(1).expect("order 2");
+    assert!(fxy.value().contains(4.0));
+    assert!(fxy.coeff(&[1, 0]).expect("in order").contains(2.0));
+    let c: J = Jet::constant(f.space(), 0, pt(1.0));
+    assert!(c.derivative(0).is_none());
+}
+
+#[test]
+fn functions_at_known_points() {
+    let (x, _) = xy(0.0, 0.0, 4);
+    // exp(x) at 0: 1/k!.
+    let e = x.exp(&()).expect("finite");
+    assert!(e.coeff(&[4, 0]).expect("in order").contains(1.0 / 24.0));
+    // sin(x): x - x^3/6.
+    let s = x.sin(&()).expect("finite");
+    assert!(s.coeff(&[3, 0]).expect("in order").contains(-1.0 / 6.0));
+    assert!(s.coeff(&[2, 0]).expect("in order").contains(0.0));
+    // log(1 + x) = x - x^2/2 + x^3/3 - x^4/4.
+    let l = x
+        .add(&Jet::constant(x.space(), 4, pt(1.0)))
+        .and_then(|a| a.ln(&()));
+    let l = l.expect("positive");
+    assert!(l.coeff(&[4, 0]).expect("in order").contains(-0.25));
+    // tan x = x + x^3/3, tanh x = x - x^3/3.
+    let t = x.tan(&()).expect("finite");
+    assert!(t.coeff(&[3, 0]).expect("in order").contains(1.0 / 3.0));
+    let th = x.tanh(&()).expect("finite");
+    assert!(th.coeff(&[3, 0]).expect("in order").contains(-1.0 / 3.0));
+}
+
+#[test]
+fn undefined_values_give_none() {
+    let (x, y) = xy(0.0, -1.0, 2);
+    assert!(x.ln(&()).is_none());
+    assert!(y.ln(&()).is_none());
+    assert!(x.sqrt(&()).is_none());
+    assert!(y.sqrt(&()).is_none());
+    assert!(x.recip(&()).is_none());
+    assert!(y.div(&x, &()).is_none());
+    assert!(x.powi(-2, &()).is_none());
+    let third = BigRational::new(1.into(), 3.into());
+    assert!(y.pow_rational(&third, &()).is_none());
+    // Integer powers of a negative base are fine.
+    let c = y.powi(-3, &()).expect("nonzero");
+    assert!(c.value().contains(-1.0));
+    // Overflow.
+    let (big, _) = xy(800.0, 0.0, 2);
+    assert!(big.exp(&()).is_none());
+    // A constant sqrt may be 0.
+    let z: J = Jet::constant(x.space(), 2, pt(0.0));
+    assert!(z.sqrt(&()).expect("constant root").value().contains(0.0));
+}
+
+proptest! {
+    #[test]
+    fn jet_laws_hold_as_meeting_enclosures(
+        x0 in -3.0f64..3.0, y0 in -3.0f64..3.0, n in 0u32..=4,
+    ) {
+        let (x, y) = xy(x0, y0, n);
+        let one: J = Jet::constant(x.space(), n, pt(1.0));
+        let a = x.mul(&y).unwrap().add(&one).unwrap();      // xy + 1
+        let b = x.sin(&()).unwrap();
+        let c = y.cos(&()).unwrap().add(&x).unwrap();
+        // Distributivity.
+        let lhs = a.mul(&b.add(&c).unwrap()).unwrap();
+        let rhs = a.mul(&b).unwrap().add(&a.mul(&c).unwrap()).unwrap();
+        prop_assert!(same(&lhs, &rhs));
+        // exp(a + b) = exp(a) exp(b).
+        let lhs = a.add(&b).unwrap().exp(&());
+        if let (Some(lhs), Some(ea), Some(eb)) = (lhs, a.exp(&()), b.exp(&())) {
+            prop_assert!(same(&lhs, &ea.mul(&eb).unwrap()));
+        }
+        // sin^2 + cos^2 = 1.
+        let s = a.sin(&()).unwrap();
+        let co = a.cos(&()).unwrap();
+        let p = s.mul(&s).unwrap().add(&co.mul(&co).unwrap()).unwrap();
+        prop_assert!(same(&p, &one));
+        // cosh^2 - sinh^2 = 1, tanh = sinh / cosh.
+        let sh = b.sinh(&()).unwrap();
+        let ch = b.cosh(&()).unwrap();
+        prop_assert!(same(&ch.mul(&ch).unwrap().sub(&sh.mul(&sh).unwrap()).unwrap(), &one));
+        prop_assert!(same(&b.tanh(&()).unwrap(), &sh.div(&ch, &()).unwrap()));
+        // Powers, reciprocals, roots and logs.
+        prop_assert!(same(&a.powi(3, &()).unwrap(), &a.mul(&a).unwrap().mul(&a).unwrap()));
+        if let Some(r) = a.recip(&()) {
+            prop_assert!(same(&r.mul(&a).unwrap(), &one));
+            prop_assert!(same(&a.powi(-2, &()).unwrap(), &r.mul(&r).unwrap()));
+        }
+        if let Some(q) = c.sqrt(&()) {
+            prop_assert!(same(&q.mul(&q).unwrap(), &c));
+            prop_assert!(same(&c.ln(&()).unwrap().exp(&()).unwrap(), &c));
+            let two_thirds = BigRational::new(2.into(), 3.into());
+            let p = c.pow_rational(&two_thirds, &()).unwrap();
+            prop_assert!(same(&p.powi(3, &()).unwrap(), &c.powi(2, &()).unwrap()));
+            prop_assert!(same(&c.pow(&a, &()).unwrap(), &c.ln(&()).unwrap().mul(&a).unwrap().exp(&()).unwrap()));
+        }
+        if let Some(t) = b.tan(&()) {
+            prop_assert!(same(&t, &b.sin(&()).unwrap().div(&b.cos(&()).unwrap(), &()).unwrap()));
+        }
+        // Derivative of a product (order >= 1): Leibniz rule.
+        if n >= 1 {
+            let ab = a.mul(&b).unwrap().derivative(0).unwrap();
+            let rule = a.derivative(0).unwrap().mul(&b).unwrap()
+                .add(&a.mul(&b.derivative(0).unwrap()).unwrap()).unwrap();
+            prop_assert!(same(&ab, &rule));
+        }
+    }
+
+    #[test]
+    fn values_match_direct_interval_evaluation(x0 in -3.0f64..3.0, y0 in -3.0f64..3.0) {
+        let (x, y) = xy(x0, y0, 2);
+        let (ix, iy) = (pt(x0), pt(y0));
+        let j = x.mul(&y).unwrap().sin(&()).unwrap().exp(&()).unwrap();
+        let direct = ix.mul(iy).unwrap().sin().exp().unwrap();
+        prop_assert!(meet(j.value(), &direct));
+        // And the first derivative by x: y cos(xy) exp(sin(xy)).
+        let dx = iy.mul(ix.mul(iy).unwrap().cos()).unwrap().mul(direct).unwrap();
+        prop_assert!(meet(&j.partial(&[1, 0], &()).unwrap(), &dx));
+        prop_assert!(j.value().width() < 1e-12);
+    }
+}
