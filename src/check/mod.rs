@@ -6,6 +6,10 @@
 //! by one rule ([`Status::of`]), so "holds" always rests on proofs and "fails" on certified
 //! witnesses.
 
+mod audit;
+
+pub use audit::{AUDIT_POINTS, Audited, audit_text, auditable};
+
 use crate::canon::{CanonError, Coeff, Form, Store};
 use crate::problem::{Gauge, Problem};
 use crate::tensor::{COORDS, Linearized, Sym4, divergence, index_name};
@@ -56,6 +60,8 @@ pub struct Component {
     pub verdict: Verdict,
     /// The simplified expression, when it is not proved zero.
     pub residual: Option<String>,
+    /// What the independent evaluation found (see [`Audited`]).
+    pub audit: Audited,
 }
 
 /// A claim (or, without [claims], a property) and what was found.
@@ -128,6 +134,7 @@ fn verdicts_for(
                 name,
                 verdict,
                 residual,
+                audit: Audited::NotRun("not yet audited".into()),
             }
         })
         .collect()
@@ -321,6 +328,9 @@ pub fn check(problem: &mut Problem) -> CheckReport {
             Err(e) => limit_report("pure_gauge", title, pg, e),
         });
     }
+    // Every verdict again through the independent route; it can only take a proof or a
+    // witness away, never add one.
+    audit::audit_claims(problem, &mut out, sampling.seed);
     CheckReport {
         claims: out,
         has_claims,

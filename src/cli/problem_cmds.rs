@@ -216,6 +216,7 @@ fn render_json(label: &str, name: Option<&str>, r: &CheckReport) -> String {
                 "components": c.components.iter().map(|k| {
                     let mut v = verdict_json(&k.verdict);
                     v["name"] = k.name.clone().into();
+                    v["audit"] = k.audit.label().into();
                     if let Some(res) = &k.residual { v["residual"] = res.clone().into(); }
                     v
                 }).collect::<Vec<_>>(),

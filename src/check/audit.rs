@@ -1,0 +1,359 @@
+//! Every verdict of the exact route checked again by the independent jet route.
+//!
+//! A component proved zero is evaluated by [`crate::audit`] at seeded points; an enclosure
+//! that excludes 0 means the proof was wrong, and the component becomes *nonzero* with that
+//! witness and a loud note (an internal defect). A certified witness is evaluated again at its
+//! own point; if that enclosure contains 0, or the point cannot be evaluated, the component
+//! becomes *undecided*. Nothing is ever promoted: the audit can only take a proof or a
+//! witness away.
+
+use super::{ClaimReport, Component, Status, method_text};
+use crate::audit::{Audit, ComponentValue};
+use crate::interval::{CInterval, Interval};
+use crate::problem::Problem;
+use crate::zero::{Verdict, Witness};
+use rustc_hash::FxHashMap;
+
+/// How many seeded points every proof is evaluated at.
+pub const AUDIT_POINTS: usize = 3;
+
+/// What the audit found for one component.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Audited {
+    /// The audit did not run (the reason).
+    NotRun(String),
+    /// A proof whose value contained 0 at every audit point that could be evaluated.
+    ProofConsistent {
+        /// Points where the component could be evaluated.
+        points: usize,
+    },
+    /// A witness certified nonzero again at its point.
+    WitnessConfirmed,
+    /// The exact route proved zero but the independent route certifies a nonzero value: an
+    /// internal defect. The verdict is now that witness.
+    ProofContradicted,
+    /// The witness could not be certified again (its verdict is now undecided).
+    WitnessUnconfirmed,
+    /// Both routes certify nonzero values, but their enclosures are disjoint: an internal
+    /// defect in one of them (the verdict stays nonzero).
+    ValuesDisagree(String),
+    /// Nothing to audit (undecided by the exact route).
+    Skipped,
+}
+
+impl Audited {
+    /// A short machine label: `not_run`, `consistent`, `confirmed`, `contradicted`,
+    /// `unconfirmed`, `disagree`, `skipped`.
+    pub fn label(&self) -> &'static str {
+        match self {
+            Audited::NotRun(_) => "not_run",
+            Audited::ProofConsistent { .. } => "consistent",
+            Audited::WitnessConfirmed => "confirmed",
+            Audited::ProofContradicted => "contradicted",
+            Audited::WitnessUnconfirmed => "unconfirmed",
+            Audited::ValuesDisagree(_) => "disagree",
+            Audited::Skipped => "skipped",
+        }
+    }
+
+    /// True if the two routes contradict each other (a defect to report).
+    pub fn is_defect(&self) -> bool {
+        matches!(
+            self,
+            Audited::ProofContradicted | Audited::ValuesDisagree(_)
+        )
+    }
+}
+
+/// True when the audit can see the same perturbation as the exact route: every component
+/// that is not zero has the text it was built from (a derived perturbation has none).
+pub fn auditable(problem: &Problem) -> Result<(), String> {
+    let has_text = |forms: &[[crate::canon::Form; 4]; 4], texts: &[[Option<String>; 4]; 4]| {
+        crate::problem::COMPONENTS
+            .iter()
+            .all(|&(m, n)| texts[m][n].is_some() || problem.store.is_zero(forms[m][n]))
+    };
+    if !has_text(&problem.h, &problem.h_text) {
+        return Err("the perturbation was derived, not read from text".into());
+    }
+    if let Some(t) = &problem.source {
+        match &problem.source_text {
+            Some(texts) if has_text(t, texts) => {}
+            _ => return Err("the source was derived, not read from text".into()),
+        }
+    }
+    Ok(())
+}
+
+fn key(claim: &str, component: &str) -> String {
+    format!("{claim}\u{0}{component}")
+}
+
+/// Audits every component of `claims` in place and updates the claims' status and method.
+pub fn audit_claims(problem: &Problem, claims: &mut [ClaimReport], seed: u64) {
+    let not_run = |claims: &mut [ClaimReport], why: String| {
+        for c in claims.iter_mut() {
+            for k in &mut c.components {
+                k.audit = Audited::NotRun(why.clone());
+            }
+            c.method = format!("{}; not audited: {why}", c.method);
+        }
+    };
+    if let Err(why) = auditable(problem) {
+        return not_run(claims, why);
+    }
+    let audit = match Audit::new(problem) {
+        Ok(a) => a,
+        Err(e) => return not_run(claims, e.to_string()),
+    };
+    // Values at the seeded points, shared by every claim.
+    let points = audit.seeded_points(seed, AUDIT_POINTS);
+    let mut at_points: Vec<(Vec<(String, f64)>, FxHashMap<String, Interval>)> = Vec::new();
+    for p in points {
+        let values = match audit.components_at(&p) {
+            Ok(v) => by_key(v),
+            Err(_) => FxHashMap::default(),
+        };
+        at_points.push((p, values));
+    }
+    let typical: FxHashMap<&str, f64> = problem
+        .parameters
+        .iter()
+        .map(|(n, v)| (n.as_str(), *v))
+        .collect();
+    for c in claims.iter_mut() {
+        for k in &mut c.components {
+            let id = key(&c.key, &k.name);
+            k.audit = match k.verdict.clone() {
+                Verdict::Zero => audit_proof(k, &id, &at_points, seed),
+                Verdict::Nonzero(w) => {
+                    let point = witness_point(&audit, &w, &typical);
+                    let value = audit
+                        .components_at(&point)
+                        .ok()
+                        .and_then(|v| by_key(v).remove(&id));
+                    audit_witness(k, &w, value)
+                }
+                Verdict::Undecided(_) => Audited::Skipped,
+            };
+        }
+        let expect_zero = c.asserted.unwrap_or(true);
+        let refs: Vec<&Verdict> = c.components.iter().map(|k| &k.verdict).collect();
+        c.status = Status::of(&refs, expect_zero);
+        c.method = format!(
+            "{}; {}",
+            method_text(&c.components, c.status, expect_zero),
+            audit_text(&c.components)
+        );
+    }
+}
+
+fn by_key(values: Vec<ComponentValue>) -> FxHashMap<String, Interval> {
+    values
+        .into_iter()
+        .filter_map(|v| Some((key(&v.claim, &v.component), v.value?)))
+        .collect()
+}
+
+/// The witness's point with every coordinate and parameter it does not name filled in (the
+/// component does not depend on them, so any value serves; parameters take their typical
+/// value).
+fn witness_point(audit: &Audit, w: &Witness, typical: &FxHashMap<&str, f64>) -> Vec<(String, f64)> {
+    let mut p = audit.complete(&w.point, 0.5);
+    for (name, v) in typical {
+        if !p.iter().any(|(n, _)| n == name) {
+            p.push(((*name).to_string(), *v));
+        }
+    }
+    p
+}
+
+fn audit_proof(
+    k: &mut Component,
+    id: &str,
+    at_points: &[(Vec<(String, f64)>, FxHashMap<String, Interval>)],
+    seed: u64,
+) -> Audited {
+    let mut evaluated = 0;
+    for (point, values) in at_points {
+        let Some(v) = values.get(id) else { continue };
+        evaluated += 1;
+        if v.excludes_zero() {
+            k.residual =
+                Some("0 by the exact route, contradicted by the independent evaluation".into());
+            k.verdict = Verdict::Nonzero(Witness {
+                point: point.clone(),
+                value: CInterval::from_real(*v),
+                seed,
+            });
+            return Audited::ProofContradicted;
+        }
+    }
+    Audited::ProofConsistent { points: evaluated }
+}
+
+fn audit_witness(k: &mut Component, w: &Witness, value: Option<Interval>) -> Audited {
+    match value {
+        Some(v) if v.excludes_zero() => {
+            // Both certify nonzero; their enclosures of the same real value must overlap.
+            let exact = w.value.re;
+            let overlap =
+                w.value.im.contains_zero() && exact.lo() <= v.hi() && v.lo() <= exact.hi();
+            if overlap {
+                Audited::WitnessConfirmed
+            } else {
+                Audited::ValuesDisagree(format!(
+                    "the exact route encloses the value in {} but the independent route in {v}",
+                    w.value
+                ))
+            }
+        }
+        other => {
+            let why = match other {
+                Some(v) => format!("its enclosure there, {v}, contains 0"),
+                None => "it cannot evaluate the component there".to_string(),
+            };
+            k.verdict = Verdict::Undecided(format!(
+                "not reduced to zero, and the exact route's witness was not confirmed by the \
+                 independent evaluation: {why}"
+            ));
+            Audited::WitnessUnconfirmed
+        }
+    }
+}
+
+/// How a claim was audited, in words; loud when the routes disagree.
+pub fn audit_text(components: &[Component]) -> String {
+    let count = |f: fn(&Audited) -> bool| components.iter().filter(|k| f(&k.audit)).count();
+    let defects = count(Audited::is_defect);
+    if defects > 0 {
+        return format!(
+            "INTERNAL DEFECT: for {defects} component(s) the exact route and the independent \
+             evaluation disagree; the independent value is reported. Please report this \
+             (file and command) as a bug"
+        );
+    }
+    if let Some(Audited::NotRun(why)) = components.first().map(|k| &k.audit) {
+        return format!("not audited: {why}");
+    }
+    let proofs = count(|a| matches!(a, Audited::ProofConsistent { .. }));
+    let unevaluated = count(|a| matches!(a, Audited::ProofConsistent { points: 0 }));
+    let confirmed = count(|a| matches!(a, Audited::WitnessConfirmed));
+    let unconfirmed = count(|a| matches!(a, Audited::WitnessUnconfirmed));
+    let mut parts = Vec::new();
+    if proofs > 0 {
+        let mut p = format!(
+            "{proofs} proof(s) consistent with an independent evaluation at {AUDIT_POINTS} seeded points"
+        );
+        if unevaluated > 0 {
+            p.push_str(&format!(" ({unevaluated} could not be evaluated there)"));
+        }
+        parts.push(p);
+    }
+    if confirmed > 0 {
+        parts.push(format!(
+            "{confirmed} witness(es) certified again independently"
+        ));
+    }
+    if unconfirmed > 0 {
+        parts.push(format!(
+            "{unconfirmed} witness(es) not confirmed independently (now undecided)"
+        ));
+    }
+    if parts.is_empty() {
+        "nothing to audit".into()
+    } else {
+        format!("audited: {}", parts.join(", "))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::check::check;
+
+    const WAVE: &str = "name = 'plus wave'\n[parameters]\na = 1e-3\nw = 2.0\n\
+        [perturbation]\nxx = 'a*cos(w*(t - z))'\nyy = '-a*cos(w*(t - z))'\n\
+        [claims]\nfield_equations = true\npure_gauge = false\n";
+
+    const WRONG: &str = "name = 'wrong sign'\n[parameters]\na = 1e-3\nw = 2.0\n\
+        [perturbation]\nxx = 'a*cos(w*(t - z))'\nyy = 'a*cos(w*(t - z))'\n\
+        [claims]\nfield_equations = true\n";
+
+    /// A proof that the exact route got wrong (simulated by overwriting a failing component's
+    /// verdict with Zero) must be caught: the claim fails with the independent witness and
+    /// the method says loudly that the routes disagree.
+    #[test]
+    fn issue9_a_false_proof_is_caught_and_reported_as_a_defect() {
+        let mut p = crate::problem::from_str("wrong.toml", WRONG).unwrap();
+        let mut report = check(&mut p);
+        let fe = &mut report.claims[0];
+        assert_eq!(fe.status, Status::Fails);
+        let failing: Vec<usize> = (0..fe.components.len())
+            .filter(|&i| matches!(fe.components[i].verdict, Verdict::Nonzero(_)))
+            .collect();
+        assert!(!failing.is_empty());
+        for &i in &failing {
+            fe.components[i].verdict = Verdict::Zero;
+        }
+        fe.status = Status::Holds;
+        audit_claims(&p, &mut report.claims, 7);
+        let fe = &report.claims[0];
+        assert_eq!(fe.status, Status::Fails, "{}", fe.method);
+        assert!(fe.method.contains("INTERNAL DEFECT"), "{}", fe.method);
+        for &i in &failing {
+            assert_eq!(fe.components[i].audit, Audited::ProofContradicted);
+            assert!(matches!(fe.components[i].verdict, Verdict::Nonzero(_)));
+        }
+    }
+
+    /// A witness the independent route cannot confirm becomes undecided, never "fails".
+    #[test]
+    fn issue9_an_unconfirmed_witness_becomes_undecided() {
+        let mut p = crate::problem::from_str("wave.toml", WAVE).unwrap();
+        let mut report = check(&mut p);
+        let fe = report
+            .claims
+            .iter_mut()
+            .find(|c| c.key == "field_equations")
+            .unwrap();
+        assert_eq!(fe.status, Status::Holds);
+        // Pretend the exact route certified G_tt nonzero at a point: the audit finds 0 there.
+        fe.components[0].verdict = Verdict::Nonzero(Witness {
+            point: vec![("t".into(), 0.5), ("z".into(), 0.25)],
+            value: CInterval::from_real(Interval::new(1.0, 2.0).unwrap()),
+            seed: 1,
+        });
+        audit_claims(&p, &mut report.claims, 7);
+        let fe = report
+            .claims
+            .iter()
+            .find(|c| c.key == "field_equations")
+            .unwrap();
+        assert_eq!(fe.components[0].audit, Audited::WitnessUnconfirmed);
+        assert!(matches!(fe.components[0].verdict, Verdict::Undecided(_)));
+        assert_eq!(fe.status, Status::Undecided);
+    }
+
+    #[test]
+    fn verdicts_of_a_correct_file_are_all_audited() {
+        let mut p = crate::problem::from_str("wave.toml", WAVE).unwrap();
+        let report = check(&mut p);
+        for c in &report.claims {
+            assert_eq!(c.status, Status::Holds, "{}: {}", c.key, c.method);
+            assert!(c.method.contains("audited:"), "{}", c.method);
+            for k in &c.components {
+                assert!(
+                    matches!(
+                        k.audit,
+                        Audited::ProofConsistent { points: 1.. } | Audited::WitnessConfirmed
+                    ),
+                    "{} {}: {:?}",
+                    c.key,
+                    k.name,
+                    k.audit
+                );
+            }
+        }
+    }
+}
