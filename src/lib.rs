@@ -9,6 +9,7 @@
 #![warn(missing_docs)]
 
 pub mod adm;
+pub mod budget;
 pub mod canon;
 pub mod check;
 pub mod emit;
@@ -17,6 +18,7 @@ pub mod expr;
 pub mod gauge;
 pub mod grid;
 pub mod interval;
+pub mod output;
 pub mod parse;
 pub mod problem;
 pub mod tape;

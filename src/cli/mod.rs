@@ -3,6 +3,7 @@
 mod export_cmds;
 mod expr_cmds;
 mod grid_cmds;
+mod limits;
 mod out;
 mod problem_cmds;
 mod tt_cmds;
