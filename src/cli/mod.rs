@@ -6,6 +6,7 @@ mod grid_cmds;
 mod limits;
 mod out;
 mod problem_cmds;
+mod render;
 mod tt_cmds;
 
 use clap::{Parser, Subcommand};

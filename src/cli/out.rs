@@ -100,6 +100,7 @@ pub fn finish(r: Result<Outcome, Failure>) -> ExitCode {
             ExitCode::from(3)
         }
         Err(Failure::Input(report)) => {
+            let report = super::render::safe(report);
             let _ = writeln!(io::stderr(), "{report:?}");
             ExitCode::from(2)
         }
