@@ -49,8 +49,8 @@ pub struct GridArgs {
     /// instead of stopping with an error.
     #[arg(long)]
     mask_nonfinite: bool,
-    /// Run even when the estimated memory or time is above the caps (--max-memory,
-    /// --time-limit); the memory cap still stops the run if it is reached.
+    /// Start even when the estimated memory or time is above the caps (--max-memory,
+    /// --time-limit); the limits still stop the run when they are reached.
     #[arg(long)]
     allow_large: bool,
     #[command(flatten)]
@@ -196,7 +196,7 @@ fn check_estimate(plan: &GridPlan, settings: &GridSettings, a: &GridArgs) -> Res
     Err(Failure::GaveUp(format!(
         "too large: the grid {} would take about {} samples, {} of memory and {} of work \
          (estimated before starting); the caps are {} (--max-memory) and {} (--time-limit). \
-         Use fewer points per side, or --allow-large to run it anyway",
+         Use fewer points per side, or --allow-large (with limits that fit) to run it anyway",
         points.join(","),
         est.samples,
         size(est.bytes),
@@ -232,8 +232,22 @@ pub fn run_grid(a: GridArgs) -> Result<Outcome, Failure> {
     check_estimate(&plan, &settings, &a)?;
 
     // Compute.
+    // Sampling cannot return early, so the time limit ends the process from the progress
+    // callback, after every slab: "undecided: too slow", exit 3, the plot's temporary removed.
+    let deadline = problem.store.limits.deadline;
     let mut line = ProgressLine::new();
-    let result = grid::run(&plan, &settings, &mut |p| line.update(p));
+    let result = grid::run(&plan, &settings, &mut |p| {
+        if let Some((t, ms)) = deadline {
+            if Instant::now() > t {
+                line.finish();
+                super::limits::stop_now(&format!(
+                    "undecided: too slow: stopped sampling after the time limit of {ms} ms \
+                     (--time-limit raises it)"
+                ));
+            }
+        }
+        line.update(p);
+    });
     line.finish();
     let report = result.map_err(|e| match &e {
         GridError::NonFinite { .. } => input_error(

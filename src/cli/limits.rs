@@ -92,6 +92,18 @@ pub fn timeout_if_past(limits: &Limits) -> Option<CanonError> {
     }
 }
 
+/// Ends the process from the main thread: `message` on standard output, the temporaries
+/// removed, exit 3. For work that cannot return early (grid sampling); the caller must not
+/// have printed a partial report.
+pub fn stop_now(message: &str) -> ! {
+    use std::io::Write as _;
+    lingrav::output::remove_temporaries();
+    let mut out = std::io::stdout().lock();
+    let _ = writeln!(out, "{message}");
+    let _ = out.flush();
+    std::process::exit(3);
+}
+
 /// How often the watchdog looks at the memory flag.
 const POLL: Duration = Duration::from_millis(20);
 /// How long the flag may stay up before the watchdog ends the process.

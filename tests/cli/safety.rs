@@ -435,3 +435,32 @@ fn issue_9_a_terminated_export_leaves_no_temporary_and_no_mismatched_pair() {
         r.stderr
     );
 }
+
+#[test]
+fn issue_9_grid_sampling_stops_at_the_time_limit_and_removes_the_plot_temporary() {
+    let dir = tempfile::tempdir().unwrap();
+    let (out, err, code) = lingrav_in(
+        dir.path(),
+        &[
+            "grid",
+            &worked("vibrating_rod.toml"),
+            "--points",
+            "16,32,64",
+            "--time-limit",
+            "1500",
+            "--allow-large",
+            "--plot",
+            "p.svg",
+        ],
+    );
+    assert_eq!(code, 3, "{out}{err}");
+    assert!(
+        out.contains("undecided: too slow: stopped sampling after the time limit of 1500 ms"),
+        "{out}"
+    );
+    assert!(
+        files_in(dir.path()).is_empty(),
+        "{:?}",
+        files_in(dir.path())
+    );
+}
