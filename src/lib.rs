@@ -10,6 +10,7 @@
 
 pub mod adm;
 pub mod audit;
+pub mod budget;
 pub mod canon;
 pub mod check;
 pub mod emit;
@@ -19,6 +20,7 @@ pub mod gauge;
 pub mod grid;
 pub mod interval;
 pub mod jet;
+pub mod output;
 pub mod parse;
 pub mod problem;
 pub mod tape;

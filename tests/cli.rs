@@ -11,3 +11,5 @@ mod bad_input;
 mod expr_commands;
 #[path = "cli/general.rs"]
 mod general;
+#[path = "cli/safety.rs"]
+mod safety;

@@ -385,6 +385,11 @@ impl Store {
         if n > self.limits.max_terms {
             return Err(CanonError::TooLarge(self.limits.max_terms));
         }
+        // The process-wide memory budget (counted by the binary's allocator): past it, stop
+        // as "too large" like any other size limit.
+        if crate::budget::over_budget() {
+            return Err(CanonError::TooLarge(self.limits.max_terms));
+        }
         if let Some((t, ms)) = self.limits.deadline {
             if Instant::now() > t {
                 return Err(CanonError::Timeout(ms));

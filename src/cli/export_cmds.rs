@@ -6,16 +6,16 @@
 //! their targets), so every input error, an existing output or an unwritable directory is
 //! reported before any algebra. Output appears whole, by rename, or not at all.
 
-use super::out::{Failure, Outcome, print};
+use super::limits::LimitArgs;
+use super::out::{Failure, Outcome, file_failure, gave_up, limit_in, print};
 use clap::{Args, ValueEnum};
 use lingrav::emit::{Lang, Source, emit};
 use lingrav::export::points::{Grid, PointSet, read_points};
 use lingrav::export::quantity::{Quantity, QuantityError, blocks, direction_help, parse_list};
-use lingrav::export::write::{AtomicFile, FileError, Format, commit_all, write_table};
+use lingrav::export::write::{AtomicFile, FileError, Format, commit_with_sidecar, write_table};
 use lingrav::export::{SidecarInfo, evaluate, sidecar};
 use lingrav::problem::{Problem, ProblemError};
 use lingrav::tt::{Arg, ArgError, Direction, parse_direction, set_basis};
-use std::io::Write as _;
 use std::path::{Path, PathBuf};
 
 /// Which quantities, and the direction some of them need.
@@ -98,6 +98,8 @@ pub struct ExportArgs {
     /// Replace the data file and sidecar if they exist.
     #[arg(long)]
     force: bool,
+    #[command(flatten)]
+    limits: LimitArgs,
 }
 
 /// Languages of `emit`.
@@ -147,24 +149,16 @@ pub struct EmitArgs {
     /// Replace the output file if it exists.
     #[arg(long)]
     force: bool,
+    #[command(flatten)]
+    limits: LimitArgs,
 }
 
-fn load(path: &Path) -> Result<Problem, Failure> {
-    lingrav::problem::read(path).map_err(|e| Failure::Input(miette::Report::new(e)))
-}
-
+/// A bad argument, unless what stopped it was an algebra limit (then undecided).
 fn arg_failure(e: ArgError) -> Failure {
-    Failure::Input(miette::Report::new(e))
-}
-
-fn file_failure(e: FileError) -> Failure {
-    let help = match &e {
-        FileError::Exists(_) => "choose another name, or pass --force",
-        FileError::NoDirectory(..) => "create the directory first, or write somewhere else",
-        FileError::IsDirectory(_) => "name a file, e.g. --out data.csv",
-        FileError::Io(..) => "check that the directory exists and is writable",
-    };
-    Failure::Input(miette::miette!(help = help, "{e}"))
+    match limit_in(&e.to_string()) {
+        Some(l) => gave_up(&l),
+        None => Failure::Input(miette::Report::new(e)),
+    }
 }
 
 fn quantity_failure(e: QuantityError) -> Failure {
@@ -172,7 +166,7 @@ fn quantity_failure(e: QuantityError) -> Failure {
         QuantityError::MissingDirection(_) => {
             Failure::Input(miette::miette!(help = direction_help(), "{e}"))
         }
-        QuantityError::Algebra(_) => Failure::Input(miette::miette!("{e}")),
+        QuantityError::Algebra(l) => gave_up(&l),
     }
 }
 
@@ -346,7 +340,7 @@ fn sidecar_path(out: &Path) -> PathBuf {
 /// `lingrav export`.
 pub fn run_export(a: ExportArgs) -> Result<Outcome, Failure> {
     // Plan: every input and output checked before any algebra.
-    let mut p = load(&a.file)?;
+    let mut p = a.limits.load(&a.file)?;
     let (qs, dir) = plan_quantities(&mut p, &a.quantities)?;
     let (params, overridden) = plan_parameters(&p, &a.set)?;
     let points = plan_points(&p, &a)?;
@@ -370,6 +364,9 @@ pub fn run_export(a: ExportArgs) -> Result<Outcome, Failure> {
     let b = blocks(&mut p.store, &p.h, p.source.as_ref(), &qs, dir.as_ref())
         .map_err(quantity_failure)?;
     let ev = evaluate(&mut p.store, &b, &points, &params, &p.sampling).map_err(|e| {
+        if let Some(l) = limit_in(&e.to_string()) {
+            return gave_up(&l);
+        }
         Failure::Input(miette::miette!(
             help = "nothing was written; choose points where the field is defined (away from \
                     singularities such as r = 0)",
@@ -399,16 +396,16 @@ pub fn run_export(a: ExportArgs) -> Result<Outcome, Failure> {
     };
     let meta = sidecar(&mut p.store, &b, &ev, &info);
 
-    // Write both files, then put them in place together.
-    let io =
-        |target: &Path, e: std::io::Error| file_failure(FileError::Io(target.to_path_buf(), e));
-    write_table(data_file.writer(), &ev.table, format).map_err(|e| io(&a.out, e))?;
+    // Write the data, then the sidecar that records its size and checksum, then put both in
+    // place (old sidecar removed, data renamed, sidecar renamed: see lingrav::output).
+    write_table(data_file.writer(), &ev.table, format)
+        .map_err(|e| file_failure(FileError::Io(a.out.clone(), e)))?;
+    let mut meta = meta;
+    meta["data_file_bytes"] = data_file.writer().len().into();
+    meta["data_file_checksum"] = data_file.writer().checksum().into();
     let text = serde_json::to_string_pretty(&meta).expect("json");
-    meta_file
-        .writer()
-        .write_all(format!("{text}\n").as_bytes())
-        .map_err(|e| io(&meta_path, e))?;
-    commit_all(vec![data_file, meta_file]).map_err(file_failure)?;
+    meta_file.write_all(format!("{text}\n").as_bytes())?;
+    commit_with_sidecar(data_file, meta_file)?;
     print(&format!(
         "wrote {} rows x {} columns ({}) to {} ({}), sidecar {}\n",
         ev.table.rows(),
@@ -423,9 +420,9 @@ pub fn run_export(a: ExportArgs) -> Result<Outcome, Failure> {
 
 /// `lingrav emit`.
 pub fn run_emit(a: EmitArgs) -> Result<Outcome, Failure> {
-    let mut p = load(&a.file)?;
+    let mut p = a.limits.load(&a.file)?;
     let (qs, dir) = plan_quantities(&mut p, &a.quantities)?;
-    let mut file = match &a.out {
+    let file = match &a.out {
         Some(o) => Some(AtomicFile::create(o, a.force).map_err(file_failure)?),
         None => None,
     };
@@ -442,16 +439,19 @@ pub fn run_emit(a: EmitArgs) -> Result<Outcome, Failure> {
         samples: &samples,
         direction,
     };
-    let text = emit(&mut p.store, &src, &b, a.lang.lang(), a.samples)
-        .map_err(|e| Failure::Input(miette::miette!("cannot generate code: {e}")))?;
-    match (&mut file, &a.out) {
-        (Some(f), Some(o)) => {
-            f.writer()
-                .write_all(text.as_bytes())
-                .map_err(|e| file_failure(FileError::Io(o.clone(), e)))?;
-            commit_all(vec![file.take().expect("opened")]).map_err(file_failure)?;
+    let text =
+        emit(&mut p.store, &src, &b, a.lang.lang(), a.samples).map_err(|e| {
+            match limit_in(&e.to_string()) {
+                Some(l) => gave_up(&l),
+                None => Failure::Input(miette::miette!("cannot generate code: {e}")),
+            }
+        })?;
+    match file {
+        Some(mut f) => {
+            f.write_all(text.as_bytes())?;
+            f.commit()?;
         }
-        _ => print(&text)?,
+        None => print(&text)?,
     }
     Ok(Outcome::Holds)
 }

@@ -1,10 +1,9 @@
 //! The expression commands: `zero`, `simplify`, `diff`.
 
-use super::out::{Failure, Outcome, print, with_source};
+use super::out::{Failure, Outcome, gave_up, print, with_source};
 use clap::{Args, ValueEnum};
-use lingrav::canon::{Form, Limits, Names, Store};
+use lingrav::canon::{CanonError, Form, Names, Store};
 use lingrav::zero::{Sampling, Verdict, decide};
-use std::time::{Duration, Instant};
 
 /// Output format.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
@@ -15,30 +14,8 @@ pub enum Format {
     Json,
 }
 
-/// Limits shared by the expression commands.
-#[derive(Args, Debug, Clone)]
-pub struct LimitArgs {
-    /// Give up (undecided) when an intermediate result has more terms than this.
-    #[arg(long, default_value_t = 200_000, value_name = "N")]
-    max_terms: usize,
-    /// Give up (undecided) after this many milliseconds of algebra.
-    #[arg(long, default_value_t = 20_000, value_name = "MS")]
-    time_limit: u64,
-}
-
-impl LimitArgs {
-    fn store(&self) -> Store {
-        let mut s = Store::new();
-        s.limits = Limits {
-            max_terms: self.max_terms,
-            deadline: Some((
-                Instant::now() + Duration::from_millis(self.time_limit),
-                self.time_limit,
-            )),
-        };
-        s
-    }
-}
+/// Limits of the expression commands: 20 s of algebra by default.
+pub type LimitArgs = super::limits::LimitArgs<20_000>;
 
 /// Arguments of `lingrav zero`.
 #[derive(Args, Debug)]
@@ -97,7 +74,10 @@ fn build_arg(store: &mut Store, text: &str, label: &str) -> Result<Form, Failure
     let e = lingrav::parse::parse(text).map_err(|e| with_source(e, label, text))?;
     store.build(&e, &Names::free()).map_err(|e| {
         if e.limit {
-            Failure::GaveUp(e.message)
+            gave_up(
+                &super::limits::timeout_if_past(&store.limits)
+                    .unwrap_or(CanonError::TooLarge(store.limits.max_terms)),
+            )
         } else {
             Failure::Input(with_source(e, label, text))
         }
@@ -173,8 +153,8 @@ fn render(st: &mut Store, f: Form, latex: bool) -> String {
     if latex { st.to_latex(f) } else { st.to_text(f) }
 }
 
-fn algebra_limit(e: lingrav::canon::CanonError) -> Failure {
-    Failure::GaveUp(e.to_string())
+fn algebra_limit(e: CanonError) -> Failure {
+    gave_up(&e)
 }
 
 /// `lingrav simplify`.

@@ -1,14 +1,16 @@
 //! The `grid` command: the numerical convergence test of a problem's claims.
 
 use super::expr_cmds::Format;
-use super::out::{Failure, Outcome, print};
+use super::limits::LimitArgs;
+use super::out::{Failure, Outcome, gave_up, limit_in, print};
 use clap::Args;
 use lingrav::grid::{
     self, ClaimResult, Finding, GridError, GridPlan, GridReport, GridSettings, GridStatus, Progress,
 };
+use lingrav::output::AtomicFile;
 use std::fmt::Write as _;
 use std::io::{IsTerminal, Write as _};
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::time::{Duration, Instant};
 
 /// Arguments of `lingrav grid`.
@@ -40,10 +42,19 @@ pub struct GridArgs {
     /// Also draw residual against spacing (log-log, expected slope marked) into this SVG file.
     #[arg(long, value_name = "FILE.svg")]
     plot: Option<PathBuf>,
+    /// Replace the plot file if it exists.
+    #[arg(long)]
+    force: bool,
     /// Where a sample is not finite, skip every stencil that touches it (and count them)
     /// instead of stopping with an error.
     #[arg(long)]
     mask_nonfinite: bool,
+    /// Start even when the estimated memory or time is above the caps (--max-memory,
+    /// --time-limit); the limits still stop the run when they are reached.
+    #[arg(long)]
+    allow_large: bool,
+    #[command(flatten)]
+    limits: LimitArgs,
 }
 
 fn parse_order(s: &str) -> Result<u32, String> {
@@ -154,53 +165,63 @@ impl ProgressLine {
     }
 }
 
-/// Writes `text` to `path` through a temporary file in the same directory and a rename, so
-/// the file is either the old one or the whole new one.
-fn write_atomically(path: &Path, text: &str) -> std::io::Result<()> {
-    let dir = path
-        .parent()
-        .filter(|d| !d.as_os_str().is_empty())
-        .unwrap_or(Path::new("."));
-    let name = path
-        .file_name()
-        .map(|n| n.to_string_lossy().into_owned())
-        .unwrap_or_else(|| "plot.svg".into());
-    let tmp = dir.join(format!(".{name}.{}.tmp", std::process::id()));
-    let result = (|| {
-        let mut f = std::fs::File::create(&tmp)?;
-        f.write_all(text.as_bytes())?;
-        f.sync_all()?;
-        std::fs::rename(&tmp, path)
-    })();
-    if result.is_err() {
-        let _ = std::fs::remove_file(&tmp);
+fn size(bytes: u64) -> String {
+    let b = bytes as f64;
+    if b >= (1u64 << 30) as f64 {
+        format!("{:.1} GiB", b / (1u64 << 30) as f64)
+    } else {
+        format!("{:.0} MiB", (b / (1u64 << 20) as f64).ceil())
     }
-    result
+}
+
+fn duration(seconds: f64) -> String {
+    if seconds >= 3600.0 {
+        format!("{:.1} h", seconds / 3600.0)
+    } else if seconds >= 60.0 {
+        format!("{:.0} min", seconds / 60.0)
+    } else {
+        format!("{seconds:.1} s")
+    }
+}
+
+/// Refuses a run whose estimated memory or time is above the caps, with the estimate.
+fn check_estimate(plan: &GridPlan, settings: &GridSettings, a: &GridArgs) -> Result<(), Failure> {
+    let est = plan.estimate(settings);
+    let cap = lingrav::budget::cap() as u64;
+    let time_cap = a.limits.time_limit() as f64 / 1000.0;
+    if a.allow_large || (est.bytes <= cap && est.seconds <= time_cap) {
+        return Ok(());
+    }
+    let points: Vec<String> = settings.points.iter().map(ToString::to_string).collect();
+    Err(Failure::GaveUp(format!(
+        "too large: the grid {} would take about {} samples, {} of memory and {} of work \
+         (estimated before starting); the caps are {} (--max-memory) and {} (--time-limit). \
+         Use fewer points per side, or --allow-large (with limits that fit) to run it anyway",
+        points.join(","),
+        est.samples,
+        size(est.bytes),
+        duration(est.seconds),
+        size(cap),
+        duration(time_cap),
+    )))
 }
 
 /// `lingrav grid`.
 pub fn run_grid(a: GridArgs) -> Result<Outcome, Failure> {
     // Plan: read and build the file, resolve the grid, compile, check the plot's folder.
-    let mut problem =
-        lingrav::problem::read(&a.file).map_err(|e| Failure::Input(miette::Report::new(e)))?;
+    let mut problem = a.limits.load(&a.file)?;
     let (settings, defaults) = settings(&a, problem.grid.as_ref())?;
-    if let Some(p) = &a.plot {
-        let dir = p
-            .parent()
-            .filter(|d| !d.as_os_str().is_empty())
-            .unwrap_or(Path::new("."));
-        if !dir.is_dir() {
-            return Err(input_error(
-                format!(
-                    "cannot write the plot `{}`: no folder `{}`",
-                    p.display(),
-                    dir.display()
-                ),
-                "create the folder first, or give another path to --plot",
-            ));
-        }
-    }
+    let plot = match &a.plot {
+        Some(p) => Some(
+            AtomicFile::create(p, a.force)
+                .map_err(|e| Failure::Input(miette::miette!(help = e.help(), "--plot {e}")))?,
+        ),
+        None => None,
+    };
     let plan = GridPlan::for_problem(&mut problem).map_err(|e| {
+        if let Some(l) = limit_in(&e.to_string()) {
+            return gave_up(&l);
+        }
         input_error(
             e.to_string(),
             "every symbol needs a value: coordinates t, x, y, z, parameters from [parameters], \
@@ -208,9 +229,25 @@ pub fn run_grid(a: GridArgs) -> Result<Outcome, Failure> {
         )
     })?;
 
+    check_estimate(&plan, &settings, &a)?;
+
     // Compute.
+    // Sampling cannot return early, so the time limit ends the process from the progress
+    // callback, after every slab: "undecided: too slow", exit 3, the plot's temporary removed.
+    let deadline = problem.store.limits.deadline;
     let mut line = ProgressLine::new();
-    let result = grid::run(&plan, &settings, &mut |p| line.update(p));
+    let result = grid::run(&plan, &settings, &mut |p| {
+        if let Some((t, ms)) = deadline {
+            if Instant::now() > t {
+                line.finish();
+                super::limits::stop_now(&format!(
+                    "undecided: too slow: stopped sampling after the time limit of {ms} ms \
+                     (--time-limit raises it)"
+                ));
+            }
+        }
+        line.update(p);
+    });
     line.finish();
     let report = result.map_err(|e| match &e {
         GridError::NonFinite { .. } => input_error(
@@ -231,18 +268,14 @@ pub fn run_grid(a: GridArgs) -> Result<Outcome, Failure> {
         Format::Text => render_text(&label, problem.name.as_deref(), &report, &defaults),
         Format::Json => render_json(&label, problem.name.as_deref(), &report, &defaults),
     };
-    if let Some(p) = &a.plot {
+    if let Some(mut file) = plot {
         let title = match problem.name.as_deref() {
             Some(n) => format!("{label}: {n} (order {})", settings.order),
             None => format!("{label} (order {})", settings.order),
         };
         let svg = grid::plot::svg(&report, &title);
-        write_atomically(p, &svg).map_err(|e| {
-            input_error(
-                format!("cannot write the plot `{}`: {e}", p.display()),
-                "check the path given to --plot",
-            )
-        })?;
+        file.write_all(svg.as_bytes())?;
+        file.commit()?;
     }
     print(&text)?;
     Ok(match report.overall() {

@@ -3,8 +3,10 @@
 mod export_cmds;
 mod expr_cmds;
 mod grid_cmds;
+mod limits;
 mod out;
 mod problem_cmds;
+mod render;
 mod tt_cmds;
 
 use clap::{Parser, Subcommand};
@@ -12,7 +14,8 @@ use std::process::ExitCode;
 
 const AFTER_HELP: &str = "\
 Conventions: signature (-,+,+,+), coordinates (t,x,y,z), G = c = 1, indices of h and T down.
-Exit codes: 0 holds / zero, 1 fails / nonzero, 2 bad input or I/O error, 3 undecided.";
+Exit codes: 0 holds / zero, 1 fails / nonzero, 2 bad input or I/O error, 3 undecided
+(including a limit reached: --time-limit, --max-terms, --max-memory).";
 
 /// Exact and numerical checks of linearized-gravity metric perturbations.
 #[derive(Parser, Debug)]
@@ -155,7 +158,8 @@ psi4_im (tetrad n = (d_t - n.d)/sqrt2, m = (u + i v)/sqrt2; Psi4 = -(h_plus'' - 
 for a TT wave along n). .npy: one float64 array, shape (rows, columns), columns as in CSV.
 The sidecar PATH.meta.json holds the column names, conventions, parameter values, every
 column's exact expression and certified error bound, and the tool version. Files appear
-whole (temporary file, then rename); an existing file is kept unless --force. Exit 0
+whole (temporary file, then rename; the data first, then the sidecar, which records the
+data file's size and FNV-1a 64 checksum); an existing file is kept unless --force. Exit 0
 written, 2 bad input, a point where a value is not finite, or an I/O error (nothing written).")]
     Export(export_cmds::ExportArgs),
     /// Emit code (C, Python, Fortran, Rust, LaTeX) that computes the quantities at a point.

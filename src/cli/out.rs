@@ -1,5 +1,7 @@
 //! Output, error rendering and exit codes, shared by every command.
 
+use lingrav::canon::CanonError;
+use lingrav::output::FileError;
 use std::io::{self, Write};
 use std::process::ExitCode;
 
@@ -40,6 +42,56 @@ impl From<io::Error> for Failure {
     }
 }
 
+/// A limit reached anywhere (loading, computing, printing, sampling) as the command's end:
+/// "undecided: too large" or "undecided: too slow" (exit 3) with the option that raises the
+/// limit. Other algebra errors (a division by zero, say) are bad input.
+pub fn gave_up(e: &CanonError) -> Failure {
+    match e {
+        CanonError::TooLarge(_) => Failure::GaveUp(format!("{e} (--max-terms raises the limit)")),
+        CanonError::Timeout(_) => Failure::GaveUp(format!("{e} (--time-limit raises it)")),
+        CanonError::NumberTooLarge(_) => Failure::GaveUp(e.to_string()),
+        CanonError::DivisionByZero | CanonError::Undefined(_) => {
+            Failure::Input(miette::miette!("{e}"))
+        }
+    }
+}
+
+/// The limit named in a message that wraps a `CanonError` as text (some library errors keep
+/// only the message, e.g. "the algebra stopped: too slow: stopped after the time limit of
+/// 5 ms"), so that it ends as undecided like any other limit.
+pub fn limit_in(message: &str) -> Option<CanonError> {
+    let number_after = |key: &str| -> Option<u64> {
+        let rest = &message[message.find(key)? + key.len()..];
+        let digits: String = rest.chars().take_while(char::is_ascii_digit).collect();
+        digits.parse().ok()
+    };
+    if let Some(ms) = number_after("too slow: stopped after the time limit of ") {
+        return Some(CanonError::Timeout(ms));
+    }
+    if let Some(bits) = number_after("too large: an exact number would have over ") {
+        return Some(CanonError::NumberTooLarge(bits));
+    }
+    number_after("too large: an intermediate result has over ")
+        .map(|n| CanonError::TooLarge(usize::try_from(n).unwrap_or(usize::MAX)))
+}
+
+impl From<CanonError> for Failure {
+    fn from(e: CanonError) -> Self {
+        gave_up(&e)
+    }
+}
+
+/// An output file that cannot be written, as bad input (exit 2) naming the file.
+pub fn file_failure(e: FileError) -> Failure {
+    Failure::Input(miette::miette!(help = e.help(), "{e}"))
+}
+
+impl From<FileError> for Failure {
+    fn from(e: FileError) -> Self {
+        file_failure(e)
+    }
+}
+
 /// Maps a command's result to the exit code, printing errors to standard error.
 pub fn finish(r: Result<Outcome, Failure>) -> ExitCode {
     match r {
@@ -52,6 +104,7 @@ pub fn finish(r: Result<Outcome, Failure>) -> ExitCode {
             ExitCode::from(3)
         }
         Err(Failure::Input(report)) => {
+            let report = super::render::safe(report);
             let _ = writeln!(io::stderr(), "{report:?}");
             ExitCode::from(2)
         }

@@ -1,7 +1,8 @@
 //! The problem-file commands: `check` and `show`.
 
 use super::expr_cmds::Format;
-use super::out::{Failure, Outcome, print};
+use super::limits::LimitArgs;
+use super::out::{Failure, Outcome, gave_up, print};
 use clap::{Args, ValueEnum};
 use lingrav::check::{CheckReport, ClaimReport, Status, check};
 use lingrav::tensor::{COORDS, Linearized, index_name};
@@ -17,6 +18,8 @@ pub struct CheckArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
+    #[command(flatten)]
+    limits: LimitArgs,
 }
 
 /// Quantities `show` can print.
@@ -60,15 +63,13 @@ pub struct ShowArgs {
     /// Also print components that are zero.
     #[arg(long)]
     all: bool,
-}
-
-fn load(path: &std::path::Path) -> Result<lingrav::problem::Problem, Failure> {
-    lingrav::problem::read(path).map_err(|e| Failure::Input(miette::Report::new(e)))
+    #[command(flatten)]
+    limits: LimitArgs,
 }
 
 /// `lingrav check`.
 pub fn run_check(a: CheckArgs) -> Result<Outcome, Failure> {
-    let mut problem = load(&a.file)?;
+    let mut problem = a.limits.load(&a.file)?;
     let report = check(&mut problem);
     let label = a.file.display().to_string();
     let text = match a.format {
@@ -236,10 +237,10 @@ fn render_json(label: &str, name: Option<&str>, r: &CheckReport) -> String {
 
 /// `lingrav show`.
 pub fn run_show(a: ShowArgs) -> Result<Outcome, Failure> {
-    let mut p = load(&a.file)?;
+    let mut p = a.limits.load(&a.file)?;
     let store = &mut p.store;
     let mut lin = Linearized::new(store, p.h);
-    let limit = |e: lingrav::canon::CanonError| Failure::Input(miette::miette!("{e}"));
+    let limit = |e: lingrav::canon::CanonError| gave_up(&e);
     let mut rows: Vec<(String, lingrav::canon::Form)> = Vec::new();
     let sym =
         |letter: &str, m: &[[lingrav::canon::Form; 4]; 4]| -> Vec<(String, lingrav::canon::Form)> {

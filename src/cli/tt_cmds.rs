@@ -6,13 +6,15 @@
 //! rename), refusing to replace an existing file without `--force`.
 
 use super::expr_cmds::Format;
-use super::out::{Failure, Outcome, print};
+use super::limits::{LimitArgs, load_with};
+use super::out::{Failure, Outcome, gave_up, limit_in, print};
 use clap::Args;
 use lingrav::canon::{Form, Names, Store};
 use lingrav::check::{CheckReport, Status, check};
 use lingrav::gauge::compare::{Comparison, compare, import};
 use lingrav::gauge::plane::{PlaneError, find_wave, tt_gauge_vector};
 use lingrav::gauge::{box_vector, text_that_reads_back, transform};
+use lingrav::output::AtomicFile;
 use lingrav::problem::{COMPONENTS, Claims, Gauge, Problem, component_name, render_problem};
 use lingrav::tensor::{COORDS, Linearized, Sym4};
 use lingrav::tt::ring::{Ring, respond, svg};
@@ -21,6 +23,7 @@ use lingrav::tt::{
     numeric_point, parse_direction, project_perturbation, set_basis,
 };
 use lingrav::zero::Verdict;
+use std::cell::RefCell;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
@@ -61,7 +64,7 @@ pub struct ProjectArgs {
     #[arg(long)]
     force: bool,
     #[command(flatten)]
-    time: TimeArgs,
+    limits: LimitArgs,
 }
 
 /// Arguments of `lingrav gauge`.
@@ -97,7 +100,7 @@ pub struct GaugeArgs {
     #[arg(long)]
     force: bool,
     #[command(flatten)]
-    time: TimeArgs,
+    limits: LimitArgs,
 }
 
 /// Arguments of `lingrav compare`.
@@ -111,7 +114,7 @@ pub struct CompareArgs {
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
     #[command(flatten)]
-    time: TimeArgs,
+    limits: LimitArgs,
 }
 
 /// Arguments of `lingrav ring`.
@@ -151,14 +154,10 @@ pub struct RingArgs {
     #[arg(long)]
     force: bool,
     #[command(flatten)]
-    time: TimeArgs,
+    limits: LimitArgs,
 }
 
 // ----- shared helpers --------------------------------------------------------------------
-
-fn load(path: &Path) -> Result<Problem, Failure> {
-    lingrav::problem::read(path).map_err(|e| Failure::Input(miette::Report::new(e)))
-}
 
 fn arg_failure(e: ArgError) -> Failure {
     Failure::Input(miette::Report::new(e))
@@ -185,30 +184,7 @@ fn finish(r: Result<Outcome, Stop>) -> Result<Outcome, Failure> {
     match r {
         Ok(o) => Ok(o),
         Err(Stop::Fail(f)) => Err(f),
-        Err(Stop::Limit(e)) => {
-            print(&format!(
-                "undecided: the algebra stopped ({e}); a larger --time-limit may help\n"
-            ))?;
-            Ok(Outcome::Undecided)
-        }
-    }
-}
-
-/// A time budget for the algebra of a command.
-#[derive(Args, Debug)]
-pub struct TimeArgs {
-    /// Give up (undecided, exit 3) after this many milliseconds of algebra.
-    #[arg(long, default_value_t = 60_000, value_name = "MS")]
-    time_limit: u64,
-}
-
-impl TimeArgs {
-    fn start(&self, store: &mut Store) {
-        let ms = self.time_limit;
-        store.limits.deadline = Some((
-            std::time::Instant::now() + std::time::Duration::from_millis(ms),
-            ms,
-        ));
+        Err(Stop::Limit(e)) => Err(gave_up(&e)),
     }
 }
 
@@ -224,101 +200,26 @@ fn vec_text(store: &mut Store, v: &[Form]) -> String {
     format!("({})", parts.join(", "))
 }
 
-/// An output file, checked before any work.
+/// An output file, checked (and its temporary opened) before any work.
 struct Target {
     path: PathBuf,
-    force: bool,
+    file: RefCell<Option<AtomicFile>>,
 }
 
 fn plan_output(path: &Path, force: bool, option: &str) -> Result<Target, Failure> {
-    let shown = path.display();
-    let fail = |msg: String, help: &str| {
-        Failure::Input(miette::miette!(help = help.to_string(), "{option} {msg}"))
-    };
-    if path.file_name().is_none() {
-        return Err(fail(
-            format!("`{shown}` is not a file name"),
-            "name a file, e.g. out.toml",
-        ));
-    }
-    let parent = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    if !parent.is_dir() {
-        return Err(fail(
-            format!(
-                "`{shown}`: the directory `{}` does not exist",
-                parent.display()
-            ),
-            "create the directory first, or write somewhere else",
-        ));
-    }
-    match std::fs::symlink_metadata(path) {
-        Ok(m) if m.is_dir() => Err(fail(
-            format!("`{shown}` is a directory"),
-            "name a file, e.g. out.toml",
-        )),
-        Ok(_) if !force => Err(fail(
-            format!("`{shown}` already exists"),
-            "pass --force to replace it, or choose another name",
-        )),
-        _ => Ok(Target {
-            path: path.to_path_buf(),
-            force,
-        }),
-    }
+    let file = AtomicFile::create(path, force)
+        .map_err(|e| Failure::Input(miette::miette!(help = e.help(), "{option} {e}")))?;
+    Ok(Target {
+        path: path.to_path_buf(),
+        file: RefCell::new(Some(file)),
+    })
 }
 
-/// Writes `contents` to the target through a temporary file in the same directory.
+/// Writes `contents` to the target's temporary file and moves it into place.
 fn write_atomic(t: &Target, contents: &str) -> Result<(), Failure> {
-    use std::io::Write as _;
-    let shown = t.path.display().to_string();
-    let fail = |e: std::io::Error| Failure::Input(miette::miette!("cannot write `{shown}`: {e}"));
-    let parent = match t.path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    let name = t
-        .path
-        .file_name()
-        .map(|n| n.to_string_lossy().into_owned())
-        .unwrap_or_default();
-    let tmp = parent.join(format!(".{name}.{}.tmp", std::process::id()));
-    let written = (|| {
-        let mut f = std::fs::OpenOptions::new()
-            .write(true)
-            .create_new(true)
-            .open(&tmp)?;
-        f.write_all(contents.as_bytes())?;
-        f.sync_all()
-    })();
-    if let Err(e) = written {
-        let _ = std::fs::remove_file(&tmp);
-        return Err(fail(e));
-    }
-    let placed = if t.force {
-        std::fs::rename(&tmp, &t.path)
-    } else {
-        // A hard link never replaces an existing file, so a file that appeared meanwhile is
-        // not overwritten.
-        match std::fs::hard_link(&tmp, &t.path) {
-            Ok(()) => std::fs::remove_file(&tmp),
-            Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => {
-                let _ = std::fs::remove_file(&tmp);
-                return Err(Failure::Input(miette::miette!(
-                    help = "pass --force to replace it",
-                    "cannot write `{shown}`: it already exists"
-                )));
-            }
-            Err(_) if !t.path.exists() => std::fs::rename(&tmp, &t.path),
-            Err(e) => Err(e),
-        }
-    };
-    if let Err(e) = placed {
-        let _ = std::fs::remove_file(&tmp);
-        return Err(fail(e));
-    }
+    let mut file = t.file.borrow_mut().take().expect("written once");
+    file.write_all(contents.as_bytes())?;
+    file.commit()?;
     Ok(())
 }
 
@@ -498,13 +399,12 @@ pub fn run_project(a: ProjectArgs) -> Result<Outcome, Failure> {
 }
 
 fn project_cmd(a: ProjectArgs) -> Result<Outcome, Stop> {
-    let mut p = load(&a.file)?;
+    let mut p = a.limits.load(&a.file)?;
     let dir = plan_direction(&mut p, &a.dir)?;
     let target = match &a.output {
         Some(path) => Some(plan_output(path, a.force, "--output")?),
         None => None,
     };
-    a.time.start(&mut p.store);
 
     let h = p.h;
     let proj = project_perturbation(&mut p.store, &h, &dir).map_err(limit_failure)?;
@@ -716,6 +616,9 @@ fn plane_failure(e: PlaneError) -> Result<Outcome, Stop> {
             "the TT construction does not apply: {why}"
         )))),
         PlaneError::Undecided(why) => {
+            if let Some(limit) = limit_in(&why) {
+                return Err(Stop::Limit(limit));
+            }
             print(&format!("undecided: {why}\n"))?;
             Ok(Outcome::Undecided)
         }
@@ -728,7 +631,7 @@ pub fn run_gauge(a: GaugeArgs) -> Result<Outcome, Failure> {
 }
 
 fn gauge_cmd(a: GaugeArgs) -> Result<Outcome, Stop> {
-    let mut p = load(&a.file)?;
+    let mut p = a.limits.load(&a.file)?;
     let names = p.names.clone();
     let sampling = p.sampling.clone();
     // The plan: the vector (or wave vector) and the output path, before any algebra.
@@ -775,7 +678,6 @@ fn gauge_cmd(a: GaugeArgs) -> Result<Outcome, Stop> {
         Some(path) => Some(plan_output(path, a.force, "--output")?),
         None => None,
     };
-    a.time.start(&mut p.store);
     let label = a.file.display().to_string();
     let mut s = String::new();
     let _ = writeln!(s, "{}", heading(&label, p.name.as_deref()));
@@ -1065,9 +967,9 @@ pub fn run_compare(a: CompareArgs) -> Result<Outcome, Failure> {
 }
 
 fn compare_cmd(a: CompareArgs) -> Result<Outcome, Stop> {
-    let mut pa = load(&a.first)?;
-    let pb = load(&a.second)?;
-    a.time.start(&mut pa.store);
+    let limits = a.limits.start();
+    let mut pa = load_with(&a.first, limits)?;
+    let pb = load_with(&a.second, limits)?;
     let imported = {
         let sampling = pa.sampling.clone();
         import(&mut pa.store, &sampling, &pa.parameters, &pa.functions, &pb).map_err(|why| {
@@ -1231,7 +1133,7 @@ pub fn run_ring(a: RingArgs) -> Result<Outcome, Failure> {
 }
 
 fn ring_cmd(a: RingArgs) -> Result<Outcome, Stop> {
-    let mut p = load(&a.file)?;
+    let mut p = a.limits.load(&a.file)?;
     let dir = plan_direction(&mut p, &a.dir)?;
     let radius = numbers(
         &mut p,
@@ -1276,7 +1178,6 @@ fn ring_cmd(a: RingArgs) -> Result<Outcome, Stop> {
         Some(path) => Some(plan_output(path, a.force, "--svg")?),
         None => None,
     };
-    a.time.start(&mut p.store);
 
     let h = p.h;
     let proj = project_perturbation(&mut p.store, &h, &dir).map_err(limit_failure)?;

@@ -11,14 +11,13 @@
 //!   `(rows, columns)`; the column names are in the JSON sidecar. `numpy.load` reads it.
 //! - JSON: `{"columns": [...], "rows": [[...], ...]}`, numbers round-trip exactly.
 //!
-//! Files: [`AtomicFile`] writes into a temporary file beside the target and renames it into
-//! place on [`AtomicFile::commit`]; dropped without a commit, the temporary file is removed.
-//! Without `force`, an existing target is never replaced (checked when the file is opened,
-//! and again, atomically where the file system allows, at the commit).
+//! Files are written through [`crate::output`] (re-exported here): a temporary file beside
+//! the target, renamed into place whole; the data file and its sidecar in an order that never
+//! shows a data file beside a sidecar that does not describe it.
 
-use std::fs::{self, File};
-use std::io::{self, BufWriter, Write};
-use std::path::{Path, PathBuf};
+pub use crate::output::{AtomicFile, FileError, commit_with_sidecar};
+use std::io::{self, Write};
+use std::path::Path;
 
 /// A table of finite values with named columns.
 #[derive(Clone, Debug, PartialEq)]
@@ -171,164 +170,6 @@ pub fn write_table(w: &mut impl Write, table: &Table, format: Format) -> io::Res
     }
 }
 
-/// Why a file could not be written.
-#[derive(Debug, thiserror::Error)]
-pub enum FileError {
-    /// The target exists and `force` was not given.
-    #[error("`{0}` already exists; pass --force to replace it")]
-    Exists(PathBuf),
-    /// The target is a directory.
-    #[error("`{0}` is a directory, not a file")]
-    IsDirectory(PathBuf),
-    /// The target's directory does not exist.
-    #[error("cannot write `{0}`: the directory `{1}` does not exist")]
-    NoDirectory(PathBuf, PathBuf),
-    /// Any other I/O error.
-    #[error("cannot write `{0}`: {1}")]
-    Io(PathBuf, io::Error),
-}
-
-/// A file being written: a temporary file beside the target until [`AtomicFile::commit`].
-pub struct AtomicFile {
-    target: PathBuf,
-    temp: PathBuf,
-    writer: Option<BufWriter<File>>,
-    force: bool,
-    committed: bool,
-}
-
-impl AtomicFile {
-    /// Opens a temporary file for `target` in the target's directory.
-    ///
-    /// # Errors
-    ///
-    /// The target exists (without `force`), is a directory, its directory is missing, or the
-    /// temporary file cannot be created (no permission, say).
-    pub fn create(target: &Path, force: bool) -> Result<AtomicFile, FileError> {
-        if target.is_dir() {
-            return Err(FileError::IsDirectory(target.to_path_buf()));
-        }
-        if !force && fs::symlink_metadata(target).is_ok() {
-            return Err(FileError::Exists(target.to_path_buf()));
-        }
-        let dir = match target.parent() {
-            Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
-            _ => PathBuf::from("."),
-        };
-        if !dir.is_dir() {
-            return Err(FileError::NoDirectory(target.to_path_buf(), dir));
-        }
-        let name = target
-            .file_name()
-            .map(|n| n.to_string_lossy().into_owned())
-            .ok_or_else(|| FileError::IsDirectory(target.to_path_buf()))?;
-        let mut k = 0u32;
-        loop {
-            let temp = dir.join(format!(".{name}.lingrav-{}-{k}.tmp", std::process::id()));
-            match fs::OpenOptions::new()
-                .write(true)
-                .create_new(true)
-                .open(&temp)
-            {
-                Ok(f) => {
-                    return Ok(AtomicFile {
-                        target: target.to_path_buf(),
-                        temp,
-                        writer: Some(BufWriter::new(f)),
-                        force,
-                        committed: false,
-                    });
-                }
-                Err(e) if e.kind() == io::ErrorKind::AlreadyExists && k < 100 => k += 1,
-                Err(e) => return Err(FileError::Io(target.to_path_buf(), e)),
-            }
-        }
-    }
-
-    /// The target path.
-    #[must_use]
-    pub fn target(&self) -> &Path {
-        &self.target
-    }
-
-    /// The writer of the temporary file.
-    ///
-    /// # Panics
-    ///
-    /// After [`AtomicFile::commit`].
-    pub fn writer(&mut self) -> &mut BufWriter<File> {
-        self.writer.as_mut().expect("not yet committed")
-    }
-
-    /// Flushes the temporary file to disk and moves it to the target.
-    ///
-    /// # Errors
-    ///
-    /// An I/O error, or (without `force`) a target that appeared in the meantime.
-    pub fn commit(mut self) -> Result<(), FileError> {
-        let io = |e| FileError::Io(self.target.clone(), e);
-        let w = self.writer.take().expect("committed once");
-        let f = w.into_inner().map_err(|e| io(e.into_error()))?;
-        f.sync_all().map_err(io)?;
-        drop(f);
-        if self.force {
-            fs::rename(&self.temp, &self.target).map_err(io)?;
-        } else {
-            // A hard link never replaces an existing file; where links are not supported,
-            // check and rename.
-            match fs::hard_link(&self.temp, &self.target) {
-                Ok(()) => {
-                    let _ = fs::remove_file(&self.temp);
-                }
-                Err(e) if e.kind() == io::ErrorKind::AlreadyExists => {
-                    return Err(FileError::Exists(self.target.clone()));
-                }
-                Err(_) => {
-                    if fs::symlink_metadata(&self.target).is_ok() {
-                        return Err(FileError::Exists(self.target.clone()));
-                    }
-                    fs::rename(&self.temp, &self.target).map_err(io)?;
-                }
-            }
-        }
-        self.committed = true;
-        Ok(())
-    }
-}
-
-impl Drop for AtomicFile {
-    fn drop(&mut self) {
-        if !self.committed {
-            self.writer.take();
-            let _ = fs::remove_file(&self.temp);
-        }
-    }
-}
-
-/// Commits several files: all of them, or (on the first failure) none of those that did not
-/// exist before. A replaced file (with `force`) cannot be restored.
-///
-/// # Errors
-///
-/// The first failure.
-pub fn commit_all(files: Vec<AtomicFile>) -> Result<(), FileError> {
-    let mut done: Vec<(PathBuf, bool)> = Vec::new();
-    for f in files {
-        let target = f.target.clone();
-        let existed = fs::symlink_metadata(&target).is_ok();
-        if let Err(e) = f.commit() {
-            for (p, existed) in done {
-                if !existed {
-                    let _ = fs::remove_file(p);
-                }
-            }
-            return Err(e);
-        }
-        done.push((target, existed));
-    }
-    Ok(())
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -384,39 +225,5 @@ mod tests {
         let v: serde_json::Value = serde_json::from_slice(&out).unwrap();
         assert_eq!(v["columns"][1], "h_tt");
         assert_eq!(v["rows"][1][1].as_f64().unwrap(), -7.071067811865475e-9);
-    }
-
-    #[test]
-    fn atomic_files_do_not_clobber() {
-        let dir = tempfile::tempdir().unwrap();
-        let p = dir.path().join("a.csv");
-        let mut f = AtomicFile::create(&p, false).unwrap();
-        f.writer().write_all(b"one").unwrap();
-        assert!(!p.exists(), "nothing at the target before the commit");
-        f.commit().unwrap();
-        assert_eq!(fs::read_to_string(&p).unwrap(), "one");
-        assert!(matches!(
-            AtomicFile::create(&p, false),
-            Err(FileError::Exists(_))
-        ));
-        let mut f = AtomicFile::create(&p, true).unwrap();
-        f.writer().write_all(b"two").unwrap();
-        f.commit().unwrap();
-        assert_eq!(fs::read_to_string(&p).unwrap(), "two");
-        // Dropped without a commit: no trace.
-        let q = dir.path().join("b.csv");
-        let mut f = AtomicFile::create(&q, false).unwrap();
-        f.writer().write_all(b"x").unwrap();
-        drop(f);
-        let left: Vec<_> = fs::read_dir(dir.path()).unwrap().collect();
-        assert_eq!(left.len(), 1, "{left:?}");
-        assert!(matches!(
-            AtomicFile::create(&dir.path().join("no/such/dir/c.csv"), false),
-            Err(FileError::NoDirectory(..))
-        ));
-        assert!(matches!(
-            AtomicFile::create(dir.path(), true),
-            Err(FileError::IsDirectory(_))
-        ));
     }
 }

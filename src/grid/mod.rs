@@ -409,6 +409,59 @@ impl GridPlan {
     }
 }
 
+/// What a run will cost, estimated from the plan and the settings before any sampling.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Estimate {
+    /// Samples taken over all resolutions (lattice points times sampled components).
+    pub samples: u64,
+    /// Peak bytes of the sample buffers (the largest resolution's slabs).
+    pub bytes: u64,
+    /// Seconds of work at about one nanosecond per tape instruction and stencil term per
+    /// point: the order of magnitude of an optimised build on one core, not a promise.
+    pub seconds: f64,
+}
+
+impl GridPlan {
+    /// The cost of running `settings`: per resolution of `n` points per side, `n^4` lattice
+    /// points each evaluating the tape and every claim's stencils, and `(order + 1)` slabs of
+    /// `n^3` points of every `t`-dependent channel plus one slab of the others in memory.
+    #[must_use]
+    pub fn estimate(&self, settings: &GridSettings) -> Estimate {
+        let nd = self.dynamic.outputs() as f64;
+        let ns = self.statics.outputs() as f64;
+        let slabs = f64::from(settings.order) + 1.0;
+        let per_point = self.dynamic.len() as f64
+            + self.atoms.len() as f64 * (2.0 * f64::from(settings.order) + 1.0)
+            + self
+                .claims
+                .iter()
+                .map(|c| c.components.iter().map(|k| k.terms.len()).sum::<usize>())
+                .sum::<usize>() as f64;
+        let mut samples = 0.0f64;
+        let mut bytes = 0.0f64;
+        let mut seconds = 0.0f64;
+        for &n in &settings.points {
+            let n = n as f64;
+            let cube = n * n * n;
+            samples += cube * n * nd + cube * ns;
+            bytes = bytes.max((slabs * nd + ns) * cube * 8.0);
+            seconds += cube * n * per_point * 1e-9;
+        }
+        let to_u64 = |v: f64| {
+            if v >= u64::MAX as f64 {
+                u64::MAX
+            } else {
+                v as u64
+            }
+        };
+        Estimate {
+            samples: to_u64(samples),
+            bytes: to_u64(bytes),
+            seconds,
+        }
+    }
+}
+
 /// Resolved settings of a grid check.
 #[derive(Clone, Debug, PartialEq)]
 pub struct GridSettings {

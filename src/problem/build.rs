@@ -5,7 +5,7 @@
 //! names declared before it), the perturbation and the source.
 
 use super::{COORDINATES, Component, ExprText, Problem, ProblemError, ProblemFile};
-use crate::canon::{Form, FunctionSample, Names, Store};
+use crate::canon::{CanonError, Form, FunctionSample, Limits, Names, Store};
 use crate::expr::{Expr, ExprKind, Span};
 use crate::zero::Sampling;
 use rustc_hash::FxHashMap;
@@ -76,9 +76,22 @@ impl Builder<'_> {
     }
 
     fn build(&mut self, e: &ExprText, expr: &Expr, names: &Names) -> Result<Form, ProblemError> {
-        self.store
-            .build(expr, names)
-            .map_err(|be| self.expr_err(e, be.message, be.span, "here", be.help))
+        self.store.build(expr, names).map_err(|be| {
+            let limit = be.limit.then(|| self.limit_reached());
+            let err = self.expr_err(e, be.message, be.span, "here", be.help);
+            match limit {
+                Some(l) => err.with_limit(l),
+                None => err,
+            }
+        })
+    }
+
+    /// Which limit stopped a build: the deadline if it has passed, else the term limit.
+    fn limit_reached(&self) -> CanonError {
+        match self.store.limits.deadline {
+            Some((t, ms)) if std::time::Instant::now() >= t => CanonError::Timeout(ms),
+            _ => CanonError::TooLarge(self.store.limits.max_terms),
+        }
     }
 
     fn parse_and_build(&mut self, e: &ExprText, names: &Names) -> Result<Form, ProblemError> {
@@ -234,11 +247,10 @@ impl Builder<'_> {
     }
 }
 
-pub(super) fn build(file: &ProblemFile) -> Result<Problem, ProblemError> {
-    let mut b = Builder {
-        file,
-        store: Store::new(),
-    };
+pub(super) fn build(file: &ProblemFile, limits: Limits) -> Result<Problem, ProblemError> {
+    let mut store = Store::new();
+    store.limits = limits;
+    let mut b = Builder { file, store };
     b.check_declarations()?;
 
     let mut names = Names::strict();

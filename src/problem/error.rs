@@ -1,6 +1,7 @@
 //! The error type of problem files: one diagnostic that carries the file, so it renders with
 //! `file:line:col`, the message, a label at the span and a help line.
 
+use crate::canon::CanonError;
 use crate::expr::Span;
 use miette::{LabeledSpan, NamedSource};
 use std::sync::Arc;
@@ -25,6 +26,9 @@ pub struct ProblemError {
     /// The file's path and text.
     #[source_code]
     pub source_code: Arc<NamedSource<String>>,
+    /// Set when a size or time limit stopped building an expression: not an error in the
+    /// file, and callers report it as undecided (too large, too slow), not as bad input.
+    pub limit: Option<CanonError>,
 }
 
 impl ProblemError {
@@ -49,6 +53,7 @@ impl ProblemError {
                 span,
             )],
             source_code: Arc::new(NamedSource::new(path, text.to_string())),
+            limit: None,
         }
     }
 
@@ -62,7 +67,15 @@ impl ProblemError {
             help: None,
             labels: Vec::new(),
             source_code: Arc::new(NamedSource::new(path, String::new())),
+            limit: None,
         }
+    }
+
+    /// The same error, marked as a limit reached (see [`ProblemError::limit`]).
+    #[must_use]
+    pub fn with_limit(mut self, limit: CanonError) -> ProblemError {
+        self.limit = Some(limit);
+        self
     }
 
     /// The same error with a help line.

@@ -45,7 +45,7 @@ mod tests;
 pub use error::ProblemError;
 pub use render::{render_grid, render_problem};
 
-use crate::canon::{Form, Names, Store};
+use crate::canon::{Form, Limits, Names, Store};
 use crate::expr::Span;
 use crate::zero::Sampling;
 use std::fmt;
@@ -257,7 +257,18 @@ impl ProblemFile {
     /// expression that does not parse, an undeclared name, a define used before it is
     /// defined, a function sample that uses more than `u` and the parameters.
     pub fn build(&self) -> Result<Problem, ProblemError> {
-        build::build(self)
+        self.build_with(Limits::default())
+    }
+
+    /// As [`ProblemFile::build`], in a store with `limits` in force from the start (the
+    /// problem's expressions are built under them, and they stay in the problem's store).
+    ///
+    /// # Errors
+    ///
+    /// As [`ProblemFile::build`]; a limit reached while building is an error with
+    /// [`ProblemError::limit`] set.
+    pub fn build_with(&self, limits: Limits) -> Result<Problem, ProblemError> {
+        build::build(self, limits)
     }
 
     /// An error at `span` of this file.
@@ -344,10 +355,51 @@ impl Problem {
 /// A [`ProblemError`] with an empty span when the file cannot be read, else as
 /// [`ProblemFile::parse`] and [`ProblemFile::build`].
 pub fn read(path: &std::path::Path) -> Result<Problem, ProblemError> {
+    read_with(path, Limits::default())
+}
+
+/// Reads and builds the problem file at `path` with `limits` in force.
+///
+/// # Errors
+///
+/// As [`read`]; a file that is not valid UTF-8 is an error at its first invalid byte (byte
+/// offset, line and column in the message).
+pub fn read_with(path: &std::path::Path, limits: Limits) -> Result<Problem, ProblemError> {
     let label = path.display().to_string();
-    let text = std::fs::read_to_string(path)
+    let bytes = std::fs::read(path)
         .map_err(|e| ProblemError::whole_file(&label, format!("cannot read `{label}`: {e}")))?;
-    from_str(&label, &text)
+    let text = utf8_text(&label, bytes)?;
+    ProblemFile::parse(&label, &text)?.build_with(limits)
+}
+
+/// The text of a file, or an error at its first byte that is not UTF-8.
+pub(crate) fn utf8_text(label: &str, bytes: Vec<u8>) -> Result<String, ProblemError> {
+    match String::from_utf8(bytes) {
+        Ok(t) => Ok(t),
+        Err(e) => {
+            let at = e.utf8_error().valid_up_to();
+            let bad = e.utf8_error().error_len().unwrap_or(1);
+            let shown = String::from_utf8_lossy(e.as_bytes()).into_owned();
+            let hex: Vec<String> = e.as_bytes()[at..at + bad]
+                .iter()
+                .map(|b| format!("{b:#04x}"))
+                .collect();
+            // The lossy text equals the original up to `at`, where U+FFFD stands for the bad
+            // bytes, so the span points at it.
+            let (line, col) = error::line_col(&shown, at);
+            Err(ProblemError::new(
+                label,
+                &shown,
+                format!(
+                    "`{label}` is not valid UTF-8: byte {at} (line {line}, column {col}) is {}",
+                    hex.join(" ")
+                ),
+                Span::new(at, at + '\u{fffd}'.len_utf8()),
+                "not UTF-8",
+            )
+            .with_help("save the file as UTF-8 text"))
+        }
+    }
 }
 
 /// Reads and builds a problem from `text`; `path_label` names it in messages.
@@ -357,6 +409,19 @@ pub fn read(path: &std::path::Path) -> Result<Problem, ProblemError> {
 /// As [`ProblemFile::parse`] and [`ProblemFile::build`].
 pub fn from_str(path_label: &str, text: &str) -> Result<Problem, ProblemError> {
     ProblemFile::parse(path_label, text)?.build()
+}
+
+/// As [`from_str`], with `limits` in force.
+///
+/// # Errors
+///
+/// As [`from_str`].
+pub fn from_str_with(
+    path_label: &str,
+    text: &str,
+    limits: Limits,
+) -> Result<Problem, ProblemError> {
+    ProblemFile::parse(path_label, text)?.build_with(limits)
 }
 
 /// Edit distance between two short names (Levenshtein, by chars).

@@ -1,0 +1,179 @@
+//! Limits shared by every command that does algebra: time, terms, memory.
+//!
+//! One clap struct, flattened into each command, so the options read the same everywhere.
+//! The limits are put into the `Store` before the problem file is built (building a file is
+//! algebra too), and every limit reached ends the same way, through `out::gave_up`:
+//! "undecided: too large" or "undecided: too slow", exit 3.
+//!
+//! Memory: the binary's counting allocator raises `lingrav::budget`'s flag when the process
+//! passes `--max-memory`. Computations that poll the flag stop with "too large"; a watchdog
+//! thread ends the process the same way (message on standard output, temporaries removed,
+//! exit 3) if the flag stays up for a second, or at once when use passes one and a half
+//! times the cap. Nothing here calls `setrlimit` or refuses an allocation, so reaching the
+//! cap never aborts the process.
+
+use super::out::{Failure, gave_up};
+use clap::Args;
+use lingrav::canon::{CanonError, Limits, Store};
+use lingrav::problem::Problem;
+use std::path::Path;
+use std::sync::Once;
+use std::time::{Duration, Instant};
+
+/// `--time-limit`, `--max-terms` and `--max-memory`; `DEFAULT_MS` is the command's default
+/// time limit.
+#[derive(Args, Debug, Clone)]
+pub struct LimitArgs<const DEFAULT_MS: u64 = 60_000> {
+    /// Give up (undecided: too slow, exit 3) after this many milliseconds of algebra
+    /// [default: 20000 for zero, simplify and diff, 60000 for the other commands].
+    // No clap default: a derived default is cached once for every `DEFAULT_MS`.
+    #[arg(long, value_name = "MS")]
+    time_limit: Option<u64>,
+    /// Give up (undecided: too large, exit 3) when an intermediate result has more terms.
+    #[arg(long, default_value_t = 200_000, value_name = "N")]
+    max_terms: usize,
+    /// Give up (undecided: too large, exit 3) when the process uses more memory than this,
+    /// in MiB [default: half the physical memory, at most 4096].
+    #[arg(long, value_name = "MB", value_parser = clap::value_parser!(u64).range(1..))]
+    max_memory: Option<u64>,
+}
+
+impl<const DEFAULT_MS: u64> LimitArgs<DEFAULT_MS> {
+    /// The limits, with the deadline counted from now; also sets the memory cap and starts
+    /// the watchdog.
+    pub fn start(&self) -> Limits {
+        let cap = self
+            .max_memory
+            .map_or_else(lingrav::budget::default_cap, |mb| {
+                usize::try_from(mb.saturating_mul(1 << 20)).unwrap_or(usize::MAX)
+            });
+        lingrav::budget::set_cap(cap);
+        start_watchdog();
+        let ms = self.time_limit();
+        Limits {
+            max_terms: self.max_terms,
+            deadline: Some((Instant::now() + Duration::from_millis(ms), ms)),
+        }
+    }
+
+    /// A store with the limits in force.
+    pub fn store(&self) -> Store {
+        let mut s = Store::new();
+        s.limits = self.start();
+        s
+    }
+
+    /// Reads and builds a problem file under the limits: a limit reached while building is
+    /// "undecided", not bad input.
+    pub fn load(&self, path: &Path) -> Result<Problem, Failure> {
+        let limits = self.start();
+        load_with(path, limits)
+    }
+
+    /// The time limit in milliseconds.
+    pub fn time_limit(&self) -> u64 {
+        self.time_limit.unwrap_or(DEFAULT_MS)
+    }
+}
+
+/// Reads and builds a problem file under `limits` (for a second file under the same clock).
+pub fn load_with(path: &Path, limits: Limits) -> Result<Problem, Failure> {
+    lingrav::problem::read_with(path, limits).map_err(|e| match e.limit.clone() {
+        Some(l) => gave_up(&l),
+        None => Failure::Input(miette::Report::new(e)),
+    })
+}
+
+/// The limit in force when the deadline has passed, for results that carry no `CanonError`.
+pub fn timeout_if_past(limits: &Limits) -> Option<CanonError> {
+    match limits.deadline {
+        Some((t, ms)) if Instant::now() >= t => Some(CanonError::Timeout(ms)),
+        _ => None,
+    }
+}
+
+/// Ends the process from the main thread: `message` on standard output, the temporaries
+/// removed, exit 3. For work that cannot return early (grid sampling); the caller must not
+/// have printed a partial report.
+pub fn stop_now(message: &str) -> ! {
+    use std::io::Write as _;
+    lingrav::output::remove_temporaries();
+    let mut out = std::io::stdout().lock();
+    let _ = writeln!(out, "{message}");
+    let _ = out.flush();
+    std::process::exit(3);
+}
+
+/// How often the watchdog looks at the memory flag.
+const POLL: Duration = Duration::from_millis(20);
+/// How long the flag may stay up before the watchdog ends the process.
+const GRACE: Duration = Duration::from_secs(1);
+
+fn start_watchdog() {
+    static ONCE: Once = Once::new();
+    ONCE.call_once(|| {
+        let spawned = std::thread::Builder::new()
+            .name("memory watchdog".into())
+            .stack_size(64 * 1024)
+            .spawn(|| {
+                let mut since: Option<Instant> = None;
+                loop {
+                    std::thread::sleep(POLL);
+                    if !lingrav::budget::over_budget() {
+                        since = None;
+                        continue;
+                    }
+                    let cap = lingrav::budget::cap();
+                    let first = *since.get_or_insert_with(Instant::now);
+                    let hard = lingrav::budget::in_use() > cap.saturating_add(cap / 2);
+                    if hard || first.elapsed() >= GRACE {
+                        stop_over_budget(cap);
+                    }
+                }
+            });
+        // Without the thread the cap is only polled; nothing else changes.
+        drop(spawned);
+    });
+}
+
+/// Ends the process as "undecided: too large" without allocating, locking or unwinding.
+fn stop_over_budget(cap: usize) -> ! {
+    let mut msg = [0u8; 160];
+    let mut n = 0;
+    let mut push = |bytes: &[u8]| {
+        for &b in bytes {
+            if n < msg.len() {
+                msg[n] = b;
+                n += 1;
+            }
+        }
+    };
+    push(b"undecided: too large: memory use passed the cap of ");
+    let mut digits = [0u8; 20];
+    let mut d = 0;
+    let mut mb = cap >> 20;
+    loop {
+        digits[d] = b'0' + (mb % 10) as u8;
+        d += 1;
+        mb /= 10;
+        if mb == 0 {
+            break;
+        }
+    }
+    digits[..d].reverse();
+    push(&digits[..d]);
+    push(b" MiB (--max-memory raises it)\n");
+    lingrav::output::remove_temporaries();
+    #[cfg(unix)]
+    // SAFETY: write and _exit only; the buffer is valid for `n` bytes.
+    unsafe {
+        libc::write(1, msg.as_ptr().cast(), n);
+        libc::_exit(3);
+    }
+    #[cfg(not(unix))]
+    {
+        use std::io::Write as _;
+        let _ = std::io::stdout().write_all(&msg[..n]);
+        std::process::exit(3);
+    }
+}
