@@ -121,6 +121,9 @@ pub enum CanonError {
     /// A power that is not defined, such as 0^(-1).
     #[error("{0}")]
     Undefined(String),
+    /// The process passed its memory cap (in MiB; see [`crate::budget`]).
+    #[error("too large: memory use passed the cap of {0} MiB")]
+    MemoryCap(u64),
     /// An exact coefficient would grow past the size cap (in bits).
     #[error("too large: an exact number would have over {0} bits")]
     NumberTooLarge(u64),
@@ -132,7 +135,10 @@ impl CanonError {
     pub fn is_limit(&self) -> bool {
         matches!(
             self,
-            CanonError::TooLarge(_) | CanonError::Timeout(_) | CanonError::NumberTooLarge(_)
+            CanonError::TooLarge(_)
+                | CanonError::Timeout(_)
+                | CanonError::NumberTooLarge(_)
+                | CanonError::MemoryCap(_)
         )
     }
 }
@@ -388,7 +394,7 @@ impl Store {
         // The process-wide memory budget (counted by the binary's allocator): past it, stop
         // as "too large" like any other size limit.
         if crate::budget::over_budget() {
-            return Err(CanonError::TooLarge(self.limits.max_terms));
+            return Err(CanonError::MemoryCap((crate::budget::cap() >> 20) as u64));
         }
         if let Some((t, ms)) = self.limits.deadline {
             if Instant::now() > t {

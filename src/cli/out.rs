@@ -50,6 +50,7 @@ pub fn gave_up(e: &CanonError) -> Failure {
         CanonError::TooLarge(_) => Failure::GaveUp(format!("{e} (--max-terms raises the limit)")),
         CanonError::Timeout(_) => Failure::GaveUp(format!("{e} (--time-limit raises it)")),
         CanonError::NumberTooLarge(_) => Failure::GaveUp(e.to_string()),
+        CanonError::MemoryCap(_) => Failure::GaveUp(format!("{e} (--max-memory raises it)")),
         CanonError::DivisionByZero | CanonError::Undefined(_) => {
             Failure::Input(miette::miette!("{e}"))
         }
@@ -67,6 +68,9 @@ pub fn limit_in(message: &str) -> Option<CanonError> {
     };
     if let Some(ms) = number_after("too slow: stopped after the time limit of ") {
         return Some(CanonError::Timeout(ms));
+    }
+    if let Some(mib) = number_after("too large: memory use passed the cap of ") {
+        return Some(CanonError::MemoryCap(mib));
     }
     if let Some(bits) = number_after("too large: an exact number would have over ") {
         return Some(CanonError::NumberTooLarge(bits));
