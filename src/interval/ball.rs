@@ -834,23 +834,42 @@ impl Ball {
         Ball::one().with_prec(self.prec).div(self)
     }
 
-    /// Integer power by repeated squaring; `self^0` is exactly 1. Negative powers are
-    /// reciprocals (`None` if the ball may contain 0); `None` beyond the exponent cap.
-    /// Each step is a [`Ball::mul`], so the error analysis is that of `mul`.
+    /// Integer power; `self^0` is exactly 1. Negative powers are reciprocals (`None` if the
+    /// ball may contain 0); `None` beyond the exponent cap.
+    ///
+    /// Error analysis: `x^k` is increasing for odd `k`, and for even `k` increasing in `|x|`,
+    /// so the result is the hull of the powers of the outward-rounded ends (for even `k` and
+    /// ends of both signs, `[0, max(|lo|, |hi|)^k]`). Each end's power is computed by repeated
+    /// squaring of an exact point with [`Ball::mul`] at `prec + 32 + log2 k` bits, so the
+    /// relative error growth of about `k 2^-wp` stays below the result precision.
     pub fn powi(&self, n: i64) -> Option<Ball> {
-        let mut k = n.unsigned_abs();
-        let mut acc = Ball::one().with_prec(self.prec);
-        let mut base = if n % 2 == 0 { self.abs() } else { self.clone() };
-        while k > 0 {
-            if k & 1 == 1 {
-                acc = acc.mul(&base)?;
-            }
-            k >>= 1;
-            if k > 0 {
-                base = base.mul(&base)?;
-            }
+        let k = n.unsigned_abs();
+        if k == 0 {
+            return Some(Ball::one().with_prec(self.prec));
         }
-        if n < 0 { acc.recip() } else { Some(acc) }
+        let wp = self.prec + GUARD + (64 - k.leading_zeros());
+        let pow = |v: (BigInt, i64), upper: bool| -> Option<(BigInt, i64)> {
+            Some(pow_point(&Ball::exact(v.0, v.1, wp + 8)?, k)?.bound(upper, wp))
+        };
+        let (lo, hi) = (self.bound(false, wp), self.bound(true, wp));
+        let positive = if k % 2 == 1 || !lo.0.is_negative() {
+            Ball::from_bounds(pow(lo, false)?, pow(hi, true)?, self.prec)?
+        } else if !hi.0.is_positive() {
+            let neg = |v: (BigInt, i64)| (-v.0, v.1);
+            Ball::from_bounds(pow(neg(hi), false)?, pow(neg(lo), true)?, self.prec)?
+        } else {
+            let far = if dy_cmp((&-&lo.0, lo.1), (&hi.0, hi.1)) == Ordering::Greater {
+                (-lo.0, lo.1)
+            } else {
+                hi
+            };
+            Ball::from_bounds((BigInt::zero(), 0), pow(far, true)?, self.prec)?
+        };
+        if n < 0 {
+            positive.recip()
+        } else {
+            Some(positive)
+        }
     }
 
     /// Square root; `None` if the ball reaches below 0 (the square root of a ball with lower
@@ -1246,6 +1265,26 @@ fn taylor_cut(x: Mag, b0: Mag, m0: u64, step: u64, target: Mag) -> Option<(u64, 
         m += step;
     }
     None
+}
+
+/// `x^k` for `k >= 1` by repeated squaring with [`Ball::mul`].
+fn pow_point(x: &Ball, k: u64) -> Option<Ball> {
+    let mut k = k;
+    let mut acc: Option<Ball> = None;
+    let mut base = x.clone();
+    loop {
+        if k & 1 == 1 {
+            acc = Some(match acc {
+                None => base.clone(),
+                Some(a) => a.mul(&base)?,
+            });
+        }
+        k >>= 1;
+        if k == 0 {
+            return acc;
+        }
+        base = base.mul(&base)?;
+    }
 }
 
 /// `n` as a ball at precision `wp`.
