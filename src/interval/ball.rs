@@ -577,6 +577,17 @@ impl Ball {
             .expect("rounding a valid ball stays within the exponent cap")
     }
 
+    /// The exact midpoint as `(man, exp)`, meaning `man * 2^exp` (for exports and outside
+    /// checks that need the value itself, not an f64 rounding of it).
+    pub fn mid_dyadic(&self) -> (BigInt, i64) {
+        (self.man.clone(), self.exp)
+    }
+
+    /// The exact radius as `(m, e)`, meaning `m * 2^e` with `m < 2^31`.
+    pub fn rad_dyadic(&self) -> (u64, i64) {
+        (self.rad.m, self.rad.e)
+    }
+
     /// Whether the radius is 0 (the ball is one exactly known number).
     pub fn is_exact(&self) -> bool {
         self.rad.is_zero()
@@ -1008,9 +1019,11 @@ impl Ball {
         })
     }
 
-    /// Tangent `sin / cos`; `None` where the cosine's ball may contain 0.
+    /// Tangent `sin / cos` (evaluated with 8 extra bits, then rounded); `None` where the
+    /// cosine's ball may contain 0.
     pub fn tan(&self) -> Option<Ball> {
-        self.sin().div(&self.cos())
+        let x = self.with_prec(self.prec + 8);
+        Some(x.sin().div(&x.cos())?.with_prec(self.prec))
     }
 
     /// Extra bits that make up for cancellation in `e^x - e^-x` or `e^2x - 1` near 0: about
@@ -1019,6 +1032,9 @@ impl Ball {
         let t = self.mag().top();
         (-t).clamp(0, MAX_PREC as i64) as u32 + 8
     }
+
+    /// The derived functions below are evaluated with 8 extra bits (more for small
+    /// arguments) and rounded once at the end, so their widths stay near `2^-prec`.
 
     /// Hyperbolic sine `(e^x - e^-x) / 2`, at extra precision for small `|x|` so that the
     /// cancellation does not cost relative accuracy; `None` where exp fails.
@@ -1031,8 +1047,8 @@ impl Ball {
 
     /// Hyperbolic cosine `(e^x + e^-x) / 2`; `None` where exp fails.
     pub fn cosh(&self) -> Option<Ball> {
-        let e = self.exp()?;
-        e.add(&e.recip()?)?.mul_2exp(-1)
+        let e = self.with_prec(self.prec + 8).exp()?;
+        Some(e.add(&e.recip()?)?.mul_2exp(-1)?.with_prec(self.prec))
     }
 
     /// Hyperbolic tangent `(e^2x - 1) / (e^2x + 1)`, at extra precision for small `|x|`;
