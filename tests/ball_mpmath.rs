@@ -129,7 +129,7 @@ fn arguments(rng: &mut SplitMix64, f: &str) -> Vec<Ball> {
             }
             ("atan", _) => number_in(rng, -3, 4, neg),
             // sqrt: magnitudes 2^-1000..2^1000 and near 1.
-            ("sqrt", 0 | 1 | 2) => number_in(rng, -1000, 1000, false),
+            ("sqrt", 0..=2) => number_in(rng, -1000, 1000, false),
             ("sqrt", _) => number_in(rng, 0, 2, false),
             // sinh, cosh, tanh: small (cancellation in sinh, tanh), moderate, large.
             (_, 0 | 1) => number_in(rng, -199, 0, neg),

@@ -644,7 +644,9 @@ impl Ball {
     }
 
     /// Width relative to the midpoint, `2 rad / |mid|`, rounded up; 0 for an exact ball and
-    /// infinite when the midpoint is 0 and the radius is not (or beyond the f64 range).
+    /// infinite when the midpoint is 0 and the radius is not (or beyond the f64 range). Never
+    /// below `2^-1074` for an inexact ball (the smallest f64): above about 1000 bits use
+    /// [`Ball::accuracy_bits`].
     pub fn rel_width(&self) -> f64 {
         if self.rad.is_zero() {
             return 0.0;
@@ -654,6 +656,21 @@ impl Ball {
         }
         let mid = Mag::from_biguint(self.man.magnitude(), self.exp, false);
         self.rad.mul_2exp(1).div(mid).to_f64_up()
+    }
+
+    /// Relative accuracy in bits: an integer `a` with `rad <= 2^-a |mid|` (from the leading
+    /// bits, so within 2 of the best such integer). `i64::MAX` for an exact ball, `i64::MIN`
+    /// when the midpoint is 0 and the radius is not. Unlike [`Ball::rel_width`] it does not
+    /// saturate, so precision escalation can compare it with any `prec`.
+    pub fn accuracy_bits(&self) -> i64 {
+        if self.rad.is_zero() {
+            return i64::MAX;
+        }
+        if self.man.is_zero() {
+            return i64::MIN;
+        }
+        // |mid| >= 2^(top - 1) and rad < 2^rad.top.
+        top(&self.man, self.exp) - 1 - self.rad.top()
     }
 
     /// Upper bound on `|mid|`.
@@ -840,6 +857,26 @@ impl Ball {
         Ball::make(q, qexp, rad, prec)
     }
 
+    /// Quotient by a positive machine integer `d` (cheap: one pass over the mantissa).
+    ///
+    /// Error analysis: the midpoint is `trunc(man * 2^k / d) 2^(exp-k)` with `k` giving at
+    /// least `prec` bits, off by less than one unit `2^(exp-k)`; the radius becomes `rad / d`
+    /// rounded up, plus that unit. Dividing by `d >= 1` cannot pass the exponent cap.
+    fn div_int(&self, d: u64) -> Ball {
+        debug_assert!(d >= 1);
+        if self.man.is_zero() {
+            return Ball {
+                rad: self.rad.div_int(d),
+                ..self.clone()
+            };
+        }
+        let k = 64 + (self.prec as i64 - self.man.bits() as i64).max(0);
+        let q = (&self.man << (k as u64)) / d; // truncates toward zero
+        let exp = self.exp - k;
+        let rad = self.rad.div_int(d).add(Mag::pow2(exp));
+        Ball::make(q, exp, rad, self.prec).expect("a quotient by d >= 1 stays within the cap")
+    }
+
     /// `1 / self`; `None` if the ball may contain 0.
     pub fn recip(&self) -> Option<Ball> {
         Ball::one().with_prec(self.prec).div(self)
@@ -892,6 +929,14 @@ impl Ball {
     /// scaled end is a perfect square.
     pub fn sqrt(&self) -> Option<Ball> {
         let wp = self.prec + GUARD;
+        if self.rad.is_zero() {
+            if self.man.is_negative() {
+                return None;
+            }
+            let (f, e, exact) = sqrt_floor(&(self.man.clone(), self.exp), wp);
+            let hi = if exact { f.clone() } else { &f + 1u8 };
+            return Ball::from_bounds((f, e), (hi, e), self.prec);
+        }
         let lo = self.bound(false, wp);
         if lo.0.is_negative() {
             return None;
@@ -953,10 +998,12 @@ impl Ball {
     /// Natural logarithm; `None` unless the ball is strictly positive.
     ///
     /// Error analysis (per end point, see [`ln_point`]): `x = 2^e y` with `y` in about
-    /// `[0.7, 1.42]` (exact scaling), `ln y = 2 atanh(z)` with `z = (y-1)/(y+1)` in ball
-    /// arithmetic (`|z| <= 0.18`; `y - 1` is exact, so arguments near 1 keep their relative
+    /// `[0.7, 1.42]` (exact scaling); `s` square roots in ball arithmetic bring `y` within
+    /// about `2^-sqrt(prec)/8` of 1 (`ln y = 2^s ln y^(1/2^s)`, fewer roots when `y` is
+    /// already near 1, extra bits for the roots' absolute error); then `ln y_s = 2 atanh(z)`
+    /// with `z = (y_s-1)/(y_s+1)` (`y - 1` is exact, so arguments near 1 keep their relative
     /// accuracy), the series of atanh in `z^2` summed by Horner's rule with the tail bound
-    /// `2 |z|^(2N+1)` (geometric with ratio `z^2 <= 1/2`), plus `e ln2`.
+    /// `2 |z|^(2N+1)` (geometric with ratio `z^2 <= 1/2`), times `2^s`, plus `e ln2`.
     pub fn ln(&self) -> Option<Ball> {
         let (lm, _) = self.bound(false, self.prec + GUARD);
         if !lm.is_positive() {
@@ -1033,8 +1080,8 @@ impl Ball {
         (-t).clamp(0, MAX_PREC as i64) as u32 + 8
     }
 
-    /// The derived functions below are evaluated with 8 extra bits (more for small
-    /// arguments) and rounded once at the end, so their widths stay near `2^-prec`.
+    // The derived functions below are evaluated with 8 extra bits (more for small
+    // arguments) and rounded once at the end, so their widths stay near `2^-prec`.
 
     /// Hyperbolic sine `(e^x - e^-x) / 2`, at extra precision for small `|x|` so that the
     /// cancellation does not cost relative accuracy; `None` where exp fails.
@@ -1245,9 +1292,16 @@ fn ln2_fixed(prec: u32) -> Ball {
 /// bits: `v` is scaled by an even power of two to at least `2 wp` bits, so the integer square
 /// root is exact up to its last unit.
 fn sqrt_dyadic(v: &(BigInt, i64), wp: u32, up: bool) -> (BigInt, i64) {
+    let (r, e, exact) = sqrt_floor(v, wp);
+    (if up && !exact { r + 1 } else { r }, e)
+}
+
+/// `floor(sqrt(v))` for the dyadic `v >= 0` as `(r, e)` meaning `r 2^e`, with at least `wp`
+/// bits, and whether it is exact.
+fn sqrt_floor(v: &(BigInt, i64), wp: u32) -> (BigInt, i64, bool) {
     let (m, e) = v;
     if m.is_zero() {
-        return (BigInt::zero(), 0);
+        return (BigInt::zero(), 0, true);
     }
     let mut s = (2 * wp as i64 - m.bits() as i64).max(0);
     if (e - s).rem_euclid(2) != 0 {
@@ -1256,9 +1310,7 @@ fn sqrt_dyadic(v: &(BigInt, i64), wp: u32, up: bool) -> (BigInt, i64) {
     let scaled = m.magnitude() << (s as u64);
     let r = scaled.sqrt();
     let exact = &r * &r == scaled;
-    let r = BigInt::from(r);
-    let r = if up && !exact { r + 1 } else { r };
-    (r, (e - s) / 2)
+    (BigInt::from(r), (e - s) / 2, exact)
 }
 
 /// The number of series terms and the tail bound: starting from the bound `b0` on the term
@@ -1303,11 +1355,6 @@ fn pow_point(x: &Ball, k: u64) -> Option<Ball> {
     }
 }
 
-/// `n` as a ball at precision `wp`.
-fn int_at(n: i64, wp: u32) -> Ball {
-    Ball::from_int(n).with_prec(wp)
-}
-
 /// exp of a ball with `|x| < 2^36`; `None` otherwise. See [`Ball::exp`] for the analysis.
 fn exp_point(x: &Ball, wp: u32) -> Option<Ball> {
     if x.mag().top() > EXP_ARG_BITS {
@@ -1339,7 +1386,7 @@ fn exp_point(x: &Ball, wp: u32) -> Option<Ball> {
     let one = Ball::one().with_prec(wq);
     let mut s = one.clone();
     for j in (1..big_n).rev() {
-        s = one.add(&y.mul(&s)?.div(&int_at(j as i64, wq))?)?;
+        s = one.add(&y.mul(&s)?.div_int(j))?;
     }
     let mut s = s.add_error(tail)?;
     for _ in 0..k {
@@ -1359,9 +1406,19 @@ fn ln_point(x: &Ball, wp: u32) -> Option<Ball> {
         e += 1;
         y = y.mul_2exp(-1)?;
     }
-    let wq = wp + 16;
+    // Square roots bring y to within about 2^-kmax of 1 (ln y = 2^s ln y^(1/2^s)), so the
+    // series is short. Each root has an absolute error near 2^-wq, which is relative to
+    // y_s - 1 ~ 2^-kmax, hence kmax extra bits; y already near 1 takes fewer roots, so its
+    // relative accuracy near 1 is kept.
+    let kmax = (wp as f64).sqrt() as i64 / 8;
+    let wq = wp + kmax as u32 + 16;
     let one = Ball::one().with_prec(wq);
-    let y = y.with_prec(wq);
+    let mut y = y.with_prec(wq);
+    let near = y.sub(&one)?.mag().top();
+    let roots = (kmax + near).max(0);
+    for _ in 0..roots {
+        y = y.sqrt()?;
+    }
     let z = y.sub(&one)?.div(&y.add(&one)?)?;
     let z2 = z.mul(&z)?;
     let z2m = z2.mag();
@@ -1373,12 +1430,12 @@ fn ln_point(x: &Ball, wp: u32) -> Option<Ball> {
     // times |z|.
     let (big_n, tail) = geometric_cut(z2m, Mag::pow2(-(wq as i64) - 4))?;
     // Horner in z2: s = 1/1 + z2 (1/3 + z2 (1/5 + ...)).
-    let mut s = int_at(1, wq).div(&int_at(2 * big_n as i64 - 1, wq))?;
+    let mut s = one.div_int(2 * big_n - 1);
     for j in (0..big_n - 1).rev() {
-        s = one.div(&int_at(2 * j as i64 + 1, wq))?.add(&z2.mul(&s)?)?;
+        s = one.div_int(2 * j + 1).add(&z2.mul(&s)?)?;
     }
     let s = s.add_error(tail)?;
-    let ln_y = z.mul(&s)?.mul_2exp(1)?;
+    let ln_y = z.mul(&s)?.mul_2exp(1 + roots)?;
     if e == 0 {
         Some(ln_y)
     } else {
@@ -1424,8 +1481,7 @@ fn sin_cos_point(x: &Ball, wp: u32, cos: bool) -> Option<Ball> {
         let n = m / 2;
         let mut c = one.clone();
         for j in (1..n).rev() {
-            let d = int_at(((2 * j - 1) * (2 * j)) as i64, wq);
-            c = one.sub(&t2.mul(&c)?.div(&d)?)?;
+            c = one.sub(&t2.mul(&c)?.div_int((2 * j - 1) * (2 * j)))?;
         }
         c.add_error(tail)?
     } else {
@@ -1440,8 +1496,7 @@ fn sin_cos_point(x: &Ball, wp: u32, cos: bool) -> Option<Ball> {
         let n = (m - 1) / 2;
         let mut s = one.clone();
         for j in (1..n).rev() {
-            let d = int_at(((2 * j) * (2 * j + 1)) as i64, wq);
-            s = one.sub(&t2.mul(&s)?.div(&d)?)?;
+            s = one.sub(&t2.mul(&s)?.div_int((2 * j) * (2 * j + 1)))?;
         }
         t.mul(&s)?.add_error(tail)?
     };
@@ -1484,22 +1539,17 @@ fn reduce_half_pi(x: &Ball, wp: u32) -> Option<(u8, Ball)> {
         };
         let t = xq.sub(&half_pi.mul(&Ball::from_bigint(&k).with_prec(wq))?)?;
         let kmod = k.mod_floor(&BigInt::from(4)).to_u8().expect("0..4");
-        // Good bits of t: -log2(rel width); stop once at least wp.
-        let rel = t.rel_width();
-        let good = if rel == 0.0 {
-            f64::INFINITY
-        } else {
-            -rel.log2()
-        };
+        // Good bits of t; stop once at least wp.
+        let good = t.accuracy_bits();
         best = Some((kmod, t));
-        if good >= wp as f64 || wq >= 4 * MAX_PREC {
+        if good >= wp as i64 || wq >= 4 * MAX_PREC {
             break;
         }
         // A reduced argument that may be 0 says nothing about the loss: double the bits.
-        let lost = if good.is_finite() {
-            (wp as f64 - good) as u32
-        } else {
+        let lost = if good == i64::MIN {
             extra + wp
+        } else {
+            (wp as i64 - good).clamp(0, 4 * MAX_PREC as i64) as u32
         };
         extra = extra.saturating_add(lost + 16).min(4 * MAX_PREC);
     }
@@ -1527,7 +1577,9 @@ fn atan_point(x: &Ball, wp: u32) -> Option<Ball> {
         };
         return side.sub(&inner);
     }
-    let k = (wp as f64).sqrt() as u32 / 3 + 3;
+    // Halvings cost a square root and a division each, series terms a multiplication: a
+    // handful of halvings is the cheaper balance.
+    let k = (wp as f64).sqrt() as u32 / 8 + 3;
     let one = Ball::one().with_prec(wq);
     let mut y = x;
     for _ in 0..k {
@@ -1543,9 +1595,9 @@ fn atan_point(x: &Ball, wp: u32) -> Option<Ball> {
     // term bound relative to |y| is a relative accuracy.
     let (big_n, tail) = geometric_cut(y2m, Mag::pow2(-(wq as i64) - 4))?;
     // Horner in y2: s = 1/1 - y2 (1/3 - y2 (1/5 - ...)).
-    let mut s = one.div(&int_at(2 * big_n as i64 - 1, wq))?;
+    let mut s = one.div_int(2 * big_n - 1);
     for j in (0..big_n - 1).rev() {
-        s = one.div(&int_at(2 * j as i64 + 1, wq))?.sub(&y2.mul(&s)?)?;
+        s = one.div_int(2 * j + 1).sub(&y2.mul(&s)?)?;
     }
     let s = s.add_error(tail)?;
     y.mul(&s)?.mul_2exp(k as i64)

@@ -544,3 +544,44 @@ fn domain_errors_and_caps() {
     );
     assert!(b(1e300).atan().excludes_zero());
 }
+
+// Above about 1000 bits the f64 `rel_width` saturates at 2^-1074; `accuracy_bits` does not.
+// Regression: sin/cos argument reduction read the saturated f64 width as lost bits and retried
+// up to the precision cap (tens of times slower at 4096 bits).
+#[test]
+fn high_precision_keeps_relative_accuracy() {
+    let prec = 4096;
+    // Exact arguments: an inexact one would pass on its own width times the condition number
+    // (exp(1.8e7) of a ball of relative width 2^-4096 is only good to about 4070 bits).
+    for x in [7.0 / 3.0, -1e-3, 123_456_789.0 / 7.0] {
+        let v = b(x).with_prec(prec);
+        let started = std::time::Instant::now();
+        let results = [
+            ("exp", v.exp()),
+            ("ln", v.abs().ln()),
+            ("sin", Some(v.sin())),
+            ("cos", Some(v.cos())),
+            ("atan", Some(v.atan())),
+            ("sqrt", v.abs().sqrt()),
+            ("pi", Some(Ball::pi(prec))),
+        ];
+        for (name, y) in results {
+            let y = y.expect("in range");
+            assert_eq!(y.prec(), prec);
+            assert!(
+                y.accuracy_bits() >= prec as i64 - 6,
+                "{name}({x}): {}",
+                y.accuracy_bits()
+            );
+        }
+        // Generous: the point is the retry loop, which cost seconds here (debug builds vary).
+        assert!(started.elapsed().as_secs() < 20, "{:?}", started.elapsed());
+    }
+    let third = Ball::from_rational(&q(1, 3), 200).expect("small");
+    assert!(
+        (196..=200).contains(&third.accuracy_bits()),
+        "{}",
+        third.accuracy_bits()
+    );
+    assert_eq!(b(2.0).accuracy_bits(), i64::MAX);
+}
