@@ -573,8 +573,12 @@ impl Ball {
     /// Raising it changes nothing but later results; lowering it rounds the midpoint and adds
     /// the rounding error to the radius.
     pub fn with_prec(&self, prec: u32) -> Ball {
-        Ball::make(self.man.clone(), self.exp, self.rad, prec)
-            .expect("rounding a valid ball stays within the exponent cap")
+        // Rounding can push a radius already at the exponent cap past it; the ball is then
+        // kept unrounded (still sound: only the midpoint's length exceeds prec).
+        Ball::make(self.man.clone(), self.exp, self.rad, prec).unwrap_or_else(|| Ball {
+            prec: clamp_prec(prec),
+            ..self.clone()
+        })
     }
 
     /// The exact midpoint as `(man, exp)`, meaning `man * 2^exp` (for exports and outside
@@ -767,7 +771,13 @@ impl Ball {
             };
         }
         let (m, e) = self.mag_bound();
-        Ball::from_bounds((BigInt::zero(), 0), (m, e), self.prec).expect("within the cap")
+        // [0, mag] as mag/2 ± mag/2, or (at the exponent cap) the cruder 0 ± mag.
+        Ball::from_bounds((BigInt::zero(), 0), (m, e), self.prec).unwrap_or_else(|| Ball {
+            man: BigInt::zero(),
+            exp: 0,
+            rad: self.mag(),
+            prec: self.prec,
+        })
     }
 
     /// `mag` as an exact dyadic upper bound.
@@ -861,20 +871,20 @@ impl Ball {
     ///
     /// Error analysis: the midpoint is `trunc(man * 2^k / d) 2^(exp-k)` with `k` giving at
     /// least `prec` bits, off by less than one unit `2^(exp-k)`; the radius becomes `rad / d`
-    /// rounded up, plus that unit. Dividing by `d >= 1` cannot pass the exponent cap.
-    fn div_int(&self, d: u64) -> Ball {
+    /// rounded up, plus that unit. `None` only when the radius is at the exponent cap.
+    fn div_int(&self, d: u64) -> Option<Ball> {
         debug_assert!(d >= 1);
         if self.man.is_zero() {
-            return Ball {
+            return Some(Ball {
                 rad: self.rad.div_int(d),
                 ..self.clone()
-            };
+            });
         }
         let k = 64 + (self.prec as i64 - self.man.bits() as i64).max(0);
         let q = (&self.man << (k as u64)) / d; // truncates toward zero
         let exp = self.exp - k;
         let rad = self.rad.div_int(d).add(Mag::pow2(exp));
-        Ball::make(q, exp, rad, self.prec).expect("a quotient by d >= 1 stays within the cap")
+        Ball::make(q, exp, rad, self.prec)
     }
 
     /// `1 / self`; `None` if the ball may contain 0.
@@ -969,7 +979,7 @@ impl Ball {
     /// Exponential; `None` if the ball reaches `2^36` or more (the result would pass the
     /// exponent cap). Below `-2^36` the lower bound is 0 and the upper bound `2^(-2^36)`.
     ///
-    /// Error analysis (per end point `x`, see [`exp_point`]): `x = n ln2 + r` with `ln2` an
+    /// Error analysis (per end point `x`, see `exp_point`): `x = n ln2 + r` with `ln2` an
     /// enclosure at enough bits that `n ln2` is accurate to the working precision; `r` is
     /// scaled by `2^-k`, the Taylor series is summed by Horner's rule in ball arithmetic with
     /// the tail bound `2 |y|^N / N!` (valid for `|y| <= 1/2`, where successive terms shrink
@@ -997,7 +1007,7 @@ impl Ball {
 
     /// Natural logarithm; `None` unless the ball is strictly positive.
     ///
-    /// Error analysis (per end point, see [`ln_point`]): `x = 2^e y` with `y` in about
+    /// Error analysis (per end point, see `ln_point`): `x = 2^e y` with `y` in about
     /// `[0.7, 1.42]` (exact scaling); `s` square roots in ball arithmetic bring `y` within
     /// about `2^-sqrt(prec)/8` of 1 (`ln y = 2^s ln y^(1/2^s)`, fewer roots when `y` is
     /// already near 1, extra bits for the roots' absolute error); then `ln y_s = 2 atanh(z)`
@@ -1015,7 +1025,7 @@ impl Ball {
     /// Sine; always defined (at worst `[-1, 1]`).
     ///
     /// Error analysis: `sin(m) ± rad` is sound because `|sin'| <= 1`. `sin(m)` (see
-    /// [`sin_cos_point`]) reduces `m` by the nearest multiple `k` of pi/2 with pi enclosed at
+    /// `sin_cos_point`) reduces `m` by the nearest multiple `k` of pi/2 with pi enclosed at
     /// the working precision plus the bits of `m`'s integer part plus 32 (more when the
     /// reduced argument has lost bits to cancellation), then sums the Taylor series of sin or
     /// cos by Horner's rule with the tail bound `2 |t|^M / M!`, where `M` is the first omitted
@@ -1050,7 +1060,7 @@ impl Ball {
 
     /// Arctangent; always defined (at worst `[-pi/2, pi/2]`).
     ///
-    /// Error analysis (per end point, see [`atan_point`]): for `|x| > 1`, `atan x = ±pi/2 -
+    /// Error analysis (per end point, see `atan_point`): for `|x| > 1`, `atan x = ±pi/2 -
     /// atan(1/x)`; then `k` halvings `y -> y / (1 + sqrt(1 + y^2))` (each `atan y = 2 atan y'`)
     /// in ball arithmetic, the alternating series summed by Horner's rule with the tail bound
     /// `2 |y|^(2N+1) / (2N+1)` (geometric, ratio `y^2 <= 1/4`), times `2^k`.
@@ -1355,9 +1365,11 @@ fn pow_point(x: &Ball, k: u64) -> Option<Ball> {
     }
 }
 
-/// exp of a ball with `|x| < 2^36`; `None` otherwise. See [`Ball::exp`] for the analysis.
+/// exp of a ball with `|x| < 2^37`; `None` otherwise (the exact cap of 2^36 is applied by
+/// [`Ball::exp`]; the magnitude here is rounded up to 30 bits, hence the extra bit). See
+/// [`Ball::exp`] for the analysis.
 fn exp_point(x: &Ball, wp: u32) -> Option<Ball> {
-    if x.mag().top() > EXP_ARG_BITS {
+    if x.mag().top() > EXP_ARG_BITS + 1 {
         return None;
     }
     if x.man.is_zero() && x.rad.is_zero() {
@@ -1372,7 +1384,7 @@ fn exp_point(x: &Ball, wp: u32) -> Option<Ball> {
     let r = if n == 0 {
         x
     } else {
-        // n has at most 37 bits; ln2 at wq + 48 bits keeps n ln2 accurate to wq bits.
+        // n has at most 38 bits; ln2 at wq + 48 bits keeps n ln2 accurate to wq bits.
         x.sub(&Ball::ln2(wq + 48).mul(&Ball::from_int(n))?)?
     };
     let y = r.mul_2exp(-(k as i64))?.with_prec(wq);
@@ -1386,7 +1398,7 @@ fn exp_point(x: &Ball, wp: u32) -> Option<Ball> {
     let one = Ball::one().with_prec(wq);
     let mut s = one.clone();
     for j in (1..big_n).rev() {
-        s = one.add(&y.mul(&s)?.div_int(j))?;
+        s = one.add(&y.mul(&s)?.div_int(j)?)?;
     }
     let mut s = s.add_error(tail)?;
     for _ in 0..k {
@@ -1430,9 +1442,9 @@ fn ln_point(x: &Ball, wp: u32) -> Option<Ball> {
     // times |z|.
     let (big_n, tail) = geometric_cut(z2m, Mag::pow2(-(wq as i64) - 4))?;
     // Horner in z2: s = 1/1 + z2 (1/3 + z2 (1/5 + ...)).
-    let mut s = one.div_int(2 * big_n - 1);
+    let mut s = one.div_int(2 * big_n - 1)?;
     for j in (0..big_n - 1).rev() {
-        s = one.div_int(2 * j + 1).add(&z2.mul(&s)?)?;
+        s = one.div_int(2 * j + 1)?.add(&z2.mul(&s)?)?;
     }
     let s = s.add_error(tail)?;
     let ln_y = z.mul(&s)?.mul_2exp(1 + roots)?;
@@ -1481,7 +1493,7 @@ fn sin_cos_point(x: &Ball, wp: u32, cos: bool) -> Option<Ball> {
         let n = m / 2;
         let mut c = one.clone();
         for j in (1..n).rev() {
-            c = one.sub(&t2.mul(&c)?.div_int((2 * j - 1) * (2 * j)))?;
+            c = one.sub(&t2.mul(&c)?.div_int((2 * j - 1) * (2 * j))?)?;
         }
         c.add_error(tail)?
     } else {
@@ -1496,7 +1508,7 @@ fn sin_cos_point(x: &Ball, wp: u32, cos: bool) -> Option<Ball> {
         let n = (m - 1) / 2;
         let mut s = one.clone();
         for j in (1..n).rev() {
-            s = one.sub(&t2.mul(&s)?.div_int((2 * j) * (2 * j + 1)))?;
+            s = one.sub(&t2.mul(&s)?.div_int((2 * j) * (2 * j + 1))?)?;
         }
         t.mul(&s)?.add_error(tail)?
     };
@@ -1595,9 +1607,9 @@ fn atan_point(x: &Ball, wp: u32) -> Option<Ball> {
     // term bound relative to |y| is a relative accuracy.
     let (big_n, tail) = geometric_cut(y2m, Mag::pow2(-(wq as i64) - 4))?;
     // Horner in y2: s = 1/1 - y2 (1/3 - y2 (1/5 - ...)).
-    let mut s = one.div_int(2 * big_n - 1);
+    let mut s = one.div_int(2 * big_n - 1)?;
     for j in (0..big_n - 1).rev() {
-        s = one.div_int(2 * j + 1).sub(&y2.mul(&s)?)?;
+        s = one.div_int(2 * j + 1)?.sub(&y2.mul(&s)?)?;
     }
     let s = s.add_error(tail)?;
     y.mul(&s)?.mul_2exp(k as i64)

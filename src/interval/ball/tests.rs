@@ -526,6 +526,12 @@ fn domain_errors_and_caps() {
     assert_eq!(b(1e12).exp(), None);
     let tiny = b(-1e12).exp().expect("bounded below by 0");
     assert!(tiny.contains_zero() && tiny.rad_f64() == 0.0 || tiny.rad.top() < -1000);
+    // A ball across -2^36, where exp switches to the bound [0, 2^-(2^36)] below.
+    let edge = b(-68_719_476_736.0).add_error(Mag::pow2(0)).expect("small");
+    let e = edge.exp().expect("bounded");
+    assert!(e.contains_zero() && !e.excludes_zero());
+    assert!(e.mag().top() < -(1 << 30));
+    assert_eq!(b(68_719_476_736.0).exp(), None);
     // sin of an astronomically large argument is just [-1, 1].
     let huge = Ball::one().mul_2exp(1 << 20).expect("inside");
     let s = huge.sin();
