@@ -5,9 +5,9 @@ argument as an exact dyadic [mantissa, exponent] (null for the constant pi), the
 precision, and lingrav's enclosure: midpoint [mantissa, exponent] and radius [m, e], meaning
 the ball |y - mid| <= rad. For each line this script
 
-1. recomputes the value with mpmath at REF_BITS bits of working precision (the reference; its
-   own error is taken as at most 2^-(REF_BITS - 10) relative, far below the 2^-200 widths
-   being judged) and checks, in exact integer arithmetic, that it lies in lingrav's ball;
+1. recomputes the value with mpmath at max(REF_BITS, prec + 200) bits of working precision
+   (the reference; its own error is taken as at most 2^-(bits - 10) relative, far below the
+   2^-prec widths being judged) and checks, in exact integer arithmetic, that it lies in lingrav's ball;
 2. recomputes it at 60 significant digits and checks that lingrav's midpoint agrees with it to
    D = min(60, floor(prec log10 2) - 1) digits (|mid - ref60| <= 10^(1-D) |ref60|; D = 59 at
    200 bits, so a 200-bit enclosure is compared at the full 60 digits);
@@ -103,7 +103,7 @@ def main(path):
             rad = dyadic(case["rad"])
             prec = int(case["prec"])
             # Enough bits that the argument is held exactly.
-            bits = max(REF_BITS, (abs(x[0]).bit_length() + 64) if x else 0)
+            bits = max(REF_BITS, prec + 200, (abs(x[0]).bit_length() + 64) if x else 0)
             ref = evaluate(name, x, bits)
             r = mpf_parts(ref)
             ref_err = (1, top(r) - (bits - 10)) if r[0] else (0, 0)
@@ -149,7 +149,7 @@ def main(path):
     print(f"per function: {per}")
     print(
         f"mpmath ball check: {n} enclosures, {len(failures)} failures"
-        f" (mpmath {mpmath.__version__}, reference at {REF_BITS} bits and at 60 digits;"
+        f" (mpmath {mpmath.__version__}, reference at max({REF_BITS}, prec + 200) bits and at 60 digits;"
         f" widest relative width below about {worst})"
     )
     return 1 if failures else 0
