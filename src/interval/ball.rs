@@ -45,6 +45,8 @@ use std::fmt;
 pub const MIN_PREC: u32 = 16;
 
 /// Largest working precision in bits; larger requests are lowered to it (keeps time bounded).
+/// Internal guard bits cannot go beyond it either, so functions evaluated at or near this
+/// precision come out a few bits short of `2^-prec` relative (still enclosures).
 pub const MAX_PREC: u32 = 1 << 16;
 
 /// Precision of exactly known values built without one (`from_int`, `from_f64`, `one`).
@@ -1521,7 +1523,9 @@ fn sin_cos_point(x: &Ball, wp: u32, cos: bool) -> Option<Ball> {
 /// `k` is the nearest integer to the midpoint of `x / (pi/2)`; any integer gives a correct
 /// identity, so only `t = x - k pi/2` (computed in ball arithmetic with pi enclosed) matters
 /// for soundness. When cancellation left `t` with fewer than `wp` good bits, the reduction is
-/// repeated with that many more bits of pi (up to a total cap), as the loss is known.
+/// repeated with that many more bits of pi, as the loss is known. Ball operations work at
+/// most at [`MAX_PREC`] bits, so when `prec + log2|x|` (plus the cancellation) exceeds it, the
+/// reduced argument keeps fewer bits: the result is still an enclosure, only wider.
 fn reduce_half_pi(x: &Ball, wp: u32) -> Option<(u8, Ball)> {
     let xm = x.mag();
     if xm.cmp(Mag::from_u128_down(3, -2)) == Ordering::Less {
@@ -1534,7 +1538,7 @@ fn reduce_half_pi(x: &Ball, wp: u32) -> Option<(u8, Ball)> {
     let mut extra = xt as u32 + GUARD;
     let mut best: Option<(u8, Ball)> = None;
     for _ in 0..4 {
-        let wq = (wp + extra).min(4 * MAX_PREC);
+        let wq = (wp + extra).min(MAX_PREC);
         let half_pi = Ball::pi(wq).mul_2exp(-1)?;
         let xq = x.with_prec(wq);
         let q = xq.div(&half_pi)?;
@@ -1554,16 +1558,16 @@ fn reduce_half_pi(x: &Ball, wp: u32) -> Option<(u8, Ball)> {
         // Good bits of t; stop once at least wp.
         let good = t.accuracy_bits();
         best = Some((kmod, t));
-        if good >= wp as i64 || wq >= 4 * MAX_PREC {
+        if good >= wp as i64 || wq >= MAX_PREC {
             break;
         }
         // A reduced argument that may be 0 says nothing about the loss: double the bits.
         let lost = if good == i64::MIN {
             extra + wp
         } else {
-            (wp as i64 - good).clamp(0, 4 * MAX_PREC as i64) as u32
+            (wp as i64 - good).clamp(0, MAX_PREC as i64) as u32
         };
-        extra = extra.saturating_add(lost + 16).min(4 * MAX_PREC);
+        extra = extra.saturating_add(lost + 16).min(MAX_PREC);
     }
     best
 }
