@@ -30,6 +30,10 @@
 use std::fmt;
 use std::ops::Neg;
 
+pub mod ball;
+
+pub use ball::Ball;
+
 /// Steps of `next_down`/`next_up` by which a libm result is widened on each side.
 ///
 /// Sound as long as the platform libm is accurate to within this many ulp for exp, ln,

@@ -411,3 +411,103 @@ mod tests {
         }
     }
 }
+
+/// The multiprecision ball: the context is the working precision in bits.
+impl Scalar for crate::interval::Ball {
+    type Ctx = u32;
+    fn from_f64(x: f64) -> Option<Self> {
+        crate::interval::Ball::from_f64(x)
+    }
+    fn from_rational(q: &BigRational, ctx: &u32) -> Option<Self> {
+        crate::interval::Ball::from_rational(q, *ctx)
+    }
+    fn pi(ctx: &u32) -> Option<Self> {
+        Some(crate::interval::Ball::pi(*ctx))
+    }
+    fn add(&self, rhs: &Self) -> Option<Self> {
+        crate::interval::Ball::add(self, rhs)
+    }
+    fn sub(&self, rhs: &Self) -> Option<Self> {
+        crate::interval::Ball::sub(self, rhs)
+    }
+    fn mul(&self, rhs: &Self) -> Option<Self> {
+        crate::interval::Ball::mul(self, rhs)
+    }
+    fn div(&self, rhs: &Self) -> Option<Self> {
+        crate::interval::Ball::div(self, rhs)
+    }
+    fn neg(&self) -> Self {
+        crate::interval::Ball::neg(self)
+    }
+    fn powi(&self, n: i64) -> Option<Self> {
+        crate::interval::Ball::powi(self, n)
+    }
+    fn sqrt(&self) -> Option<Self> {
+        crate::interval::Ball::sqrt(self)
+    }
+    fn exp(&self) -> Option<Self> {
+        crate::interval::Ball::exp(self)
+    }
+    fn ln(&self) -> Option<Self> {
+        crate::interval::Ball::ln(self)
+    }
+    fn sin(&self) -> Option<Self> {
+        Some(crate::interval::Ball::sin(self))
+    }
+    fn cos(&self) -> Option<Self> {
+        Some(crate::interval::Ball::cos(self))
+    }
+    fn contains_zero(&self) -> bool {
+        crate::interval::Ball::contains_zero(self)
+    }
+    fn excludes_zero(&self) -> bool {
+        crate::interval::Ball::excludes_zero(self)
+    }
+    fn mid_f64(&self) -> f64 {
+        crate::interval::Ball::mid_f64(self)
+    }
+    fn rad_f64(&self) -> f64 {
+        crate::interval::Ball::rad_f64(self)
+    }
+}
+
+#[cfg(test)]
+mod ball_tests {
+    use crate::interval::{Ball, Interval};
+    use crate::jet::{Jet, JetSpace};
+
+    /// Where f64 intervals lose everything to cancellation, balls at 256 bits still decide:
+    /// d/dx of exp(x) - exp(x)*(1 + 1e-30) is -1e-30 exp(x) (precision widening, issue 9).
+    #[test]
+    fn issue9_balls_resolve_what_f64_intervals_cannot() {
+        let space = JetSpace::new(1, 1).unwrap();
+        let x = 0.75;
+        let tiny = num_rational::BigRational::new(
+            1.into(),
+            num_traits::pow(num_bigint::BigInt::from(10), 30),
+        );
+        // f64 intervals: the difference encloses 0.
+        let xi = Jet::variable(&space, 1, 0, Interval::point(x).unwrap());
+        let e = xi.exp(&()).unwrap();
+        let c = super::rational_interval(
+            &(tiny.clone() + num_rational::BigRational::from_integer(1.into())),
+        )
+        .unwrap();
+        let d = e.sub(&e.scale(&c).unwrap()).unwrap();
+        assert!(d.partial(&[1], &()).unwrap().contains_zero());
+        // Balls at 256 bits: certified nonzero, with the right sign.
+        let prec = 256;
+        let xb = Jet::variable(&space, 1, 0, Ball::from_f64(x).unwrap().with_prec(prec));
+        let eb = xb.exp(&prec).unwrap();
+        let cb = Ball::from_rational(
+            &(tiny + num_rational::BigRational::from_integer(1.into())),
+            prec,
+        )
+        .unwrap();
+        let db = eb.sub(&eb.scale(&cb).unwrap()).unwrap();
+        let v = db.partial(&[1], &prec).unwrap();
+        assert!(v.excludes_zero() && v.mid_f64() < 0.0, "{v}");
+        let want = -1e-30 * x.exp();
+        assert!((v.mid_f64() - want).abs() < 1e-40);
+    }
+}
