@@ -79,6 +79,20 @@ fn issue_9_invalid_utf8_is_located_by_byte_and_line() {
             "save the file as UTF-8",
         ],
     );
+    // A points file for export too.
+    std::fs::write(dir.path().join("p.csv"), b"t,x,y,z\n0,1,2,\xff\n").unwrap();
+    let wave = worked("oblique_wave.toml");
+    assert_bad_input_in(
+        dir.path(),
+        &[
+            "export", &wave, "-q", "h", "--at", "p.csv", "--out", "o.csv",
+        ],
+        &[
+            "is not valid UTF-8: byte 14 (line 2, column 7) is 0xff",
+            "p.csv:2:7]",
+        ],
+    );
+    assert!(!dir.path().join("o.csv").exists());
 }
 
 #[test]
