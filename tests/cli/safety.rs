@@ -476,3 +476,40 @@ fn issue_9_grid_sampling_stops_at_the_time_limit_and_removes_the_plot_temporary(
         files_in(dir.path())
     );
 }
+
+#[cfg(unix)]
+#[test]
+fn issue_9_an_interrupted_grid_leaves_no_plot_and_no_temporary() {
+    use std::os::unix::process::ExitStatusExt as _;
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let mut child = command(
+        d,
+        &[
+            "grid",
+            &worked("vibrating_rod.toml"),
+            "--points",
+            "16,32,64",
+            "--plot",
+            "p.svg",
+        ],
+    )
+    .stdout(std::process::Stdio::null())
+    .stderr(std::process::Stdio::piped())
+    .spawn()
+    .unwrap();
+    let deadline = Instant::now() + Duration::from_secs(60);
+    while !files_in(d).iter().any(|n| n.ends_with(".tmp")) {
+        assert!(Instant::now() < deadline, "no temporary appeared");
+        assert!(child.try_wait().unwrap().is_none(), "the grid ended early");
+        std::thread::sleep(Duration::from_millis(20));
+    }
+    std::thread::sleep(Duration::from_millis(300));
+    let pid = libc::pid_t::try_from(child.id()).unwrap();
+    // SAFETY: kill has no memory-safety preconditions; `pid` is our own child.
+    assert_eq!(unsafe { libc::kill(pid, libc::SIGINT) }, 0);
+    let out = child.wait_with_output().unwrap();
+    let code = out.status.code().or(out.status.signal().map(|s| 128 + s));
+    assert_eq!(code, Some(130), "{}", String::from_utf8_lossy(&out.stderr));
+    assert!(files_in(d).is_empty(), "{:?}", files_in(d));
+}
