@@ -15,26 +15,83 @@
 
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 
-/// Bytes currently allocated through the counting allocator.
-static LIVE: AtomicUsize = AtomicUsize::new(0);
-/// The largest value of [`LIVE`] seen so far.
-static PEAK: AtomicUsize = AtomicUsize::new(0);
-/// The cap in bytes; `usize::MAX` means none.
-static CAP: AtomicUsize = AtomicUsize::new(usize::MAX);
-/// Set once [`LIVE`] passed [`CAP`]; cleared by [`set_cap`] and [`reset`].
-static OVER: AtomicBool = AtomicBool::new(false);
+/// A byte counter with a cap and a flag. The process has one, [`GLOBAL`]; the functions of
+/// this module act on it.
+pub struct Budget {
+    /// Bytes currently allocated through the counting allocator.
+    live: AtomicUsize,
+    /// The largest value of `live` seen so far.
+    peak: AtomicUsize,
+    /// The cap in bytes; `usize::MAX` means none.
+    cap: AtomicUsize,
+    /// Set once `live` passed `cap`; cleared by `set_cap` and `reset`.
+    over: AtomicBool,
+}
+
+impl Budget {
+    /// No bytes counted, no cap.
+    #[must_use]
+    pub const fn new() -> Budget {
+        Budget {
+            live: AtomicUsize::new(0),
+            peak: AtomicUsize::new(0),
+            cap: AtomicUsize::new(usize::MAX),
+            over: AtomicBool::new(false),
+        }
+    }
+
+    fn set_cap(&self, bytes: usize) {
+        self.cap.store(bytes, Ordering::Relaxed);
+        self.over
+            .store(self.live.load(Ordering::Relaxed) > bytes, Ordering::Relaxed);
+    }
+
+    fn reset(&self) {
+        self.over.store(
+            self.live.load(Ordering::Relaxed) > self.cap.load(Ordering::Relaxed),
+            Ordering::Relaxed,
+        );
+    }
+
+    #[inline]
+    fn allocated(&self, bytes: usize) {
+        let now = self
+            .live
+            .fetch_add(bytes, Ordering::Relaxed)
+            .wrapping_add(bytes);
+        if now > self.peak.load(Ordering::Relaxed) {
+            self.peak.fetch_max(now, Ordering::Relaxed);
+        }
+        if now > self.cap.load(Ordering::Relaxed) && !self.over.load(Ordering::Relaxed) {
+            self.over.store(true, Ordering::Relaxed);
+        }
+    }
+
+    #[inline]
+    fn freed(&self, bytes: usize) {
+        self.live.fetch_sub(bytes, Ordering::Relaxed);
+    }
+}
+
+impl Default for Budget {
+    fn default() -> Budget {
+        Budget::new()
+    }
+}
+
+/// The process's budget.
+pub static GLOBAL: Budget = Budget::new();
 
 /// Sets the cap in bytes (`usize::MAX`: no cap) and clears the flag if the current use is
 /// below the new cap.
 pub fn set_cap(bytes: usize) {
-    CAP.store(bytes, Ordering::Relaxed);
-    OVER.store(LIVE.load(Ordering::Relaxed) > bytes, Ordering::Relaxed);
+    GLOBAL.set_cap(bytes);
 }
 
 /// The cap in bytes (`usize::MAX` when none is set).
 #[must_use]
 pub fn cap() -> usize {
-    CAP.load(Ordering::Relaxed)
+    GLOBAL.cap.load(Ordering::Relaxed)
 }
 
 /// True once the bytes in use passed the cap: a computation polling this should stop and
@@ -42,45 +99,36 @@ pub fn cap() -> usize {
 #[inline]
 #[must_use]
 pub fn over_budget() -> bool {
-    OVER.load(Ordering::Relaxed)
+    GLOBAL.over.load(Ordering::Relaxed)
 }
 
 /// Bytes in use now (as counted by the allocator; 0 without a counting allocator).
 #[must_use]
 pub fn in_use() -> usize {
-    LIVE.load(Ordering::Relaxed)
+    GLOBAL.live.load(Ordering::Relaxed)
 }
 
 /// The largest number of bytes in use so far.
 #[must_use]
 pub fn peak() -> usize {
-    PEAK.load(Ordering::Relaxed)
+    GLOBAL.peak.load(Ordering::Relaxed)
 }
 
 /// Clears the flag (after the computation that passed the cap has released its memory).
 pub fn reset() {
-    OVER.store(
-        LIVE.load(Ordering::Relaxed) > CAP.load(Ordering::Relaxed),
-        Ordering::Relaxed,
-    );
+    GLOBAL.reset();
 }
 
 /// Records an allocation of `bytes`. Called by the counting allocator; never allocates.
 #[inline]
 pub fn allocated(bytes: usize) {
-    let now = LIVE.fetch_add(bytes, Ordering::Relaxed).wrapping_add(bytes);
-    if now > PEAK.load(Ordering::Relaxed) {
-        PEAK.fetch_max(now, Ordering::Relaxed);
-    }
-    if now > CAP.load(Ordering::Relaxed) && !OVER.load(Ordering::Relaxed) {
-        OVER.store(true, Ordering::Relaxed);
-    }
+    GLOBAL.allocated(bytes);
 }
 
 /// Records that `bytes` were freed. Called by the counting allocator; never allocates.
 #[inline]
 pub fn freed(bytes: usize) {
-    LIVE.fetch_sub(bytes, Ordering::Relaxed);
+    GLOBAL.freed(bytes);
 }
 
 /// A default cap: half the physical memory, at most 4 GiB (4 GiB when the physical memory
@@ -112,19 +160,35 @@ mod tests {
 
     #[test]
     fn the_flag_follows_the_counter_and_the_cap() {
-        // Unit tests run without the counting allocator, so only these calls count.
-        let base = in_use();
-        set_cap(base + 1000);
-        assert!(!over_budget());
-        allocated(600);
-        assert!(!over_budget());
-        allocated(600);
-        assert!(over_budget(), "passing the cap raises the flag");
-        assert!(peak() >= base + 1200);
-        freed(1200);
-        reset();
-        assert!(!over_budget(), "reset clears it once use is below the cap");
-        set_cap(usize::MAX);
+        // A budget of its own: the global one may be polled by tests running beside this.
+        let b = Budget::new();
+        b.set_cap(1000);
+        b.allocated(600);
+        assert!(!b.over.load(Ordering::Relaxed));
+        b.allocated(600);
+        assert!(
+            b.over.load(Ordering::Relaxed),
+            "passing the cap raises the flag"
+        );
+        assert_eq!(b.peak.load(Ordering::Relaxed), 1200);
+        b.freed(1200);
+        assert!(
+            b.over.load(Ordering::Relaxed),
+            "the flag stays up until reset"
+        );
+        b.reset();
+        assert!(
+            !b.over.load(Ordering::Relaxed),
+            "reset clears it once use is below the cap"
+        );
+        b.set_cap(0);
+        b.allocated(1);
+        b.set_cap(10);
+        assert!(
+            !b.over.load(Ordering::Relaxed),
+            "a new cap above the use clears it"
+        );
         assert!(default_cap() >= 1 << 20);
+        assert!(!over_budget(), "unit tests count nothing globally");
     }
 }

@@ -303,12 +303,14 @@ fn plan_parameters(p: &Problem, set: &[String]) -> Result<Parameters, Failure> {
 fn plan_points(p: &Problem, a: &ExportArgs) -> Result<PointSet, Failure> {
     if let Some(path) = &a.at {
         let label = path.display().to_string();
-        let text = std::fs::read_to_string(path).map_err(|e| {
+        let bytes = std::fs::read(path).map_err(|e| {
             Failure::Input(miette::Report::new(ProblemError::whole_file(
                 &label,
                 format!("cannot read the points file `{label}`: {e}"),
             )))
         })?;
+        let text = lingrav::problem::utf8_text(&label, bytes)
+            .map_err(|e| Failure::Input(miette::Report::new(e)))?;
         return read_points(&label, &text).map_err(|e| Failure::Input(miette::Report::new(e)));
     }
     let center = match &a.center {

@@ -159,8 +159,12 @@ pub struct RingArgs {
 
 // ----- shared helpers --------------------------------------------------------------------
 
+/// A bad argument, unless what stopped it was an algebra limit (then undecided).
 fn arg_failure(e: ArgError) -> Failure {
-    Failure::Input(miette::Report::new(e))
+    match limit_in(&e.to_string()) {
+        Some(l) => gave_up(&l),
+        None => Failure::Input(miette::Report::new(e)),
+    }
 }
 
 /// Why a command stopped early: bad input, or an algebra limit (which is "undecided").

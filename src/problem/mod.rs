@@ -372,8 +372,13 @@ pub fn read_with(path: &std::path::Path, limits: Limits) -> Result<Problem, Prob
     ProblemFile::parse(&label, &text)?.build_with(limits)
 }
 
-/// The text of a file, or an error at its first byte that is not UTF-8.
-pub(crate) fn utf8_text(label: &str, bytes: Vec<u8>) -> Result<String, ProblemError> {
+/// The text of a file read as `bytes`, or an error at its first byte that is not UTF-8 (byte
+/// offset, line and column in the message; `label` names the file).
+///
+/// # Errors
+///
+/// Bytes that are not UTF-8.
+pub fn utf8_text(label: &str, bytes: Vec<u8>) -> Result<String, ProblemError> {
     match String::from_utf8(bytes) {
         Ok(t) => Ok(t),
         Err(e) => {

@@ -79,6 +79,20 @@ fn issue_9_invalid_utf8_is_located_by_byte_and_line() {
             "save the file as UTF-8",
         ],
     );
+    // A points file for export too.
+    std::fs::write(dir.path().join("p.csv"), b"t,x,y,z\n0,1,2,\xff\n").unwrap();
+    let wave = worked("oblique_wave.toml");
+    assert_bad_input_in(
+        dir.path(),
+        &[
+            "export", &wave, "-q", "h", "--at", "p.csv", "--out", "o.csv",
+        ],
+        &[
+            "is not valid UTF-8: byte 14 (line 2, column 7) is 0xff",
+            "p.csv:2:7]",
+        ],
+    );
+    assert!(!dir.path().join("o.csv").exists());
 }
 
 #[test]
@@ -362,15 +376,13 @@ fn issue_9_a_failed_write_leaves_no_temporary() {
     assert_eq!(files_in(dir.path()), ["origin.csv"]);
 }
 
-/// Sends SIGTERM to `pid` with the system's `kill`.
+/// Sends SIGTERM to `pid`.
 #[cfg(unix)]
 fn terminate(pid: u32) {
-    let ok = std::process::Command::new("kill")
-        .args(["-TERM", &pid.to_string()])
-        .status()
-        .unwrap()
-        .success();
-    assert!(ok, "kill -TERM {pid}");
+    let pid = libc::pid_t::try_from(pid).unwrap();
+    // SAFETY: kill has no memory-safety preconditions; `pid` is our own child.
+    let r = unsafe { libc::kill(pid, libc::SIGTERM) };
+    assert_eq!(r, 0, "kill -TERM {pid}");
 }
 
 #[cfg(unix)]
@@ -448,9 +460,9 @@ fn issue_9_grid_sampling_stops_at_the_time_limit_and_removes_the_plot_temporary(
             "grid",
             &worked("vibrating_rod.toml"),
             "--points",
-            "16,32,64",
+            "16,32,64", // about 12 s of sampling in a debug build
             "--time-limit",
-            "1500",
+            "3000",
             "--allow-large",
             "--plot",
             "p.svg",
@@ -458,7 +470,7 @@ fn issue_9_grid_sampling_stops_at_the_time_limit_and_removes_the_plot_temporary(
     );
     assert_eq!(code, 3, "{out}{err}");
     assert!(
-        out.contains("undecided: too slow: stopped sampling after the time limit of 1500 ms"),
+        out.contains("undecided: too slow: stopped sampling after the time limit of 3000 ms"),
         "{out}"
     );
     assert!(
@@ -466,4 +478,41 @@ fn issue_9_grid_sampling_stops_at_the_time_limit_and_removes_the_plot_temporary(
         "{:?}",
         files_in(dir.path())
     );
+}
+
+#[cfg(unix)]
+#[test]
+fn issue_9_an_interrupted_grid_leaves_no_plot_and_no_temporary() {
+    use std::os::unix::process::ExitStatusExt as _;
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let mut child = command(
+        d,
+        &[
+            "grid",
+            &worked("vibrating_rod.toml"),
+            "--points",
+            "16,32,64",
+            "--plot",
+            "p.svg",
+        ],
+    )
+    .stdout(std::process::Stdio::null())
+    .stderr(std::process::Stdio::piped())
+    .spawn()
+    .unwrap();
+    let deadline = Instant::now() + Duration::from_secs(60);
+    while !files_in(d).iter().any(|n| n.ends_with(".tmp")) {
+        assert!(Instant::now() < deadline, "no temporary appeared");
+        assert!(child.try_wait().unwrap().is_none(), "the grid ended early");
+        std::thread::sleep(Duration::from_millis(20));
+    }
+    std::thread::sleep(Duration::from_millis(300));
+    let pid = libc::pid_t::try_from(child.id()).unwrap();
+    // SAFETY: kill has no memory-safety preconditions; `pid` is our own child.
+    assert_eq!(unsafe { libc::kill(pid, libc::SIGINT) }, 0);
+    let out = child.wait_with_output().unwrap();
+    let code = out.status.code().or(out.status.signal().map(|s| 128 + s));
+    assert_eq!(code, Some(130), "{}", String::from_utf8_lossy(&out.stderr));
+    assert!(files_in(d).is_empty(), "{:?}", files_in(d));
 }
