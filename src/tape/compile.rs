@@ -98,7 +98,7 @@ pub struct Compiler<'s> {
 type Derivative = (String, Expr);
 
 /// The exact value of a constant exponent written with numbers and `+ - * /`.
-fn rational_of(e: &Expr) -> Option<Q> {
+pub(crate) fn rational_of(e: &Expr) -> Option<Q> {
     match &e.kind {
         ExprKind::Num(q) => Some(q.clone()),
         ExprKind::Neg(a) => Some(-rational_of(a)?),

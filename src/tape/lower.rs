@@ -17,6 +17,7 @@
 //! trees only; recursion depth is bounded by the parser's nesting cap and by
 //! [`MAX_SAMPLE_DEPTH`] for samples that call other functions.
 
+use super::compile::rational_of;
 use super::{C64, Node, TapeBuilder, TapeError};
 use crate::expr::{BinOp, Expr, ExprKind};
 use num_rational::BigRational;
@@ -97,25 +98,6 @@ fn parse(text: &str, what: &str) -> Result<Expr, TapeError> {
         text: format!("{what}: {text}"),
         why: e.to_string(),
     })
-}
-
-/// The exact value of a constant exponent written with numbers and `+ - * /`.
-fn rational_of(e: &Expr) -> Option<BigRational> {
-    match &e.kind {
-        ExprKind::Num(q) => Some(q.clone()),
-        ExprKind::Neg(a) => Some(-rational_of(a)?),
-        ExprKind::Binary(op, a, b) => {
-            let (x, y) = (rational_of(a)?, rational_of(b)?);
-            match op {
-                BinOp::Add => Some(x + y),
-                BinOp::Sub => Some(x - y),
-                BinOp::Mul => Some(x * y),
-                BinOp::Div => (!y.is_zero()).then(|| x / y),
-                BinOp::Pow => None,
-            }
-        }
-        _ => None,
-    }
 }
 
 impl Lowering {
