@@ -90,6 +90,8 @@ pub struct Audit {
     h: [[Option<usize>; 4]; 4],
     /// Likewise for `T`, when there is a source.
     t: Option<[[Option<usize>; 4]; 4]>,
+    /// Root indices of the extra expressions (values only), in the order given.
+    extras: Vec<usize>,
     parameters: Vec<(String, f64)>,
     claims: Vec<AuditClaim>,
 }
@@ -177,6 +179,24 @@ impl Audit {
     ///
     /// A text that does not parse or cannot be planned (an unknown name, jets too large).
     pub fn new(problem: &Problem) -> Result<Audit, AuditError> {
+        let mut audit = Audit::fields(problem, H_ORDER, &[])?;
+        audit.claims = audit_claims(problem)?;
+        Ok(audit)
+    }
+
+    /// Prepares the jets of `h` to order `h_order` (and of `T` to first order, when there is a
+    /// source) from the problem's texts, plus the values of the `extras` (texts in the
+    /// coordinates and parameters, e.g. the components of a direction field), without any
+    /// claim: for quantities computed from the fields ([`crate::export`]).
+    ///
+    /// # Errors
+    ///
+    /// A text that does not parse or cannot be planned (an unknown name, jets too large).
+    pub fn fields(
+        problem: &Problem,
+        h_order: u32,
+        extras: &[(String, String)],
+    ) -> Result<Audit, AuditError> {
         let mut scope = Scope {
             vars: COORDINATES.iter().map(|c| c.to_string()).collect(),
             parameters: problem.parameters.iter().map(|(n, _)| n.clone()).collect(),
@@ -191,18 +211,24 @@ impl Audit {
             scope.functions.push((name.clone(), e));
         }
         let mut roots = Vec::new();
-        let h = tensor_roots(&problem.h_text, "h", H_ORDER, &mut roots)?;
+        let h = tensor_roots(&problem.h_text, "h", h_order, &mut roots)?;
         let t = match &problem.source_text {
             Some(texts) => Some(tensor_roots(texts, "T", T_ORDER, &mut roots)?),
             None => None,
         };
+        let mut extra_roots = Vec::with_capacity(extras.len());
+        for (what, text) in extras {
+            roots.push((parse_text(|| what.clone(), text)?, 0));
+            extra_roots.push(roots.len() - 1);
+        }
         let program = Program::new(&scope, roots)?;
         Ok(Audit {
             program,
             h,
             t,
+            extras: extra_roots,
             parameters: problem.parameters.clone(),
-            claims: audit_claims(problem)?,
+            claims: Vec::new(),
         })
     }
 
@@ -212,16 +238,17 @@ impl Audit {
     }
 
     /// The values of every variable and parameter: the point's, else a parameter's typical
-    /// value.
-    fn values<N: AsRef<str>>(
+    /// value, as exact inputs at the context's precision.
+    fn values<N: AsRef<str>, S: Scalar>(
         &self,
         point: &[(N, f64)],
-    ) -> Result<FxHashMap<String, Interval>, AuditError> {
+        ctx: &S::Ctx,
+    ) -> Result<FxHashMap<String, S>, AuditError> {
         let mut values = FxHashMap::default();
         for (name, v) in &self.parameters {
             values.insert(
                 name.clone(),
-                Interval::point(*v).ok_or(AuditError::Missing(name.clone()))?,
+                S::input(*v, ctx).ok_or(AuditError::Missing(name.clone()))?,
             );
         }
         for (name, v) in point {
@@ -229,7 +256,7 @@ impl Audit {
             if !COORDINATES.contains(&name) && !self.parameters.iter().any(|(p, _)| p == name) {
                 return Err(AuditError::Unknown(name.to_string()));
             }
-            let v = Interval::point(*v).ok_or(AuditError::Missing(name.to_string()))?;
+            let v = S::input(*v, ctx).ok_or(AuditError::Missing(name.to_string()))?;
             values.insert(name.to_string(), v);
         }
         for c in COORDINATES {
@@ -248,8 +275,22 @@ impl Audit {
     ///
     /// A coordinate without a value, or a name that is neither coordinate nor parameter.
     pub fn fields_at<N: AsRef<str>>(&self, point: &[(N, f64)]) -> Result<Fields, AuditError> {
-        let values = self.values(point)?;
-        let jets = self.program.eval_roots(&values, &())?;
+        self.fields_in(point, &())
+    }
+
+    /// [`Audit::fields_at`] in any enclosure arithmetic: f64 intervals (`ctx` is `()`) or
+    /// multiprecision balls (`ctx` is the working precision in bits).
+    ///
+    /// # Errors
+    ///
+    /// As [`Audit::fields_at`].
+    pub fn fields_in<N: AsRef<str>, S: Scalar>(
+        &self,
+        point: &[(N, f64)],
+        ctx: &S::Ctx,
+    ) -> Result<Fields<S>, AuditError> {
+        let values = self.values::<N, S>(point, ctx)?;
+        let jets = self.program.eval_roots(&values, ctx)?;
         let table = |idx: &[[Option<usize>; 4]; 4]| {
             std::array::from_fn(|mu| {
                 std::array::from_fn(|nu| match idx[mu][nu] {
@@ -264,6 +305,12 @@ impl Audit {
         Ok(Fields {
             h: table(&self.h),
             t: self.t.as_ref().map(table),
+            extras: self
+                .extras
+                .iter()
+                .map(|&i| jets[i].as_ref().map(|j| j.value().clone()))
+                .collect(),
+            ctx: ctx.clone(),
         })
     }
 
@@ -365,69 +412,87 @@ impl SplitMix64 {
 
 /// One component of `h` or `T` at a point.
 #[derive(Clone, Debug)]
-enum Comp {
+enum Comp<S: Scalar> {
     /// Omitted in the file: exactly 0.
     Zero,
     /// Its jet.
-    Jet(Jet<Interval>),
+    Jet(Jet<S>),
     /// Cannot be evaluated at this point.
     NotHere,
 }
 
 /// `h_{mu nu}` and `T_{mu nu}` at a point with their derivatives (h to second order, T to
-/// first), as certified enclosures.
+/// first), as certified enclosures, and the values of the extra expressions.
 #[derive(Clone, Debug)]
-pub struct Fields {
-    h: [[Comp; 4]; 4],
-    t: Option<[[Comp; 4]; 4]>,
+pub struct Fields<S: Scalar = Interval> {
+    h: [[Comp<S>; 4]; 4],
+    t: Option<[[Comp<S>; 4]; 4]>,
+    extras: Vec<Option<S>>,
+    ctx: S::Ctx,
 }
 
-impl Fields {
-    fn get(&self, field: Field, mu: usize, nu: usize, d: &[usize]) -> Option<Interval> {
+impl<S: Scalar> Fields<S> {
+    fn get(&self, field: Field, mu: usize, nu: usize, d: &[usize]) -> Option<S> {
         let comp = match field {
             Field::H => &self.h[mu][nu],
             Field::T => &self.t.as_ref()?[mu][nu],
         };
         match comp {
-            Comp::Zero => Some(Interval::ZERO),
+            Comp::Zero => Some(S::zero()),
             Comp::NotHere => None,
             Comp::Jet(j) => {
                 let mut exps = vec![0u8; j.space().vars()];
                 for &a in d {
                     exps[a] += 1;
                 }
-                j.partial(&exps, &())
+                j.partial(&exps, &self.ctx)
             }
         }
     }
 
+    /// The value of extra expression `i` (in the order given to [`Audit::fields`]); `None`
+    /// if it cannot be evaluated here.
+    pub fn extra(&self, i: usize) -> Option<S> {
+        self.extras.get(i).cloned().flatten()
+    }
+
+    /// True if the problem has a source.
+    pub fn has_source(&self) -> bool {
+        self.t.is_some()
+    }
+
+    /// The context the enclosures were computed in.
+    pub fn ctx(&self) -> &S::Ctx {
+        &self.ctx
+    }
+
     /// `h_{mu nu}`; `None` if it cannot be evaluated here.
-    pub fn h(&self, mu: usize, nu: usize) -> Option<Interval> {
+    pub fn h(&self, mu: usize, nu: usize) -> Option<S> {
         self.get(Field::H, mu, nu, &[])
     }
 
     /// `d_rho h_{mu nu}`.
-    pub fn dh(&self, rho: usize, mu: usize, nu: usize) -> Option<Interval> {
+    pub fn dh(&self, rho: usize, mu: usize, nu: usize) -> Option<S> {
         self.get(Field::H, mu, nu, &[rho])
     }
 
     /// `d_a d_b h_{mu nu}`.
-    pub fn ddh(&self, a: usize, b: usize, mu: usize, nu: usize) -> Option<Interval> {
+    pub fn ddh(&self, a: usize, b: usize, mu: usize, nu: usize) -> Option<S> {
         self.get(Field::H, mu, nu, &[a, b])
     }
 
     /// `T_{mu nu}`; `None` without a source or if it cannot be evaluated here.
-    pub fn t(&self, mu: usize, nu: usize) -> Option<Interval> {
+    pub fn t(&self, mu: usize, nu: usize) -> Option<S> {
         self.get(Field::T, mu, nu, &[])
     }
 
     /// `d_rho T_{mu nu}`.
-    pub fn dt(&self, rho: usize, mu: usize, nu: usize) -> Option<Interval> {
+    pub fn dt(&self, rho: usize, mu: usize, nu: usize) -> Option<S> {
         self.get(Field::T, mu, nu, &[rho])
     }
 
     /// The value of an atom of a claim formula.
-    pub fn atom(&self, a: &Atom) -> Option<Interval> {
+    pub fn atom(&self, a: &Atom) -> Option<S> {
         let (mu, nu) = (a.mu as usize, a.nu as usize);
         match a.deriv {
             Deriv::Value => self.get(a.field, mu, nu, &[]),

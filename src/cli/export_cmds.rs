@@ -13,7 +13,7 @@ use lingrav::emit::{Lang, Source, emit};
 use lingrav::export::points::{Grid, PointSet, read_points};
 use lingrav::export::quantity::{Quantity, QuantityError, blocks, direction_help, parse_list};
 use lingrav::export::write::{AtomicFile, FileError, Format, commit_with_sidecar, write_table};
-use lingrav::export::{SidecarInfo, evaluate, sidecar};
+use lingrav::export::{ExportError, Numeric, Settings, SidecarInfo, evaluate, sidecar};
 use lingrav::problem::{Problem, ProblemError};
 use lingrav::tt::{Arg, ArgError, Direction, parse_direction, set_basis};
 use std::path::{Path, PathBuf};
@@ -95,6 +95,14 @@ pub struct ExportArgs {
     /// The data file to write; the sidecar goes to the same path with `.meta.json` appended.
     #[arg(long, value_name = "PATH")]
     out: PathBuf,
+    /// The largest relative error bound accepted for a value; values beyond it are computed
+    /// again at higher precision, and if that fails nothing is written.
+    #[arg(long, value_name = "REL", default_value_t = lingrav::export::DEFAULT_TOLERANCE)]
+    tolerance: f64,
+    /// The largest absolute error bound accepted for a value indistinguishable from 0
+    /// (default: --tolerance times the largest magnitude in its column).
+    #[arg(long, value_name = "ABS")]
+    zero_tolerance: Option<f64>,
     /// Replace the data file and sidecar if they exist.
     #[arg(long)]
     force: bool,
@@ -234,6 +242,14 @@ fn direction_json(p: &mut Problem, d: &Direction) -> serde_json::Value {
     })
 }
 
+/// The texts of `n`, `u`, `v` for the independent evaluation route.
+fn frame_texts(p: &mut Problem, d: &Direction) -> [[String; 3]; 3] {
+    let mut v = |x: &[lingrav::canon::Form; 3]| -> [String; 3] {
+        std::array::from_fn(|i| p.store.to_text(x[i]))
+    };
+    [v(&d.n), v(&d.u), v(&d.v)]
+}
+
 fn direction_text(p: &mut Problem, d: &Direction) -> String {
     let mut v = |x: &[lingrav::canon::Form; 3]| -> String {
         let parts: Vec<String> = x.iter().map(|f| p.store.to_text(*f)).collect();
@@ -339,6 +355,29 @@ fn sidecar_path(out: &Path) -> PathBuf {
     PathBuf::from(s)
 }
 
+/// Why an export wrote nothing, as the command's end: a point where the field is not
+/// defined is bad input (exit 2); values that cannot be certified, a disagreement of the two
+/// routes, and limits are undecided (exit 3).
+fn export_failure(e: ExportError) -> Failure {
+    match e {
+        ExportError::Point(e) => Failure::Input(miette::miette!(
+            help = "nothing was written; choose points where the field is defined (away from \
+                    singularities such as r = 0)",
+            "{e}"
+        )),
+        ExportError::Limit(l) => gave_up(&l),
+        ExportError::Setup(m) => match limit_in(&m) {
+            Some(l) => gave_up(&l),
+            None => Failure::Input(miette::miette!("{m}")),
+        },
+        e @ ExportError::Uncertified { .. } => Failure::GaveUp(format!(
+            "{e}. Nothing was written. Raise --tolerance, give --zero-tolerance for values \
+             that are meant to vanish, or choose other points"
+        )),
+        e @ ExportError::Disagreement { .. } => Failure::GaveUp(e.to_string()),
+    }
+}
+
 /// `lingrav export`.
 pub fn run_export(a: ExportArgs) -> Result<Outcome, Failure> {
     // Plan: every input and output checked before any algebra.
@@ -346,6 +385,19 @@ pub fn run_export(a: ExportArgs) -> Result<Outcome, Failure> {
     let (qs, dir) = plan_quantities(&mut p, &a.quantities)?;
     let (params, overridden) = plan_parameters(&p, &a.set)?;
     let points = plan_points(&p, &a)?;
+    for (name, v) in [
+        ("--tolerance", Some(a.tolerance)),
+        ("--zero-tolerance", a.zero_tolerance),
+    ] {
+        if let Some(v) = v {
+            if !(v.is_finite() && v >= 0.0) {
+                return Err(Failure::Input(miette::miette!(
+                    help = "e.g. --tolerance 1e-10",
+                    "{name} must be a finite number >= 0, not {v}"
+                )));
+            }
+        }
+    }
     let format = match a.format {
         Some(DataFormat::Csv) => Format::Csv,
         Some(DataFormat::Npy) => Format::Npy,
@@ -365,16 +417,25 @@ pub fn run_export(a: ExportArgs) -> Result<Outcome, Failure> {
     // Compute.
     let b = blocks(&mut p.store, &p.h, p.source.as_ref(), &qs, dir.as_ref())
         .map_err(quantity_failure)?;
-    let ev = evaluate(&mut p.store, &b, &points, &params, &p.sampling).map_err(|e| {
-        if let Some(l) = limit_in(&e.to_string()) {
-            return gave_up(&l);
-        }
-        Failure::Input(miette::miette!(
-            help = "nothing was written; choose points where the field is defined (away from \
-                    singularities such as r = 0)",
-            "{e}"
-        ))
-    })?;
+    let frame = dir.as_ref().map(|d| frame_texts(&mut p, d));
+    let numeric = Numeric::new(&p, &qs, frame)
+        .map_err(|e| Failure::Input(miette::miette!("cannot evaluate the problem's texts: {e}")))?;
+    let settings = Settings {
+        tolerance: a.tolerance,
+        zero_tolerance: a.zero_tolerance,
+        deadline: p.store.limits.deadline,
+        ..Settings::default()
+    };
+    let ev = evaluate(
+        &mut p.store,
+        &numeric,
+        &b,
+        &points,
+        &params,
+        &p.sampling,
+        &settings,
+    )
+    .map_err(export_failure)?;
     let direction = dir.as_ref().map(|d| direction_json(&mut p, d));
     let data_name = a
         .out
@@ -395,6 +456,8 @@ pub fn run_export(a: ExportArgs) -> Result<Outcome, Failure> {
         data_file: &data_name,
         format,
         points: &points,
+        tolerance: a.tolerance,
+        zero_tolerance: a.zero_tolerance,
     };
     let meta = sidecar(&mut p.store, &b, &ev, &info);
 

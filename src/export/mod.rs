@@ -18,14 +18,21 @@
 //! **Invariants:** the library writes to `impl Write` and to [`write::AtomicFile`] only; a
 //! table holds finite values only; column names and orders come from [`quantity`] alone.
 
+pub mod certify;
 pub mod points;
 pub mod quantity;
 pub mod write;
 
-use crate::canon::{Form, Point, Store};
+use crate::audit::Audit;
+use crate::canon::{CanonError, Form, Point, Store};
+use crate::interval::Interval;
+use crate::jet::Scalar;
+use crate::problem::Problem;
 use crate::zero::Sampling;
+use certify::Frame;
 use points::{Origin, PointSet};
 use quantity::Block;
+use quantity::Quantity;
 use serde_json::{Value, json};
 use write::{Format, Table};
 
@@ -41,21 +48,6 @@ pub struct EvalError {
     pub point: String,
     /// Why.
     pub reason: String,
-}
-
-/// A filled table and the certified error bound of every component column.
-///
-/// Each value is the plain f64 evaluation of the column's real form (the arithmetic that
-/// `emit` writes, samples inlined) when that lies inside the certified enclosure, else the
-/// enclosure's midpoint.
-#[derive(Clone, Debug)]
-pub struct Evaluated {
-    /// `t, x, y, z`, then every column of every block.
-    pub table: Table,
-    /// For each component column (in order, without `t, x, y, z`): the largest radius of its
-    /// enclosures over all rows, a bound on `|exact - written|` (up to the conversion of the
-    /// written decimal, half an ulp).
-    pub bounds: Vec<f64>,
 }
 
 /// The numerical point for coordinates `c` with these parameter values and function samples.
@@ -107,64 +99,258 @@ fn eval_forms(
     Ok(out)
 }
 
-/// The same expressions as straight-line f64 arithmetic (the code `emit` writes, with the
-/// samples inlined), when every column can be read that way.
-struct Plain {
-    dag: crate::emit::dag::Dag,
-    roots: Vec<crate::emit::dag::Id>,
+/// The independent evaluation route of an export: the jets of the problem's fields, planned
+/// once from its texts, and the texts of the direction frame when a quantity needs one.
+#[derive(Debug)]
+pub struct Numeric {
+    audit: Audit,
+    frame: bool,
 }
 
-impl Plain {
-    fn new(
-        store: &mut Store,
-        forms: &[Form],
-        parameters: &[(String, f64)],
-        sampling: &Sampling,
-    ) -> Option<Plain> {
-        let mut functions: Vec<(String, crate::canon::FunctionSample)> = sampling
-            .samples
+impl Numeric {
+    /// Plans the jets `quantities` need for `problem`; `frame` gives the texts of `n`, `u`, `v`
+    /// (three components each) for psi4, hplus and hcross.
+    ///
+    /// # Errors
+    ///
+    /// A text that cannot be planned (cannot happen for a problem that was built).
+    pub fn new(
+        problem: &Problem,
+        quantities: &[Quantity],
+        frame: Option<[[String; 3]; 3]>,
+    ) -> Result<Numeric, crate::audit::AuditError> {
+        let order = quantities
             .iter()
-            .map(|(n, s)| (n.to_string(), s.clone()))
-            .collect();
-        functions.sort_by(|a, b| a.0.cmp(&b.0));
-        let syms = crate::emit::dag::Symbols {
-            vars: crate::tensor::COORDS
-                .iter()
-                .map(|c| c.to_string())
-                .chain(parameters.iter().map(|p| p.0.clone()))
-                .collect(),
-            functions,
-            inline_samples: true,
-        };
-        let mut dag = crate::emit::dag::Dag::new();
-        let mut roots = Vec::with_capacity(forms.len());
-        for &f in forms {
-            roots.push(dag.form(store, &syms, f).ok()?);
+            .map(|&q| certify::derivative_order(q))
+            .max()
+            .unwrap_or(0);
+        let mut extras = Vec::new();
+        if let Some(fr) = &frame {
+            for (v, comps) in ["n", "u", "v"].iter().zip(fr) {
+                for (i, text) in comps.iter().enumerate() {
+                    extras.push((format!("direction {v}[{i}]"), text.clone()));
+                }
+            }
         }
-        Some(Plain { dag, roots })
+        Ok(Numeric {
+            audit: Audit::fields(problem, order, &extras)?,
+            frame: frame.is_some(),
+        })
     }
 
-    fn values(&self, vars: &[f64]) -> Vec<Option<f64>> {
-        let mut memo = rustc_hash::FxHashMap::default();
-        self.roots
-            .iter()
-            .map(|&r| self.dag.eval(r, vars, &mut memo))
-            .collect()
+    /// Every column of `quantities` at `point`, in enclosure arithmetic `S`.
+    fn values<S: Scalar>(
+        &self,
+        quantities: &[Quantity],
+        point: &[(String, f64)],
+        ctx: &S::Ctx,
+    ) -> Result<Vec<Option<S>>, crate::audit::AuditError> {
+        let f = self.audit.fields_in::<String, S>(point, ctx)?;
+        let frame = if self.frame {
+            let get = |k: usize| -> Option<[S; 3]> {
+                Some([f.extra(3 * k)?, f.extra(3 * k + 1)?, f.extra(3 * k + 2)?])
+            };
+            match (get(0), get(1), get(2)) {
+                (Some(n), Some(u), Some(v)) => Some(Frame { n, u, v }),
+                _ => None,
+            }
+        } else {
+            None
+        };
+        let mut out = Vec::new();
+        for &q in quantities {
+            let mut vals = certify::quantity_values(q, &f, frame.as_ref());
+            if q.needs_direction() && frame.is_none() {
+                vals.iter_mut().for_each(|v| *v = None);
+            }
+            out.extend(vals);
+        }
+        Ok(out)
     }
 }
 
-/// Evaluates every column of `blocks` at every point.
+/// How strict an export is, and its limits.
+#[derive(Clone, Debug)]
+pub struct Settings {
+    /// The largest relative error bound accepted (default [`DEFAULT_TOLERANCE`]).
+    pub tolerance: f64,
+    /// The largest absolute bound accepted for a value indistinguishable from 0 at the top
+    /// precision; `None`: the tolerance times the largest magnitude in its column.
+    pub zero_tolerance: Option<f64>,
+    /// Stop when this passes: `(when, the limit in ms)`.
+    pub deadline: Option<(std::time::Instant, u64)>,
+    /// How many rows the exact route re-evaluates (evenly spread, first and last included).
+    pub audit_rows: usize,
+}
+
+/// The default relative tolerance of an export.
+pub const DEFAULT_TOLERANCE: f64 = 1e-12;
+
+impl Default for Settings {
+    fn default() -> Settings {
+        Settings {
+            tolerance: DEFAULT_TOLERANCE,
+            zero_tolerance: None,
+            deadline: None,
+            audit_rows: 64,
+        }
+    }
+}
+
+/// A value that could not be certified within the tolerance.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Uncertified {
+    /// The row (from 0).
+    pub row: usize,
+    /// The column's name.
+    pub column: String,
+    /// The point, described.
+    pub point: String,
+    /// The value and its certified bound at the top precision.
+    pub value: f64,
+    /// Its bound.
+    pub bound: f64,
+}
+
+/// Why an export writes nothing.
+#[derive(Clone, Debug, PartialEq, thiserror::Error)]
+pub enum ExportError {
+    /// A value that cannot be evaluated (a singularity, not real).
+    #[error(transparent)]
+    Point(#[from] EvalError),
+    /// Values whose certified error stays above the tolerance at the top precision.
+    #[error("{} value(s) could not be certified within the tolerance ({tolerance:e} relative, \
+        or the zero tolerance for values indistinguishable from 0) even at {} bits; first: \
+        {}", .total, certify::PRECISIONS[certify::PRECISIONS.len() - 1], describe_failures(.failures))]
+    Uncertified {
+        /// The first few, in row order.
+        failures: Vec<Uncertified>,
+        /// How many in all.
+        total: usize,
+        /// The relative tolerance.
+        tolerance: f64,
+    },
+    /// The exact route's enclosure and the independent one are disjoint: a defect.
+    #[error(
+        "INTERNAL DEFECT: at {point}, {column} is {value:e} (bound {bound:e}) by the \
+        problem's texts but {exact:e} (bound {exact_bound:e}) by the exact canonical form; \
+        the two routes must agree. Nothing was written. Please report this with the problem \
+        file"
+    )]
+    Disagreement {
+        /// The column.
+        column: String,
+        /// The point, described.
+        point: String,
+        /// The independent route's value and bound.
+        value: f64,
+        /// Its bound.
+        bound: f64,
+        /// The exact route's midpoint and radius.
+        exact: f64,
+        /// Its radius.
+        exact_bound: f64,
+    },
+    /// A time or memory limit.
+    #[error("{0}")]
+    Limit(CanonError),
+    /// The evaluation could not be set up.
+    #[error("cannot evaluate: {0}")]
+    Setup(String),
+}
+
+fn describe_failures(f: &[Uncertified]) -> String {
+    f.iter()
+        .map(|u| {
+            format!(
+                "{} at {} = {:e} +- {:e}",
+                u.column, u.point, u.value, u.bound
+            )
+        })
+        .collect::<Vec<_>>()
+        .join("; ")
+}
+
+/// What was learnt about one component column.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct ColumnReport {
+    /// The largest certified bound on `|exact - written|` over the rows.
+    pub bound: f64,
+    /// The largest certified relative bound over the rows whose enclosure excludes 0.
+    pub relative: f64,
+    /// Rows accepted by the zero tolerance (enclosure containing 0 at the top precision).
+    pub near_zero_rows: usize,
+    /// The zero tolerance applied to them.
+    pub zero_tolerance: f64,
+    /// The highest working precision used (53: f64 intervals).
+    pub precision_bits: u32,
+}
+
+/// What the exact route's re-evaluation found.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct ExactAudit {
+    /// Rows re-evaluated through the exact canonical form.
+    pub rows: usize,
+    /// Of those, rows where it could not enclose some value (not compared there).
+    pub not_enclosed: usize,
+}
+
+/// A filled table and, per component column, its certified bounds.
+#[derive(Clone, Debug)]
+pub struct Evaluated {
+    /// `t, x, y, z`, then every column of every block.
+    pub table: Table,
+    /// For each component column (in order, without `t, x, y, z`).
+    pub columns: Vec<ColumnReport>,
+    /// The second route's summary.
+    pub audit: ExactAudit,
+}
+
+impl Evaluated {
+    /// The largest bound of each component column.
+    #[must_use]
+    pub fn bounds(&self) -> Vec<f64> {
+        self.columns.iter().map(|c| c.bound).collect()
+    }
+}
+
+/// One value's state during the evaluation of a row.
+#[derive(Clone, Copy, Debug)]
+enum Judged {
+    /// Not evaluated at any precision yet, or not evaluable.
+    Missing,
+    /// Written value and bound, not yet within the relative tolerance.
+    Loose(f64, f64),
+    /// Within the relative tolerance.
+    Good(f64, f64),
+}
+
+fn judge<S: Scalar>(v: Option<&S>, tol: f64) -> Judged {
+    match v.and_then(certify::written) {
+        None => Judged::Missing,
+        Some((x, b)) if b <= tol * x.abs() => Judged::Good(x, b),
+        Some((x, b)) => Judged::Loose(x, b),
+    }
+}
+
+/// Evaluates every column of `blocks` at every point through the independent route, with
+/// precision raised where needed, and re-evaluates a sample of rows through the exact
+/// canonical forms (which must agree).
 ///
 /// # Errors
 ///
-/// The first value that cannot be enclosed or is not real, with its row and column.
+/// A value that cannot be evaluated, values that cannot be certified, a disagreement of the
+/// two routes, or a limit; nothing is to be written then.
 pub fn evaluate(
     store: &mut Store,
+    numeric: &Numeric,
     blocks: &[Block],
     points: &PointSet,
     parameters: &[(String, f64)],
     sampling: &Sampling,
-) -> Result<Evaluated, EvalError> {
+    settings: &Settings,
+) -> Result<Evaluated, ExportError> {
+    let quantities: Vec<Quantity> = blocks.iter().map(|b| b.quantity).collect();
     let forms: Vec<Form> = blocks
         .iter()
         .flat_map(|b| b.columns.iter().map(|c| c.form))
@@ -173,39 +359,263 @@ pub fn evaluate(
         .iter()
         .flat_map(|b| b.columns.iter().map(|c| c.name.as_str()))
         .collect();
+    let ncol = forms.len();
+    let exact_zero: Vec<bool> = forms.iter().map(|&f| store.is_zero(f)).collect();
     let mut columns: Vec<String> = ["t", "x", "y", "z"].map(String::from).to_vec();
     columns.extend(names.iter().map(|s| s.to_string()));
-    let mut values = Vec::with_capacity(points.coords.len() * columns.len());
-    let mut bounds = vec![0.0f64; forms.len()];
-    let plain = Plain::new(store, &forms, parameters, sampling);
-    let mut vars: Vec<f64> = vec![0.0; 4];
-    vars.extend(parameters.iter().map(|p| p.1));
+    let width = 4 + ncol;
+    let mut values = Vec::with_capacity(points.coords.len() * width);
+    let mut value_bounds = Vec::with_capacity(points.coords.len() * ncol);
+    let mut reports = vec![
+        ColumnReport {
+            precision_bits: 53,
+            ..ColumnReport::default()
+        };
+        ncol
+    ];
+    // (row, column, value, bound) of values containing 0 at the top precision.
+    let mut near_zero: Vec<(usize, usize, f64, f64)> = Vec::new();
+    let mut failures: Vec<Uncertified> = Vec::new();
+    let mut total_failures = 0usize;
+    let tol = settings.tolerance;
+    let setup = |e: crate::audit::AuditError| ExportError::Setup(e.to_string());
     for (row, &c) in points.coords.iter().enumerate() {
-        let pt = point_at(store, parameters, sampling, c);
-        let v = eval_forms(store, &forms, &pt).map_err(|(i, reason)| EvalError {
-            row,
-            column: names[i].to_string(),
-            point: points.describe(row),
-            reason,
-        })?;
-        vars[..4].copy_from_slice(&c);
-        let fast = plain.as_ref().map(|p| p.values(&vars));
+        check_limits(settings)?;
+        let mut point: Vec<(String, f64)> = ["t", "x", "y", "z"]
+            .iter()
+            .zip(c)
+            .map(|(n, v)| (n.to_string(), v))
+            .collect();
+        point.extend(parameters.iter().cloned());
+        let first = numeric
+            .values::<Interval>(&quantities, &point, &())
+            .map_err(setup)?;
+        if first.len() != ncol {
+            return Err(ExportError::Setup(format!(
+                "{} values for {ncol} columns",
+                first.len()
+            )));
+        }
+        let mut judged: Vec<Judged> = Vec::with_capacity(ncol);
+        for (i, v) in first.iter().enumerate() {
+            judged.push(if exact_zero[i] {
+                // Proved 0 by the exact route: written as 0, with the independent
+                // enclosure's distance from 0 as its bound; an enclosure excluding 0 is a
+                // contradiction of the two routes.
+                match v.as_ref().map(Scalar::bounds_f64) {
+                    Some((lo, hi)) if lo <= 0.0 && 0.0 <= hi => Judged::Good(0.0, (-lo).max(hi)),
+                    Some((lo, hi)) if lo.is_finite() && hi.is_finite() => {
+                        return Err(ExportError::Disagreement {
+                            column: names[i].to_string(),
+                            point: points.describe(row),
+                            value: lo / 2.0 + hi / 2.0,
+                            bound: (hi - lo) / 2.0,
+                            exact: 0.0,
+                            exact_bound: 0.0,
+                        });
+                    }
+                    _ => judge(v.as_ref(), tol),
+                }
+            } else {
+                judge(v.as_ref(), tol)
+            });
+        }
+        let mut bits = vec![53u32; ncol];
+        for &prec in &certify::PRECISIONS {
+            if judged.iter().all(|j| matches!(j, Judged::Good(..))) {
+                break;
+            }
+            check_limits(settings)?;
+            let vals = numeric
+                .values::<crate::interval::Ball>(&quantities, &point, &prec)
+                .map_err(setup)?;
+            for (i, v) in vals.iter().enumerate() {
+                if matches!(judged[i], Judged::Good(..)) {
+                    continue;
+                }
+                let j = judge(v.as_ref(), tol);
+                let better = match (j, judged[i]) {
+                    (Judged::Missing, _) => false,
+                    (_, Judged::Missing) => true,
+                    (Judged::Good(..), _) => true,
+                    (Judged::Loose(_, b), Judged::Loose(_, b0)) => b < b0,
+                    (Judged::Loose(..), Judged::Good(..)) => false,
+                };
+                if better {
+                    judged[i] = j;
+                    bits[i] = prec;
+                }
+            }
+        }
         values.extend_from_slice(&c);
-        for (i, (m, r)) in v.into_iter().enumerate() {
-            // The plain f64 value where it is inside the certified enclosure (it nearly always
-            // is, and it is what a straightforward evaluation gives), else the midpoint.
-            let x = match fast.as_ref().and_then(|f| f[i]) {
-                Some(x) if (x - m).abs() <= r => x,
-                _ => m,
+        for (i, j) in judged.into_iter().enumerate() {
+            let (x, b) = match j {
+                Judged::Missing => {
+                    return Err(ExportError::Point(EvalError {
+                        row,
+                        column: names[i].to_string(),
+                        point: points.describe(row),
+                        reason: "the value is not finite or not real there (a singularity \
+                            such as r = 0, or a root or logarithm at or past its branch point)"
+                            .into(),
+                    }));
+                }
+                Judged::Good(x, b) => {
+                    if x != 0.0 {
+                        reports[i].relative = reports[i].relative.max(b / x.abs());
+                    }
+                    (x, b)
+                }
+                Judged::Loose(x, b) => {
+                    if b >= x.abs() {
+                        near_zero.push((row, i, x, b));
+                    } else {
+                        total_failures += 1;
+                        if failures.len() < 5 {
+                            failures.push(Uncertified {
+                                row,
+                                column: names[i].to_string(),
+                                point: points.describe(row),
+                                value: x,
+                                bound: b,
+                            });
+                        }
+                    }
+                    (x, b)
+                }
             };
             values.push(x);
-            bounds[i] = bounds[i].max(r + (x - m).abs());
+            value_bounds.push(b);
+            reports[i].bound = reports[i].bound.max(b);
+            reports[i].precision_bits = reports[i].precision_bits.max(bits[i]);
         }
     }
+    // Values indistinguishable from 0: judged against the zero tolerance, by default the
+    // relative tolerance times the column's largest magnitude.
+    let rows = points.coords.len();
+    let scale: Vec<f64> = (0..ncol)
+        .map(|i| {
+            (0..rows)
+                .map(|r| values[r * width + 4 + i].abs())
+                .fold(0.0, f64::max)
+        })
+        .collect();
+    for i in 0..ncol {
+        reports[i].zero_tolerance = settings.zero_tolerance.unwrap_or(tol * scale[i]);
+    }
+    for &(row, i, x, b) in &near_zero {
+        if b <= reports[i].zero_tolerance {
+            reports[i].near_zero_rows += 1;
+        } else {
+            total_failures += 1;
+            if failures.len() < 5 {
+                failures.push(Uncertified {
+                    row,
+                    column: names[i].to_string(),
+                    point: points.describe(row),
+                    value: x,
+                    bound: b,
+                });
+            }
+        }
+    }
+    if total_failures > 0 {
+        failures.sort_by_key(|f| f.row);
+        return Err(ExportError::Uncertified {
+            failures,
+            total: total_failures,
+            tolerance: tol,
+        });
+    }
+    let audit = audit_rows(
+        store,
+        &forms,
+        &names,
+        points,
+        parameters,
+        sampling,
+        &values,
+        &value_bounds,
+        settings,
+    )?;
+    // The bound of a value is its own; `reports` keeps the largest per column.
     Ok(Evaluated {
         table: Table { columns, values },
-        bounds,
+        columns: reports,
+        audit,
     })
+}
+
+fn check_limits(settings: &Settings) -> Result<(), ExportError> {
+    if let Some((t, ms)) = settings.deadline {
+        if std::time::Instant::now() > t {
+            return Err(ExportError::Limit(CanonError::Timeout(ms)));
+        }
+    }
+    if crate::budget::over_budget() {
+        return Err(ExportError::Limit(CanonError::MemoryCap(
+            (crate::budget::cap() >> 20) as u64,
+        )));
+    }
+    Ok(())
+}
+
+/// The rows the exact route re-evaluates: all of them up to `n`, else `n` evenly spread.
+fn audited_rows(rows: usize, n: usize) -> Vec<usize> {
+    if rows <= n {
+        return (0..rows).collect();
+    }
+    if n <= 1 {
+        return vec![0];
+    }
+    let mut v: Vec<usize> = (0..n).map(|k| k * (rows - 1) / (n - 1)).collect();
+    v.dedup();
+    v
+}
+
+/// Re-evaluates sample rows through the exact canonical forms; their enclosures must meet
+/// the written values' bounds.
+#[allow(clippy::too_many_arguments)]
+fn audit_rows(
+    store: &mut Store,
+    forms: &[Form],
+    names: &[&str],
+    points: &PointSet,
+    parameters: &[(String, f64)],
+    sampling: &Sampling,
+    values: &[f64],
+    bounds: &[f64],
+    settings: &Settings,
+) -> Result<ExactAudit, ExportError> {
+    let width = 4 + forms.len();
+    let mut audit = ExactAudit::default();
+    for row in audited_rows(points.coords.len(), settings.audit_rows) {
+        check_limits(settings)?;
+        let c = points.coords[row];
+        let pt = point_at(store, parameters, sampling, c);
+        audit.rows += 1;
+        let Ok(exact) = eval_forms(store, forms, &pt) else {
+            audit.not_enclosed += 1;
+            continue;
+        };
+        for (i, (m, r)) in exact.into_iter().enumerate() {
+            let x = values[row * width + 4 + i];
+            let b = bounds[row * forms.len() + i];
+            let gap = (m - x).abs();
+            let slack = (r + b) * (1.0 + 1e-12) + f64::MIN_POSITIVE;
+            if gap > slack {
+                return Err(ExportError::Disagreement {
+                    column: names[i].to_string(),
+                    point: points.describe(row),
+                    value: x,
+                    bound: b,
+                    exact: m,
+                    exact_bound: r,
+                });
+            }
+        }
+    }
+    Ok(audit)
 }
 
 /// The conventions every export states.
@@ -256,6 +666,10 @@ pub struct SidecarInfo<'a> {
     pub format: Format,
     /// Where the points came from.
     pub points: &'a PointSet,
+    /// The relative tolerance used.
+    pub tolerance: f64,
+    /// The zero tolerance given, if any.
+    pub zero_tolerance: Option<f64>,
 }
 
 fn tensor_text(m: &[[Option<String>; 4]; 4]) -> Value {
@@ -331,13 +745,17 @@ pub fn sidecar(
                 .columns
                 .iter()
                 .map(|c| {
-                    let bound = ev.bounds.get(k).copied().unwrap_or(0.0);
+                    let r = ev.columns.get(k).cloned().unwrap_or_default();
                     k += 1;
                     json!({
                         "name": c.name,
                         "expression": store.to_text(c.form),
                         "exactly_zero": store.is_zero(c.form),
-                        "error_bound": bound,
+                        "error_bound": r.bound,
+                        "relative_error_bound": r.relative,
+                        "rows_indistinguishable_from_zero": r.near_zero_rows,
+                        "zero_tolerance": r.zero_tolerance,
+                        "precision_bits": r.precision_bits,
                     })
                 })
                 .collect();
@@ -389,11 +807,35 @@ pub fn sidecar(
         "points": points_json(info.points),
         "direction": info.direction,
         "conventions": conventions(),
-        "evaluation": "each value is the f64 evaluation of the exact expression's real form \
-            (the arithmetic of `lingrav emit`, samples inlined), checked to lie inside a \
-            certified interval enclosure of the exact value (outward rounding; libm assumed \
-            accurate to 4 ulp), else the enclosure's midpoint; error_bound bounds |exact - \
-            value| over the column",
+        "evaluation": {
+            "method": "each value is computed from the problem's texts as written (defines \
+                kept, derivatives by Taylor-mode jets, arbitrary functions through their \
+                samples) in outward-rounded interval arithmetic, never from the expanded \
+                canonical form; where the certified relative error exceeds the tolerance the \
+                point is computed again in multiprecision balls (128, 256, 512 bits). The \
+                value written is the midpoint of the certified f64 bounds, so |exact - value| \
+                <= error_bound. 'exact' is the column's definition at the point whose \
+                coordinates and parameters are the f64 numbers written here",
+            "tolerance": info.tolerance,
+            "zero_tolerance": info.zero_tolerance.map_or_else(
+                || json!("the tolerance times the largest magnitude in the column"),
+                |z| json!(z),
+            ),
+            "zero_rule": "a value whose enclosure still contains 0 at 512 bits has no relative \
+                error to bound; it is accepted when its absolute bound is within the zero \
+                tolerance, and counted in rows_indistinguishable_from_zero",
+            "largest_error_bound": ev.columns.iter().map(|c| c.bound).fold(0.0, f64::max),
+            "largest_relative_error_bound": ev.columns.iter().map(|c| c.relative).fold(0.0, f64::max),
+            "libm": "f64 intervals assume sin, cos, exp, log accurate to 4 ulp (libm); the \
+                multiprecision balls use their own certified series",
+            "second_route": {
+                "method": "the exact canonical form of every column, enclosed by interval \
+                    evaluation at these rows; each enclosure must meet the written value's \
+                    bound, or nothing is written",
+                "rows_checked": ev.audit.rows,
+                "rows_not_enclosed_by_the_exact_route": ev.audit.not_enclosed,
+            },
+        },
         "quantities": quantities,
     })
 }

@@ -175,24 +175,161 @@ fn columns_have_fixed_names_and_counts() {
     assert!(e.to_string().contains("give --direction"));
 }
 
+fn problem(text: &str) -> crate::problem::Problem {
+    crate::problem::ProblemFile::parse("t.toml", text)
+        .unwrap()
+        .build()
+        .unwrap()
+}
+
+/// Exports `quantities` of the problem at the points (CSV text), default settings.
+fn export(
+    p: &mut crate::problem::Problem,
+    quantities: &[Quantity],
+    dir: Option<&str>,
+    points: &str,
+    settings: &Settings,
+) -> Result<Evaluated, ExportError> {
+    let dir = dir.map(|d| direction(&mut p.store, d));
+    let b = blocks(
+        &mut p.store,
+        &p.h,
+        p.source.as_ref(),
+        quantities,
+        dir.as_ref(),
+    )
+    .unwrap();
+    let frame = dir.as_ref().map(|d| {
+        let mut t =
+            |x: &[Form; 3]| -> [String; 3] { std::array::from_fn(|i| p.store.to_text(x[i])) };
+        [t(&d.n), t(&d.u), t(&d.v)]
+    });
+    let numeric = Numeric::new(p, quantities, frame).unwrap();
+    let pts = points::read_points("p.csv", points).unwrap();
+    let params = p.parameters.clone();
+    let sampling = p.sampling.clone();
+    evaluate(
+        &mut p.store,
+        &numeric,
+        &b,
+        &pts,
+        &params,
+        &sampling,
+        settings,
+    )
+}
+
 #[test]
 fn evaluation_names_the_point_of_a_singularity() {
-    let mut st = Store::new();
-    let h = tensor(&mut st, &[(0, 0, "2*m/sqrt(x^2 + y^2 + z^2)")]);
-    let b = blocks(&mut st, &h, None, &[Quantity::H], None).unwrap();
-    let pts = points::read_points("p.csv", "t,x,y,z\n0,1,0,0\n0,0,0,0\n").unwrap();
-    let params = vec![("m".to_string(), 0.5)];
-    let e = evaluate(&mut st, &b, &pts, &params, &Sampling::default()).unwrap_err();
+    let mut p =
+        problem("[parameters]\nm = 0.5\n[perturbation]\ntt = '2*m/sqrt(x^2 + y^2 + z^2)'\n");
+    let e = export(
+        &mut p,
+        &[Quantity::H],
+        None,
+        "t,x,y,z\n0,1,0,0\n0,0,0,0\n",
+        &Settings::default(),
+    )
+    .unwrap_err();
+    let ExportError::Point(e) = e else {
+        panic!("{e}")
+    };
     assert_eq!((e.row, e.column.as_str()), (1, "h_tt"));
     assert!(e.point.contains("line 3"), "{}", e.point);
-    let pts = points::read_points("p.csv", "0,1,0,0\n0,0,2,0\n").unwrap();
-    let ev = evaluate(&mut st, &b, &pts, &params, &Sampling::default()).unwrap();
+    let ev = export(
+        &mut p,
+        &[Quantity::H],
+        None,
+        "0,1,0,0\n0,0,2,0\n",
+        &Settings::default(),
+    )
+    .unwrap();
     assert_eq!(ev.table.columns.len(), 14);
-    assert!((ev.table.row(0)[4] - 1.0).abs() <= 4e-16);
-    assert!((ev.table.row(1)[4] - 0.5).abs() <= 2e-16);
+    // 2 m / r with m = 0.5: 1 and 0.5, within the certified bounds.
+    assert!((ev.table.row(0)[4] - 1.0).abs() <= ev.columns[0].bound);
+    assert!((ev.table.row(1)[4] - 0.5).abs() <= ev.columns[0].bound);
+    assert!(ev.columns[0].bound <= 1e-15, "{:?}", ev.columns);
+    assert_eq!(ev.audit.rows, 2);
+}
+
+/// Issue 9: the expanded form exp((2ty - t^2 - y^2)/(2 s^2)) loses every digit at t = 1e8;
+/// the user's own structure keeps them. Reference: mpmath at 50 digits (mp.dps = 50),
+/// exp(-(t - y)^2/(2 s^2)) with t = 100000000.099999994039535522 (the f64 of 100000000.1),
+/// y = 1e8, s = the f64 of 0.03: 0.0038659226997713171433...
+#[test]
+fn issue9_a_gaussian_pulse_far_from_the_origin_is_exported_right() {
+    let mut p = problem("[parameters]\ns = 0.03\n[perturbation]\nxx = 'exp(-(t - y)^2/(2*s^2))'\n");
+    let ev = export(
+        &mut p,
+        &[Quantity::H],
+        None,
+        "100000000.1,0,100000000,0\n",
+        &Settings::default(),
+    )
+    .unwrap();
+    let v = ev.table.row(0)[8];
     assert!(
-        ev.bounds[0] > 0.0 && ev.bounds[0] <= 1e-13,
-        "{:?}",
-        ev.bounds
+        (v / 0.003_865_922_699_771_317_143 - 1.0).abs() < 1e-12,
+        "{v}"
     );
+    assert!(ev.columns[4].bound <= 1e-12 * v, "{:?}", ev.columns[4]);
+}
+
+/// Cancellation that f64 intervals cannot resolve is resolved at higher precision:
+/// (1 + 1e-20 x)^2 - 1 - 2e-20 x = 1e-40 x^2 exactly.
+#[test]
+fn issue9_precision_is_raised_where_f64_intervals_cancel() {
+    let mut p = problem("[perturbation]\nxx = '(1 + x/10^20)^2 - 1 - 2*x/10^20'\n");
+    let ev = export(
+        &mut p,
+        &[Quantity::H],
+        None,
+        "0,3,0,0\n",
+        &Settings::default(),
+    )
+    .unwrap();
+    let v = ev.table.row(0)[8];
+    assert!((v / 9e-40 - 1.0).abs() < 1e-12, "{v}");
+    assert!(ev.columns[4].precision_bits >= 128, "{:?}", ev.columns[4]);
+}
+
+/// A value that is 0 at the point but not structurally: sin(pi x) at x = 1 cannot get a
+/// relative bound; with no other magnitude in its column it is refused, and accepted with an
+/// explicit zero tolerance.
+#[test]
+fn issue9_values_indistinguishable_from_zero_need_a_zero_tolerance() {
+    let mut p = problem("[perturbation]\nxx = 'sin(pi*x)'\n");
+    let e = export(
+        &mut p,
+        &[Quantity::H],
+        None,
+        "0,1,0,0\n",
+        &Settings::default(),
+    )
+    .unwrap_err();
+    let ExportError::Uncertified {
+        total, failures, ..
+    } = &e
+    else {
+        panic!("{e}")
+    };
+    assert_eq!((*total, failures[0].column.as_str()), (1, "h_xx"));
+    let s = Settings {
+        zero_tolerance: Some(1e-30),
+        ..Settings::default()
+    };
+    let ev = export(&mut p, &[Quantity::H], None, "0,1,0,0\n", &s).unwrap();
+    assert!(ev.table.row(0)[8].abs() <= 1e-30);
+    assert_eq!(ev.columns[4].near_zero_rows, 1);
+    // Beside a value of order 1 in the same column, the default zero tolerance accepts it.
+    let ev = export(
+        &mut p,
+        &[Quantity::H],
+        None,
+        "0,1,0,0\n0,0.5,0,0\n",
+        &Settings::default(),
+    )
+    .unwrap();
+    assert!((ev.table.row(1)[8] - 1.0).abs() <= ev.columns[4].bound);
+    assert!(ev.columns[4].bound <= 1e-15);
 }

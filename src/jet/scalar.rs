@@ -73,6 +73,15 @@ pub trait Scalar: Clone + fmt::Debug {
     fn mid_f64(&self) -> f64;
     /// An upper bound on the distance from the centre to the ends (may be infinite).
     fn rad_f64(&self) -> f64;
+    /// Certified outward f64 bounds `(lo, hi)`: every point of the enclosure lies in
+    /// `[lo, hi]` (either may be infinite beyond the f64 range).
+    fn bounds_f64(&self) -> (f64, f64);
+
+    /// The exactly known `x` as an input at the context's working precision (for a
+    /// multiprecision type, later operations on it keep that precision).
+    fn input(x: f64, _ctx: &Self::Ctx) -> Option<Self> {
+        Self::from_f64(x)
+    }
 
     /// Certified: every point is `> 0`.
     fn is_positive(&self) -> bool {
@@ -176,6 +185,9 @@ impl Scalar for Interval {
     }
     fn rad_f64(&self) -> f64 {
         self.rad()
+    }
+    fn bounds_f64(&self) -> (f64, f64) {
+        (self.lo(), self.hi())
     }
     fn is_positive(&self) -> bool {
         self.lo() > 0.0
@@ -468,6 +480,12 @@ impl Scalar for crate::interval::Ball {
     }
     fn rad_f64(&self) -> f64 {
         crate::interval::Ball::rad_f64(self)
+    }
+    fn bounds_f64(&self) -> (f64, f64) {
+        crate::interval::Ball::lo_hi_f64(self)
+    }
+    fn input(x: f64, ctx: &u32) -> Option<Self> {
+        crate::interval::Ball::from_f64(x).map(|b| b.with_prec(*ctx))
     }
 }
 
