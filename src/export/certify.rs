@@ -63,91 +63,191 @@ pub struct Frame<S> {
     pub v: [S; 3],
 }
 
-/// Enclosure arithmetic on optional values: `None` is "cannot evaluate here" and spreads.
-struct Ops<'a, S: Scalar> {
-    ctx: &'a S::Ctx,
+/// The arithmetic the quantity formulas are written in: certified enclosures
+/// ([`ScalarRing`]) for export, or expression nodes for generated code
+/// ([`crate::emit`]). `None` is "cannot evaluate here" and spreads.
+pub trait Ring {
+    /// A value.
+    type V: Clone;
+    /// The constant `c` (every constant in the formulas is a small dyadic rational).
+    fn num(&self, c: f64) -> Option<Self::V>;
+    /// pi.
+    fn pi(&self) -> Option<Self::V>;
+    /// `a + b`.
+    fn add(&self, a: &Self::V, b: &Self::V) -> Option<Self::V>;
+    /// `a - b`.
+    fn sub(&self, a: &Self::V, b: &Self::V) -> Option<Self::V>;
+    /// `a * b`.
+    fn mul(&self, a: &Self::V, b: &Self::V) -> Option<Self::V>;
+    /// `-a`.
+    fn neg(&self, a: &Self::V) -> Option<Self::V>;
 }
 
-impl<S: Scalar> Ops<'_, S> {
-    fn k(&self, c: f64) -> Option<S> {
-        // Every constant used here is a small dyadic rational, exact in f64.
+/// `h_{mu nu}` and `T_{mu nu}` with their derivatives at a point (or as expressions).
+pub trait FieldSource {
+    /// A value.
+    type V;
+    /// `h_{mu nu}`.
+    fn h(&self, mu: usize, nu: usize) -> Option<Self::V>;
+    /// `d_rho h_{mu nu}`.
+    fn dh(&self, rho: usize, mu: usize, nu: usize) -> Option<Self::V>;
+    /// `d_a d_b h_{mu nu}`.
+    fn ddh(&self, a: usize, b: usize, mu: usize, nu: usize) -> Option<Self::V>;
+    /// `T_{mu nu}` (only asked when [`FieldSource::has_source`]).
+    fn t(&self, mu: usize, nu: usize) -> Option<Self::V>;
+    /// True if the problem has a source.
+    fn has_source(&self) -> bool;
+}
+
+/// Certified enclosure arithmetic in a [`Scalar`] type.
+pub struct ScalarRing<'a, S: Scalar> {
+    /// The precision context.
+    pub ctx: &'a S::Ctx,
+}
+
+impl<S: Scalar> Ring for ScalarRing<'_, S> {
+    type V = S;
+    fn num(&self, c: f64) -> Option<S> {
         S::from_f64(c)
     }
-    fn pi_times(&self, c: f64) -> Option<S> {
-        S::pi(self.ctx)?.mul(&self.k(c)?)
+    fn pi(&self) -> Option<S> {
+        S::pi(self.ctx)
     }
-    fn add(&self, a: Option<S>, b: Option<S>) -> Option<S> {
-        a?.add(&b?)
+    fn add(&self, a: &S, b: &S) -> Option<S> {
+        a.add(b)
     }
-    fn sub(&self, a: Option<S>, b: Option<S>) -> Option<S> {
-        a?.sub(&b?)
+    fn sub(&self, a: &S, b: &S) -> Option<S> {
+        a.sub(b)
     }
-    fn mul(&self, a: Option<S>, b: Option<S>) -> Option<S> {
-        a?.mul(&b?)
+    fn mul(&self, a: &S, b: &S) -> Option<S> {
+        a.mul(b)
     }
-    fn scale(&self, c: f64, a: Option<S>) -> Option<S> {
-        a?.mul(&self.k(c)?)
+    fn neg(&self, a: &S) -> Option<S> {
+        Some(a.neg())
     }
-    fn sum(&self, items: impl IntoIterator<Item = Option<S>>) -> Option<S> {
-        let mut acc = S::zero();
-        for x in items {
-            acc = acc.add(&x?)?;
+}
+
+impl<S: Scalar> FieldSource for Fields<S> {
+    type V = S;
+    fn h(&self, mu: usize, nu: usize) -> Option<S> {
+        Fields::h(self, mu, nu)
+    }
+    fn dh(&self, rho: usize, mu: usize, nu: usize) -> Option<S> {
+        Fields::dh(self, rho, mu, nu)
+    }
+    fn ddh(&self, a: usize, b: usize, mu: usize, nu: usize) -> Option<S> {
+        Fields::ddh(self, a, b, mu, nu)
+    }
+    fn t(&self, mu: usize, nu: usize) -> Option<S> {
+        Fields::t(self, mu, nu)
+    }
+    fn has_source(&self) -> bool {
+        Fields::has_source(self)
+    }
+}
+
+/// Ring arithmetic on optional values.
+struct Ops<'a, R: Ring> {
+    r: &'a R,
+}
+
+impl<R: Ring> Ops<'_, R> {
+    fn k(&self, c: f64) -> Option<R::V> {
+        self.r.num(c)
+    }
+    fn pi_times(&self, c: f64) -> Option<R::V> {
+        self.r.mul(&self.r.pi()?, &self.k(c)?)
+    }
+    fn add(&self, a: Option<R::V>, b: Option<R::V>) -> Option<R::V> {
+        self.r.add(&a?, &b?)
+    }
+    fn sub(&self, a: Option<R::V>, b: Option<R::V>) -> Option<R::V> {
+        self.r.sub(&a?, &b?)
+    }
+    fn mul(&self, a: Option<R::V>, b: Option<R::V>) -> Option<R::V> {
+        self.r.mul(&a?, &b?)
+    }
+    fn neg(&self, a: Option<R::V>) -> Option<R::V> {
+        self.r.neg(&a?)
+    }
+    fn scale(&self, c: f64, a: Option<R::V>) -> Option<R::V> {
+        if c == 1.0 {
+            return a;
         }
-        Some(acc)
+        if c == -1.0 {
+            return self.neg(a);
+        }
+        self.r.mul(&self.k(c)?, &a?)
+    }
+    fn sum(&self, items: impl IntoIterator<Item = Option<R::V>>) -> Option<R::V> {
+        let mut acc: Option<R::V> = None;
+        for x in items {
+            let x = x?;
+            acc = Some(match acc {
+                None => x,
+                Some(a) => self.r.add(&a, &x)?,
+            });
+        }
+        acc.or_else(|| self.k(0.0))
     }
 }
 
 /// `R_abcd = (1/2)(d_b d_c h_ad + d_a d_d h_bc - d_a d_c h_bd - d_b d_d h_ac)` (MTW sign).
-fn riemann<S: Scalar>(o: &Ops<'_, S>, f: &Fields<S>, [a, b, c, d]: [usize; 4]) -> Option<S> {
+fn riemann<R: Ring, F: FieldSource<V = R::V>>(
+    o: &Ops<'_, R>,
+    f: &F,
+    [a, b, c, d]: [usize; 4],
+) -> Option<R::V> {
     let p = o.add(f.ddh(b, c, a, d), f.ddh(a, d, b, c));
     let m = o.add(f.ddh(a, c, b, d), f.ddh(b, d, a, c));
     o.scale(0.5, o.sub(p, m))
 }
 
 /// `R_mn = eta^{rs} R_{r m s n}`.
-fn ricci<S: Scalar>(o: &Ops<'_, S>, f: &Fields<S>) -> [[Option<S>; 4]; 4] {
+fn ricci<R: Ring, F: FieldSource<V = R::V>>(o: &Ops<'_, R>, f: &F) -> [[Option<R::V>; 4]; 4] {
     std::array::from_fn(|m| {
         std::array::from_fn(|n| o.sum((0..4).map(|s| o.scale(ETA[s], riemann(o, f, [s, m, s, n])))))
     })
 }
 
 /// `-(1/2)(d_t h_ij - d_i h_tj - d_j h_ti)`, spatial indices from 0.
-fn extrinsic<S: Scalar>(o: &Ops<'_, S>, f: &Fields<S>, i: usize, j: usize) -> Option<S> {
+fn extrinsic<R: Ring, F: FieldSource<V = R::V>>(
+    o: &Ops<'_, R>,
+    f: &F,
+    i: usize,
+    j: usize,
+) -> Option<R::V> {
     let (a, b) = (i + 1, j + 1);
     let s = o.add(f.dh(a, 0, b), f.dh(b, 0, a));
     o.scale(-0.5, o.sub(f.dh(0, a, b), s))
 }
 
 /// `d_k K_ij = -(1/2)(d_k d_t h_ij - d_k d_i h_tj - d_k d_j h_ti)`, spatial indices from 0.
-fn d_extrinsic<S: Scalar>(
-    o: &Ops<'_, S>,
-    f: &Fields<S>,
+fn d_extrinsic<R: Ring, F: FieldSource<V = R::V>>(
+    o: &Ops<'_, R>,
+    f: &F,
     k: usize,
     i: usize,
     j: usize,
-) -> Option<S> {
+) -> Option<R::V> {
     let (c, a, b) = (k + 1, i + 1, j + 1);
     let s = o.add(f.ddh(c, a, 0, b), f.ddh(c, b, 0, a));
     o.scale(-0.5, o.sub(f.ddh(c, 0, a, b), s))
 }
 
-/// The column values of `q` at the point of `f`, in the order of
+/// The column values of `q` for the fields `f`, in the order of
 /// [`super::quantity::blocks`]; `None` where a value cannot be evaluated. `frame` is needed
 /// by psi4, hplus and hcross (all `None` without it).
 #[must_use]
-pub fn quantity_values<S: Scalar>(
+pub fn quantity_values<R: Ring, F: FieldSource<V = R::V>>(
+    ring: &R,
     q: Quantity,
-    f: &Fields<S>,
-    frame: Option<&Frame<S>>,
-) -> Vec<Option<S>> {
-    let o = Ops::<S> { ctx: f.ctx() };
-    let source = |m: usize, n: usize| -> Option<S> {
-        if f.has_source() {
-            f.t(m, n)
-        } else {
-            Some(S::zero())
-        }
-    };
+    f: &F,
+    frame: Option<&Frame<R::V>>,
+) -> Vec<Option<R::V>> {
+    let o = Ops { r: ring };
+    let source =
+        |m: usize, n: usize| -> Option<R::V> { if f.has_source() { f.t(m, n) } else { o.k(0.0) } };
     match q {
         Quantity::H => SYM.iter().map(|&(m, n)| f.h(m, n)).collect(),
         Quantity::Hbar => {
@@ -200,8 +300,11 @@ pub fn quantity_values<S: Scalar>(
             let mut out = vec![o.sub(o.k(1.0), o.scale(0.5, f.h(0, 0)))];
             out.extend((1..4).map(|i| f.h(0, i)));
             for &(i, j) in &SPATIAL_SYM {
-                let delta = if i == j { 1.0 } else { 0.0 };
-                out.push(o.add(o.k(delta), f.h(i + 1, j + 1)));
+                out.push(if i == j {
+                    o.add(o.k(1.0), f.h(i + 1, j + 1))
+                } else {
+                    f.h(i + 1, j + 1)
+                });
             }
             for &(i, j) in &SPATIAL_SYM {
                 out.push(extrinsic(&o, f, i, j));
@@ -210,24 +313,23 @@ pub fn quantity_values<S: Scalar>(
         }
         Quantity::Constraints => {
             // H = d_i d_j h_ij - d_k d_k h_jj - 16 pi T_tt.
-            let didj = o.sum(
-                (1..4)
-                    .flat_map(|i| (1..4).map(move |j| (i, j)))
-                    .map(|(i, j)| f.ddh(i, j, i, j)),
-            );
-            let lap_tr = o.sum(
-                (1..4)
-                    .flat_map(|k| (1..4).map(move |j| (k, j)))
-                    .map(|(k, j)| f.ddh(k, k, j, j)),
-            );
-            let rho = o.mul(o.pi_times(16.0), source(0, 0));
-            let mut out = vec![o.sub(o.sub(didj, lap_tr), rho)];
+            let pairs = || (1..4).flat_map(|i| (1..4).map(move |j| (i, j)));
+            let didj = o.sum(pairs().map(|(i, j)| f.ddh(i, j, i, j)));
+            let lap_tr = o.sum(pairs().map(|(k, j)| f.ddh(k, k, j, j)));
+            let mut h = o.sub(didj, lap_tr);
+            if f.has_source() {
+                h = o.sub(h, o.mul(o.pi_times(16.0), source(0, 0)));
+            }
+            let mut out = vec![h];
             // M_i = d_j K_ij - d_i K - 8 pi S_i, K = K_jj, S_i = -T_ti.
             for i in 0..3 {
                 let div = o.sum((0..3).map(|j| d_extrinsic(&o, f, j, i, j)));
                 let dk = o.sum((0..3).map(|j| d_extrinsic(&o, f, i, j, j)));
-                let s = o.mul(o.pi_times(8.0), source(0, i + 1));
-                out.push(o.add(o.sub(div, dk), s));
+                let mut m = o.sub(div, dk);
+                if f.has_source() {
+                    m = o.add(m, o.mul(o.pi_times(8.0), source(0, i + 1)));
+                }
+                out.push(m);
             }
             out
         }
@@ -235,52 +337,48 @@ pub fn quantity_values<S: Scalar>(
             let Some(fr) = frame else {
                 return vec![None, None];
             };
-            let z = Some(S::zero());
-            let nt: [Option<S>; 4] = [
+            // N = d_t - n^i d_i, U = (0, u), V = (0, v); zero entries are None here and
+            // skipped in the contraction.
+            let nt: [Option<R::V>; 4] = [
                 o.k(1.0),
-                Some(fr.n[0].neg()),
-                Some(fr.n[1].neg()),
-                Some(fr.n[2].neg()),
+                o.neg(Some(fr.n[0].clone())),
+                o.neg(Some(fr.n[1].clone())),
+                o.neg(Some(fr.n[2].clone())),
             ];
-            let u: [Option<S>; 4] = [
-                z.clone(),
-                Some(fr.u[0].clone()),
-                Some(fr.u[1].clone()),
-                Some(fr.u[2].clone()),
-            ];
-            let v: [Option<S>; 4] = [
-                z,
-                Some(fr.v[0].clone()),
-                Some(fr.v[1].clone()),
-                Some(fr.v[2].clone()),
-            ];
-            let mut r = vec![None; 256];
-            for a in 0..4 {
-                for b in 0..4 {
-                    for c in 0..4 {
-                        for d in 0..4 {
-                            r[((a * 4 + b) * 4 + c) * 4 + d] = riemann(&o, f, [a, b, c, d]);
-                        }
-                    }
-                }
-            }
-            let contract = |w: [&[Option<S>; 4]; 4]| -> Option<S> {
-                let mut acc = S::zero();
+            let spatial = |w: &[R::V; 3]| -> [Option<R::V>; 4] {
+                [
+                    None,
+                    Some(w[0].clone()),
+                    Some(w[1].clone()),
+                    Some(w[2].clone()),
+                ]
+            };
+            let (u, v) = (spatial(&fr.u), spatial(&fr.v));
+            let contract = |w: [&[Option<R::V>; 4]; 4]| -> Option<R::V> {
+                let mut terms = Vec::new();
                 for a in 0..4 {
                     for b in 0..4 {
                         for c in 0..4 {
                             for d in 0..4 {
+                                let (Some(wa), Some(wb), Some(wc), Some(wd)) =
+                                    (&w[0][a], &w[1][b], &w[2][c], &w[3][d])
+                                else {
+                                    continue;
+                                };
+                                // R_abcd vanishes for a = b or c = d.
+                                if a == b || c == d {
+                                    continue;
+                                }
                                 let p = o.mul(
-                                    o.mul(w[0][a].clone(), w[1][b].clone()),
-                                    o.mul(w[2][c].clone(), w[3][d].clone()),
+                                    o.mul(Some(wa.clone()), Some(wb.clone())),
+                                    o.mul(Some(wc.clone()), Some(wd.clone())),
                                 );
-                                acc =
-                                    acc.add(&o.mul(p, r[((a * 4 + b) * 4 + c) * 4 + d].clone())?)?;
+                                terms.push(o.mul(p, riemann(&o, f, [a, b, c, d])));
                             }
                         }
                     }
                 }
-                Some(acc)
+                o.sum(terms)
             };
             let nunu = contract([&nt, &u, &nt, &u]);
             let nvnv = contract([&nt, &v, &nt, &v]);
@@ -298,49 +396,58 @@ pub fn quantity_values<S: Scalar>(
 
 /// `h_plus = (1/2) h^TT_ij (u_i u_j - v_i v_j)` or `h_cross = (1/2) h^TT_ij (u_i v_j + v_i
 /// u_j)`, with `h^TT = P h P - (1/2) P tr(P h)` and `P_ij = delta_ij - n_i n_j`.
-fn polarization<S: Scalar>(o: &Ops<'_, S>, f: &Fields<S>, fr: &Frame<S>, plus: bool) -> Option<S> {
-    let mut p: [[S; 3]; 3] = std::array::from_fn(|_| std::array::from_fn(|_| S::zero()));
+fn polarization<R: Ring, F: FieldSource<V = R::V>>(
+    o: &Ops<'_, R>,
+    f: &F,
+    fr: &Frame<R::V>,
+    plus: bool,
+) -> Option<R::V> {
+    let c = |x: &R::V| Some(x.clone());
+    let mut p: Vec<Vec<Option<R::V>>> = vec![vec![None; 3]; 3];
     for i in 0..3 {
         for j in 0..3 {
-            let delta = if i == j { 1.0 } else { 0.0 };
-            p[i][j] = o.k(delta)?.sub(&fr.n[i].mul(&fr.n[j])?)?;
-        }
-    }
-    let mut h: [[S; 3]; 3] = std::array::from_fn(|_| std::array::from_fn(|_| S::zero()));
-    for i in 0..3 {
-        for j in 0..3 {
-            h[i][j] = f.h(i + 1, j + 1)?;
-        }
-    }
-    let matmul = |a: &[[S; 3]; 3], b: &[[S; 3]; 3]| -> Option<[[S; 3]; 3]> {
-        let mut out: [[S; 3]; 3] = std::array::from_fn(|_| std::array::from_fn(|_| S::zero()));
-        for i in 0..3 {
-            for j in 0..3 {
-                let mut acc = S::zero();
-                for k in 0..3 {
-                    acc = acc.add(&a[i][k].mul(&b[k][j])?)?;
-                }
-                out[i][j] = acc;
-            }
-        }
-        Some(out)
-    };
-    let ph = matmul(&p, &h)?;
-    let php = matmul(&ph, &p)?;
-    let half_tr = o.scale(0.5, o.sum((0..3).map(|i| Some(ph[i][i].clone()))))?;
-    let mut acc = S::zero();
-    for i in 0..3 {
-        for j in 0..3 {
-            let tt = php[i][j].sub(&p[i][j].mul(&half_tr)?)?;
-            let e = if plus {
-                fr.u[i].mul(&fr.u[j])?.sub(&fr.v[i].mul(&fr.v[j])?)?
+            let nn = o.mul(c(&fr.n[i]), c(&fr.n[j]));
+            p[i][j] = if i == j {
+                o.sub(o.k(1.0), nn)
             } else {
-                fr.u[i].mul(&fr.v[j])?.add(&fr.v[i].mul(&fr.u[j])?)?
+                o.neg(nn)
             };
-            acc = acc.add(&tt.mul(&e)?)?;
         }
     }
-    o.scale(0.5, Some(acc))
+    let h: Vec<Vec<Option<R::V>>> = (0..3)
+        .map(|i| (0..3).map(|j| f.h(i + 1, j + 1)).collect())
+        .collect();
+    let matmul = |a: &Vec<Vec<Option<R::V>>>, b: &Vec<Vec<Option<R::V>>>| {
+        (0..3)
+            .map(|i| {
+                (0..3)
+                    .map(|j| o.sum((0..3).map(|k| o.mul(a[i][k].clone(), b[k][j].clone()))))
+                    .collect::<Vec<_>>()
+            })
+            .collect::<Vec<_>>()
+    };
+    let ph = matmul(&p, &h);
+    let php = matmul(&ph, &p);
+    let half_tr = o.scale(0.5, o.sum((0..3).map(|i| ph[i][i].clone())));
+    let mut terms = Vec::new();
+    for i in 0..3 {
+        for j in 0..3 {
+            let tt = o.sub(php[i][j].clone(), o.mul(p[i][j].clone(), half_tr.clone()));
+            let e = if plus {
+                o.sub(
+                    o.mul(c(&fr.u[i]), c(&fr.u[j])),
+                    o.mul(c(&fr.v[i]), c(&fr.v[j])),
+                )
+            } else {
+                o.add(
+                    o.mul(c(&fr.u[i]), c(&fr.v[j])),
+                    o.mul(c(&fr.v[i]), c(&fr.u[j])),
+                )
+            };
+            terms.push(o.mul(tt, e));
+        }
+    }
+    o.scale(0.5, o.sum(terms))
 }
 
 /// The highest order of derivatives of `h` that `q` needs.

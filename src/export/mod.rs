@@ -159,7 +159,8 @@ impl Numeric {
         };
         let mut out = Vec::new();
         for &q in quantities {
-            let mut vals = certify::quantity_values(q, &f, frame.as_ref());
+            let ring = certify::ScalarRing::<S> { ctx };
+            let mut vals = certify::quantity_values(&ring, q, &f, frame.as_ref());
             if q.needs_direction() && frame.is_none() {
                 vals.iter_mut().for_each(|v| *v = None);
             }

@@ -240,7 +240,7 @@ impl GridPlan {
                 comps.push((field, name, mu, nu, node));
             }
         }
-        GridPlan::assemble(lowering.builder, comps, specs, has_claims)
+        GridPlan::assemble(lowering.target.builder, comps, specs, has_claims)
     }
 
     /// The plan for `specs` over the canonical forms `h` and `source`, with parameter values

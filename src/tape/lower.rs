@@ -74,17 +74,137 @@ pub struct UserExprs {
     pub functions: Vec<(String, String)>,
 }
 
-/// Lowers user expressions into one [`TapeBuilder`].
-pub struct Lowering {
+/// Where lowered nodes go: an operation graph with hash-consing, such as the grid's
+/// [`TapeBuilder`] ([`TapeTarget`]) or the code emitter's DAG.
+pub trait Target {
+    /// A node of the target graph.
+    type Node: Copy;
+    /// The constant `v` (exact rationals are rounded to nearest; pi is `std::f64::consts::PI`).
+    fn number(&mut self, v: f64) -> Self::Node;
+    /// The node of a name: a coordinate or parameter at the top level (`sample` is `None`),
+    /// or a name inside the sample of function `sample` (other than its variable).
+    ///
+    /// # Errors
+    ///
+    /// [`TapeError::Unbound`] or [`TapeError::UnboundInSample`] for a name without a value.
+    fn symbol(&mut self, name: &str, sample: Option<&str>) -> Result<Self::Node, TapeError>;
+    /// `a + b`.
+    fn add(&mut self, a: Self::Node, b: Self::Node) -> Self::Node;
+    /// `a - b`.
+    fn sub(&mut self, a: Self::Node, b: Self::Node) -> Self::Node;
+    /// `a * b`.
+    fn mul(&mut self, a: Self::Node, b: Self::Node) -> Self::Node;
+    /// `a / b`.
+    fn div(&mut self, a: Self::Node, b: Self::Node) -> Self::Node;
+    /// `-a`.
+    fn neg(&mut self, a: Self::Node) -> Self::Node;
+    /// `a^k`, `k` an integer of either sign (not 0 or 1).
+    fn powi(&mut self, a: Self::Node, k: i32) -> Self::Node;
+    /// The principal `a^(1/q)`.
+    fn root(&mut self, a: Self::Node, q: u32) -> Self::Node;
+    /// `exp(a)`.
+    fn exp(&mut self, a: Self::Node) -> Self::Node;
+    /// `log(a)`.
+    fn log(&mut self, a: Self::Node) -> Self::Node;
+    /// `sin(a)`.
+    fn sin(&mut self, a: Self::Node) -> Self::Node;
+    /// `cos(a)`.
+    fn cos(&mut self, a: Self::Node) -> Self::Node;
+    /// Derivative `k` of the arbitrary function `f` at `arg` as a call the target keeps
+    /// (code calling a user-supplied function), or `None` to evaluate `f`'s sample instead.
+    fn call(&mut self, _f: &str, _k: u32, _arg: Self::Node) -> Option<Self::Node> {
+        None
+    }
+}
+
+/// The grid's target: a [`TapeBuilder`] with coordinates bound to inputs and parameters to
+/// values.
+pub struct TapeTarget {
     /// The builder the nodes live in.
     pub builder: TapeBuilder,
+    bindings: FxHashMap<String, Binding>,
+}
+
+impl Target for TapeTarget {
+    type Node = Node;
+    fn number(&mut self, v: f64) -> Node {
+        self.builder.real(v)
+    }
+    fn symbol(&mut self, name: &str, sample: Option<&str>) -> Result<Node, TapeError> {
+        match (self.bindings.get(name), sample) {
+            (Some(Binding::Input(i)), None) => Ok(self.builder.input(*i)),
+            (Some(Binding::Value(v)), _) => Ok(self.builder.real(*v)),
+            (_, None) => Err(TapeError::Unbound(name.to_string())),
+            (_, Some(f)) => Err(TapeError::UnboundInSample {
+                func: f.to_string(),
+                name: name.to_string(),
+            }),
+        }
+    }
+    fn add(&mut self, a: Node, b: Node) -> Node {
+        self.builder.add(a, b)
+    }
+    fn sub(&mut self, a: Node, b: Node) -> Node {
+        self.builder.sub(a, b)
+    }
+    fn mul(&mut self, a: Node, b: Node) -> Node {
+        self.builder.mul(a, b)
+    }
+    fn div(&mut self, a: Node, b: Node) -> Node {
+        self.builder.div(a, b)
+    }
+    fn neg(&mut self, a: Node) -> Node {
+        self.builder.neg(a)
+    }
+    fn powi(&mut self, a: Node, k: i32) -> Node {
+        self.builder.powi(a, k)
+    }
+    fn root(&mut self, a: Node, q: u32) -> Node {
+        self.builder.root(a, q)
+    }
+    fn exp(&mut self, a: Node) -> Node {
+        self.builder.exp(a)
+    }
+    fn log(&mut self, a: Node) -> Node {
+        self.builder.log(a)
+    }
+    fn sin(&mut self, a: Node) -> Node {
+        self.builder.sin(a)
+    }
+    fn cos(&mut self, a: Node) -> Node {
+        self.builder.cos(a)
+    }
+}
+
+/// A node of the user-structure DAG, for building expressions from lowered parts (see
+/// [`Lowering::text`], [`Lowering::derivative`], [`Lowering::combine`]).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub struct UserNode(u32);
+
+/// An operation on user-structure nodes, for [`Lowering::combine`].
+#[derive(Clone, Copy, Debug)]
+pub enum Combine {
+    /// `a + b`.
+    Add(UserNode, UserNode),
+    /// `a - b`.
+    Sub(UserNode, UserNode),
+    /// `a * b`.
+    Mul(UserNode, UserNode),
+    /// `-a`.
+    Neg(UserNode),
+}
+
+/// Lowers user expressions into one [`Target`] graph.
+pub struct Lowering<T: Target = TapeTarget> {
+    /// The graph the lowered nodes live in.
+    pub target: T,
+    top_memo: FxHashMap<u32, T::Node>,
     nodes: Vec<U>,
     index: FxHashMap<U, u32>,
     symbols: Vec<String>,
     symbol_ids: FxHashMap<String, u32>,
     functions: Vec<String>,
     function_ids: FxHashMap<String, u32>,
-    bindings: FxHashMap<String, Binding>,
     define_text: FxHashMap<String, Expr>,
     define_nodes: FxHashMap<String, u32>,
     samples: FxHashMap<String, Expr>,
@@ -100,7 +220,7 @@ fn parse(text: &str, what: &str) -> Result<Expr, TapeError> {
     })
 }
 
-impl Lowering {
+impl Lowering<TapeTarget> {
     /// A lowering with tape inputs and constants given by `bindings` (coordinates to inputs,
     /// parameters to values), over the user's defines and function samples.
     ///
@@ -111,16 +231,48 @@ impl Lowering {
         n_inputs: usize,
         bindings: FxHashMap<String, Binding>,
         user: &UserExprs,
-    ) -> Result<Lowering, TapeError> {
+    ) -> Result<Lowering<TapeTarget>, TapeError> {
+        Lowering::with_target(
+            TapeTarget {
+                builder: TapeBuilder::new(n_inputs),
+                bindings,
+            },
+            user,
+        )
+    }
+
+    /// The tape node of the user expression `text` (a component of h or T).
+    ///
+    /// # Errors
+    ///
+    /// A parse error, a name without a value, a function without a sample, a power too large.
+    pub fn expression(&mut self, text: &str) -> Result<Node, TapeError> {
+        let n = self.text(text)?;
+        self.lower(n)
+    }
+
+    /// A constant node, for callers that add their own.
+    pub fn constant(&mut self, c: C64) -> Node {
+        self.target.builder.constant(c)
+    }
+}
+
+impl<T: Target> Lowering<T> {
+    /// A lowering into `target` over the user's defines and function samples.
+    ///
+    /// # Errors
+    ///
+    /// A define or sample that does not parse.
+    pub fn with_target(target: T, user: &UserExprs) -> Result<Lowering<T>, TapeError> {
         let mut l = Lowering {
-            builder: TapeBuilder::new(n_inputs),
+            target,
+            top_memo: FxHashMap::default(),
             nodes: Vec::new(),
             index: FxHashMap::default(),
             symbols: Vec::new(),
             symbol_ids: FxHashMap::default(),
             functions: Vec::new(),
             function_ids: FxHashMap::default(),
-            bindings,
             define_text: FxHashMap::default(),
             define_nodes: FxHashMap::default(),
             samples: FxHashMap::default(),
@@ -139,6 +291,64 @@ impl Lowering {
             l.samples.insert(name.clone(), e);
         }
         Ok(l)
+    }
+
+    /// The user-structure node of `text` (defines shared, `d_` applied), not yet lowered.
+    ///
+    /// # Errors
+    ///
+    /// A parse error or a DAG beyond [`MAX_NODES`].
+    pub fn text(&mut self, text: &str) -> Result<UserNode, TapeError> {
+        let e = parse(text, "component")?;
+        Ok(UserNode(self.build(&e, false)?))
+    }
+
+    /// The partial derivative of `n` by the coordinate or parameter `var`.
+    ///
+    /// # Errors
+    ///
+    /// A DAG beyond [`MAX_NODES`].
+    pub fn derivative(&mut self, n: UserNode, var: &str) -> Result<UserNode, TapeError> {
+        let s = self.symbol(var);
+        Ok(UserNode(self.diff(n.0, s)?))
+    }
+
+    /// The exact constant `q`.
+    pub fn number(&mut self, q: BigRational) -> UserNode {
+        UserNode(self.rational(q))
+    }
+
+    /// pi.
+    pub fn pi(&mut self) -> UserNode {
+        UserNode(self.push(U::Pi))
+    }
+
+    /// The result of one operation on user-structure nodes (with the folds of 0 and 1).
+    pub fn combine(&mut self, op: Combine) -> UserNode {
+        UserNode(match op {
+            Combine::Add(a, b) => self.add(a.0, b.0),
+            Combine::Sub(a, b) => self.sub(a.0, b.0),
+            Combine::Mul(a, b) => self.mul(a.0, b.0),
+            Combine::Neg(a) => self.neg(a.0),
+        })
+    }
+
+    /// True if `n` is the exact constant 0.
+    #[must_use]
+    pub fn is_zero(&self, n: UserNode) -> bool {
+        n.0 == self.zero
+    }
+
+    /// Lowers `n` into the target (top-level names; nodes shared across calls).
+    ///
+    /// # Errors
+    ///
+    /// A name without a value, a function without a sample, a power too large.
+    pub fn lower(&mut self, n: UserNode) -> Result<T::Node, TapeError> {
+        let mut memo = std::mem::take(&mut self.top_memo);
+        let r = self.emit(n.0, &Scope::Top, &mut memo);
+        self.top_memo = memo;
+        r
     }
 
     fn push(&mut self, u: U) -> u32 {
@@ -475,24 +685,12 @@ impl Lowering {
         Ok(d)
     }
 
-    /// The tape node of the user expression `text` (a component of h or T).
-    ///
-    /// # Errors
-    ///
-    /// A parse error, a name without a value, a function without a sample, a power too large.
-    pub fn expression(&mut self, text: &str) -> Result<Node, TapeError> {
-        let e = parse(text, "component")?;
-        let n = self.build(&e, false)?;
-        let mut memo = FxHashMap::default();
-        self.emit(n, &Scope::Top, &mut memo)
-    }
-
     fn emit(
         &mut self,
         n: u32,
-        scope: &Scope,
-        memo: &mut FxHashMap<u32, Node>,
-    ) -> Result<Node, TapeError> {
+        scope: &Scope<T::Node>,
+        memo: &mut FxHashMap<u32, T::Node>,
+    ) -> Result<T::Node, TapeError> {
         if let Some(&t) = memo.get(&n) {
             return Ok(t);
         }
@@ -502,74 +700,61 @@ impl Lowering {
                     .to_f64()
                     .filter(|v| v.is_finite())
                     .ok_or_else(|| TapeError::Unsupported(q.to_string()))?;
-                self.builder.real(v)
+                self.target.number(v)
             }
-            U::Pi => self.builder.real(std::f64::consts::PI),
+            U::Pi => self.target.number(std::f64::consts::PI),
             U::Sym(s) => {
                 let name = self.symbols[s as usize].clone();
                 match scope {
                     Scope::Sample { var, arg, .. } if name == *var => *arg,
-                    _ => match self.bindings.get(&name) {
-                        Some(Binding::Input(i)) if matches!(scope, Scope::Top) => {
-                            self.builder.input(*i)
-                        }
-                        Some(Binding::Value(v)) => self.builder.real(*v),
-                        _ => {
-                            return Err(match scope {
-                                Scope::Top => TapeError::Unbound(name),
-                                Scope::Sample { func, .. } => TapeError::UnboundInSample {
-                                    func: func.clone(),
-                                    name,
-                                },
-                            });
-                        }
-                    },
+                    Scope::Sample { func, .. } => self.target.symbol(&name, Some(func))?,
+                    Scope::Top => self.target.symbol(&name, None)?,
                 }
             }
             U::Add(a, b) => {
                 let (x, y) = (self.emit(a, scope, memo)?, self.emit(b, scope, memo)?);
-                self.builder.add(x, y)
+                self.target.add(x, y)
             }
             U::Sub(a, b) => {
                 let (x, y) = (self.emit(a, scope, memo)?, self.emit(b, scope, memo)?);
-                self.builder.sub(x, y)
+                self.target.sub(x, y)
             }
             U::Mul(a, b) => {
                 let (x, y) = (self.emit(a, scope, memo)?, self.emit(b, scope, memo)?);
-                self.builder.mul(x, y)
+                self.target.mul(x, y)
             }
             U::Div(a, b) => {
                 let (x, y) = (self.emit(a, scope, memo)?, self.emit(b, scope, memo)?);
-                self.builder.div(x, y)
+                self.target.div(x, y)
             }
             U::Neg(a) => {
                 let x = self.emit(a, scope, memo)?;
-                self.builder.neg(x)
+                self.target.neg(x)
             }
             U::PowI(a, k) => {
                 let x = self.emit(a, scope, memo)?;
                 let k = i32::try_from(k).map_err(|_| TapeError::Power(k.to_string()))?;
-                self.builder.powi(x, k)
+                self.target.powi(x, k)
             }
             U::Root(a, q) => {
                 let x = self.emit(a, scope, memo)?;
-                self.builder.root(x, q)
+                self.target.root(x, q)
             }
             U::Exp(a) => {
                 let x = self.emit(a, scope, memo)?;
-                self.builder.exp(x)
+                self.target.exp(x)
             }
             U::Log(a) => {
                 let x = self.emit(a, scope, memo)?;
-                self.builder.log(x)
+                self.target.log(x)
             }
             U::Sin(a) => {
                 let x = self.emit(a, scope, memo)?;
-                self.builder.sin(x)
+                self.target.sin(x)
             }
             U::Cos(a) => {
                 let x = self.emit(a, scope, memo)?;
-                self.builder.cos(x)
+                self.target.cos(x)
             }
             U::Func(f, k, a) => {
                 let x = self.emit(a, scope, memo)?;
@@ -581,8 +766,17 @@ impl Lowering {
     }
 
     /// `F^(k)(x)`: the sample of `F` differentiated `k` times by `u`, lowered with `u = x`.
-    fn call(&mut self, f: u32, k: u32, x: Node, scope: &Scope) -> Result<Node, TapeError> {
+    fn call(
+        &mut self,
+        f: u32,
+        k: u32,
+        x: T::Node,
+        scope: &Scope<T::Node>,
+    ) -> Result<T::Node, TapeError> {
         let name = self.functions[f as usize].clone();
+        if let Some(n) = self.target.call(&name, k, x) {
+            return Ok(n);
+        }
         let depth = match scope {
             Scope::Top => 0,
             Scope::Sample { depth, .. } => depth + 1,
@@ -609,20 +803,15 @@ impl Lowering {
         let mut memo = FxHashMap::default();
         self.emit(s, &inner, &mut memo)
     }
-
-    /// A constant node, for callers that add their own.
-    pub fn constant(&mut self, c: C64) -> Node {
-        self.builder.constant(c)
-    }
 }
 
 /// Where names are looked up while emitting.
-enum Scope {
+enum Scope<N> {
     Top,
     Sample {
         func: String,
         var: String,
-        arg: Node,
+        arg: N,
         depth: usize,
     },
 }
@@ -653,7 +842,7 @@ mod tests {
 
     fn value(l: &mut Lowering, text: &str, p: [f64; 4]) -> f64 {
         let n = l.expression(text).unwrap();
-        let tape = l.builder.finish(&[n]);
+        let tape = l.target.builder.finish(&[n]);
         tape.eval_point(&p)[0].re
     }
 

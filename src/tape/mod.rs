@@ -41,7 +41,7 @@ mod tests;
 pub use compile::{Compiler, TapeError};
 pub use lane::{C64, Lane};
 pub use lattice::{Lattice, PlaneOutcome, PlaneWork};
-pub use lower::{Binding, Lowering, UserExprs};
+pub use lower::{Binding, Combine, Lowering, TapeTarget, Target, UserExprs, UserNode};
 
 use lane::{Shape, map1, spread, zip2};
 use rustc_hash::FxHashMap;
