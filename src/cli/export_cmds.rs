@@ -9,12 +9,14 @@
 use super::limits::LimitArgs;
 use super::out::{Failure, Outcome, file_failure, gave_up, limit_in, print};
 use clap::{Args, ValueEnum};
+use lingrav::emit::user::Texts;
 use lingrav::emit::{Lang, Source, emit};
 use lingrav::export::points::{Grid, PointSet, read_points};
 use lingrav::export::quantity::{Quantity, QuantityError, blocks, direction_help, parse_list};
 use lingrav::export::write::{AtomicFile, FileError, Format, commit_with_sidecar, write_table};
 use lingrav::export::{ExportError, Numeric, Settings, SidecarInfo, evaluate, sidecar};
 use lingrav::problem::{Problem, ProblemError};
+use lingrav::tape::UserExprs;
 use lingrav::tt::{Arg, ArgError, Direction, parse_direction, set_basis};
 use std::path::{Path, PathBuf};
 
@@ -494,15 +496,23 @@ pub fn run_emit(a: EmitArgs) -> Result<Outcome, Failure> {
     let b = blocks(&mut p.store, &p.h, p.source.as_ref(), &qs, dir.as_ref())
         .map_err(quantity_failure)?;
     let direction = dir.as_ref().map(|d| direction_text(&mut p, d));
+    let frame = dir.as_ref().map(|d| frame_texts(&mut p, d));
     let path_label = a.file.display().to_string();
-    let samples = p.sampling.samples.clone();
     let src = Source {
         file: &path_label,
         name: p.name.as_deref(),
         parameters: &p.parameters,
         functions: &p.functions,
-        samples: &samples,
         direction,
+        texts: Texts {
+            h: &p.h_text,
+            source: p.source_text.as_ref(),
+            user: UserExprs {
+                defines: p.defines.clone(),
+                functions: p.functions.clone(),
+            },
+            frame,
+        },
     };
     let text =
         emit(&mut p.store, &src, &b, a.lang.lang(), a.samples).map_err(|e| {

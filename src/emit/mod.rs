@@ -1,11 +1,13 @@
 //! Source code that computes a problem's quantities at a point: C, Python (NumPy), Fortran,
 //! Rust, or LaTeX equations.
 //!
-//! Model. Every column of every requested quantity ([`crate::export::quantity`]) is read
-//! through the engine's real-form printing tree ([`crate::canon::Store::pretty`]) into one
-//! hash-consed DAG ([`dag`]); within each generated function every subexpression used twice
-//! or more becomes a temporary. One function per quantity, with the same layout in every
-//! language:
+//! Model. Every column of every requested quantity ([`crate::export::quantity`]) is built
+//! from the problem's own texts ([`user`]): the components, defines and samples as a DAG that
+//! keeps the user's structure, derivatives taken on that DAG, and the quantity formulas of
+//! [`crate::export::certify`] (the same code that computes the exported numbers). The result
+//! is one hash-consed DAG ([`dag`]); within each generated function every subexpression used
+//! twice or more becomes a temporary. One function per quantity, with the same layout in
+//! every language:
 //!
 //! - inputs: the coordinates `t, x, y, z`, then the file's parameters (C, Fortran and Rust
 //!   take them as an array `params` in file order; Python as arguments with the file's values
@@ -17,9 +19,10 @@
 //! user supplies: derivative `k` of `F` is `F_d<k>(u)` (`F_d0` is F itself, `F_d2` is F'').
 //! With `inline_samples` they are replaced by the file's samples and their exact derivatives.
 //!
-//! Key design decision: the code is generated from the exact canonical forms, never from the
-//! text the user wrote, so it computes exactly what `lingrav export` evaluates (up to f64
-//! rounding), and parameters stay symbolic (arguments, not baked-in numbers).
+//! Key design decision: the code is generated from the user's structure, never from the
+//! expanded canonical form, which can lose every digit (a Gaussian pulse in `t - y` expands
+//! into `exp((2 t y - t^2 - y^2)/(2 s^2))`); parameters stay symbolic (arguments, not
+//! baked-in numbers). The LaTeX output, for reading, prints the canonical forms.
 //!
 //! **Invariants:** output is deterministic (no hash-map order reaches it); identifiers never
 //! collide with the language's keywords or with each other; every emitted name is documented
@@ -27,14 +30,14 @@
 
 pub mod dag;
 mod lang;
+pub mod user;
 
-use crate::canon::{FunctionSample, Store};
+use crate::canon::Store;
 use crate::export::quantity::Block;
-use dag::{Dag, DagError, Id, Symbols};
+use dag::{Dag, DagError, Id};
 use lang::{Printer, Syntax};
 use rustc_hash::FxHashMap;
 use std::fmt::Write as _;
-use std::rc::Rc;
 
 /// A target language.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -94,8 +97,8 @@ pub struct Source<'a> {
     pub parameters: &'a [(String, f64)],
     /// Arbitrary functions and their sample texts, in file order.
     pub functions: &'a [(String, String)],
-    /// The samples as forms, by name.
-    pub samples: &'a FxHashMap<Rc<str>, FunctionSample>,
+    /// The texts the code is computed from.
+    pub texts: user::Texts<'a>,
     /// A description of the direction of psi4 / hplus / hcross, if one was given.
     pub direction: Option<String>,
 }
@@ -393,30 +396,27 @@ pub fn emit(
     if lang == Lang::Latex {
         return Ok(latex(store, src, blocks, inline_samples));
     }
-    let syms = Symbols {
-        vars: crate::tensor::COORDS
+    let target = user::EmitTarget::new(
+        crate::tensor::COORDS
             .iter()
             .map(|c| c.to_string())
             .chain(src.parameters.iter().map(|p| p.0.clone()))
             .collect(),
-        functions: src
-            .functions
-            .iter()
-            .filter_map(|(n, _)| src.samples.get(n.as_str()).map(|s| (n.clone(), s.clone())))
-            .collect(),
+        src.functions.iter().map(|(n, _)| n.clone()).collect(),
         inline_samples,
-    };
-    let mut dag = Dag::new();
+    );
+    let quantities: Vec<_> = blocks.iter().map(|b| b.quantity).collect();
+    let (dag, all_roots) =
+        user::roots(target, &src.texts, &quantities).map_err(|error| EmitError {
+            column: quantities
+                .iter()
+                .map(|q| q.name())
+                .collect::<Vec<_>>()
+                .join(", "),
+            error: DagError::Lowering(error.to_string()),
+        })?;
     let mut functions = Vec::new();
-    for b in blocks {
-        let mut roots = Vec::with_capacity(b.columns.len());
-        for c in &b.columns {
-            let id = dag.form(store, &syms, c.form).map_err(|error| EmitError {
-                column: c.name.clone(),
-                error,
-            })?;
-            roots.push(id);
-        }
+    for (b, roots) in blocks.iter().zip(all_roots) {
         let temps = dag.shared(&roots);
         let (vars, users) = dag.uses(&roots);
         functions.push(Function {

@@ -7,13 +7,13 @@
 //! and then every component; [`sidecar`] describes it: the conventions, the parameter
 //! values, the exact expression of every column, the points and the tool version.
 //!
-//! Key design decision: every value is checked against a certified interval enclosure of the
-//! exact canonical form (see [`crate::canon::Store::eval_interval`]), so each column comes
-//! with a proved bound on its error, written to the sidecar. The value written is the plain
-//! f64 evaluation (the arithmetic `emit` generates) when it lies inside the enclosure, which
-//! it nearly always does, else the enclosure's midpoint. A value that cannot
-//! be enclosed (a singularity such as r = 0, a root or log at its branch point) or that is
-//! certified not to be real is an error naming the point; nothing is written then.
+//! Key design decision: every value is computed by the independent route ([`certify`]:
+//! the problem's texts as written, jets in outward-rounded interval arithmetic, precision
+//! raised to 512 bits where needed), never from the expanded canonical form, and comes with a
+//! certified bound; a value beyond the tolerance is an error naming the point, and nothing
+//! is written. The exact canonical forms still give the sidecar's expressions and re-check a
+//! sample of rows (the two routes must agree). A value that cannot be enclosed (a singularity
+//! such as r = 0, a root or log at its branch point) is an error naming the point.
 //!
 //! **Invariants:** the library writes to `impl Write` and to [`write::AtomicFile`] only; a
 //! table holds finite values only; column names and orders come from [`quantity`] alone.
