@@ -736,3 +736,43 @@ fn help_has_examples() {
         );
     }
 }
+
+/// Issue 9: a value whose relative error cannot be certified ends as undecided (exit 3) with
+/// the point named and nothing written; an explicit zero tolerance accepts it, and the
+/// sidecar says so. A negative tolerance is bad input.
+#[test]
+fn issue9_uncertifiable_values_write_nothing() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    std::fs::write(d.join("z.toml"), "[perturbation]\nxx = 'sin(pi*x)'\n").unwrap();
+    std::fs::write(d.join("p.csv"), "t,x,y,z\n0,1,0,0\n").unwrap();
+    let args = [
+        "export", "z.toml", "-q", "h", "--at", "p.csv", "--out", "o.csv",
+    ];
+    let (o, e, c) = lingrav(d, &args);
+    assert_eq!(c, 3, "{o}{e}");
+    assert!(
+        o.contains("could not be certified") && o.contains("h_xx at point 1 (p.csv, line 2)"),
+        "{o}"
+    );
+    assert!(o.contains("Nothing was written"), "{o}");
+    assert_eq!(files_in(d), ["p.csv", "z.toml"]);
+    let mut with_floor = args.to_vec();
+    with_floor.extend(["--zero-tolerance", "1e-30"]);
+    ok(d, &with_floor);
+    let m = meta(&d.join("o.csv"));
+    let cols = &m["quantities"][0]["columns"];
+    assert_eq!(cols[4]["name"], "h_xx");
+    assert_eq!(cols[4]["rows_indistinguishable_from_zero"], 1);
+    assert!(cols[4]["error_bound"].as_f64().unwrap() <= 1e-30);
+    let z = m["evaluation"]["zero_tolerance"].as_f64().unwrap();
+    assert!((z / 1e-30 - 1.0).abs() < 1e-15, "{z}");
+    let mut bad = args.to_vec();
+    bad.extend(["--tolerance=-1", "--force"]);
+    let (o, e, c) = lingrav(d, &bad);
+    assert_eq!(c, 2, "{o}{e}");
+    assert!(
+        e.contains("--tolerance must be a finite number >= 0"),
+        "{e}"
+    );
+}

@@ -548,10 +548,10 @@ pub fn evaluate(
 }
 
 fn check_limits(settings: &Settings) -> Result<(), ExportError> {
-    if let Some((t, ms)) = settings.deadline {
-        if std::time::Instant::now() > t {
-            return Err(ExportError::Limit(CanonError::Timeout(ms)));
-        }
+    if let Some((t, ms)) = settings.deadline
+        && std::time::Instant::now() > t
+    {
+        return Err(ExportError::Limit(CanonError::Timeout(ms)));
     }
     if crate::budget::over_budget() {
         return Err(ExportError::Limit(CanonError::MemoryCap(

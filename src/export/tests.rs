@@ -268,10 +268,7 @@ fn issue9_a_gaussian_pulse_far_from_the_origin_is_exported_right() {
     )
     .unwrap();
     let v = ev.table.row(0)[8];
-    assert!(
-        (v / 0.003_865_922_699_771_317_143 - 1.0).abs() < 1e-12,
-        "{v}"
-    );
+    assert!((v / 0.003_865_922_699_771_317 - 1.0).abs() < 1e-12, "{v}");
     assert!(ev.columns[4].bound <= 1e-12 * v, "{:?}", ev.columns[4]);
 }
 
