@@ -71,14 +71,32 @@ pub struct AuditClaim {
     pub key: String,
     /// What the file asserts: `Some(true)` vanishing, `Some(false)` not, `None` report only.
     pub asserted: Option<bool>,
-    /// Each component's name and its terms: an enclosure of the coefficient and the atom.
-    components: Vec<(String, Vec<(Interval, Atom)>)>,
+    /// Each component's name and its terms: the coefficient and the atom.
+    components: Vec<(String, Vec<(Coef, Atom)>)>,
 }
 
 impl AuditClaim {
     /// The component names, in order.
     pub fn component_names(&self) -> impl Iterator<Item = &str> {
         self.components.iter().map(|(n, _)| n.as_str())
+    }
+}
+
+/// A coefficient of a claim formula, enclosed in each arithmetic on use.
+#[derive(Clone, Copy, Debug, PartialEq)]
+enum Coef {
+    /// A small dyadic rational, exact in f64.
+    Dyadic(f64),
+    /// `-8 pi`, the source term of the field equations.
+    MinusEightPi,
+}
+
+impl Coef {
+    fn enclose<S: Scalar>(self, ctx: &S::Ctx) -> Option<S> {
+        match self {
+            Coef::Dyadic(c) => S::from_f64(c),
+            Coef::MinusEightPi => S::pi(ctx)?.mul(&S::from_f64(-8.0)?),
+        }
     }
 }
 
@@ -132,9 +150,6 @@ fn tensor_roots(
 /// The claims of the problem with enclosed coefficients, named as the exact check names
 /// them.
 fn audit_claims(problem: &Problem) -> Result<Vec<AuditClaim>, AuditError> {
-    let eight_pi = Interval::pi(&())
-        .and_then(|p| p.scale(-8.0))
-        .ok_or_else(|| AuditError::Coefficient("8 pi".into(), -8.0))?;
     let specs = claim_specs(problem.claims.as_ref(), problem.source.is_some());
     let mut out = Vec::new();
     for spec in specs {
@@ -153,9 +168,9 @@ fn audit_claims(problem: &Problem) -> Result<Vec<AuditClaim>, AuditError> {
                     if c != -8.0 * std::f64::consts::PI {
                         return Err(AuditError::Coefficient(name, c));
                     }
-                    eight_pi
+                    Coef::MinusEightPi
                 } else if (c * 4.0).fract() == 0.0 && c.abs() <= 64.0 {
-                    Interval::point(c).ok_or_else(|| AuditError::Coefficient(name.clone(), c))?
+                    Coef::Dyadic(c)
                 } else {
                     return Err(AuditError::Coefficient(name, c));
                 };
@@ -323,20 +338,41 @@ impl Audit {
         &self,
         point: &[(N, f64)],
     ) -> Result<Vec<ComponentValue>, AuditError> {
-        let fields = self.fields_at(point)?;
-        let mut cache: FxHashMap<Atom, Option<Interval>> = FxHashMap::default();
+        self.components_in::<N, Interval>(point, &())
+    }
+
+    /// [`Audit::components_at`] computed in enclosure arithmetic `S` (multiprecision balls
+    /// for a value that f64 intervals cannot separate from 0), each value then rounded
+    /// outward to an f64 interval.
+    ///
+    /// # Errors
+    ///
+    /// As [`Audit::fields_at`].
+    pub fn components_in<N: AsRef<str>, S: Scalar>(
+        &self,
+        point: &[(N, f64)],
+        ctx: &S::Ctx,
+    ) -> Result<Vec<ComponentValue>, AuditError> {
+        let fields = self.fields_in::<N, S>(point, ctx)?;
+        let mut cache: FxHashMap<Atom, Option<S>> = FxHashMap::default();
         let mut out = Vec::new();
         for claim in &self.claims {
             for (name, terms) in &claim.components {
-                let mut acc = Some(Interval::ZERO);
+                let mut acc = Some(S::zero());
                 for (c, atom) in terms {
-                    let v = *cache.entry(*atom).or_insert_with(|| fields.atom(atom));
-                    acc = acc.and_then(|a| a.add(v?.mul(*c)?));
+                    let v = cache
+                        .entry(*atom)
+                        .or_insert_with(|| fields.atom(atom))
+                        .clone();
+                    acc = acc.and_then(|a| a.add(&v?.mul(&c.enclose::<S>(ctx)?)?));
                 }
                 out.push(ComponentValue {
                     claim: claim.key.clone(),
                     component: name.clone(),
-                    value: acc,
+                    value: acc.and_then(|v| {
+                        let (lo, hi) = v.bounds_f64();
+                        Interval::new(lo, hi)
+                    }),
                 });
             }
         }

@@ -128,11 +128,7 @@ pub fn audit_claims(problem: &Problem, claims: &mut [ClaimReport], seed: u64) {
                 Verdict::Zero => audit_proof(k, &id, &at_points, seed),
                 Verdict::Nonzero(w) => {
                     let point = witness_point(&audit, &w, &typical);
-                    let value = audit
-                        .components_at(&point)
-                        .ok()
-                        .and_then(|v| by_key(v).remove(&id));
-                    audit_witness(k, &w, value)
+                    audit_witness(k, &w, witness_value(&audit, &point, &id))
                 }
                 Verdict::Undecided(_) => Audited::Skipped,
             };
@@ -167,6 +163,32 @@ fn witness_point(audit: &Audit, w: &Witness, typical: &FxHashMap<&str, f64>) -> 
     }
     p
 }
+
+/// The independent enclosure of component `id` at a witness point: f64 intervals first, then
+/// multiprecision balls at [`WITNESS_PRECISIONS`] bits while the enclosure still contains 0
+/// (a tiny but real value), so a true witness is not lost to round-off.
+fn witness_value(audit: &Audit, point: &[(String, f64)], id: &str) -> Option<Interval> {
+    let mut best = audit
+        .components_at(point)
+        .ok()
+        .and_then(|v| by_key(v).remove(id));
+    for prec in WITNESS_PRECISIONS {
+        if best.is_some_and(|v| v.excludes_zero()) {
+            break;
+        }
+        let v = audit
+            .components_in::<String, crate::interval::Ball>(point, &prec)
+            .ok()
+            .and_then(|v| by_key(v).remove(id));
+        if v.is_some() {
+            best = v;
+        }
+    }
+    best
+}
+
+/// Working precisions (bits) for re-certifying a witness that f64 intervals cannot.
+const WITNESS_PRECISIONS: [u32; 3] = [128, 256, 512];
 
 fn audit_proof(
     k: &mut Component,
@@ -355,5 +377,31 @@ mod tests {
                 );
             }
         }
+    }
+
+    /// A real but tiny failure: h_tt = exp(x)(1 + 10^-30) - exp(x) = 10^-30 exp(x). f64
+    /// intervals cannot separate its curvature from 0 (the coefficient rounds to [1, 1 + ulp]);
+    /// multiprecision balls confirm the exact route's witness, so the claim still fails.
+    #[test]
+    fn issue9_a_tiny_witness_is_confirmed_at_higher_precision() {
+        let text = "[perturbation]\ntt = 'exp(x)*(1 + 1/10^30) - exp(x)'\n\
+            [claims]\nfield_equations = true\n";
+        let mut p = crate::problem::from_str("tiny.toml", text).unwrap();
+        let report = check(&mut p);
+        let fe = &report.claims[0];
+        assert_eq!(fe.status, Status::Fails, "{}", fe.method);
+        let confirmed = fe
+            .components
+            .iter()
+            .filter(|k| k.audit == Audited::WitnessConfirmed)
+            .count();
+        assert!(confirmed >= 1, "{}", fe.method);
+        assert!(
+            !fe.components
+                .iter()
+                .any(|k| k.audit == Audited::WitnessUnconfirmed),
+            "{}",
+            fe.method
+        );
     }
 }
