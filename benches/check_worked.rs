@@ -4,7 +4,7 @@
 //! One benchmark per file in `worked/`, found at run time so a new example is timed without
 //! editing this file. The sample count is small because a single check of the larger files
 //! (the quadrupole fields) takes tens of milliseconds; the comparison with SymPy is
-//! `benches/ratios.sh`.
+//! `benches/ratios.sh`. `audit_only` times the independent audit of the same verdicts.
 
 use std::path::{Path, PathBuf};
 
@@ -35,5 +35,19 @@ fn check(bencher: divan::Bencher, file: &str) {
     bencher.bench(|| {
         let mut problem = lingrav::problem::read(&path).expect("worked files are valid");
         lingrav::check::check(&mut problem)
+    });
+}
+
+/// The audit alone (the independent route re-evaluating every verdict of an already computed
+/// report), to compare with `check` above: the audit must cost well under the check.
+#[divan::bench(args = worked_files(), sample_count = 10, sample_size = 1)]
+fn audit_only(bencher: divan::Bencher, file: &str) {
+    let path = worked_dir().join(file);
+    let mut problem = lingrav::problem::read(&path).expect("worked files are valid");
+    let report = lingrav::check::check(&mut problem);
+    bencher.bench_local(|| {
+        let mut claims = report.claims.clone();
+        lingrav::check::audit::audit_claims(&problem, &mut claims, 7);
+        claims
     });
 }

@@ -121,6 +121,10 @@ pub fn audit_claims(problem: &Problem, claims: &mut [ClaimReport], seed: u64) {
         .iter()
         .map(|(n, v)| (n.as_str(), *v))
         .collect();
+    // Witness points repeat across components (the zero test draws them from one seed):
+    // each point is evaluated once.
+    let mut at_witness: FxHashMap<Vec<(String, u64)>, FxHashMap<String, Interval>> =
+        FxHashMap::default();
     for c in claims.iter_mut() {
         for k in &mut c.components {
             let id = key(&c.key, &k.name);
@@ -128,7 +132,16 @@ pub fn audit_claims(problem: &Problem, claims: &mut [ClaimReport], seed: u64) {
                 Verdict::Zero => audit_proof(k, &id, &at_points, seed),
                 Verdict::Nonzero(w) => {
                     let point = witness_point(&audit, &w, &typical);
-                    audit_witness(k, &w, witness_value(&audit, &point, &id))
+                    let mut tag: Vec<(String, u64)> = point
+                        .iter()
+                        .map(|(n, v)| (n.clone(), v.to_bits()))
+                        .collect();
+                    tag.sort();
+                    let values = at_witness.entry(tag).or_insert_with(|| {
+                        audit.components_at(&point).map(by_key).unwrap_or_default()
+                    });
+                    let value = witness_value(&audit, &point, &id, values.get(&id).copied());
+                    audit_witness(k, &w, value)
                 }
                 Verdict::Undecided(_) => Audited::Skipped,
             };
@@ -164,14 +177,16 @@ fn witness_point(audit: &Audit, w: &Witness, typical: &FxHashMap<&str, f64>) -> 
     p
 }
 
-/// The independent enclosure of component `id` at a witness point: f64 intervals first, then
-/// multiprecision balls at [`WITNESS_PRECISIONS`] bits while the enclosure still contains 0
+/// The independent enclosure of component `id` at a witness point: `first` (f64 intervals)
+/// or, while the enclosure contains 0, multiprecision balls at [`WITNESS_PRECISIONS`] bits
 /// (a tiny but real value), so a true witness is not lost to round-off.
-fn witness_value(audit: &Audit, point: &[(String, f64)], id: &str) -> Option<Interval> {
-    let mut best = audit
-        .components_at(point)
-        .ok()
-        .and_then(|v| by_key(v).remove(id));
+fn witness_value(
+    audit: &Audit,
+    point: &[(String, f64)],
+    id: &str,
+    first: Option<Interval>,
+) -> Option<Interval> {
+    let mut best = first;
     for prec in WITNESS_PRECISIONS {
         if best.is_some_and(|v| v.excludes_zero()) {
             break;

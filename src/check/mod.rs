@@ -6,7 +6,7 @@
 //! by one rule ([`Status::of`]), so "holds" always rests on proofs and "fails" on certified
 //! witnesses.
 
-mod audit;
+pub mod audit;
 
 pub use audit::{AUDIT_POINTS, Audited, audit_text, auditable};
 

@@ -599,6 +599,11 @@ impl Ball {
         self.rad.is_zero()
     }
 
+    /// Whether the ball is exactly the point 0.
+    pub fn is_exact_zero(&self) -> bool {
+        self.rad.is_zero() && self.man.is_zero()
+    }
+
     /// Whether 0 may lie in the ball (`|mid| <= rad`, decided exactly).
     pub fn contains_zero(&self) -> bool {
         !self.excludes_zero()

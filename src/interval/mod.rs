@@ -212,16 +212,35 @@ impl Interval {
 
     /// Sum; `None` on overflow.
     pub fn add(self, rhs: Interval) -> Option<Interval> {
+        // Adding the exact 0 is exact (and keeps zeros exact, which sparse jets rely on).
+        if rhs.is_zero_point() {
+            return Some(self);
+        }
+        if self.is_zero_point() {
+            return Some(rhs);
+        }
         Interval::new(down(self.lo + rhs.lo), up(self.hi + rhs.hi))
+    }
+
+    /// True for the exact point 0.
+    fn is_zero_point(self) -> bool {
+        self.lo == 0.0 && self.hi == 0.0
     }
 
     /// Difference; `None` on overflow.
     pub fn sub(self, rhs: Interval) -> Option<Interval> {
+        if rhs.is_zero_point() {
+            return Some(self);
+        }
         Interval::new(down(self.lo - rhs.hi), up(self.hi - rhs.lo))
     }
 
     /// Product; `None` on overflow.
     pub fn mul(self, rhs: Interval) -> Option<Interval> {
+        // A product with the exact 0 is the exact 0.
+        if self.is_zero_point() || rhs.is_zero_point() {
+            return Some(Interval::ZERO);
+        }
         let (lo, hi) = min_max([
             self.lo * rhs.lo,
             self.lo * rhs.hi,

@@ -77,6 +77,11 @@ pub trait Scalar: Clone + fmt::Debug {
     /// `[lo, hi]` (either may be infinite beyond the f64 range).
     fn bounds_f64(&self) -> (f64, f64);
 
+    /// Certified: the enclosure is the single point 0 (products with it may be skipped).
+    fn is_exact_zero(&self) -> bool {
+        false
+    }
+
     /// The exactly known `x` as an input at the context's working precision (for a
     /// multiprecision type, later operations on it keep that precision).
     fn input(x: f64, _ctx: &Self::Ctx) -> Option<Self> {
@@ -188,6 +193,9 @@ impl Scalar for Interval {
     }
     fn bounds_f64(&self) -> (f64, f64) {
         (self.lo(), self.hi())
+    }
+    fn is_exact_zero(&self) -> bool {
+        self.lo() == 0.0 && self.hi() == 0.0
     }
     fn is_positive(&self) -> bool {
         self.lo() > 0.0
@@ -483,6 +491,9 @@ impl Scalar for crate::interval::Ball {
     }
     fn bounds_f64(&self) -> (f64, f64) {
         crate::interval::Ball::lo_hi_f64(self)
+    }
+    fn is_exact_zero(&self) -> bool {
+        crate::interval::Ball::is_exact_zero(self)
     }
     fn input(x: f64, ctx: &u32) -> Option<Self> {
         crate::interval::Ball::from_f64(x).map(|b| b.with_prec(*ctx))
