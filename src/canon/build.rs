@@ -173,6 +173,35 @@ impl Store {
                 let a = self.build(a, names)?;
                 c(self.neg(a))
             }
+            ExprKind::Binary(BinOp::Add | BinOp::Sub, _, _) => {
+                // A chain of sums and differences, built as one n-ary sum (and without
+                // recursing down the chain).
+                let mut parts: Vec<(&Expr, bool)> = Vec::new();
+                let mut cur = e;
+                loop {
+                    match &cur.kind {
+                        ExprKind::Binary(BinOp::Add, l, r) => {
+                            parts.push((r, false));
+                            cur = l;
+                        }
+                        ExprKind::Binary(BinOp::Sub, l, r) => {
+                            parts.push((r, true));
+                            cur = l;
+                        }
+                        _ => {
+                            parts.push((cur, false));
+                            break;
+                        }
+                    }
+                }
+                parts.reverse();
+                let mut forms = Vec::with_capacity(parts.len());
+                for (x, negate) in parts {
+                    let f = self.build(x, names)?;
+                    forms.push(if negate { c(self.neg(f))? } else { f });
+                }
+                c(self.sum(&forms))
+            }
             ExprKind::Binary(op, a, b) => {
                 let fa = self.build(a, names)?;
                 let fb = self.build(b, names)?;

@@ -56,7 +56,8 @@ impl Store {
 
     /// Derivative of a numerator polynomial.
     fn diff_poly(&mut self, p: &super::Poly, var: KernelId) -> CResult<Form> {
-        let mut acc = self.zero;
+        // Term by term, summed once at the end (see `Store::sum`).
+        let mut terms = Vec::with_capacity(p.len());
         for (m, c) in p {
             let mono = self.monos[m.0 as usize].clone();
             let mut dlog = self.zero;
@@ -79,10 +80,9 @@ impl Store {
                 num: vec![(*m, c.clone())],
                 den: Vec::new(),
             });
-            let t = self.mul(term, dlog)?;
-            acc = self.add(acc, t)?;
+            terms.push(self.mul(term, dlog)?);
         }
-        Ok(acc)
+        self.sum(&terms)
     }
 
     /// The logarithmic derivative d(k)/k of a kernel by `var`.

@@ -860,6 +860,51 @@ impl Store {
         Ok(self.intern_cancelled(Rat { num: rs.num, den }))
     }
 
+    /// The sum of many forms, built once: forms with the same denominator are merged in one
+    /// pass (one accumulator, one interned result), and the few groups are then added. Adding
+    /// `n` terms one at a time would intern `n` partial sums of growing size, quadratic in
+    /// time and memory.
+    ///
+    /// # Errors
+    ///
+    /// A size or time limit.
+    pub fn sum(&mut self, forms: &[Form]) -> CResult<Form> {
+        let mut groups: Vec<(Vec<(FactorId, u32)>, FxHashMap<MonoId, Coeff>)> = Vec::new();
+        let mut total = 0usize;
+        for &f in forms {
+            if f == self.zero {
+                continue;
+            }
+            let r = &self.rats[f.0 as usize];
+            let g = match groups.iter().position(|(d, _)| *d == r.den) {
+                Some(i) => i,
+                None => {
+                    groups.push((r.den.clone(), FxHashMap::default()));
+                    groups.len() - 1
+                }
+            };
+            let acc = &mut groups[g].1;
+            for (m, c) in &r.num {
+                match acc.get_mut(m) {
+                    Some(e) => *e = e.add(c),
+                    None => {
+                        acc.insert(*m, c.clone());
+                    }
+                }
+            }
+            total = total.max(acc.len());
+            self.check_size(total)?;
+        }
+        let mut out = self.zero;
+        for (den, acc) in groups {
+            let num = Self::sort_terms(acc);
+            let den = if num.is_empty() { Vec::new() } else { den };
+            let g = self.intern_cancelled(Rat { num, den });
+            out = self.add(out, g)?;
+        }
+        Ok(out)
+    }
+
     /// `-a`.
     pub fn neg(&mut self, a: Form) -> CResult<Form> {
         self.scale(a, &Coeff::int(-1))
