@@ -178,7 +178,7 @@ impl Store {
     pub fn numerator(&mut self, f: Form) -> Form {
         let r = self.rats[f.0 as usize].clone();
         self.intern_rat(Rat {
-            num: r.num,
+            num: r.num.clone(),
             den: Vec::new(),
         })
     }

@@ -177,8 +177,8 @@ pub struct Store {
     mono_ids: FxHashMap<Mono, MonoId>,
     factors: Vec<Poly>,
     factor_ids: FxHashMap<Poly, FactorId>,
-    rats: Vec<Rat>,
-    rat_ids: FxHashMap<Rat, Form>,
+    rats: Vec<Rc<Rat>>,
+    rat_ids: FxHashMap<Rc<Rat>, Form>,
     mono_mul_cache: FxHashMap<(MonoId, MonoId), (MonoId, Coeff, Form)>,
     diff_cache: FxHashMap<(Form, KernelId), Form>,
     dlog_cache: FxHashMap<(KernelId, KernelId), Form>,
@@ -266,6 +266,8 @@ impl Store {
             return id;
         }
         let id = Form(self.rats.len() as u32);
+        // One allocation shared by the table and the index.
+        let r = Rc::new(r);
         self.rats.push(r.clone());
         self.rat_ids.insert(r, id);
         id
@@ -502,7 +504,7 @@ impl Store {
             let p = self.mul(t, extra)?;
             let cur = self.intern_rat(r);
             let s = self.add(cur, p)?;
-            r = self.rats[s.0 as usize].clone();
+            r = (*self.rats[s.0 as usize]).clone();
         }
         Ok(r)
     }
@@ -612,7 +614,7 @@ impl Store {
         let mut rest: Poly = Vec::new();
         let mut coeff = Coeff::one();
         let mut pulled = self.one;
-        for (m, c) in r.num {
+        for (m, c) in r.num.iter().cloned() {
             let mono = self.monos[m.0 as usize].clone();
             if mono.exp.is_none() && mono.pows.len() == 1 && mono.pows[0].1 == 1 {
                 let k = mono.pows[0].0;
@@ -810,7 +812,7 @@ impl Store {
         if ra.den == rb.den {
             let num = Self::poly_add(&ra.num, &rb.num);
             self.check_size(num.len())?;
-            let den = if num.is_empty() { Vec::new() } else { ra.den };
+            let den = if num.is_empty() { Vec::new() } else { ra.den.clone() };
             return Ok(self.intern_cancelled(Rat { num, den }));
         }
         // Common denominator: the factor-wise maximum of the exponents.
@@ -834,11 +836,11 @@ impl Store {
         let xa = self.expand_factors(&ma)?;
         let xb = self.expand_factors(&mb)?;
         let na = self.intern_rat(Rat {
-            num: ra.num,
+            num: ra.num.clone(),
             den: Vec::new(),
         });
         let nb = self.intern_rat(Rat {
-            num: rb.num,
+            num: rb.num.clone(),
             den: Vec::new(),
         });
         let pa = self.mul(na, xa)?;
@@ -850,14 +852,14 @@ impl Store {
         if rs.num.is_empty() {
             return Ok(self.zero);
         }
-        let mut den = rs.den;
+        let mut den = rs.den.clone();
         for (f, e) in lcm {
             match den.binary_search_by_key(&f, |p| p.0) {
                 Ok(i) => den[i].1 += e,
                 Err(i) => den.insert(i, (f, e)),
             }
         }
-        Ok(self.intern_cancelled(Rat { num: rs.num, den }))
+        Ok(self.intern_cancelled(Rat { num: rs.num.clone(), den }))
     }
 
     /// The sum of many forms, built once: forms with the same denominator are merged in one
@@ -918,7 +920,7 @@ impl Store {
         let r = self.rats[a.0 as usize].clone();
         Ok(self.intern_rat(Rat {
             num: Self::poly_scale(&r.num, c),
-            den: r.den,
+            den: r.den.clone(),
         }))
     }
 
@@ -946,7 +948,7 @@ impl Store {
             return Ok(self.zero);
         }
         let mut den = prod.den;
-        for (f, e) in ra.den.into_iter().chain(rb.den) {
+        for &(f, e) in ra.den.iter().chain(&rb.den) {
             match den.binary_search_by_key(&f, |p| p.0) {
                 Ok(i) => den[i].1 += e,
                 Err(i) => den.insert(i, (f, e)),
@@ -1275,7 +1277,7 @@ impl Store {
                 continue;
             }
             let r = self.rats[g.0 as usize].clone();
-            let mut polys = vec![r.num];
+            let mut polys = vec![r.num.clone()];
             polys.extend(
                 r.den
                     .iter()
@@ -1366,7 +1368,7 @@ impl Store {
         }
         let num = self.conj_poly(&r.num)?;
         let mut den = self.one;
-        for (fid, e) in r.den {
+        for &(fid, e) in &r.den {
             let p = self.factors[fid.0 as usize].clone();
             let pc = self.conj_poly(&p)?;
             let pe = self.powi(pc, e as i64)?;
@@ -1420,7 +1422,7 @@ impl Store {
         let r = self.rats[f.0 as usize].clone();
         let num = self.subst_poly(&r.num, subs, memo)?;
         let mut den = self.one;
-        for (fid, e) in r.den {
+        for &(fid, e) in &r.den {
             let p = self.factors[fid.0 as usize].clone();
             let pf = self.subst_poly(&p, subs, memo)?;
             let pe = self.powi(pf, e as i64)?;
