@@ -23,24 +23,80 @@ const SQRT3: u8 = 2;
 const IMAG: u8 = 4;
 
 /// An element of Q(sqrt 2, sqrt 3, i).
-#[derive(Clone, PartialEq, Eq, Debug, Default)]
+///
+/// Two representations, chosen canonically so that derived equality is value equality: a
+/// rational number whose numerator fits an `i64` (other than `i64::MIN`) and whose denominator
+/// fits a `u64` is always `Small` (lowest terms, positive denominator; zero is `Small(0, 1)`),
+/// and everything else is `Parts`, sorted by basis index with no zero component. The small
+/// case (nearly every coefficient of a polynomial computation) needs no allocation and adds
+/// and multiplies in machine words, with exact overflow to big integers.
+#[derive(Clone, PartialEq, Eq, Debug)]
 pub struct Coeff {
-    parts: Vec<(u8, Q)>,
+    repr: Repr,
+}
+
+#[derive(Clone, PartialEq, Eq, Debug)]
+enum Repr {
+    Small(i64, u64),
+    Parts(Vec<(u8, Q)>),
+}
+
+impl Default for Coeff {
+    fn default() -> Coeff {
+        Coeff::zero()
+    }
 }
 
 /// Hashes numerator and denominator directly. `BigRational`'s own `Hash` walks the continued
 /// fraction recursively (one stack frame per partial quotient), which overflows the stack on a
 /// rational such as (1 + 10^-20)^2000; our rationals are always in lowest terms with a
-/// positive denominator, so hashing the pair agrees with equality.
+/// positive denominator, so hashing the pair agrees with equality (and a value has one
+/// representation, so hashing by representation does too).
 impl std::hash::Hash for Coeff {
     fn hash<H: std::hash::Hasher>(&self, h: &mut H) {
-        h.write_usize(self.parts.len());
-        for (b, q) in &self.parts {
-            h.write_u8(*b);
-            q.numer().hash(h);
-            q.denom().hash(h);
+        match &self.repr {
+            Repr::Small(n, d) => {
+                h.write_u8(0xff);
+                h.write_i64(*n);
+                h.write_u64(*d);
+            }
+            Repr::Parts(parts) => {
+                h.write_usize(parts.len());
+                for (b, q) in parts {
+                    h.write_u8(*b);
+                    q.numer().hash(h);
+                    q.denom().hash(h);
+                }
+            }
         }
     }
+}
+
+fn gcd_u128(mut a: u128, mut b: u128) -> u128 {
+    while b != 0 {
+        let t = a % b;
+        a = b;
+        b = t;
+    }
+    a
+}
+
+/// `n/d` (d > 0) in lowest terms as a small coefficient, if it fits.
+fn small_of(n: i128, d: u128) -> Option<Coeff> {
+    if n == 0 {
+        return Some(Coeff::zero());
+    }
+    let g = gcd_u128(n.unsigned_abs(), d);
+    let (n, d) = (n / g as i128, d / g);
+    let n = i64::try_from(n).ok().filter(|&n| n != i64::MIN)?;
+    let d = u64::try_from(d).ok()?;
+    Some(Coeff {
+        repr: Repr::Small(n, d),
+    })
+}
+
+fn big_q(n: i64, d: u64) -> Q {
+    Q::new_raw(BigInt::from(n), BigInt::from(d))
 }
 
 fn basis_product(a: u8, b: u8) -> (u8, i64) {
@@ -59,42 +115,76 @@ fn basis_product(a: u8, b: u8) -> (u8, i64) {
 }
 
 impl Coeff {
+    /// The canonical coefficient of sorted, merged, nonzero parts.
+    fn from_normal(parts: Vec<(u8, Q)>) -> Coeff {
+        match parts.as_slice() {
+            [] => Coeff::zero(),
+            [(0, q)] => {
+                if let (Some(n), Some(d)) = (q.numer().to_i64(), q.denom().to_u64()) {
+                    if n != i64::MIN {
+                        return Coeff {
+                            repr: Repr::Small(n, d),
+                        };
+                    }
+                }
+                Coeff {
+                    repr: Repr::Parts(parts),
+                }
+            }
+            _ => Coeff {
+                repr: Repr::Parts(parts),
+            },
+        }
+    }
+
+    /// The parts as `(basis index, rational)`, sorted, no zeros.
+    fn parts(&self) -> std::borrow::Cow<'_, [(u8, Q)]> {
+        match &self.repr {
+            Repr::Small(0, _) => std::borrow::Cow::Owned(Vec::new()),
+            Repr::Small(n, d) => std::borrow::Cow::Owned(vec![(0, big_q(*n, *d))]),
+            Repr::Parts(p) => std::borrow::Cow::Borrowed(p),
+        }
+    }
+
     /// Zero.
     pub fn zero() -> Coeff {
-        Coeff { parts: Vec::new() }
+        Coeff {
+            repr: Repr::Small(0, 1),
+        }
     }
     /// One.
     pub fn one() -> Coeff {
-        Coeff::rational(Q::one())
+        Coeff {
+            repr: Repr::Small(1, 1),
+        }
     }
     /// The imaginary unit.
     pub fn i() -> Coeff {
-        Coeff {
-            parts: vec![(IMAG, Q::one())],
-        }
+        Coeff::from_normal(vec![(IMAG, Q::one())])
     }
     /// A rational number.
     pub fn rational(q: Q) -> Coeff {
         if q.is_zero() {
             Coeff::zero()
         } else {
-            Coeff {
-                parts: vec![(0, q)],
-            }
+            Coeff::from_normal(vec![(0, q)])
         }
     }
     /// An integer.
     pub fn int(n: i64) -> Coeff {
-        Coeff::rational(Q::from_integer(BigInt::from(n)))
+        if n == i64::MIN {
+            return Coeff::rational(Q::from_integer(BigInt::from(n)));
+        }
+        Coeff {
+            repr: Repr::Small(n, 1),
+        }
     }
     /// `q * sqrt(2)^a * sqrt(3)^b * i^c` for the basis index `a + 2b + 4c`.
     fn basis(index: u8, q: Q) -> Coeff {
         if q.is_zero() {
             Coeff::zero()
         } else {
-            Coeff {
-                parts: vec![(index, q)],
-            }
+            Coeff::from_normal(vec![(index, q)])
         }
     }
     /// sqrt(m) for m in {2, 3, 6}; `None` otherwise.
@@ -118,54 +208,57 @@ impl Coeff {
             }
         }
         out.retain(|p| !p.1.is_zero());
-        Coeff { parts: out }
+        Coeff::from_normal(out)
     }
 
     /// True for zero.
     pub fn is_zero(&self) -> bool {
-        self.parts.is_empty()
+        matches!(self.repr, Repr::Small(0, _))
     }
     /// True for one.
     pub fn is_one(&self) -> bool {
-        self.parts.len() == 1 && self.parts[0].0 == 0 && self.parts[0].1.is_one()
+        matches!(self.repr, Repr::Small(1, 1))
     }
     /// The value if this is a rational number.
     pub fn as_rational(&self) -> Option<Q> {
-        match self.parts.as_slice() {
-            [] => Some(Q::zero()),
-            [(0, q)] => Some(q.clone()),
-            _ => None,
+        match &self.repr {
+            Repr::Small(n, d) => Some(big_q(*n, *d)),
+            Repr::Parts(p) => match p.as_slice() {
+                [(0, q)] => Some(q.clone()),
+                _ => None,
+            },
         }
     }
     /// True if the imaginary part is zero.
     pub fn is_real(&self) -> bool {
-        self.parts.iter().all(|p| p.0 & IMAG == 0)
+        self.parts().iter().all(|p| p.0 & IMAG == 0)
     }
     /// The real part.
     pub fn re(&self) -> Coeff {
-        Coeff {
-            parts: self
-                .parts
+        if let Repr::Small(..) = self.repr {
+            return self.clone();
+        }
+        Coeff::from_normal(
+            self.parts()
                 .iter()
                 .filter(|p| p.0 & IMAG == 0)
                 .cloned()
                 .collect(),
-        }
+        )
     }
     /// The imaginary part (a real number).
     pub fn im(&self) -> Coeff {
-        Coeff {
-            parts: self
-                .parts
+        Coeff::from_normal(
+            self.parts()
                 .iter()
                 .filter(|p| p.0 & IMAG != 0)
                 .map(|(b, q)| (b & !IMAG, q.clone()))
                 .collect(),
-        }
+        )
     }
     /// If this is `i*q` with q rational, returns q.
     pub fn as_imag_rational(&self) -> Option<Q> {
-        match self.parts.as_slice() {
+        match self.parts().as_ref() {
             [(IMAG, q)] => Some(q.clone()),
             _ => None,
         }
@@ -179,14 +272,36 @@ impl Coeff {
         if self.is_zero() {
             return o.clone();
         }
-        let mut v = self.parts.clone();
-        v.extend(o.parts.iter().cloned());
+        if let (Repr::Small(a, b), Repr::Small(c, d)) = (&self.repr, &o.repr) {
+            // a/b + c/d = (a d + c b)/(b d): |a d|, |c b| < 2^127 / 2, so the sum fits i128.
+            let (a, b, c, d) = (*a as i128, *b as u128, *c as i128, *d as u128);
+            if b == d {
+                if let Some(r) = small_of(a + c, b) {
+                    return r;
+                }
+            } else if let (Some(x), Some(y), Some(bd)) = (
+                a.checked_mul(d as i128),
+                c.checked_mul(b as i128),
+                b.checked_mul(d),
+            ) {
+                if let Some(r) = x.checked_add(y).and_then(|n| small_of(n, bd)) {
+                    return r;
+                }
+            }
+        }
+        let mut v = self.parts().into_owned();
+        v.extend(o.parts().iter().cloned());
         Coeff::from_parts(v)
     }
     /// Negation.
     pub fn neg(&self) -> Coeff {
-        Coeff {
-            parts: self.parts.iter().map(|(b, q)| (*b, -q)).collect(),
+        match &self.repr {
+            Repr::Small(n, d) => Coeff {
+                repr: Repr::Small(-n, *d),
+            },
+            Repr::Parts(p) => Coeff {
+                repr: Repr::Parts(p.iter().map(|(b, q)| (*b, -q)).collect()),
+            },
         }
     }
     /// Difference.
@@ -198,22 +313,30 @@ impl Coeff {
         if self.is_zero() || o.is_zero() {
             return Coeff::zero();
         }
-        if let [(0, q)] = o.parts.as_slice() {
-            if q.is_one() {
-                return self.clone();
+        if o.is_one() {
+            return self.clone();
+        }
+        if self.is_one() {
+            return o.clone();
+        }
+        if let (Repr::Small(a, b), Repr::Small(c, d)) = (&self.repr, &o.repr) {
+            // |a c| < 2^126 and b d < 2^128: exact in 128 bits.
+            let n = (*a as i128) * (*c as i128);
+            let dd = (*b as u128) * (*d as u128);
+            if let Some(r) = small_of(n, dd) {
+                return r;
             }
-            return Coeff {
-                parts: self.parts.iter().map(|(b, p)| (*b, p * q)).collect(),
-            };
         }
-        if let [(0, q)] = self.parts.as_slice() {
-            return Coeff {
-                parts: o.parts.iter().map(|(b, p)| (*b, p * q)).collect(),
-            };
+        let (sp, op) = (self.parts(), o.parts());
+        if let [(0, q)] = op.as_ref() {
+            return Coeff::from_normal(sp.iter().map(|(b, p)| (*b, p * q)).collect());
         }
-        let mut v = Vec::with_capacity(self.parts.len() * o.parts.len());
-        for (a, p) in &self.parts {
-            for (b, q) in &o.parts {
+        if let [(0, q)] = sp.as_ref() {
+            return Coeff::from_normal(op.iter().map(|(b, p)| (*b, p * q)).collect());
+        }
+        let mut v = Vec::with_capacity(sp.len() * op.len());
+        for (a, p) in sp.iter() {
+            for (b, q) in op.iter() {
                 let (c, f) = basis_product(*a, *b);
                 v.push((c, p * q * Q::from_integer(BigInt::from(f))));
             }
@@ -222,9 +345,11 @@ impl Coeff {
     }
     /// The Galois conjugate flipping the sign of every basis element with a bit of `mask`.
     fn conj_by(&self, mask: u8) -> Coeff {
-        Coeff {
-            parts: self
-                .parts
+        if let Repr::Small(..) = self.repr {
+            return self.clone();
+        }
+        Coeff::from_normal(
+            self.parts()
                 .iter()
                 .map(|(b, q)| {
                     if (b & mask).count_ones() % 2 == 1 {
@@ -234,7 +359,7 @@ impl Coeff {
                     }
                 })
                 .collect(),
-        }
+        )
     }
     /// Complex conjugate.
     pub fn conj(&self) -> Coeff {
@@ -317,7 +442,7 @@ impl Coeff {
         let sqrt3 = Interval::new(s3.next_down(), s3.next_up())?;
         let mut re = Interval::ZERO;
         let mut im = Interval::ZERO;
-        for (b, q) in &self.parts {
+        for (b, q) in self.parts().iter() {
             let mut v = rational_interval(q)?;
             if b & SQRT2 != 0 {
                 v = v.mul(sqrt2)?;
@@ -338,7 +463,7 @@ impl Coeff {
     pub fn to_f64(&self) -> (f64, f64) {
         let mut re = 0.0;
         let mut im = 0.0;
-        for (b, q) in &self.parts {
+        for (b, q) in self.parts().iter() {
             let mut v = q.to_f64().unwrap_or(f64::NAN);
             if b & SQRT2 != 0 {
                 v *= std::f64::consts::SQRT_2;
@@ -358,7 +483,10 @@ impl Coeff {
     /// True if this is a negative rational, or a real number whose first component is negative
     /// (used only to print `a - b` instead of `a + -b`).
     pub fn looks_negative(&self) -> bool {
-        match self.parts.first() {
+        if let Repr::Small(n, _) = self.repr {
+            return n < 0;
+        }
+        match self.parts().first() {
             Some((b, q)) => {
                 if self.is_real() {
                     q.is_negative()
@@ -375,7 +503,11 @@ impl Coeff {
     /// The size in bits of the largest numerator or denominator (a cost measure: the limits
     /// refuse products of coefficients that would grow past a cap).
     pub fn bits(&self) -> u64 {
-        self.parts
+        if let Repr::Small(n, d) = self.repr {
+            return u64::from(64 - n.unsigned_abs().leading_zeros())
+                .max(u64::from(64 - d.leading_zeros()));
+        }
+        self.parts()
             .iter()
             .map(|(_, q)| q.numer().bits().max(q.denom().bits()))
             .max()
@@ -384,11 +516,11 @@ impl Coeff {
 
     /// Number of nonzero rational components.
     pub fn len(&self) -> usize {
-        self.parts.len()
+        self.parts().len()
     }
     /// True for zero.
     pub fn is_empty(&self) -> bool {
-        self.parts.is_empty()
+        self.is_zero()
     }
 }
 
@@ -482,7 +614,8 @@ fn fmt_rational(q: &Q, f: &mut fmt::Formatter<'_>) -> fmt::Result {
 /// Prints in the input syntax: `3/4`, `sqrt(2)/2`, `(1 + sqrt(3))/4`, `i/2`.
 impl fmt::Display for Coeff {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        if self.parts.is_empty() {
+        let parts = self.parts();
+        if parts.is_empty() {
             return write!(f, "0");
         }
         let basis_name = |b: u8| -> String {
@@ -498,11 +631,11 @@ impl fmt::Display for Coeff {
             }
             s.join("*")
         };
-        let single = self.parts.len() == 1;
+        let single = parts.len() == 1;
         if !single {
             write!(f, "(")?;
         }
-        for (n, (b, q)) in self.parts.iter().enumerate() {
+        for (n, (b, q)) in parts.iter().enumerate() {
             let neg = q.is_negative();
             if n > 0 {
                 write!(f, "{}", if neg { " - " } else { " + " })?;
@@ -581,5 +714,75 @@ mod tests {
             Coeff::rational(Q::new((-3).into(), 4.into())).to_string(),
             "-3/4"
         );
+    }
+
+    /// The machine-word fast path agrees with big-rational arithmetic, including across the
+    /// overflow boundary, and keeps one representation per value (equal values compare and
+    /// hash equal).
+    mod small {
+        use super::*;
+        use proptest::prelude::*;
+        use std::hash::{Hash, Hasher};
+
+        fn big(n: i64, d: u64) -> Q {
+            Q::new(BigInt::from(n), BigInt::from(d))
+        }
+
+        fn via_parts(q: &Q) -> Coeff {
+            // Forced through the general path: a zero sqrt(2) part added and removed.
+            let s2 = Coeff::sqrt_of_small(2).unwrap();
+            Coeff::rational(q.clone()).add(&s2).sub(&s2)
+        }
+
+        fn hash(c: &Coeff) -> u64 {
+            let mut h = rustc_hash::FxHasher::default();
+            c.hash(&mut h);
+            h.finish()
+        }
+
+        fn edge() -> impl Strategy<Value = i64> {
+            prop_oneof![
+                any::<i64>(),
+                -1000i64..1000,
+                Just(i64::MAX),
+                Just(i64::MIN + 1),
+                Just(1i64 << 62),
+            ]
+        }
+
+        proptest! {
+            #[test]
+            fn add_and_mul_agree_with_big_rationals(
+                a in edge(), b in 1u64.., c in edge(), d in 1u64..,
+            ) {
+                let (x, y) = (big(a, b), big(c, d));
+                let (cx, cy) = (Coeff::rational(x.clone()), Coeff::rational(y.clone()));
+                let sum = cx.add(&cy);
+                let prod = cx.mul(&cy);
+                prop_assert_eq!(sum.as_rational().unwrap(), &x + &y);
+                prop_assert_eq!(prod.as_rational().unwrap(), &x * &y);
+                prop_assert_eq!(cx.neg().as_rational().unwrap(), -x.clone());
+                // One representation per value, whichever path made it.
+                let s2 = via_parts(&(&x + &y));
+                prop_assert_eq!(&sum, &s2);
+                prop_assert_eq!(hash(&sum), hash(&s2));
+                prop_assert_eq!(sum.is_zero(), (&x + &y).is_zero());
+                prop_assert_eq!(prod.is_one(), (&x * &y) == Q::one());
+            }
+        }
+
+        #[test]
+        fn overflow_goes_to_big_integers() {
+            let m = Coeff::int(i64::MAX);
+            let sq = m.mul(&m);
+            let want = Q::from_integer(BigInt::from(i64::MAX) * BigInt::from(i64::MAX));
+            assert_eq!(sq.as_rational().unwrap(), want);
+            assert_eq!(sq.div(&m).unwrap(), m);
+            assert_eq!(
+                Coeff::int(i64::MIN).as_rational().unwrap(),
+                Q::from_integer(BigInt::from(i64::MIN))
+            );
+            assert_eq!(Coeff::int(i64::MIN).neg().neg(), Coeff::int(i64::MIN));
+        }
     }
 }

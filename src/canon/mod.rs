@@ -812,7 +812,11 @@ impl Store {
         if ra.den == rb.den {
             let num = Self::poly_add(&ra.num, &rb.num);
             self.check_size(num.len())?;
-            let den = if num.is_empty() { Vec::new() } else { ra.den.clone() };
+            let den = if num.is_empty() {
+                Vec::new()
+            } else {
+                ra.den.clone()
+            };
             return Ok(self.intern_cancelled(Rat { num, den }));
         }
         // Common denominator: the factor-wise maximum of the exponents.
@@ -859,7 +863,10 @@ impl Store {
                 Err(i) => den.insert(i, (f, e)),
             }
         }
-        Ok(self.intern_cancelled(Rat { num: rs.num.clone(), den }))
+        Ok(self.intern_cancelled(Rat {
+            num: rs.num.clone(),
+            den,
+        }))
     }
 
     /// The sum of many forms, built once: forms with the same denominator are merged in one
