@@ -99,12 +99,34 @@ type Term = (MonoId, Coeff);
 /// Sorted by monomial id, no zero coefficients.
 type Poly = Vec<Term>;
 
-#[derive(Clone, PartialEq, Eq, Hash, Debug)]
+#[derive(Clone, PartialEq, Eq, Debug)]
 struct Rat {
     num: Poly,
     /// Sorted by factor id, positive exponents.
     den: Vec<(FactorId, u32)>,
 }
+
+/// Hashes the denominator, the number of terms and at most [`RAT_HASH_TERMS`] terms at
+/// evenly spread positions: interning a large form then costs a fixed amount of hashing
+/// (equality, checked on every hit, still compares everything). Equal forms hash equal: the
+/// positions depend only on the length.
+impl std::hash::Hash for Rat {
+    fn hash<H: std::hash::Hasher>(&self, h: &mut H) {
+        self.den.hash(h);
+        let n = self.num.len();
+        h.write_usize(n);
+        if n <= RAT_HASH_TERMS {
+            self.num.hash(h);
+        } else {
+            for k in 0..RAT_HASH_TERMS {
+                self.num[k * (n - 1) / (RAT_HASH_TERMS - 1)].hash(h);
+            }
+        }
+    }
+}
+
+/// How many terms of a form its hash reads.
+const RAT_HASH_TERMS: usize = 16;
 
 /// Why a computation on canonical forms stopped.
 #[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
