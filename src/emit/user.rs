@@ -51,8 +51,12 @@ impl EmitTarget {
 
 impl Target for EmitTarget {
     type Node = Id;
-    fn number(&mut self, v: f64) -> Id {
-        self.dag.num(v)
+    fn number(&mut self, q: &BigRational) -> Option<Id> {
+        let v = num_traits::ToPrimitive::to_f64(q).filter(|v| v.is_finite())?;
+        Some(self.dag.num(v))
+    }
+    fn pi(&mut self) -> Id {
+        self.dag.num(std::f64::consts::PI)
     }
     fn symbol(&mut self, name: &str, sample: Option<&str>) -> Result<Id, TapeError> {
         match self.vars.iter().position(|v| v == name) {

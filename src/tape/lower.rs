@@ -79,8 +79,11 @@ pub struct UserExprs {
 pub trait Target {
     /// A node of the target graph.
     type Node: Copy;
-    /// The constant `v` (exact rationals are rounded to nearest; pi is `std::f64::consts::PI`).
-    fn number(&mut self, v: f64) -> Self::Node;
+    /// The exact constant `q`; `None` if the target cannot represent it (beyond the f64
+    /// range for a floating-point target).
+    fn number(&mut self, q: &BigRational) -> Option<Self::Node>;
+    /// pi.
+    fn pi(&mut self) -> Self::Node;
     /// The node of a name: a coordinate or parameter at the top level (`sample` is `None`),
     /// or a name inside the sample of function `sample` (other than its variable).
     ///
@@ -127,8 +130,12 @@ pub struct TapeTarget {
 
 impl Target for TapeTarget {
     type Node = Node;
-    fn number(&mut self, v: f64) -> Node {
-        self.builder.real(v)
+    fn number(&mut self, q: &BigRational) -> Option<Node> {
+        let v = q.to_f64().filter(|v| v.is_finite())?;
+        Some(self.builder.real(v))
+    }
+    fn pi(&mut self) -> Node {
+        self.builder.real(std::f64::consts::PI)
     }
     fn symbol(&mut self, name: &str, sample: Option<&str>) -> Result<Node, TapeError> {
         match (self.bindings.get(name), sample) {
@@ -695,14 +702,11 @@ impl<T: Target> Lowering<T> {
             return Ok(t);
         }
         let t = match self.nodes[n as usize].clone() {
-            U::Num(q) => {
-                let v = q
-                    .to_f64()
-                    .filter(|v| v.is_finite())
-                    .ok_or_else(|| TapeError::Unsupported(q.to_string()))?;
-                self.target.number(v)
-            }
-            U::Pi => self.target.number(std::f64::consts::PI),
+            U::Num(q) => self
+                .target
+                .number(&q)
+                .ok_or_else(|| TapeError::Unsupported(q.to_string()))?,
+            U::Pi => self.target.pi(),
             U::Sym(s) => {
                 let name = self.symbols[s as usize].clone();
                 match scope {
