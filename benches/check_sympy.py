@@ -46,12 +46,15 @@ import argparse
 import json
 import multiprocessing
 import random
-import re
 import subprocess
 import sys
 import time
 import tomllib
 from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parent / "peers"))
+from linearized import (  # noqa: E402  (the formulas shared with the SymEngine peer)
+    COORDS_NAMES, NAMES, Namespace, claims_components, status, tensor)
 
 _t0 = time.perf_counter()
 import sympy as sp  # noqa: E402  (timed on purpose)
@@ -63,20 +66,9 @@ ROOT = Path(__file__).resolve().parent.parent
 DEFAULT_FILES = ["oblique_wave.toml", "static_mass.toml", "vibrating_rod.toml"]
 QUICK_TIMEOUT = 60.0
 
-COORDS = sp.symbols("t x y z", real=True)
-ETA = (-1, 1, 1, 1)
-NAMES = "txyz"
-PAIRS = [(0, 1), (0, 2), (0, 3), (1, 2), (1, 3), (2, 3)]
-COMPONENTS = [(m, n) for m in range(4) for n in range(m, 4)]
-KNOWN_FUNCTIONS = {
-    "sin": sp.sin, "cos": sp.cos, "tan": sp.tan, "exp": sp.exp, "log": sp.log,
-    "sqrt": sp.sqrt, "sinh": sp.sinh, "cosh": sp.cosh, "tanh": sp.tanh,
-}
+COORDS = sp.symbols(COORDS_NAMES, real=True)
 
 # --- lingrav syntax -> SymPy ---------------------------------------------------------------
-
-NUMBER = re.compile(r"(?<![\w.])(\d+\.?\d*(?:[eE][+-]?\d+)?|\.\d+(?:[eE][+-]?\d+)?)")
-PRIMED = re.compile(r"([A-Za-z_]\w*)('+)\s*\(")
 
 
 def prime(f, n, arg):
@@ -89,178 +81,28 @@ def prime(f, n, arg):
     return sp.Subs(sp.Derivative(f(xi), (xi, n)), xi, arg)
 
 
-class Namespace:
-    """Name lookup for eval: coordinates, parameters, functions, defines, d_... operators."""
-
-    def __init__(self):
-        self.names = {str(c): c for c in COORDS}
-        self.names.update(KNOWN_FUNCTIONS)
-        self.names["pi"] = sp.pi
-        self.names["Rational"] = sp.Rational
-        self.functions = {}
-
-    def __getitem__(self, key):
-        if key in self.names:
-            return self.names[key]
-        if key.startswith("d_") and all(v in NAMES for v in key[2:].split("_")):
-            variables = [self.names[v] for v in key[2:].split("_")]
-            return lambda f: sp.diff(f, *variables)
-        if key.startswith("__prime_"):
-            name, n = key[len("__prime_"):].rsplit("_", 1)
-            f = self.functions[name]
-            return lambda a: prime(f, int(n), a)
-        raise KeyError(key)
-
-
-def translate(text):
-    text = NUMBER.sub(lambda m: f"Rational('{m.group(1)}')", text)
-    text = PRIMED.sub(lambda m: f"__prime_{m.group(1)}_{len(m.group(2))}(", text)
-    return text.replace("^", "**")
-
-
-def evaluate(ns, text):
-    return sp.sympify(eval(translate(text), {"__builtins__": {}}, ns))
-
-
-def component_key(key):
-    m, n = NAMES.index(key[0]), NAMES.index(key[1])
-    return (m, n) if m <= n else (n, m)
-
-
 def build(path):
     doc = tomllib.loads(path.read_text())
-    ns = Namespace()
+    ns = Namespace(sp, COORDS, sp.Rational, prime)
     values = {}
     for name, value in doc.get("parameters", {}).items():
         s = sp.Symbol(name, real=True)
-        ns.names[name] = s
+        ns[name] = s
         values[s] = sp.Rational(repr(value))
     u = sp.Symbol("u", real=True)
     samples = {}
     for name, sample in doc.get("functions", {}).items():
         f = sp.Function(name)
-        ns.names[name] = f
+        ns[name] = f
         ns.functions[name] = f
-        sub = Namespace()
-        sub.names["u"] = u
-        samples[f] = sp.Lambda(u, evaluate(sub, sample))
+        sub = Namespace(sp, COORDS, sp.Rational, prime)
+        sub["u"] = u
+        samples[f] = sp.Lambda(u, sub.evaluate(sample))
     for name, text in doc.get("define", {}).items():
-        ns.names[name] = evaluate(ns, text)
-
-    def tensor(table):
-        a = [[sp.Integer(0)] * 4 for _ in range(4)]
-        for key, text in table.items():
-            m, n = component_key(key)
-            a[m][n] = a[n][m] = evaluate(ns, text)
-        return a
-
-    h = tensor(doc.get("perturbation", {}))
-    source = tensor(doc["source"]) if "source" in doc else None
+        ns[name] = ns.evaluate(text)
+    h = tensor(ns, doc.get("perturbation", {}), sp.Integer(0))
+    source = tensor(ns, doc["source"], sp.Integer(0)) if "source" in doc else None
     return doc, h, source, values, samples
-
-
-# --- linearized gravity, textbook formulas -------------------------------------------------
-
-
-class Linearized:
-    def __init__(self, h):
-        self.h = h
-        self.trace = sum(ETA[m] * h[m][m] for m in range(4))
-        self._d = {}
-
-    def d(self, f_key, f, *idx):
-        """Memoised partial derivatives of a named expression."""
-        k = (f_key, tuple(sorted(idx)))
-        if k not in self._d:
-            self._d[k] = sp.diff(f, *[COORDS[i] for i in idx])
-        return self._d[k]
-
-    def dh(self, m, n, *idx):
-        m, n = min(m, n), max(m, n)
-        return self.d(("h", m, n), self.h[m][n], *idx)
-
-    def ricci(self):
-        r = [[None] * 4 for _ in range(4)]
-        for m, n in COMPONENTS:
-            acc = 0
-            for s in range(4):
-                acc += ETA[s] * (self.dh(s, n, s, m) + self.dh(s, m, s, n) - self.dh(m, n, s, s))
-            acc -= self.d("trace", self.trace, m, n)
-            r[m][n] = r[n][m] = acc / 2
-        return r
-
-    def einstein(self):
-        r = self.ricci()
-        scalar = sum(ETA[m] * r[m][m] for m in range(4))
-        return [[r[m][n] - (ETA[m] * scalar / 2 if m == n else 0) for n in range(4)]
-                for m in range(4)]
-
-    def lorenz(self):
-        out = []
-        for n in range(4):
-            acc = 0
-            for m in range(4):
-                hbar = self.h[m][n] - (ETA[m] * self.trace / 2 if m == n else 0)
-                acc += ETA[m] * sp.diff(hbar, COORDS[m])
-            out.append(acc)
-        return out
-
-    def riemann(self, a, b, c, d):
-        return (self.dh(a, d, b, c) + self.dh(b, c, a, d)
-                - self.dh(b, d, a, c) - self.dh(a, c, b, d)) / 2
-
-
-def riemann_independent():
-    out = []
-    for i, p in enumerate(PAIRS):
-        for q in PAIRS[i:]:
-            if p == (0, 3) and q == (1, 2):
-                continue  # fixed by the cyclic identity
-            out.append(p + q)
-    return out
-
-
-def claims_components(doc, h, source):
-    """(key, title, expect_zero, [(name, expr)]) for each claim of the file, lingrav's order."""
-    lin = Linearized(h)
-    claims = doc.get("claims")
-    if claims is None:
-        claims = {"field_equations": True, "gauge": ["lorenz", "tt", "synchronous"],
-                  "pure_gauge": True}
-    out = []
-    if source is not None:
-        comps = [(f"d^mu T_mu{NAMES[n]}",
-                  sum(ETA[m] * sp.diff(source[m][n], COORDS[m]) for m in range(4)))
-                 for n in range(4)]
-        out.append(("source_conservation", True, comps))
-    if "field_equations" in claims:
-        g = lin.einstein()
-        comps = []
-        for m, n in COMPONENTS:
-            e = g[m][n]
-            if source is not None:
-                e = e - 8 * sp.pi * source[m][n]
-            ij = NAMES[m] + NAMES[n]
-            comps.append((f"G_{ij} - 8*pi*T_{ij}" if source is not None else f"G_{ij}", e))
-        out.append(("field_equations", claims["field_equations"], comps))
-    for gauge in claims.get("gauge", []):
-        if gauge == "lorenz":
-            comps = [(f"d^mu hbar_mu{NAMES[n]}", e) for n, e in enumerate(lin.lorenz())]
-        elif gauge in ("tt", "synchronous"):
-            comps = [(f"h_t{NAMES[m]}", h[0][m]) for m in range(4)]
-            if gauge == "tt":
-                comps.append(("h_xx + h_yy + h_zz", h[1][1] + h[2][2] + h[3][3]))
-                comps += [(f"d_i h_i{NAMES[j]}",
-                           sum(sp.diff(h[i][j], COORDS[i]) for i in range(1, 4)))
-                          for j in range(1, 4)]
-        else:
-            raise ValueError(f"unknown gauge {gauge}")
-        out.append((f"gauge.{gauge}", True, comps))
-    if "pure_gauge" in claims:
-        comps = [("R_" + "".join(NAMES[i] for i in idx), lin.riemann(*idx))
-                 for idx in riemann_independent()]
-        out.append(("pure_gauge", claims["pure_gauge"], comps))
-    return out
 
 
 # --- verdicts ------------------------------------------------------------------------------
@@ -339,22 +181,12 @@ def verdict(expr, values, samples, rng, tuned):
     return "undecided", f"simplify left {sp.sstr(s)[:200]}; numerically ~0"
 
 
-def status(verdicts, expect_zero):
-    any_nonzero = any(v == "nonzero" for v in verdicts)
-    all_zero = all(v == "zero" for v in verdicts)
-    if any_nonzero:
-        return "fails" if expect_zero else "holds"
-    if all_zero:
-        return "holds" if expect_zero else "fails"
-    return "undecided"
-
-
 def run_case(path, tuned, queue):
     """In the child: every claim of the file, each component decided; reports on queue."""
     rng = random.Random(20240601)
     start, cpu = time.perf_counter(), time.process_time()
     doc, h, source, values, samples = build(path)
-    claims = claims_components(doc, h, source)
+    claims = claims_components(doc, h, source, sp, COORDS)
     queue.put(("built", time.perf_counter() - start))
     for key, asserted, comps in claims:
         t = time.perf_counter()
