@@ -142,12 +142,15 @@ pub struct BuildError {
     pub help: Option<String>,
     /// True when a size or time limit stopped the build (not an error in the input).
     pub limit: bool,
+    /// The limit itself, when one stopped the build.
+    pub cause: Option<CanonError>,
 }
 
 impl BuildError {
     fn new(message: impl Into<String>, span: Span, help: Option<String>) -> BuildError {
         BuildError {
             limit: false,
+            cause: None,
             message: message.into(),
             span,
             help,
@@ -157,6 +160,7 @@ impl BuildError {
         let limit = e.is_limit();
         BuildError {
             limit,
+            cause: limit.then(|| e.clone()),
             ..BuildError::new(e.to_string(), span, None)
         }
     }

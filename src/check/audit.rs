@@ -126,6 +126,10 @@ pub fn audit_claims(problem: &Problem, claims: &mut [ClaimReport], seed: u64) {
     let mut at_witness: FxHashMap<Vec<(String, u64)>, FxHashMap<String, Interval>> =
         FxHashMap::default();
     for c in claims.iter_mut() {
+        if c.components.is_empty() {
+            // A claim the exact route could not compute (a limit): its report stays as is.
+            continue;
+        }
         for k in &mut c.components {
             let id = key(&c.key, &k.name);
             k.audit = match k.verdict.clone() {
@@ -418,5 +422,13 @@ mod tests {
             "{}",
             fe.method
         );
+    }
+
+    /// A claim with no verdicts (its components could not be computed) is undecided, whatever
+    /// it asserts; "all of none vanish" is no proof.
+    #[test]
+    fn issue9_no_components_is_undecided_not_a_verdict() {
+        assert_eq!(Status::of(&[], true), Status::Undecided);
+        assert_eq!(Status::of(&[], false), Status::Undecided);
     }
 }

@@ -38,7 +38,14 @@ impl Status {
 
     /// The status of "all these vanish" (`expect_zero`) or "not all vanish" from the
     /// component verdicts.
+    ///
+    /// No verdicts at all (a claim whose components could not be computed) is undecided:
+    /// nothing was checked, so nothing holds or fails (issue 9: a memory limit once left
+    /// claims without components, and "all of none vanish" read as a proof).
     pub fn of(verdicts: &[&Verdict], expect_zero: bool) -> Status {
+        if verdicts.is_empty() {
+            return Status::Undecided;
+        }
         let any_nonzero = verdicts.iter().any(|v| matches!(v, Verdict::Nonzero(_)));
         let all_zero = verdicts.iter().all(|v| matches!(v, Verdict::Zero));
         match (expect_zero, any_nonzero, all_zero) {

@@ -74,10 +74,10 @@ fn build_arg(store: &mut Store, text: &str, label: &str) -> Result<Form, Failure
     let e = lingrav::parse::parse(text).map_err(|e| with_source(e, label, text))?;
     store.build(&e, &Names::free()).map_err(|e| {
         if e.limit {
-            gave_up(
-                &super::limits::timeout_if_past(&store.limits)
-                    .unwrap_or(CanonError::TooLarge(store.limits.max_terms)),
-            )
+            gave_up(&e.cause.clone().unwrap_or_else(|| {
+                super::limits::timeout_if_past(&store.limits)
+                    .unwrap_or(CanonError::TooLarge(store.limits.max_terms))
+            }))
         } else {
             Failure::Input(with_source(e, label, text))
         }

@@ -104,6 +104,15 @@ pub fn stop_now(message: &str) -> ! {
     std::process::exit(3);
 }
 
+/// Set once a command starts printing its report: the watchdog then stands down.
+static DISARMED: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
+
+/// Stops the memory watchdog: the command has finished computing and is reporting (a limit
+/// it reached is part of that report).
+pub fn disarm_watchdog() {
+    DISARMED.store(true, std::sync::atomic::Ordering::SeqCst);
+}
+
 /// How often the watchdog looks at the memory flag.
 const POLL: Duration = Duration::from_millis(20);
 /// How long the flag may stay up before the watchdog ends the process.
@@ -119,6 +128,9 @@ fn start_watchdog() {
                 let mut since: Option<Instant> = None;
                 loop {
                     std::thread::sleep(POLL);
+                    if DISARMED.load(std::sync::atomic::Ordering::SeqCst) {
+                        return;
+                    }
                     if !lingrav::budget::over_budget() {
                         since = None;
                         continue;

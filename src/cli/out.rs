@@ -117,6 +117,9 @@ pub fn finish(r: Result<Outcome, Failure>) -> ExitCode {
 
 /// Writes the whole text to standard output at once.
 pub fn print(text: &str) -> Result<(), Failure> {
+    // The computation is over: what it found is being reported, limits included, so the
+    // memory watchdog must not cut the report or append to it.
+    super::limits::disarm_watchdog();
     let mut out = io::stdout().lock();
     out.write_all(text.as_bytes())?;
     out.flush()?;

@@ -77,7 +77,9 @@ impl Builder<'_> {
 
     fn build(&mut self, e: &ExprText, expr: &Expr, names: &Names) -> Result<Form, ProblemError> {
         self.store.build(expr, names).map_err(|be| {
-            let limit = be.limit.then(|| self.limit_reached());
+            let limit = be
+                .limit
+                .then(|| be.cause.clone().unwrap_or_else(|| self.limit_reached()));
             let err = self.expr_err(e, be.message, be.span, "here", be.help);
             match limit {
                 Some(l) => err.with_limit(l),

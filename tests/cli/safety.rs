@@ -250,6 +250,31 @@ fn issue_9_a_file_that_grows_fast_ends_as_undecided_within_the_limits() {
     assert!(out.contains("undecided: too slow"), "{out}");
 }
 
+/// A memory cap reached inside `check` leaves claims without components: they are undecided,
+/// never "holds" ("all of none vanish") nor "fails" (found by the peer benchmark: with a small
+/// cap, claims printed "holds: all 0 components reduce to 0" and the run exited 0). The
+/// report is whole, in text and in JSON, and the run exits 3.
+#[test]
+fn issue_9_a_memory_cap_inside_check_never_reads_as_a_verdict() {
+    let f = worked("vibrating_rod.toml");
+    let (out, err, code) = lingrav(&["check", &f, "--max-memory", "1"]);
+    assert_eq!(code, 3, "{out}{err}");
+    assert!(out.contains("memory use passed the cap of 1 MiB"), "{out}");
+    for line in out.lines() {
+        let l = line.trim_start();
+        assert!(
+            !l.starts_with("holds") && !l.starts_with("fails") && !l.contains("all 0 components"),
+            "{out}"
+        );
+    }
+    let (out, err, code) = lingrav(&["check", &f, "--max-memory", "1", "--format", "json"]);
+    assert_eq!(code, 3, "{out}{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).expect("the whole output is JSON");
+    for c in v["claims"].as_array().unwrap() {
+        assert_eq!(c["status"], "undecided", "{c}");
+    }
+}
+
 #[test]
 fn issue_9_grid_estimates_before_starting_and_refuses_a_huge_run() {
     let start = Instant::now();
