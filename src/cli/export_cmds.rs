@@ -420,7 +420,7 @@ pub fn run_export(a: ExportArgs) -> Result<Outcome, Failure> {
     let b = blocks(&mut p.store, &p.h, p.source.as_ref(), &qs, dir.as_ref())
         .map_err(quantity_failure)?;
     let frame = dir.as_ref().map(|d| frame_texts(&mut p, d));
-    let numeric = Numeric::new(&p, &qs, frame)
+    let numeric = Numeric::new(&p, &qs, frame, &params)
         .map_err(|e| Failure::Input(miette::miette!("cannot evaluate the problem's texts: {e}")))?;
     let settings = Settings {
         tolerance: a.tolerance,

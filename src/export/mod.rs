@@ -19,7 +19,9 @@
 //! table holds finite values only; column names and orders come from [`quantity`] alone.
 
 pub mod certify;
+pub mod lower;
 pub mod points;
+pub mod program;
 pub mod quantity;
 pub mod write;
 
@@ -105,11 +107,15 @@ fn eval_forms(
 pub struct Numeric {
     audit: Audit,
     frame: bool,
+    /// The fast path: the columns as one interval program and its output registers (`None`
+    /// if the texts could not be lowered; the jets then do everything).
+    program: Option<(program::IntervalProgram, Vec<u32>)>,
 }
 
 impl Numeric {
-    /// Plans the jets `quantities` need for `problem`; `frame` gives the texts of `n`, `u`, `v`
-    /// (three components each) for psi4, hplus and hcross.
+    /// Plans the jets `quantities` need for `problem`, and the interval program of the
+    /// columns at these `parameters` (the export's values); `frame` gives the texts of `n`,
+    /// `u`, `v` (three components each) for psi4, hplus and hcross.
     ///
     /// # Errors
     ///
@@ -118,6 +124,7 @@ impl Numeric {
         problem: &Problem,
         quantities: &[Quantity],
         frame: Option<[[String; 3]; 3]>,
+        parameters: &[(String, f64)],
     ) -> Result<Numeric, crate::audit::AuditError> {
         let order = quantities
             .iter()
@@ -132,10 +139,39 @@ impl Numeric {
                 }
             }
         }
+        let texts = lower::Texts {
+            h: &problem.h_text,
+            source: problem.source_text.as_ref(),
+            user: crate::tape::UserExprs {
+                defines: problem.defines.clone(),
+                functions: problem.functions.clone(),
+            },
+            frame: frame.clone(),
+        };
+        let program = lower::roots(
+            program::IntervalProgram::new(parameters),
+            &texts,
+            quantities,
+        )
+        .ok()
+        .map(|(p, r)| (p, r.into_iter().flatten().collect()));
         Ok(Numeric {
             audit: Audit::fields(problem, order, &extras)?,
             frame: frame.is_some(),
+            program,
         })
+    }
+
+    /// Every column at `(t, x, y, z)` through the interval program, if there is one (the
+    /// parameters are those the program was built with).
+    fn fast_values(
+        &self,
+        c: [f64; 4],
+        regs: &mut Vec<Option<Interval>>,
+    ) -> Option<Vec<Option<Interval>>> {
+        let (p, outs) = self.program.as_ref()?;
+        p.run(c, regs);
+        Some(outs.iter().map(|&r| regs[r as usize]).collect())
     }
 
     /// Every column of `quantities` at `point`, in enclosure arithmetic `S`.
@@ -380,6 +416,7 @@ pub fn evaluate(
     let mut total_failures = 0usize;
     let tol = settings.tolerance;
     let setup = |e: crate::audit::AuditError| ExportError::Setup(e.to_string());
+    let mut regs = Vec::new();
     for (row, &c) in points.coords.iter().enumerate() {
         check_limits(settings)?;
         let mut point: Vec<(String, f64)> = ["t", "x", "y", "z"]
@@ -388,9 +425,12 @@ pub fn evaluate(
             .map(|(n, v)| (n.to_string(), v))
             .collect();
         point.extend(parameters.iter().cloned());
-        let first = numeric
-            .values::<Interval>(&quantities, &point, &())
-            .map_err(setup)?;
+        let first = match numeric.fast_values(c, &mut regs) {
+            Some(v) => v,
+            None => numeric
+                .values::<Interval>(&quantities, &point, &())
+                .map_err(setup)?,
+        };
         if first.len() != ncol {
             return Err(ExportError::Setup(format!(
                 "{} values for {ncol} columns",

@@ -204,9 +204,9 @@ fn export(
             |x: &[Form; 3]| -> [String; 3] { std::array::from_fn(|i| p.store.to_text(x[i])) };
         [t(&d.n), t(&d.u), t(&d.v)]
     });
-    let numeric = Numeric::new(p, quantities, frame).unwrap();
-    let pts = points::read_points("p.csv", points).unwrap();
     let params = p.parameters.clone();
+    let numeric = Numeric::new(p, quantities, frame, &params).unwrap();
+    let pts = points::read_points("p.csv", points).unwrap();
     let sampling = p.sampling.clone();
     evaluate(
         &mut p.store,
