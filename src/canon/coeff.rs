@@ -25,11 +25,12 @@ const IMAG: u8 = 4;
 /// An element of Q(sqrt 2, sqrt 3, i).
 ///
 /// Two representations, chosen canonically so that derived equality is value equality: a
-/// rational number whose numerator fits an `i64` (other than `i64::MIN`) and whose denominator
-/// fits a `u64` is always `Small` (lowest terms, positive denominator; zero is `Small(0, 1)`),
-/// and everything else is `Parts`, sorted by basis index with no zero component. The small
-/// case (nearly every coefficient of a polynomial computation) needs no allocation and adds
-/// and multiplies in machine words, with exact overflow to big integers.
+/// single basis element times a rational whose numerator fits an `i64` (other than
+/// `i64::MIN`) and whose denominator fits a `u64` is always `Small(n, d, basis)` (lowest
+/// terms, positive denominator; zero is `Small(0, 1, 0)`), and everything else is `Parts`,
+/// sorted by basis index with no zero component. The small case (nearly every coefficient of
+/// a polynomial computation, and the `±i/2` of every sine) needs no allocation and adds and
+/// multiplies in machine words, with exact overflow to big integers.
 #[derive(Clone, PartialEq, Eq, Debug)]
 pub struct Coeff {
     repr: Repr,
@@ -37,7 +38,7 @@ pub struct Coeff {
 
 #[derive(Clone, PartialEq, Eq, Debug)]
 enum Repr {
-    Small(i64, u64),
+    Small(i64, u64, u8),
     Parts(Vec<(u8, Q)>),
 }
 
@@ -55,8 +56,8 @@ impl Default for Coeff {
 impl std::hash::Hash for Coeff {
     fn hash<H: std::hash::Hasher>(&self, h: &mut H) {
         match &self.repr {
-            Repr::Small(n, d) => {
-                h.write_u8(0xff);
+            Repr::Small(n, d, b) => {
+                h.write_u8(0xf0 | b);
                 h.write_i64(*n);
                 h.write_u64(*d);
             }
@@ -81,8 +82,8 @@ fn gcd_u128(mut a: u128, mut b: u128) -> u128 {
     a
 }
 
-/// `n/d` (d > 0) in lowest terms as a small coefficient, if it fits.
-fn small_of(n: i128, d: u128) -> Option<Coeff> {
+/// `(n/d) * basis` (d > 0) in lowest terms as a small coefficient, if it fits.
+fn small_of(n: i128, d: u128, basis: u8) -> Option<Coeff> {
     if n == 0 {
         return Some(Coeff::zero());
     }
@@ -91,7 +92,7 @@ fn small_of(n: i128, d: u128) -> Option<Coeff> {
     let n = i64::try_from(n).ok().filter(|&n| n != i64::MIN)?;
     let d = u64::try_from(d).ok()?;
     Some(Coeff {
-        repr: Repr::Small(n, d),
+        repr: Repr::Small(n, d, basis),
     })
 }
 
@@ -119,11 +120,11 @@ impl Coeff {
     fn from_normal(parts: Vec<(u8, Q)>) -> Coeff {
         match parts.as_slice() {
             [] => Coeff::zero(),
-            [(0, q)] => {
+            [(b, q)] => {
                 if let (Some(n), Some(d)) = (q.numer().to_i64(), q.denom().to_u64()) {
                     if n != i64::MIN {
                         return Coeff {
-                            repr: Repr::Small(n, d),
+                            repr: Repr::Small(n, d, *b),
                         };
                     }
                 }
@@ -140,8 +141,8 @@ impl Coeff {
     /// The parts as `(basis index, rational)`, sorted, no zeros.
     fn parts(&self) -> std::borrow::Cow<'_, [(u8, Q)]> {
         match &self.repr {
-            Repr::Small(0, _) => std::borrow::Cow::Owned(Vec::new()),
-            Repr::Small(n, d) => std::borrow::Cow::Owned(vec![(0, big_q(*n, *d))]),
+            Repr::Small(0, _, _) => std::borrow::Cow::Owned(Vec::new()),
+            Repr::Small(n, d, b) => std::borrow::Cow::Owned(vec![(*b, big_q(*n, *d))]),
             Repr::Parts(p) => std::borrow::Cow::Borrowed(p),
         }
     }
@@ -149,13 +150,13 @@ impl Coeff {
     /// Zero.
     pub fn zero() -> Coeff {
         Coeff {
-            repr: Repr::Small(0, 1),
+            repr: Repr::Small(0, 1, 0),
         }
     }
     /// One.
     pub fn one() -> Coeff {
         Coeff {
-            repr: Repr::Small(1, 1),
+            repr: Repr::Small(1, 1, 0),
         }
     }
     /// The imaginary unit.
@@ -176,7 +177,7 @@ impl Coeff {
             return Coeff::rational(Q::from_integer(BigInt::from(n)));
         }
         Coeff {
-            repr: Repr::Small(n, 1),
+            repr: Repr::Small(n, 1, 0),
         }
     }
     /// `q * sqrt(2)^a * sqrt(3)^b * i^c` for the basis index `a + 2b + 4c`.
@@ -213,16 +214,18 @@ impl Coeff {
 
     /// True for zero.
     pub fn is_zero(&self) -> bool {
-        matches!(self.repr, Repr::Small(0, _))
+        matches!(self.repr, Repr::Small(0, _, _))
     }
     /// True for one.
     pub fn is_one(&self) -> bool {
-        matches!(self.repr, Repr::Small(1, 1))
+        matches!(self.repr, Repr::Small(1, 1, 0))
     }
     /// The value if this is a rational number.
     pub fn as_rational(&self) -> Option<Q> {
         match &self.repr {
-            Repr::Small(n, d) => Some(big_q(*n, *d)),
+            Repr::Small(0, _, _) => Some(Q::zero()),
+            Repr::Small(n, d, 0) => Some(big_q(*n, *d)),
+            Repr::Small(..) => None,
             Repr::Parts(p) => match p.as_slice() {
                 [(0, q)] => Some(q.clone()),
                 _ => None,
@@ -235,8 +238,12 @@ impl Coeff {
     }
     /// The real part.
     pub fn re(&self) -> Coeff {
-        if let Repr::Small(..) = self.repr {
-            return self.clone();
+        if let Repr::Small(_, _, b) = self.repr {
+            return if b & IMAG == 0 {
+                self.clone()
+            } else {
+                Coeff::zero()
+            };
         }
         Coeff::from_normal(
             self.parts()
@@ -248,6 +255,15 @@ impl Coeff {
     }
     /// The imaginary part (a real number).
     pub fn im(&self) -> Coeff {
+        if let Repr::Small(n, d, b) = self.repr {
+            return if b & IMAG == 0 {
+                Coeff::zero()
+            } else {
+                Coeff {
+                    repr: Repr::Small(n, d, b & !IMAG),
+                }
+            };
+        }
         Coeff::from_normal(
             self.parts()
                 .iter()
@@ -272,20 +288,22 @@ impl Coeff {
         if self.is_zero() {
             return o.clone();
         }
-        if let (Repr::Small(a, b), Repr::Small(c, d)) = (&self.repr, &o.repr) {
-            // a/b + c/d = (a d + c b)/(b d): |a d|, |c b| < 2^127 / 2, so the sum fits i128.
-            let (a, b, c, d) = (*a as i128, *b as u128, *c as i128, *d as u128);
-            if b == d {
-                if let Some(r) = small_of(a + c, b) {
-                    return r;
-                }
-            } else if let (Some(x), Some(y), Some(bd)) = (
-                a.checked_mul(d as i128),
-                c.checked_mul(b as i128),
-                b.checked_mul(d),
-            ) {
-                if let Some(r) = x.checked_add(y).and_then(|n| small_of(n, bd)) {
-                    return r;
+        if let (Repr::Small(a, b, e1), Repr::Small(c, d, e2)) = (&self.repr, &o.repr) {
+            if e1 == e2 {
+                // a/b + c/d = (a d + c b)/(b d): |a d|, |c b| < 2^127, checked.
+                let (a, b, c, d) = (*a as i128, *b as u128, *c as i128, *d as u128);
+                if b == d {
+                    if let Some(r) = small_of(a + c, b, *e1) {
+                        return r;
+                    }
+                } else if let (Some(x), Some(y), Some(bd)) = (
+                    a.checked_mul(d as i128),
+                    c.checked_mul(b as i128),
+                    b.checked_mul(d),
+                ) {
+                    if let Some(r) = x.checked_add(y).and_then(|n| small_of(n, bd, *e1)) {
+                        return r;
+                    }
                 }
             }
         }
@@ -296,8 +314,8 @@ impl Coeff {
     /// Negation.
     pub fn neg(&self) -> Coeff {
         match &self.repr {
-            Repr::Small(n, d) => Coeff {
-                repr: Repr::Small(-n, *d),
+            Repr::Small(n, d, b) => Coeff {
+                repr: Repr::Small(-n, *d, *b),
             },
             Repr::Parts(p) => Coeff {
                 repr: Repr::Parts(p.iter().map(|(b, q)| (*b, -q)).collect()),
@@ -319,11 +337,12 @@ impl Coeff {
         if self.is_one() {
             return o.clone();
         }
-        if let (Repr::Small(a, b), Repr::Small(c, d)) = (&self.repr, &o.repr) {
-            // |a c| < 2^126 and b d < 2^128: exact in 128 bits.
-            let n = (*a as i128) * (*c as i128);
+        if let (Repr::Small(a, b, e1), Repr::Small(c, d, e2)) = (&self.repr, &o.repr) {
+            // |a c| < 2^126 and b d < 2^128: exact in 128 bits; the basis factor is checked.
+            let (e, f) = basis_product(*e1, *e2);
+            let n = ((*a as i128) * (*c as i128)).checked_mul(i128::from(f));
             let dd = (*b as u128) * (*d as u128);
-            if let Some(r) = small_of(n, dd) {
+            if let Some(r) = n.and_then(|n| small_of(n, dd, e)) {
                 return r;
             }
         }
@@ -345,8 +364,14 @@ impl Coeff {
     }
     /// The Galois conjugate flipping the sign of every basis element with a bit of `mask`.
     fn conj_by(&self, mask: u8) -> Coeff {
-        if let Repr::Small(..) = self.repr {
-            return self.clone();
+        if let Repr::Small(n, d, b) = self.repr {
+            return if (b & mask).count_ones() % 2 == 1 {
+                Coeff {
+                    repr: Repr::Small(-n, d, b),
+                }
+            } else {
+                self.clone()
+            };
         }
         Coeff::from_normal(
             self.parts()
@@ -483,7 +508,7 @@ impl Coeff {
     /// True if this is a negative rational, or a real number whose first component is negative
     /// (used only to print `a - b` instead of `a + -b`).
     pub fn looks_negative(&self) -> bool {
-        if let Repr::Small(n, _) = self.repr {
+        if let Repr::Small(n, _, _) = self.repr {
             return n < 0;
         }
         match self.parts().first() {
@@ -503,7 +528,7 @@ impl Coeff {
     /// The size in bits of the largest numerator or denominator (a cost measure: the limits
     /// refuse products of coefficients that would grow past a cap).
     pub fn bits(&self) -> u64 {
-        if let Repr::Small(n, d) = self.repr {
+        if let Repr::Small(n, d, _) = self.repr {
             return u64::from(64 - n.unsigned_abs().leading_zeros())
                 .max(u64::from(64 - d.leading_zeros()));
         }
@@ -768,6 +793,27 @@ mod tests {
                 prop_assert_eq!(hash(&sum), hash(&s2));
                 prop_assert_eq!(sum.is_zero(), (&x + &y).is_zero());
                 prop_assert_eq!(prod.is_one(), (&x * &y) == Q::one());
+            }
+        }
+
+        proptest! {
+            #[test]
+            fn basis_multiples_agree_with_big_rationals(
+                a in edge(), b in 1u64.., e1 in 0u8..8, c in edge(), d in 1u64.., e2 in 0u8..8,
+            ) {
+                let (x, y) = (big(a, b), big(c, d));
+                let (cx, cy) = (Coeff::basis(e1, x.clone()), Coeff::basis(e2, y.clone()));
+                let (e, f) = basis_product(e1, e2);
+                let want = Coeff::basis(e, &x * &y * Q::from_integer(BigInt::from(f)));
+                let got = cx.mul(&cy);
+                prop_assert_eq!(&got, &want);
+                prop_assert_eq!(hash(&got), hash(&want));
+                if e1 == e2 {
+                    prop_assert_eq!(cx.add(&cy), Coeff::basis(e1, &x + &y));
+                }
+                prop_assert_eq!(cx.conj().add(&cx).is_zero(), e1 & IMAG != 0 || x.is_zero());
+                let (re, im) = (cx.re(), cx.im());
+                prop_assert_eq!(re.add(&im.mul(&Coeff::i())), cx.clone());
             }
         }
 
