@@ -110,6 +110,15 @@ impl fmt::Display for Enclosure {
     }
 }
 
+/// "3 seeded points", "1 seeded point".
+pub fn seeded(n: usize) -> String {
+    if n == 1 {
+        "1 seeded point".into()
+    } else {
+        format!("{n} seeded points")
+    }
+}
+
 /// The text `t = 0.5, x = -1.2` of a point.
 pub fn point_text(point: &[(String, f64)]) -> String {
     let parts: Vec<String> = point.iter().map(|(n, v)| format!("{n} = {v}")).collect();
@@ -222,9 +231,8 @@ impl Finding {
         match self {
             Finding::ProofConsistent { points, skipped } => {
                 let mut s = format!(
-                    "audited: consistent with an independent evaluation at {} seeded point(s) \
-                     (seed {seed:#x})",
-                    points.len()
+                    "audited: consistent with an independent evaluation at {} (seed {seed:#x})",
+                    seeded(points.len())
                 );
                 if *skipped > 0 {
                     s.push_str(&format!("; {skipped} other(s) could not be evaluated"));
@@ -248,8 +256,8 @@ impl Finding {
                  encloses it in {exact} and the independent route {at}. Please report this \
                  (input and command) as a bug"
             ),
-            Finding::WitnessUnconfirmed { reason, .. } => {
-                format!("not confirmed independently (now undecided): {reason}")
+            Finding::WitnessUnconfirmed { .. } => {
+                "audited: witness not confirmed independently (now undecided)".into()
             }
             Finding::NotAudited(why) => format!("not audited: {why}"),
             Finding::Skipped => "nothing to audit (undecided by the exact route)".into(),
@@ -984,10 +992,11 @@ impl Route for FileQuantities {
                 .map(|(n, v)| (n.as_str(), *v))
                 .collect();
             let fl = f.audit.fields_in::<&str, S>(&own, ctx)?;
-            let needs_tt = self
-                .quantities
-                .iter()
-                .any(|q| q.parts.iter().any(|(k, _, p)| *k == i && matches!(p, Part::Tt(..))));
+            let needs_tt = self.quantities.iter().any(|q| {
+                q.parts
+                    .iter()
+                    .any(|(k, _, p)| *k == i && matches!(p, Part::Tt(..)))
+            });
             tts.push(needs_tt.then(|| tt_part(&fl)));
             fields.push(fl);
         }
@@ -998,7 +1007,11 @@ impl Route for FileQuantities {
                 let mut acc = S::zero();
                 for (k, sign, part) in &q.parts {
                     let v = part_value(&fields[*k], &tts[*k], part, ctx)?;
-                    acc = if *sign < 0.0 { acc.sub(&v)? } else { acc.add(&v)? };
+                    acc = if *sign < 0.0 {
+                        acc.sub(&v)?
+                    } else {
+                        acc.add(&v)?
+                    };
                 }
                 Some(acc)
             })

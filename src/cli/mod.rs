@@ -37,19 +37,33 @@ Examples:
 Unknown names are free symbols; unknown names applied to an argument are arbitrary
 functions of one argument (F'(u), F''(u) are their derivatives); d_x(...) differentiates.
 Verdicts: zero (proved: the canonical form cancels), nonzero (certified at a printed
-witness point), undecided (with the reason). Exit 0, 1, 3 respectively; 2 for bad input.")]
+witness point), undecided (with the reason). Exit 0, 1, 3 respectively; 2 for bad input.
+Every verdict is audited by an independent route (your texts evaluated with certified
+interval Taylor jets, never the canonical form), said on the second line: a proof must
+contain 0 at 3 seeded points (--seed; --audit-points prints them), a witness must be
+certified again at its point (f64 intervals, then 128-, 256-, 512-bit balls), else the
+verdict is undecided. A proof contradicted there is reported nonzero as an INTERNAL DEFECT.")]
     Zero(expr_cmds::ZeroArgs),
     /// Print the canonical form of an expression in readable real form.
     #[command(after_help = "\
 Examples:
   lingrav simplify '2*sin(x)*cos(x)'            # prints sin(2*x)
-  lingrav simplify --latex '1/sqrt(x^2 + y^2 + z^2)^3'")]
+  lingrav simplify --latex '1/sqrt(x^2 + y^2 + z^2)^3'
+
+The second line says how the printed form was audited: it and the input are evaluated by an
+independent route (certified interval Taylor jets of the texts) at 3 seeded points (--seed,
+--audit-points) and must agree; a disagreement is an INTERNAL DEFECT (exit 1).")]
     Simplify(expr_cmds::SimplifyArgs),
     /// Differentiate an expression by one or more variables and print the simplified result.
     #[command(after_help = "\
 Examples:
   lingrav diff 'F(t - r)/r' t t            # second time derivative
-  lingrav diff 'sqrt(x^2 + y^2 + z^2)' x   # prints x*sqrt(x^2 + y^2 + z^2)/(x^2 + y^2 + z^2)")]
+  lingrav diff 'sqrt(x^2 + y^2 + z^2)' x   # prints x*sqrt(x^2 + y^2 + z^2)/(x^2 + y^2 + z^2)
+
+The second line says how the printed derivative was audited: it must agree with the jet
+derivative of the input (certified interval Taylor jets of the text, never the canonical
+form) at 3 seeded points (--seed, --audit-points); a disagreement is an INTERNAL DEFECT
+(exit 1).")]
     Diff(expr_cmds::DiffArgs),
     /// Check a perturbation's claims: field equations, gauge conditions, pure gauge.
     #[command(after_help = "\

@@ -7,7 +7,9 @@ use std::path::Path;
 const SEED: u64 = 0x5eed_a0d1;
 
 fn worked(name: &str) -> Problem {
-    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("worked").join(name);
+    let path = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("worked")
+        .join(name);
     let text = std::fs::read_to_string(&path).expect("readable");
     from_str(name, &text).unwrap_or_else(|e| panic!("{name}: {e:?}"))
 }
@@ -32,7 +34,10 @@ fn issue9_a_true_proof_is_consistent_at_three_seeded_points() {
     };
     assert_eq!((points.len(), skipped), (AUDIT_POINTS, 0));
     for e in &points {
-        assert!(!e.value.nonzero && e.value.lo <= 0.0 && 0.0 <= e.value.hi, "{e}");
+        assert!(
+            !e.value.nonzero && e.value.lo <= 0.0 && 0.0 <= e.value.hi,
+            "{e}"
+        );
     }
     // Reproducible: the same seed gives the same points, another seed others.
     assert_eq!(proof(&r), proof(&r));
@@ -53,7 +58,10 @@ fn issue9_a_false_proof_is_contradicted_with_a_witness() {
     let x = e.point[0].1;
     let want = (2.0 * x).sin() - 2.0 * x.sin();
     assert!(e.value.lo <= want && want <= e.value.hi, "{e} vs {want}");
-    assert!(f.method(SEED).starts_with("INTERNAL DEFECT: the exact route proved this zero"));
+    assert!(
+        f.method(SEED)
+            .starts_with("INTERNAL DEFECT: the exact route proved this zero")
+    );
 }
 
 #[test]
@@ -123,11 +131,18 @@ fn issue9_a_false_witness_is_not_confirmed() {
     let r = expressions("sin(x)^2 + cos(x)^2 - 1", None, &[]);
     let point = vec![("x".to_string(), 0.5)];
     let f = audit_witness(&r, 0, &point, &real(1.0, 2.0), SEED);
-    let Finding::WitnessUnconfirmed { reason, at: Some(e) } = &f else {
+    let Finding::WitnessUnconfirmed {
+        reason,
+        at: Some(e),
+    } = &f
+    else {
         panic!("{f:?}");
     };
     assert_eq!(e.value.bits, Some(512));
-    assert!(reason.contains("contains 0 even with 512-bit balls"), "{reason}");
+    assert!(
+        reason.contains("contains 0 even with 512-bit balls"),
+        "{reason}"
+    );
     assert!(!f.is_defect());
 }
 
@@ -136,7 +151,10 @@ fn issue9_disjoint_nonzero_values_are_a_defect() {
     let r = expressions("x + 1", None, &[]);
     let point = vec![("x".to_string(), 0.5)];
     let f = audit_witness(&r, 0, &point, &real(5.0, 6.0), SEED);
-    assert!(matches!(f, Finding::ValuesDisagree { .. }) && f.is_defect(), "{f:?}");
+    assert!(
+        matches!(f, Finding::ValuesDisagree { .. }) && f.is_defect(),
+        "{f:?}"
+    );
     let f = audit_witness(&r, 0, &point, &real(1.5, 1.5), SEED);
     assert!(matches!(f, Finding::WitnessConfirmed(_)), "{f:?}");
 }
@@ -158,7 +176,10 @@ fn issue9_a_witness_where_the_value_is_not_real_is_confirmed_elsewhere() {
     // Nowhere real and nonzero: unconfirmed.
     let r = expressions("sqrt(-1 - x^2)", None, &[]);
     let f = audit_witness(&r, 0, &point, &exact, SEED);
-    assert!(matches!(f, Finding::WitnessUnconfirmed { at: None, .. }), "{f:?}");
+    assert!(
+        matches!(f, Finding::WitnessUnconfirmed { at: None, .. }),
+        "{f:?}"
+    );
 }
 
 #[test]
@@ -208,7 +229,11 @@ fn seeded_points_are_those_of_the_problem_audit() {
 /// check's verdicts are confirmed by them, in f64 intervals and in balls.
 #[test]
 fn issue9_claim_quantities_agree_with_the_check() {
-    for name in ["static_mass.toml", "wrong_sign_wave.toml", "uniform_ball.toml"] {
+    for name in [
+        "static_mass.toml",
+        "wrong_sign_wave.toml",
+        "uniform_ball.toml",
+    ] {
         let mut p = worked(name);
         let report = check(&mut p);
         let q = FileQuantities::claims(&p, p.claims.as_ref()).expect("plans");
@@ -219,7 +244,10 @@ fn issue9_claim_quantities_agree_with_the_check() {
                     .unwrap_or_else(|| panic!("{name}: {} {}", c.key, k.name));
                 match &k.verdict {
                     Verdict::Zero => assert!(
-                        matches!(audit_proofs(&q, &[i], SEED)[0], Finding::ProofConsistent { .. }),
+                        matches!(
+                            audit_proofs(&q, &[i], SEED)[0],
+                            Finding::ProofConsistent { .. }
+                        ),
                         "{name} {}",
                         k.name
                     ),
@@ -252,15 +280,20 @@ fn issue9_riemann_difference_of_two_files() {
     // The names are the exact comparison's.
     let mut store = crate::canon::Store::default();
     let z = store.zero();
-    let cmp = crate::gauge::compare::compare(&mut store, &[[z; 4]; 4], &[[z; 4]; 4], &Default::default())
-        .expect("small");
+    let cmp =
+        crate::gauge::compare::compare(&mut store, &[[z; 4]; 4], &[[z; 4]; 4], &Default::default())
+            .expect("small");
     for c in &cmp.components {
         assert!(same.index_of("riemann", &c.name).is_some(), "{}", c.name);
     }
     // Different physics: some component is contradicted when asked to be zero.
     let c = worked("oblique_wave.toml");
     let diff = FileQuantities::riemann_difference(&a, &c).expect("plans");
-    assert!(audit_proofs(&diff, &all, SEED).iter().any(Finding::is_defect));
+    assert!(
+        audit_proofs(&diff, &all, SEED)
+            .iter()
+            .any(Finding::is_defect)
+    );
 }
 
 #[test]
@@ -278,7 +311,11 @@ fn issue9_tt_part_along_a_direction() {
     assert!(audit_proofs(&q, &tts, SEED).iter().any(Finding::is_defect));
     // Along x it is not: h - h^TT has a nonzero component.
     let q = FileQuantities::not_tt(&p, &third("1")).expect("plans");
-    assert!(audit_proofs(&q, &diffs, SEED).iter().any(Finding::is_defect));
+    assert!(
+        audit_proofs(&q, &diffs, SEED)
+            .iter()
+            .any(Finding::is_defect)
+    );
     // The static mass has no TT part along any direction (h_ij proportional to delta_ij).
     let p = worked("static_mass.toml");
     let q = FileQuantities::not_tt(&p, &n).expect("plans");
@@ -291,12 +328,19 @@ fn issue9_tt_part_along_a_direction() {
 fn texts_in_a_files_names() {
     let p = worked("lorenz_oblique.toml");
     let texts = vec![
-        ("box xi_t".to_string(), "-d_t_t(xi_t) + d_x_x(xi_t) + d_y_y(xi_t) + d_z_z(xi_t)".to_string()),
+        (
+            "box xi_t".to_string(),
+            "-d_t_t(xi_t) + d_x_x(xi_t) + d_y_y(xi_t) + d_z_z(xi_t)".to_string(),
+        ),
         ("not zero".to_string(), "q_t*w".to_string()),
     ];
     let q = FileQuantities::texts(&p, &texts).expect("plans");
     let f = audit_proofs(&q, &[0, 1], SEED);
-    assert!(matches!(f[0], Finding::ProofConsistent { .. }), "{:?}", f[0]);
+    assert!(
+        matches!(f[0], Finding::ProofConsistent { .. }),
+        "{:?}",
+        f[0]
+    );
     assert!(f[1].is_defect(), "{:?}", f[1]);
     assert_eq!(q.index_of("text", "not zero"), Some(1));
 }
