@@ -327,6 +327,44 @@ pub(super) fn points_text(findings: &[&Finding]) -> String {
     s
 }
 
+/// The distinct points evaluated by the audits of several verdicts (`--audit-points` of the
+/// commands with many components; the enclosures are in the JSON of each verdict).
+fn distinct_points<'f>(findings: &[&'f Finding]) -> Vec<&'f [(String, f64)]> {
+    let mut out: Vec<&[(String, f64)]> = Vec::new();
+    for f in findings {
+        for e in f.evaluated() {
+            if !out.contains(&e.point.as_slice()) {
+                out.push(&e.point);
+            }
+        }
+    }
+    out
+}
+
+/// `audit points:` and one line per distinct point.
+pub(super) fn point_lines(findings: &[&Finding]) -> String {
+    let points = distinct_points(findings);
+    let mut s = format!("audit points ({}):\n", points.len());
+    for p in points {
+        let _ = writeln!(s, "  {}", point_text(p));
+    }
+    s
+}
+
+/// The distinct points as JSON objects.
+pub(super) fn points_json(findings: &[&Finding]) -> Vec<serde_json::Value> {
+    distinct_points(findings)
+        .into_iter()
+        .map(|p| {
+            serde_json::Value::Object(
+                p.iter()
+                    .map(|(n, v)| (n.clone(), serde_json::json!(v)))
+                    .collect(),
+            )
+        })
+        .collect()
+}
+
 /// A finding as JSON: label, method line, seed and the points with their enclosures.
 pub(super) fn audit_json(f: &Finding, seed: u64) -> serde_json::Value {
     serde_json::json!({

@@ -5,10 +5,11 @@
 //! prints, and writes output files atomically (a temporary file in the same directory, then a
 //! rename), refusing to replace an existing file without `--force`.
 
-use super::expr_cmds::Format;
+use super::expr_cmds::{Format, audit_verdicts, point_lines, points_json};
 use super::limits::{LimitArgs, load_with};
 use super::out::{Failure, Outcome, gave_up, limit_in, print};
 use clap::Args;
+use lingrav::audit::expr::{FileQuantities, Finding, summary};
 use lingrav::canon::{Form, Names, Store};
 use lingrav::check::{CheckReport, Status, check};
 use lingrav::gauge::compare::{Comparison, compare, import};
@@ -113,6 +114,9 @@ pub struct CompareArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
+    /// Also print the points of the independent audit.
+    #[arg(long)]
+    audit_points: bool,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -973,7 +977,7 @@ pub fn run_compare(a: CompareArgs) -> Result<Outcome, Failure> {
 fn compare_cmd(a: CompareArgs) -> Result<Outcome, Stop> {
     let limits = a.limits.start();
     let mut pa = load_with(&a.first, limits)?;
-    let pb = load_with(&a.second, limits)?;
+    let mut pb = load_with(&a.second, limits)?;
     let imported = {
         let sampling = pa.sampling.clone();
         import(&mut pa.store, &sampling, &pa.parameters, &pa.functions, &pb).map_err(|why| {
@@ -989,8 +993,12 @@ fn compare_cmd(a: CompareArgs) -> Result<Outcome, Stop> {
         })?
     };
     let ha = pa.h;
-    let cmp: Comparison =
+    let mut cmp: Comparison =
         compare(&mut pa.store, &ha, &imported.h, &imported.sampling).map_err(limit_failure)?;
+    let seed = imported.sampling.seed;
+    let findings = audit_comparison(&mut cmp, &pa, &mut pb, seed);
+    let finding_refs: Vec<&Finding> = findings.iter().collect();
+    let audit_line = summary(&finding_refs, seed);
     let la = a.first.display().to_string();
     let lb = a.second.display().to_string();
     let differing: Vec<_> = cmp
@@ -1062,6 +1070,10 @@ fn compare_cmd(a: CompareArgs) -> Result<Outcome, Stop> {
                     }
                 }
             }
+            let _ = writeln!(s, "{audit_line}");
+            if a.audit_points {
+                s.push_str(&point_lines(&finding_refs));
+            }
             s
         }
         Format::Json => {
@@ -1071,6 +1083,12 @@ fn compare_cmd(a: CompareArgs) -> Result<Outcome, Stop> {
                 "result": match cmp.status { Status::Holds => "same", Status::Fails => "different", Status::Undecided => "undecided" },
                 "method": "exact zero test of R[A] - R[B] for the 20 independent linearized Riemann components",
                 "notes": imported.notes,
+                "audit": {
+                    "method": audit_line,
+                    "seed": seed,
+                    "components": cmp.components.iter().zip(&findings).map(|(c, f)| (c.name.clone(), serde_json::json!(f.label()))).collect::<serde_json::Map<_, _>>(),
+                    "points": points_json(&finding_refs),
+                },
                 "differing": differing.iter().map(|c| serde_json::json!({
                     "component": c.name,
                     "verdict": c.verdict.label(),
@@ -1091,6 +1109,39 @@ fn compare_cmd(a: CompareArgs) -> Result<Outcome, Stop> {
         Status::Fails => Outcome::Fails,
         Status::Undecided => Outcome::Undecided,
     })
+}
+
+/// Audits the comparison's verdicts from both files' texts and updates them and its status
+/// (a contradicted proof becomes nonzero with the independent witness, an unconfirmed
+/// witness undecided). Functions both files declare are one arbitrary function sampled as
+/// in the first file, as in the comparison, so the second file's audit takes the first
+/// file's samples for them (shared parameters get one value at every audit point).
+fn audit_comparison(
+    cmp: &mut Comparison,
+    pa: &Problem,
+    pb: &mut Problem,
+    seed: u64,
+) -> Vec<Finding> {
+    for (f, sample) in &mut pb.functions {
+        if let Some((_, first)) = pa.functions.iter().find(|(g, _)| g == f) {
+            sample.clone_from(first);
+        }
+    }
+    let route = FileQuantities::riemann_difference(pa, pb);
+    let names: Vec<String> = cmp.components.iter().map(|c| c.name.clone()).collect();
+    let mut verdicts: Vec<Verdict> = cmp.components.iter().map(|c| c.verdict.clone()).collect();
+    let index = |i: usize| route.as_ref().ok()?.index_of("riemann", &names[i]);
+    let findings = audit_verdicts(&route, &mut verdicts, index, seed);
+    for ((c, v), f) in cmp.components.iter_mut().zip(verdicts).zip(&findings) {
+        if matches!(f, Finding::ProofContradicted(_)) {
+            c.residual =
+                Some("0 by the exact route, contradicted by the independent evaluation".into());
+        }
+        c.verdict = v;
+    }
+    let refs: Vec<&Verdict> = cmp.components.iter().map(|c| &c.verdict).collect();
+    cmp.status = Status::of(&refs, true);
+    findings
 }
 
 // ----- ring ------------------------------------------------------------------------------

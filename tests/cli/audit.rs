@@ -147,3 +147,69 @@ fn issue9_simplify_and_diff_check_the_printed_form() {
     let out = run(&["simplify", "sqrt(-1 - x^2)"], 0);
     assert!(line(&out, 1).starts_with("not audited: "), "{out}");
 }
+
+#[test]
+fn issue9_compare_says_how_its_verdicts_were_audited() {
+    let same = [
+        "compare",
+        "worked/lorenz_oblique.toml",
+        "worked/lorenz_oblique_tt.toml",
+    ];
+    let out = run(&same, 0);
+    assert!(out.contains("\nsame physics: "), "{out}");
+    assert!(
+        out.contains(
+            "\naudited: 20 proof(s) consistent with an independent evaluation at 3 seeded points \
+             (seed 0x5eed1a967a7e)\n"
+        ),
+        "{out}"
+    );
+    let mut json = same.to_vec();
+    json.extend(["--format", "json"]);
+    let v: Value = serde_json::from_str(&run(&json, 0)).expect("json");
+    let comps = v["audit"]["components"].as_object().expect("per component");
+    assert_eq!(comps.len(), 20, "{v}");
+    assert!(comps.values().all(|l| l == "consistent"), "{v}");
+    assert_eq!(
+        v["audit"]["points"].as_array().map(Vec::len),
+        Some(3),
+        "{v}"
+    );
+
+    let different = [
+        "compare",
+        "worked/lorenz_wave.toml",
+        "worked/oblique_wave.toml",
+    ];
+    let out = run(&different, 1);
+    assert!(
+        out.contains("\naudited: 20 witness(es) certified again independently (seed "),
+        "{out}"
+    );
+}
+
+/// A function both files declare is one arbitrary function, sampled as in the first file;
+/// the audit of the second file must use the same sample, or it would find a "defect" in a
+/// correct proof.
+#[test]
+fn issue9_compare_audits_shared_functions_with_one_sample() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let file = |name: &str, sample: &str, xx: &str| {
+        let path = dir.path().join(name);
+        std::fs::write(
+            &path,
+            format!(
+                "[parameters]\na = 1e-3\n[functions]\nF = '{sample}'\n[perturbation]\n\
+                 xx = '{xx}'\nyy = '-a*F(t - z)'\n"
+            ),
+        )
+        .expect("written");
+        path.display().to_string()
+    };
+    let a = file("a.toml", "exp(-u^2)", "a*F(t - z)");
+    // The same wave, written differently, with another sample of F.
+    let b = file("b.toml", "sin(3*u)", "a*(F(t - z) + x - x)");
+    let out = run(&["compare", &a, &b], 0);
+    assert!(out.contains("note: function `F` has the sample"), "{out}");
+    assert!(out.contains("\naudited: 20 proof(s) consistent"), "{out}");
+}
