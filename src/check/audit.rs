@@ -8,7 +8,8 @@
 //! witness away.
 
 use super::{ClaimReport, Component, Status, method_text};
-use crate::audit::{Audit, ComponentValue};
+use crate::audit::expr::{FileQuantities, Finding, certify_at};
+use crate::audit::{Audit, AuditError, ComponentValue};
 use crate::interval::{CInterval, Interval};
 use crate::problem::Problem;
 use crate::zero::{Verdict, Witness};
@@ -121,6 +122,8 @@ pub fn audit_claims(problem: &Problem, claims: &mut [ClaimReport], seed: u64) {
         .iter()
         .map(|(n, v)| (n.as_str(), *v))
         .collect();
+    // Planned only if some witness needs it.
+    let mut balls: Option<Result<FileQuantities, AuditError>> = None;
     for c in claims.iter_mut() {
         for k in &mut c.components {
             let id = key(&c.key, &k.name);
@@ -132,7 +135,26 @@ pub fn audit_claims(problem: &Problem, claims: &mut [ClaimReport], seed: u64) {
                         .components_at(&point)
                         .ok()
                         .and_then(|v| by_key(v).remove(&id));
-                    audit_witness(k, &w, value)
+                    match value {
+                        Some(v) if v.excludes_zero() => audit_witness(k, &w, value),
+                        // f64 intervals cannot certify it: balls at higher precision.
+                        _ => {
+                            let route = balls.get_or_insert_with(|| {
+                                FileQuantities::claims(problem, problem.claims.as_ref())
+                            });
+                            let index = route
+                                .as_ref()
+                                .ok()
+                                .and_then(|r| r.index_of(&c.key, &k.name));
+                            match (route, index) {
+                                (Ok(r), Some(i)) => {
+                                    let finding = certify_at(r, i, &point, &w.value);
+                                    witness_finding(k, &finding)
+                                }
+                                _ => audit_witness(k, &w, value),
+                            }
+                        }
+                    }
                 }
                 Verdict::Undecided(_) => Audited::Skipped,
             };
@@ -190,6 +212,27 @@ fn audit_proof(
         }
     }
     Audited::ProofConsistent { points: evaluated }
+}
+
+/// A witness audited at higher precision: what the finding means for the component.
+fn witness_finding(k: &mut Component, finding: &Finding) -> Audited {
+    match finding {
+        Finding::WitnessConfirmed(_) => Audited::WitnessConfirmed,
+        Finding::ValuesDisagree { at, exact } => Audited::ValuesDisagree(format!(
+            "the exact route encloses the value in {exact} but the independent route {at}"
+        )),
+        other => {
+            let reason = match other {
+                Finding::WitnessUnconfirmed { reason, .. } => reason.clone(),
+                o => o.method(0),
+            };
+            k.verdict = Verdict::Undecided(format!(
+                "not reduced to zero, and the exact route's witness was not confirmed by the \
+                 independent evaluation: {reason}"
+            ));
+            Audited::WitnessUnconfirmed
+        }
+    }
 }
 
 fn audit_witness(k: &mut Component, w: &Witness, value: Option<Interval>) -> Audited {
@@ -333,6 +376,38 @@ mod tests {
         assert_eq!(fe.components[0].audit, Audited::WitnessUnconfirmed);
         assert!(matches!(fe.components[0].verdict, Verdict::Undecided(_)));
         assert_eq!(fe.status, Status::Undecided);
+    }
+
+    /// A claim that fails by a tiny but real amount: f64 intervals of the independent route
+    /// lose it to cancellation, balls certify the witness again, and the claim stays failing
+    /// instead of becoming undecided.
+    #[test]
+    fn issue9_a_tiny_but_certified_failure_stays_a_failure() {
+        let tiny = "name = 'almost a wave'\n[parameters]\na = 1e-3\nw = 2.0\n\
+            [perturbation]\nxx = 'a*cos(w*(t - z))*(1 + 1e-30*x^2)'\nyy = '-a*cos(w*(t - z))'\n\
+            [claims]\nfield_equations = true\n";
+        let mut p = crate::problem::from_str("tiny.toml", tiny).unwrap();
+        let report = check(&mut p);
+        let fe = &report.claims[0];
+        assert_eq!(fe.status, Status::Fails, "{}", fe.method);
+        let failing: Vec<&Component> = fe
+            .components
+            .iter()
+            .filter(|k| matches!(k.verdict, Verdict::Nonzero(_)))
+            .collect();
+        assert!(!failing.is_empty());
+        for k in failing {
+            assert_eq!(k.audit, Audited::WitnessConfirmed, "{}", k.name);
+            // f64 intervals alone do not certify it: the balls did.
+            let Verdict::Nonzero(w) = &k.verdict else {
+                unreachable!()
+            };
+            let audit = Audit::new(&p).unwrap();
+            let point = audit.complete(&w.point, 0.5);
+            let v = audit.components_at(&point).unwrap();
+            let v = by_key(v).remove(&key("field_equations", &k.name)).unwrap();
+            assert!(v.contains_zero(), "{}: {v}", k.name);
+        }
     }
 
     #[test]
