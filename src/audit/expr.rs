@@ -856,13 +856,19 @@ impl FileQuantities {
 
     /// The TT part of `problem`'s `h` along the direction whose components are the texts `n`
     /// (`Lambda_ij,kl h_kl` with `P = 1 - n n`): quantities `h - h^TT` for the ten
-    /// components `tt`, `tx`, ... (named so), then `h^TT` for the six spatial ones (named
-    /// `TT xx`, ...).
+    /// components `tt`, `tx`, ... (claim `h - h^TT`), then `h^TT` for the six spatial ones
+    /// (claim `h^TT`), then, with `printed` (texts of the six spatial components `xx`, `xy`,
+    /// `xz`, `yy`, `yz`, `zz` of a TT part computed otherwise), `printed - h^TT` (claim
+    /// `printed - h^TT`).
     ///
     /// # Errors
     ///
     /// A text that does not parse or cannot be planned.
-    pub fn not_tt(problem: &Problem, n: &[String; 3]) -> Result<Self, AuditError> {
+    pub fn not_tt(
+        problem: &Problem,
+        n: &[String; 3],
+        printed: Option<&[String; 6]>,
+    ) -> Result<Self, AuditError> {
         let value = |mu: usize, nu: usize| {
             Part::Combo(vec![(
                 Coef::Exact(1.0),
@@ -893,11 +899,28 @@ impl FileQuantities {
                 parts: vec![(0, 1.0, Part::Tt(mu - 1, nu - 1))],
             });
         }
-        let extras: Vec<(String, String)> = n
+        let mut extras: Vec<(String, String)> = n
             .iter()
             .enumerate()
             .map(|(i, t)| (format!("direction n[{i}]"), t.clone()))
             .collect();
+        if let Some(texts) = printed {
+            let spatial = COMPONENTS.iter().copied().filter(|(m, _)| *m > 0);
+            for (k, ((mu, nu), text)) in spatial.zip(texts).enumerate() {
+                extras.push((
+                    format!("printed h^TT_{}", component_name(mu, nu)),
+                    text.clone(),
+                ));
+                quantities.push(Quantity {
+                    claim: "printed - h^TT".into(),
+                    name: component_name(mu, nu),
+                    parts: vec![
+                        (0, 1.0, Part::Extra(3 + k)),
+                        (0, -1.0, Part::Tt(mu - 1, nu - 1)),
+                    ],
+                });
+            }
+        }
         Self::plan(&[(problem, extras)], quantities)
     }
 

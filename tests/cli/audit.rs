@@ -213,3 +213,131 @@ fn issue9_compare_audits_shared_functions_with_one_sample() {
     assert!(out.contains("note: function `F` has the sample"), "{out}");
     assert!(out.contains("\naudited: 20 proof(s) consistent"), "{out}");
 }
+
+#[test]
+fn issue9_gauge_audits_every_verdict_it_prints() {
+    let args = [
+        "gauge",
+        "worked/lorenz_wave.toml",
+        "--to-tt",
+        "--audit-points",
+    ];
+    let out = run(&args, 0);
+    for want in [
+        "k null (k_mu k^mu = 0): proved; audited: consistent with an independent evaluation at 3 \
+         seeded points",
+        "input in Lorenz gauge: proved; audited: 4 proof(s) consistent",
+        "Lorenz gauge preserved (box xi_nu = 0): holds\n  audited: 4 proof(s) consistent",
+        "exact: all 10 components reduce to 0; audited: 10 proof(s) consistent",
+        "exact: all 8 components reduce to 0; audited: 8 proof(s) consistent",
+        "\naudit points (3):\n  t = ",
+    ] {
+        assert!(out.contains(want), "missing {want:?}:\n{out}");
+    }
+    // The transformed perturbation is audited from the texts of h and of xi.
+    assert!(!out.contains("not audited"), "{out}");
+
+    let args = [
+        "gauge",
+        "worked/lorenz_wave.toml",
+        "--vector",
+        "b*sin(w*(t - z))/(2*w), 0, 0, -b*sin(w*(t - z))/(2*w)",
+    ];
+    let out = run(&args, 0);
+    assert!(
+        out.contains("\n  verdicts on h': audited: 26 proof(s) consistent"),
+        "{out}"
+    );
+}
+
+/// A gauge vector that breaks the Lorenz gauge by a tiny amount: the witnesses (box xi and
+/// those of the verdicts on h') are certified again with balls, so nothing becomes undecided.
+#[test]
+fn issue9_gauge_keeps_tiny_certified_failures() {
+    let args = [
+        "gauge",
+        "worked/lorenz_wave.toml",
+        "--vector",
+        "0, sin(t)*(1 + 1e-30) - sin(t), 0, 0",
+    ];
+    let out = run(&args, 0);
+    assert!(
+        out.contains(
+            "Lorenz gauge preserved (box xi_nu = 0): fails\n  audited: 3 proof(s) \
+             consistent with an independent evaluation at 3 seeded points, 1 witness(es) \
+             certified again independently"
+        ),
+        "{out}"
+    );
+    assert!(out.contains("gauges h' is in (exact): none of"), "{out}");
+    assert!(!out.contains("not confirmed"), "{out}");
+}
+
+#[test]
+fn issue9_project_audits_its_exact_statements() {
+    let out = run(
+        &[
+            "project",
+            "worked/oblique_wave.toml",
+            "--direction",
+            "3/5,0,4/5",
+        ],
+        0,
+    );
+    for want in [
+        "[vector; unit length (proved)]\n           unit length: audited: consistent with an \
+         independent evaluation at 3 seeded points",
+        "(as printed, against an independent projection of the texts: audited: 6 proof(s) \
+         consistent",
+        "not TT     0, exactly: h is already TT along n\n           audited: 10 proof(s) \
+         consistent",
+    ] {
+        assert!(out.contains(want), "missing {want:?}:\n{out}");
+    }
+    let out = run(
+        &[
+            "project",
+            "worked/static_mass.toml",
+            "--direction",
+            "radial",
+        ],
+        0,
+    );
+    assert!(
+        out.contains(
+            "not TT     1, exactly: no part of h is TT along n\n           audited: 6 \
+             proof(s) consistent"
+        ),
+        "{out}"
+    );
+
+    let dir = tempfile::tempdir().expect("temp dir");
+    let tt = dir.path().join("tt.toml").display().to_string();
+    let args = [
+        "project",
+        "worked/lorenz_wave.toml",
+        "--direction",
+        "0,0,1",
+        "--output",
+        &tt,
+        "--format",
+        "json",
+    ];
+    let v: Value = serde_json::from_str(&run(&args, 0)).expect("json");
+    assert_eq!(v["audit"]["defect"], false, "{v}");
+    assert_eq!(v["audit"]["unit_length"]["result"], "consistent", "{v}");
+    assert!(
+        v["audit"]["not_tt"].is_null(),
+        "numerical shares have nothing to audit: {v}"
+    );
+    for c in v["output"]["verification"]
+        .as_array()
+        .expect("verification")
+    {
+        let method = c["method"].as_str().expect("method");
+        assert!(
+            method.contains("; audited: "),
+            "the written claims are audited: {v}"
+        );
+    }
+}

@@ -302,15 +302,35 @@ fn issue9_tt_part_along_a_direction() {
     // The oblique TT wave is TT along (3/5, 0, 4/5): h - h^TT vanishes, h^TT does not.
     let p = worked("oblique_wave.toml");
     let n = ["3/5".to_string(), "0".to_string(), "4/5".to_string()];
-    let q = FileQuantities::not_tt(&p, &n).expect("plans");
+    let q = FileQuantities::not_tt(&p, &n, None).expect("plans");
     let diffs: Vec<usize> = (0..10).collect();
     for f in audit_proofs(&q, &diffs, SEED) {
         assert!(matches!(f, Finding::ProofConsistent { .. }), "{f:?}");
     }
     let tts: Vec<usize> = (10..16).collect();
     assert!(audit_proofs(&q, &tts, SEED).iter().any(Finding::is_defect));
+    // A printed TT part is checked against the independent projection.
+    let printed = [
+        "16/25*a_plus*cos(w*(t - (3*x + 4*z)/5))",
+        "4/5*a_cross*sin(w*(t - (3*x + 4*z)/5))",
+        "-12/25*a_plus*cos(w*(t - (3*x + 4*z)/5))",
+        "-a_plus*cos(w*(t - (3*x + 4*z)/5))",
+        "-3/5*a_cross*sin(w*(t - (3*x + 4*z)/5))",
+        "9/25*a_plus*cos(w*(t - (3*x + 4*z)/5))",
+    ]
+    .map(String::from);
+    let q = FileQuantities::not_tt(&p, &n, Some(&printed)).expect("plans");
+    let checks: Vec<usize> = (16..22).collect();
+    for f in audit_proofs(&q, &checks, SEED) {
+        assert!(matches!(f, Finding::ProofConsistent { .. }), "{f:?}");
+    }
+    let mut wrong = printed.clone();
+    wrong[1] = "4/5*a_cross*cos(w*(t - (3*x + 4*z)/5))".into();
+    let q = FileQuantities::not_tt(&p, &n, Some(&wrong)).expect("plans");
+    let f = audit_proofs(&q, &checks, SEED);
+    assert!(f[1].is_defect() && !f[0].is_defect(), "{f:?}");
     // Along x it is not: h - h^TT has a nonzero component.
-    let q = FileQuantities::not_tt(&p, &third("1")).expect("plans");
+    let q = FileQuantities::not_tt(&p, &third("1"), None).expect("plans");
     assert!(
         audit_proofs(&q, &diffs, SEED)
             .iter()
@@ -318,7 +338,7 @@ fn issue9_tt_part_along_a_direction() {
     );
     // The static mass has no TT part along any direction (h_ij proportional to delta_ij).
     let p = worked("static_mass.toml");
-    let q = FileQuantities::not_tt(&p, &n).expect("plans");
+    let q = FileQuantities::not_tt(&p, &n, None).expect("plans");
     for f in audit_proofs(&q, &tts, SEED) {
         assert!(matches!(f, Finding::ProofConsistent { .. }), "{f:?}");
     }
