@@ -937,31 +937,28 @@ impl FileQuantities {
 fn tt_part<S: Scalar>(f: &Fields<S>) -> Option<Vec<Vec<S>>> {
     let n = [f.extra(0)?, f.extra(1)?, f.extra(2)?];
     let half = S::from_f64(0.5)?;
-    let mut p = vec![Vec::with_capacity(3); 3];
-    let mut h = vec![Vec::with_capacity(3); 3];
-    for i in 0..3 {
-        for j in 0..3 {
-            let delta = S::from_f64(if i == j { 1.0 } else { 0.0 })?;
-            p[i].push(delta.sub(&n[i].mul(&n[j])?)?);
-            h[i].push(f.h(i + 1, j + 1)?);
-        }
-    }
-    let mut out = vec![Vec::with_capacity(3); 3];
-    for i in 0..3 {
-        for j in 0..3 {
-            let mut acc = S::zero();
-            for k in 0..3 {
-                for l in 0..3 {
-                    let lam = p[i][k]
-                        .mul(&p[j][l])?
-                        .sub(&half.mul(&p[i][j].mul(&p[k][l])?)?)?;
-                    acc = acc.add(&lam.mul(&h[k][l])?)?;
-                }
+    let matrix = |entry: &dyn Fn(usize, usize) -> Option<S>| -> Option<Vec<Vec<S>>> {
+        (0..3)
+            .map(|i| (0..3).map(|j| entry(i, j)).collect())
+            .collect()
+    };
+    let p = matrix(&|i, j| {
+        let delta = S::from_f64(if i == j { 1.0 } else { 0.0 })?;
+        delta.sub(&n[i].mul(&n[j])?)
+    })?;
+    let h = matrix(&|i, j| f.h(i + 1, j + 1))?;
+    matrix(&|i, j| {
+        let mut acc = S::zero();
+        for k in 0..3 {
+            for l in 0..3 {
+                let lam = p[i][k]
+                    .mul(&p[j][l])?
+                    .sub(&half.mul(&p[i][j].mul(&p[k][l])?)?)?;
+                acc = acc.add(&lam.mul(&h[k][l])?)?;
             }
-            out[i].push(acc);
         }
-    }
-    Some(out)
+        Some(acc)
+    })
 }
 
 fn part_value<S: Scalar>(
