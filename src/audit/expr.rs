@@ -307,20 +307,9 @@ pub fn summary(findings: &[&Finding], seed: u64) -> String {
         } else {
             format!("{fewest} to {AUDIT_POINTS} seeded points (others could not be evaluated)")
         };
-        parts.push(format!(
-            "{proofs} proof(s) consistent with an independent evaluation at {at}"
-        ));
+        parts.push(tally(proofs, &at, 0, 0).remove(0));
     }
-    if confirmed > 0 {
-        parts.push(format!(
-            "{confirmed} witness(es) certified again independently"
-        ));
-    }
-    if unconfirmed > 0 {
-        parts.push(format!(
-            "{unconfirmed} witness(es) not confirmed independently (now undecided)"
-        ));
-    }
+    parts.extend(tally(0, "", confirmed, unconfirmed));
     let mut s = if parts.is_empty() {
         String::new()
     } else {
@@ -340,6 +329,28 @@ pub fn summary(findings: &[&Finding], seed: u64) -> String {
     } else {
         s
     }
+}
+
+/// The parts of an audit line, shared with the check's claim lines: `proofs` consistent at
+/// `at` (e.g. "3 seeded points"), witnesses confirmed and not (each part only if nonzero).
+pub fn tally(proofs: usize, at: &str, confirmed: usize, unconfirmed: usize) -> Vec<String> {
+    let mut parts = Vec::new();
+    if proofs > 0 {
+        parts.push(format!(
+            "{proofs} proof(s) consistent with an independent evaluation at {at}"
+        ));
+    }
+    if confirmed > 0 {
+        parts.push(format!(
+            "{confirmed} witness(es) certified again independently"
+        ));
+    }
+    if unconfirmed > 0 {
+        parts.push(format!(
+            "{unconfirmed} witness(es) not confirmed independently (now undecided)"
+        ));
+    }
+    parts
 }
 
 /// `count` reproducible points for `seed`: names without a typical value in `±[0.25, 2]`,

@@ -8,7 +8,7 @@
 //! witness away.
 
 use super::{ClaimReport, Component, Status, method_text};
-use crate::audit::expr::{FileQuantities, Finding, certify_at};
+use crate::audit::expr::{FileQuantities, Finding, certify_at, tally};
 use crate::audit::{Audit, AuditError, ComponentValue};
 use crate::interval::{CInterval, Interval};
 use crate::problem::Problem;
@@ -283,26 +283,11 @@ pub fn audit_text(components: &[Component]) -> String {
     let unevaluated = count(|a| matches!(a, Audited::ProofConsistent { points: 0 }));
     let confirmed = count(|a| matches!(a, Audited::WitnessConfirmed));
     let unconfirmed = count(|a| matches!(a, Audited::WitnessUnconfirmed));
-    let mut parts = Vec::new();
-    if proofs > 0 {
-        let mut p = format!(
-            "{proofs} proof(s) consistent with an independent evaluation at {AUDIT_POINTS} seeded points"
-        );
-        if unevaluated > 0 {
-            p.push_str(&format!(" ({unevaluated} could not be evaluated there)"));
-        }
-        parts.push(p);
+    let mut at = format!("{AUDIT_POINTS} seeded points");
+    if unevaluated > 0 {
+        at.push_str(&format!(" ({unevaluated} could not be evaluated there)"));
     }
-    if confirmed > 0 {
-        parts.push(format!(
-            "{confirmed} witness(es) certified again independently"
-        ));
-    }
-    if unconfirmed > 0 {
-        parts.push(format!(
-            "{unconfirmed} witness(es) not confirmed independently (now undecided)"
-        ));
-    }
+    let parts = tally(proofs, &at, confirmed, unconfirmed);
     if parts.is_empty() {
         "nothing to audit".into()
     } else {
