@@ -272,15 +272,28 @@ fn kind_word(k: DirectionKind) -> &'static str {
 }
 
 /// A perturbation derived from `p` in `p`'s store (taken for the check and given back).
-/// `h_text` are texts of its components in `p`'s names (the check audits its verdicts by
-/// evaluating them independently); without texts the check says "not audited".
+/// `h_text` are texts of its components in `p`'s names and the `defines` after `p`'s (the
+/// check audits its verdicts by evaluating them independently); without texts the check
+/// says "not audited".
 fn check_derived(
     p: &mut Problem,
     h: Sym4,
-    h_text: [[Option<String>; 4]; 4],
+    texts: ([[Option<String>; 4]; 4], Vec<(String, String)>),
     claims: Claims,
     keep_source: bool,
 ) -> CheckReport {
+    with_derived(p, h, texts, claims, keep_source, check)
+}
+
+/// `f` of the perturbation derived from `p` as for [`check_derived`].
+fn with_derived<T>(
+    p: &mut Problem,
+    h: Sym4,
+    (h_text, defines): ([[Option<String>; 4]; 4], Vec<(String, String)>),
+    claims: Claims,
+    keep_source: bool,
+    f: impl FnOnce(&mut Problem) -> T,
+) -> T {
     let mut derived = Problem {
         name: p.name.clone(),
         path: p.path.clone(),
@@ -289,7 +302,7 @@ fn check_derived(
         names: p.names.clone(),
         parameters: p.parameters.clone(),
         functions: p.functions.clone(),
-        defines: p.defines.clone(),
+        defines: p.defines.iter().cloned().chain(defines).collect(),
         h,
         h_text,
         source: if keep_source { p.source } else { None },
@@ -302,9 +315,9 @@ fn check_derived(
         grid: None,
         sampling: p.sampling.clone(),
     };
-    let report = check(&mut derived);
+    let out = f(&mut derived);
     p.store = derived.store;
-    report
+    out
 }
 
 fn claim_status(r: &CheckReport, key: &str) -> Option<Status> {
@@ -465,7 +478,7 @@ fn project_cmd(a: ProjectArgs) -> Result<Outcome, Stop> {
             gauge: vec![Gauge::Tt],
             pure_gauge: None,
         };
-        let report = check_derived(&mut p, tt4, texts.clone(), wanted, false);
+        let report = check_derived(&mut p, tt4, (texts.clone(), Vec::new()), wanted, false);
         verification_defect = report
             .claims
             .iter()
@@ -990,7 +1003,40 @@ fn gauge_cmd(a: GaugeArgs) -> Result<Outcome, Stop> {
         .iter()
         .map(|f| lingrav::zero::decide(st, *f, &sampling))
         .collect();
-    let findings = audit_box(&p, &xi_src, &mut verdicts, seed);
+
+    // Verify the result on h' itself: the TT construction's claims, or what holds after a
+    // given vector. The file gets only claims that were proved.
+    let asked = Claims {
+        field_equations: Some(true),
+        gauge: if verify_tt {
+            vec![Gauge::Tt, Gauge::Lorenz]
+        } else {
+            vec![Gauge::Lorenz, Gauge::Tt, Gauge::Synchronous]
+        },
+        pure_gauge: if verify_tt || target.is_none() {
+            None
+        } else {
+            p.claims.as_ref().and_then(|c| c.pure_gauge)
+        },
+    };
+    // The audits of h' and of box xi read xi as defines, so that each of its components is
+    // evaluated once per point rather than once per derivative of it.
+    let xi_names = fresh_names(&p, "lingrav_xi");
+    let xi_defines: Vec<(String, String)> = xi_names.iter().cloned().zip(xi_src.clone()).collect();
+    let h2_text = transformed_texts(&p.h_text, &xi_names);
+    let (report, findings) = with_derived(
+        &mut p,
+        h2,
+        (h2_text, xi_defines),
+        asked.clone(),
+        true,
+        |d| (check(d), audit_box(d, &xi_names, &mut verdicts, seed)),
+    );
+    defect |= report
+        .claims
+        .iter()
+        .any(|c| c.components.iter().any(|k| k.audit.is_defect()));
+
     let refs: Vec<&Verdict> = verdicts.iter().collect();
     let preserved = Status::of(&refs, true);
     let finding_refs: Vec<&Finding> = findings.iter().collect();
@@ -1025,27 +1071,6 @@ fn gauge_cmd(a: GaugeArgs) -> Result<Outcome, Stop> {
         }
     }
 
-    // Verify the result on h' itself: the TT construction's claims, or what holds after a
-    // given vector. The file gets only claims that were proved.
-    let asked = Claims {
-        field_equations: Some(true),
-        gauge: if verify_tt {
-            vec![Gauge::Tt, Gauge::Lorenz]
-        } else {
-            vec![Gauge::Lorenz, Gauge::Tt, Gauge::Synchronous]
-        },
-        pure_gauge: if verify_tt || target.is_none() {
-            None
-        } else {
-            p.claims.as_ref().and_then(|c| c.pure_gauge)
-        },
-    };
-    let h2_text = transformed_texts(&p.h_text, &xi_src);
-    let report = check_derived(&mut p, h2, h2_text, asked.clone(), true);
-    defect |= report
-        .claims
-        .iter()
-        .any(|c| c.components.iter().any(|k| k.audit.is_defect()));
     let mut outcome = Outcome::Holds;
     if verify_tt {
         let _ = writeln!(s, "verification of h' (exact):");
@@ -1183,7 +1208,8 @@ fn gauge_cmd(a: GaugeArgs) -> Result<Outcome, Stop> {
     Ok(outcome)
 }
 
-/// The verdicts on `box xi_nu` audited from the texts of `xi` (in `p`'s names).
+/// The verdicts on `box xi_nu` audited from the texts of `xi` (in `p`'s names: the texts or
+/// the names of defines).
 fn audit_box(p: &Problem, xi: &[String], verdicts: &mut [Verdict], seed: u64) -> Vec<Finding> {
     let texts: Vec<(String, String)> = (0..4)
         .map(|nu| {
@@ -1196,6 +1222,27 @@ fn audit_box(p: &Problem, xi: &[String], verdicts: &mut [Verdict], seed: u64) ->
         .collect();
     let route = FileQuantities::texts(p, &texts);
     audit_verdicts(&route, verdicts, Some, seed)
+}
+
+/// Four names `stem_t`, ... (with more `_` at the end if needed) that no parameter, function
+/// or define of `p` has.
+fn fresh_names(p: &Problem, stem: &str) -> Vec<String> {
+    let taken = |n: &str| {
+        p.parameters.iter().any(|(m, _)| m == n)
+            || p.functions.iter().any(|(m, _)| m == n)
+            || p.defines.iter().any(|(m, _)| m == n)
+    };
+    let mut suffix = String::new();
+    loop {
+        let names: Vec<String> = COORDS
+            .iter()
+            .map(|c| format!("{stem}_{c}{suffix}"))
+            .collect();
+        if !names.iter().any(|n| taken(n)) {
+            return names;
+        }
+        suffix.push('_');
+    }
 }
 
 /// The texts of `h - d xi - d xi` from the texts of `h` and `xi` (in the file's names), for
