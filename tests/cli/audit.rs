@@ -341,3 +341,27 @@ fn issue9_project_audits_its_exact_statements() {
         );
     }
 }
+
+/// A symbol named like the samples' variable `u`: the sample of F is evaluated at F's
+/// argument, not at the symbol's value (the audit found this in the jets; before the fix
+/// both commands below reported a false INTERNAL DEFECT).
+#[test]
+fn issue9_a_symbol_u_does_not_leak_into_function_samples() {
+    let out = run(&["zero", "F(x)*u"], 1);
+    assert!(
+        line(&out, 1).starts_with("audited: witness certified again independently"),
+        "{out}"
+    );
+    let dir = tempfile::tempdir().expect("temp dir");
+    let path = dir.path().join("u.toml");
+    std::fs::write(
+        &path,
+        "[parameters]\nu = 0.5\n[functions]\nF = 'exp(-u^2)'\n[perturbation]\n\
+         xx = 'u*F(t - z)'\nyy = '-u*F(t - z)'\n[claims]\nfield_equations = true\n\
+         pure_gauge = false\n",
+    )
+    .expect("written");
+    let out = run(&["check", &path.display().to_string()], 0);
+    assert!(!out.contains("INTERNAL DEFECT"), "{out}");
+    assert!(out.contains("witness(es) certified again independently"), "{out}");
+}
