@@ -450,12 +450,15 @@ pub fn audit_proofs<R: Route>(route: &R, which: &[usize], seed: u64) -> Vec<Find
 }
 
 /// The value of quantity `index` at `point`, certified nonzero if any precision can: f64
-/// intervals, then balls at [`PRECISIONS`]. `Ok(None)`: not evaluable at any precision;
-/// `Err(e)`: evaluable but never certified nonzero (the last enclosure).
+/// intervals, then balls at [`PRECISIONS`] (after an f64 `None` only if `balls_if_none`: a
+/// wide f64 enclosure can make a division or a root fail where balls succeed).
+/// `Ok(None)`: not evaluable at any precision tried; `Err(e)`: evaluable but never
+/// certified nonzero (the last enclosure).
 fn certified_value<R: Route>(
     route: &R,
     index: usize,
     point: &[(String, f64)],
+    balls_if_none: bool,
 ) -> Result<Option<Enclosure>, Enclosure> {
     let mut last = None;
     let f64_value = route
@@ -463,6 +466,9 @@ fn certified_value<R: Route>(
         .ok()
         .and_then(|v| v.get(index).copied().flatten())
         .map(|v| Enclosure::of(&v, None));
+    if f64_value.is_none() && !balls_if_none {
+        return Ok(None);
+    }
     let balls = PRECISIONS.iter().map(|&bits| {
         route
             .values::<Ball>(point, &bits)
@@ -492,7 +498,7 @@ pub fn certify_at<R: Route>(
     exact: &CInterval,
 ) -> Finding {
     let top = PRECISIONS[PRECISIONS.len() - 1];
-    match certified_value(route, index, point) {
+    match certified_value(route, index, point, true) {
         Ok(Some(value)) => {
             let at = Evaluated {
                 point: point.to_vec(),
@@ -537,8 +543,10 @@ pub fn audit_witness<R: Route>(
     let Finding::WitnessUnconfirmed { at: None, reason } = &finding else {
         return finding;
     };
+    // Points the f64 route cannot evaluate are skipped at once here (domain), so the search
+    // costs at most a few evaluations per candidate.
     for p in seeded_points(&route.names(), seed, CANDIDATES) {
-        if let Ok(Some(value)) = certified_value(route, index, &p) {
+        if let Ok(Some(value)) = certified_value(route, index, &p, false) {
             return Finding::ConfirmedElsewhere {
                 why: "a singularity, or a value that is not real".into(),
                 at: Evaluated { point: p, value },
