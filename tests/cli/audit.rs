@@ -363,5 +363,8 @@ fn issue9_a_symbol_u_does_not_leak_into_function_samples() {
     .expect("written");
     let out = run(&["check", &path.display().to_string()], 0);
     assert!(!out.contains("INTERNAL DEFECT"), "{out}");
-    assert!(out.contains("witness(es) certified again independently"), "{out}");
+    assert!(
+        out.contains("witness(es) certified again independently"),
+        "{out}"
+    );
 }
