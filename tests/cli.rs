@@ -5,6 +5,8 @@
 #[path = "cli/support.rs"]
 mod support;
 
+#[path = "cli/audit.rs"]
+mod audit;
 #[path = "cli/bad_input.rs"]
 mod bad_input;
 #[path = "cli/expr_commands.rs"]

@@ -19,6 +19,8 @@
 //! **Invariant:** never calls `canon`, `zero` or `tensor`; an enclosure is reported only if
 //! every step of it was certified, `None` otherwise.
 
+pub mod expr;
+
 use crate::expr::Expr;
 use crate::grid::claims::{Atom, Deriv, Field, claim_specs};
 use crate::interval::Interval;

@@ -37,19 +37,33 @@ Examples:
 Unknown names are free symbols; unknown names applied to an argument are arbitrary
 functions of one argument (F'(u), F''(u) are their derivatives); d_x(...) differentiates.
 Verdicts: zero (proved: the canonical form cancels), nonzero (certified at a printed
-witness point), undecided (with the reason). Exit 0, 1, 3 respectively; 2 for bad input.")]
+witness point), undecided (with the reason). Exit 0, 1, 3 respectively; 2 for bad input.
+Every verdict is audited by an independent route (your texts evaluated with certified
+interval Taylor jets, never the canonical form), said on the second line: a proof must
+contain 0 at 3 seeded points (--seed; --audit-points prints them), a witness must be
+certified again at its point (f64 intervals, then 128-, 256-, 512-bit balls), else the
+verdict is undecided. A proof contradicted there is reported nonzero as an INTERNAL DEFECT.")]
     Zero(expr_cmds::ZeroArgs),
     /// Print the canonical form of an expression in readable real form.
     #[command(after_help = "\
 Examples:
   lingrav simplify '2*sin(x)*cos(x)'            # prints sin(2*x)
-  lingrav simplify --latex '1/sqrt(x^2 + y^2 + z^2)^3'")]
+  lingrav simplify --latex '1/sqrt(x^2 + y^2 + z^2)^3'
+
+The second line says how the printed form was audited: it and the input are evaluated by an
+independent route (certified interval Taylor jets of the texts) at 3 seeded points (--seed,
+--audit-points) and must agree; a disagreement is an INTERNAL DEFECT (exit 1).")]
     Simplify(expr_cmds::SimplifyArgs),
     /// Differentiate an expression by one or more variables and print the simplified result.
     #[command(after_help = "\
 Examples:
   lingrav diff 'F(t - r)/r' t t            # second time derivative
-  lingrav diff 'sqrt(x^2 + y^2 + z^2)' x   # prints x*sqrt(x^2 + y^2 + z^2)/(x^2 + y^2 + z^2)")]
+  lingrav diff 'sqrt(x^2 + y^2 + z^2)' x   # prints x*sqrt(x^2 + y^2 + z^2)/(x^2 + y^2 + z^2)
+
+The second line says how the printed derivative was audited: it must agree with the jet
+derivative of the input (certified interval Taylor jets of the text, never the canonical
+form) at 3 seeded points (--seed, --audit-points); a disagreement is an INTERNAL DEFECT
+(exit 1).")]
     Diff(expr_cmds::DiffArgs),
     /// Check a perturbation's claims: field equations, gauge conditions, pure gauge.
     #[command(after_help = "\
@@ -104,8 +118,10 @@ Default basis: u = e_theta, v = e_phi of n's polar angles, phi = 0 on the z axis
 h_plus = h^TT_xx and h_cross = h^TT_xy); --basis ax,ay,az sets u, and v = n x u.
 \"not TT\" is |h - h^TT| / |h| (Frobenius norms of the components): exact when 0 or 1, else
 numerical evidence at sample points. --output writes the TT part with the claims proved for it
-(field_equations, gauge tt). Exit 0 (with --output: both proved), 1 one fails, 3 undecided,
-2 bad input.")]
+(field_equations, gauge tt). Every exact statement (unit length, the TT part as printed, an
+exact share, the claims of --output) is audited by an independent evaluation of the texts at
+seeded points (--audit-points prints them). Exit 0 (with --output: both proved), 1 one fails
+or an INTERNAL DEFECT (the audit contradicts the exact route), 3 undecided, 2 bad input.")]
     Project(tt_cmds::ProjectArgs),
     /// Apply a gauge transformation, or construct the one that brings a plane wave to TT gauge.
     #[command(after_help = "\
@@ -117,8 +133,11 @@ Examples:
 h -> h - d_mu xi_nu - d_nu xi_mu, xi index down; prints h' and whether the Lorenz gauge is
 preserved (box xi_nu = 0). --to-tt builds xi for a Lorenz-gauge plane wave (phase read off
 the perturbation, or --wave-vector w,kx,ky,kz) and verifies h' exactly: TT gauge, Lorenz
-gauge, field equations. Exit: --to-tt 0 proved, 1 fails, 3 undecided; --vector 0 once h' is
-computed; 2 bad input (or not a Lorenz-gauge plane wave).")]
+gauge, field equations. Every verdict (k null, the input's Lorenz gauge, box xi, those on h')
+is audited by an independent evaluation of the texts of h and xi (xi as printed when
+constructed) at seeded points (--audit-points prints them). Exit: --to-tt 0 proved, 1 fails,
+3 undecided; --vector 0 once h' is computed; 1 for an INTERNAL DEFECT (the audit contradicts
+the exact route); 2 bad input (or not a Lorenz-gauge plane wave).")]
     Gauge(tt_cmds::GaugeArgs),
     /// Decide whether two perturbations are the same physics in different gauges.
     #[command(after_help = "\
@@ -127,8 +146,11 @@ Examples:
   lingrav compare --format json worked/lorenz_wave.toml worked/oblique_wave.toml
 
 Same physics: identical linearized Riemann tensors (each of the 20 independent components
-of R[A] - R[B] tested exactly). Exit 0 same, 1 different (the differing components are
-listed with a certified witness), 3 undecided, 2 bad input.")]
+of R[A] - R[B] tested exactly). Every verdict is audited by an independent evaluation of both
+files' texts: a proof at 3 seeded points (--audit-points prints them), a witness again at its
+point; a contradicted proof is reported different, with an INTERNAL DEFECT line. Exit 0 same,
+1 different (the differing components are listed with a certified witness), 3 undecided,
+2 bad input.")]
     Compare(tt_cmds::CompareArgs),
     /// How a ring of free test masses transverse to a direction responds to the TT part.
     #[command(after_help = "\

@@ -5,12 +5,13 @@
 //! prints, and writes output files atomically (a temporary file in the same directory, then a
 //! rename), refusing to replace an existing file without `--force`.
 
-use super::expr_cmds::Format;
+use super::expr_cmds::{Format, audit_json, audit_verdicts, point_lines, points_json};
 use super::limits::{LimitArgs, load_with};
 use super::out::{Failure, Outcome, gave_up, limit_in, print};
 use clap::Args;
+use lingrav::audit::expr::{FileQuantities, Finding, summary};
 use lingrav::canon::{Form, Names, Store};
-use lingrav::check::{CheckReport, Status, check};
+use lingrav::check::{CheckReport, Status, audit_text, check};
 use lingrav::gauge::compare::{Comparison, compare, import};
 use lingrav::gauge::plane::{PlaneError, find_wave, tt_gauge_vector};
 use lingrav::gauge::{box_vector, text_that_reads_back, transform};
@@ -63,6 +64,9 @@ pub struct ProjectArgs {
     /// Replace the output file if it exists.
     #[arg(long)]
     force: bool,
+    /// Also print the points of the independent audit.
+    #[arg(long)]
+    audit_points: bool,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -99,6 +103,9 @@ pub struct GaugeArgs {
     /// Replace the output file if it exists.
     #[arg(long)]
     force: bool,
+    /// Also print the points of the independent audit.
+    #[arg(long)]
+    audit_points: bool,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -113,6 +120,9 @@ pub struct CompareArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
+    /// Also print the points of the independent audit.
+    #[arg(long)]
+    audit_points: bool,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -262,7 +272,28 @@ fn kind_word(k: DirectionKind) -> &'static str {
 }
 
 /// A perturbation derived from `p` in `p`'s store (taken for the check and given back).
-fn check_derived(p: &mut Problem, h: Sym4, claims: Claims, keep_source: bool) -> CheckReport {
+/// `h_text` are texts of its components in `p`'s names and the `defines` after `p`'s (the
+/// check audits its verdicts by evaluating them independently); without texts the check
+/// says "not audited".
+fn check_derived(
+    p: &mut Problem,
+    h: Sym4,
+    texts: ([[Option<String>; 4]; 4], Vec<(String, String)>),
+    claims: Claims,
+    keep_source: bool,
+) -> CheckReport {
+    with_derived(p, h, texts, claims, keep_source, check)
+}
+
+/// `f` of the perturbation derived from `p` as for [`check_derived`].
+fn with_derived<T>(
+    p: &mut Problem,
+    h: Sym4,
+    (h_text, defines): ([[Option<String>; 4]; 4], Vec<(String, String)>),
+    claims: Claims,
+    keep_source: bool,
+    f: impl FnOnce(&mut Problem) -> T,
+) -> T {
     let mut derived = Problem {
         name: p.name.clone(),
         path: p.path.clone(),
@@ -271,9 +302,9 @@ fn check_derived(p: &mut Problem, h: Sym4, claims: Claims, keep_source: bool) ->
         names: p.names.clone(),
         parameters: p.parameters.clone(),
         functions: p.functions.clone(),
-        defines: p.defines.clone(),
+        defines: p.defines.iter().cloned().chain(defines).collect(),
         h,
-        h_text: Default::default(),
+        h_text,
         source: if keep_source { p.source } else { None },
         source_text: if keep_source {
             p.source_text.clone()
@@ -284,9 +315,9 @@ fn check_derived(p: &mut Problem, h: Sym4, claims: Claims, keep_source: bool) ->
         grid: None,
         sampling: p.sampling.clone(),
     };
-    let report = check(&mut derived);
+    let out = f(&mut derived);
     p.store = derived.store;
-    report
+    out
 }
 
 fn claim_status(r: &CheckReport, key: &str) -> Option<Status> {
@@ -412,11 +443,13 @@ fn project_cmd(a: ProjectArgs) -> Result<Outcome, Stop> {
 
     let h = p.h;
     let proj = project_perturbation(&mut p.store, &h, &dir).map_err(limit_failure)?;
-    let frac = {
+    let mut frac = {
         let sampling = p.sampling.clone();
         not_tt_fraction(&mut p.store, &h, &proj.tt, &p.parameters, &sampling)
     };
     let tt4 = lingrav::tt::as_perturbation(&p.store, &proj.tt);
+    let seed = p.sampling.seed;
+    let audit = audit_projection(&mut p, &a.dir, &dir, &tt4, &mut frac, seed);
     let label = a.file.display().to_string();
     let st = &mut p.store;
     let n_text = vec_text(st, &dir.n);
@@ -427,6 +460,7 @@ fn project_cmd(a: ProjectArgs) -> Result<Outcome, Stop> {
 
     // The output file: the TT part, with the claims proved for it.
     let mut written: Option<(String, Claims, CheckReport)> = None;
+    let mut verification_defect = false;
     let mut outcome = Outcome::Holds;
     let mut write_problem: Option<String> = None;
     if let Some(t) = &target {
@@ -444,7 +478,11 @@ fn project_cmd(a: ProjectArgs) -> Result<Outcome, Stop> {
             gauge: vec![Gauge::Tt],
             pure_gauge: None,
         };
-        let report = check_derived(&mut p, tt4, wanted, false);
+        let report = check_derived(&mut p, tt4, (texts.clone(), Vec::new()), wanted, false);
+        verification_defect = report
+            .claims
+            .iter()
+            .any(|c| c.components.iter().any(|k| k.audit.is_defect()));
         let fe = claim_status(&report, "field_equations");
         let tt = claim_status(&report, "gauge.tt");
         let claims = Claims {
@@ -501,6 +539,9 @@ fn project_cmd(a: ProjectArgs) -> Result<Outcome, Stop> {
                 kind_word(dir.kind),
                 dir.n_note
             );
+            if let Some(f) = &audit.unit {
+                let _ = writeln!(s, "           unit length: {}", f.method(seed));
+            }
             let _ = writeln!(s, "basis      u = {u_text}, v = {v_text}");
             let _ = writeln!(s, "           {}", dir.basis_note);
             let _ = writeln!(
@@ -508,6 +549,11 @@ fn project_cmd(a: ProjectArgs) -> Result<Outcome, Stop> {
                 "TT part h^TT_ij = Lambda_ij,kl h_kl, Lambda = P_ik P_jl - P_ij P_kl/2, P = 1 - n n (exact):"
             );
             list_components(&mut s, st, &tt4, "h^TT", true);
+            let _ = writeln!(
+                s,
+                "  (as printed, against an independent projection of the texts: {})",
+                audit.printed_text(seed)
+            );
             let _ = writeln!(
                 s,
                 "polarizations, h^TT = h_plus (u u - v v) + h_cross (u v + v u):"
@@ -525,6 +571,9 @@ fn project_cmd(a: ProjectArgs) -> Result<Outcome, Stop> {
                     share_text(&frac.all),
                     share_text(&frac.spatial)
                 );
+            }
+            if !audit.shares.is_empty() {
+                let _ = writeln!(s, "           {}", audit.shares_text(seed));
             }
             if matches!(frac.all, Share::Numerical(_))
                 || matches!(frac.spatial, Share::Numerical(_))
@@ -546,6 +595,16 @@ fn project_cmd(a: ProjectArgs) -> Result<Outcome, Stop> {
                          TT wave only when h is a plane wave travelling along n)"
                     );
                 }
+            }
+            if audit.defect() || verification_defect {
+                let _ = writeln!(
+                    s,
+                    "INTERNAL DEFECT: the exact route and the independent evaluation disagree \
+                     (see above); no statement they disagree on is reported as proved"
+                );
+            }
+            if a.audit_points {
+                s.push_str(&point_lines(&audit.all()));
             }
             s
         }
@@ -573,6 +632,14 @@ fn project_cmd(a: ProjectArgs) -> Result<Outcome, Stop> {
                     "seed": frac.seed,
                 },
                 "conventions": { "signature": "-+++", "coordinates": "t,x,y,z", "units": "G = c = 1", "indices": "h down" },
+                "audit": {
+                    "unit_length": audit.unit.as_ref().map(|f| audit_json(f, seed)),
+                    "tt_part": audit.printed_text(seed),
+                    "not_tt": if audit.shares.is_empty() { None } else { Some(audit.shares_text(seed)) },
+                    "defect": audit.defect() || verification_defect,
+                    "seed": seed,
+                    "points": points_json(&audit.all()),
+                },
             });
             if let Some((path, claims, report)) = &written {
                 j["output"] = serde_json::json!({
@@ -587,7 +654,108 @@ fn project_cmd(a: ProjectArgs) -> Result<Outcome, Stop> {
         }
     };
     print(&text)?;
+    if audit.defect() || verification_defect {
+        return Ok(Outcome::Fails);
+    }
     Ok(outcome)
+}
+
+/// The independent audit of what `project` states as exact.
+struct ProjectAudit {
+    /// "unit length (proved)" of a given vector, from its texts as written.
+    unit: Option<Finding>,
+    /// The components proved zero behind an exact share of "not TT" (0: h - h^TT, 1: h^TT).
+    shares: Vec<Finding>,
+    /// The printed TT part against the independent projection of the file's texts.
+    printed: Vec<Finding>,
+}
+
+impl ProjectAudit {
+    fn all(&self) -> Vec<&Finding> {
+        self.unit
+            .iter()
+            .chain(&self.shares)
+            .chain(&self.printed)
+            .collect()
+    }
+
+    fn defect(&self) -> bool {
+        self.all().iter().any(|f| f.is_defect())
+    }
+
+    fn shares_text(&self, seed: u64) -> String {
+        summary(&self.shares.iter().collect::<Vec<_>>(), seed)
+    }
+
+    fn printed_text(&self, seed: u64) -> String {
+        summary(&self.printed.iter().collect::<Vec<_>>(), seed)
+    }
+}
+
+/// Audits what `project` states as exact, from the file's texts and the direction: the unit
+/// length of a given vector (its texts as written), the printed TT part and every exact
+/// share of "not TT" (the independent projection `Lambda_ij,kl h_kl` with `n` as printed,
+/// the direction the user is shown). A share whose proof is contradicted is no longer shown
+/// as exact.
+fn audit_projection(
+    p: &mut Problem,
+    args: &DirectionArgs,
+    dir: &Direction,
+    tt4: &Sym4,
+    frac: &mut lingrav::tt::NotTt,
+    seed: u64,
+) -> ProjectAudit {
+    let proved = |n: usize| vec![Verdict::Zero; n];
+    let unit = dir.n_note.contains("(proved)").then(|| {
+        let pieces = Arg::new("--direction", &args.direction).split().ok();
+        match pieces.as_deref() {
+            Some([x, y, z]) => {
+                let text = format!("({})^2 + ({})^2 + ({})^2 - 1", x.text, y.text, z.text);
+                let route = FileQuantities::texts(p, &[("|n|^2 - 1".into(), text)]);
+                audit_verdicts(&route, &mut proved(1), |_| Some(0), seed).remove(0)
+            }
+            _ => Finding::NotAudited("the direction is not three components".into()),
+        }
+    });
+    let n: [String; 3] = std::array::from_fn(|i| p.store.to_text(dir.n[i]));
+    let printed: [String; 6] = {
+        let mut it = COMPONENTS.iter().filter(|(m, _)| *m > 0);
+        std::array::from_fn(|_| {
+            let &(mu, nu) = it.next().expect("six spatial components");
+            p.store.to_text(tt4[mu][nu])
+        })
+    };
+    let route = FileQuantities::not_tt(p, &n, Some(&printed));
+    let printed_findings = audit_verdicts(&route, &mut proved(6), |i| Some(16 + i), seed);
+    // The components behind each exact share: h - h^TT (all ten, or the six spatial ones)
+    // for 0, the six of h^TT for 1.
+    let behind = |share: &Share, spatial: bool| -> Vec<usize> {
+        match share {
+            Share::Exact(0) if spatial => (4..10).collect(),
+            Share::Exact(0) => (0..10).collect(),
+            Share::Exact(_) => (10..16).collect(),
+            _ => Vec::new(),
+        }
+    };
+    let (all, spatial) = (behind(&frac.all, false), behind(&frac.spatial, true));
+    let mut which: Vec<usize> = all.iter().chain(&spatial).copied().collect();
+    which.sort_unstable();
+    which.dedup();
+    let shares = audit_verdicts(&route, &mut proved(which.len()), |i| Some(which[i]), seed);
+    for (share, of) in [(&mut frac.all, &all), (&mut frac.spatial, &spatial)] {
+        let contradicted = which
+            .iter()
+            .zip(&shares)
+            .find(|(q, f)| of.contains(q) && f.is_defect());
+        if let Some((_, f)) = contradicted {
+            *share = Share::Unavailable(f.method(seed));
+        }
+    }
+    ProjectAudit {
+        unit,
+        shares,
+        printed: printed_findings,
+    }
 }
 
 fn claims_text(c: &Claims) -> String {
@@ -686,6 +854,10 @@ fn gauge_cmd(a: GaugeArgs) -> Result<Outcome, Stop> {
     let mut s = String::new();
     let _ = writeln!(s, "{}", heading(&label, p.name.as_deref()));
     let h = p.h;
+    let seed = sampling.seed;
+    // Every verdict below is audited independently; a contradiction is an internal defect.
+    let mut defect = false;
+    let mut audits: Vec<Finding> = Vec::new();
 
     let (xi, verify_tt) = match xi_given {
         Some(xi) => (xi, false),
@@ -716,23 +888,55 @@ fn gauge_cmd(a: GaugeArgs) -> Result<Outcome, Stop> {
                     "from --wave-vector"
                 }
             );
+            // k null, audited from the printed k (the texts shown above).
+            let k_texts: Vec<String> = wave.k.iter().map(|f| p.store.to_text(*f)).collect();
+            let norm = format!(
+                "-({})^2 + ({})^2 + ({})^2 + ({})^2",
+                k_texts[0], k_texts[1], k_texts[2], k_texts[3]
+            );
+            let route = FileQuantities::texts(&p, &[("k_mu k^mu".into(), norm)]);
+            let mut null = [wave.null.clone()];
+            let finding = audit_verdicts(&route, &mut null, |_| Some(0), seed).remove(0);
+            defect |= finding.is_defect();
+            let [null] = null;
             let _ = writeln!(
                 s,
-                "            k null (k_mu k^mu = 0): {}",
-                match &wave.null {
+                "            k null (k_mu k^mu = 0): {}; {}",
+                match &null {
                     Verdict::Zero => "proved".to_string(),
                     Verdict::Nonzero(w) => format!("no, nonzero {w}: not a vacuum wave"),
                     Verdict::Undecided(why) => format!("undecided ({why})"),
-                }
+                },
+                finding.method(seed)
             );
+            audits.push(finding);
             // The construction starts from Lorenz gauge; say so if the input is not in it.
             let mut lin = Linearized::new(&mut p.store, h);
             let div = lin.lorenz(&mut p.store).map_err(limit_failure)?;
-            for (nu, f) in div.iter().enumerate() {
-                match lingrav::zero::decide(&mut p.store, *f, &sampling) {
+            let mut verdicts: Vec<Verdict> = div
+                .iter()
+                .map(|f| lingrav::zero::decide(&mut p.store, *f, &sampling))
+                .collect();
+            let lorenz = Claims {
+                gauge: vec![Gauge::Lorenz],
+                ..Claims::default()
+            };
+            let route = FileQuantities::claims(&p, Some(&lorenz));
+            let index = |nu: usize| {
+                let name = format!("d^mu hbar_mu{}", COORDS[nu]);
+                route.as_ref().ok()?.index_of("gauge.lorenz", &name)
+            };
+            let findings = audit_verdicts(&route, &mut verdicts, index, seed);
+            for (nu, (v, finding)) in verdicts.iter().zip(&findings).enumerate() {
+                match v {
                     Verdict::Zero => {}
                     Verdict::Nonzero(w) => {
-                        let r = p.store.to_text(*f);
+                        let r = match finding {
+                            Finding::ProofContradicted(_) => {
+                                format!("0 by the exact route, but {}", finding.method(seed))
+                            }
+                            _ => p.store.to_text(div[nu]),
+                        };
                         return Err(Stop::Fail(Failure::Input(miette::miette!(
                             help = "bring the wave to Lorenz gauge first (see `lingrav gauge --vector`), \
                                     or project its TT part with `lingrav project`",
@@ -752,7 +956,13 @@ fn gauge_cmd(a: GaugeArgs) -> Result<Outcome, Stop> {
                     }
                 }
             }
-            let _ = writeln!(s, "            input in Lorenz gauge: proved");
+            let refs: Vec<&Finding> = findings.iter().collect();
+            let _ = writeln!(
+                s,
+                "            input in Lorenz gauge: proved; {}",
+                summary(&refs, seed)
+            );
+            audits.extend(findings);
             match tt_gauge_vector(&mut p.store, &names, &wave, &h) {
                 Ok(xi) => (xi, true),
                 Err(e) => return plane_failure(e),
@@ -761,6 +971,13 @@ fn gauge_cmd(a: GaugeArgs) -> Result<Outcome, Stop> {
     };
 
     let h2 = transform(&mut p.store, &h, &xi).map_err(limit_failure)?;
+    // The texts of xi the audit evaluates: as given, or as printed for a constructed one.
+    let xi_src: Vec<String> = if xi_texts.is_empty() {
+        let st = &mut p.store;
+        xi.iter().map(|f| st.to_text(*f)).collect()
+    } else {
+        xi_texts.clone()
+    };
     let st = &mut p.store;
     let _ = writeln!(
         s,
@@ -782,17 +999,56 @@ fn gauge_cmd(a: GaugeArgs) -> Result<Outcome, Stop> {
 
     // Lorenz gauge is preserved exactly when box xi = 0.
     let bx = box_vector(st, &xi).map_err(limit_failure)?;
-    let verdicts: Vec<Verdict> = bx
+    let mut verdicts: Vec<Verdict> = bx
         .iter()
         .map(|f| lingrav::zero::decide(st, *f, &sampling))
         .collect();
+
+    // Verify the result on h' itself: the TT construction's claims, or what holds after a
+    // given vector. The file gets only claims that were proved.
+    let asked = Claims {
+        field_equations: Some(true),
+        gauge: if verify_tt {
+            vec![Gauge::Tt, Gauge::Lorenz]
+        } else {
+            vec![Gauge::Lorenz, Gauge::Tt, Gauge::Synchronous]
+        },
+        pure_gauge: if verify_tt || target.is_none() {
+            None
+        } else {
+            p.claims.as_ref().and_then(|c| c.pure_gauge)
+        },
+    };
+    // The audits of h' and of box xi read xi as defines, so that each of its components is
+    // evaluated once per point rather than once per derivative of it.
+    let xi_names = fresh_names(&p, "lingrav_xi");
+    let xi_defines: Vec<(String, String)> = xi_names.iter().cloned().zip(xi_src.clone()).collect();
+    let h2_text = transformed_texts(&p.h_text, &xi_names);
+    let (report, findings) = with_derived(
+        &mut p,
+        h2,
+        (h2_text, xi_defines),
+        asked.clone(),
+        true,
+        |d| (check(d), audit_box(d, &xi_names, &mut verdicts, seed)),
+    );
+    defect |= report
+        .claims
+        .iter()
+        .any(|c| c.components.iter().any(|k| k.audit.is_defect()));
+
     let refs: Vec<&Verdict> = verdicts.iter().collect();
     let preserved = Status::of(&refs, true);
+    let finding_refs: Vec<&Finding> = findings.iter().collect();
+    defect |= findings.iter().any(Finding::is_defect);
+    let st = &mut p.store;
     let _ = writeln!(
         s,
         "Lorenz gauge preserved (box xi_nu = 0): {}",
         preserved.label()
     );
+    let _ = writeln!(s, "  {}", summary(&finding_refs, seed));
+    audits.extend(findings);
     for (nu, v) in verdicts.iter().enumerate() {
         match v {
             Verdict::Zero => {}
@@ -815,22 +1071,6 @@ fn gauge_cmd(a: GaugeArgs) -> Result<Outcome, Stop> {
         }
     }
 
-    // Verify the result on h' itself: the TT construction's claims, or what holds after a
-    // given vector. The file gets only claims that were proved.
-    let asked = Claims {
-        field_equations: Some(true),
-        gauge: if verify_tt {
-            vec![Gauge::Tt, Gauge::Lorenz]
-        } else {
-            vec![Gauge::Lorenz, Gauge::Tt, Gauge::Synchronous]
-        },
-        pure_gauge: if verify_tt || target.is_none() {
-            None
-        } else {
-            p.claims.as_ref().and_then(|c| c.pure_gauge)
-        },
-    };
-    let report = check_derived(&mut p, h2, asked.clone(), true);
     let mut outcome = Outcome::Holds;
     if verify_tt {
         let _ = writeln!(s, "verification of h' (exact):");
@@ -869,26 +1109,34 @@ fn gauge_cmd(a: GaugeArgs) -> Result<Outcome, Stop> {
                 holding.join(", ")
             }
         );
+        let components: Vec<lingrav::check::Component> = report
+            .claims
+            .iter()
+            .flat_map(|c| c.components.iter().cloned())
+            .collect();
+        let _ = writeln!(s, "  verdicts on h': {}", audit_text(&components));
+    }
+    if defect {
+        outcome = Outcome::Fails;
+        let _ = writeln!(
+            s,
+            "INTERNAL DEFECT: the exact route and the independent evaluation disagree (see \
+             above); no verdict they disagree on is reported as proved"
+        );
+    }
+    if a.audit_points {
+        let refs: Vec<&Finding> = audits.iter().collect();
+        s.push_str(&point_lines(&refs));
     }
 
     if let Some(t) = &target {
         // Prefer the simplified text; where it does not read back exactly, write the
         // transformation itself with the derivative operators.
-        let xi_src: Vec<String> = if xi_texts.is_empty() {
-            let st = &mut p.store;
-            xi.iter().map(|f| st.to_text(*f)).collect()
-        } else {
-            xi_texts.clone()
-        };
-        let h_text = p.h_text.clone();
+        let fallback_texts = transformed_texts(&p.h_text, &xi_src);
         let used_fallback = std::cell::Cell::new(false);
         let fallback = |mu: usize, nu: usize| -> Option<String> {
             used_fallback.set(true);
-            let orig = h_text[mu][nu].clone().unwrap_or_else(|| "0".into());
-            Some(format!(
-                "({orig}) - d_{}({}) - d_{}({})",
-                COORDS[mu], xi_src[nu], COORDS[nu], xi_src[mu]
-            ))
+            fallback_texts[mu][nu].clone()
         };
         let texts = file_texts(&mut p.store, &names, &h2, fallback).map_err(|why| {
             Failure::Input(miette::miette!(
@@ -960,6 +1208,58 @@ fn gauge_cmd(a: GaugeArgs) -> Result<Outcome, Stop> {
     Ok(outcome)
 }
 
+/// The verdicts on `box xi_nu` audited from the texts of `xi` (in `p`'s names: the texts or
+/// the names of defines).
+fn audit_box(p: &Problem, xi: &[String], verdicts: &mut [Verdict], seed: u64) -> Vec<Finding> {
+    let texts: Vec<(String, String)> = (0..4)
+        .map(|nu| {
+            let x = &xi[nu];
+            (
+                format!("box xi_{}", COORDS[nu]),
+                format!("-d_t_t({x}) + d_x_x({x}) + d_y_y({x}) + d_z_z({x})"),
+            )
+        })
+        .collect();
+    let route = FileQuantities::texts(p, &texts);
+    audit_verdicts(&route, verdicts, Some, seed)
+}
+
+/// Four names `stem_t`, ... (with more `_` at the end if needed) that no parameter, function
+/// or define of `p` has.
+fn fresh_names(p: &Problem, stem: &str) -> Vec<String> {
+    let taken = |n: &str| {
+        p.parameters.iter().any(|(m, _)| m == n)
+            || p.functions.iter().any(|(m, _)| m == n)
+            || p.defines.iter().any(|(m, _)| m == n)
+    };
+    let mut suffix = String::new();
+    loop {
+        let names: Vec<String> = COORDS
+            .iter()
+            .map(|c| format!("{stem}_{c}{suffix}"))
+            .collect();
+        if !names.iter().any(|n| taken(n)) {
+            return names;
+        }
+        suffix.push('_');
+    }
+}
+
+/// The texts of `h - d xi - d xi` from the texts of `h` and `xi` (in the file's names), for
+/// the independent audit and for writing a component whose simplified text does not read
+/// back.
+fn transformed_texts(h_text: &[[Option<String>; 4]; 4], xi: &[String]) -> [[Option<String>; 4]; 4] {
+    std::array::from_fn(|mu| {
+        std::array::from_fn(|nu| {
+            let orig = h_text[mu][nu].as_deref().unwrap_or("0");
+            Some(format!(
+                "({orig}) - d_{}({}) - d_{}({})",
+                COORDS[mu], xi[nu], COORDS[nu], xi[mu]
+            ))
+        })
+    })
+}
+
 // ----- compare ---------------------------------------------------------------------------
 
 /// Differing components listed in text output.
@@ -973,7 +1273,7 @@ pub fn run_compare(a: CompareArgs) -> Result<Outcome, Failure> {
 fn compare_cmd(a: CompareArgs) -> Result<Outcome, Stop> {
     let limits = a.limits.start();
     let mut pa = load_with(&a.first, limits)?;
-    let pb = load_with(&a.second, limits)?;
+    let mut pb = load_with(&a.second, limits)?;
     let imported = {
         let sampling = pa.sampling.clone();
         import(&mut pa.store, &sampling, &pa.parameters, &pa.functions, &pb).map_err(|why| {
@@ -989,8 +1289,12 @@ fn compare_cmd(a: CompareArgs) -> Result<Outcome, Stop> {
         })?
     };
     let ha = pa.h;
-    let cmp: Comparison =
+    let mut cmp: Comparison =
         compare(&mut pa.store, &ha, &imported.h, &imported.sampling).map_err(limit_failure)?;
+    let seed = imported.sampling.seed;
+    let findings = audit_comparison(&mut cmp, &pa, &mut pb, seed);
+    let finding_refs: Vec<&Finding> = findings.iter().collect();
+    let audit_line = summary(&finding_refs, seed);
     let la = a.first.display().to_string();
     let lb = a.second.display().to_string();
     let differing: Vec<_> = cmp
@@ -1062,6 +1366,10 @@ fn compare_cmd(a: CompareArgs) -> Result<Outcome, Stop> {
                     }
                 }
             }
+            let _ = writeln!(s, "{audit_line}");
+            if a.audit_points {
+                s.push_str(&point_lines(&finding_refs));
+            }
             s
         }
         Format::Json => {
@@ -1071,6 +1379,12 @@ fn compare_cmd(a: CompareArgs) -> Result<Outcome, Stop> {
                 "result": match cmp.status { Status::Holds => "same", Status::Fails => "different", Status::Undecided => "undecided" },
                 "method": "exact zero test of R[A] - R[B] for the 20 independent linearized Riemann components",
                 "notes": imported.notes,
+                "audit": {
+                    "method": audit_line,
+                    "seed": seed,
+                    "components": cmp.components.iter().zip(&findings).map(|(c, f)| (c.name.clone(), serde_json::json!(f.label()))).collect::<serde_json::Map<_, _>>(),
+                    "points": points_json(&finding_refs),
+                },
                 "differing": differing.iter().map(|c| serde_json::json!({
                     "component": c.name,
                     "verdict": c.verdict.label(),
@@ -1091,6 +1405,39 @@ fn compare_cmd(a: CompareArgs) -> Result<Outcome, Stop> {
         Status::Fails => Outcome::Fails,
         Status::Undecided => Outcome::Undecided,
     })
+}
+
+/// Audits the comparison's verdicts from both files' texts and updates them and its status
+/// (a contradicted proof becomes nonzero with the independent witness, an unconfirmed
+/// witness undecided). Functions both files declare are one arbitrary function sampled as
+/// in the first file, as in the comparison, so the second file's audit takes the first
+/// file's samples for them (shared parameters get one value at every audit point).
+fn audit_comparison(
+    cmp: &mut Comparison,
+    pa: &Problem,
+    pb: &mut Problem,
+    seed: u64,
+) -> Vec<Finding> {
+    for (f, sample) in &mut pb.functions {
+        if let Some((_, first)) = pa.functions.iter().find(|(g, _)| g == f) {
+            sample.clone_from(first);
+        }
+    }
+    let route = FileQuantities::riemann_difference(pa, pb);
+    let names: Vec<String> = cmp.components.iter().map(|c| c.name.clone()).collect();
+    let mut verdicts: Vec<Verdict> = cmp.components.iter().map(|c| c.verdict.clone()).collect();
+    let index = |i: usize| route.as_ref().ok()?.index_of("riemann", &names[i]);
+    let findings = audit_verdicts(&route, &mut verdicts, index, seed);
+    for ((c, v), f) in cmp.components.iter_mut().zip(verdicts).zip(&findings) {
+        if matches!(f, Finding::ProofContradicted(_)) {
+            c.residual =
+                Some("0 by the exact route, contradicted by the independent evaluation".into());
+        }
+        c.verdict = v;
+    }
+    let refs: Vec<&Verdict> = cmp.components.iter().map(|c| &c.verdict).collect();
+    cmp.status = Status::of(&refs, true);
+    findings
 }
 
 // ----- ring ------------------------------------------------------------------------------
@@ -1284,4 +1631,140 @@ fn ring_cmd(a: RingArgs) -> Result<Outcome, Stop> {
     }
     print(&s)?;
     Ok(Outcome::Holds)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use lingrav::interval::{CInterval, Interval};
+    use lingrav::zero::Witness;
+
+    const SEED: u64 = 0x5eed_1a96_7a7e;
+
+    fn worked(name: &str) -> Problem {
+        let path = Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("worked")
+            .join(name);
+        let text = std::fs::read_to_string(&path).expect("readable");
+        lingrav::problem::from_str(name, &text).expect("reads")
+    }
+
+    fn comparison(a: &str, b: &str) -> (Problem, Problem, Comparison) {
+        let mut pa = worked(a);
+        let pb = worked(b);
+        let sampling = pa.sampling.clone();
+        let imported =
+            import(&mut pa.store, &sampling, &pa.parameters, &pa.functions, &pb).expect("imports");
+        let ha = pa.h;
+        let cmp = compare(&mut pa.store, &ha, &imported.h, &imported.sampling).expect("small");
+        (pa, pb, cmp)
+    }
+
+    /// False proofs (simulated: every verdict of a comparison of different physics replaced
+    /// by Zero) are caught: the comparison fails, never "same physics".
+    #[test]
+    fn issue9_compare_catches_false_proofs() {
+        let (pa, mut pb, mut cmp) = comparison("lorenz_wave.toml", "oblique_wave.toml");
+        assert_eq!(cmp.status, Status::Fails);
+        for c in &mut cmp.components {
+            c.verdict = Verdict::Zero;
+        }
+        cmp.status = Status::Holds;
+        let findings = audit_comparison(&mut cmp, &pa, &mut pb, SEED);
+        assert_eq!(cmp.status, Status::Fails);
+        assert!(findings.iter().all(Finding::is_defect), "{findings:?}");
+        let refs: Vec<&Finding> = findings.iter().collect();
+        assert!(summary(&refs, SEED).starts_with("INTERNAL DEFECT"));
+        assert!(
+            cmp.components
+                .iter()
+                .all(|c| matches!(c.verdict, Verdict::Nonzero(_)))
+        );
+    }
+
+    /// A false witness (simulated on a comparison of the same physics) is not confirmed: the
+    /// comparison becomes undecided, never "different".
+    #[test]
+    fn issue9_compare_does_not_trust_an_unconfirmed_witness() {
+        let (pa, mut pb, mut cmp) = comparison("lorenz_oblique.toml", "lorenz_oblique_tt.toml");
+        assert_eq!(cmp.status, Status::Holds);
+        cmp.components[3].verdict = Verdict::Nonzero(Witness {
+            point: vec![("t".into(), 0.5), ("x".into(), 0.25)],
+            value: CInterval::from_real(Interval::new(1.0, 2.0).expect("interval")),
+            seed: 1,
+        });
+        cmp.status = Status::Fails;
+        let findings = audit_comparison(&mut cmp, &pa, &mut pb, SEED);
+        assert_eq!(cmp.status, Status::Undecided);
+        assert!(matches!(findings[3], Finding::WitnessUnconfirmed { .. }));
+        assert!(matches!(cmp.components[3].verdict, Verdict::Undecided(_)));
+    }
+
+    /// A false proof that box xi vanishes (simulated) is caught; a false witness is not
+    /// trusted.
+    #[test]
+    fn issue9_gauge_box_audit_catches_false_verdicts() {
+        let p = worked("lorenz_wave.toml");
+        let xi = ["0", "x*sin(t)", "0", "0"].map(String::from);
+        let mut verdicts = vec![Verdict::Zero; 4];
+        let findings = audit_box(&p, &xi, &mut verdicts, SEED);
+        assert!(findings[1].is_defect(), "{:?}", findings[1]);
+        assert!(matches!(verdicts[1], Verdict::Nonzero(_)));
+        assert!(
+            findings
+                .iter()
+                .enumerate()
+                .all(|(i, f)| i == 1 || !f.is_defect())
+        );
+        let mut verdicts = vec![Verdict::Zero; 4];
+        verdicts[0] = Verdict::Nonzero(Witness {
+            point: vec![("t".into(), 0.5)],
+            value: CInterval::from_real(Interval::new(1.0, 2.0).expect("interval")),
+            seed: 1,
+        });
+        let xi = ["sin(t - z)", "0", "0", "0"].map(String::from);
+        let findings = audit_box(&p, &xi, &mut verdicts, SEED);
+        assert!(matches!(findings[0], Finding::WitnessUnconfirmed { .. }));
+        assert!(matches!(verdicts[0], Verdict::Undecided(_)));
+    }
+
+    /// False exact statements of `project` (simulated: "not TT = 0, exactly" for a wave that
+    /// is not TT along n; "unit length (proved)" for a vector that is not) are caught and not
+    /// shown as exact.
+    #[test]
+    fn issue9_project_catches_false_exact_statements() {
+        let mut p = worked("lorenz_wave.toml");
+        let args = DirectionArgs {
+            direction: "1,1,0".into(),
+            basis: None,
+            normalize: true,
+        };
+        let mut dir = plan_direction(&mut p, &args).unwrap_or_else(|_| panic!("direction"));
+        dir.n_note = "unit length (proved)".into();
+        let h = p.h;
+        let proj = project_perturbation(&mut p.store, &h, &dir).expect("small");
+        let tt4 = lingrav::tt::as_perturbation(&p.store, &proj.tt);
+        let mut frac = lingrav::tt::NotTt {
+            all: Share::Exact(0),
+            spatial: Share::Exact(0),
+            points: 0,
+            seed: 0,
+        };
+        let audit = audit_projection(&mut p, &args, &dir, &tt4, &mut frac, SEED);
+        assert!(audit.defect());
+        assert!(audit.unit.as_ref().is_some_and(Finding::is_defect));
+        for share in [&frac.all, &frac.spatial] {
+            assert!(
+                matches!(share, Share::Unavailable(why) if why.starts_with("INTERNAL DEFECT")),
+                "{share:?}"
+            );
+        }
+        // The printed TT part itself is right.
+        assert!(
+            audit
+                .printed
+                .iter()
+                .all(|f| matches!(f, Finding::ProofConsistent { .. }))
+        );
+    }
 }

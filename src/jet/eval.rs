@@ -173,9 +173,15 @@ impl Program {
             let Some((_, sample)) = scope.functions.iter().find(|(n, _)| *n == name) else {
                 continue;
             };
+            // The sample's own variable shadows an outer name `u`.
             let sub = Scope {
                 vars: vec![SAMPLE_VAR.to_string()],
-                parameters: scope.parameters.clone(),
+                parameters: scope
+                    .parameters
+                    .iter()
+                    .filter(|p| *p != SAMPLE_VAR)
+                    .cloned()
+                    .collect(),
                 defines: Vec::new(),
                 functions: Vec::new(),
             };

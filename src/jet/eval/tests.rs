@@ -166,6 +166,27 @@ fn arbitrary_functions_through_samples_match_mpmath() {
     );
 }
 
+/// The sample's variable `u` is its own, also when the outer expression has a symbol `u`:
+/// F(x) with F = u^2 is x^2, whatever u is (found by the audit of `lingrav zero 'F(x)*u'`,
+/// issue 9).
+#[test]
+fn issue9_a_sample_variable_shadows_an_outer_u() {
+    let scope = Scope {
+        parameters: vec!["x".into(), "u".into()],
+        functions: vec![("F".into(), p("u^2"))],
+        ..Scope::default()
+    };
+    let prog = Program::new(&scope, vec![(p("F(x)*u"), 0)]).expect("plans");
+    let values: FxHashMap<String, Interval> = [("x", 3.0), ("u", 5.0)]
+        .into_iter()
+        .map(|(n, v)| (n.to_string(), Interval::point(v).expect("finite")))
+        .collect();
+    let v = prog.eval_roots(&values, &()).expect("values")[0]
+        .clone()
+        .expect("evaluable");
+    assert!(v.value().contains(45.0), "{:?}", v.value());
+}
+
 #[test]
 fn d_by_a_parameter_makes_it_active() {
     let c = Case::new(&["x"], &[("x", "0.5"), ("a", "2")]);
