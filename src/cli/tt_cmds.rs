@@ -449,7 +449,15 @@ fn project_cmd(a: ProjectArgs) -> Result<Outcome, Stop> {
     };
     let tt4 = lingrav::tt::as_perturbation(&p.store, &proj.tt);
     let seed = p.sampling.seed;
-    let audit = audit_projection(&mut p, &a.dir, &dir, &tt4, &mut frac, seed);
+    let audit = audit_projection(
+        &mut p,
+        &a.dir,
+        &dir,
+        &tt4,
+        (proj.plus, proj.cross),
+        &mut frac,
+        seed,
+    );
     let label = a.file.display().to_string();
     let st = &mut p.store;
     let n_text = vec_text(st, &dir.n);
@@ -560,6 +568,12 @@ fn project_cmd(a: ProjectArgs) -> Result<Outcome, Stop> {
             );
             let _ = writeln!(s, "  h_plus  = {plus}");
             let _ = writeln!(s, "  h_cross = {cross}");
+            let _ = writeln!(
+                s,
+                "  (as printed, against the printed TT part and an orthonormal basis u, v \
+                 transverse to n: {})",
+                audit.polarizations_text(seed)
+            );
             if frac.all == Share::Exact(0) {
                 let _ = writeln!(s, "not TT     0, exactly: h is already TT along n");
             } else if frac.all == Share::Exact(1) && frac.spatial == Share::Exact(1) {
@@ -635,6 +649,7 @@ fn project_cmd(a: ProjectArgs) -> Result<Outcome, Stop> {
                 "audit": {
                     "unit_length": audit.unit.as_ref().map(|f| audit_json(f, seed)),
                     "tt_part": audit.printed_text(seed),
+                    "polarizations_and_basis": audit.polarizations_text(seed),
                     "not_tt": if audit.shares.is_empty() { None } else { Some(audit.shares_text(seed)) },
                     "defect": audit.defect() || verification_defect,
                     "seed": seed,
@@ -668,6 +683,9 @@ struct ProjectAudit {
     shares: Vec<Finding>,
     /// The printed TT part against the independent projection of the file's texts.
     printed: Vec<Finding>,
+    /// The printed polarizations against the printed TT part and basis, and the basis
+    /// against n (u.n = 0, u.u = 1, v.n = 0, v.v = 1, u.v = 0).
+    polarizations: Vec<Finding>,
 }
 
 impl ProjectAudit {
@@ -676,6 +694,7 @@ impl ProjectAudit {
             .iter()
             .chain(&self.shares)
             .chain(&self.printed)
+            .chain(&self.polarizations)
             .collect()
     }
 
@@ -690,6 +709,10 @@ impl ProjectAudit {
     fn printed_text(&self, seed: u64) -> String {
         summary(&self.printed.iter().collect::<Vec<_>>(), seed)
     }
+
+    fn polarizations_text(&self, seed: u64) -> String {
+        summary(&self.polarizations.iter().collect::<Vec<_>>(), seed)
+    }
 }
 
 /// Audits what `project` states as exact, from the file's texts and the direction: the unit
@@ -702,6 +725,7 @@ fn audit_projection(
     args: &DirectionArgs,
     dir: &Direction,
     tt4: &Sym4,
+    (proj_plus, proj_cross): (lingrav::canon::Form, lingrav::canon::Form),
     frac: &mut lingrav::tt::NotTt,
     seed: u64,
 ) -> ProjectAudit {
@@ -751,10 +775,83 @@ fn audit_projection(
             *share = Share::Unavailable(f.method(seed));
         }
     }
+    // The printed polarizations from the printed TT part and basis (the TT part itself is
+    // audited above), and the basis against the printed n.
+    let vtext = |v: &[lingrav::canon::Form; 3], st: &mut lingrav::canon::Store| -> [String; 3] {
+        std::array::from_fn(|i| format!("({})", st.to_text(v[i])))
+    };
+    let (nv, uv, vv) = (
+        vtext(&dir.n, &mut p.store),
+        vtext(&dir.u, &mut p.store),
+        vtext(&dir.v, &mut p.store),
+    );
+    let tt = |i: usize, j: usize| format!("({})", printed[spatial_index(i.min(j), i.max(j))]);
+    let mut plus_sum = Vec::new();
+    let mut cross_sum = Vec::new();
+    for i in 0..3 {
+        for j in 0..3 {
+            plus_sum.push(format!(
+                "{}*({}*{} - {}*{})",
+                tt(i, j),
+                uv[i],
+                uv[j],
+                vv[i],
+                vv[j]
+            ));
+            cross_sum.push(format!(
+                "{}*({}*{} + {}*{})",
+                tt(i, j),
+                uv[i],
+                vv[j],
+                vv[i],
+                uv[j]
+            ));
+        }
+    }
+    let dot = |a: &[String; 3], b: &[String; 3]| {
+        (0..3)
+            .map(|i| format!("{}*{}", a[i], b[i]))
+            .collect::<Vec<_>>()
+            .join(" + ")
+    };
+    let plus = format!(
+        "({}) - ({})/2",
+        p.store.to_text(proj_plus),
+        plus_sum.join(" + ")
+    );
+    let cross = format!(
+        "({}) - ({})/2",
+        p.store.to_text(proj_cross),
+        cross_sum.join(" + ")
+    );
+    let texts = vec![
+        ("h_plus as printed".to_string(), plus),
+        ("h_cross as printed".to_string(), cross),
+        ("u.n".to_string(), dot(&uv, &nv)),
+        ("u.u - 1".to_string(), format!("{} - 1", dot(&uv, &uv))),
+        ("v.n".to_string(), dot(&vv, &nv)),
+        ("v.v - 1".to_string(), format!("{} - 1", dot(&vv, &vv))),
+        ("u.v".to_string(), dot(&uv, &vv)),
+    ];
+    let route = FileQuantities::texts(p, &texts);
+    let polarizations = audit_verdicts(&route, &mut proved(texts.len()), Some, seed);
     ProjectAudit {
         unit,
         shares,
         printed: printed_findings,
+        polarizations,
+    }
+}
+
+/// The position of spatial component `(i, j)`, `i <= j`, in the order xx xy xz yy yz zz.
+fn spatial_index(i: usize, j: usize) -> usize {
+    match (i, j) {
+        (0, 0) => 0,
+        (0, 1) => 1,
+        (0, 2) => 2,
+        (1, 1) => 3,
+        (1, 2) => 4,
+        _ => 5,
     }
 }
 
@@ -1750,7 +1847,15 @@ mod tests {
             points: 0,
             seed: 0,
         };
-        let audit = audit_projection(&mut p, &args, &dir, &tt4, &mut frac, SEED);
+        let audit = audit_projection(
+            &mut p,
+            &args,
+            &dir,
+            &tt4,
+            (proj.plus, proj.cross),
+            &mut frac,
+            SEED,
+        );
         assert!(audit.defect());
         assert!(audit.unit.as_ref().is_some_and(Finding::is_defect));
         for share in [&frac.all, &frac.spatial] {
@@ -1759,12 +1864,57 @@ mod tests {
                 "{share:?}"
             );
         }
-        // The printed TT part itself is right.
+        // The printed TT part itself is right, and so are the polarizations and the basis.
         assert!(
             audit
                 .printed
                 .iter()
+                .chain(&audit.polarizations)
                 .all(|f| matches!(f, Finding::ProofConsistent { .. }))
         );
+    }
+
+    /// Polarizations printed wrongly (h_plus and h_cross swapped, as a defect in the exact
+    /// route would) are caught against the printed TT part and basis.
+    #[test]
+    fn issue9_project_catches_false_polarizations() {
+        let mut p = worked("oblique_wave.toml");
+        let args = DirectionArgs {
+            direction: "3/5,0,4/5".into(),
+            basis: None,
+            normalize: false,
+        };
+        let dir = plan_direction(&mut p, &args).unwrap_or_else(|_| panic!("direction"));
+        let h = p.h;
+        let proj = project_perturbation(&mut p.store, &h, &dir).expect("small");
+        let tt4 = lingrav::tt::as_perturbation(&p.store, &proj.tt);
+        let mut frac = lingrav::tt::NotTt {
+            all: Share::Numerical(0.5),
+            spatial: Share::Numerical(0.5),
+            points: 0,
+            seed: 0,
+        };
+        let good = audit_projection(
+            &mut p,
+            &args,
+            &dir,
+            &tt4,
+            (proj.plus, proj.cross),
+            &mut frac,
+            SEED,
+        );
+        assert!(!good.defect(), "{}", good.polarizations_text(SEED));
+        let bad = audit_projection(
+            &mut p,
+            &args,
+            &dir,
+            &tt4,
+            (proj.cross, proj.plus),
+            &mut frac,
+            SEED,
+        );
+        assert!(bad.defect());
+        assert!(bad.polarizations[0].is_defect() && bad.polarizations[1].is_defect());
+        assert!(bad.polarizations[2..].iter().all(|f| !f.is_defect()));
     }
 }
