@@ -35,6 +35,7 @@ use certify::Frame;
 use points::{Origin, PointSet};
 use quantity::Block;
 use quantity::Quantity;
+use rustc_hash::FxHashMap;
 use serde_json::{Value, json};
 use write::{Format, Table};
 
@@ -162,16 +163,44 @@ impl Numeric {
         })
     }
 
-    /// Every column at `(t, x, y, z)` through the interval program, if there is one (the
-    /// parameters are those the program was built with).
-    fn fast_values(
+    /// Every column at each of `coords` through the interval program in f64 intervals (in
+    /// parallel with the `parallel` feature); all `None` without a program.
+    fn fast_block(&self, coords: &[[f64; 4]]) -> Vec<Option<Vec<Option<Interval>>>> {
+        let Some((p, outs)) = self.program.as_ref() else {
+            return vec![None; coords.len()];
+        };
+        let one = |regs: &mut Vec<Option<Interval>>, c: &[f64; 4]| {
+            p.run(*c, regs);
+            Some(outs.iter().map(|&r| regs[r as usize]).collect())
+        };
+        #[cfg(feature = "parallel")]
+        {
+            use rayon::prelude::*;
+            coords.par_iter().map_init(Vec::new, one).collect()
+        }
+        #[cfg(not(feature = "parallel"))]
+        {
+            let mut regs = Vec::new();
+            coords.iter().map(|c| one(&mut regs, c)).collect()
+        }
+    }
+
+    /// Every column at `c` through the interval program in multiprecision balls at `prec`
+    /// bits (constants enclosed once per precision, kept in `constants`); `None` without a
+    /// program.
+    fn ball_values(
         &self,
         c: [f64; 4],
-        regs: &mut Vec<Option<Interval>>,
-    ) -> Option<Vec<Option<Interval>>> {
+        prec: u32,
+        constants: &mut FxHashMap<u32, Vec<Option<crate::interval::Ball>>>,
+    ) -> Option<Vec<Option<crate::interval::Ball>>> {
         let (p, outs) = self.program.as_ref()?;
-        p.run(c, regs);
-        Some(outs.iter().map(|&r| regs[r as usize]).collect())
+        let k = constants
+            .entry(prec)
+            .or_insert_with(|| p.constants::<crate::interval::Ball>(&prec));
+        let mut regs = Vec::new();
+        p.run_in(c, &prec, k, &mut regs);
+        Some(outs.iter().map(|&r| regs[r as usize].clone()).collect())
     }
 
     /// Every column of `quantities` at `point`, in enclosure arithmetic `S`.
@@ -219,6 +248,9 @@ pub struct Settings {
     /// How many rows the exact route re-evaluates (evenly spread, first and last included).
     pub audit_rows: usize,
 }
+
+/// Rows evaluated together (in parallel) by the interval program.
+const FAST_BLOCK: usize = 4096;
 
 /// The default relative tolerance of an export.
 pub const DEFAULT_TOLERANCE: f64 = 1e-12;
@@ -416,19 +448,29 @@ pub fn evaluate(
     let mut total_failures = 0usize;
     let tol = settings.tolerance;
     let setup = |e: crate::audit::AuditError| ExportError::Setup(e.to_string());
-    let mut regs = Vec::new();
+    // The f64 pass of the interval program over every row, in parallel, a block at a time.
+    let mut fast: Vec<Option<Vec<Option<Interval>>>> = Vec::new();
+    let mut ball_constants: FxHashMap<u32, Vec<Option<crate::interval::Ball>>> =
+        FxHashMap::default();
     for (row, &c) in points.coords.iter().enumerate() {
-        check_limits(settings)?;
-        let mut point: Vec<(String, f64)> = ["t", "x", "y", "z"]
-            .iter()
-            .zip(c)
-            .map(|(n, v)| (n.to_string(), v))
-            .collect();
-        point.extend(parameters.iter().cloned());
-        let first = match numeric.fast_values(c, &mut regs) {
+        if row % FAST_BLOCK == 0 {
+            check_limits(settings)?;
+            let end = (row + FAST_BLOCK).min(points.coords.len());
+            fast = numeric.fast_block(&points.coords[row..end]);
+        }
+        let point = || -> Vec<(String, f64)> {
+            let mut p: Vec<(String, f64)> = ["t", "x", "y", "z"]
+                .iter()
+                .zip(c)
+                .map(|(n, v)| (n.to_string(), v))
+                .collect();
+            p.extend(parameters.iter().cloned());
+            p
+        };
+        let first = match fast.get_mut(row % FAST_BLOCK).and_then(Option::take) {
             Some(v) => v,
             None => numeric
-                .values::<Interval>(&quantities, &point, &())
+                .values::<Interval>(&quantities, &point(), &())
                 .map_err(setup)?,
         };
         if first.len() != ncol {
@@ -467,9 +509,12 @@ pub fn evaluate(
                 break;
             }
             check_limits(settings)?;
-            let vals = numeric
-                .values::<crate::interval::Ball>(&quantities, &point, &prec)
-                .map_err(setup)?;
+            let vals = match numeric.ball_values(c, prec, &mut ball_constants) {
+                Some(v) => v,
+                None => numeric
+                    .values::<crate::interval::Ball>(&quantities, &point(), &prec)
+                    .map_err(setup)?,
+            };
             for (i, v) in vals.iter().enumerate() {
                 if matches!(judged[i], Judged::Good(..)) {
                     continue;

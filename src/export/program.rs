@@ -13,15 +13,26 @@
 //! rationals enclosed outward; parameters are the exact f64 values given.
 
 use crate::interval::Interval;
+use crate::jet::Scalar;
 use crate::jet::scalar::rational_interval;
 use crate::tape::{TapeError, Target};
 use num_rational::BigRational;
 use rustc_hash::FxHashMap;
 
+/// An exact constant of the program.
+#[derive(Clone, Debug)]
+enum Exact {
+    Rational(BigRational),
+    Pi,
+    /// A parameter's f64 value (exact as given).
+    Value(f64),
+}
+
 /// An instruction; operands are earlier registers.
 #[derive(Clone, Copy, Debug)]
 enum Instr {
-    Const(Interval),
+    /// Constant number `k` (its f64 enclosure and its exact value in `exact[k]`).
+    Const(Interval, u32),
     Input(u8),
     Add(u32, u32),
     Sub(u32, u32),
@@ -46,7 +57,7 @@ enum Key {
 
 fn key(i: &Instr) -> Key {
     match *i {
-        Instr::Const(c) => Key::Const(c.lo().to_bits(), c.hi().to_bits()),
+        Instr::Const(_, k) => Key::Const(u64::from(k), 0),
         Instr::Input(k) => Key::Input(k),
         Instr::Add(a, b) => Key::Op(0, a, b),
         Instr::Sub(a, b) => Key::Op(1, a, b),
@@ -69,6 +80,17 @@ pub struct IntervalProgram {
     instrs: Vec<Instr>,
     index: FxHashMap<Key, u32>,
     parameters: Vec<(String, f64)>,
+    exact: Vec<Exact>,
+    constants_index: FxHashMap<ExactKey, u32>,
+}
+
+/// The sharing key of a constant: its exact value (numerator and denominator hashed as
+/// integers; a rational's own hash recurses over its continued fraction).
+#[derive(Clone, Debug, PartialEq, Eq, Hash)]
+enum ExactKey {
+    Rational(num_bigint::BigInt, num_bigint::BigInt),
+    Pi,
+    Value(u64),
 }
 
 const COORDS: [&str; 4] = ["t", "x", "y", "z"];
@@ -80,6 +102,71 @@ impl IntervalProgram {
         IntervalProgram {
             parameters: parameters.to_vec(),
             ..IntervalProgram::default()
+        }
+    }
+
+    /// A constant, shared by its exact value (two rationals with the same f64 enclosure
+    /// stay two constants: the multiprecision run tells them apart).
+    fn constant(&mut self, c: Interval, e: Exact) -> u32 {
+        let k = match &e {
+            Exact::Rational(q) => ExactKey::Rational(q.numer().clone(), q.denom().clone()),
+            Exact::Pi => ExactKey::Pi,
+            Exact::Value(v) => ExactKey::Value(v.to_bits()),
+        };
+        if let Some(&r) = self.constants_index.get(&k) {
+            return r;
+        }
+        self.exact.push(e);
+        let r = self.instrs.len() as u32;
+        self.instrs
+            .push(Instr::Const(c, (self.exact.len() - 1) as u32));
+        self.constants_index.insert(k, r);
+        r
+    }
+
+    /// The constants enclosed in `S` at its working precision, for [`IntervalProgram::run_in`].
+    #[must_use]
+    pub fn constants<S: Scalar>(&self, ctx: &S::Ctx) -> Vec<Option<S>> {
+        self.exact
+            .iter()
+            .map(|e| match e {
+                Exact::Rational(q) => S::from_rational(q, ctx),
+                Exact::Pi => S::pi(ctx),
+                Exact::Value(v) => S::input(*v, ctx),
+            })
+            .collect()
+    }
+
+    /// Runs the program at `(t, x, y, z)` in enclosure arithmetic `S` (multiprecision balls
+    /// where f64 intervals are too wide), with `constants` from
+    /// [`IntervalProgram::constants`] at the same precision.
+    pub fn run_in<S: Scalar>(
+        &self,
+        point: [f64; 4],
+        ctx: &S::Ctx,
+        constants: &[Option<S>],
+        regs: &mut Vec<Option<S>>,
+    ) {
+        regs.clear();
+        regs.reserve(self.instrs.len());
+        for i in &self.instrs {
+            let r = |k: u32| regs[k as usize].as_ref();
+            let v = match *i {
+                Instr::Const(_, k) => constants[k as usize].clone(),
+                Instr::Input(k) => S::input(point[k as usize], ctx),
+                Instr::Add(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.add(y)),
+                Instr::Sub(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.sub(y)),
+                Instr::Mul(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.mul(y)),
+                Instr::Div(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.div(y)),
+                Instr::Neg(a) => r(a).map(Scalar::neg),
+                Instr::PowI(a, k) => r(a).and_then(|x| x.powi(i64::from(k))),
+                Instr::Root(a, q) => r(a).and_then(|x| root_in(x, q, ctx)),
+                Instr::Exp(a) => r(a).and_then(Scalar::exp),
+                Instr::Log(a) => r(a).and_then(Scalar::ln),
+                Instr::Sin(a) => r(a).and_then(Scalar::sin),
+                Instr::Cos(a) => r(a).and_then(Scalar::cos),
+            };
+            regs.push(v);
         }
     }
 
@@ -113,7 +200,7 @@ impl IntervalProgram {
         for i in &self.instrs {
             let r = |k: u32| regs[k as usize];
             let v = match *i {
-                Instr::Const(c) => Some(c),
+                Instr::Const(c, _) => Some(c),
                 Instr::Input(k) => Interval::point(point[k as usize]),
                 Instr::Add(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.add(y)),
                 Instr::Sub(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.sub(y)),
@@ -130,6 +217,20 @@ impl IntervalProgram {
             regs.push(v);
         }
     }
+}
+
+/// [`root`] in any enclosure arithmetic.
+fn root_in<S: Scalar>(x: &S, q: u32, ctx: &S::Ctx) -> Option<S> {
+    if q == 2 {
+        return x.sqrt();
+    }
+    if x.is_exact_zero() {
+        return Some(S::zero());
+    }
+    if !x.is_positive() {
+        return None;
+    }
+    x.ln()?.div(&S::from_i64(i64::from(q), ctx)?)?.exp()
 }
 
 /// The principal real `x^(1/q)`: `sqrt` for `q = 2`, `exp(ln(x)/q)` for positive `x`, exactly
@@ -151,17 +252,19 @@ fn root(x: Interval, q: u32) -> Option<Interval> {
 impl Target for IntervalProgram {
     type Node = u32;
     fn number(&mut self, q: &BigRational) -> Option<u32> {
-        Some(self.push(Instr::Const(rational_interval(q)?)))
+        let c = rational_interval(q)?;
+        Some(self.constant(c, Exact::Rational(q.clone())))
     }
     fn pi(&mut self) -> u32 {
         // The double nearest to pi is below it; one ulp either side encloses it.
         let pi = Interval::around(std::f64::consts::PI).expect("finite");
-        self.push(Instr::Const(pi))
+        self.constant(pi, Exact::Pi)
     }
     fn symbol(&mut self, name: &str, sample: Option<&str>) -> Result<u32, TapeError> {
         if let Some((_, v)) = self.parameters.iter().find(|(n, _)| n == name) {
-            let c = Interval::point(*v).ok_or_else(|| TapeError::Unsupported(name.into()))?;
-            return Ok(self.push(Instr::Const(c)));
+            let v = *v;
+            let c = Interval::point(v).ok_or_else(|| TapeError::Unsupported(name.into()))?;
+            return Ok(self.constant(c, Exact::Value(v)));
         }
         match (COORDS.iter().position(|c| *c == name), sample) {
             (Some(k), None) => Ok(self.push(Instr::Input(k as u8))),

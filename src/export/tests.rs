@@ -330,3 +330,21 @@ fn issue9_values_indistinguishable_from_zero_need_a_zero_tolerance() {
     assert!((ev.table.row(1)[8] - 1.0).abs() <= ev.columns[4].bound);
     assert!(ev.columns[4].bound <= 1e-15);
 }
+
+/// Two constants with the same f64 enclosure stay two constants in the program: at higher
+/// precision x (1 + 10^-30) - x (1 + 2 10^-30) = -10^-30 x, not 0.
+#[test]
+fn issue9_constants_with_one_f64_enclosure_stay_apart() {
+    let mut p = problem("[perturbation]\nxx = 'x*(1 + 1e-30) - x*(1 + 2e-30)'\n");
+    let ev = export(
+        &mut p,
+        &[Quantity::H],
+        None,
+        "0,3,0,0\n",
+        &Settings::default(),
+    )
+    .unwrap();
+    let v = ev.table.row(0)[8];
+    assert!((v / -3e-30 - 1.0).abs() < 1e-12, "{v}");
+    assert!(ev.columns[4].precision_bits >= 128, "{:?}", ev.columns[4]);
+}

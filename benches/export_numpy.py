@@ -1,0 +1,100 @@
+"""`lingrav export` against NumPy evaluating SymPy-lambdified expressions (issue 10, item 4).
+
+The peer: SymPy builds the same quantity (h, or the 20 independent Riemann components, from
+the textbook formula, benches/peers/linearized.py) for a worked file without arbitrary
+functions, `lambdify(..., "numpy", cse=True)` compiles it, and NumPy evaluates it on the same
+grid `lingrav export --grid --points N` uses (spatial, at the centre's t). Only that
+evaluation is timed (best of 5), not SymPy's algebra. lingrav: the whole `export` process
+(parse, algebra for the sidecar, certified values with their bounds, the audit rows, writing
+the .npy file), best of 5. Printed: time per value for both and the ratio NumPy/lingrav (above 1:
+lingrav faster per value). lingrav's values carry certified bounds; NumPy's do not.
+
+Usage: python3 benches/export_numpy.py [--points N] [FILE ...]   (default: oblique_wave,
+linear_wave_testbed, static_mass; N = 32). Needs a release build (cargo build --release),
+SymPy and NumPy.
+"""
+
+import argparse
+import subprocess
+import sys
+import tempfile
+import time
+import tomllib
+from pathlib import Path
+
+import numpy as np
+import sympy as sp
+
+sys.path.insert(0, str(Path(__file__).resolve().parent / "peers"))
+from linearized import COORDS_NAMES, Linearized, Namespace, riemann_independent, tensor  # noqa: E402
+
+ROOT = Path(__file__).resolve().parent.parent
+COORDS = sp.symbols(COORDS_NAMES, real=True)
+
+
+def build(path):
+    doc = tomllib.loads(path.read_text())
+    if doc.get("functions"):
+        raise SystemExit(f"{path.name}: arbitrary functions are not supported by this benchmark")
+    ns = Namespace(sp, COORDS, sp.Rational, None)
+    for name, value in doc.get("parameters", {}).items():
+        ns[name] = sp.Rational(repr(value))
+    for name, text in doc.get("define", {}).items():
+        ns[name] = ns.evaluate(text)
+    return doc, tensor(ns, doc.get("perturbation", {}), sp.Integer(0))
+
+
+def grid(doc, n):
+    g = doc.get("grid", {})
+    center = g.get("center", [0.3, 0.4, 0.5, 0.6])
+    width = g.get("width", 0.2)
+    axes = [c + (np.arange(n) - (n - 1) / 2) * (width / (n - 1)) for c in center[1:]]
+    x, y, z = np.meshgrid(*axes, indexing="ij")
+    return center[0], x.ravel(), y.ravel(), z.ravel()
+
+
+def best(f, k=5):
+    times = []
+    for _ in range(k):
+        t0 = time.perf_counter()
+        f()
+        times.append(time.perf_counter() - t0)
+    return min(times)
+
+
+def main():
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--points", type=int, default=32)
+    ap.add_argument("files", nargs="*", default=["oblique_wave.toml", "linear_wave_testbed.toml", "static_mass.toml"])
+    a = ap.parse_args()
+    exe = ROOT / "target" / "release" / "lingrav"
+    print(f"| file | quantity | values | NumPy ns/value | lingrav ns/value (bounds included) | NumPy/lingrav |")
+    print("| --- | --- | ---: | ---: | ---: | ---: |")
+    for name in a.files:
+        path = ROOT / "worked" / name if not Path(name).exists() else Path(name)
+        doc, h = build(path)
+        lin = Linearized(h, sp, COORDS)
+        for q in ["h", "riemann"]:
+            if q == "h":
+                exprs = [h[m][n] for m in range(4) for n in range(m, 4)]
+            else:
+                exprs = [lin.riemann(*idx) for idx in riemann_independent()]
+            f = sp.lambdify(COORDS, exprs, "numpy", cse=True)
+            t, x, y, z = grid(doc, a.points)
+            rows = x.size
+
+            def run_numpy():
+                out = f(t, x, y, z)
+                return [np.broadcast_to(np.asarray(v, dtype=float), x.shape) for v in out]
+
+            tn = best(run_numpy)
+            with tempfile.TemporaryDirectory() as d:
+                cmd = [str(exe), "export", str(path), "-q", q, "--grid", "--points", str(a.points),
+                       "--out", str(Path(d) / "o.npy"), "--force"]
+                tl = best(lambda: subprocess.run(cmd, check=True, capture_output=True))
+            values = rows * len(exprs)
+            print(f"| {path.name} | {q} | {values} | {1e9 * tn / values:.1f} | {1e9 * tl / values:.1f} | {tn / tl:.2f} |")
+
+
+if __name__ == "__main__":
+    main()
