@@ -71,7 +71,7 @@ pub struct Component {
     pub audit: Audited,
 }
 
-/// A claim (or, without [claims], a property) and what was found.
+/// A claim (or, without \[claims\], a property) and what was found.
 #[derive(Clone, Debug)]
 pub struct ClaimReport {
     /// Machine key: `field_equations`, `gauge.lorenz`, `pure_gauge`, `source_conservation`.
@@ -94,7 +94,7 @@ pub struct ClaimReport {
 pub struct CheckReport {
     /// The lines, claims first.
     pub claims: Vec<ClaimReport>,
-    /// True if the file had a [claims] table.
+    /// True if the file had a \[claims\] table.
     pub has_claims: bool,
 }
 

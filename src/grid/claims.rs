@@ -281,7 +281,7 @@ fn gauge_title(g: Gauge) -> &'static str {
 }
 
 /// The claims of a problem, in the order the exact check reports them: source conservation
-/// (when there is a source), field equations, gauges, pure gauge. Without a [claims] table
+/// (when there is a source), field equations, gauges, pure gauge. Without a \[claims\] table
 /// every property is listed, unasserted.
 #[must_use]
 pub fn claim_specs(claims: Option<&Claims>, with_source: bool) -> Vec<ClaimSpec> {

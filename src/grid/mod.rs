@@ -478,7 +478,7 @@ pub struct GridSettings {
 }
 
 impl GridSettings {
-    /// Settings from a file's [grid] table (if any) with defaults for what it leaves out.
+    /// Settings from a file's \[grid\] table (if any) with defaults for what it leaves out.
     #[must_use]
     pub fn from_spec(spec: Option<&GridSpec>, order: u32) -> GridSettings {
         let spec = spec.cloned().unwrap_or_default();

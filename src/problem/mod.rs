@@ -173,18 +173,18 @@ impl ExprText {
     }
 }
 
-/// A `name = 'expression'` entry of [functions] or [define].
+/// A `name = 'expression'` entry of \[functions\] or \[define\].
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct NamedExpr {
     /// The name declared.
     pub name: String,
     /// Where the name is written.
     pub name_span: Span,
-    /// The expression (for [functions], the sample in `u`).
+    /// The expression (for \[functions\], the sample in `u`).
     pub expr: ExprText,
 }
 
-/// A `name = value` entry of [parameters].
+/// A `name = value` entry of \[parameters\].
 #[derive(Clone, Debug, PartialEq)]
 pub struct Parameter {
     /// The name declared.
@@ -197,7 +197,7 @@ pub struct Parameter {
     pub value_span: Span,
 }
 
-/// One component of [perturbation] or [source].
+/// One component of \[perturbation\] or \[source\].
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct Component {
     /// The smaller index (0 = t, 1 = x, 2 = y, 3 = z).
@@ -222,19 +222,19 @@ pub struct ProblemFile {
     pub text: String,
     /// The `name` at the top, if any.
     pub name: Option<String>,
-    /// [parameters].
+    /// \[parameters\].
     pub parameters: Vec<Parameter>,
-    /// [functions].
+    /// \[functions\].
     pub functions: Vec<NamedExpr>,
-    /// [define].
+    /// \[define\].
     pub defines: Vec<NamedExpr>,
-    /// [perturbation]; each component at most once.
+    /// \[perturbation\]; each component at most once.
     pub perturbation: Vec<Component>,
-    /// [source], `None` when the file has no such table.
+    /// \[source\], `None` when the file has no such table.
     pub source: Option<Vec<Component>>,
-    /// [claims], `None` when the file has no such table.
+    /// \[claims\], `None` when the file has no such table.
     pub claims: Option<Claims>,
-    /// [grid], `None` when the file has no such table.
+    /// \[grid\], `None` when the file has no such table.
     pub grid: Option<GridSpec>,
 }
 
@@ -306,14 +306,14 @@ pub struct Problem {
     pub h: [[Form; 4]; 4],
     /// The texts of `h` as written, at both `[mu][nu]` and `[nu][mu]`.
     pub h_text: [[Option<String>; 4]; 4],
-    /// `T_{mu nu}`, symmetric; `None` when the file has no [source] table.
+    /// `T_{mu nu}`, symmetric; `None` when the file has no \[source\] table.
     pub source: Option<[[Form; 4]; 4]>,
     /// The texts of `T` as written, like [`Problem::h_text`]; `None` exactly when
     /// [`Problem::source`] is.
     pub source_text: Option<[[Option<String>; 4]; 4]>,
-    /// The claims, `None` when the file has no [claims] table.
+    /// The claims, `None` when the file has no \[claims\] table.
     pub claims: Option<Claims>,
-    /// The grid settings, `None` when the file has no [grid] table.
+    /// The grid settings, `None` when the file has no \[grid\] table.
     pub grid: Option<GridSpec>,
     /// Typical values (the parameter values) and function samples for the zero test.
     pub sampling: Sampling,

@@ -9,7 +9,7 @@ use std::fmt::Write;
 
 /// A problem file with these contents, in the layout [`super::from_str`] reads. Components
 /// of `h` and of the source are taken from `[mu][nu]` with `mu <= nu`, falling back to
-/// `[nu][mu]`; `None` components are omitted (zero). A [perturbation] table is always written.
+/// `[nu]\[mu\]`; `None` components are omitted (zero). A \[perturbation\] table is always written.
 #[must_use]
 pub fn render_problem(
     name: Option<&str>,

@@ -304,7 +304,7 @@ impl<T: Target> Lowering<T> {
     ///
     /// # Errors
     ///
-    /// A parse error or a DAG beyond [`MAX_NODES`].
+    /// A parse error or a DAG beyond `MAX_NODES` nodes.
     pub fn text(&mut self, text: &str) -> Result<UserNode, TapeError> {
         let e = parse(text, "component")?;
         Ok(UserNode(self.build(&e, false)?))
@@ -314,7 +314,7 @@ impl<T: Target> Lowering<T> {
     ///
     /// # Errors
     ///
-    /// A DAG beyond [`MAX_NODES`].
+    /// A DAG beyond `MAX_NODES` nodes.
     pub fn derivative(&mut self, n: UserNode, var: &str) -> Result<UserNode, TapeError> {
         let s = self.symbol(var);
         Ok(UserNode(self.diff(n.0, s)?))

@@ -78,7 +78,7 @@ impl Linearized {
         self.coords[mu]
     }
 
-    /// d_rho h_{mu nu}, indexed [rho][mu][nu].
+    /// d_rho h_{mu nu}, indexed `[rho][mu][nu]`.
     pub fn dh(&mut self, store: &mut Store) -> CResult<[Sym4; 4]> {
         if let Some(d) = self.dh {
             return Ok(d);
@@ -138,7 +138,7 @@ impl Linearized {
         Ok(out)
     }
 
-    /// The linearized Christoffel symbols Gamma^l_{mu nu}, indexed [l][mu][nu].
+    /// The linearized Christoffel symbols Gamma^l_{mu nu}, indexed `[l][mu][nu]`.
     pub fn christoffel(&mut self, store: &mut Store) -> CResult<[Sym4; 4]> {
         let d = self.dh(store)?;
         let half = Coeff::rational(crate::canon::Q::new(1.into(), 2.into()));
