@@ -18,7 +18,7 @@ PROFILE="${PROFILE:-release}"
 profile_flag=()
 [ "$PROFILE" = "release" ] && profile_flag=(--release)
 
-cargo test "${profile_flag[@]}" --test soundness --no-run >/dev/null 2>&1 || {
+cargo test "${profile_flag[@]}" --test cli --no-run >/dev/null 2>&1 || {
   echo "the soundness test does not build" >&2
   exit 2
 }
@@ -27,7 +27,7 @@ for ((seed = FIRST; seed < FIRST + COUNT; seed++)); do
   start=$(date +%s)
   log=$(mktemp)
   LINGRAV_FUZZ_SEED="$seed" LINGRAV_FUZZ_PAIRS="$PAIRS" \
-    cargo test "${profile_flag[@]}" --test soundness fuzzed_pairs_are_never_misjudged \
+    cargo test "${profile_flag[@]}" --test cli soundness::fuzzed_pairs_are_never_misjudged \
     -- --nocapture >"$log" 2>&1
   status=$?
   took=$(($(date +%s) - start))
@@ -35,7 +35,7 @@ for ((seed = FIRST; seed < FIRST + COUNT; seed++)); do
     grep -E '^(FAIL|  rerun|  A =|  B =|  lingrav:|  mpmath:|failures by rule|  +[0-9]+  )' "$log" | head -60
     grep -E 'misjudged|could not confirm|aborts|panicked' "$log" | head -5
     echo "seed $seed FAILED after ${took}s ($PAIRS pairs); full log: $log"
-    echo "rerun: LINGRAV_FUZZ_SEED=$seed LINGRAV_FUZZ_PAIRS=$PAIRS cargo test --test soundness -- --nocapture"
+    echo "rerun: LINGRAV_FUZZ_SEED=$seed LINGRAV_FUZZ_PAIRS=$PAIRS cargo test --test cli soundness:: -- --nocapture"
     exit 1
   fi
   summary=$(grep -E '^lingrav decided' "$log")

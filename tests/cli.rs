@@ -15,3 +15,32 @@ mod expr_commands;
 mod general;
 #[path = "cli/safety.rs"]
 mod safety;
+
+// The other areas, kept at the top of tests/ (outside checks against reference libraries,
+// the soundness fuzz, the engine's laws, the later commands): modules of this one binary.
+#[path = "ball_mpmath.rs"]
+mod ball_mpmath;
+#[path = "emit_code.rs"]
+mod emit_code;
+#[path = "engine_props.rs"]
+mod engine_props;
+#[path = "export_cli.rs"]
+mod export_cli;
+#[path = "export_mpmath.rs"]
+mod export_mpmath;
+#[path = "grid_cli.rs"]
+mod grid_cli;
+#[path = "handbook.rs"]
+mod handbook;
+#[path = "problem_files.rs"]
+mod problem_files;
+#[path = "soundness.rs"]
+mod soundness;
+#[path = "sympy_cross.rs"]
+mod sympy_cross;
+#[path = "sympy_tensor.rs"]
+mod sympy_tensor;
+#[path = "sympy_tt.rs"]
+mod sympy_tt;
+#[path = "tt_cli.rs"]
+mod tt_cli;

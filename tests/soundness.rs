@@ -297,7 +297,7 @@ struct Tally {
 
 fn print_failure(f: &Failure, seed: u64) {
     println!(
-        "FAIL [{}] pair {} of seed {seed:#x} ({}; rule: {})\n  rerun: LINGRAV_FUZZ_SEED={seed:#x} LINGRAV_FUZZ_ONLY={} cargo test --test soundness fuzz\n  A = {}\n  B = {}\n  lingrav: {}: {}",
+        "FAIL [{}] pair {} of seed {seed:#x} ({}; rule: {})\n  rerun: LINGRAV_FUZZ_SEED={seed:#x} LINGRAV_FUZZ_ONLY={} cargo test --test cli soundness::fuzz\n  A = {}\n  B = {}\n  lingrav: {}: {}",
         f.kind,
         f.index,
         f.pair.class.label(),
