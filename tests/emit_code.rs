@@ -59,7 +59,7 @@ fn have(program: &str) -> bool {
 }
 
 fn in_ci() -> bool {
-    std::env::var("CI").is_ok_and(|v| !v.is_empty() && v != "false" && v != "0")
+    crate::support::in_ci()
 }
 
 /// One test problem: a file, its quantities, options, and generic points.

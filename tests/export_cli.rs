@@ -448,11 +448,11 @@ fn psi4_and_polarizations_of_the_reference_wave() {
 }
 
 fn python() -> String {
-    std::env::var("LINGRAV_PYTHON").unwrap_or_else(|_| "python3".into())
+    crate::support::python()
 }
 
 fn in_ci() -> bool {
-    std::env::var("CI").is_ok_and(|v| !v.is_empty() && v != "false" && v != "0")
+    crate::support::in_ci()
 }
 
 /// Runs a Python script with NumPy; `None` (after printing "skipped:") when NumPy is missing

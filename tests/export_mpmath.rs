@@ -17,11 +17,11 @@ fn root() -> PathBuf {
 }
 
 fn in_ci() -> bool {
-    std::env::var("CI").is_ok_and(|v| !v.is_empty() && v != "false" && v != "0")
+    crate::support::in_ci()
 }
 
 fn python() -> String {
-    std::env::var("LINGRAV_PYTHON").unwrap_or_else(|_| "python3".into())
+    crate::support::python()
 }
 
 fn have_mpmath() -> bool {

@@ -575,20 +575,7 @@ fn on_ci() -> bool {
 
 /// Why python3 with SymPy cannot be used, if it cannot.
 fn python_missing(python: &str) -> Option<String> {
-    match Command::new(python)
-        .args(["-c", "import sympy, mpmath"])
-        .output()
-    {
-        Err(e) => Some(format!("cannot run `{python}`: {e}")),
-        Ok(out) if !out.status.success() => Some(format!(
-            "`{python}` cannot import sympy and mpmath: {}",
-            String::from_utf8_lossy(&out.stderr)
-                .lines()
-                .last()
-                .unwrap_or("")
-        )),
-        Ok(_) => None,
-    }
+    crate::support::python_missing(python, "sympy, mpmath")
 }
 
 #[test]

@@ -23,11 +23,7 @@ fn on_ci() -> bool {
 }
 
 fn python_missing(python: &str) -> Option<String> {
-    match Command::new(python).args(["-c", "import sympy"]).output() {
-        Err(e) => Some(format!("cannot run `{python}`: {e}")),
-        Ok(out) if !out.status.success() => Some(format!("`{python}` cannot import sympy")),
-        Ok(_) => None,
-    }
+    crate::support::python_missing(python, "sympy")
 }
 
 fn pick(rng: &mut SplitMix64, n: usize) -> usize {

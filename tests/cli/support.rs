@@ -74,3 +74,32 @@ pub fn assert_clean(args: &[&str], (stdout, stderr, got): &(String, String, i32)
         "lingrav {args:?} wrote to stderr:\n{stderr}"
     );
 }
+
+/// The Python interpreter of the outside checks: `LINGRAV_PYTHON`, default `python3`.
+pub fn python() -> String {
+    std::env::var("LINGRAV_PYTHON").unwrap_or_else(|_| "python3".into())
+}
+
+/// True under CI (`CI` set and not `false`/`0`), where a missing reference library fails the
+/// outside checks instead of skipping them.
+pub fn in_ci() -> bool {
+    std::env::var("CI").is_ok_and(|v| !v.is_empty() && v != "false" && v != "0")
+}
+
+/// Why `python` cannot import `modules` (comma-separated, e.g. `"sympy, mpmath"`), or `None`.
+pub fn python_missing(python: &str, modules: &str) -> Option<String> {
+    match Command::new(python)
+        .args(["-c", &format!("import {modules}")])
+        .output()
+    {
+        Err(e) => Some(format!("cannot run `{python}`: {e}")),
+        Ok(out) if !out.status.success() => Some(format!(
+            "`{python}` cannot import {modules}: {}",
+            String::from_utf8_lossy(&out.stderr)
+                .lines()
+                .last()
+                .unwrap_or("")
+        )),
+        Ok(_) => None,
+    }
+}
