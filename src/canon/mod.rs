@@ -479,7 +479,8 @@ impl Store {
                 den: Vec::new(),
             });
         }
-        self.check_size(a.len().saturating_mul(b.len()) / 4)?;
+        // The size limit is checked on the result as it grows (below), never on an estimate
+        // from the operands: a product whose terms collapse is not refused.
         let bits = |p: &Poly| p.iter().map(|(_, c)| c.bits()).max().unwrap_or(0);
         let (ba, bb) = (bits(a), bits(b));
         if ba + bb > MAX_COEFF_BITS {
@@ -501,7 +502,7 @@ impl Store {
                     extras.push((m, c, extra));
                 }
             }
-            self.check_size(acc.len())?;
+            self.check_size(acc.len() + extras.len())?;
         }
         let mut r = Rat {
             num: Self::sort_terms(acc),
