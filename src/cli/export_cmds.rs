@@ -99,7 +99,7 @@ pub struct ExportArgs {
     out: PathBuf,
     /// The largest relative error bound accepted for a value; values beyond it are computed
     /// again at higher precision, and if that fails nothing is written.
-    #[arg(long, value_name = "REL", default_value_t = lingrav::export::DEFAULT_TOLERANCE)]
+    #[arg(long, value_name = "REL", default_value = "1e-12")]
     tolerance: f64,
     /// The largest absolute error bound accepted for a value indistinguishable from 0
     /// (default: --tolerance times the largest magnitude in its column).
