@@ -249,14 +249,6 @@ fn gauge_components(
     })
 }
 
-fn gauge_title(g: Gauge) -> &'static str {
-    match g {
-        Gauge::Lorenz => "Lorenz gauge (d^mu hbar_{mu nu} = 0)",
-        Gauge::Tt => "TT gauge (h_{t mu} = 0, h^i_i = 0, d_i h_{ij} = 0)",
-        Gauge::Synchronous => "synchronous gauge (h_{t mu} = 0)",
-    }
-}
-
 /// Checks every claim of the problem (or, without claims, reports every property).
 pub fn check(problem: &mut Problem) -> CheckReport {
     let store = &mut problem.store;
@@ -270,7 +262,7 @@ pub fn check(problem: &mut Problem) -> CheckReport {
     // Source conservation first: a source that is not conserved cannot satisfy the equations.
     if let Some(t) = &source {
         let coords = std::array::from_fn(|mu| lin.coord(mu));
-        let title = "source conservation (d^mu T_{mu nu} = 0)";
+        let title = crate::problem::titles::SOURCE_CONSERVATION;
         let asserted = match &claims {
             Some(c) => c.field_equations.filter(|b| *b),
             None => None,
@@ -294,17 +286,13 @@ pub fn check(problem: &mut Problem) -> CheckReport {
     }
 
     let fe_title = if source.is_some() {
-        "field equations G1 = 8 pi T"
+        crate::problem::titles::FIELD_EQUATIONS
     } else {
-        "vacuum field equations G1 = 0"
+        crate::problem::titles::VACUUM_FIELD_EQUATIONS
     };
     let (fe, gauges, pg) = match &claims {
         Some(c) => (c.field_equations, c.gauge.clone(), c.pure_gauge),
-        None => (
-            None,
-            vec![Gauge::Lorenz, Gauge::Tt, Gauge::Synchronous],
-            None,
-        ),
+        None => (None, Gauge::ALL.to_vec(), None),
     };
     if fe.is_some() || !has_claims {
         out.push(
@@ -318,12 +306,12 @@ pub fn check(problem: &mut Problem) -> CheckReport {
         let key = format!("gauge.{}", g.name());
         let asserted = has_claims.then_some(true);
         out.push(match gauge_components(store, &mut lin, g) {
-            Ok(named) => claim(store, &key, gauge_title(g), asserted, named, &sampling),
-            Err(e) => limit_report(&key, gauge_title(g), asserted, e),
+            Ok(named) => claim(store, &key, g.title(), asserted, named, &sampling),
+            Err(e) => limit_report(&key, g.title(), asserted, e),
         });
     }
     if pg.is_some() || !has_claims {
-        let title = "pure gauge (linearized Riemann tensor = 0)";
+        let title = crate::problem::titles::PURE_GAUGE;
         out.push(match lin.riemann(store) {
             Ok(r) => {
                 let named = r

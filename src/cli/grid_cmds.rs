@@ -286,10 +286,7 @@ pub fn run_grid(a: GridArgs) -> Result<Outcome, Failure> {
 }
 
 fn title(c: &ClaimResult) -> String {
-    match c.asserted {
-        Some(false) => format!("not {}", c.title.replace(" = 0)", " != 0)")),
-        _ => c.title.clone(),
-    }
+    lingrav::problem::titles::asserted(&c.title, c.asserted)
 }
 
 fn word(c: &ClaimResult, has_claims: bool) -> String {

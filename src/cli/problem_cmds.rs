@@ -94,10 +94,7 @@ fn status_word(c: &ClaimReport, has_claims: bool) -> &'static str {
 }
 
 fn title(c: &ClaimReport) -> String {
-    match c.asserted {
-        Some(false) => format!("not {}", c.title.replace(" = 0)", " != 0)")),
-        _ => c.title.clone(),
-    }
+    lingrav::problem::titles::asserted(&c.title, c.asserted)
 }
 
 const LISTED: usize = 10;

@@ -327,10 +327,7 @@ fn claim_status(r: &CheckReport, key: &str) -> Option<Status> {
 /// One line per claim of a verification, with what stands in the way of those that fail.
 fn render_verification(s: &mut String, r: &CheckReport) {
     for c in r.claims.iter().filter(|c| c.asserted.is_some()) {
-        let title = match c.asserted {
-            Some(false) => format!("not {}", c.title.replace(" = 0)", " != 0)")),
-            _ => c.title.clone(),
-        };
+        let title = lingrav::problem::titles::asserted(&c.title, c.asserted);
         let _ = writeln!(s, "  {:<10} {title}", c.status.label());
         let _ = writeln!(s, "  {:<10} {}", "", c.method);
         if c.status != Status::Holds {
@@ -1108,7 +1105,7 @@ fn gauge_cmd(a: GaugeArgs) -> Result<Outcome, Stop> {
         gauge: if verify_tt {
             vec![Gauge::Tt, Gauge::Lorenz]
         } else {
-            vec![Gauge::Lorenz, Gauge::Tt, Gauge::Synchronous]
+            Gauge::ALL.to_vec()
         },
         pure_gauge: if verify_tt || target.is_none() {
             None

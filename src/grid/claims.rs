@@ -272,14 +272,6 @@ pub fn box_hbar() -> ClaimSpec {
     }
 }
 
-fn gauge_title(g: Gauge) -> &'static str {
-    match g {
-        Gauge::Lorenz => "Lorenz gauge (d^mu hbar_{mu nu} = 0)",
-        Gauge::Tt => "TT gauge (h_{t mu} = 0, h^i_i = 0, d_i h_{ij} = 0)",
-        Gauge::Synchronous => "synchronous gauge (h_{t mu} = 0)",
-    }
-}
-
 /// The claims of a problem, in the order the exact check reports them: source conservation
 /// (when there is a source), field equations, gauges, pure gauge. Without a \[claims\] table
 /// every property is listed, unasserted.
@@ -290,7 +282,7 @@ pub fn claim_specs(claims: Option<&Claims>, with_source: bool) -> Vec<ClaimSpec>
     if with_source {
         out.push(ClaimSpec {
             key: "source_conservation".into(),
-            title: "source conservation (d^mu T_{mu nu} = 0)".into(),
+            title: crate::problem::titles::SOURCE_CONSERVATION.into(),
             asserted: claims.and_then(|c| c.field_equations.filter(|b| *b)),
             components: conservation(),
         });
@@ -303,9 +295,9 @@ pub fn claim_specs(claims: Option<&Claims>, with_source: bool) -> Vec<ClaimSpec>
         out.push(ClaimSpec {
             key: "field_equations".into(),
             title: if with_source {
-                "field equations G1 = 8 pi T".into()
+                crate::problem::titles::FIELD_EQUATIONS.into()
             } else {
-                "vacuum field equations G1 = 0".into()
+                crate::problem::titles::VACUUM_FIELD_EQUATIONS.into()
             },
             asserted: fe,
             components: field_equations(with_source),
@@ -314,7 +306,7 @@ pub fn claim_specs(claims: Option<&Claims>, with_source: bool) -> Vec<ClaimSpec>
     for g in gauges {
         out.push(ClaimSpec {
             key: format!("gauge.{}", g.name()),
-            title: gauge_title(g).into(),
+            title: g.title().into(),
             asserted: has_claims.then_some(true),
             components: match g {
                 Gauge::Lorenz => lorenz(),
@@ -326,7 +318,7 @@ pub fn claim_specs(claims: Option<&Claims>, with_source: bool) -> Vec<ClaimSpec>
     if pg.is_some() || !has_claims {
         out.push(ClaimSpec {
             key: "pure_gauge".into(),
-            title: "pure gauge (linearized Riemann tensor = 0)".into(),
+            title: crate::problem::titles::PURE_GAUGE.into(),
             asserted: pg,
             components: riemann(),
         });

@@ -86,7 +86,40 @@ pub enum Gauge {
     Synchronous,
 }
 
+/// The titles of the claims, shared by the exact check, the grid check and every report: a
+/// claim is named in one place.
+pub mod titles {
+    /// Conservation of the source.
+    pub const SOURCE_CONSERVATION: &str = "source conservation (d^mu T_{mu nu} = 0)";
+    /// The field equations with a source.
+    pub const FIELD_EQUATIONS: &str = "field equations G1 = 8 pi T";
+    /// The vacuum field equations.
+    pub const VACUUM_FIELD_EQUATIONS: &str = "vacuum field equations G1 = 0";
+    /// Pure gauge.
+    pub const PURE_GAUGE: &str = "pure gauge (linearized Riemann tensor = 0)";
+
+    /// The title of a claim as asserted: `title` itself, or its negation for a claim asserted
+    /// false ("not pure gauge (linearized Riemann tensor != 0)").
+    #[must_use]
+    pub fn asserted(title: &str, asserted: Option<bool>) -> String {
+        match asserted {
+            Some(false) => format!("not {}", title.replace(" = 0)", " != 0)")),
+            _ => title.to_string(),
+        }
+    }
+}
+
 impl Gauge {
+    /// The claim's title, e.g. `Lorenz gauge (d^mu hbar_{mu nu} = 0)`.
+    #[must_use]
+    pub fn title(self) -> &'static str {
+        match self {
+            Gauge::Lorenz => "Lorenz gauge (d^mu hbar_{mu nu} = 0)",
+            Gauge::Tt => "TT gauge (h_{t mu} = 0, h^i_i = 0, d_i h_{ij} = 0)",
+            Gauge::Synchronous => "synchronous gauge (h_{t mu} = 0)",
+        }
+    }
+
     /// Every gauge, in the order of their names in [`Gauge::NAMES`].
     pub const ALL: [Gauge; 3] = [Gauge::Lorenz, Gauge::Tt, Gauge::Synchronous];
     /// The names accepted in a file.
