@@ -189,7 +189,7 @@ fn record(f: &str, x: Option<&Ball>, y: &Ball) -> Value {
 }
 
 fn on_ci() -> bool {
-    std::env::var("CI").is_ok_and(|v| !v.is_empty() && v != "false" && v != "0")
+    crate::support::in_ci()
 }
 
 /// Why python3 with mpmath cannot be used, if it cannot.
@@ -199,17 +199,7 @@ fn python_missing(python: &str) -> Option<String> {
 
 #[test]
 fn ball_enclosures_contain_mpmath_values() {
-    let seed = std::env::var("LINGRAV_BALL_SEED")
-        .ok()
-        .map(|s| {
-            let s = s.trim();
-            let parsed = match s.strip_prefix("0x") {
-                Some(hex) => u64::from_str_radix(hex, 16),
-                None => s.parse(),
-            };
-            parsed.unwrap_or_else(|_| panic!("LINGRAV_BALL_SEED={s:?} is not a u64"))
-        })
-        .unwrap_or(DEFAULT_SEED);
+    let seed = crate::support::env_u64("LINGRAV_BALL_SEED").unwrap_or(DEFAULT_SEED);
     println!("ball mpmath check seed: {seed:#x} (rerun with LINGRAV_BALL_SEED={seed:#x})");
     let mut rng = SplitMix64::new(seed);
 

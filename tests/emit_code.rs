@@ -9,15 +9,11 @@
 
 use serde_json::Value;
 use std::fmt::Write as _;
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::process::Command;
 
 fn worked(name: &str) -> String {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("worked")
-        .join(name)
-        .display()
-        .to_string()
+    crate::support::worked(name)
 }
 
 fn lingrav(dir: &Path, args: &[&str]) -> String {

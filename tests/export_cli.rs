@@ -15,7 +15,7 @@ fn root() -> PathBuf {
 }
 
 fn worked(name: &str) -> String {
-    root().join("worked").join(name).display().to_string()
+    crate::support::worked(name)
 }
 
 /// Runs lingrav in `dir`: (stdout, stderr, exit code).
@@ -80,12 +80,7 @@ fn close(a: f64, b: f64, rel: f64) -> bool {
 }
 
 fn files_in(dir: &Path) -> Vec<String> {
-    let mut v: Vec<String> = std::fs::read_dir(dir)
-        .unwrap()
-        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-        .collect();
-    v.sort();
-    v
+    crate::support::files_in(dir)
 }
 
 #[test]

@@ -86,7 +86,7 @@ fn available() -> bool {
 }
 
 fn worked(name: &str) -> String {
-    root().join("worked").join(name).display().to_string()
+    crate::support::worked(name)
 }
 
 #[test]

@@ -58,17 +58,11 @@ const SAMPLES: [(&str, &str); 2] = [
 ];
 
 fn on_ci() -> bool {
-    std::env::var("CI").is_ok_and(|v| !v.is_empty() && v != "false" && v != "0")
+    crate::support::in_ci()
 }
 
 fn env_u64(name: &str) -> Option<u64> {
-    let s = std::env::var(name).ok()?;
-    let s = s.trim();
-    let parsed = match s.strip_prefix("0x") {
-        Some(hex) => u64::from_str_radix(hex, 16),
-        None => s.parse(),
-    };
-    Some(parsed.unwrap_or_else(|_| panic!("{name}={s:?} is not a number")))
+    crate::support::env_u64(name)
 }
 
 // ----- lingrav's verdicts ------------------------------------------------------------------

@@ -570,7 +570,7 @@ fn run_case(
 // ----- the SymPy side --------------------------------------------------------------------
 
 fn on_ci() -> bool {
-    std::env::var("CI").is_ok_and(|v| !v.is_empty() && v != "false" && v != "0")
+    crate::support::in_ci()
 }
 
 /// Why python3 with SymPy cannot be used, if it cannot.
@@ -580,17 +580,7 @@ fn python_missing(python: &str) -> Option<String> {
 
 #[test]
 fn tensor_layer_agrees_with_sympy() {
-    let seed = std::env::var("LINGRAV_TENSOR_SEED")
-        .ok()
-        .map(|s| {
-            let s = s.trim();
-            let parsed = match s.strip_prefix("0x") {
-                Some(hex) => u64::from_str_radix(hex, 16),
-                None => s.parse(),
-            };
-            parsed.unwrap_or_else(|_| panic!("LINGRAV_TENSOR_SEED={s:?} is not a u64"))
-        })
-        .unwrap_or(DEFAULT_SEED);
+    let seed = crate::support::env_u64("LINGRAV_TENSOR_SEED").unwrap_or(DEFAULT_SEED);
     println!("sympy tensor check seed: {seed:#x} (rerun with LINGRAV_TENSOR_SEED={seed:#x})");
 
     let mut g = Gen {

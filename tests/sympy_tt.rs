@@ -19,7 +19,7 @@ use std::process::Command;
 const SEED: u64 = 0x7717_5e9d_2026;
 
 fn on_ci() -> bool {
-    std::env::var("CI").is_ok_and(|v| !v.is_empty() && v != "false" && v != "0")
+    crate::support::in_ci()
 }
 
 fn python_missing(python: &str) -> Option<String> {

@@ -32,22 +32,12 @@ pub const PRECISIONS: [u32; 3] = [128, 256, 512];
 
 const ETA: [f64; 4] = [-1.0, 1.0, 1.0, 1.0];
 
-/// The independent symmetric components, in the fixed column order (tt tx ty tz xx ...).
-const SYM: [(usize, usize); 10] = [
-    (0, 0),
-    (0, 1),
-    (0, 2),
-    (0, 3),
-    (1, 1),
-    (1, 2),
-    (1, 3),
-    (2, 2),
-    (2, 3),
-    (3, 3),
-];
+/// The independent symmetric components, in the fixed column order (tt tx ty tz xx ...):
+/// the file vocabulary's order.
+const SYM: [(usize, usize); 10] = crate::problem::COMPONENTS;
 
 /// The independent spatial components (xx xy xz yy yz zz), spatial indices from 0.
-const SPATIAL_SYM: [(usize, usize); 6] = [(0, 0), (0, 1), (0, 2), (1, 1), (1, 2), (2, 2)];
+const SPATIAL_SYM: [(usize, usize); 6] = crate::adm::SPATIAL_COMPONENTS;
 
 /// The antisymmetric index pairs in the order tx ty tz xy xz yz.
 const PAIRS: [(usize, usize); 6] = [(0, 1), (0, 2), (0, 3), (1, 2), (1, 3), (2, 3)];

@@ -444,8 +444,8 @@ pub fn evaluate(
     ];
     // (row, column, value, bound) of values containing 0 at the top precision.
     let mut near_zero: Vec<(usize, usize, f64, f64)> = Vec::new();
-    let mut failures: Vec<Uncertified> = Vec::new();
-    let mut total_failures = 0usize;
+    // (row, column, value, bound) of values that cannot be certified.
+    let mut rejected: Vec<(usize, usize, f64, f64)> = Vec::new();
     let tol = settings.tolerance;
     let setup = |e: crate::audit::AuditError| ExportError::Setup(e.to_string());
     // The f64 pass of the interval program over every row, in parallel, a block at a time.
@@ -556,16 +556,7 @@ pub fn evaluate(
                     if b >= x.abs() {
                         near_zero.push((row, i, x, b));
                     } else {
-                        total_failures += 1;
-                        if failures.len() < 5 {
-                            failures.push(Uncertified {
-                                row,
-                                column: names[i].to_string(),
-                                point: points.describe(row),
-                                value: x,
-                                bound: b,
-                            });
-                        }
+                        rejected.push((row, i, x, b));
                     }
                     (x, b)
                 }
@@ -593,20 +584,23 @@ pub fn evaluate(
         if b <= reports[i].zero_tolerance {
             reports[i].near_zero_rows += 1;
         } else {
-            total_failures += 1;
-            if failures.len() < 5 {
-                failures.push(Uncertified {
-                    row,
-                    column: names[i].to_string(),
-                    point: points.describe(row),
-                    value: x,
-                    bound: b,
-                });
-            }
+            rejected.push((row, i, x, b));
         }
     }
-    if total_failures > 0 {
-        failures.sort_by_key(|f| f.row);
+    if !rejected.is_empty() {
+        let total_failures = rejected.len();
+        rejected.sort_by_key(|r| r.0);
+        let failures = rejected
+            .iter()
+            .take(5)
+            .map(|&(row, i, x, b)| Uncertified {
+                row,
+                column: names[i].to_string(),
+                point: points.describe(row),
+                value: x,
+                bound: b,
+            })
+            .collect();
         return Err(ExportError::Uncertified {
             failures,
             total: total_failures,

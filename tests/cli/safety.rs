@@ -12,20 +12,11 @@ use std::path::{Path, PathBuf};
 use std::time::{Duration, Instant};
 
 fn worked(name: &str) -> String {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("worked")
-        .join(name)
-        .display()
-        .to_string()
+    crate::support::worked(name)
 }
 
 fn files_in(dir: &Path) -> Vec<String> {
-    let mut v: Vec<String> = std::fs::read_dir(dir)
-        .unwrap()
-        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-        .collect();
-    v.sort();
-    v
+    crate::support::files_in(dir)
 }
 
 /// Asserts exit 2, no panic, nothing on standard output, and `needles` in standard error

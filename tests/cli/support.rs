@@ -103,3 +103,37 @@ pub fn python_missing(python: &str, modules: &str) -> Option<String> {
         Ok(_) => None,
     }
 }
+
+/// A seed (decimal or `0x` hex) from the environment variable `name`, if set.
+///
+/// # Panics
+///
+/// If the variable is set but is not a number: a rerun must use the seed it names.
+pub fn env_u64(name: &str) -> Option<u64> {
+    let s = std::env::var(name).ok()?;
+    let s = s.trim();
+    let parsed = match s.strip_prefix("0x") {
+        Some(hex) => u64::from_str_radix(hex, 16),
+        None => s.parse(),
+    };
+    Some(parsed.unwrap_or_else(|_| panic!("{name}={s:?} is not a number")))
+}
+
+/// The path of `worked/<name>`, as text for a command line.
+pub fn worked(name: &str) -> String {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("worked")
+        .join(name)
+        .display()
+        .to_string()
+}
+
+/// The names of the entries of `dir`, sorted.
+pub fn files_in(dir: &Path) -> Vec<String> {
+    let mut v: Vec<String> = std::fs::read_dir(dir)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    v.sort();
+    v
+}
