@@ -25,7 +25,10 @@
 // Index loops mirror the tensor formulas they implement.
 #![allow(clippy::needless_range_loop)]
 
-use super::{Audit, AuditError, Fields, SplitMix64, generic_sample_text, parse_text, round6};
+use super::{
+    Audit, AuditError, Coef, Fields, SplitMix64, claim_terms, generic_sample_text, parse_text,
+    round6,
+};
 use crate::grid::claims::{Atom, Deriv, Field, claim_specs};
 use crate::interval::{Ball, CInterval, Interval};
 use crate::jet::eval::{called_functions, free_names};
@@ -693,15 +696,6 @@ impl Route for Expressions {
 
 // ----- quantities of problem files -----------------------------------------------------
 
-/// A coefficient of a claim formula.
-#[derive(Clone, Copy, Debug)]
-enum Coef {
-    /// Exact in f64 (sums of +-1/2 and +-1/4).
-    Exact(f64),
-    /// The source term of the field equations.
-    MinusEightPi,
-}
-
 /// One part of a quantity of a problem file.
 #[derive(Clone, Debug)]
 enum Part {
@@ -735,25 +729,6 @@ struct Quantity {
 pub struct FileQuantities {
     files: Vec<File>,
     quantities: Vec<Quantity>,
-}
-
-/// The combination of a claim component with enclosable coefficients.
-fn combo(name: &str, c: &crate::grid::claims::Combo) -> Result<Vec<(Coef, Atom)>, AuditError> {
-    let mut terms = Vec::new();
-    for (atom, &k) in &c.0 {
-        let coef = if atom.field == Field::T && atom.deriv == Deriv::Value {
-            if k != -8.0 * std::f64::consts::PI {
-                return Err(AuditError::Coefficient(name.to_string(), k));
-            }
-            Coef::MinusEightPi
-        } else if (k * 4.0).fract() == 0.0 && k.abs() <= 64.0 {
-            Coef::Exact(k)
-        } else {
-            return Err(AuditError::Coefficient(name.to_string(), k));
-        };
-        terms.push((coef, *atom));
-    }
-    Ok(terms)
 }
 
 /// The order of derivatives of `h` the parts need.
@@ -813,7 +788,7 @@ impl FileQuantities {
                 quantities.push(Quantity {
                     claim: spec.key.clone(),
                     name: name.clone(),
-                    parts: vec![(0, 1.0, Part::Combo(combo(name, c)?))],
+                    parts: vec![(0, 1.0, Part::Combo(claim_terms(name, c)?))],
                 });
             }
         }
@@ -840,7 +815,7 @@ impl FileQuantities {
                 if name == "R_tzxy" {
                     continue;
                 }
-                let terms = combo(name, c)?;
+                let terms = claim_terms(name, c)?;
                 quantities.push(Quantity {
                     claim: "riemann".into(),
                     name: name.clone(),
@@ -890,7 +865,7 @@ impl FileQuantities {
     ) -> Result<Self, AuditError> {
         let value = |mu: usize, nu: usize| {
             Part::Combo(vec![(
-                Coef::Exact(1.0),
+                Coef::Dyadic(1.0),
                 Atom {
                     field: Field::H,
                     mu: mu as u8,
@@ -991,8 +966,7 @@ fn part_value<S: Scalar>(
             let mut acc = S::zero();
             for (c, atom) in terms {
                 let c = match c {
-                    Coef::Exact(k) => S::from_f64(*k)?,
-                    Coef::MinusEightPi => S::pi(ctx)?.mul(&S::from_f64(-8.0)?)?,
+                    c => c.enclose::<S>(ctx)?,
                 };
                 acc = acc.add(&f.atom(atom)?.mul(&c)?)?;
             }

@@ -86,7 +86,7 @@ impl AuditClaim {
 
 /// A coefficient of a claim formula, enclosed in each arithmetic on use.
 #[derive(Clone, Copy, Debug, PartialEq)]
-enum Coef {
+pub(crate) enum Coef {
     /// A small dyadic rational, exact in f64.
     Dyadic(f64),
     /// `-8 pi`, the source term of the field equations.
@@ -94,7 +94,8 @@ enum Coef {
 }
 
 impl Coef {
-    fn enclose<S: Scalar>(self, ctx: &S::Ctx) -> Option<S> {
+    /// An enclosure of the coefficient in arithmetic `S`.
+    pub(crate) fn enclose<S: Scalar>(self, ctx: &S::Ctx) -> Option<S> {
         match self {
             Coef::Dyadic(c) => S::from_f64(c),
             Coef::MinusEightPi => S::pi(ctx)?.mul(&S::from_f64(-8.0)?),
@@ -149,6 +150,33 @@ fn tensor_roots(
     Ok(idx)
 }
 
+/// A claim component's terms with coefficients that can be enclosed exactly: sums of +-1/2
+/// and +-1/4 (exact in f64), and the source term of the field equations, -8 pi.
+///
+/// # Errors
+///
+/// Any other coefficient (a formula this audit does not know how to enclose).
+pub(crate) fn claim_terms(
+    name: &str,
+    combo: &crate::grid::claims::Combo,
+) -> Result<Vec<(Coef, Atom)>, AuditError> {
+    let mut terms = Vec::new();
+    for (atom, &c) in &combo.0 {
+        let coef = if atom.field == Field::T && atom.deriv == Deriv::Value {
+            if c != -8.0 * std::f64::consts::PI {
+                return Err(AuditError::Coefficient(name.to_string(), c));
+            }
+            Coef::MinusEightPi
+        } else if (c * 4.0).fract() == 0.0 && c.abs() <= 64.0 {
+            Coef::Dyadic(c)
+        } else {
+            return Err(AuditError::Coefficient(name.to_string(), c));
+        };
+        terms.push((coef, *atom));
+    }
+    Ok(terms)
+}
+
 /// The claims of the problem with enclosed coefficients, named as the exact check names
 /// them.
 fn audit_claims(problem: &Problem) -> Result<Vec<AuditClaim>, AuditError> {
@@ -162,22 +190,7 @@ fn audit_claims(problem: &Problem) -> Result<Vec<AuditClaim>, AuditError> {
             if spec.key == "pure_gauge" && name == "R_tzxy" {
                 continue;
             }
-            let mut terms = Vec::new();
-            for (atom, &c) in &combo.0 {
-                // Coefficients are sums of +-1/2 and +-1/4 (exact in f64), except the source
-                // term of the field equations, -8 pi, which is enclosed properly.
-                let coef = if atom.field == Field::T && atom.deriv == Deriv::Value {
-                    if c != -8.0 * std::f64::consts::PI {
-                        return Err(AuditError::Coefficient(name, c));
-                    }
-                    Coef::MinusEightPi
-                } else if (c * 4.0).fract() == 0.0 && c.abs() <= 64.0 {
-                    Coef::Dyadic(c)
-                } else {
-                    return Err(AuditError::Coefficient(name, c));
-                };
-                terms.push((coef, *atom));
-            }
+            let terms = claim_terms(&name, &combo)?;
             components.push((name, terms));
         }
         out.push(AuditClaim {
