@@ -5,7 +5,8 @@
 //! Results are cached per (form, variable), so a tensor computation that needs the same
 //! derivative twice pays once.
 
-use super::{CResult, Form, Kernel, KernelId, Rat, Store};
+use super::{CResult, Coeff, Form, Kernel, KernelId, MonoId, Rat, Store};
+use rustc_hash::FxHashMap;
 
 impl Store {
     /// The partial derivative of `f` by the symbol `var` (other symbols are independent).
@@ -18,17 +19,17 @@ impl Store {
             return Ok(self.zero);
         }
         let r = self.rats[f.0 as usize].clone();
-        let num = self.intern_rat(Rat {
-            num: r.num.clone(),
-            den: Vec::new(),
-        });
         let dnum = self.diff_poly(&r.num, var)?;
         let d = if r.den.is_empty() {
             dnum
         } else {
+            let num = self.intern_rat(Rat {
+                num: r.num.clone(),
+                den: Vec::new(),
+            });
             // d(N/D) = (dN - N * sum_j e_j dF_j / F_j) / D
             let den = self.intern_rat(Rat {
-                num: vec![(self.unit, super::Coeff::one())],
+                num: vec![(self.unit, Coeff::one())],
                 den: r.den.clone(),
             });
             let mut logd = self.zero;
@@ -43,7 +44,7 @@ impl Store {
                     den: Vec::new(),
                 });
                 let q = self.div(dp, pf)?;
-                let q = self.scale(q, &super::Coeff::int(e as i64))?;
+                let q = self.scale(q, &Coeff::int(e as i64))?;
                 logd = self.add(logd, q)?;
             }
             let t = self.mul(num, logd)?;
@@ -55,34 +56,81 @@ impl Store {
     }
 
     /// Derivative of a numerator polynomial.
+    ///
+    /// Term by term: d(c m) = c m * dlog(m). When dlog(m) is a polynomial (no denominator,
+    /// the usual case: `e/x` for a power of the variable, the derivative of an exponent), each
+    /// product term goes straight into one accumulator, so no per-term form is interned;
+    /// the rest (root reductions, quotients) is built as forms and summed once at the end
+    /// (see `Store::sum`).
     fn diff_poly(&mut self, p: &super::Poly, var: KernelId) -> CResult<Form> {
-        // Term by term, summed once at the end (see `Store::sum`).
-        let mut terms = Vec::with_capacity(p.len());
+        let mut acc: FxHashMap<MonoId, Coeff> = FxHashMap::default();
+        let mut rest = Vec::new();
         for (m, c) in p {
-            let mono = self.monos[m.0 as usize].clone();
-            let mut dlog = self.zero;
-            for &(k, e) in &mono.pows {
-                let dk = self.dlog_kernel(k, var)?;
-                if dk == self.zero {
-                    continue;
-                }
-                let t = self.scale(dk, &super::Coeff::int(e as i64))?;
-                dlog = self.add(dlog, t)?;
-            }
-            if let Some(ex) = mono.exp {
-                let de = self.diff(ex, var)?;
-                dlog = self.add(dlog, de)?;
-            }
+            let dlog = self.dlog_mono(*m, var)?;
             if dlog == self.zero {
                 continue;
             }
-            let term = self.intern_rat(Rat {
-                num: vec![(*m, c.clone())],
-                den: Vec::new(),
-            });
-            terms.push(self.mul(term, dlog)?);
+            let rd = self.rats[dlog.0 as usize].clone();
+            if !rd.den.is_empty() {
+                let term = self.intern_rat(Rat {
+                    num: vec![(*m, c.clone())],
+                    den: Vec::new(),
+                });
+                rest.push(self.mul(term, dlog)?);
+                continue;
+            }
+            for (dm, dc) in &rd.num {
+                let (mm, f, extra) = self.mono_mul(*m, *dm)?;
+                let cc = c.mul(dc).mul(&f);
+                if cc.is_zero() {
+                    continue;
+                }
+                if extra == self.one {
+                    match acc.get_mut(&mm) {
+                        Some(e) => *e = e.add(&cc),
+                        None => {
+                            acc.insert(mm, cc);
+                        }
+                    }
+                } else {
+                    let term = self.intern_rat(Rat {
+                        num: vec![(mm, cc)],
+                        den: Vec::new(),
+                    });
+                    rest.push(self.mul(term, extra)?);
+                }
+            }
+            self.check_size(acc.len())?;
         }
-        self.sum(&terms)
+        let direct = self.intern_rat(Rat {
+            num: Self::sort_terms(acc),
+            den: Vec::new(),
+        });
+        rest.push(direct);
+        self.sum(&rest)
+    }
+
+    /// The logarithmic derivative of a monomial, d(m)/m = sum_k e_k dk/k + dE, cached.
+    fn dlog_mono(&mut self, m: MonoId, var: KernelId) -> CResult<Form> {
+        if let Some(&d) = self.dlog_mono_cache.get(&(m, var)) {
+            return Ok(d);
+        }
+        let mono = self.monos[m.0 as usize].clone();
+        let mut parts = Vec::new();
+        for &(k, e) in &mono.pows {
+            let dk = self.dlog_kernel(k, var)?;
+            if dk != self.zero {
+                parts.push((Coeff::int(e as i64), dk));
+            }
+        }
+        if let Some(ex) = mono.exp {
+            let de = self.diff(ex, var)?;
+            parts.push((Coeff::one(), de));
+        }
+        let refs: Vec<(&Coeff, Form)> = parts.iter().map(|(c, f)| (c, *f)).collect();
+        let d = self.linear(&refs)?;
+        self.dlog_mono_cache.insert((m, var), d);
+        Ok(d)
     }
 
     /// The logarithmic derivative d(k)/k of a kernel by `var`.
@@ -116,7 +164,7 @@ impl Store {
                     let t = self.div(dr, radicand)?;
                     self.scale(
                         t,
-                        &super::Coeff::rational(super::Q::new(1.into(), (q as i64).into())),
+                        &Coeff::rational(super::Q::new(1.into(), (q as i64).into())),
                     )?
                 }
             }

@@ -204,7 +204,9 @@ pub struct Store {
     mono_mul_cache: FxHashMap<(MonoId, MonoId), (MonoId, Coeff, Form)>,
     diff_cache: FxHashMap<(Form, KernelId), Form>,
     dlog_cache: FxHashMap<(KernelId, KernelId), Form>,
+    dlog_mono_cache: FxHashMap<(MonoId, KernelId), Form>,
     deps_cache: FxHashMap<KernelId, Rc<[KernelId]>>,
+    form_deps_cache: FxHashMap<Form, Rc<[KernelId]>>,
     /// The limits in force.
     pub limits: Limits,
     unit: MonoId,
@@ -233,7 +235,9 @@ impl Store {
             mono_mul_cache: FxHashMap::default(),
             diff_cache: FxHashMap::default(),
             dlog_cache: FxHashMap::default(),
+            dlog_mono_cache: FxHashMap::default(),
             deps_cache: FxHashMap::default(),
+            form_deps_cache: FxHashMap::default(),
             limits: Limits::default(),
             unit: MonoId(0),
             zero: Form(0),
@@ -545,16 +549,36 @@ impl Store {
         if let Some(r) = self.mono_mul_cache.get(&key) {
             return Ok(r.clone());
         }
-        let ma = self.monos[a.0 as usize].clone();
-        let mb = self.monos[b.0 as usize].clone();
-        let mut pows = ma.pows.clone();
-        for (k, e) in mb.pows {
-            match pows.binary_search_by_key(&k, |p| p.0) {
-                Ok(i) => pows[i].1 += e,
-                Err(i) => pows.insert(i, (k, e)),
+        let (ma, mb) = (&self.monos[a.0 as usize], &self.monos[b.0 as usize]);
+        // Merge the two sorted power lists (one allocation, no copies of the monomials).
+        let (pa, pb) = (&ma.pows, &mb.pows);
+        let mut pows = Vec::with_capacity(pa.len() + pb.len());
+        let (mut i, mut j) = (0, 0);
+        while i < pa.len() && j < pb.len() {
+            match pa[i].0.cmp(&pb[j].0) {
+                std::cmp::Ordering::Less => {
+                    pows.push(pa[i]);
+                    i += 1;
+                }
+                std::cmp::Ordering::Greater => {
+                    pows.push(pb[j]);
+                    j += 1;
+                }
+                std::cmp::Ordering::Equal => {
+                    let e = pa[i]
+                        .1
+                        .checked_add(pb[j].1)
+                        .ok_or_else(|| CanonError::NumberTooLarge(31))?;
+                    if e != 0 {
+                        pows.push((pa[i].0, e));
+                    }
+                    i += 1;
+                    j += 1;
+                }
             }
         }
-        pows.retain(|p| p.1 != 0);
+        pows.extend_from_slice(&pa[i..]);
+        pows.extend_from_slice(&pb[j..]);
         let exp = match (ma.exp, mb.exp) {
             (None, None) => None,
             (Some(x), None) | (None, Some(x)) => Some(x),
@@ -901,10 +925,22 @@ impl Store {
     ///
     /// A size or time limit.
     pub fn sum(&mut self, forms: &[Form]) -> CResult<Form> {
+        let one = Coeff::one();
+        let terms: Vec<(&Coeff, Form)> = forms.iter().map(|&f| (&one, f)).collect();
+        self.linear(&terms)
+    }
+
+    /// The linear combination `sum_k c_k f_k` with constant coefficients, built once like
+    /// [`Store::sum`]: no scaled copy or partial sum is interned.
+    ///
+    /// # Errors
+    ///
+    /// A size or time limit.
+    pub fn linear(&mut self, terms: &[(&Coeff, Form)]) -> CResult<Form> {
         let mut groups: Vec<(Vec<(FactorId, u32)>, FxHashMap<MonoId, Coeff>)> = Vec::new();
         let mut total = 0usize;
-        for &f in forms {
-            if f == self.zero {
+        for &(k, f) in terms {
+            if f == self.zero || k.is_zero() {
                 continue;
             }
             let r = &self.rats[f.0 as usize];
@@ -916,7 +952,15 @@ impl Store {
                 }
             };
             let acc = &mut groups[g].1;
+            let unit = k.is_one();
             for (m, c) in &r.num {
+                let scaled;
+                let c = if unit {
+                    c
+                } else {
+                    scaled = c.mul(k);
+                    &scaled
+                };
                 match acc.get_mut(m) {
                     Some(e) => *e = e.add(c),
                     None => {
@@ -956,8 +1000,10 @@ impl Store {
 
     /// `a - b`.
     pub fn sub(&mut self, a: Form, b: Form) -> CResult<Form> {
-        let nb = self.neg(b)?;
-        self.add(a, nb)
+        if b == self.zero {
+            return Ok(a);
+        }
+        self.linear(&[(&Coeff::one(), a), (&Coeff::int(-1), b)])
     }
 
     /// `a * b`.
@@ -1356,19 +1402,37 @@ impl Store {
     }
 
     fn poly_deps(&mut self, p: &Poly, out: &mut Vec<KernelId>) {
+        // Each monomial's kernels once, in a first pass that borrows nothing mutably; the
+        // kernels' own dependencies (cached) in a second.
+        let mut kernels: Vec<KernelId> = Vec::new();
+        let mut seen: rustc_hash::FxHashSet<KernelId> = Default::default();
+        let mut exps: Vec<Form> = Vec::new();
         for (m, _) in p {
-            let mono = self.monos[m.0 as usize].clone();
-            for (k, _) in mono.pows {
-                out.extend(self.kernel_deps(k).iter().copied());
+            let mono = &self.monos[m.0 as usize];
+            for &(k, _) in &mono.pows {
+                if seen.insert(k) {
+                    kernels.push(k);
+                }
             }
             if let Some(e) = mono.exp {
-                out.extend(self.form_deps(e).iter().copied());
+                if !exps.contains(&e) {
+                    exps.push(e);
+                }
             }
+        }
+        for k in kernels {
+            out.extend(self.kernel_deps(k).iter().copied());
+        }
+        for e in exps {
+            out.extend(self.form_deps(e).iter().copied());
         }
     }
 
-    /// Symbol kernels a form depends on.
+    /// Symbol kernels a form depends on (cached per form).
     fn form_deps(&mut self, f: Form) -> Rc<[KernelId]> {
+        if let Some(d) = self.form_deps_cache.get(&f) {
+            return d.clone();
+        }
         let r = self.rats[f.0 as usize].clone();
         let mut out = Vec::new();
         self.poly_deps(&r.num, &mut out);
@@ -1378,7 +1442,9 @@ impl Store {
         }
         out.sort();
         out.dedup();
-        Rc::from(out)
+        let d: Rc<[KernelId]> = Rc::from(out);
+        self.form_deps_cache.insert(f, d.clone());
+        d
     }
 
     /// The formal conjugate of `f`: every coefficient and every exponent conjugated, kernels

@@ -310,6 +310,10 @@ struct Evaluation<'p, S: Scalar> {
     values: &'p FxHashMap<String, S>,
     ctx: &'p S::Ctx,
     defines: Vec<Option<Jet<S>>>,
+    /// Rational powers of a name (`x^3`, `r^(1/2)`), which recur across the terms of a
+    /// polynomial: the name's value is fixed at the point, so each is computed once per
+    /// exponent and order (the same computation, done once).
+    powers: FxHashMap<String, Vec<(BigRational, u32, Jet<S>)>>,
 }
 
 /// An exact rational if `e` is a constant built from numbers by `+ - * /` and integer
@@ -355,6 +359,7 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
             values,
             ctx,
             defines: Vec::with_capacity(p.defines.len()),
+            powers: FxHashMap::default(),
         };
         for (i, (_, e)) in p.defines.iter().enumerate() {
             let v = match p.define_order[i] {
@@ -401,6 +406,9 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
     fn binary(&mut self, op: BinOp, a: &Expr, b: &Expr, order: u32) -> Result<Jet<S>, Here> {
         if op == BinOp::Pow {
             if let Some(r) = exact_rational(b) {
+                if let ExprKind::Ident(name) = &a.kind {
+                    return self.name_power(name, r, order);
+                }
                 return self.eval(a, order)?.pow_rational(&r, self.ctx).here();
             }
         }
@@ -414,6 +422,21 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
             BinOp::Pow => x.pow(&y, self.ctx),
         }
         .here()
+    }
+
+    /// `name^r`, memoised per point (see `powers`).
+    fn name_power(&mut self, name: &str, r: BigRational, order: u32) -> Result<Jet<S>, Here> {
+        if let Some(done) = self.powers.get(name) {
+            if let Some((_, _, j)) = done.iter().find(|(q, o, _)| *o == order && *q == r) {
+                return Ok(j.clone());
+            }
+        }
+        let j = self.ident(name, order)?.pow_rational(&r, self.ctx).here()?;
+        self.powers
+            .entry(name.to_string())
+            .or_default()
+            .push((r, order, j.clone()));
+        Ok(j)
     }
 
     fn call(&mut self, name: &str, primes: u32, arg: &Expr, order: u32) -> Result<Jet<S>, Here> {

@@ -114,12 +114,9 @@ impl Linearized {
 
     /// The trace h = eta^{mu nu} h_{mu nu}.
     pub fn trace(&self, store: &mut Store) -> CResult<Form> {
-        let mut t = store.zero();
-        for mu in 0..4 {
-            let term = store.scale(self.h[mu][mu], &Coeff::int(ETA[mu]))?;
-            t = store.add(t, term)?;
-        }
-        Ok(t)
+        let eta = ETA.map(Coeff::int);
+        let terms: Vec<(&Coeff, Form)> = (0..4).map(|mu| (&eta[mu], self.h[mu][mu])).collect();
+        store.linear(&terms)
     }
 
     /// The trace-reversed perturbation hbar_{mu nu} = h_{mu nu} - (1/2) eta_{mu nu} h.
@@ -131,8 +128,8 @@ impl Linearized {
         let half = Coeff::rational(crate::canon::Q::new(1.into(), 2.into()));
         let mut out = self.h;
         for (mu, row) in out.iter_mut().enumerate() {
-            let shift = store.scale(tr, &half.mul(&Coeff::int(ETA[mu])))?;
-            row[mu] = store.sub(self.h[mu][mu], shift)?;
+            let shift = half.mul(&Coeff::int(-ETA[mu]));
+            row[mu] = store.linear(&[(&Coeff::one(), self.h[mu][mu]), (&shift, tr)])?;
         }
         self.hbar = Some(out);
         Ok(out)
@@ -147,9 +144,12 @@ impl Linearized {
             for mu in 0..4 {
                 for nu in mu..4 {
                     // Gamma_{l mu nu} = (1/2)(d_mu h_{l nu} + d_nu h_{l mu} - d_l h_{mu nu})
-                    let a = store.add(d[mu][l][nu], d[nu][l][mu])?;
-                    let b = store.sub(a, d[l][mu][nu])?;
-                    let v = store.scale(b, &half.mul(&Coeff::int(ETA[l])))?;
+                    let c = half.mul(&Coeff::int(ETA[l]));
+                    let v = store.linear(&[
+                        (&c, d[mu][l][nu]),
+                        (&c, d[nu][l][mu]),
+                        (&c.neg(), d[l][mu][nu]),
+                    ])?;
                     gl[mu][nu] = v;
                     gl[nu][mu] = v;
                 }
@@ -159,22 +159,28 @@ impl Linearized {
     }
 
     /// R_{abcd} at first order.
-    pub fn riemann_component(
+    pub fn riemann_component(&mut self, store: &mut Store, idx: [usize; 4]) -> CResult<Form> {
+        let terms = self.riemann_terms(store, idx, &Coeff::one())?;
+        let refs: Vec<(&Coeff, Form)> = terms.iter().map(|(c, f)| (c, *f)).collect();
+        store.linear(&refs)
+    }
+
+    /// `k R_{abcd}` as four second derivatives with their coefficients:
+    /// R_{abcd} = (1/2)(d_b d_c h_{ad} + d_a d_d h_{bc} - d_a d_c h_{bd} - d_b d_d h_{ac}).
+    fn riemann_terms(
         &mut self,
         store: &mut Store,
         [a, b, c, d]: [usize; 4],
-    ) -> CResult<Form> {
-        let t1 = self.ddh(store, b, c, a, d)?;
-        let t2 = self.ddh(store, a, d, b, c)?;
-        let t3 = self.ddh(store, a, c, b, d)?;
-        let t4 = self.ddh(store, b, d, a, c)?;
-        let s = store.add(t1, t2)?;
-        let s = store.sub(s, t3)?;
-        let s = store.sub(s, t4)?;
-        store.scale(
-            s,
-            &Coeff::rational(crate::canon::Q::new(1.into(), 2.into())),
-        )
+        k: &Coeff,
+    ) -> CResult<[(Coeff, Form); 4]> {
+        let plus = k.mul(&Coeff::rational(crate::canon::Q::new(1.into(), 2.into())));
+        let minus = plus.neg();
+        Ok([
+            (plus.clone(), self.ddh(store, b, c, a, d)?),
+            (plus, self.ddh(store, a, d, b, c)?),
+            (minus.clone(), self.ddh(store, a, c, b, d)?),
+            (minus, self.ddh(store, b, d, a, c)?),
+        ])
     }
 
     /// The 20 independent Riemann components with their indices.
@@ -198,12 +204,13 @@ impl Linearized {
         let mut out = zeros(store);
         for mu in 0..4 {
             for nu in mu..4 {
-                let mut acc = store.zero();
+                let mut terms = Vec::with_capacity(16);
                 for rho in 0..4 {
-                    let c = self.riemann_component(store, [rho, mu, rho, nu])?;
-                    let c = store.scale(c, &Coeff::int(ETA[rho]))?;
-                    acc = store.add(acc, c)?;
+                    let k = Coeff::int(ETA[rho]);
+                    terms.extend(self.riemann_terms(store, [rho, mu, rho, nu], &k)?);
                 }
+                let refs: Vec<(&Coeff, Form)> = terms.iter().map(|(c, f)| (c, *f)).collect();
+                let acc = store.linear(&refs)?;
                 out[mu][nu] = acc;
                 out[nu][mu] = acc;
             }
@@ -215,12 +222,9 @@ impl Linearized {
     /// The Ricci scalar R = eta^{mu nu} R_{mu nu}.
     pub fn ricci_scalar(&mut self, store: &mut Store) -> CResult<Form> {
         let r = self.ricci(store)?;
-        let mut acc = store.zero();
-        for (mu, row) in r.iter().enumerate() {
-            let c = store.scale(row[mu], &Coeff::int(ETA[mu]))?;
-            acc = store.add(acc, c)?;
-        }
-        Ok(acc)
+        let eta = ETA.map(Coeff::int);
+        let terms: Vec<(&Coeff, Form)> = (0..4).map(|mu| (&eta[mu], r[mu][mu])).collect();
+        store.linear(&terms)
     }
 
     /// The linearized Einstein tensor G_{mu nu} = R_{mu nu} - (1/2) eta_{mu nu} R.
@@ -229,11 +233,8 @@ impl Linearized {
         let s = self.ricci_scalar(store)?;
         let mut g = r;
         for (mu, row) in g.iter_mut().enumerate() {
-            let shift = store.scale(
-                s,
-                &Coeff::rational(crate::canon::Q::new(ETA[mu].into(), 2.into())),
-            )?;
-            row[mu] = store.sub(r[mu][mu], shift)?;
+            let shift = Coeff::rational(crate::canon::Q::new((-ETA[mu]).into(), 2.into()));
+            row[mu] = store.linear(&[(&Coeff::one(), r[mu][mu]), (&shift, s)])?;
         }
         Ok(g)
     }
@@ -283,13 +284,13 @@ pub fn box_of(store: &mut Store, a: &Sym4, coords: &[KernelId; 4]) -> CResult<Sy
     let mut out = zeros(store);
     for mu in 0..4 {
         for nu in mu..4 {
-            let mut acc = store.zero();
+            let eta = ETA.map(Coeff::int);
+            let mut terms = Vec::with_capacity(4);
             for (rho, &c) in coords.iter().enumerate() {
                 let d1 = store.diff(a[mu][nu], c)?;
-                let d2 = store.diff(d1, c)?;
-                let term = store.scale(d2, &Coeff::int(ETA[rho]))?;
-                acc = store.add(acc, term)?;
+                terms.push((&eta[rho], store.diff(d1, c)?));
             }
+            let acc = store.linear(&terms)?;
             out[mu][nu] = acc;
             out[nu][mu] = acc;
         }
@@ -301,13 +302,12 @@ pub fn box_of(store: &mut Store, a: &Sym4, coords: &[KernelId; 4]) -> CResult<Sy
 pub fn divergence(store: &mut Store, a: &Sym4, coords: &[KernelId; 4]) -> CResult<[Form; 4]> {
     let mut out = [store.zero(); 4];
     for (nu, slot) in out.iter_mut().enumerate() {
-        let mut acc = store.zero();
+        let eta = ETA.map(Coeff::int);
+        let mut terms = Vec::with_capacity(4);
         for (mu, &c) in coords.iter().enumerate() {
-            let d = store.diff(a[mu][nu], c)?;
-            let term = store.scale(d, &Coeff::int(ETA[mu]))?;
-            acc = store.add(acc, term)?;
+            terms.push((&eta[mu], store.diff(a[mu][nu], c)?));
         }
-        *slot = acc;
+        *slot = store.linear(&terms)?;
     }
     Ok(out)
 }
