@@ -1,0 +1,48 @@
+//! In-process time of `check` on the problem files named on the command line, for the peer
+//! comparison of `benches/engine_ratios.sh` (the peers are timed in-process too, their
+//! interpreter start and imports excluded; this excludes lingrav's process start, about 1 ms).
+//!
+//! What is timed is what `lingrav check FILE` computes: reading and building the problem,
+//! checking every claim and the independent audit of every verdict (`check::check`); not
+//! the rendering of the report (microseconds). One untimed warm-up run, then runs until `REPEAT` (default 3)
+//! samples or 10 s are collected; prints `FILE median_seconds samples` per file, or
+//! `FILE error MESSAGE` when the file does not load.
+//!
+//! Usage: cargo bench --bench check_files -- FILE...
+
+use std::time::Instant;
+
+fn main() {
+    let repeat: usize = std::env::var("REPEAT")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(3)
+        .max(1);
+    // cargo bench passes `--bench`; every other argument is a file.
+    let files: Vec<String> = std::env::args()
+        .skip(1)
+        .filter(|a| !a.starts_with("--"))
+        .collect();
+    for file in files {
+        let run = || -> Result<usize, String> {
+            let mut problem = lingrav::problem::read(std::path::Path::new(&file))
+                .map_err(|e| e.to_string().replace('\n', " "))?;
+            let report = lingrav::check::check(&mut problem);
+            Ok(report.claims.len())
+        };
+        if let Err(e) = run() {
+            println!("{file} error {e}");
+            continue;
+        }
+        let mut times = Vec::new();
+        let budget = Instant::now();
+        while times.len() < repeat && (times.is_empty() || budget.elapsed().as_secs_f64() < 10.0) {
+            let start = Instant::now();
+            let n = run().unwrap_or(0);
+            times.push(start.elapsed().as_secs_f64());
+            std::hint::black_box(n);
+        }
+        times.sort_by(f64::total_cmp);
+        println!("{file} {:.6} {}", times[times.len() / 2], times.len());
+    }
+}
