@@ -13,6 +13,8 @@ mod bad_input;
 mod expr_commands;
 #[path = "cli/general.rs"]
 mod general;
+#[path = "cli/output.rs"]
+mod output;
 #[path = "cli/safety.rs"]
 mod safety;
 

@@ -7,6 +7,7 @@
 //! witnesses.
 
 pub mod audit;
+pub mod verdicts;
 
 pub use audit::{AUDIT_POINTS, Audited, audit_text, auditable};
 
@@ -113,6 +114,36 @@ impl CheckReport {
         } else {
             Status::Holds
         }
+    }
+
+    /// The status of the claim with machine key `key`, if it was checked.
+    #[must_use]
+    pub fn status_of(&self, key: &str) -> Option<Status> {
+        self.claims.iter().find(|c| c.key == key).map(|c| c.status)
+    }
+
+    /// What a file may claim about `key` after this check: `Some(true)` if it holds,
+    /// `Some(false)` if it fails, `None` if it is undecided or was not checked.
+    #[must_use]
+    pub fn proved(&self, key: &str) -> Option<bool> {
+        match self.status_of(key) {
+            Some(Status::Holds) => Some(true),
+            Some(Status::Fails) => Some(false),
+            _ => None,
+        }
+    }
+
+    /// True if the independent audit contradicts the exact route somewhere.
+    #[must_use]
+    pub fn has_defect(&self) -> bool {
+        self.claims
+            .iter()
+            .any(|c| c.components.iter().any(|k| k.audit.is_defect()))
+    }
+
+    /// Every component of every claim, in order.
+    pub fn components(&self) -> impl Iterator<Item = &Component> {
+        self.claims.iter().flat_map(|c| c.components.iter())
     }
 }
 

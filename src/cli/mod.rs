@@ -1,13 +1,21 @@
-//! Argument parsing and dispatch.
+//! Argument parsing and dispatch. Each command is a file in `cmd/`; what they share is here:
+//! `limits` (the limit options, loading a problem under them, the memory watchdog), `plan`
+//! (arguments read against a problem, output files opened before any work), `report` (text
+//! and JSON of verdicts, claims and components), `audit` (how the independent audit is
+//! shown), `out` (outcomes, exit codes and the one mapping of a limit to "undecided"),
+//! `render` (error reports that cannot panic), `quantities` (export and emit), `progress`.
 
-mod export_cmds;
-mod expr_cmds;
-mod grid_cmds;
+mod audit;
+mod cmd;
 mod limits;
 mod out;
-mod problem_cmds;
+mod plan;
+mod progress;
+mod quantities;
 mod render;
-mod tt_cmds;
+mod report;
+
+use cmd::{check, compare, diff, emit, export, gauge, grid, project, ring, show, simplify, zero};
 
 use clap::{Parser, Subcommand};
 use std::process::ExitCode;
@@ -43,28 +51,30 @@ interval Taylor jets, never the canonical form), said on the second line: a proo
 contain 0 at 3 seeded points (--seed; --audit-points prints them), a witness must be
 certified again at its point (f64 intervals, then 128-, 256-, 512-bit balls), else the
 verdict is undecided. A proof contradicted there is reported nonzero as an INTERNAL DEFECT.")]
-    Zero(expr_cmds::ZeroArgs),
+    Zero(zero::ZeroArgs),
     /// Print the canonical form of an expression in readable real form.
     #[command(after_help = "\
 Examples:
   lingrav simplify '2*sin(x)*cos(x)'            # prints sin(2*x)
   lingrav simplify --latex '1/sqrt(x^2 + y^2 + z^2)^3'
+  lingrav simplify --format json 'cosh(x)^2 - sinh(x)^2'
 
 The second line says how the printed form was audited: it and the input are evaluated by an
 independent route (certified interval Taylor jets of the texts) at 3 seeded points (--seed,
 --audit-points) and must agree; a disagreement is an INTERNAL DEFECT (exit 1).")]
-    Simplify(expr_cmds::SimplifyArgs),
+    Simplify(simplify::SimplifyArgs),
     /// Differentiate an expression by one or more variables and print the simplified result.
     #[command(after_help = "\
 Examples:
   lingrav diff 'F(t - r)/r' t t            # second time derivative
   lingrav diff 'sqrt(x^2 + y^2 + z^2)' x   # prints x*sqrt(x^2 + y^2 + z^2)/(x^2 + y^2 + z^2)
+  lingrav diff --format json 'F(t - r)/r' t
 
 The second line says how the printed derivative was audited: it must agree with the jet
 derivative of the input (certified interval Taylor jets of the text, never the canonical
 form) at 3 seeded points (--seed, --audit-points); a disagreement is an INTERNAL DEFECT
 (exit 1).")]
-    Diff(expr_cmds::DiffArgs),
+    Diff(diff::DiffArgs),
     /// Check a perturbation's claims: field equations, gauge conditions, pure gauge.
     #[command(after_help = "\
 Example:
@@ -75,7 +85,7 @@ One line per claim: holds (proved exactly), fails (with the failing components, 
 simplified residuals and a certified witness point) or undecided (with the reason).
 Without a [claims] table every property is reported. Exit 0 every claim holds, 1 one
 fails, 3 one is undecided and none fails, 2 bad input.")]
-    Check(problem_cmds::CheckArgs),
+    Check(check::CheckArgs),
     /// Test the claims numerically: finite-difference residuals and their convergence order.
     #[command(after_help = "\
 Examples:
@@ -96,13 +106,14 @@ times the floor; anything else is inconclusive, with the reason. A claim `= fals
 when they do not vanish. A non-finite sample stops the run naming its point, unless
 --mask-nonfinite. Exit 0 every claim holds, 1 one fails, 3 one is inconclusive and none
 fails, 2 bad input.")]
-    Grid(grid_cmds::GridArgs),
+    Grid(grid::GridArgs),
     /// Print a derived quantity (Einstein, Ricci, Riemann, ...) component by component.
     #[command(after_help = "\
 Examples:
   lingrav show worked/vibrating_rod.toml einstein
-  lingrav show --latex worked/static_mass.toml riemann")]
-    Show(problem_cmds::ShowArgs),
+  lingrav show --latex worked/static_mass.toml riemann
+  lingrav show --format json worked/vibrating_rod.toml ricci")]
+    Show(show::ShowArgs),
     /// The TT part of a perturbation along a direction, its plus and cross polarizations.
     #[command(after_help = "\
 Examples:
@@ -122,12 +133,12 @@ numerical evidence at sample points. --output writes the TT part with the claims
 exact share, the claims of --output) is audited by an independent evaluation of the texts at
 seeded points (--audit-points prints them). Exit 0 (with --output: both proved), 1 one fails
 or an INTERNAL DEFECT (the audit contradicts the exact route), 3 undecided, 2 bad input.")]
-    Project(tt_cmds::ProjectArgs),
+    Project(project::ProjectArgs),
     /// Apply a gauge transformation, or construct the one that brings a plane wave to TT gauge.
     #[command(after_help = "\
 Examples:
   lingrav gauge worked/lorenz_wave.toml --vector 'b*sin(w*(t - z))/(2*w), 0, 0, -b*sin(w*(t - z))/(2*w)'
-  lingrav gauge worked/lorenz_wave.toml --to-tt
+  lingrav gauge worked/lorenz_wave.toml --to-tt --format json
   lingrav gauge worked/lorenz_oblique.toml --to-tt --output oblique_tt.toml
 
 h -> h - d_mu xi_nu - d_nu xi_mu, xi index down; prints h' and whether the Lorenz gauge is
@@ -136,9 +147,10 @@ the perturbation, or --wave-vector w,kx,ky,kz) and verifies h' exactly: TT gauge
 gauge, field equations. Every verdict (k null, the input's Lorenz gauge, box xi, those on h')
 is audited by an independent evaluation of the texts of h and xi (xi as printed when
 constructed) at seeded points (--audit-points prints them). Exit: --to-tt 0 proved, 1 fails,
-3 undecided; --vector 0 once h' is computed; 1 for an INTERNAL DEFECT (the audit contradicts
+3 undecided; --vector 0 once h' is computed (3 if a limit left a verdict on it undecided);
+1 for an INTERNAL DEFECT (the audit contradicts
 the exact route); 2 bad input (or not a Lorenz-gauge plane wave).")]
-    Gauge(tt_cmds::GaugeArgs),
+    Gauge(gauge::GaugeArgs),
     /// Decide whether two perturbations are the same physics in different gauges.
     #[command(after_help = "\
 Examples:
@@ -151,18 +163,19 @@ files' texts: a proof at 3 seeded points (--audit-points prints them), a witness
 point; a contradicted proof is reported different, with an INTERNAL DEFECT line. Exit 0 same,
 1 different (the differing components are listed with a certified witness), 3 undecided,
 2 bad input.")]
-    Compare(tt_cmds::CompareArgs),
+    Compare(compare::CompareArgs),
     /// How a ring of free test masses transverse to a direction responds to the TT part.
     #[command(after_help = "\
 Examples:
   lingrav ring worked/oblique_wave.toml --direction 3/5,0,4/5 --times 0,0.5,1,1.5
+  lingrav ring worked/lorenz_wave.toml --direction z --times 0,1 --format json
   lingrav ring worked/lorenz_wave.toml --direction 0,0,1 --radius 2 --times 0,pi/(4*w),pi/(2*w) --svg ring.svg
 
 Masses at L (cos phi u + sin phi v); delta x^i = (1/2) h^TT_ij x^j with h^TT at the ring's
 centre (--at, default the origin), evaluated numerically with the file's parameter values
 and function samples. The SVG shows each time as a panel: the ring at rest (dashed), the
 deformed ring and the masses, displacements exaggerated by a printed factor.")]
-    Ring(tt_cmds::RingArgs),
+    Ring(ring::RingArgs),
     /// Write reference values (h, curvature, ADM data, constraints, Psi4) at your points.
     #[command(after_help = "\
 Examples:
@@ -183,7 +196,7 @@ column's exact expression and certified error bound, and the tool version. Files
 whole (temporary file, then rename; the data first, then the sidecar, which records the
 data file's size and FNV-1a 64 checksum); an existing file is kept unless --force. Exit 0
 written, 2 bad input, a point where a value is not finite, or an I/O error (nothing written).")]
-    Export(export_cmds::ExportArgs),
+    Export(export::ExportArgs),
     /// Emit code (C, Python, Fortran, Rust, LaTeX) that computes the quantities at a point.
     #[command(after_help = "\
 Examples:
@@ -200,7 +213,7 @@ Python:  lingrav_<quantity>(t, x, y, z, <parameters with the file's values as de
 params holds the file's parameters in file order; out the columns in the order of export.
 Arbitrary functions F are calls to functions you supply, F_d0(u) = F(u), F_d1(u) = F'(u),
 ..., or, with --samples, the file's samples. The header comment documents everything.")]
-    Emit(export_cmds::EmitArgs),
+    Emit(emit::EmitArgs),
 }
 
 /// Runs the command line and returns the exit code.
@@ -214,18 +227,18 @@ pub fn run() -> ExitCode {
         }
     };
     let result = match cli.command {
-        Command::Zero(a) => expr_cmds::zero(a),
-        Command::Simplify(a) => expr_cmds::simplify(a),
-        Command::Diff(a) => expr_cmds::diff(a),
-        Command::Check(a) => problem_cmds::run_check(a),
-        Command::Grid(a) => grid_cmds::run_grid(a),
-        Command::Show(a) => problem_cmds::run_show(a),
-        Command::Project(a) => tt_cmds::run_project(a),
-        Command::Gauge(a) => tt_cmds::run_gauge(a),
-        Command::Compare(a) => tt_cmds::run_compare(a),
-        Command::Ring(a) => tt_cmds::run_ring(a),
-        Command::Export(a) => export_cmds::run_export(a),
-        Command::Emit(a) => export_cmds::run_emit(a),
+        Command::Zero(a) => zero::run(a),
+        Command::Simplify(a) => simplify::run(a),
+        Command::Diff(a) => diff::run(a),
+        Command::Check(a) => check::run(a),
+        Command::Grid(a) => grid::run(a),
+        Command::Show(a) => show::run(a),
+        Command::Project(a) => project::run(a),
+        Command::Gauge(a) => gauge::run(a),
+        Command::Compare(a) => compare::run(a),
+        Command::Ring(a) => ring::run(a),
+        Command::Export(a) => export::run(a),
+        Command::Emit(a) => emit::run(a),
     };
     out::finish(result)
 }

@@ -44,17 +44,44 @@ impl From<io::Error> for Failure {
 
 /// A limit reached anywhere (loading, computing, printing, sampling) as the command's end:
 /// "undecided: too large" or "undecided: too slow" (exit 3) with the option that raises the
-/// limit. Other algebra errors (a division by zero, say) are bad input.
+/// limit, worded by [`limit_reason`]. Other algebra errors (a division by zero, say) are bad
+/// input. Every command maps its limits through here (directly, through [`limit_or`] for
+/// errors that keep only a message, or through [`limit_among`] for verdicts a limit left
+/// undecided).
 pub fn gave_up(e: &CanonError) -> Failure {
-    match e {
-        CanonError::TooLarge(_) => Failure::GaveUp(format!("{e} (--max-terms raises the limit)")),
-        CanonError::Timeout(_) => Failure::GaveUp(format!("{e} (--time-limit raises it)")),
-        CanonError::NumberTooLarge(_) => Failure::GaveUp(e.to_string()),
-        CanonError::MemoryCap(_) => Failure::GaveUp(format!("{e} (--max-memory raises it)")),
-        CanonError::DivisionByZero | CanonError::Undefined(_) => {
-            Failure::Input(miette::miette!("{e}"))
-        }
+    match limit_reason(e) {
+        Some(why) => Failure::GaveUp(why),
+        None => Failure::Input(miette::miette!("{e}")),
     }
+}
+
+/// The reason a limit gives for "undecided" (after `undecided: `), with the option that
+/// raises it; `None` for algebra errors that are not limits.
+pub fn limit_reason(e: &CanonError) -> Option<String> {
+    match e {
+        CanonError::TooLarge(_) => Some(format!("{e} (--max-terms raises the limit)")),
+        CanonError::Timeout(_) => Some(format!("{e} (--time-limit raises it)")),
+        CanonError::NumberTooLarge(_) => Some(e.to_string()),
+        CanonError::MemoryCap(_) => Some(format!("{e} (--max-memory raises it)")),
+        CanonError::DivisionByZero | CanonError::Undefined(_) => None,
+    }
+}
+
+/// An error that keeps only its message: undecided if the message names a limit, else
+/// `otherwise` (usually bad input).
+pub fn limit_or(message: &str, otherwise: impl FnOnce() -> Failure) -> Failure {
+    match limit_in(message) {
+        Some(l) => gave_up(&l),
+        None => otherwise(),
+    }
+}
+
+/// The first limit among the reasons of undecided verdicts: a report whose verdicts a limit
+/// stopped ends with the same line, and exit 3, as a command stopped by it.
+pub fn limit_among<'a>(reasons: impl IntoIterator<Item = &'a str>) -> Option<String> {
+    reasons
+        .into_iter()
+        .find_map(|r| limit_reason(&limit_in(r)?))
 }
 
 /// The limit named in a message that wraps a `CanonError` as text (some library errors keep
@@ -93,6 +120,17 @@ pub fn file_failure(e: FileError) -> Failure {
 impl From<FileError> for Failure {
     fn from(e: FileError) -> Self {
         file_failure(e)
+    }
+}
+
+impl Outcome {
+    /// The outcome of a claim's (or a report's) status.
+    pub fn of(s: lingrav::check::Status) -> Outcome {
+        match s {
+            lingrav::check::Status::Holds => Outcome::Holds,
+            lingrav::check::Status::Fails => Outcome::Fails,
+            lingrav::check::Status::Undecided => Outcome::Undecided,
+        }
     }
 }
 

@@ -171,6 +171,29 @@ pub struct Claims {
     pub pure_gauge: Option<bool>,
 }
 
+impl Claims {
+    /// The claims as written in a file's \[claims\] table, on one line (`none` when empty).
+    #[must_use]
+    pub fn summary(&self) -> String {
+        let mut parts = Vec::new();
+        if let Some(b) = self.field_equations {
+            parts.push(format!("field_equations = {b}"));
+        }
+        if !self.gauge.is_empty() {
+            let g: Vec<String> = self.gauge.iter().map(|g| format!("'{g}'")).collect();
+            parts.push(format!("gauge = [{}]", g.join(", ")));
+        }
+        if let Some(b) = self.pure_gauge {
+            parts.push(format!("pure_gauge = {b}"));
+        }
+        if parts.is_empty() {
+            "none".into()
+        } else {
+            parts.join(", ")
+        }
+    }
+}
+
 /// Settings for the numerical grid check, as written (the grid check supplies defaults).
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct GridSpec {
@@ -350,6 +373,68 @@ pub struct Problem {
     pub grid: Option<GridSpec>,
     /// Typical values (the parameter values) and function samples for the zero test.
     pub sampling: Sampling,
+}
+
+impl Problem {
+    /// `f` of a perturbation `h` derived from this problem (a projection, a gauge
+    /// transformation), built in this problem's store, which is lent to it and given back.
+    /// `h_text` are texts of its components in this problem's names and `defines` named
+    /// texts after this problem's own (the check audits its verdicts by evaluating them
+    /// independently; without texts it says "not audited"). The source is kept only with
+    /// `keep_source`.
+    pub fn with_derived<T>(
+        &mut self,
+        h: [[Form; 4]; 4],
+        (h_text, defines): ([[Option<String>; 4]; 4], Vec<(String, String)>),
+        claims: Claims,
+        keep_source: bool,
+        f: impl FnOnce(&mut Problem) -> T,
+    ) -> T {
+        let mut derived = Problem {
+            name: self.name.clone(),
+            path: self.path.clone(),
+            text: String::new(),
+            store: std::mem::take(&mut self.store),
+            names: self.names.clone(),
+            parameters: self.parameters.clone(),
+            functions: self.functions.clone(),
+            defines: self.defines.iter().cloned().chain(defines).collect(),
+            h,
+            h_text,
+            source: if keep_source { self.source } else { None },
+            source_text: if keep_source {
+                self.source_text.clone()
+            } else {
+                None
+            },
+            claims: Some(claims),
+            grid: None,
+            sampling: self.sampling.clone(),
+        };
+        let out = f(&mut derived);
+        self.store = derived.store;
+        out
+    }
+
+    /// Names `stem_t`, `stem_x`, `stem_y`, `stem_z` (with more `_` at the end if needed)
+    /// that no parameter, function or define of this problem has.
+    #[must_use]
+    pub fn fresh_names(&self, stem: &str) -> [String; 4] {
+        let taken = |n: &str| {
+            self.parameters.iter().any(|(m, _)| m == n)
+                || self.functions.iter().any(|(m, _)| m == n)
+                || self.defines.iter().any(|(m, _)| m == n)
+        };
+        let mut suffix = String::new();
+        loop {
+            let names: [String; 4] =
+                std::array::from_fn(|i| format!("{stem}_{}{suffix}", COORDINATES[i]));
+            if !names.iter().any(|n| taken(n)) {
+                return names;
+            }
+            suffix.push('_');
+        }
+    }
 }
 
 impl fmt::Debug for Problem {

@@ -24,6 +24,7 @@
 //! **Invariants:** a [`Direction`] holds a vector proved to have unit length and a basis
 //! proved orthonormal with it (or built to be, by construction); nothing here prints.
 
+pub mod audit;
 pub mod input;
 pub mod ring;
 

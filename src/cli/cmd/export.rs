@@ -1,48 +1,25 @@
-//! The reference-value commands: `export` (numbers at points, with a JSON sidecar) and
-//! `emit` (source code computing the same quantities).
+//! `lingrav export`: certified reference values at the user's points, written atomically
+//! with a JSON sidecar.
 //!
-//! Both build their plan first: the problem file, the quantity list, the direction, the
-//! parameter values, the points and the output files (opened as temporary files beside
-//! their targets), so every input error, an existing output or an unwritable directory is
-//! reported before any algebra. Output appears whole, by rename, or not at all.
+//! The plan comes first: the problem file, the quantity list, the direction, the parameter
+//! values, the points and the output files (opened as temporary files beside their targets),
+//! so every input error, an existing output or an unwritable directory is reported before any
+//! algebra. Output appears whole, by rename, or not at all.
 
-use super::limits::LimitArgs;
-use super::out::{Failure, Outcome, file_failure, gave_up, limit_in, print};
+use crate::cli::limits::LimitArgs;
+use crate::cli::out::{Failure, Outcome, file_failure, gave_up, limit_or, print};
+use crate::cli::plan::arg_failure;
+use crate::cli::quantities::{
+    QuantityArgs, direction_json, frame_texts, plan_quantities, quantity_failure,
+};
 use clap::{Args, ValueEnum};
-use lingrav::emit::user::Texts;
-use lingrav::emit::{Lang, Source, emit};
 use lingrav::export::points::{Grid, PointSet, read_points};
-use lingrav::export::quantity::{Quantity, QuantityError, blocks, direction_help, parse_list};
+use lingrav::export::quantity::blocks;
 use lingrav::export::write::{AtomicFile, FileError, Format, commit_with_sidecar, write_table};
 use lingrav::export::{ExportError, Numeric, Settings, SidecarInfo, evaluate, sidecar};
 use lingrav::problem::{Problem, ProblemError};
-use lingrav::tape::UserExprs;
-use lingrav::tt::{Arg, ArgError, Direction, parse_direction, set_basis};
+use lingrav::tt::Arg;
 use std::path::{Path, PathBuf};
-
-/// Which quantities, and the direction some of them need.
-#[derive(Args, Debug)]
-pub struct QuantityArgs {
-    /// Quantities, comma-separated (the option may be repeated): h, hbar, dh, riemann, ricci,
-    /// einstein, adm, constraints, psi4, hplus, hcross.
-    #[arg(long, short = 'q', value_name = "LIST", required = true)]
-    quantity: Vec<String>,
-    /// Propagation direction for psi4, hplus, hcross: a unit vector `nx,ny,nz`, polar angles
-    /// `theta=..,phi=..`, or `radial` (outgoing from the origin).
-    #[arg(long, value_name = "D", allow_hyphen_values = true)]
-    direction: Option<String>,
-    /// First polarization vector u (perpendicular to the direction); v = n x u.
-    #[arg(
-        long,
-        value_name = "AX,AY,AZ",
-        allow_hyphen_values = true,
-        requires = "direction"
-    )]
-    basis: Option<String>,
-    /// Divide the direction (and basis) by its length instead of refusing a non-unit vector.
-    #[arg(long, requires = "direction")]
-    normalize: bool,
-}
 
 /// Data formats of `export`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
@@ -110,155 +87,6 @@ pub struct ExportArgs {
     force: bool,
     #[command(flatten)]
     limits: LimitArgs,
-}
-
-/// Languages of `emit`.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
-pub enum LangArg {
-    /// C99 (math.h).
-    C,
-    /// Python 3 with NumPy (broadcasts over arrays).
-    Python,
-    /// Fortran 2008 (a module of subroutines).
-    Fortran,
-    /// Rust (functions over f64).
-    Rust,
-    /// LaTeX aligned equations.
-    Latex,
-}
-
-impl LangArg {
-    fn lang(self) -> Lang {
-        match self {
-            LangArg::C => Lang::C,
-            LangArg::Python => Lang::Python,
-            LangArg::Fortran => Lang::Fortran,
-            LangArg::Rust => Lang::Rust,
-            LangArg::Latex => Lang::Latex,
-        }
-    }
-}
-
-/// Arguments of `lingrav emit`.
-#[derive(Args, Debug)]
-pub struct EmitArgs {
-    /// The problem file (TOML).
-    file: PathBuf,
-    #[command(flatten)]
-    quantities: QuantityArgs,
-    /// The language.
-    #[arg(long, value_enum)]
-    lang: LangArg,
-    /// Replace arbitrary functions by the file's samples instead of calling functions you
-    /// supply (F_d0(u) = F, F_d1(u) = F', ...).
-    #[arg(long)]
-    samples: bool,
-    /// Write to this file instead of standard output.
-    #[arg(long, value_name = "PATH")]
-    out: Option<PathBuf>,
-    /// Replace the output file if it exists.
-    #[arg(long)]
-    force: bool,
-    #[command(flatten)]
-    limits: LimitArgs,
-}
-
-/// A bad argument, unless what stopped it was an algebra limit (then undecided).
-fn arg_failure(e: ArgError) -> Failure {
-    match limit_in(&e.to_string()) {
-        Some(l) => gave_up(&l),
-        None => Failure::Input(miette::Report::new(e)),
-    }
-}
-
-fn quantity_failure(e: QuantityError) -> Failure {
-    match e {
-        QuantityError::MissingDirection(_) => {
-            Failure::Input(miette::miette!(help = direction_help(), "{e}"))
-        }
-        QuantityError::Algebra(l) => gave_up(&l),
-    }
-}
-
-/// The quantity list and the direction, read against the problem's names.
-fn plan_quantities(
-    p: &mut Problem,
-    a: &QuantityArgs,
-) -> Result<(Vec<Quantity>, Option<Direction>), Failure> {
-    let mut qs = Vec::new();
-    for text in &a.quantity {
-        parse_list(Arg::new("--quantity", text), &mut qs).map_err(arg_failure)?;
-    }
-    let needs: Vec<&str> = qs
-        .iter()
-        .filter(|q| q.needs_direction())
-        .map(|q| q.name())
-        .collect();
-    let dir = match &a.direction {
-        Some(d) => {
-            let names = p.names.clone();
-            let sampling = p.sampling.clone();
-            let mut dir = parse_direction(
-                &mut p.store,
-                &names,
-                &sampling,
-                Arg::new("--direction", d),
-                a.normalize,
-            )
-            .map_err(arg_failure)?;
-            if let Some(b) = &a.basis {
-                set_basis(
-                    &mut p.store,
-                    &names,
-                    &sampling,
-                    &mut dir,
-                    Arg::new("--basis", b),
-                    a.normalize,
-                )
-                .map_err(arg_failure)?;
-            }
-            Some(dir)
-        }
-        None if !needs.is_empty() => {
-            return Err(Failure::Input(miette::miette!(
-                help = direction_help(),
-                "{} {} defined relative to a propagation direction: give --direction",
-                needs.join(", "),
-                if needs.len() == 1 { "is" } else { "are" }
-            )));
-        }
-        None => None,
-    };
-    Ok((qs, dir))
-}
-
-fn direction_json(p: &mut Problem, d: &Direction) -> serde_json::Value {
-    let mut v = |x: &[lingrav::canon::Form; 3]| -> Vec<String> {
-        x.iter().map(|f| p.store.to_text(*f)).collect()
-    };
-    let (n, u, w) = (v(&d.n), v(&d.u), v(&d.v));
-    serde_json::json!({
-        "n": n, "u": u, "v": w,
-        "n_note": d.n_note,
-        "basis_note": d.basis_note,
-    })
-}
-
-/// The texts of `n`, `u`, `v` for the independent evaluation route.
-fn frame_texts(p: &mut Problem, d: &Direction) -> [[String; 3]; 3] {
-    let mut v = |x: &[lingrav::canon::Form; 3]| -> [String; 3] {
-        std::array::from_fn(|i| p.store.to_text(x[i]))
-    };
-    [v(&d.n), v(&d.u), v(&d.v)]
-}
-
-fn direction_text(p: &mut Problem, d: &Direction) -> String {
-    let mut v = |x: &[lingrav::canon::Form; 3]| -> String {
-        let parts: Vec<String> = x.iter().map(|f| p.store.to_text(*f)).collect();
-        format!("({})", parts.join(", "))
-    };
-    let (n, u, w) = (v(&d.n), v(&d.u), v(&d.v));
-    format!("n = {n}, u = {u}, v = {w}; {}; {}", d.n_note, d.basis_note)
 }
 
 /// Parameter values in file order, and the names set on the command line.
@@ -368,10 +196,7 @@ fn export_failure(e: ExportError) -> Failure {
             "{e}"
         )),
         ExportError::Limit(l) => gave_up(&l),
-        ExportError::Setup(m) => match limit_in(&m) {
-            Some(l) => gave_up(&l),
-            None => Failure::Input(miette::miette!("{m}")),
-        },
+        ExportError::Setup(m) => limit_or(&m, || Failure::Input(miette::miette!("{m}"))),
         e @ ExportError::Uncertified { .. } => Failure::GaveUp(format!(
             "{e}. Nothing was written. Raise --tolerance, give --zero-tolerance for values \
              that are meant to vanish, or choose other points"
@@ -381,7 +206,7 @@ fn export_failure(e: ExportError) -> Failure {
 }
 
 /// `lingrav export`.
-pub fn run_export(a: ExportArgs) -> Result<Outcome, Failure> {
+pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
     // Plan: every input and output checked before any algebra.
     let mut p = a.limits.load(&a.file)?;
     let (qs, dir) = plan_quantities(&mut p, &a.quantities)?;
@@ -482,51 +307,5 @@ pub fn run_export(a: ExportArgs) -> Result<Outcome, Failure> {
         format.name(),
         meta_path.display()
     ))?;
-    Ok(Outcome::Holds)
-}
-
-/// `lingrav emit`.
-pub fn run_emit(a: EmitArgs) -> Result<Outcome, Failure> {
-    let mut p = a.limits.load(&a.file)?;
-    let (qs, dir) = plan_quantities(&mut p, &a.quantities)?;
-    let file = match &a.out {
-        Some(o) => Some(AtomicFile::create(o, a.force).map_err(file_failure)?),
-        None => None,
-    };
-    let b = blocks(&mut p.store, &p.h, p.source.as_ref(), &qs, dir.as_ref())
-        .map_err(quantity_failure)?;
-    let direction = dir.as_ref().map(|d| direction_text(&mut p, d));
-    let frame = dir.as_ref().map(|d| frame_texts(&mut p, d));
-    let path_label = a.file.display().to_string();
-    let src = Source {
-        file: &path_label,
-        name: p.name.as_deref(),
-        parameters: &p.parameters,
-        functions: &p.functions,
-        direction,
-        texts: Texts {
-            h: &p.h_text,
-            source: p.source_text.as_ref(),
-            user: UserExprs {
-                defines: p.defines.clone(),
-                functions: p.functions.clone(),
-            },
-            frame,
-        },
-    };
-    let text =
-        emit(&mut p.store, &src, &b, a.lang.lang(), a.samples).map_err(|e| {
-            match limit_in(&e.to_string()) {
-                Some(l) => gave_up(&l),
-                None => Failure::Input(miette::miette!("cannot generate code: {e}")),
-            }
-        })?;
-    match file {
-        Some(mut f) => {
-            f.write_all(text.as_bytes())?;
-            f.commit()?;
-        }
-        None => print(&text)?,
-    }
     Ok(Outcome::Holds)
 }

@@ -1,17 +1,17 @@
-//! The `grid` command: the numerical convergence test of a problem's claims.
+//! `lingrav grid`: the numerical convergence test of a problem's claims.
 
-use super::expr_cmds::Format;
-use super::limits::LimitArgs;
-use super::out::{Failure, Outcome, gave_up, limit_in, print};
+use crate::cli::limits::LimitArgs;
+use crate::cli::out::{Failure, Outcome, limit_or, print};
+use crate::cli::progress::ProgressLine;
+use crate::cli::report::{Format, conventions, json};
 use clap::Args;
 use lingrav::grid::{
-    self, ClaimResult, Finding, GridError, GridPlan, GridReport, GridSettings, GridStatus, Progress,
+    self, ClaimResult, Finding, GridError, GridPlan, GridReport, GridSettings, GridStatus,
 };
 use lingrav::output::AtomicFile;
 use std::fmt::Write as _;
-use std::io::{IsTerminal, Write as _};
 use std::path::PathBuf;
-use std::time::{Duration, Instant};
+use std::time::Instant;
 
 /// Arguments of `lingrav grid`.
 #[derive(Args, Debug)]
@@ -109,62 +109,6 @@ fn settings(
     Ok((s, defaults))
 }
 
-/// A one-line progress display on standard error, only when it is a terminal, and only once
-/// a run has taken a moment.
-struct ProgressLine {
-    enabled: bool,
-    start: Instant,
-    last: Option<Instant>,
-}
-
-impl ProgressLine {
-    fn new() -> ProgressLine {
-        ProgressLine {
-            enabled: std::io::stderr().is_terminal(),
-            start: Instant::now(),
-            last: None,
-        }
-    }
-
-    fn update(&mut self, p: Progress) {
-        if !self.enabled || self.start.elapsed() < Duration::from_millis(400) {
-            return;
-        }
-        let now = Instant::now();
-        if self
-            .last
-            .is_some_and(|l| now - l < Duration::from_millis(100))
-        {
-            return;
-        }
-        self.last = Some(now);
-        let frac = p.work.0 as f64 / p.work.1.max(1) as f64;
-        let width = 24;
-        let filled = ((frac * width as f64).round() as usize).min(width);
-        let bar: String = "#".repeat(filled) + &".".repeat(width - filled);
-        let mut e = std::io::stderr().lock();
-        let _ = write!(
-            e,
-            "\r  grid {}/{}: {}^4 points, slab {:>3}/{:<3} [{bar}] {:>3.0}%",
-            p.level + 1,
-            p.levels,
-            p.points,
-            p.slab,
-            p.slabs,
-            frac * 100.0
-        );
-        let _ = e.flush();
-    }
-
-    fn finish(&mut self) {
-        if self.last.is_some() {
-            let mut e = std::io::stderr().lock();
-            let _ = write!(e, "\r{:78}\r", "");
-            let _ = e.flush();
-        }
-    }
-}
-
 fn size(bytes: u64) -> String {
     let b = bytes as f64;
     if b >= (1u64 << 30) as f64 {
@@ -207,7 +151,7 @@ fn check_estimate(plan: &GridPlan, settings: &GridSettings, a: &GridArgs) -> Res
 }
 
 /// `lingrav grid`.
-pub fn run_grid(a: GridArgs) -> Result<Outcome, Failure> {
+pub fn run(a: GridArgs) -> Result<Outcome, Failure> {
     // Plan: read and build the file, resolve the grid, compile, check the plot's folder.
     let mut problem = a.limits.load(&a.file)?;
     let (settings, defaults) = settings(&a, problem.grid.as_ref())?;
@@ -219,14 +163,13 @@ pub fn run_grid(a: GridArgs) -> Result<Outcome, Failure> {
         None => None,
     };
     let plan = GridPlan::for_problem(&mut problem).map_err(|e| {
-        if let Some(l) = limit_in(&e.to_string()) {
-            return gave_up(&l);
-        }
-        input_error(
-            e.to_string(),
-            "every symbol needs a value: coordinates t, x, y, z, parameters from [parameters], \
-             functions with a sample in [functions]",
-        )
+        limit_or(&e.to_string(), || {
+            input_error(
+                e.to_string(),
+                "every symbol needs a value: coordinates t, x, y, z, parameters from [parameters], \
+                 functions with a sample in [functions]",
+            )
+        })
     })?;
 
     check_estimate(&plan, &settings, &a)?;
@@ -240,7 +183,7 @@ pub fn run_grid(a: GridArgs) -> Result<Outcome, Failure> {
         if let Some((t, ms)) = deadline {
             if Instant::now() > t {
                 line.finish();
-                super::limits::stop_now(&format!(
+                crate::cli::limits::stop_now(&format!(
                     "undecided: too slow: stopped sampling after the time limit of {ms} ms \
                      (--time-limit raises it)"
                 ));
@@ -505,7 +448,7 @@ fn render_json(label: &str, name: Option<&str>, r: &GridReport, defaults: &[&str
         "has_claims": r.has_claims,
         "result": r.overall().label(),
         "claims": claims,
-        "conventions": { "signature": "-+++", "coordinates": "t,x,y,z", "units": "G = c = 1", "indices": "h and T down" },
+        "conventions": conventions(),
     });
-    format!("{}\n", serde_json::to_string_pretty(&j).expect("json"))
+    json(&j)
 }

@@ -1,0 +1,108 @@
+//! `lingrav check`: every claim of a problem file decided exactly, as text or JSON.
+
+use crate::cli::limits::LimitArgs;
+use crate::cli::out::{Failure, Outcome, print};
+use crate::cli::report::{
+    Format, claim_json, claim_lines, conventions, heading, json, limit_in_report,
+};
+use clap::Args;
+use lingrav::check::{CheckReport, ClaimReport, Status, check};
+use std::fmt::Write as _;
+use std::path::PathBuf;
+
+/// Arguments of `lingrav check`.
+#[derive(Args, Debug)]
+pub struct CheckArgs {
+    /// The problem file (TOML).
+    file: PathBuf,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    format: Format,
+    #[command(flatten)]
+    limits: LimitArgs,
+}
+
+/// `lingrav check`.
+pub fn run(a: CheckArgs) -> Result<Outcome, Failure> {
+    let mut problem = a.limits.load(&a.file)?;
+    let report = check(&mut problem);
+    let label = a.file.display().to_string();
+    let text = match a.format {
+        Format::Text => render_text(&label, problem.name.as_deref(), &report),
+        Format::Json => render_json(&label, problem.name.as_deref(), &report),
+    };
+    print(&text)?;
+    Ok(Outcome::of(report.overall()))
+}
+
+fn status_word(c: &ClaimReport, has_claims: bool) -> &'static str {
+    match (has_claims, c.asserted, c.status) {
+        (true, Some(_), s) => s.label(),
+        (_, _, Status::Holds) => "yes",
+        (_, _, Status::Fails) => "no",
+        (_, _, Status::Undecided) => "undecided",
+    }
+}
+
+/// Components listed per claim in text output.
+const LISTED: usize = 10;
+
+fn render_text(label: &str, name: Option<&str>, r: &CheckReport) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "{}", heading(label, name));
+    if !r.has_claims {
+        let _ = writeln!(s, "(no [claims] table: reporting which properties hold)");
+    }
+    for c in &r.claims {
+        let informational = r.has_claims && c.asserted.is_none();
+        let word = if informational {
+            format!("({})", c.status.label())
+        } else {
+            status_word(c, r.has_claims).to_string()
+        };
+        claim_lines(&mut s, c, &word, LISTED, false);
+    }
+    let overall = r.overall();
+    let summary = if r.has_claims {
+        let asserted: Vec<_> = r.claims.iter().filter(|c| c.asserted.is_some()).collect();
+        let count = |st: Status| asserted.iter().filter(|c| c.status == st).count();
+        match overall {
+            Status::Holds => format!("every claim holds ({} checked, exact)", asserted.len()),
+            Status::Fails => format!("{} of {} claims fail", count(Status::Fails), asserted.len()),
+            Status::Undecided => format!(
+                "{} of {} claims undecided, none fails",
+                count(Status::Undecided),
+                asserted.len()
+            ),
+        }
+    } else {
+        match overall {
+            Status::Undecided => "some properties are undecided".to_string(),
+            _ => "every property decided".to_string(),
+        }
+    };
+    let _ = writeln!(s, "result: {summary}");
+    if overall == Status::Undecided {
+        if let Some(why) = limit_in_report(r) {
+            let _ = writeln!(s, "undecided: {why}");
+        }
+    }
+    s
+}
+
+fn render_json(label: &str, name: Option<&str>, r: &CheckReport) -> String {
+    let mut j = serde_json::json!({
+        "file": label,
+        "name": name,
+        "has_claims": r.has_claims,
+        "result": r.overall().label(),
+        "claims": r.claims.iter().map(claim_json).collect::<Vec<_>>(),
+        "conventions": conventions(),
+    });
+    if r.overall() == Status::Undecided {
+        if let Some(why) = limit_in_report(r) {
+            j["limit"] = why.into();
+        }
+    }
+    json(&j)
+}

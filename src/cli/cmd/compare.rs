@@ -1,0 +1,166 @@
+//! `lingrav compare`: are two perturbations the same physics in different gauges? The 20
+//! independent components of R[A] - R[B] decided exactly and audited from both files' texts.
+
+use crate::cli::audit::{point_lines, points_json};
+use crate::cli::limits::{LimitArgs, load_with, timeout_if_past};
+use crate::cli::out::{Failure, Outcome, gave_up, limit_or, print};
+use crate::cli::report::{Format, heading, json};
+use clap::Args;
+use lingrav::audit::expr::{Finding, summary};
+use lingrav::check::Status;
+use lingrav::gauge::audit::audit_comparison;
+use lingrav::gauge::compare::{Comparison, compare, import};
+use lingrav::zero::Verdict;
+use std::fmt::Write as _;
+use std::path::PathBuf;
+
+/// Differing components listed in text output.
+const LISTED: usize = 10;
+
+/// Arguments of `lingrav compare`.
+#[derive(Args, Debug)]
+pub struct CompareArgs {
+    /// The first problem file.
+    first: PathBuf,
+    /// The second problem file.
+    second: PathBuf,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    format: Format,
+    /// Also print the points of the independent audit.
+    #[arg(long)]
+    audit_points: bool,
+    #[command(flatten)]
+    limits: LimitArgs,
+}
+
+/// `lingrav compare`.
+pub fn run(a: CompareArgs) -> Result<Outcome, Failure> {
+    let limits = a.limits.start();
+    let mut pa = load_with(&a.first, limits)?;
+    let mut pb = load_with(&a.second, limits)?;
+    let imported = {
+        let sampling = pa.sampling.clone();
+        import(&mut pa.store, &sampling, &pa.parameters, &pa.functions, &pb).map_err(|why| {
+            limit_or(&why, || match timeout_if_past(&pa.store.limits) {
+                Some(l) => gave_up(&l),
+                None => Failure::Input(miette::miette!(
+                    "cannot read `{}` into the comparison: {why}",
+                    a.second.display()
+                )),
+            })
+        })?
+    };
+    let ha = pa.h;
+    let mut cmp: Comparison = compare(&mut pa.store, &ha, &imported.h, &imported.sampling)?;
+    let seed = imported.sampling.seed;
+    let findings = audit_comparison(&mut cmp, &pa, &mut pb, seed);
+    let finding_refs: Vec<&Finding> = findings.iter().collect();
+    let audit_line = summary(&finding_refs, seed);
+    let la = a.first.display().to_string();
+    let lb = a.second.display().to_string();
+    let differing: Vec<_> = cmp
+        .components
+        .iter()
+        .filter(|c| !matches!(c.verdict, Verdict::Zero))
+        .collect();
+    let n = cmp.components.len();
+    let text = match a.format {
+        Format::Text => {
+            let mut s = String::new();
+            let _ = writeln!(s, "A  {}", heading(&la, pa.name.as_deref()));
+            let _ = writeln!(s, "B  {}", heading(&lb, pb.name.as_deref()));
+            for note in &imported.notes {
+                let _ = writeln!(s, "note: {note}");
+            }
+            match cmp.status {
+                Status::Holds => {
+                    let _ = writeln!(
+                        s,
+                        "same physics: all {n} independent components of the linearized Riemann \
+                         tensor agree (exact), so A and B differ by a gauge transformation"
+                    );
+                }
+                Status::Fails | Status::Undecided => {
+                    let nonzero = differing
+                        .iter()
+                        .filter(|c| matches!(c.verdict, Verdict::Nonzero(_)))
+                        .count();
+                    if cmp.status == Status::Fails {
+                        let _ = writeln!(
+                            s,
+                            "different physics: {nonzero} of {n} Riemann components differ \
+                             (certified), {} proved equal",
+                            n - differing.len()
+                        );
+                    } else {
+                        let _ = writeln!(
+                            s,
+                            "undecided: {} of {n} Riemann components could not be decided, none \
+                             certified different",
+                            differing.len()
+                        );
+                    }
+                    for c in differing.iter().take(LISTED) {
+                        let _ = writeln!(
+                            s,
+                            "  {}[A] - {}[B] = {}",
+                            c.name,
+                            c.name,
+                            c.residual.as_deref().unwrap_or("0")
+                        );
+                        match &c.verdict {
+                            Verdict::Nonzero(w) => {
+                                let _ = writeln!(s, "      nonzero {w}");
+                            }
+                            Verdict::Undecided(why) => {
+                                let _ = writeln!(s, "      undecided: {why}");
+                            }
+                            Verdict::Zero => {}
+                        }
+                    }
+                    if differing.len() > LISTED {
+                        let _ = writeln!(
+                            s,
+                            "  ... and {} more (see --format json)",
+                            differing.len() - LISTED
+                        );
+                    }
+                }
+            }
+            let _ = writeln!(s, "{audit_line}");
+            if a.audit_points {
+                s.push_str(&point_lines(&finding_refs));
+            }
+            s
+        }
+        Format::Json => {
+            let j = serde_json::json!({
+                "first": la,
+                "second": lb,
+                "result": match cmp.status { Status::Holds => "same", Status::Fails => "different", Status::Undecided => "undecided" },
+                "method": "exact zero test of R[A] - R[B] for the 20 independent linearized Riemann components",
+                "notes": imported.notes,
+                "audit": {
+                    "method": audit_line,
+                    "seed": seed,
+                    "components": cmp.components.iter().zip(&findings).map(|(c, f)| (c.name.clone(), serde_json::json!(f.label()))).collect::<serde_json::Map<_, _>>(),
+                    "points": points_json(&finding_refs),
+                },
+                "differing": differing.iter().map(|c| serde_json::json!({
+                    "component": c.name,
+                    "verdict": c.verdict.label(),
+                    "residual": c.residual,
+                    "detail": match &c.verdict {
+                        Verdict::Nonzero(w) => w.to_string(),
+                        Verdict::Undecided(why) => why.clone(),
+                        Verdict::Zero => String::new(),
+                    },
+                })).collect::<Vec<_>>(),
+            });
+            json(&j)
+        }
+    };
+    print(&text)?;
+    Ok(Outcome::of(cmp.status))
+}

@@ -1,0 +1,15 @@
+//! One file per command: its clap arguments and its `run` (plan, call the library, report,
+//! outcome). What commands share is in the modules beside this one.
+
+pub mod check;
+pub mod compare;
+pub mod diff;
+pub mod emit;
+pub mod export;
+pub mod gauge;
+pub mod grid;
+pub mod project;
+pub mod ring;
+pub mod show;
+pub mod simplify;
+pub mod zero;

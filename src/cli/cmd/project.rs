@@ -1,0 +1,288 @@
+//! `lingrav project`: the TT part of a perturbation along a direction, its plus and cross
+//! polarizations and how much of h is not TT; optionally the TT part as a new problem file
+//! with the claims proved for it. Every exact statement is audited
+//! ([`lingrav::tt::audit`]).
+
+use crate::cli::audit::{audit_json, point_lines, points_json};
+use crate::cli::limits::LimitArgs;
+use crate::cli::out::{Failure, Outcome, print};
+use crate::cli::plan::{DirectionArgs, kind_word, plan_optional_output, write_atomic};
+use crate::cli::report::{
+    Format, components_json, conventions, heading, json, list_components, texts, vec_text,
+    verification_json, verification_lines,
+};
+use clap::Args;
+use lingrav::canon::{Form, Store};
+use lingrav::check::{CheckReport, Status, check};
+use lingrav::gauge::file_texts;
+use lingrav::problem::{Claims, Gauge, render_problem};
+use lingrav::tt::audit::audit_projection;
+use lingrav::tt::{FRACTION_DEFINITION, Share, not_tt_fraction, project_perturbation};
+use std::fmt::Write as _;
+use std::path::PathBuf;
+
+/// Arguments of `lingrav project`.
+#[derive(Args, Debug)]
+pub struct ProjectArgs {
+    /// The problem file (TOML).
+    file: PathBuf,
+    #[command(flatten)]
+    dir: DirectionArgs,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    format: Format,
+    /// Also write the TT part as a new problem file, with the claims proved for it.
+    #[arg(long, value_name = "FILE.toml")]
+    output: Option<PathBuf>,
+    /// Replace the output file if it exists.
+    #[arg(long)]
+    force: bool,
+    /// Also print the points of the independent audit.
+    #[arg(long)]
+    audit_points: bool,
+    #[command(flatten)]
+    limits: LimitArgs,
+}
+
+fn share_text(x: &Share) -> String {
+    match x {
+        Share::Exact(0) => "0 (exact)".into(),
+        Share::Exact(_) => "1 (exact)".into(),
+        Share::Numerical(v) => format!("{v:.4}"),
+        Share::Unavailable(why) => format!("not available ({why})"),
+    }
+}
+
+fn share_json(x: &Share) -> serde_json::Value {
+    match x {
+        Share::Exact(v) => serde_json::json!({ "value": v, "exact": true }),
+        Share::Numerical(v) => serde_json::json!({ "value": v, "exact": false }),
+        Share::Unavailable(why) => serde_json::json!({ "value": null, "reason": why }),
+    }
+}
+
+/// `lingrav project`.
+pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
+    let mut p = a.limits.load(&a.file)?;
+    let dir = a.dir.plan(&mut p)?;
+    let target = plan_optional_output(a.output.as_deref(), a.force, "--output")?;
+
+    let h = p.h;
+    let proj = project_perturbation(&mut p.store, &h, &dir)?;
+    let mut frac = {
+        let sampling = p.sampling.clone();
+        not_tt_fraction(&mut p.store, &h, &proj.tt, &p.parameters, &sampling)
+    };
+    let tt4 = lingrav::tt::as_perturbation(&p.store, &proj.tt);
+    let seed = p.sampling.seed;
+    let audit = audit_projection(
+        &mut p,
+        &a.dir.direction,
+        &dir,
+        &tt4,
+        (proj.plus, proj.cross),
+        &mut frac,
+        seed,
+    );
+    let label = a.file.display().to_string();
+    let st = &mut p.store;
+    let n_text = vec_text(st, &dir.n);
+    let u_text = vec_text(st, &dir.u);
+    let v_text = vec_text(st, &dir.v);
+    let plus = st.to_text(proj.plus);
+    let cross = st.to_text(proj.cross);
+
+    // The output file: the TT part, with the claims proved for it.
+    let mut written: Option<(String, Claims, CheckReport)> = None;
+    let mut verification_defect = false;
+    let mut outcome = Outcome::Holds;
+    let mut write_problem: Option<String> = None;
+    if let Some(t) = &target {
+        let names = p.names.clone();
+        let texts = file_texts(&mut p.store, &names, &tt4, |_, _| None);
+        let texts = match texts {
+            Ok(t) => t,
+            Err(why) => {
+                print(&format!("{why}; nothing was written\n"))?;
+                return Ok(Outcome::Undecided);
+            }
+        };
+        let wanted = Claims {
+            field_equations: Some(true),
+            gauge: vec![Gauge::Tt],
+            pure_gauge: None,
+        };
+        let report = p.with_derived(tt4, (texts.clone(), Vec::new()), wanted, false, check);
+        verification_defect = report.has_defect();
+        let fe = report.status_of("field_equations");
+        let tt = report.status_of("gauge.tt");
+        let claims = Claims {
+            field_equations: report.proved("field_equations"),
+            gauge: if tt == Some(Status::Holds) {
+                vec![Gauge::Tt]
+            } else {
+                Vec::new()
+            },
+            pure_gauge: None,
+        };
+        outcome = match (fe, tt) {
+            (Some(Status::Holds), Some(Status::Holds)) => Outcome::Holds,
+            (Some(Status::Fails), _) | (_, Some(Status::Fails)) => Outcome::Fails,
+            _ => Outcome::Undecided,
+        };
+        let name = format!(
+            "TT part of {} along n = {n_text}",
+            p.name.clone().unwrap_or_else(|| label.clone())
+        );
+        // The simplified texts use no defines, so none are copied.
+        let body = render_problem(
+            Some(&name),
+            &p.parameters,
+            &p.functions,
+            &[],
+            &texts,
+            None,
+            Some(&claims),
+        );
+        let header = format!(
+            "# The TT part h^TT_ij = Lambda_ij,kl h_kl of {label} along n = {n_text}\n\
+             # (written by lingrav project; the claims below were proved for it).\n"
+        );
+        write_problem = Some(format!("{header}{body}"));
+        written = Some((t.path.display().to_string(), claims, report));
+    }
+    if let (Some(t), Some(text)) = (&target, &write_problem) {
+        write_atomic(t, text)?;
+    }
+
+    let st = &mut p.store;
+    let text = match a.format {
+        Format::Text => {
+            let mut s = String::new();
+            let _ = writeln!(s, "{}", heading(&label, p.name.as_deref()));
+            let _ = writeln!(
+                s,
+                "direction  n = {n_text}  [{}; {}]",
+                kind_word(dir.kind),
+                dir.n_note
+            );
+            if let Some(f) = &audit.unit {
+                let _ = writeln!(s, "           unit length: {}", f.method(seed));
+            }
+            let _ = writeln!(s, "basis      u = {u_text}, v = {v_text}");
+            let _ = writeln!(s, "           {}", dir.basis_note);
+            let _ = writeln!(
+                s,
+                "TT part h^TT_ij = Lambda_ij,kl h_kl, Lambda = P_ik P_jl - P_ij P_kl/2, P = 1 - n n (exact):"
+            );
+            list_components(&mut s, st, &tt4, "h^TT", true);
+            let _ = writeln!(
+                s,
+                "  (as printed, against an independent projection of the texts: {})",
+                audit.printed_text(seed)
+            );
+            let _ = writeln!(
+                s,
+                "polarizations, h^TT = h_plus (u u - v v) + h_cross (u v + v u):"
+            );
+            let _ = writeln!(s, "  h_plus  = {plus}");
+            let _ = writeln!(s, "  h_cross = {cross}");
+            let _ = writeln!(
+                s,
+                "  (as printed, against the printed TT part and an orthonormal basis u, v \
+                 transverse to n: {})",
+                audit.polarizations_text(seed)
+            );
+            if frac.all == Share::Exact(0) {
+                let _ = writeln!(s, "not TT     0, exactly: h is already TT along n");
+            } else if frac.all == Share::Exact(1) && frac.spatial == Share::Exact(1) {
+                let _ = writeln!(s, "not TT     1, exactly: no part of h is TT along n");
+            } else {
+                let _ = writeln!(
+                    s,
+                    "not TT     {} of the whole perturbation, {} of its spatial part",
+                    share_text(&frac.all),
+                    share_text(&frac.spatial)
+                );
+            }
+            if !audit.shares.is_empty() {
+                let _ = writeln!(s, "           {}", audit.shares_text(seed));
+            }
+            if matches!(frac.all, Share::Numerical(_))
+                || matches!(frac.spatial, Share::Numerical(_))
+            {
+                let _ = writeln!(
+                    s,
+                    "           numerical evidence: {FRACTION_DEFINITION}; {} points, seed {:#x}",
+                    frac.points, frac.seed
+                );
+            }
+            if let Some((path, claims, report)) = &written {
+                let _ = writeln!(s, "the TT part as a perturbation on its own:");
+                verification_lines(&mut s, report);
+                let _ = writeln!(s, "wrote {path} with claims: {}", claims.summary());
+                if outcome != Outcome::Holds {
+                    let _ = writeln!(
+                        s,
+                        "  (claims not proved were left out: the TT part along n is a vacuum \
+                         TT wave only when h is a plane wave travelling along n)"
+                    );
+                }
+            }
+            if audit.defect() || verification_defect {
+                let _ = writeln!(
+                    s,
+                    "INTERNAL DEFECT: the exact route and the independent evaluation disagree \
+                     (see above); no statement they disagree on is reported as proved"
+                );
+            }
+            if a.audit_points {
+                s.push_str(&point_lines(&audit.all()));
+            }
+            s
+        }
+        Format::Json => {
+            let tt = components_json(st, &tt4, true);
+            let strs = |st: &mut Store, v: &[Form; 3]| texts(st, v);
+            let mut j = serde_json::json!({
+                "file": label,
+                "name": p.name,
+                "direction": { "kind": kind_word(dir.kind), "n": strs(st, &dir.n), "note": dir.n_note },
+                "basis": { "u": strs(st, &dir.u), "v": strs(st, &dir.v), "construction": dir.basis_note },
+                "tt": tt,
+                "h_plus": plus,
+                "h_cross": cross,
+                "not_tt": {
+                    "all": share_json(&frac.all),
+                    "spatial": share_json(&frac.spatial),
+                    "definition": FRACTION_DEFINITION,
+                    "points": frac.points,
+                    "seed": frac.seed,
+                },
+                "conventions": conventions(),
+                "audit": {
+                    "unit_length": audit.unit.as_ref().map(|f| audit_json(f, seed)),
+                    "tt_part": audit.printed_text(seed),
+                    "polarizations_and_basis": audit.polarizations_text(seed),
+                    "not_tt": if audit.shares.is_empty() { None } else { Some(audit.shares_text(seed)) },
+                    "defect": audit.defect() || verification_defect,
+                    "seed": seed,
+                    "points": points_json(&audit.all()),
+                },
+            });
+            if let Some((path, claims, report)) = &written {
+                j["output"] = serde_json::json!({
+                    "path": path,
+                    "claims": claims.summary(),
+                    "verification": verification_json(report),
+                });
+            }
+            json(&j)
+        }
+    };
+    print(&text)?;
+    if audit.defect() || verification_defect {
+        return Ok(Outcome::Fails);
+    }
+    Ok(outcome)
+}

@@ -1,0 +1,69 @@
+//! `lingrav simplify`: the canonical form of an expression in readable real form, audited
+//! against the input at seeded points.
+
+use super::zero::LimitArgs;
+use crate::cli::audit::{FormAuditArgs, audit_json, form_audit};
+use crate::cli::out::{Failure, Outcome, print};
+use crate::cli::plan::build_arg;
+use crate::cli::report::{Format, json};
+use clap::Args;
+use lingrav::canon::{Form, Store};
+
+/// Arguments of `lingrav simplify`.
+#[derive(Args, Debug)]
+pub struct SimplifyArgs {
+    /// The expression.
+    #[arg(allow_hyphen_values = true)]
+    expr: String,
+    /// Print LaTeX instead of plain text.
+    #[arg(long)]
+    latex: bool,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    format: Format,
+    #[command(flatten)]
+    audit: FormAuditArgs,
+    #[command(flatten)]
+    limits: LimitArgs,
+}
+
+/// What `simplify` and `diff` print: the form (LaTeX if asked) and the audit of its plain
+/// text against the input (its jet derivative by `by`), as text or JSON.
+pub fn print_form(
+    st: &mut Store,
+    f: Form,
+    input: &str,
+    by: &[&str],
+    (latex, format, audit): (bool, Format, &FormAuditArgs),
+) -> Result<Outcome, Failure> {
+    let plain = st.to_text(f);
+    let shown = if latex { st.to_latex(f) } else { plain.clone() };
+    let (note, outcome, finding) = form_audit(audit, input, &plain, by, latex);
+    let text = match format {
+        Format::Text => format!("{shown}\n{note}"),
+        Format::Json => {
+            let mut j = serde_json::json!({
+                "input": input,
+                "result": plain,
+                "audit": audit_json(&finding, audit.seed),
+                "defect": outcome == Outcome::Fails,
+            });
+            if !by.is_empty() {
+                j["by"] = serde_json::json!(by);
+            }
+            if latex {
+                j["latex"] = shown.into();
+            }
+            json(&j)
+        }
+    };
+    print(&text)?;
+    Ok(outcome)
+}
+
+/// `lingrav simplify`.
+pub fn run(a: SimplifyArgs) -> Result<Outcome, Failure> {
+    let mut st = a.limits.store();
+    let f = build_arg(&mut st, &a.expr, "expression")?;
+    print_form(&mut st, f, &a.expr, &[], (a.latex, a.format, &a.audit))
+}

@@ -1,0 +1,170 @@
+//! The plan stage shared by the commands: arguments read against a problem's names (a
+//! direction and its basis, numbers, command-line expressions) and output files opened
+//! before any algebra, so that every input error is reported before work starts. (Loading a
+//! problem under the limits is [`super::limits::LimitArgs::load`].)
+
+use super::limits::timeout_if_past;
+use super::out::{Failure, gave_up, limit_or, with_source};
+use clap::Args;
+use lingrav::canon::{CanonError, Form, Names, Store};
+use lingrav::output::AtomicFile;
+use lingrav::problem::Problem;
+use lingrav::tt::{
+    Arg, ArgError, Direction, DirectionKind, numeric_point, parse_direction, set_basis,
+};
+use std::cell::RefCell;
+use std::path::{Path, PathBuf};
+
+/// A bad argument, unless what stopped it was an algebra limit (then undecided).
+pub fn arg_failure(e: ArgError) -> Failure {
+    limit_or(&e.to_string(), || Failure::Input(miette::Report::new(e)))
+}
+
+/// How the direction and its polarization basis are given (shared by `project` and `ring`).
+#[derive(Args, Debug)]
+pub struct DirectionArgs {
+    /// The direction n: a unit vector `nx,ny,nz` (exact numbers, pi, sqrt, the file's
+    /// parameters), an axis (`z`, `-x`, ...), polar angles `theta=..,phi=..`, or `radial`
+    /// (n = x/r).
+    #[arg(long, value_name = "D", allow_hyphen_values = true)]
+    pub direction: String,
+    /// First polarization vector u, perpendicular to n (default: e_theta of n's polar
+    /// angles); v = n x u.
+    #[arg(long, value_name = "AX,AY,AZ", allow_hyphen_values = true)]
+    pub basis: Option<String>,
+    /// Divide the direction (and the basis vector) by its length instead of refusing a
+    /// vector that is not of unit length.
+    #[arg(long)]
+    pub normalize: bool,
+}
+
+/// Reads a direction (`--direction`) and, if given, its basis vector (`--basis`).
+pub fn plan_direction(
+    p: &mut Problem,
+    direction: &str,
+    basis: Option<&str>,
+    normalize: bool,
+) -> Result<Direction, Failure> {
+    let names = p.names.clone();
+    let sampling = p.sampling.clone();
+    let mut dir = parse_direction(
+        &mut p.store,
+        &names,
+        &sampling,
+        Arg::new("--direction", direction),
+        normalize,
+    )
+    .map_err(arg_failure)?;
+    if let Some(b) = basis {
+        set_basis(
+            &mut p.store,
+            &names,
+            &sampling,
+            &mut dir,
+            Arg::new("--basis", b),
+            normalize,
+        )
+        .map_err(arg_failure)?;
+    }
+    Ok(dir)
+}
+
+impl DirectionArgs {
+    /// The direction and basis these arguments give, read against `p`'s names.
+    pub fn plan(&self, p: &mut Problem) -> Result<Direction, Failure> {
+        plan_direction(p, &self.direction, self.basis.as_deref(), self.normalize)
+    }
+}
+
+/// How a direction was given, in a word.
+pub fn kind_word(k: DirectionKind) -> &'static str {
+    match k {
+        DirectionKind::Vector => "vector",
+        DirectionKind::Angles => "angles",
+        DirectionKind::Radial => "radial",
+    }
+}
+
+/// An output file, checked (and its temporary opened) before any work.
+pub struct Target {
+    pub path: PathBuf,
+    file: RefCell<Option<AtomicFile>>,
+}
+
+pub fn plan_output(path: &Path, force: bool, option: &str) -> Result<Target, Failure> {
+    let file = AtomicFile::create(path, force)
+        .map_err(|e| Failure::Input(miette::miette!(help = e.help(), "{option} {e}")))?;
+    Ok(Target {
+        path: path.to_path_buf(),
+        file: RefCell::new(Some(file)),
+    })
+}
+
+/// Writes `contents` to the target's temporary file and moves it into place.
+pub fn write_atomic(t: &Target, contents: &str) -> Result<(), Failure> {
+    let mut file = t.file.borrow_mut().take().expect("written once");
+    file.write_all(contents.as_bytes())?;
+    file.commit()?;
+    Ok(())
+}
+
+/// An output file for `option`, if given.
+pub fn plan_optional_output(
+    path: Option<&Path>,
+    force: bool,
+    option: &str,
+) -> Result<Option<Target>, Failure> {
+    path.map(|p| plan_output(p, force, option)).transpose()
+}
+
+/// Numbers from constant expressions, evaluated with the file's parameter values.
+pub fn numbers(
+    p: &mut Problem,
+    name: &str,
+    text: &str,
+    count: Option<usize>,
+    what: &str,
+) -> Result<Vec<f64>, Failure> {
+    let arg = Arg::new(name, text);
+    let pieces = match count {
+        Some(n) => arg.split_exact(n, what),
+        None => arg.split(),
+    }
+    .map_err(arg_failure)?;
+    let names = p.names.clone();
+    let mut out = Vec::new();
+    for piece in &pieces {
+        let f = arg
+            .build_constant(&mut p.store, &names, piece)
+            .map_err(arg_failure)?;
+        let pt = numeric_point(&mut p.store, &p.parameters, &p.sampling, [0.0; 4]);
+        match p.store.eval_f64(f, &pt) {
+            Some((re, im)) if re.is_finite() && im.abs() <= 1e-12 * (1.0 + re.abs()) => {
+                out.push(re)
+            }
+            _ => {
+                return Err(arg_failure(
+                    arg.error("not a finite real number", piece.span(), "this entry")
+                        .with_help(what.to_string()),
+                ));
+            }
+        }
+    }
+    Ok(out)
+}
+
+/// Parses and builds one command-line expression, with errors pointing into it. A size or
+/// time limit reached while building is not bad input: it ends the command as undecided.
+pub fn build_arg(store: &mut Store, text: &str, label: &str) -> Result<Form, Failure> {
+    let e = lingrav::parse::parse(text).map_err(|e| with_source(e, label, text))?;
+    store.build(&e, &Names::free()).map_err(|e| {
+        if e.limit {
+            gave_up(&e.cause.clone().unwrap_or_else(|| {
+                timeout_if_past(&store.limits)
+                    .unwrap_or(CanonError::TooLarge(store.limits.max_terms))
+            }))
+        } else {
+            Failure::Input(with_source(e, label, text))
+        }
+    })
+}
