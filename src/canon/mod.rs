@@ -709,6 +709,11 @@ impl Store {
         // tensor computation) skip it: cancellation is for readable and unique small forms,
         // the zero test does not need it.
         const CANCEL_MAX_TERMS: usize = 48;
+        // A quotient already in the store was interned as the result of this cancellation
+        // (or needs none: a constant over factors), so trying again would change nothing.
+        if let Some(&id) = self.rat_ids.get(&r) {
+            return id;
+        }
         if !r.den.is_empty() && !r.num.is_empty() && r.num.len() <= CANCEL_MAX_TERMS {
             let mut den = Vec::with_capacity(r.den.len());
             for (fid, mut e) in std::mem::take(&mut r.den) {

@@ -221,8 +221,9 @@ fn audit_proof(
         let Some(v) = values.get(id) else { continue };
         evaluated += 1;
         if v.excludes_zero() {
-            k.residual =
-                Some("0 by the exact route, contradicted by the independent evaluation".into());
+            k.residual = super::Residual::Note(
+                "0 by the exact route, contradicted by the independent evaluation".into(),
+            );
             k.verdict = Verdict::Nonzero(Witness {
                 point: point.clone(),
                 value: CInterval::from_real(*v),

@@ -66,10 +66,43 @@ pub struct Component {
     pub name: String,
     /// The zero-test verdict.
     pub verdict: Verdict,
-    /// The simplified expression, when it is not proved zero.
-    pub residual: Option<String>,
+    /// The simplified expression, when it is not proved zero (rendered only when a report
+    /// shows it: see [`Residual::text`]).
+    pub residual: Residual,
     /// What the independent evaluation found (see [`Audited`]).
     pub audit: Audited,
+}
+
+/// What a component's residual is, kept as a form so that its text is computed only for the
+/// components a report shows.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum Residual {
+    /// Proved zero: nothing to show.
+    Zero,
+    /// The canonical form of the component.
+    Form(Form),
+    /// A note that replaces the form (e.g. an exact zero the audit contradicted).
+    Note(String),
+}
+
+impl Residual {
+    /// The residual as text, cut after [`RESIDUAL_CHARS`] characters with the number of
+    /// terms; `None` when it is zero.
+    pub fn text(&self, store: &mut Store) -> Option<String> {
+        match self {
+            Residual::Zero => None,
+            Residual::Note(n) => Some(n.clone()),
+            Residual::Form(f) => {
+                let t = store.to_text(*f);
+                Some(if t.len() > RESIDUAL_CHARS {
+                    let cut: String = t.chars().take(RESIDUAL_CHARS).collect();
+                    format!("{cut}... ({} terms)", store.num_terms(*f))
+                } else {
+                    t
+                })
+            }
+        }
+    }
 }
 
 /// A claim (or, without \[claims\], a property) and what was found.
@@ -148,7 +181,7 @@ impl CheckReport {
 }
 
 /// Residuals longer than this are cut in reports.
-const RESIDUAL_CHARS: usize = 600;
+pub const RESIDUAL_CHARS: usize = 600;
 
 fn verdicts_for(
     store: &mut Store,
@@ -159,15 +192,11 @@ fn verdicts_for(
         .into_iter()
         .map(|(name, f)| {
             let verdict = decide(store, f, sampling);
-            let residual = (!store.is_zero(f)).then(|| {
-                let t = store.to_text(f);
-                if t.len() > RESIDUAL_CHARS {
-                    let cut: String = t.chars().take(RESIDUAL_CHARS).collect();
-                    format!("{cut}... ({} terms)", store.num_terms(f))
-                } else {
-                    t
-                }
-            });
+            let residual = if store.is_zero(f) {
+                Residual::Zero
+            } else {
+                Residual::Form(f)
+            };
             Component {
                 name,
                 verdict,

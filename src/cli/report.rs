@@ -101,13 +101,18 @@ const PAD: &str = "          ";
 
 /// What stands in the way of a claim: its components that are not proved zero (at most
 /// `limit`, then how many more), each with its residual and its verdict.
-pub fn blocking_components(s: &mut String, components: &[Component], limit: usize) {
+pub fn blocking_components(
+    s: &mut String,
+    store: &mut Store,
+    components: &[Component],
+    limit: usize,
+) {
     let shown: Vec<&Component> = components
         .iter()
         .filter(|k| !matches!(k.verdict, Verdict::Zero))
         .collect();
     for k in shown.iter().take(limit) {
-        let residual = k.residual.as_deref().unwrap_or("0");
+        let residual = k.residual.text(store).unwrap_or_else(|| "0".into());
         let _ = writeln!(s, "  {PAD}   {} = {residual}", k.name);
         match &k.verdict {
             Verdict::Nonzero(w) => {
@@ -127,20 +132,27 @@ pub fn blocking_components(s: &mut String, components: &[Component], limit: usiz
 
 /// One claim: its status word, title and method, and (unless it holds, or asserts that
 /// components do not vanish and `negated_too` is off) what stands in the way.
-pub fn claim_lines(s: &mut String, c: &ClaimReport, word: &str, limit: usize, negated_too: bool) {
+pub fn claim_lines(
+    s: &mut String,
+    store: &mut Store,
+    c: &ClaimReport,
+    word: &str,
+    limit: usize,
+    negated_too: bool,
+) {
     let title = lingrav::problem::titles::asserted(&c.title, c.asserted);
     let _ = writeln!(s, "  {word:<10} {title}");
     let _ = writeln!(s, "  {PAD} {}", c.method);
     if (negated_too || c.asserted != Some(false)) && c.status != Status::Holds {
-        blocking_components(s, &c.components, limit);
+        blocking_components(s, store, &c.components, limit);
     }
 }
 
 /// One line per asserted claim of a verification (of a derived perturbation), with what
 /// stands in the way of those that do not hold.
-pub fn verification_lines(s: &mut String, r: &CheckReport) {
+pub fn verification_lines(s: &mut String, store: &mut Store, r: &CheckReport) {
     for c in r.claims.iter().filter(|c| c.asserted.is_some()) {
-        claim_lines(s, c, c.status.label(), 6, true);
+        claim_lines(s, store, c, c.status.label(), 6, true);
     }
 }
 
@@ -183,7 +195,7 @@ pub fn point_json(point: &[(String, f64)]) -> serde_json::Value {
 }
 
 /// A claim with every component as JSON.
-pub fn claim_json(c: &ClaimReport) -> serde_json::Value {
+pub fn claim_json(store: &mut Store, c: &ClaimReport) -> serde_json::Value {
     serde_json::json!({
         "key": c.key,
         "title": c.title,
@@ -194,7 +206,7 @@ pub fn claim_json(c: &ClaimReport) -> serde_json::Value {
             let mut v = verdict_json(&k.verdict);
             v["name"] = k.name.clone().into();
             v["audit"] = k.audit.label().into();
-            if let Some(res) = &k.residual { v["residual"] = res.clone().into(); }
+            if let Some(res) = k.residual.text(store) { v["residual"] = res.into(); }
             v
         }).collect::<Vec<_>>(),
     })

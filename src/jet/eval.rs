@@ -310,10 +310,18 @@ struct Evaluation<'p, S: Scalar> {
     values: &'p FxHashMap<String, S>,
     ctx: &'p S::Ctx,
     defines: Vec<Option<Jet<S>>>,
-    /// Rational powers of a name (`x^3`, `r^(1/2)`), which recur across the terms of a
-    /// polynomial: the name's value is fixed at the point, so each is computed once per
-    /// exponent and order (the same computation, done once).
-    powers: FxHashMap<String, Vec<(BigRational, u32, Jet<S>)>>,
+    /// Rational powers and built-in functions of a name (`x^3`, `r^(1/2)`, `sin(phase)`),
+    /// which recur across the terms of a polynomial or the components of a wave: the name's
+    /// value is fixed at the point, so each is computed once per operation and order (the
+    /// same computation, done once).
+    applied: FxHashMap<String, Vec<(Applied, u32, Jet<S>)>>,
+}
+
+/// An operation applied to a name, as memoised by an evaluation.
+#[derive(Clone, Debug, PartialEq)]
+enum Applied {
+    Pow(BigRational),
+    Builtin(&'static str),
 }
 
 /// An exact rational if `e` is a constant built from numbers by `+ - * /` and integer
@@ -359,7 +367,7 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
             values,
             ctx,
             defines: Vec::with_capacity(p.defines.len()),
-            powers: FxHashMap::default(),
+            applied: FxHashMap::default(),
         };
         for (i, (_, e)) in p.defines.iter().enumerate() {
             let v = match p.define_order[i] {
@@ -424,35 +432,61 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
         .here()
     }
 
-    /// `name^r`, memoised per point (see `powers`).
+    /// `name^r`, memoised per point (see `applied`).
     fn name_power(&mut self, name: &str, r: BigRational, order: u32) -> Result<Jet<S>, Here> {
-        if let Some(done) = self.powers.get(name) {
-            if let Some((_, _, j)) = done.iter().find(|(q, o, _)| *o == order && *q == r) {
+        let ctx = self.ctx;
+        self.memoised(name, Applied::Pow(r.clone()), order, |x| {
+            x.pow_rational(&r, ctx)
+        })
+    }
+
+    /// `op` applied to the jet of `name` at `order`, computed once per point.
+    fn memoised(
+        &mut self,
+        name: &str,
+        op: Applied,
+        order: u32,
+        f: impl FnOnce(&Jet<S>) -> Option<Jet<S>>,
+    ) -> Result<Jet<S>, Here> {
+        if let Some(done) = self.applied.get(name) {
+            if let Some((_, _, j)) = done.iter().find(|(o, n, _)| *n == order && *o == op) {
                 return Ok(j.clone());
             }
         }
-        let j = self.ident(name, order)?.pow_rational(&r, self.ctx).here()?;
-        self.powers
+        let j = f(&self.ident(name, order)?).here()?;
+        self.applied
             .entry(name.to_string())
             .or_default()
-            .push((r, order, j.clone()));
+            .push((op, order, j.clone()));
         Ok(j)
     }
 
+    /// A built-in function of a jet.
+    fn builtin(name: &str, a: &Jet<S>, c: &S::Ctx) -> Option<Option<Jet<S>>> {
+        Some(match name {
+            "sin" => a.sin(c),
+            "cos" => a.cos(c),
+            "tan" => a.tan(c),
+            "exp" => a.exp(c),
+            "log" => a.ln(c),
+            "sqrt" => a.sqrt(c),
+            "sinh" => a.sinh(c),
+            "cosh" => a.cosh(c),
+            "tanh" => a.tanh(c),
+            _ => return None,
+        })
+    }
+
     fn call(&mut self, name: &str, primes: u32, arg: &Expr, order: u32) -> Result<Jet<S>, Here> {
-        let a = self.eval(arg, order)?;
         let c = self.ctx;
-        match name {
-            "sin" => return a.sin(c).here(),
-            "cos" => return a.cos(c).here(),
-            "tan" => return a.tan(c).here(),
-            "exp" => return a.exp(c).here(),
-            "log" => return a.ln(c).here(),
-            "sqrt" => return a.sqrt(c).here(),
-            "sinh" => return a.sinh(c).here(),
-            "cosh" => return a.cosh(c).here(),
-            "tanh" => return a.tanh(c).here(),
-            _ => {}
+        if let (Some(&f), ExprKind::Ident(x)) = (BUILTINS.iter().find(|b| **b == name), &arg.kind) {
+            return self.memoised(x, Applied::Builtin(f), order, |a| {
+                Self::builtin(f, a, c).flatten()
+            });
+        }
+        let a = self.eval(arg, order)?;
+        if let Some(v) = Self::builtin(name, &a, c) {
+            return v.here();
         }
         let sample = self.p.samples.get(name).here()?;
         let k_max = if a.is_constant() { 0 } else { a.order() };

@@ -6,6 +6,7 @@ use crate::cli::report::{
     Format, claim_json, claim_lines, conventions, heading, json, limit_in_report,
 };
 use clap::Args;
+use lingrav::canon::Store;
 use lingrav::check::{CheckReport, ClaimReport, Status, check};
 use std::fmt::Write as _;
 use std::path::PathBuf;
@@ -28,8 +29,8 @@ pub fn run(a: CheckArgs) -> Result<Outcome, Failure> {
     let report = check(&mut problem);
     let label = a.file.display().to_string();
     let text = match a.format {
-        Format::Text => render_text(&label, problem.name.as_deref(), &report),
-        Format::Json => render_json(&label, problem.name.as_deref(), &report),
+        Format::Text => render_text(&mut problem.store, &label, problem.name.as_deref(), &report),
+        Format::Json => render_json(&mut problem.store, &label, problem.name.as_deref(), &report),
     };
     print(&text)?;
     Ok(Outcome::of(report.overall()))
@@ -47,7 +48,7 @@ fn status_word(c: &ClaimReport, has_claims: bool) -> &'static str {
 /// Components listed per claim in text output.
 const LISTED: usize = 10;
 
-fn render_text(label: &str, name: Option<&str>, r: &CheckReport) -> String {
+fn render_text(store: &mut Store, label: &str, name: Option<&str>, r: &CheckReport) -> String {
     let mut s = String::new();
     let _ = writeln!(s, "{}", heading(label, name));
     if !r.has_claims {
@@ -60,7 +61,7 @@ fn render_text(label: &str, name: Option<&str>, r: &CheckReport) -> String {
         } else {
             status_word(c, r.has_claims).to_string()
         };
-        claim_lines(&mut s, c, &word, LISTED, false);
+        claim_lines(&mut s, store, c, &word, LISTED, false);
     }
     let overall = r.overall();
     let summary = if r.has_claims {
@@ -90,13 +91,13 @@ fn render_text(label: &str, name: Option<&str>, r: &CheckReport) -> String {
     s
 }
 
-fn render_json(label: &str, name: Option<&str>, r: &CheckReport) -> String {
+fn render_json(store: &mut Store, label: &str, name: Option<&str>, r: &CheckReport) -> String {
     let mut j = serde_json::json!({
         "file": label,
         "name": name,
         "has_claims": r.has_claims,
         "result": r.overall().label(),
-        "claims": r.claims.iter().map(claim_json).collect::<Vec<_>>(),
+        "claims": r.claims.iter().map(|c| claim_json(store, c)).collect::<Vec<_>>(),
         "conventions": conventions(),
     });
     if r.overall() == Status::Undecided {

@@ -355,7 +355,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
     let mut outcome = Outcome::Holds;
     if verify_tt {
         let _ = writeln!(s, "verification of h' (exact):");
-        verification_lines(&mut s, &report);
+        verification_lines(&mut s, st, &report);
         outcome = match (
             report.status_of("gauge.tt"),
             report.status_of("field_equations"),

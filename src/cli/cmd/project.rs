@@ -219,7 +219,7 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
             }
             if let Some((path, claims, report)) = &written {
                 let _ = writeln!(s, "the TT part as a perturbation on its own:");
-                verification_lines(&mut s, report);
+                verification_lines(&mut s, &mut p.store, report);
                 let _ = writeln!(s, "wrote {path} with claims: {}", claims.summary());
                 if outcome != Outcome::Holds {
                     let _ = writeln!(
