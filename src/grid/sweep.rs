@@ -289,11 +289,16 @@ impl Buffers {
     }
 }
 
-/// Resizes `v` to `len` values; old values are kept (they are overwritten before use), new
-/// ones are zero.
+/// Makes `v` `len` values long without writing what it had (every value is overwritten
+/// before use). A buffer that must grow is allocated anew, zeroed by the allocator (fresh
+/// pages come zeroed, so nothing is written twice and nothing old is copied).
 fn fit(v: &mut Vec<f64>, len: usize) {
-    v.truncate(len);
-    v.resize(len, 0.0);
+    if v.capacity() < len {
+        *v = vec![0.0; len];
+    } else {
+        v.truncate(len);
+        v.resize(len, 0.0);
+    }
 }
 
 /// Samples and residuals at one resolution. Residuals are taken at the interior points
