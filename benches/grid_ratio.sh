@@ -6,7 +6,10 @@
 #      max norm on 64^3 interior points, 5 slabs in t) against benches/grid_numpy.py, the same
 #      computation in NumPy on the same grid, one core each (lingrav with RAYON_NUM_THREADS=1;
 #      aim: 10x), for an oblique wave with no separable coordinate and for one whose phase
-#      does not depend on y; plus lingrav on every core.
+#      does not depend on y; plus lingrav on every core. lingrav's time is with sample
+#      buffers kept between repetitions (the steady state; NumPy's allocator, too, keeps much
+#      of its memory between its repetitions); the time with fresh buffers (allocation and
+#      first touch of every page included) is printed beside it.
 # The residuals of both sides are printed so that they can be seen to agree.
 #
 # Usage: benches/grid_ratio.sh      Needs cargo, python3 and NumPy (python3 -m pip install numpy).
@@ -30,6 +33,9 @@ for case in oblique xz; do
     np=$(get "$py" "${case}_numpy_seconds")
     printf '    %-8s NumPy %7.4f s, lingrav 1 core %7.4f s (%s cores %7.4f s): NumPy/lingrav per core = %s (aim >= 10)\n' \
         "$case" "$np" "$l1" "$(get "$all" threads)" "$la" "$(python3 -c "print(f'{$np/$l1:.1f}')")"
+    lf=$(get "$one" "${case}_residual_fresh_seconds")
+    printf '             fresh buffers: lingrav 1 core %7.4f s, NumPy/lingrav = %s\n' \
+        "$lf" "$(python3 -c "print(f'{$np/$lf:.1f}')")"
     printf '             residuals: NumPy %s, lingrav %s\n' \
         "$(get "$py" "${case}_residual_max")" "$(get "$one" "${case}_residual_max")"
 done

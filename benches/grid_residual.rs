@@ -64,8 +64,15 @@ fn main() {
         let s = Instant::now();
         let plan = wave_plan(text);
         println!("{case}_plan_seconds {:.4}", s.elapsed().as_secs_f64());
-        let (t_res, r) = best(5, || wave_residual(&plan, &b));
+        // Fresh buffers every time (allocation and first touch of the pages included), and
+        // buffers kept between repetitions (the steady state; NumPy's allocator, too, keeps
+        // much of its memory between its repetitions).
+        let (t_fresh, r) = best(5, || wave_residual(&plan, &b));
+        let mut bufs = lingrav::grid::Buffers::new();
+        let (t_res, r2) = best(5, || wave_residual_with(&mut bufs, &plan, &b));
+        assert_eq!(r.to_bits(), r2.to_bits(), "kept buffers change nothing");
         println!("{case}_residual_seconds {t_res:.4}");
+        println!("{case}_residual_fresh_seconds {t_fresh:.4}");
         println!("{case}_residual_max {r:.6e}");
     }
 }

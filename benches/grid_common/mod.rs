@@ -122,9 +122,15 @@ pub fn wave_box() -> Box4 {
     }
 }
 
-/// Samples, derivatives and the max norm of every component of box hbar.
+/// Samples, derivatives and the max norm of every component of box hbar, in fresh buffers.
 pub fn wave_residual(plan: &GridPlan, b: &Box4) -> f64 {
+    wave_residual_with(&mut sweep::Buffers::new(), plan, b)
+}
+
+/// [`wave_residual`] in sample buffers kept from an earlier call (as the resolutions of one
+/// `lingrav grid` run share theirs).
+pub fn wave_residual_with(bufs: &mut sweep::Buffers, plan: &GridPlan, b: &Box4) -> f64 {
     let st = Stencil::central(ORDER).expect("order");
-    let sw = sweep::sweep(plan, b, &st, false, None, &mut |_, _| {}).expect("samples");
+    let sw = sweep::sweep_with(bufs, plan, b, &st, false, None, &mut |_, _| {}).expect("samples");
     sw.best[0].iter().map(|x| x.0).fold(0.0, f64::max)
 }

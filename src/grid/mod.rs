@@ -52,7 +52,7 @@ pub mod verdict;
 
 pub use claims::{Atom, ClaimSpec, Combo, Deriv, Field, box_hbar, claim_specs};
 pub use stencil::{ORDERS, Stencil};
-pub use sweep::{Box4, Sweep};
+pub use sweep::{Box4, Buffers, Sweep};
 pub use verdict::{Finding, classify, observed_orders};
 
 use crate::canon::{Form, FunctionSample, Store};
@@ -765,6 +765,8 @@ pub fn run(
             c + settings.width / 2.0 - inset,
         ]
     });
+    // One set of sample buffers for every resolution (they grow to the finest).
+    let mut bufs = sweep::Buffers::new();
     for (li, &n) in settings.points.iter().enumerate() {
         let b = Box4 {
             center: settings.center,
@@ -773,7 +775,8 @@ pub fn run(
         };
         let per_slab = (n as u64).pow(3);
         let base = done;
-        let sw = sweep::sweep(
+        let sw = sweep::sweep_with(
+            &mut bufs,
             plan,
             &b,
             &st,

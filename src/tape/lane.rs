@@ -189,6 +189,20 @@ pub trait Lane: Copy + Default + Send + Sync + 'static {
     fn cos(a: Self) -> Self;
     /// The principal `a^(1/q)`.
     fn root(a: Self, q: u32) -> Self;
+    /// `d[i] = sin(a[i])` over a block (same lengths).
+    fn sin_block(d: &mut [Self], a: &[Self]) {
+        map1(d, a, Self::sin);
+    }
+    /// `d[i] = cos(a[i])` over a block (same lengths).
+    fn cos_block(d: &mut [Self], a: &[Self]) {
+        map1(d, a, Self::cos);
+    }
+    /// `s[i] = sin(a[i])` and `c[i] = cos(a[i])` over a block (same lengths): for the real
+    /// lane, one argument reduction serves both.
+    fn sincos_block(s: &mut [Self], c: &mut [Self], a: &[Self]) {
+        map1(s, a, Self::sin);
+        map1(c, a, Self::cos);
+    }
 }
 
 impl Lane for f64 {
@@ -245,6 +259,16 @@ impl Lane for f64 {
     #[inline]
     fn root(a: f64, q: u32) -> f64 {
         if a >= 0.0 { real_root(a, q) } else { f64::NAN }
+    }
+    // Blocks go through the vectorized kernels of `trig` (within one ulp, like libm).
+    fn sin_block(d: &mut [f64], a: &[f64]) {
+        super::trig::sin_block(d, a);
+    }
+    fn cos_block(d: &mut [f64], a: &[f64]) {
+        super::trig::cos_block(d, a);
+    }
+    fn sincos_block(s: &mut [f64], c: &mut [f64], a: &[f64]) {
+        super::trig::sincos_block(s, c, a);
     }
 }
 

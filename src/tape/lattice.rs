@@ -38,6 +38,11 @@ pub struct Lattice<'t> {
     slab: Vec<u32>,
     plane: Vec<u32>,
     slot: Vec<u32>,
+    /// For the first of a pair `sin(a)`, `cos(a)` (adjacent in their schedule): the other,
+    /// computed with it from one argument reduction; `u32::MAX` otherwise.
+    partner: Vec<u32>,
+    /// True for the second of such a pair (skipped: its partner computed it).
+    second: Vec<bool>,
     preg: Vec<u32>,
     npreg: usize,
     real: Vec<Vec<f64>>,
@@ -77,6 +82,58 @@ fn all_finite(v: &[f64]) -> bool {
     })
 }
 
+/// Moves `cos(a)` right after `sin(a)` (or the other way round) where both are in
+/// `schedule` (each depends only on `a`, which comes before both), and records the pair: the
+/// first computes both values. Register allocation runs on the reordered schedule, so when
+/// the first runs, the second's register is one that is free at the next position: it holds
+/// no live value (the only value that could die at the first is `a`, which the second uses).
+fn pair_trig(ops: &[Op], schedule: &mut Vec<u32>, partner: &mut [u32], second: &mut [bool]) {
+    let mut by_arg: rustc_hash::FxHashMap<(bool, u32), u32> = rustc_hash::FxHashMap::default();
+    for &i in schedule.iter() {
+        match ops[i as usize] {
+            Op::Sin(a) => {
+                by_arg.insert((true, a), i);
+            }
+            Op::Cos(a) => {
+                by_arg.insert((false, a), i);
+            }
+            _ => {}
+        }
+    }
+    if by_arg.is_empty() {
+        return;
+    }
+    let mut out = Vec::with_capacity(schedule.len());
+    for &i in schedule.iter() {
+        if second[i as usize] {
+            continue;
+        }
+        out.push(i);
+        let other = match ops[i as usize] {
+            Op::Sin(a) => by_arg.get(&(false, a)),
+            Op::Cos(a) => by_arg.get(&(true, a)),
+            _ => None,
+        };
+        if let Some(&j) = other {
+            partner[i as usize] = j;
+            second[j as usize] = true;
+            out.push(j);
+        }
+    }
+    *schedule = out;
+}
+
+/// Runs the pair `op` (`sin(a)` or `cos(a)`) and its partner over the first `n` lanes:
+/// `d` receives `op`'s values, `dj` the partner's.
+fn sincos<T: Lane>(op: Op, d: &mut [T], dj: &mut [T], a: &[T], n: usize) {
+    let (s, c) = if matches!(op, Op::Sin(_)) {
+        (d, dj)
+    } else {
+        (dj, d)
+    };
+    T::sincos_block(&mut s[..n], &mut c[..n], &a[..n]);
+}
+
 impl<'t> Lattice<'t> {
     /// Prepares `tape` (inputs `t, x, y, z`) for the coordinates `ys` and `zs`, and computes
     /// everything that depends on neither `t` nor `x`.
@@ -106,7 +163,13 @@ impl<'t> Lattice<'t> {
         }
         let pick =
             |l: Level| -> Vec<u32> { (0..n as u32).filter(|&i| level[i as usize] == l).collect() };
-        let (fixed, slab, plane) = (pick(Level::Fixed), pick(Level::Slab), pick(Level::Plane));
+        let (mut fixed, mut slab, mut plane) =
+            (pick(Level::Fixed), pick(Level::Slab), pick(Level::Plane));
+        let mut partner = vec![u32::MAX; n];
+        let mut second = vec![false; n];
+        for schedule in [&mut fixed, &mut slab, &mut plane] {
+            pair_trig(&tape.ops, schedule, &mut partner, &mut second);
+        }
         let mut slot = vec![u32::MAX; n];
         let mut real = Vec::new();
         let mut cplx = Vec::new();
@@ -134,6 +197,8 @@ impl<'t> Lattice<'t> {
             slab,
             plane,
             slot,
+            partner,
+            second,
             preg,
             npreg,
             real,
@@ -143,6 +208,12 @@ impl<'t> Lattice<'t> {
         lat.run_persistent(&fixed, 0.0);
         lat.fixed = fixed;
         lat
+    }
+
+    /// How many `sin(a)`, `cos(a)` pairs are computed together.
+    #[cfg(test)]
+    pub(crate) fn trig_pairs(&self) -> usize {
+        self.second.iter().filter(|&&s| s).count()
     }
 
     /// Sets `t` and computes everything that depends on `t` but not on `x`.
@@ -166,10 +237,21 @@ impl<'t> Lattice<'t> {
     fn persistent_pass<T: Lane>(&self, regs: &mut [Vec<T>], schedule: &[u32], t: f64) {
         for &i in schedule {
             let i = i as usize;
+            if self.second[i] {
+                continue;
+            }
             let op = self.tape.ops[i];
             let s = self.slot[i] as usize;
             let mut d = std::mem::take(&mut regs[s]);
             match op {
+                Op::Sin(a) | Op::Cos(a) if self.partner[i] != u32::MAX => {
+                    let j = self.partner[i] as usize;
+                    let sj = self.slot[j] as usize;
+                    let mut dj = std::mem::take(&mut regs[sj]);
+                    let src = &regs[self.slot[a as usize] as usize];
+                    sincos(op, &mut d, &mut dj, src, self.shape[i].len());
+                    regs[sj] = dj;
+                }
                 Op::Const(c) => d[0] = T::from_c64(c),
                 Op::Input(0) => d[0] = T::from_f64(t),
                 Op::Input(2) => {
@@ -220,11 +302,29 @@ impl<'t> Lattice<'t> {
     fn plane_pass<T: Lane>(&self, regs: &mut [Vec<T>], persistent: &[Vec<T>], x: f64) {
         for &i in &self.plane {
             let i = i as usize;
+            if self.second[i] {
+                continue;
+            }
             let op = self.tape.ops[i];
             let r = self.preg[i] as usize;
             let mut d = std::mem::take(&mut regs[r]);
             match op {
                 Op::Input(1) => d[0] = T::from_f64(x),
+                Op::Sin(a) | Op::Cos(a) if self.partner[i] != u32::MAX => {
+                    // The partner is next in the schedule, so its register holds no live
+                    // value now (see `pair_trig`).
+                    let j = self.partner[i] as usize;
+                    let rj = self.preg[j] as usize;
+                    let mut dj = std::mem::take(&mut regs[rj]);
+                    let a = a as usize;
+                    let src: &[T] = if self.level[a] == Level::Plane {
+                        &regs[self.preg[a] as usize]
+                    } else {
+                        &persistent[self.slot[a] as usize]
+                    };
+                    sincos(op, &mut d, &mut dj, src, self.shape[i].len());
+                    regs[rj] = dj;
+                }
                 Op::Const(_) | Op::Input(_) => unreachable!("only x is a plane leaf"),
                 _ => {
                     let [a, b] = op.operands();

@@ -37,6 +37,7 @@ mod lattice;
 mod lower;
 #[cfg(test)]
 mod tests;
+mod trig;
 
 pub use compile::{Compiler, TapeError};
 pub use lane::{C64, Lane};
@@ -134,8 +135,8 @@ pub(crate) fn apply<T: Lane>(op: Op, d: &mut [T], ds: Shape, a: (&[T], Shape), b
         Op::PowI(_, k) => map1(&mut d[..n], &a.0[..n], |x| T::powi(x, k)),
         Op::Exp(_) => map1(&mut d[..n], &a.0[..n], T::exp),
         Op::Log(_) => map1(&mut d[..n], &a.0[..n], T::ln),
-        Op::Sin(_) => map1(&mut d[..n], &a.0[..n], T::sin),
-        Op::Cos(_) => map1(&mut d[..n], &a.0[..n], T::cos),
+        Op::Sin(_) => T::sin_block(&mut d[..n], &a.0[..n]),
+        Op::Cos(_) => T::cos_block(&mut d[..n], &a.0[..n]),
         Op::Root(_, q) => map1(&mut d[..n], &a.0[..n], |x| T::root(x, q)),
         Op::Const(_) | Op::Input(_) => unreachable!("leaves are filled by the caller"),
     }
