@@ -4,10 +4,11 @@
 # scaling series of benches/peers/scaling.py (N oblique plane waves, exact l-pole fields,
 # pure gauge from polynomial gauge vectors of growing degree). Issue 10, item 5.
 #
-# lingrav: the whole process (start, parse, check, print). One run under /usr/bin/time -v
-# gives the peak RSS, the status and the JSON verdicts; then the median of 3 more runs, timed
-# by the shell (EPOCHREALTIME, no wrapper process) gives the time. A run that reaches a limit
-# is not repeated. SymEngine: time in-process from reading the file to the last verdict
+# lingrav: one run of the whole process under /usr/bin/time -v gives the peak RSS, the status
+# and the JSON verdicts; then the median of 3 more whole-process runs, timed by the shell
+# (EPOCHREALTIME, no wrapper process), and the in-process time of the same check
+# (benches/check_files.rs: median of 3, process start excluded, as for the peer). The ratio
+# compares in-process times. A run that reaches a limit is not repeated. SymEngine: time in-process from reading the file to the last verdict
 # (interpreter start and `import symengine` excluded), median of 3, and the process's peak
 # RSS (getrusage maxrss, interpreter and library included). The script compares every
 # component's verdict with lingrav's and says MISMATCH loudly (exit 1) when two decided
@@ -50,6 +51,12 @@ python3 -c 'import symengine, tomllib' 2>/dev/null || {
 
 cargo build --release --quiet
 bin=${CARGO_TARGET_DIR:-target}/release/lingrav
+timer=$(cargo bench --bench check_files --no-run --message-format=json 2>/dev/null | python3 -c '
+import json, sys
+for line in sys.stdin:
+    m = json.loads(line)
+    if m.get("reason") == "compiler-artifact" and m["target"]["name"] == "check_files" and m.get("executable"):
+        print(m["executable"])')
 
 if [[ -n $keep ]]; then
     work=$keep
@@ -93,7 +100,7 @@ guarded() {
     wait "$watchdog" 2>/dev/null || true
 }
 
-declare -A lg_time lg_peak lg_status
+declare -A lg_time lg_proc lg_peak lg_status
 for f in "${files[@]}"; do
     stem=$(basename "$f" .toml)
     json="$work/json/$stem.json"
@@ -122,9 +129,11 @@ for f in "${files[@]}"; do
             guarded /dev/null "$bin" check "${limits[@]}" "$f"
             times+=("$secs")
         done
-        lg_time[$f]=$(printf '%s\n' "${times[@]}" | sort -g | sed -n 2p)
+        lg_proc[$f]=$(printf '%s\n' "${times[@]}" | sort -g | sed -n 2p)
+        lg_time[$f]=$(REPEAT=3 timeout -s KILL "$guard" "$timer" "$f" | awk '{ print $2 }')
     fi
-    printf 'lingrav check %s: %s s, peak %s MB, %s\n' "$f" "${lg_time[$f]}" "${lg_peak[$f]}" "$status"
+    printf 'lingrav check %s: %s s in-process, %s s whole process, peak %s MB, %s\n' "$f" \
+        "${lg_time[$f]}" "${lg_proc[$f]:--}" "${lg_peak[$f]}" "$status"
 done
 
 echo
@@ -136,21 +145,23 @@ python3 benches/peers/symengine_check.py --repeat 3 --timeout "$timeout_s" \
 
 echo
 echo "$(date +%F), $(nproc) cores, $(python3 -c 'import symengine; print("SymEngine", symengine.__version__)'), limits ${timeout_s} s and ${max_memory} MiB per run"
-printf '| %s | %s | %s | %s | %s | %s | %s |\n' case "lingrav s" "lingrav peak MB" \
-    "SymEngine s" "SymEngine peak MB" "SymEngine/lingrav" "verdicts agree"
-echo '| --- | ---: | ---: | ---: | ---: | ---: | --- |'
+printf '| %s | %s | %s | %s | %s | %s | %s | %s |\n' case "lingrav s (in-process)" \
+    "lingrav s (process)" "lingrav peak MB" "SymEngine s" "SymEngine peak MB" \
+    "SymEngine/lingrav" "verdicts agree"
+echo '| --- | ---: | ---: | ---: | ---: | ---: | ---: | --- |'
 for f in "${files[@]}"; do
     IFS=$'\t' read -r _ se_secs se_peak agrees < <(awk -F'\t' -v f="$f" '$1 == f' "$summary")
     status=${lg_status[$f]}
     if [[ $status == ok ]]; then
-        shown=$(awk -v s="${lg_time[$f]}" 'BEGIN { printf "%.3f", s }')
+        shown=$(awk -v s="${lg_time[$f]}" 'BEGIN { printf "%.4f", s }')
     else
         shown=$(awk -v s="${lg_time[$f]}" -v st="$status" 'BEGIN { printf "%s after %.1f s", st, s }')
     fi
     ratio=$(awk -v a="$se_secs" -v b="${lg_time[$f]}" -v st="$status" 'BEGIN {
         if (st != "ok" || a !~ /^[0-9.]+$/) printf "-"
         else printf "%.2f", a / b }')
-    printf '| %s | %s | %s | %s | %s | %s | %s |\n' "$(basename "$f" .toml)" "$shown" \
-        "${lg_peak[$f]}" "${se_secs:--}" "${se_peak:--}" "$ratio" "${agrees:--}"
+    proc=$(awk -v s="${lg_proc[$f]:-}" 'BEGIN { if (s == "") printf "-"; else printf "%.3f", s }')
+    printf '| %s | %s | %s | %s | %s | %s | %s | %s |\n' "$(basename "$f" .toml)" "$shown" \
+        "$proc" "${lg_peak[$f]}" "${se_secs:--}" "${se_peak:--}" "$ratio" "${agrees:--}"
 done
 exit "$peer_rc"

@@ -73,19 +73,58 @@ impl std::hash::Hash for Coeff {
     }
 }
 
-fn gcd_u128(mut a: u128, mut b: u128) -> u128 {
-    while b != 0 {
-        let t = a % b;
-        a = b;
-        b = t;
+/// Greatest common divisor (binary: shifts and subtractions, no 128-bit division, which
+/// is a slow library call); machine words when both fit.
+fn gcd_u128(a: u128, b: u128) -> u128 {
+    if let (Ok(a), Ok(b)) = (u64::try_from(a), u64::try_from(b)) {
+        return u128::from(gcd_u64(a, b));
     }
-    a
+    let (mut a, mut b) = (a, b);
+    if a == 0 || b == 0 {
+        return a | b;
+    }
+    let shift = (a | b).trailing_zeros();
+    a >>= a.trailing_zeros();
+    loop {
+        b >>= b.trailing_zeros();
+        if a > b {
+            std::mem::swap(&mut a, &mut b);
+        }
+        b -= a;
+        if b == 0 {
+            return a << shift;
+        }
+    }
+}
+
+fn gcd_u64(mut a: u64, mut b: u64) -> u64 {
+    if a == 0 || b == 0 {
+        return a | b;
+    }
+    let shift = (a | b).trailing_zeros();
+    a >>= a.trailing_zeros();
+    loop {
+        b >>= b.trailing_zeros();
+        if a > b {
+            std::mem::swap(&mut a, &mut b);
+        }
+        b -= a;
+        if b == 0 {
+            return a << shift;
+        }
+    }
 }
 
 /// `(n/d) * basis` (d > 0) in lowest terms as a small coefficient, if it fits.
 fn small_of(n: i128, d: u128, basis: u8) -> Option<Coeff> {
     if n == 0 {
         return Some(Coeff::zero());
+    }
+    if d == 1 {
+        let n = i64::try_from(n).ok().filter(|&n| n != i64::MIN)?;
+        return Some(Coeff {
+            repr: Repr::Small(n, 1, basis),
+        });
     }
     let g = gcd_u128(n.unsigned_abs(), d);
     let (n, d) = (n / g as i128, d / g);
@@ -773,6 +812,26 @@ mod tests {
                 Just(i64::MIN + 1),
                 Just(1i64 << 62),
             ]
+        }
+
+        proptest! {
+            #[test]
+            fn binary_gcd_agrees_with_euclid(
+                a in prop_oneof![any::<u128>(), any::<u64>().prop_map(u128::from), 0u128..100],
+                b in prop_oneof![any::<u128>(), any::<u64>().prop_map(u128::from), 0u128..100],
+                k in 0u32..64,
+            ) {
+                let euclid = |mut x: u128, mut y: u128| {
+                    while y != 0 {
+                        (x, y) = (y, x % y);
+                    }
+                    x
+                };
+                prop_assert_eq!(gcd_u128(a, b), euclid(a, b));
+                // Shared powers of two (the binary method's shift).
+                let (a2, b2) = (a.wrapping_shl(k) >> k << k, b.wrapping_shl(k) >> k << k);
+                prop_assert_eq!(gcd_u128(a2, b2), euclid(a2, b2));
+            }
         }
 
         proptest! {
