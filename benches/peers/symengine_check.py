@@ -401,7 +401,7 @@ def main():
         agrees = compare(result and result["components"], theirs) if compared else "-"
         any_mismatch |= agrees == "MISMATCH"
         if outcome == "ok":
-            secs, peak = f"{result['seconds']:.3f}", f"{result['peak_kb'] / 1024:.0f}"
+            secs, peak = f"{result['seconds']:.5f}", f"{result['peak_kb'] / 1024:.0f}"
             runs = f"median of {args.repeat}, " if args.repeat > 1 else ""
             print(f"  total {result['seconds']:.3f} s in-process ({runs}import excluded), "
                   f"peak {peak} MB "
