@@ -4,7 +4,7 @@
 //! every identifier means (symbol, defined subexpression, arbitrary function) and what to do
 //! with an unknown one. Errors keep the span of the offending node.
 
-use super::{CanonError, Form, Store};
+use super::{CanonError, Coeff, Form, Store};
 use crate::expr::{BinOp, Expr, ExprKind, Span};
 use rustc_hash::{FxHashMap, FxHashSet};
 
@@ -199,12 +199,13 @@ impl Store {
                     }
                 }
                 parts.reverse();
-                let mut forms = Vec::with_capacity(parts.len());
+                let (plus, minus) = (Coeff::one(), Coeff::int(-1));
+                let mut terms = Vec::with_capacity(parts.len());
                 for (x, negate) in parts {
                     let f = self.build(x, names)?;
-                    forms.push(if negate { c(self.neg(f))? } else { f });
+                    terms.push((if negate { &minus } else { &plus }, f));
                 }
-                c(self.sum(&forms))
+                c(self.linear(&terms))
             }
             ExprKind::Binary(op, a, b) => {
                 let fa = self.build(a, names)?;

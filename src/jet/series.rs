@@ -409,19 +409,36 @@ impl<S: Scalar> Jet<S> {
         }
         let (order, a, b) = self.common(rhs);
         let sp = &*self.space;
+        if order >= 1 {
+            // A factor of degree at most 1 (a variable, a phase, a retarded time) multiplies
+            // through the shift table in O(len * vars) instead of the pairs table.
+            let l1 = sp.len(1);
+            let linear = |x: &[S]| x[l1..].iter().all(Scalar::is_exact_zero);
+            if linear(b) {
+                return Some(self.with(order, mul_linear(sp, order, a, b)?, false));
+            }
+            if linear(a) {
+                return Some(self.with(order, mul_linear(sp, order, b, a)?, false));
+            }
+        }
+        Self::mul_pairs(sp, a, b).map(|c| self.with(order, c, false))
+    }
+
+    /// The product by the pairs table (every pair of monomials whose degrees add up to at most
+    /// `order`), skipping exact zeros.
+    fn mul_pairs(sp: &JetSpace, a: &[S], b: &[S]) -> Option<Vec<S>> {
         let mut c = Vec::with_capacity(a.len());
         // Exact zeros (a variable a factor does not depend on) contribute nothing: skipping
         // their products is exact and saves most of the work for sparse jets.
-        let za: Vec<bool> = a.iter().map(Scalar::is_exact_zero).collect();
-        let zb: Vec<bool> = b.iter().map(Scalar::is_exact_zero).collect();
         for k in 0..a.len() {
             let (s, e) = (sp.pair_start[k] as usize, sp.pair_start[k + 1] as usize);
             let mut acc: Option<S> = None;
             for &(i, j) in &sp.pairs[s..e] {
-                if za[i as usize] || zb[j as usize] {
+                let (x, y) = (&a[i as usize], &b[j as usize]);
+                if x.is_exact_zero() || y.is_exact_zero() {
                     continue;
                 }
-                let p = a[i as usize].mul(&b[j as usize])?;
+                let p = x.mul(y)?;
                 acc = Some(match acc {
                     None => p,
                     Some(x) => x.add(&p)?,
@@ -432,7 +449,7 @@ impl<S: Scalar> Jet<S> {
                 None => S::zero(),
             });
         }
-        Some(self.with(order, c, false))
+        Some(c)
     }
 
     /// `sum_k coeffs[k] d^k` with `d` this jet minus its constant coefficient (Horner).
@@ -694,6 +711,43 @@ impl<S: Scalar> Jet<S> {
             .collect::<Option<_>>()?;
         Some(self.with(order, c, false))
     }
+}
+
+/// `a * lin` where `lin` has degree at most 1: `lin_0 a + sum_v lin_v x_v a`, each `x_v a`
+/// by the shift table (`deriv[v][i]`: monomial `i` times `x_v`), so the cost is
+/// `O(len * vars)`. Exact zeros are skipped and stay exact; every coefficient is a sum of
+/// enclosed products, so it encloses the exact coefficient as the pairs product does.
+fn mul_linear<S: Scalar>(sp: &JetSpace, order: u32, a: &[S], lin: &[S]) -> Option<Vec<S>> {
+    let n = a.len();
+    let mut c: Vec<Option<S>> = vec![None; n];
+    let b0 = &lin[0];
+    if !b0.is_exact_zero() {
+        for (ck, ak) in c.iter_mut().zip(a) {
+            if !ak.is_exact_zero() {
+                *ck = Some(ak.mul(b0)?);
+            }
+        }
+    }
+    let below = sp.len(order - 1);
+    for v in 0..sp.vars {
+        let table = &sp.deriv[v];
+        let bv = &lin[table[0].0 as usize];
+        if bv.is_exact_zero() {
+            continue;
+        }
+        for (i, ai) in a[..below].iter().enumerate() {
+            if ai.is_exact_zero() {
+                continue;
+            }
+            let j = table[i].0 as usize;
+            let p = ai.mul(bv)?;
+            c[j] = Some(match c[j].take() {
+                None => p,
+                Some(x) => x.add(&p)?,
+            });
+        }
+    }
+    Some(c.into_iter().map(|x| x.unwrap_or_else(S::zero)).collect())
 }
 
 #[cfg(test)]

@@ -197,3 +197,75 @@ proptest! {
         prop_assert!(j.value().width() < 1e-12);
     }
 }
+
+proptest! {
+    /// The shift-table product by a factor of degree at most 1 and the pairs-table product
+    /// both enclose the exact product (small integer coefficients, convolved exactly in
+    /// integers here), coefficient by coefficient, with exact zeros kept exact.
+    #[test]
+    fn linear_factor_product_encloses_the_exact_product_as_the_pairs_product(
+        vars in 1usize..4,
+        order in 1u32..5,
+        seed in any::<u64>(),
+    ) {
+        let sp = JetSpace::new(vars, order).expect("small");
+        let n = sp.len(order);
+        let mut state = seed | 1;
+        let mut next = || {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            // -3..=3, zero one time in seven.
+            (state % 7) as i64 - 3
+        };
+        let ai: Vec<i64> = (0..n).map(|_| next()).collect();
+        let li: Vec<i64> = (0..n).map(|k| if k < sp.len(1) { next() } else { 0 }).collect();
+        let mut exact = vec![0i64; n];
+        for i in 0..n {
+            for j in 0..n {
+                let m: Vec<u8> =
+                    sp.monomial(i).iter().zip(sp.monomial(j)).map(|(x, y)| x + y).collect();
+                if let Some(k) = sp.position(&m) {
+                    exact[k as usize] += ai[i] * li[j];
+                }
+            }
+        }
+        let a: Vec<Interval> = ai.iter().map(|&v| pt(v as f64)).collect();
+        let lin: Vec<Interval> = li.iter().map(|&v| pt(v as f64)).collect();
+        let pairs = Jet::<Interval>::mul_pairs(&sp, &a, &lin).expect("finite");
+        let shift = mul_linear(&sp, order, &a, &lin).expect("finite");
+        let ja = Jet { space: sp.clone(), order, c: a.clone(), constant: false };
+        let jl = Jet { space: sp.clone(), order, c: lin.clone(), constant: false };
+        let (p1, p2) = (ja.mul(&jl).expect("finite"), jl.mul(&ja).expect("finite"));
+        for k in 0..n {
+            let e = exact[k] as f64;
+            for c in [&pairs[k], &shift[k], &p1.coeffs()[k], &p2.coeffs()[k]] {
+                prop_assert!(c.lo() <= e && e <= c.hi(), "coefficient {} misses {}", k, e);
+            }
+            // Where every product is an exact zero, the fast route keeps the zero exact.
+            if pairs[k].is_exact_zero() {
+                prop_assert!(shift[k].is_exact_zero());
+            }
+        }
+    }
+}
+
+#[test]
+fn linear_factor_product_encloses_the_exact_product() {
+    // (1/3 + x/7)(x + y)^2 at order 3: widened enclosures of the same numbers must meet
+    // those of the pairs product.
+    let (x, y) = xy(0.5, -0.25, 3);
+    let third = Scalar::div(&pt(1.0), &pt(3.0)).unwrap();
+    let sev = Scalar::div(&pt(1.0), &pt(7.0)).unwrap();
+    let lin = x
+        .scale(&sev)
+        .unwrap()
+        .add(&Jet::constant(&x.space, 3, third))
+        .unwrap();
+    let s = x.add(&y).unwrap();
+    let q = s.mul(&s).unwrap();
+    let fast = lin.mul(&q).unwrap();
+    let slow = Jet::<Interval>::mul_pairs(&x.space, lin.coeffs(), q.coeffs()).unwrap();
+    assert!(fast.coeffs().iter().zip(&slow).all(|(a, b)| meet(a, b)));
+    assert!(fast.coeffs().iter().any(|c| c.lo() != 0.0));
+}
