@@ -163,44 +163,80 @@ impl Numeric {
         })
     }
 
-    /// Every column at each of `coords` through the interval program in f64 intervals (in
-    /// parallel with the `parallel` feature); all `None` without a program.
-    fn fast_block(&self, coords: &[[f64; 4]]) -> Vec<Option<Vec<Option<Interval>>>> {
+    /// Every column at each of `coords` through the interval program in f64 intervals, into
+    /// `out` row after row (`coords.len()` times the number of columns; in parallel with the
+    /// `parallel` feature, [`program::LANES`] points at a time); false without a program.
+    fn fast_block(&self, coords: &[[f64; 4]], out: &mut Vec<Option<Interval>>) -> bool {
         let Some((p, outs)) = self.program.as_ref() else {
-            return vec![None; coords.len()];
+            return false;
         };
-        let one = |regs: &mut Vec<Option<Interval>>, c: &[f64; 4]| {
-            p.run(*c, regs);
-            Some(outs.iter().map(|&r| regs[r as usize]).collect())
+        let ncol = outs.len();
+        out.clear();
+        out.resize(coords.len() * ncol, None);
+        if ncol == 0 {
+            return true;
+        }
+        let one = |regs: &mut program::BlockRegs,
+                   (pts, dst): (&[[f64; 4]], &mut [Option<Interval>])| {
+            p.run_block(pts, regs);
+            for (k, row) in dst.chunks_mut(ncol).enumerate() {
+                for (v, &r) in row.iter_mut().zip(outs) {
+                    *v = regs.get(r, k);
+                }
+            }
         };
         #[cfg(feature = "parallel")]
         {
             use rayon::prelude::*;
-            coords.par_iter().map_init(Vec::new, one).collect()
+            coords
+                .par_chunks(program::LANES)
+                .zip(out.par_chunks_mut(program::LANES * ncol))
+                .for_each_init(|| p.block_regs(), one);
         }
         #[cfg(not(feature = "parallel"))]
         {
-            let mut regs = Vec::new();
-            coords.iter().map(|c| one(&mut regs, c)).collect()
+            let mut regs = p.block_regs();
+            coords
+                .chunks(program::LANES)
+                .zip(out.chunks_mut(program::LANES * ncol))
+                .for_each(|c| one(&mut regs, c));
         }
+        true
     }
 
-    /// Every column at `c` through the interval program in multiprecision balls at `prec`
-    /// bits (constants enclosed once per precision, kept in `constants`); `None` without a
-    /// program.
+    /// The columns marked in `want` at `c` through the interval program in multiprecision
+    /// balls at `prec` bits (constants enclosed once per precision, kept in `constants`;
+    /// only the instructions those columns need are run, the others columns are `None`);
+    /// `None` without a program.
     fn ball_values(
         &self,
         c: [f64; 4],
+        want: &[bool],
         prec: u32,
-        constants: &mut FxHashMap<u32, Vec<Option<crate::interval::Ball>>>,
+        constants: &mut BallState,
     ) -> Option<Vec<Option<crate::interval::Ball>>> {
         let (p, outs) = self.program.as_ref()?;
-        let k = constants
-            .entry(prec)
-            .or_insert_with(|| p.constants::<crate::interval::Ball>(&prec));
+        let (k, memo) = constants.entry(prec).or_insert_with(|| {
+            (
+                p.constants::<crate::interval::Ball>(&prec),
+                program::Memo::new(p),
+            )
+        });
+        // Only the instructions the wanted columns depend on.
+        let wanted: Vec<u32> = outs
+            .iter()
+            .zip(want)
+            .filter_map(|(&r, &w)| w.then_some(r))
+            .collect();
+        let need = p.needed(&wanted);
         let mut regs = Vec::new();
-        p.run_in(c, &prec, k, &mut regs);
-        Some(outs.iter().map(|&r| regs[r as usize].clone()).collect())
+        p.run_in(c, &prec, k, Some(&need), Some(memo), &mut regs);
+        Some(
+            outs.iter()
+                .zip(want)
+                .map(|(&r, &w)| if w { regs[r as usize].clone() } else { None })
+                .collect(),
+        )
     }
 
     /// Every column of `quantities` at `point`, in enclosure arithmetic `S`.
@@ -248,6 +284,15 @@ pub struct Settings {
     /// How many rows the exact route re-evaluates (evenly spread, first and last included).
     pub audit_rows: usize,
 }
+
+/// Per precision, the program's constants and its [`program::Memo`] in balls.
+type BallState = FxHashMap<
+    u32,
+    (
+        Vec<Option<crate::interval::Ball>>,
+        program::Memo<crate::interval::Ball>,
+    ),
+>;
 
 /// Rows evaluated together (in parallel) by the interval program.
 const FAST_BLOCK: usize = 4096;
@@ -449,14 +494,18 @@ pub fn evaluate(
     let tol = settings.tolerance;
     let setup = |e: crate::audit::AuditError| ExportError::Setup(e.to_string());
     // The f64 pass of the interval program over every row, in parallel, a block at a time.
-    let mut fast: Vec<Option<Vec<Option<Interval>>>> = Vec::new();
-    let mut ball_constants: FxHashMap<u32, Vec<Option<crate::interval::Ball>>> =
-        FxHashMap::default();
+    let mut fast: Vec<Option<Interval>> = Vec::new();
+    let mut have_fast = false;
+    let mut ball_constants: BallState = FxHashMap::default();
+    let mut judged: Vec<Judged> = Vec::with_capacity(ncol);
+    let mut bits: Vec<u32> = Vec::with_capacity(ncol);
+    let mut want: Vec<bool> = Vec::with_capacity(ncol);
+    let mut slow: Vec<Option<Interval>>;
     for (row, &c) in points.coords.iter().enumerate() {
         if row % FAST_BLOCK == 0 {
             check_limits(settings)?;
             let end = (row + FAST_BLOCK).min(points.coords.len());
-            fast = numeric.fast_block(&points.coords[row..end]);
+            have_fast = numeric.fast_block(&points.coords[row..end], &mut fast);
         }
         let point = || -> Vec<(String, f64)> {
             let mut p: Vec<(String, f64)> = ["t", "x", "y", "z"]
@@ -467,11 +516,14 @@ pub fn evaluate(
             p.extend(parameters.iter().cloned());
             p
         };
-        let first = match fast.get_mut(row % FAST_BLOCK).and_then(Option::take) {
-            Some(v) => v,
-            None => numeric
+        let first: &[Option<Interval>] = if have_fast {
+            let k = (row % FAST_BLOCK) * ncol;
+            &fast[k..k + ncol]
+        } else {
+            slow = numeric
                 .values::<Interval>(&quantities, &point(), &())
-                .map_err(setup)?,
+                .map_err(setup)?;
+            &slow
         };
         if first.len() != ncol {
             return Err(ExportError::Setup(format!(
@@ -479,7 +531,7 @@ pub fn evaluate(
                 first.len()
             )));
         }
-        let mut judged: Vec<Judged> = Vec::with_capacity(ncol);
+        judged.clear();
         for (i, v) in first.iter().enumerate() {
             judged.push(if exact_zero[i] {
                 // Proved 0 by the exact route: written as 0, with the independent
@@ -503,13 +555,16 @@ pub fn evaluate(
                 judge(v.as_ref(), tol)
             });
         }
-        let mut bits = vec![53u32; ncol];
+        bits.clear();
+        bits.resize(ncol, 53);
         for &prec in &certify::PRECISIONS {
             if judged.iter().all(|j| matches!(j, Judged::Good(..))) {
                 break;
             }
             check_limits(settings)?;
-            let vals = match numeric.ball_values(c, prec, &mut ball_constants) {
+            want.clear();
+            want.extend(judged.iter().map(|j| !matches!(j, Judged::Good(..))));
+            let vals = match numeric.ball_values(c, &want, prec, &mut ball_constants) {
                 Some(v) => v,
                 None => numeric
                     .values::<crate::interval::Ball>(&quantities, &point(), &prec)
@@ -534,7 +589,7 @@ pub fn evaluate(
             }
         }
         values.extend_from_slice(&c);
-        for (i, j) in judged.into_iter().enumerate() {
+        for (i, &j) in judged.iter().enumerate() {
             let (x, b) = match j {
                 Judged::Missing => {
                     return Err(ExportError::Point(EvalError {
@@ -570,13 +625,13 @@ pub fn evaluate(
     // Values indistinguishable from 0: judged against the zero tolerance, by default the
     // relative tolerance times the column's largest magnitude.
     let rows = points.coords.len();
-    let scale: Vec<f64> = (0..ncol)
-        .map(|i| {
-            (0..rows)
-                .map(|r| values[r * width + 4 + i].abs())
-                .fold(0.0, f64::max)
-        })
-        .collect();
+    // One pass over the rows (a pass per column would stride through the whole table).
+    let mut scale = vec![0.0f64; ncol];
+    for row in values.chunks_exact(width).take(rows) {
+        for (s, v) in scale.iter_mut().zip(&row[4..]) {
+            *s = s.max(v.abs());
+        }
+    }
     for i in 0..ncol {
         reports[i].zero_tolerance = settings.zero_tolerance.unwrap_or(tol * scale[i]);
     }

@@ -4,9 +4,14 @@
 //! symbolically on the user-structure DAG ([`super::lower`]), are lowered once into a list of
 //! instructions over f64 intervals with outward rounding ([`crate::interval::Interval`]);
 //! common subexpressions are shared by hash-consing. Evaluating a point is one pass over the
-//! list: no Taylor coefficients, no allocation beyond the register file. Values whose
-//! enclosure is too wide for the tolerance go on to the multiprecision route of
-//! [`super::certify`].
+//! list: no Taylor coefficients, no allocation beyond the register file. Export runs it over
+//! [`LANES`] points at a time ([`IntervalProgram::run_block`]: one instruction over a lane
+//! array of lower and upper bounds, so decoding is paid once per instruction and block, and
+//! the arithmetic loops vectorise); the block result is the per-point result bit for bit.
+//! Values whose enclosure is too wide for the tolerance are run again in multiprecision
+//! balls ([`IntervalProgram::run_in`]), only the instructions the failing columns need, with
+//! values of one- and two-coordinate subexpressions reused across points ([`Memo`]); what
+//! the program cannot settle goes on to the jets of [`super::certify`].
 //!
 //! **Invariants:** every instruction returns an enclosure of the exact result for every real
 //! in its operands, or `None` ("cannot evaluate here"), which spreads; constants are exact
@@ -139,17 +144,38 @@ impl IntervalProgram {
 
     /// Runs the program at `(t, x, y, z)` in enclosure arithmetic `S` (multiprecision balls
     /// where f64 intervals are too wide), with `constants` from
-    /// [`IntervalProgram::constants`] at the same precision.
+    /// [`IntervalProgram::constants`] at the same precision. With `need` (from
+    /// [`IntervalProgram::needed`]), instructions not marked are skipped (left `None`); with
+    /// `memo` (one per program and precision), values of instructions that depend on at
+    /// most two coordinates are reused from earlier points with the same such coordinates.
     pub fn run_in<S: Scalar>(
         &self,
         point: [f64; 4],
         ctx: &S::Ctx,
         constants: &[Option<S>],
+        need: Option<&[bool]>,
+        mut memo: Option<&mut Memo<S>>,
         regs: &mut Vec<Option<S>>,
     ) {
         regs.clear();
         regs.reserve(self.instrs.len());
-        for i in &self.instrs {
+        if let Some(m) = memo.as_deref_mut()
+            && m.deps.len() != self.instrs.len()
+        {
+            *m = Memo::new(self);
+        }
+        for (n, i) in self.instrs.iter().enumerate() {
+            if need.is_some_and(|m| !m[n]) {
+                regs.push(None);
+                continue;
+            }
+            let key = memo.as_deref().and_then(|m| m.key(n, point));
+            if let (Some(m), Some(k)) = (memo.as_deref(), key)
+                && let Some(v) = m.values.get(&k)
+            {
+                regs.push(v.clone());
+                continue;
+            }
             let r = |k: u32| regs[k as usize].as_ref();
             let v = match *i {
                 Instr::Const(_, k) => constants[k as usize].clone(),
@@ -166,6 +192,9 @@ impl IntervalProgram {
                 Instr::Sin(a) => r(a).and_then(Scalar::sin),
                 Instr::Cos(a) => r(a).and_then(Scalar::cos),
             };
+            if let (Some(m), Some(k)) = (memo.as_deref_mut(), key) {
+                m.insert(k, v.clone());
+            }
             regs.push(v);
         }
     }
@@ -216,6 +245,318 @@ impl IntervalProgram {
             };
             regs.push(v);
         }
+    }
+}
+
+/// Points evaluated together by [`IntervalProgram::run_block`]: one instruction is applied
+/// to this many lanes before the next is decoded.
+pub const LANES: usize = 64;
+
+/// The register file of [`IntervalProgram::run_block`]: for every instruction, the lower
+/// and upper bounds of its value at each of [`LANES`] points (structure of arrays). A lane
+/// that "cannot be evaluated here" holds NaN in both bounds.
+#[derive(Clone, Debug, Default)]
+pub struct BlockRegs {
+    lo: Vec<f64>,
+    hi: Vec<f64>,
+    /// Instructions whose constant lanes are already filled (constants never change).
+    constants_filled: usize,
+}
+
+impl BlockRegs {
+    /// The value of register `r` at lane `k`, as [`IntervalProgram::run`] would give it.
+    #[must_use]
+    pub fn get(&self, r: u32, k: usize) -> Option<Interval> {
+        let i = r as usize * LANES + k;
+        Interval::new(self.lo[i], self.hi[i])
+    }
+}
+
+/// One ulp above `x` for every finite `x` (equal to `f64::next_up` there, and at `-inf`),
+/// NaN for NaN and `+inf`; branch-free, so that a loop over lanes vectorises.
+///
+/// Why it is right. `x + 0.0` is `x` except that `-0.0` becomes `+0.0` (round to nearest),
+/// so the sign bit `s` of `b = bits(x + 0.0)` is set exactly when `x < 0`. IEEE 754 orders the
+/// bit patterns of nonnegative doubles like their values, and those of negative doubles in
+/// reverse; so the next double above is `b + 1` for `x >= 0` (`+0` goes to the smallest
+/// subnormal, `f64::MAX` to `+inf`) and `b - 1` for `x < 0` (the smallest negative
+/// subnormal goes to `-0.0`, `-inf` to `-f64::MAX`), which is `b + 1 - 2 s`. A NaN keeps
+/// NaN (selected explicitly: a payload of all ones would otherwise wrap to `-0.0`).
+#[inline]
+fn up(x: f64) -> f64 {
+    let b = (x + 0.0).to_bits();
+    let r = f64::from_bits(b.wrapping_add(1).wrapping_sub((b >> 63) << 1));
+    if x.is_nan() { x } else { r }
+}
+
+/// One ulp below `x`: `-up(-x)` (negation is exact), so `f64::next_down` for finite `x`.
+#[inline]
+fn down(x: f64) -> f64 {
+    -up(-x)
+}
+
+/// The interval `[lo, hi]` if finite and ordered (as [`Interval::new`]), else NaN in both:
+/// the lane cannot be evaluated.
+#[inline]
+fn checked(lo: f64, hi: f64) -> (f64, f64) {
+    if lo >= -f64::MAX && hi <= f64::MAX && lo <= hi {
+        (lo, hi)
+    } else {
+        (f64::NAN, f64::NAN)
+    }
+}
+
+/// True for the exact point 0 (false for NaN).
+#[inline]
+fn zero_point(lo: f64, hi: f64) -> bool {
+    lo == 0.0 && hi == 0.0
+}
+
+impl IntervalProgram {
+    /// An empty register file for [`IntervalProgram::run_block`].
+    #[must_use]
+    pub fn block_regs(&self) -> BlockRegs {
+        BlockRegs::default()
+    }
+
+    /// Runs the program at up to [`LANES`] points at once (lane `k` is `points[k]`), one
+    /// instruction over all lanes at a time; lane `k` of register `r` is then exactly what
+    /// [`IntervalProgram::run`] gives at `points[k]` (same operations, same rounding, tested
+    /// bit for bit), read with [`BlockRegs::get`].
+    ///
+    /// Addition, subtraction, multiplication and negation are written out over the lanes
+    /// with the branch-free [`up`]/[`down`] (they mirror [`Interval::add`],
+    /// [`Interval::sub`], [`Interval::mul`] case by case, including the exact point 0, so
+    /// their enclosures follow from the same rounding argument: a correctly rounded result
+    /// is within half an ulp of the exact one, and one step outward encloses it); the other
+    /// instructions call the [`Interval`] operations lane by lane.
+    ///
+    /// # Panics
+    ///
+    /// If `points` has more than [`LANES`] entries.
+    pub fn run_block(&self, points: &[[f64; 4]], regs: &mut BlockRegs) {
+        assert!(points.len() <= LANES, "at most LANES points per block");
+        let size = self.instrs.len() * LANES;
+        if regs.lo.len() != size {
+            regs.lo = vec![f64::NAN; size];
+            regs.hi = vec![f64::NAN; size];
+            regs.constants_filled = 0;
+        }
+        let n = points.len();
+        for (i, ins) in self.instrs.iter().enumerate() {
+            let (lo_src, lo_rest) = regs.lo.split_at_mut(i * LANES);
+            let (hi_src, hi_rest) = regs.hi.split_at_mut(i * LANES);
+            let (lo, hi) = (&mut lo_rest[..n], &mut hi_rest[..n]);
+            let reg = |k: u32| {
+                let s = k as usize * LANES;
+                (&lo_src[s..s + n], &hi_src[s..s + n])
+            };
+            match *ins {
+                Instr::Const(c, _) => {
+                    if regs.constants_filled <= i {
+                        lo_rest[..LANES].fill(c.lo());
+                        hi_rest[..LANES].fill(c.hi());
+                    }
+                }
+                Instr::Input(k) => {
+                    for (j, p) in points.iter().enumerate() {
+                        let x = p[k as usize];
+                        (lo[j], hi[j]) = checked(x, x);
+                    }
+                }
+                Instr::Add(a, b) => {
+                    let ((alo, ahi), (blo, bhi)) = (reg(a), reg(b));
+                    for j in 0..n {
+                        let (r_lo, r_hi) = if zero_point(blo[j], bhi[j]) {
+                            (alo[j], ahi[j])
+                        } else if zero_point(alo[j], ahi[j]) {
+                            (blo[j], bhi[j])
+                        } else if alo[j] == ahi[j] && blo[j] == bhi[j] && alo[j] == -blo[j] {
+                            (0.0, 0.0)
+                        } else {
+                            checked(down(alo[j] + blo[j]), up(ahi[j] + bhi[j]))
+                        };
+                        lo[j] = r_lo;
+                        hi[j] = r_hi;
+                    }
+                }
+                Instr::Sub(a, b) => {
+                    let ((alo, ahi), (blo, bhi)) = (reg(a), reg(b));
+                    for j in 0..n {
+                        let (r_lo, r_hi) = if zero_point(blo[j], bhi[j]) {
+                            (alo[j], ahi[j])
+                        } else if alo[j] == ahi[j] && blo[j] == bhi[j] && alo[j] == blo[j] {
+                            (0.0, 0.0)
+                        } else {
+                            checked(down(alo[j] - bhi[j]), up(ahi[j] - blo[j]))
+                        };
+                        lo[j] = r_lo;
+                        hi[j] = r_hi;
+                    }
+                }
+                Instr::Mul(a, b) => {
+                    let ((alo, ahi), (blo, bhi)) = (reg(a), reg(b));
+                    for j in 0..n {
+                        let (al, ah, bl, bh) = (alo[j], ahi[j], blo[j], bhi[j]);
+                        let p = [al * bl, al * bh, ah * bl, ah * bh];
+                        let mn = p[0].min(p[1]).min(p[2].min(p[3]));
+                        let mx = p[0].max(p[1]).max(p[2].max(p[3]));
+                        let invalid = al.is_nan() || bl.is_nan();
+                        let zero = zero_point(al, ah) || zero_point(bl, bh);
+                        let (r_lo, r_hi) = if invalid {
+                            (f64::NAN, f64::NAN)
+                        } else if zero {
+                            (0.0, 0.0)
+                        } else {
+                            checked(down(mn), up(mx))
+                        };
+                        lo[j] = r_lo;
+                        hi[j] = r_hi;
+                    }
+                }
+                Instr::Neg(a) => {
+                    let (alo, ahi) = reg(a);
+                    for j in 0..n {
+                        lo[j] = -ahi[j];
+                        hi[j] = -alo[j];
+                    }
+                }
+                _ => {
+                    for j in 0..n {
+                        let r = |k: u32| {
+                            let s = k as usize * LANES + j;
+                            Interval::new(lo_src[s], hi_src[s])
+                        };
+                        let v = match *ins {
+                            Instr::Div(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.div(y)),
+                            Instr::PowI(a, k) => r(a).and_then(|x| x.powi(i64::from(k))),
+                            Instr::Root(a, q) => r(a).and_then(|x| root(x, q)),
+                            Instr::Exp(a) => r(a).and_then(Interval::exp),
+                            Instr::Log(a) => r(a).and_then(Interval::ln),
+                            Instr::Sin(a) => r(a).map(Interval::sin),
+                            Instr::Cos(a) => r(a).map(Interval::cos),
+                            _ => None,
+                        };
+                        (lo[j], hi[j]) = v.map_or((f64::NAN, f64::NAN), |v| (v.lo(), v.hi()));
+                    }
+                }
+            }
+        }
+        regs.constants_filled = self.instrs.len();
+    }
+
+    /// Which instructions the registers `outs` depend on (the rest can be skipped).
+    #[must_use]
+    pub fn needed(&self, outs: &[u32]) -> Vec<bool> {
+        let mut need = vec![false; self.instrs.len()];
+        for &r in outs {
+            need[r as usize] = true;
+        }
+        for i in (0..self.instrs.len()).rev() {
+            if !need[i] {
+                continue;
+            }
+            let mut mark = |k: u32| need[k as usize] = true;
+            match self.instrs[i] {
+                Instr::Const(..) | Instr::Input(_) => {}
+                Instr::Add(a, b) | Instr::Sub(a, b) | Instr::Mul(a, b) | Instr::Div(a, b) => {
+                    mark(a);
+                    mark(b);
+                }
+                Instr::Neg(a)
+                | Instr::PowI(a, _)
+                | Instr::Root(a, _)
+                | Instr::Exp(a)
+                | Instr::Log(a)
+                | Instr::Sin(a)
+                | Instr::Cos(a) => mark(a),
+            }
+        }
+        need
+    }
+}
+
+/// Values of instructions kept across points by [`IntervalProgram::run_in`].
+///
+/// An instruction's value is a function of the coordinates it depends on (constants and
+/// parameters are fixed for a program, and every operation is deterministic), so a value
+/// computed at one point is the value at every point with the same bits in those
+/// coordinates. On a grid, an instruction of at most two coordinates (a phase `x - t`, its
+/// sine) recurs along whole lines and planes of points; only those are kept, at most
+/// [`Memo::CAPACITY`] at a time (the memo is emptied when full).
+#[derive(Clone, Debug)]
+pub struct Memo<S> {
+    /// Per instruction, the coordinates it depends on (bit `k` for coordinate `k`).
+    deps: Vec<u8>,
+    /// Per instruction, whether its values are kept.
+    kept: Vec<bool>,
+    values: FxHashMap<(u32, [u64; 4]), Option<S>>,
+}
+
+impl<S: Clone> Memo<S> {
+    /// Values kept at most.
+    pub const CAPACITY: usize = 1 << 14;
+
+    /// An empty memo for `program`.
+    #[must_use]
+    pub fn new(program: &IntervalProgram) -> Memo<S> {
+        let mut deps = Vec::with_capacity(program.instrs.len());
+        for i in &program.instrs {
+            let d = |k: u32| deps[k as usize];
+            let m = match *i {
+                Instr::Const(..) => 0,
+                Instr::Input(k) => 1u8 << k,
+                Instr::Add(a, b) | Instr::Sub(a, b) | Instr::Mul(a, b) | Instr::Div(a, b) => {
+                    d(a) | d(b)
+                }
+                Instr::Neg(a)
+                | Instr::PowI(a, _)
+                | Instr::Root(a, _)
+                | Instr::Exp(a)
+                | Instr::Log(a)
+                | Instr::Sin(a)
+                | Instr::Cos(a) => d(a),
+            };
+            deps.push(m);
+        }
+        let kept = program
+            .instrs
+            .iter()
+            .zip(&deps)
+            .map(|(i, d)| {
+                !matches!(i, Instr::Const(..) | Instr::Input(_))
+                    && (1..=2).contains(&d.count_ones())
+            })
+            .collect();
+        Memo {
+            deps,
+            kept,
+            values: FxHashMap::default(),
+        }
+    }
+
+    /// The key of instruction `n` at `point`, if it is one that is kept: an operation that
+    /// depends on one or two coordinates (constants and inputs are cheaper to make than to
+    /// look up).
+    fn key(&self, n: usize, point: [f64; 4]) -> Option<(u32, [u64; 4])> {
+        let d = self.deps[n];
+        if !self.kept[n] {
+            return None;
+        }
+        let mut k = [0u64; 4];
+        for (c, (slot, x)) in k.iter_mut().zip(point).enumerate() {
+            if d & (1 << c) != 0 {
+                *slot = x.to_bits();
+            }
+        }
+        Some((n as u32, k))
+    }
+
+    fn insert(&mut self, k: (u32, [u64; 4]), v: Option<S>) {
+        if self.values.len() >= Self::CAPACITY {
+            self.values.clear();
+        }
+        self.values.insert(k, v);
     }
 }
 
@@ -315,7 +656,9 @@ mod tests {
     use super::*;
     use crate::export::lower::{Texts, roots};
     use crate::export::quantity::Quantity;
+    use crate::interval::Ball;
     use crate::tape::UserExprs;
+    use proptest::prelude::*;
 
     /// The program's enclosures contain the true values: R_txtx of h_xx = sin(w (t - z)) is
     /// (w^2/2) sin(w (t - z)) (MTW sign: R_txtx = -(1/2) d_t d_t h_xx).
@@ -359,5 +702,136 @@ mod tests {
         assert!(r.lo() <= 2.0 && 2.0 <= r.hi() && r.hi() - r.lo() < 1e-14);
         assert!(root(Interval::point(-8.0).unwrap(), 3).is_none());
         assert_eq!(root(Interval::ZERO, 3), Some(Interval::ZERO));
+    }
+
+    /// The values the block evaluator is tested on: exact zeros and ones (the exact-point
+    /// cases of add, mul, div, sin), halves, small and large magnitudes, negative numbers.
+    fn coordinate() -> impl Strategy<Value = f64> {
+        prop_oneof![
+            Just(0.0),
+            Just(-0.0),
+            Just(1.0),
+            Just(0.5),
+            -3.0..3.0f64,
+            -1e-300..1e-300f64,
+            -1e150..1e150f64,
+        ]
+    }
+
+    /// A random program over `t, x, y, z`, a parameter and a few constants: `ops` are
+    /// (operation, operand, operand, exponent) with operands taken modulo the nodes so far.
+    fn random_program(ops: &[(u8, u16, u16, i8)]) -> (IntervalProgram, Vec<u32>) {
+        let mut p = IntervalProgram::new(&[("w".into(), 1.7)]);
+        let mut nodes = Vec::new();
+        for c in ["t", "x", "y", "z", "w"] {
+            nodes.push(p.symbol(c, None).unwrap());
+        }
+        for (n, d) in [(0, 1), (1, 3), (2, 1), (-5, 7)] {
+            let q = BigRational::new(n.into(), d.into());
+            nodes.push(p.number(&q).unwrap());
+        }
+        nodes.push(p.pi());
+        for &(op, a, b, k) in ops {
+            let a = nodes[a as usize % nodes.len()];
+            let b = nodes[b as usize % nodes.len()];
+            let r = match op % 11 {
+                0 => p.add(a, b),
+                1 => p.sub(a, b),
+                2 => p.mul(a, b),
+                3 => p.div(a, b),
+                4 => p.neg(a),
+                5 => p.powi(a, i32::from(k % 5)),
+                6 => p.root(a, 2 + u32::from(k.unsigned_abs() % 2)),
+                7 => p.exp(a),
+                8 => p.log(a),
+                9 => p.sin(a),
+                _ => p.cos(a),
+            };
+            nodes.push(r);
+        }
+        (p, nodes)
+    }
+
+    fn bits(v: Option<Interval>) -> Option<(u64, u64)> {
+        v.map(|i| (i.lo().to_bits(), i.hi().to_bits()))
+    }
+
+    proptest! {
+        /// The branch-free ulp steps are `next_up`/`next_down` wherever the block evaluator
+        /// relies on them (every double but NaN and the infinity they move away from).
+        #[test]
+        fn ulp_steps_are_next_up_and_next_down(b in any::<u64>()) {
+            let x = f64::from_bits(b);
+            if x.is_nan() {
+                prop_assert!(up(x).is_nan() && down(x).is_nan());
+            } else {
+                if x != f64::INFINITY {
+                    prop_assert_eq!(up(x).to_bits(), x.next_up().to_bits(), "{:e}", x);
+                }
+                if x != f64::NEG_INFINITY {
+                    prop_assert_eq!(down(x).to_bits(), x.next_down().to_bits(), "{:e}", x);
+                }
+            }
+        }
+
+        /// The block evaluator gives, bit for bit, what the per-point evaluator gives, in
+        /// every register and every lane (so it inherits its enclosures); lanes are
+        /// independent of each other.
+        #[test]
+        fn block_evaluation_is_the_per_point_evaluation(
+            ops in proptest::collection::vec((any::<u8>(), any::<u16>(), any::<u16>(), any::<i8>()), 1..40),
+            points in proptest::collection::vec(proptest::array::uniform4(coordinate()), 1..=LANES),
+        ) {
+            let (p, _) = random_program(&ops);
+            let mut block = p.block_regs();
+            p.run_block(&points, &mut block);
+            let mut regs = Vec::new();
+            for (k, &pt) in points.iter().enumerate() {
+                p.run(pt, &mut regs);
+                for (r, &want) in regs.iter().enumerate() {
+                    prop_assert_eq!(bits(block.get(r as u32, k)), bits(want), "register {} lane {}", r, k);
+                }
+            }
+            // A second, shorter block in the same register file (constants kept).
+            let tail = &points[points.len() / 2..];
+            p.run_block(tail, &mut block);
+            for (k, &pt) in tail.iter().enumerate() {
+                p.run(pt, &mut regs);
+                for (r, &want) in regs.iter().enumerate() {
+                    prop_assert_eq!(bits(block.get(r as u32, k)), bits(want), "register {} lane {}", r, k);
+                }
+            }
+        }
+
+        /// Every enclosure of the block evaluator meets the 256-bit ball of the same value
+        /// (both contain the exact value), and running only the instructions an output
+        /// needs, with values kept from earlier points, gives that output unchanged.
+        #[test]
+        fn block_enclosures_meet_multiprecision_balls(
+            ops in proptest::collection::vec((any::<u8>(), any::<u16>(), any::<u16>(), any::<i8>()), 1..30),
+            points in proptest::collection::vec(proptest::array::uniform4(coordinate()), 1..8),
+        ) {
+            let (p, nodes) = random_program(&ops);
+            let mut block = p.block_regs();
+            p.run_block(&points, &mut block);
+            let consts = p.constants::<Ball>(&256);
+            let last = *nodes.last().unwrap();
+            let need = p.needed(&[last]);
+            let (mut balls, mut sliced) = (Vec::new(), Vec::new());
+            let mut memo = Memo::new(&p);
+            for (k, &pt) in points.iter().enumerate() {
+                p.run_in(pt, &256, &consts, None, None, &mut balls);
+                for (r, b) in balls.iter().enumerate() {
+                    if let (Some(i), Some(b)) = (block.get(r as u32, k), b) {
+                        let (lo, hi) = b.bounds_f64();
+                        prop_assert!(lo <= i.hi() && i.lo() <= hi,
+                            "register {} at {:?}: f64 {:?}, ball [{:e}, {:e}]", r, pt, i, lo, hi);
+                    }
+                }
+                p.run_in(pt, &256, &consts, Some(&need), Some(&mut memo), &mut sliced);
+                let (a, b) = (&balls[last as usize], &sliced[last as usize]);
+                prop_assert_eq!(a.as_ref().map(Ball::bounds_f64), b.as_ref().map(Ball::bounds_f64));
+            }
+        }
     }
 }

@@ -348,3 +348,26 @@ fn issue9_constants_with_one_f64_enclosure_stay_apart() {
     assert!((v / -3e-30 - 1.0).abs() < 1e-12, "{v}");
     assert!(ev.columns[4].precision_bits >= 128, "{:?}", ev.columns[4]);
 }
+
+/// Issue 10: a phase that vanishes exactly at the point (x = t as doubles) gives the exact 0
+/// in f64 intervals (exact 0 stays exact through mul, div, sin), so the value is certified
+/// without raising the precision; beside it, rows evaluated in blocks of the interval
+/// program agree with the definition.
+#[test]
+fn issue10_an_exactly_vanishing_phase_needs_no_multiprecision() {
+    let mut p = problem("[parameters]\nd = 3.0\n[perturbation]\nxx = 'sin(2*pi*(x - t)/d)'\n");
+    let mut rows = String::from("0.25,0.25,0,0\n");
+    // x - t from 0.05 to 1.04: the phase stays inside (0, pi), away from other zeros.
+    for k in 0..100 {
+        rows.push_str(&format!("0.25,{},0,0\n", 0.3 + f64::from(k) * 0.01));
+    }
+    let ev = export(&mut p, &[Quantity::H], None, &rows, &Settings::default()).unwrap();
+    assert_eq!(ev.table.row(0)[8], 0.0);
+    assert_eq!(ev.columns[4].near_zero_rows, 0);
+    assert_eq!(ev.columns[4].precision_bits, 53, "{:?}", ev.columns[4]);
+    for r in 1..ev.table.rows() {
+        let x = ev.table.row(r)[1];
+        let want = (2.0 * std::f64::consts::PI * (x - 0.25) / 3.0).sin();
+        assert!((ev.table.row(r)[8] - want).abs() <= 1e-14, "row {r}");
+    }
+}

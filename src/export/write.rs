@@ -135,8 +135,14 @@ pub fn npy_header(rows: usize, cols: usize) -> Vec<u8> {
 /// An I/O error of `w`.
 pub fn write_npy(w: &mut impl Write, table: &Table) -> io::Result<()> {
     w.write_all(&npy_header(table.rows(), table.columns.len()))?;
-    for v in &table.values {
-        w.write_all(&(v + 0.0).to_le_bytes())?;
+    // A few thousand values per write call, not one (the writer hashes what it is given).
+    let mut buf = Vec::with_capacity(8 * 4096);
+    for chunk in table.values.chunks(4096) {
+        buf.clear();
+        for v in chunk {
+            buf.extend_from_slice(&(v + 0.0).to_le_bytes());
+        }
+        w.write_all(&buf)?;
     }
     Ok(())
 }

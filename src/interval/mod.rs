@@ -219,6 +219,10 @@ impl Interval {
         if self.is_zero_point() {
             return Some(rhs);
         }
+        // A point plus its negative is exactly 0.
+        if self.lo == self.hi && rhs.lo == rhs.hi && self.lo == -rhs.lo {
+            return Some(Interval::ZERO);
+        }
         Interval::new(down(self.lo + rhs.lo), up(self.hi + rhs.hi))
     }
 
@@ -231,6 +235,10 @@ impl Interval {
     pub fn sub(self, rhs: Interval) -> Option<Interval> {
         if rhs.is_zero_point() {
             return Some(self);
+        }
+        // A point minus itself is exactly 0 (a phase t - x at t = x, say).
+        if self.lo == self.hi && rhs.lo == rhs.hi && self.lo == rhs.lo {
+            return Some(Interval::ZERO);
         }
         Interval::new(down(self.lo - rhs.hi), up(self.hi - rhs.lo))
     }
@@ -250,10 +258,14 @@ impl Interval {
         Interval::new(down(lo), up(hi))
     }
 
-    /// Quotient; `None` if the divisor contains 0 or on overflow.
+    /// Quotient; `None` if the divisor contains 0 or on overflow. The exact 0 divided by
+    /// anything else is the exact 0.
     pub fn div(self, rhs: Interval) -> Option<Interval> {
         if rhs.contains_zero() {
             return None;
+        }
+        if self.is_zero_point() {
+            return Some(Interval::ZERO);
         }
         let (lo, hi) = min_max([
             self.lo / rhs.lo,
@@ -333,8 +345,11 @@ impl Interval {
         Interval::new(down(self.lo.sqrt()).max(0.0), up(self.hi.sqrt()))
     }
 
-    /// Exponential (increasing); `None` on overflow.
+    /// Exponential (increasing), exactly 1 at the exact point 0; `None` on overflow.
     pub fn exp(self) -> Option<Interval> {
+        if self.is_zero_point() {
+            return Some(Interval::ONE);
+        }
         let lo = widen_down(self.lo.exp(), LIBM_ULPS).max(0.0);
         let hi = widen_up(self.hi.exp(), LIBM_ULPS);
         Interval::new(lo, hi)
@@ -366,12 +381,22 @@ impl Interval {
     /// Sine, by the mean-value form `sin(m) ± r` intersected with [-1, 1], where `m` is a
     /// point inside and `r` bounds the half-width; [-1, 1] if wider than 2π or if
     /// `|x| > 1e6`.
+    ///
+    /// The exact point 0 gives the exact 0 (sin 0 = 0), so a phase that vanishes exactly
+    /// keeps an exact value instead of a few ulp of width around it.
     pub fn sin(self) -> Interval {
+        if self.is_zero_point() {
+            return Interval::ZERO;
+        }
         self.mean_value_unit(f64::sin)
     }
 
-    /// Cosine, by the mean-value form, like [`Interval::sin`].
+    /// Cosine, by the mean-value form, like [`Interval::sin`]; exactly 1 at the exact point
+    /// 0.
     pub fn cos(self) -> Interval {
+        if self.is_zero_point() {
+            return Interval::ONE;
+        }
         self.mean_value_unit(f64::cos)
     }
 
@@ -888,6 +913,29 @@ mod tests {
                 .contains(std::f64::consts::SQRT_2)
         );
         assert_eq!(pt(-2.0).pow(pt(2.0)), None);
+    }
+
+    #[test]
+    fn exact_zero_stays_exact_through_sin_cos_exp_division_and_cancelling_points() {
+        let z = Interval::ZERO;
+        assert_eq!(z.sin(), Interval::ZERO);
+        assert_eq!(z.cos(), Interval::ONE);
+        assert_eq!(z.exp(), Some(Interval::ONE));
+        let d = Interval::new(-3.0, -0.5).unwrap();
+        assert_eq!(z.div(d), Some(Interval::ZERO));
+        assert_eq!(z.div(Interval::new(-1.0, 1.0).unwrap()), None);
+        let a = Interval::point(0.3).unwrap();
+        assert_eq!(a.sub(a), Some(Interval::ZERO));
+        assert_eq!(a.add(-a), Some(Interval::ZERO));
+        let w = Interval::new(0.3, 0.4).unwrap();
+        assert!(
+            w.sub(w).unwrap().lo() < 0.0,
+            "an interval minus itself is not 0"
+        );
+        // Not exact zeros: enclosures of positive width.
+        let t = Interval::new(0.0, 1e-300).unwrap();
+        assert!(t.sin().lo() < 0.0 && t.cos().hi() >= 1.0);
+        assert!(t.div(d).unwrap().lo() < 0.0);
     }
 
     #[test]
