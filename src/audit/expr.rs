@@ -965,9 +965,7 @@ fn part_value<S: Scalar>(
         Part::Combo(terms) => {
             let mut acc = S::zero();
             for (c, atom) in terms {
-                let c = match c {
-                    c => c.enclose::<S>(ctx)?,
-                };
+                let c = c.enclose::<S>(ctx)?;
                 acc = acc.add(&f.atom(atom)?.mul(&c)?)?;
             }
             Some(acc)
