@@ -22,9 +22,6 @@
 //!
 //! **Invariant:** like the rest of [`crate::audit`], never calls `canon`, `zero` or `tensor`.
 
-// Index loops mirror the tensor formulas they implement.
-#![allow(clippy::needless_range_loop)]
-
 use super::{
     Audit, AuditError, Coef, Fields, SplitMix64, claim_terms, generic_sample_text, parse_text,
     round6,
