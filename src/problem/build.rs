@@ -100,7 +100,7 @@ impl Builder<'_> {
         self.build(e, &expr, names)
     }
 
-    /// Each name at most once across [parameters], [functions] and [define].
+    /// Each name at most once across \[parameters\], \[functions\] and \[define\].
     fn check_declarations(&self) -> Result<(), ProblemError> {
         let f = self.file;
         let mut decls: Vec<(&str, Span, Kind)> = f

@@ -23,7 +23,7 @@
 //! Reading happens in two stages, so that every input error is found before any work starts:
 //! [`ProblemFile::parse`] checks the file's structure (tables, keys, types) and keeps the span
 //! of every key and string; [`ProblemFile::build`] resolves names and builds each expression
-//! into a canonical form. [`read`] and [`from_str`] do both.
+//! into a canonical form. [`read`](fn@read) and [`from_str`] do both.
 //!
 //! Key design decision: the file is read as a generic spanned TOML tree and checked by hand,
 //! not through a derived deserializer, so that every error (an unknown key, a component given
@@ -484,7 +484,7 @@ pub fn read(path: &std::path::Path) -> Result<Problem, ProblemError> {
 ///
 /// # Errors
 ///
-/// As [`read`]; a file that is not valid UTF-8 is an error at its first invalid byte (byte
+/// As [`read`](fn@read); a file that is not valid UTF-8 is an error at its first invalid byte (byte
 /// offset, line and column in the message).
 pub fn read_with(path: &std::path::Path, limits: Limits) -> Result<Problem, ProblemError> {
     let label = path.display().to_string();
