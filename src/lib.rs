@@ -38,6 +38,10 @@
 //! assert!(matches!(decide(&mut store, f, &Sampling::default()), Verdict::Zero));
 //! ```
 #![warn(missing_docs)]
+#![allow(
+    clippy::needless_range_loop,
+    reason = "index loops over tensor components read like the formulas"
+)]
 
 pub mod adm;
 pub mod audit;

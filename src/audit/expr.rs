@@ -22,9 +22,6 @@
 //!
 //! **Invariant:** like the rest of [`crate::audit`], never calls `canon`, `zero` or `tensor`.
 
-// Index loops mirror the tensor formulas they implement.
-#![allow(clippy::needless_range_loop)]
-
 use super::{
     Audit, AuditError, Coef, Fields, SplitMix64, claim_terms, generic_sample_text, parse_text,
     round6,
@@ -965,9 +962,7 @@ fn part_value<S: Scalar>(
         Part::Combo(terms) => {
             let mut acc = S::zero();
             for (c, atom) in terms {
-                let c = match c {
-                    c => c.enclose::<S>(ctx)?,
-                };
+                let c = c.enclose::<S>(ctx)?;
                 acc = acc.add(&f.atom(atom)?.mul(&c)?)?;
             }
             Some(acc)

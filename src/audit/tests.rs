@@ -209,7 +209,7 @@ fn fields_match_direct_derivatives() {
     let f = audit
         .fields_at(&[("t", 0.0), ("x", x), ("y", y), ("z", z), ("m", m)])
         .expect("point");
-    let r: f64 = (x * x + y * y + z * z as f64).sqrt();
+    let r: f64 = (x * x + y * y + z * z).sqrt();
     let close = |iv: Option<Interval>, want: f64| {
         let iv = iv.expect("evaluable");
         assert!(

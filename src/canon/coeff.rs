@@ -160,12 +160,12 @@ impl Coeff {
         match parts.as_slice() {
             [] => Coeff::zero(),
             [(b, q)] => {
-                if let (Some(n), Some(d)) = (q.numer().to_i64(), q.denom().to_u64()) {
-                    if n != i64::MIN {
-                        return Coeff {
-                            repr: Repr::Small(n, d, *b),
-                        };
-                    }
+                if let (Some(n), Some(d)) = (q.numer().to_i64(), q.denom().to_u64())
+                    && n != i64::MIN
+                {
+                    return Coeff {
+                        repr: Repr::Small(n, d, *b),
+                    };
                 }
                 Coeff {
                     repr: Repr::Parts(parts),
@@ -327,23 +327,22 @@ impl Coeff {
         if self.is_zero() {
             return o.clone();
         }
-        if let (Repr::Small(a, b, e1), Repr::Small(c, d, e2)) = (&self.repr, &o.repr) {
-            if e1 == e2 {
-                // a/b + c/d = (a d + c b)/(b d): |a d|, |c b| < 2^127, checked.
-                let (a, b, c, d) = (*a as i128, *b as u128, *c as i128, *d as u128);
-                if b == d {
-                    if let Some(r) = small_of(a + c, b, *e1) {
-                        return r;
-                    }
-                } else if let (Some(x), Some(y), Some(bd)) = (
-                    a.checked_mul(d as i128),
-                    c.checked_mul(b as i128),
-                    b.checked_mul(d),
-                ) {
-                    if let Some(r) = x.checked_add(y).and_then(|n| small_of(n, bd, *e1)) {
-                        return r;
-                    }
+        if let (Repr::Small(a, b, e1), Repr::Small(c, d, e2)) = (&self.repr, &o.repr)
+            && e1 == e2
+        {
+            // a/b + c/d = (a d + c b)/(b d): |a d|, |c b| < 2^127, checked.
+            let (a, b, c, d) = (*a as i128, *b as u128, *c as i128, *d as u128);
+            if b == d {
+                if let Some(r) = small_of(a + c, b, *e1) {
+                    return r;
                 }
+            } else if let (Some(x), Some(y), Some(bd)) = (
+                a.checked_mul(d as i128),
+                c.checked_mul(b as i128),
+                b.checked_mul(d),
+            ) && let Some(r) = x.checked_add(y).and_then(|n| small_of(n, bd, *e1))
+            {
+                return r;
             }
         }
         let mut v = self.parts().into_owned();

@@ -98,6 +98,9 @@ struct Mono {
 type Term = (MonoId, Coeff);
 /// Sorted by monomial id, no zero coefficients.
 type Poly = Vec<Term>;
+/// The terms of [`Store::linear`] over one denominator: its factors (like [`Rat::den`]) and
+/// the numerator's coefficient per monomial.
+type DenGroup = (Vec<(FactorId, u32)>, FxHashMap<MonoId, Coeff>);
 
 #[derive(Clone, PartialEq, Eq, Debug)]
 struct Rat {
@@ -424,10 +427,10 @@ impl Store {
         if crate::budget::over_budget() {
             return Err(CanonError::MemoryCap((crate::budget::cap() >> 20) as u64));
         }
-        if let Some((t, ms)) = self.limits.deadline {
-            if Instant::now() > t {
-                return Err(CanonError::Timeout(ms));
-            }
+        if let Some((t, ms)) = self.limits.deadline
+            && Instant::now() > t
+        {
+            return Err(CanonError::Timeout(ms));
         }
         Ok(())
     }
@@ -568,7 +571,7 @@ impl Store {
                     let e = pa[i]
                         .1
                         .checked_add(pb[j].1)
-                        .ok_or_else(|| CanonError::NumberTooLarge(31))?;
+                        .ok_or(CanonError::NumberTooLarge(31))?;
                     if e != 0 {
                         pows.push((pa[i].0, e));
                     }
@@ -665,31 +668,31 @@ impl Store {
             let mono = self.monos[m.0 as usize].clone();
             if mono.exp.is_none() && mono.pows.len() == 1 && mono.pows[0].1 == 1 {
                 let k = mono.pows[0].0;
-                if k == pi {
-                    if let Some(q) = c.as_imag_rational() {
-                        // exp(i*pi*q) depends only on q mod 2.
-                        let two = Q::from_integer(BigInt::from(2));
-                        let q = &q - (&q / &two).floor() * &two;
-                        let twelve_q = &q * Q::from_integer(BigInt::from(12));
-                        if twelve_q.is_integer() {
-                            // q is in [0, 2), so 12 q is an integer in 0..24.
-                            let k = twelve_q.to_integer().to_i64().ok_or_else(|| {
-                                CanonError::Undefined("pi multiple out of range".into())
-                            })?;
-                            coeff = coeff.mul(&Coeff::unit_root24(k));
-                        } else {
-                            rest.push((m, Coeff::rational(q).mul(&Coeff::i())));
-                        }
-                        continue;
+                if k == pi
+                    && let Some(q) = c.as_imag_rational()
+                {
+                    // exp(i*pi*q) depends only on q mod 2.
+                    let two = Q::from_integer(BigInt::from(2));
+                    let q = &q - (&q / &two).floor() * &two;
+                    let twelve_q = &q * Q::from_integer(BigInt::from(12));
+                    if twelve_q.is_integer() {
+                        // q is in [0, 2), so 12 q is an integer in 0..24.
+                        let k = twelve_q.to_integer().to_i64().ok_or_else(|| {
+                            CanonError::Undefined("pi multiple out of range".into())
+                        })?;
+                        coeff = coeff.mul(&Coeff::unit_root24(k));
+                    } else {
+                        rest.push((m, Coeff::rational(q).mul(&Coeff::i())));
                     }
+                    continue;
                 }
-                if let Kernel::Log(arg) = *self.kernel(k) {
-                    if let Some(q) = c.as_rational() {
-                        // exp(q*log(A)) = A^q for the principal branches.
-                        let p = self.pow_rational(arg, &q)?;
-                        pulled = self.mul(pulled, p)?;
-                        continue;
-                    }
+                if let Kernel::Log(arg) = *self.kernel(k)
+                    && let Some(q) = c.as_rational()
+                {
+                    // exp(q*log(A)) = A^q for the principal branches.
+                    let p = self.pow_rational(arg, &q)?;
+                    pulled = self.mul(pulled, p)?;
+                    continue;
                 }
             }
             rest.push((m, c));
@@ -942,7 +945,7 @@ impl Store {
     ///
     /// A size or time limit.
     pub fn linear(&mut self, terms: &[(&Coeff, Form)]) -> CResult<Form> {
-        let mut groups: Vec<(Vec<(FactorId, u32)>, FxHashMap<MonoId, Coeff>)> = Vec::new();
+        let mut groups: Vec<DenGroup> = Vec::new();
         let mut total = 0usize;
         for &(k, f) in terms {
             if f == self.zero || k.is_zero() {
@@ -1228,14 +1231,12 @@ impl Store {
             return Ok(a);
         }
         // Exact square roots of positive rationals k^2 * m, m in {1, 2, 3, 6}.
-        if q == 2 {
-            if let Some(r) = self.as_rational(a) {
-                if r.is_positive() {
-                    if let Some(c) = exact_sqrt(&r) {
-                        return Ok(self.constant(c));
-                    }
-                }
-            }
+        if q == 2
+            && let Some(r) = self.as_rational(a)
+            && r.is_positive()
+            && let Some(c) = exact_sqrt(&r)
+        {
+            return Ok(self.constant(c));
         }
         let k = self.intern_kernel(Kernel::Root { radicand: a, q });
         Ok(self.kernel_form(k))
@@ -1419,10 +1420,10 @@ impl Store {
                     kernels.push(k);
                 }
             }
-            if let Some(e) = mono.exp {
-                if !exps.contains(&e) {
-                    exps.push(e);
-                }
+            if let Some(e) = mono.exp
+                && !exps.contains(&e)
+            {
+                exps.push(e);
             }
         }
         for k in kernels {

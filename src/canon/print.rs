@@ -521,11 +521,11 @@ fn text(p: &Pretty, s: &mut String) {
                 None => (Some(c.clone()), None),
             };
             let mut first = true;
-            if let Some(cn) = cn {
-                if !cn.is_one() || n.is_empty() {
-                    let _ = write!(s, "{cn}");
-                    first = false;
-                }
+            if let Some(cn) = cn
+                && (!cn.is_one() || n.is_empty())
+            {
+                let _ = write!(s, "{cn}");
+                first = false;
             }
             for f in n {
                 if !first {

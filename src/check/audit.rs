@@ -109,7 +109,7 @@ pub fn audit_claims(problem: &Problem, claims: &mut [ClaimReport], seed: u64) {
     };
     // Values at the seeded points, shared by every claim.
     let points = audit.seeded_points(seed, AUDIT_POINTS);
-    let mut at_points: Vec<(Vec<(String, f64)>, FxHashMap<String, Interval>)> = Vec::new();
+    let mut at_points: Vec<PointValues> = Vec::new();
     for p in points {
         let values = match audit.components_at(&p) {
             Ok(v) => by_key(v),
@@ -207,15 +207,14 @@ fn witness_value(
     best
 }
 
+/// A seeded point (coordinate and parameter values) and the enclosure of every component
+/// there, by component key (empty when the point cannot be evaluated).
+type PointValues = (Vec<(String, f64)>, FxHashMap<String, Interval>);
+
 /// Working precisions (bits) for re-certifying a witness that f64 intervals cannot.
 const WITNESS_PRECISIONS: [u32; 3] = [128, 256, 512];
 
-fn audit_proof(
-    k: &mut Component,
-    id: &str,
-    at_points: &[(Vec<(String, f64)>, FxHashMap<String, Interval>)],
-    seed: u64,
-) -> Audited {
+fn audit_proof(k: &mut Component, id: &str, at_points: &[PointValues], seed: u64) -> Audited {
     let mut evaluated = 0;
     for (point, values) in at_points {
         let Some(v) = values.get(id) else { continue };

@@ -13,9 +13,6 @@
 //!   pairs `(ab) <= (cd)` of antisymmetric index pairs;
 //! - source conservation: `d^m T_mn = eta^{mm} d_m T_mn`.
 
-// Index loops mirror the tensor formulas they implement.
-#![allow(clippy::needless_range_loop)]
-
 use crate::problem::{Claims, Gauge};
 use std::collections::BTreeMap;
 

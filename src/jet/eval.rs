@@ -412,13 +412,13 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
     }
 
     fn binary(&mut self, op: BinOp, a: &Expr, b: &Expr, order: u32) -> Result<Jet<S>, Here> {
-        if op == BinOp::Pow {
-            if let Some(r) = exact_rational(b) {
-                if let ExprKind::Ident(name) = &a.kind {
-                    return self.name_power(name, r, order);
-                }
-                return self.eval(a, order)?.pow_rational(&r, self.ctx).here();
+        if op == BinOp::Pow
+            && let Some(r) = exact_rational(b)
+        {
+            if let ExprKind::Ident(name) = &a.kind {
+                return self.name_power(name, r, order);
             }
+            return self.eval(a, order)?.pow_rational(&r, self.ctx).here();
         }
         let x = self.eval(a, order)?;
         let y = self.eval(b, order)?;
@@ -448,10 +448,10 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
         order: u32,
         f: impl FnOnce(&Jet<S>) -> Option<Jet<S>>,
     ) -> Result<Jet<S>, Here> {
-        if let Some(done) = self.applied.get(name) {
-            if let Some((_, _, j)) = done.iter().find(|(o, n, _)| *n == order && *o == op) {
-                return Ok(j.clone());
-            }
+        if let Some(done) = self.applied.get(name)
+            && let Some((_, _, j)) = done.iter().find(|(o, n, _)| *n == order && *o == op)
+        {
+            return Ok(j.clone());
         }
         let j = f(&self.ident(name, order)?).here()?;
         self.applied
@@ -565,10 +565,11 @@ pub fn free_names(e: &Expr) -> Vec<String> {
 pub fn called_functions(e: &Expr) -> Vec<String> {
     let mut out: Vec<String> = Vec::new();
     e.walk(&mut |node| {
-        if let ExprKind::Call { name, .. } = &node.kind {
-            if !BUILTINS.contains(&name.as_str()) && !out.contains(name) {
-                out.push(name.clone());
-            }
+        if let ExprKind::Call { name, .. } = &node.kind
+            && !BUILTINS.contains(&name.as_str())
+            && !out.contains(name)
+        {
+            out.push(name.clone());
         }
     });
     out

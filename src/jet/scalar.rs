@@ -257,16 +257,17 @@ pub fn rational_interval(q: &BigRational) -> Option<Interval> {
     }
     // Fast path: numerator and denominator exact in f64, so one correctly rounded division
     // is within half an ulp, and one step outward encloses it.
-    if n.bits() <= 53 && d.bits() <= 53 {
-        if let (Some(nf), Some(df)) = (n.to_f64(), d.to_f64()) {
-            let v = nf / df;
-            // Division by a power of two (no underflow here: |v| >= 2^-53) is exact.
-            if d.magnitude().count_ones() == 1 {
-                return Interval::point(v);
-            }
-            if v != 0.0 && v.abs() >= f64::MIN_POSITIVE {
-                return Interval::new(v.next_down(), v.next_up());
-            }
+    if n.bits() <= 53
+        && d.bits() <= 53
+        && let (Some(nf), Some(df)) = (n.to_f64(), d.to_f64())
+    {
+        let v = nf / df;
+        // Division by a power of two (no underflow here: |v| >= 2^-53) is exact.
+        if d.magnitude().count_ones() == 1 {
+            return Interval::point(v);
+        }
+        if v != 0.0 && v.abs() >= f64::MIN_POSITIVE {
+            return Interval::new(v.next_down(), v.next_up());
         }
     }
     // BigRational keeps the denominator positive.

@@ -112,7 +112,7 @@ impl JetSpace {
         let mut cur = vec![0u8; vars];
         for deg in 0..=max_order {
             push_degree(&mut exps, &mut cur, 0, deg);
-            len_of.push(if vars == 0 { 1 } else { exps.len() / vars });
+            len_of.push(exps.len().checked_div(vars).unwrap_or(1));
         }
         let len = *len_of.last().unwrap_or(&1);
         let mono = |i: usize| &exps[i * vars..(i + 1) * vars];
@@ -127,8 +127,8 @@ impl JetSpace {
         for i in 0..len {
             let di = degree(i);
             for j in 0..len_of[(max_order - di) as usize] {
-                for v in 0..vars {
-                    sum[v] = mono(i)[v] + mono(j)[v];
+                for ((s, a), b) in sum.iter_mut().zip(mono(i)).zip(mono(j)) {
+                    *s = a + b;
                 }
                 let c = index[&sum];
                 buckets[c as usize].push((i as u32, j as u32));

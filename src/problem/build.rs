@@ -4,7 +4,7 @@
 //! its second place in the file), then parameters, function samples, defines (each with the
 //! names declared before it), the perturbation and the source.
 
-use super::{COORDINATES, Component, ExprText, Problem, ProblemError, ProblemFile};
+use super::{COORDINATES, Component, ExprText, Problem, ProblemError, ProblemFile, TensorText};
 use crate::canon::{CanonError, Form, FunctionSample, Limits, Names, Store};
 use crate::expr::{Expr, ExprKind, Span};
 use crate::zero::Sampling;
@@ -12,7 +12,6 @@ use rustc_hash::FxHashMap;
 use std::rc::Rc;
 
 type Tensor = [[Form; 4]; 4];
-type TensorText = [[Option<String>; 4]; 4];
 
 #[derive(Clone, Copy, PartialEq, Eq)]
 enum Kind {
@@ -101,7 +100,7 @@ impl Builder<'_> {
         self.build(e, &expr, names)
     }
 
-    /// Each name at most once across [parameters], [functions] and [define].
+    /// Each name at most once across \[parameters\], \[functions\] and \[define\].
     fn check_declarations(&self) -> Result<(), ProblemError> {
         let f = self.file;
         let mut decls: Vec<(&str, Span, Kind)> = f
@@ -237,7 +236,7 @@ impl Builder<'_> {
     ) -> Result<(Tensor, TensorText), ProblemError> {
         let zero = self.store.zero();
         let mut m = [[zero; 4]; 4];
-        let mut text: [[Option<String>; 4]; 4] = Default::default();
+        let mut text: TensorText = Default::default();
         for c in components {
             let f = self.parse_and_build(&c.expr, names)?;
             m[c.mu][c.nu] = f;

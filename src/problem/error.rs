@@ -28,7 +28,8 @@ pub struct ProblemError {
     pub source_code: Arc<NamedSource<String>>,
     /// Set when a size or time limit stopped building an expression: not an error in the
     /// file, and callers report it as undecided (too large, too slow), not as bad input.
-    pub limit: Option<CanonError>,
+    /// Boxed: it is rare, and without it every `Result<_, ProblemError>` would carry its size.
+    pub limit: Option<Box<CanonError>>,
 }
 
 impl ProblemError {
@@ -74,7 +75,7 @@ impl ProblemError {
     /// The same error, marked as a limit reached (see [`ProblemError::limit`]).
     #[must_use]
     pub fn with_limit(mut self, limit: CanonError) -> ProblemError {
-        self.limit = Some(limit);
+        self.limit = Some(Box::new(limit));
         self
     }
 

@@ -23,7 +23,7 @@
 //! Reading happens in two stages, so that every input error is found before any work starts:
 //! [`ProblemFile::parse`] checks the file's structure (tables, keys, types) and keeps the span
 //! of every key and string; [`ProblemFile::build`] resolves names and builds each expression
-//! into a canonical form. [`read`] and [`from_str`] do both.
+//! into a canonical form. [`read`](fn@read) and [`from_str`] do both.
 //!
 //! Key design decision: the file is read as a generic spanned TOML tree and checked by hand,
 //! not through a derived deserializer, so that every error (an unknown key, a component given
@@ -49,6 +49,10 @@ use crate::canon::{Form, Limits, Names, Store};
 use crate::expr::Span;
 use crate::zero::Sampling;
 use std::fmt;
+
+/// The texts of a symmetric tensor's components as written, at both `[mu][nu]` and
+/// `[nu][mu]`; `None` for a component the file omits.
+pub type TensorText = [[Option<String>; 4]; 4];
 
 /// The ten independent components of a symmetric 4x4 tensor, as `(mu, nu)` with `mu <= nu`,
 /// in the order tt tx ty tz xx xy xz yy yz zz (index 0 = t, 1 = x, 2 = y, 3 = z).
@@ -361,12 +365,12 @@ pub struct Problem {
     /// `h_{mu nu}`, symmetric; omitted components are zero.
     pub h: [[Form; 4]; 4],
     /// The texts of `h` as written, at both `[mu][nu]` and `[nu][mu]`.
-    pub h_text: [[Option<String>; 4]; 4],
+    pub h_text: TensorText,
     /// `T_{mu nu}`, symmetric; `None` when the file has no \[source\] table.
     pub source: Option<[[Form; 4]; 4]>,
     /// The texts of `T` as written, like [`Problem::h_text`]; `None` exactly when
     /// [`Problem::source`] is.
-    pub source_text: Option<[[Option<String>; 4]; 4]>,
+    pub source_text: Option<TensorText>,
     /// The claims, `None` when the file has no \[claims\] table.
     pub claims: Option<Claims>,
     /// The grid settings, `None` when the file has no \[grid\] table.
@@ -385,7 +389,7 @@ impl Problem {
     pub fn with_derived<T>(
         &mut self,
         h: [[Form; 4]; 4],
-        (h_text, defines): ([[Option<String>; 4]; 4], Vec<(String, String)>),
+        (h_text, defines): (TensorText, Vec<(String, String)>),
         claims: Claims,
         keep_source: bool,
         f: impl FnOnce(&mut Problem) -> T,
@@ -480,7 +484,7 @@ pub fn read(path: &std::path::Path) -> Result<Problem, ProblemError> {
 ///
 /// # Errors
 ///
-/// As [`read`]; a file that is not valid UTF-8 is an error at its first invalid byte (byte
+/// As [`read`](fn@read); a file that is not valid UTF-8 is an error at its first invalid byte (byte
 /// offset, line and column in the message).
 pub fn read_with(path: &std::path::Path, limits: Limits) -> Result<Problem, ProblemError> {
     let label = path.display().to_string();

@@ -169,7 +169,7 @@ impl Cx<'_> {
         Ok(x)
     }
 
-    /// A name declared in [parameters], [functions] or [define]: it must be something an
+    /// A name declared in \[parameters\], \[functions\] or \[define\]: it must be something an
     /// expression can refer to.
     fn declared_name(&self, key: &Key<'_>) -> Result<(String, Span), ProblemError> {
         let name: &str = key.get_ref();
@@ -311,7 +311,7 @@ impl Cx<'_> {
         Ok(out)
     }
 
-    /// [perturbation] or [source]: keys are pairs of coordinates, each pair at most once.
+    /// \[perturbation\] or \[source\]: keys are pairs of coordinates, each pair at most once.
     fn components(&self, table: &str, t: &DeTable<'_>) -> Result<Vec<Component>, ProblemError> {
         let letter = if table == "source" { "T" } else { "h" };
         let mut out: Vec<Component> = Vec::new();

@@ -544,10 +544,10 @@ impl<T: Target> Lowering<T> {
                 name, primes, arg, ..
             } => {
                 let a = self.build(arg, in_sample)?;
-                if *primes == 0 {
-                    if let Some(n) = self.builtin(name, a) {
-                        return Ok(n);
-                    }
+                if *primes == 0
+                    && let Some(n) = self.builtin(name, a)
+                {
+                    return Ok(n);
                 }
                 let f = self.function(name);
                 self.push(U::Func(f, *primes, a))

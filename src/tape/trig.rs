@@ -80,10 +80,20 @@ fn kernel(x: f64) -> (f64, f64) {
     (f64::from_bits(s), f64::from_bits(c))
 }
 
+/// True if `x` is outside `[-LIMIT, LIMIT]` or NaN: both go to libm.
+#[inline]
+#[allow(
+    clippy::neg_cmp_op_on_partial_ord,
+    reason = "the negated comparison is what makes NaN count as outside"
+)]
+fn outside(x: f64) -> bool {
+    !(x.abs() <= LIMIT)
+}
+
 /// True if some value of `a` is outside `[-LIMIT, LIMIT]` or NaN (branch-free over blocks).
 fn any_outside(a: &[f64]) -> bool {
     a.chunks(16)
-        .any(|c| c.iter().fold(false, |acc, x| acc | !(x.abs() <= LIMIT)))
+        .any(|c| c.iter().fold(false, |acc, &x| acc | outside(x)))
 }
 
 /// `s[i] = sin(a[i])`, `c[i] = cos(a[i])` (over the shortest of the three).
@@ -93,7 +103,7 @@ pub(crate) fn sincos_block(s: &mut [f64], c: &mut [f64], a: &[f64]) {
     }
     if any_outside(a) {
         for ((so, co), &x) in s.iter_mut().zip(c.iter_mut()).zip(a) {
-            if !(x.abs() <= LIMIT) {
+            if outside(x) {
                 (*so, *co) = (x.sin(), x.cos());
             }
         }
@@ -107,7 +117,7 @@ pub(crate) fn sin_block(d: &mut [f64], a: &[f64]) {
     }
     if any_outside(a) {
         for (o, &x) in d.iter_mut().zip(a) {
-            if !(x.abs() <= LIMIT) {
+            if outside(x) {
                 *o = x.sin();
             }
         }
@@ -121,7 +131,7 @@ pub(crate) fn cos_block(d: &mut [f64], a: &[f64]) {
     }
     if any_outside(a) {
         for (o, &x) in d.iter_mut().zip(a) {
-            if !(x.abs() <= LIMIT) {
+            if outside(x) {
                 *o = x.cos();
             }
         }

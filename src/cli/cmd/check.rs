@@ -83,10 +83,10 @@ fn render_text(store: &mut Store, label: &str, name: Option<&str>, r: &CheckRepo
         }
     };
     let _ = writeln!(s, "result: {summary}");
-    if overall == Status::Undecided {
-        if let Some(why) = limit_in_report(r) {
-            let _ = writeln!(s, "undecided: {why}");
-        }
+    if overall == Status::Undecided
+        && let Some(why) = limit_in_report(r)
+    {
+        let _ = writeln!(s, "undecided: {why}");
     }
     s
 }
@@ -100,10 +100,10 @@ fn render_json(store: &mut Store, label: &str, name: Option<&str>, r: &CheckRepo
         "claims": r.claims.iter().map(|c| claim_json(store, c)).collect::<Vec<_>>(),
         "conventions": conventions(),
     });
-    if r.overall() == Status::Undecided {
-        if let Some(why) = limit_in_report(r) {
-            j["limit"] = why.into();
-        }
+    if r.overall() == Status::Undecided
+        && let Some(why) = limit_in_report(r)
+    {
+        j["limit"] = why.into();
     }
     json(&j)
 }

@@ -216,13 +216,13 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
         ("--tolerance", Some(a.tolerance)),
         ("--zero-tolerance", a.zero_tolerance),
     ] {
-        if let Some(v) = v {
-            if !(v.is_finite() && v >= 0.0) {
-                return Err(Failure::Input(miette::miette!(
-                    help = "e.g. --tolerance 1e-10",
-                    "{name} must be a finite number >= 0, not {v}"
-                )));
-            }
+        if let Some(v) = v
+            && !(v.is_finite() && v >= 0.0)
+        {
+            return Err(Failure::Input(miette::miette!(
+                help = "e.g. --tolerance 1e-10",
+                "{name} must be a finite number >= 0, not {v}"
+            )));
         }
     }
     let format = match a.format {

@@ -180,14 +180,14 @@ pub fn run(a: GridArgs) -> Result<Outcome, Failure> {
     let deadline = problem.store.limits.deadline;
     let mut line = ProgressLine::new();
     let result = grid::run(&plan, &settings, &mut |p| {
-        if let Some((t, ms)) = deadline {
-            if Instant::now() > t {
-                line.finish();
-                crate::cli::limits::stop_now(&format!(
-                    "undecided: too slow: stopped sampling after the time limit of {ms} ms \
+        if let Some((t, ms)) = deadline
+            && Instant::now() > t
+        {
+            line.finish();
+            crate::cli::limits::stop_now(&format!(
+                "undecided: too slow: stopped sampling after the time limit of {ms} ms \
                      (--time-limit raises it)"
-                ));
-            }
+            ));
         }
         line.update(p);
     });
