@@ -20,9 +20,6 @@
 //! **Invariants:** never calls `canon`, `zero` or `tensor` (the column names and orders come
 //! from [`super::quantity`]); every accepted value has a finite, certified bound.
 
-// Index loops mirror the tensor formulas they implement.
-#![allow(clippy::needless_range_loop)]
-
 use super::quantity::Quantity;
 use crate::audit::Fields;
 use crate::jet::Scalar;

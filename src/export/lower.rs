@@ -123,6 +123,9 @@ fn derivatives<T: Target>(
     Ok(out)
 }
 
+/// The lowered columns: one list of root nodes per quantity, columns in their fixed order.
+pub type Columns<T> = Vec<Vec<<T as Target>::Node>>;
+
 /// The roots of every column of `quantities` (one list per quantity, columns in their fixed
 /// order), lowered into `target`, which is returned with them.
 ///
@@ -134,7 +137,7 @@ pub fn roots<T: Target>(
     target: T,
     texts: &Texts<'_>,
     quantities: &[Quantity],
-) -> Result<(T, Vec<Vec<T::Node>>), TapeError> {
+) -> Result<(T, Columns<T>), TapeError> {
     let mut l = Lowering::with_target(target, &texts.user)?;
     let order = quantities
         .iter()

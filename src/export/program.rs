@@ -325,7 +325,7 @@ impl IntervalProgram {
     /// bit for bit), read with [`BlockRegs::get`].
     ///
     /// Addition, subtraction, multiplication and negation are written out over the lanes
-    /// with the branch-free [`up`]/[`down`] (they mirror [`Interval::add`],
+    /// with the branch-free `up`/`down` (they mirror [`Interval::add`],
     /// [`Interval::sub`], [`Interval::mul`] case by case, including the exact point 0, so
     /// their enclosures follow from the same rounding argument: a correctly rounded result
     /// is within half an ulp of the exact one, and one step outward encloses it); the other

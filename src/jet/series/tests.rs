@@ -226,7 +226,7 @@ proptest! {
                 let m: Vec<u8> =
                     sp.monomial(i).iter().zip(sp.monomial(j)).map(|(x, y)| x + y).collect();
                 if let Some(k) = sp.position(&m) {
-                    exact[k as usize] += ai[i] * li[j];
+                    exact[k] += ai[i] * li[j];
                 }
             }
         }
