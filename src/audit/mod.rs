@@ -179,8 +179,8 @@ pub(crate) fn claim_terms(
 
 /// The claims of the problem with enclosed coefficients, named as the exact check names
 /// them.
-fn audit_claims(problem: &Problem) -> Result<Vec<AuditClaim>, AuditError> {
-    let specs = claim_specs(problem.claims.as_ref(), problem.source.is_some());
+fn audit_claims(problem: &Texts) -> Result<Vec<AuditClaim>, AuditError> {
+    let specs = claim_specs(problem.claims.as_ref(), problem.has_source);
     let mut out = Vec::new();
     for spec in specs {
         let mut components = Vec::new();
@@ -202,6 +202,35 @@ fn audit_claims(problem: &Problem) -> Result<Vec<AuditClaim>, AuditError> {
     Ok(out)
 }
 
+/// What the audit reads of a problem: its texts, parameters and claims, owned, so that the
+/// audit can run on another thread while the exact route works on the problem's store
+/// (see [`crate::check::check`]). Nothing of the canonical forms is in it.
+#[derive(Clone, Debug)]
+pub struct Texts {
+    claims: Option<crate::problem::Claims>,
+    has_source: bool,
+    parameters: Vec<(String, f64)>,
+    defines: Vec<(String, String)>,
+    functions: Vec<(String, String)>,
+    h_text: crate::problem::TensorText,
+    source_text: Option<crate::problem::TensorText>,
+}
+
+impl Texts {
+    /// The texts of `problem`.
+    pub fn of(problem: &Problem) -> Texts {
+        Texts {
+            claims: problem.claims.clone(),
+            has_source: problem.source.is_some(),
+            parameters: problem.parameters.clone(),
+            defines: problem.defines.clone(),
+            functions: problem.functions.clone(),
+            h_text: problem.h_text.clone(),
+            source_text: problem.source_text.clone(),
+        }
+    }
+}
+
 impl Audit {
     /// Prepares the audit of `problem` from its texts.
     ///
@@ -209,8 +238,17 @@ impl Audit {
     ///
     /// A text that does not parse or cannot be planned (an unknown name, jets too large).
     pub fn new(problem: &Problem) -> Result<Audit, AuditError> {
-        let mut audit = Audit::fields(problem, H_ORDER, &[])?;
-        audit.claims = audit_claims(problem)?;
+        Audit::of_texts(&Texts::of(problem))
+    }
+
+    /// Prepares the audit from a problem's texts (see [`Texts`]).
+    ///
+    /// # Errors
+    ///
+    /// As [`Audit::new`].
+    pub fn of_texts(texts: &Texts) -> Result<Audit, AuditError> {
+        let mut audit = Audit::fields_of(texts, H_ORDER, &[])?;
+        audit.claims = audit_claims(texts)?;
         Ok(audit)
     }
 
@@ -224,6 +262,14 @@ impl Audit {
     /// A text that does not parse or cannot be planned (an unknown name, jets too large).
     pub fn fields(
         problem: &Problem,
+        h_order: u32,
+        extras: &[(String, String)],
+    ) -> Result<Audit, AuditError> {
+        Audit::fields_of(&Texts::of(problem), h_order, extras)
+    }
+
+    fn fields_of(
+        problem: &Texts,
         h_order: u32,
         extras: &[(String, String)],
     ) -> Result<Audit, AuditError> {

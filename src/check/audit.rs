@@ -9,7 +9,7 @@
 
 use super::{ClaimReport, Component, Status, method_text};
 use crate::audit::expr::tally;
-use crate::audit::{Audit, ComponentValue};
+use crate::audit::{Audit, ComponentValue, Texts};
 use crate::interval::{CInterval, Interval};
 use crate::problem::Problem;
 use crate::zero::{Verdict, Witness};
@@ -103,11 +103,20 @@ pub fn audit_claims(problem: &Problem, claims: &mut [ClaimReport], seed: u64) {
     if let Err(why) = auditable(problem) {
         return not_run(claims, why);
     }
-    let audit = match Audit::new(problem) {
-        Ok(a) => a,
-        Err(e) => return not_run(claims, e.to_string()),
-    };
-    // Values at the seeded points, shared by every claim.
+    let texts = Texts::of(problem);
+    let seeded = seeded_values(&texts, seed);
+    audit_claims_with(problem, &texts, claims, seed, seeded);
+}
+
+/// The audit's values at the seeded points, shared by every claim: what the audit of proofs
+/// needs, computed from the problem's texts alone, so that it can run beside the exact route
+/// (see [`super::check`]).
+///
+/// # Errors
+///
+/// A text the audit cannot plan (the reason, for "not audited").
+pub fn seeded_values(texts: &Texts, seed: u64) -> Result<Vec<PointValues>, String> {
+    let audit = Audit::of_texts(texts).map_err(|e| e.to_string())?;
     let points = audit.seeded_points(seed, AUDIT_POINTS);
     let mut at_points: Vec<PointValues> = Vec::new();
     for p in points {
@@ -117,6 +126,44 @@ pub fn audit_claims(problem: &Problem, claims: &mut [ClaimReport], seed: u64) {
         };
         at_points.push((p, values));
     }
+    Ok(at_points)
+}
+
+/// [`audit_claims`] with the seeded values already computed ([`seeded_values`]) from
+/// `texts`, the texts of `problem` (which must be auditable).
+pub fn audit_claims_with(
+    problem: &Problem,
+    texts: &Texts,
+    claims: &mut [ClaimReport],
+    seed: u64,
+    seeded: Result<Vec<PointValues>, String>,
+) {
+    let not_run = |claims: &mut [ClaimReport], why: String| {
+        for c in claims.iter_mut() {
+            for k in &mut c.components {
+                k.audit = Audited::NotRun(why.clone());
+            }
+            c.method = format!("{}; not audited: {why}", c.method);
+        }
+    };
+    let at_points = match seeded {
+        Ok(v) => v,
+        Err(why) => return not_run(claims, why),
+    };
+    // The audit itself again for the witnesses, only when there is one: a witness point
+    // depends on the exact route's verdicts.
+    let needs_witness = claims
+        .iter()
+        .flat_map(|c| &c.components)
+        .any(|k| matches!(k.verdict, Verdict::Nonzero(_)));
+    let audit = if needs_witness {
+        match Audit::of_texts(texts) {
+            Ok(a) => Some(a),
+            Err(e) => return not_run(claims, e.to_string()),
+        }
+    } else {
+        None
+    };
     let typical: FxHashMap<&str, f64> = problem
         .parameters
         .iter()
@@ -133,10 +180,11 @@ pub fn audit_claims(problem: &Problem, claims: &mut [ClaimReport], seed: u64) {
         }
         for k in &mut c.components {
             let id = key(&c.key, &k.name);
-            k.audit = match k.verdict.clone() {
-                Verdict::Zero => audit_proof(k, &id, &at_points, seed),
-                Verdict::Nonzero(w) => {
-                    let point = witness_point(&audit, &w, &typical);
+            k.audit = match (k.verdict.clone(), &audit) {
+                (Verdict::Zero, _) => audit_proof(k, &id, &at_points, seed),
+                // `audit` is built above whenever a verdict is nonzero.
+                (Verdict::Nonzero(w), Some(audit)) => {
+                    let point = witness_point(audit, &w, &typical);
                     let mut tag: Vec<(String, u64)> = point
                         .iter()
                         .map(|(n, v)| (n.clone(), v.to_bits()))
@@ -145,10 +193,10 @@ pub fn audit_claims(problem: &Problem, claims: &mut [ClaimReport], seed: u64) {
                     let values = at_witness.entry(tag).or_insert_with(|| {
                         audit.components_at(&point).map(by_key).unwrap_or_default()
                     });
-                    let value = witness_value(&audit, &point, &id, values.get(&id).copied());
+                    let value = witness_value(audit, &point, &id, values.get(&id).copied());
                     audit_witness(k, &w, value)
                 }
-                Verdict::Undecided(_) => Audited::Skipped,
+                (Verdict::Nonzero(_) | Verdict::Undecided(_), _) => Audited::Skipped,
             };
         }
         let expect_zero = c.asserted.unwrap_or(true);
@@ -209,7 +257,8 @@ fn witness_value(
 
 /// A seeded point (coordinate and parameter values) and the enclosure of every component
 /// there, by component key (empty when the point cannot be evaluated).
-type PointValues = (Vec<(String, f64)>, FxHashMap<String, Interval>);
+/// A seeded point and the audit's values there, by claim and component.
+pub type PointValues = (Vec<(String, f64)>, FxHashMap<String, Interval>);
 
 /// Working precisions (bits) for re-certifying a witness that f64 intervals cannot.
 const WITNESS_PRECISIONS: [u32; 3] = [128, 256, 512];
@@ -306,6 +355,46 @@ mod tests {
     const WRONG: &str = "name = 'wrong sign'\n[parameters]\na = 1e-3\nw = 2.0\n\
         [perturbation]\nxx = 'a*cos(w*(t - z))'\nyy = 'a*cos(w*(t - z))'\n\
         [claims]\nfield_equations = true\n";
+
+    /// The audit's seeded points evaluated on a second thread beside the exact route give
+    /// exactly the report of the sequential audit (a scheduling choice, nothing else), for
+    /// files above and below the size that starts the thread, holding and failing.
+    #[test]
+    fn issue10_the_audit_beside_the_exact_route_gives_the_sequential_report() {
+        let mut threaded = 0;
+        for file in [
+            "lorenz_oblique.toml",
+            "vibrating_rod.toml",
+            "wrong_sign_wave.toml",
+            "dropped_near_zone.toml",
+        ] {
+            let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+                .join("worked")
+                .join(file);
+            let mut p = crate::problem::read(&path).expect("worked file");
+            let size: usize = crate::problem::COMPONENTS
+                .iter()
+                .map(|&(m, n)| p.store.num_terms(p.h[m][n]))
+                .sum::<usize>()
+                + p.defines.len();
+            threaded += usize::from(size >= super::super::PARALLEL_AUDIT_TERMS);
+            let beside = check(&mut p);
+            let mut q = crate::problem::read(&path).expect("worked file");
+            let (mut claims, _) = super::super::exact_claims(&mut q);
+            audit_claims(&q, &mut claims, q.sampling.seed);
+            assert_eq!(
+                format!("{:?}", beside.claims),
+                format!("{claims:?}"),
+                "{file}"
+            );
+            assert!(claims.iter().all(|c| {
+                c.components
+                    .iter()
+                    .all(|k| !matches!(k.audit, Audited::NotRun(_)))
+            }));
+        }
+        assert!(threaded >= 2, "the thread was started for {threaded} files");
+    }
 
     /// A proof that the exact route got wrong (simulated by overwriting a failing component's
     /// verdict with Zero) must be caught: the claim fails with the independent witness and

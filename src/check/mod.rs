@@ -311,6 +311,57 @@ fn gauge_components(
 
 /// Checks every claim of the problem (or, without claims, reports every property).
 pub fn check(problem: &mut Problem) -> CheckReport {
+    // Every verdict is checked again through the independent route, which can only take a
+    // proof or a witness away, never add one.
+    //
+    // The audit's values at its seeded points need only the problem's texts: they are
+    // computed on a second thread while the exact route works (the two routes share nothing
+    // but the parser). The witnesses' audit waits for the exact verdicts.
+    let seed = problem.sampling.seed;
+    let texts = audit::auditable(problem)
+        .ok()
+        .map(|()| crate::audit::Texts::of(problem));
+    // Starting a thread costs about 0.1 ms here: small problems (a few terms, checked in
+    // well under a millisecond) audit on this thread after the exact route.
+    let size: usize = crate::problem::COMPONENTS
+        .iter()
+        .map(|&(m, n)| problem.store.num_terms(problem.h[m][n]))
+        .sum::<usize>()
+        + problem.defines.len();
+    let beside = size >= PARALLEL_AUDIT_TERMS;
+    std::thread::scope(|scope| {
+        let seeded = texts.clone().filter(|_| beside).map(|t| {
+            std::thread::Builder::new()
+                .name("audit".into())
+                .spawn_scoped(scope, move || audit::seeded_values(&t, seed))
+        });
+        let (claims, has_claims) = exact_claims(problem);
+        let mut out = claims;
+        match (texts, seeded) {
+            (Some(texts), Some(Ok(handle))) => {
+                let values = match handle.join() {
+                    Ok(v) => v,
+                    Err(panic) => std::panic::resume_unwind(panic),
+                };
+                audit::audit_claims_with(problem, &texts, &mut out, seed, values);
+            }
+            // Not auditable (the report says why), or no thread could be started: the audit
+            // runs here, after the exact route, as it always may.
+            _ => audit::audit_claims(problem, &mut out, seed),
+        }
+        CheckReport {
+            claims: out,
+            has_claims,
+        }
+    })
+}
+
+/// The size (terms of `h` plus defines) from which the audit's seeded points are evaluated
+/// on a second thread; a scheduling choice only, the results are the same.
+const PARALLEL_AUDIT_TERMS: usize = 20;
+
+/// Every claim decided by the exact route, without the audit.
+fn exact_claims(problem: &mut Problem) -> (Vec<ClaimReport>, bool) {
     let store = &mut problem.store;
     let sampling = problem.sampling.clone();
     let mut lin = Linearized::new(store, problem.h);
@@ -383,11 +434,5 @@ pub fn check(problem: &mut Problem) -> CheckReport {
             Err(e) => limit_report("pure_gauge", title, pg, e),
         });
     }
-    // Every verdict again through the independent route; it can only take a proof or a
-    // witness away, never add one.
-    audit::audit_claims(problem, &mut out, sampling.seed);
-    CheckReport {
-        claims: out,
-        has_claims,
-    }
+    (out, has_claims)
 }
