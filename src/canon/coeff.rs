@@ -73,45 +73,13 @@ impl std::hash::Hash for Coeff {
     }
 }
 
-/// Greatest common divisor (binary: shifts and subtractions, no 128-bit division, which
-/// is a slow library call); machine words when both fit.
+/// Greatest common divisor by num-integer's binary (Stein) algorithm, in machine words when
+/// both fit: no 128-bit division, which is a slow library call.
 fn gcd_u128(a: u128, b: u128) -> u128 {
-    if let (Ok(a), Ok(b)) = (u64::try_from(a), u64::try_from(b)) {
-        return u128::from(gcd_u64(a, b));
-    }
-    let (mut a, mut b) = (a, b);
-    if a == 0 || b == 0 {
-        return a | b;
-    }
-    let shift = (a | b).trailing_zeros();
-    a >>= a.trailing_zeros();
-    loop {
-        b >>= b.trailing_zeros();
-        if a > b {
-            std::mem::swap(&mut a, &mut b);
-        }
-        b -= a;
-        if b == 0 {
-            return a << shift;
-        }
-    }
-}
-
-fn gcd_u64(mut a: u64, mut b: u64) -> u64 {
-    if a == 0 || b == 0 {
-        return a | b;
-    }
-    let shift = (a | b).trailing_zeros();
-    a >>= a.trailing_zeros();
-    loop {
-        b >>= b.trailing_zeros();
-        if a > b {
-            std::mem::swap(&mut a, &mut b);
-        }
-        b -= a;
-        if b == 0 {
-            return a << shift;
-        }
+    use num_integer::Integer;
+    match (u64::try_from(a), u64::try_from(b)) {
+        (Ok(a), Ok(b)) => u128::from(a.gcd(&b)),
+        _ => a.gcd(&b),
     }
 }
 

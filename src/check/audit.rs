@@ -368,18 +368,10 @@ mod tests {
             "wrong_sign_wave.toml",
             "dropped_near_zone.toml",
         ] {
-            let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-                .join("worked")
-                .join(file);
-            let mut p = crate::problem::read(&path).expect("worked file");
-            let size: usize = crate::problem::COMPONENTS
-                .iter()
-                .map(|&(m, n)| p.store.num_terms(p.h[m][n]))
-                .sum::<usize>()
-                + p.defines.len();
-            threaded += usize::from(size >= super::super::PARALLEL_AUDIT_TERMS);
+            let mut p = crate::problem::worked(file);
+            threaded += usize::from(super::super::audit_beside(&p));
             let beside = check(&mut p);
-            let mut q = crate::problem::read(&path).expect("worked file");
+            let mut q = crate::problem::worked(file);
             let (mut claims, _) = super::super::exact_claims(&mut q);
             audit_claims(&q, &mut claims, q.sampling.seed);
             assert_eq!(

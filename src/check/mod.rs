@@ -320,34 +320,33 @@ pub fn check(problem: &mut Problem) -> CheckReport {
     let seed = problem.sampling.seed;
     let texts = audit::auditable(problem)
         .ok()
+        .filter(|()| audit_beside(problem))
         .map(|()| crate::audit::Texts::of(problem));
-    // Starting a thread costs about 0.1 ms here: small problems (a few terms, checked in
-    // well under a millisecond) audit on this thread after the exact route.
-    let size: usize = crate::problem::COMPONENTS
-        .iter()
-        .map(|&(m, n)| problem.store.num_terms(problem.h[m][n]))
-        .sum::<usize>()
-        + problem.defines.len();
-    let beside = size >= PARALLEL_AUDIT_TERMS;
+    let Some(texts) = texts else {
+        // Not auditable (the report says why), or small: the audit runs after the exact
+        // route on this thread.
+        let (mut out, has_claims) = exact_claims(problem);
+        audit::audit_claims(problem, &mut out, seed);
+        return CheckReport {
+            claims: out,
+            has_claims,
+        };
+    };
     std::thread::scope(|scope| {
-        let seeded = texts.clone().filter(|_| beside).map(|t| {
-            std::thread::Builder::new()
-                .name("audit".into())
-                .spawn_scoped(scope, move || audit::seeded_values(&t, seed))
-        });
-        let (claims, has_claims) = exact_claims(problem);
-        let mut out = claims;
-        match (texts, seeded) {
-            (Some(texts), Some(Ok(handle))) => {
+        let seeded = std::thread::Builder::new()
+            .name("audit".into())
+            .spawn_scoped(scope, || audit::seeded_values(&texts, seed));
+        let (mut out, has_claims) = exact_claims(problem);
+        match seeded {
+            Ok(handle) => {
                 let values = match handle.join() {
                     Ok(v) => v,
                     Err(panic) => std::panic::resume_unwind(panic),
                 };
                 audit::audit_claims_with(problem, &texts, &mut out, seed, values);
             }
-            // Not auditable (the report says why), or no thread could be started: the audit
-            // runs here, after the exact route, as it always may.
-            _ => audit::audit_claims(problem, &mut out, seed),
+            // No thread could be started: the audit runs here, as it always may.
+            Err(_) => audit::audit_claims(problem, &mut out, seed),
         }
         CheckReport {
             claims: out,
@@ -356,8 +355,20 @@ pub fn check(problem: &mut Problem) -> CheckReport {
     })
 }
 
-/// The size (terms of `h` plus defines) from which the audit's seeded points are evaluated
-/// on a second thread; a scheduling choice only, the results are the same.
+/// Whether the audit's seeded points are evaluated on a second thread: from
+/// [`PARALLEL_AUDIT_TERMS`] (terms of `h` plus defines) on. Starting a thread costs about
+/// 0.1 ms here, so smaller problems (checked in well under a millisecond) audit on one
+/// thread. A scheduling choice only: the results are the same.
+fn audit_beside(problem: &Problem) -> bool {
+    let size: usize = crate::problem::COMPONENTS
+        .iter()
+        .map(|&(m, n)| problem.store.num_terms(problem.h[m][n]))
+        .sum::<usize>()
+        + problem.defines.len();
+    size >= PARALLEL_AUDIT_TERMS
+}
+
+/// See [`audit_beside`].
 const PARALLEL_AUDIT_TERMS: usize = 20;
 
 /// Every claim decided by the exact route, without the audit.

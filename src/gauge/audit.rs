@@ -70,13 +70,7 @@ mod tests {
 
     const SEED: u64 = 0x5eed_1a96_7a7e;
 
-    fn worked(name: &str) -> Problem {
-        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-            .join("worked")
-            .join(name);
-        let text = std::fs::read_to_string(&path).expect("readable");
-        crate::problem::from_str(name, &text).expect("reads")
-    }
+    use crate::problem::worked;
 
     fn comparison(a: &str, b: &str) -> (Problem, Problem, Comparison) {
         let mut pa = worked(a);

@@ -461,9 +461,9 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
         Ok(j)
     }
 
-    /// A built-in function of a jet.
-    fn builtin(name: &str, a: &Jet<S>, c: &S::Ctx) -> Option<Option<Jet<S>>> {
-        Some(match name {
+    /// The built-in function `name` (one of [`BUILTINS`]) of a jet.
+    fn builtin(name: &str, a: &Jet<S>, c: &S::Ctx) -> Option<Jet<S>> {
+        match name {
             "sin" => a.sin(c),
             "cos" => a.cos(c),
             "tan" => a.tan(c),
@@ -473,21 +473,19 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
             "sinh" => a.sinh(c),
             "cosh" => a.cosh(c),
             "tanh" => a.tanh(c),
-            _ => return None,
-        })
+            _ => None,
+        }
     }
 
     fn call(&mut self, name: &str, primes: u32, arg: &Expr, order: u32) -> Result<Jet<S>, Here> {
         let c = self.ctx;
-        if let (Some(&f), ExprKind::Ident(x)) = (BUILTINS.iter().find(|b| **b == name), &arg.kind) {
-            return self.memoised(x, Applied::Builtin(f), order, |a| {
-                Self::builtin(f, a, c).flatten()
-            });
+        if let Some(&f) = BUILTINS.iter().find(|b| **b == name) {
+            if let ExprKind::Ident(x) = &arg.kind {
+                return self.memoised(x, Applied::Builtin(f), order, |a| Self::builtin(f, a, c));
+            }
+            return Self::builtin(f, &self.eval(arg, order)?, c).here();
         }
         let a = self.eval(arg, order)?;
-        if let Some(v) = Self::builtin(name, &a, c) {
-            return v.here();
-        }
         let sample = self.p.samples.get(name).here()?;
         let k_max = if a.is_constant() { 0 } else { a.order() };
         let u = sample_coeffs(sample, a.value(), self.values, c, primes + k_max)?;

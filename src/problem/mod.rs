@@ -42,6 +42,16 @@ mod render;
 #[cfg(test)]
 mod tests;
 
+/// The worked example `worked/NAME`, read (for the unit tests of every module).
+#[cfg(test)]
+pub(crate) fn worked(name: &str) -> Problem {
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("worked")
+        .join(name);
+    let text = std::fs::read_to_string(&path).expect("readable");
+    from_str(name, &text).unwrap_or_else(|e| panic!("{name}: {e:?}"))
+}
+
 pub use error::ProblemError;
 pub use render::{render_grid, render_problem};
 

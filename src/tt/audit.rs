@@ -204,13 +204,7 @@ mod tests {
 
     const SEED: u64 = 0x5eed_1a96_7a7e;
 
-    fn worked(name: &str) -> Problem {
-        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-            .join("worked")
-            .join(name);
-        let text = std::fs::read_to_string(&path).expect("readable");
-        crate::problem::from_str(name, &text).expect("reads")
-    }
+    use crate::problem::worked;
 
     fn direction_of(p: &mut Problem, text: &str, normalize: bool) -> Direction {
         let (names, sampling) = (p.names.clone(), p.sampling.clone());

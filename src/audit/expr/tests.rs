@@ -1,18 +1,10 @@
 use super::*;
 use crate::check::check;
-use crate::problem::from_str;
 use crate::zero::Verdict;
-use std::path::Path;
 
 const SEED: u64 = 0x5eed_a0d1;
 
-fn worked(name: &str) -> Problem {
-    let path = Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("worked")
-        .join(name);
-    let text = std::fs::read_to_string(&path).expect("readable");
-    from_str(name, &text).unwrap_or_else(|e| panic!("{name}: {e:?}"))
-}
+use crate::problem::worked;
 
 fn expressions(a: &str, b: Option<&str>, by: &[&str]) -> Expressions {
     Expressions::new(a, b, by, &[]).unwrap_or_else(|e| panic!("{a}: {e}"))
