@@ -52,6 +52,26 @@ enum Instr {
     Cos(u32),
 }
 
+impl Instr {
+    /// The registers the instruction reads.
+    fn operands(&self) -> impl Iterator<Item = u32> {
+        let (a, b) = match *self {
+            Instr::Const(..) | Instr::Input(_) => (None, None),
+            Instr::Add(a, b) | Instr::Sub(a, b) | Instr::Mul(a, b) | Instr::Div(a, b) => {
+                (Some(a), Some(b))
+            }
+            Instr::Neg(a)
+            | Instr::PowI(a, _)
+            | Instr::Root(a, _)
+            | Instr::Exp(a)
+            | Instr::Log(a)
+            | Instr::Sin(a)
+            | Instr::Cos(a) => (Some(a), None),
+        };
+        a.into_iter().chain(b)
+    }
+}
+
 /// The hash-consing key of an instruction (constants by their bits).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 enum Key {
@@ -456,20 +476,8 @@ impl IntervalProgram {
             if !need[i] {
                 continue;
             }
-            let mut mark = |k: u32| need[k as usize] = true;
-            match self.instrs[i] {
-                Instr::Const(..) | Instr::Input(_) => {}
-                Instr::Add(a, b) | Instr::Sub(a, b) | Instr::Mul(a, b) | Instr::Div(a, b) => {
-                    mark(a);
-                    mark(b);
-                }
-                Instr::Neg(a)
-                | Instr::PowI(a, _)
-                | Instr::Root(a, _)
-                | Instr::Exp(a)
-                | Instr::Log(a)
-                | Instr::Sin(a)
-                | Instr::Cos(a) => mark(a),
+            for k in self.instrs[i].operands() {
+                need[k as usize] = true;
             }
         }
         need
@@ -502,20 +510,9 @@ impl<S: Clone> Memo<S> {
     pub fn new(program: &IntervalProgram) -> Memo<S> {
         let mut deps = Vec::with_capacity(program.instrs.len());
         for i in &program.instrs {
-            let d = |k: u32| deps[k as usize];
             let m = match *i {
-                Instr::Const(..) => 0,
                 Instr::Input(k) => 1u8 << k,
-                Instr::Add(a, b) | Instr::Sub(a, b) | Instr::Mul(a, b) | Instr::Div(a, b) => {
-                    d(a) | d(b)
-                }
-                Instr::Neg(a)
-                | Instr::PowI(a, _)
-                | Instr::Root(a, _)
-                | Instr::Exp(a)
-                | Instr::Log(a)
-                | Instr::Sin(a)
-                | Instr::Cos(a) => d(a),
+                _ => i.operands().fold(0, |m, k| m | deps[k as usize]),
             };
             deps.push(m);
         }
