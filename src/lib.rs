@@ -48,6 +48,7 @@ pub mod audit;
 pub mod budget;
 pub mod canon;
 pub mod check;
+pub mod claim;
 pub mod emit;
 pub mod export;
 pub mod expr;

@@ -3,7 +3,7 @@
 
 use super::*;
 use crate::canon::Names;
-use crate::problem::COMPONENTS;
+use crate::tensor::COMPONENTS;
 
 fn form(store: &mut Store, s: &str) -> Form {
     let e = crate::parse::parse(s).unwrap();
@@ -24,7 +24,7 @@ fn generic_quadratic(store: &mut Store) -> Sym4 {
     }
     let mut h = [[store.zero(); 4]; 4];
     for (mu, nu) in COMPONENTS {
-        let name = crate::problem::component_name(mu, nu);
+        let name = crate::tensor::component_name(mu, nu);
         let terms: Vec<String> = monomials
             .iter()
             .enumerate()
@@ -40,7 +40,7 @@ fn generic_quadratic(store: &mut Store) -> Sym4 {
 fn generic_source(store: &mut Store) -> Sym4 {
     let mut t = [[store.zero(); 4]; 4];
     for (mu, nu) in COMPONENTS {
-        let name = crate::problem::component_name(mu, nu);
+        let name = crate::tensor::component_name(mu, nu);
         let f = form(store, &format!("T_{name}*(1 + x*t) + y"));
         t[mu][nu] = f;
         t[nu][mu] = f;

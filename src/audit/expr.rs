@@ -26,11 +26,13 @@ use super::{
     Audit, AuditError, Coef, Fields, SplitMix64, claim_terms, generic_sample_text, parse_text,
     round6,
 };
+use crate::claim::Kind;
 use crate::grid::claims::{Atom, Deriv, Field, claim_specs};
 use crate::interval::{Ball, CInterval, Interval};
 use crate::jet::eval::{called_functions, free_names};
 use crate::jet::{Program, Scalar, Scope};
-use crate::problem::{COMPONENTS, COORDINATES, Claims, Problem, component_name};
+use crate::problem::{Claims, Problem};
+use crate::tensor::{COMPONENTS, COORDS, component_name};
 use rustc_hash::FxHashMap;
 use std::fmt;
 
@@ -778,10 +780,6 @@ impl FileQuantities {
         let mut quantities = Vec::new();
         for spec in claim_specs(claims, problem.source.is_some()) {
             for (name, c) in &spec.components {
-                // The exact check lists the 20 independent Riemann components.
-                if spec.key == "pure_gauge" && name == "R_tzxy" {
-                    continue;
-                }
                 quantities.push(Quantity {
                     claim: spec.key.clone(),
                     name: name.clone(),
@@ -799,29 +797,18 @@ impl FileQuantities {
     ///
     /// A text that cannot be planned.
     pub fn riemann_difference(a: &Problem, b: &Problem) -> Result<Self, AuditError> {
-        let claims = Claims {
-            pure_gauge: Some(false),
-            ..Claims::default()
-        };
         let mut quantities = Vec::new();
-        for spec in claim_specs(Some(&claims), false) {
-            if spec.key != "pure_gauge" {
-                continue;
-            }
-            for (name, c) in &spec.components {
-                if name == "R_tzxy" {
-                    continue;
-                }
-                let terms = claim_terms(name, c)?;
-                quantities.push(Quantity {
-                    claim: "riemann".into(),
-                    name: name.clone(),
-                    parts: vec![
-                        (0, 1.0, Part::Combo(terms.clone())),
-                        (1, -1.0, Part::Combo(terms)),
-                    ],
-                });
-            }
+        for p in Kind::PureGauge.parts() {
+            let name = p.name();
+            let terms = claim_terms(&name, &crate::grid::claims::part(p))?;
+            quantities.push(Quantity {
+                claim: "riemann".into(),
+                name,
+                parts: vec![
+                    (0, 1.0, Part::Combo(terms.clone())),
+                    (1, -1.0, Part::Combo(terms)),
+                ],
+            });
         }
         Self::plan(&[(a, Vec::new()), (b, Vec::new())], quantities)
     }
@@ -975,7 +962,7 @@ fn part_value<S: Scalar>(
 impl Route for FileQuantities {
     fn names(&self) -> Vec<(String, Option<f64>)> {
         let mut out: Vec<(String, Option<f64>)> =
-            COORDINATES.iter().map(|c| (c.to_string(), None)).collect();
+            COORDS.iter().map(|c| (c.to_string(), None)).collect();
         for f in &self.files {
             for (n, v) in &f.audit.parameters {
                 if !out.iter().any(|(m, _)| m == n) {
@@ -996,7 +983,7 @@ impl Route for FileQuantities {
         for (i, f) in self.files.iter().enumerate() {
             let own: Vec<(&str, f64)> = point
                 .iter()
-                .filter(|(n, _)| COORDINATES.contains(&n.as_str()) || f.parameters.contains(n))
+                .filter(|(n, _)| COORDS.contains(&n.as_str()) || f.parameters.contains(n))
                 .map(|(n, v)| (n.as_str(), *v))
                 .collect();
             let fl = f.audit.fields_in::<&str, S>(&own, ctx)?;

@@ -27,7 +27,8 @@ use crate::interval::Interval;
 use crate::jet::eval::{called_functions, free_names};
 use crate::jet::{EvalError, Jet, Program, Scalar, Scope};
 use crate::parse::{ParseError, parse};
-use crate::problem::{COORDINATES, Problem, component_name};
+use crate::problem::Problem;
+use crate::tensor::{COORDS, component_name};
 use rustc_hash::FxHashMap;
 
 /// Why an audit cannot be set up or run.
@@ -185,11 +186,6 @@ fn audit_claims(problem: &Texts) -> Result<Vec<AuditClaim>, AuditError> {
     for spec in specs {
         let mut components = Vec::new();
         for (name, combo) in spec.components {
-            // The exact check lists the 20 independent Riemann components: R_tzxy is fixed by
-            // the cyclic identity and left out.
-            if spec.key == "pure_gauge" && name == "R_tzxy" {
-                continue;
-            }
             let terms = claim_terms(&name, &combo)?;
             components.push((name, terms));
         }
@@ -274,7 +270,7 @@ impl Audit {
         extras: &[(String, String)],
     ) -> Result<Audit, AuditError> {
         let mut scope = Scope {
-            vars: COORDINATES.iter().map(|c| c.to_string()).collect(),
+            vars: COORDS.iter().map(|c| c.to_string()).collect(),
             parameters: problem.parameters.iter().map(|(n, _)| n.clone()).collect(),
             ..Scope::default()
         };
@@ -329,13 +325,13 @@ impl Audit {
         }
         for (name, v) in point {
             let name = name.as_ref();
-            if !COORDINATES.contains(&name) && !self.parameters.iter().any(|(p, _)| p == name) {
+            if !COORDS.contains(&name) && !self.parameters.iter().any(|(p, _)| p == name) {
                 return Err(AuditError::Unknown(name.to_string()));
             }
             let v = S::input(*v, ctx).ok_or(AuditError::Missing(name.to_string()))?;
             values.insert(name.to_string(), v);
         }
-        for c in COORDINATES {
+        for c in COORDS {
             if !values.contains_key(c) {
                 return Err(AuditError::Missing(c.to_string()));
             }
@@ -448,7 +444,7 @@ impl Audit {
             .iter()
             .map(|(n, v)| (n.as_ref().to_string(), *v))
             .collect();
-        for c in COORDINATES {
+        for c in COORDS {
             if !out.iter().any(|(n, _)| n == c) {
                 out.push((c.to_string(), fill));
             }
@@ -464,7 +460,7 @@ impl Audit {
         (0..count)
             .map(|_| {
                 let mut p = Vec::new();
-                for c in COORDINATES {
+                for c in COORDS {
                     p.push((c.to_string(), rng.signed_unit()));
                 }
                 for (name, typical) in &self.parameters {

@@ -70,7 +70,7 @@ impl Audited {
 /// that is not zero has the text it was built from (a derived perturbation has none).
 pub fn auditable(problem: &Problem) -> Result<(), String> {
     let has_text = |forms: &[[crate::canon::Form; 4]; 4], texts: &[[Option<String>; 4]; 4]| {
-        crate::problem::COMPONENTS
+        crate::tensor::COMPONENTS
             .iter()
             .all(|&(m, n)| texts[m][n].is_some() || problem.store.is_zero(forms[m][n]))
     };

@@ -11,9 +11,11 @@ pub mod verdicts;
 
 pub use audit::{AUDIT_POINTS, Audited, audit_text, auditable};
 
+use crate::canon::CResult;
 use crate::canon::{CanonError, Coeff, Form, Store};
-use crate::problem::{Gauge, Problem};
-use crate::tensor::{COORDS, Linearized, Sym4, divergence, index_name};
+use crate::claim::{Claim, Kind, Part, Plan};
+use crate::problem::Problem;
+use crate::tensor::{Linearized, Sym4, divergence};
 use crate::zero::{Sampling, Verdict, decide};
 
 /// The status of a claim or property.
@@ -108,9 +110,12 @@ impl Residual {
 /// A claim (or, without \[claims\], a property) and what was found.
 #[derive(Clone, Debug)]
 pub struct ClaimReport {
-    /// Machine key: `field_equations`, `gauge.lorenz`, `pure_gauge`, `source_conservation`.
+    /// Which claim: its kind and what the file asserts.
+    pub claim: Claim,
+    /// Machine key: `field_equations`, `gauge.lorenz`, `pure_gauge`, `source_conservation`
+    /// (the claim's [`Kind::key`]).
     pub key: String,
-    /// Human description.
+    /// Human description (the claim's [`Kind::title`]).
     pub title: String,
     /// What the file asserts: `Some(true)` vanishing, `Some(false)` not vanishing, `None` when
     /// only reporting.
@@ -123,6 +128,33 @@ pub struct ClaimReport {
     pub components: Vec<Component>,
 }
 
+impl ClaimReport {
+    /// The report of `claim` with its outcome.
+    #[must_use]
+    pub fn new(
+        claim: Claim,
+        status: Status,
+        method: String,
+        components: Vec<Component>,
+    ) -> ClaimReport {
+        ClaimReport {
+            claim,
+            key: claim.kind.key(),
+            title: claim.kind.title().into(),
+            asserted: claim.asserted,
+            status,
+            method,
+            components,
+        }
+    }
+
+    /// The title as asserted (negated for a claim asserted false).
+    #[must_use]
+    pub fn heading(&self) -> &'static str {
+        self.claim.heading()
+    }
+}
+
 /// The result of checking a problem.
 #[derive(Clone, Debug)]
 pub struct CheckReport {
@@ -133,20 +165,16 @@ pub struct CheckReport {
 }
 
 impl CheckReport {
-    /// The overall status: fails if any asserted claim fails, else undecided if any is.
+    /// The overall status by the one rule of [`crate::claim::overall`]: fails if an asserted
+    /// claim fails, else undecided if a counted claim is, else holds.
     pub fn overall(&self) -> Status {
-        let counted: Vec<&ClaimReport> = self
-            .claims
-            .iter()
-            .filter(|c| c.asserted.is_some() || !self.has_claims)
-            .collect();
-        if self.has_claims && counted.iter().any(|c| c.status == Status::Fails) {
-            Status::Fails
-        } else if counted.iter().any(|c| c.status == Status::Undecided) {
-            Status::Undecided
-        } else {
-            Status::Holds
-        }
+        crate::claim::overall(
+            self.has_claims,
+            self.claims.iter().map(|c| (c.asserted, c.status)),
+            Status::Fails,
+            &[Status::Undecided],
+            Status::Holds,
+        )
     }
 
     /// The status of the claim with machine key `key`, if it was checked.
@@ -235,78 +263,93 @@ fn method_text(components: &[Component], status: Status, expect_zero: bool) -> S
 
 fn claim(
     store: &mut Store,
-    key: &str,
-    title: &str,
-    asserted: Option<bool>,
+    claim: Claim,
     named: Vec<(String, Form)>,
     sampling: &Sampling,
 ) -> ClaimReport {
     let components = verdicts_for(store, named, sampling);
-    let expect_zero = asserted.unwrap_or(true);
+    let expect_zero = claim.asserted.unwrap_or(true);
     let refs: Vec<&Verdict> = components.iter().map(|c| &c.verdict).collect();
     let status = Status::of(&refs, expect_zero);
     let method = method_text(&components, status, expect_zero);
-    ClaimReport {
-        key: key.into(),
-        title: title.into(),
-        asserted,
-        status,
-        method,
-        components,
-    }
+    ClaimReport::new(claim, status, method, components)
 }
 
-fn limit_report(key: &str, title: &str, asserted: Option<bool>, e: CanonError) -> ClaimReport {
-    ClaimReport {
-        key: key.into(),
-        title: title.into(),
-        asserted,
-        status: Status::Undecided,
-        method: format!("undecided: {e}"),
-        components: Vec::new(),
-    }
+fn limit_report(claim: Claim, e: CanonError) -> ClaimReport {
+    ClaimReport::new(
+        claim,
+        Status::Undecided,
+        format!("undecided: {e}"),
+        Vec::new(),
+    )
 }
 
-/// The field-equation residuals G1_{mu nu} - 8 pi T_{mu nu}.
-pub fn field_equation_residuals(
-    store: &mut Store,
-    lin: &mut Linearized,
-    source: Option<&Sym4>,
-) -> Result<Vec<(String, Form)>, CanonError> {
-    let g = lin.einstein(store)?;
-    let pi = store.pi();
-    let eight_pi = store.scale(pi, &Coeff::int(8))?;
-    let mut out = Vec::new();
-    for (mu, nu) in crate::problem::COMPONENTS {
-        let mut r = g[mu][nu];
-        let name = match source {
-            Some(t) => {
-                let s = store.mul(eight_pi, t[mu][nu])?;
-                r = store.sub(r, s)?;
-                format!("G_{0} - 8*pi*T_{0}", index_name(&[mu, nu]))
-            }
-            None => format!("G_{}", index_name(&[mu, nu])),
-        };
-        out.push((name, r));
-    }
-    Ok(out)
+/// The exact route: each [`Part`] of a claim from the tensor layer's quantities (memoised
+/// in [`Linearized`], so a part costs only what its claim's first part computed).
+pub struct ExactParts<'a> {
+    lin: &'a mut Linearized,
+    source: Option<&'a Sym4>,
+    conservation: Option<[Form; 4]>,
 }
 
-fn gauge_components(
-    store: &mut Store,
-    lin: &mut Linearized,
-    g: Gauge,
-) -> Result<Vec<(String, Form)>, CanonError> {
-    Ok(match g {
-        Gauge::Lorenz => {
-            let v = lin.lorenz(store)?;
-            (0..4)
-                .map(|nu| (format!("d^mu hbar_mu{}", COORDS[nu]), v[nu]))
-                .collect()
+impl<'a> ExactParts<'a> {
+    /// The parts of the perturbation `lin` with the source `source` (`None`: vacuum).
+    pub fn new(lin: &'a mut Linearized, source: Option<&'a Sym4>) -> ExactParts<'a> {
+        ExactParts {
+            lin,
+            source,
+            conservation: None,
         }
-        Gauge::Tt => lin.tt_conditions(store)?,
-        Gauge::Synchronous => lin.synchronous_conditions(),
-    })
+    }
+
+    /// The canonical form of `part`.
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn form(&mut self, store: &mut Store, part: Part) -> CResult<Form> {
+        let zero = store.zero();
+        Ok(match part {
+            Part::Conservation(nu) => match self.source {
+                None => zero,
+                Some(t) => {
+                    if self.conservation.is_none() {
+                        let coords = std::array::from_fn(|mu| self.lin.coord(mu));
+                        self.conservation = Some(divergence(store, t, &coords)?);
+                    }
+                    self.conservation.expect("computed above")[nu]
+                }
+            },
+            Part::FieldEquation { mu, nu, sourced } => {
+                let g = self.lin.einstein(store)?[mu][nu];
+                match self.source.filter(|_| sourced) {
+                    None => g,
+                    Some(t) => {
+                        let pi = store.pi();
+                        let s = store.mul(pi, t[mu][nu])?;
+                        store.linear(&[(&Coeff::one(), g), (&Coeff::int(-8), s)])?
+                    }
+                }
+            }
+            Part::Lorenz(nu) => self.lin.lorenz(store)?[nu],
+            Part::H(mu, nu) => self.lin.h[mu][nu],
+            Part::SpatialTrace => self.lin.spatial_trace(store)?,
+            Part::SpatialDivergence(j) => self.lin.spatial_divergence(store, j)?,
+            Part::Riemann(idx) => self.lin.riemann_component(store, idx)?,
+        })
+    }
+
+    /// Every part of `kind`, named, in report order.
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn named(&mut self, store: &mut Store, kind: Kind) -> CResult<Vec<(String, Form)>> {
+        kind.parts()
+            .into_iter()
+            .map(|p| Ok((p.name(), self.form(store, p)?)))
+            .collect()
+    }
 }
 
 /// Checks every claim of the problem (or, without claims, reports every property).
@@ -360,7 +403,7 @@ pub fn check(problem: &mut Problem) -> CheckReport {
 /// 0.1 ms here, so smaller problems (checked in well under a millisecond) audit on one
 /// thread. A scheduling choice only: the results are the same.
 fn audit_beside(problem: &Problem) -> bool {
-    let size: usize = crate::problem::COMPONENTS
+    let size: usize = crate::tensor::COMPONENTS
         .iter()
         .map(|&(m, n)| problem.store.num_terms(problem.h[m][n]))
         .sum::<usize>()
@@ -377,73 +420,15 @@ fn exact_claims(problem: &mut Problem) -> (Vec<ClaimReport>, bool) {
     let sampling = problem.sampling.clone();
     let mut lin = Linearized::new(store, problem.h);
     let source = problem.source;
-    let mut out = Vec::new();
-    let claims = problem.claims.clone();
-    let has_claims = claims.is_some();
-
-    // Source conservation first: a source that is not conserved cannot satisfy the equations.
-    if let Some(t) = &source {
-        let coords = std::array::from_fn(|mu| lin.coord(mu));
-        let title = crate::problem::titles::SOURCE_CONSERVATION;
-        let asserted = match &claims {
-            Some(c) => c.field_equations.filter(|b| *b),
-            None => None,
-        };
-        out.push(match divergence(store, t, &coords) {
-            Ok(v) => {
-                let named = (0..4)
-                    .map(|nu| (format!("d^mu T_mu{}", COORDS[nu]), v[nu]))
-                    .collect();
-                claim(
-                    store,
-                    "source_conservation",
-                    title,
-                    asserted,
-                    named,
-                    &sampling,
-                )
-            }
-            Err(e) => limit_report("source_conservation", title, asserted, e),
-        });
-    }
-
-    let fe_title = if source.is_some() {
-        crate::problem::titles::FIELD_EQUATIONS
-    } else {
-        crate::problem::titles::VACUUM_FIELD_EQUATIONS
-    };
-    let (fe, gauges, pg) = match &claims {
-        Some(c) => (c.field_equations, c.gauge.clone(), c.pure_gauge),
-        None => (None, Gauge::ALL.to_vec(), None),
-    };
-    if fe.is_some() || !has_claims {
-        out.push(
-            match field_equation_residuals(store, &mut lin, source.as_ref()) {
-                Ok(named) => claim(store, "field_equations", fe_title, fe, named, &sampling),
-                Err(e) => limit_report("field_equations", fe_title, fe, e),
-            },
-        );
-    }
-    for g in gauges {
-        let key = format!("gauge.{}", g.name());
-        let asserted = has_claims.then_some(true);
-        out.push(match gauge_components(store, &mut lin, g) {
-            Ok(named) => claim(store, &key, g.title(), asserted, named, &sampling),
-            Err(e) => limit_report(&key, g.title(), asserted, e),
-        });
-    }
-    if pg.is_some() || !has_claims {
-        let title = crate::problem::titles::PURE_GAUGE;
-        out.push(match lin.riemann(store) {
-            Ok(r) => {
-                let named = r
-                    .into_iter()
-                    .map(|(idx, f)| (format!("R_{}", index_name(&idx)), f))
-                    .collect();
-                claim(store, "pure_gauge", title, pg, named, &sampling)
-            }
-            Err(e) => limit_report("pure_gauge", title, pg, e),
-        });
-    }
-    (out, has_claims)
+    let plan = Plan::of(problem.claims.as_ref(), source.is_some());
+    let mut parts = ExactParts::new(&mut lin, source.as_ref());
+    let out = plan
+        .claims
+        .iter()
+        .map(|&c| match parts.named(store, c.kind) {
+            Ok(named) => claim(store, c, named, &sampling),
+            Err(e) => limit_report(c, e),
+        })
+        .collect();
+    (out, plan.has_claims)
 }

@@ -5,8 +5,8 @@
 use clap::ValueEnum;
 use lingrav::canon::{Form, Store};
 use lingrav::check::{CheckReport, ClaimReport, Component, Status};
-use lingrav::problem::{COMPONENTS, component_name};
 use lingrav::tensor::Sym4;
+use lingrav::tensor::{COMPONENTS, component_name};
 use lingrav::zero::Verdict;
 use std::fmt::Write as _;
 
@@ -140,7 +140,7 @@ pub fn claim_lines(
     limit: usize,
     negated_too: bool,
 ) {
-    let title = lingrav::problem::titles::asserted(&c.title, c.asserted);
+    let title = c.heading();
     let _ = writeln!(s, "  {word:<10} {title}");
     let _ = writeln!(s, "  {PAD} {}", c.method);
     if (negated_too || c.asserted != Some(false)) && c.status != Status::Holds {

@@ -31,7 +31,7 @@ const ETA: [f64; 4] = [-1.0, 1.0, 1.0, 1.0];
 
 /// The independent symmetric components, in the fixed column order (tt tx ty tz xx ...):
 /// the file vocabulary's order.
-const SYM: [(usize, usize); 10] = crate::problem::COMPONENTS;
+const SYM: [(usize, usize); 10] = crate::tensor::COMPONENTS;
 
 /// The independent spatial components (xx xy xz yy yz zz), spatial indices from 0.
 const SPATIAL_SYM: [(usize, usize); 6] = crate::adm::SPATIAL_COMPONENTS;

@@ -809,9 +809,9 @@ pub struct SidecarInfo<'a> {
 
 fn tensor_text(m: &[[Option<String>; 4]; 4]) -> Value {
     let mut o = serde_json::Map::new();
-    for (mu, nu) in crate::problem::COMPONENTS {
+    for (mu, nu) in crate::tensor::COMPONENTS {
         if let Some(t) = m[mu][nu].as_ref().or(m[nu][mu].as_ref()) {
-            o.insert(crate::problem::component_name(mu, nu), json!(t));
+            o.insert(crate::tensor::component_name(mu, nu), json!(t));
         }
     }
     Value::Object(o)

@@ -7,7 +7,7 @@
 
 use crate::adm::{self, SPATIAL, SPATIAL_COMPONENTS};
 use crate::canon::{CResult, CanonError, Coeff, Form, Q, Store};
-use crate::problem::COMPONENTS;
+use crate::tensor::COMPONENTS;
 use crate::tensor::{COORDS, Linearized, Sym4, index_name};
 use crate::tt::{Arg, ArgError, Direction};
 

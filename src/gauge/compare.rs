@@ -16,8 +16,10 @@
 //! choice affects only numerical witnesses, never an exact verdict).
 
 use crate::canon::{FunctionSample, Names, Store};
-use crate::check::Status;
-use crate::problem::{COMPONENTS, Problem};
+use crate::check::{ExactParts, Status};
+use crate::claim::Kind;
+use crate::problem::Problem;
+use crate::tensor::COMPONENTS;
 use crate::tensor::{COORDS, Linearized, Sym4, index_name};
 use crate::zero::{Sampling, Verdict, decide};
 use std::rc::Rc;
@@ -156,10 +158,15 @@ pub fn compare(
     b: &Sym4,
     sampling: &Sampling,
 ) -> Result<Comparison, crate::canon::CanonError> {
-    let ra = Linearized::new(store, *a).riemann(store)?;
-    let rb = Linearized::new(store, *b).riemann(store)?;
+    let (mut la, mut lb) = (Linearized::new(store, *a), Linearized::new(store, *b));
+    let (mut pa, mut pb) = (
+        ExactParts::new(&mut la, None),
+        ExactParts::new(&mut lb, None),
+    );
     let mut components = Vec::new();
-    for ((idx, fa), (_, fb)) in ra.into_iter().zip(rb) {
+    for part in Kind::PureGauge.parts() {
+        let fa = pa.form(store, part)?;
+        let fb = pb.form(store, part)?;
         let d = store.sub(fa, fb)?;
         let verdict = decide(store, d, sampling);
         let residual = (!store.is_zero(d)).then(|| {
@@ -172,7 +179,7 @@ pub fn compare(
             }
         });
         components.push(Difference {
-            name: format!("R_{}", index_name(&idx)),
+            name: part.name(),
             verdict,
             residual,
         });

@@ -19,7 +19,7 @@ pub mod compare;
 pub mod plane;
 
 use crate::canon::{CResult, Form, Names, Store};
-use crate::problem::{COMPONENTS, component_name};
+use crate::tensor::{COMPONENTS, component_name};
 use crate::tensor::{COORDS, ETA, Sym4};
 use crate::zero::{Sampling, Verdict, decide};
 

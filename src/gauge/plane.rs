@@ -143,7 +143,7 @@ pub fn find_wave(
         Some(k) => k,
         None => {
             let mut arg = None;
-            for (mu, nu) in crate::problem::COMPONENTS {
+            for (mu, nu) in crate::tensor::COMPONENTS {
                 if is_constant(store, h[mu][nu]) {
                     continue;
                 }
@@ -154,7 +154,7 @@ pub fn find_wave(
                 }
             }
             let Some((a, text)) = arg else {
-                let constant = crate::problem::COMPONENTS
+                let constant = crate::tensor::COMPONENTS
                     .iter()
                     .all(|&(m, n)| is_constant(store, h[m][n]));
                 return Err(PlaneError::NotApplicable(if constant {
@@ -202,7 +202,7 @@ pub fn find_wave(
     }
     // Every component must depend on the coordinates only through the phase.
     let mut undecided: Option<String> = None;
-    for (mu, nu) in crate::problem::COMPONENTS {
+    for (mu, nu) in crate::tensor::COMPONENTS {
         let f = h[mu][nu];
         let grad: Vec<Form> = coords
             .iter()

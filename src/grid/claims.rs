@@ -9,15 +9,16 @@
 //! - Lorenz: `d^m hbar_mn = eta^{mm} d_m h_mn - (1/2) d_n h`;
 //! - TT: `h_tm`, `h_xx + h_yy + h_zz`, `d_i h_ij`; synchronous: `h_tm`;
 //! - Riemann (sign of Misner, Thorne & Wheeler 1973, at first order):
-//!   `R_abcd = (1/2)(d_b d_c h_ad + d_a d_d h_bc - d_a d_c h_bd - d_b d_d h_ac)`, for the 21
-//!   pairs `(ab) <= (cd)` of antisymmetric index pairs;
+//!   `R_abcd = (1/2)(d_b d_c h_ad + d_a d_d h_bc - d_a d_c h_bd - d_b d_d h_ac)`, for the 20
+//!   independent components of [`crate::tensor::riemann_independent`];
 //! - source conservation: `d^m T_mn = eta^{mm} d_m T_mn`.
 
-use crate::problem::{Claims, Gauge};
+use crate::claim::{Claim, Part, Plan};
+use crate::problem::Claims;
+use crate::tensor::component_name;
 use std::collections::BTreeMap;
 
 const ETA: [f64; 4] = [-1.0, 1.0, 1.0, 1.0];
-const AXES: [&str; 4] = ["t", "x", "y", "z"];
 
 /// Which tensor a sample belongs to.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
@@ -117,10 +118,31 @@ pub struct ClaimSpec {
     pub key: String,
     /// Human description.
     pub title: String,
+    /// The title as asserted (negated for a claim asserted false).
+    pub heading: String,
     /// `Some(true)`: the components vanish; `Some(false)`: they do not; `None`: only report.
     pub asserted: Option<bool>,
     /// The named components.
     pub components: Vec<(String, Combo)>,
+}
+
+impl ClaimSpec {
+    /// The grid form of a planned claim: each of its parts by [`part`].
+    #[must_use]
+    pub fn of(claim: Claim) -> ClaimSpec {
+        ClaimSpec {
+            key: claim.kind.key(),
+            title: claim.kind.title().into(),
+            heading: claim.heading().into(),
+            asserted: claim.asserted,
+            components: claim
+                .kind
+                .parts()
+                .into_iter()
+                .map(|p| (p.name(), part(p)))
+                .collect(),
+        }
+    }
 }
 
 fn d2(a: usize, b: usize) -> Deriv {
@@ -147,97 +169,54 @@ fn ricci() -> [[Combo; 4]; 4] {
     r
 }
 
-fn field_equations(with_source: bool) -> Vec<(String, Combo)> {
-    let r = ricci();
-    let mut scalar = Combo::default();
-    for m in 0..4 {
-        scalar.plus(&r[m][m], ETA[m]);
-    }
-    let mut out = Vec::new();
-    for m in 0..4 {
-        for n in m..4 {
-            let mut g = r[m][n].clone();
-            if m == n {
-                g.plus(&scalar, -0.5 * ETA[m]);
+/// One part of a claim as a combination of samples and derivatives of `h` and `T`, by the
+/// formulas of the module's documentation.
+#[must_use]
+pub fn part(p: Part) -> Combo {
+    let mut c = Combo::default();
+    match p {
+        Part::Conservation(n) => {
+            for m in 0..4 {
+                c.add(Field::T, m, n, Deriv::D1(m as u8), ETA[m]);
             }
-            let name = if with_source {
-                g.add(Field::T, m, n, Deriv::Value, -8.0 * std::f64::consts::PI);
-                format!("G_{0}{1} - 8*pi*T_{0}{1}", AXES[m], AXES[n])
-            } else {
-                format!("G_{}{}", AXES[m], AXES[n])
-            };
-            out.push((name, g));
         }
-    }
-    out
-}
-
-fn lorenz() -> Vec<(String, Combo)> {
-    (0..4)
-        .map(|n| {
-            let mut c = Combo::default();
+        Part::FieldEquation { mu, nu, sourced } => {
+            let r = ricci();
+            c = r[mu][nu].clone();
+            if mu == nu {
+                for s in 0..4 {
+                    c.plus(&r[s][s], -0.5 * ETA[mu] * ETA[s]);
+                }
+            }
+            if sourced {
+                c.add(Field::T, mu, nu, Deriv::Value, -8.0 * std::f64::consts::PI);
+            }
+        }
+        Part::Lorenz(n) => {
             for m in 0..4 {
                 c.add(Field::H, m, n, Deriv::D1(m as u8), ETA[m]);
                 c.add(Field::H, m, m, Deriv::D1(n as u8), -0.5 * ETA[m]);
             }
-            (format!("d^mu hbar_mu{}", AXES[n]), c)
-        })
-        .collect()
-}
-
-fn synchronous() -> Vec<(String, Combo)> {
-    (0..4)
-        .map(|m| {
-            let mut c = Combo::default();
-            c.add(Field::H, 0, m, Deriv::Value, 1.0);
-            (format!("h_t{}", AXES[m]), c)
-        })
-        .collect()
-}
-
-fn tt() -> Vec<(String, Combo)> {
-    let mut out = synchronous();
-    let mut tr = Combo::default();
-    for i in 1..4 {
-        tr.add(Field::H, i, i, Deriv::Value, 1.0);
-    }
-    out.push(("h_xx + h_yy + h_zz".into(), tr));
-    for j in 1..4 {
-        let mut c = Combo::default();
-        for i in 1..4 {
-            c.add(Field::H, i, j, Deriv::D1(i as u8), 1.0);
         }
-        out.push((format!("d_i h_i{}", AXES[j]), c));
-    }
-    out
-}
-
-fn riemann() -> Vec<(String, Combo)> {
-    let pairs = [(0, 1), (0, 2), (0, 3), (1, 2), (1, 3), (2, 3)];
-    let mut out = Vec::new();
-    for (i, &(a, b)) in pairs.iter().enumerate() {
-        for &(c, d) in &pairs[i..] {
-            let mut k = Combo::default();
-            k.add(Field::H, a, d, d2(b, c), 0.5);
-            k.add(Field::H, b, c, d2(a, d), 0.5);
-            k.add(Field::H, b, d, d2(a, c), -0.5);
-            k.add(Field::H, a, c, d2(b, d), -0.5);
-            out.push((format!("R_{}{}{}{}", AXES[a], AXES[b], AXES[c], AXES[d]), k));
-        }
-    }
-    out
-}
-
-fn conservation() -> Vec<(String, Combo)> {
-    (0..4)
-        .map(|n| {
-            let mut c = Combo::default();
-            for m in 0..4 {
-                c.add(Field::T, m, n, Deriv::D1(m as u8), ETA[m]);
+        Part::H(mu, nu) => c.add(Field::H, mu, nu, Deriv::Value, 1.0),
+        Part::SpatialTrace => {
+            for i in 1..4 {
+                c.add(Field::H, i, i, Deriv::Value, 1.0);
             }
-            (format!("d^mu T_mu{}", AXES[n]), c)
-        })
-        .collect()
+        }
+        Part::SpatialDivergence(j) => {
+            for i in 1..4 {
+                c.add(Field::H, i, j, Deriv::D1(i as u8), 1.0);
+            }
+        }
+        Part::Riemann([a, b, cc, d]) => {
+            c.add(Field::H, a, d, d2(b, cc), 0.5);
+            c.add(Field::H, b, cc, d2(a, d), 0.5);
+            c.add(Field::H, b, d, d2(a, cc), -0.5);
+            c.add(Field::H, a, cc, d2(b, d), -0.5);
+        }
+    }
+    c
 }
 
 /// The flat d'Alembertian of the trace-reversed perturbation, `(box hbar)_mn`: not a claim of
@@ -258,67 +237,24 @@ pub fn box_hbar() -> ClaimSpec {
                     }
                 }
             }
-            components.push((format!("box hbar_{}{}", AXES[m], AXES[n]), c));
+            components.push((format!("box hbar_{}", component_name(m, n)), c));
         }
     }
     ClaimSpec {
         key: "box_hbar".into(),
         title: "box hbar = 0".into(),
+        heading: "box hbar = 0".into(),
         asserted: Some(true),
         components,
     }
 }
 
-/// The claims of a problem, in the order the exact check reports them: source conservation
-/// (when there is a source), field equations, gauges, pure gauge. Without a \[claims\] table
-/// every property is listed, unasserted.
+/// The claims of a problem in grid terms, in the order of its [`Plan`].
 #[must_use]
 pub fn claim_specs(claims: Option<&Claims>, with_source: bool) -> Vec<ClaimSpec> {
-    let mut out = Vec::new();
-    let has_claims = claims.is_some();
-    if with_source {
-        out.push(ClaimSpec {
-            key: "source_conservation".into(),
-            title: crate::problem::titles::SOURCE_CONSERVATION.into(),
-            asserted: claims.and_then(|c| c.field_equations.filter(|b| *b)),
-            components: conservation(),
-        });
-    }
-    let (fe, gauges, pg) = match claims {
-        Some(c) => (c.field_equations, c.gauge.clone(), c.pure_gauge),
-        None => (None, Gauge::ALL.to_vec(), None),
-    };
-    if fe.is_some() || !has_claims {
-        out.push(ClaimSpec {
-            key: "field_equations".into(),
-            title: if with_source {
-                crate::problem::titles::FIELD_EQUATIONS.into()
-            } else {
-                crate::problem::titles::VACUUM_FIELD_EQUATIONS.into()
-            },
-            asserted: fe,
-            components: field_equations(with_source),
-        });
-    }
-    for g in gauges {
-        out.push(ClaimSpec {
-            key: format!("gauge.{}", g.name()),
-            title: g.title().into(),
-            asserted: has_claims.then_some(true),
-            components: match g {
-                Gauge::Lorenz => lorenz(),
-                Gauge::Tt => tt(),
-                Gauge::Synchronous => synchronous(),
-            },
-        });
-    }
-    if pg.is_some() || !has_claims {
-        out.push(ClaimSpec {
-            key: "pure_gauge".into(),
-            title: crate::problem::titles::PURE_GAUGE.into(),
-            asserted: pg,
-            components: riemann(),
-        });
-    }
-    out
+    Plan::of(claims, with_source)
+        .claims
+        .into_iter()
+        .map(ClaimSpec::of)
+        .collect()
 }

@@ -171,6 +171,8 @@ pub struct ClaimPlan {
     pub key: String,
     /// Description.
     pub title: String,
+    /// The title as asserted.
+    pub heading: String,
     /// What the file asserts.
     pub asserted: Option<bool>,
     /// The components.
@@ -193,8 +195,6 @@ pub struct GridPlan {
     pub(crate) statics: Tape,
 }
 
-const AXES: [&str; 4] = ["t", "x", "y", "z"];
-
 impl GridPlan {
     /// The plan for a problem's claims (or, without [claims], every property).
     ///
@@ -208,7 +208,7 @@ impl GridPlan {
         // Sampled through the user's own expressions (defines, d_ operator, function samples),
         // not through the canonical form: the grid is a second opinion on the exact route.
         let mut bindings = FxHashMap::default();
-        for (i, a) in AXES.iter().enumerate() {
+        for (i, a) in crate::tensor::COORDS.iter().enumerate() {
             bindings.insert((*a).to_string(), Binding::Input(i));
         }
         for (name, v) in &p.parameters {
@@ -229,8 +229,8 @@ impl GridPlan {
         ];
         for (field, letter, m) in tensors {
             let Some(m) = m else { continue };
-            for (mu, nu) in crate::problem::COMPONENTS {
-                let name = format!("{letter}_{}{}", AXES[mu], AXES[nu]);
+            for (mu, nu) in crate::tensor::COMPONENTS {
+                let name = format!("{letter}_{}", crate::tensor::component_name(mu, nu));
                 let Some(text) = m[mu][nu].as_ref() else {
                     continue;
                 };
@@ -258,14 +258,14 @@ impl GridPlan {
         constants: &[(String, f64)],
         samples: &FxHashMap<Rc<str>, FunctionSample>,
     ) -> Result<GridPlan, GridError> {
-        let mut compiler = Compiler::new(store, &AXES, constants, samples);
+        let mut compiler = Compiler::new(store, &crate::tensor::COORDS, constants, samples);
         let mut comps = Vec::new();
         let tensors = [(Field::H, "h", Some(h)), (Field::T, "T", source)];
         for (field, letter, m) in tensors {
             let Some(m) = m else { continue };
-            for (mu, nu) in crate::problem::COMPONENTS {
+            for (mu, nu) in crate::tensor::COMPONENTS {
                 let f = m[mu][nu];
-                let name = format!("{letter}_{}{}", AXES[mu], AXES[nu]);
+                let name = format!("{letter}_{}", crate::tensor::component_name(mu, nu));
                 let node = compiler.form(f).map_err(|error| GridError::Compile {
                     component: name.clone(),
                     error,
@@ -345,6 +345,7 @@ impl GridPlan {
             claims.push(ClaimPlan {
                 key: spec.key,
                 title: spec.title,
+                heading: spec.heading,
                 asserted: spec.asserted,
                 components,
             });
@@ -618,6 +619,8 @@ pub struct ClaimResult {
     pub key: String,
     /// Description.
     pub title: String,
+    /// The title as asserted (negated for a claim asserted false).
+    pub heading: String,
     /// What the file asserts.
     pub asserted: Option<bool>,
     /// One row per resolution.
@@ -669,24 +672,17 @@ pub struct GridReport {
 }
 
 impl GridReport {
-    /// The overall status, counted as the exact check counts: fails if an asserted claim
-    /// fails, else inconclusive if any counted claim is.
+    /// The overall status by the one rule of [`crate::claim::overall`]: fails if an
+    /// asserted claim fails, else inconclusive, else unresolved if any counted claim is.
     #[must_use]
     pub fn overall(&self) -> GridStatus {
-        let counted: Vec<&ClaimResult> = self
-            .claims
-            .iter()
-            .filter(|c| c.asserted.is_some() || !self.has_claims)
-            .collect();
-        if self.has_claims && counted.iter().any(|c| c.status == GridStatus::Fails) {
-            GridStatus::Fails
-        } else if counted.iter().any(|c| c.status == GridStatus::Inconclusive) {
-            GridStatus::Inconclusive
-        } else if counted.iter().any(|c| c.status == GridStatus::Unresolved) {
-            GridStatus::Unresolved
-        } else {
-            GridStatus::Holds
-        }
+        crate::claim::overall(
+            self.has_claims,
+            self.claims.iter().map(|c| (c.asserted, c.status)),
+            GridStatus::Fails,
+            &[GridStatus::Inconclusive, GridStatus::Unresolved],
+            GridStatus::Holds,
+        )
     }
 }
 
@@ -852,6 +848,7 @@ pub fn run(
         claims.push(ClaimResult {
             key: claim.key.clone(),
             title: claim.title.clone(),
+            heading: claim.heading.clone(),
             asserted: claim.asserted,
             rows,
             orders,

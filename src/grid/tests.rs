@@ -219,6 +219,7 @@ fn single(text: &str, field: Field, mu: u8, nu: u8, deriv: Deriv) -> GridPlan {
     let spec = ClaimSpec {
         key: "probe".into(),
         title: "probe".into(),
+        heading: "probe".into(),
         asserted: Some(true),
         components: vec![("d h".into(), combo)],
     };

@@ -4,9 +4,10 @@
 //! its second place in the file), then parameters, function samples, defines (each with the
 //! names declared before it), the perturbation and the source.
 
-use super::{COORDINATES, Component, ExprText, Problem, ProblemError, ProblemFile, TensorText};
+use super::{Component, ExprText, Problem, ProblemError, ProblemFile, TensorText};
 use crate::canon::{CanonError, Form, FunctionSample, Limits, Names, Store};
 use crate::expr::{Expr, ExprKind, Span};
+use crate::tensor::COORDS;
 use crate::zero::Sampling;
 use rustc_hash::FxHashMap;
 use std::rc::Rc;
@@ -154,7 +155,7 @@ impl Builder<'_> {
                 if n == "u" || f.parameters.iter().any(|p| p.name == n) {
                     return;
                 }
-                let what = if COORDINATES.contains(&n) {
+                let what = if COORDS.contains(&n) {
                     format!("the coordinate `{n}`")
                 } else if f.defines.iter().any(|d| d.name == n) {
                     format!("the define `{n}`")
@@ -255,7 +256,7 @@ pub(super) fn build(file: &ProblemFile, limits: Limits) -> Result<Problem, Probl
     b.check_declarations()?;
 
     let mut names = Names::strict();
-    for c in COORDINATES {
+    for c in COORDS {
         names.symbol(c);
     }
     let mut sampling = Sampling::default();

@@ -57,6 +57,7 @@ pub use render::{render_grid, render_problem};
 
 use crate::canon::{Form, Limits, Names, Store};
 use crate::expr::Span;
+use crate::tensor::COORDS;
 use crate::zero::Sampling;
 use std::fmt;
 
@@ -64,115 +65,7 @@ use std::fmt;
 /// `[nu][mu]`; `None` for a component the file omits.
 pub type TensorText = [[Option<String>; 4]; 4];
 
-/// The ten independent components of a symmetric 4x4 tensor, as `(mu, nu)` with `mu <= nu`,
-/// in the order tt tx ty tz xx xy xz yy yz zz (index 0 = t, 1 = x, 2 = y, 3 = z).
-pub const COMPONENTS: [(usize, usize); 10] = [
-    (0, 0),
-    (0, 1),
-    (0, 2),
-    (0, 3),
-    (1, 1),
-    (1, 2),
-    (1, 3),
-    (2, 2),
-    (2, 3),
-    (3, 3),
-];
-
-/// The coordinates, in index order.
-pub const COORDINATES: [&str; 4] = ["t", "x", "y", "z"];
-
-/// The name of component `(mu, nu)`: `"tt"`, `"tx"`, ...; `?` stands for an index above 3.
-#[must_use]
-pub fn component_name(mu: usize, nu: usize) -> String {
-    let c = |i: usize| COORDINATES.get(i).copied().unwrap_or("?");
-    format!("{}{}", c(mu), c(nu))
-}
-
-/// A gauge condition that a file can claim.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
-pub enum Gauge {
-    /// `d^mu hbar_{mu nu} = 0`, with `hbar` the trace-reversed perturbation.
-    Lorenz,
-    /// Transverse-traceless: `h_{t mu} = 0`, `d^i h_{ij} = 0`, `h^i_i = 0`.
-    Tt,
-    /// `h_{t mu} = 0`.
-    Synchronous,
-}
-
-/// The titles of the claims, shared by the exact check, the grid check and every report: a
-/// claim is named in one place.
-pub mod titles {
-    /// Conservation of the source.
-    pub const SOURCE_CONSERVATION: &str = "source conservation (d^mu T_{mu nu} = 0)";
-    /// The field equations with a source.
-    pub const FIELD_EQUATIONS: &str = "field equations G1 = 8 pi T";
-    /// The vacuum field equations.
-    pub const VACUUM_FIELD_EQUATIONS: &str = "vacuum field equations G1 = 0";
-    /// Pure gauge.
-    pub const PURE_GAUGE: &str = "pure gauge (linearized Riemann tensor = 0)";
-
-    /// The title of a claim as asserted: `title` itself, or its negation for a claim asserted
-    /// false ("not pure gauge (linearized Riemann tensor != 0)").
-    #[must_use]
-    pub fn asserted(title: &str, asserted: Option<bool>) -> String {
-        match asserted {
-            Some(false) => format!("not {}", title.replace(" = 0)", " != 0)")),
-            _ => title.to_string(),
-        }
-    }
-}
-
-impl Gauge {
-    /// The claim's title, e.g. `Lorenz gauge (d^mu hbar_{mu nu} = 0)`.
-    #[must_use]
-    pub fn title(self) -> &'static str {
-        match self {
-            Gauge::Lorenz => "Lorenz gauge (d^mu hbar_{mu nu} = 0)",
-            Gauge::Tt => "TT gauge (h_{t mu} = 0, h^i_i = 0, d_i h_{ij} = 0)",
-            Gauge::Synchronous => "synchronous gauge (h_{t mu} = 0)",
-        }
-    }
-
-    /// Every gauge, in the order of their names in [`Gauge::NAMES`].
-    pub const ALL: [Gauge; 3] = [Gauge::Lorenz, Gauge::Tt, Gauge::Synchronous];
-    /// The names accepted in a file.
-    pub const NAMES: [&'static str; 3] = ["lorenz", "tt", "synchronous"];
-
-    /// The name used in files: `lorenz`, `tt` or `synchronous`.
-    #[must_use]
-    pub fn name(self) -> &'static str {
-        match self {
-            Gauge::Lorenz => "lorenz",
-            Gauge::Tt => "tt",
-            Gauge::Synchronous => "synchronous",
-        }
-    }
-
-    /// The gauge with this name (exact, lowercase), if there is one.
-    #[must_use]
-    pub fn parse(name: &str) -> Option<Gauge> {
-        Gauge::ALL.into_iter().find(|g| g.name() == name)
-    }
-}
-
-impl std::str::FromStr for Gauge {
-    type Err = String;
-    fn from_str(s: &str) -> Result<Gauge, String> {
-        Gauge::parse(s).ok_or_else(|| {
-            format!(
-                "unknown gauge `{s}`; the gauges are {}",
-                Gauge::NAMES.join(", ")
-            )
-        })
-    }
-}
-
-impl fmt::Display for Gauge {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        f.write_str(self.name())
-    }
-}
+pub use crate::claim::Gauge;
 
 /// What the author of a file asserts; every claim is checked.
 #[derive(Clone, Debug, Default, PartialEq, Eq)]
@@ -442,7 +335,7 @@ impl Problem {
         let mut suffix = String::new();
         loop {
             let names: [String; 4] =
-                std::array::from_fn(|i| format!("{stem}_{}{suffix}", COORDINATES[i]));
+                std::array::from_fn(|i| format!("{stem}_{}{suffix}", COORDS[i]));
             if !names.iter().any(|n| taken(n)) {
                 return names;
             }

@@ -4,11 +4,12 @@
 //! entries are put back into file order by the start of their keys.
 
 use super::{
-    COMPONENTS, COORDINATES, Claims, Component, ExprText, Gauge, GridSpec, NamedExpr, Parameter,
-    ProblemError, ProblemFile, closest,
+    Claims, Component, ExprText, Gauge, GridSpec, NamedExpr, Parameter, ProblemError, ProblemFile,
+    closest,
 };
 use crate::canon::{Names, Store};
 use crate::expr::Span;
+use crate::tensor::{COMPONENTS, COORDS};
 use std::borrow::Cow;
 use toml::Spanned;
 use toml::de::{DeTable, DeValue};
@@ -186,7 +187,7 @@ impl Cx<'_> {
                     "names are ASCII letters, digits and `_`, starting with a letter or `_`",
                 ));
         }
-        if COORDINATES.contains(&name) {
+        if COORDS.contains(&name) {
             return Err(self
                 .err(
                     format!("`{name}` is a coordinate and cannot be declared"),
@@ -321,7 +322,7 @@ impl Cx<'_> {
             let Some((mu, nu)) = component_indices(key) else {
                 let valid: Vec<String> = COMPONENTS
                     .iter()
-                    .map(|&(a, b)| super::component_name(a, b))
+                    .map(|&(a, b)| crate::tensor::component_name(a, b))
                     .collect();
                 let mut help = format!(
                     "the components of {letter} are {} (`xt` means the same as `tx`)",
@@ -344,7 +345,7 @@ impl Cx<'_> {
                     .err(
                         format!(
                             "component {letter}_{} given twice: as `{first_key}` and as `{key}`",
-                            super::component_name(mu, nu)
+                            crate::tensor::component_name(mu, nu)
                         ),
                         key_span,
                         "given again here",
@@ -355,7 +356,10 @@ impl Cx<'_> {
                          component; keep one"
                     )));
             }
-            let what = format!("component {letter}_{}", super::component_name(mu, nu));
+            let what = format!(
+                "component {letter}_{}",
+                crate::tensor::component_name(mu, nu)
+            );
             let expr = self.string(&what, v)?;
             out.push(Component {
                 mu,
@@ -473,10 +477,7 @@ impl Cx<'_> {
         }
         let mut c = [0.0; 4];
         for (i, item) in a.iter().enumerate() {
-            c[i] = self.number(
-                &format!("the {} coordinate of `center`", COORDINATES[i]),
-                item,
-            )?;
+            c[i] = self.number(&format!("the {} coordinate of `center`", COORDS[i]), item)?;
         }
         Ok(c)
     }
@@ -543,7 +544,7 @@ impl Cx<'_> {
 
 /// `(mu, nu)` with `mu <= nu` for a key made of two of `t x y z`.
 fn component_indices(key: &str) -> Option<(usize, usize)> {
-    let idx = |c: char| COORDINATES.iter().position(|n| n.starts_with(c));
+    let idx = |c: char| COORDS.iter().position(|n| n.starts_with(c));
     let mut chars = key.chars();
     let a = idx(chars.next()?)?;
     let b = idx(chars.next()?)?;

@@ -4,7 +4,8 @@
 //! exactly into them), else as basic strings with escapes; floats with Rust's shortest
 //! round-trip form, so they read back to the same `f64`.
 
-use super::{COMPONENTS, Claims, GridSpec, component_name};
+use super::{Claims, GridSpec};
+use crate::tensor::{COMPONENTS, component_name};
 use std::fmt::Write;
 
 /// A problem file with these contents, in the layout [`super::from_str`] reads. Components

@@ -1,4 +1,5 @@
 use super::*;
+use crate::tensor::COMPONENTS;
 use proptest::prelude::*;
 
 /// A file that uses every table and both kinds of string.
@@ -251,23 +252,6 @@ fn a_parameter_may_be_named_u() {
     // `u` is only the variable of function samples; elsewhere it is an ordinary name.
     let p = ok("[parameters]\nu = 0.5\n[functions]\nF = 'sin(u)'\n[perturbation]\nxx = 'u*F(t)'\n");
     assert_eq!(p.parameters[0].0, "u");
-}
-
-#[test]
-fn gauge_names() {
-    for g in Gauge::ALL {
-        assert_eq!(Gauge::parse(g.name()), Some(g));
-        assert_eq!(g.name().parse::<Gauge>(), Ok(g));
-    }
-    assert!("Lorenz".parse::<Gauge>().is_err());
-    assert_eq!(component_name(0, 3), "tz");
-    assert_eq!(component_name(3, 0), "zt");
-    assert_eq!(component_name(4, 0), "?t");
-    let names: Vec<String> = COMPONENTS
-        .iter()
-        .map(|&(a, b)| component_name(a, b))
-        .collect();
-    assert_eq!(names.join(" "), "tt tx ty tz xx xy xz yy yz zz");
 }
 
 // ----- structural errors ---------------------------------------------------------------

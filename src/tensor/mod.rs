@@ -39,9 +39,33 @@ pub fn riemann_independent() -> Vec<[usize; 4]> {
     v
 }
 
-/// Name of a component from its indices, e.g. `[0, 1]` -> "tx".
+/// The ten independent components of a symmetric 4x4 tensor, as `(mu, nu)` with `mu <= nu`,
+/// in the order tt tx ty tz xx xy xz yy yz zz (index 0 = t, 1 = x, 2 = y, 3 = z).
+pub const COMPONENTS: [(usize, usize); 10] = [
+    (0, 0),
+    (0, 1),
+    (0, 2),
+    (0, 3),
+    (1, 1),
+    (1, 2),
+    (1, 3),
+    (2, 2),
+    (2, 3),
+    (3, 3),
+];
+
+/// Name of a component from its indices, e.g. `[0, 1]` -> "tx"; `?` stands for an index
+/// above 3.
 pub fn index_name(idx: &[usize]) -> String {
-    idx.iter().map(|&i| COORDS[i]).collect()
+    idx.iter()
+        .map(|&i| COORDS.get(i).copied().unwrap_or("?"))
+        .collect()
+}
+
+/// The name of component `(mu, nu)` of a symmetric tensor: `"tt"`, `"tx"`, ...
+#[must_use]
+pub fn component_name(mu: usize, nu: usize) -> String {
+    index_name(&[mu, nu])
 }
 
 /// A perturbation with memoised derived quantities.
@@ -52,7 +76,9 @@ pub struct Linearized {
     dh: Option<[Sym4; 4]>,
     riemann: Option<Vec<([usize; 4], Form)>>,
     ricci: Option<Sym4>,
+    einstein: Option<Sym4>,
     hbar: Option<Sym4>,
+    lorenz: Option<[Form; 4]>,
 }
 
 fn zeros(store: &Store) -> Sym4 {
@@ -69,7 +95,9 @@ impl Linearized {
             dh: None,
             riemann: None,
             ricci: None,
+            einstein: None,
             hbar: None,
+            lorenz: None,
         }
     }
 
@@ -229,6 +257,9 @@ impl Linearized {
 
     /// The linearized Einstein tensor G_{mu nu} = R_{mu nu} - (1/2) eta_{mu nu} R.
     pub fn einstein(&mut self, store: &mut Store) -> CResult<Sym4> {
+        if let Some(g) = self.einstein {
+            return Ok(g);
+        }
         let r = self.ricci(store)?;
         let s = self.ricci_scalar(store)?;
         let mut g = r;
@@ -236,6 +267,7 @@ impl Linearized {
             let shift = Coeff::rational(crate::canon::Q::new((-ETA[mu]).into(), 2.into()));
             row[mu] = store.linear(&[(&Coeff::one(), r[mu][mu]), (&shift, s)])?;
         }
+        self.einstein = Some(g);
         Ok(g)
     }
 
@@ -247,35 +279,28 @@ impl Linearized {
 
     /// The Lorenz divergence V_nu = d^mu hbar_{mu nu}.
     pub fn lorenz(&mut self, store: &mut Store) -> CResult<[Form; 4]> {
+        if let Some(v) = self.lorenz {
+            return Ok(v);
+        }
         let hb = self.hbar(store)?;
-        divergence(store, &hb, &self.coords)
+        let v = divergence(store, &hb, &self.coords)?;
+        self.lorenz = Some(v);
+        Ok(v)
     }
 
-    /// The transverse-traceless conditions, each with its name: h_{t mu} = 0, h^i_i = 0,
-    /// d_i h_{ij} = 0.
-    pub fn tt_conditions(&mut self, store: &mut Store) -> CResult<Vec<(String, Form)>> {
-        let mut out = self.synchronous_conditions();
-        let mut tr = store.zero();
-        for i in 1..4 {
-            tr = store.add(tr, self.h[i][i])?;
-        }
-        out.push(("h_xx + h_yy + h_zz".to_string(), tr));
+    /// The spatial trace h_xx + h_yy + h_zz (the flat spatial metric's trace).
+    pub fn spatial_trace(&self, store: &mut Store) -> CResult<Form> {
+        let one = Coeff::one();
+        let terms: Vec<(&Coeff, Form)> = (1..4).map(|i| (&one, self.h[i][i])).collect();
+        store.linear(&terms)
+    }
+
+    /// The spatial divergence d_i h_{ij} (summed over the spatial `i`), for `j` in 0..4.
+    pub fn spatial_divergence(&mut self, store: &mut Store, j: usize) -> CResult<Form> {
         let d = self.dh(store)?;
-        for j in 1..4 {
-            let mut acc = store.zero();
-            for (i, di) in d.iter().enumerate().skip(1) {
-                acc = store.add(acc, di[i][j])?;
-            }
-            out.push((format!("d_i h_i{}", COORDS[j]), acc));
-        }
-        Ok(out)
-    }
-
-    /// The synchronous-gauge conditions h_{t mu} = 0.
-    pub fn synchronous_conditions(&self) -> Vec<(String, Form)> {
-        (0..4)
-            .map(|mu| (format!("h_t{}", COORDS[mu]), self.h[0][mu]))
-            .collect()
+        let one = Coeff::one();
+        let terms: Vec<(&Coeff, Form)> = (1..4).map(|i| (&one, d[i][i][j])).collect();
+        store.linear(&terms)
     }
 }
 

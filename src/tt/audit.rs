@@ -8,7 +8,8 @@ use super::{Arg, Direction, NotTt, Share};
 use crate::audit::expr::{FileQuantities, Finding, summary};
 use crate::canon::Form;
 use crate::check::verdicts::audit_verdicts;
-use crate::problem::{COMPONENTS, Problem};
+use crate::problem::Problem;
+use crate::tensor::COMPONENTS;
 use crate::tensor::Sym4;
 use crate::zero::Verdict;
 

@@ -17,6 +17,7 @@ use lingrav::audit::expr::{FileQuantities, Finding, summary};
 use lingrav::canon::{Form, Store};
 use lingrav::check::verdicts::audit_verdicts;
 use lingrav::check::{Status, audit_text, check};
+use lingrav::claim::Part;
 use lingrav::gauge::audit::audit_box;
 use lingrav::gauge::plane::{PlaneError, find_wave, tt_gauge_vector};
 use lingrav::gauge::{box_verdicts, file_texts, lorenz_verdicts, transform, transformed_texts};
@@ -203,7 +204,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
             };
             let route = FileQuantities::claims(&p, Some(&lorenz));
             let index = |nu: usize| {
-                let name = format!("d^mu hbar_mu{}", COORDS[nu]);
+                let name = Part::Lorenz(nu).name();
                 route.as_ref().ok()?.index_of("gauge.lorenz", &name)
             };
             let findings = audit_verdicts(&route, &mut verdicts, index, seed);
@@ -220,15 +221,15 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
                         return Err(Failure::Input(miette::miette!(
                             help = "bring the wave to Lorenz gauge first (see `lingrav gauge --vector`), \
                                     or project its TT part with `lingrav project`",
-                            "the TT construction needs a Lorenz-gauge wave, but d^mu hbar_mu{} = {r} \
+                            "the TT construction needs a Lorenz-gauge wave, but {} = {r} \
                              is nonzero {w}",
-                            COORDS[nu]
+                            Part::Lorenz(nu).name()
                         )));
                     }
                     Verdict::Undecided(why) => {
                         let reason = format!(
-                            "cannot decide whether the input is in Lorenz gauge: d^mu hbar_mu{} ({why})",
-                            COORDS[nu]
+                            "cannot decide whether the input is in Lorenz gauge: {} ({why})",
+                            Part::Lorenz(nu).name()
                         );
                         return stop_undecided(&reason, a.format, s, j);
                     }

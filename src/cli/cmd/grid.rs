@@ -228,10 +228,6 @@ pub fn run(a: GridArgs) -> Result<Outcome, Failure> {
     })
 }
 
-fn title(c: &ClaimResult) -> String {
-    lingrav::problem::titles::asserted(&c.title, c.asserted)
-}
-
 fn word(c: &ClaimResult, has_claims: bool) -> String {
     match (has_claims, c.asserted) {
         (true, Some(_)) => c.status.label().to_string(),
@@ -329,7 +325,7 @@ fn render_text(label: &str, name: Option<&str>, r: &GridReport, defaults: &[&str
     }
     for c in &r.claims {
         let _ = writeln!(s);
-        let _ = writeln!(s, "  {:<13}{}", word(c, r.has_claims), title(c));
+        let _ = writeln!(s, "  {:<13}{}", word(c, r.has_claims), c.heading);
         let _ = writeln!(
             s,
             "  {:13}{:>6}  {:>10}  {:>10}  {:>10}  {:>6}",

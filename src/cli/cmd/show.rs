@@ -6,7 +6,8 @@ use crate::cli::out::{Failure, Outcome, gave_up, print};
 use crate::cli::report::{Format, conventions, json};
 use clap::{Args, ValueEnum};
 use lingrav::canon::{CanonError, Form};
-use lingrav::problem::COMPONENTS;
+use lingrav::claim::{Gauge, Kind, Part};
+use lingrav::tensor::COMPONENTS;
 use lingrav::tensor::{COORDS, Linearized, index_name};
 use std::fmt::Write as _;
 use std::path::PathBuf;
@@ -89,20 +90,15 @@ pub fn run(a: ShowArgs) -> Result<Outcome, Failure> {
         }
         Quantity::Riemann => {
             for (idx, f) in lin.riemann(store).map_err(limit)? {
-                rows.push((format!("R_{}", index_name(&idx)), f));
+                rows.push((Part::Riemann(idx).name(), f));
             }
         }
         Quantity::Ricci => rows = sym("R", &lin.ricci(store).map_err(limit)?),
         Quantity::RicciScalar => rows.push(("R".into(), lin.ricci_scalar(store).map_err(limit)?)),
         Quantity::Einstein => rows = sym("G", &lin.einstein(store).map_err(limit)?),
         Quantity::BoxHbar => rows = sym("box_hbar", &lin.box_hbar(store).map_err(limit)?),
-        Quantity::Lorenz => {
-            let v = lin.lorenz(store).map_err(limit)?;
-            for (nu, f) in v.iter().enumerate() {
-                rows.push((format!("d^mu hbar_mu{}", COORDS[nu]), *f));
-            }
-        }
-        Quantity::Tt => rows = lin.tt_conditions(store).map_err(limit)?,
+        Quantity::Lorenz => rows = conditions(store, &mut lin, Gauge::Lorenz).map_err(limit)?,
+        Quantity::Tt => rows = conditions(store, &mut lin, Gauge::Tt).map_err(limit)?,
     }
     let label = a.file.display().to_string();
     let mut shown = Vec::new();
@@ -189,4 +185,13 @@ fn latex_label(name: &str) -> String {
         }
     }
     out
+}
+
+/// A gauge's conditions, named as `check` names them.
+fn conditions(
+    store: &mut lingrav::Store,
+    lin: &mut Linearized,
+    g: Gauge,
+) -> lingrav::canon::CResult<Vec<(String, Form)>> {
+    lingrav::check::ExactParts::new(lin, None).named(store, Kind::Gauge(g))
 }

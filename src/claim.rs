@@ -1,0 +1,412 @@
+//! The claims a perturbation can be checked for, described once.
+//!
+//! Model. A claim is data: its [`Kind`] (which condition), whether the file asserts it
+//! ([`Claim::asserted`]), and the ordered list of [`Part`]s, the components that must all
+//! vanish for it to hold. A [`Plan`] is the list of claims a problem is checked for, chosen
+//! from its \[claims\] table (or, without one, every property, unasserted).
+//!
+//! Key design decision: keys, titles, negated titles, component names and the "overall"
+//! rule live here and nowhere else; each route computes a [`Part`] by its own formulas (the
+//! exact check from [`crate::tensor`], the numerical check and the audit from
+//! [`crate::grid::claims`]), so the routes stay independent while their reports line up
+//! component by component. Adding a gauge condition is one [`Gauge`] variant with its name,
+//! titles and parts here, plus the formula of each new [`Part`] in each route.
+
+use crate::problem::Claims;
+use crate::tensor::{COORDS, index_name, riemann_independent};
+use std::fmt;
+
+/// A gauge condition that a file can claim.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Gauge {
+    /// `d^mu hbar_{mu nu} = 0`, with `hbar` the trace-reversed perturbation.
+    Lorenz,
+    /// Transverse-traceless: `h_{t mu} = 0`, `d^i h_{ij} = 0`, `h^i_i = 0`.
+    Tt,
+    /// `h_{t mu} = 0`.
+    Synchronous,
+}
+
+impl Gauge {
+    /// Every gauge, in the order of their names in [`Gauge::NAMES`].
+    pub const ALL: [Gauge; 3] = [Gauge::Lorenz, Gauge::Tt, Gauge::Synchronous];
+    /// The names accepted in a file.
+    pub const NAMES: [&'static str; 3] = ["lorenz", "tt", "synchronous"];
+
+    /// The name used in files: `lorenz`, `tt` or `synchronous`.
+    #[must_use]
+    pub fn name(self) -> &'static str {
+        match self {
+            Gauge::Lorenz => "lorenz",
+            Gauge::Tt => "tt",
+            Gauge::Synchronous => "synchronous",
+        }
+    }
+
+    /// The claim's title, e.g. `Lorenz gauge (d^mu hbar_{mu nu} = 0)`.
+    #[must_use]
+    pub fn title(self) -> &'static str {
+        Kind::Gauge(self).title()
+    }
+
+    /// The gauge with this name (exact, lowercase), if there is one.
+    #[must_use]
+    pub fn parse(name: &str) -> Option<Gauge> {
+        Gauge::ALL.into_iter().find(|g| g.name() == name)
+    }
+
+    /// The conditions, in report order.
+    fn parts(self) -> Vec<Part> {
+        let synchronous = (0..4).map(|mu| Part::H(0, mu));
+        match self {
+            Gauge::Lorenz => (0..4).map(Part::Lorenz).collect(),
+            Gauge::Synchronous => synchronous.collect(),
+            Gauge::Tt => synchronous
+                .chain([Part::SpatialTrace])
+                .chain((1..4).map(Part::SpatialDivergence))
+                .collect(),
+        }
+    }
+}
+
+impl std::str::FromStr for Gauge {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Gauge, String> {
+        Gauge::parse(s).ok_or_else(|| {
+            format!(
+                "unknown gauge `{s}`; the gauges are {}",
+                Gauge::NAMES.join(", ")
+            )
+        })
+    }
+}
+
+impl fmt::Display for Gauge {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+/// Which condition a claim is about.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Kind {
+    /// `d^mu T_{mu nu} = 0`.
+    SourceConservation,
+    /// `G1_{mu nu} = 8 pi T_{mu nu}`, or `G1_{mu nu} = 0` without a source.
+    FieldEquations {
+        /// Whether the problem has a source.
+        sourced: bool,
+    },
+    /// A gauge condition.
+    Gauge(Gauge),
+    /// The linearized Riemann tensor vanishes.
+    PureGauge,
+}
+
+impl Kind {
+    /// The machine key: `source_conservation`, `field_equations`, `gauge.lorenz`,
+    /// `pure_gauge`.
+    #[must_use]
+    pub fn key(self) -> String {
+        match self {
+            Kind::SourceConservation => "source_conservation".into(),
+            Kind::FieldEquations { .. } => "field_equations".into(),
+            Kind::Gauge(g) => format!("gauge.{}", g.name()),
+            Kind::PureGauge => "pure_gauge".into(),
+        }
+    }
+
+    /// The title of the claim that the parts vanish.
+    #[must_use]
+    pub fn title(self) -> &'static str {
+        self.titles().0
+    }
+
+    /// The title of the claim that they do not all vanish (a claim written `= false`).
+    #[must_use]
+    pub fn negated_title(self) -> &'static str {
+        self.titles().1
+    }
+
+    fn titles(self) -> (&'static str, &'static str) {
+        match self {
+            Kind::SourceConservation => (
+                "source conservation (d^mu T_{mu nu} = 0)",
+                "not source conservation (d^mu T_{mu nu} != 0)",
+            ),
+            Kind::FieldEquations { sourced: true } => (
+                "field equations G1 = 8 pi T",
+                "not field equations G1 = 8 pi T",
+            ),
+            Kind::FieldEquations { sourced: false } => (
+                "vacuum field equations G1 = 0",
+                "not vacuum field equations G1 = 0",
+            ),
+            Kind::Gauge(Gauge::Lorenz) => (
+                "Lorenz gauge (d^mu hbar_{mu nu} = 0)",
+                "not Lorenz gauge (d^mu hbar_{mu nu} != 0)",
+            ),
+            Kind::Gauge(Gauge::Tt) => (
+                "TT gauge (h_{t mu} = 0, h^i_i = 0, d_i h_{ij} = 0)",
+                "not TT gauge (one of h_{t mu}, h^i_i, d_i h_{ij} != 0)",
+            ),
+            Kind::Gauge(Gauge::Synchronous) => (
+                "synchronous gauge (h_{t mu} = 0)",
+                "not synchronous gauge (h_{t mu} != 0)",
+            ),
+            Kind::PureGauge => (
+                "pure gauge (linearized Riemann tensor = 0)",
+                "not pure gauge (linearized Riemann tensor != 0)",
+            ),
+        }
+    }
+
+    /// The components that must vanish, in report order.
+    #[must_use]
+    pub fn parts(self) -> Vec<Part> {
+        match self {
+            Kind::SourceConservation => (0..4).map(Part::Conservation).collect(),
+            Kind::FieldEquations { sourced } => crate::tensor::COMPONENTS
+                .iter()
+                .map(|&(mu, nu)| Part::FieldEquation { mu, nu, sourced })
+                .collect(),
+            Kind::Gauge(g) => g.parts(),
+            Kind::PureGauge => riemann_independent()
+                .into_iter()
+                .map(Part::Riemann)
+                .collect(),
+        }
+    }
+}
+
+/// One component of a claim: an expression in h (and T) that must vanish.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Part {
+    /// `d^mu T_{mu nu}` for this `nu`.
+    Conservation(usize),
+    /// `G1_{mu nu} - 8 pi T_{mu nu}` (or `G1_{mu nu}` without a source), `mu <= nu`.
+    FieldEquation {
+        /// The first index.
+        mu: usize,
+        /// The second index.
+        nu: usize,
+        /// Whether the source term is subtracted.
+        sourced: bool,
+    },
+    /// `d^mu hbar_{mu nu}` for this `nu`.
+    Lorenz(usize),
+    /// The component `h_{mu nu}` itself.
+    H(usize, usize),
+    /// The spatial trace `h_xx + h_yy + h_zz`.
+    SpatialTrace,
+    /// The spatial divergence `d_i h_{ij}` for this `j`.
+    SpatialDivergence(usize),
+    /// The linearized Riemann component `R_{abcd}`.
+    Riemann([usize; 4]),
+}
+
+impl Part {
+    /// The component's name in reports, e.g. `G_tx - 8*pi*T_tx`, `d^mu hbar_muz`, `R_txtx`.
+    #[must_use]
+    pub fn name(self) -> String {
+        match self {
+            Part::Conservation(nu) => format!("d^mu T_mu{}", COORDS[nu]),
+            Part::FieldEquation {
+                mu,
+                nu,
+                sourced: true,
+            } => format!("G_{0} - 8*pi*T_{0}", index_name(&[mu, nu])),
+            Part::FieldEquation {
+                mu,
+                nu,
+                sourced: false,
+            } => format!("G_{}", index_name(&[mu, nu])),
+            Part::Lorenz(nu) => format!("d^mu hbar_mu{}", COORDS[nu]),
+            Part::H(mu, nu) => format!("h_{}", index_name(&[mu, nu])),
+            Part::SpatialTrace => "h_xx + h_yy + h_zz".into(),
+            Part::SpatialDivergence(j) => format!("d_i h_i{}", COORDS[j]),
+            Part::Riemann(idx) => format!("R_{}", index_name(&idx)),
+        }
+    }
+}
+
+/// A claim of a plan: what is checked and what the file asserts about it.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Claim {
+    /// The condition.
+    pub kind: Kind,
+    /// `Some(true)`: the parts vanish; `Some(false)`: they do not all vanish; `None`: only
+    /// reported.
+    pub asserted: Option<bool>,
+}
+
+impl Claim {
+    /// The title as asserted: the negated title for a claim asserted false.
+    #[must_use]
+    pub fn heading(self) -> &'static str {
+        match self.asserted {
+            Some(false) => self.kind.negated_title(),
+            _ => self.kind.title(),
+        }
+    }
+}
+
+/// The claims a problem is checked for, in report order: source conservation (when there
+/// is a source), field equations, gauge conditions, pure gauge.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Plan {
+    /// The claims.
+    pub claims: Vec<Claim>,
+    /// True if the file had a \[claims\] table (otherwise every property is reported,
+    /// unasserted, and none counts as failing).
+    pub has_claims: bool,
+}
+
+impl Plan {
+    /// The plan for a file's \[claims\] table (`None`: every property, unasserted).
+    ///
+    /// Source conservation is checked whenever there is a source, asserted when the field
+    /// equations are (a source that is not conserved cannot satisfy them); gauge conditions
+    /// are asserted to hold.
+    #[must_use]
+    pub fn of(claims: Option<&Claims>, sourced: bool) -> Plan {
+        let has_claims = claims.is_some();
+        let mut out = Vec::new();
+        if sourced {
+            out.push(Claim {
+                kind: Kind::SourceConservation,
+                asserted: claims.and_then(|c| c.field_equations.filter(|b| *b)),
+            });
+        }
+        let (fe, gauges, pg) = match claims {
+            Some(c) => (c.field_equations, c.gauge.clone(), c.pure_gauge),
+            None => (None, Gauge::ALL.to_vec(), None),
+        };
+        if fe.is_some() || !has_claims {
+            out.push(Claim {
+                kind: Kind::FieldEquations { sourced },
+                asserted: fe,
+            });
+        }
+        for g in gauges {
+            out.push(Claim {
+                kind: Kind::Gauge(g),
+                asserted: has_claims.then_some(true),
+            });
+        }
+        if pg.is_some() || !has_claims {
+            out.push(Claim {
+                kind: Kind::PureGauge,
+                asserted: pg,
+            });
+        }
+        Plan {
+            claims: out,
+            has_claims,
+        }
+    }
+}
+
+/// The one rule from claim outcomes to a file's overall outcome, for any route's statuses:
+/// `fails` if the file has claims and an asserted one fails; else the first status of
+/// `pending` (most severe first) that any counted claim has; else `holds`. Counted are the
+/// asserted claims, or every claim of a file without \[claims\] (whose properties are only
+/// reported, so a property that does not hold is no failure).
+pub fn overall<S: Copy + PartialEq>(
+    has_claims: bool,
+    claims: impl IntoIterator<Item = (Option<bool>, S)>,
+    fails: S,
+    pending: &[S],
+    holds: S,
+) -> S {
+    let counted: Vec<S> = claims
+        .into_iter()
+        .filter(|(asserted, _)| asserted.is_some() || !has_claims)
+        .map(|(_, s)| s)
+        .collect();
+    if has_claims && counted.contains(&fails) {
+        return fails;
+    }
+    pending
+        .iter()
+        .copied()
+        .find(|p| counted.contains(p))
+        .unwrap_or(holds)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn every_gauge_reads_back_from_its_name() {
+        for g in Gauge::ALL {
+            assert_eq!(Gauge::parse(g.name()), Some(g));
+            assert_eq!(g.name().parse::<Gauge>(), Ok(g));
+        }
+        assert!("Lorenz".parse::<Gauge>().is_err());
+    }
+
+    #[test]
+    fn keys_and_part_names_are_distinct_within_a_plan() {
+        let plan = Plan::of(None, true);
+        let keys: Vec<String> = plan.claims.iter().map(|c| c.kind.key()).collect();
+        let mut unique = keys.clone();
+        unique.sort();
+        unique.dedup();
+        assert_eq!(keys.len(), unique.len(), "{keys:?}");
+        for c in &plan.claims {
+            let names: Vec<String> = c.kind.parts().iter().map(|p| p.name()).collect();
+            let mut u = names.clone();
+            u.sort();
+            u.dedup();
+            assert_eq!(names.len(), u.len(), "{names:?}");
+            assert!(c.kind.title() != c.kind.negated_title());
+        }
+    }
+
+    #[test]
+    fn the_plan_follows_the_claims_table() {
+        let claims = Claims {
+            field_equations: Some(false),
+            gauge: vec![Gauge::Tt],
+            pure_gauge: None,
+        };
+        let plan = Plan::of(Some(&claims), true);
+        let kinds: Vec<(Kind, Option<bool>)> =
+            plan.claims.iter().map(|c| (c.kind, c.asserted)).collect();
+        assert_eq!(
+            kinds,
+            vec![
+                // Not asserted: the field equations are claimed to fail.
+                (Kind::SourceConservation, None),
+                (Kind::FieldEquations { sourced: true }, Some(false)),
+                (Kind::Gauge(Gauge::Tt), Some(true)),
+            ]
+        );
+        assert_eq!(plan.claims[1].heading(), "not field equations G1 = 8 pi T");
+        let all = Plan::of(None, false);
+        assert_eq!(all.claims.len(), 5);
+        assert!(all.claims.iter().all(|c| c.asserted.is_none()));
+    }
+
+    #[test]
+    fn overall_counts_asserted_claims_and_reported_properties() {
+        #[derive(Clone, Copy, PartialEq, Debug)]
+        enum S {
+            H,
+            F,
+            U,
+        }
+        let rule =
+            |has, v: &[(Option<bool>, S)]| overall(has, v.iter().copied(), S::F, &[S::U], S::H);
+        assert_eq!(rule(true, &[(Some(true), S::H), (Some(true), S::F)]), S::F);
+        assert_eq!(rule(true, &[(None, S::F), (Some(true), S::H)]), S::H);
+        assert_eq!(rule(true, &[(Some(true), S::U), (Some(true), S::H)]), S::U);
+        assert_eq!(rule(true, &[(Some(true), S::U), (Some(true), S::F)]), S::F);
+        // Without claims a failing property is only reported; an undecided one still counts.
+        assert_eq!(rule(false, &[(None, S::F), (None, S::H)]), S::H);
+        assert_eq!(rule(false, &[(None, S::F), (None, S::U)]), S::U);
+        assert_eq!(rule(true, &[]), S::H);
+    }
+}
