@@ -12,7 +12,6 @@
 //! component by component. Adding a gauge condition is one [`Gauge`] variant with its name,
 //! titles and parts here, plus the formula of each new [`Part`] in each route.
 
-use crate::problem::Claims;
 use crate::tensor::{COORDS, index_name, riemann_independent};
 use std::fmt;
 
@@ -84,6 +83,40 @@ impl std::str::FromStr for Gauge {
 impl fmt::Display for Gauge {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         f.write_str(self.name())
+    }
+}
+
+/// What the author of a file asserts; every claim is checked.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct Claims {
+    /// `G1_{mu nu} = 8 pi T_{mu nu}` (vacuum without a source) holds, or fails.
+    pub field_equations: Option<bool>,
+    /// Gauge conditions that hold, in file order, each at most once.
+    pub gauge: Vec<Gauge>,
+    /// `h` is, or is not, a pure gauge perturbation `d_mu xi_nu + d_nu xi_mu`.
+    pub pure_gauge: Option<bool>,
+}
+
+impl Claims {
+    /// The claims as written in a file's \[claims\] table, on one line (`none` when empty).
+    #[must_use]
+    pub fn summary(&self) -> String {
+        let mut parts = Vec::new();
+        if let Some(b) = self.field_equations {
+            parts.push(format!("field_equations = {b}"));
+        }
+        if !self.gauge.is_empty() {
+            let g: Vec<String> = self.gauge.iter().map(|g| format!("'{g}'")).collect();
+            parts.push(format!("gauge = [{}]", g.join(", ")));
+        }
+        if let Some(b) = self.pure_gauge {
+            parts.push(format!("pure_gauge = {b}"));
+        }
+        if parts.is_empty() {
+            "none".into()
+        } else {
+            parts.join(", ")
+        }
     }
 }
 

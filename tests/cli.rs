@@ -18,6 +18,8 @@ mod bad_input;
 mod expr_commands;
 #[path = "cli/general.rs"]
 mod general;
+#[path = "cli/layers.rs"]
+mod layers;
 #[path = "cli/output.rs"]
 mod output;
 #[path = "cli/safety.rs"]

@@ -65,41 +65,7 @@ use std::fmt;
 /// `[nu][mu]`; `None` for a component the file omits.
 pub type TensorText = [[Option<String>; 4]; 4];
 
-pub use crate::claim::Gauge;
-
-/// What the author of a file asserts; every claim is checked.
-#[derive(Clone, Debug, Default, PartialEq, Eq)]
-pub struct Claims {
-    /// `G1_{mu nu} = 8 pi T_{mu nu}` (vacuum without a source) holds, or fails.
-    pub field_equations: Option<bool>,
-    /// Gauge conditions that hold, in file order, each at most once.
-    pub gauge: Vec<Gauge>,
-    /// `h` is, or is not, a pure gauge perturbation `d_mu xi_nu + d_nu xi_mu`.
-    pub pure_gauge: Option<bool>,
-}
-
-impl Claims {
-    /// The claims as written in a file's \[claims\] table, on one line (`none` when empty).
-    #[must_use]
-    pub fn summary(&self) -> String {
-        let mut parts = Vec::new();
-        if let Some(b) = self.field_equations {
-            parts.push(format!("field_equations = {b}"));
-        }
-        if !self.gauge.is_empty() {
-            let g: Vec<String> = self.gauge.iter().map(|g| format!("'{g}'")).collect();
-            parts.push(format!("gauge = [{}]", g.join(", ")));
-        }
-        if let Some(b) = self.pure_gauge {
-            parts.push(format!("pure_gauge = {b}"));
-        }
-        if parts.is_empty() {
-            "none".into()
-        } else {
-            parts.join(", ")
-        }
-    }
-}
+pub use crate::claim::{Claims, Gauge};
 
 /// Settings for the numerical grid check, as written (the grid check supplies defaults).
 #[derive(Clone, Debug, Default, PartialEq)]
