@@ -12,6 +12,8 @@
 
 use crate::canon::{CResult, Coeff, Form, KernelId, Store};
 
+pub mod curved;
+
 /// Coordinate names in index order.
 pub const COORDS: [&str; 4] = ["t", "x", "y", "z"];
 
