@@ -12,7 +12,7 @@
 //! component by component. Adding a gauge condition is one [`Gauge`] variant with its name,
 //! titles and parts here, plus the formula of each new [`Part`] in each route.
 
-use crate::tensor::{COORDS, index_name, riemann_independent};
+use crate::tensor::{Frame, riemann_independent};
 use std::fmt;
 
 /// A gauge condition that a file can claim.
@@ -132,8 +132,28 @@ pub enum Kind {
     },
     /// A gauge condition.
     Gauge(Gauge),
-    /// The linearized Riemann tensor vanishes.
+    /// The linearized Riemann tensor vanishes (about a flat background).
     PureGauge,
+    /// The background's own equations, Gbar + Lambda gbar = 8 pi Tbar.
+    BackgroundEquations {
+        /// Whether there is a cosmological constant.
+        lambda: bool,
+        /// Whether there is a background source.
+        sourced: bool,
+    },
+    /// dG + Lambda h = 8 pi dT about a background.
+    CurvedFieldEquations {
+        /// Whether there is a cosmological constant.
+        lambda: bool,
+        /// Whether the perturbation has a source.
+        sourced: bool,
+    },
+    /// A gauge condition about a background (traces and divergences with gbar and its
+    /// covariant derivative).
+    CovariantGauge(Gauge),
+    /// h = D xi + D xi for the file's gauge vector: pure gauge when it holds; when it does
+    /// not, that vector is not the one, which decides nothing.
+    GaugeVector,
 }
 
 impl Kind {
@@ -144,8 +164,10 @@ impl Kind {
         match self {
             Kind::SourceConservation => "source_conservation".into(),
             Kind::FieldEquations { .. } => "field_equations".into(),
-            Kind::Gauge(g) => format!("gauge.{}", g.name()),
-            Kind::PureGauge => "pure_gauge".into(),
+            Kind::Gauge(g) | Kind::CovariantGauge(g) => format!("gauge.{}", g.name()),
+            Kind::PureGauge | Kind::GaugeVector => "pure_gauge".into(),
+            Kind::BackgroundEquations { .. } => "background".into(),
+            Kind::CurvedFieldEquations { .. } => "field_equations".into(),
         }
     }
 
@@ -191,6 +213,58 @@ impl Kind {
                 "pure gauge (linearized Riemann tensor = 0)",
                 "not pure gauge (linearized Riemann tensor != 0)",
             ),
+            Kind::BackgroundEquations { lambda, sourced } => match (lambda, sourced) {
+                (false, false) => (
+                    "background is a vacuum solution (Gbar = 0)",
+                    "background is not a vacuum solution (Gbar != 0)",
+                ),
+                (true, false) => (
+                    "background solves Gbar + Lambda gbar = 0",
+                    "background does not solve Gbar + Lambda gbar = 0",
+                ),
+                (false, true) => (
+                    "background solves Gbar = 8 pi Tbar",
+                    "background does not solve Gbar = 8 pi Tbar",
+                ),
+                (true, true) => (
+                    "background solves Gbar + Lambda gbar = 8 pi Tbar",
+                    "background does not solve Gbar + Lambda gbar = 8 pi Tbar",
+                ),
+            },
+            Kind::CurvedFieldEquations { lambda, sourced } => match (lambda, sourced) {
+                (false, false) => (
+                    "linearized vacuum equations about the background dG = 0",
+                    "not linearized vacuum equations about the background dG = 0",
+                ),
+                (true, false) => (
+                    "linearized equations about the background dG + Lambda h = 0",
+                    "not linearized equations about the background dG + Lambda h = 0",
+                ),
+                (false, true) => (
+                    "linearized equations about the background dG = 8 pi dT",
+                    "not linearized equations about the background dG = 8 pi dT",
+                ),
+                (true, true) => (
+                    "linearized equations about the background dG + Lambda h = 8 pi dT",
+                    "not linearized equations about the background dG + Lambda h = 8 pi dT",
+                ),
+            },
+            Kind::CovariantGauge(Gauge::Lorenz) => (
+                "Lorenz gauge (gbar^{mu a} D_a hbar_{mu nu} = 0)",
+                "not Lorenz gauge (gbar^{mu a} D_a hbar_{mu nu} != 0)",
+            ),
+            Kind::CovariantGauge(Gauge::Tt) => (
+                "TT gauge (h_{0 mu} = 0, gbar^{mu nu} h_{mu nu} = 0, D^mu hbar_{mu nu} = 0)",
+                "not TT gauge (one of h_{0 mu}, gbar^{mu nu} h_{mu nu}, D^mu hbar_{mu nu} != 0)",
+            ),
+            Kind::CovariantGauge(Gauge::Synchronous) => (
+                "synchronous gauge (h_{0 mu} = 0)",
+                "not synchronous gauge (h_{0 mu} != 0)",
+            ),
+            Kind::GaugeVector => (
+                "pure gauge by the file's vector (h = D xi + D xi)",
+                "not pure gauge (h = D xi + D xi for the file's vector)",
+            ),
         }
     }
 
@@ -208,7 +282,47 @@ impl Kind {
                 .into_iter()
                 .map(Part::Riemann)
                 .collect(),
+            Kind::BackgroundEquations { lambda, sourced } => crate::tensor::COMPONENTS
+                .iter()
+                .map(|&(mu, nu)| Part::BackgroundEquation {
+                    mu,
+                    nu,
+                    lambda,
+                    sourced,
+                })
+                .collect(),
+            Kind::CurvedFieldEquations { lambda, sourced } => crate::tensor::COMPONENTS
+                .iter()
+                .map(|&(mu, nu)| Part::CurvedFieldEquation {
+                    mu,
+                    nu,
+                    lambda,
+                    sourced,
+                })
+                .collect(),
+            Kind::CovariantGauge(g) => {
+                let synchronous = (0..4).map(|mu| Part::H(0, mu));
+                match g {
+                    Gauge::Lorenz => (0..4).map(Part::Lorenz).collect(),
+                    Gauge::Synchronous => synchronous.collect(),
+                    Gauge::Tt => synchronous
+                        .chain([Part::Trace])
+                        .chain((0..4).map(Part::Lorenz))
+                        .collect(),
+                }
+            }
+            Kind::GaugeVector => crate::tensor::COMPONENTS
+                .iter()
+                .map(|&(mu, nu)| Part::GaugeResidual(mu, nu))
+                .collect(),
         }
+    }
+
+    /// Whether a certified nonzero part refutes the claim. Not for [`Kind::GaugeVector`]:
+    /// that h differs from one vector's gauge transformation says nothing about others.
+    #[must_use]
+    pub fn refuted_by_witness(self) -> bool {
+        !matches!(self, Kind::GaugeVector)
     }
 }
 
@@ -236,29 +350,109 @@ pub enum Part {
     SpatialDivergence(usize),
     /// The linearized Riemann component `R_{abcd}`.
     Riemann([usize; 4]),
+    /// `Gbar_{mu nu} + Lambda gbar_{mu nu} - 8 pi Tbar_{mu nu}`, `mu <= nu`.
+    BackgroundEquation {
+        /// The first index.
+        mu: usize,
+        /// The second index.
+        nu: usize,
+        /// Whether the Lambda term is there.
+        lambda: bool,
+        /// Whether the source term is there.
+        sourced: bool,
+    },
+    /// `dG_{mu nu} + Lambda h_{mu nu} - 8 pi dT_{mu nu}` about a background, `mu <= nu`.
+    CurvedFieldEquation {
+        /// The first index.
+        mu: usize,
+        /// The second index.
+        nu: usize,
+        /// Whether the Lambda term is there.
+        lambda: bool,
+        /// Whether the source term is there.
+        sourced: bool,
+    },
+    /// The trace `gbar^{mu nu} h_{mu nu}`.
+    Trace,
+    /// `h_{mu nu} - D_mu xi_nu - D_nu xi_mu` for the file's gauge vector, `mu <= nu`.
+    GaugeResidual(usize, usize),
 }
 
 impl Part {
-    /// The component's name in reports, e.g. `G_tx - 8*pi*T_tx`, `d^mu hbar_muz`, `R_txtx`.
+    /// The component's name in reports, e.g. `G_tx - 8*pi*T_tx`, `d^mu hbar_muz`, `R_txtx`
+    /// (Cartesian coordinates, partial derivatives).
     #[must_use]
     pub fn name(self) -> String {
+        self.name_in(&Frame::cartesian())
+    }
+
+    /// The component's name in `frame`'s coordinates and derivatives.
+    #[must_use]
+    pub fn name_in(self, frame: &Frame) -> String {
+        let c = |mu: usize, nu: usize| frame.index(&[mu, nu]);
+        let d = if frame.covariant { "D" } else { "d" };
+        // A free index after `mu`: `muz` with one-letter names, `{mu th}` otherwise.
+        let after_mu = |n: usize| {
+            if frame.one_letter() && !frame.covariant {
+                format!("mu{}", frame.coord(n))
+            } else {
+                format!("{{mu {}}}", frame.coord(n))
+            }
+        };
         match self {
-            Part::Conservation(nu) => format!("d^mu T_mu{}", COORDS[nu]),
+            Part::Conservation(nu) => format!("{d}^mu T_{}", after_mu(nu)),
             Part::FieldEquation {
                 mu,
                 nu,
                 sourced: true,
-            } => format!("G_{0} - 8*pi*T_{0}", index_name(&[mu, nu])),
+            } => format!("G_{0} - 8*pi*T_{0}", c(mu, nu)),
             Part::FieldEquation {
                 mu,
                 nu,
                 sourced: false,
-            } => format!("G_{}", index_name(&[mu, nu])),
-            Part::Lorenz(nu) => format!("d^mu hbar_mu{}", COORDS[nu]),
-            Part::H(mu, nu) => format!("h_{}", index_name(&[mu, nu])),
+            } => format!("G_{}", c(mu, nu)),
+            Part::Lorenz(nu) => format!("{d}^mu hbar_{}", after_mu(nu)),
+            Part::H(mu, nu) => format!("h_{}", c(mu, nu)),
             Part::SpatialTrace => "h_xx + h_yy + h_zz".into(),
-            Part::SpatialDivergence(j) => format!("d_i h_i{}", COORDS[j]),
-            Part::Riemann(idx) => format!("R_{}", index_name(&idx)),
+            Part::SpatialDivergence(j) => format!("d_i h_i{}", frame.coord(j)),
+            Part::Riemann(idx) => format!("R_{}", frame.index(&idx)),
+            Part::BackgroundEquation {
+                mu,
+                nu,
+                lambda,
+                sourced,
+            } => {
+                let k = c(mu, nu);
+                let mut s = format!("Gbar_{k}");
+                if lambda {
+                    s.push_str(&format!(" + Lambda*gbar_{k}"));
+                }
+                if sourced {
+                    s.push_str(&format!(" - 8*pi*Tbar_{k}"));
+                }
+                s
+            }
+            Part::CurvedFieldEquation {
+                mu,
+                nu,
+                lambda,
+                sourced,
+            } => {
+                let k = c(mu, nu);
+                let mut s = format!("dG_{k}");
+                if lambda {
+                    s.push_str(&format!(" + Lambda*h_{k}"));
+                }
+                if sourced {
+                    s.push_str(&format!(" - 8*pi*dT_{k}"));
+                }
+                s
+            }
+            Part::Trace => "gbar^{mu nu} h_{mu nu}".into(),
+            Part::GaugeResidual(mu, nu) => {
+                let (a, b) = (frame.coord(mu), frame.coord(nu));
+                format!("h_{} - {d}_{a} xi_{b} - {d}_{b} xi_{a}", c(mu, nu))
+            }
         }
     }
 }

@@ -800,7 +800,9 @@ impl FileQuantities {
         let mut quantities = Vec::new();
         for p in Kind::PureGauge.parts() {
             let name = p.name();
-            let terms = claim_terms(&name, &crate::grid::claims::part(p))?;
+            let combo =
+                crate::grid::claims::part(p).expect("a flat formula for every Riemann part");
+            let terms = claim_terms(&name, &combo)?;
             quantities.push(Quantity {
                 claim: "riemann".into(),
                 name,

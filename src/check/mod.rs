@@ -7,6 +7,7 @@
 //! witnesses.
 
 pub mod audit;
+pub mod curved;
 pub mod verdicts;
 
 pub use audit::{AUDIT_POINTS, Audited, audit_text, auditable};
@@ -261,7 +262,7 @@ fn method_text(components: &[Component], status: Status, expect_zero: bool) -> S
     }
 }
 
-fn claim(
+pub(crate) fn claim(
     store: &mut Store,
     claim: Claim,
     named: Vec<(String, Form)>,
@@ -270,12 +271,25 @@ fn claim(
     let components = verdicts_for(store, named, sampling);
     let expect_zero = claim.asserted.unwrap_or(true);
     let refs: Vec<&Verdict> = components.iter().map(|c| &c.verdict).collect();
-    let status = Status::of(&refs, expect_zero);
-    let method = method_text(&components, status, expect_zero);
+    let mut status = Status::of(&refs, expect_zero);
+    let mut method = method_text(&components, status, expect_zero);
+    let nonzero = refs
+        .iter()
+        .filter(|v| matches!(v, Verdict::Nonzero(_)))
+        .count();
+    if !claim.kind.refuted_by_witness() && nonzero > 0 {
+        // A nonzero part shows only that this vector is not the one: it decides nothing.
+        status = Status::Undecided;
+        method = format!(
+            "undecided: h is not the gauge transformation of the file's vector ({nonzero} of {} \
+             components certified nonzero); another vector may still give h",
+            components.len()
+        );
+    }
     ClaimReport::new(claim, status, method, components)
 }
 
-fn limit_report(claim: Claim, e: CanonError) -> ClaimReport {
+pub(crate) fn limit_report(claim: Claim, e: CanonError) -> ClaimReport {
     ClaimReport::new(
         claim,
         Status::Undecided,
@@ -336,6 +350,15 @@ impl<'a> ExactParts<'a> {
             Part::SpatialTrace => self.lin.spatial_trace(store)?,
             Part::SpatialDivergence(j) => self.lin.spatial_divergence(store, j)?,
             Part::Riemann(idx) => self.lin.riemann_component(store, idx)?,
+            // The parts about a background are computed by [`CurvedParts`].
+            Part::BackgroundEquation { .. }
+            | Part::CurvedFieldEquation { .. }
+            | Part::Trace
+            | Part::GaugeResidual(..) => {
+                return Err(CanonError::Undefined(
+                    "a part about a background asked of the flat route".into(),
+                ));
+            }
         })
     }
 
@@ -416,6 +439,9 @@ const PARALLEL_AUDIT_TERMS: usize = 20;
 
 /// Every claim decided by the exact route, without the audit.
 fn exact_claims(problem: &mut Problem) -> (Vec<ClaimReport>, bool) {
+    if problem.background.is_some() {
+        return curved::exact_claims(problem);
+    }
     let store = &mut problem.store;
     let sampling = problem.sampling.clone();
     let mut lin = Linearized::new(store, problem.h);

@@ -127,21 +127,23 @@ pub struct ClaimSpec {
 }
 
 impl ClaimSpec {
-    /// The grid form of a planned claim: each of its parts by [`part`].
+    /// The grid form of a planned claim: each of its parts by [`part`]; `None` for a claim
+    /// about a background (the flat formulas do not apply).
     #[must_use]
-    pub fn of(claim: Claim) -> ClaimSpec {
-        ClaimSpec {
+    pub fn of(claim: Claim) -> Option<ClaimSpec> {
+        let components = claim
+            .kind
+            .parts()
+            .into_iter()
+            .map(|p| Some((p.name(), part(p)?)))
+            .collect::<Option<Vec<_>>>()?;
+        Some(ClaimSpec {
             key: claim.kind.key(),
             title: claim.kind.title().into(),
             heading: claim.heading().into(),
             asserted: claim.asserted,
-            components: claim
-                .kind
-                .parts()
-                .into_iter()
-                .map(|p| (p.name(), part(p)))
-                .collect(),
-        }
+            components,
+        })
     }
 }
 
@@ -170,9 +172,9 @@ fn ricci() -> [[Combo; 4]; 4] {
 }
 
 /// One part of a claim as a combination of samples and derivatives of `h` and `T`, by the
-/// formulas of the module's documentation.
+/// formulas of the module's documentation; `None` for the parts about a background.
 #[must_use]
-pub fn part(p: Part) -> Combo {
+pub fn part(p: Part) -> Option<Combo> {
     let mut c = Combo::default();
     match p {
         Part::Conservation(n) => {
@@ -215,8 +217,12 @@ pub fn part(p: Part) -> Combo {
             c.add(Field::H, b, d, d2(a, cc), -0.5);
             c.add(Field::H, a, cc, d2(b, d), -0.5);
         }
+        Part::BackgroundEquation { .. }
+        | Part::CurvedFieldEquation { .. }
+        | Part::Trace
+        | Part::GaugeResidual(..) => return None,
     }
-    c
+    Some(c)
 }
 
 /// The flat d'Alembertian of the trace-reversed perturbation, `(box hbar)_mn`: not a claim of
@@ -255,6 +261,6 @@ pub fn claim_specs(claims: Option<&Claims>, with_source: bool) -> Vec<ClaimSpec>
     Plan::of(claims, with_source)
         .claims
         .into_iter()
-        .map(ClaimSpec::of)
+        .filter_map(ClaimSpec::of)
         .collect()
 }

@@ -4,7 +4,7 @@
 //! its second place in the file), then parameters, function samples, defines (each with the
 //! names declared before it), the perturbation and the source.
 
-use super::{Component, ExprText, Problem, ProblemError, ProblemFile, TensorText};
+use super::{BackgroundData, Component, ExprText, Problem, ProblemError, ProblemFile, TensorText};
 use crate::canon::{CanonError, Form, FunctionSample, Limits, Names, Store};
 use crate::expr::{Expr, ExprKind, Span};
 use crate::tensor::COORDS;
@@ -249,6 +249,72 @@ impl Builder<'_> {
     }
 }
 
+impl Builder<'_> {
+    /// The background, when the file has anything beyond Minkowski in Cartesian coordinates
+    /// (a \[background\], other coordinates, a cosmological constant, a background source or
+    /// a gauge vector); Minkowski's components fill in a missing \[background\].
+    fn background(&mut self, names: &Names) -> Result<Option<BackgroundData>, ProblemError> {
+        let f = self.file;
+        let cartesian = f.coordinates == COORDS.map(String::from);
+        let any = f.background.is_some()
+            || !cartesian
+            || f.cosmological_constant.is_some()
+            || f.background_source.is_some()
+            || f.gauge_vector.is_some();
+        if !any {
+            return Ok(None);
+        }
+        let (g, g_text) = match &f.background {
+            Some(components) => self.tensor(components, names)?,
+            None => {
+                let zero = self.store.zero();
+                let one = self.store.one();
+                let minus = self.store.int(-1);
+                let mut g = [[zero; 4]; 4];
+                let mut text: TensorText = Default::default();
+                for mu in 0..4 {
+                    g[mu][mu] = if mu == 0 { minus } else { one };
+                    text[mu][mu] = Some(if mu == 0 { "-1" } else { "1" }.to_string());
+                }
+                (g, text)
+            }
+        };
+        let (source, source_text) = match &f.background_source {
+            Some(components) => {
+                let (m, t) = self.tensor(components, names)?;
+                (Some(m), Some(t))
+            }
+            None => (None, None),
+        };
+        let (lambda, lambda_text) = match &f.cosmological_constant {
+            Some(e) => (self.parse_and_build(e, names)?, Some(e.text.clone())),
+            None => (self.store.zero(), None),
+        };
+        let (gauge_vector, gauge_vector_text) = match &f.gauge_vector {
+            Some(components) => {
+                let mut xi = [self.store.zero(); 4];
+                let mut text: [Option<String>; 4] = Default::default();
+                for c in components {
+                    xi[c.mu] = self.parse_and_build(&c.expr, names)?;
+                    text[c.mu] = Some(c.expr.text.clone());
+                }
+                (Some(xi), Some(text))
+            }
+            None => (None, None),
+        };
+        Ok(Some(BackgroundData {
+            g,
+            g_text,
+            source,
+            source_text,
+            lambda,
+            lambda_text,
+            gauge_vector,
+            gauge_vector_text,
+        }))
+    }
+}
+
 pub(super) fn build(file: &ProblemFile, limits: Limits) -> Result<Problem, ProblemError> {
     let mut store = Store::new();
     store.limits = limits;
@@ -256,7 +322,7 @@ pub(super) fn build(file: &ProblemFile, limits: Limits) -> Result<Problem, Probl
     b.check_declarations()?;
 
     let mut names = Names::strict();
-    for c in COORDS {
+    for c in &file.coordinates {
         names.symbol(c);
     }
     let mut sampling = Sampling::default();
@@ -298,6 +364,16 @@ pub(super) fn build(file: &ProblemFile, limits: Limits) -> Result<Problem, Probl
         None => (None, None),
     };
 
+    let background = b.background(&names)?;
+    if let Some(domain) = &file.domain {
+        for (mu, range) in domain.iter().enumerate() {
+            if let Some(r) = range {
+                let k = b.store.symbol_kernel(&file.coordinates[mu]);
+                sampling.ranges.insert(k, *r);
+            }
+        }
+    }
+
     Ok(Problem {
         name: file.name.clone(),
         path: file.path.clone(),
@@ -326,5 +402,8 @@ pub(super) fn build(file: &ProblemFile, limits: Limits) -> Result<Problem, Probl
         claims: file.claims.clone(),
         grid: file.grid.clone(),
         sampling,
+        coordinates: file.coordinates.clone(),
+        background,
+        domain: file.domain,
     })
 }

@@ -141,6 +141,20 @@ pub struct Component {
     pub expr: ExprText,
 }
 
+/// One component of \[gauge_vector\]: `xi_mu`, index down.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct VectorComponent {
+    /// The index (a position in the coordinates).
+    pub mu: usize,
+    /// Where the key is written.
+    pub key_span: Span,
+    /// The component's expression.
+    pub expr: ExprText,
+}
+
+/// \[domain\]: a closed range per coordinate, where the fields are meant to hold.
+pub type Domain = [Option<(f64, f64)>; 4];
+
 /// A problem file, read and checked for structure but not yet built: every piece keeps its
 /// span in the file. Entries are in file order.
 #[derive(Clone, Debug)]
@@ -165,6 +179,20 @@ pub struct ProblemFile {
     pub claims: Option<Claims>,
     /// \[grid\], `None` when the file has no such table.
     pub grid: Option<GridSpec>,
+    /// The coordinate names, time first (`t, x, y, z` unless the file lists others).
+    pub coordinates: [String; 4],
+    /// Where `coordinates` is written, if it is.
+    pub coordinates_span: Option<Span>,
+    /// `cosmological_constant`, if given.
+    pub cosmological_constant: Option<ExprText>,
+    /// \[background\] (gbar, indices down), `None` for Minkowski in Cartesian coordinates.
+    pub background: Option<Vec<Component>>,
+    /// \[background_source\] (Tbar, indices down), `None` for vacuum.
+    pub background_source: Option<Vec<Component>>,
+    /// \[gauge_vector\] (xi, index down), if given.
+    pub gauge_vector: Option<Vec<VectorComponent>>,
+    /// \[domain\], if given.
+    pub domain: Option<Domain>,
 }
 
 impl ProblemFile {
@@ -246,6 +274,43 @@ pub struct Problem {
     pub grid: Option<GridSpec>,
     /// Typical values (the parameter values) and function samples for the zero test.
     pub sampling: Sampling,
+    /// The coordinate names, time first.
+    pub coordinates: [String; 4],
+    /// The background and what comes with it; `None` for Minkowski in Cartesian coordinates
+    /// without a cosmological constant or gauge vector.
+    pub background: Option<BackgroundData>,
+    /// \[domain\], if given.
+    pub domain: Option<Domain>,
+}
+
+/// A problem's background: gbar, Tbar, Lambda and the gauge vector, as forms and texts.
+#[derive(Clone, Debug)]
+pub struct BackgroundData {
+    /// gbar_{mu nu}, symmetric.
+    pub g: [[Form; 4]; 4],
+    /// The texts of gbar as written (Minkowski's when the file has no \[background\]).
+    pub g_text: TensorText,
+    /// Tbar_{mu nu}, `None` for vacuum.
+    pub source: Option<[[Form; 4]; 4]>,
+    /// The texts of Tbar.
+    pub source_text: Option<TensorText>,
+    /// Lambda (0 unless given).
+    pub lambda: Form,
+    /// The text of Lambda, if given.
+    pub lambda_text: Option<String>,
+    /// xi_mu (index down), if \[gauge_vector\] is given.
+    pub gauge_vector: Option<[Form; 4]>,
+    /// The texts of xi.
+    pub gauge_vector_text: Option<[Option<String>; 4]>,
+}
+
+impl Problem {
+    /// True for the flat problems of Cartesian (t, x, y, z) about Minkowski without Lambda:
+    /// every command works on them.
+    #[must_use]
+    pub fn is_flat_cartesian(&self) -> bool {
+        self.background.is_none()
+    }
 }
 
 impl Problem {
@@ -283,6 +348,9 @@ impl Problem {
             claims: Some(claims),
             grid: None,
             sampling: self.sampling.clone(),
+            coordinates: self.coordinates.clone(),
+            background: self.background.clone(),
+            domain: self.domain,
         };
         let out = f(&mut derived);
         self.store = derived.store;

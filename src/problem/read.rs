@@ -4,8 +4,8 @@
 //! entries are put back into file order by the start of their keys.
 
 use super::{
-    Claims, Component, ExprText, Gauge, GridSpec, NamedExpr, Parameter, ProblemError, ProblemFile,
-    closest,
+    Claims, Component, Domain, ExprText, Gauge, GridSpec, NamedExpr, Parameter, ProblemError,
+    ProblemFile, VectorComponent, closest,
 };
 use crate::canon::{Names, Store};
 use crate::expr::Span;
@@ -15,13 +15,19 @@ use toml::Spanned;
 use toml::de::{DeTable, DeValue};
 
 /// The top-level keys, in the order the documentation lists them.
-pub(super) const TOP_KEYS: [&str; 8] = [
+pub(super) const TOP_KEYS: [&str; 14] = [
     "name",
+    "coordinates",
+    "cosmological_constant",
     "parameters",
     "functions",
     "define",
     "perturbation",
     "source",
+    "background",
+    "background_source",
+    "gauge_vector",
+    "domain",
     "claims",
     "grid",
 ];
@@ -38,10 +44,11 @@ const PARAMETER_HELP: &str = "a parameter's value is its typical size for numeri
 type Key<'i> = Spanned<Cow<'i, str>>;
 type Value<'i> = Spanned<DeValue<'i>>;
 
-/// The file being read: where errors point.
+/// The file being read: where errors point, and its coordinate names.
 struct Cx<'a> {
     path: &'a str,
     text: &'a str,
+    coords: [String; 4],
 }
 
 fn span_of<T>(s: &Spanned<T>) -> Span {
@@ -187,16 +194,17 @@ impl Cx<'_> {
                     "names are ASCII letters, digits and `_`, starting with a letter or `_`",
                 ));
         }
-        if COORDS.contains(&name) {
+        if self.coords.iter().any(|c| c == name) {
             return Err(self
                 .err(
                     format!("`{name}` is a coordinate and cannot be declared"),
                     span,
                     "reserved",
                 )
-                .with_help(
-                    "the coordinates t, x, y, z are always available; choose another name",
-                ));
+                .with_help(format!(
+                    "the coordinates {} are always available; choose another name",
+                    self.coords.join(", ")
+                )));
         }
         if name == "pi" {
             return Err(self
@@ -312,23 +320,52 @@ impl Cx<'_> {
         Ok(out)
     }
 
-    /// \[perturbation\] or \[source\]: keys are pairs of coordinates, each pair at most once.
+    /// The name of component `(mu, nu)` in this file's coordinates.
+    fn component_name(&self, mu: usize, nu: usize) -> String {
+        component_key(&self.coords, mu, nu)
+    }
+
+    /// A tensor table (\[perturbation\], \[source\], \[background\],
+    /// \[background_source\]): keys are pairs of coordinates, written `t.ph` (a TOML dotted
+    /// key) or, when every coordinate is one letter, `tx`; in either order, each pair at most
+    /// once.
     fn components(&self, table: &str, t: &DeTable<'_>) -> Result<Vec<Component>, ProblemError> {
-        let letter = if table == "source" { "T" } else { "h" };
-        let mut out: Vec<Component> = Vec::new();
+        let letter = match table {
+            "source" => "T",
+            "background" => "gbar",
+            "background_source" => "Tbar",
+            _ => "h",
+        };
+        let mut keys: Vec<(String, Span, &Value<'_>)> = Vec::new();
         for (k, v) in entries(t) {
             let key: &str = k.get_ref();
-            let key_span = span_of(k);
-            let Some((mu, nu)) = component_indices(key) else {
+            match v.get_ref() {
+                // `t.ph = '...'`: a dotted key is a table `t` holding `ph`.
+                DeValue::Table(inner) => {
+                    for (k2, v2) in entries(inner) {
+                        let k2s: &str = k2.get_ref();
+                        let span = Span::new(span_of(k).start, span_of(k2).end);
+                        keys.push((format!("{key}.{k2s}"), span, v2));
+                    }
+                }
+                _ => keys.push((key.to_string(), span_of(k), v)),
+            }
+        }
+        let mut out: Vec<Component> = Vec::new();
+        for (key, key_span, v) in keys {
+            let Some((mu, nu)) = component_indices(&key, &self.coords) else {
                 let valid: Vec<String> = COMPONENTS
                     .iter()
-                    .map(|&(a, b)| crate::tensor::component_name(a, b))
+                    .map(|&(a, b)| self.component_name(a, b))
                     .collect();
                 let mut help = format!(
-                    "the components of {letter} are {} (`xt` means the same as `tx`)",
-                    valid.join(", ")
+                    "the components of {letter} are {} (either order: `{}` means the same as \
+                     `{}`)",
+                    valid.join(", "),
+                    self.component_name(1, 0),
+                    self.component_name(0, 1),
                 );
-                if component_indices(&key.to_lowercase()).is_some() {
+                if component_indices(&key.to_lowercase(), &self.coords).is_some() {
                     help = format!("write the key in lowercase; {help}");
                 }
                 return Err(self
@@ -345,7 +382,7 @@ impl Cx<'_> {
                     .err(
                         format!(
                             "component {letter}_{} given twice: as `{first_key}` and as `{key}`",
-                            crate::tensor::component_name(mu, nu)
+                            self.component_name(mu, nu)
                         ),
                         key_span,
                         "given again here",
@@ -356,20 +393,118 @@ impl Cx<'_> {
                          component; keep one"
                     )));
             }
-            let what = format!(
-                "component {letter}_{}",
-                crate::tensor::component_name(mu, nu)
-            );
+            let what = format!("component {letter}_{}", self.component_name(mu, nu));
             let expr = self.string(&what, v)?;
             out.push(Component {
                 mu,
                 nu,
-                key: key.to_string(),
+                key,
                 key_span,
                 expr,
             });
         }
         Ok(out)
+    }
+
+    /// \[gauge_vector\]: `xi_mu` keyed by coordinate names.
+    fn vector(&self, t: &DeTable<'_>) -> Result<Vec<VectorComponent>, ProblemError> {
+        let mut out: Vec<VectorComponent> = Vec::new();
+        for (k, v) in entries(t) {
+            let key: &str = k.get_ref();
+            let Some(mu) = self.coords.iter().position(|c| c == key) else {
+                return Err(self
+                    .err(
+                        format!("`{key}` is not a coordinate"),
+                        span_of(k),
+                        "not a coordinate",
+                    )
+                    .with_help(format!(
+                        "the components of xi_mu (index down) are keyed by the coordinates {}",
+                        self.coords.join(", ")
+                    )));
+            };
+            let expr = self.string(&format!("component xi_{key}"), v)?;
+            out.push(VectorComponent {
+                mu,
+                key_span: span_of(k),
+                expr,
+            });
+        }
+        Ok(out)
+    }
+
+    /// \[domain\]: `r = [3, 40]`, a closed range per coordinate.
+    fn domain(&self, t: &DeTable<'_>) -> Result<Domain, ProblemError> {
+        let mut out: Domain = [None; 4];
+        for (k, v) in entries(t) {
+            let key: &str = k.get_ref();
+            let Some(mu) = self.coords.iter().position(|c| c == key) else {
+                return Err(self
+                    .err(
+                        format!("`{key}` is not a coordinate"),
+                        span_of(k),
+                        "not a coordinate",
+                    )
+                    .with_help(format!(
+                        "the domain gives a range per coordinate, e.g. `{} = [3, 40]`; the \
+                         coordinates are {}",
+                        self.coords[1],
+                        self.coords.join(", ")
+                    )));
+            };
+            let help = format!("write a range as two increasing numbers, e.g. `{key} = [3, 40]`");
+            let DeValue::Array(a) = v.get_ref() else {
+                return Err(self
+                    .type_error(&format!("the range of `{key}`"), "a list of two numbers", v)
+                    .with_help(help));
+            };
+            if a.len() != 2 {
+                return Err(self
+                    .err(
+                        format!(
+                            "the range of `{key}` must have two numbers, not {}",
+                            a.len()
+                        ),
+                        span_of(v),
+                        "expected two numbers",
+                    )
+                    .with_help(help));
+            }
+            let lo = self.number(&format!("the lower end of `{key}`"), &a[0])?;
+            let hi = self.number(&format!("the upper end of `{key}`"), &a[1])?;
+            if lo >= hi {
+                return Err(self
+                    .err(
+                        format!("the range of `{key}` is empty: {lo} is not below {hi}"),
+                        span_of(v),
+                        "empty range",
+                    )
+                    .with_help(help));
+            }
+            out[mu] = Some((lo, hi));
+        }
+        Ok(out)
+    }
+
+    /// `cosmological_constant`: an expression string, or a number taken as written.
+    fn lambda(&self, v: &Value<'_>) -> Result<ExprText, ProblemError> {
+        match v.get_ref() {
+            DeValue::String(_) => self.string("`cosmological_constant`", v),
+            DeValue::Integer(_) | DeValue::Float(_) => {
+                self.number("`cosmological_constant`", v)?;
+                let span = span_of(v);
+                let literal = self.text[span.start..span.end].replace('_', "");
+                let exact = (literal == self.text[span.start..span.end]).then_some(span.start);
+                Ok(ExprText {
+                    text: literal,
+                    token: span,
+                    offset: exact,
+                })
+            }
+            _ => Err(self
+                .type_error("`cosmological_constant`", "an expression or a number", v)
+                .with_help("e.g. cosmological_constant = '3*H^2' or cosmological_constant = 0.5")),
+        }
     }
 
     fn claims(&self, t: &DeTable<'_>) -> Result<Claims, ProblemError> {
@@ -542,16 +677,79 @@ impl Cx<'_> {
     }
 }
 
-/// `(mu, nu)` with `mu <= nu` for a key made of two of `t x y z`.
-fn component_indices(key: &str) -> Option<(usize, usize)> {
-    let idx = |c: char| COORDS.iter().position(|n| n.starts_with(c));
-    let mut chars = key.chars();
-    let a = idx(chars.next()?)?;
-    let b = idx(chars.next()?)?;
-    if chars.next().is_some() {
-        return None;
-    }
+/// `(mu, nu)` with `mu <= nu` for a key naming two coordinates: `a.b`, or `ab` when both are
+/// one letter.
+fn component_indices(key: &str, coords: &[String; 4]) -> Option<(usize, usize)> {
+    let idx = |n: &str| coords.iter().position(|c| c == n);
+    let (a, b) = match key.split_once('.') {
+        Some((a, b)) => (idx(a)?, idx(b)?),
+        None => {
+            if !coords.iter().all(|c| c.chars().count() == 1) {
+                return None;
+            }
+            let mut chars = key.chars();
+            let (x, y) = (chars.next()?, chars.next()?);
+            if chars.next().is_some() {
+                return None;
+            }
+            (idx(&x.to_string())?, idx(&y.to_string())?)
+        }
+    };
     Some((a.min(b), a.max(b)))
+}
+
+/// The key of component `(mu, nu)` in `coords`: joined (`tx`) when every coordinate is one
+/// letter, else dotted (`t.ph`).
+#[must_use]
+pub fn component_key(coords: &[String; 4], mu: usize, nu: usize) -> String {
+    let name = |i: usize| coords.get(i).map_or("?", String::as_str);
+    if coords.iter().all(|c| c.chars().count() == 1) {
+        format!("{}{}", name(mu), name(nu))
+    } else {
+        format!("{}.{}", name(mu), name(nu))
+    }
+}
+
+/// `coordinates = [...]`: four distinct valid names, the first being time.
+fn coordinates(cx: &Cx<'_>, v: &Value<'_>) -> Result<[String; 4], ProblemError> {
+    let help =
+        "list four coordinate names, time first, e.g. coordinates = [\"t\", \"r\", \"th\", \"ph\"]";
+    let DeValue::Array(a) = v.get_ref() else {
+        return Err(cx
+            .type_error("`coordinates`", "a list of four names", v)
+            .with_help(help));
+    };
+    if a.len() != 4 {
+        return Err(cx
+            .err(
+                format!("`coordinates` must list four names, not {}", a.len()),
+                span_of(v),
+                "expected four names",
+            )
+            .with_help(help));
+    }
+    let mut out: [String; 4] = Default::default();
+    for (i, item) in a.iter().enumerate() {
+        let DeValue::String(s) = item.get_ref() else {
+            return Err(cx
+                .type_error("a coordinate", "a string", item)
+                .with_help(help));
+        };
+        // The same rules as any declared name, spans included.
+        let key: Key<'_> = Spanned::new(item.span(), Cow::Borrowed(&**s));
+        let (name, span) = cx.declared_name(&key)?;
+        if let Some(j) = out[..i].iter().position(|c| *c == name) {
+            return Err(cx
+                .err(
+                    format!("coordinate `{name}` is listed twice"),
+                    span,
+                    "listed again here",
+                )
+                .with_related(span_of(&a[j]), "first listed here"));
+        }
+        out[i] = name;
+    }
+    Ok(out)
 }
 
 /// "a string", "an integer", ... for a value's type.
@@ -568,7 +766,11 @@ fn article(v: &DeValue<'_>) -> &'static str {
 }
 
 pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemError> {
-    let cx = Cx { path, text };
+    let mut cx = Cx {
+        path,
+        text,
+        coords: Default::default(),
+    };
     let root = DeTable::parse(text).map_err(|e| {
         let span = e
             .span()
@@ -579,6 +781,18 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
             "here",
         )
     })?;
+    // The coordinates first: every other table is read in their names.
+    let written = entries(root.get_ref())
+        .into_iter()
+        .find(|(k, _)| &**k.get_ref() == "coordinates");
+    let coordinates = match written {
+        Some((k, v)) => Some((coordinates(&cx, v)?, span_of(k))),
+        None => None,
+    };
+    cx.coords = match &coordinates {
+        Some((c, _)) => c.clone(),
+        None => COORDS.map(String::from),
+    };
     let mut file = ProblemFile {
         path: path.to_string(),
         text: text.to_string(),
@@ -590,6 +804,13 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
         source: None,
         claims: None,
         grid: None,
+        coordinates: cx.coords.clone(),
+        coordinates_span: coordinates.as_ref().map(|(_, s)| *s),
+        cosmological_constant: None,
+        background: None,
+        background_source: None,
+        gauge_vector: None,
+        domain: None,
     };
     let mut saw_perturbation = false;
     for (k, v) in entries(root.get_ref()) {
@@ -606,6 +827,14 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
                 saw_perturbation = true;
             }
             "source" => file.source = Some(cx.components("source", cx.table(k, v)?)?),
+            "coordinates" => {}
+            "cosmological_constant" => file.cosmological_constant = Some(cx.lambda(v)?),
+            "background" => file.background = Some(cx.components("background", cx.table(k, v)?)?),
+            "background_source" => {
+                file.background_source = Some(cx.components("background_source", cx.table(k, v)?)?);
+            }
+            "gauge_vector" => file.gauge_vector = Some(cx.vector(cx.table(k, v)?)?),
+            "domain" => file.domain = Some(cx.domain(cx.table(k, v)?)?),
             "claims" => file.claims = Some(cx.claims(cx.table(k, v)?)?),
             "grid" => file.grid = Some(cx.grid(cx.table(k, v)?)?),
             _ => {
@@ -628,6 +857,32 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
                 "give h_{mu nu} in a [perturbation] table, e.g. `xx = 'A*cos(omega*(t - z))'`; \
                  omitted components are 0",
             ));
+    }
+    let cartesian = file.coordinates == COORDS.map(String::from);
+    if file.background.is_none()
+        && let Some(span) = file.coordinates_span.filter(|_| !cartesian)
+    {
+        return Err(cx
+            .err(
+                "coordinates other than t, x, y, z need a [background] table",
+                span,
+                "not Cartesian",
+            )
+            .with_help({
+                let c = &file.coordinates;
+                let key = |i: usize| component_key(c, i, i);
+                format!(
+                    "give the background metric gbar_{{mu nu}} in these coordinates, e.g. for \
+                     flat space in spherical ones:\n[background]\n{} = '-1'\n{} = '1'\n\
+                     {} = '{r}^2'\n{} = '{r}^2*sin({th})^2'",
+                    key(0),
+                    key(1),
+                    key(2),
+                    key(3),
+                    r = c[1],
+                    th = c[2],
+                )
+            }));
     }
     Ok(file)
 }

@@ -306,11 +306,132 @@ fn invalid_component_keys() {
         0,
     );
     assert!(help(&e).contains("lowercase"));
-    // A dotted key makes a table, not a string.
+    // A dotted key names two coordinates; `xx.yy` names four letters.
     check_error(
         "[perturbation]\nxx.yy = '1'\n",
-        "component h_xx must be a string, not a table",
+        "`xx.yy` is not a component",
         "xx",
+        0,
+    );
+}
+
+// ----- coordinates and backgrounds (issue 12) ------------------------------------------
+
+const SPHERICAL: &str = "coordinates = ['t', 'r', 'th', 'ph']\n[parameters]\nM = 1.0\n\
+[background]\nt.t = '-(1 - 2*M/r)'\nr.r = '1/(1 - 2*M/r)'\nth.th = 'r^2'\n\
+ph.ph = 'r^2*sin(th)^2'\n";
+
+#[test]
+fn spherical_coordinates_with_dotted_keys_in_either_order() {
+    let p = ok(&format!(
+        "{SPHERICAL}[perturbation]\nph.t = '-2*J*sin(th)^2/r'\n[define]\nJ = 'M/10'\n"
+    ));
+    assert_eq!(p.coordinates, ["t", "r", "th", "ph"].map(String::from));
+    let bg = p.background.as_ref().expect("a background");
+    assert!(!p.store.is_zero(bg.g[3][3]));
+    assert!(!p.store.is_zero(p.h[0][3]) && p.h[0][3] == p.h[3][0]);
+    assert!(p.store.is_zero(bg.lambda));
+    assert!(!p.is_flat_cartesian());
+}
+
+#[test]
+fn coordinate_errors_point_into_the_file() {
+    let e = check_error(
+        &format!("{SPHERICAL}[perturbation]\nt.ph = '1'\nph.t = '2'\n"),
+        "given twice",
+        "ph.t",
+        0,
+    );
+    assert!(e.message.contains("`t.ph`"), "{}", e.message);
+    check_error(
+        &format!("{SPHERICAL}[perturbation]\nt.x = '1'\n"),
+        "`t.x` is not a component of h",
+        "t.x",
+        0,
+    );
+    // Joined keys only when every coordinate is one letter.
+    check_error(
+        &format!("{SPHERICAL}[perturbation]\ntr = '1'\n"),
+        "`tr` is not a component",
+        "tr =",
+        0,
+    );
+    check_error(
+        "coordinates = ['t', 'r', 'r', 'z']\n[perturbation]\n",
+        "coordinate `r` is listed twice",
+        "'r'",
+        1,
+    );
+    check_error(
+        "coordinates = ['t', 'r', 'sin', 'z']\n[perturbation]\n",
+        "built-in function",
+        "'sin'",
+        0,
+    );
+    check_error(
+        "coordinates = ['t', 'r']\n[perturbation]\n",
+        "four names",
+        "['t'",
+        0,
+    );
+    // Other coordinates need a background, and the help says what to write.
+    let e = check_error(
+        "coordinates = ['t', 'r', 'th', 'ph']\n[perturbation]\nt.t = '1'\n",
+        "need a [background] table",
+        "coordinates",
+        0,
+    );
+    assert!(help(&e).contains("th.th = 'r^2'"), "{}", help(&e));
+    // A parameter may not take a coordinate's name.
+    check_error(
+        &format!("{SPHERICAL}[perturbation]\n").replace("M = 1.0", "M = 1.0\nth = 2.0"),
+        "`th` is a coordinate",
+        "th = 2.0",
+        0,
+    );
+}
+
+#[test]
+fn cartesian_files_may_name_their_coordinates_and_use_joined_keys() {
+    let p = ok("coordinates = ['t', 'x', 'y', 'z']\n[perturbation]\ntx = 'x*y'\nz.z = 't'\n");
+    assert!(p.is_flat_cartesian());
+    assert!(!p.store.is_zero(p.h[0][1]) && !p.store.is_zero(p.h[3][3]));
+}
+
+#[test]
+fn lambda_domain_and_gauge_vector() {
+    let text = format!(
+        "cosmological_constant = 0.5\n{SPHERICAL}[perturbation]\nt.t = '1'\n\
+         [domain]\nr = [3, 40]\nth = [0.1, 3.0]\n[gauge_vector]\nr = 'M*cos(th)'\n"
+    );
+    let mut p = ok(&text);
+    let bg = p.background.as_ref().unwrap();
+    assert_eq!(bg.lambda_text.as_deref(), Some("0.5"));
+    assert!(!p.store.is_zero(bg.lambda));
+    assert!(
+        bg.gauge_vector
+            .as_ref()
+            .is_some_and(|xi| !p.store.is_zero(xi[1]))
+    );
+    assert_eq!(p.domain.unwrap()[1], Some((3.0, 40.0)));
+    let r = p.store.symbol_kernel("r");
+    assert_eq!(p.sampling.ranges.get(&r), Some(&(3.0, 40.0)));
+    check_error(
+        &text.replace("r = [3, 40]", "r = [40, 3]"),
+        "the range of `r` is empty",
+        "[40, 3]",
+        0,
+    );
+    check_error(
+        &text.replace("r = [3, 40]", "x = [3, 40]"),
+        "`x` is not a coordinate",
+        "x = [3",
+        0,
+    );
+    check_error(
+        &text.replace("r = 'M*cos(th)'", "q = '1'"),
+        "`q` is not a coordinate",
+        "q = '1'",
         0,
     );
 }

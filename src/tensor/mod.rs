@@ -64,6 +64,58 @@ pub fn index_name(idx: &[usize]) -> String {
         .collect()
 }
 
+/// How indices are written in reports: the coordinate names, and whether derivatives are
+/// covariant (about a background: written `D`) or partial (flat Cartesian: `d`).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Frame {
+    names: [String; 4],
+    /// Derivatives are the background's covariant derivative.
+    pub covariant: bool,
+}
+
+impl Frame {
+    /// Cartesian (t, x, y, z) with partial derivatives.
+    #[must_use]
+    pub fn cartesian() -> Frame {
+        Frame {
+            names: COORDS.map(String::from),
+            covariant: false,
+        }
+    }
+
+    /// The coordinates `names` (time first) about a background.
+    #[must_use]
+    pub fn covariant(names: [String; 4]) -> Frame {
+        Frame {
+            names,
+            covariant: true,
+        }
+    }
+
+    /// The name of coordinate `i` (`?` beyond 3).
+    #[must_use]
+    pub fn coord(&self, i: usize) -> &str {
+        self.names.get(i).map_or("?", String::as_str)
+    }
+
+    /// True when every coordinate name is one letter (indices are then written joined).
+    #[must_use]
+    pub fn one_letter(&self) -> bool {
+        self.names.iter().all(|c| c.chars().count() == 1)
+    }
+
+    /// Indices joined (`txtx`) when every name is one letter, else with dots (`t.r.t.r`).
+    #[must_use]
+    pub fn index(&self, idx: &[usize]) -> String {
+        let parts: Vec<&str> = idx.iter().map(|&i| self.coord(i)).collect();
+        if self.one_letter() {
+            parts.concat()
+        } else {
+            parts.join(".")
+        }
+    }
+}
+
 /// The name of component `(mu, nu)` of a symmetric tensor: `"tt"`, `"tx"`, ...
 #[must_use]
 pub fn component_name(mu: usize, nu: usize) -> String {

@@ -92,6 +92,9 @@ pub struct Sampling {
     pub typical: FxHashMap<KernelId, f64>,
     /// Samples of arbitrary functions; functions without one get a generic built-in sample.
     pub samples: FxHashMap<Rc<str>, FunctionSample>,
+    /// Symbols confined to a range (a problem's \[domain\]): sampled inside it, away from its
+    /// ends by a thousandth of its width.
+    pub ranges: FxHashMap<KernelId, (f64, f64)>,
 }
 
 impl Default for Sampling {
@@ -101,6 +104,7 @@ impl Default for Sampling {
             points: 32,
             typical: FxHashMap::default(),
             samples: FxHashMap::default(),
+            ranges: FxHashMap::default(),
         }
     }
 }
@@ -183,16 +187,26 @@ pub fn decide(store: &mut Store, f: Form, sampling: &Sampling) -> Verdict {
     for _ in 0..sampling.points {
         let mut coords = Vec::new();
         for (name, k) in &kernels {
-            let v = match sampling.typical.get(k) {
-                Some(&t) if t != 0.0 => t * (0.5 + 1.5 * rng.next_f64()),
+            let v = match (sampling.ranges.get(k), sampling.typical.get(k)) {
+                (Some(&(lo, hi)), _) => {
+                    let margin = (hi - lo) * 1e-3;
+                    lo + margin + (hi - lo - 2.0 * margin) * rng.next_f64()
+                }
+                (None, Some(&t)) if t != 0.0 => t * (0.5 + 1.5 * rng.next_f64()),
                 _ => {
                     let mag = 0.25 + 1.75 * rng.next_f64();
                     if rng.next_u64() & 1 == 1 { -mag } else { mag }
                 }
             };
             // Round to six significant digits so the witness can be typed back in, without
-            // flushing small typical values (an amplitude of 1e-8) to zero.
-            let v: f64 = format!("{v:.5e}").parse().unwrap_or(v);
+            // flushing small typical values (an amplitude of 1e-8) to zero; a value rounded
+            // out of its range is kept unrounded.
+            let rounded: f64 = format!("{v:.5e}").parse().unwrap_or(v);
+            let inside = sampling
+                .ranges
+                .get(k)
+                .is_none_or(|&(lo, hi)| (lo..=hi).contains(&rounded));
+            let v = if inside { rounded } else { v };
             if let Some(p) = Interval::point(v) {
                 point.values.insert(*k, CInterval::from_real(p));
             }

@@ -2,7 +2,7 @@
 //! independent components of R[A] - R[B] decided exactly and audited from both files' texts.
 
 use crate::cli::audit::{point_lines, points_json};
-use crate::cli::limits::{LimitArgs, load_with, timeout_if_past};
+use crate::cli::limits::{LimitArgs, flat_only, load_with, timeout_if_past};
 use crate::cli::out::{Failure, Outcome, gave_up, limit_or, print};
 use crate::cli::report::{Format, heading, json};
 use clap::Args;
@@ -39,6 +39,8 @@ pub fn run(a: CompareArgs) -> Result<Outcome, Failure> {
     let limits = a.limits.start();
     let mut pa = load_with(&a.first, limits)?;
     let mut pb = load_with(&a.second, limits)?;
+    flat_only(&pa, "compare")?;
+    flat_only(&pb, "compare")?;
     let imported = {
         let sampling = pa.sampling.clone();
         import(&mut pa.store, &sampling, &pa.parameters, &pa.functions, &pb).map_err(|why| {

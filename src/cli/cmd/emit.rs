@@ -67,7 +67,7 @@ pub struct EmitArgs {
 
 /// `lingrav emit`.
 pub fn run(a: EmitArgs) -> Result<Outcome, Failure> {
-    let mut p = a.limits.load(&a.file)?;
+    let mut p = a.limits.load_flat(&a.file, "emit")?;
     let (qs, dir) = plan_quantities(&mut p, &a.quantities)?;
     let file = match &a.out {
         Some(o) => Some(AtomicFile::create(o, a.force).map_err(file_failure)?),

@@ -208,7 +208,7 @@ fn export_failure(e: ExportError) -> Failure {
 /// `lingrav export`.
 pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
     // Plan: every input and output checked before any algebra.
-    let mut p = a.limits.load(&a.file)?;
+    let mut p = a.limits.load_flat(&a.file, "export")?;
     let (qs, dir) = plan_quantities(&mut p, &a.quantities)?;
     let (params, overridden) = plan_parameters(&p, &a.set)?;
     let points = plan_points(&p, &a)?;

@@ -89,7 +89,7 @@ fn plane_failure(e: PlaneError, format: Format, j: serde_json::Value) -> Result<
 
 /// `lingrav gauge`.
 pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
-    let mut p = a.limits.load(&a.file)?;
+    let mut p = a.limits.load_flat(&a.file, "gauge")?;
     let names = p.names.clone();
     let sampling = p.sampling.clone();
     // The plan: the vector (or wave vector) and the output path, before any algebra.

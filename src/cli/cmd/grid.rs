@@ -153,7 +153,7 @@ fn check_estimate(plan: &GridPlan, settings: &GridSettings, a: &GridArgs) -> Res
 /// `lingrav grid`.
 pub fn run(a: GridArgs) -> Result<Outcome, Failure> {
     // Plan: read and build the file, resolve the grid, compile, check the plot's folder.
-    let mut problem = a.limits.load(&a.file)?;
+    let mut problem = a.limits.load_flat(&a.file, "grid")?;
     let (settings, defaults) = settings(&a, problem.grid.as_ref())?;
     let plot = match &a.plot {
         Some(p) => Some(

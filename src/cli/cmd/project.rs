@@ -63,7 +63,7 @@ fn share_json(x: &Share) -> serde_json::Value {
 
 /// `lingrav project`.
 pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
-    let mut p = a.limits.load(&a.file)?;
+    let mut p = a.limits.load_flat(&a.file, "project")?;
     let dir = a.dir.plan(&mut p)?;
     let target = plan_optional_output(a.output.as_deref(), a.force, "--output")?;
 

@@ -59,7 +59,7 @@ pub struct RingArgs {
 
 /// `lingrav ring`.
 pub fn run(a: RingArgs) -> Result<Outcome, Failure> {
-    let mut p = a.limits.load(&a.file)?;
+    let mut p = a.limits.load_flat(&a.file, "ring")?;
     let dir = a.dir.plan(&mut p)?;
     let radius = numbers(
         &mut p,

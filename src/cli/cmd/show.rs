@@ -62,7 +62,7 @@ pub struct ShowArgs {
 
 /// `lingrav show`.
 pub fn run(a: ShowArgs) -> Result<Outcome, Failure> {
-    let mut p = a.limits.load(&a.file)?;
+    let mut p = a.limits.load_flat(&a.file, "show")?;
     let store = &mut p.store;
     let mut lin = Linearized::new(store, p.h);
     let limit = |e: CanonError| gave_up(&e);
