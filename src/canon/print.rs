@@ -233,7 +233,7 @@ impl Store {
 
     /// Splits an exponent into real and imaginary parts, each a form; `None` if the exponent
     /// has a denominator.
-    fn split_re_im(&mut self, e: Form) -> Option<(Form, Form)> {
+    pub(super) fn split_re_im(&mut self, e: Form) -> Option<(Form, Form)> {
         // E = P + iQ with P = (E + E*)/2 and Q = (E - E*)/(2i), where E* conjugates every
         // coefficient and exponent but keeps kernels: an algebraic identity for any E, and
         // the true real and imaginary parts when the kernels are real.
