@@ -22,6 +22,41 @@ const SQRT2: u8 = 1;
 const SQRT3: u8 = 2;
 const IMAG: u8 = 4;
 
+/// A basis element `sqrt(2)^a * sqrt(3)^b * i^c` (a, b, c in {0, 1}) of Q(sqrt 2, sqrt 3, i)
+/// over Q: a coefficient is exactly the sum of its [`Coeff::components`], each a rational
+/// times one basis element.
+#[derive(Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Debug)]
+pub struct Basis(u8);
+
+impl Basis {
+    /// The basis element 1.
+    pub const ONE: Basis = Basis(0);
+
+    /// True if the element has the factor i.
+    #[must_use]
+    pub fn is_imaginary(self) -> bool {
+        self.0 & IMAG != 0
+    }
+
+    /// The integer `m` in {1, 2, 3, 6} whose square root the element has as its real factor:
+    /// the element is `sqrt(m)`, or `i*sqrt(m)` when [`Basis::is_imaginary`].
+    #[must_use]
+    pub fn radicand(self) -> u32 {
+        match self.0 & (SQRT2 | SQRT3) {
+            SQRT2 => 2,
+            SQRT3 => 3,
+            3 => 6,
+            _ => 1,
+        }
+    }
+
+    /// The element as a coefficient.
+    #[must_use]
+    pub fn to_coeff(self) -> Coeff {
+        Coeff::basis(self.0, Q::one())
+    }
+}
+
 /// An element of Q(sqrt 2, sqrt 3, i).
 ///
 /// Two representations, chosen canonically so that derived equality is value equality: a
@@ -217,6 +252,16 @@ impl Coeff {
         }
         out.retain(|p| !p.1.is_zero());
         Coeff::from_normal(out)
+    }
+
+    /// The exact components: `self` is the sum of `q * basis` over them. Sorted by basis,
+    /// with no zero rational (zero has none).
+    #[must_use]
+    pub fn components(&self) -> Vec<(Basis, Q)> {
+        self.parts()
+            .iter()
+            .map(|(b, q)| (Basis(*b), q.clone()))
+            .collect()
     }
 
     /// True for zero.
@@ -697,6 +742,42 @@ impl fmt::Display for Coeff {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn components_sum_back_to_the_coefficient() {
+        let half = Q::new(1.into(), 2.into());
+        let big = Q::new(num_traits::pow(BigInt::from(10), 30), 7.into());
+        let cases = [
+            Coeff::zero(),
+            Coeff::one(),
+            Coeff::i(),
+            Coeff::int(-3),
+            Coeff::rational(big.clone()),
+            Coeff::unit_root24(1),
+            Coeff::unit_root24(7).mul(&Coeff::rational(big)),
+            Coeff::sqrt_of_small(6).unwrap().add(&Coeff::rational(half)),
+        ];
+        for c in cases {
+            let parts = c.components();
+            assert_eq!(parts.len(), c.len(), "{c}");
+            assert!(parts.windows(2).all(|w| w[0].0 < w[1].0), "{c}");
+            let mut sum = Coeff::zero();
+            for (b, q) in &parts {
+                assert!(!q.is_zero());
+                assert!([1, 2, 3, 6].contains(&b.radicand()));
+                let sqrt = Coeff::sqrt_of_small(b.radicand()).unwrap();
+                let unit = if b.is_imaginary() {
+                    sqrt.mul(&Coeff::i())
+                } else {
+                    sqrt
+                };
+                assert_eq!(unit, b.to_coeff());
+                sum = sum.add(&unit.mul(&Coeff::rational(q.clone())));
+            }
+            assert_eq!(sum, c);
+        }
+        assert_eq!(Basis::ONE.to_coeff(), Coeff::one());
+    }
 
     #[test]
     fn unit_roots_are_exact() {

@@ -31,11 +31,13 @@ pub(crate) mod coeff;
 mod diff;
 mod eval;
 mod print;
+mod view;
 
 pub use build::{BUILTINS, BuildError, Names, Unknown};
-pub use coeff::{Coeff, Q};
+pub use coeff::{Basis, Coeff, Q};
 pub use eval::{FunctionSample, Point};
 pub use print::Pretty;
+pub use view::{ExpSplit, FormView, MonoView, OwnedTerm, PolyView, TermView};
 
 use num_bigint::BigInt;
 use num_integer::Integer;

@@ -17,10 +17,11 @@ pub enum Pretty {
     Num(Coeff),
     /// A symbol or `pi`.
     Name(String),
-    /// `name(arg)`: sin, cos, exp, log, an arbitrary function with primes.
-    Call(String, Box<Pretty>),
-    /// `arg^(1/q)`; q = 2 prints as sqrt.
-    Root(Box<Pretty>, u32),
+    /// `name(arg)`: sin, cos, exp, log, an arbitrary function with primes; with the form of
+    /// the argument.
+    Call(String, Box<Pretty>, Form),
+    /// `arg^(1/q)`; q = 2 prints as sqrt; with the form of the radicand.
+    Root(Box<Pretty>, u32, Form),
     /// `base^n`, n >= 2.
     Pow(Box<Pretty>, u32),
     /// `coeff * numerator factors / denominator factors`.
@@ -126,6 +127,33 @@ impl Store {
         Pretty::Quot(Box::new(num), Box::new(den))
     }
 
+    /// The forms of the arguments of the calls in the printed text of `f` (`sin`, `cos`,
+    /// `exp`, `log`, `sqrt`, arbitrary functions), in the order in which the calls begin in
+    /// the text (so, like the printed order, independent of the store's history). Calls
+    /// inside an argument follow the call itself. Exact coefficients (`sqrt(2)`) are not
+    /// calls here.
+    pub fn printed_arguments(&mut self, f: Form) -> Vec<Form> {
+        fn walk(p: &Pretty, out: &mut Vec<Form>) {
+            match p {
+                Pretty::Num(_) | Pretty::Name(_) => {}
+                Pretty::Call(_, a, f) | Pretty::Root(a, 2, f) => {
+                    out.push(*f);
+                    walk(a, out);
+                }
+                Pretty::Root(a, _, _) | Pretty::Pow(a, _) => walk(a, out),
+                Pretty::Prod(_, n, d) => n.iter().chain(d).for_each(|x| walk(x, out)),
+                Pretty::Sum(ts) => ts.iter().for_each(|x| walk(x, out)),
+                Pretty::Quot(a, b) => {
+                    walk(a, out);
+                    walk(b, out);
+                }
+            }
+        }
+        let mut out = Vec::new();
+        walk(&self.pretty(f), &mut out);
+        out
+    }
+
     /// Plain text in the input syntax.
     pub fn to_text(&mut self, f: Form) -> String {
         to_text(&self.pretty(f))
@@ -222,18 +250,21 @@ impl Store {
         match self.kernel(k).clone() {
             Kernel::Sym(n) => Pretty::Name(n.to_string()),
             Kernel::Pi => Pretty::Name("pi".into()),
-            Kernel::Root { radicand, q } => Pretty::Root(Box::new(self.pretty(radicand)), q),
-            Kernel::Log(a) => Pretty::Call("log".into(), Box::new(self.pretty(a))),
+            Kernel::Root { radicand, q } => {
+                Pretty::Root(Box::new(self.pretty(radicand)), q, radicand)
+            }
+            Kernel::Log(a) => Pretty::Call("log".into(), Box::new(self.pretty(a)), a),
             Kernel::Func { name, order, arg } => Pretty::Call(
                 format!("{name}{}", "'".repeat(order as usize)),
                 Box::new(self.pretty(arg)),
+                arg,
             ),
         }
     }
 
     /// Splits an exponent into real and imaginary parts, each a form; `None` if the exponent
     /// has a denominator.
-    fn split_re_im(&mut self, e: Form) -> Option<(Form, Form)> {
+    pub(super) fn split_re_im(&mut self, e: Form) -> Option<(Form, Form)> {
         // E = P + iQ with P = (E + E*)/2 and Q = (E - E*)/(2i), where E* conjugates every
         // coefficient and exponent but keeps kernels: an algebraic identity for any E, and
         // the true real and imaginary parts when the kernels are real.
@@ -321,10 +352,10 @@ impl Store {
                 if e > 0 { nums.push(f) } else { dens.push(f) }
             }
             if let Some(raw) = raw {
-                nums.push(Pretty::Call("exp".into(), Box::new(self.pretty(raw))));
+                nums.push(Pretty::Call("exp".into(), Box::new(self.pretty(raw)), raw));
             }
             if let Some(re) = re {
-                nums.push(Pretty::Call("exp".into(), Box::new(self.pretty(re))));
+                nums.push(Pretty::Call("exp".into(), Box::new(self.pretty(re)), re));
             }
             match im {
                 None => {
@@ -338,12 +369,12 @@ impl Store {
                     let sc = a.sub(&b).mul(&Coeff::i());
                     if !cc.is_zero() {
                         let mut n = nums.clone();
-                        n.push(Pretty::Call("cos".into(), Box::new(qp.clone())));
+                        n.push(Pretty::Call("cos".into(), Box::new(qp.clone()), q));
                         terms.push(Pretty::Prod(cc, n, dens.clone()));
                     }
                     if !sc.is_zero() {
                         let mut n = nums;
-                        n.push(Pretty::Call("sin".into(), Box::new(qp)));
+                        n.push(Pretty::Call("sin".into(), Box::new(qp), q));
                         terms.push(Pretty::Prod(sc, n, dens));
                     }
                 }
@@ -448,7 +479,7 @@ pub fn to_text(p: &Pretty) -> String {
 
 fn text_atom(p: &Pretty, s: &mut String) {
     match p {
-        Pretty::Name(_) | Pretty::Call(..) | Pretty::Root(_, 2) => text(p, s),
+        Pretty::Name(_) | Pretty::Call(..) | Pretty::Root(_, 2, _) => text(p, s),
         Pretty::Num(c)
             if c.as_rational().is_some_and(|q| {
                 q.is_integer() && q >= num_rational::BigRational::from_integer(0.into())
@@ -479,18 +510,18 @@ fn text(p: &Pretty, s: &mut String) {
             let _ = write!(s, "{c}");
         }
         Pretty::Name(n) => s.push_str(n),
-        Pretty::Call(f, a) => {
+        Pretty::Call(f, a, _) => {
             s.push_str(f);
             s.push('(');
             text(a, s);
             s.push(')');
         }
-        Pretty::Root(a, 2) => {
+        Pretty::Root(a, 2, _) => {
             s.push_str("sqrt(");
             text(a, s);
             s.push(')');
         }
-        Pretty::Root(a, q) => {
+        Pretty::Root(a, q, _) => {
             text_atom(a, s);
             let _ = write!(s, "^(1/{q})");
         }
@@ -626,7 +657,7 @@ fn latex(p: &Pretty, s: &mut String) {
     match p {
         Pretty::Num(c) => s.push_str(&latex_coeff(c)),
         Pretty::Name(n) => s.push_str(&latex_name(n)),
-        Pretty::Call(f, a) => {
+        Pretty::Call(f, a, _) => {
             let primes = f.chars().filter(|c| *c == '\'').count();
             let base: String = f.chars().filter(|c| *c != '\'').collect();
             match base.as_str() {
@@ -640,7 +671,7 @@ fn latex(p: &Pretty, s: &mut String) {
             latex(a, s);
             s.push_str("\\right)");
         }
-        Pretty::Root(a, q) => {
+        Pretty::Root(a, q, _) => {
             if *q == 2 {
                 s.push_str("\\sqrt{");
             } else {

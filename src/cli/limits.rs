@@ -117,6 +117,18 @@ fn describe(p: &Problem) -> String {
     }
 }
 
+/// Reads the problem file at `path` and builds it into `store`, another problem's (see
+/// [`lingrav::problem::ProblemFile::build_into`]), under that store's limits; errors as
+/// [`load_with`].
+pub fn load_into(path: &Path, store: &mut lingrav::canon::Store) -> Result<Problem, Failure> {
+    lingrav::problem::read_file(path)
+        .and_then(|f| f.build_into(store))
+        .map_err(|e| match e.limit.clone() {
+            Some(l) => gave_up(&l),
+            None => Failure::Input(miette::Report::new(e)),
+        })
+}
+
 /// The limit in force when the deadline has passed, for results that carry no `CanonError`.
 pub fn timeout_if_past(limits: &Limits) -> Option<CanonError> {
     match limits.deadline {

@@ -70,14 +70,13 @@ mod tests {
 
     const SEED: u64 = 0x5eed_1a96_7a7e;
 
-    use crate::problem::worked;
+    use crate::problem::{worked, worked_file};
 
     fn comparison(a: &str, b: &str) -> (Problem, Problem, Comparison) {
         let mut pa = worked(a);
-        let pb = worked(b);
+        let pb = worked_file(b).build_into(&mut pa.store).expect("builds");
         let sampling = pa.sampling.clone();
-        let imported =
-            import(&mut pa.store, &sampling, &pa.parameters, &pa.functions, &pb).expect("imports");
+        let imported = import(&mut pa.store, &sampling, &pa.parameters, &pa.functions, &pb);
         let ha = pa.h;
         let cmp = compare(&mut pa.store, &ha, &imported.h, &imported.sampling).expect("small");
         (pa, pb, cmp)

@@ -7,24 +7,25 @@
 //! gauge; common practice). So the test compares the
 //! 20 algebraically independent Riemann components one by one with the exact zero test.
 //!
-//! Key design decision: the second file is rebuilt into the first file's store from its own
-//! texts with its own name table: its parameters, functions and defines are declared and
-//! built in its order, exactly as reading it did. Symbols are shared by name, so a parameter
-//! (or function) that both files declare is one symbol (one arbitrary function), and the two
-//! files' defines never meet: a define `c` in one file cannot capture a `c` of the other.
-//! Typical values and samples of names both files declare come from the first file (the
-//! choice affects only numerical witnesses, never an exact verdict).
+//! Key design decision: the second file is built once, straight into the first file's store,
+//! from its own texts with its own name table ([`crate::problem::ProblemFile::build_into`]):
+//! its parameters, functions and defines are declared and built in its order, exactly as
+//! reading it alone would. Symbols are shared by name, so a parameter (or function) that
+//! both files declare is one symbol (one arbitrary function), and the two files' defines
+//! never meet: a define `c` in one file cannot capture a `c` of the other. [`import`] then
+//! merges only the sampling: typical values and samples of names both files declare come
+//! from the first file (the choice affects only numerical witnesses, never an exact
+//! verdict), with a note where the files differ.
 
-use crate::canon::{FunctionSample, Names, Store};
+use crate::canon::Store;
 use crate::check::{ExactParts, Status};
 use crate::claim::Kind;
 use crate::problem::Problem;
-use crate::tensor::COMPONENTS;
-use crate::tensor::{COORDS, Linearized, Sym4, index_name};
+use crate::tensor::{Linearized, Sym4};
 use crate::zero::{Sampling, Verdict, decide};
 use std::rc::Rc;
 
-/// The second perturbation, rebuilt in the first one's store.
+/// The second perturbation, in the first one's store.
 #[derive(Clone, Debug)]
 pub struct Imported {
     /// Its `h_{mu nu}`.
@@ -35,39 +36,20 @@ pub struct Imported {
     pub notes: Vec<String>,
 }
 
-fn reparse(
-    store: &mut Store,
-    names: &Names,
-    text: &str,
-    what: &str,
-) -> Result<crate::canon::Form, String> {
-    let e = crate::parse::parse(text).map_err(|e| format!("{what}: {e}"))?;
-    store
-        .build(&e, names)
-        .map_err(|e| format!("{what}: {}", e.message))
-}
-
-/// Rebuilds `b`'s perturbation in `store` (the first problem's), with `b`'s own names.
-///
-/// # Errors
-///
-/// An expression of `b` that no longer builds (only an algebra limit can cause that, since
-/// `b` was read successfully).
+/// Merges the sampling of `b`, built into `store` (the first problem's, with
+/// [`crate::problem::ProblemFile::build_into`]), into the first problem's: the second file's
+/// parameters and function samples that the first does not declare are added; for names both
+/// declare the first file's typical value or sample is kept, with a note where they differ.
 pub fn import(
     store: &mut Store,
     a_sampling: &Sampling,
     a_parameters: &[(String, f64)],
     a_functions: &[(String, String)],
     b: &Problem,
-) -> Result<Imported, String> {
-    let mut names = Names::strict();
-    for c in COORDS {
-        names.symbol(c);
-    }
+) -> Imported {
     let mut sampling = a_sampling.clone();
     let mut notes = Vec::new();
     for (p, v) in &b.parameters {
-        names.symbol(p);
         let k = store.symbol_kernel(p);
         match a_parameters.iter().find(|(q, _)| q == p) {
             Some((_, va)) if va != v => notes.push(format!(
@@ -80,14 +62,7 @@ pub fn import(
             }
         }
     }
-    let mut sample_names = Names::strict();
-    sample_names.symbol("u");
-    for (p, _) in &b.parameters {
-        sample_names.symbol(p);
-    }
-    let var = store.symbol_kernel("u");
     for (f, sample) in &b.functions {
-        names.function(f);
         match a_functions.iter().find(|(g, _)| g == f) {
             Some((_, sa)) => {
                 if sa != sample {
@@ -98,31 +73,17 @@ pub fn import(
                 }
             }
             None => {
-                let form = reparse(store, &sample_names, sample, &format!("sample of `{f}`"))?;
-                sampling
-                    .samples
-                    .insert(Rc::from(f.as_str()), FunctionSample { var, form });
+                if let Some(s) = b.sampling.samples.get(f.as_str()) {
+                    sampling.samples.insert(Rc::from(f.as_str()), s.clone());
+                }
             }
         }
     }
-    for (d, text) in &b.defines {
-        let form = reparse(store, &names, text, &format!("define `{d}`"))?;
-        names.define(d, form);
+    Imported {
+        h: b.h,
+        sampling,
+        notes,
     }
-    let mut h = [[store.zero(); 4]; 4];
-    for (mu, nu) in COMPONENTS {
-        if let Some(text) = &b.h_text[mu][nu] {
-            let f = reparse(
-                store,
-                &names,
-                text,
-                &format!("component {}", index_name(&[mu, nu])),
-            )?;
-            h[mu][nu] = f;
-            h[nu][mu] = f;
-        }
-    }
-    Ok(Imported { h, sampling, notes })
 }
 
 /// One Riemann component of the difference.
@@ -187,4 +148,89 @@ pub fn compare(
     let refs: Vec<&Verdict> = components.iter().map(|c| &c.verdict).collect();
     let status = Status::of(&refs, true);
     Ok(Comparison { components, status })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::problem::{ProblemFile, from_str};
+
+    const A: &str = "
+[parameters]
+w = 2.0
+[functions]
+F = 'exp(-u^2)'
+[define]
+c = 'x'
+[perturbation]
+xx = 'c*cos(w*t) + F(t)'
+";
+
+    const B: &str = "
+[parameters]
+w = 3.0
+v = 0.5
+[functions]
+F = 'exp(-u^2/2)'
+G = 'sin(u)'
+[define]
+c = 'y'
+[perturbation]
+xx = 'c*cos(w*t) + F(t) + v*G(z)'
+";
+
+    /// Issue 11 (item 3): the second file is built once, into the first file's store, and
+    /// `import` only merges the sampling; the semantics stay: b's defines never capture a's
+    /// names, shared names are one symbol, the first file's typical values and samples win,
+    /// with notes.
+    #[test]
+    fn issue11_the_second_file_is_built_once_into_the_first_store() {
+        let mut a = from_str("a.toml", A).unwrap();
+        let b = ProblemFile::parse("b.toml", B)
+            .unwrap()
+            .build_into(&mut a.store)
+            .unwrap();
+        let sampling = a.sampling.clone();
+        let im = import(&mut a.store, &sampling, &a.parameters, &a.functions, &b);
+        // b's `c` is its own y, and w, F are the symbols of a.
+        let e = crate::parse::parse("y*cos(w*t) + F(t) + v*G(z)").unwrap();
+        let mut names = crate::canon::Names::free();
+        names.function("F");
+        names.function("G");
+        let want = a.store.build(&e, &names).unwrap();
+        assert_eq!(im.h[1][1], want);
+        // Typical values: a's w, b's v.
+        let w = a.store.symbol_kernel("w");
+        let v = a.store.symbol_kernel("v");
+        assert_eq!(im.sampling.typical.get(&w), Some(&2.0));
+        assert_eq!(im.sampling.typical.get(&v), Some(&0.5));
+        // Samples: a's F, b's G.
+        assert_eq!(im.sampling.samples["F"].form, a.sampling.samples["F"].form);
+        let g = im.sampling.samples["G"].form;
+        let e = crate::parse::parse("sin(u)").unwrap();
+        let want = a.store.build(&e, &crate::canon::Names::free()).unwrap();
+        assert_eq!(g, want);
+        assert_eq!(im.notes.len(), 2, "{:?}", im.notes);
+        assert!(im.notes[0].starts_with("parameter `w` has the typical value 2"));
+        assert!(im.notes[1].starts_with("function `F` has the sample `exp(-u^2)`"));
+        // The second problem keeps its texts for the audit; its own store is empty.
+        assert_eq!(b.defines, [("c".to_string(), "y".to_string())]);
+        assert_eq!(b.store.num_terms(b.store.one()), 1);
+    }
+
+    /// Errors of the second file are its own, pointing into it.
+    #[test]
+    fn issue11_an_error_of_the_second_file_points_into_it() {
+        let mut a = from_str("a.toml", A).unwrap();
+        let bad = "[perturbation]\nxx = 'c*q'\n";
+        let e = ProblemFile::parse("b.toml", bad)
+            .unwrap()
+            .build_into(&mut a.store)
+            .unwrap_err();
+        assert!(e.to_string().contains("undeclared name `c`"), "{e}");
+        // The first problem's forms are still there.
+        let ha = a.h[1][1];
+        assert!(!a.store.is_zero(ha));
+        assert!(a.store.num_terms(ha) > 0);
+    }
 }

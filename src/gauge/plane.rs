@@ -11,14 +11,20 @@
 //! from memory); they are not assumed but checked on `h'` by the caller.
 //!
 //! Key design decision: `X = integral of X' along the phase` is computed by a small exact
-//! integrator for the functions the engine can write down in closed form: each printed term
-//! must be a constant times `sin`, `cos`, `exp`, `sinh`, `cosh` or a derivative `F^(n)`,
-//! `n >= 1`, of an arbitrary function, at an argument `s phi + b` (constant `s != 0`, `b`),
-//! or a constant. Every antiderivative is verified by differentiating it back exactly; an
+//! integrator for the functions the engine can write down in closed form. It reads the
+//! integrand through the structural view of its canonical form ([`Store::view`]), never
+//! through its printed text: over a constant denominator, the terms are taken a kernel
+//! monomial and an exponential pair at a time (the exponentials `e^(P ± iQ)` that print as
+//! `e^P cos Q` and `e^P sin Q`), and each such group must be constant, or a constant times
+//! one factor that depends on the coordinates: an exponential whose exponent depends on them
+//! only through `P` or only through `Q` (sin, cos, exp, sinh, cosh), or a derivative
+//! `F^(n)`, `n >= 1`, of an arbitrary function, at an argument `s phi + b` (constant
+//! `s != 0`, `b`). Every antiderivative is verified by differentiating it back exactly; an
 //! integrand outside this class is reported, never guessed.
 
-use crate::canon::{CResult, CanonError, Coeff, Form, KernelId, Names, Store};
-use crate::expr::{BinOp, Expr, ExprKind};
+use crate::canon::{
+    CResult, CanonError, Coeff, ExpSplit, Form, Kernel, KernelId, OwnedTerm, Store,
+};
 use crate::tensor::{COORDS, ETA, Sym4};
 use crate::tt::input::coordinates_in;
 use crate::zero::{Sampling, Verdict, decide};
@@ -77,50 +83,13 @@ fn out_of_time(store: &Store) -> Option<PlaneError> {
     (std::time::Instant::now() > t).then(|| PlaneError::from(CanonError::Timeout(ms)))
 }
 
-fn parse_printed(store: &mut Store, f: Form, what: &str) -> Result<Expr, PlaneError> {
-    if let Some(e) = out_of_time(store) {
-        return Err(e);
-    }
-    let text = store.to_text(f);
-    crate::parse::parse(&text).map_err(|_| {
-        PlaneError::NotApplicable(format!(
-            "the simplified form of {what} cannot be read back as an expression: {text}"
-        ))
-    })
-}
-
-fn build(store: &mut Store, names: &Names, e: &Expr) -> Result<Form, PlaneError> {
-    store.build(e, names).map_err(|err| {
-        out_of_time(store).unwrap_or_else(|| {
-            PlaneError::NotApplicable(format!("cannot read back `{e}`: {}", err.message))
-        })
-    })
-}
-
-/// The first argument of a call in `e` that depends on the coordinates.
-fn first_phase_argument(
-    store: &mut Store,
-    names: &Names,
-    e: &Expr,
-) -> Result<Option<(Form, String)>, PlaneError> {
-    let mut found: Option<&Expr> = None;
-    let mut candidates = Vec::new();
-    e.walk(&mut |node| {
-        if let ExprKind::Call { arg, .. } = &node.kind {
-            candidates.push(&**arg);
-        }
-    });
-    for arg in candidates {
-        let f = build(store, names, arg)?;
-        if !is_constant(store, f) {
-            found = Some(arg);
-            break;
-        }
-    }
-    match found {
-        Some(a) => Ok(Some((build(store, names, a)?, a.to_string()))),
-        None => Ok(None),
-    }
+/// The first argument of a function in `f` that depends on the coordinates, in printed order
+/// ([`Store::printed_arguments`]: history-independent, and no text is parsed).
+fn first_phase_argument(store: &mut Store, f: Form) -> Option<Form> {
+    store
+        .printed_arguments(f)
+        .into_iter()
+        .find(|&a| !is_constant(store, a))
 }
 
 /// Reads the phase off `h` (the argument of its first phase-dependent function), or uses the
@@ -132,7 +101,6 @@ fn first_phase_argument(
 /// Not a plane wave (with the component and a certified witness), or undecided.
 pub fn find_wave(
     store: &mut Store,
-    names: &Names,
     sampling: &Sampling,
     h: &Sym4,
     given: Option<[Form; 4]>,
@@ -147,13 +115,15 @@ pub fn find_wave(
                 if is_constant(store, h[mu][nu]) {
                     continue;
                 }
-                let e = parse_printed(store, h[mu][nu], &hname(mu, nu))?;
-                if let Some(a) = first_phase_argument(store, names, &e)? {
+                if let Some(e) = out_of_time(store) {
+                    return Err(e);
+                }
+                if let Some(a) = first_phase_argument(store, h[mu][nu]) {
                     arg = Some(a);
                     break;
                 }
             }
-            let Some((a, text)) = arg else {
+            let Some(a) = arg else {
                 let constant = crate::tensor::COMPONENTS
                     .iter()
                     .all(|&(m, n)| is_constant(store, h[m][n]));
@@ -169,6 +139,7 @@ pub fn find_wave(
             for mu in 0..4 {
                 k[mu] = store.diff(a, coords[mu])?;
                 if !is_constant(store, k[mu]) {
+                    let text = store.to_text(a);
                     return Err(PlaneError::NotApplicable(format!(
                         "the argument `{text}` is not linear in t, x, y, z, so it is not the \
                          phase of a plane wave"
@@ -262,6 +233,55 @@ pub fn find_wave(
     })
 }
 
+/// One kernel monomial of an integrand with its exponential pair: the terms
+/// `m e^(P + iQ)` and `m e^(P - iQ)` (or `m e^E` for an exponent that was not split), which
+/// print together as `m e^P cos Q` and `m e^P sin Q`.
+struct Group {
+    terms: Vec<OwnedTerm>,
+    /// The kernel powers `m`.
+    powers: Vec<(KernelId, i32)>,
+    /// The parts of the exponent that depend on the coordinates (`Q`, `P`, or the whole).
+    exponent: Vec<Form>,
+}
+
+/// The terms of a numerator, grouped as they print.
+fn groups(store: &mut Store, terms: Vec<OwnedTerm>) -> Vec<Group> {
+    type Key = (Vec<(KernelId, i32)>, Option<ExpSplit>);
+    let mut out: Vec<Group> = Vec::new();
+    let mut index: Vec<Key> = Vec::new();
+    for t in terms {
+        let split = t.exp.map(|e| match store.exponent_parts(e) {
+            ExpSplit::Parts { re, im, .. } => ExpSplit::Parts {
+                re,
+                im,
+                conjugate: false,
+            },
+            whole => whole,
+        });
+        let key = (t.powers.clone(), split);
+        match index.iter().position(|k| *k == key) {
+            Some(i) => out[i].terms.push(t),
+            None => {
+                let exponent = match split {
+                    None => Vec::new(),
+                    Some(ExpSplit::Whole(w)) => vec![w],
+                    Some(ExpSplit::Parts { re, im, .. }) => [im, re]
+                        .into_iter()
+                        .filter(|&x| !store.is_zero(x))
+                        .collect(),
+                };
+                index.push(key);
+                out.push(Group {
+                    powers: t.powers.clone(),
+                    terms: vec![t],
+                    exponent,
+                });
+            }
+        }
+    }
+    out
+}
+
 impl PlaneWave {
     /// `df/dphi`, exact: `d_m f / k_m` for an index with `k_m != 0`.
     ///
@@ -273,23 +293,36 @@ impl PlaneWave {
         store.div(d, self.k[self.along])
     }
 
+    /// `s` if `a = s phi + b` with constants `s != 0` and `b`.
+    fn slope(&self, store: &mut Store, a: Form) -> Result<Option<Form>, PlaneError> {
+        let s = self.along_phase(store, a)?;
+        if !is_constant(store, s) || store.is_zero(s) {
+            return Ok(None);
+        }
+        for mu in 0..4 {
+            let d = store.diff(a, self.coords[mu])?;
+            let sk = store.mul(s, self.k[mu])?;
+            let r = store.sub(d, sk)?;
+            if !store.is_zero(r) {
+                return Ok(None);
+            }
+        }
+        Ok(Some(s))
+    }
+
     /// An antiderivative of `f` along the phase, verified by differentiating it back.
     ///
     /// # Errors
     ///
     /// An integrand outside the supported class (see the module doc), or an algebra limit.
-    pub fn integrate(
-        &self,
-        store: &mut Store,
-        names: &Names,
-        f: Form,
-        what: &str,
-    ) -> Result<Form, PlaneError> {
+    pub fn integrate(&self, store: &mut Store, f: Form, what: &str) -> Result<Form, PlaneError> {
         if store.is_zero(f) {
             return Ok(f);
         }
-        let e = parse_printed(store, f, what)?;
-        let g = self.integrate_expr(store, names, &e, what)?;
+        if let Some(e) = out_of_time(store) {
+            return Err(e);
+        }
+        let g = self.integrate_form(store, f, what)?;
         let back = self.along_phase(store, g)?;
         let d = store.sub(back, f)?;
         if !store.is_zero(d) {
@@ -301,14 +334,7 @@ impl PlaneWave {
         Ok(g)
     }
 
-    fn integrate_expr(
-        &self,
-        store: &mut Store,
-        names: &Names,
-        e: &Expr,
-        what: &str,
-    ) -> Result<Form, PlaneError> {
-        let f = build(store, names, e)?;
+    fn integrate_form(&self, store: &mut Store, f: Form, what: &str) -> Result<Form, PlaneError> {
         if is_constant(store, f) {
             return Ok(store.mul(f, self.phase)?);
         }
@@ -319,98 +345,155 @@ impl PlaneWave {
                  arbitrary function, of an argument linear in the phase"
             ))
         };
-        match &e.kind {
-            ExprKind::Neg(a) => {
-                let g = self.integrate_expr(store, names, a, what)?;
-                Ok(store.neg(g)?)
-            }
-            ExprKind::Binary(op @ (BinOp::Add | BinOp::Sub), a, b) => {
-                let ga = self.integrate_expr(store, names, a, what)?;
-                let gb = self.integrate_expr(store, names, b, what)?;
-                Ok(if *op == BinOp::Add {
-                    store.add(ga, gb)?
-                } else {
-                    store.sub(ga, gb)?
-                })
-            }
-            ExprKind::Binary(BinOp::Mul, a, b) => {
-                let fa = build(store, names, a)?;
-                let fb = build(store, names, b)?;
-                if is_constant(store, fa) {
-                    let g = self.integrate_expr(store, names, b, what)?;
-                    Ok(store.mul(fa, g)?)
-                } else if is_constant(store, fb) {
-                    let g = self.integrate_expr(store, names, a, what)?;
-                    Ok(store.mul(g, fb)?)
-                } else {
-                    Err(unsupported(format!(
-                        "`{e}` is a product of two factors that both depend on the coordinates"
-                    )))
-                }
-            }
-            ExprKind::Binary(BinOp::Div, a, b) => {
-                let fb = build(store, names, b)?;
-                if !is_constant(store, fb) {
-                    return Err(unsupported(format!(
-                        "`{e}` divides by an expression of the coordinates"
-                    )));
-                }
-                let g = self.integrate_expr(store, names, a, what)?;
-                Ok(store.div(g, fb)?)
-            }
-            ExprKind::Call {
-                name, primes, arg, ..
-            } => {
-                let a = build(store, names, arg)?;
-                let s = self.along_phase(store, a)?;
-                let mut linear = is_constant(store, s) && !store.is_zero(s);
-                if linear {
-                    for mu in 0..4 {
-                        let d = store.diff(a, self.coords[mu])?;
-                        let sk = store.mul(s, self.k[mu])?;
-                        let r = store.sub(d, sk)?;
-                        if !store.is_zero(r) {
-                            linear = false;
-                            break;
-                        }
-                    }
-                }
-                if !linear {
-                    return Err(unsupported(format!(
-                        "the argument of `{e}` is not a constant multiple of the phase plus a \
-                         constant"
-                    )));
-                }
-                let anti = match (name.as_str(), *primes) {
-                    ("sin", _) => {
-                        let c = store.cos(a)?;
-                        store.neg(c)?
-                    }
-                    ("cos", _) => store.sin(a)?,
-                    ("exp", _) => store.exp(a)?,
-                    ("sinh", _) => store.cosh(a)?,
-                    ("cosh", _) => store.sinh(a)?,
-                    (n, _) if crate::canon::BUILTINS.contains(&n) => {
-                        return Err(unsupported(format!(
-                            "`{n}` has no supported antiderivative"
-                        )));
-                    }
-                    (n, 0) => {
-                        return Err(unsupported(format!(
-                            "the arbitrary function `{n}` itself has no antiderivative the \
-                             engine can write; write the wave as a derivative, e.g. {n}'(..)"
-                        )));
-                    }
-                    (n, p) => store.func(n, p - 1, a),
-                };
-                Ok(store.div(anti, s)?)
-            }
-            ExprKind::Ident(n) => Err(unsupported(format!(
-                "the coordinate `{n}` appears outside the argument of a function"
-            ))),
-            _ => Err(unsupported(format!("`{e}` is not of the supported form"))),
+        let view = store.view(f);
+        let num = view.numerator().owned_terms();
+        let den: Vec<(Vec<OwnedTerm>, u32)> = view
+            .denominator()
+            .map(|(p, e)| (p.owned_terms(), e))
+            .collect();
+        // The denominator must be constant: f = N / D, integrated as (integral of N) / D.
+        let mut d = store.one();
+        for (p, e) in den {
+            let parts: Vec<Form> = p.iter().map(|t| store.term_form(t)).collect();
+            let x = store.sum(&parts)?;
+            let x = store.powi(x, i64::from(e))?;
+            d = store.mul(d, x)?;
         }
+        if !is_constant(store, d) {
+            let text = store.to_text(f);
+            return Err(unsupported(format!(
+                "`{text}` divides by an expression of the coordinates"
+            )));
+        }
+        let mut total = store.zero();
+        for g in groups(store, num) {
+            let forms: Vec<Form> = g.terms.iter().map(|t| store.term_form(t)).collect();
+            let gf = store.sum(&forms)?;
+            let part = self.integrate_group(store, &g, gf, &forms, &unsupported)?;
+            total = store.add(total, part)?;
+        }
+        Ok(store.div(total, d)?)
     }
+
+    /// The integral of one group `gf` (its terms `forms`): constant, or a constant times one
+    /// factor that depends on the coordinates.
+    fn integrate_group(
+        &self,
+        store: &mut Store,
+        g: &Group,
+        gf: Form,
+        forms: &[Form],
+        unsupported: &dyn Fn(String) -> PlaneError,
+    ) -> Result<Form, PlaneError> {
+        if is_constant(store, gf) {
+            return Ok(store.mul(gf, self.phase)?);
+        }
+        // The factors that depend on the coordinates: kernel powers, then exponent parts.
+        let mut kernels: Vec<(KernelId, i32)> = Vec::new();
+        for &(k, e) in &g.powers {
+            let f = kernel_form(store, k);
+            if !is_constant(store, f) {
+                kernels.push((k, e));
+            }
+        }
+        let mut exponent: Vec<Form> = Vec::new();
+        for &x in &g.exponent {
+            if !is_constant(store, x) {
+                exponent.push(x);
+            }
+        }
+        if kernels.iter().any(|&(_, e)| e < 0) {
+            let text = store.to_text(gf);
+            return Err(unsupported(format!(
+                "`{text}` divides by an expression of the coordinates"
+            )));
+        }
+        if kernels.len() + exponent.len() > 1 {
+            let text = store.to_text(gf);
+            return Err(unsupported(format!(
+                "`{text}` is a product of two factors that both depend on the coordinates"
+            )));
+        }
+        if let Some(&a) = exponent.first() {
+            // sin, cos, exp, sinh, cosh: each exponential e^E integrates to e^E / (dE/dphi).
+            if self.slope(store, a)?.is_none() {
+                let text = store.to_text(gf);
+                return Err(unsupported(format!(
+                    "the argument of `{text}` is not a constant multiple of the phase plus a \
+                     constant"
+                )));
+            }
+            let mut parts = Vec::with_capacity(forms.len());
+            for (t, &tf) in g.terms.iter().zip(forms) {
+                let e = t.exp.unwrap_or_else(|| store.zero());
+                let s = self.along_phase(store, e)?;
+                parts.push(store.div(tf, s)?);
+            }
+            return Ok(store.sum(&parts)?);
+        }
+        let (k, e) = kernels[0];
+        let kernel = store.kernel(k).clone();
+        let text = store.to_text(gf);
+        let (arg, name) = match kernel {
+            Kernel::Sym(n) => {
+                return Err(unsupported(format!(
+                    "the coordinate `{n}` appears outside the argument of a function"
+                )));
+            }
+            _ if e != 1 => {
+                return Err(unsupported(format!(
+                    "`{text}` is not of the supported form"
+                )));
+            }
+            Kernel::Root { radicand, q: 2 } => (radicand, None),
+            Kernel::Root { .. } | Kernel::Pi => {
+                return Err(unsupported(format!(
+                    "`{text}` is not of the supported form"
+                )));
+            }
+            Kernel::Log(a) => (a, None),
+            Kernel::Func { name, order, arg } => (arg, Some((name, order))),
+        };
+        let Some(s) = self.slope(store, arg)? else {
+            return Err(unsupported(format!(
+                "the argument of `{text}` is not a constant multiple of the phase plus a constant"
+            )));
+        };
+        let anti = match name {
+            None => {
+                let n = if matches!(store.kernel(k), Kernel::Log(_)) {
+                    "log"
+                } else {
+                    "sqrt"
+                };
+                return Err(unsupported(format!(
+                    "`{n}` has no supported antiderivative"
+                )));
+            }
+            Some((n, 0)) => {
+                return Err(unsupported(format!(
+                    "the arbitrary function `{n}` itself has no antiderivative the engine can \
+                     write; write the wave as a derivative, e.g. {n}'(..)"
+                )));
+            }
+            Some((n, p)) => store.func(&n, p - 1, arg),
+        };
+        // gf = c * F^(p)(arg) with c constant: c * F^(p-1)(arg) / s.
+        let kf = kernel_form(store, k);
+        let c = store.div(gf, kf)?;
+        let g = store.mul(c, anti)?;
+        Ok(store.div(g, s)?)
+    }
+}
+
+/// The form of a kernel.
+fn kernel_form(store: &mut Store, k: KernelId) -> Form {
+    let t = OwnedTerm {
+        coeff: Coeff::one(),
+        powers: vec![(k, 1)],
+        exp: None,
+    };
+    store.term_form(&t)
 }
 
 /// The gauge vector `xi_mu` (index down) that removes `h_{t mu}` from a plane wave; for a
@@ -421,7 +504,6 @@ impl PlaneWave {
 /// `k_t = 0`, an integrand outside the supported class, or an algebra limit.
 pub fn tt_gauge_vector(
     store: &mut Store,
-    names: &Names,
     wave: &PlaneWave,
     h: &Sym4,
 ) -> Result<[Form; 4], PlaneError> {
@@ -433,7 +515,7 @@ pub fn tt_gauge_vector(
     }
     let mut integral = [store.zero(); 4];
     for (mu, slot) in integral.iter_mut().enumerate() {
-        *slot = wave.integrate(store, names, h[0][mu], &hname(0, mu))?;
+        *slot = wave.integrate(store, h[0][mu], &hname(0, mu))?;
     }
     let two_kt = store.scale(kt, &Coeff::int(2))?;
     let xi_t = store.div(integral[0], two_kt)?;
@@ -449,6 +531,7 @@ pub fn tt_gauge_vector(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::canon::Names;
 
     fn names() -> Names {
         let mut n = Names::strict();
@@ -481,7 +564,7 @@ mod tests {
             &mut st,
             &[(1, 1, "a*cos(w*(t - z))"), (2, 2, "-a*cos(w*(t - z))")],
         );
-        let w = find_wave(&mut st, &names(), &Sampling::default(), &h, None).unwrap();
+        let w = find_wave(&mut st, &Sampling::default(), &h, None).unwrap();
         let texts: Vec<String> = w.k.iter().map(|f| st.to_text(*f)).collect();
         assert_eq!(texts, ["-w", "0", "0", "w"]);
         assert_eq!(w.null, Verdict::Zero);
@@ -491,16 +574,16 @@ mod tests {
     fn refuses_what_is_not_a_plane_wave() {
         let mut st = Store::new();
         let h = wave_of(&mut st, &[(1, 1, "cos(t - z)"), (2, 2, "x*cos(t - z)")]);
-        let e = find_wave(&mut st, &names(), &Sampling::default(), &h, None).unwrap_err();
+        let e = find_wave(&mut st, &Sampling::default(), &h, None).unwrap_err();
         assert!(
             matches!(e, PlaneError::NotApplicable(ref s) if s.contains("h_yy")),
             "{e}"
         );
         let h = wave_of(&mut st, &[(1, 1, "cos(t^2 - z)")]);
-        let e = find_wave(&mut st, &names(), &Sampling::default(), &h, None).unwrap_err();
+        let e = find_wave(&mut st, &Sampling::default(), &h, None).unwrap_err();
         assert!(e.to_string().contains("not linear"), "{e}");
         let h = wave_of(&mut st, &[(1, 1, "a")]);
-        let e = find_wave(&mut st, &names(), &Sampling::default(), &h, None).unwrap_err();
+        let e = find_wave(&mut st, &Sampling::default(), &h, None).unwrap_err();
         assert!(e.to_string().contains("no wave"), "{e}");
     }
 
@@ -508,7 +591,7 @@ mod tests {
     fn integrates_along_the_phase_and_verifies() {
         let mut st = Store::new();
         let h = wave_of(&mut st, &[(1, 1, "cos(w*(t - z))")]);
-        let w = find_wave(&mut st, &names(), &Sampling::default(), &h, None).unwrap();
+        let w = find_wave(&mut st, &Sampling::default(), &h, None).unwrap();
         for text in [
             "3*a*cos(w*(t - z)) - b*sin(2*w*(t - z))/5",
             "exp(w*(z - t) + 1)",
@@ -516,7 +599,7 @@ mod tests {
             "a + sinh(w*(t - z))",
         ] {
             let f = build_text(&mut st, text);
-            let g = w.integrate(&mut st, &names(), f, text).unwrap();
+            let g = w.integrate(&mut st, f, text).unwrap();
             let back = w.along_phase(&mut st, g).unwrap();
             let d = st.sub(back, f).unwrap();
             assert!(st.is_zero(d), "{text}");
@@ -527,10 +610,27 @@ mod tests {
             ("(t - z)*cos(t - z)", "product"),
         ] {
             let f = build_text(&mut st, text);
-            match w.integrate(&mut st, &names(), f, text) {
+            match w.integrate(&mut st, f, text) {
                 Err(PlaneError::NotApplicable(s)) => assert!(s.contains(why), "{text}: {s}"),
                 other => panic!("{text}: {other:?}"),
             }
         }
+    }
+
+    /// Issue 11 (item 3): the phase is read off the structure in printed order, not in the
+    /// store's internal order, so it does not depend on what the store built before.
+    #[test]
+    fn issue11_the_phase_does_not_depend_on_the_store_history() {
+        let text = "cos(w*(t - z)) + cos(2*w*(t - z))";
+        let mut fresh = Store::new();
+        let h = wave_of(&mut fresh, &[(1, 1, text)]);
+        let w = find_wave(&mut fresh, &Sampling::default(), &h, None).unwrap();
+        let k1: Vec<String> = w.k.iter().map(|f| fresh.to_text(*f)).collect();
+        let mut used = Store::new();
+        build_text(&mut used, "sin(2*w*(z - t)) + F''(w*(t - z))");
+        let h = wave_of(&mut used, &[(1, 1, text)]);
+        let w = find_wave(&mut used, &Sampling::default(), &h, None).unwrap();
+        let k2: Vec<String> = w.k.iter().map(|f| used.to_text(*f)).collect();
+        assert_eq!(k1, k2);
     }
 }

@@ -318,92 +318,115 @@ impl Builder<'_> {
 pub(super) fn build(file: &ProblemFile, limits: Limits) -> Result<Problem, ProblemError> {
     let mut store = Store::new();
     store.limits = limits;
-    let mut b = Builder { file, store };
-    b.check_declarations()?;
+    let mut p = build_into(file, &mut store)?;
+    p.store = store;
+    Ok(p)
+}
 
-    let mut names = Names::strict();
-    for c in &file.coordinates {
-        names.symbol(c);
-    }
-    let mut sampling = Sampling::default();
-    for p in &file.parameters {
-        names.symbol(&p.name);
-        let k = b.store.symbol_kernel(&p.name);
-        sampling.typical.insert(k, p.value);
-    }
-
-    let mut sample_names = Names::strict();
-    sample_names.symbol("u");
-    for p in &file.parameters {
-        sample_names.symbol(&p.name);
-    }
-    let var = b.store.symbol_kernel("u");
-    for f in &file.functions {
-        names.function(&f.name);
-        let expr = b.parse(&f.expr)?;
-        b.check_sample(&f.expr, &expr)?;
-        let form = b.build(&f.expr, &expr, &sample_names)?;
-        sampling
-            .samples
-            .insert(Rc::from(f.name.as_str()), FunctionSample { var, form });
-    }
-
-    for (i, d) in file.defines.iter().enumerate() {
-        let expr = b.parse(&d.expr)?;
-        b.check_define_order(i, &d.expr, &expr)?;
-        let form = b.build(&d.expr, &expr, &names)?;
-        names.define(&d.name, form);
-    }
-
-    let (h, h_text) = b.tensor(&file.perturbation, &names)?;
-    let (source, source_text) = match &file.source {
-        Some(components) => {
-            let (m, t) = b.tensor(components, &names)?;
-            (Some(m), Some(t))
-        }
-        None => (None, None),
+/// Builds `file` into `store` (which keeps its limits and its forms, and receives the new
+/// ones, also when an error stops the build); the returned problem's own store is empty.
+pub(super) fn build_into(file: &ProblemFile, store: &mut Store) -> Result<Problem, ProblemError> {
+    let mut b = Builder {
+        file,
+        store: std::mem::take(store),
     };
+    let built = b.build_all();
+    *store = b.store;
+    built
+}
 
-    let background = b.background(&names)?;
-    if let Some(domain) = &file.domain {
-        for (mu, range) in domain.iter().enumerate() {
-            if let Some(r) = range {
-                let k = b.store.symbol_kernel(&file.coordinates[mu]);
-                sampling.ranges.insert(k, *r);
+impl Builder<'_> {
+    /// Every expression of the file, in file order, into `self.store`; the problem's own
+    /// store is left empty.
+    fn build_all(&mut self) -> Result<Problem, ProblemError> {
+        let file = self.file;
+        let b = self;
+        b.check_declarations()?;
+
+        let mut names = Names::strict();
+        for c in &file.coordinates {
+            names.symbol(c);
+        }
+        let mut sampling = Sampling::default();
+        for p in &file.parameters {
+            names.symbol(&p.name);
+            let k = b.store.symbol_kernel(&p.name);
+            sampling.typical.insert(k, p.value);
+        }
+
+        let mut sample_names = Names::strict();
+        sample_names.symbol("u");
+        for p in &file.parameters {
+            sample_names.symbol(&p.name);
+        }
+        let var = b.store.symbol_kernel("u");
+        for f in &file.functions {
+            names.function(&f.name);
+            let expr = b.parse(&f.expr)?;
+            b.check_sample(&f.expr, &expr)?;
+            let form = b.build(&f.expr, &expr, &sample_names)?;
+            sampling
+                .samples
+                .insert(Rc::from(f.name.as_str()), FunctionSample { var, form });
+        }
+
+        for (i, d) in file.defines.iter().enumerate() {
+            let expr = b.parse(&d.expr)?;
+            b.check_define_order(i, &d.expr, &expr)?;
+            let form = b.build(&d.expr, &expr, &names)?;
+            names.define(&d.name, form);
+        }
+
+        let (h, h_text) = b.tensor(&file.perturbation, &names)?;
+        let (source, source_text) = match &file.source {
+            Some(components) => {
+                let (m, t) = b.tensor(components, &names)?;
+                (Some(m), Some(t))
+            }
+            None => (None, None),
+        };
+
+        let background = b.background(&names)?;
+        if let Some(domain) = &file.domain {
+            for (mu, range) in domain.iter().enumerate() {
+                if let Some(r) = range {
+                    let k = b.store.symbol_kernel(&file.coordinates[mu]);
+                    sampling.ranges.insert(k, *r);
+                }
             }
         }
-    }
 
-    Ok(Problem {
-        name: file.name.clone(),
-        path: file.path.clone(),
-        text: file.text.clone(),
-        store: b.store,
-        names,
-        parameters: file
-            .parameters
-            .iter()
-            .map(|p| (p.name.clone(), p.value))
-            .collect(),
-        functions: file
-            .functions
-            .iter()
-            .map(|f| (f.name.clone(), f.expr.text.clone()))
-            .collect(),
-        defines: file
-            .defines
-            .iter()
-            .map(|d| (d.name.clone(), d.expr.text.clone()))
-            .collect(),
-        h,
-        h_text,
-        source,
-        source_text,
-        claims: file.claims.clone(),
-        grid: file.grid.clone(),
-        sampling,
-        coordinates: file.coordinates.clone(),
-        background,
-        domain: file.domain,
-    })
+        Ok(Problem {
+            name: file.name.clone(),
+            path: file.path.clone(),
+            text: file.text.clone(),
+            store: Store::new(),
+            names,
+            parameters: file
+                .parameters
+                .iter()
+                .map(|p| (p.name.clone(), p.value))
+                .collect(),
+            functions: file
+                .functions
+                .iter()
+                .map(|f| (f.name.clone(), f.expr.text.clone()))
+                .collect(),
+            defines: file
+                .defines
+                .iter()
+                .map(|d| (d.name.clone(), d.expr.text.clone()))
+                .collect(),
+            h,
+            h_text,
+            source,
+            source_text,
+            claims: file.claims.clone(),
+            grid: file.grid.clone(),
+            sampling,
+            coordinates: file.coordinates.clone(),
+            background,
+            domain: file.domain,
+        })
+    }
 }

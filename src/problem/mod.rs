@@ -45,11 +45,19 @@ mod tests;
 /// The worked example `worked/NAME`, read (for the unit tests of every module).
 #[cfg(test)]
 pub(crate) fn worked(name: &str) -> Problem {
+    worked_file(name)
+        .build()
+        .unwrap_or_else(|e| panic!("{name}: {e:?}"))
+}
+
+/// The worked file `name`, read but not built (tests).
+#[cfg(test)]
+pub(crate) fn worked_file(name: &str) -> ProblemFile {
     let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
         .join("worked")
         .join(name);
     let text = std::fs::read_to_string(&path).expect("readable");
-    from_str(name, &text).unwrap_or_else(|e| panic!("{name}: {e:?}"))
+    ProblemFile::parse(name, &text).unwrap_or_else(|e| panic!("{name}: {e:?}"))
 }
 
 pub use error::ProblemError;
@@ -228,6 +236,21 @@ impl ProblemFile {
         build::build(self, limits)
     }
 
+    /// As [`ProblemFile::build`], into `store`, the store of another problem (for comparing
+    /// two files in one store): this file's names are resolved with its own name table, so
+    /// its defines never capture the other file's names, while a parameter or function that
+    /// both declare is one symbol of the store. The store's limits are in force and it keeps
+    /// whatever was built, also on an error. The returned problem's own
+    /// [`Problem::store`] is empty: its forms (perturbation, source, defines, function
+    /// samples in [`Problem::sampling`]) live in `store`.
+    ///
+    /// # Errors
+    ///
+    /// As [`ProblemFile::build_with`].
+    pub fn build_into(&self, store: &mut Store) -> Result<Problem, ProblemError> {
+        build::build_into(self, store)
+    }
+
     /// An error at `span` of this file.
     #[must_use]
     pub fn error(
@@ -248,7 +271,8 @@ pub struct Problem {
     pub path: String,
     /// The file's text.
     pub text: String,
-    /// The store holding every form of this problem.
+    /// The store holding every form of this problem (empty for a problem built into another
+    /// problem's store, see [`ProblemFile::build_into`]).
     pub store: Store,
     /// The strict name table (coordinates, parameters, functions, defines), for building
     /// more expressions with the same names.
@@ -424,11 +448,20 @@ pub fn read(path: &std::path::Path) -> Result<Problem, ProblemError> {
 /// As [`read`](fn@read); a file that is not valid UTF-8 is an error at its first invalid byte (byte
 /// offset, line and column in the message).
 pub fn read_with(path: &std::path::Path, limits: Limits) -> Result<Problem, ProblemError> {
+    read_file(path)?.build_with(limits)
+}
+
+/// Reads the problem file at `path` and checks its structure, without building it.
+///
+/// # Errors
+///
+/// As [`read`](fn@read), except the errors of building.
+pub fn read_file(path: &std::path::Path) -> Result<ProblemFile, ProblemError> {
     let label = path.display().to_string();
     let bytes = std::fs::read(path)
         .map_err(|e| ProblemError::whole_file(&label, format!("cannot read `{label}`: {e}")))?;
     let text = utf8_text(&label, bytes)?;
-    ProblemFile::parse(&label, &text)?.build_with(limits)
+    ProblemFile::parse(&label, &text)
 }
 
 /// The text of a file read as `bytes`, or an error at its first byte that is not UTF-8 (byte

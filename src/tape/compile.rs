@@ -1,25 +1,27 @@
-//! From canonical forms to tape nodes.
+//! From canonical forms to tape nodes, through the structural view of the form.
 //!
-//! A form is read through its printed text ([`Store::to_text`], the input syntax, which parses
-//! back to an equal canonical form): sums, products, exact coefficients, integer and rational
-//! powers (principal roots), and calls of the built-in functions or of an arbitrary function
-//! with primes (`F''`). In that text `exp(i a)` pairs are already regrouped as `sin a` and
-//! `cos a`, so a real expression usually compiles to a tape whose constants are all real.
-//! Going through the text keeps this module on the store's public interface only. Names
-//! resolve to inputs (the coordinates), constants (parameter values) or, inside a function's
-//! sample, the sample's variable; `i` that is none of these is the imaginary unit (the text
-//! of a non-real coefficient).
+//! A form is read with [`Store::view`]: its numerator's terms (exact coefficient, kernel
+//! powers, at most one exponential) over its denominator factors, each kernel by its kind.
+//! Nothing is printed or parsed. Exponentials are regrouped as the printer regroups them:
+//! each exponent is split into formal real and imaginary parts ([`Store::exponent_parts`]),
+//! and the terms `a e^(P + iQ) m + b e^(P - iQ) m` of one kernel monomial `m` become
+//! `e^P m ((a + b) cos Q + i (a - b) sin Q)`; so a real expression compiles to a tape whose
+//! constants are all real (the real fast path), and a coefficient or an exponent that is not
+//! real gives complex constants. Coefficients, exact in Q(sqrt 2, sqrt 3, i), are rounded to
+//! complex doubles here, once each.
+//!
+//! Symbols resolve to inputs (the coordinates) or constants (parameter values), inside a
+//! function's sample to the sample's variable or constants.
 //!
 //! Arbitrary functions `F^(n)(arg)` are evaluated through their samples: the sample is a form
 //! in one variable, differentiated `n` times with [`Store::diff`] (this defines the sample's
 //! derivatives; it is not a derivative of the perturbation) and compiled with its variable
 //! bound to the compiled argument. Shared arguments and repeated calls share nodes through the
-//! builder's hash-consing.
+//! builder's hash-consing and the compiler's memo (by form and binding).
 
 use super::{C64, Node, TapeBuilder};
-use crate::canon::{Form, FunctionSample, Kernel, Q, Store};
-use crate::expr::{BinOp, Expr, ExprKind};
-use num_traits::{ToPrimitive, Zero};
+use crate::canon::{Coeff, ExpSplit, Form, FunctionSample, Kernel, KernelId, OwnedTerm, Store};
+use num_traits::ToPrimitive;
 use rustc_hash::FxHashMap;
 use std::rc::Rc;
 
@@ -54,7 +56,7 @@ pub enum TapeError {
     /// Samples that call each other without end.
     #[error("function samples nest deeper than {0} levels")]
     TooDeep(usize),
-    /// The printed form did not read back (a bug in printing or parsing).
+    /// A text that did not parse (the lowering of the user's texts, [`super::Lowering`]).
     #[error("internal: the printed form `{text}` does not read back: {why}")]
     Reread {
         /// The printed text, cut to a readable length.
@@ -62,25 +64,42 @@ pub enum TapeError {
         /// The parse error.
         why: String,
     },
-    /// Something in the printed form that the tape does not evaluate.
+    /// Something that the tape does not evaluate (a coefficient beyond the f64 range).
     #[error("cannot evaluate `{0}` on a grid")]
     Unsupported(String),
 }
 
 const MAX_DEPTH: usize = 16;
 
-/// Where a name is looked up.
+/// Where a symbol is looked up.
+#[derive(Clone, Copy)]
 enum Scope<'a> {
     /// The expressions themselves: inputs, then constants.
     Top,
-    /// Inside the sample of `func`: its variable, then constants.
+    /// Inside the sample of `func`: its variable (bound to `arg`), then constants.
     Sample {
         func: &'a str,
-        var: &'a str,
+        var: KernelId,
         arg: Node,
         depth: usize,
     },
 }
+
+impl Scope<'_> {
+    /// What a compiled node depends on besides the form: the binding of the sample variable
+    /// (and the depth, which bounds nesting).
+    fn key(&self) -> Option<(KernelId, Node, usize)> {
+        match *self {
+            Scope::Top => None,
+            Scope::Sample {
+                var, arg, depth, ..
+            } => Some((var, arg, depth)),
+        }
+    }
+}
+
+/// The memo's key: a form or a kernel, under a binding.
+type MemoKey<T> = (T, Option<(KernelId, Node, usize)>);
 
 /// Compiles forms of one store into one [`TapeBuilder`].
 pub struct Compiler<'s> {
@@ -90,38 +109,54 @@ pub struct Compiler<'s> {
     inputs: FxHashMap<String, usize>,
     constants: FxHashMap<String, f64>,
     samples: FxHashMap<Rc<str>, FunctionSample>,
-    derivatives: FxHashMap<(Rc<str>, u32), Rc<Derivative>>,
-    memo: FxHashMap<Form, Node>,
+    derivatives: FxHashMap<(Rc<str>, u32), (KernelId, Form)>,
+    memo: FxHashMap<MemoKey<Form>, Node>,
+    kernels: FxHashMap<MemoKey<KernelId>, Node>,
+    exponents: FxHashMap<Form, ExpSplit>,
 }
 
-/// A sample's derivative: the name of its variable and the expression.
-type Derivative = (String, Expr);
+/// Terms of one kernel monomial and one exponential pair: `pows * e^re * (a e^(i im) + b
+/// e^(-i im))`, or `pows * e^whole * a`.
+struct Group {
+    pows: Vec<(KernelId, i32)>,
+    exp: GroupExp,
+    a: Coeff,
+    b: Coeff,
+}
 
-/// The exact value of a constant exponent written with numbers and `+ - * /`.
-pub(crate) fn rational_of(e: &Expr) -> Option<Q> {
-    match &e.kind {
-        ExprKind::Num(q) => Some(q.clone()),
-        ExprKind::Neg(a) => Some(-rational_of(a)?),
-        ExprKind::Binary(op, a, b) => {
-            let (x, y) = (rational_of(a)?, rational_of(b)?);
-            match op {
-                BinOp::Add => Some(x + y),
-                BinOp::Sub => Some(x - y),
-                BinOp::Mul => Some(x * y),
-                BinOp::Div => (!y.is_zero()).then(|| x / y),
-                BinOp::Pow => None,
-            }
-        }
-        _ => None,
+#[derive(Clone, Copy, PartialEq, Eq, Hash)]
+enum GroupExp {
+    None,
+    /// `e^(re ± i im)`; no `im` when the exponent is real.
+    Parts {
+        re: Form,
+        im: Option<Form>,
+    },
+    Whole(Form),
+}
+
+impl Group {
+    /// The coefficients of `cos(im)` and `sin(im)`: `a + b` and `i (a - b)`.
+    fn cos_sin(&self) -> (Coeff, Coeff) {
+        (self.a.add(&self.b), self.a.sub(&self.b).mul(&Coeff::i()))
     }
-}
 
-fn cut(text: &str) -> String {
-    if text.chars().count() > 200 {
-        let c: String = text.chars().take(200).collect();
-        format!("{c}...")
-    } else {
-        text.to_string()
+    /// The first nonzero coefficient as the group is written out (`a`, or the coefficient of
+    /// cos, else of sin).
+    fn first_value(&self) -> Option<Coeff> {
+        let v = match self.exp {
+            GroupExp::Parts { im: Some(_), .. } => {
+                let (c, s) = self.cos_sin();
+                if c.is_zero() { s } else { c }
+            }
+            _ => self.a.clone(),
+        };
+        (!v.is_zero()).then_some(v)
+    }
+
+    fn scale(&mut self, c: &Coeff) {
+        self.a = self.a.mul(c);
+        self.b = self.b.mul(c);
     }
 }
 
@@ -147,6 +182,8 @@ impl<'s> Compiler<'s> {
             samples: samples.clone(),
             derivatives: FxHashMap::default(),
             memo: FxHashMap::default(),
+            kernels: FxHashMap::default(),
+            exponents: FxHashMap::default(),
         }
     }
 
@@ -157,27 +194,218 @@ impl<'s> Compiler<'s> {
     /// A symbol without a value, a function without a sample, or a sample that cannot be
     /// differentiated within the store's limits.
     pub fn form(&mut self, f: Form) -> Result<Node, TapeError> {
-        if let Some(&n) = self.memo.get(&f) {
+        self.form_in(f, Scope::Top)
+    }
+
+    fn form_in(&mut self, f: Form, scope: Scope<'_>) -> Result<Node, TapeError> {
+        let key = (f, scope.key());
+        if let Some(&n) = self.memo.get(&key) {
             return Ok(n);
         }
-        let e = self.reread(f)?;
-        let n = self.expr(&e, &Scope::Top)?;
-        self.memo.insert(f, n);
+        let view = self.store.view(f);
+        let num = view.numerator().owned_terms();
+        let den: Vec<(Vec<OwnedTerm>, u32)> = view
+            .denominator()
+            .map(|(p, e)| (p.owned_terms(), e))
+            .collect();
+        // Each denominator factor is scaled so that its first regrouped coefficient is one,
+        // the unit moving into the numerator (as the printer does): a real quotient whose
+        // factors were normalised with a complex unit then has real constants throughout.
+        let mut scale = Coeff::one();
+        let mut factors = Vec::with_capacity(den.len());
+        for (p, e) in &den {
+            let mut g = self.groups(p);
+            if let Some(u) = g.iter().find_map(|g| g.first_value())
+                && let Some(inv) = u.inv()
+            {
+                for x in &mut g {
+                    x.scale(&inv);
+                }
+                for _ in 0..*e {
+                    scale = scale.mul(&inv);
+                }
+            }
+            factors.push((g, *e));
+        }
+        let mut g = self.groups(&num);
+        for x in &mut g {
+            x.scale(&scale);
+        }
+        let mut n = self.sum(&g, scope)?;
+        if !factors.is_empty() {
+            let mut d = self.builder.real(1.0);
+            for (g, e) in &factors {
+                let x = self.sum(g, scope)?;
+                let x = self.power(x, i64::from(*e))?;
+                d = self.builder.mul(d, x);
+            }
+            n = self.builder.div(n, d);
+        }
+        self.memo.insert(key, n);
         Ok(n)
     }
 
-    fn reread(&mut self, f: Form) -> Result<Expr, TapeError> {
-        let text = self.store.to_text(f);
-        crate::parse::parse(&text).map_err(|e| TapeError::Reread {
-            text: cut(&text),
-            why: e.to_string(),
-        })
+    /// The split of an exponent (cached: the split builds forms).
+    fn exponent(&mut self, e: Form) -> ExpSplit {
+        if let Some(&s) = self.exponents.get(&e) {
+            return s;
+        }
+        let s = self.store.exponent_parts(e);
+        self.exponents.insert(e, s);
+        s
     }
 
-    fn name(&mut self, n: &str, scope: &Scope<'_>) -> Result<Node, TapeError> {
-        if n == "pi" {
-            return Ok(self.builder.real(std::f64::consts::PI));
+    /// The terms of a polynomial, with the exponentials of each kernel monomial paired.
+    fn groups(&mut self, terms: &[OwnedTerm]) -> Vec<Group> {
+        let mut groups: Vec<Group> = Vec::new();
+        let mut index: FxHashMap<(Vec<(KernelId, i32)>, GroupExp), usize> = FxHashMap::default();
+        for t in terms {
+            let (exp, conjugate) = match t.exp {
+                None => (GroupExp::None, false),
+                Some(e) => match self.exponent(e) {
+                    ExpSplit::Whole(w) => (GroupExp::Whole(w), false),
+                    ExpSplit::Parts { re, im, conjugate } => {
+                        let im = (!self.store.is_zero(im)).then_some(im);
+                        (GroupExp::Parts { re, im }, conjugate)
+                    }
+                },
+            };
+            let slot = *index.entry((t.powers.clone(), exp)).or_insert_with(|| {
+                groups.push(Group {
+                    pows: t.powers.clone(),
+                    exp,
+                    a: Coeff::zero(),
+                    b: Coeff::zero(),
+                });
+                groups.len() - 1
+            });
+            let g = &mut groups[slot];
+            if conjugate {
+                g.b = g.b.add(&t.coeff);
+            } else {
+                g.a = g.a.add(&t.coeff);
+            }
         }
+        groups
+    }
+
+    /// The sum of the groups.
+    fn sum(&mut self, groups: &[Group], scope: Scope<'_>) -> Result<Node, TapeError> {
+        let mut sum = self.builder.real(0.0);
+        for g in groups {
+            let t = self.group(g, scope)?;
+            sum = self.builder.add(sum, t);
+        }
+        Ok(sum)
+    }
+
+    fn group(&mut self, g: &Group, scope: Scope<'_>) -> Result<Node, TapeError> {
+        // Kernel powers: positive ones over negative ones.
+        let mut up = self.builder.real(1.0);
+        let mut down = self.builder.real(1.0);
+        for &(k, e) in &g.pows {
+            let x = self.kernel(k, scope)?;
+            let p = self.power(x, i64::from(e.unsigned_abs()))?;
+            if e > 0 {
+                up = self.builder.mul(up, p);
+            } else {
+                down = self.builder.mul(down, p);
+            }
+        }
+        let mut m = self.builder.div(up, down);
+        let value = match g.exp {
+            GroupExp::None => self.coeff(&g.a)?,
+            GroupExp::Whole(w) => {
+                let x = self.form_in(w, scope)?;
+                let x = self.builder.exp(x);
+                let c = self.coeff(&g.a)?;
+                self.builder.mul(c, x)
+            }
+            GroupExp::Parts { re, im } => {
+                if !self.store.is_zero(re) {
+                    let x = self.form_in(re, scope)?;
+                    let x = self.builder.exp(x);
+                    m = self.builder.mul(m, x);
+                }
+                match im {
+                    None => self.coeff(&g.a)?,
+                    Some(im) => {
+                        // a e^(iQ) + b e^(-iQ) = (a + b) cos Q + i (a - b) sin Q.
+                        let q = self.form_in(im, scope)?;
+                        let (cc, sc) = g.cos_sin();
+                        let cc = self.coeff(&cc)?;
+                        let sc = self.coeff(&sc)?;
+                        let mut v = self.builder.real(0.0);
+                        if !self.builder.is_zero(cc) {
+                            let c = self.builder.cos(q);
+                            v = self.builder.mul(cc, c);
+                        }
+                        if !self.builder.is_zero(sc) {
+                            let s = self.builder.sin(q);
+                            let s = self.builder.mul(sc, s);
+                            v = self.builder.add(v, s);
+                        }
+                        v
+                    }
+                }
+            }
+        };
+        Ok(self.builder.mul(value, m))
+    }
+
+    /// An exact coefficient, rounded to a complex double.
+    fn coeff(&mut self, c: &Coeff) -> Result<Node, TapeError> {
+        let (mut re, mut im) = (0.0, 0.0);
+        for (basis, q) in c.components() {
+            let v = q
+                .to_f64()
+                .filter(|v| v.is_finite())
+                .ok_or_else(|| TapeError::Unsupported(q.to_string()))?;
+            let v = match basis.radicand() {
+                1 => v,
+                m => v * f64::from(m).sqrt(),
+            };
+            if basis.is_imaginary() {
+                im += v;
+            } else {
+                re += v;
+            }
+        }
+        Ok(self.builder.constant(C64::new(re, im)))
+    }
+
+    /// `x^n` for an exponent of a canonical form.
+    fn power(&mut self, x: Node, n: i64) -> Result<Node, TapeError> {
+        let n = i32::try_from(n).map_err(|_| TapeError::Power(n.to_string()))?;
+        Ok(self.builder.powi(x, n))
+    }
+
+    fn kernel(&mut self, k: KernelId, scope: Scope<'_>) -> Result<Node, TapeError> {
+        let key = (k, scope.key());
+        if let Some(&n) = self.kernels.get(&key) {
+            return Ok(n);
+        }
+        let n = match self.store.kernel(k).clone() {
+            Kernel::Sym(name) => self.symbol(k, &name, scope)?,
+            Kernel::Pi => self.builder.real(std::f64::consts::PI),
+            Kernel::Root { radicand, q } => {
+                let x = self.form_in(radicand, scope)?;
+                self.builder.root(x, q)
+            }
+            Kernel::Log(a) => {
+                let x = self.form_in(a, scope)?;
+                self.builder.log(x)
+            }
+            Kernel::Func { name, order, arg } => {
+                let a = self.form_in(arg, scope)?;
+                self.call(&name, order, a, scope)?
+            }
+        };
+        self.kernels.insert(key, n);
+        Ok(n)
+    }
+
+    fn symbol(&mut self, k: KernelId, n: &str, scope: Scope<'_>) -> Result<Node, TapeError> {
         let unbound = match scope {
             Scope::Top => {
                 if let Some(&i) = self.inputs.get(n) {
@@ -186,8 +414,8 @@ impl<'s> Compiler<'s> {
                 TapeError::Unbound(n.to_string())
             }
             Scope::Sample { func, var, arg, .. } => {
-                if n == *var {
-                    return Ok(*arg);
+                if k == var {
+                    return Ok(arg);
                 }
                 TapeError::UnboundInSample {
                     func: func.to_string(),
@@ -197,103 +425,8 @@ impl<'s> Compiler<'s> {
         };
         match self.constants.get(n) {
             Some(&v) => Ok(self.builder.real(v)),
-            None if n == "i" => Ok(self.builder.constant(C64::new(0.0, 1.0))),
             None => Err(unbound),
         }
-    }
-
-    fn expr(&mut self, e: &Expr, scope: &Scope<'_>) -> Result<Node, TapeError> {
-        Ok(match &e.kind {
-            ExprKind::Num(q) => {
-                let v = q
-                    .to_f64()
-                    .ok_or_else(|| TapeError::Unsupported(q.to_string()))?;
-                self.builder.real(v)
-            }
-            ExprKind::Ident(n) => self.name(n, scope)?,
-            ExprKind::Neg(a) => {
-                let a = self.expr(a, scope)?;
-                self.builder.neg(a)
-            }
-            ExprKind::Binary(BinOp::Pow, base, exp) => {
-                let x = self.expr(base, scope)?;
-                match rational_of(exp) {
-                    Some(q) => self.rational_power(x, &q)?,
-                    None => {
-                        // A symbolic exponent: a^b = exp(b log a), as the canonical form has it.
-                        let y = self.expr(exp, scope)?;
-                        let l = self.builder.log(x);
-                        let p = self.builder.mul(y, l);
-                        self.builder.exp(p)
-                    }
-                }
-            }
-            ExprKind::Binary(op, l, r) => {
-                let x = self.expr(l, scope)?;
-                let y = self.expr(r, scope)?;
-                let bl = &mut self.builder;
-                match op {
-                    BinOp::Add => bl.add(x, y),
-                    BinOp::Sub => bl.sub(x, y),
-                    BinOp::Mul => bl.mul(x, y),
-                    BinOp::Div => bl.div(x, y),
-                    BinOp::Pow => unreachable!("handled above"),
-                }
-            }
-            ExprKind::Call {
-                name, primes, arg, ..
-            } => {
-                let a = self.expr(arg, scope)?;
-                if *primes == 0
-                    && let Some(n) = self.builtin(name, a)
-                {
-                    return Ok(n);
-                }
-                self.call(name, *primes, a, scope)?
-            }
-            ExprKind::Deriv { .. } => return Err(TapeError::Unsupported(cut(&e.to_string()))),
-        })
-    }
-
-    fn builtin(&mut self, name: &str, a: Node) -> Option<Node> {
-        let b = &mut self.builder;
-        let half = |b: &mut TapeBuilder, x: Node| {
-            let h = b.real(0.5);
-            b.mul(h, x)
-        };
-        Some(match name {
-            "sin" => b.sin(a),
-            "cos" => b.cos(a),
-            "tan" => {
-                let (s, c) = (b.sin(a), b.cos(a));
-                b.div(s, c)
-            }
-            "exp" => b.exp(a),
-            "log" => b.log(a),
-            "sqrt" => b.root(a, 2),
-            "sinh" | "cosh" | "tanh" => {
-                let p = b.exp(a);
-                let na = b.neg(a);
-                let m = b.exp(na);
-                let s = b.sub(p, m);
-                let c = b.add(p, m);
-                match name {
-                    "sinh" => half(b, s),
-                    "cosh" => half(b, c),
-                    _ => b.div(s, c),
-                }
-            }
-            _ => return None,
-        })
-    }
-
-    /// `x^q` with the principal branch: `x^(p/q) = (x^(1/q))^p`.
-    fn rational_power(&mut self, x: Node, q: &Q) -> Result<Node, TapeError> {
-        let too_big = || TapeError::Power(q.to_string());
-        let num = q.numer().to_i32().ok_or_else(too_big)?;
-        let den = q.denom().to_u32().ok_or_else(too_big)?;
-        let r = self.builder.root(x, den);
-        Ok(self.builder.powi(r, num))
     }
 
     /// `F^(order)(arg)`.
@@ -302,41 +435,39 @@ impl<'s> Compiler<'s> {
         name: &str,
         order: u32,
         arg: Node,
-        scope: &Scope<'_>,
+        scope: Scope<'_>,
     ) -> Result<Node, TapeError> {
         let depth = match scope {
             Scope::Top => 0,
-            Scope::Sample { depth, .. } => *depth + 1,
+            Scope::Sample { depth, .. } => depth + 1,
         };
         if depth >= MAX_DEPTH {
             return Err(TapeError::TooDeep(MAX_DEPTH));
         }
-        let d = self.derivative(name, order)?;
+        let (var, form) = self.derivative(name, order)?;
         let inner = Scope::Sample {
             func: name,
-            var: &d.0,
+            var,
             arg,
             depth,
         };
-        self.expr(&d.1, &inner)
+        self.form_in(form, inner)
     }
 
-    /// The `order`-th derivative of `name`'s sample, read back as an expression, with the
-    /// name of the sample's variable.
-    fn derivative(&mut self, name: &str, order: u32) -> Result<Rc<Derivative>, TapeError> {
+    /// The `order`-th derivative of `name`'s sample, with the sample's variable.
+    fn derivative(&mut self, name: &str, order: u32) -> Result<(KernelId, Form), TapeError> {
         let key: (Rc<str>, u32) = (Rc::from(name), order);
-        if let Some(d) = self.derivatives.get(&key) {
-            return Ok(d.clone());
+        if let Some(&d) = self.derivatives.get(&key) {
+            return Ok(d);
         }
         let sample = self
             .samples
             .get(name)
             .cloned()
             .ok_or_else(|| TapeError::NoSample(name.to_string()))?;
-        let var = match self.store.kernel(sample.var) {
-            Kernel::Sym(s) => s.to_string(),
-            _ => return Err(TapeError::NoSample(name.to_string())),
-        };
+        if !matches!(self.store.kernel(sample.var), Kernel::Sym(_)) {
+            return Err(TapeError::NoSample(name.to_string()));
+        }
         let mut form = sample.form;
         for _ in 0..order {
             form = self
@@ -347,9 +478,7 @@ impl<'s> Compiler<'s> {
                     why: e.to_string(),
                 })?;
         }
-        let e = self.reread(form)?;
-        let d = Rc::new((var, e));
-        self.derivatives.insert(key, d.clone());
-        Ok(d)
+        self.derivatives.insert(key, (sample.var, form));
+        Ok((sample.var, form))
     }
 }

@@ -17,7 +17,6 @@
 //! trees only; recursion depth is bounded by the parser's nesting cap and by
 //! [`MAX_SAMPLE_DEPTH`] for samples that call other functions.
 
-use super::compile::rational_of;
 use super::{C64, Node, TapeBuilder, TapeError};
 use crate::expr::{BinOp, Expr, ExprKind};
 use num_rational::BigRational;
@@ -218,6 +217,25 @@ pub struct Lowering<T: Target = TapeTarget> {
     diff_memo: FxHashMap<(u32, u32), u32>,
     zero: u32,
     one: u32,
+}
+
+/// The exact value of a constant exponent written with numbers and `+ - * /`.
+fn rational_of(e: &Expr) -> Option<BigRational> {
+    match &e.kind {
+        ExprKind::Num(q) => Some(q.clone()),
+        ExprKind::Neg(a) => Some(-rational_of(a)?),
+        ExprKind::Binary(op, a, b) => {
+            let (x, y) = (rational_of(a)?, rational_of(b)?);
+            match op {
+                BinOp::Add => Some(x + y),
+                BinOp::Sub => Some(x - y),
+                BinOp::Mul => Some(x * y),
+                BinOp::Div => (!y.is_zero()).then(|| x / y),
+                BinOp::Pow => None,
+            }
+        }
+        _ => None,
+    }
 }
 
 fn parse(text: &str, what: &str) -> Result<Expr, TapeError> {

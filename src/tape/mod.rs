@@ -9,9 +9,10 @@
 //! `x * 1`, `-(-x)` and the like simplify as they are built. [`TapeBuilder::finish`] keeps
 //! what the requested outputs need, in dependency order, as a [`Tape`].
 //!
-//! `compile` turns canonical forms into nodes: it reads a form through its exact printing
-//! tree ([`crate::canon::Store::pretty`]), in which `exp(i a)` pairs are already regrouped as
-//! `sin a` and `cos a`, so a real expression usually compiles to a tape with real constants.
+//! `compile` turns canonical forms into nodes: it reads a form through its structural view
+//! ([`crate::canon::Store::view`]; nothing is printed or parsed) and regroups `exp(i a)` pairs
+//! as `sin a` and `cos a` as the printer does, so a real expression usually compiles to a tape
+//! with real constants.
 //!
 //! Evaluation, three ways:
 //! - [`Batch`]: blocks of [`BATCH`] arbitrary points, one instruction at a time over a block.

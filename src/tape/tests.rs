@@ -326,3 +326,129 @@ fn sin_and_cos_of_one_argument_agree_with_pointwise_evaluation() {
         }
     }
 }
+
+/// Issue 11 (item 3): the compiler reads forms through their structure, not their printed
+/// text. At seeded random points, each compiled value (with its running error bound) must lie
+/// in the certified enclosure of `canon::eval`: roots, logs, trig (exponentials with imaginary
+/// exponents, with coefficients in Q(sqrt 2, sqrt 3, i)), arbitrary functions through their
+/// samples, denominators, values that are not real, and an exponential left unpaired.
+#[test]
+fn issue11_compiled_forms_lie_in_the_interval_enclosures() {
+    let seed = 0x7a9e_0011_u64;
+    let mut rng = SplitMix64::new(seed);
+    let mut s = setup();
+    // (text, real: the tape's constants are all real)
+    let cases = [
+        ("sqrt(x^2 + y^2 + z^2)^3/(1 + x^2)^2", true),
+        ("(x^4 + 1)^(1/3) - log(1 + t^2)*x", true),
+        ("a*cos(3*(t - z)) + sin(2*(t - z) + pi/3)/7", true),
+        ("sin(x + pi/4)*sqrt(6) - cos(2*y - pi/12)", true),
+        ("exp(-x^2/2)*sinh(y) + exp(cos(t))", true),
+        ("cos(sin(x) + y)/(2 + sin(z))", true),
+        ("F''(t - z)*F(x/(1 + y^2)) + F'(sin(x))", true),
+        ("tan(x)/(3 + x^2) - tanh(a*y)", true),
+        ("x^-2 + y/(x^2 + 1/4)", true),
+        ("log(-1 - x^2) + sqrt(-2 - y^2)", true),
+        ("exp(x/(1 + y^2)) + exp(sqrt(1 + t^2))", true),
+    ];
+    let mut forms: Vec<(String, crate::canon::Form, bool)> = cases
+        .iter()
+        .map(|&(t, r)| (t.to_string(), build(&mut s.store, t), r))
+        .collect();
+    // Built directly: i*x + x*exp(i*y) (an exponential without its conjugate) and
+    // exp((1 + i)*t)/(2 - i*z) (a complex denominator).
+    {
+        let st = &mut s.store;
+        let (x, y, t, z) = (
+            st.symbol("x"),
+            st.symbol("y"),
+            st.symbol("t"),
+            st.symbol("z"),
+        );
+        let i = crate::canon::Coeff::i();
+        let ix = st.scale(x, &i).unwrap();
+        let iy = st.scale(y, &i).unwrap();
+        let e = st.exp(iy).unwrap();
+        let xe = st.mul(x, e).unwrap();
+        let f = st.add(ix, xe).unwrap();
+        forms.push(("i*x + x*exp(i*y)".into(), f, false));
+        let it = st.scale(t, &i).unwrap();
+        let p = st.add(t, it).unwrap();
+        let num = st.exp(p).unwrap();
+        let iz = st.scale(z, &i).unwrap();
+        let two = st.int(2);
+        let den = st.sub(two, iz).unwrap();
+        let g = st.div(num, den).unwrap();
+        forms.push(("exp((1 + i)*t)/(2 - i*z)".into(), g, false));
+    }
+    for (text, f, real) in &forms {
+        let samples = s.samples.clone();
+        let consts = s.constants.clone();
+        let mut c = Compiler::new(&mut s.store, &COORDS, &consts, &samples);
+        let node = c
+            .form(*f)
+            .unwrap_or_else(|e| panic!("seed {seed:#x} `{text}`: {e}"));
+        let tape = c.builder.finish(&[node]);
+        assert_eq!(tape.is_real(), *real, "`{text}`");
+        let mut checked = 0;
+        for _ in 0..12 {
+            let x: [f64; 4] = std::array::from_fn(|_| rng.next_f64() * 3.0 - 1.5);
+            let mut pt = Point::default();
+            for (i, name) in COORDS.iter().enumerate() {
+                let k = s.store.symbol_kernel(name);
+                pt.values
+                    .insert(k, CInterval::from_real(Interval::point(x[i]).unwrap()));
+            }
+            let k = s.store.symbol_kernel("a");
+            pt.values
+                .insert(k, CInterval::from_real(Interval::point(0.7).unwrap()));
+            pt.samples = s.samples.clone();
+            let Some(want) = s.store.eval_interval(*f, &pt) else {
+                continue;
+            };
+            let (z, err) = tape.eval_bounds(&x)[0];
+            let scale = 1.0 + want.re.mid().abs() + want.im.mid().abs();
+            let slack = err + 1e-12 * scale;
+            let inside = |v: f64, iv: Interval| iv.lo() - slack <= v && v <= iv.hi() + slack;
+            assert!(
+                inside(z.re, want.re) && inside(z.im, want.im),
+                "seed {seed:#x} `{text}` at {x:?}: tape {z:?} (error bound {err}), enclosure \
+                 {want:?}"
+            );
+            let p = tape.eval_point(&x)[0];
+            assert!(
+                close(p.re, z.re, scale) && close(p.im, z.im, scale),
+                "`{text}` at {x:?}: {p:?} vs {z:?}"
+            );
+            checked += 1;
+        }
+        assert!(checked >= 6, "`{text}`: only {checked} points evaluated");
+    }
+}
+
+/// Issue 11: a real expression keeps the real fast path: sin and cos of one argument, a
+/// damped wave and a function sample compile to a tape without complex constants, and the
+/// pair `e^(ia)`, `e^(-ia)` becomes one sin and one cos of one shared argument node.
+#[test]
+fn issue11_real_forms_compile_to_real_tapes_with_shared_trig_arguments() {
+    let mut s = setup();
+    let f = build(&mut s.store, "a*cos(2*(t - z)) + sin(2*(t - z))*exp(-x)");
+    let samples = s.samples.clone();
+    let consts = s.constants.clone();
+    let mut c = Compiler::new(&mut s.store, &COORDS, &consts, &samples);
+    let n = c.form(f).unwrap();
+    let tape = c.builder.finish(&[n]);
+    assert!(tape.is_real());
+    let ops = &tape.ops;
+    let sins: Vec<u32> = ops
+        .iter()
+        .filter_map(|o| if let Op::Sin(a) = o { Some(*a) } else { None })
+        .collect();
+    let coss: Vec<u32> = ops
+        .iter()
+        .filter_map(|o| if let Op::Cos(a) = o { Some(*a) } else { None })
+        .collect();
+    assert_eq!((sins.len(), coss.len()), (1, 1), "{ops:?}");
+    assert_eq!(sins, coss);
+    assert!(!ops.iter().any(|o| matches!(o, Op::Exp(a) if *a == sins[0])));
+}

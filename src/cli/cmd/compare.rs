@@ -2,8 +2,8 @@
 //! independent components of R[A] - R[B] decided exactly and audited from both files' texts.
 
 use crate::cli::audit::{point_lines, points_json};
-use crate::cli::limits::{LimitArgs, flat_only, load_with, timeout_if_past};
-use crate::cli::out::{Failure, Outcome, gave_up, limit_or, print};
+use crate::cli::limits::{LimitArgs, flat_only, load_into, load_with};
+use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::report::{Format, heading, json};
 use clap::Args;
 use lingrav::audit::expr::{Finding, summary};
@@ -38,20 +38,13 @@ pub struct CompareArgs {
 pub fn run(a: CompareArgs) -> Result<Outcome, Failure> {
     let limits = a.limits.start();
     let mut pa = load_with(&a.first, limits)?;
-    let mut pb = load_with(&a.second, limits)?;
+    // The second file is built once, straight into the first file's store.
+    let mut pb = load_into(&a.second, &mut pa.store)?;
     flat_only(&pa, "compare")?;
     flat_only(&pb, "compare")?;
     let imported = {
         let sampling = pa.sampling.clone();
-        import(&mut pa.store, &sampling, &pa.parameters, &pa.functions, &pb).map_err(|why| {
-            limit_or(&why, || match timeout_if_past(&pa.store.limits) {
-                Some(l) => gave_up(&l),
-                None => Failure::Input(miette::miette!(
-                    "cannot read `{}` into the comparison: {why}",
-                    a.second.display()
-                )),
-            })
-        })?
+        import(&mut pa.store, &sampling, &pa.parameters, &pa.functions, &pb)
     };
     let ha = pa.h;
     let mut cmp: Comparison = compare(&mut pa.store, &ha, &imported.h, &imported.sampling)?;

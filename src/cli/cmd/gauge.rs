@@ -142,7 +142,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
     let (xi, verify_tt) = match xi_given {
         Some(xi) => (xi, false),
         None => {
-            let wave = match find_wave(&mut p.store, &names, &sampling, &h, k_given) {
+            let wave = match find_wave(&mut p.store, &sampling, &h, k_given) {
                 Ok(w) => w,
                 Err(e) => return plane_failure(e, a.format, j),
             };
@@ -244,7 +244,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
             j["input_lorenz"] =
                 serde_json::json!({ "status": "holds", "audit": summary(&refs, seed) });
             audits.extend(findings);
-            match tt_gauge_vector(&mut p.store, &names, &wave, &h) {
+            match tt_gauge_vector(&mut p.store, &wave, &h) {
                 Ok(xi) => (xi, true),
                 Err(e) => return plane_failure(e, a.format, j),
             }
