@@ -744,6 +744,67 @@ fn pointwise_schwarzschild_pure_gauge_2c() {
 }
 
 #[test]
+fn pointwise_schwarzschild_static_odd_parity_and_families() {
+    // checks-backgrounds.md §2d: static odd-parity l = 2, h_tφ = -3 h0(r) sin²θ cos θ;
+    // [CALC] both solutions E ≡ 0 and L ≡ 0.
+    let odd = |h0: &str| {
+        schwarzschild()
+            .define("h0", h0)
+            .h(&[("t ph", "-3*h0*sin(th)^2*cos(th)")])
+    };
+    for (name, h0, want) in [
+        ("growing", "r^2*(r - 2*M)", -5.44620618150),
+        (
+            "decaying",
+            "5*(3*r^3*(r - 2*M)*log(1 - 2*M/r) + 2*M*(3*r^3 - 3*M*r^2 - 2*M^2*r - 2*M^3))/(24*M^5*r)",
+            -0.126590869221,
+        ),
+    ] {
+        let case = odd(h0);
+        let (f, v) = case.eval();
+        near(f.h.at(0, 3), want, &format!("h_tφ [2d {name}]"));
+        all_zero(&v.field, &format!("E[2d {name}]"));
+        covector(&case, &v.lorenz, &[], &format!("L[2d {name}]"));
+    }
+
+    // §5.2.3: Taub-NUT, h = d_n g at n = 0: h_tφ = -2(1 - 2M/r) cos θ; E ≡ 0, L ≡ 0.
+    let nut = schwarzschild().h(&[("t ph", "-2*(1 - 2*M/r)*cos(th)")]);
+    let (_, v) = nut.eval();
+    all_zero(&v.field, "E[NUT]");
+    covector(&nut, &v.lorenz, &[], "L[NUT]");
+
+    // §5.2.4: boosted Schwarzschild, d_v at v = 0: pure gauge with the flat boost generator
+    // xi = r cos θ d_t + t cos θ d_r - (t sin θ/r) d_θ (index up; lowered here with gbar).
+    let mut boost = schwarzschild().h(&[
+        ("t t", "-2*M*t*cos(th)/r^2"),
+        ("t r", "4*M*(r - M)*cos(th)/(r*(r - 2*M))"),
+        ("t th", "-2*M*sin(th)"),
+        ("r r", "-2*M*t*cos(th)/(r - 2*M)^2"),
+        ("r th", "-2*M*t*sin(th)/(r - 2*M)"),
+    ]);
+    boost.xi = Some(texts(&[
+        ("t", "-f*r*cos(th)"),
+        ("r", "t*cos(th)/f"),
+        ("th", "-r*t*sin(th)"),
+    ]));
+    let (f, v) = boost.eval();
+    near(f.h.at(0, 0), -0.682564214804, "h_tt [boost]");
+    near(f.h.at(0, 1), 2.34022016504, "h_tr [boost]");
+    all_zero(&v.field, "E[boost]");
+    all_zero(v.gauge.as_ref().unwrap(), "h - L_xi gbar [boost]");
+    covector(
+        &boost,
+        &v.lorenz,
+        &[
+            ("t", 0.585055041260),
+            ("r", -1.36512842961),
+            ("th", -0.372886530025),
+        ],
+        "L[boost]",
+    );
+}
+
+#[test]
 fn pointwise_kottler_with_lambda() {
     // checks-backgrounds.md §3a: Kottler (Schwarzschild-de Sitter), Λ = 1/30, M = 1 at P.
     let correct = kottler()
