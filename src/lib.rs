@@ -58,6 +58,7 @@ pub mod interval;
 pub mod jet;
 pub mod output;
 pub mod parse;
+pub mod pointwise;
 pub mod problem;
 pub mod tape;
 pub mod tensor;

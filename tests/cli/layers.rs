@@ -9,7 +9,7 @@ use std::path::Path;
 const LAYERS: &[&[&str]] = &[
     &["expr", "interval", "budget", "output"],
     &["parse", "jet", "canon"],
-    &["zero", "tensor", "tape"],
+    &["zero", "tensor", "tape", "pointwise"],
     &["claim"],
     &["problem"],
     &["grid", "adm"],
