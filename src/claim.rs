@@ -534,6 +534,84 @@ impl Plan {
     }
 }
 
+/// How pure gauge can be decided about a background.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum PureGaugeRoute {
+    /// The background's Riemann tensor is proved zero: the linearized Riemann tensor decides.
+    Riemann,
+    /// By the file's gauge vector (proves, never refutes).
+    Vector,
+    /// Neither: undecided.
+    None,
+}
+
+/// What the plan of a problem about a background depends on.
+#[derive(Clone, Copy, Debug)]
+pub struct Setting<'a> {
+    /// The file's \[claims\].
+    pub claims: Option<&'a Claims>,
+    /// The perturbation has a source dT.
+    pub sourced: bool,
+    /// The background has a source Tbar.
+    pub background_sourced: bool,
+    /// Lambda is not zero.
+    pub lambda: bool,
+    /// How pure gauge is decided.
+    pub pure: PureGaugeRoute,
+}
+
+impl Plan {
+    /// The claims of a problem about a background, in report order: the background's own
+    /// equations (always asserted), source conservation, field equations, gauges, pure gauge.
+    #[must_use]
+    pub fn curved(s: Setting<'_>) -> Plan {
+        let (claims, lambda, sourced, pure) = (s.claims, s.lambda, s.sourced, s.pure);
+        let has_claims = claims.is_some();
+        let mut out = vec![Claim {
+            kind: Kind::BackgroundEquations {
+                lambda,
+                sourced: s.background_sourced,
+            },
+            asserted: Some(true),
+        }];
+        if sourced || s.background_sourced {
+            out.push(Claim {
+                kind: Kind::SourceConservation,
+                asserted: claims.and_then(|c| c.field_equations.filter(|b| *b)),
+            });
+        }
+        let (fe, gauges, pg) = match claims {
+            Some(c) => (c.field_equations, c.gauge.clone(), c.pure_gauge),
+            None => (None, Gauge::ALL.to_vec(), None),
+        };
+        if fe.is_some() || !has_claims {
+            out.push(Claim {
+                kind: Kind::CurvedFieldEquations { lambda, sourced },
+                asserted: fe,
+            });
+        }
+        for g in gauges {
+            out.push(Claim {
+                kind: Kind::CovariantGauge(g),
+                asserted: has_claims.then_some(true),
+            });
+        }
+        if pg.is_some() || !has_claims {
+            out.push(Claim {
+                kind: match pure {
+                    PureGaugeRoute::Vector => Kind::GaugeVector,
+                    PureGaugeRoute::Riemann | PureGaugeRoute::None => Kind::PureGauge,
+                },
+                asserted: pg,
+            });
+        }
+        Plan {
+            claims: out,
+            has_claims,
+        }
+    }
+}
+
 /// The one rule from claim outcomes to a file's overall outcome, for any route's statuses:
 /// `fails` if the file has claims and an asserted one fails; else the first status of
 /// `pending` (most severe first) that any counted claim has; else `holds`. Counted are the

@@ -21,14 +21,16 @@
 
 pub mod expr;
 
+use crate::claim::{Kind, Part, Plan, PureGaugeRoute, Setting};
 use crate::expr::Expr;
 use crate::grid::claims::{Atom, Deriv, Field, claim_specs};
 use crate::interval::Interval;
 use crate::jet::eval::{called_functions, free_names};
 use crate::jet::{EvalError, Jet, Program, Scalar, Scope};
 use crate::parse::{ParseError, parse};
+use crate::pointwise;
 use crate::problem::Problem;
-use crate::tensor::{COORDS, component_name};
+use crate::tensor::{Frame, component_name};
 use rustc_hash::FxHashMap;
 
 /// Why an audit cannot be set up or run.
@@ -74,8 +76,17 @@ pub struct AuditClaim {
     pub key: String,
     /// What the file asserts: `Some(true)` vanishing, `Some(false)` not, `None` report only.
     pub asserted: Option<bool>,
-    /// Each component's name and its terms: the coefficient and the atom.
-    components: Vec<(String, Vec<(Coef, Atom)>)>,
+    /// Each component's name and how it is computed.
+    components: Vec<(String, Formula)>,
+}
+
+/// How the audit computes a component.
+#[derive(Clone, Debug)]
+enum Formula {
+    /// Flat problems: a combination of derivatives of h and T (coefficient, atom).
+    Combo(Vec<(Coef, Atom)>),
+    /// About a background: a part of [`crate::pointwise::Quantities`].
+    Curved(Part),
 }
 
 impl AuditClaim {
@@ -116,7 +127,25 @@ pub struct Audit {
     extras: Vec<usize>,
     parameters: Vec<(String, f64)>,
     claims: Vec<AuditClaim>,
+    /// The coordinate names, time first.
+    coords: [String; 4],
+    /// The background's roots, for a problem about one.
+    background: Option<BackgroundRoots>,
+    /// Ranges of coordinates (a problem's \[domain\]).
+    domain: [Option<(f64, f64)>; 4],
 }
+
+/// Root indices of a background's texts.
+#[derive(Clone, Debug)]
+struct BackgroundRoots {
+    g: [[Option<usize>; 4]; 4],
+    tbar: Option<[[Option<usize>; 4]; 4]>,
+    lambda: Option<usize>,
+    xi: Option<[Option<usize>; 4]>,
+}
+
+/// Jets to this order in the background metric (curvature needs second derivatives).
+const G_ORDER: u32 = 2;
 
 /// Jets to this order in `h`: every claim needs at most second derivatives.
 const H_ORDER: u32 = 2;
@@ -181,13 +210,16 @@ pub(crate) fn claim_terms(
 /// The claims of the problem with enclosed coefficients, named as the exact check names
 /// them.
 fn audit_claims(problem: &Texts) -> Result<Vec<AuditClaim>, AuditError> {
+    if let Some(bg) = &problem.curved {
+        return Ok(curved_claims(problem, bg));
+    }
     let specs = claim_specs(problem.claims.as_ref(), problem.has_source);
     let mut out = Vec::new();
     for spec in specs {
         let mut components = Vec::new();
         for (name, combo) in spec.components {
             let terms = claim_terms(&name, &combo)?;
-            components.push((name, terms));
+            components.push((name, Formula::Combo(terms)));
         }
         out.push(AuditClaim {
             key: spec.key,
@@ -196,6 +228,54 @@ fn audit_claims(problem: &Texts) -> Result<Vec<AuditClaim>, AuditError> {
         });
     }
     Ok(out)
+}
+
+/// The claims about a background: every claim the exact route may report (pure gauge both by
+/// the Riemann tensor and by the file's vector, whichever the exact route can use), named in
+/// the file's coordinates.
+fn curved_claims(problem: &Texts, bg: &CurvedTexts) -> Vec<AuditClaim> {
+    let setting = |pure| Setting {
+        claims: problem.claims.as_ref(),
+        sourced: problem.has_source,
+        background_sourced: bg.tbar.is_some(),
+        lambda: bg.lambda_nonzero,
+        pure,
+    };
+    let mut claims = Plan::curved(setting(PureGaugeRoute::Riemann)).claims;
+    if bg.xi.is_some() {
+        claims.extend(
+            Plan::curved(setting(PureGaugeRoute::Vector))
+                .claims
+                .into_iter()
+                .filter(|c| c.kind == Kind::GaugeVector),
+        );
+    }
+    let frame = Frame::covariant(problem.coordinates.clone());
+    claims
+        .into_iter()
+        .map(|c| AuditClaim {
+            key: c.kind.key(),
+            asserted: c.asserted,
+            components: c
+                .kind
+                .parts()
+                .into_iter()
+                .map(|p| (p.name_in(&frame), Formula::Curved(p)))
+                .collect(),
+        })
+        .collect()
+}
+
+/// What the audit reads of a problem's background: texts, and whether Lambda is zero (which
+/// only names the components).
+#[derive(Clone, Debug)]
+pub struct CurvedTexts {
+    g: crate::problem::TensorText,
+    tbar: Option<crate::problem::TensorText>,
+    lambda: Option<String>,
+    lambda_nonzero: bool,
+    xi: Option<[Option<String>; 4]>,
+    domain: [Option<(f64, f64)>; 4],
 }
 
 /// What the audit reads of a problem: its texts, parameters and claims, owned, so that the
@@ -210,12 +290,24 @@ pub struct Texts {
     functions: Vec<(String, String)>,
     h_text: crate::problem::TensorText,
     source_text: Option<crate::problem::TensorText>,
+    coordinates: [String; 4],
+    curved: Option<CurvedTexts>,
 }
 
 impl Texts {
     /// The texts of `problem`.
     pub fn of(problem: &Problem) -> Texts {
+        let curved = problem.background.as_ref().map(|b| CurvedTexts {
+            g: b.g_text.clone(),
+            tbar: b.source_text.clone(),
+            lambda: b.lambda_text.clone(),
+            lambda_nonzero: !problem.store.is_zero(b.lambda),
+            xi: b.gauge_vector_text.clone(),
+            domain: problem.domain.unwrap_or([None; 4]),
+        });
         Texts {
+            coordinates: problem.coordinates.clone(),
+            curved,
             claims: problem.claims.clone(),
             has_source: problem.source.is_some(),
             parameters: problem.parameters.clone(),
@@ -270,7 +362,7 @@ impl Audit {
         extras: &[(String, String)],
     ) -> Result<Audit, AuditError> {
         let mut scope = Scope {
-            vars: COORDS.iter().map(|c| c.to_string()).collect(),
+            vars: problem.coordinates.to_vec(),
             parameters: problem.parameters.iter().map(|(n, _)| n.clone()).collect(),
             ..Scope::default()
         };
@@ -288,6 +380,36 @@ impl Audit {
             Some(texts) => Some(tensor_roots(texts, "T", T_ORDER, &mut roots)?),
             None => None,
         };
+        let background = match &problem.curved {
+            Some(bg) => Some(BackgroundRoots {
+                g: tensor_roots(&bg.g, "gbar", G_ORDER, &mut roots)?,
+                tbar: match &bg.tbar {
+                    Some(texts) => Some(tensor_roots(texts, "Tbar", T_ORDER, &mut roots)?),
+                    None => None,
+                },
+                lambda: match &bg.lambda {
+                    Some(text) => {
+                        roots.push((parse_text(|| "cosmological_constant".into(), text)?, 0));
+                        Some(roots.len() - 1)
+                    }
+                    None => None,
+                },
+                xi: match &bg.xi {
+                    Some(texts) => {
+                        let mut idx = [None; 4];
+                        for (mu, t) in texts.iter().enumerate() {
+                            if let Some(t) = t {
+                                roots.push((parse_text(|| format!("xi_{mu}"), t)?, 1));
+                                idx[mu] = Some(roots.len() - 1);
+                            }
+                        }
+                        Some(idx)
+                    }
+                    None => None,
+                },
+            }),
+            None => None,
+        };
         let mut extra_roots = Vec::with_capacity(extras.len());
         for (what, text) in extras {
             roots.push((parse_text(|| what.clone(), text)?, 0));
@@ -301,6 +423,9 @@ impl Audit {
             extras: extra_roots,
             parameters: problem.parameters.clone(),
             claims: Vec::new(),
+            coords: problem.coordinates.clone(),
+            background,
+            domain: problem.curved.as_ref().map_or([None; 4], |b| b.domain),
         })
     }
 
@@ -325,15 +450,17 @@ impl Audit {
         }
         for (name, v) in point {
             let name = name.as_ref();
-            if !COORDS.contains(&name) && !self.parameters.iter().any(|(p, _)| p == name) {
+            if !self.coords.iter().any(|c| c == name)
+                && !self.parameters.iter().any(|(p, _)| p == name)
+            {
                 return Err(AuditError::Unknown(name.to_string()));
             }
             let v = S::input(*v, ctx).ok_or(AuditError::Missing(name.to_string()))?;
             values.insert(name.to_string(), v);
         }
-        for c in COORDS {
+        for c in &self.coords {
             if !values.contains_key(c) {
-                return Err(AuditError::Missing(c.to_string()));
+                return Err(AuditError::Missing(c.clone()));
             }
         }
         Ok(values)
@@ -374,7 +501,20 @@ impl Audit {
                 })
             })
         };
+        let one = |i: Option<usize>| match i {
+            None => Comp::Zero,
+            Some(i) => match &jets[i] {
+                Some(j) => Comp::Jet(j.clone()),
+                None => Comp::NotHere,
+            },
+        };
         Ok(Fields {
+            background: self.background.as_ref().map(|b| BackgroundFields {
+                g: table(&b.g),
+                tbar: b.tbar.as_ref().map(table),
+                lambda: one(b.lambda),
+                xi: b.xi.map(|x| x.map(one)),
+            }),
             h: table(&self.h),
             t: self.t.as_ref().map(table),
             extras: self
@@ -412,17 +552,32 @@ impl Audit {
     ) -> Result<Vec<ComponentValue>, AuditError> {
         let fields = self.fields_in::<N, S>(point, ctx)?;
         let mut cache: FxHashMap<Atom, Option<S>> = FxHashMap::default();
+        // About a background: every quantity at once, by the pointwise route.
+        let quantities = match &fields.background {
+            Some(_) => fields
+                .pointwise()
+                .and_then(|f| pointwise::evaluate(&f, ctx)),
+            None => None,
+        };
         let mut out = Vec::new();
         for claim in &self.claims {
-            for (name, terms) in &claim.components {
-                let mut acc = Some(S::zero());
-                for (c, atom) in terms {
-                    let v = cache
-                        .entry(*atom)
-                        .or_insert_with(|| fields.atom(atom))
-                        .clone();
-                    acc = acc.and_then(|a| a.add(&v?.mul(&c.enclose::<S>(ctx)?)?));
-                }
+            for (name, formula) in &claim.components {
+                let acc = match formula {
+                    Formula::Combo(terms) => {
+                        let mut acc = Some(S::zero());
+                        for (c, atom) in terms {
+                            let v = cache
+                                .entry(*atom)
+                                .or_insert_with(|| fields.atom(atom))
+                                .clone();
+                            acc = acc.and_then(|a| a.add(&v?.mul(&c.enclose::<S>(ctx)?)?));
+                        }
+                        acc
+                    }
+                    Formula::Curved(p) => {
+                        quantities.as_ref().and_then(|q| part_value(q, &fields, *p))
+                    }
+                };
                 out.push(ComponentValue {
                     claim: claim.key.clone(),
                     component: name.clone(),
@@ -444,15 +599,21 @@ impl Audit {
             .iter()
             .map(|(n, v)| (n.as_ref().to_string(), *v))
             .collect();
-        for c in COORDS {
+        for (i, c) in self.coords.iter().enumerate() {
             if !out.iter().any(|(n, _)| n == c) {
-                out.push((c.to_string(), fill));
+                // Inside the coordinate's range, if it has one.
+                let v = match self.domain[i] {
+                    Some((lo, hi)) if !(lo..=hi).contains(&fill) => (lo + hi) / 2.0,
+                    _ => fill,
+                };
+                out.push((c.clone(), v));
             }
         }
         out
     }
 
-    /// `count` reproducible points for `seed`: coordinates in `±[0.25, 2]`, parameters within
+    /// `count` reproducible points for `seed`: coordinates in `±[0.25, 2]` (or inside their
+    /// \[domain\] range), parameters within
     /// a factor of 2 of their typical value (same sign), each rounded to six significant
     /// digits so it can be typed back in.
     pub fn seeded_points(&self, seed: u64, count: usize) -> Vec<Vec<(String, f64)>> {
@@ -460,8 +621,16 @@ impl Audit {
         (0..count)
             .map(|_| {
                 let mut p = Vec::new();
-                for c in COORDS {
-                    p.push((c.to_string(), rng.signed_unit()));
+                for (i, c) in self.coords.iter().enumerate() {
+                    let v = match self.domain[i] {
+                        Some((lo, hi)) => {
+                            let m = (hi - lo) * 1e-3;
+                            let v = round6(lo + m + (hi - lo - 2.0 * m) * rng.next_f64());
+                            v.clamp(lo, hi)
+                        }
+                        None => rng.signed_unit(),
+                    };
+                    p.push((c.clone(), v));
                 }
                 for (name, typical) in &self.parameters {
                     let v = if *typical == 0.0 {
@@ -518,6 +687,7 @@ enum Comp<S: Scalar> {
 /// first), as certified enclosures, and the values of the extra expressions.
 #[derive(Clone, Debug)]
 pub struct Fields<S: Scalar = Interval> {
+    background: Option<BackgroundFields<S>>,
     h: [[Comp<S>; 4]; 4],
     t: Option<[[Comp<S>; 4]; 4]>,
     extras: Vec<Option<S>>,
@@ -593,6 +763,78 @@ impl<S: Scalar> Fields<S> {
             Deriv::D2(r, s) => self.get(a.field, mu, nu, &[r as usize, s as usize]),
         }
     }
+}
+
+/// A background's fields at a point.
+#[derive(Clone, Debug)]
+struct BackgroundFields<S: Scalar> {
+    g: [[Comp<S>; 4]; 4],
+    tbar: Option<[[Comp<S>; 4]; 4]>,
+    lambda: Comp<S>,
+    xi: Option<[Comp<S>; 4]>,
+}
+
+impl<S: Scalar> Comp<S> {
+    /// The partial derivative by the coordinates `d` (indices, repeated for higher order).
+    fn partial(&self, d: &[usize], ctx: &S::Ctx) -> Option<S> {
+        match self {
+            Comp::Zero => Some(S::zero()),
+            Comp::NotHere => None,
+            Comp::Jet(j) => {
+                let mut exps = vec![0u8; j.space().vars()];
+                for &a in d {
+                    exps[a] += 1;
+                }
+                j.partial(&exps, ctx)
+            }
+        }
+    }
+}
+
+impl<S: Scalar> Fields<S> {
+    /// The inputs of [`pointwise::evaluate`]; `None` if a field cannot be evaluated here.
+    fn pointwise(&self) -> Option<pointwise::Fields<S>> {
+        let bg = self.background.as_ref()?;
+        let ctx = &self.ctx;
+        let sym1 =
+            |m: &[[Comp<S>; 4]; 4]| pointwise::Sym1::from_fn(|mu, nu, d| m[mu][nu].partial(d, ctx));
+        Some(pointwise::Fields {
+            gbar: pointwise::Sym2::from_fn(|mu, nu, d| bg.g[mu][nu].partial(d, ctx))?,
+            h: pointwise::Sym2::from_fn(|mu, nu, d| self.h[mu][nu].partial(d, ctx))?,
+            lambda: bg.lambda.partial(&[], ctx)?,
+            tbar: match &bg.tbar {
+                Some(m) => Some(sym1(m)?),
+                None => None,
+            },
+            dt: match &self.t {
+                Some(m) => Some(sym1(m)?),
+                None => None,
+            },
+            xi: match &bg.xi {
+                Some(x) => Some(pointwise::Covector1::from_fn(|mu, d| {
+                    x[mu].partial(d, ctx)
+                })?),
+                None => None,
+            },
+        })
+    }
+}
+
+/// The value of a part about a background from the pointwise quantities.
+fn part_value<S: Scalar>(q: &pointwise::Quantities<S>, fields: &Fields<S>, p: Part) -> Option<S> {
+    Some(match p {
+        Part::BackgroundEquation { mu, nu, .. } => q.background[mu][nu].clone(),
+        Part::CurvedFieldEquation { mu, nu, .. } => q.field[mu][nu].clone(),
+        Part::Lorenz(nu) => q.lorenz[nu].clone(),
+        Part::Conservation(nu) => q.conservation[nu].clone(),
+        Part::H(mu, nu) => fields.h(mu, nu)?,
+        Part::Trace => q.trace.clone(),
+        Part::Riemann([a, b, c, d]) => q.riemann[a][b][c][d].clone(),
+        Part::GaugeResidual(mu, nu) => q.gauge.as_ref()?[mu][nu].clone(),
+        Part::FieldEquation { .. } | Part::SpatialTrace | Part::SpatialDivergence(_) => {
+            return None;
+        }
+    })
 }
 
 /// The text of the generic sample of the `index`-th arbitrary function without one: smooth,

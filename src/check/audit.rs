@@ -74,9 +74,6 @@ pub fn auditable(problem: &Problem) -> Result<(), String> {
             .iter()
             .all(|&(m, n)| texts[m][n].is_some() || problem.store.is_zero(forms[m][n]))
     };
-    if problem.background.is_some() {
-        return Err("the independent route for backgrounds is not built yet".into());
-    }
     if !has_text(&problem.h, &problem.h_text) {
         return Err("the perturbation was derived, not read from text".into());
     }

@@ -10,7 +10,7 @@
 
 use super::{ClaimReport, Status, claim, limit_report};
 use crate::canon::{CResult, CanonError, Form, Store};
-use crate::claim::{Claim, Claims, Gauge, Kind, Part, Plan};
+use crate::claim::{Claim, Kind, Part, PureGaugeRoute, Setting};
 use crate::problem::Problem;
 use crate::tensor::curved::{Background, Perturbation};
 use crate::tensor::{Frame, Sym4};
@@ -139,81 +139,6 @@ impl CurvedParts {
     }
 }
 
-/// How pure gauge can be decided about a background.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum PureGaugeRoute {
-    /// The background's Riemann tensor is proved zero: the linearized Riemann tensor decides.
-    Riemann,
-    /// By the file's gauge vector (proves, never refutes).
-    Vector,
-    /// Neither: undecided.
-    None,
-}
-
-/// What the plan of a problem about a background depends on.
-#[derive(Clone, Copy, Debug)]
-pub struct Setting<'a> {
-    /// The file's \[claims\].
-    pub claims: Option<&'a Claims>,
-    /// The perturbation has a source dT.
-    pub sourced: bool,
-    /// The background has a source Tbar.
-    pub background_sourced: bool,
-    /// Lambda is not zero.
-    pub lambda: bool,
-    /// How pure gauge is decided.
-    pub pure: PureGaugeRoute,
-}
-
-/// The claims of a problem about a background, in report order.
-#[must_use]
-pub fn plan(s: Setting<'_>) -> Plan {
-    let (claims, lambda, sourced, pure) = (s.claims, s.lambda, s.sourced, s.pure);
-    let has_claims = claims.is_some();
-    let mut out = vec![Claim {
-        kind: Kind::BackgroundEquations {
-            lambda,
-            sourced: s.background_sourced,
-        },
-        asserted: Some(true),
-    }];
-    if sourced || s.background_sourced {
-        out.push(Claim {
-            kind: Kind::SourceConservation,
-            asserted: claims.and_then(|c| c.field_equations.filter(|b| *b)),
-        });
-    }
-    let (fe, gauges, pg) = match claims {
-        Some(c) => (c.field_equations, c.gauge.clone(), c.pure_gauge),
-        None => (None, Gauge::ALL.to_vec(), None),
-    };
-    if fe.is_some() || !has_claims {
-        out.push(Claim {
-            kind: Kind::CurvedFieldEquations { lambda, sourced },
-            asserted: fe,
-        });
-    }
-    for g in gauges {
-        out.push(Claim {
-            kind: Kind::CovariantGauge(g),
-            asserted: has_claims.then_some(true),
-        });
-    }
-    if pg.is_some() || !has_claims {
-        out.push(Claim {
-            kind: match pure {
-                PureGaugeRoute::Vector => Kind::GaugeVector,
-                PureGaugeRoute::Riemann | PureGaugeRoute::None => Kind::PureGauge,
-            },
-            asserted: pg,
-        });
-    }
-    Plan {
-        claims: out,
-        has_claims,
-    }
-}
-
 /// Every claim of a problem about a background, decided by the exact route.
 pub(super) fn exact_claims(problem: &mut Problem) -> (Vec<ClaimReport>, bool) {
     let bgd = problem
@@ -265,7 +190,7 @@ pub(super) fn exact_claims(problem: &mut Problem) -> (Vec<ClaimReport>, bool) {
     } else {
         PureGaugeRoute::None
     };
-    let plan = plan(Setting {
+    let plan = crate::claim::Plan::curved(Setting {
         claims: problem.claims.as_ref(),
         sourced: problem.source.is_some(),
         background_sourced: bgd.source.is_some(),
