@@ -5,7 +5,8 @@
 //! canonical form is identically zero: a proof, a certified nonzero witness, or an honest
 //! "undecided" with its reason.
 //!
-//! Conventions: signature (-,+,+,+), coordinates (t,x,y,z), G = c = 1, indices of h and T down.
+//! Conventions: signature (-,+,+,+), coordinates (t,x,y,z) unless a problem lists others (about
+//! a background, [`tensor::curved`]), G = c = 1, indices of h and T down, MTW curvature signs.
 //!
 //! # The front door
 //!

@@ -37,6 +37,16 @@ pub enum Quantity {
     Lorenz,
     /// The TT-gauge conditions.
     Tt,
+    /// The background's inverse metric gbar^{mu nu}.
+    BackgroundInverse,
+    /// The background's Christoffel symbols Gammabar^l_{mu nu}.
+    BackgroundChristoffel,
+    /// The background's Riemann tensor Rbar_{abcd} (20 independent components).
+    BackgroundRiemann,
+    /// The background's Ricci tensor Rbar_{mu nu}.
+    BackgroundRicci,
+    /// The background's equations Gbar + Lambda gbar - 8 pi Tbar.
+    BackgroundEquations,
 }
 
 /// Arguments of `lingrav show`.
@@ -62,44 +72,14 @@ pub struct ShowArgs {
 
 /// `lingrav show`.
 pub fn run(a: ShowArgs) -> Result<Outcome, Failure> {
-    let mut p = a.limits.load_flat(&a.file, "show")?;
-    let store = &mut p.store;
-    let mut lin = Linearized::new(store, p.h);
+    let mut p = a.limits.load(&a.file)?;
     let limit = |e: CanonError| gave_up(&e);
-    let mut rows: Vec<(String, Form)> = Vec::new();
-    let sym = |letter: &str, m: &[[Form; 4]; 4]| -> Vec<(String, Form)> {
-        COMPONENTS
-            .iter()
-            .map(|&(i, j)| (format!("{letter}_{}", index_name(&[i, j])), m[i][j]))
-            .collect()
+    let rows = match a.quantity {
+        // About a background, or a background quantity of Minkowski in Cartesian coordinates.
+        q if p.background.is_some() || is_background(q) => curved_rows(&mut p, q)?,
+        _ => flat_rows(&mut p, a.quantity).map_err(limit)?,
     };
-    match a.quantity {
-        Quantity::H => rows = sym("h", &p.h),
-        Quantity::Trace => rows.push(("h".into(), lin.trace(store).map_err(limit)?)),
-        Quantity::Hbar => rows = sym("hbar", &lin.hbar(store).map_err(limit)?),
-        Quantity::Christoffel => {
-            let g = lin.christoffel(store).map_err(limit)?;
-            for (l, gl) in g.iter().enumerate() {
-                for &(i, j) in &COMPONENTS {
-                    rows.push((
-                        format!("Gamma^{}_{}", COORDS[l], index_name(&[i, j])),
-                        gl[i][j],
-                    ));
-                }
-            }
-        }
-        Quantity::Riemann => {
-            for (idx, f) in lin.riemann(store).map_err(limit)? {
-                rows.push((Part::Riemann(idx).name(), f));
-            }
-        }
-        Quantity::Ricci => rows = sym("R", &lin.ricci(store).map_err(limit)?),
-        Quantity::RicciScalar => rows.push(("R".into(), lin.ricci_scalar(store).map_err(limit)?)),
-        Quantity::Einstein => rows = sym("G", &lin.einstein(store).map_err(limit)?),
-        Quantity::BoxHbar => rows = sym("box_hbar", &lin.box_hbar(store).map_err(limit)?),
-        Quantity::Lorenz => rows = conditions(store, &mut lin, Gauge::Lorenz).map_err(limit)?,
-        Quantity::Tt => rows = conditions(store, &mut lin, Gauge::Tt).map_err(limit)?,
-    }
+    let store = &mut p.store;
     let label = a.file.display().to_string();
     let mut shown = Vec::new();
     let mut zeros = 0;
@@ -194,4 +174,200 @@ fn conditions(
     g: Gauge,
 ) -> lingrav::canon::CResult<Vec<(String, Form)>> {
     lingrav::check::ExactParts::new(lin, None).named(store, Kind::Gauge(g))
+}
+
+/// The quantity of a flat problem in Cartesian coordinates.
+fn flat_rows(
+    p: &mut lingrav::Problem,
+    quantity: Quantity,
+) -> lingrav::canon::CResult<Vec<(String, Form)>> {
+    let store = &mut p.store;
+    let mut lin = Linearized::new(store, p.h);
+    let mut rows: Vec<(String, Form)> = Vec::new();
+    let sym = |letter: &str, m: &[[Form; 4]; 4]| -> Vec<(String, Form)> {
+        COMPONENTS
+            .iter()
+            .map(|&(i, j)| (format!("{letter}_{}", index_name(&[i, j])), m[i][j]))
+            .collect()
+    };
+    match quantity {
+        Quantity::H => rows = sym("h", &p.h),
+        Quantity::Trace => rows.push(("h".into(), lin.trace(store)?)),
+        Quantity::Hbar => rows = sym("hbar", &lin.hbar(store)?),
+        Quantity::Christoffel => {
+            let g = lin.christoffel(store)?;
+            for (l, gl) in g.iter().enumerate() {
+                for &(i, j) in &COMPONENTS {
+                    rows.push((
+                        format!("Gamma^{}_{}", COORDS[l], index_name(&[i, j])),
+                        gl[i][j],
+                    ));
+                }
+            }
+        }
+        Quantity::Riemann => {
+            for (idx, f) in lin.riemann(store)? {
+                rows.push((Part::Riemann(idx).name(), f));
+            }
+        }
+        Quantity::Ricci => rows = sym("R", &lin.ricci(store)?),
+        Quantity::RicciScalar => rows.push(("R".into(), lin.ricci_scalar(store)?)),
+        Quantity::Einstein => rows = sym("G", &lin.einstein(store)?),
+        Quantity::BoxHbar => rows = sym("box_hbar", &lin.box_hbar(store)?),
+        Quantity::Lorenz => rows = conditions(store, &mut lin, Gauge::Lorenz)?,
+        Quantity::Tt => rows = conditions(store, &mut lin, Gauge::Tt)?,
+        // The background's quantities go through `curved_rows`.
+        Quantity::BackgroundInverse
+        | Quantity::BackgroundChristoffel
+        | Quantity::BackgroundRiemann
+        | Quantity::BackgroundRicci
+        | Quantity::BackgroundEquations => {
+            return Err(CanonError::Undefined(
+                "a background quantity asked of the flat route".into(),
+            ));
+        }
+    }
+    Ok(rows)
+}
+
+fn is_background(q: Quantity) -> bool {
+    matches!(
+        q,
+        Quantity::BackgroundInverse
+            | Quantity::BackgroundChristoffel
+            | Quantity::BackgroundRiemann
+            | Quantity::BackgroundRicci
+            | Quantity::BackgroundEquations
+    )
+}
+
+/// The quantity about the problem's background (Minkowski in Cartesian coordinates without
+/// one), named in the problem's coordinates; covariant derivatives are the background's.
+fn curved_rows(p: &mut lingrav::Problem, quantity: Quantity) -> Result<Vec<(String, Form)>, Failure> {
+    use lingrav::tensor::curved::{Background, Perturbation};
+    let limit = |e: CanonError| gave_up(&e);
+    let frame = lingrav::tensor::Frame::covariant(p.coordinates.clone());
+    let store = &mut p.store;
+    let coords = p.coordinates.clone().map(|c| store.symbol_kernel(&c));
+    let (g, lambda, tbar) = match &p.background {
+        Some(b) => (b.g, b.lambda, b.source),
+        None => {
+            let (zero, one, minus) = (store.zero(), store.one(), store.int(-1));
+            let mut g = [[zero; 4]; 4];
+            for (i, row) in g.iter_mut().enumerate() {
+                row[i] = if i == 0 { minus } else { one };
+            }
+            (g, zero, None)
+        }
+    };
+    let mut bg = Background::new(store, coords, g, lambda, tbar).map_err(|e| match e {
+        CanonError::DivisionByZero => Failure::Input(miette::miette!(
+            "{}: the background metric is degenerate (its determinant is 0)",
+            p.path
+        )),
+        e => gave_up(&e),
+    })?;
+    let mut h = Perturbation::new(p.h);
+    let sym = |letter: &str, m: &[[Form; 4]; 4]| -> Vec<(String, Form)> {
+        COMPONENTS
+            .iter()
+            .map(|&(i, j)| (format!("{letter}_{}", frame.index(&[i, j])), m[i][j]))
+            .collect()
+    };
+    let chris = |letter: &str, c: &[[[Form; 4]; 4]; 4]| -> Vec<(String, Form)> {
+        let mut rows = Vec::new();
+        for (l, cl) in c.iter().enumerate() {
+            for &(i, j) in &COMPONENTS {
+                rows.push((format!("{letter}^{}_{}", frame.coord(l), frame.index(&[i, j])), cl[i][j]));
+            }
+        }
+        rows
+    };
+    Ok(match quantity {
+        Quantity::H => sym("h", &p.h),
+        Quantity::Trace => vec![("gbar^{mu nu} h_{mu nu}".into(), h.trace(store, &bg).map_err(limit)?)],
+        Quantity::Hbar => {
+            let tr = h.trace(store, &bg).map_err(limit)?;
+            let mut hb = p.h;
+            for &(i, j) in &COMPONENTS {
+                let x = store.mul(bg.g[i][j], tr).map_err(limit)?;
+                let half = lingrav::Coeff::rational(lingrav::canon::Q::new((-1).into(), 2.into()));
+                let v = store
+                    .linear(&[(&lingrav::Coeff::one(), p.h[i][j]), (&half, x)])
+                    .map_err(limit)?;
+                hb[i][j] = v;
+                hb[j][i] = v;
+            }
+            sym("hbar", &hb)
+        }
+        Quantity::Christoffel => chris("dGamma", &h.delta_gamma(store, &bg).map_err(limit)?),
+        Quantity::Riemann => h
+            .riemann(store, &mut bg)
+            .map_err(limit)?
+            .into_iter()
+            .map(|(idx, f)| (format!("dR_{}", frame.index(&idx)), f))
+            .collect(),
+        Quantity::Ricci => sym("dR", &h.delta_ricci(store, &bg).map_err(limit)?),
+        Quantity::RicciScalar => {
+            let dr = h.delta_ricci(store, &bg).map_err(limit)?;
+            let rbar = bg.ricci(store).map_err(limit)?;
+            let hup = bg.raise_both(store, &p.h).map_err(limit)?;
+            let tr = bg.trace(store, &dr).map_err(limit)?;
+            let mut terms = vec![tr];
+            for i in 0..4 {
+                for j in 0..4 {
+                    let x = store.mul(hup[i][j], rbar[i][j]).map_err(limit)?;
+                    terms.push(store.neg(x).map_err(limit)?);
+                }
+            }
+            vec![("dR".into(), store.sum(&terms).map_err(limit)?)]
+        }
+        Quantity::Einstein => sym("dG", &h.delta_einstein(store, &mut bg).map_err(limit)?),
+        Quantity::BoxHbar => {
+            return Err(Failure::Input(miette::miette!(
+                help = "`lingrav show FILE einstein` prints dG, the linearized Einstein tensor \
+                        about the background",
+                "{}: box-hbar is the flat d'Alembertian, which this file's background does not \
+                 have",
+                p.path
+            )));
+        }
+        Quantity::Lorenz => {
+            let v = h.lorenz(store, &bg).map_err(limit)?;
+            (0..4)
+                .map(|n| (lingrav::claim::Part::Lorenz(n).name_in(&frame), v[n]))
+                .collect()
+        }
+        Quantity::Tt => {
+            let v = h.lorenz(store, &bg).map_err(limit)?;
+            let tr = h.trace(store, &bg).map_err(limit)?;
+            let mut rows: Vec<(String, Form)> = (0..4)
+                .map(|m| (lingrav::claim::Part::H(0, m).name_in(&frame), p.h[0][m]))
+                .collect();
+            rows.push((lingrav::claim::Part::Trace.name_in(&frame), tr));
+            rows.extend((0..4).map(|n| (lingrav::claim::Part::Lorenz(n).name_in(&frame), v[n])));
+            rows
+        }
+        Quantity::BackgroundInverse => sym("gbar^", &bg.ginv),
+        Quantity::BackgroundChristoffel => chris("Gammabar", &bg.gamma),
+        Quantity::BackgroundRiemann => bg
+            .riemann_down(store)
+            .map_err(limit)?
+            .into_iter()
+            .map(|(idx, f)| (format!("Rbar_{}", frame.index(&idx)), f))
+            .collect(),
+        Quantity::BackgroundRicci => sym("Rbar", &bg.ricci(store).map_err(limit)?),
+        Quantity::BackgroundEquations => {
+            let e = bg.equations(store).map_err(limit)?;
+            let kind = lingrav::claim::Kind::BackgroundEquations {
+                lambda: !store.is_zero(lambda),
+                sourced: tbar.is_some(),
+            };
+            kind.parts()
+                .into_iter()
+                .zip(COMPONENTS)
+                .map(|(part, (i, j))| (part.name_in(&frame), e[i][j]))
+                .collect()
+        }
+    })
 }
