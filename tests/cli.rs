@@ -14,6 +14,8 @@ mod support;
 mod audit;
 #[path = "cli/bad_input.rs"]
 mod bad_input;
+#[path = "cli/curved_commands.rs"]
+mod curved_commands;
 #[path = "cli/expr_commands.rs"]
 mod expr_commands;
 #[path = "cli/general.rs"]

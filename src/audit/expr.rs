@@ -53,6 +53,11 @@ pub trait Route {
     /// The names a point gives values to, each with its typical value if it has one.
     fn names(&self) -> Vec<(String, Option<f64>)>;
 
+    /// Names confined to a range (a problem's \[domain\]): seeded points stay inside.
+    fn ranges(&self) -> Vec<(String, (f64, f64))> {
+        Vec::new()
+    }
+
     /// Every quantity at `point` in the arithmetic `S` (`ctx`: `()` for f64 intervals, the
     /// precision in bits for balls); `None` for one that cannot be evaluated there.
     ///
@@ -358,13 +363,30 @@ pub fn tally(proofs: usize, at: &str, confirmed: usize, unconfirmed: usize) -> V
 /// `count` reproducible points for `seed`: names without a typical value in `±[0.25, 2]`,
 /// the others within a factor of 2 of it (same sign), rounded to six significant digits.
 pub fn seeded_points(names: &[(String, Option<f64>)], seed: u64, count: usize) -> Vec<Point> {
+    seeded_points_in(names, &[], seed, count)
+}
+
+/// [`seeded_points`] with names confined to `ranges`, sampled inside them (as
+/// [`crate::audit::Audit::seeded_points`] does for a problem's \[domain\]).
+pub fn seeded_points_in(
+    names: &[(String, Option<f64>)],
+    ranges: &[(String, (f64, f64))],
+    seed: u64,
+    count: usize,
+) -> Vec<Point> {
     let mut rng = SplitMix64(seed);
-    let mut one = |typical: Option<f64>| match typical {
-        Some(t) if t != 0.0 => round6(t * (0.5 + 1.5 * rng.next_f64())),
-        _ => rng.signed_unit(),
+    let mut one = |name: &str, typical: Option<f64>| {
+        if let Some((_, (lo, hi))) = ranges.iter().find(|(n, _)| n == name) {
+            let m = (hi - lo) * 1e-3;
+            return round6(lo + m + (hi - lo - 2.0 * m) * rng.next_f64()).clamp(*lo, *hi);
+        }
+        match typical {
+            Some(t) if t != 0.0 => round6(t * (0.5 + 1.5 * rng.next_f64())),
+            _ => rng.signed_unit(),
+        }
     };
     (0..count)
-        .map(|_| names.iter().map(|(n, t)| (n.clone(), one(*t))).collect())
+        .map(|_| names.iter().map(|(n, t)| (n.clone(), one(n, *t))).collect())
         .collect()
 }
 
@@ -372,7 +394,7 @@ pub fn seeded_points(names: &[(String, Option<f64>)], seed: u64, count: usize) -
 /// route names only what its residual depends on), taken from a seeded point.
 pub fn complete<R: Route>(route: &R, point: &[(String, f64)], seed: u64) -> Point {
     let names = route.names();
-    let fill = seeded_points(&names, seed ^ 0xf111, 1).remove(0);
+    let fill = seeded_points_in(&names, &route.ranges(), seed ^ 0xf111, 1).remove(0);
     let mut out: Point = point.to_vec();
     for (n, v) in fill {
         if !out.iter().any(|(m, _)| *m == n) {
@@ -401,7 +423,7 @@ pub fn audit_proofs<R: Route>(route: &R, which: &[usize], seed: u64) -> Vec<Find
         })
         .collect();
     let mut error = None;
-    for p in seeded_points(&route.names(), seed, CANDIDATES) {
+    for p in seeded_points_in(&route.names(), &route.ranges(), seed, CANDIDATES) {
         if states.iter().all(done) {
             break;
         }
@@ -547,7 +569,7 @@ pub fn audit_witness<R: Route>(
     };
     // Points the f64 route cannot evaluate are skipped at once here (domain), so the search
     // costs at most a few evaluations per candidate.
-    for p in seeded_points(&route.names(), seed, CANDIDATES) {
+    for p in seeded_points_in(&route.names(), &route.ranges(), seed, CANDIDATES) {
         if let Ok(Some(value)) = certified_value(route, index, &p, false) {
             return Finding::ConfirmedElsewhere {
                 why: "a singularity, or a value that is not real".into(),
@@ -963,8 +985,11 @@ fn part_value<S: Scalar>(
 
 impl Route for FileQuantities {
     fn names(&self) -> Vec<(String, Option<f64>)> {
-        let mut out: Vec<(String, Option<f64>)> =
-            COORDS.iter().map(|c| (c.to_string(), None)).collect();
+        let coords = self.files.first().map_or_else(
+            || COORDS.map(String::from).to_vec(),
+            |f| f.audit.coordinates().to_vec(),
+        );
+        let mut out: Vec<(String, Option<f64>)> = coords.into_iter().map(|c| (c, None)).collect();
         for f in &self.files {
             for (n, v) in &f.audit.parameters {
                 if !out.iter().any(|(m, _)| m == n) {
@@ -973,6 +998,13 @@ impl Route for FileQuantities {
             }
         }
         out
+    }
+
+    fn ranges(&self) -> Vec<(String, (f64, f64))> {
+        self.files
+            .first()
+            .map(|f| f.audit.ranges())
+            .unwrap_or_default()
     }
 
     fn values<S: Scalar>(
@@ -985,7 +1017,7 @@ impl Route for FileQuantities {
         for (i, f) in self.files.iter().enumerate() {
             let own: Vec<(&str, f64)> = point
                 .iter()
-                .filter(|(n, _)| COORDS.contains(&n.as_str()) || f.parameters.contains(n))
+                .filter(|(n, _)| f.audit.coordinates().contains(n) || f.parameters.contains(n))
                 .map(|(n, v)| (n.as_str(), *v))
                 .collect();
             let fl = f.audit.fields_in::<&str, S>(&own, ctx)?;

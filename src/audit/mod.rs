@@ -429,6 +429,20 @@ impl Audit {
         })
     }
 
+    /// The coordinate names, time first.
+    pub fn coordinates(&self) -> &[String; 4] {
+        &self.coords
+    }
+
+    /// The coordinates confined to a range by the problem's \[domain\].
+    pub fn ranges(&self) -> Vec<(String, (f64, f64))> {
+        self.coords
+            .iter()
+            .zip(self.domain)
+            .filter_map(|(c, r)| Some((c.clone(), r?)))
+            .collect()
+    }
+
     /// The claims, in the order of the exact check's report.
     pub fn claims(&self) -> &[AuditClaim] {
         &self.claims

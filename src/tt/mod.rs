@@ -27,6 +27,7 @@
 pub mod audit;
 pub mod input;
 pub mod ring;
+pub mod sphere;
 
 pub use input::{Arg, ArgError, Piece};
 

@@ -63,7 +63,10 @@ fn share_json(x: &Share) -> serde_json::Value {
 
 /// `lingrav project`.
 pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
-    let mut p = a.limits.load_flat(&a.file, "project")?;
+    let mut p = a.limits.load(&a.file)?;
+    if !p.is_flat_cartesian() {
+        return sphere(a, p);
+    }
     let dir = a.dir.plan(&mut p)?;
     let target = plan_optional_output(a.output.as_deref(), a.force, "--output")?;
 
@@ -285,4 +288,150 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
         return Ok(Outcome::Fails);
     }
     Ok(outcome)
+}
+
+/// `project` in spherical coordinates (t, r, theta, phi), along the radial direction: h_plus
+/// and h_cross on the sphere, exactly and at leading order in 1/r at fixed retarded time.
+fn sphere(a: ProjectArgs, mut p: lingrav::Problem) -> Result<Outcome, Failure> {
+    use lingrav::tt::sphere::{Leading, polarizations};
+    let c = p.coordinates.clone();
+    if a.dir.direction.trim() != "radial" || a.dir.basis.is_some() || a.output.is_some() {
+        return Err(Failure::Input(miette::miette!(
+            help = format!(
+                "in the coordinates {} (read as t, r, theta, phi), `project` works along the \
+                 radial direction with the basis e_{}, e_{}: `--direction radial`, without \
+                 --basis or --output",
+                c.join(", "),
+                c[2],
+                c[3]
+            ),
+            "{}: only the radial projection is available in these coordinates",
+            p.path
+        )));
+    }
+    // A retarded-time name that the file does not use.
+    let taken = |n: &str| {
+        c.iter().any(|x| x == n)
+            || p.parameters.iter().any(|(m, _)| m == n)
+            || p.functions.iter().any(|(m, _)| m == n)
+            || p.defines.iter().any(|(m, _)| m == n)
+    };
+    let mut u = "u".to_string();
+    while taken(&u) {
+        u.push('_');
+    }
+    let names = [c[0].as_str(), c[1].as_str(), c[2].as_str(), c[3].as_str()];
+    let sampling = p.sampling.clone();
+    let h = p.h;
+    let sph = polarizations(&mut p.store, names, &h, &u, &sampling)?;
+    // The audit: the printed forms against the definitions evaluated from the file's texts.
+    let text = |mu: usize, nu: usize| format!("({})", p.h_text[mu][nu].as_deref().unwrap_or("0"));
+    let (r, th) = (&c[1], &c[2]);
+    let plus_def = format!("({} - {}/sin({th})^2)/(2*{r}^2)", text(2, 2), text(3, 3));
+    let cross_def = format!("{}/({r}^2*sin({th}))", text(2, 3));
+    let plus = p.store.to_text(sph.plus);
+    let cross = p.store.to_text(sph.cross);
+    let seed = p.sampling.seed;
+    let route = lingrav::audit::expr::FileQuantities::texts(
+        &p,
+        &[
+            ("h_plus".into(), format!("({plus}) - {plus_def}")),
+            ("h_cross".into(), format!("({cross}) - {cross_def}")),
+        ],
+    );
+    let mut proved = vec![lingrav::zero::Verdict::Zero; 2];
+    let findings = lingrav::check::verdicts::audit_verdicts(&route, &mut proved, Some, seed);
+    let defect = findings.iter().any(|f| f.is_defect());
+    let mut leading = |l: &Leading| match l {
+        Leading::Term { power, coefficient } => {
+            let c = p.store.to_text(*coefficient);
+            (format!("({c}) * {r}^{power}"), Some(*power), Some(c), None)
+        }
+        Leading::Zero => ("0".to_string(), None, Some("0".into()), None),
+        Leading::Unavailable(why) => (
+            format!("not available ({why})"),
+            None,
+            None,
+            Some(why.clone()),
+        ),
+    };
+    let pl = leading(&sph.plus_leading);
+    let cl = leading(&sph.cross_leading);
+    let label = a.file.display().to_string();
+    let out = match a.format {
+        Format::Text => {
+            let mut s = String::new();
+            let _ = writeln!(s, "{}", heading(&label, p.name.as_deref()));
+            let _ = writeln!(
+                s,
+                "on the sphere: n = e_{r}, basis u = e_{th}, v = e_{}; h_plus = (h_{th}{th} - \
+                 h_{1}{1}/sin({th})^2)/(2 {r}^2), h_cross = h_{th}{1}/({r}^2 sin({th}))",
+                c[3], c[3]
+            );
+            let _ = writeln!(s, "  h_plus  = {plus}");
+            let _ = writeln!(s, "  h_cross = {cross}");
+            let _ = writeln!(
+                s,
+                "  (as printed, against the definitions evaluated from the file's texts: {}; {})",
+                findings[0].method(seed),
+                findings[1].method(seed)
+            );
+            let _ = writeln!(
+                s,
+                "leading order in 1/{r} at fixed retarded time {u} = {} - {r} and fixed angles \
+                 (from the exact form; not audited):",
+                c[0]
+            );
+            let _ = writeln!(s, "  h_plus  ~ {}", pl.0);
+            let _ = writeln!(s, "  h_cross ~ {}", cl.0);
+            if defect {
+                let _ = writeln!(
+                    s,
+                    "INTERNAL DEFECT: the exact route and the independent evaluation disagree"
+                );
+            }
+            if a.audit_points {
+                let refs: Vec<&lingrav::audit::expr::Finding> = findings.iter().collect();
+                s.push_str(&point_lines(&refs));
+            }
+            s
+        }
+        Format::Json => {
+            let lead = |l: &(String, Option<i32>, Option<String>, Option<String>)| {
+                serde_json::json!({
+                    "power": l.1,
+                    "coefficient": l.2,
+                    "unavailable": l.3,
+                })
+            };
+            let refs: Vec<&lingrav::audit::expr::Finding> = findings.iter().collect();
+            json(&serde_json::json!({
+                "file": label,
+                "name": p.name,
+                "direction": { "kind": "radial", "coordinates": c },
+                "basis": { "u": format!("e_{th}"), "v": format!("e_{}", c[3]) },
+                "h_plus": plus,
+                "h_cross": cross,
+                "leading_order": {
+                    "retarded_time": format!("{u} = {} - {r}", c[0]),
+                    "h_plus": lead(&pl),
+                    "h_cross": lead(&cl),
+                },
+                "conventions": conventions(),
+                "audit": {
+                    "h_plus": audit_json(&findings[0], seed),
+                    "h_cross": audit_json(&findings[1], seed),
+                    "defect": defect,
+                    "seed": seed,
+                    "points": points_json(&refs),
+                },
+            }))
+        }
+    };
+    print(&out)?;
+    Ok(if defect {
+        Outcome::Fails
+    } else {
+        Outcome::Holds
+    })
 }

@@ -1,0 +1,90 @@
+//! The commands other than `check` on problems about a background: `show` and `project` in
+//! spherical coordinates, and a clear refusal from the commands that do not handle them yet.
+
+use super::support::lingrav;
+
+const WAVE: &str = "tests/data/sphere_wave.toml";
+
+#[test]
+fn project_gives_the_polarizations_on_the_sphere_and_their_leading_order() {
+    let (out, err, code) = lingrav(&["project", WAVE, "--direction", "radial", "--format", "json"]);
+    assert_eq!(code, 0, "{out}{err}");
+    assert!(err.is_empty(), "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    // h_thth = a r F sin^2 + a F, h_phph = -a r F sin^4: h_plus = a F sin^2/r + a F/(2 r^2),
+    // so the leading order at fixed u = t - r is r^-1 (common practice: radiation falls off
+    // as 1/r).
+    assert_eq!(j["leading_order"]["h_plus"]["power"], -1);
+    assert_eq!(j["leading_order"]["h_cross"]["power"], -1);
+    assert!(
+        j["leading_order"]["h_plus"]["coefficient"]
+            .as_str()
+            .unwrap()
+            .contains("F(u)"),
+        "{out}"
+    );
+    assert_eq!(j["audit"]["defect"], false);
+    for k in ["h_plus", "h_cross"] {
+        let a = j["audit"][k].to_string();
+        assert!(a.contains("consistent"), "{k}: {a}");
+    }
+}
+
+#[test]
+fn project_in_spherical_coordinates_needs_the_radial_direction() {
+    let (out, err, code) = lingrav(&["project", WAVE, "--direction", "z"]);
+    assert_eq!(code, 2, "{out}{err}");
+    assert!(err.contains("radial"), "{err}");
+    assert!(out.is_empty());
+}
+
+#[test]
+fn show_prints_background_and_linearized_quantities_in_the_files_coordinates() {
+    let (out, err, code) = lingrav(&["show", WAVE, "background-riemann"]);
+    assert_eq!(code, 0, "{err}");
+    // Flat space in spherical coordinates: every component of Rbar is exactly 0.
+    assert!(out.contains("20 further components are exactly 0"), "{out}");
+    let (out, _, code) = lingrav(&["show", WAVE, "background-christoffel"]);
+    assert_eq!(code, 0);
+    // Gammabar^r_{th th} = -r (common practice).
+    assert!(out.contains("Gammabar^r_th.th = -r"), "{out}");
+    let (out, _, code) = lingrav(&["show", WAVE, "einstein", "--format", "json"]);
+    assert_eq!(code, 0);
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let names: Vec<&str> = j["components"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| c["name"].as_str().unwrap())
+        .collect();
+    assert!(names.iter().all(|n| n.starts_with("dG_")), "{names:?}");
+    let (_, err, code) = lingrav(&["show", WAVE, "box-hbar"]);
+    assert_eq!(code, 2);
+    assert!(err.contains("flat d'Alembertian"), "{err}");
+}
+
+#[test]
+fn commands_without_background_support_refuse_clearly() {
+    let runs: [&[&str]; 5] = [
+        &["ring", WAVE, "--direction", "z", "--times", "0,1"],
+        &[
+            "export",
+            WAVE,
+            "--quantity",
+            "h",
+            "--grid",
+            "--out",
+            "target/tmp/never.csv",
+        ],
+        &["emit", WAVE, "--quantity", "h", "--lang", "c"],
+        &["gauge", WAVE, "--vector", "0,0,0,0"],
+        &["compare", WAVE, WAVE],
+    ];
+    for args in runs {
+        let (out, err, code) = lingrav(args);
+        assert_eq!(code, 2, "{args:?}: {out}{err}");
+        assert!(out.is_empty(), "{args:?}: {out}");
+        assert!(err.contains("does not yet work"), "{args:?}: {err}");
+    }
+    assert!(!std::path::Path::new("target/tmp/never.csv").exists());
+}
