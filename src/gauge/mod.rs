@@ -129,6 +129,124 @@ pub fn transformed_texts(
     })
 }
 
+/// Defines and texts for the audit of a gauge transformation about a background, written
+/// from the background's *texts* (never its canonical forms), so that the audit stays
+/// independent: the inverse metric by cofactors over the determinant, the Christoffel
+/// symbols Gamma^e_ab = (1/2) g^{ed} (d_a g_db + d_b g_da - d_d g_ab) with the `d_` operator,
+/// and h'_ab = h_ab - d_a xi_b - d_b xi_a + 2 Gamma^e_ab xi_e. `stem` prefixes the names of
+/// the defines (choose one the problem does not use); `xi` are names (or texts) of xi_mu.
+#[must_use]
+pub fn covariant_transformed_texts(
+    coords: &[String; 4],
+    g_text: &[[Option<String>; 4]; 4],
+    h_text: &[[Option<String>; 4]; 4],
+    xi: &[String],
+    stem: &str,
+) -> (Vec<(String, String)>, [[Option<String>; 4]; 4]) {
+    let g = |a: usize, b: usize| format!("({})", g_text[a][b].as_deref().unwrap_or("0"));
+    let mut defines = Vec::new();
+    // det g by the Leibniz formula, the cofactors by 3x3 determinants.
+    let perms = permutations4();
+    let det: Vec<String> = perms
+        .iter()
+        .map(|(p, sign)| {
+            let prod: Vec<String> = (0..4).map(|i| g(i, p[i])).collect();
+            format!("{}{}", if *sign > 0 { "+" } else { "-" }, prod.join("*"))
+        })
+        .collect();
+    let det_name = format!("{stem}_det");
+    defines.push((det_name.clone(), det.join(" ")));
+    let inv = |a: usize, b: usize| format!("{stem}_inv_{a}{b}");
+    for a in 0..4 {
+        for b in a..4 {
+            let rows: Vec<usize> = (0..4).filter(|&r| r != a).collect();
+            let cols: Vec<usize> = (0..4).filter(|&c| c != b).collect();
+            let mut terms = Vec::new();
+            for (p, sign) in [
+                ([0, 1, 2], 1),
+                ([1, 2, 0], 1),
+                ([2, 0, 1], 1),
+                ([0, 2, 1], -1),
+                ([2, 1, 0], -1),
+                ([1, 0, 2], -1),
+            ] {
+                let sign = if (a + b) % 2 == 0 { sign } else { -sign };
+                terms.push(format!(
+                    "{}{}*{}*{}",
+                    if sign > 0 { "+" } else { "-" },
+                    g(rows[0], cols[p[0]]),
+                    g(rows[1], cols[p[1]]),
+                    g(rows[2], cols[p[2]])
+                ));
+            }
+            defines.push((inv(a, b), format!("({})/{det_name}", terms.join(" "))));
+        }
+    }
+    let ginv = |a: usize, b: usize| inv(a.min(b), a.max(b));
+    let gam = |e: usize, a: usize, b: usize| format!("{stem}_gam_{e}{a}{b}");
+    for e in 0..4 {
+        for a in 0..4 {
+            for b in a..4 {
+                let (ca, cb) = (&coords[a], &coords[b]);
+                let terms: Vec<String> = (0..4)
+                    .map(|d| {
+                        format!(
+                            "{}*(d_{ca}({}) + d_{cb}({}) - d_{}({}))",
+                            ginv(e, d),
+                            g(d, b),
+                            g(d, a),
+                            coords[d],
+                            g(a, b)
+                        )
+                    })
+                    .collect();
+                defines.push((gam(e, a, b), format!("({})/2", terms.join(" + "))));
+            }
+        }
+    }
+    let texts = std::array::from_fn(|a: usize| {
+        std::array::from_fn(|b: usize| {
+            let orig = h_text[a][b].as_deref().unwrap_or("0");
+            let (lo, hi) = (a.min(b), a.max(b));
+            let conn: Vec<String> = (0..4)
+                .map(|e| format!("{}*({})", gam(e, lo, hi), xi[e]))
+                .collect();
+            Some(format!(
+                "({orig}) - d_{}({}) - d_{}({}) + 2*({})",
+                coords[a],
+                xi[b],
+                coords[b],
+                xi[a],
+                conn.join(" + ")
+            ))
+        })
+    });
+    (defines, texts)
+}
+
+/// The 24 permutations of 0..4 with their signs.
+fn permutations4() -> Vec<([usize; 4], i32)> {
+    let mut out = Vec::new();
+    for a in 0..4 {
+        for b in 0..4 {
+            for c in 0..4 {
+                for d in 0..4 {
+                    let p = [a, b, c, d];
+                    let distinct = (0..4).all(|i| (i + 1..4).all(|j| p[i] != p[j]));
+                    if distinct {
+                        let inversions = (0..4)
+                            .flat_map(|i| (i + 1..4).map(move |j| (i, j)))
+                            .filter(|&(i, j)| p[i] > p[j])
+                            .count();
+                        out.push((p, if inversions % 2 == 0 { 1 } else { -1 }));
+                    }
+                }
+            }
+        }
+    }
+    out
+}
+
 /// `box xi_nu` and the zero test's verdict on each component: Lorenz gauge is preserved
 /// exactly when all four vanish.
 ///
