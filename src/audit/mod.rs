@@ -297,7 +297,7 @@ impl Audit {
             roots.push((parse_text(|| what.clone(), text)?, 0));
             extra_roots.push(roots.len() - 1);
         }
-        let program = Program::new(&scope, roots)?;
+        let program = Program::of_scope(scope, roots)?;
         Ok(Audit {
             program,
             h,
