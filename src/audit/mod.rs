@@ -217,6 +217,11 @@ pub struct Texts {
 }
 
 impl Texts {
+    /// The problem's parameters with their typical values.
+    pub fn parameters(&self) -> &[(String, f64)] {
+        &self.parameters
+    }
+
     /// The texts of `problem`.
     pub fn of(problem: &Problem) -> Texts {
         Texts {

@@ -92,31 +92,38 @@ fn key(claim: &str, component: &str) -> String {
 
 /// Audits every component of `claims` in place and updates the claims' status and method.
 pub fn audit_claims(problem: &Problem, claims: &mut [ClaimReport], seed: u64) {
-    let not_run = |claims: &mut [ClaimReport], why: String| {
-        for c in claims.iter_mut() {
-            for k in &mut c.components {
-                k.audit = Audited::NotRun(why.clone());
-            }
-            c.method = format!("{}; not audited: {why}", c.method);
-        }
-    };
     if let Err(why) = auditable(problem) {
-        return not_run(claims, why);
+        return not_run(claims, &why);
     }
-    let texts = Texts::of(problem);
-    let seeded = seeded_values(&texts, seed);
-    audit_claims_with(problem, &texts, claims, seed, seeded);
+    audit_texts(&Texts::of(problem), claims, seed);
+}
+
+/// [`audit_claims`] for an auditable problem, from its texts alone (see [`Texts`]): the
+/// texts are parsed and planned once, for the seeded points and the witnesses.
+pub fn audit_texts(texts: &Texts, claims: &mut [ClaimReport], seed: u64) {
+    match Audit::of_texts(texts) {
+        Ok(audit) => {
+            let seeded = seeded_values(&audit, seed);
+            audit_claims_with(&audit, texts, claims, seed, &seeded);
+        }
+        Err(e) => not_run(claims, &e.to_string()),
+    }
+}
+
+/// Every component marked "not audited", with the reason.
+pub fn not_run(claims: &mut [ClaimReport], why: &str) {
+    for c in claims.iter_mut() {
+        for k in &mut c.components {
+            k.audit = Audited::NotRun(why.to_string());
+        }
+        c.method = format!("{}; not audited: {why}", c.method);
+    }
 }
 
 /// The audit's values at the seeded points, shared by every claim: what the audit of proofs
 /// needs, computed from the problem's texts alone, so that it can run beside the exact route
 /// (see [`super::check`]).
-///
-/// # Errors
-///
-/// A text the audit cannot plan (the reason, for "not audited").
-pub fn seeded_values(texts: &Texts, seed: u64) -> Result<Vec<PointValues>, String> {
-    let audit = Audit::of_texts(texts).map_err(|e| e.to_string())?;
+pub fn seeded_values(audit: &Audit, seed: u64) -> Vec<PointValues> {
     let points = audit.seeded_points(seed, AUDIT_POINTS);
     let mut at_points: Vec<PointValues> = Vec::new();
     for p in points {
@@ -126,46 +133,21 @@ pub fn seeded_values(texts: &Texts, seed: u64) -> Result<Vec<PointValues>, Strin
         };
         at_points.push((p, values));
     }
-    Ok(at_points)
+    at_points
 }
 
-/// [`audit_claims`] with the seeded values already computed ([`seeded_values`]) from
-/// `texts`, the texts of `problem` (which must be auditable).
+/// The audit of `claims` by `audit`, prepared from `texts` (the texts of an auditable
+/// problem), with its values at the seeded points already computed ([`seeded_values`]):
+/// proofs against those values, witnesses at their own points.
 pub fn audit_claims_with(
-    problem: &Problem,
+    audit: &Audit,
     texts: &Texts,
     claims: &mut [ClaimReport],
     seed: u64,
-    seeded: Result<Vec<PointValues>, String>,
+    at_points: &[PointValues],
 ) {
-    let not_run = |claims: &mut [ClaimReport], why: String| {
-        for c in claims.iter_mut() {
-            for k in &mut c.components {
-                k.audit = Audited::NotRun(why.clone());
-            }
-            c.method = format!("{}; not audited: {why}", c.method);
-        }
-    };
-    let at_points = match seeded {
-        Ok(v) => v,
-        Err(why) => return not_run(claims, why),
-    };
-    // The audit itself again for the witnesses, only when there is one: a witness point
-    // depends on the exact route's verdicts.
-    let needs_witness = claims
-        .iter()
-        .flat_map(|c| &c.components)
-        .any(|k| matches!(k.verdict, Verdict::Nonzero(_)));
-    let audit = if needs_witness {
-        match Audit::of_texts(texts) {
-            Ok(a) => Some(a),
-            Err(e) => return not_run(claims, e.to_string()),
-        }
-    } else {
-        None
-    };
-    let typical: FxHashMap<&str, f64> = problem
-        .parameters
+    let typical: FxHashMap<&str, f64> = texts
+        .parameters()
         .iter()
         .map(|(n, v)| (n.as_str(), *v))
         .collect();
@@ -180,10 +162,9 @@ pub fn audit_claims_with(
         }
         for k in &mut c.components {
             let id = key(&c.key, &k.name);
-            k.audit = match (k.verdict.clone(), &audit) {
-                (Verdict::Zero, _) => audit_proof(k, &id, &at_points, seed),
-                // `audit` is built above whenever a verdict is nonzero.
-                (Verdict::Nonzero(w), Some(audit)) => {
+            k.audit = match k.verdict.clone() {
+                Verdict::Zero => audit_proof(k, &id, at_points, seed),
+                Verdict::Nonzero(w) => {
                     let point = witness_point(audit, &w, &typical);
                     let mut tag: Vec<(String, u64)> = point
                         .iter()
@@ -196,7 +177,7 @@ pub fn audit_claims_with(
                     let value = witness_value(audit, &point, &id, values.get(&id).copied());
                     audit_witness(k, &w, value)
                 }
-                (Verdict::Nonzero(_) | Verdict::Undecided(_), _) => Audited::Skipped,
+                Verdict::Undecided(_) => Audited::Skipped,
             };
         }
         let expect_zero = c.asserted.unwrap_or(true);

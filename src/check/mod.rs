@@ -316,7 +316,8 @@ pub fn check(problem: &mut Problem) -> CheckReport {
     //
     // The audit's values at its seeded points need only the problem's texts: they are
     // computed on a second thread while the exact route works (the two routes share nothing
-    // but the parser). The witnesses' audit waits for the exact verdicts.
+    // but the parser). The witnesses' audit waits for the exact verdicts; it runs on the
+    // audit thread too, with the texts parsed and planned there once.
     let seed = problem.sampling.seed;
     let texts = audit::auditable(problem)
         .ok()
@@ -333,20 +334,42 @@ pub fn check(problem: &mut Problem) -> CheckReport {
         };
     };
     std::thread::scope(|scope| {
-        let seeded = std::thread::Builder::new()
+        // The audit thread parses and plans the texts once, evaluates the seeded points while
+        // the exact route works, then audits the exact verdicts it is sent (the witnesses at
+        // their own points) with the same plan.
+        let (send_claims, claims_sent) = std::sync::mpsc::channel::<Vec<ClaimReport>>();
+        let texts = &texts;
+        let audited = std::thread::Builder::new()
             .name("audit".into())
-            .spawn_scoped(scope, || audit::seeded_values(&texts, seed));
+            .spawn_scoped(scope, move || {
+                let planned = crate::audit::Audit::of_texts(texts).map(|a| {
+                    let values = audit::seeded_values(&a, seed);
+                    (a, values)
+                });
+                // No claims: the exact route panicked, and its panic is what is reported.
+                let mut claims = claims_sent.recv().ok()?;
+                match &planned {
+                    Ok((a, values)) => {
+                        audit::audit_claims_with(a, texts, &mut claims, seed, values)
+                    }
+                    Err(e) => audit::not_run(&mut claims, &e.to_string()),
+                }
+                Some(claims)
+            });
         let (mut out, has_claims) = exact_claims(problem);
-        match seeded {
+        match audited {
             Ok(handle) => {
-                let values = match handle.join() {
-                    Ok(v) => v,
+                // The thread holds the receiver until it has the claims (or has panicked,
+                // which the join reports).
+                let _ = send_claims.send(out);
+                out = match handle.join() {
+                    Ok(Some(claims)) => claims,
+                    Ok(None) => unreachable!("the audit thread received the claims"),
                     Err(panic) => std::panic::resume_unwind(panic),
                 };
-                audit::audit_claims_with(problem, &texts, &mut out, seed, values);
             }
             // No thread could be started: the audit runs here, as it always may.
-            Err(_) => audit::audit_claims(problem, &mut out, seed),
+            Err(_) => audit::audit_texts(texts, &mut out, seed),
         }
         CheckReport {
             claims: out,
