@@ -14,6 +14,8 @@ use crate::interval::{CInterval, Interval};
 use crate::problem::Problem;
 use crate::zero::{Verdict, Witness};
 use rustc_hash::FxHashMap;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::{Condvar, Mutex, PoisonError};
 
 /// How many seeded points every proof is evaluated at.
 pub const AUDIT_POINTS: usize = 3;
@@ -104,9 +106,77 @@ pub fn audit_texts(texts: &Texts, claims: &mut [ClaimReport], seed: u64) {
     match Audit::of_texts(texts) {
         Ok(audit) => {
             let seeded = seeded_values(&audit, seed);
-            audit_claims_with(&audit, texts, claims, seed, &seeded);
+            audit_claims_with(Some(&audit), texts, claims, seed, &seeded);
         }
         Err(e) => not_run(claims, &e.to_string()),
+    }
+}
+
+/// What the helper of a [`SeededJob`] leaves: its values, the reason there are none, or its
+/// panic.
+type JobResult = std::thread::Result<Result<Vec<PointValues>, String>>;
+
+/// The audit's seeded values as a job for whichever thread gets to it first: a helper thread
+/// started beside the exact route ([`SeededJob::run_beside`]), or the caller once the exact
+/// verdicts are in ([`SeededJob::audit`]). On a busy machine the helper may not get a core
+/// before the exact route is done; the caller then audits everything itself instead of
+/// sleeping until the helper has run (a scheduling choice only: the values are the same).
+pub struct SeededJob {
+    texts: Texts,
+    seed: u64,
+    claimed: AtomicBool,
+    done: Mutex<Option<JobResult>>,
+    ready: Condvar,
+}
+
+impl SeededJob {
+    /// The job for `texts` (the texts of an auditable problem) and `seed`.
+    pub fn new(texts: Texts, seed: u64) -> SeededJob {
+        SeededJob {
+            texts,
+            seed,
+            claimed: AtomicBool::new(false),
+            done: Mutex::new(None),
+            ready: Condvar::new(),
+        }
+    }
+
+    /// On the helper thread: the seeded values, unless the caller has taken the job.
+    pub fn run_beside(&self) {
+        if self.claimed.swap(true, Ordering::AcqRel) {
+            return;
+        }
+        let values = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+            let audit = Audit::of_texts(&self.texts).map_err(|e| e.to_string())?;
+            Ok(seeded_values(&audit, self.seed))
+        }));
+        *self.done.lock().unwrap_or_else(PoisonError::into_inner) = Some(values);
+        self.ready.notify_all();
+    }
+
+    /// On the caller's thread, with the exact verdicts: audits `claims` with the helper's
+    /// values (waiting for them if the helper is at work), or entirely here if the helper has
+    /// not started. A panic of the helper is resumed here.
+    pub fn audit(&self, claims: &mut [ClaimReport]) {
+        if !self.claimed.swap(true, Ordering::AcqRel) {
+            return audit_texts(&self.texts, claims, self.seed);
+        }
+        let mut done = self.done.lock().unwrap_or_else(PoisonError::into_inner);
+        let values = loop {
+            if let Some(v) = done.take() {
+                break v;
+            }
+            done = self
+                .ready
+                .wait(done)
+                .unwrap_or_else(PoisonError::into_inner);
+        };
+        drop(done);
+        match values {
+            Ok(Ok(values)) => audit_claims_with(None, &self.texts, claims, self.seed, &values),
+            Ok(Err(why)) => not_run(claims, &why),
+            Err(panic) => std::panic::resume_unwind(panic),
+        }
     }
 }
 
@@ -136,16 +206,33 @@ pub fn seeded_values(audit: &Audit, seed: u64) -> Vec<PointValues> {
     at_points
 }
 
-/// The audit of `claims` by `audit`, prepared from `texts` (the texts of an auditable
-/// problem), with its values at the seeded points already computed ([`seeded_values`]):
-/// proofs against those values, witnesses at their own points.
+/// The audit of `claims` from `texts` (the texts of an auditable problem), with its values
+/// at the seeded points already computed ([`seeded_values`]): proofs against those values,
+/// witnesses at their own points by `planned`, the audit those values came from when it is
+/// at hand (else the texts are planned again, only if there is a witness).
 pub fn audit_claims_with(
-    audit: &Audit,
+    planned: Option<&Audit>,
     texts: &Texts,
     claims: &mut [ClaimReport],
     seed: u64,
     at_points: &[PointValues],
 ) {
+    let needs_witness = claims
+        .iter()
+        .flat_map(|c| &c.components)
+        .any(|k| matches!(k.verdict, Verdict::Nonzero(_)));
+    let built;
+    let audit = match planned {
+        Some(a) => Some(a),
+        None if needs_witness => match Audit::of_texts(texts) {
+            Ok(a) => {
+                built = a;
+                Some(&built)
+            }
+            Err(e) => return not_run(claims, &e.to_string()),
+        },
+        None => None,
+    };
     let typical: FxHashMap<&str, f64> = texts
         .parameters()
         .iter()
@@ -162,9 +249,10 @@ pub fn audit_claims_with(
         }
         for k in &mut c.components {
             let id = key(&c.key, &k.name);
-            k.audit = match k.verdict.clone() {
-                Verdict::Zero => audit_proof(k, &id, at_points, seed),
-                Verdict::Nonzero(w) => {
+            k.audit = match (k.verdict.clone(), audit) {
+                (Verdict::Zero, _) => audit_proof(k, &id, at_points, seed),
+                // `audit` is at hand whenever a verdict is nonzero.
+                (Verdict::Nonzero(w), Some(audit)) => {
                     let point = witness_point(audit, &w, &typical);
                     let mut tag: Vec<(String, u64)> = point
                         .iter()
@@ -177,7 +265,7 @@ pub fn audit_claims_with(
                     let value = witness_value(audit, &point, &id, values.get(&id).copied());
                     audit_witness(k, &w, value)
                 }
-                Verdict::Undecided(_) => Audited::Skipped,
+                (Verdict::Nonzero(_) | Verdict::Undecided(_), _) => Audited::Skipped,
             };
         }
         let expect_zero = c.asserted.unwrap_or(true);
@@ -367,6 +455,37 @@ mod tests {
             }));
         }
         assert!(threaded >= 2, "the thread was started for {threaded} files");
+    }
+
+    /// Whichever thread takes the seeded job (the helper first, or the caller because the
+    /// helper has not started), the report is the sequential one.
+    #[test]
+    fn issue10_the_seeded_job_gives_the_sequential_report_whoever_runs_it() {
+        for file in ["lorenz_oblique.toml", "wrong_sign_wave.toml"] {
+            let mut q = crate::problem::worked(file);
+            let seed = q.sampling.seed;
+            let (sequential, _) = {
+                let (mut claims, h) = super::super::exact_claims(&mut q);
+                audit_claims(&q, &mut claims, seed);
+                (claims, h)
+            };
+            for helper_first in [true, false] {
+                let mut p = crate::problem::worked(file);
+                let job = SeededJob::new(Texts::of(&p), seed);
+                if helper_first {
+                    job.run_beside();
+                }
+                let (mut claims, _) = super::super::exact_claims(&mut p);
+                job.audit(&mut claims);
+                // A helper that starts late finds the job taken and does nothing.
+                job.run_beside();
+                assert_eq!(
+                    format!("{claims:?}"),
+                    format!("{sequential:?}"),
+                    "{file}, helper first: {helper_first}"
+                );
+            }
+        }
     }
 
     /// A proof that the exact route got wrong (simulated by overwriting a failing component's

@@ -316,8 +316,8 @@ pub fn check(problem: &mut Problem) -> CheckReport {
     //
     // The audit's values at its seeded points need only the problem's texts: they are
     // computed on a second thread while the exact route works (the two routes share nothing
-    // but the parser). The witnesses' audit waits for the exact verdicts; it runs on the
-    // audit thread too, with the texts parsed and planned there once.
+    // but the parser). The witnesses' audit waits for the exact verdicts. Whichever thread
+    // computes the seeded values, the results are the same (see `audit::SeededJob`).
     let seed = problem.sampling.seed;
     let texts = audit::auditable(problem)
         .ok()
@@ -333,49 +333,20 @@ pub fn check(problem: &mut Problem) -> CheckReport {
             has_claims,
         };
     };
-    std::thread::scope(|scope| {
-        // The audit thread parses and plans the texts once, evaluates the seeded points while
-        // the exact route works, then audits the exact verdicts it is sent (the witnesses at
-        // their own points) with the same plan.
-        let (send_claims, claims_sent) = std::sync::mpsc::channel::<Vec<ClaimReport>>();
-        let texts = &texts;
-        let audited = std::thread::Builder::new()
-            .name("audit".into())
-            .spawn_scoped(scope, move || {
-                let planned = crate::audit::Audit::of_texts(texts).map(|a| {
-                    let values = audit::seeded_values(&a, seed);
-                    (a, values)
-                });
-                // No claims: the exact route panicked, and its panic is what is reported.
-                let mut claims = claims_sent.recv().ok()?;
-                match &planned {
-                    Ok((a, values)) => {
-                        audit::audit_claims_with(a, texts, &mut claims, seed, values)
-                    }
-                    Err(e) => audit::not_run(&mut claims, &e.to_string()),
-                }
-                Some(claims)
-            });
-        let (mut out, has_claims) = exact_claims(problem);
-        match audited {
-            Ok(handle) => {
-                // The thread holds the receiver until it has the claims (or has panicked,
-                // which the join reports).
-                let _ = send_claims.send(out);
-                out = match handle.join() {
-                    Ok(Some(claims)) => claims,
-                    Ok(None) => unreachable!("the audit thread received the claims"),
-                    Err(panic) => std::panic::resume_unwind(panic),
-                };
-            }
-            // No thread could be started: the audit runs here, as it always may.
-            Err(_) => audit::audit_texts(texts, &mut out, seed),
-        }
-        CheckReport {
-            claims: out,
-            has_claims,
-        }
-    })
+    // The helper is detached: if the caller takes the job first, it is not waited for (it
+    // finds the job taken and ends).
+    let job = std::sync::Arc::new(audit::SeededJob::new(texts, seed));
+    let helper = job.clone();
+    let _detached = std::thread::Builder::new()
+        .name("audit".into())
+        .spawn(move || helper.run_beside());
+    let (mut out, has_claims) = exact_claims(problem);
+    // No thread could be started: the job is still unclaimed, and runs here.
+    job.audit(&mut out);
+    CheckReport {
+        claims: out,
+        has_claims,
+    }
 }
 
 /// Whether the audit's seeded points are evaluated on a second thread: from
