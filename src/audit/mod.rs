@@ -295,6 +295,11 @@ pub struct Texts {
 }
 
 impl Texts {
+    /// The problem's parameters with their typical values.
+    pub fn parameters(&self) -> &[(String, f64)] {
+        &self.parameters
+    }
+
     /// The texts of `problem`.
     pub fn of(problem: &Problem) -> Texts {
         let curved = problem.background.as_ref().map(|b| CurvedTexts {
@@ -415,7 +420,7 @@ impl Audit {
             roots.push((parse_text(|| what.clone(), text)?, 0));
             extra_roots.push(roots.len() - 1);
         }
-        let program = Program::new(&scope, roots)?;
+        let program = Program::of_scope(scope, roots)?;
         Ok(Audit {
             program,
             h,

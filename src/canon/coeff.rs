@@ -518,8 +518,7 @@ impl Coeff {
         let sqrt3 = Interval::new(s3.next_down(), s3.next_up())?;
         let mut re = Interval::ZERO;
         let mut im = Interval::ZERO;
-        for (b, q) in self.parts().iter() {
-            let mut v = rational_interval(q)?;
+        let mut part = |b: u8, mut v: Interval| -> Option<()> {
             if b & SQRT2 != 0 {
                 v = v.mul(sqrt2)?;
             }
@@ -530,6 +529,17 @@ impl Coeff {
                 im = im.add(v)?;
             } else {
                 re = re.add(v)?;
+            }
+            Some(())
+        };
+        match &self.repr {
+            Repr::Small(0, _, _) => {}
+            // The machine-word form without a big rational: the same enclosure.
+            Repr::Small(n, d, b) => part(*b, small_rational_interval(*n, *d)?)?,
+            Repr::Parts(p) => {
+                for (b, q) in p {
+                    part(*b, rational_interval(q)?)?;
+                }
             }
         }
         Some(CInterval::new(re, im))
@@ -639,6 +649,37 @@ pub fn rational_interval(q: &Q) -> Option<crate::interval::Interval> {
         return None;
     }
     if q.is_negative() {
+        Interval::new(-hi, -lo)
+    } else {
+        Interval::new(lo, hi)
+    }
+}
+
+/// [`rational_interval`] of `n / d` (`d > 0`, `n != i64::MIN`), the same steps in machine
+/// integers: `n << k` has `64 + bits(d) <= 128` bits, so nothing is truncated or allocated.
+fn small_rational_interval(n: i64, d: u64) -> Option<crate::interval::Interval> {
+    use crate::interval::Interval;
+    if n == 0 {
+        return Some(Interval::ZERO);
+    }
+    let m = n.unsigned_abs();
+    let bits = |x: u64| 64 - i64::from(x.leading_zeros());
+    let (bn, bd) = (bits(m), bits(d));
+    if bn <= 53 && bd <= 53 && d.count_ones() == 1 {
+        let v = m as f64 / d as f64;
+        return Interval::point(if n < 0 { -v } else { v });
+    }
+    // k = 64 - (bn - bd) is in [2, 127]: a left shift, as in rational_interval.
+    let k = 64 - (bn - bd);
+    let q = (u128::from(m) << k) / u128::from(d);
+    let lo = (q as f64).next_down().max(0.0);
+    let hi = ((q + 2) as f64).next_up();
+    let lo = scale_pow2(lo, -k, false);
+    let hi = scale_pow2(hi, -k, true);
+    if !hi.is_finite() {
+        return None;
+    }
+    if n < 0 {
         Interval::new(-hi, -lo)
     } else {
         Interval::new(lo, hi)
@@ -921,6 +962,31 @@ mod tests {
                 prop_assert_eq!(cx.conj().add(&cx).is_zero(), e1 & IMAG != 0 || x.is_zero());
                 let (re, im) = (cx.re(), cx.im());
                 prop_assert_eq!(re.add(&im.mul(&Coeff::i())), cx.clone());
+            }
+        }
+
+        proptest! {
+            /// The machine-word enclosure is the big-rational one, bit for bit, on both
+            /// sides of every fast path (53-bit parts, power-of-two denominators).
+            #[test]
+            fn small_enclosure_is_the_rational_one(
+                n in prop_oneof![edge(), -(1i64 << 54)..(1i64 << 54)],
+                d in prop_oneof![1u64.., 1u64..1000, (0u32..64).prop_map(|k| 1u64 << k),
+                                 Just(u64::MAX), Just((1u64 << 53) - 1)],
+                e in 0u8..8,
+            ) {
+                prop_assume!(n != i64::MIN);
+                let want = rational_interval(&Q::new_raw(BigInt::from(n), BigInt::from(d)));
+                let got = small_rational_interval(n, d);
+                let bits = |v: Option<crate::interval::Interval>| {
+                    v.map(|v| (v.lo().to_bits(), v.hi().to_bits()))
+                };
+                prop_assert_eq!(bits(got), bits(want));
+                // And through a coefficient, against the general representation.
+                let q = big(n, d);
+                let c = Coeff::basis(e, q.clone());
+                let general = via_parts(&q).mul(&Coeff::basis(e, Q::one()));
+                prop_assert_eq!(c.to_interval(), general.to_interval());
             }
         }
 

@@ -119,13 +119,15 @@ impl Store {
     fn eval_poly(&mut self, p: &super::Poly, pt: &Point, memo: &mut Memo) -> Option<CInterval> {
         let mut acc = CInterval::ZERO;
         for (m, c) in p {
-            let mono = self.monos[m.0 as usize].clone();
+            // The monomial is read in place (the arena only grows), not copied per term.
+            let mi = m.0 as usize;
             let mut t = c.to_interval()?;
-            for (k, e) in mono.pows {
+            for j in 0..self.monos[mi].pows.len() {
+                let (k, e) = self.monos[mi].pows[j];
                 let kv = self.eval_kernel(k, pt, memo)?;
                 t = cmul(t, cpowi(kv, e as i64)?)?;
             }
-            if let Some(ex) = mono.exp {
+            if let Some(ex) = self.monos[mi].exp {
                 let ev = self.eval_form(ex, pt, memo)?;
                 t = cmul(t, ev.exp()?)?;
             }

@@ -947,6 +947,19 @@ impl Store {
     ///
     /// A size or time limit.
     pub fn linear(&mut self, terms: &[(&Coeff, Form)]) -> CResult<Form> {
+        // One term with coefficient 1 is its own combination: the accumulation below would
+        // rebuild the same numerator over the same denominator, a quotient the store already
+        // holds, and return its id (the lookup comes before any cancellation). Common: a
+        // derivative whose terms all went into one accumulator.
+        let mut live = terms
+            .iter()
+            .filter(|&&(k, f)| f != self.zero && !k.is_zero());
+        if let (Some(&(k, f)), None) = (live.next(), live.next())
+            && k.is_one()
+        {
+            self.check_size(self.rats[f.0 as usize].num.len())?;
+            return Ok(f);
+        }
         let mut groups: Vec<DenGroup> = Vec::new();
         let mut total = 0usize;
         for &(k, f) in terms {

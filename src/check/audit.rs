@@ -14,6 +14,8 @@ use crate::interval::{CInterval, Interval};
 use crate::problem::Problem;
 use crate::zero::{Verdict, Witness};
 use rustc_hash::FxHashMap;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::{Condvar, Mutex, PoisonError};
 
 /// How many seeded points every proof is evaluated at.
 pub const AUDIT_POINTS: usize = 3;
@@ -92,31 +94,106 @@ fn key(claim: &str, component: &str) -> String {
 
 /// Audits every component of `claims` in place and updates the claims' status and method.
 pub fn audit_claims(problem: &Problem, claims: &mut [ClaimReport], seed: u64) {
-    let not_run = |claims: &mut [ClaimReport], why: String| {
-        for c in claims.iter_mut() {
-            for k in &mut c.components {
-                k.audit = Audited::NotRun(why.clone());
-            }
-            c.method = format!("{}; not audited: {why}", c.method);
-        }
-    };
     if let Err(why) = auditable(problem) {
-        return not_run(claims, why);
+        return not_run(claims, &why);
     }
-    let texts = Texts::of(problem);
-    let seeded = seeded_values(&texts, seed);
-    audit_claims_with(problem, &texts, claims, seed, seeded);
+    audit_texts(&Texts::of(problem), claims, seed);
+}
+
+/// [`audit_claims`] for an auditable problem, from its texts alone (see [`Texts`]): the
+/// texts are parsed and planned once, for the seeded points and the witnesses.
+pub fn audit_texts(texts: &Texts, claims: &mut [ClaimReport], seed: u64) {
+    match Audit::of_texts(texts) {
+        Ok(audit) => {
+            let seeded = seeded_values(&audit, seed);
+            audit_claims_with(Some(&audit), texts, claims, seed, &seeded);
+        }
+        Err(e) => not_run(claims, &e.to_string()),
+    }
+}
+
+/// What the helper of a [`SeededJob`] leaves: its values, the reason there are none, or its
+/// panic.
+type JobResult = std::thread::Result<Result<Vec<PointValues>, String>>;
+
+/// The audit's seeded values as a job for whichever thread gets to it first: a helper thread
+/// started beside the exact route ([`SeededJob::run_beside`]), or the caller once the exact
+/// verdicts are in ([`SeededJob::audit`]). On a busy machine the helper may not get a core
+/// before the exact route is done; the caller then audits everything itself instead of
+/// sleeping until the helper has run (a scheduling choice only: the values are the same).
+pub struct SeededJob {
+    texts: Texts,
+    seed: u64,
+    claimed: AtomicBool,
+    done: Mutex<Option<JobResult>>,
+    ready: Condvar,
+}
+
+impl SeededJob {
+    /// The job for `texts` (the texts of an auditable problem) and `seed`.
+    pub fn new(texts: Texts, seed: u64) -> SeededJob {
+        SeededJob {
+            texts,
+            seed,
+            claimed: AtomicBool::new(false),
+            done: Mutex::new(None),
+            ready: Condvar::new(),
+        }
+    }
+
+    /// On the helper thread: the seeded values, unless the caller has taken the job.
+    pub fn run_beside(&self) {
+        if self.claimed.swap(true, Ordering::AcqRel) {
+            return;
+        }
+        let values = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+            let audit = Audit::of_texts(&self.texts).map_err(|e| e.to_string())?;
+            Ok(seeded_values(&audit, self.seed))
+        }));
+        *self.done.lock().unwrap_or_else(PoisonError::into_inner) = Some(values);
+        self.ready.notify_all();
+    }
+
+    /// On the caller's thread, with the exact verdicts: audits `claims` with the helper's
+    /// values (waiting for them if the helper is at work), or entirely here if the helper has
+    /// not started. A panic of the helper is resumed here.
+    pub fn audit(&self, claims: &mut [ClaimReport]) {
+        if !self.claimed.swap(true, Ordering::AcqRel) {
+            return audit_texts(&self.texts, claims, self.seed);
+        }
+        let mut done = self.done.lock().unwrap_or_else(PoisonError::into_inner);
+        let values = loop {
+            if let Some(v) = done.take() {
+                break v;
+            }
+            done = self
+                .ready
+                .wait(done)
+                .unwrap_or_else(PoisonError::into_inner);
+        };
+        drop(done);
+        match values {
+            Ok(Ok(values)) => audit_claims_with(None, &self.texts, claims, self.seed, &values),
+            Ok(Err(why)) => not_run(claims, &why),
+            Err(panic) => std::panic::resume_unwind(panic),
+        }
+    }
+}
+
+/// Every component marked "not audited", with the reason.
+pub fn not_run(claims: &mut [ClaimReport], why: &str) {
+    for c in claims.iter_mut() {
+        for k in &mut c.components {
+            k.audit = Audited::NotRun(why.to_string());
+        }
+        c.method = format!("{}; not audited: {why}", c.method);
+    }
 }
 
 /// The audit's values at the seeded points, shared by every claim: what the audit of proofs
 /// needs, computed from the problem's texts alone, so that it can run beside the exact route
 /// (see [`super::check`]).
-///
-/// # Errors
-///
-/// A text the audit cannot plan (the reason, for "not audited").
-pub fn seeded_values(texts: &Texts, seed: u64) -> Result<Vec<PointValues>, String> {
-    let audit = Audit::of_texts(texts).map_err(|e| e.to_string())?;
+pub fn seeded_values(audit: &Audit, seed: u64) -> Vec<PointValues> {
     let points = audit.seeded_points(seed, AUDIT_POINTS);
     let mut at_points: Vec<PointValues> = Vec::new();
     for p in points {
@@ -126,46 +203,38 @@ pub fn seeded_values(texts: &Texts, seed: u64) -> Result<Vec<PointValues>, Strin
         };
         at_points.push((p, values));
     }
-    Ok(at_points)
+    at_points
 }
 
-/// [`audit_claims`] with the seeded values already computed ([`seeded_values`]) from
-/// `texts`, the texts of `problem` (which must be auditable).
+/// The audit of `claims` from `texts` (the texts of an auditable problem), with its values
+/// at the seeded points already computed ([`seeded_values`]): proofs against those values,
+/// witnesses at their own points by `planned`, the audit those values came from when it is
+/// at hand (else the texts are planned again, only if there is a witness).
 pub fn audit_claims_with(
-    problem: &Problem,
+    planned: Option<&Audit>,
     texts: &Texts,
     claims: &mut [ClaimReport],
     seed: u64,
-    seeded: Result<Vec<PointValues>, String>,
+    at_points: &[PointValues],
 ) {
-    let not_run = |claims: &mut [ClaimReport], why: String| {
-        for c in claims.iter_mut() {
-            for k in &mut c.components {
-                k.audit = Audited::NotRun(why.clone());
-            }
-            c.method = format!("{}; not audited: {why}", c.method);
-        }
-    };
-    let at_points = match seeded {
-        Ok(v) => v,
-        Err(why) => return not_run(claims, why),
-    };
-    // The audit itself again for the witnesses, only when there is one: a witness point
-    // depends on the exact route's verdicts.
     let needs_witness = claims
         .iter()
         .flat_map(|c| &c.components)
         .any(|k| matches!(k.verdict, Verdict::Nonzero(_)));
-    let audit = if needs_witness {
-        match Audit::of_texts(texts) {
-            Ok(a) => Some(a),
-            Err(e) => return not_run(claims, e.to_string()),
-        }
-    } else {
-        None
+    let built;
+    let audit = match planned {
+        Some(a) => Some(a),
+        None if needs_witness => match Audit::of_texts(texts) {
+            Ok(a) => {
+                built = a;
+                Some(&built)
+            }
+            Err(e) => return not_run(claims, &e.to_string()),
+        },
+        None => None,
     };
-    let typical: FxHashMap<&str, f64> = problem
-        .parameters
+    let typical: FxHashMap<&str, f64> = texts
+        .parameters()
         .iter()
         .map(|(n, v)| (n.as_str(), *v))
         .collect();
@@ -180,9 +249,9 @@ pub fn audit_claims_with(
         }
         for k in &mut c.components {
             let id = key(&c.key, &k.name);
-            k.audit = match (k.verdict.clone(), &audit) {
-                (Verdict::Zero, _) => audit_proof(k, &id, &at_points, seed),
-                // `audit` is built above whenever a verdict is nonzero.
+            k.audit = match (k.verdict.clone(), audit) {
+                (Verdict::Zero, _) => audit_proof(k, &id, at_points, seed),
+                // `audit` is at hand whenever a verdict is nonzero.
                 (Verdict::Nonzero(w), Some(audit)) => {
                     let point = witness_point(audit, &w, &typical);
                     let mut tag: Vec<(String, u64)> = point
@@ -386,6 +455,37 @@ mod tests {
             }));
         }
         assert!(threaded >= 2, "the thread was started for {threaded} files");
+    }
+
+    /// Whichever thread takes the seeded job (the helper first, or the caller because the
+    /// helper has not started), the report is the sequential one.
+    #[test]
+    fn issue10_the_seeded_job_gives_the_sequential_report_whoever_runs_it() {
+        for file in ["lorenz_oblique.toml", "wrong_sign_wave.toml"] {
+            let mut q = crate::problem::worked(file);
+            let seed = q.sampling.seed;
+            let (sequential, _) = {
+                let (mut claims, h) = super::super::exact_claims(&mut q);
+                audit_claims(&q, &mut claims, seed);
+                (claims, h)
+            };
+            for helper_first in [true, false] {
+                let mut p = crate::problem::worked(file);
+                let job = SeededJob::new(Texts::of(&p), seed);
+                if helper_first {
+                    job.run_beside();
+                }
+                let (mut claims, _) = super::super::exact_claims(&mut p);
+                job.audit(&mut claims);
+                // A helper that starts late finds the job taken and does nothing.
+                job.run_beside();
+                assert_eq!(
+                    format!("{claims:?}"),
+                    format!("{sequential:?}"),
+                    "{file}, helper first: {helper_first}"
+                );
+            }
+        }
     }
 
     /// A proof that the exact route got wrong (simulated by overwriting a failing component's

@@ -382,7 +382,8 @@ pub fn check(problem: &mut Problem) -> CheckReport {
     //
     // The audit's values at its seeded points need only the problem's texts: they are
     // computed on a second thread while the exact route works (the two routes share nothing
-    // but the parser). The witnesses' audit waits for the exact verdicts.
+    // but the parser). The witnesses' audit waits for the exact verdicts. Whichever thread
+    // computes the seeded values, the results are the same (see `audit::SeededJob`).
     let seed = problem.sampling.seed;
     let texts = audit::auditable(problem)
         .ok()
@@ -398,27 +399,20 @@ pub fn check(problem: &mut Problem) -> CheckReport {
             has_claims,
         };
     };
-    std::thread::scope(|scope| {
-        let seeded = std::thread::Builder::new()
-            .name("audit".into())
-            .spawn_scoped(scope, || audit::seeded_values(&texts, seed));
-        let (mut out, has_claims) = exact_claims(problem);
-        match seeded {
-            Ok(handle) => {
-                let values = match handle.join() {
-                    Ok(v) => v,
-                    Err(panic) => std::panic::resume_unwind(panic),
-                };
-                audit::audit_claims_with(problem, &texts, &mut out, seed, values);
-            }
-            // No thread could be started: the audit runs here, as it always may.
-            Err(_) => audit::audit_claims(problem, &mut out, seed),
-        }
-        CheckReport {
-            claims: out,
-            has_claims,
-        }
-    })
+    // The helper is detached: if the caller takes the job first, it is not waited for (it
+    // finds the job taken and ends).
+    let job = std::sync::Arc::new(audit::SeededJob::new(texts, seed));
+    let helper = job.clone();
+    let _detached = std::thread::Builder::new()
+        .name("audit".into())
+        .spawn(move || helper.run_beside());
+    let (mut out, has_claims) = exact_claims(problem);
+    // No thread could be started: the job is still unclaimed, and runs here.
+    job.audit(&mut out);
+    CheckReport {
+        claims: out,
+        has_claims,
+    }
 }
 
 /// Whether the audit's seeded points are evaluated on a second thread: from

@@ -126,6 +126,16 @@ impl Program {
     /// An unknown name or function, a primed built-in, `d_` by a define, or jets that would
     /// be too large.
     pub fn new(scope: &Scope, roots: Vec<(Expr, u32)>) -> Result<Program, EvalError> {
+        Program::of_scope(scope.clone(), roots)
+    }
+
+    /// [`Program::new`] taking the scope by value: its defines move into the program
+    /// instead of being copied (a problem's defines can be long polynomials).
+    ///
+    /// # Errors
+    ///
+    /// As [`Program::new`].
+    pub fn of_scope(mut scope: Scope, roots: Vec<(Expr, u32)>) -> Result<Program, EvalError> {
         let define_index: FxHashMap<String, usize> = scope
             .defines
             .iter()
@@ -136,7 +146,7 @@ impl Program {
             vars: scope.vars.clone(),
             var_index: FxHashMap::default(),
             parameters: scope.parameters.clone(),
-            defines: scope.defines.clone(),
+            defines: std::mem::take(&mut scope.defines),
             define_index,
             define_order: Vec::new(),
             samples: FxHashMap::default(),
@@ -144,16 +154,16 @@ impl Program {
             space: JetSpace::new(0, 0)?,
         };
         let mut needs = Needs {
-            define_order: vec![None; scope.defines.len()],
+            define_order: vec![None; p.defines.len()],
             ..Needs::default()
         };
         for (e, order) in &p.roots {
-            p.walk(e, *order, scope, &mut needs)?;
+            p.walk(e, *order, &scope, &mut needs)?;
         }
         // Defines use only earlier defines, so one backward pass settles every order.
         for i in (0..p.defines.len()).rev() {
             if let Some(order) = needs.define_order[i] {
-                p.walk(&p.defines[i].1, order, scope, &mut needs)?;
+                p.walk(&p.defines[i].1, order, &scope, &mut needs)?;
             }
         }
         for v in needs.dvars {
@@ -412,20 +422,29 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
     }
 
     fn binary(&mut self, op: BinOp, a: &Expr, b: &Expr, order: u32) -> Result<Jet<S>, Here> {
-        if op == BinOp::Pow
-            && let Some(r) = exact_rational(b)
-        {
-            if let ExprKind::Ident(name) = &a.kind {
-                return self.name_power(name, r, order);
+        if op == BinOp::Pow {
+            // A written number is its own exact exponent (no copy needed).
+            let computed;
+            let r = match &b.kind {
+                ExprKind::Num(q) => Some(q),
+                _ => {
+                    computed = exact_rational(b);
+                    computed.as_ref()
+                }
+            };
+            if let Some(r) = r {
+                if let ExprKind::Ident(name) = &a.kind {
+                    return self.name_power(name, r, order);
+                }
+                return self.eval(a, order)?.pow_rational(r, self.ctx).here();
             }
-            return self.eval(a, order)?.pow_rational(&r, self.ctx).here();
         }
         let x = self.eval(a, order)?;
         let y = self.eval(b, order)?;
         match op {
-            BinOp::Add => x.add(&y),
-            BinOp::Sub => x.sub(&y),
-            BinOp::Mul => x.mul(&y),
+            BinOp::Add => x.add_into(&y),
+            BinOp::Sub => x.sub_into(&y),
+            BinOp::Mul => x.mul_into(y),
             BinOp::Div => x.div(&y, self.ctx),
             BinOp::Pow => x.pow(&y, self.ctx),
         }
@@ -433,11 +452,32 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
     }
 
     /// `name^r`, memoised per point (see `applied`).
-    fn name_power(&mut self, name: &str, r: BigRational, order: u32) -> Result<Jet<S>, Here> {
+    fn name_power(&mut self, name: &str, r: &BigRational, order: u32) -> Result<Jet<S>, Here> {
+        if let Some(j) = self.recall(name, order, |op| matches!(op, Applied::Pow(q) if q == r)) {
+            return Ok(j);
+        }
         let ctx = self.ctx;
-        self.memoised(name, Applied::Pow(r.clone()), order, |x| {
-            x.pow_rational(&r, ctx)
-        })
+        let j = self.ident(name, order)?.pow_rational(r, ctx).here()?;
+        self.remember(name, Applied::Pow(r.clone()), order, &j);
+        Ok(j)
+    }
+
+    /// A memoised result, if `name` had an operation `is_op` applied at `order`.
+    fn recall(&self, name: &str, order: u32, is_op: impl Fn(&Applied) -> bool) -> Option<Jet<S>> {
+        let done = self.applied.get(name)?;
+        done.iter()
+            .find(|(o, n, _)| *n == order && is_op(o))
+            .map(|(_, _, j)| j.clone())
+    }
+
+    fn remember(&mut self, name: &str, op: Applied, order: u32, j: &Jet<S>) {
+        match self.applied.get_mut(name) {
+            Some(v) => v.push((op, order, j.clone())),
+            None => {
+                self.applied
+                    .insert(name.to_string(), vec![(op, order, j.clone())]);
+            }
+        }
     }
 
     /// `op` applied to the jet of `name` at `order`, computed once per point.
@@ -448,16 +488,11 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
         order: u32,
         f: impl FnOnce(&Jet<S>) -> Option<Jet<S>>,
     ) -> Result<Jet<S>, Here> {
-        if let Some(done) = self.applied.get(name)
-            && let Some((_, _, j)) = done.iter().find(|(o, n, _)| *n == order && *o == op)
-        {
-            return Ok(j.clone());
+        if let Some(j) = self.recall(name, order, |o| *o == op) {
+            return Ok(j);
         }
         let j = f(&self.ident(name, order)?).here()?;
-        self.applied
-            .entry(name.to_string())
-            .or_default()
-            .push((op, order, j.clone()));
+        self.remember(name, op, order, &j);
         Ok(j)
     }
 

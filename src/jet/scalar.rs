@@ -142,6 +142,13 @@ impl Scalar for Interval {
     fn from_rational(q: &BigRational, _: &()) -> Option<Self> {
         rational_interval(q)
     }
+    fn from_i64(n: i64, _: &()) -> Option<Self> {
+        // Below 2^53 in magnitude the integer is an f64: the point rational_interval gives.
+        if n.unsigned_abs() < 1 << 53 {
+            return Interval::point(n as f64);
+        }
+        rational_interval(&BigRational::from_integer(BigInt::from(n)))
+    }
     fn pi(_: &()) -> Option<Self> {
         // PI is the double nearest to π (below it); one ulp either side encloses π.
         Interval::around(std::f64::consts::PI)

@@ -373,6 +373,56 @@ impl<S: Scalar> Jet<S> {
         self.add(&rhs.neg())
     }
 
+    /// Sum, reusing this jet's coefficients: the same operations as [`Jet::add`], so the
+    /// same enclosures, without allocating a new jet (the evaluation of a long sum).
+    pub fn add_into(mut self, rhs: &Jet<S>) -> Option<Jet<S>> {
+        debug_assert!(
+            Rc::ptr_eq(&self.space, &rhs.space),
+            "jets of different spaces"
+        );
+        if self.constant && !rhs.constant {
+            return self.add(rhs);
+        }
+        let order = self.order.min(rhs.order);
+        let n = self.space.len(order);
+        self.c.truncate(n);
+        if rhs.constant {
+            self.c[0] = self.c[0].add(&rhs.c[0])?;
+        } else {
+            for (x, y) in self.c.iter_mut().zip(&rhs.c[..n]) {
+                *x = x.add(y)?;
+            }
+        }
+        self.order = order;
+        self.constant = self.constant && rhs.constant;
+        Some(self)
+    }
+
+    /// Difference, reusing this jet's coefficients: `self + (-rhs)` as [`Jet::sub`]
+    /// computes it (negation is exact), without the two new jets.
+    pub fn sub_into(mut self, rhs: &Jet<S>) -> Option<Jet<S>> {
+        debug_assert!(
+            Rc::ptr_eq(&self.space, &rhs.space),
+            "jets of different spaces"
+        );
+        if self.constant && !rhs.constant {
+            return self.sub(rhs);
+        }
+        let order = self.order.min(rhs.order);
+        let n = self.space.len(order);
+        self.c.truncate(n);
+        if rhs.constant {
+            self.c[0] = self.c[0].add(&rhs.c[0].neg())?;
+        } else {
+            for (x, y) in self.c.iter_mut().zip(&rhs.c[..n]) {
+                *x = x.add(&y.neg())?;
+            }
+        }
+        self.order = order;
+        self.constant = self.constant && rhs.constant;
+        Some(self)
+    }
+
     /// Negation.
     pub fn neg(&self) -> Jet<S> {
         self.with(
@@ -394,6 +444,51 @@ impl<S: Scalar> Jet<S> {
         Some(self.with(self.order, c, self.constant))
     }
 
+    /// Product, reusing the coefficients of a non-constant factor when the other is a
+    /// constant (the same operations as [`Jet::mul`]).
+    pub fn mul_into(self, rhs: Jet<S>) -> Option<Jet<S>> {
+        if self.constant {
+            let k = self.c[0].clone();
+            return rhs.scale_prefix_into(self.order, &k);
+        }
+        if rhs.constant {
+            return self.scale_prefix_into(rhs.order, &rhs.c[0]);
+        }
+        self.mul(&rhs)
+    }
+
+    /// [`Jet::scaled_prefix`] in place.
+    fn scale_prefix_into(mut self, order: u32, k: &S) -> Option<Jet<S>> {
+        let order = order.min(self.order);
+        self.c.truncate(self.space.len(order));
+        self.order = order;
+        if self.constant {
+            self.c[0] = self.c[0].mul(k)?;
+        } else {
+            for x in &mut self.c {
+                *x = x.mul(k)?;
+            }
+        }
+        Some(self)
+    }
+
+    /// `self.truncate(order).scale(k)` in one step (one new jet instead of two).
+    fn scaled_prefix(&self, order: u32, k: &S) -> Option<Jet<S>> {
+        let order = order.min(self.order);
+        let n = self.space.len(order);
+        let c = if self.constant {
+            let mut c = self.c[..n].to_vec();
+            c[0] = c[0].mul(k)?;
+            c
+        } else {
+            self.c[..n]
+                .iter()
+                .map(|x| x.mul(k))
+                .collect::<Option<_>>()?
+        };
+        Some(self.with(order, c, self.constant))
+    }
+
     /// Product with the exact rational `q`.
     pub fn scale_rational(&self, q: &BigRational, ctx: &S::Ctx) -> Option<Jet<S>> {
         self.scale(&S::from_rational(q, ctx)?)
@@ -402,10 +497,10 @@ impl<S: Scalar> Jet<S> {
     /// Product, by the space's table.
     pub fn mul(&self, rhs: &Jet<S>) -> Option<Jet<S>> {
         if self.constant {
-            return rhs.truncate(self.order).scale(&self.c[0]);
+            return rhs.scaled_prefix(self.order, &self.c[0]);
         }
         if rhs.constant {
-            return self.truncate(rhs.order).scale(&rhs.c[0]);
+            return self.scaled_prefix(rhs.order, &rhs.c[0]);
         }
         let (order, a, b) = self.common(rhs);
         let sp = &*self.space;
@@ -526,17 +621,36 @@ impl<S: Scalar> Jet<S> {
         }
         let order = self.order as i64;
         let mut coeffs = Vec::with_capacity(order as usize + 1);
-        // binom(n, k) as an exact rational, updated by (n - k + 1)/k.
+        // binom(n, k), updated by (n - k + 1)/k: exactly in machine integers while it fits
+        // (each step's quotient is exact, as binom(n, k) is an integer), else as a rational.
+        let mut small: Option<i128> = Some(1);
         let mut b = BigRational::from_integer(1.into());
         for k in 0..=order {
             if k > 0 {
-                b *= BigRational::new(BigInt::from(n - k + 1), BigInt::from(k));
+                let step = || BigRational::new(BigInt::from(n - k + 1), BigInt::from(k));
+                match small {
+                    Some(v) => match v.checked_mul(i128::from(n - k + 1)) {
+                        Some(p) => small = Some(p / i128::from(k)),
+                        None => {
+                            b = BigRational::from_integer(BigInt::from(v)) * step();
+                            small = None;
+                        }
+                    },
+                    None => b *= step(),
+                }
             }
             if n >= 0 && k > n {
                 coeffs.push(S::zero());
                 continue;
             }
-            coeffs.push(S::from_rational(&b, ctx)?.mul(&a0.powi(n - k)?)?);
+            let binom = match small {
+                Some(v) => match i64::try_from(v) {
+                    Ok(v) => S::from_i64(v, ctx)?,
+                    Err(_) => S::from_rational(&BigRational::from_integer(BigInt::from(v)), ctx)?,
+                },
+                None => S::from_rational(&b, ctx)?,
+            };
+            coeffs.push(binom.mul(&a0.powi(n - k)?)?);
         }
         self.compose(&coeffs)
     }

@@ -269,3 +269,65 @@ fn linear_factor_product_encloses_the_exact_product() {
     assert!(fast.coeffs().iter().zip(&slow).all(|(a, b)| meet(a, b)));
     assert!(fast.coeffs().iter().any(|c| c.lo() != 0.0));
 }
+
+/// Bit for bit: both enclosures' bounds are the same doubles.
+fn identical(a: &J, b: &J) -> bool {
+    a.order() == b.order()
+        && a.is_constant() == b.is_constant()
+        && a.coeffs().len() == b.coeffs().len()
+        && a.coeffs().iter().zip(b.coeffs()).all(|(x, y)| {
+            x.lo().to_bits() == y.lo().to_bits() && x.hi().to_bits() == y.hi().to_bits()
+        })
+}
+
+proptest! {
+    /// The in-place operations of the evaluator are the allocating ones, bit for bit, for
+    /// every mix of constant and non-constant operands and of orders.
+    #[test]
+    fn in_place_operations_equal_the_allocating_ones(
+        x0 in -3.0f64..3.0, y0 in -3.0f64..3.0, k in -3.0f64..3.0,
+        n1 in 0u32..4, n2 in 0u32..4, which in 0usize..4,
+    ) {
+        let sp = JetSpace::new(2, 3).expect("small");
+        let x = Jet::variable(&sp, n1, 0, pt(x0));
+        let y = Jet::variable(&sp, n2, 1, pt(y0));
+        let a = x.mul(&x).and_then(|xx| xx.add(&y)).expect("finite"); // x^2 + y
+        let b = y.sin(&()).expect("finite").truncate(n2);
+        let c1 = Jet::constant(&sp, n1, pt(k));
+        let c2 = Jet::constant(&sp, n2, pt(k * 0.5 + 0.1));
+        let ops: [(&J, &J); 4] = [(&a, &b), (&c1, &b), (&a, &c2), (&c1, &c2)];
+        let (l, r) = ops[which];
+        prop_assert!(identical(&l.clone().add_into(r).expect("finite"), &l.add(r).expect("finite")));
+        prop_assert!(identical(&l.clone().sub_into(r).expect("finite"), &l.sub(r).expect("finite")));
+        prop_assert!(identical(&l.clone().mul_into(r.clone()).expect("finite"), &l.mul(r).expect("finite")));
+        // (A constant jet's power takes another path, not through the binomials.)
+        for p in [2i64, 3, -1, -2, 7].into_iter().filter(|_| !a.is_constant()) {
+            // powi's binomials in machine integers give the enclosures of exact rationals.
+            if let (Some(v), Some(w)) = (a.powi(p, &()), a.compose(&{
+                let a0 = a.coeffs()[0];
+                let mut b = BigRational::from_integer(1.into());
+                let mut cs = Vec::new();
+                for k in 0..=i64::from(a.order()) {
+                    if k > 0 {
+                        b *= BigRational::new(BigInt::from(p - k + 1), BigInt::from(k));
+                    }
+                    if p >= 0 && k > p {
+                        cs.push(Interval::ZERO);
+                        continue;
+                    }
+                    match a0.powi(p - k) {
+                        Some(q) => cs.push(rational_interval_for_test(&b).mul(q).expect("finite")),
+                        None => cs.push(Interval::ZERO),
+                    }
+                }
+                cs
+            })) {
+                prop_assert!(identical(&v, &w));
+            }
+        }
+    }
+}
+
+fn rational_interval_for_test(q: &BigRational) -> Interval {
+    crate::jet::scalar::rational_interval(q).expect("finite")
+}
