@@ -142,7 +142,7 @@ pub fn covariant_transformed_texts(
     h_text: &[[Option<String>; 4]; 4],
     xi: &[String],
     stem: &str,
-) -> (Vec<(String, String)>, [[Option<String>; 4]; 4]) {
+) -> (Vec<(String, String)>, crate::problem::TensorText) {
     let g = |a: usize, b: usize| format!("({})", g_text[a][b].as_deref().unwrap_or("0"));
     let mut defines = Vec::new();
     // det g by the Leibniz formula, the cofactors by 3x3 determinants.

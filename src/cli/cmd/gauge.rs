@@ -89,7 +89,20 @@ fn plane_failure(e: PlaneError, format: Format, j: serde_json::Value) -> Result<
 
 /// `lingrav gauge`.
 pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
-    let mut p = a.limits.load_flat(&a.file, "gauge")?;
+    let mut p = a.limits.load(&a.file)?;
+    if !p.is_flat_cartesian() {
+        let label = a.file.display().to_string();
+        return match (&a.vector, a.to_tt || a.output.is_some()) {
+            (Some(v), false) => super::gauge_curved::run(p, v, a.format, &label),
+            _ => Err(Failure::Input(miette::miette!(
+                help = "about a background, `lingrav gauge --vector XI` applies a gauge \
+                        transformation (without --output); --to-tt is for plane waves in flat \
+                        Cartesian coordinates",
+                "{label}: about a background or in other coordinates, only `--vector` works \
+                 (without --output)"
+            ))),
+        };
+    }
     let names = p.names.clone();
     let sampling = p.sampling.clone();
     // The plan: the vector (or wave vector) and the output path, before any algebra.

@@ -7,6 +7,7 @@ pub mod diff;
 pub mod emit;
 pub mod export;
 pub mod gauge;
+pub mod gauge_curved;
 pub mod grid;
 pub mod project;
 pub mod ring;
