@@ -12,6 +12,10 @@ mod support;
 
 #[path = "cli/audit.rs"]
 mod audit;
+#[path = "cli/background_values.rs"]
+mod background_values;
+#[path = "cli/backgrounds.rs"]
+mod backgrounds;
 #[path = "cli/bad_input.rs"]
 mod bad_input;
 #[path = "cli/curved_commands.rs"]

@@ -45,6 +45,17 @@ fn grid_verdicts_agree_with_the_exact_check_on_every_worked_example() {
         let f = file.to_str().unwrap();
         let exact = json(&lingrav(&["check", "--format", "json", f]));
         let out = lingrav(&["grid", "--format", "json", "--points", POINTS, f]);
+        if exact["claims"][0]["key"] == "background" {
+            // A problem about a background: `grid` refuses it for now (exit 2, with help).
+            let err = String::from_utf8_lossy(&out.stderr);
+            assert_eq!(out.status.code(), Some(2), "{f}: {err}");
+            let words: Vec<&str> = err
+                .split_whitespace()
+                .filter(|w| *w != "\u{2502}")
+                .collect();
+            assert!(words.join(" ").contains("does not yet work"), "{f}: {err}");
+            continue;
+        }
         let grid = json(&out);
         let code = out.status.code();
         for c in exact["claims"].as_array().unwrap() {

@@ -43,24 +43,77 @@ fn contains_exactly(iv: Interval, q: &BigRational) -> bool {
 }
 
 /// Files whose every asserted claim holds (the exact check proves them).
-const HOLDING: [&str; 9] = [
+const HOLDING: [&str; 21] = [
+    "de_sitter_tensor_mode.toml",
+    "frw_dust_tensor_mode.toml",
+    "frw_radiation_tensor_mode.toml",
+    "kottler_mass_perturbation.toml",
     "linear_wave_testbed.toml",
     "lorenz_oblique.toml",
     "lorenz_oblique_tt.toml",
     "lorenz_wave.toml",
     "oblique_wave.toml",
+    "plummer_sign_anchor.toml",
     "pure_gauge.toml",
+    "schwarzschild_mass_perturbation.toml",
+    "schwarzschild_odd_l2_decaying.toml",
+    "schwarzschild_odd_l2_static.toml",
+    "schwarzschild_pure_gauge.toml",
+    "schwarzschild_slow_rotation.toml",
+    "spherical_point_mass.toml",
     "static_mass.toml",
+    "teukolsky_l2_wave.toml",
     "uniform_ball.toml",
     "vibrating_rod.toml",
 ];
 
-const WRONG: [&str; 2] = ["dropped_near_zone.toml", "wrong_sign_wave.toml"];
+/// The deliberately wrong files and the asserted claims that fail in each (the others hold:
+/// a wrong file about a background still has a background that solves its equations, and a
+/// spoiled coefficient may leave a gauge condition intact).
+const WRONG: [(&str, &[&str]); 4] = [
+    (
+        "dropped_near_zone.toml",
+        &["field_equations", "gauge.lorenz"],
+    ),
+    (
+        "schwarzschild_wrong_slow_rotation.toml",
+        &["field_equations"],
+    ),
+    (
+        "teukolsky_wrong_coefficient.toml",
+        &["field_equations", "gauge.lorenz", "gauge.tt"],
+    ),
+    ("wrong_sign_wave.toml", &["field_equations", "gauge.tt"]),
+];
+
+fn is_wrong(label: &str) -> bool {
+    WRONG.iter().any(|(w, _)| *w == label)
+}
+
+/// The claim `key` of `label` is meant to fail.
+fn meant_to_fail(label: &str, key: &str) -> bool {
+    WRONG
+        .iter()
+        .any(|(w, keys)| *w == label && keys.contains(&key))
+}
+
+/// About a background with a \[gauge_vector\], the audit plans pure gauge both by the
+/// linearized Riemann tensor and by the vector (whichever the exact route can use, see
+/// `curved_claims`); the exact route reports only one of them. True for the audit's claim
+/// that the exact report does not have.
+fn unused_route(claim: &AuditClaim, exact: &[(String, Vec<String>)]) -> bool {
+    let names: Vec<String> = claim.component_names().map(str::to_string).collect();
+    claim.key == "pure_gauge" && !exact.iter().any(|(k, n)| *k == claim.key && *n == names)
+}
 
 #[test]
 fn every_worked_file_is_covered() {
     let names: Vec<String> = worked().into_iter().map(|(n, _)| n).collect();
-    let mut listed: Vec<&str> = HOLDING.iter().chain(&WRONG).copied().collect();
+    let mut listed: Vec<&str> = HOLDING
+        .iter()
+        .copied()
+        .chain(WRONG.iter().map(|(w, _)| *w))
+        .collect();
     listed.sort_unstable();
     assert_eq!(names, listed);
 }
@@ -88,6 +141,7 @@ fn names_and_verdicts_agree_with_the_exact_check() {
         let audit_names: Vec<(String, Vec<String>)> = audit
             .claims()
             .iter()
+            .filter(|c| !unused_route(c, &exact_names))
             .map(|c| {
                 (
                     c.key.clone(),
@@ -102,7 +156,14 @@ fn names_and_verdicts_agree_with_the_exact_check() {
             .iter()
             .map(|p| audit.components_at(p).expect("point is complete"))
             .collect();
-        let mut i = 0;
+        // The audit's values in the exact report's order (the audit may plan one more
+        // claim, see `unused_route`).
+        let index = |values: &[ComponentValue], key: &str, name: &str| -> usize {
+            values
+                .iter()
+                .position(|v| v.claim == key && v.component == name)
+                .unwrap_or_else(|| panic!("{label}: no audit value for {key} {name}"))
+        };
         let mut wrong_witnessed = 0;
         for claim in &report.claims {
             for comp in &claim.components {
@@ -110,6 +171,7 @@ fn names_and_verdicts_agree_with_the_exact_check() {
                     Verdict::Zero => {
                         proved += 1;
                         for (p, values) in points.iter().zip(&at) {
+                            let i = index(values, &claim.key, &comp.name);
                             let v = values[i].value.unwrap_or_else(|| {
                                 panic!("{label} {}: not evaluable at {p:?}", comp.name)
                             });
@@ -122,11 +184,12 @@ fn names_and_verdicts_agree_with_the_exact_check() {
                     }
                     Verdict::Nonzero(w) => {
                         witnessed += 1;
-                        if WRONG.contains(&label.as_str()) {
+                        if is_wrong(&label) {
                             wrong_witnessed += 1;
                         }
                         let point = audit.complete(&w.point, 0.75);
                         let values = audit.components_at(&point).expect("witness point");
+                        let i = index(&values, &claim.key, &comp.name);
                         let v = values[i].value.expect("evaluable at the witness");
                         assert!(
                             v.excludes_zero(),
@@ -137,10 +200,9 @@ fn names_and_verdicts_agree_with_the_exact_check() {
                     }
                     Verdict::Undecided(_) => {}
                 }
-                i += 1;
             }
         }
-        if WRONG.contains(&label.as_str()) {
+        if is_wrong(&label) {
             assert!(wrong_witnessed > 0, "{label}: no failing component");
         }
     }
@@ -162,10 +224,22 @@ fn claims_of_worked_files_at_seeded_points() {
             .iter()
             .map(|p| audit.components_at(p).expect("complete point"))
             .collect();
+        let both_routes = audit
+            .claims()
+            .iter()
+            .filter(|c| c.key == "pure_gauge")
+            .count()
+            > 1;
         for claim in audit.claims() {
+            let names: Vec<&str> = claim.component_names().collect();
+            if both_routes && names.first().is_some_and(|n| n.starts_with("R_")) {
+                // The Riemann route on a curved background with a [gauge_vector]: the exact
+                // route decides by the vector (L_xi Rbar need not vanish).
+                continue;
+            }
             let of_claim = |vals: &Vec<ComponentValue>| -> Vec<Option<Interval>> {
                 vals.iter()
-                    .filter(|v| v.claim == claim.key)
+                    .filter(|v| v.claim == claim.key && names.contains(&v.component.as_str()))
                     .map(|v| v.value)
                     .collect()
             };
@@ -174,7 +248,7 @@ fn claims_of_worked_files_at_seeded_points() {
                     .iter()
                     .any(|x| x.is_some_and(|x| x.excludes_zero()))
             });
-            let wrong = WRONG.contains(&label.as_str());
+            let wrong = meant_to_fail(&label, &claim.key);
             match (claim.asserted, wrong) {
                 (Some(true), false) => {
                     for (p, v) in points.iter().zip(&values) {
