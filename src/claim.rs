@@ -233,8 +233,8 @@ impl Kind {
             },
             Kind::CurvedFieldEquations { lambda, sourced } => match (lambda, sourced) {
                 (false, false) => (
-                    "linearized vacuum equations about the background dG = 0",
-                    "not linearized vacuum equations about the background dG = 0",
+                    "linearized equations about the background dG = 0 (dT = 0)",
+                    "not linearized equations about the background dG = 0 (dT = 0)",
                 ),
                 (true, false) => (
                     "linearized equations about the background dG + Lambda h = 0",
