@@ -719,17 +719,7 @@ impl<S: Scalar> Fields<S> {
             Field::H => &self.h[mu][nu],
             Field::T => &self.t.as_ref()?[mu][nu],
         };
-        match comp {
-            Comp::Zero => Some(S::zero()),
-            Comp::NotHere => None,
-            Comp::Jet(j) => {
-                let mut exps = vec![0u8; j.space().vars()];
-                for &a in d {
-                    exps[a] += 1;
-                }
-                j.partial(&exps, &self.ctx)
-            }
-        }
+        comp.partial(d, &self.ctx)
     }
 
     /// The value of extra expression `i` (in the order given to [`Audit::fields`]); `None`

@@ -225,3 +225,25 @@ pub fn limit_in_report(report: &CheckReport) -> Option<String> {
     });
     super::out::limit_among(undecided.map(|c| c.method.as_str()).chain(reasons))
 }
+
+/// The gauges a checked perturbation h' is proved to be in (their names), and the lines
+/// `gauges h' is in (exact): ...` and `verdicts on h': <audit>` that `gauge` prints.
+pub fn gauges_of(report: &CheckReport) -> (Vec<&str>, String) {
+    let holding: Vec<&str> = report
+        .claims
+        .iter()
+        .filter(|c| c.key.starts_with("gauge.") && c.status == Status::Holds)
+        .map(|c| c.key.trim_start_matches("gauge."))
+        .collect();
+    let names = if holding.is_empty() {
+        format!("none of {}", lingrav::problem::Gauge::NAMES.join(", "))
+    } else {
+        holding.join(", ")
+    };
+    let components: Vec<lingrav::check::Component> = report.components().cloned().collect();
+    let lines = format!(
+        "gauges h' is in (exact): {names}\n  verdicts on h': {}\n",
+        lingrav::check::audit_text(&components)
+    );
+    (holding, lines)
+}

@@ -162,14 +162,7 @@ pub fn covariant_transformed_texts(
             let rows: Vec<usize> = (0..4).filter(|&r| r != a).collect();
             let cols: Vec<usize> = (0..4).filter(|&c| c != b).collect();
             let mut terms = Vec::new();
-            for (p, sign) in [
-                ([0, 1, 2], 1),
-                ([1, 2, 0], 1),
-                ([2, 0, 1], 1),
-                ([0, 2, 1], -1),
-                ([2, 1, 0], -1),
-                ([1, 0, 2], -1),
-            ] {
+            for (p, sign) in crate::tensor::curved::PERMUTATIONS3 {
                 let sign = if (a + b) % 2 == 0 { sign } else { -sign };
                 terms.push(format!(
                     "{}{}*{}*{}",

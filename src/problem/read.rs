@@ -406,23 +406,29 @@ impl Cx<'_> {
         Ok(out)
     }
 
+    /// The index of the coordinate a key names, or an error with `help`.
+    fn coordinate_key(&self, k: &Key<'_>, help: String) -> Result<usize, ProblemError> {
+        let key: &str = k.get_ref();
+        self.coords.iter().position(|c| c == key).ok_or_else(|| {
+            self.err(
+                format!("`{key}` is not a coordinate"),
+                span_of(k),
+                "not a coordinate",
+            )
+            .with_help(help)
+        })
+    }
+
     /// \[gauge_vector\]: `xi_mu` keyed by coordinate names.
     fn vector(&self, t: &DeTable<'_>) -> Result<Vec<VectorComponent>, ProblemError> {
         let mut out: Vec<VectorComponent> = Vec::new();
         for (k, v) in entries(t) {
             let key: &str = k.get_ref();
-            let Some(mu) = self.coords.iter().position(|c| c == key) else {
-                return Err(self
-                    .err(
-                        format!("`{key}` is not a coordinate"),
-                        span_of(k),
-                        "not a coordinate",
-                    )
-                    .with_help(format!(
-                        "the components of xi_mu (index down) are keyed by the coordinates {}",
-                        self.coords.join(", ")
-                    )));
-            };
+            let help = format!(
+                "the components of xi_mu (index down) are keyed by the coordinates {}",
+                self.coords.join(", ")
+            );
+            let mu = self.coordinate_key(k, help)?;
             let expr = self.string(&format!("component xi_{key}"), v)?;
             out.push(VectorComponent {
                 mu,
@@ -438,20 +444,13 @@ impl Cx<'_> {
         let mut out: Domain = [None; 4];
         for (k, v) in entries(t) {
             let key: &str = k.get_ref();
-            let Some(mu) = self.coords.iter().position(|c| c == key) else {
-                return Err(self
-                    .err(
-                        format!("`{key}` is not a coordinate"),
-                        span_of(k),
-                        "not a coordinate",
-                    )
-                    .with_help(format!(
-                        "the domain gives a range per coordinate, e.g. `{} = [3, 40]`; the \
+            let help = format!(
+                "the domain gives a range per coordinate, e.g. `{} = [3, 40]`; the \
                          coordinates are {}",
-                        self.coords[1],
-                        self.coords.join(", ")
-                    )));
-            };
+                self.coords[1],
+                self.coords.join(", ")
+            );
+            let mu = self.coordinate_key(k, help)?;
             let help = format!("write a range as two increasing numbers, e.g. `{key} = [3, 40]`");
             let DeValue::Array(a) = v.get_ref() else {
                 return Err(self

@@ -279,7 +279,10 @@ fn other_commands_refuse_background_files() {
     // The commands that do not work about a background yet say so (exit 2); `show`,
     // `project` and `gauge --vector` are tested in `curved_commands`.
     let f = worked("schwarzschild_slow_rotation.toml");
-    for args in [vec!["grid", &f], vec!["ring", &f, "--direction", "z", "--times", "0"]] {
+    for args in [
+        vec!["grid", &f],
+        vec!["ring", &f, "--direction", "z", "--times", "0"],
+    ] {
         let (out, err, code) = lingrav(&args);
         assert_eq!(code, 2, "{args:?}: {out}{err}");
         assert!(!err.contains("panicked"), "{args:?}: {err}");

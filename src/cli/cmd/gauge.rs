@@ -9,14 +9,14 @@ use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, gave_up, limit_in, print};
 use crate::cli::plan::{arg_failure, plan_optional_output, write_atomic};
 use crate::cli::report::{
-    Format, components_json, conventions, heading, json, limit_in_report, list_components, texts,
-    verdict_json, verification_json, verification_lines,
+    Format, components_json, conventions, gauges_of, heading, json, limit_in_report,
+    list_components, texts, verdict_json, verification_json, verification_lines,
 };
 use clap::Args;
 use lingrav::audit::expr::{FileQuantities, Finding, summary};
 use lingrav::canon::{Form, Store};
 use lingrav::check::verdicts::audit_verdicts;
-use lingrav::check::{Status, audit_text, check};
+use lingrav::check::{Status, check};
 use lingrav::claim::Part;
 use lingrav::gauge::audit::audit_box;
 use lingrav::gauge::plane::{PlaneError, find_wave, tt_gauge_vector};
@@ -389,23 +389,8 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
             }
         );
     } else {
-        let holding: Vec<&str> = report
-            .claims
-            .iter()
-            .filter(|c| c.key.starts_with("gauge.") && c.status == Status::Holds)
-            .map(|c| c.key.trim_start_matches("gauge."))
-            .collect();
-        let _ = writeln!(
-            s,
-            "gauges h' is in (exact): {}",
-            if holding.is_empty() {
-                "none of lorenz, tt, synchronous".to_string()
-            } else {
-                holding.join(", ")
-            }
-        );
-        let components: Vec<lingrav::check::Component> = report.components().cloned().collect();
-        let _ = writeln!(s, "  verdicts on h': {}", audit_text(&components));
+        let (holding, lines) = gauges_of(&report);
+        s.push_str(&lines);
         j["gauges"] = holding.into();
         // A limit that left a verdict on h' undecided is the command's end as any limit is.
         if let Some(why) = limit_in_report(&report) {

@@ -6,11 +6,10 @@
 use crate::cli::out::{Failure, Outcome, gave_up, print};
 use crate::cli::plan::arg_failure;
 use crate::cli::report::{
-    Format, claim_lines, conventions, heading, json, limit_in_report, verification_json,
+    Format, claim_lines, conventions, gauges_of, heading, json, limit_in_report, verification_json,
 };
 use lingrav::canon::CanonError;
 use lingrav::check::check;
-use lingrav::check::{Status, audit_text};
 use lingrav::problem::{Claims, Gauge, Problem};
 use lingrav::tensor::curved::{Background, Perturbation};
 use lingrav::tensor::{COMPONENTS, Frame};
@@ -69,12 +68,7 @@ pub fn run(mut p: Problem, vector: &str, format: Format, label: &str) -> Result<
     let xi_rows: Vec<(String, String)> =
         (0..4).map(|m| (c[m].clone(), st.to_text(xi[m]))).collect();
     let defect = report.has_defect();
-    let holding: Vec<&str> = report
-        .claims
-        .iter()
-        .filter(|c| c.key.starts_with("gauge.") && c.status == Status::Holds)
-        .map(|c| c.key.trim_start_matches("gauge."))
-        .collect();
+    let (holding, gauge_lines) = gauges_of(&report);
     let limit = limit_in_report(&report);
     let out = match format {
         Format::Text => {
@@ -103,17 +97,7 @@ pub fn run(mut p: Problem, vector: &str, format: Format, label: &str) -> Result<
             {
                 claim_lines(&mut s, &mut p.store, c, c.status.label(), 6, true);
             }
-            let _ = writeln!(
-                s,
-                "gauges h' is in (exact): {}",
-                if holding.is_empty() {
-                    "none of lorenz, tt, synchronous".to_string()
-                } else {
-                    holding.join(", ")
-                }
-            );
-            let components: Vec<lingrav::check::Component> = report.components().cloned().collect();
-            let _ = writeln!(s, "  verdicts on h': {}", audit_text(&components));
+            s.push_str(&gauge_lines);
             if let Some(why) = &limit {
                 let _ = writeln!(s, "undecided: {why}");
             }

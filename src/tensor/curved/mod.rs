@@ -60,6 +60,47 @@ fn combo(store: &mut Store, terms: &[(i64, Form)]) -> CResult<Form> {
     store.linear(&refs)
 }
 
+/// (1/2) ginv^{ad} (t_bdc + t_cdb - t_dbc) for a tensor `t` indexed `[b][d][c]` and symmetric
+/// in its last two indices: the Christoffel symbols from t = d g, their first-order change
+/// from t = D h.
+fn connection(store: &mut Store, ginv: &Sym4, t: &[Sym4; 4]) -> CResult<Chris> {
+    let zero = store.zero();
+    let h = half();
+    let mut low = [[[zero; 4]; 4]; 4];
+    for d in 0..4 {
+        for b in 0..4 {
+            for c in b..4 {
+                let v =
+                    store.linear(&[(&h, t[b][d][c]), (&h, t[c][d][b]), (&h.neg(), t[d][b][c])])?;
+                low[d][b][c] = v;
+                low[d][c][b] = v;
+            }
+        }
+    }
+    let mut out = [[[zero; 4]; 4]; 4];
+    for a in 0..4 {
+        for b in 0..4 {
+            for c in b..4 {
+                let pairs: Vec<(Form, Form)> = (0..4).map(|d| (ginv[a][d], low[d][b][c])).collect();
+                let v = dot(store, &pairs)?;
+                out[a][b][c] = v;
+                out[a][c][b] = v;
+            }
+        }
+    }
+    Ok(out)
+}
+
+/// The six permutations of (0, 1, 2) with their signs.
+pub const PERMUTATIONS3: [([usize; 3], i64); 6] = [
+    ([0, 1, 2], 1),
+    ([1, 2, 0], 1),
+    ([2, 0, 1], 1),
+    ([0, 2, 1], -1),
+    ([2, 1, 0], -1),
+    ([1, 0, 2], -1),
+];
+
 /// The inverse of a symmetric matrix of forms: the adjugate over the determinant, by
 /// cofactor expansion (diagonal metrics take the short way).
 ///
@@ -105,14 +146,7 @@ pub fn inverse(store: &mut Store, g: &Sym4) -> CResult<Sym4> {
 
 fn det3(store: &mut Store, g: &Sym4, r: &[usize], c: &[usize]) -> CResult<Form> {
     let mut terms = Vec::new();
-    for (p, sign) in [
-        ([0, 1, 2], 1),
-        ([1, 2, 0], 1),
-        ([2, 0, 1], 1),
-        ([0, 2, 1], -1),
-        ([2, 1, 0], -1),
-        ([1, 0, 2], -1),
-    ] {
+    for (p, sign) in PERMUTATIONS3 {
         let a = store.mul(g[r[0]][c[p[0]]], g[r[1]][c[p[1]]])?;
         let t = store.mul(a, g[r[2]][c[p[2]]])?;
         terms.push((sign, t));
@@ -164,34 +198,8 @@ impl Background {
                 }
             }
         }
-        // Gamma_{d bc} = (1/2)(d_b g_dc + d_c g_db - d_d g_bc), then raised.
-        let h = half();
-        let mut low = [[[zero; 4]; 4]; 4];
-        for d in 0..4 {
-            for b in 0..4 {
-                for c in b..4 {
-                    let v = store.linear(&[
-                        (&h, dg[b][d][c]),
-                        (&h, dg[c][d][b]),
-                        (&h.neg(), dg[d][b][c]),
-                    ])?;
-                    low[d][b][c] = v;
-                    low[d][c][b] = v;
-                }
-            }
-        }
-        let mut gamma = [[[zero; 4]; 4]; 4];
-        for a in 0..4 {
-            for b in 0..4 {
-                for c in b..4 {
-                    let pairs: Vec<(Form, Form)> =
-                        (0..4).map(|d| (ginv[a][d], low[d][b][c])).collect();
-                    let v = dot(store, &pairs)?;
-                    gamma[a][b][c] = v;
-                    gamma[a][c][b] = v;
-                }
-            }
-        }
+        // Gamma^a_bc = (1/2) g^{ad} (d_b g_dc + d_c g_db - d_d g_bc).
+        let gamma = connection(store, &ginv, &dg)?;
         Ok(Background {
             coords,
             g,
@@ -485,34 +493,7 @@ impl Perturbation {
             return Ok(g);
         }
         let dh = self.covariant(store, bg)?;
-        let zero = store.zero();
-        let h = half();
-        let mut low = [[[zero; 4]; 4]; 4];
-        for d in 0..4 {
-            for b in 0..4 {
-                for c in b..4 {
-                    let v = store.linear(&[
-                        (&h, dh[b][d][c]),
-                        (&h, dh[c][d][b]),
-                        (&h.neg(), dh[d][b][c]),
-                    ])?;
-                    low[d][b][c] = v;
-                    low[d][c][b] = v;
-                }
-            }
-        }
-        let mut out = [[[zero; 4]; 4]; 4];
-        for a in 0..4 {
-            for b in 0..4 {
-                for c in b..4 {
-                    let pairs: Vec<(Form, Form)> =
-                        (0..4).map(|d| (bg.ginv[a][d], low[d][b][c])).collect();
-                    let v = dot(store, &pairs)?;
-                    out[a][b][c] = v;
-                    out[a][c][b] = v;
-                }
-            }
-        }
+        let out = connection(store, &bg.ginv, &dh)?;
         self.dgamma = Some(out);
         Ok(out)
     }
