@@ -243,7 +243,10 @@ fn is_background(q: Quantity) -> bool {
 
 /// The quantity about the problem's background (Minkowski in Cartesian coordinates without
 /// one), named in the problem's coordinates; covariant derivatives are the background's.
-fn curved_rows(p: &mut lingrav::Problem, quantity: Quantity) -> Result<Vec<(String, Form)>, Failure> {
+fn curved_rows(
+    p: &mut lingrav::Problem,
+    quantity: Quantity,
+) -> Result<Vec<(String, Form)>, Failure> {
     use lingrav::tensor::curved::{Background, Perturbation};
     let limit = |e: CanonError| gave_up(&e);
     let frame = lingrav::tensor::Frame::covariant(p.coordinates.clone());
@@ -278,14 +281,20 @@ fn curved_rows(p: &mut lingrav::Problem, quantity: Quantity) -> Result<Vec<(Stri
         let mut rows = Vec::new();
         for (l, cl) in c.iter().enumerate() {
             for &(i, j) in &COMPONENTS {
-                rows.push((format!("{letter}^{}_{}", frame.coord(l), frame.index(&[i, j])), cl[i][j]));
+                rows.push((
+                    format!("{letter}^{}_{}", frame.coord(l), frame.index(&[i, j])),
+                    cl[i][j],
+                ));
             }
         }
         rows
     };
     Ok(match quantity {
         Quantity::H => sym("h", &p.h),
-        Quantity::Trace => vec![("gbar^{mu nu} h_{mu nu}".into(), h.trace(store, &bg).map_err(limit)?)],
+        Quantity::Trace => vec![(
+            "gbar^{mu nu} h_{mu nu}".into(),
+            h.trace(store, &bg).map_err(limit)?,
+        )],
         Quantity::Hbar => {
             let tr = h.trace(store, &bg).map_err(limit)?;
             let mut hb = p.h;
