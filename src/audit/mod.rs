@@ -718,6 +718,8 @@ impl<S: Scalar> Fields<S> {
         let comp = match field {
             Field::H => &self.h[mu][nu],
             Field::T => &self.t.as_ref()?[mu][nu],
+            // The flat claims' formulas never name the background's fields.
+            Field::Gbar | Field::Tbar | Field::Xi | Field::Lambda => return None,
         };
         comp.partial(d, &self.ctx)
     }

@@ -25,8 +25,16 @@ const ETA: [f64; 4] = [-1.0, 1.0, 1.0, 1.0];
 pub enum Field {
     /// The perturbation `h_{mu nu}`.
     H,
-    /// The source `T_{mu nu}`.
+    /// The source `T_{mu nu}` (about a background: its perturbation `dT_{mu nu}`).
     T,
+    /// The background metric `gbar_{mu nu}` (problems about a background).
+    Gbar,
+    /// The background source `Tbar_{mu nu}`.
+    Tbar,
+    /// The gauge vector `xi_mu` (index down; the component in `mu`, `nu` unused).
+    Xi,
+    /// The cosmological constant (a constant channel; indices unused).
+    Lambda,
 }
 
 /// A derivative of a sample: none, first along an axis, or second along two (sorted).

@@ -43,6 +43,7 @@
 //! number of threads.
 
 pub mod claims;
+pub mod curved;
 pub mod plot;
 pub mod stencil;
 pub mod sweep;
@@ -51,12 +52,13 @@ mod tests;
 pub mod verdict;
 
 pub use claims::{Atom, ClaimSpec, Combo, Deriv, Field, box_hbar, claim_specs};
+pub use curved::{CurvedPlan, Tracked};
 pub use stencil::{ORDERS, Stencil};
 pub use sweep::{Box4, Buffers, Sweep};
 pub use verdict::{Finding, classify, observed_orders};
 
 use crate::canon::{Form, FunctionSample, Store};
-use crate::problem::{GridSpec, Problem};
+use crate::problem::{Domain, GridSpec, Problem};
 use crate::tape::{Binding, Compiler, Lowering, Node, Tape, TapeError, UserExprs};
 use rustc_hash::FxHashMap;
 use std::rc::Rc;
@@ -85,12 +87,14 @@ pub fn default_points(order: u32) -> Vec<usize> {
 pub enum GridError {
     /// A sample is not finite (a pole, `r = 0` of a point source, an overflow).
     #[error(
-        "{component} is {value} at (t, x, y, z) = ({}, {}, {}, {}) (a grid point at {points} points per side)",
+        "{component} is {value} at ({coordinates}) = ({}, {}, {}, {}) (a grid point at {points} points per side)",
         point[0], point[1], point[2], point[3]
     )]
     NonFinite {
         /// The component, e.g. `h_tt`.
         component: String,
+        /// The coordinate names, e.g. `t, x, y, z`.
+        coordinates: String,
         /// The point.
         point: [f64; 4],
         /// `NaN` or `infinite`.
@@ -100,12 +104,14 @@ pub enum GridError {
     },
     /// A sample has an imaginary part that is not round-off.
     #[error(
-        "{component} is not real: imaginary part {imaginary:.3e} at (t, x, y, z) = ({}, {}, {}, {}), where the largest |value| is {magnitude:.3e}",
+        "{component} is not real: imaginary part {imaginary:.3e} at ({coordinates}) = ({}, {}, {}, {}), where the largest |value| is {magnitude:.3e}",
         point[0], point[1], point[2], point[3]
     )]
     NotReal {
         /// The component.
         component: String,
+        /// The coordinate names, e.g. `t, x, y, z`.
+        coordinates: String,
         /// Where the imaginary part is largest.
         point: [f64; 4],
         /// Its size.
@@ -151,6 +157,9 @@ pub struct Channel {
     pub nu: usize,
     /// Whether it depends on `t` (sampled every slab) or not (sampled once).
     pub dynamic: bool,
+    /// Bit `a` set when it depends on coordinate `a` (its derivatives along the others are
+    /// exactly 0).
+    pub axes: u8,
     /// Its output number in its tape.
     pub(crate) slot: usize,
 }
@@ -177,6 +186,11 @@ pub struct ClaimPlan {
     pub asserted: Option<bool>,
     /// The components.
     pub components: Vec<ComponentPlan>,
+    /// Why the grids do not check this claim (`None`: they do).
+    pub not_checked: Option<String>,
+    /// Whether components that do not vanish refute the claim; not for a claim that the
+    /// file's gauge vector gives `h` (another vector may: [`crate::claim::Kind::refuted_by_witness`]).
+    pub refutable: bool,
 }
 
 /// Everything compiled before any sampling: the channels and their tapes, the derivatives
@@ -191,6 +205,12 @@ pub struct GridPlan {
     pub claims: Vec<ClaimPlan>,
     /// True if the file had a [claims] table.
     pub has_claims: bool,
+    /// The coordinate names, time first (`t, x, y, z` for flat problems).
+    pub coordinates: [String; 4],
+    /// About a background: where gbar, h and the rest are sampled, and each component's
+    /// [`crate::claim::Part`] (`None`: a flat problem, whose components are the linear
+    /// combinations of [`ComponentPlan::terms`]).
+    pub curved: Option<CurvedPlan>,
     pub(crate) dynamic: Tape,
     pub(crate) statics: Tape,
 }
@@ -203,6 +223,9 @@ impl GridPlan {
     /// A component that cannot be compiled (a symbol without a value, a function without a
     /// sample).
     pub fn for_problem(p: &mut Problem) -> Result<GridPlan, GridError> {
+        if p.background.is_some() {
+            return curved::plan(p);
+        }
         let specs = claim_specs(p.claims.as_ref(), p.source.is_some());
         let has_claims = p.claims.is_some();
         // Sampled through the user's own expressions (defines, d_ operator, function samples),
@@ -277,7 +300,7 @@ impl GridPlan {
         GridPlan::assemble(builder, comps, specs, has_claims)
     }
 
-    fn assemble(
+    pub(crate) fn assemble(
         builder: crate::tape::TapeBuilder,
         comps: Vec<(Field, String, usize, usize, Node)>,
         specs: Vec<ClaimSpec>,
@@ -291,7 +314,8 @@ impl GridPlan {
             if builder.is_zero(node) {
                 continue;
             }
-            let dynamic = builder.mask(node) & 1 != 0;
+            let axes = builder.mask(node);
+            let dynamic = axes & 1 != 0;
             index.insert((field, mu, nu), channels.len());
             channels.push(Channel {
                 name,
@@ -299,6 +323,7 @@ impl GridPlan {
                 mu,
                 nu,
                 dynamic,
+                axes,
                 slot: 0,
             });
             nodes.push(node);
@@ -348,6 +373,8 @@ impl GridPlan {
                 heading: spec.heading,
                 asserted: spec.asserted,
                 components,
+                not_checked: None,
+                refutable: true,
             });
         }
         Ok(GridPlan {
@@ -355,6 +382,8 @@ impl GridPlan {
             atoms,
             claims,
             has_claims,
+            coordinates: crate::tensor::COORDS.map(String::from),
+            curved: None,
             dynamic,
             statics,
         })
@@ -441,12 +470,20 @@ impl GridPlan {
         let mut samples = 0.0f64;
         let mut bytes = 0.0f64;
         let mut seconds = 0.0f64;
+        // About a background every measured point (the coarsest grid's interior, a fraction
+        // `inner` of the box per axis) runs the curvature chain once.
+        let coarsest = settings.points.first().map_or(1.0, |&n| n as f64);
+        let inner = (1.0 - f64::from(settings.order) / (coarsest - 1.0).max(1.0)).max(0.0);
         for &n in &settings.points {
             let n = n as f64;
             let cube = n * n * n;
             samples += cube * n * nd + cube * ns;
             bytes = bytes.max((slabs * nd + ns) * cube * 8.0);
             seconds += cube * n * per_point * 1e-9;
+            if self.curved.is_some() {
+                let m = (n - 1.0) * inner + 1.0;
+                seconds += m.powi(4) * curved::POINT_COST * 1e-9;
+            }
         }
         let to_u64 = |v: f64| {
             if v >= u64::MAX as f64 {
@@ -490,6 +527,68 @@ impl GridSettings {
             order,
             mask_nonfinite: false,
         }
+    }
+
+    /// The default centre for a problem with coordinate ranges `domain`: the middle of each
+    /// given range, [`DEFAULT_CENTER`]'s value along the others.
+    #[must_use]
+    pub fn default_center(domain: Option<&Domain>) -> [f64; 4] {
+        std::array::from_fn(|a| match domain.and_then(|d| d[a]) {
+            Some((lo, hi)) => lo + (hi - lo) / 2.0,
+            None => DEFAULT_CENTER[a],
+        })
+    }
+
+    /// The default side of a box centred on `center` for coordinate ranges `domain`:
+    /// [`DEFAULT_WIDTH`], or less so that the box takes at most half of the room on either
+    /// side of the centre within every given range (half of the range for a centre in the
+    /// middle). Not positive when the centre lies outside a range.
+    #[must_use]
+    pub fn default_width(center: &[f64; 4], domain: Option<&Domain>) -> f64 {
+        let mut w = DEFAULT_WIDTH;
+        for (a, range) in domain.into_iter().flatten().enumerate() {
+            if let Some((lo, hi)) = range {
+                w = w.min((center[a] - lo).min(hi - center[a]));
+            }
+        }
+        w
+    }
+
+    /// Checks that the box lies inside the coordinate ranges `domain` (where the problem is
+    /// meant to hold; a box outside may meet a horizon, an axis or a singularity).
+    ///
+    /// # Errors
+    ///
+    /// The first coordinate whose range the box leaves, with the box's extent.
+    pub fn check_domain(
+        &self,
+        domain: Option<&Domain>,
+        names: &[String; 4],
+    ) -> Result<(), GridError> {
+        let Some(d) = domain else { return Ok(()) };
+        for (a, range) in d.iter().enumerate() {
+            let Some((lo, hi)) = *range else { continue };
+            let c = self.center[a];
+            if !(c >= lo && c <= hi) {
+                return Err(GridError::Settings(format!(
+                    "the grid's centre lies outside [domain]: {} = {c}, but the domain of {} is \
+                     [{lo}, {hi}]",
+                    names[a], names[a]
+                )));
+            }
+            let (from, to) = (
+                self.center[a] - self.width / 2.0,
+                self.center[a] + self.width / 2.0,
+            );
+            if !(from >= lo && to <= hi) {
+                return Err(GridError::Settings(format!(
+                    "the grid's box reaches outside [domain]: {} runs over [{from}, {to}] \
+                     (centre {}, side {}), but the domain of {} is [{lo}, {hi}]",
+                    names[a], self.center[a], self.width, names[a]
+                )));
+            }
+        }
+        Ok(())
     }
 
     /// The spacing at `points` points per side.
@@ -669,6 +768,10 @@ pub struct GridReport {
     pub has_claims: bool,
     /// Per channel: name and estimated rounding error of its samples.
     pub sample_errors: Vec<(String, f64)>,
+    /// The coordinate names, time first.
+    pub coordinates: [String; 4],
+    /// True for a problem about a background (the claims from the curvature chain).
+    pub background: bool,
 }
 
 impl GridReport {
@@ -690,7 +793,7 @@ fn point_text(p: &[f64; 4]) -> String {
     format!("({:.4}, {:.4}, {:.4}, {:.4})", p[0], p[1], p[2], p[3])
 }
 
-fn explain(finding: &Finding, rows: &[Row], q: u32) -> String {
+fn explain(finding: &Finding, rows: &[Row], q: u32, axes: &str) -> String {
     let last = rows.last().expect("at least one resolution");
     let (r, f) = (last.residual, last.floor);
     match finding {
@@ -716,7 +819,7 @@ fn explain(finding: &Finding, rows: &[Row], q: u32) -> String {
                 .as_ref()
                 .map(|w| {
                     format!(
-                        "; largest: {} at (t, x, y, z) = {}",
+                        "; largest: {} at ({axes}) = {}",
                         w.component,
                         point_text(&w.point)
                     )
@@ -771,13 +874,14 @@ pub fn run(
         };
         let per_slab = (n as u64).pow(3);
         let base = done;
-        let sw = sweep::sweep_with(
+        let sw = sweep::sweep_errors(
             &mut bufs,
             plan,
             &b,
             &st,
             settings.mask_nonfinite,
             Some(region),
+            &errors,
             &mut |slab, slabs| {
                 progress(Progress {
                     level: li,
@@ -799,12 +903,33 @@ pub fn run(
         sweeps.push((b, sw));
     }
     let spacings: Vec<f64> = levels.iter().map(|l| l.spacing).collect();
+    // Flat problems: the floors of linear combinations; about a background the sweep carried
+    // the sample errors through the curvature chain at every point.
     let floors: Vec<Vec<Vec<f64>>> = spacings
         .iter()
-        .map(|&h| plan.floors(&errors, &st, h))
+        .zip(&sweeps)
+        .map(|(&h, (_, sw))| match &sw.floors {
+            Some(f) => f.clone(),
+            None => plan.floors(&errors, &st, h),
+        })
         .collect();
+    let axes = plan.coordinates.join(", ");
     let mut claims = Vec::new();
     for (ci, claim) in plan.claims.iter().enumerate() {
+        if let Some(why) = &claim.not_checked {
+            claims.push(ClaimResult {
+                key: claim.key.clone(),
+                title: claim.title.clone(),
+                heading: claim.heading.clone(),
+                asserted: claim.asserted,
+                rows: Vec::new(),
+                orders: Vec::new(),
+                finding: Finding::Unclear(why.clone()),
+                status: GridStatus::Inconclusive,
+                explanation: format!("not checked on grids: {why}"),
+            });
+            continue;
+        }
         let mut rows = Vec::new();
         for (li, (b, sw)) in sweeps.iter().enumerate() {
             let comps = &sw.best[ci];
@@ -838,13 +963,23 @@ pub fn run(
         // Within the round-off floor nothing below the floor can be seen: unless the residual
         // is exactly 0 at every resolution, that is "not resolvable", never evidence.
         let unresolved = finding == Finding::AtFloor && rows.iter().any(|w| w.residual != 0.0);
+        // Components of a gauge vector's residual that do not vanish show only that this
+        // vector is not the one: that decides nothing.
+        let unrefuted = !claim.refutable && finding.vanishes() == Some(false);
         let status = match finding.vanishes() {
             _ if unresolved => GridStatus::Unresolved,
+            _ if unrefuted => GridStatus::Inconclusive,
             Some(v) if v == expect => GridStatus::Holds,
             Some(_) => GridStatus::Fails,
             None => GridStatus::Inconclusive,
         };
-        let explanation = explain(&finding, &rows, settings.order);
+        let mut explanation = explain(&finding, &rows, settings.order, &axes);
+        if unrefuted && !unresolved {
+            explanation.push_str(
+                "; so h is not the gauge transformation of the file's vector, which decides \
+                 nothing: another vector may still give h",
+            );
+        }
         claims.push(ClaimResult {
             key: claim.key.clone(),
             title: claim.title.clone(),
@@ -862,6 +997,8 @@ pub fn run(
         levels,
         claims,
         has_claims: plan.has_claims,
+        coordinates: plan.coordinates.clone(),
+        background: plan.curved.is_some(),
         sample_errors: plan
             .channels
             .iter()

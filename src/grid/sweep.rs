@@ -60,16 +60,20 @@ pub struct Sweep {
     pub interior: usize,
     /// Sample values (point, channel) that were not finite and were masked.
     pub masked: usize,
+    /// About a background, per claim, per component: the largest round-off bound over the
+    /// measured points (the sample errors carried through the curvature chain); `None` for
+    /// flat problems, whose floors come from [`GridPlan::floors`].
+    pub floors: Option<Vec<Vec<f64>>>,
 }
 
 /// One stencil term: offsets along (t, x, y, z) and weight (spacing included).
 #[derive(Clone, Copy, Debug)]
-struct Term {
-    d: [i32; 4],
-    w: f64,
+pub(super) struct Term {
+    pub(super) d: [i32; 4],
+    pub(super) w: f64,
 }
 
-fn terms(deriv: Deriv, st: &Stencil, h: f64) -> Vec<Term> {
+pub(super) fn terms(deriv: Deriv, st: &Stencil, h: f64) -> Vec<Term> {
     let s = st.half as i32;
     let unit = |a: u8, k: i32| {
         let mut d = [0; 4];
@@ -168,7 +172,7 @@ fn each_plane<S: Send, R: Send>(
 }
 
 /// `f(i)` for `i` in `range`, in parallel; results in order.
-fn each_index<R: Send>(
+pub(super) fn each_index<R: Send>(
     range: std::ops::Range<usize>,
     f: impl Fn(usize) -> R + Sync + Send,
 ) -> Vec<R> {
@@ -225,6 +229,7 @@ fn absorb(
                 let ch: &Channel = &plan.channels[channels[j]];
                 return Err(GridError::NonFinite {
                     component: ch.name.clone(),
+                    coordinates: plan.coordinates.join(", "),
                     point: b.point([it, ix, iy, iz]),
                     value: if v.re.is_nan() || v.im.is_nan() {
                         "NaN".into()
@@ -334,6 +339,37 @@ pub fn sweep_with(
     region: Option<[[f64; 2]; 4]>,
     progress: &mut dyn FnMut(usize, usize),
 ) -> Result<Sweep, GridError> {
+    // About a background the round-off floor needs the sample errors during the sweep.
+    let errors = match plan.curved {
+        Some(_) => {
+            let width = b.spacing * (b.counts[0].max(2) - 1) as f64;
+            probe_errors(plan, b.center, width, super::PROBE_POINTS)
+        }
+        None => Vec::new(),
+    };
+    sweep_errors(bufs, plan, b, st, mask, region, &errors, progress)
+}
+
+/// [`sweep_with`] with the per-channel sample errors (from [`probe_errors`]) given, which
+/// only a problem about a background uses.
+///
+/// # Errors
+///
+/// As [`sweep`].
+#[allow(
+    clippy::too_many_arguments,
+    reason = "the sweep's inputs, each needed; a struct would only rename them"
+)]
+pub fn sweep_errors(
+    bufs: &mut Buffers,
+    plan: &GridPlan,
+    b: &Box4,
+    st: &Stencil,
+    mask: bool,
+    region: Option<[[f64; 2]; 4]>,
+    errors: &[f64],
+    progress: &mut dyn FnMut(usize, usize),
+) -> Result<Sweep, GridError> {
     let s = st.half;
     let [nt, nx, ny, nz] = b.counts;
     if b.counts.iter().any(|&n| n < 2 * s + 1) {
@@ -393,6 +429,11 @@ pub fn sweep_with(
         .map(|&(_, d)| terms(d, st, b.spacing))
         .collect();
     let fused = fuse(plan, &atom_terms);
+    // About a background: the stencils of every derivative the curvature chain needs.
+    let point = plan
+        .curved
+        .as_ref()
+        .map(|c| super::curved::PointStencils::new(c, plan, st, b.spacing, errors));
     let ranges: [std::ops::Range<usize>; 4] =
         std::array::from_fn(|a| measured(b, a, s, region.map(|r| r[a])));
     let len = ranges[3].len();
@@ -402,6 +443,12 @@ pub fn sweep_with(
         .map(|c| vec![(0.0, [0; 4]); c.components.len()])
         .collect();
     let mut skipped = vec![0usize; plan.claims.len()];
+    let mut floors: Option<Vec<Vec<f64>>> = point.as_ref().map(|_| {
+        plan.claims
+            .iter()
+            .map(|c| vec![0.0; c.components.len()])
+            .collect()
+    });
 
     for it in 0..nt {
         if nd > 0 {
@@ -431,8 +478,9 @@ pub fn sweep_with(
                 ny,
                 nz,
             };
-            let planes = each_index(ranges[1].clone(), |ix| {
-                residual_plane(plan, &window, &fused, ix, &ranges, center)
+            let planes = each_index(ranges[1].clone(), |ix| match &point {
+                None => residual_plane(plan, &window, &fused, ix, &ranges, center),
+                Some(k) => super::curved::residual_plane(plan, k, &window, ix, &ranges, center),
             });
             for p in planes {
                 for (ci, claim) in p.best.iter().enumerate() {
@@ -442,6 +490,13 @@ pub fn sweep_with(
                         }
                     }
                     skipped[ci] += p.skipped[ci];
+                }
+                if let (Some(all), Some(f)) = (floors.as_mut(), p.floors) {
+                    for (a, b) in all.iter_mut().zip(f) {
+                        for (x, y) in a.iter_mut().zip(b) {
+                            *x = x.max(y);
+                        }
+                    }
                 }
             }
         }
@@ -453,6 +508,7 @@ pub fn sweep_with(
         if im > 1e-6 * reality.abs[c] && im > 0.0 {
             return Err(GridError::NotReal {
                 component: ch.name.clone(),
+                coordinates: plan.coordinates.join(", "),
                 point: b.point(at),
                 imaginary: im,
                 magnitude: reality.abs[c],
@@ -465,11 +521,12 @@ pub fn sweep_with(
         skipped,
         interior,
         masked,
+        floors,
     })
 }
 
 /// The samples a stencil centred on slab `center` can reach.
-struct Window<'a> {
+pub(super) struct Window<'a> {
     ring: &'a [Vec<f64>],
     center: usize,
     w: usize,
@@ -482,7 +539,7 @@ struct Window<'a> {
 
 impl Window<'_> {
     /// The `z`-line of `channel` at slab offset `dt`, plane `ix`, row `iy`.
-    fn line(&self, ch: &Channel, dt: i32, ix: usize, iy: usize) -> &[f64] {
+    pub(super) fn line(&self, ch: &Channel, dt: i32, ix: usize, iy: usize) -> &[f64] {
         let plane = self.ny * self.nz;
         if ch.dynamic {
             let slab = &self.ring[(self.center as i64 + i64::from(dt)) as usize % self.w];
@@ -495,9 +552,11 @@ impl Window<'_> {
     }
 }
 
-struct PlaneResult {
-    best: Vec<Vec<(f64, [usize; 4])>>,
-    skipped: Vec<usize>,
+pub(super) struct PlaneResult {
+    pub(super) best: Vec<Vec<(f64, [usize; 4])>>,
+    pub(super) skipped: Vec<usize>,
+    /// About a background: per claim, per component, the largest round-off bound.
+    pub(super) floors: Option<Vec<Vec<f64>>>,
 }
 
 /// A linear combination of stencil terms on one channel (terms at one offset merged).
@@ -725,7 +784,11 @@ fn residual_plane(
             skipped[ci] += skip.iter().filter(|&&x| x).count();
         }
     }
-    PlaneResult { best, skipped }
+    PlaneResult {
+        best,
+        skipped,
+        floors: None,
+    }
 }
 
 /// Per channel, the largest running error bound of the samples at `n^4` points spread over

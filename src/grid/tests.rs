@@ -425,3 +425,122 @@ fn kept_sample_buffers_give_the_residuals_of_fresh_ones() {
         assert!(fresh.best[0].iter().any(|x| x.0 > 0.0));
     }
 }
+
+// ----- about a background (issue 12) ------------------------------------------------------
+
+/// A perturbation that solves nothing, so every component of the field equations is nonzero.
+const NOT_A_SOLUTION: &str = "[perturbation]\nxx = 'sin(t + 2*y)*x'\nty = 'cos(x - z)*t^2'\n\
+                              zz = 'exp(y/3)*t'\n";
+
+#[test]
+fn minkowski_written_as_a_background_gives_the_flat_residuals() {
+    // The curvature chain over dual numbers on Minkowski's constant samples is the flat
+    // linearized Einstein tensor of the same differenced samples: the two routes agree
+    // component by component to rounding, though they share no formula.
+    let flat_text = format!("{NOT_A_SOLUTION}[claims]\nfield_equations = true\n");
+    let curved_text = format!("{flat_text}[background]\ntt = '-1'\nxx = '1'\nyy = '1'\nzz = '1'\n");
+    let mut flat = crate::problem::from_str("flat.toml", &flat_text).unwrap();
+    let mut curved = crate::problem::from_str("curved.toml", &curved_text).unwrap();
+    assert!(curved.background.is_some());
+    let fp = GridPlan::for_problem(&mut flat).unwrap();
+    let cp = GridPlan::for_problem(&mut curved).unwrap();
+    assert!(fp.curved.is_none() && cp.curved.is_some());
+    let st = Stencil::central(4).unwrap();
+    let b = Box4 {
+        center: [0.3, 0.4, 0.5, 0.6],
+        spacing: 0.04,
+        counts: [7, 8, 7, 9],
+    };
+    let fs = sweep::sweep(&fp, &b, &st, false, None, &mut |_, _| {}).unwrap();
+    let cs = sweep::sweep(&cp, &b, &st, false, None, &mut |_, _| {}).unwrap();
+    let fe = |p: &GridPlan| {
+        p.claims
+            .iter()
+            .position(|c| c.key == "field_equations")
+            .unwrap()
+    };
+    let (fi, ci) = (fe(&fp), fe(&cp));
+    assert_eq!(cp.claims[ci].components[0].name, "dG_tt");
+    assert_eq!(fs.best[fi].len(), 10);
+    let mut exercised = 0;
+    for (k, (f, c)) in fs.best[fi].iter().zip(&cs.best[ci]).enumerate() {
+        exercised += usize::from(f.0 > 1e-3);
+        assert!(
+            (f.0 - c.0).abs() <= 1e-9 * f.0.max(1.0),
+            "component {k}: flat {}, curved {}",
+            f.0,
+            c.0
+        );
+    }
+    assert!(exercised >= 6, "only {exercised} components are nonzero");
+    // The background's own equations: Minkowski's samples are constants, so the residual is
+    // exactly 0 (their derivatives are exactly 0), and the round-off floors of the field
+    // equations are small, and positive where the samples of h enter.
+    let bg = cp
+        .claims
+        .iter()
+        .position(|c| c.key == "background")
+        .unwrap();
+    assert!(cs.best[bg].iter().all(|&(v, _)| v == 0.0));
+    let floors = cs.floors.as_ref().unwrap();
+    assert!(floors[bg].iter().all(|&f| f == 0.0), "{floors:?}");
+    assert!(floors[ci].iter().all(|&f| f < 1e-9), "{floors:?}");
+    assert!(
+        floors[ci].iter().filter(|&&f| f > 0.0).count() >= 6,
+        "{floors:?}"
+    );
+    assert!(fs.floors.is_none());
+}
+
+#[test]
+fn a_degenerate_background_is_skipped_point_by_point_not_a_panic() {
+    // gbar_rr = 0: the inverse does not exist at any point; every measured point is skipped
+    // and counted, and the run ends with a verdict, never a panic.
+    let text = "coordinates = ['t', 'r', 'th', 'ph']\n[background]\nt.t = '-1'\n\
+                th.th = 'r^2'\nph.ph = 'r^2*sin(th)^2'\n[perturbation]\nt.t = '1/r'\n\
+                [claims]\nfield_equations = true\n";
+    let mut p = crate::problem::from_str("test.toml", text).unwrap();
+    let plan = GridPlan::for_problem(&mut p).unwrap();
+    let settings = GridSettings {
+        center: [0.0, 3.0, 1.0, 0.5],
+        width: 0.2,
+        points: vec![6, 8, 10],
+        order: 2,
+        mask_nonfinite: false,
+    };
+    let report = run(&plan, &settings, &mut |_| {}).unwrap();
+    for c in &report.claims {
+        assert_eq!(c.status, GridStatus::Inconclusive, "{c:?}");
+        assert!(c.rows.iter().all(|r| r.skipped > 0));
+    }
+}
+
+#[test]
+fn default_boxes_fit_inside_the_domain() {
+    let domain = [None, Some((3.0, 9.0)), Some((0.5, 0.6)), None];
+    let c = GridSettings::default_center(Some(&domain));
+    assert_eq!(c, [DEFAULT_CENTER[0], 6.0, 0.55, DEFAULT_CENTER[3]]);
+    let w = GridSettings::default_width(&c, Some(&domain));
+    assert!((w - 0.05).abs() < 1e-12, "{w}");
+    let s = GridSettings {
+        center: c,
+        width: w,
+        points: default_points(4),
+        order: 4,
+        mask_nonfinite: false,
+    };
+    let names = ["t", "r", "th", "ph"].map(String::from);
+    assert!(s.check_domain(Some(&domain), &names).is_ok());
+    let wide = GridSettings { width: 0.2, ..s };
+    let e = wide.check_domain(Some(&domain), &names).unwrap_err();
+    assert!(
+        e.to_string().contains("the domain of th is [0.5, 0.6]"),
+        "{e}"
+    );
+    // Without a domain, the flat defaults.
+    assert_eq!(GridSettings::default_center(None), DEFAULT_CENTER);
+    assert_eq!(
+        GridSettings::default_width(&DEFAULT_CENTER, None),
+        DEFAULT_WIDTH
+    );
+}

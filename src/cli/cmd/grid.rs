@@ -25,7 +25,8 @@ pub struct GridArgs {
     /// Order of accuracy of the central differences: 2, 4, 6 or 8.
     #[arg(long, default_value_t = grid::DEFAULT_ORDER, value_parser = parse_order)]
     order: u32,
-    /// Centre of the 4-d box (overrides [grid] center).
+    /// Centre of the 4-d box, in the file's coordinates (overrides [grid] center; default:
+    /// the middle of [domain] where given).
     #[arg(
         long,
         value_delimiter = ',',
@@ -69,11 +70,14 @@ fn input_error(message: String, help: &str) -> Failure {
 }
 
 /// The grid settings, from the file's [grid] table, the flags and the defaults, and which of
-/// them are defaults.
+/// them are defaults. With a [domain], the default centre is its middle and the default side
+/// fits inside it, and the box must lie inside it.
 fn settings(
     a: &GridArgs,
-    spec: Option<&lingrav::problem::GridSpec>,
+    problem: &lingrav::problem::Problem,
 ) -> Result<(GridSettings, Vec<&'static str>), Failure> {
+    let spec = problem.grid.as_ref();
+    let domain = problem.domain.as_ref();
     let mut s = GridSettings::from_spec(spec, a.order);
     let mut defaults = Vec::new();
     let given = |f: fn(&lingrav::problem::GridSpec) -> bool| spec.is_some_and(f);
@@ -92,20 +96,24 @@ fn settings(
         s.center = c;
     } else if !given(|g| g.center.is_some()) {
         defaults.push("center");
+        s.center = GridSettings::default_center(domain);
     }
     if let Some(w) = a.width {
         s.width = w;
     } else if !given(|g| g.width.is_some()) {
         defaults.push("width");
+        s.width = GridSettings::default_width(&s.center, domain);
     }
     s.mask_nonfinite = a.mask_nonfinite;
-    s.validate().map_err(|e| {
-        input_error(
-            e.to_string(),
-            "set the grid in the file's [grid] table (center, width, points) or with --center, \
-             --width, --points; e.g. --order 8 --points 12,24,48",
-        )
-    })?;
+    s.check_domain(domain, &problem.coordinates)
+        .and_then(|()| s.validate())
+        .map_err(|e| {
+            input_error(
+                e.to_string(),
+                "set the grid in the file's [grid] table (center, width, points) or with \
+                 --center, --width, --points; e.g. --order 8 --points 12,24,48",
+            )
+        })?;
     Ok((s, defaults))
 }
 
@@ -153,8 +161,8 @@ fn check_estimate(plan: &GridPlan, settings: &GridSettings, a: &GridArgs) -> Res
 /// `lingrav grid`.
 pub fn run(a: GridArgs) -> Result<Outcome, Failure> {
     // Plan: read and build the file, resolve the grid, compile, check the plot's folder.
-    let mut problem = a.limits.load_flat(&a.file, "grid")?;
-    let (settings, defaults) = settings(&a, problem.grid.as_ref())?;
+    let mut problem = a.limits.load(&a.file)?;
+    let (settings, defaults) = settings(&a, &problem)?;
     let plot = match &a.plot {
         Some(p) => Some(
             AtomicFile::create(p, a.force)
@@ -164,11 +172,12 @@ pub fn run(a: GridArgs) -> Result<Outcome, Failure> {
     };
     let plan = GridPlan::for_problem(&mut problem).map_err(|e| {
         limit_or(&e.to_string(), || {
-            input_error(
-                e.to_string(),
-                "every symbol needs a value: coordinates t, x, y, z, parameters from [parameters], \
+            let help = format!(
+                "every symbol needs a value: coordinates {}, parameters from [parameters], \
                  functions with a sample in [functions]",
-            )
+                problem.coordinates.join(", ")
+            );
+            input_error(e.to_string(), &help)
         })
     })?;
 
@@ -192,14 +201,19 @@ pub fn run(a: GridArgs) -> Result<Outcome, Failure> {
         line.update(p);
     });
     line.finish();
+    let what = if problem.background.is_some() {
+        "the fields"
+    } else {
+        "the perturbation"
+    };
     let report = result.map_err(|e| match &e {
         GridError::NonFinite { .. } => input_error(
-            format!("cannot sample the perturbation: {e}"),
+            format!("cannot sample {what}: {e}"),
             "move the box away from the singular point ([grid] center and width, or --center, \
              --width), or pass --mask-nonfinite to skip (and count) every stencil that touches it",
         ),
         GridError::NotReal { .. } => input_error(
-            format!("cannot sample the perturbation: {e}"),
+            format!("cannot sample {what}: {e}"),
             "a component with a complex value (a root or logarithm of a negative number) has no \
              real grid samples there; move the box or correct the expression",
         ),
@@ -286,7 +300,8 @@ fn render_text(label: &str, name: Option<&str>, r: &GridReport, defaults: &[&str
     );
     let _ = writeln!(
         s,
-        "  box: centre (t, x, y, z) = ({}, {}, {}, {}), side {}; {} points per side",
+        "  box: centre ({}) = ({}, {}, {}, {}), side {}; {} points per side",
+        r.coordinates.join(", "),
         s0.center[0],
         s0.center[1],
         s0.center[2],
@@ -300,6 +315,13 @@ fn render_text(label: &str, name: Option<&str>, r: &GridReport, defaults: &[&str
          the\n  interior of the coarsest grid (the same region at every resolution)",
         s0.order
     );
+    if r.background {
+        let _ = writeln!(
+            s,
+            "  about the background: at every interior point the claims' components come from \
+             the\n  full curvature chain (dual numbers) on the differenced samples of gbar and h"
+        );
+    }
     if !defaults.is_empty() {
         let _ = writeln!(
             s,
@@ -326,6 +348,11 @@ fn render_text(label: &str, name: Option<&str>, r: &GridReport, defaults: &[&str
     for c in &r.claims {
         let _ = writeln!(s);
         let _ = writeln!(s, "  {:<13}{}", word(c, r.has_claims), c.heading);
+        if c.rows.is_empty() {
+            // Not checked on grids: only the reason.
+            s.push_str(&wrap(&c.explanation, 15, 96));
+            continue;
+        }
         let _ = writeln!(
             s,
             "  {:13}{:>6}  {:>10}  {:>10}  {:>10}  {:>6}",
@@ -400,6 +427,7 @@ fn render_json(label: &str, name: Option<&str>, r: &GridReport, defaults: &[&str
         .iter()
         .map(|c| {
             let finding = match &c.finding {
+                _ if c.rows.is_empty() => "not_checked",
                 Finding::Converges { .. } => "converges",
                 Finding::AtFloor => "within_roundoff",
                 Finding::Stalls { .. } => "stalls",
@@ -426,7 +454,7 @@ fn render_json(label: &str, name: Option<&str>, r: &GridReport, defaults: &[&str
         })
         .collect();
     let s0 = &r.settings;
-    let j = serde_json::json!({
+    let mut j = serde_json::json!({
         "file": label,
         "name": name,
         "method": "convergence test on grids (numerical evidence, not proof)",
@@ -446,5 +474,9 @@ fn render_json(label: &str, name: Option<&str>, r: &GridReport, defaults: &[&str
         "claims": claims,
         "conventions": conventions(),
     });
+    if r.background {
+        // Only about a background, so that flat reports stay as they were.
+        j["grid"]["coordinates"] = serde_json::json!(r.coordinates);
+    }
     json(&j)
 }
