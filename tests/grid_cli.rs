@@ -46,17 +46,10 @@ fn grid_verdicts_agree_with_the_exact_check_on_every_worked_example() {
         let f = file.to_str().unwrap();
         let exact = json(&lingrav(&["check", "--format", "json", f]));
         let out = lingrav(&["grid", "--format", "json", "--points", POINTS, f]);
-        if exact["claims"][0]["key"] == "background" {
-            // A problem about a background: `grid` refuses it for now (exit 2, with help).
-            let err = String::from_utf8_lossy(&out.stderr);
-            assert_eq!(out.status.code(), Some(2), "{f}: {err}");
-            let words: Vec<&str> = err
-                .split_whitespace()
-                .filter(|w| *w != "\u{2502}")
-                .collect();
-            assert!(words.join(" ").contains("does not yet work"), "{f}: {err}");
-            continue;
-        }
+        // About a background the small default grids often leave a claim at the round-off
+        // floor (unresolved) or without a clean order (inconclusive): never a contradiction,
+        // never a confirmation; a holds/fails disagreement is still a problem.
+        let background = exact["claims"][0]["key"] == "background";
         let grid = json(&out);
         let code = out.status.code();
         for c in exact["claims"].as_array().unwrap() {
@@ -84,6 +77,10 @@ fn grid_verdicts_agree_with_the_exact_check_on_every_worked_example() {
                 unresolved_seen += 1;
                 continue;
             }
+            if background && (unresolved || g["status"] == "inconclusive") {
+                unresolved_seen += 1;
+                continue;
+            }
             if g["status"] != status {
                 problems.push(format!(
                     "{f}: {key}: exact {status}, grid {} ({})",
@@ -104,9 +101,17 @@ fn grid_verdicts_agree_with_the_exact_check_on_every_worked_example() {
             .any(|g| g["finding"] == "not_checked" && !g["asserted"].is_null());
         let unresolved_overall =
             grid["result"] == "unresolved" || (not_checked && grid["result"] == "inconclusive");
-        if want == Some(0) && unresolved_overall {
+        let weak =
+            background && matches!(grid["result"].as_str(), Some("unresolved" | "inconclusive"));
+        if want == Some(0) && unresolved_overall && !weak {
             // Exit 3: undecided at the floor, never "fails".
             if code != Some(3) {
+                problems.push(format!("{f}: exit {code:?} for a result not resolvable"));
+            }
+        } else if weak && want.is_some() {
+            // About a background: undecided on these grids, or the exact verdict; never the
+            // opposite of it.
+            if code != Some(3) && code != want {
                 problems.push(format!("{f}: exit {code:?} for a result not resolvable"));
             }
         } else if want.is_some() && code != want {

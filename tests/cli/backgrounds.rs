@@ -277,11 +277,11 @@ fn the_spoiled_slow_rotation() {
 #[test]
 fn other_commands_refuse_background_files() {
     // The commands that do not work about a background yet say so (exit 2); `show`,
-    // `project` and `gauge --vector` are tested in `curved_commands`.
+    // `project` and `gauge --vector` are tested in `curved_commands`, `grid` in `grid_cli`.
     let f = worked("schwarzschild_slow_rotation.toml");
     for args in [
-        vec!["grid", &f],
         vec!["ring", &f, "--direction", "z", "--times", "0"],
+        vec!["emit", &f, "--quantity", "h", "--lang", "c"],
     ] {
         let (out, err, code) = lingrav(&args);
         assert_eq!(code, 2, "{args:?}: {out}{err}");
