@@ -151,6 +151,9 @@ pub enum Kind {
     /// A gauge condition about a background (traces and divergences with gbar and its
     /// covariant derivative).
     CovariantGauge(Gauge),
+    /// The first-order change of the source's covariant divergence about a background (the
+    /// terms in which h acts on Tbar included).
+    CurvedConservation,
     /// h = D xi + D xi for the file's gauge vector: pure gauge when it holds; when it does
     /// not, that vector is not the one, which decides nothing.
     GaugeVector,
@@ -162,7 +165,7 @@ impl Kind {
     #[must_use]
     pub fn key(self) -> String {
         match self {
-            Kind::SourceConservation => "source_conservation".into(),
+            Kind::SourceConservation | Kind::CurvedConservation => "source_conservation".into(),
             Kind::FieldEquations { .. } => "field_equations".into(),
             Kind::Gauge(g) | Kind::CovariantGauge(g) => format!("gauge.{}", g.name()),
             Kind::PureGauge | Kind::GaugeVector => "pure_gauge".into(),
@@ -261,6 +264,10 @@ impl Kind {
                 "synchronous gauge (h_{0 mu} = 0)",
                 "not synchronous gauge (h_{0 mu} != 0)",
             ),
+            Kind::CurvedConservation => (
+                "source conservation (first-order change of gbar^{mu a} D_a T_{mu nu} = 0)",
+                "not source conservation (first-order change of gbar^{mu a} D_a T_{mu nu} != 0)",
+            ),
             Kind::GaugeVector => (
                 "pure gauge by the file's vector (h = D xi + D xi)",
                 "not pure gauge (h = D xi + D xi for the file's vector)",
@@ -272,7 +279,9 @@ impl Kind {
     #[must_use]
     pub fn parts(self) -> Vec<Part> {
         match self {
-            Kind::SourceConservation => (0..4).map(Part::Conservation).collect(),
+            Kind::SourceConservation | Kind::CurvedConservation => {
+                (0..4).map(Part::Conservation).collect()
+            }
             Kind::FieldEquations { sourced } => crate::tensor::COMPONENTS
                 .iter()
                 .map(|&(mu, nu)| Part::FieldEquation { mu, nu, sourced })
@@ -576,7 +585,7 @@ impl Plan {
         }];
         if sourced || s.background_sourced {
             out.push(Claim {
-                kind: Kind::SourceConservation,
+                kind: Kind::CurvedConservation,
                 asserted: claims.and_then(|c| c.field_equations.filter(|b| *b)),
             });
         }
