@@ -726,6 +726,8 @@ enum Part {
     Extra(usize),
     /// `h^TT_ij` (spatial indices from 0) with the direction `n` in extras 0, 1, 2.
     Tt(usize, usize),
+    /// A part about the file's background, by the pointwise route.
+    Curved(crate::claim::Part),
 }
 
 /// One problem file's jets and the names it accepts.
@@ -756,6 +758,10 @@ pub struct FileQuantities {
 fn h_order(parts: &[&Part]) -> u32 {
     let mut order = 0;
     for p in parts {
+        // The pointwise route needs h to second order.
+        if let Part::Curved(_) = p {
+            order = 2;
+        }
         if let Part::Combo(terms) = p {
             for (_, a) in terms {
                 order = order.max(match a.deriv {
@@ -820,6 +826,19 @@ impl FileQuantities {
     /// A text that cannot be planned.
     pub fn riemann_difference(a: &Problem, b: &Problem) -> Result<Self, AuditError> {
         let mut quantities = Vec::new();
+        if a.background.is_some() {
+            // About a (flat) background: the covariant linearized Riemann tensor of each file
+            // by the pointwise route, named in the first file's coordinates.
+            let frame = crate::tensor::Frame::covariant(a.coordinates.clone());
+            for p in Kind::PureGauge.parts() {
+                quantities.push(Quantity {
+                    claim: "riemann".into(),
+                    name: p.name_in(&frame),
+                    parts: vec![(0, 1.0, Part::Curved(p)), (1, -1.0, Part::Curved(p))],
+                });
+            }
+            return Self::plan(&[(a, Vec::new()), (b, Vec::new())], quantities);
+        }
         for p in Kind::PureGauge.parts() {
             let name = p.name();
             let combo =
@@ -980,6 +999,12 @@ fn part_value<S: Scalar>(
         }
         Part::Extra(i) => f.extra(*i),
         Part::Tt(i, j) => tt.as_ref()?.as_ref().map(|m| m[*i][*j].clone()),
+        Part::Curved(p) => {
+            let q = f
+                .pointwise()
+                .and_then(|pf| crate::pointwise::evaluate(&pf, ctx))?;
+            crate::audit::part_value(&q, f, *p)
+        }
     }
 }
 

@@ -803,8 +803,9 @@ impl<S: Scalar> Comp<S> {
 }
 
 impl<S: Scalar> Fields<S> {
-    /// The inputs of [`pointwise::evaluate`]; `None` if a field cannot be evaluated here.
-    fn pointwise(&self) -> Option<pointwise::Fields<S>> {
+    /// The inputs of [`pointwise::evaluate`]; `None` without a background or if a field
+    /// cannot be evaluated here.
+    pub(crate) fn pointwise(&self) -> Option<pointwise::Fields<S>> {
         let bg = self.background.as_ref()?;
         let ctx = &self.ctx;
         let sym1 =
@@ -832,7 +833,11 @@ impl<S: Scalar> Fields<S> {
 }
 
 /// The value of a part about a background from the pointwise quantities.
-fn part_value<S: Scalar>(q: &pointwise::Quantities<S>, fields: &Fields<S>, p: Part) -> Option<S> {
+pub(crate) fn part_value<S: Scalar>(
+    q: &pointwise::Quantities<S>,
+    fields: &Fields<S>,
+    p: Part,
+) -> Option<S> {
     Some(match p {
         Part::BackgroundEquation { mu, nu, .. } => q.background[mu][nu].clone(),
         Part::CurvedFieldEquation { mu, nu, .. } => q.field[mu][nu].clone(),

@@ -99,7 +99,7 @@ pub fn flat_only(p: &Problem, command: &str) -> Result<(), Failure> {
         return Ok(());
     }
     Err(Failure::Input(miette::miette!(
-        help = "`lingrav check`, `show`, `grid`, `project --direction radial` and \
+        help = "`lingrav check`, `show`, `grid`, `compare`, `project --direction radial` and \
                 `gauge --vector` work on this file; the other commands work on flat problems in \
                 Cartesian coordinates (t, x, y, z) so far",
         "{}: `lingrav {command}` does not yet work about a background or in coordinates other \

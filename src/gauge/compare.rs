@@ -130,15 +130,7 @@ pub fn compare(
         let fb = pb.form(store, part)?;
         let d = store.sub(fa, fb)?;
         let verdict = decide(store, d, sampling);
-        let residual = (!store.is_zero(d)).then(|| {
-            let t = store.to_text(d);
-            if t.len() > RESIDUAL_CHARS {
-                let cut: String = t.chars().take(RESIDUAL_CHARS).collect();
-                format!("{cut}... ({} terms)", store.num_terms(d))
-            } else {
-                t
-            }
-        });
+        let residual = (!store.is_zero(d)).then(|| cut(store, d));
         components.push(Difference {
             name: part.name(),
             verdict,
@@ -148,6 +140,50 @@ pub fn compare(
     let refs: Vec<&Verdict> = components.iter().map(|c| &c.verdict).collect();
     let status = Status::of(&refs, true);
     Ok(Comparison { components, status })
+}
+
+/// [`compare`] about a background proved flat (Minkowski in any coordinates): the 20
+/// independent components of the covariant linearized Riemann tensor of `a` and `b`, named in
+/// `frame`. On a flat background they are gauge invariant, and equal exactly when `a - b` is
+/// pure gauge (common practice), so the verdicts mean what they mean for flat problems.
+///
+/// # Errors
+///
+/// An algebra limit.
+pub fn compare_about(
+    store: &mut Store,
+    bg: &mut crate::tensor::curved::Background,
+    (a, b): (&Sym4, &Sym4),
+    sampling: &Sampling,
+    frame: &crate::tensor::Frame,
+) -> Result<Comparison, crate::canon::CanonError> {
+    use crate::tensor::curved::Perturbation;
+    let ra = Perturbation::new(*a).riemann(store, bg)?;
+    let rb = Perturbation::new(*b).riemann(store, bg)?;
+    let mut components = Vec::new();
+    for ((idx, fa), (_, fb)) in ra.into_iter().zip(rb) {
+        let d = store.sub(fa, fb)?;
+        let verdict = decide(store, d, sampling);
+        let residual = (!store.is_zero(d)).then(|| cut(store, d));
+        components.push(Difference {
+            name: crate::claim::Part::Riemann(idx).name_in(frame),
+            verdict,
+            residual,
+        });
+    }
+    let refs: Vec<&Verdict> = components.iter().map(|c| &c.verdict).collect();
+    let status = Status::of(&refs, true);
+    Ok(Comparison { components, status })
+}
+
+fn cut(store: &mut Store, d: crate::canon::Form) -> String {
+    let t = store.to_text(d);
+    if t.len() > RESIDUAL_CHARS {
+        let cut: String = t.chars().take(RESIDUAL_CHARS).collect();
+        format!("{cut}... ({} terms)", store.num_terms(d))
+    } else {
+        t
+    }
 }
 
 #[cfg(test)]

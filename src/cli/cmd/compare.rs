@@ -2,7 +2,8 @@
 //! independent components of R[A] - R[B] decided exactly and audited from both files' texts.
 
 use crate::cli::audit::{point_lines, points_json};
-use crate::cli::limits::{LimitArgs, flat_only, load_into, load_with};
+use crate::cli::limits::{LimitArgs, load_into, load_with};
+use crate::cli::out::gave_up;
 use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::report::{Format, heading, json};
 use clap::Args;
@@ -40,14 +41,16 @@ pub fn run(a: CompareArgs) -> Result<Outcome, Failure> {
     let mut pa = load_with(&a.first, limits)?;
     // The second file is built once, straight into the first file's store.
     let mut pb = load_into(&a.second, &mut pa.store)?;
-    flat_only(&pa, "compare")?;
-    flat_only(&pb, "compare")?;
     let imported = {
         let sampling = pa.sampling.clone();
         import(&mut pa.store, &sampling, &pa.parameters, &pa.functions, &pb)
     };
     let ha = pa.h;
-    let mut cmp: Comparison = compare(&mut pa.store, &ha, &imported.h, &imported.sampling)?;
+    let mut cmp: Comparison = if pa.is_flat_cartesian() && pb.is_flat_cartesian() {
+        compare(&mut pa.store, &ha, &imported.h, &imported.sampling)?
+    } else {
+        about_background(&mut pa, &pb, &imported.h, &imported.sampling)?
+    };
     let seed = imported.sampling.seed;
     let findings = audit_comparison(&mut cmp, &pa, &mut pb, seed);
     let finding_refs: Vec<&Finding> = findings.iter().collect();
@@ -158,4 +161,72 @@ pub fn run(a: CompareArgs) -> Result<Outcome, Failure> {
     };
     print(&text)?;
     Ok(Outcome::of(cmp.status))
+}
+
+/// The comparison of two files about one background, which must be proved flat: the same
+/// coordinates and a background proved equal, then the covariant linearized Riemann tensors.
+fn about_background(
+    pa: &mut lingrav::Problem,
+    pb: &lingrav::Problem,
+    hb: &lingrav::tensor::Sym4,
+    sampling: &lingrav::Sampling,
+) -> Result<Comparison, Failure> {
+    use lingrav::tensor::curved::Background;
+    let refuse = |why: String| {
+        Failure::Input(miette::miette!(
+            help = "compare needs both files about the same background, in the same \
+                    coordinates, and that background flat (Minkowski in any coordinates)",
+            "{} and {}: {why}",
+            pa.path,
+            pb.path
+        ))
+    };
+    let (Some(ga), Some(gb)) = (pa.background.clone(), pb.background.clone()) else {
+        return Err(refuse(
+            "one file is about a background and the other is not".into(),
+        ));
+    };
+    if pa.coordinates != pb.coordinates {
+        return Err(refuse(format!(
+            "the coordinates differ ({} against {})",
+            pa.coordinates.join(", "),
+            pb.coordinates.join(", ")
+        )));
+    }
+    // The same background, proved: every component of the difference is exactly 0.
+    let st = &mut pa.store;
+    for &(m, n) in &lingrav::tensor::COMPONENTS {
+        let d = st.sub(ga.g[m][n], gb.g[m][n])?;
+        if !st.is_zero(d) {
+            return Err(refuse(format!(
+                "the backgrounds differ in gbar_{} (or are not proved equal)",
+                lingrav::tensor::Frame::covariant(pa.coordinates.clone()).index(&[m, n])
+            )));
+        }
+    }
+    let coords = pa.coordinates.clone().map(|c| st.symbol_kernel(&c));
+    let mut bg = Background::new(st, coords, ga.g, ga.lambda, ga.source).map_err(|e| match e {
+        lingrav::CanonError::DivisionByZero => {
+            refuse("the background metric is degenerate (its determinant is 0)".into())
+        }
+        e => gave_up(&e),
+    })?;
+    let flat = bg.riemann_down(st)?.iter().all(|(_, f)| st.is_zero(*f));
+    if !flat {
+        return Err(Failure::GaveUp(
+            "the background's Riemann tensor is not proved zero, so the linearized Riemann \
+             tensor does not decide whether the two perturbations differ by a gauge \
+             transformation"
+                .into(),
+        ));
+    }
+    let frame = lingrav::tensor::Frame::covariant(pa.coordinates.clone());
+    let ha = pa.h;
+    Ok(lingrav::gauge::compare::compare_about(
+        st,
+        &mut bg,
+        (&ha, hb),
+        sampling,
+        &frame,
+    )?)
 }
