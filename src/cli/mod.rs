@@ -21,7 +21,8 @@ use clap::{Parser, Subcommand};
 use std::process::ExitCode;
 
 const AFTER_HELP: &str = "\
-Conventions: signature (-,+,+,+), coordinates (t,x,y,z), G = c = 1, indices of h and T down.
+Conventions: signature (-,+,+,+), coordinates (t,x,y,z) unless a file lists others (about a
+background), G = c = 1, indices of h and T down, MTW curvature signs.
 Exit codes: 0 holds / zero, 1 fails / nonzero, 2 bad input or I/O error, 3 undecided
 (including a limit reached: --time-limit, --max-terms, --max-memory).";
 
