@@ -985,6 +985,7 @@ fn tt_part<S: Scalar>(f: &Fields<S>) -> Option<Vec<Vec<S>>> {
 fn part_value<S: Scalar>(
     f: &Fields<S>,
     tt: &Option<Option<Vec<Vec<S>>>>,
+    curved: &Option<Option<Curved<S>>>,
     part: &Part,
     ctx: &S::Ctx,
 ) -> Option<S> {
@@ -1000,13 +1001,14 @@ fn part_value<S: Scalar>(
         Part::Extra(i) => f.extra(*i),
         Part::Tt(i, j) => tt.as_ref()?.as_ref().map(|m| m[*i][*j].clone()),
         Part::Curved(p) => {
-            let q = f
-                .pointwise()
-                .and_then(|pf| crate::pointwise::evaluate(&pf, ctx))?;
-            crate::audit::part_value(&q, f, *p)
+            let (q, pf) = curved.as_ref()?.as_ref()?;
+            crate::grid::claims::curved_part(q, pf, *p)
         }
     }
 }
+
+/// The pointwise quantities of one file at a point, with the fields they came from.
+type Curved<S> = (crate::pointwise::Quantities<S>, crate::pointwise::Fields<S>);
 
 impl Route for FileQuantities {
     fn names(&self) -> Vec<(String, Option<f64>)> {
@@ -1039,6 +1041,7 @@ impl Route for FileQuantities {
     ) -> Result<Vec<Option<S>>, AuditError> {
         let mut fields = Vec::with_capacity(self.files.len());
         let mut tts = Vec::with_capacity(self.files.len());
+        let mut curved = Vec::with_capacity(self.files.len());
         for (i, f) in self.files.iter().enumerate() {
             let own: Vec<(&str, f64)> = point
                 .iter()
@@ -1052,6 +1055,13 @@ impl Route for FileQuantities {
                     .any(|(k, _, p)| *k == i && matches!(p, Part::Tt(..)))
             });
             tts.push(needs_tt.then(|| tt_part(&fl)));
+            // The curvature chain once per file and point, shared by all its parts.
+            let needs_curved = self.quantities.iter().any(|q| {
+                q.parts
+                    .iter()
+                    .any(|(k, _, p)| *k == i && matches!(p, Part::Curved(_)))
+            });
+            curved.push(needs_curved.then(|| fl.curved_quantities(ctx)));
             fields.push(fl);
         }
         Ok(self
@@ -1060,7 +1070,7 @@ impl Route for FileQuantities {
             .map(|q| {
                 let mut acc = S::zero();
                 for (k, sign, part) in &q.parts {
-                    let v = part_value(&fields[*k], &tts[*k], part, ctx)?;
+                    let v = part_value(&fields[*k], &tts[*k], &curved[*k], part, ctx)?;
                     acc = if *sign < 0.0 {
                         acc.sub(&v)?
                     } else {

@@ -573,9 +573,7 @@ impl Audit {
         let mut cache: FxHashMap<Atom, Option<S>> = FxHashMap::default();
         // About a background: every quantity at once, by the pointwise route.
         let quantities = match &fields.background {
-            Some(_) => fields
-                .pointwise()
-                .and_then(|f| pointwise::evaluate(&f, ctx)),
+            Some(_) => fields.curved_quantities(ctx),
             None => None,
         };
         let mut out = Vec::new();
@@ -594,7 +592,8 @@ impl Audit {
                         acc
                     }
                     Formula::Curved(p) => {
-                        quantities.as_ref().and_then(|q| part_value(q, &fields, *p))
+                        let curved = quantities.as_ref();
+                        curved.and_then(|(q, f)| crate::grid::claims::curved_part(q, f, *p))
                     }
                 };
                 out.push(ComponentValue {
@@ -803,9 +802,19 @@ impl<S: Scalar> Comp<S> {
 }
 
 impl<S: Scalar> Fields<S> {
+    /// Every quantity about the background at this point, with the fields it came from;
+    /// `None` without a background or if something cannot be evaluated here.
+    pub(crate) fn curved_quantities(
+        &self,
+        ctx: &S::Ctx,
+    ) -> Option<(pointwise::Quantities<S>, pointwise::Fields<S>)> {
+        let f = self.pointwise()?;
+        Some((pointwise::evaluate(&f, ctx)?, f))
+    }
+
     /// The inputs of [`pointwise::evaluate`]; `None` without a background or if a field
     /// cannot be evaluated here.
-    pub(crate) fn pointwise(&self) -> Option<pointwise::Fields<S>> {
+    fn pointwise(&self) -> Option<pointwise::Fields<S>> {
         let bg = self.background.as_ref()?;
         let ctx = &self.ctx;
         let sym1 =
@@ -830,27 +839,6 @@ impl<S: Scalar> Fields<S> {
             },
         })
     }
-}
-
-/// The value of a part about a background from the pointwise quantities.
-pub(crate) fn part_value<S: Scalar>(
-    q: &pointwise::Quantities<S>,
-    fields: &Fields<S>,
-    p: Part,
-) -> Option<S> {
-    Some(match p {
-        Part::BackgroundEquation { mu, nu, .. } => q.background[mu][nu].clone(),
-        Part::CurvedFieldEquation { mu, nu, .. } => q.field[mu][nu].clone(),
-        Part::Lorenz(nu) => q.lorenz[nu].clone(),
-        Part::Conservation(nu) => q.conservation[nu].clone(),
-        Part::H(mu, nu) => fields.h(mu, nu)?,
-        Part::Trace => q.trace.clone(),
-        Part::Riemann([a, b, c, d]) => q.riemann[a][b][c][d].clone(),
-        Part::GaugeResidual(mu, nu) => q.gauge.as_ref()?[mu][nu].clone(),
-        Part::FieldEquation { .. } | Part::SpatialTrace | Part::SpatialDivergence(_) => {
-            return None;
-        }
-    })
 }
 
 /// The text of the generic sample of the `index`-th arbitrary function without one: smooth,

@@ -272,3 +272,27 @@ pub fn claim_specs(claims: Option<&Claims>, with_source: bool) -> Vec<ClaimSpec>
         .filter_map(ClaimSpec::of)
         .collect()
 }
+
+/// The value of a part about a background from the pointwise quantities `q` at a point with
+/// fields `f` (the grid's differenced samples or the audit's jets): the one mapping from
+/// [`Part`] to [`crate::pointwise::Quantities`]. `None` for a flat-only part, or a gauge
+/// residual without a vector.
+pub fn curved_part<A: crate::pointwise::Arith>(
+    q: &crate::pointwise::Quantities<A>,
+    f: &crate::pointwise::Fields<A>,
+    p: Part,
+) -> Option<A> {
+    Some(match p {
+        Part::BackgroundEquation { mu, nu, .. } => q.background[mu][nu].clone(),
+        Part::CurvedFieldEquation { mu, nu, .. } => q.field[mu][nu].clone(),
+        Part::Lorenz(nu) => q.lorenz[nu].clone(),
+        Part::Conservation(nu) => q.conservation[nu].clone(),
+        Part::H(mu, nu) => f.h.at(mu, nu).clone(),
+        Part::Trace => q.trace.clone(),
+        Part::Riemann([a, b, c, d]) => q.riemann[a][b][c][d].clone(),
+        Part::GaugeResidual(mu, nu) => q.gauge.as_ref()?[mu][nu].clone(),
+        Part::FieldEquation { .. } | Part::SpatialTrace | Part::SpatialDivergence(_) => {
+            return None;
+        }
+    })
+}

@@ -401,28 +401,6 @@ impl At<'_, '_> {
     }
 }
 
-/// The value of a part from the quantities at a point (`None`: a flat-only part, or a gauge
-/// residual without a vector, which the plan never asks for).
-fn part_value(
-    q: &pointwise::Quantities<Tracked>,
-    f: &pointwise::Fields<Tracked>,
-    p: Part,
-) -> Option<Tracked> {
-    Some(match p {
-        Part::BackgroundEquation { mu, nu, .. } => q.background[mu][nu],
-        Part::CurvedFieldEquation { mu, nu, .. } => q.field[mu][nu],
-        Part::Lorenz(nu) => q.lorenz[nu],
-        Part::Conservation(nu) => q.conservation[nu],
-        Part::H(mu, nu) => *f.h.at(mu, nu),
-        Part::Trace => q.trace,
-        Part::Riemann([a, b, c, d]) => q.riemann[a][b][c][d],
-        Part::GaugeResidual(mu, nu) => q.gauge.as_ref()?[mu][nu],
-        Part::FieldEquation { .. } | Part::SpatialTrace | Part::SpatialDivergence(_) => {
-            return None;
-        }
-    })
-}
-
 /// The residuals and round-off bounds of plane `ix` of the slab centred at `it`: the
 /// curvature chain at every measured point. A point where the chain cannot be evaluated (a
 /// masked sample in a stencil, a degenerate metric, an overflow) is skipped and counted.
@@ -464,7 +442,7 @@ pub(super) fn residual_plane(
                 let values: Option<Vec<Tracked>> = evaluated.as_ref().and_then(|(q, f)| {
                     k.plan.parts[ci]
                         .iter()
-                        .map(|&p| part_value(q, f, p))
+                        .map(|&p| super::claims::curved_part(q, f, p))
                         .collect()
                 });
                 let Some(values) = values else {

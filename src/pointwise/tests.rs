@@ -1,5 +1,5 @@
-//! Outside checks of the pointwise route against /work/shared/checks-backgrounds.md
-//! ("checks-backgrounds.md" below: values re-derived there with SymPy, route A/B/C), a
+//! Outside checks of the pointwise route against the project's SymPy-verified check values for
+//! backgrounds ("checks-backgrounds.md" below; each value with its published source and route A/B/C), a
 //! property test of the pure-gauge identity, and the flat Cartesian route of the audit.
 //!
 //! Every input (values and derivatives of gbar, h, Tbar, dT, xi at the point) is computed by
