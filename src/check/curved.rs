@@ -147,9 +147,9 @@ pub(super) fn exact_claims(problem: &mut Problem) -> (Vec<ClaimReport>, bool) {
         .expect("a problem with a background");
     let sampling = problem.sampling.clone();
     let frame = Frame::covariant(problem.coordinates.clone());
+    let spacetime = problem.spacetime();
     let store = &mut problem.store;
-    let coords = problem.coordinates.clone().map(|c| store.symbol_kernel(&c));
-    let bg = match Background::new(store, coords, bgd.g, bgd.lambda, bgd.source) {
+    let bg = match spacetime {
         Ok(bg) => bg,
         Err(e) => {
             // A degenerate metric or a limit: nothing can be decided.

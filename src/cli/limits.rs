@@ -93,13 +93,26 @@ pub fn load_with(path: &Path, limits: Limits) -> Result<Problem, Failure> {
     })
 }
 
+/// The problem's background as a spacetime (Minkowski without one): a degenerate metric is
+/// bad input naming the file, a limit is undecided.
+pub fn spacetime(p: &mut Problem) -> Result<lingrav::tensor::curved::Background, Failure> {
+    p.spacetime().map_err(|e| match e {
+        CanonError::DivisionByZero => Failure::Input(miette::miette!(
+            help = "the background metric must be invertible where the fields are meant to hold",
+            "{}: the background metric is degenerate (its determinant is 0)",
+            p.path
+        )),
+        e => gave_up(&e),
+    })
+}
+
 /// Refuses a problem about a background for a command that does not handle one yet.
 pub fn flat_only(p: &Problem, command: &str) -> Result<(), Failure> {
     if p.is_flat_cartesian() {
         return Ok(());
     }
     Err(Failure::Input(miette::miette!(
-        help = "`lingrav check`, `show`, `grid`, `compare`, `project --direction radial` and \
+        help = "`lingrav check`, `show`, `grid`, `compare`, `export`, `project --direction radial` and \
                 `gauge --vector` work on this file; the other commands work on flat problems in \
                 Cartesian coordinates (t, x, y, z) so far",
         "{}: `lingrav {command}` does not yet work about a background or in coordinates other \

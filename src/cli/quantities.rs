@@ -38,6 +38,11 @@ pub fn quantity_failure(e: QuantityError) -> Failure {
         QuantityError::MissingDirection(_) => {
             Failure::Input(miette::miette!(help = direction_help(), "{e}"))
         }
+        QuantityError::FlatOnly(_) => Failure::Input(miette::miette!(
+            help = "give --quantity with h, hbar, dh, riemann, ricci or einstein for a file \
+                    about a background",
+            "{e}"
+        )),
         QuantityError::Algebra(l) => gave_up(&l),
     }
 }
@@ -50,6 +55,11 @@ pub fn plan_quantities(
     let mut qs = Vec::new();
     for text in &a.quantity {
         parse_list(Arg::new("--quantity", text), &mut qs).map_err(arg_failure)?;
+    }
+    if p.background.is_some()
+        && let Some(q) = qs.iter().find(|q| !q.about_background())
+    {
+        return Err(quantity_failure(QuantityError::FlatOnly(q.name())));
     }
     let needs: Vec<&str> = qs
         .iter()

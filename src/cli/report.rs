@@ -25,12 +25,13 @@ pub fn json(v: &serde_json::Value) -> String {
 }
 
 /// The conventions, as every JSON report states them.
-pub fn conventions() -> serde_json::Value {
+pub fn conventions(coordinates: &[String; 4]) -> serde_json::Value {
     serde_json::json!({
         "signature": "-+++",
-        "coordinates": "t,x,y,z",
+        "coordinates": coordinates.join(","),
         "units": "G = c = 1",
         "indices": "h and T down",
+        "curvature": "MTW signs",
     })
 }
 

@@ -222,6 +222,51 @@ fn d_extrinsic<R: Ring, F: FieldSource<V = R::V>>(
     o.scale(-0.5, o.sub(f.ddh(c, 0, a, b), s))
 }
 
+/// The 20 independent Riemann index sets in column order: pairs (ab, cd) with ab <= cd in the
+/// order of [`PAIRS`], leaving out (03, 12), which the cyclic identity fixes.
+fn riemann_order() -> impl Iterator<Item = [usize; 4]> {
+    PAIRS.iter().enumerate().flat_map(|(i, &(a, b))| {
+        PAIRS[i..]
+            .iter()
+            .filter(move |&&(c, d)| (a, b, c, d) != (0, 3, 1, 2))
+            .map(move |&(c, d)| [a, b, c, d])
+    })
+}
+
+/// The column values of `q` about a background, in the order of
+/// [`super::quantity::blocks_about`], from the pointwise route's quantities `pq` and the
+/// fields `f` they came from ([`crate::pointwise::evaluate`]: the full curvature chain of
+/// `gbar + eps h` in dual numbers, no linearized formula); `None` for a quantity not defined
+/// about a background.
+#[must_use]
+pub fn values_about<S: Scalar>(
+    q: Quantity,
+    pq: &crate::pointwise::Quantities<S>,
+    f: &crate::pointwise::Fields<S>,
+) -> Vec<Option<S>> {
+    let sym = |m: &dyn Fn(usize, usize) -> Option<S>| -> Vec<Option<S>> {
+        SYM.iter().map(|&(a, b)| m(a, b)).collect()
+    };
+    match q {
+        Quantity::H => sym(&|a, b| Some(f.h.at(a, b).clone())),
+        Quantity::Hbar => sym(&|a, b| {
+            let half = S::from_f64(0.5)?;
+            f.h.at(a, b)
+                .sub(&half.mul(f.gbar.at(a, b))?.mul(&pq.trace)?)
+        }),
+        Quantity::Dh => (0..4)
+            .flat_map(|r| SYM.iter().map(move |&(a, b)| (r, a, b)))
+            .map(|(r, a, b)| Some(f.h.d(r, a, b).clone()))
+            .collect(),
+        Quantity::Riemann => riemann_order()
+            .map(|[a, b, c, d]| Some(pq.riemann[a][b][c][d].clone()))
+            .collect(),
+        Quantity::Ricci => sym(&|a, b| Some(pq.ricci[a][b].clone())),
+        Quantity::Einstein => sym(&|a, b| Some(pq.einstein[a][b].clone())),
+        _ => Vec::new(),
+    }
+}
+
 /// The column values of `q` for the fields `f`, in the order of
 /// [`super::quantity::blocks`]; `None` where a value cannot be evaluated. `frame` is needed
 /// by psi4, hplus and hcross (all `None` without it).
@@ -253,19 +298,7 @@ pub fn quantity_values<R: Ring, F: FieldSource<V = R::V>>(
             .flat_map(|r| SYM.iter().map(move |&(m, n)| (r, m, n)))
             .map(|(r, m, n)| f.dh(r, m, n))
             .collect(),
-        Quantity::Riemann => {
-            let mut out = Vec::with_capacity(20);
-            for (i, &(a, b)) in PAIRS.iter().enumerate() {
-                for &(c, d) in &PAIRS[i..] {
-                    // R_tzxy is fixed by the cyclic identity and left out.
-                    if (a, b, c, d) == (0, 3, 1, 2) {
-                        continue;
-                    }
-                    out.push(riemann(&o, f, [a, b, c, d]));
-                }
-            }
-            out
-        }
+        Quantity::Riemann => riemann_order().map(|idx| riemann(&o, f, idx)).collect(),
         Quantity::Ricci => {
             let r = ricci(&o, f);
             SYM.iter().map(|&(m, n)| r[m][n].clone()).collect()
@@ -448,6 +481,17 @@ pub fn derivative_order(q: Quantity) -> u32 {
         | Quantity::Einstein
         | Quantity::Constraints
         | Quantity::Psi4 => 2,
+    }
+}
+
+/// The number of columns of `q` about a background (0 for a quantity not defined there).
+#[must_use]
+pub fn column_count(q: Quantity) -> usize {
+    match q {
+        Quantity::H | Quantity::Hbar | Quantity::Ricci | Quantity::Einstein => SYM.len(),
+        Quantity::Dh => 4 * SYM.len(),
+        Quantity::Riemann => 20,
+        _ => 0,
     }
 }
 

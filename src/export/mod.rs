@@ -56,11 +56,12 @@ pub struct EvalError {
 /// The numerical point for coordinates `c` with these parameter values and function samples.
 fn point_at(
     store: &mut Store,
+    coordinates: &[String; 4],
     parameters: &[(String, f64)],
     sampling: &Sampling,
     c: [f64; 4],
 ) -> Point {
-    crate::tt::numeric_point(store, parameters, sampling, c)
+    crate::tt::numeric_point_in(store, coordinates, parameters, sampling, c)
 }
 
 /// Encloses the values of `forms` at `pt`: `(midpoint, radius)` of the real part, or why not.
@@ -108,6 +109,9 @@ fn eval_forms(
 pub struct Numeric {
     audit: Audit,
     frame: bool,
+    /// About a background: every column from the pointwise route
+    /// ([`certify::values_about`]).
+    about: bool,
     /// The fast path: the columns as one interval program and its output registers (`None`
     /// if the texts could not be lowered; the jets then do everything).
     program: Option<(program::IntervalProgram, Vec<u32>)>,
@@ -127,11 +131,14 @@ impl Numeric {
         frame: Option<[[String; 3]; 3]>,
         parameters: &[(String, f64)],
     ) -> Result<Numeric, crate::audit::AuditError> {
+        let about = problem.background.is_some();
         let order = quantities
             .iter()
             .map(|&q| certify::derivative_order(q))
             .max()
             .unwrap_or(0);
+        // The pointwise route runs the whole curvature chain: h to second order.
+        let order = if about { order.max(2) } else { order };
         let mut extras = Vec::new();
         if let Some(fr) = &frame {
             for (v, comps) in ["n", "u", "v"].iter().zip(fr) {
@@ -149,18 +156,30 @@ impl Numeric {
             },
             frame: frame.clone(),
         };
-        let program = lower::roots(
-            program::IntervalProgram::new(parameters),
-            &texts,
-            quantities,
-        )
-        .ok()
-        .map(|(p, r)| (p, r.into_iter().flatten().collect()));
+        // The interval program lowers the flat formulas only.
+        let program = if about {
+            None
+        } else {
+            lower::roots(
+                program::IntervalProgram::new(parameters),
+                &texts,
+                quantities,
+            )
+            .ok()
+            .map(|(p, r)| (p, r.into_iter().flatten().collect()))
+        };
         Ok(Numeric {
             audit: Audit::fields(problem, order, &extras)?,
             frame: frame.is_some(),
+            about,
             program,
         })
+    }
+
+    /// The coordinate names, time first (the first four columns of an export).
+    #[must_use]
+    pub fn coordinates(&self) -> &[String; 4] {
+        self.audit.coordinates()
     }
 
     /// Every column at each of `coords` through the interval program in f64 intervals, into
@@ -247,6 +266,18 @@ impl Numeric {
         ctx: &S::Ctx,
     ) -> Result<Vec<Option<S>>, crate::audit::AuditError> {
         let f = self.audit.fields_in::<String, S>(point, ctx)?;
+        if self.about {
+            let curved = f.curved_quantities(ctx);
+            let mut out = Vec::new();
+            for &q in quantities {
+                let n = certify::column_count(q);
+                match &curved {
+                    Some((pq, pf)) => out.extend(certify::values_about(q, pq, pf)),
+                    None => out.extend(std::iter::repeat_n(None, n)),
+                }
+            }
+            return Ok(out);
+        }
         let frame = if self.frame {
             let get = |k: usize| -> Option<[S; 3]> {
                 Some([f.extra(3 * k)?, f.extra(3 * k + 1)?, f.extra(3 * k + 2)?])
@@ -475,7 +506,8 @@ pub fn evaluate(
         .collect();
     let ncol = forms.len();
     let exact_zero: Vec<bool> = forms.iter().map(|&f| store.is_zero(f)).collect();
-    let mut columns: Vec<String> = ["t", "x", "y", "z"].map(String::from).to_vec();
+    let coordinates = numeric.coordinates();
+    let mut columns: Vec<String> = coordinates.to_vec();
     columns.extend(names.iter().map(|s| s.to_string()));
     let width = 4 + ncol;
     let mut values = Vec::with_capacity(points.coords.len() * width);
@@ -508,7 +540,7 @@ pub fn evaluate(
             have_fast = numeric.fast_block(&points.coords[row..end], &mut fast);
         }
         let point = || -> Vec<(String, f64)> {
-            let mut p: Vec<(String, f64)> = ["t", "x", "y", "z"]
+            let mut p: Vec<(String, f64)> = coordinates
                 .iter()
                 .zip(c)
                 .map(|(n, v)| (n.to_string(), v))
@@ -664,6 +696,7 @@ pub fn evaluate(
     }
     let audit = audit_rows(
         store,
+        coordinates,
         &forms,
         &names,
         points,
@@ -713,6 +746,7 @@ fn audited_rows(rows: usize, n: usize) -> Vec<usize> {
 #[allow(clippy::too_many_arguments)]
 fn audit_rows(
     store: &mut Store,
+    coordinates: &[String; 4],
     forms: &[Form],
     names: &[&str],
     points: &PointSet,
@@ -727,7 +761,7 @@ fn audit_rows(
     for row in audited_rows(points.coords.len(), settings.audit_rows) {
         check_limits(settings)?;
         let c = points.coords[row];
-        let pt = point_at(store, parameters, sampling, c);
+        let pt = point_at(store, coordinates, parameters, sampling, c);
         audit.rows += 1;
         let Ok(exact) = eval_forms(store, forms, &pt) else {
             audit.not_enclosed += 1;
@@ -751,6 +785,41 @@ fn audit_rows(
         }
     }
     Ok(audit)
+}
+
+/// The conventions of an export in the coordinates `c`, about a background when `about`:
+/// those of [`conventions`], with the coordinates, metric and curvature stated for them.
+#[must_use]
+pub fn conventions_in(c: &[String; 4], about: bool) -> Value {
+    let mut v = conventions();
+    if about {
+        v["coordinates"] = json!(c.join(", "));
+        v["metric"] = json!("g = gbar + h to first order in h, gbar the file's [background]");
+        v["component_order"] = json!(format!(
+            "symmetric tensors in coordinate order: {}",
+            crate::tensor::COMPONENTS
+                .iter()
+                .map(|&(i, j)| crate::tensor::Frame::covariant(c.clone()).index(&[i, j]))
+                .collect::<Vec<_>>()
+                .join(" ")
+        ));
+        v["riemann"] = json!(
+            "MTW sign: R^a_bcd = d_c Gamma^a_bd - d_d Gamma^a_bc + Gamma^a_ce Gamma^e_bd - \
+             Gamma^a_de Gamma^e_bc, R_abcd = g_ae R^e_bcd; the columns dR_abcd are its \
+             first-order change"
+        );
+        v["field_equations"] = json!("dG_{mu nu} + Lambda h_{mu nu} = 8 pi dT_{mu nu}");
+        v["index_positions"] = json!(
+            "all indices down: h_{mu nu}, hbar_{mu nu}, d_rho h_{mu nu}, dR_abcd, dR_{mu nu}, \
+             dG_{mu nu}, gbar_{mu nu}, T_{mu nu}"
+        );
+        if let Some(o) = v.as_object_mut() {
+            for k in ["extrinsic_curvature", "adm", "constraints", "psi4_tetrad"] {
+                o.remove(k);
+            }
+        }
+    }
+    v
 }
 
 /// The conventions every export states.
@@ -788,6 +857,11 @@ pub struct SidecarInfo<'a> {
     pub functions: &'a [(String, String)],
     /// Defines, in file order.
     pub defines: &'a [(String, String)],
+    /// The coordinate names, time first.
+    pub coordinates: &'a [String; 4],
+    /// About a background: its texts (`gbar`, `Tbar`, `Lambda`), as [`background_json`]
+    /// writes them; `None` about Minkowski in Cartesian coordinates.
+    pub background: Option<Value>,
     /// `h` as written, `[mu][nu]`.
     pub h_text: &'a [[Option<String>; 4]; 4],
     /// `T` as written, `None` for vacuum.
@@ -807,17 +881,33 @@ pub struct SidecarInfo<'a> {
     pub zero_tolerance: Option<f64>,
 }
 
-fn tensor_text(m: &[[Option<String>; 4]; 4]) -> Value {
+fn tensor_text(m: &[[Option<String>; 4]; 4], coordinates: &[String; 4]) -> Value {
+    let frame = crate::tensor::Frame::covariant(coordinates.clone());
     let mut o = serde_json::Map::new();
     for (mu, nu) in crate::tensor::COMPONENTS {
         if let Some(t) = m[mu][nu].as_ref().or(m[nu][mu].as_ref()) {
-            o.insert(crate::tensor::component_name(mu, nu), json!(t));
+            o.insert(frame.index(&[mu, nu]), json!(t));
         }
     }
     Value::Object(o)
 }
 
-fn points_json(p: &PointSet) -> Value {
+/// The background of `problem` as its sidecar states it: the texts of `gbar`, `Tbar` and
+/// `Lambda` as written, keyed by component; `None` about Minkowski in Cartesian coordinates.
+#[must_use]
+pub fn background_json(problem: &Problem) -> Option<Value> {
+    let b = problem.background.as_ref()?;
+    let c = &problem.coordinates;
+    Some(json!({
+        "metric": tensor_text(&b.g_text, c),
+        "source": b.source_text.as_ref().map(|t| tensor_text(t, c)),
+        "cosmological_constant": b.lambda_text.clone().unwrap_or_else(|| "0".into()),
+        "note": "g = gbar + h to first order in h; every quantity is the first-order change \
+            of its definition for gbar + eps h, in the file's coordinates",
+    }))
+}
+
+fn points_json(p: &PointSet, coordinates: &[String; 4]) -> Value {
     match &p.origin {
         Origin::File { path, .. } => json!({
             "from": "file",
@@ -836,15 +926,27 @@ fn points_json(p: &PointSet) -> Value {
                 "rule": "value_k = center + (k - (points - 1)/2)*spacing, spacing = \
                     width/(points - 1), k = 0 .. points - 1 (both ends included); the box of \
                     the grid check",
-                "axes": { "t": axis(0), "x": axis(1), "y": axis(2), "z": axis(3) },
-                "order": if g.spacetime {
-                    "C order over (t, x, y, z): z fastest, row = ((i_t*N + i_x)*N + i_y)*N + i_z"
-                } else {
-                    "C order over (x, y, z) at the centre's t: z fastest, row = (i_x*N + i_y)*N + i_z"
-                },
+                "axes": (0..4).map(|c| (coordinates[c].clone(), axis(c))).collect::<serde_json::Map<_, _>>(),
+                "order": grid_order(g.spacetime, coordinates),
                 "rows": p.coords.len(),
             })
         }
+    }
+}
+
+/// How the rows of a grid are ordered, in the coordinates' own names.
+fn grid_order(spacetime: bool, c: &[String; 4]) -> String {
+    let [t, x, y, z] = [&c[0], &c[1], &c[2], &c[3]];
+    if spacetime {
+        format!(
+            "C order over ({t}, {x}, {y}, {z}): {z} fastest, row = ((i_{t}*N + i_{x})*N + \
+             i_{y})*N + i_{z}"
+        )
+    } else {
+        format!(
+            "C order over ({x}, {y}, {z}) at the centre's {t}: {z} fastest, row = (i_{x}*N + \
+             i_{y})*N + i_{z}"
+        )
     }
 }
 
@@ -896,7 +998,11 @@ pub fn sidecar(
                 .collect();
             json!({
                 "quantity": b.quantity.name(),
-                "definition": b.quantity.definition(),
+                "definition": if info.background.is_some() {
+                    b.quantity.definition_about_background().unwrap_or(b.quantity.definition())
+                } else {
+                    b.quantity.definition()
+                },
                 "columns": cols,
             })
         })
@@ -916,7 +1022,7 @@ pub fn sidecar(
         .iter()
         .map(|(n, s)| (n.clone(), json!(s)))
         .collect();
-    json!({
+    let mut out = json!({
         "tool": { "name": "lingrav", "version": env!("CARGO_PKG_VERSION") },
         "data": {
             "file": info.data_file,
@@ -936,12 +1042,14 @@ pub fn sidecar(
                     derivatives through the exact derivatives of the samples",
             },
             "define": defines,
-            "perturbation": tensor_text(info.h_text),
-            "source": info.source_text.map(tensor_text),
+            "coordinates": info.coordinates,
+            "background": info.background,
+            "perturbation": tensor_text(info.h_text, info.coordinates),
+            "source": info.source_text.map(|t| tensor_text(t, info.coordinates)),
         },
-        "points": points_json(info.points),
+        "points": points_json(info.points, info.coordinates),
         "direction": info.direction,
-        "conventions": conventions(),
+        "conventions": conventions_in(info.coordinates, info.background.is_some()),
         "evaluation": {
             "method": "each value is computed from the problem's texts as written (defines \
                 kept, derivatives by Taylor-mode jets, arbitrary functions through their \
@@ -972,7 +1080,17 @@ pub fn sidecar(
             },
         },
         "quantities": quantities,
-    })
+    });
+    if info.background.is_some() {
+        out["evaluation"]["about_the_background"] = json!(
+            "every column comes from the whole curvature chain of gbar + eps h, evaluated at \
+             the point in dual numbers (inverse, Christoffel symbols, Riemann, Ricci, Einstein \
+             from their definitions; the eps part is the first-order change), from the texts \
+             of gbar and h as written; the exact route (the second route) uses the Palatini \
+             identity instead"
+        );
+    }
+    out
 }
 
 #[cfg(test)]

@@ -157,15 +157,18 @@ pub struct PointSet {
     pub coords: Vec<[f64; 4]>,
     /// Where they came from.
     pub origin: Origin,
+    /// The coordinate names, time first.
+    pub names: [String; 4],
 }
 
 impl PointSet {
     /// The points of a grid.
     #[must_use]
-    pub fn grid(g: Grid) -> PointSet {
+    pub fn grid(g: Grid, names: &[String; 4]) -> PointSet {
         PointSet {
             coords: g.coords(),
             origin: Origin::Grid(g),
+            names: names.clone(),
         }
     }
 
@@ -174,9 +177,10 @@ impl PointSet {
     #[must_use]
     pub fn describe(&self, row: usize) -> String {
         let c = self.coords[row];
+        let n = &self.names;
         let at = format!(
-            "(t, x, y, z) = ({:?}, {:?}, {:?}, {:?})",
-            c[0], c[1], c[2], c[3]
+            "({}, {}, {}, {}) = ({:?}, {:?}, {:?}, {:?})",
+            n[0], n[1], n[2], n[3], c[0], c[1], c[2], c[3]
         );
         match &self.origin {
             Origin::File { path, lines } => {
@@ -186,7 +190,11 @@ impl PointSet {
                 let i = g.index(row);
                 if g.spacetime {
                     format!(
-                        "grid point (i_t, i_x, i_y, i_z) = ({}, {}, {}, {}), row {}: {at}",
+                        "grid point (i_{}, i_{}, i_{}, i_{}) = ({}, {}, {}, {}), row {}: {at}",
+                        n[0],
+                        n[1],
+                        n[2],
+                        n[3],
                         i[0],
                         i[1],
                         i[2],
@@ -195,7 +203,10 @@ impl PointSet {
                     )
                 } else {
                     format!(
-                        "grid point (i_x, i_y, i_z) = ({}, {}, {}), row {}: {at}",
+                        "grid point (i_{}, i_{}, i_{}) = ({}, {}, {}), row {}: {at}",
+                        n[1],
+                        n[2],
+                        n[3],
                         i[1],
                         i[2],
                         i[3],
@@ -207,9 +218,23 @@ impl PointSet {
     }
 }
 
-const POINTS_HELP: &str = "a points file has one point per line, four comma-separated \
-    numbers t,x,y,z (e.g. `0, 0.5, 0, 1.25`); an optional first line `t,x,y,z` names the \
-    columns; blank lines and lines starting with # are skipped";
+/// A coordinate name as a header field: a letter or `_`, then letters, digits or `_`.
+fn is_name(f: &str) -> bool {
+    f.chars()
+        .next()
+        .is_some_and(|c| c.is_alphabetic() || c == '_')
+        && f.chars().all(|c| c.is_alphanumeric() || c == '_')
+}
+
+/// How a points file is written, in the coordinates `names`.
+fn points_help(names: &[String; 4]) -> String {
+    let list = names.join(",");
+    format!(
+        "a points file has one point per line, four comma-separated numbers {list} (e.g. \
+         `0, 0.5, 0, 1.25`); an optional first line `{list}` names the columns; blank lines \
+         and lines starting with # are skipped"
+    )
+}
 
 /// Reads a points file; `path` names it in messages.
 ///
@@ -217,9 +242,11 @@ const POINTS_HELP: &str = "a points file has one point per line, four comma-sepa
 ///
 /// A line without exactly four fields, a field that is not a finite number, a header other
 /// than `t,x,y,z`, or a file without points; each at its place in the file.
-pub fn read_points(path: &str, text: &str) -> Result<PointSet, ProblemError> {
+pub fn read_points(path: &str, text: &str, names: &[String; 4]) -> Result<PointSet, ProblemError> {
+    let help = points_help(names);
+    let list = names.join(",");
     let err = |message: String, span: Span, label: &'static str| {
-        ProblemError::new(path, text, message, span, label).with_help(POINTS_HELP)
+        ProblemError::new(path, text, message, span, label).with_help(help.clone())
     };
     let mut coords = Vec::new();
     let mut lines = Vec::new();
@@ -255,18 +282,18 @@ pub fn read_points(path: &str, text: &str) -> Result<PointSet, ProblemError> {
             start + line.trim_end().len(),
         );
         if first_content && fields.iter().any(|(f, _)| f.parse::<f64>().is_err()) {
-            let names: Vec<String> = fields.iter().map(|(f, _)| f.to_lowercase()).collect();
-            if names == ["t", "x", "y", "z"] {
-                continue;
-            }
             if fields.len() == 4
                 && fields
                     .iter()
-                    .all(|(f, _)| f.chars().all(|c| c.is_alphabetic() || c == '_'))
+                    .zip(names)
+                    .all(|((f, _), n)| f.eq_ignore_ascii_case(n))
             {
+                continue;
+            }
+            if fields.len() == 4 && fields.iter().all(|(f, _)| is_name(f)) {
                 return Err(err(
                     format!(
-                        "the header must be `t,x,y,z`, in that order, not `{}`",
+                        "the header must be `{list}`, in that order, not `{}`",
                         line.trim()
                     ),
                     line_span,
@@ -277,7 +304,7 @@ pub fn read_points(path: &str, text: &str) -> Result<PointSet, ProblemError> {
         if fields.len() != 4 {
             return Err(err(
                 format!(
-                    "expected four numbers t,x,y,z on this line, found {} field{}",
+                    "expected four numbers {list} on this line, found {} field{}",
                     fields.len(),
                     if fields.len() == 1 { "" } else { "s" }
                 ),
@@ -287,7 +314,7 @@ pub fn read_points(path: &str, text: &str) -> Result<PointSet, ProblemError> {
         }
         let mut c = [0.0; 4];
         for (k, (f, span)) in fields.iter().enumerate() {
-            let name = ["t", "x", "y", "z"][k];
+            let name = &names[k];
             if f.is_empty() {
                 return Err(err(
                     format!("the {name} value is missing"),
@@ -324,7 +351,7 @@ pub fn read_points(path: &str, text: &str) -> Result<PointSet, ProblemError> {
             Span::new(0, 0),
             "empty",
         )
-        .with_help(POINTS_HELP));
+        .with_help(help));
     }
     if coords.len() > MAX_POINTS {
         return Err(ProblemError::whole_file(
@@ -341,6 +368,7 @@ pub fn read_points(path: &str, text: &str) -> Result<PointSet, ProblemError> {
             path: path.to_string(),
             lines,
         },
+        names: names.clone(),
     })
 }
 
@@ -348,11 +376,16 @@ pub fn read_points(path: &str, text: &str) -> Result<PointSet, ProblemError> {
 mod tests {
     use super::*;
 
+    fn cartesian() -> [String; 4] {
+        crate::tensor::COORDS.map(String::from)
+    }
+
     #[test]
     fn reads_rows_with_header_comments_and_crlf() {
         let p = read_points(
             "p.csv",
             "# points\r\nt,x,y,z\r\n0, 1, 2, 3\r\n\r\n1e-3,-2,0.5,+4\n",
+            &cartesian(),
         )
         .unwrap();
         assert_eq!(p.coords, vec![[0.0, 1.0, 2.0, 3.0], [1e-3, -2.0, 0.5, 4.0]]);
@@ -367,8 +400,31 @@ mod tests {
     }
 
     fn error(text: &str) -> (String, (usize, usize)) {
-        let e = read_points("p.csv", text).unwrap_err();
+        let e = read_points("p.csv", text, &cartesian()).unwrap_err();
         (e.message.clone(), e.line_col())
+    }
+
+    #[test]
+    fn a_points_file_in_the_problems_coordinates() {
+        let names = ["t", "r", "th", "ph"].map(String::from);
+        let p = read_points("p.csv", "t,r,th,ph\n0,3,1.5,0.25\n", &names).unwrap();
+        assert_eq!(p.coords, vec![[0.0, 3.0, 1.5, 0.25]]);
+        assert!(
+            p.describe(0)
+                .contains("(t, r, th, ph) = (0.0, 3.0, 1.5, 0.25)")
+        );
+        let e = read_points("p.csv", "t,x,y,z\n0,3,1.5,0.25\n", &names).unwrap_err();
+        assert!(
+            e.message.contains("header must be `t,r,th,ph`"),
+            "{}",
+            e.message
+        );
+        let e = read_points("p.csv", "0,3,,0.25\n", &names).unwrap_err();
+        assert!(
+            e.message.contains("the th value is missing"),
+            "{}",
+            e.message
+        );
     }
 
     #[test]

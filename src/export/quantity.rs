@@ -91,6 +91,54 @@ impl Quantity {
         matches!(self, Quantity::Psi4 | Quantity::Hplus | Quantity::Hcross)
     }
 
+    /// True for the quantities defined about any background, in any coordinates (the others
+    /// are defined about Minkowski in Cartesian coordinates only).
+    #[must_use]
+    pub fn about_background(self) -> bool {
+        matches!(
+            self,
+            Quantity::H
+                | Quantity::Hbar
+                | Quantity::Dh
+                | Quantity::Riemann
+                | Quantity::Ricci
+                | Quantity::Einstein
+        )
+    }
+
+    /// What the columns are about a background ([`Quantity::about_background`]), in one
+    /// paragraph; `None` for the quantities defined only about flat space.
+    #[must_use]
+    pub fn definition_about_background(self) -> Option<&'static str> {
+        Some(match self {
+            Quantity::H => "the perturbation h_{mu nu} (g = gbar + h), both indices down",
+            Quantity::Hbar => {
+                "the trace-reversed perturbation hbar_{mu nu} = h_{mu nu} - (1/2) gbar_{mu nu} \
+                 h, h = gbar^{mu nu} h_{mu nu}"
+            }
+            Quantity::Dh => {
+                "first partial derivatives d_rho h_{mu nu} by the file's coordinates: column \
+                 d_<rho>_h_<mu nu>, derivative-major"
+            }
+            Quantity::Riemann => {
+                "the 20 algebraically independent components of dR_abcd = d/deps R_abcd[gbar \
+                 + eps h] at eps = 0, all indices down, MTW sign (R^a_bcd = d_c Gamma^a_bd - \
+                 ...); pairs (ab, cd) with ab <= cd in the order 01 02 03 12 13 23 of the \
+                 coordinates, leaving out (03, 12)"
+            }
+            Quantity::Ricci => {
+                "the first-order change of the Ricci tensor, dR_{mu nu} = d/deps R_{mu \
+                 nu}[gbar + eps h] at eps = 0 (R_bd = R^a_bad)"
+            }
+            Quantity::Einstein => {
+                "the first-order change of the Einstein tensor, dG_{mu nu} = d/deps G_{mu \
+                 nu}[gbar + eps h] at eps = 0; the field equations are dG_{mu nu} + Lambda \
+                 h_{mu nu} = 8 pi dT_{mu nu}"
+            }
+            _ => return None,
+        })
+    }
+
     /// What the columns are, with the conventions, in one paragraph.
     #[must_use]
     pub fn definition(self) -> &'static str {
@@ -169,6 +217,12 @@ pub enum QuantityError {
     /// A quantity relative to a direction was asked for without one.
     #[error("`{0}` is defined relative to a direction: give --direction")]
     MissingDirection(&'static str),
+    /// A quantity defined only about flat space in Cartesian coordinates.
+    #[error(
+        "`{0}` is defined about flat space in Cartesian coordinates only; about a background \
+         the quantities are h, hbar, dh, riemann, ricci, einstein"
+    )]
+    FlatOnly(&'static str),
     /// The algebra stopped.
     #[error("the algebra stopped: {0}")]
     Algebra(#[from] CanonError),
@@ -384,6 +438,91 @@ pub fn blocks(
                     }]
                 }
             }
+        };
+        out.push(Block {
+            quantity: q,
+            columns,
+        });
+    }
+    Ok(out)
+}
+
+/// The columns of `quantities` for the perturbation `h` about the background `bg`, whose
+/// coordinates are written as `frame` says (component `h_t.ph` when a name has more than one
+/// letter, else joined as about flat space). Only the quantities
+/// [`Quantity::about_background`] are defined here.
+///
+/// # Errors
+///
+/// Another quantity, or an algebra limit.
+pub fn blocks_about(
+    store: &mut Store,
+    bg: &mut crate::tensor::curved::Background,
+    frame: &crate::tensor::Frame,
+    h: &Sym4,
+    quantities: &[Quantity],
+) -> Result<Vec<Block>, QuantityError> {
+    use crate::tensor::curved::Perturbation;
+    let mut pert = Perturbation::new(*h);
+    let sym = |prefix: &str, latex: &str, m: &Sym4| -> Vec<Column> {
+        COMPONENTS
+            .iter()
+            .map(|&(i, j)| {
+                let idx = frame.index(&[i, j]);
+                Column {
+                    name: format!("{prefix}_{idx}"),
+                    latex: format!("{latex}_{{{idx}}}"),
+                    form: m[i][j],
+                }
+            })
+            .collect()
+    };
+    let mut out = Vec::new();
+    for &q in quantities {
+        let columns = match q {
+            Quantity::H => sym("h", "h", h),
+            Quantity::Hbar => {
+                let tr = pert.trace(store, bg)?;
+                let half = Coeff::rational(Q::new((-1).into(), 2.into()));
+                let mut hb = *h;
+                for &(i, j) in &COMPONENTS {
+                    let x = store.mul(bg.g[i][j], tr)?;
+                    let v = store.linear(&[(&Coeff::one(), h[i][j]), (&half, x)])?;
+                    hb[i][j] = v;
+                    hb[j][i] = v;
+                }
+                sym("hbar", "\\bar{h}", &hb)
+            }
+            Quantity::Dh => {
+                let mut cols = Vec::new();
+                for rho in 0..4 {
+                    for &(i, j) in &COMPONENTS {
+                        let idx = frame.index(&[i, j]);
+                        let c = frame.coord(rho);
+                        cols.push(Column {
+                            name: format!("d_{c}_h_{idx}"),
+                            latex: format!("\\partial_{{{c}}} h_{{{idx}}}"),
+                            form: store.diff(h[i][j], bg.coords[rho])?,
+                        });
+                    }
+                }
+                cols
+            }
+            Quantity::Riemann => pert
+                .riemann(store, bg)?
+                .into_iter()
+                .map(|(idx, f)| {
+                    let n = frame.index(&idx);
+                    Column {
+                        name: format!("dR_{n}"),
+                        latex: format!("\\delta R_{{{n}}}"),
+                        form: f,
+                    }
+                })
+                .collect(),
+            Quantity::Ricci => sym("dR", "\\delta R", &pert.delta_ricci(store, bg)?),
+            Quantity::Einstein => sym("dG", "\\delta G", &pert.delta_einstein(store, bg)?),
+            _ => return Err(QuantityError::FlatOnly(q.name())),
         };
         out.push(Block {
             quantity: q,

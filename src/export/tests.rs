@@ -206,7 +206,8 @@ fn export(
     });
     let params = p.parameters.clone();
     let numeric = Numeric::new(p, quantities, frame, &params).unwrap();
-    let pts = points::read_points("p.csv", points).unwrap();
+    let pts =
+        points::read_points("p.csv", points, &crate::tensor::COORDS.map(String::from)).unwrap();
     let sampling = p.sampling.clone();
     evaluate(
         &mut p.store,

@@ -504,6 +504,8 @@ pub struct Quantities<A> {
     pub background: Matrix<A>,
     /// `dG_ab = d/deps G_ab[gbar + eps h]` at `eps = 0`.
     pub einstein: Matrix<A>,
+    /// `dR_ab = d/deps R_ab[gbar + eps h]` at `eps = 0`.
+    pub ricci: Matrix<A>,
     /// `E_ab = dG_ab + Lambda h_ab - 8 pi dT_ab`: zero iff the linearized equations hold.
     pub field: Matrix<A>,
     /// `dR_abcd`, the linearized Riemann tensor, all indices down.
@@ -638,9 +640,12 @@ pub fn evaluate<A: Arith>(f: &Fields<A>, ctx: &A::Ctx) -> Option<Quantities<A>> 
         Some(c.eps)
     })?;
 
+    let ricci: Matrix<A> =
+        std::array::from_fn(|a| std::array::from_fn(|b| lin.ricci[a][b].eps.clone()));
     Some(Quantities {
         background,
         einstein,
+        ricci,
         field,
         riemann: rank4(&lin.riemann, true),
         riemann_bar: rank4(&lin.riemann, false),

@@ -329,6 +329,29 @@ pub struct BackgroundData {
 }
 
 impl Problem {
+    /// The background as a spacetime in this problem's store: the file's `[background]`, or
+    /// Minkowski in the file's (Cartesian) coordinates without one.
+    ///
+    /// # Errors
+    ///
+    /// A degenerate metric (`DivisionByZero`) or a limit.
+    pub fn spacetime(&mut self) -> crate::canon::CResult<crate::tensor::curved::Background> {
+        let store = &mut self.store;
+        let coords = self.coordinates.clone().map(|c| store.symbol_kernel(&c));
+        let (g, lambda, source) = match &self.background {
+            Some(b) => (b.g, b.lambda, b.source),
+            None => {
+                let (zero, one, minus) = (store.zero(), store.one(), store.int(-1));
+                let mut g = [[zero; 4]; 4];
+                for (i, row) in g.iter_mut().enumerate() {
+                    row[i] = if i == 0 { minus } else { one };
+                }
+                (g, zero, None)
+            }
+        };
+        crate::tensor::curved::Background::new(store, coords, g, lambda, source)
+    }
+
     /// True for the flat problems of Cartesian (t, x, y, z) about Minkowski without Lambda:
     /// every command works on them.
     #[must_use]

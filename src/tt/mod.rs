@@ -626,6 +626,18 @@ pub fn numeric_point(
     sampling: &Sampling,
     coords: [f64; 4],
 ) -> Point {
+    let names = crate::tensor::COORDS.map(String::from);
+    numeric_point_in(store, &names, parameters, sampling, coords)
+}
+
+/// As [`numeric_point`], for the coordinates named `names` (time first).
+pub fn numeric_point_in(
+    store: &mut Store,
+    names: &[String; 4],
+    parameters: &[(String, f64)],
+    sampling: &Sampling,
+    coords: [f64; 4],
+) -> Point {
     let mut pt = Point::default();
     for (name, v) in parameters {
         if let Some(i) = Interval::point(*v) {
@@ -633,7 +645,7 @@ pub fn numeric_point(
             pt.values.insert(k, CInterval::from_real(i));
         }
     }
-    for (c, v) in crate::tensor::COORDS.iter().zip(coords) {
+    for (c, v) in names.iter().zip(coords) {
         if let Some(i) = Interval::point(v) {
             let k: KernelId = store.symbol_kernel(c);
             pt.values.insert(k, CInterval::from_real(i));

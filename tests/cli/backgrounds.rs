@@ -287,11 +287,7 @@ fn other_commands_refuse_background_files() {
         assert_eq!(code, 2, "{args:?}: {out}{err}");
         assert!(!err.contains("panicked"), "{args:?}: {err}");
         // The message as one line, whatever the width it was wrapped to.
-        let flat: Vec<&str> = err
-            .split_whitespace()
-            .filter(|w| *w != "\u{2502}")
-            .collect();
-        let flat = flat.join(" ");
+        let flat = super::support::one_line(&err);
         assert!(
             flat.contains("does not yet work about a background"),
             "{flat}"

@@ -137,3 +137,13 @@ pub fn files_in(dir: &Path) -> Vec<String> {
     v.sort();
     v
 }
+
+/// A rendered error as one line: words joined by single spaces, without the frame's bars, so
+/// that a test does not depend on the width the message was wrapped to.
+pub fn one_line(err: &str) -> String {
+    let words: Vec<&str> = err
+        .split_whitespace()
+        .filter(|w| *w != "\u{2502}")
+        .collect();
+    words.join(" ")
+}

@@ -30,7 +30,7 @@ pub fn run(a: CheckArgs) -> Result<Outcome, Failure> {
     let label = a.file.display().to_string();
     let text = match a.format {
         Format::Text => render_text(&mut problem.store, &label, problem.name.as_deref(), &report),
-        Format::Json => render_json(&mut problem.store, &label, problem.name.as_deref(), &report),
+        Format::Json => render_json(&mut problem, &label, &report),
     };
     print(&text)?;
     Ok(Outcome::of(report.overall()))
@@ -91,14 +91,17 @@ fn render_text(store: &mut Store, label: &str, name: Option<&str>, r: &CheckRepo
     s
 }
 
-fn render_json(store: &mut Store, label: &str, name: Option<&str>, r: &CheckReport) -> String {
+fn render_json(problem: &mut lingrav::Problem, label: &str, r: &CheckReport) -> String {
+    let coordinates = problem.coordinates.clone();
+    let name = problem.name.clone();
+    let store = &mut problem.store;
     let mut j = serde_json::json!({
         "file": label,
         "name": name,
         "has_claims": r.has_claims,
         "result": r.overall().label(),
         "claims": r.claims.iter().map(|c| claim_json(store, c)).collect::<Vec<_>>(),
-        "conventions": conventions(),
+        "conventions": conventions(&coordinates),
     });
     if r.overall() == Status::Undecided
         && let Some(why) = limit_in_report(r)

@@ -171,14 +171,12 @@ fn about_background(
     hb: &lingrav::tensor::Sym4,
     sampling: &lingrav::Sampling,
 ) -> Result<Comparison, Failure> {
-    use lingrav::tensor::curved::Background;
+    let paths = format!("{} and {}", pa.path, pb.path);
     let refuse = |why: String| {
         Failure::Input(miette::miette!(
             help = "compare needs both files about the same background, in the same \
                     coordinates, and that background flat (Minkowski in any coordinates)",
-            "{} and {}: {why}",
-            pa.path,
-            pb.path
+            "{paths}: {why}"
         ))
     };
     let (Some(ga), Some(gb)) = (pa.background.clone(), pb.background.clone()) else {
@@ -204,13 +202,13 @@ fn about_background(
             )));
         }
     }
-    let coords = pa.coordinates.clone().map(|c| st.symbol_kernel(&c));
-    let mut bg = Background::new(st, coords, ga.g, ga.lambda, ga.source).map_err(|e| match e {
+    let mut bg = pa.spacetime().map_err(|e| match e {
         lingrav::CanonError::DivisionByZero => {
             refuse("the background metric is degenerate (its determinant is 0)".into())
         }
         e => gave_up(&e),
     })?;
+    let st = &mut pa.store;
     let flat = bg.riemann_down(st)?.iter().all(|(_, f)| st.is_zero(*f));
     if !flat {
         return Err(Failure::GaveUp(

@@ -14,7 +14,7 @@ use crate::cli::quantities::{
 };
 use clap::{Args, ValueEnum};
 use lingrav::export::points::{Grid, PointSet, read_points};
-use lingrav::export::quantity::blocks;
+use lingrav::export::quantity::{blocks, blocks_about};
 use lingrav::export::write::{AtomicFile, FileError, Format, commit_with_sidecar, write_table};
 use lingrav::export::{ExportError, Numeric, Settings, SidecarInfo, evaluate, sidecar};
 use lingrav::problem::{Problem, ProblemError};
@@ -40,7 +40,8 @@ pub struct ExportArgs {
     file: PathBuf,
     #[command(flatten)]
     quantities: QuantityArgs,
-    /// A CSV file of points, one `t,x,y,z` per line (optional header line `t,x,y,z`).
+    /// A CSV file of points, one per line in the file's coordinates, `t,x,y,z` unless it
+    /// lists others (optional header line naming them, e.g. `t,r,th,ph`).
     #[arg(long, value_name = "POINTS.csv")]
     at: Option<PathBuf>,
     /// Evaluate on a grid: the box of the grid check (the file's [grid] table, its first
@@ -157,16 +158,29 @@ fn plan_points(p: &Problem, a: &ExportArgs) -> Result<PointSet, Failure> {
         })?;
         let text = lingrav::problem::utf8_text(&label, bytes)
             .map_err(|e| Failure::Input(miette::Report::new(e)))?;
-        return read_points(&label, &text).map_err(|e| Failure::Input(miette::Report::new(e)));
+        return read_points(&label, &text, &p.coordinates)
+            .map_err(|e| Failure::Input(miette::Report::new(e)));
     }
+    let list = p.coordinates.join(",");
     let center = match &a.center {
         Some(c) => Some(<[f64; 4]>::try_from(c.as_slice()).map_err(|_| {
             Failure::Input(miette::miette!(
-                help = "e.g. --center 0,0.1,0.2,0.3 (write --center=-1,0,0,2 for a negative t)",
-                "--center needs four numbers t,x,y,z, not {}",
+                help = "e.g. --center 0,0.1,0.2,0.3 (write --center=-1,0,0,2 for a negative \
+                        first coordinate)",
+                "--center needs four numbers {list}, not {}",
                 c.len()
             ))
         })?),
+        // Inside the file's [domain]: the middle of each range given.
+        None if p.grid.as_ref().and_then(|g| g.center).is_none() => {
+            p.domain.filter(|d| d.iter().any(Option::is_some)).map(|d| {
+                std::array::from_fn(|i| {
+                    d[i].map_or(lingrav::export::points::DEFAULT_CENTER[i], |(lo, hi)| {
+                        lo / 2.0 + hi / 2.0
+                    })
+                })
+            })
+        }
         None => None,
     };
     let g = Grid::new(p.grid.as_ref(), center, a.width, a.points, a.spacetime).map_err(|e| {
@@ -176,7 +190,7 @@ fn plan_points(p: &Problem, a: &ExportArgs) -> Result<PointSet, Failure> {
             "{e}"
         ))
     })?;
-    Ok(PointSet::grid(g))
+    Ok(PointSet::grid(g, &p.coordinates))
 }
 
 fn sidecar_path(out: &Path) -> PathBuf {
@@ -208,7 +222,7 @@ fn export_failure(e: ExportError) -> Failure {
 /// `lingrav export`.
 pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
     // Plan: every input and output checked before any algebra.
-    let mut p = a.limits.load_flat(&a.file, "export")?;
+    let mut p = a.limits.load(&a.file)?;
     let (qs, dir) = plan_quantities(&mut p, &a.quantities)?;
     let (params, overridden) = plan_parameters(&p, &a.set)?;
     let points = plan_points(&p, &a)?;
@@ -242,8 +256,15 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
     let mut meta_file = AtomicFile::create(&meta_path, a.force).map_err(file_failure)?;
 
     // Compute.
-    let b = blocks(&mut p.store, &p.h, p.source.as_ref(), &qs, dir.as_ref())
-        .map_err(quantity_failure)?;
+    let b = match &p.background {
+        None => blocks(&mut p.store, &p.h, p.source.as_ref(), &qs, dir.as_ref()),
+        Some(_) => {
+            let mut bg = crate::cli::limits::spacetime(&mut p)?;
+            let frame = lingrav::tensor::Frame::covariant(p.coordinates.clone());
+            blocks_about(&mut p.store, &mut bg, &frame, &p.h, &qs)
+        }
+    }
+    .map_err(quantity_failure)?;
     let frame = dir.as_ref().map(|d| frame_texts(&mut p, d));
     let numeric = Numeric::new(&p, &qs, frame, &params)
         .map_err(|e| Failure::Input(miette::miette!("cannot evaluate the problem's texts: {e}")))?;
@@ -277,6 +298,8 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
         overridden: &overridden,
         functions: &p.functions,
         defines: &p.defines,
+        coordinates: &p.coordinates,
+        background: lingrav::export::background_json(&p),
         h_text: &p.h_text,
         source_text: p.source_text.as_ref(),
         direction,

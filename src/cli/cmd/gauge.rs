@@ -145,7 +145,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
     let label = a.file.display().to_string();
     let mut s = String::new();
     let _ = writeln!(s, "{}", heading(&label, p.name.as_deref()));
-    let mut j = serde_json::json!({ "file": label, "name": p.name, "conventions": conventions() });
+    let mut j = serde_json::json!({ "file": label, "name": p.name, "conventions": conventions(&p.coordinates) });
     let h = p.h;
     let seed = sampling.seed;
     // Every verdict below is audited independently; a contradiction is an internal defect.

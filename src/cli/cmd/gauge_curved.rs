@@ -11,7 +11,7 @@ use crate::cli::report::{
 use lingrav::canon::CanonError;
 use lingrav::check::check;
 use lingrav::problem::{Claims, Gauge, Problem};
-use lingrav::tensor::curved::{Background, Perturbation};
+use lingrav::tensor::curved::Perturbation;
 use lingrav::tensor::{COMPONENTS, Frame};
 use lingrav::tt::Arg;
 use std::fmt::Write as _;
@@ -36,14 +36,8 @@ pub fn run(mut p: Problem, vector: &str, format: Format, label: &str) -> Result<
     let xi_texts: Vec<String> = pieces.iter().map(|x| format!("({})", x.text)).collect();
     let bgd = p.background.clone().expect("a problem about a background");
     let limit = |e: CanonError| gave_up(&e);
+    let bg = crate::cli::limits::spacetime(&mut p)?;
     let st = &mut p.store;
-    let coords = c.clone().map(|n| st.symbol_kernel(&n));
-    let bg = Background::new(st, coords, bgd.g, bgd.lambda, bgd.source).map_err(|e| match e {
-        CanonError::DivisionByZero => Failure::Input(miette::miette!(
-            "{label}: the background metric is degenerate (its determinant is 0)"
-        )),
-        e => gave_up(&e),
-    })?;
     let h2 = Perturbation::new(p.h)
         .gauge_residual(st, &bg, &xi)
         .map_err(limit)?;
@@ -119,7 +113,7 @@ pub fn run(mut p: Problem, vector: &str, format: Format, label: &str) -> Result<
             "gauges": holding,
             "limit": limit,
             "defect": defect,
-            "conventions": conventions(),
+            "conventions": conventions(&p.coordinates),
         })),
     };
     print(&out)?;

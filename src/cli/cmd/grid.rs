@@ -472,7 +472,7 @@ fn render_json(label: &str, name: Option<&str>, r: &GridReport, defaults: &[&str
         "has_claims": r.has_claims,
         "result": r.overall().label(),
         "claims": claims,
-        "conventions": conventions(),
+        "conventions": conventions(&r.coordinates),
     });
     if r.background {
         // Only about a background, so that flat reports stay as they were.

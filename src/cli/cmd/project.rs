@@ -262,7 +262,7 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
                     "points": frac.points,
                     "seed": frac.seed,
                 },
-                "conventions": conventions(),
+                "conventions": conventions(&p.coordinates),
                 "audit": {
                     "unit_length": audit.unit.as_ref().map(|f| audit_json(f, seed)),
                     "tt_part": audit.printed_text(seed),
@@ -417,7 +417,7 @@ fn sphere(a: ProjectArgs, mut p: lingrav::Problem) -> Result<Outcome, Failure> {
                     "h_plus": lead(&pl),
                     "h_cross": lead(&cl),
                 },
-                "conventions": conventions(),
+                "conventions": conventions(&p.coordinates),
                 "audit": {
                     "h_plus": audit_json(&findings[0], seed),
                     "h_cross": audit_json(&findings[1], seed),

@@ -168,7 +168,7 @@ pub fn run(a: RingArgs) -> Result<Outcome, Failure> {
                 "svg": written.as_ref().map(|(path, factor)| serde_json::json!({
                     "path": path, "panels": snaps.len(), "exaggeration": factor,
                 })),
-                "conventions": conventions(),
+                "conventions": conventions(&p.coordinates),
             }))
         }
     };

@@ -131,7 +131,7 @@ pub fn run(a: ShowArgs) -> Result<Outcome, Failure> {
                 "quantity": a.quantity.to_possible_value().map(|v| v.get_name().to_string()),
                 "components": components,
                 "zero_components_omitted": zeros,
-                "conventions": conventions(),
+                "conventions": conventions(&p.coordinates),
             }))
         }
     };
@@ -247,29 +247,11 @@ fn curved_rows(
     p: &mut lingrav::Problem,
     quantity: Quantity,
 ) -> Result<Vec<(String, Form)>, Failure> {
-    use lingrav::tensor::curved::{Background, Perturbation};
+    use lingrav::tensor::curved::Perturbation;
     let limit = |e: CanonError| gave_up(&e);
     let frame = lingrav::tensor::Frame::covariant(p.coordinates.clone());
+    let mut bg = crate::cli::limits::spacetime(p)?;
     let store = &mut p.store;
-    let coords = p.coordinates.clone().map(|c| store.symbol_kernel(&c));
-    let (g, lambda, tbar) = match &p.background {
-        Some(b) => (b.g, b.lambda, b.source),
-        None => {
-            let (zero, one, minus) = (store.zero(), store.one(), store.int(-1));
-            let mut g = [[zero; 4]; 4];
-            for (i, row) in g.iter_mut().enumerate() {
-                row[i] = if i == 0 { minus } else { one };
-            }
-            (g, zero, None)
-        }
-    };
-    let mut bg = Background::new(store, coords, g, lambda, tbar).map_err(|e| match e {
-        CanonError::DivisionByZero => Failure::Input(miette::miette!(
-            "{}: the background metric is degenerate (its determinant is 0)",
-            p.path
-        )),
-        e => gave_up(&e),
-    })?;
     let mut h = Perturbation::new(p.h);
     let sym = |letter: &str, m: &[[Form; 4]; 4]| -> Vec<(String, Form)> {
         COMPONENTS
@@ -369,8 +351,8 @@ fn curved_rows(
         Quantity::BackgroundEquations => {
             let e = bg.equations(store).map_err(limit)?;
             let kind = lingrav::claim::Kind::BackgroundEquations {
-                lambda: !store.is_zero(lambda),
-                sourced: tbar.is_some(),
+                lambda: !store.is_zero(bg.lambda),
+                sourced: bg.source.is_some(),
             };
             kind.parts()
                 .into_iter()
