@@ -70,15 +70,6 @@ impl<const DEFAULT_MS: u64> LimitArgs<DEFAULT_MS> {
         load_with(path, limits)
     }
 
-    /// As [`LimitArgs::load`], for a command that works only on flat problems in Cartesian
-    /// coordinates so far: a problem about a background is refused (exit 2) with what does
-    /// work on it.
-    pub fn load_flat(&self, path: &Path, command: &str) -> Result<Problem, Failure> {
-        let p = self.load(path)?;
-        flat_only(&p, command)?;
-        Ok(p)
-    }
-
     /// The time limit in milliseconds.
     pub fn time_limit(&self) -> u64 {
         self.time_limit.unwrap_or(DEFAULT_MS)
@@ -104,31 +95,6 @@ pub fn spacetime(p: &mut Problem) -> Result<lingrav::tensor::curved::Background,
         )),
         e => gave_up(&e),
     })
-}
-
-/// Refuses a problem about a background for a command that does not handle one yet.
-pub fn flat_only(p: &Problem, command: &str) -> Result<(), Failure> {
-    if p.is_flat_cartesian() {
-        return Ok(());
-    }
-    Err(Failure::Input(miette::miette!(
-        help = "`lingrav check`, `show`, `grid`, `compare`, `export`, `project --direction radial` and \
-                `gauge --vector` work on this file; the other commands work on flat problems in \
-                Cartesian coordinates (t, x, y, z) so far",
-        "{}: `lingrav {command}` does not yet work about a background or in coordinates other \
-         than t, x, y, z (this file has {})",
-        p.path,
-        describe(p)
-    )))
-}
-
-fn describe(p: &Problem) -> String {
-    let cartesian = p.coordinates == lingrav::tensor::COORDS.map(String::from);
-    if cartesian {
-        "a [background], a cosmological constant, a background source or a gauge vector".into()
-    } else {
-        format!("coordinates {}", p.coordinates.join(", "))
-    }
 }
 
 /// Reads the problem file at `path` and builds it into `store`, another problem's (see

@@ -109,3 +109,22 @@ pub fn direction_text(p: &mut Problem, d: &Direction) -> String {
     let (n, u, w) = (v(&d.n), v(&d.u), v(&d.v));
     format!("n = {n}, u = {u}, v = {w}; {}; {}", d.n_note, d.basis_note)
 }
+
+/// The exact columns of `qs` for the problem: about its background in its coordinates, or
+/// about Minkowski in Cartesian coordinates (with the direction some quantities need).
+pub fn columns(
+    p: &mut Problem,
+    qs: &[Quantity],
+    dir: Option<&Direction>,
+) -> Result<Vec<lingrav::export::quantity::Block>, Failure> {
+    use lingrav::export::quantity::{blocks, blocks_about};
+    match &p.background {
+        None => blocks(&mut p.store, &p.h, p.source.as_ref(), qs, dir),
+        Some(_) => {
+            let mut bg = crate::cli::limits::spacetime(p)?;
+            let frame = lingrav::tensor::Frame::covariant(p.coordinates.clone());
+            blocks_about(&mut p.store, &mut bg, &frame, &p.h, qs)
+        }
+    }
+    .map_err(quantity_failure)
+}

@@ -30,6 +30,7 @@ fn generate(text: &str, qs: &[Quantity], lang: Lang, inline: bool) -> String {
         parameters: &p.parameters,
         functions: &p.functions,
         direction: None,
+        about: None,
         texts: texts(&p),
     };
     emit(&mut store, &src, &b, lang, inline).unwrap()

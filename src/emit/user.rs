@@ -143,6 +143,21 @@ pub fn roots(
     Ok((t.dag, r))
 }
 
+/// As [`roots`], about a background (see [`crate::export::lower::roots_about`]).
+///
+/// # Errors
+///
+/// As [`crate::export::lower::roots_about`].
+pub fn roots_about(
+    target: EmitTarget,
+    texts: &Texts<'_>,
+    about: &crate::export::lower::About<'_>,
+    quantities: &[Quantity],
+) -> Result<(Dag, Vec<Vec<Id>>), TapeError> {
+    let (t, r) = crate::export::lower::roots_about(target, texts, about, quantities)?;
+    Ok((t.dag, r))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -236,10 +236,11 @@ fn riemann_order() -> impl Iterator<Item = [usize; 4]> {
 /// The column values of `q` about a background, in the order of
 /// [`super::quantity::blocks_about`], from the pointwise route's quantities `pq` and the
 /// fields `f` they came from ([`crate::pointwise::evaluate`]: the full curvature chain of
-/// `gbar + eps h` in dual numbers, no linearized formula); `None` for a quantity not defined
-/// about a background.
+/// `gbar + eps h` in dual numbers, no linearized formula), in any arithmetic (enclosures for
+/// export, expression nodes for generated code); empty for a quantity not defined about a
+/// background.
 #[must_use]
-pub fn values_about<S: Scalar>(
+pub fn values_about<S: crate::pointwise::Arith>(
     q: Quantity,
     pq: &crate::pointwise::Quantities<S>,
     f: &crate::pointwise::Fields<S>,
@@ -250,7 +251,7 @@ pub fn values_about<S: Scalar>(
     match q {
         Quantity::H => sym(&|a, b| Some(f.h.at(a, b).clone())),
         Quantity::Hbar => sym(&|a, b| {
-            let half = S::from_f64(0.5)?;
+            let half = S::constant(0.5)?;
             f.h.at(a, b)
                 .sub(&half.mul(f.gbar.at(a, b))?.mul(&pq.trace)?)
         }),

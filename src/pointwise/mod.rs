@@ -67,6 +67,10 @@ pub trait Arith: Clone + fmt::Debug {
     fn neg(&self) -> Self;
     /// An approximate magnitude, used only to choose pivots (never for a verdict).
     fn magnitude(&self) -> f64;
+    /// True for expression nodes (generated code), whose values are not known here: the
+    /// inverse metric is then taken by cofactors, dividing only by the determinant, instead of
+    /// pivoting on magnitudes.
+    const SYMBOLIC: bool = false;
     /// `0`.
     fn zero() -> Self {
         Self::constant(0.0).expect("0 is finite")
@@ -184,6 +188,7 @@ impl<A: Arith> Arith for Dual<A> {
     fn neg(&self) -> Self {
         Dual::new(self.value.neg(), self.eps.neg())
     }
+    const SYMBOLIC: bool = A::SYMBOLIC;
     fn magnitude(&self) -> f64 {
         self.value.magnitude()
     }
@@ -366,6 +371,9 @@ pub type Rank4<A> = [[[[A; 4]; 4]; 4]; 4];
 /// The inverse of a 4x4 matrix by Gauss-Jordan elimination, pivoting on the largest
 /// magnitude in the column; `None` when a pivot may be 0 (for enclosures: contains 0).
 pub fn inverse<A: Arith>(m: &Matrix<A>) -> Option<Matrix<A>> {
+    if A::SYMBOLIC {
+        return inverse_by_cofactors(m);
+    }
     let mut a = m.clone();
     let mut inv: Matrix<A> = arr(|i| arr(|j| A::constant(if i == j { 1.0 } else { 0.0 })))?;
     for col in 0..4 {
@@ -391,6 +399,34 @@ pub fn inverse<A: Arith>(m: &Matrix<A>) -> Option<Matrix<A>> {
         }
     }
     Some(inv)
+}
+
+/// The inverse of a 4x4 matrix as its adjugate over its determinant (Laplace expansion along
+/// the first row): the only division is by the determinant, which vanishes only where the
+/// matrix is singular. For [`Arith::SYMBOLIC`] types.
+pub fn inverse_by_cofactors<A: Arith>(m: &Matrix<A>) -> Option<Matrix<A>> {
+    // The determinant of the 3x3 minor without row `r` and column `c`.
+    let minor = |r: usize, c: usize| -> Option<A> {
+        let rows: Vec<usize> = (0..4).filter(|&i| i != r).collect();
+        let cols: Vec<usize> = (0..4).filter(|&j| j != c).collect();
+        let e = |i: usize, j: usize| &m[rows[i]][cols[j]];
+        let term = |a: usize, b: usize, c: usize| -> Option<A> {
+            e(0, a).mul(&e(1, b).mul(e(2, c))?.sub(&e(1, c).mul(e(2, b))?)?)
+        };
+        term(0, 1, 2)?.sub(&term(1, 0, 2)?)?.add(&term(2, 0, 1)?)
+    };
+    let cofactor = |r: usize, c: usize| -> Option<A> {
+        let x = minor(r, c)?;
+        Some(if (r + c).is_multiple_of(2) {
+            x
+        } else {
+            x.neg()
+        })
+    };
+    let cof: Matrix<A> = arr(|r| arr(|c| cofactor(r, c)))?;
+    let det = sum4(|j| m[0][j].mul(&cof[0][j]))?;
+    // (m^-1)_{ij} = C_ji / det.
+    arr(|i| arr(|j| cof[j][i].div(&det)))
 }
 
 /// The curvature chain of a metric at a point, from its value and first and second

@@ -1143,3 +1143,27 @@ fn pointwise_flat_cartesian_agrees_with_the_audit() {
     // The wrong-sign wave fails its field equations: the comparison is not all zeros.
     assert!(nonzero > 0);
 }
+
+proptest! {
+    /// The inverse by cofactors (used for expression nodes) agrees with Gauss-Jordan
+    /// elimination (used for numbers) on well-conditioned matrices, and m m^-1 = 1.
+    #[test]
+    fn inverse_by_cofactors_agrees_with_elimination(
+        entries in proptest::collection::vec(-3.0f64..3.0, 16),
+    ) {
+        let mut m: Matrix<f64> = std::array::from_fn(|i| std::array::from_fn(|j| entries[4 * i + j]));
+        for (i, row) in m.iter_mut().enumerate() {
+            row[i] += 13.0; // diagonally dominant: far from singular
+        }
+        let a = inverse(&m).expect("invertible");
+        let b = inverse_by_cofactors(&m).expect("invertible");
+        for i in 0..4 {
+            for j in 0..4 {
+                prop_assert!((a[i][j] - b[i][j]).abs() < 1e-12, "{i}{j}: {} {}", a[i][j], b[i][j]);
+                let id: f64 = (0..4).map(|k| m[i][k] * b[k][j]).sum();
+                let want = if i == j { 1.0 } else { 0.0 };
+                prop_assert!((id - want).abs() < 1e-12);
+            }
+        }
+    }
+}

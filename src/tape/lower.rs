@@ -196,6 +196,8 @@ pub enum Combine {
     Sub(UserNode, UserNode),
     /// `a * b`.
     Mul(UserNode, UserNode),
+    /// `a / b`.
+    Div(UserNode, UserNode),
     /// `-a`.
     Neg(UserNode),
 }
@@ -354,6 +356,7 @@ impl<T: Target> Lowering<T> {
             Combine::Add(a, b) => self.add(a.0, b.0),
             Combine::Sub(a, b) => self.sub(a.0, b.0),
             Combine::Mul(a, b) => self.mul(a.0, b.0),
+            Combine::Div(a, b) => self.div(a.0, b.0),
             Combine::Neg(a) => self.neg(a.0),
         })
     }

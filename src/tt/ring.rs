@@ -108,27 +108,61 @@ pub fn respond(
             s
         };
         let m = [[quad(&u, &u), quad(&u, &v)], [quad(&v, &u), quad(&v, &v)]];
-        let plus = 0.5 * (m[0][0] - m[1][1]);
-        let cross = 0.5 * (m[0][1] + m[1][0]);
-        let masses = (0..ring.masses)
-            .map(|k| {
-                let phi = std::f64::consts::TAU * k as f64 / ring.masses as f64;
-                let (s, c) = phi.sin_cos();
-                Mass {
-                    index: k,
-                    phi,
-                    dx_u: 0.5 * ring.radius * (m[0][0] * c + m[0][1] * s),
-                    dx_v: 0.5 * ring.radius * (m[1][0] * c + m[1][1] * s),
-                }
-            })
-            .collect();
-        out.push(Snapshot {
-            t,
-            plus,
-            cross,
-            m,
-            masses,
-        });
+        out.push(snapshot(t, m, ring));
+    }
+    snap_noise(&mut out, ring.radius);
+    Ok(out)
+}
+
+/// The ring at time `t` for `M = [[h_uu, h_uv], [h_vu, h_vv]]` at its centre.
+fn snapshot(t: f64, m: [[f64; 2]; 2], ring: &Ring) -> Snapshot {
+    let masses = (0..ring.masses)
+        .map(|k| {
+            let phi = std::f64::consts::TAU * k as f64 / ring.masses as f64;
+            let (s, c) = phi.sin_cos();
+            Mass {
+                index: k,
+                phi,
+                dx_u: 0.5 * ring.radius * (m[0][0] * c + m[0][1] * s),
+                dx_v: 0.5 * ring.radius * (m[1][0] * c + m[1][1] * s),
+            }
+        })
+        .collect();
+    Snapshot {
+        t,
+        plus: 0.5 * (m[0][0] - m[1][1]),
+        cross: 0.5 * (m[0][1] + m[1][0]),
+        m,
+        masses,
+    }
+}
+
+/// The ring's response on the sphere, in coordinates `names` read as (t, r, theta, phi): the
+/// ring is transverse to e_r at `ring.centre` = (r, theta, phi), `u = e_theta`,
+/// `v = e_phi`, and `M = [[h_+, h_x], [h_x, -h_+]]` with the polarizations `plus`, `cross`
+/// on the sphere ([`super::sphere::polarizations`]).
+///
+/// # Errors
+///
+/// A value that cannot be evaluated there.
+#[allow(clippy::too_many_arguments)]
+pub fn respond_on_sphere(
+    store: &mut Store,
+    names: &[String; 4],
+    parameters: &[(String, f64)],
+    sampling: &Sampling,
+    plus: Form,
+    cross: Form,
+    ring: &Ring,
+    times: &[f64],
+) -> Result<Vec<Snapshot>, String> {
+    let mut out = Vec::new();
+    for &t in times {
+        let [r, th, ph] = ring.centre;
+        let pt = super::numeric_point_in(store, names, parameters, sampling, [t, r, th, ph]);
+        let hp = real(store, plus, &pt, "h_plus")?;
+        let hx = real(store, cross, &pt, "h_cross")?;
+        out.push(snapshot(t, [[hp, hx], [hx, -hp]], ring));
     }
     snap_noise(&mut out, ring.radius);
     Ok(out)

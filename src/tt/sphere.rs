@@ -47,6 +47,49 @@ pub enum Leading {
     Unavailable(String),
 }
 
+/// Why the background `g` in the coordinates named `coords` = (t, r, theta, phi) does not
+/// have the round angular block the formulas of this module assume, or `None` when it is
+/// proved to: gbar_thth = r^2, gbar_phph = r^2 sin^2 theta and no other component with an
+/// angular index (then e_theta/r and e_phi/(r sin theta) are orthonormal, and the
+/// polarizations are the components of h in that frame). Not proved counts as not.
+///
+/// # Errors
+///
+/// An algebra limit.
+pub fn round_sphere(store: &mut Store, coords: [&str; 4], g: &Sym4) -> CResult<Option<String>> {
+    let r = store.symbol(coords[1]);
+    let th = store.symbol(coords[2]);
+    let r2 = store.powi(r, 2)?;
+    let sin = store.sin(th)?;
+    let sin2 = store.powi(sin, 2)?;
+    let r2sin2 = store.mul(r2, sin2)?;
+    let zero = store.zero();
+    let want = [
+        (2, 2, r2, format!("{0}^2", coords[1])),
+        (
+            3,
+            3,
+            r2sin2,
+            format!("{0}^2*sin({1})^2", coords[1], coords[2]),
+        ),
+        (2, 3, zero, "0".into()),
+        (0, 2, zero, "0".into()),
+        (0, 3, zero, "0".into()),
+        (1, 2, zero, "0".into()),
+        (1, 3, zero, "0".into()),
+    ];
+    for (a, b, f, text) in want {
+        let d = store.sub(g[a][b], f)?;
+        if !store.is_zero(d) {
+            return Ok(Some(format!(
+                "gbar_{}.{} is not proved to be {text}",
+                coords[a], coords[b]
+            )));
+        }
+    }
+    Ok(None)
+}
+
 /// h_plus and h_cross of `h` in the coordinates named `coords` = (t, r, theta, phi), with
 /// `u` the name of the retarded-time symbol used for the leading order.
 ///

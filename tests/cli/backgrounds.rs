@@ -273,24 +273,3 @@ fn the_spoiled_slow_rotation() {
         "{comp:#}"
     );
 }
-
-#[test]
-fn other_commands_refuse_background_files() {
-    // The commands that do not work about a background yet say so (exit 2); `show`,
-    // `project` and `gauge --vector` are tested in `curved_commands`, `grid` in `grid_cli`.
-    let f = worked("schwarzschild_slow_rotation.toml");
-    for args in [
-        vec!["ring", &f, "--direction", "z", "--times", "0"],
-        vec!["emit", &f, "--quantity", "h", "--lang", "c"],
-    ] {
-        let (out, err, code) = lingrav(&args);
-        assert_eq!(code, 2, "{args:?}: {out}{err}");
-        assert!(!err.contains("panicked"), "{args:?}: {err}");
-        // The message as one line, whatever the width it was wrapped to.
-        let flat = super::support::one_line(&err);
-        assert!(
-            flat.contains("does not yet work about a background"),
-            "{flat}"
-        );
-    }
-}

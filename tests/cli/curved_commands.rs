@@ -1,6 +1,5 @@
-//! The commands other than `check` on problems about a background: `show`, `project` in
-//! spherical coordinates, `gauge --vector` and `export`, and a clear refusal from the
-//! commands that do not handle them yet.
+//! The commands other than `check` on problems about a background: `show`, `project` and
+//! `ring` in spherical coordinates, `gauge --vector`, `export` and `emit`.
 
 use super::support::{lingrav, worked};
 
@@ -232,17 +231,90 @@ fn export_about_a_background_refuses_flat_only_quantities_and_wrong_headers() {
 }
 
 #[test]
-fn commands_without_background_support_refuse_clearly() {
-    let runs: [&[&str]; 2] = [
-        &["ring", WAVE, "--direction", "z", "--times", "0,1"],
-        &["emit", WAVE, "--quantity", "h", "--lang", "c"],
+fn ring_on_the_sphere_follows_the_polarizations() {
+    // The wave of WAVE: h_plus = a F sin^2(th)/r + a F/(2 r^2), h_cross = a F sin(th)/r with
+    // F(u) = exp(-u^2), a = 0.01 (the file's comment; h_cross = h_thph/(r^2 sin th)). A mass
+    // at angle 0 from u moves by (1/2) L (h_plus, h_cross) (common practice: delta x^i =
+    // (1/2) h^TT_ij x^j).
+    let (out, err, code) = lingrav(&[
+        "ring",
+        WAVE,
+        "--direction",
+        "radial",
+        "--at",
+        "5,1,0.5",
+        "--times",
+        "4.5",
+        "--masses",
+        "4",
+        "--radius",
+        "2",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let (a, r, th, u) = (0.01f64, 5.0f64, 1.0f64, -0.5f64);
+    let f = (-u * u).exp();
+    let plus = a * f * th.sin().powi(2) / r + a * f / (2.0 * r * r);
+    let cross = a * f * th.sin() / r;
+    let snap = &j["snapshots"][0];
+    let close = |got: &serde_json::Value, want: f64| {
+        let g = got.as_f64().unwrap();
+        assert!((g - want).abs() <= 1e-12 * want.abs(), "{g} against {want}");
+    };
+    close(&snap["h_plus"], plus);
+    close(&snap["h_cross"], cross);
+    close(&snap["masses"][0]["dx_u"], plus);
+    close(&snap["masses"][0]["dx_v"], cross);
+    assert_eq!(j["basis"]["u"], "e_th");
+    // Only the radial direction, a centre off r = 0, and a round sphere.
+    let (_, err, code) = lingrav(&["ring", WAVE, "--direction", "z", "--times", "0"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        super::support::one_line(&err).contains("only the radial direction"),
+        "{err}"
+    );
+    let (_, err, code) = lingrav(&["ring", WAVE, "--direction", "radial", "--times", "0"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("r > 0"), "{err}");
+    let frw = worked("frw_dust_tensor_mode.toml");
+    let args = [
+        "ring",
+        &frw,
+        "--direction",
+        "radial",
+        "--at",
+        "1,1,1",
+        "--times",
+        "1",
     ];
-    for args in runs {
-        let (out, err, code) = lingrav(args);
-        assert_eq!(code, 2, "{args:?}: {out}{err}");
-        assert!(out.is_empty(), "{args:?}: {out}");
-        assert!(err.contains("does not yet work"), "{args:?}: {err}");
-    }
+    let (_, err, code) = lingrav(&args);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        super::support::one_line(&err).contains("not proved to be x^2"),
+        "{err}"
+    );
+    let (_, err, code) = lingrav(&["project", &frw, "--direction", "radial"]);
+    assert_eq!(code, 2, "{err}");
+    let flat = super::support::one_line(&err);
+    assert!(flat.contains("not proved to be x^2"), "{flat}");
+}
+
+#[test]
+fn emit_about_a_background_names_the_coordinates_and_the_background() {
+    let f = worked("kottler_mass_perturbation.toml");
+    let (out, err, code) = lingrav(&["emit", &f, "-q", "einstein", "--lang", "c"]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("coordinates (t,r,th,ph)"), "{out}");
+    assert!(out.contains("gbar_r.r = 1/f"), "{out}");
+    assert!(
+        out.contains("void lingrav_einstein(double t, double r, double th, double ph,"),
+        "{out}"
+    );
+    let (_, err, code) = lingrav(&["emit", &f, "-q", "adm", "--lang", "c"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("`adm` is defined about flat space"), "{err}");
 }
 
 #[test]

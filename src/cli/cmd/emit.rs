@@ -3,13 +3,11 @@
 
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, file_failure, limit_or, print};
-use crate::cli::quantities::{
-    QuantityArgs, direction_text, frame_texts, plan_quantities, quantity_failure,
-};
+use crate::cli::quantities::{QuantityArgs, columns, direction_text, frame_texts, plan_quantities};
 use clap::{Args, ValueEnum};
 use lingrav::emit::user::Texts;
 use lingrav::emit::{Lang, Source, emit};
-use lingrav::export::quantity::blocks;
+use lingrav::export::lower::About;
 use lingrav::export::write::AtomicFile;
 use lingrav::tape::UserExprs;
 use std::path::PathBuf;
@@ -67,14 +65,13 @@ pub struct EmitArgs {
 
 /// `lingrav emit`.
 pub fn run(a: EmitArgs) -> Result<Outcome, Failure> {
-    let mut p = a.limits.load_flat(&a.file, "emit")?;
+    let mut p = a.limits.load(&a.file)?;
     let (qs, dir) = plan_quantities(&mut p, &a.quantities)?;
     let file = match &a.out {
         Some(o) => Some(AtomicFile::create(o, a.force).map_err(file_failure)?),
         None => None,
     };
-    let b = blocks(&mut p.store, &p.h, p.source.as_ref(), &qs, dir.as_ref())
-        .map_err(quantity_failure)?;
+    let b = columns(&mut p, &qs, dir.as_ref())?;
     let direction = dir.as_ref().map(|d| direction_text(&mut p, d));
     let frame = dir.as_ref().map(|d| frame_texts(&mut p, d));
     let path_label = a.file.display().to_string();
@@ -84,6 +81,10 @@ pub fn run(a: EmitArgs) -> Result<Outcome, Failure> {
         parameters: &p.parameters,
         functions: &p.functions,
         direction,
+        about: p.background.as_ref().map(|bg| About {
+            coordinates: &p.coordinates,
+            g: &bg.g_text,
+        }),
         texts: Texts {
             h: &p.h_text,
             source: p.source_text.as_ref(),

@@ -9,12 +9,9 @@
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, file_failure, gave_up, limit_or, print};
 use crate::cli::plan::arg_failure;
-use crate::cli::quantities::{
-    QuantityArgs, direction_json, frame_texts, plan_quantities, quantity_failure,
-};
+use crate::cli::quantities::{QuantityArgs, columns, direction_json, frame_texts, plan_quantities};
 use clap::{Args, ValueEnum};
 use lingrav::export::points::{Grid, PointSet, read_points};
-use lingrav::export::quantity::{blocks, blocks_about};
 use lingrav::export::write::{AtomicFile, FileError, Format, commit_with_sidecar, write_table};
 use lingrav::export::{ExportError, Numeric, Settings, SidecarInfo, evaluate, sidecar};
 use lingrav::problem::{Problem, ProblemError};
@@ -256,15 +253,7 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
     let mut meta_file = AtomicFile::create(&meta_path, a.force).map_err(file_failure)?;
 
     // Compute.
-    let b = match &p.background {
-        None => blocks(&mut p.store, &p.h, p.source.as_ref(), &qs, dir.as_ref()),
-        Some(_) => {
-            let mut bg = crate::cli::limits::spacetime(&mut p)?;
-            let frame = lingrav::tensor::Frame::covariant(p.coordinates.clone());
-            blocks_about(&mut p.store, &mut bg, &frame, &p.h, &qs)
-        }
-    }
-    .map_err(quantity_failure)?;
+    let b = columns(&mut p, &qs, dir.as_ref())?;
     let frame = dir.as_ref().map(|d| frame_texts(&mut p, d));
     let numeric = Numeric::new(&p, &qs, frame, &params)
         .map_err(|e| Failure::Input(miette::miette!("cannot evaluate the problem's texts: {e}")))?;

@@ -290,6 +290,36 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
     Ok(outcome)
 }
 
+/// Refuses (bad input) a background whose angular block is not proved to be
+/// r^2 (dtheta^2 + sin^2 theta dphi^2) in the file's coordinates read as (t, r, theta, phi):
+/// the polarizations on the sphere are defined in that frame.
+pub fn round_sphere_or_refuse(p: &mut lingrav::Problem, command: &str) -> Result<(), Failure> {
+    let c = p.coordinates.clone();
+    let names = [c[0].as_str(), c[1].as_str(), c[2].as_str(), c[3].as_str()];
+    let g = match &p.background {
+        Some(b) => b.g,
+        None => return Ok(()),
+    };
+    let why = lingrav::tt::sphere::round_sphere(&mut p.store, names, &g)
+        .map_err(|e| crate::cli::out::gave_up(&e))?;
+    match why {
+        None => Ok(()),
+        Some(why) => Err(Failure::Input(miette::miette!(
+            help = format!(
+                "`{command}` reads the coordinates {} as (t, r, theta, phi) and needs the \
+                 background's angular block to be {r}^2 (d{th}^2 + sin({th})^2 d{ph}^2), so that \
+                 e_{th}/{r} and e_{ph}/({r} sin {th}) are orthonormal",
+                c.join(", "),
+                r = c[1],
+                th = c[2],
+                ph = c[3]
+            ),
+            "{}: the polarizations on the sphere are not defined for this background: {why}",
+            p.path
+        ))),
+    }
+}
+
 /// `project` in spherical coordinates (t, r, theta, phi), along the radial direction: h_plus
 /// and h_cross on the sphere, exactly and at leading order in 1/r at fixed retarded time.
 fn sphere(a: ProjectArgs, mut p: lingrav::Problem) -> Result<Outcome, Failure> {
@@ -309,6 +339,7 @@ fn sphere(a: ProjectArgs, mut p: lingrav::Problem) -> Result<Outcome, Failure> {
             p.path
         )));
     }
+    round_sphere_or_refuse(&mut p, "project")?;
     // A retarded-time name that the file does not use.
     let taken = |n: &str| {
         c.iter().any(|x| x == n)

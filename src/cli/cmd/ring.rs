@@ -10,7 +10,7 @@ use crate::cli::report::{Format, conventions, heading, json, texts, vec_text};
 use clap::Args;
 use lingrav::problem::Problem;
 use lingrav::tt::ring::{Ring, Snapshot, exaggeration, respond, svg};
-use lingrav::tt::{ArgError, Direction, DirectionKind, project_perturbation};
+use lingrav::tt::{ArgError, DirectionKind, project_perturbation};
 use std::fmt::Write as _;
 use std::path::PathBuf;
 
@@ -57,12 +57,16 @@ pub struct RingArgs {
     limits: LimitArgs,
 }
 
-/// `lingrav ring`.
-pub fn run(a: RingArgs) -> Result<Outcome, Failure> {
-    let mut p = a.limits.load_flat(&a.file, "ring")?;
-    let dir = a.dir.plan(&mut p)?;
+/// The ring's size, times and centre, read against the problem.
+struct Plan {
+    radius: f64,
+    times: Vec<f64>,
+    centre: [f64; 3],
+}
+
+fn plan(a: &RingArgs, p: &mut Problem, centre_help: &str) -> Result<Plan, Failure> {
     let radius = numbers(
-        &mut p,
+        p,
         "--radius",
         &a.radius,
         Some(1),
@@ -76,20 +80,41 @@ pub fn run(a: RingArgs) -> Result<Outcome, Failure> {
         )));
     }
     let times = numbers(
-        &mut p,
+        p,
         "--times",
         &a.times,
         None,
         "times are numbers or constant expressions, e.g. 0,0.5,pi/w",
     )?;
-    let at = numbers(
-        &mut p,
-        "--at",
-        &a.at,
-        Some(3),
-        "the centre is given as x,y,z",
-    )?;
-    let centre = [at[0], at[1], at[2]];
+    let at = numbers(p, "--at", &a.at, Some(3), centre_help)?;
+    Ok(Plan {
+        radius,
+        times,
+        centre: [at[0], at[1], at[2]],
+    })
+}
+
+/// How the ring sits, in words for the report.
+struct Geometry {
+    /// The direction, e.g. `n = (0, 0, 1)  [axis]`.
+    direction: String,
+    /// The basis, e.g. `u = (1, 0, 0), v = (0, 1, 0)`.
+    basis: String,
+    /// The centre, e.g. `(x, y, z) = (0, 0, 0)`.
+    centre: String,
+    /// The direction and basis for JSON.
+    json: serde_json::Value,
+}
+
+/// `lingrav ring`.
+pub fn run(a: RingArgs) -> Result<Outcome, Failure> {
+    let mut p = a.limits.load(&a.file)?;
+    if !p.is_flat_cartesian() {
+        return on_sphere(a, p);
+    }
+    let dir = a.dir.plan(&mut p)?;
+    let plan = plan(&a, &mut p, "the centre is given as x,y,z")?;
+    let centre = plan.centre;
     if dir.kind == DirectionKind::Radial && centre[0] == 0.0 && centre[1] == 0.0 {
         return Err(arg_failure(
             ArgError::whole(
@@ -105,7 +130,7 @@ pub fn run(a: RingArgs) -> Result<Outcome, Failure> {
     let h = p.h;
     let proj = project_perturbation(&mut p.store, &h, &dir)?;
     let ring = Ring {
-        radius,
+        radius: plan.radius,
         masses: usize::from(a.masses),
         centre,
     };
@@ -117,42 +142,148 @@ pub fn run(a: RingArgs) -> Result<Outcome, Failure> {
         &dir,
         &proj.tt,
         &ring,
-        &times,
+        &plan.times,
     )
-    .map_err(|why| {
-        Failure::Input(miette::miette!(
-            help = "choose another centre with --at",
-            "cannot evaluate the ring's response at the centre ({}, {}, {}): {why}",
-            centre[0],
-            centre[1],
-            centre[2]
-        ))
-    })?;
+    .map_err(|why| unreachable_centre(&ring, "x, y, z", &why))?;
+    let st = &mut p.store;
+    let geometry = Geometry {
+        direction: format!("n = {}  [{}]", vec_text(st, &dir.n), kind_word(dir.kind)),
+        basis: format!("u = {}, v = {}", vec_text(st, &dir.u), vec_text(st, &dir.v)),
+        centre: format!("(x, y, z) = ({}, {}, {})", centre[0], centre[1], centre[2]),
+        json: serde_json::json!({
+            "direction": { "kind": kind_word(dir.kind), "n": texts(st, &dir.n) },
+            "basis": { "u": texts(st, &dir.u), "v": texts(st, &dir.v) },
+        }),
+    };
+    let title_n = vec_text(st, &dir.n);
+    report(
+        &a,
+        &mut p,
+        &geometry,
+        &ring,
+        &snaps,
+        &format!("n = {title_n}"),
+        target.as_ref(),
+    )
+}
 
+fn unreachable_centre(ring: &Ring, names: &str, why: &str) -> Failure {
+    let c = ring.centre;
+    Failure::Input(miette::miette!(
+        help = "choose another centre with --at",
+        "cannot evaluate the ring's response at the centre ({names}) = ({}, {}, {}): {why}",
+        c[0],
+        c[1],
+        c[2]
+    ))
+}
+
+/// `ring` about a background, in coordinates read as (t, r, theta, phi): the ring transverse
+/// to e_r at the centre (r, theta, phi), driven by the polarizations on the sphere.
+fn on_sphere(a: RingArgs, mut p: Problem) -> Result<Outcome, Failure> {
+    use lingrav::tt::ring::respond_on_sphere;
+    use lingrav::tt::sphere::polarizations;
+    let c = p.coordinates.clone();
+    let names = [c[0].as_str(), c[1].as_str(), c[2].as_str(), c[3].as_str()];
+    let list = format!("{}, {}, {}", c[1], c[2], c[3]);
+    if a.dir.direction.trim() != "radial" || a.dir.basis.is_some() {
+        return Err(Failure::Input(miette::miette!(
+            help = format!(
+                "in the coordinates {} (read as t, r, theta, phi) the ring is transverse to the \
+                 radial direction: `--direction radial --at {}` with the centre's values",
+                c.join(", "),
+                c[1..].join(",").to_uppercase()
+            ),
+            "{}: only the radial direction is available in these coordinates",
+            p.path
+        )));
+    }
+    super::project::round_sphere_or_refuse(&mut p, "ring")?;
+    let plan = plan(&a, &mut p, &format!("the centre is given as {list}"))?;
+    if plan.centre[0] <= 0.0 {
+        return Err(arg_failure(
+            ArgError::whole("--at", &a.at, format!("the centre needs {} > 0", c[1]))
+                .with_help(format!("give the centre as {list}, e.g. --at 10,1.2,0.5")),
+        ));
+    }
+    let target = plan_optional_output(a.svg.as_deref(), a.force, "--svg")?;
+    let sampling = p.sampling.clone();
+    let h = p.h;
+    let sph = polarizations(&mut p.store, names, &h, "u", &sampling)?;
+    let ring = Ring {
+        radius: plan.radius,
+        masses: usize::from(a.masses),
+        centre: plan.centre,
+    };
+    let snaps = respond_on_sphere(
+        &mut p.store,
+        &c,
+        &p.parameters,
+        &sampling,
+        sph.plus,
+        sph.cross,
+        &ring,
+        &plan.times,
+    )
+    .map_err(|why| unreachable_centre(&ring, &list, &why))?;
+    let (r, th, ph) = (&c[1], &c[2], &c[3]);
+    let geometry = Geometry {
+        direction: format!("n = e_{r}  [radial, on the sphere]"),
+        basis: format!(
+            "u = e_{th}, v = e_{ph} (orthonormal: e_{th}/{r}, e_{ph}/({r} sin {th})); h_plus = \
+             (h_{th}{th} - h_{ph}{ph}/sin^2 {th})/(2 {r}^2), h_cross = h_{th}{ph}/({r}^2 sin {th})"
+        ),
+        centre: format!(
+            "({list}) = ({}, {}, {})",
+            plan.centre[0], plan.centre[1], plan.centre[2]
+        ),
+        json: serde_json::json!({
+            "direction": { "kind": "radial", "coordinates": c },
+            "basis": { "u": format!("e_{th}"), "v": format!("e_{ph}") },
+        }),
+    };
+    report(
+        &a,
+        &mut p,
+        &geometry,
+        &ring,
+        &snaps,
+        &format!("n = e_{r}"),
+        target.as_ref(),
+    )
+}
+
+/// The picture (if asked) and the report, text or JSON.
+fn report(
+    a: &RingArgs,
+    p: &mut Problem,
+    geometry: &Geometry,
+    ring: &Ring,
+    snaps: &[Snapshot],
+    title_n: &str,
+    target: Option<&crate::cli::plan::Target>,
+) -> Result<Outcome, Failure> {
     let label = a.file.display().to_string();
+    let radius = ring.radius;
     // The picture first, so that the report can say it was written.
-    let written = match &target {
+    let written = match target {
         Some(t) => {
             let title = format!(
-                "{}: ring transverse to n = {}",
+                "{}: ring transverse to {title_n}",
                 p.name.clone().unwrap_or_else(|| label.clone()),
-                vec_text(&mut p.store, &dir.n)
             );
-            write_atomic(t, &svg(&snaps, radius, &title))?;
-            Some((t.path.display().to_string(), exaggeration(&snaps, radius)))
+            write_atomic(t, &svg(snaps, radius, &title))?;
+            Some((t.path.display().to_string(), exaggeration(snaps, radius)))
         }
         None => None,
     };
     let text = match a.format {
-        Format::Text => ring_text(&label, &mut p, &dir, &ring, &snaps, written.as_ref()),
+        Format::Text => ring_text(&label, p, geometry, ring, snaps, written.as_ref()),
         Format::Json => {
-            let st = &mut p.store;
-            json(&serde_json::json!({
+            let mut j = serde_json::json!({
                 "file": label,
                 "name": p.name,
-                "direction": { "kind": kind_word(dir.kind), "n": texts(st, &dir.n) },
-                "basis": { "u": texts(st, &dir.u), "v": texts(st, &dir.v) },
-                "ring": { "radius": radius, "masses": ring.masses, "centre": centre },
+                "ring": { "radius": radius, "masses": ring.masses, "centre": ring.centre },
                 "response": "delta x^i = (1/2) h^TT_ij x^j, h^TT at the centre, numerical",
                 "snapshots": snaps.iter().map(|snap| serde_json::json!({
                     "t": snap.t,
@@ -169,7 +300,10 @@ pub fn run(a: RingArgs) -> Result<Outcome, Failure> {
                     "path": path, "panels": snaps.len(), "exaggeration": factor,
                 })),
                 "conventions": conventions(&p.coordinates),
-            }))
+            });
+            j["direction"] = geometry.json["direction"].clone();
+            j["basis"] = geometry.json["basis"].clone();
+            json(&j)
         }
     };
     print(&text)?;
@@ -180,32 +314,21 @@ pub fn run(a: RingArgs) -> Result<Outcome, Failure> {
 fn ring_text(
     label: &str,
     p: &mut Problem,
-    dir: &Direction,
+    geometry: &Geometry,
     ring: &Ring,
     snaps: &[Snapshot],
     written: Option<&(String, f64)>,
 ) -> String {
-    let (radius, centre) = (ring.radius, ring.centre);
-    let st = &mut p.store;
+    let radius = ring.radius;
     let mut s = String::new();
     let _ = writeln!(s, "{}", heading(label, p.name.as_deref()));
+    let _ = writeln!(s, "direction  {}", geometry.direction);
+    let _ = writeln!(s, "basis      {}", geometry.basis);
     let _ = writeln!(
         s,
-        "direction  n = {}  [{}]",
-        vec_text(st, &dir.n),
-        kind_word(dir.kind)
-    );
-    let _ = writeln!(
-        s,
-        "basis      u = {}, v = {}",
-        vec_text(st, &dir.u),
-        vec_text(st, &dir.v)
-    );
-    let _ = writeln!(
-        s,
-        "ring       {} free masses, radius L = {radius}, centre (x, y, z) = ({}, {}, {}); mass k at \
-         phi = 360 k/{} degrees from u towards v",
-        ring.masses, centre[0], centre[1], centre[2], ring.masses
+        "ring       {} free masses, radius L = {radius}, centre {}; mass k at phi = 360 k/{} \
+         degrees from u towards v",
+        ring.masses, geometry.centre, ring.masses
     );
     let _ = writeln!(
         s,
