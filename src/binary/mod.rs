@@ -377,7 +377,8 @@ pub fn summarize(o: Orbit, d: Option<f64>) -> Result<Summary, BinaryError> {
     let period = finite("the orbital period", o.period())?;
     let luminosity = finite("the luminosity", luminosity(&o, k))?;
     let adot = finite("da/dt", semimajor_axis_rate(&o, k))?;
-    let edot = eccentricity_rate(&o, k);
+    // + 0.0: a circular orbit has de/dt = 0, not -0.
+    let edot = eccentricity_rate(&o, k) + 0.0;
     if !edot.is_finite() {
         return Err(BinaryError::OutOfRange("de/dt"));
     }

@@ -143,6 +143,23 @@ fn literal_len(s: &str) -> usize {
     i
 }
 
+/// A number without a unit (an eccentricity).
+///
+/// # Errors
+///
+/// Not a number, or anything after it.
+pub fn parse_number(text: &str) -> Result<f64, UnitError> {
+    let t = text.trim();
+    let n = literal_len(t);
+    if n == 0 || n != t.len() {
+        return Err(UnitError::NotANumber(t.to_string()));
+    }
+    t.parse()
+        .ok()
+        .filter(|v: &f64| v.is_finite())
+        .ok_or_else(|| UnitError::OutOfRange(t.to_string()))
+}
+
 /// A number with an optional unit of `kind`, in SI (masses: G m in m^3/s^2), and the unit as
 /// written (the default unit for a bare number).
 ///
@@ -242,6 +259,8 @@ mod tests {
             e.to_string(),
             "unknown unit `furlongs`; known units: m, km, AU, pc, kpc, Mpc, Gpc"
         );
+        assert_eq!(parse_number(" 0.617 "), Ok(0.617));
+        assert!(parse_number("0.6x").is_err() && parse_number("1e400").is_err());
         // A unit of another kind is unknown here.
         assert!(parse_quantity("3kpc", Kind::Time).is_err());
     }
