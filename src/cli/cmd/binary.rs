@@ -6,7 +6,7 @@ use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::plan::{Target, plan_optional_output, write_atomic};
 use crate::cli::report::{Format, json};
 use clap::Args;
-use lingrav::binary::coalesce::{Evolution, Stop, audit_evolution, evolve};
+use lingrav::binary::coalesce::{Evolution, EvolveError, Stop, audit_evolution, evolve};
 use lingrav::binary::units::{
     AU, C, DAY, G, GM_SUN, HOUR, JULIAN_YEAR, Kind, PARSEC, parse_number, parse_quantity,
 };
@@ -83,7 +83,10 @@ const MIN_ONE_MINUS_E: f64 = 1e-9;
 
 /// Bad input naming its option.
 fn bad(option: &str, text: &str, why: impl std::fmt::Display, help: &str) -> Failure {
-    Failure::Input(miette::miette!(help = help.to_string(), "{option} {text:?}: {why}"))
+    Failure::Input(miette::miette!(
+        help = help.to_string(),
+        "{option} {text:?}: {why}"
+    ))
 }
 
 /// A positive quantity of `kind` given to `option`, in SI (masses as G m).
@@ -279,10 +282,14 @@ pub fn run(a: BinaryArgs) -> Result<Outcome, Failure> {
     let s = summarize(o, p.distance).map_err(|e| out_of_range(&e))?;
     let evolution = if a.evolve {
         let ev = evolve(&o, p.until, usize::from(a.rows)).map_err(|e| {
+            let option = match e {
+                EvolveError::FrequencyNotAbove { .. } => "--until-frequency",
+                _ => "--evolve",
+            };
             Failure::Input(miette::miette!(
                 help = "choose --until-frequency above the binary's f_gw, or an orbit wider than \
                         6 G M / c^2",
-                "--evolve: {e}"
+                "{option}: {e}"
             ))
         })?;
         let (time, invariant) = audit_evolution(&o, &ev).map_err(|e| out_of_range(&e))?;
@@ -501,9 +508,9 @@ fn json_report(
 ) -> serde_json::Value {
     let o = &s.orbit;
     let mut checks: Vec<serde_json::Value> = s.audit.iter().map(check_json).collect();
-    checks.extend(extra.iter().map(|(k, r, d)| {
-        serde_json::json!({ "quantity": k, "route": r, "relative_disagreement": d })
-    }));
+    checks.extend(extra.iter().map(
+        |(k, r, d)| serde_json::json!({ "quantity": k, "route": r, "relative_disagreement": d }),
+    ));
     serde_json::json!({
         "m1_msun": o.gm1 / GM_SUN,
         "m2_msun": o.gm2 / GM_SUN,
