@@ -23,7 +23,7 @@
 //! 1e-16 of the total (then the circular tail e^(-4s) is added). The GW phase rides along:
 //! d phi/dt = 2 omega_orb.
 
-use super::BinaryError;
+use super::{BinaryError, Check};
 use super::{
     Constants, Orbit, circular_coalescence_time, eccentricity_polynomial, energy_polynomial,
     gw_frequency, innermost_separation, one_minus_square,
@@ -47,6 +47,10 @@ pub const MAX_INTERVALS: usize = 4000;
 pub const QUADRATURE_TOLERANCE: f64 = 1e-14;
 
 /// Nodes of the 15-point Kronrod rule on [-1, 1] (non-negative half; QUADPACK's qk15).
+#[allow(
+    clippy::excessive_precision,
+    reason = "QUADPACK's 33-digit constants, as published, so they can be compared"
+)]
 const XGK: [f64; 8] = [
     0.991_455_371_120_812_639_206_854_697_526_329,
     0.949_107_912_342_758_524_526_189_684_047_851,
@@ -58,6 +62,10 @@ const XGK: [f64; 8] = [
     0.0,
 ];
 /// Weights of the 15-point Kronrod rule.
+#[allow(
+    clippy::excessive_precision,
+    reason = "QUADPACK's 33-digit constants, as published, so they can be compared"
+)]
 const WGK: [f64; 8] = [
     0.022_935_322_010_529_224_963_732_008_058_970,
     0.063_092_092_629_978_553_290_700_663_189_204,
@@ -69,6 +77,10 @@ const WGK: [f64; 8] = [
     0.209_482_141_084_727_828_012_999_174_891_714,
 ];
 /// Weights of the embedded 7-point Gauss rule (at XGK[1], XGK[3], XGK[5], XGK[7]).
+#[allow(
+    clippy::excessive_precision,
+    reason = "QUADPACK's 33-digit constants, as published, so they can be compared"
+)]
 const WG: [f64; 4] = [
     0.129_484_966_168_869_693_270_611_432_679_082,
     0.279_705_391_489_276_667_901_467_771_423_780,
@@ -154,7 +166,7 @@ pub fn ratio_by_quadrature(e0: f64) -> Result<Quadrature, BinaryError> {
     let prefactor = 48.0 / 19.0 * (p * p) * (p * p) * g0.powf(-3480.0 / 2299.0);
     let value = prefactor * i;
     let error = err / i.abs();
-    if !(error <= 1e-10) || !value.is_finite() {
+    if error.is_nan() || error > 1e-10 || !value.is_finite() {
         return Err(BinaryError::NoConvergence(format!(
             "the coalescence quadrature did not converge for e = {e0} ({n} intervals, relative \
              error estimate {error:.1e})"
@@ -522,13 +534,13 @@ pub fn evolve(o: &Orbit, until: Option<f64>, rows: usize) -> Result<Evolution, E
 
 /// The evolution's audit: its elapsed time against T(a0, e0) - T(a_end, e_end) by route 1,
 /// relative to T(a0, e0); and Peters' invariant c0 = a e^(-12/19) (1 - e^2)
-/// (1 + 121 e^2/304)^(-870/2299) at the end against the start (0 for a circular orbit, whose
+/// (1 + 121 e^2/304)^(-870/2299) at the end against the start (for a circular orbit: the
 /// eccentricity must stay 0).
 ///
 /// # Errors
 ///
 /// A quadrature that does not converge.
-pub fn audit_evolution(o: &Orbit, ev: &Evolution) -> Result<(f64, f64), BinaryError> {
+pub fn audit_evolution(o: &Orbit, ev: &Evolution) -> Result<[Check; 2], BinaryError> {
     let k = Constants::SI;
     let last = ev.samples.last().expect("at least two rows");
     let end = Orbit {
@@ -538,16 +550,28 @@ pub fn audit_evolution(o: &Orbit, ev: &Evolution) -> Result<(f64, f64), BinaryEr
     };
     let t0 = ratio_by_quadrature(o.e)?.value * circular_coalescence_time(o, k);
     let t1 = ratio_by_quadrature(end.e)?.value * circular_coalescence_time(&end, k);
-    let time = ((last.t - (t0 - t1)) / t0).abs();
+    let time = Check::scaled(
+        "evolution_elapsed_time",
+        "T(a0, e0) - T(a, e) by the coalescence quadrature, relative to T(a0, e0)",
+        last.t,
+        t0 - t1,
+        t0,
+    );
     let c0 = |a: f64, e: f64| {
         a * e.powf(-12.0 / 19.0)
             * one_minus_square(e)
             * eccentricity_polynomial(e * e).powf(-870.0 / 2299.0)
     };
+    let route = "Peters' invariant a e^(-12/19) (1 - e^2) (1 + 121 e^2/304)^(-870/2299)";
     let invariant = if o.e == 0.0 {
-        if last.e == 0.0 { 0.0 } else { f64::INFINITY }
+        Check::scaled("evolution_end_point", route, last.e, 0.0, 1.0)
     } else {
-        (c0(last.a, last.e) / c0(o.a, o.e) - 1.0).abs()
+        Check::new(
+            "evolution_end_point",
+            route,
+            c0(last.a, last.e),
+            c0(o.a, o.e),
+        )
     };
-    Ok((time, invariant))
+    Ok([time, invariant])
 }

@@ -4,7 +4,7 @@
 //! Along the orbit (relative coordinate x, velocity v, acceleration -G M x/r^3 and its time
 //! derivative, the jerk) the moments I_ij = x_i x_j have
 //! d^2 I/dt^2 = a x + 2 v v + x a and d^3 I/dt^3 = j x + 3 a v + 3 v a + x j; Q = mu I^TF.
-//! L = (G/5c^5) <dddQ_ij dddQ_ij>, dJ_z/dt = -(2G/5c^5) eps_zjk <ddQ_ja dddQ_ka> (the trace
+//! `L = (G/5c^5) <dddQ_ij dddQ_ij>`, `dJ_z/dt = -(2G/5c^5) eps_zjk <ddQ_ja dddQ_ka>` (the trace
 //! drops out of the latter). Then E = -G m1 m2/(2a) gives da/dt, J = mu sqrt(G M a (1 - e^2))
 //! gives de/dt. Nothing of Peters' closed forms is used.
 //!
@@ -22,12 +22,12 @@ use std::f64::consts::PI;
 pub const POINTS: usize = 64;
 
 /// The orbit averages in units G M = a = 1, per unit reduced mass squared:
-/// `energy` = <|d^3 I^TF/dt^3|^2>, `angular` = <eps_zjk d^2 I_ja/dt^2 d^3 I_ka/dt^3>.
+/// `energy` = `<|d^3 I^TF/dt^3|^2>`, `angular` = `<eps_zjk d^2 I_ja/dt^2 d^3 I_ka/dt^3>`.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct ShapeAverages {
-    /// <|d^3 I^TF/dt^3|^2> (32 f(e) in Peters' closed form).
+    /// `<|d^3 I^TF/dt^3|^2>` (32 f(e) in Peters' closed form).
     pub energy: f64,
-    /// <eps_zjk ddI_ja dddI_ka> (16 (1 + 7e^2/8)/(1 - e^2)^2 in Peters' closed form).
+    /// `<eps_zjk ddI_ja dddI_ka>` (16 (1 + 7e^2/8)/(1 - e^2)^2 in Peters' closed form).
     pub angular: f64,
 }
 
@@ -80,7 +80,7 @@ pub fn shape_averages(e: f64, n: usize) -> ShapeAverages {
 /// The fluxes and the rates they imply, in the units of `k`.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Fluxes {
-    /// L = (G/5c^5) <dddQ dddQ>.
+    /// `L = (G/5c^5) <dddQ dddQ>`.
     pub luminosity: f64,
     /// da/dt from dE/dt = -L, E = -G m1 m2/(2a).
     pub semimajor_axis_rate: f64,

@@ -300,7 +300,7 @@ impl Check {
     /// True when compared and beyond `tolerance` (or not finite).
     #[must_use]
     pub fn fails(&self, tolerance: f64) -> bool {
-        self.skipped.is_none() && !(self.disagreement <= tolerance)
+        self.skipped.is_none() && (self.disagreement.is_nan() || self.disagreement > tolerance)
     }
 }
 

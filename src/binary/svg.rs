@@ -18,8 +18,11 @@ fn esc(s: &str) -> String {
         .replace('"', "&quot;")
 }
 
+/// What a panel shows: one value of a row.
+type Column = fn(&Sample) -> f64;
+
 /// One panel: `value` of each row against time, at vertical offset `y0`.
-fn panel(s: &mut String, rows: &[Sample], y0: f64, name: &str, value: fn(&Sample) -> f64) {
+fn panel(s: &mut String, rows: &[Sample], y0: f64, name: &str, value: Column) {
     let pw = W - LEFT - RIGHT;
     let t_end = rows.last().map_or(0.0, |r| r.t);
     let (lo, hi) = rows
@@ -71,7 +74,7 @@ fn panel(s: &mut String, rows: &[Sample], y0: f64, name: &str, value: fn(&Sample
 /// The picture of `ev`; `title` goes on top.
 #[must_use]
 pub fn svg(ev: &Evolution, title: &str) -> String {
-    let panels: [(&str, fn(&Sample) -> f64); 3] = [
+    let panels: [(&str, Column); 3] = [
         ("a [m]", |r| r.a),
         ("e", |r| r.e),
         ("f_gw [Hz]", |r| r.f_gw),

@@ -444,11 +444,9 @@ fn evolution_is_monotone_and_audited() {
             1e-12,
             "stop frequency",
         );
-        let (time, invariant) = audit_evolution(&o, &ev).unwrap();
-        assert!(
-            time < 1e-9 && invariant < 1e-9,
-            "e = {e}: {time:e} {invariant:e}"
-        );
+        for c in audit_evolution(&o, &ev).unwrap() {
+            assert!(!c.fails(1e-9), "e = {e}: {c:?}");
+        }
         if e == 0.0 {
             let last = ev.samples.last().unwrap();
             let b = beta(&o, k);

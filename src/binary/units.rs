@@ -271,7 +271,7 @@ mod tests {
         // pc/au = 206264.80624709636 (rel 1e-15), checks.md 8.
         assert!((PARSEC / AU / 206_264.806_247_096_36 - 1.0).abs() < 1e-15);
         // 1 Mpc = 3.0856775814913673e22 m, checks.md 8.
-        assert!((1e6 * PARSEC / 3.085_677_581_491_367_3e22 - 1.0).abs() < 1e-15);
+        assert!((1e6 * PARSEC / 3.085_677_581_491_367e22 - 1.0).abs() < 1e-15);
         // T_sun = GM_sun/c^3 = 4.925490947641e-6 s (rel 1e-12), checks.md 8.
         assert!((GM_SUN / C.powi(3) / 4.925_490_947_641e-6 - 1.0).abs() < 1e-12);
         // GM_sun/c^2 = 1476.625038 m, checks.md 8.
