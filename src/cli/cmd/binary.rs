@@ -192,6 +192,14 @@ fn plan(a: &BinaryArgs) -> Result<Plan, Failure> {
     })
 }
 
+/// A mass G m in solar masses, rounded to 13 significant digits (so that `6msun` reads back
+/// as 6, not as 5.999999999999999 after the division by G M_sun).
+fn msun(gm: f64) -> f64 {
+    format!("{:.12e}", gm / GM_SUN)
+        .parse()
+        .unwrap_or(gm / GM_SUN)
+}
+
 /// A time in its readable unit.
 fn readable_time(t: f64) -> String {
     let a = t.abs();
@@ -304,8 +312,8 @@ pub fn run(a: BinaryArgs) -> Result<Outcome, Failure> {
         (Some(t), Some((ev, _))) if !audit.defect => {
             let title = format!(
                 "lingrav binary: m1 = {} msun, m2 = {} msun, e0 = {}",
-                o.gm1 / GM_SUN,
-                o.gm2 / GM_SUN,
+                msun(o.gm1),
+                msun(o.gm2),
                 o.e
             );
             write_atomic(t, &lingrav::binary::svg::svg(ev, &title))?;
@@ -361,8 +369,8 @@ fn text_report(
     let _ = writeln!(
         t,
         "binary                 m1 = {} msun, m2 = {} msun, e = {}, orbit given by its {given}",
-        o.gm1 / GM_SUN,
-        o.gm2 / GM_SUN,
+        msun(o.gm1),
+        msun(o.gm2),
         o.e
     );
     let _ = writeln!(
@@ -500,8 +508,8 @@ fn json_report(
 ) -> serde_json::Value {
     let o = &s.orbit;
     serde_json::json!({
-        "m1_msun": o.gm1 / GM_SUN,
-        "m2_msun": o.gm2 / GM_SUN,
+        "m1_msun": msun(o.gm1),
+        "m2_msun": msun(o.gm2),
         "eccentricity": o.e,
         "given": p.given.0,
         "semimajor_axis_m": o.a,
