@@ -46,6 +46,7 @@
 
 pub mod adm;
 pub mod audit;
+pub mod binary;
 pub mod budget;
 pub mod canon;
 pub mod check;

@@ -18,6 +18,8 @@ mod background_values;
 mod backgrounds;
 #[path = "cli/bad_input.rs"]
 mod bad_input;
+#[path = "cli/binary.rs"]
+mod binary;
 #[path = "cli/curved_commands.rs"]
 mod curved_commands;
 #[path = "cli/expr_commands.rs"]

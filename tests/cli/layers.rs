@@ -7,7 +7,7 @@ use std::path::Path;
 
 /// DEVELOPERS.md's layers, in order.
 const LAYERS: &[&[&str]] = &[
-    &["expr", "interval", "budget", "output"],
+    &["expr", "interval", "budget", "output", "binary"],
     &["parse", "jet", "canon"],
     &["zero", "tensor", "tape", "pointwise"],
     &["claim"],
