@@ -15,7 +15,9 @@ mod quantities;
 mod render;
 mod report;
 
-use cmd::{antenna, check, compare, diff, emit, export, gauge, grid, project, ring, show, simplify, zero};
+use cmd::{
+    antenna, check, compare, diff, emit, export, gauge, grid, project, ring, show, simplify, zero,
+};
 
 use clap::{Parser, Subcommand};
 use std::process::ExitCode;

@@ -87,16 +87,41 @@ impl Report {
 /// How many seeded points when the inputs have symbols.
 pub const POINTS: usize = 3;
 
+/// The second value given to a printed `i` (see [`jet_enclosure`]).
+pub const I_PROBE: f64 = 0.731;
+
+/// The jet route's enclosure of a printed real form at `point`. A printed form may carry
+/// the imaginary unit in pairs that cancel (`(1 + i)*cos(2*pi/5) + (1 - i)*cos(8*pi/5)`);
+/// the jet route reads `i` as a name, so such a form is evaluated at `i = 0` and at
+/// `i = I_PROBE` and the intersection is returned: it is empty (lower bound above the upper)
+/// if the value depends on `i`, that is if the printed form is not real.
+#[must_use]
+pub fn jet_enclosure(route: &Expressions, point: &[(String, f64)]) -> Option<(f64, f64)> {
+    let at = |p: &[(String, f64)]| {
+        route
+            .values::<Interval>(p, &())
+            .ok()
+            .and_then(|v| v.first().copied().flatten())
+            .map(|i: Interval| (i.lo(), i.hi()))
+    };
+    let uses_i =
+        route.names().iter().any(|(n, _)| n == "i") && !point.iter().any(|(n, _)| n == "i");
+    if !uses_i {
+        return at(point);
+    }
+    let with = |v: f64| {
+        let mut p = point.to_vec();
+        p.push(("i".to_string(), v));
+        p
+    };
+    let (a, b) = (at(&with(0.0))?, at(&with(I_PROBE))?);
+    Some((a.0.max(b.0), a.1.min(b.1)))
+}
+
 /// The jet route's enclosure of `text` at `point`.
 fn enclosure(text: &str, point: &[(String, f64)]) -> Result<Option<(f64, f64)>, String> {
     let route = Expressions::new(text, None, &[], &[]).map_err(|e| e.to_string())?;
-    let v = route
-        .values::<Interval>(point, &())
-        .map_err(|e| e.to_string())?;
-    Ok(v.first()
-        .copied()
-        .flatten()
-        .map(|i: Interval| (i.lo(), i.hi())))
+    Ok(jet_enclosure(&route, point))
 }
 
 /// The symbols of the inputs, sorted.

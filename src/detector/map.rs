@@ -3,9 +3,9 @@
 //! cell audited against the jet route's enclosure of the printed general forms
 //! ([`audit_map`]); and its SVG picture ([`svg`]), with axis labels and a colour legend.
 
+use super::audit::jet_enclosure;
 use super::numeric::{V3, pattern};
-use crate::audit::expr::{Expressions, Route};
-use crate::interval::Interval;
+use crate::audit::expr::Expressions;
 use std::f64::consts::{PI, TAU};
 use std::fmt::Write as _;
 
@@ -147,17 +147,13 @@ pub fn audit_map(map: &SkyMap, general: [&str; 2], names: &[String; 3]) -> MapAu
             let (p, x) = map.cells[r * map.cols + c];
             let mut evaluated = true;
             for ((route, which), direct) in routes.iter().zip(["F_plus", "F_cross"]).zip([p, x]) {
-                let e = route
-                    .values::<Interval>(&point, &())
-                    .ok()
-                    .and_then(|v| v.first().copied().flatten());
-                let Some(e) = e else {
+                let Some((lo, hi)) = jet_enclosure(route, &point) else {
                     evaluated = false;
                     continue;
                 };
                 let tol = super::audit::TOLERANCE * (1.0 + direct.abs());
-                if (direct < e.lo() - tol || direct > e.hi() + tol) && out.defect.is_none() {
-                    out.defect = Some((theta, phi, which, direct, (e.lo(), e.hi())));
+                if (direct < lo - tol || direct > hi + tol) && out.defect.is_none() {
+                    out.defect = Some((theta, phi, which, direct, (lo, hi)));
                 }
             }
             if evaluated {
@@ -187,13 +183,22 @@ const DIVERGING: [(f64, f64, f64); 5] = [
 
 /// The colour of `t` in [0, 1] on a palette of five stops.
 fn colour(palette: &[(f64, f64, f64); 5], t: f64) -> String {
-    let t = if t.is_finite() { t.clamp(0.0, 1.0) } else { 0.0 };
+    let t = if t.is_finite() {
+        t.clamp(0.0, 1.0)
+    } else {
+        0.0
+    };
     let x = t * 4.0;
     let i = (x.floor() as usize).min(3);
     let f = x - i as f64;
     let (a, b) = (palette[i], palette[i + 1]);
     let mix = |p: f64, q: f64| (p + (q - p) * f).round() as u8;
-    format!("#{:02x}{:02x}{:02x}", mix(a.0, b.0), mix(a.1, b.1), mix(a.2, b.2))
+    format!(
+        "#{:02x}{:02x}{:02x}",
+        mix(a.0, b.0),
+        mix(a.1, b.1),
+        mix(a.2, b.2)
+    )
 }
 
 /// The colour scale: `(low, high, palette)`; signed quantities get a diverging scale

@@ -244,7 +244,10 @@ pub fn contract(store: &mut Store, d: &Mat3, s: &Mat3) -> CResult<Form> {
 pub fn mean_lambda(i: usize, j: usize, k: usize, l: usize) -> Q {
     let d = |x: usize, y: usize| i64::from(x == y);
     let m2 = |x: usize, y: usize| frac(d(x, y), 3);
-    let m4 = frac(d(i, j) * d(k, l) + d(i, k) * d(j, l) + d(i, l) * d(j, k), 15);
+    let m4 = frac(
+        d(i, j) * d(k, l) + d(i, k) * d(j, l) + d(i, l) * d(j, k),
+        15,
+    );
     // <P_ab P_cd> = d_ab d_cd - d_ab <n_c n_d> - d_cd <n_a n_b> + <n_a n_b n_c n_d>.
     let pp = |a: usize, b: usize, c: usize, e: usize| {
         frac(d(a, b) * d(c, e), 1) - frac(d(a, b), 1) * m2(c, e) - frac(d(c, e), 1) * m2(a, b)

@@ -23,31 +23,38 @@ fn value(store: &mut Store, f: Form) -> f64 {
     re
 }
 
-/// checks.md section 3, the table (convention [CALC] there; formulas Thorne 1987 eq. (104),
-/// from memory): arms along x and y.
-const TABLE: [(&str, &str, &str, f64, f64); 8] = [
-    ("0", "0", "0", 1.0, 0.0),
-    ("0", "0", "pi/8", 0.707106781187, 0.707106781187),
-    ("0", "pi/4", "0", 0.0, 1.0),
-    ("pi/2", "0", "0", 0.5, 0.0),
-    ("pi/2", "pi/4", "0", 0.0, 0.0),
-    ("pi/3", "pi/6", "pi/5", -0.315251741031, 0.431013445007),
-    ("pi/4", "pi/3", "pi/7", -0.712580724920, 0.088621162670),
-    ("2*pi/3", "1.0", "0.3", 0.042050970796, -0.522096637380),
-];
+/// checks.md section 3, the table (tests/data/antenna_table.txt names the source):
+/// `(theta, phi, psi, F_plus, F_cross)`.
+fn table() -> Vec<(String, String, String, f64, f64)> {
+    include_str!("../../tests/data/antenna_table.txt")
+        .lines()
+        .filter(|l| !l.starts_with('#') && !l.trim().is_empty())
+        .map(|l| {
+            let f: Vec<&str> = l.split(';').map(str::trim).collect();
+            let n = |s: &str| s.parse::<f64>().unwrap();
+            (f[0].into(), f[1].into(), f[2].into(), n(f[3]), n(f[4]))
+        })
+        .collect()
+}
 
 #[test]
 fn the_exact_pattern_reproduces_the_table_of_checks_md_section_3() {
     let mut st = Store::new();
     let det = detector(&mut st, "1,0,0", "0,1,0");
-    for (th, ph, ps, fp, fc) in TABLE {
+    let rows = table();
+    assert_eq!(rows.len(), 8);
+    for (th, ph, ps, fp, fc) in rows {
+        let (th, ph, ps) = (th.as_str(), ph.as_str(), ps.as_str());
         let angles = (form(&mut st, th), form(&mut st, ph), form(&mut st, ps));
         let basis = wave_basis(&mut st, angles.0, angles.1, angles.2).unwrap();
         let (p, c) = pattern(&mut st, &det.d, &basis).unwrap();
         let (p, c) = (value(&mut st, p), value(&mut st, c));
         // The table gives 12 digits.
         assert!((p - fp).abs() < 1e-11, "{th} {ph} {ps}: F_plus {p} vs {fp}");
-        assert!((c - fc).abs() < 1e-11, "{th} {ph} {ps}: F_cross {c} vs {fc}");
+        assert!(
+            (c - fc).abs() < 1e-11,
+            "{th} {ph} {ps}: F_cross {c} vs {fc}"
+        );
         let num = |t: &str| numeric::eval_text(t, &[]).unwrap();
         let (q, d) = f64_pattern(
             &[1.0, 0.0, 0.0],
@@ -56,7 +63,10 @@ fn the_exact_pattern_reproduces_the_table_of_checks_md_section_3() {
             num(ph),
             num(ps),
         );
-        assert!((q - fp).abs() < 1e-11 && (d - fc).abs() < 1e-11, "f64 route {q} {d}");
+        assert!(
+            (q - fp).abs() < 1e-11 && (d - fc).abs() < 1e-11,
+            "f64 route {q} {d}"
+        );
     }
 }
 
@@ -225,4 +235,42 @@ fn parallel_non_unit_and_unparsable_inputs_are_refused_naming_the_option() {
     assert_eq!(e.source_code.name(), "--arm-a");
     assert!(read_angle(&mut st, Arg::new("--theta", "pi/")).is_err());
     assert!(read_angle(&mut st, Arg::new("--theta", "F(1)")).is_err());
+}
+
+#[test]
+fn a_wrong_printed_form_is_an_internal_defect() {
+    let inputs = audit::Inputs {
+        arms: [
+            ["1".into(), "0".into(), "0".into()],
+            ["0".into(), "1".into(), "0".into()],
+        ],
+        angles: ["pi/3".into(), "pi/6".into(), "pi/5".into()],
+    };
+    let right = audit::Printed {
+        plus: "-0.315251741031".into(),
+        cross: "0.431013445007".into(),
+        sum: "2/5".into(),
+        each: "1/5".into(),
+    };
+    // The table's 12 digits are within the tolerance, 1e-11 (1 + |value|).
+    let r = audit::audit(&inputs, &right, 1);
+    assert!(!r.defect(), "{r:?}");
+    assert_eq!(r.rows.len(), 6);
+    let mut wrong = right.clone();
+    wrong.sum = "1/5".into();
+    assert_eq!(
+        audit::audit(&inputs, &wrong, 1)
+            .first_defect()
+            .unwrap()
+            .quantity,
+        "sky average of F_plus^2 + F_cross^2"
+    );
+    // A printed value whose imaginary part does not cancel is not real: a defect.
+    let mut complex = right.clone();
+    complex.plus = "-0.315251741031 + i/10".into();
+    assert!(audit::audit(&inputs, &complex, 1).defect());
+    // Pairs of i that cancel are real.
+    let mut pairs = right;
+    pairs.plus = "-0.315251741031 + i*cos(2*pi/5) - i*cos(8*pi/5)".into();
+    assert!(!audit::audit(&inputs, &pairs, 1).defect());
 }

@@ -461,7 +461,10 @@ pub fn parse_unit_vector(
 ) -> Result<Vec3, ArgError> {
     let text = axis(arg.text.trim()).unwrap_or(arg.text);
     let arg = Arg::new(arg.name, text);
-    let pieces = arg.split_exact(3, "a vector is given as ax,ay,az, or an axis such as x or -z")?;
+    let pieces = arg.split_exact(
+        3,
+        "a vector is given as ax,ay,az, or an axis such as x or -z",
+    )?;
     let mut m = [store.zero(); 3];
     for (slot, p) in m.iter_mut().zip(&pieces) {
         *slot = arg.build_constant(store, names, p)?;

@@ -17,25 +17,38 @@ fn num(v: &serde_json::Value) -> f64 {
 }
 
 /// checks.md section 3, the table ([CALC] convention; formulas Thorne 1987 eq. (104), from
-/// memory), tolerance 1e-12 on 12-digit values.
+/// memory; tests/data/antenna_table.txt), tolerance 1e-12 on 12-digit values.
 #[test]
 fn antenna_reproduces_the_table_of_checks_md_section_3() {
-    let table = [
-        ("0", "0", "0", 1.0, 0.0),
-        ("0", "0", "pi/8", 0.707106781187, 0.707106781187),
-        ("0", "pi/4", "0", 0.0, 1.0),
-        ("pi/2", "0", "0", 0.5, 0.0),
-        ("pi/2", "pi/4", "0", 0.0, 0.0),
-        ("pi/3", "pi/6", "pi/5", -0.315251741031, 0.431013445007),
-        ("pi/4", "pi/3", "pi/7", -0.712580724920, 0.088621162670),
-        ("2*pi/3", "1.0", "0.3", 0.042050970796, -0.522096637380),
-    ];
-    for (th, ph, ps, fp, fc) in table {
+    let table: Vec<Vec<String>> = include_str!("../data/antenna_table.txt")
+        .lines()
+        .filter(|l| !l.starts_with('#') && !l.trim().is_empty())
+        .map(|l| l.split(';').map(|f| f.trim().to_string()).collect())
+        .collect();
+    assert_eq!(table.len(), 8);
+    for row in &table {
+        let (th, ph, ps) = (row[0].as_str(), row[1].as_str(), row[2].as_str());
+        let (fp, fc): (f64, f64) = (row[3].parse().unwrap(), row[4].parse().unwrap());
         let j = json(&["--theta", th, "--phi", ph, "--psi", ps]);
         let (p, c) = (num(&j["F_plus"]), num(&j["F_cross"]));
-        assert!((p - fp).abs() < 1e-11, "{th} {ph} {ps}: F_plus {p}, table {fp}");
-        assert!((c - fc).abs() < 1e-11, "{th} {ph} {ps}: F_cross {c}, table {fc}");
+        assert!(
+            (p - fp).abs() < 1e-11,
+            "{th} {ph} {ps}: F_plus {p}, table {fp}"
+        );
+        assert!(
+            (c - fc).abs() < 1e-11,
+            "{th} {ph} {ps}: F_cross {c}, table {fc}"
+        );
         assert_eq!(j["audit"]["defect"], false);
+        // Every number was compared: F_plus, F_cross and the four averages.
+        assert_eq!(
+            j["audit"]["not_audited"],
+            serde_json::json!([]),
+            "{th} {ph} {ps}"
+        );
+        let rows = j["audit"]["comparisons"].as_array().unwrap();
+        assert_eq!(rows.len(), 6);
+        assert!(rows.iter().all(|r| r["agrees"] == true), "{rows:?}");
         assert!(j["exact"]["F_plus"].is_string());
     }
     // Exact values at multiples of pi/12: theta = 0, psi = pi/8 gives sqrt(2)/2 exactly.
@@ -71,7 +84,14 @@ fn antenna_sky_average_of_the_l_shaped_detector_is_two_fifths() {
 /// docs): 60 degrees gives (2/5)(3/4) = 3/10, proved exactly and matched by the quadrature.
 #[test]
 fn antenna_sixty_degree_detector_averages_three_tenths() {
-    let j = json(&["--arm-b", "1/2,sqrt(3)/2,0", "--theta", "pi/3", "--phi", "0.4"]);
+    let j = json(&[
+        "--arm-b",
+        "1/2,sqrt(3)/2,0",
+        "--theta",
+        "pi/3",
+        "--phi",
+        "0.4",
+    ]);
     assert_eq!(j["detector"]["cos_opening"], "1/2");
     assert!((num(&j["detector"]["opening_angle_degrees"]) - 60.0).abs() < 1e-9);
     let avg = &j["sky_average"];
@@ -85,7 +105,15 @@ fn antenna_sixty_degree_detector_averages_three_tenths() {
     }
     // A symbolic opening angle: (2/5) sin^2 g, proved.
     let out = lingrav(&[
-        "antenna", "--arm-b", "cos(g),sin(g),0", "--theta", "0", "--phi", "0", "--psi", "0",
+        "antenna",
+        "--arm-b",
+        "cos(g),sin(g),0",
+        "--theta",
+        "0",
+        "--phi",
+        "0",
+        "--psi",
+        "0",
     ]);
     assert_clean(&[], &out, 0);
     assert!(out.0.contains("<F_plus^2 + F_cross^2> = "), "{}", out.0);
@@ -105,7 +133,14 @@ fn antenna_psi_invariance_is_proved() {
     );
     let at = |psi: &str| {
         let j = json(&[
-            "--arm-b", "0,3/5,4/5", "--theta", "1.1", "--phi", "2.3", "--psi", psi,
+            "--arm-b",
+            "0,3/5,4/5",
+            "--theta",
+            "1.1",
+            "--phi",
+            "2.3",
+            "--psi",
+            psi,
         ]);
         num(&j["F_plus"]).powi(2) + num(&j["F_cross"]).powi(2)
     };
@@ -144,7 +179,12 @@ fn antenna_writes_an_audited_svg_sky_map() {
     let p = path.to_str().unwrap();
     let out = lingrav(&["antenna", "--svg", p]);
     assert_clean(&[], &out, 0);
-    assert!(out.0.contains("audited: F_plus and F_cross of all 2592 cells"), "{}", out.0);
+    assert!(
+        out.0
+            .contains("audited: F_plus and F_cross of all 2592 cells"),
+        "{}",
+        out.0
+    );
     let svg = std::fs::read_to_string(&path).unwrap();
     assert!(svg.starts_with("<svg") && svg.trim_end().ends_with("</svg>"));
     assert!(svg.contains("phi (degrees)") && svg.contains("theta (degrees)"));
@@ -158,7 +198,11 @@ fn antenna_writes_an_audited_svg_sky_map() {
     assert!(!path2.exists());
     let out = lingrav(&["antenna", "--svg", p2, "--map", "plus", "--psi", "pi/8"]);
     assert_clean(&[], &out, 0);
-    assert!(std::fs::read_to_string(&path2).unwrap().contains("F_plus over the sky"));
+    assert!(
+        std::fs::read_to_string(&path2)
+            .unwrap()
+            .contains("F_plus over the sky")
+    );
 }
 
 #[test]

@@ -12,9 +12,7 @@ use clap::{Args, ValueEnum};
 use lingrav::audit::expr::point_text;
 use lingrav::detector::audit::{Inputs, POINTS, Printed, Report, TOLERANCE, audit};
 use lingrav::detector::map::{MapAudit, Quantity, audit_map, sky_map, svg};
-use lingrav::detector::numeric::{
-    QUADRATURE_METHOD, Quadrature, eval_text, eval_vector, pattern, quadrature,
-};
+use lingrav::detector::numeric::{QUADRATURE_METHOD, eval_text, eval_vector, pattern, quadrature};
 use lingrav::detector::{Antenna, CONVENTION, Detector, analyse, read_angle, read_detector};
 use lingrav::tt::{Arg, ArgError};
 use lingrav::zero::{Sampling, Verdict};
@@ -54,13 +52,28 @@ pub struct AntennaArgs {
     arm_b: String,
     /// Polar angle of the direction to the source, from the z axis: a number or an expression
     /// (`pi/3`, `0.3`, `th`).
-    #[arg(long, value_name = "THETA", default_value = "theta", allow_hyphen_values = true)]
+    #[arg(
+        long,
+        value_name = "THETA",
+        default_value = "theta",
+        allow_hyphen_values = true
+    )]
     theta: String,
     /// Azimuth of the direction to the source, from the x axis towards y.
-    #[arg(long, value_name = "PHI", default_value = "phi", allow_hyphen_values = true)]
+    #[arg(
+        long,
+        value_name = "PHI",
+        default_value = "phi",
+        allow_hyphen_values = true
+    )]
     phi: String,
     /// Polarization angle: turns u from e_theta towards e_phi.
-    #[arg(long, value_name = "PSI", default_value = "psi", allow_hyphen_values = true)]
+    #[arg(
+        long,
+        value_name = "PSI",
+        default_value = "psi",
+        allow_hyphen_values = true
+    )]
     psi: String,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
@@ -178,24 +191,18 @@ fn plan_map(
 struct Numbers {
     plus: f64,
     cross: f64,
-    quadrature: Quadrature,
 }
 
 fn numbers(det: &Detector, angles: &[String; 3]) -> Option<Numbers> {
     let a = eval_vector(&det.texts[0], &[]).ok()?;
     let b = eval_vector(&det.texts[1], &[]).ok()?;
-    let q = quadrature(&a, &b);
     let ang: Vec<f64> = angles
         .iter()
         .map(|t| eval_text(t, &[]))
         .collect::<Result<_, _>>()
         .ok()?;
     let (plus, cross) = pattern(&a, &b, ang[0], ang[1], ang[2]);
-    Some(Numbers {
-        plus,
-        cross,
-        quadrature: q,
-    })
+    Some(Numbers { plus, cross })
 }
 
 /// The audit in one line.
@@ -293,7 +300,11 @@ pub fn run(a: AntennaArgs) -> Result<Outcome, Failure> {
     let symbolic = !lingrav::detector::audit::symbols(&inputs).is_empty();
     let report = audit(&inputs, &printed, a.seed);
     let nums = numbers(&det, &angles);
-    let arms_numeric = det.a.iter().chain(&det.b).all(|f| st.free_symbols(*f).is_empty());
+    let arms_numeric = det
+        .a
+        .iter()
+        .chain(&det.b)
+        .all(|f| st.free_symbols(*f).is_empty());
     let quad = if arms_numeric {
         eval_vector(&det.texts[0], &[])
             .ok()
@@ -339,7 +350,8 @@ pub fn run(a: AntennaArgs) -> Result<Outcome, Failure> {
 
     let sum_text = st.to_text(an.averages.sum);
     let cos_opening = st.to_text(det.cos_opening);
-    let opening_degrees = eval_text_of_form(&mut st, det.cos_opening).map(|c| c.acos().to_degrees());
+    let opening_degrees =
+        eval_text_of_form(&mut st, det.cos_opening).map(|c| c.acos().to_degrees());
     let sum_value = eval_text_of_form(&mut st, an.averages.sum);
     let each_value = eval_text_of_form(&mut st, an.averages.each);
     let text = match a.format {
@@ -434,9 +446,7 @@ pub fn run(a: AntennaArgs) -> Result<Outcome, Failure> {
                     v
                 })
                 .collect();
-            let avg = |exact: &str, value: Option<f64>, q: Option<f64>| {
-                serde_json::json!({ "exact": exact, "value": value, "quadrature": q })
-            };
+            let avg = |exact: &str, value: Option<f64>, q: Option<f64>| serde_json::json!({ "exact": exact, "value": value, "quadrature": q });
             let rows: Vec<serde_json::Value> = report
                 .rows
                 .iter()
