@@ -217,7 +217,7 @@ params holds the file's parameters in file order; out the columns in the order o
 Arbitrary functions F are calls to functions you supply, F_d0(u) = F(u), F_d1(u) = F'(u),
 ..., or, with --samples, the file's samples. The header comment documents everything.")]
     Emit(emit::EmitArgs),
-    /// The antenna pattern of a two-arm detector: F_plus, F_cross, their sky averages, a sky map.
+    /// The antenna pattern F_plus, F_cross of a two-arm detector, and its sky averages.
     #[command(after_help = "\
 Examples:
   lingrav antenna --theta pi/3 --phi pi/6 --psi pi/5

@@ -101,6 +101,9 @@ pub fn sky_map(a: &V3, b: &V3, psi: f64, quantity: Quantity, rows: usize, cols: 
     map
 }
 
+/// A cell where the routes disagree: `(theta, phi, which, f64 value, enclosure)`.
+pub type CellDefect = (f64, f64, &'static str, f64, (f64, f64));
+
 /// The map's audit.
 #[derive(Clone, Debug, PartialEq)]
 pub struct MapAudit {
@@ -109,7 +112,7 @@ pub struct MapAudit {
     /// Cells the jet route could not evaluate.
     pub not_evaluable: usize,
     /// The first disagreement: `(theta, phi, which, f64 value, enclosure)`.
-    pub defect: Option<(f64, f64, &'static str, f64, (f64, f64))>,
+    pub defect: Option<CellDefect>,
     /// Why nothing could be audited.
     pub not_audited: Option<String>,
 }

@@ -25,7 +25,7 @@
 //! delta_il delta_jk)/15` give `<Lambda_ij,kl> = delta_ik delta_jl/3 - delta_ij delta_kl/6 +
 //! (...)/30`, hence for a traceless `D`
 //! `<F_+^2 + F_x^2> = (4/5) D_ij D_ij = (2/5)(1 - (a.b)^2) = (2/5) sin^2(opening angle)`,
-//! for every psi; 2/5 for perpendicular arms (checks.md section 3, [CALC]). Under
+//! for every psi; 2/5 for perpendicular arms (checks.md section 3, \[CALC\]). Under
 //! `psi -> psi + dpsi`, `(F_+, F_x)` turns by `2 dpsi`, so averaged over psi
 //! `<F_+^2> = <F_x^2> = (1/5) sin^2(opening angle)` and `<F_+ F_x> = 0`.
 //!

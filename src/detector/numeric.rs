@@ -1,6 +1,6 @@
 //! The second route: the same quantities in f64, from the vectors themselves. The arms and
 //! angles are the user's texts evaluated by the direct evaluator of the parsed tree
-//! ([`crate::expr::eval`]); nothing here touches a canonical form.
+//! ([`crate::expr::Evaluator`]); nothing here touches a canonical form.
 
 use crate::expr::Evaluator;
 
