@@ -51,6 +51,7 @@ pub mod budget;
 pub mod canon;
 pub mod check;
 pub mod claim;
+pub mod detector;
 pub mod emit;
 pub mod export;
 pub mod expr;

@@ -10,6 +10,8 @@
 #[path = "cli/support.rs"]
 mod support;
 
+#[path = "cli/antenna.rs"]
+mod antenna;
 #[path = "cli/audit.rs"]
 mod audit;
 #[path = "cli/background_values.rs"]

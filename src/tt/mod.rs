@@ -212,8 +212,9 @@ pub const DIRECTION_FORMS: &str = "a direction is a unit vector `nx,ny,nz` (e.g.
     `3/5,0,4/5`), an axis (`x`, `-z`, ...), polar angles `theta=..,phi=..` (e.g. \
     `theta=pi/3,phi=pi/4`), or `radial`";
 
-/// The unit vector of an axis name: `x`, `+y`, `-z`, ...
-fn axis(text: &str) -> Option<&'static str> {
+/// The unit vector `ax,ay,az` of an axis name: `x`, `+y`, `-z`, ...
+#[must_use]
+pub fn axis(text: &str) -> Option<&'static str> {
     Some(match text {
         "x" | "+x" => "1,0,0",
         "-x" => "-1,0,0",
@@ -273,6 +274,10 @@ fn angle_basis_of_vector(
     ))
 }
 
+fn normalize_help(what: &str) -> String {
+    format!("pass --normalize to use {what}/|{what}|, or give a unit vector such as 3/5,0,4/5")
+}
+
 /// Proves `|m|^2 = 1`, or says why not.
 fn require_unit(
     store: &mut Store,
@@ -280,6 +285,7 @@ fn require_unit(
     arg: &Arg<'_>,
     m: &Vec3,
     what: &str,
+    help: &str,
 ) -> Result<(), ArgError> {
     let nn = dot(store, m, m).map_err(|e| limit(arg, e))?;
     let one = store.one();
@@ -288,8 +294,6 @@ fn require_unit(
         return Ok(());
     }
     let len2 = store.to_text(nn);
-    let help =
-        format!("pass --normalize to use {what}/|{what}|, or give a unit vector such as 3/5,0,4/5");
     Err(match decide(store, d, sampling) {
         Verdict::Nonzero(_) | Verdict::Zero => arg
             .error(
@@ -406,7 +410,7 @@ pub fn parse_direction(
             (n, format!("divided by its length {l} (--normalize)"), true)
         }
     } else {
-        require_unit(store, sampling, &arg, &m, "n")?;
+        require_unit(store, sampling, &arg, &m, "n", &normalize_help("n"))?;
         (m, "unit length (proved)".to_string(), false)
     };
     let one = store.one();
@@ -420,6 +424,53 @@ pub fn parse_direction(
         n_note: note,
         basis_note: basis_note.into(),
     })
+}
+
+/// The unit vector of polar angles `(theta, phi)` and its polar-angle basis:
+/// `n = (sin theta cos phi, sin theta sin phi, cos theta)`,
+/// `e_theta = (cos theta cos phi, cos theta sin phi, -sin theta)`,
+/// `e_phi = (-sin phi, cos phi, 0)`, returned as `(n, e_theta, e_phi)`.
+///
+/// # Errors
+///
+/// An algebra limit.
+pub fn polar_basis(store: &mut Store, th: Form, ph: Form) -> CResult<(Vec3, Vec3, Vec3)> {
+    let (st, ct) = (store.sin(th)?, store.cos(th)?);
+    let (sp, cp) = (store.sin(ph)?, store.cos(ph)?);
+    let n = [store.mul(st, cp)?, store.mul(st, sp)?, ct];
+    let u = [store.mul(ct, cp)?, store.mul(ct, sp)?, store.neg(st)?];
+    let v = [store.neg(sp)?, cp, store.zero()];
+    Ok((n, u, v))
+}
+
+/// Reads a vector `ax,ay,az` (constant expressions) or an axis name (`x`, `-z`, ...) that
+/// must be proved to have unit length; `what` names it in messages, `help` is the help line
+/// of a vector that is not.
+///
+/// # Errors
+///
+/// A malformed argument, an expression error (a coordinate in an entry), or a vector not
+/// proved to have unit length, each pointing into the argument.
+pub fn parse_unit_vector(
+    store: &mut Store,
+    names: &Names,
+    sampling: &Sampling,
+    arg: Arg<'_>,
+    what: &str,
+    help: &str,
+) -> Result<Vec3, ArgError> {
+    let text = axis(arg.text.trim()).unwrap_or(arg.text);
+    let arg = Arg::new(arg.name, text);
+    let pieces = arg.split_exact(
+        3,
+        "a vector is given as ax,ay,az, or an axis such as x or -z",
+    )?;
+    let mut m = [store.zero(); 3];
+    for (slot, p) in m.iter_mut().zip(&pieces) {
+        *slot = arg.build_constant(store, names, p)?;
+    }
+    require_unit(store, sampling, &arg, &m, what, help)?;
+    Ok(m)
 }
 
 fn angles(store: &mut Store, names: &Names, arg: Arg<'_>) -> Result<Direction, ArgError> {
@@ -467,15 +518,7 @@ fn angles(store: &mut Store, names: &Names, arg: Arg<'_>) -> Result<Direction, A
                 .with_help("give both angles, e.g. theta=pi/3,phi=pi/4"),
         );
     };
-    let built = (|| -> CResult<(Vec3, Vec3, Vec3)> {
-        let (st, ct) = (store.sin(th)?, store.cos(th)?);
-        let (sp, cp) = (store.sin(ph)?, store.cos(ph)?);
-        let n = [store.mul(st, cp)?, store.mul(st, sp)?, ct];
-        let u = [store.mul(ct, cp)?, store.mul(ct, sp)?, store.neg(st)?];
-        let v = [store.neg(sp)?, cp, store.zero()];
-        Ok((n, u, v))
-    })();
-    let (n, u, v) = built.map_err(|e| limit(&arg, e))?;
+    let (n, u, v) = polar_basis(store, th, ph).map_err(|e| limit(&arg, e))?;
     Ok(Direction {
         kind: DirectionKind::Angles,
         n,
@@ -531,7 +574,7 @@ pub fn set_basis(
     let u = if normalize_it {
         normalize(store, &arg, &a)?.0
     } else {
-        require_unit(store, sampling, &arg, &a, "a")?;
+        require_unit(store, sampling, &arg, &a, "a", &normalize_help("a"))?;
         a
     };
     let v = cross(store, &dir.n, &u).map_err(|e| limit(&arg, e))?;

@@ -16,7 +16,7 @@ const LAYERS: &[&[&str]] = &[
     &["audit"],
     &["check"],
     &["tt"],
-    &["gauge"],
+    &["gauge", "detector"],
     &["export"],
     &["emit"],
 ];

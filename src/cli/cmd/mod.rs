@@ -1,6 +1,7 @@
 //! One file per command: its clap arguments and its `run` (plan, call the library, report,
 //! outcome). What commands share is in the modules beside this one.
 
+pub mod antenna;
 pub mod binary;
 pub mod check;
 pub mod compare;
