@@ -99,9 +99,9 @@ const MAP_ROWS: usize = 36;
 const MAP_COLS: usize = 72;
 
 /// Sources of the averages, named beside the numbers.
-const AVERAGE_SOURCE: &str = "checks.md section 3 ([CALC]): <F_plus^2> = <F_cross^2> = 1/5, \
-    <F_plus^2 + F_cross^2> = 2/5 for perpendicular arms; the general (2/5) sin^2 is derived in \
-    lingrav::detector (isotropic moments of the TT projector) and proved below for these arms";
+const AVERAGE_SOURCE: &str = "common practice: <F_plus^2> = <F_cross^2> = 1/5, \
+    <F_plus^2 + F_cross^2> = 2/5 for perpendicular arms; the general (2/5) sin^2 is derived from \
+    the isotropic moments of the TT projector and proved above for these arms";
 
 /// The map as planned: the arms in f64, psi and what to show.
 struct MapPlan {
