@@ -63,6 +63,7 @@ pub mod output;
 pub mod parse;
 pub mod pointwise;
 pub mod problem;
+pub mod radiation;
 pub mod tape;
 pub mod tensor;
 pub mod tt;

@@ -387,6 +387,21 @@ impl Builder<'_> {
         };
 
         let background = b.background(&names)?;
+        let mut bodies = Vec::with_capacity(file.bodies.len());
+        for body in &file.bodies {
+            let mass = b.parse_and_build(&body.mass, &names)?;
+            let mut position = [mass; 3];
+            for (slot, e) in position.iter_mut().zip(&body.position) {
+                *slot = b.parse_and_build(e, &names)?;
+            }
+            bodies.push(super::Body {
+                label: body.label.clone(),
+                mass,
+                position,
+                mass_text: body.mass.text.clone(),
+                position_text: body.position.clone().map(|e| e.text),
+            });
+        }
         if let Some(domain) = &file.domain {
             for (mu, range) in domain.iter().enumerate() {
                 if let Some(r) = range {
@@ -427,6 +442,7 @@ impl Builder<'_> {
             coordinates: file.coordinates.clone(),
             background,
             domain: file.domain,
+            bodies,
         })
     }
 }

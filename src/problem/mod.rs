@@ -35,6 +35,7 @@
 //! **Invariants:** this is the only module that knows TOML; reading never panics, on any
 //! input; every error carries the file's text and a span on its char boundaries.
 
+mod bodies;
 mod build;
 mod error;
 mod read;
@@ -201,6 +202,34 @@ pub struct ProblemFile {
     pub gauge_vector: Option<Vec<VectorComponent>>,
     /// \[domain\], if given.
     pub domain: Option<Domain>,
+    /// `[[body]]` tables and the two bodies of a `[binary]`, in file order.
+    pub bodies: Vec<BodyText>,
+}
+
+/// A point mass as written: its mass and its position `(x, y, z)` as expressions in t.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct BodyText {
+    /// `body 1`, `body 2`, ... or the binary's `m1`, `m2`.
+    pub label: String,
+    /// The mass.
+    pub mass: ExprText,
+    /// The position.
+    pub position: [ExprText; 3],
+}
+
+/// A point mass built: mass and position as forms, with their texts.
+#[derive(Clone, Debug)]
+pub struct Body {
+    /// `body 1`, ... or `m1`, `m2` of a binary.
+    pub label: String,
+    /// The mass.
+    pub mass: Form,
+    /// The position `(x, y, z)`, functions of t.
+    pub position: [Form; 3],
+    /// The mass as written.
+    pub mass_text: String,
+    /// The position as written.
+    pub position_text: [String; 3],
 }
 
 impl ProblemFile {
@@ -305,6 +334,8 @@ pub struct Problem {
     pub background: Option<BackgroundData>,
     /// \[domain\], if given.
     pub domain: Option<Domain>,
+    /// The source's bodies (`[[body]]`, `[binary]`), in file order; empty without.
+    pub bodies: Vec<Body>,
 }
 
 /// A problem's background: gbar, Tbar, Lambda and the gauge vector, as forms and texts.
@@ -387,6 +418,7 @@ impl Problem {
             h,
             h_text,
             source: if keep_source { self.source } else { None },
+            bodies: self.bodies.clone(),
             source_text: if keep_source {
                 self.source_text.clone()
             } else {

@@ -3,6 +3,7 @@
 //! The file is parsed into toml's spanned document tree, whose tables are sorted by key; the
 //! entries are put back into file order by the start of their keys.
 
+use super::BodyText;
 use super::{
     Claims, Component, Domain, ExprText, Gauge, GridSpec, NamedExpr, Parameter, ProblemError,
     ProblemFile, VectorComponent, closest,
@@ -15,7 +16,7 @@ use toml::Spanned;
 use toml::de::{DeTable, DeValue};
 
 /// The top-level keys, in the order the documentation lists them.
-pub(super) const TOP_KEYS: [&str; 14] = [
+pub(super) const TOP_KEYS: [&str; 16] = [
     "name",
     "coordinates",
     "cosmological_constant",
@@ -28,10 +29,23 @@ pub(super) const TOP_KEYS: [&str; 14] = [
     "background_source",
     "gauge_vector",
     "domain",
+    "body",
+    "binary",
     "claims",
     "grid",
 ];
 const CLAIM_KEYS: [&str; 3] = ["field_equations", "gauge", "pure_gauge"];
+const BODY_KEYS: [&str; 2] = ["mass", "position"];
+const BINARY_KEYS: [&str; 8] = [
+    "m1",
+    "m2",
+    "semimajor_axis",
+    "period",
+    "eccentricity",
+    "inclination",
+    "node",
+    "phase",
+];
 const GRID_KEYS: [&str; 3] = ["center", "width", "points"];
 /// Fewest resolutions the grid check needs to estimate a convergence order.
 pub(super) const MIN_RESOLUTIONS: usize = 3;
@@ -487,10 +501,18 @@ impl Cx<'_> {
 
     /// `cosmological_constant`: an expression string, or a number taken as written.
     fn lambda(&self, v: &Value<'_>) -> Result<ExprText, ProblemError> {
+        self.expr_or_number("`cosmological_constant`", v)
+            .map_err(|e| {
+                e.with_help("e.g. cosmological_constant = '3*H^2' or cosmological_constant = 0.5")
+            })
+    }
+
+    /// An expression string, or a number taken exactly as written.
+    fn expr_or_number(&self, what: &str, v: &Value<'_>) -> Result<ExprText, ProblemError> {
         match v.get_ref() {
-            DeValue::String(_) => self.string("`cosmological_constant`", v),
+            DeValue::String(_) => self.string(what, v),
             DeValue::Integer(_) | DeValue::Float(_) => {
-                self.number("`cosmological_constant`", v)?;
+                self.number(what, v)?;
                 let span = span_of(v);
                 let literal = self.text[span.start..span.end].replace('_', "");
                 let exact = (literal == self.text[span.start..span.end]).then_some(span.start);
@@ -500,10 +522,95 @@ impl Cx<'_> {
                     offset: exact,
                 })
             }
-            _ => Err(self
-                .type_error("`cosmological_constant`", "an expression or a number", v)
-                .with_help("e.g. cosmological_constant = '3*H^2' or cosmological_constant = 0.5")),
+            _ => Err(self.type_error(what, "an expression or a number", v)),
         }
+    }
+
+    /// `[[body]]`: each a point mass with `mass` and `position` (three expressions in t).
+    fn bodies(&self, v: &Value<'_>, out: &mut Vec<BodyText>) -> Result<(), ProblemError> {
+        let help = "each body is a table `[[body]]` with `mass = 'm1'` and `position = ['x(t)', \
+                    'y(t)', 'z(t)']`";
+        let DeValue::Array(items) = v.get_ref() else {
+            return Err(self
+                .type_error("`body`", "an array of tables `[[body]]`", v)
+                .with_help(help));
+        };
+        for item in items.iter() {
+            let DeValue::Table(t) = item.get_ref() else {
+                return Err(self.type_error("a body", "a table", item).with_help(help));
+            };
+            let label = format!("body {}", out.len() + 1);
+            let (mut mass, mut position) = (None, None);
+            for (k, v) in entries(t) {
+                match &**k.get_ref() {
+                    "mass" => mass = Some(self.expr_or_number(&format!("the mass of {label}"), v)?),
+                    "position" => position = Some(self.position(&label, v)?),
+                    _ => return Err(self.unknown_key(k, "[body]", &BODY_KEYS)),
+                }
+            }
+            let (Some(mass), Some(position)) = (mass, position) else {
+                return Err(self
+                    .err(
+                        format!("{label} needs `mass` and `position`"),
+                        span_of(item),
+                        "this body",
+                    )
+                    .with_help(help));
+            };
+            out.push(BodyText {
+                label,
+                mass,
+                position,
+            });
+        }
+        Ok(())
+    }
+
+    fn position(&self, label: &str, v: &Value<'_>) -> Result<[ExprText; 3], ProblemError> {
+        let wrong = || {
+            self.type_error(&format!("the position of {label}"), "three expressions", v)
+                .with_help("e.g. position = ['a*cos(w*t)', 'a*sin(w*t)', '0']")
+        };
+        let DeValue::Array(items) = v.get_ref() else {
+            return Err(wrong());
+        };
+        if items.len() != 3 {
+            return Err(wrong());
+        }
+        let mut c = Vec::with_capacity(3);
+        for (i, item) in items.iter().enumerate() {
+            c.push(self.expr_or_number(
+                &format!("the {} coordinate of {label}", ["x", "y", "z"][i]),
+                item,
+            )?);
+        }
+        Ok([c[0].clone(), c[1].clone(), c[2].clone()])
+    }
+
+    /// `[binary]`: two point masses on a Kepler orbit, expanded into two bodies.
+    fn binary(&self, key: &Key<'_>, t: &DeTable<'_>) -> Result<Vec<BodyText>, ProblemError> {
+        let mut spec = super::bodies::BinarySpec::default();
+        for (k, v) in entries(t) {
+            let name: &str = k.get_ref();
+            let what = format!("`{name}` in [binary]");
+            let slot = match name {
+                "m1" => &mut spec.m1,
+                "m2" => &mut spec.m2,
+                "semimajor_axis" => &mut spec.semimajor_axis,
+                "period" => &mut spec.period,
+                "eccentricity" => &mut spec.eccentricity,
+                "inclination" => &mut spec.inclination,
+                "node" => &mut spec.node,
+                "phase" => &mut spec.phase,
+                _ => return Err(self.unknown_key(k, "binary", &BINARY_KEYS)),
+            };
+            *slot = Some(self.expr_or_number(&what, v)?);
+        }
+        let t_name = self.coords[0].clone();
+        spec.expand(&t_name).map_err(|why| {
+            self.err(why, span_of(key), "this [binary]")
+                .with_help(super::bodies::BINARY_HELP)
+        })
     }
 
     fn claims(&self, t: &DeTable<'_>) -> Result<Claims, ProblemError> {
@@ -810,6 +917,7 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
         background_source: None,
         gauge_vector: None,
         domain: None,
+        bodies: Vec::new(),
     };
     let mut saw_perturbation = false;
     for (k, v) in entries(root.get_ref()) {
@@ -836,6 +944,11 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
             "domain" => file.domain = Some(cx.domain(cx.table(k, v)?)?),
             "claims" => file.claims = Some(cx.claims(cx.table(k, v)?)?),
             "grid" => file.grid = Some(cx.grid(cx.table(k, v)?)?),
+            "body" => cx.bodies(v, &mut file.bodies)?,
+            "binary" => {
+                let two = cx.binary(k, cx.table(k, v)?)?;
+                file.bodies.extend(two);
+            }
             _ => {
                 let mut e = cx.unknown_key(k, "", &TOP_KEYS);
                 if matches!(v.get_ref(), DeValue::Table(_)) {
@@ -845,7 +958,16 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
             }
         }
     }
-    if !saw_perturbation {
+    if !file.bodies.is_empty() && file.coordinates != COORDS.map(String::from) {
+        return Err(cx
+            .err(
+                "bodies ([[body]], [binary]) are described in Cartesian coordinates t, x, y, z",
+                file.coordinates_span.unwrap_or(Span::new(0, 0)),
+                "not Cartesian",
+            )
+            .with_help("remove `coordinates` (or list t, x, y, z) in a file with bodies"));
+    }
+    if !saw_perturbation && file.bodies.is_empty() {
         return Err(cx
             .err(
                 "the file has no [perturbation] table",
@@ -854,7 +976,8 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
             )
             .with_help(
                 "give h_{mu nu} in a [perturbation] table, e.g. `xx = 'A*cos(omega*(t - z))'`; \
-                 omitted components are 0",
+                 omitted components are 0 (a file describing a source by [[body]] or [binary] \
+                 may leave it out)",
             ));
     }
     let cartesian = file.coordinates == COORDS.map(String::from);

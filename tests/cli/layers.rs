@@ -16,7 +16,7 @@ const LAYERS: &[&[&str]] = &[
     &["audit"],
     &["check"],
     &["tt"],
-    &["gauge", "detector"],
+    &["gauge", "detector", "radiation"],
     &["export"],
     &["emit"],
 ];

@@ -1,0 +1,286 @@
+//! What a source of point masses radiates at quadrupole order, exactly: the mass quadrupole,
+//! its trace-free part, the far-zone field and its polarizations along a direction, the
+//! luminosity, the angular-momentum flux, and their averages over time.
+//!
+//! Conventions (G = c = 1; common practice, e.g. Misner, Thorne & Wheeler 1973, ch. 36, from
+//! memory): moments about the coordinate origin, `I_ij = sum_A m_A x_A^i x_A^j`,
+//! `Q_ij = I_ij - (1/3) delta_ij I_kk`;
+//! the far-zone field `h^TT_ij(t, r n) = (2/r) Lambda_ij,kl(n) d^2 Q_kl/dt^2 (t - r)` with
+//! `Lambda` the TT projector of [`crate::tt::lambda`]; `h_plus`, `h_cross` in the
+//! polarization basis `(u, v)` of the direction, as `project` documents; the luminosity
+//! `L = (1/5) (d^3 Q_ij/dt^3)(d^3 Q_ij/dt^3)`; the angular momentum carried away,
+//! `dJ_i/dt = -(2/5) eps_ijk (d^2 Q_ja/dt^2)(d^3 Q_ka/dt^3)` (the source loses it at this
+//! rate). The second derivative of the mass dipole `sum_A m_A x_A` must vanish for the
+//! quadrupole formula to describe an isolated source (momentum conserved); [`Radiation`]
+//! reports it.
+//!
+//! Time averages ([`time_average`]): the average over all time of a form that is a finite sum
+//! of `c_k exp(i w_k t)` with `c_k` and real `w_k` independent of t is the sum of the `c_k`
+//! with `w_k = 0`; the canonical form is such a sum exactly when every numerator term's only
+//! dependence on t is an exponential `exp(i w t + ...)` and the denominator does not depend
+//! on t. For a periodic motion this is the average over a period. A frequency `w_k` that is
+//! not identically 0 but contains parameters is taken as nonzero (said in the result).
+//!
+//! **Invariants:** exact forms only (no floating point); never prints.
+
+use crate::canon::{CResult, Coeff, Form, KernelId, Q, Store};
+use crate::problem::Body;
+use crate::tt::{Mat3, Vec3};
+
+/// The quadrupole radiation of a set of point masses.
+pub struct Radiation {
+    /// The time coordinate.
+    pub t: KernelId,
+    /// The time coordinate as a form.
+    t_form: Form,
+    /// `I_ij = sum m x_i x_j`.
+    pub quadrupole: Mat3,
+    /// `Q_ij = I_ij - delta_ij I_kk / 3`.
+    pub trace_free: Mat3,
+    /// `d^2/dt^2 sum m x_i`: zero for an isolated source.
+    pub dipole_acceleration: Vec3,
+    /// `d^k Q / dt^k` for k = 0, 1, ... as computed so far.
+    derivatives: Vec<Mat3>,
+}
+
+/// The field along one direction at one distance.
+#[derive(Clone, Debug)]
+pub struct Wave {
+    /// `h^TT_ij`.
+    pub tt: Mat3,
+    /// `h_plus`.
+    pub plus: Form,
+    /// `h_cross`.
+    pub cross: Form,
+}
+
+/// The result of [`time_average`].
+#[derive(Clone, Debug)]
+pub enum Average {
+    /// The average, exactly.
+    Exact(Form),
+    /// Why the form is not a sum of `c exp(i w t)` (no average given).
+    NotPeriodic(String),
+}
+
+fn third() -> Coeff {
+    Coeff::rational(Q::new((-1).into(), 3.into()))
+}
+
+impl Radiation {
+    /// The moments of `bodies`, functions of the time coordinate named `t`.
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn new(store: &mut Store, bodies: &[Body], t_name: &str) -> CResult<Radiation> {
+        let t = store.symbol_kernel(t_name);
+        let t_form = store.symbol(t_name);
+        let z = store.zero();
+        let mut quadrupole = [[z; 3]; 3];
+        for i in 0..3 {
+            for j in i..3 {
+                let mut terms = Vec::with_capacity(bodies.len());
+                for b in bodies {
+                    let xx = store.mul(b.position[i], b.position[j])?;
+                    terms.push(store.mul(b.mass, xx)?);
+                }
+                let s = store.sum(&terms)?;
+                quadrupole[i][j] = s;
+                quadrupole[j][i] = s;
+            }
+        }
+        let trace = store.sum(&[quadrupole[0][0], quadrupole[1][1], quadrupole[2][2]])?;
+        let mut trace_free = quadrupole;
+        for (i, row) in trace_free.iter_mut().enumerate() {
+            row[i] = store.linear(&[(&Coeff::one(), quadrupole[i][i]), (&third(), trace)])?;
+        }
+        let mut dipole_acceleration = [z; 3];
+        for (i, slot) in dipole_acceleration.iter_mut().enumerate() {
+            let mut terms = Vec::with_capacity(bodies.len());
+            for b in bodies {
+                terms.push(store.mul(b.mass, b.position[i])?);
+            }
+            let d = store.sum(&terms)?;
+            let d1 = store.diff(d, t)?;
+            *slot = store.diff(d1, t)?;
+        }
+        Ok(Radiation {
+            t,
+            t_form,
+            quadrupole,
+            trace_free,
+            dipole_acceleration,
+            derivatives: vec![trace_free],
+        })
+    }
+
+    /// `d^k Q_ij / dt^k` (memoised).
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn derivative(&mut self, store: &mut Store, k: usize) -> CResult<Mat3> {
+        while self.derivatives.len() <= k {
+            let last = *self.derivatives.last().expect("Q itself");
+            let z = store.zero();
+            let mut next = [[z; 3]; 3];
+            for i in 0..3 {
+                for j in i..3 {
+                    let d = store.diff(last[i][j], self.t)?;
+                    next[i][j] = d;
+                    next[j][i] = d;
+                }
+            }
+            self.derivatives.push(next);
+        }
+        Ok(self.derivatives[k])
+    }
+
+    /// `L = (1/5) dddQ_ij dddQ_ij`.
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn luminosity(&mut self, store: &mut Store) -> CResult<Form> {
+        let q3 = self.derivative(store, 3)?;
+        let mut terms = Vec::with_capacity(9);
+        for row in &q3 {
+            for &x in row {
+                terms.push(store.mul(x, x)?);
+            }
+        }
+        let s = store.sum(&terms)?;
+        store.scale(s, &Coeff::rational(Q::new(1.into(), 5.into())))
+    }
+
+    /// `dJ_i/dt = -(2/5) eps_ijk ddQ_ja dddQ_ka`, the rate at which the waves carry angular
+    /// momentum away.
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn angular_momentum_flux(&mut self, store: &mut Store) -> CResult<Vec3> {
+        let q2 = self.derivative(store, 2)?;
+        let q3 = self.derivative(store, 3)?;
+        let z = store.zero();
+        let mut out = [z; 3];
+        for (i, slot) in out.iter_mut().enumerate() {
+            let (j, k) = ((i + 1) % 3, (i + 2) % 3);
+            let mut terms = Vec::with_capacity(6);
+            for a in 0..3 {
+                terms.push(store.mul(q2[j][a], q3[k][a])?);
+                let m = store.mul(q2[k][a], q3[j][a])?;
+                terms.push(store.neg(m)?);
+            }
+            let s = store.sum(&terms)?;
+            *slot = store.scale(s, &Coeff::rational(Q::new((-2).into(), 5.into())))?;
+        }
+        Ok(out)
+    }
+
+    /// The far-zone field along the unit direction `n` with polarization basis `(u, v)` at
+    /// distance `r`: `h^TT = (2/r) Lambda(n) ddQ(t - r)`.
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn field(
+        &mut self,
+        store: &mut Store,
+        (n, u, v): (&Vec3, &Vec3, &Vec3),
+        r: Form,
+    ) -> CResult<Wave> {
+        let q2 = self.derivative(store, 2)?;
+        let retarded = store.sub(self.t_form, r)?;
+        let mut subs = rustc_hash::FxHashMap::default();
+        subs.insert(self.t, retarded);
+        let two_over_r = {
+            let two = store.int(2);
+            store.div(two, r)?
+        };
+        let z = store.zero();
+        let mut shifted = [[z; 3]; 3];
+        for i in 0..3 {
+            for j in i..3 {
+                let s = store.substitute(q2[i][j], &subs)?;
+                let s = store.mul(two_over_r, s)?;
+                shifted[i][j] = s;
+                shifted[j][i] = s;
+            }
+        }
+        let tt = crate::tt::project(store, n, &shifted)?;
+        let (plus, cross) = crate::tt::polarizations(store, &tt, u, v)?;
+        Ok(Wave { tt, plus, cross })
+    }
+}
+
+/// The average of `f` over all time `t` (see the module documentation).
+///
+/// # Errors
+///
+/// An algebra limit.
+pub fn time_average(store: &mut Store, f: Form, t: KernelId) -> CResult<Average> {
+    let view = store.view(f);
+    let terms = view.numerator().owned_terms();
+    let den: Vec<(Vec<crate::canon::OwnedTerm>, u32)> = view
+        .denominator()
+        .map(|(p, e)| (p.owned_terms(), e))
+        .collect();
+    let mut den_form = store.one();
+    for (poly, e) in &den {
+        let parts: Vec<Form> = poly.iter().map(|t| store.term_form(t)).collect();
+        let p = store.sum(&parts)?;
+        let d = store.diff(p, t)?;
+        if !store.is_zero(d) {
+            return Ok(Average::NotPeriodic(
+                "a denominator depends on the time".into(),
+            ));
+        }
+        let pe = store.powi(p, i64::from(*e))?;
+        den_form = store.mul(den_form, pe)?;
+    }
+    let mut kept = Vec::new();
+    for term in &terms {
+        let rest = crate::canon::OwnedTerm {
+            exp: None,
+            ..term.clone()
+        };
+        let rest_form = store.term_form(&rest);
+        let d = store.diff(rest_form, t)?;
+        if !store.is_zero(d) {
+            return Ok(Average::NotPeriodic(
+                "a term depends on the time other than through exp(i w t)".into(),
+            ));
+        }
+        let Some(e) = term.exp else {
+            kept.push(rest_form);
+            continue;
+        };
+        let rate = store.diff(e, t)?;
+        if store.is_zero(rate) {
+            kept.push(store.term_form(term));
+            continue;
+        }
+        let second = store.diff(rate, t)?;
+        if !store.is_zero(second) {
+            return Ok(Average::NotPeriodic(
+                "an exponent is not linear in the time".into(),
+            ));
+        }
+        match store.exponent_parts(rate) {
+            crate::canon::ExpSplit::Parts { re, im, .. }
+                if store.is_zero(re) && !store.is_zero(im) => {}
+            _ => {
+                return Ok(Average::NotPeriodic(
+                    "an exponential grows or decays in time".into(),
+                ));
+            }
+        }
+    }
+    let num = store.sum(&kept)?;
+    Ok(Average::Exact(store.div(num, den_form)?))
+}
+
+#[cfg(test)]
+mod tests;
