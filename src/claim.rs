@@ -157,6 +157,15 @@ pub enum Kind {
     /// h = D xi + D xi for the file's gauge vector: pure gauge when it holds; when it does
     /// not, that vector is not the one, which decides nothing.
     GaugeVector,
+    /// The file's luminosity equals the quadrupole formula's of its bodies (instantaneous,
+    /// or averaged over time); decided in [`crate::radiation`], not from parts of h.
+    Luminosity {
+        /// Averaged over time.
+        average: bool,
+    },
+    /// The file's h_plus and h_cross equal the quadrupole formula's along its direction and
+    /// distance; decided in [`crate::radiation`].
+    Waveform,
 }
 
 impl Kind {
@@ -171,6 +180,9 @@ impl Kind {
             Kind::PureGauge | Kind::GaugeVector => "pure_gauge".into(),
             Kind::BackgroundEquations { .. } => "background".into(),
             Kind::CurvedFieldEquations { .. } => "field_equations".into(),
+            Kind::Luminosity { average: false } => "luminosity".into(),
+            Kind::Luminosity { average: true } => "luminosity_average".into(),
+            Kind::Waveform => "waveform".into(),
         }
     }
 
@@ -272,13 +284,27 @@ impl Kind {
                 "pure gauge by the file's vector (h = D xi + D xi)",
                 "not pure gauge (h = D xi + D xi for the file's vector)",
             ),
+            Kind::Luminosity { average: false } => (
+                "luminosity = (1/5) dddQ_ij dddQ_ij of the bodies",
+                "luminosity != (1/5) dddQ_ij dddQ_ij of the bodies",
+            ),
+            Kind::Luminosity { average: true } => (
+                "time-averaged luminosity = <(1/5) dddQ_ij dddQ_ij> of the bodies",
+                "time-averaged luminosity != <(1/5) dddQ_ij dddQ_ij> of the bodies",
+            ),
+            Kind::Waveform => (
+                "waveform = (2/r) Lambda ddQ(t - r) of the bodies (h_plus, h_cross)",
+                "waveform != (2/r) Lambda ddQ(t - r) of the bodies (h_plus, h_cross)",
+            ),
         }
     }
 
-    /// The components that must vanish, in report order.
+    /// The components that must vanish, in report order (none for the claims about
+    /// radiation, which are not parts of h: see [`crate::radiation`]).
     #[must_use]
     pub fn parts(self) -> Vec<Part> {
         match self {
+            Kind::Luminosity { .. } | Kind::Waveform => Vec::new(),
             Kind::SourceConservation | Kind::CurvedConservation => {
                 (0..4).map(Part::Conservation).collect()
             }
@@ -625,7 +651,8 @@ impl Plan {
 /// `fails` if the file has claims and an asserted one fails; else the first status of
 /// `pending` (most severe first) that any counted claim has; else `holds`. Counted are the
 /// asserted claims, or every claim of a file without \[claims\] (whose properties are only
-/// reported, so a property that does not hold is no failure).
+/// reported, so a property that does not hold is no failure). With nothing counted, nothing
+/// was checked: the most severe pending status, never `holds`.
 pub fn overall<S: Copy + PartialEq>(
     has_claims: bool,
     claims: impl IntoIterator<Item = (Option<bool>, S)>,
@@ -638,6 +665,9 @@ pub fn overall<S: Copy + PartialEq>(
         .filter(|(asserted, _)| asserted.is_some() || !has_claims)
         .map(|(_, s)| s)
         .collect();
+    if counted.is_empty() {
+        return pending.first().copied().unwrap_or(holds);
+    }
     if has_claims && counted.contains(&fails) {
         return fails;
     }
@@ -721,6 +751,9 @@ mod tests {
         // Without claims a failing property is only reported; an undecided one still counts.
         assert_eq!(rule(false, &[(None, S::F), (None, S::H)]), S::H);
         assert_eq!(rule(false, &[(None, S::F), (None, S::U)]), S::U);
-        assert_eq!(rule(true, &[]), S::H);
+        // Nothing counted is nothing checked: never "holds" (an empty [claims] table, or a
+        // grid of a file that has only claims about radiation).
+        assert_eq!(rule(true, &[]), S::U);
+        assert_eq!(rule(true, &[(None, S::H)]), S::U);
     }
 }

@@ -32,6 +32,8 @@ mod general;
 mod layers;
 #[path = "cli/output.rs"]
 mod output;
+#[path = "cli/radiation.rs"]
+mod radiation;
 #[path = "cli/safety.rs"]
 mod safety;
 

@@ -45,6 +45,14 @@ fn grid_verdicts_agree_with_the_exact_check_on_every_worked_example() {
     for file in worked_files() {
         let f = file.to_str().unwrap();
         let exact = json(&lingrav(&["check", "--format", "json", f]));
+        // A file that describes only bodies has no field on a grid: its claims are about the
+        // bodies' radiation (decided exactly by `check`).
+        let radiation_only = exact["claims"].as_array().unwrap().iter().all(|c| {
+            ["luminosity", "luminosity_average", "waveform"].contains(&c["key"].as_str().unwrap())
+        });
+        if radiation_only {
+            continue;
+        }
         let out = lingrav(&["grid", "--format", "json", "--points", POINTS, f]);
         // About a background the small default grids often leave a claim at the round-off
         // floor (unresolved) or without a clean order (inconclusive): never a contradiction,

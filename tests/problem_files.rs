@@ -177,7 +177,7 @@ fn dropped_near_zone_terms_fail() {
 /// fails this test (list it, with its expected result, when adding an example); so does a
 /// listed file that is missing. The claims of each file are asserted by the tests above or,
 /// for files made for other commands, by those commands' tests.
-const WORKED: [(&str, i32); 25] = [
+const WORKED: [(&str, i32); 27] = [
     ("de_sitter_tensor_mode.toml", 0),
     ("dropped_near_zone.toml", 1),
     ("frw_dust_tensor_mode.toml", 0),
@@ -202,6 +202,8 @@ const WORKED: [(&str, i32); 25] = [
     ("teukolsky_wrong_coefficient.toml", 1),
     ("uniform_ball.toml", 0),
     ("vibrating_rod.toml", 0),
+    ("circular_binary.toml", 0),
+    ("binary_wrong_waveform.toml", 1),
     ("wrong_sign_wave.toml", 1),
 ];
 

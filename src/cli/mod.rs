@@ -16,8 +16,8 @@ mod render;
 mod report;
 
 use cmd::{
-    antenna, binary, check, compare, diff, emit, export, gauge, grid, project, ring, show,
-    simplify, zero,
+    antenna, binary, check, compare, diff, emit, export, gauge, grid, project, radiation, ring,
+    show, simplify, zero,
 };
 
 use clap::{Parser, Subcommand};
@@ -268,6 +268,21 @@ theta down, 5-degree cells, the arms marked, a colour legend (--map rms|plus|cro
 appears whole or not at all. Exit 0 proved and audited, 1 internal defect, 3 undecided, 2 bad
 input (a non-unit or parallel arm, an unreadable angle).")]
     Antenna(antenna::AntennaArgs),
+    /// What a file's bodies radiate at quadrupole order: moments, luminosity, waveform.
+    #[command(after_help = "\
+Examples:
+  lingrav radiation worked/circular_binary.toml
+  lingrav radiation worked/circular_binary.toml --direction theta=pi/3,phi=0 --distance 1e6
+  lingrav radiation worked/circular_binary.toml --direction z --format json
+
+The source is the file's [[body]] tables (mass, position as functions of t) or its [binary]
+(a circular orbit; see the README). G = c = 1; moments about the origin: Q_ij = sum m (x_i x_j
+- delta_ij |x|^2/3); h^TT = (2/r) Lambda(n) d^2Q/dt^2 (t - r); L = (1/5) dddQ_ij dddQ_ij;
+dJ_i/dt = -(2/5) eps_ijk ddQ_ja dddQ_ka. Time averages are exact for sums of exp(i w t)
+(periodic motion), else said to be unavailable. A mass dipole that accelerates is flagged.
+Every printed form is audited against its definition evaluated from the bodies' texts by an
+independent route (certified jets); a disagreement is an INTERNAL DEFECT (exit 1).")]
+    Radiation(radiation::RadiationArgs),
 }
 
 /// Runs the command line and returns the exit code.
@@ -295,6 +310,7 @@ pub fn run() -> ExitCode {
         Command::Emit(a) => emit::run(a),
         Command::Binary(a) => binary::run(a),
         Command::Antenna(a) => antenna::run(a),
+        Command::Radiation(a) => radiation::run(a),
     };
     out::finish(result)
 }

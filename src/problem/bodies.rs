@@ -85,14 +85,26 @@ impl BinarySpec {
                 return Err("[binary] needs exactly one of semimajor_axis and period".into());
             }
         };
-        let i = paren(self.inclination.as_ref(), "0");
-        let node = paren(self.node.as_ref(), "0");
-        let psi = format!("({w}*{t} + {})", paren(self.phase.as_ref(), "0"));
-        let rel = [
-            format!("{a}*(cos({psi})*cos({node}) - sin({psi})*cos({i})*sin({node}))"),
-            format!("{a}*(cos({psi})*sin({node}) + sin({psi})*cos({i})*cos({node}))"),
-            format!("{a}*sin({psi})*sin({i})"),
-        ];
+        let psi = match &self.phase {
+            Some(ph) => format!("({w}*{t} + ({}))", ph.text),
+            None => format!("{w}*{t}"),
+        };
+        // Written out only as far as the file's angles need (the same orbit either way).
+        let rel = if self.inclination.is_none() && self.node.is_none() {
+            [
+                format!("{a}*cos({psi})"),
+                format!("{a}*sin({psi})"),
+                "0".to_string(),
+            ]
+        } else {
+            let i = paren(self.inclination.as_ref(), "0");
+            let node = paren(self.node.as_ref(), "0");
+            [
+                format!("{a}*(cos({psi})*cos({node}) - sin({psi})*cos({i})*sin({node}))"),
+                format!("{a}*(cos({psi})*sin({node}) + sin({psi})*cos({i})*cos({node}))"),
+                format!("{a}*sin({psi})*sin({i})"),
+            ]
+        };
         let text = |s: String| ExprText {
             text: s,
             token,

@@ -402,6 +402,36 @@ impl Builder<'_> {
                 position_text: body.position.clone().map(|e| e.text),
             });
         }
+        let rc = &file.radiation_claims;
+        let claimed = |b: &mut Self, e: &ExprText| -> Result<super::Claimed, ProblemError> {
+            Ok(super::Claimed {
+                form: b.parse_and_build(e, &names)?,
+                text: e.text.clone(),
+            })
+        };
+        let mut radiation_claims = super::RadiationClaims::default();
+        if let Some(e) = &rc.luminosity {
+            radiation_claims.luminosity = Some(claimed(b, e)?);
+        }
+        if let Some(e) = &rc.luminosity_average {
+            radiation_claims.luminosity_average = Some(claimed(b, e)?);
+        }
+        if let Some(w) = &rc.waveform {
+            radiation_claims.waveform = Some((
+                w.direction.text.clone(),
+                claimed(b, &w.distance)?,
+                claimed(b, &w.h_plus)?,
+                claimed(b, &w.h_cross)?,
+            ));
+        }
+        if !radiation_claims.is_empty() && bodies.is_empty() {
+            return Err(b.err(
+                "claims about radiation (luminosity, waveform) need the bodies that radiate: \
+                 [[body]] tables or a [binary]",
+                Span::new(0, 0),
+                "no bodies",
+            ));
+        }
         if let Some(domain) = &file.domain {
             for (mu, range) in domain.iter().enumerate() {
                 if let Some(r) = range {
@@ -443,6 +473,7 @@ impl Builder<'_> {
             background,
             domain: file.domain,
             bodies,
+            radiation_claims,
         })
     }
 }

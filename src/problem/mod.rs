@@ -204,6 +204,61 @@ pub struct ProblemFile {
     pub domain: Option<Domain>,
     /// `[[body]]` tables and the two bodies of a `[binary]`, in file order.
     pub bodies: Vec<BodyText>,
+    /// The claims about the bodies' radiation in \[claims\].
+    pub radiation_claims: RadiationClaimTexts,
+}
+
+/// The claims about radiation as written: `luminosity`, `luminosity_average` and
+/// `[claims.waveform]`.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct RadiationClaimTexts {
+    /// The luminosity at time t.
+    pub luminosity: Option<ExprText>,
+    /// The luminosity averaged over time.
+    pub luminosity_average: Option<ExprText>,
+    /// The waveform at an observer.
+    pub waveform: Option<WaveformTexts>,
+}
+
+/// `[claims.waveform]` as written.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct WaveformTexts {
+    /// The direction to the observer, written as for `project --direction`.
+    pub direction: ExprText,
+    /// The observer's distance.
+    pub distance: ExprText,
+    /// h_plus at the observer at time t.
+    pub h_plus: ExprText,
+    /// h_cross likewise.
+    pub h_cross: ExprText,
+}
+
+/// A claimed expression built, with its text.
+#[derive(Clone, Debug)]
+pub struct Claimed {
+    /// The form.
+    pub form: Form,
+    /// The text as written.
+    pub text: String,
+}
+
+/// The claims about radiation, built (see [`RadiationClaimTexts`]).
+#[derive(Clone, Debug, Default)]
+pub struct RadiationClaims {
+    /// The luminosity at time t.
+    pub luminosity: Option<Claimed>,
+    /// The luminosity averaged over time.
+    pub luminosity_average: Option<Claimed>,
+    /// The waveform: direction text, distance, h_plus, h_cross.
+    pub waveform: Option<(String, Claimed, Claimed, Claimed)>,
+}
+
+impl RadiationClaims {
+    /// True when the file makes no claim about radiation.
+    #[must_use]
+    pub fn is_empty(&self) -> bool {
+        self.luminosity.is_none() && self.luminosity_average.is_none() && self.waveform.is_none()
+    }
 }
 
 /// A point mass as written: its mass and its position `(x, y, z)` as expressions in t.
@@ -336,6 +391,8 @@ pub struct Problem {
     pub domain: Option<Domain>,
     /// The source's bodies (`[[body]]`, `[binary]`), in file order; empty without.
     pub bodies: Vec<Body>,
+    /// The claims about the bodies' radiation.
+    pub radiation_claims: RadiationClaims,
 }
 
 /// A problem's background: gbar, Tbar, Lambda and the gauge vector, as forms and texts.
@@ -419,6 +476,7 @@ impl Problem {
             h_text,
             source: if keep_source { self.source } else { None },
             bodies: self.bodies.clone(),
+            radiation_claims: RadiationClaims::default(),
             source_text: if keep_source {
                 self.source_text.clone()
             } else {

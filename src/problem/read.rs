@@ -3,7 +3,7 @@
 //! The file is parsed into toml's spanned document tree, whose tables are sorted by key; the
 //! entries are put back into file order by the start of their keys.
 
-use super::BodyText;
+use super::{BodyText, RadiationClaimTexts, WaveformTexts};
 use super::{
     Claims, Component, Domain, ExprText, Gauge, GridSpec, NamedExpr, Parameter, ProblemError,
     ProblemFile, VectorComponent, closest,
@@ -34,7 +34,15 @@ pub(super) const TOP_KEYS: [&str; 16] = [
     "claims",
     "grid",
 ];
-const CLAIM_KEYS: [&str; 3] = ["field_equations", "gauge", "pure_gauge"];
+const CLAIM_KEYS: [&str; 6] = [
+    "field_equations",
+    "gauge",
+    "pure_gauge",
+    "luminosity",
+    "luminosity_average",
+    "waveform",
+];
+const WAVEFORM_KEYS: [&str; 4] = ["direction", "distance", "h_plus", "h_cross"];
 const BODY_KEYS: [&str; 2] = ["mass", "position"];
 const BINARY_KEYS: [&str; 8] = [
     "m1",
@@ -613,17 +621,59 @@ impl Cx<'_> {
         })
     }
 
-    fn claims(&self, t: &DeTable<'_>) -> Result<Claims, ProblemError> {
+    fn claims(
+        &self,
+        t: &DeTable<'_>,
+        radiation: &mut RadiationClaimTexts,
+    ) -> Result<Claims, ProblemError> {
         let mut c = Claims::default();
         for (k, v) in entries(t) {
             match &**k.get_ref() {
                 "field_equations" => c.field_equations = Some(self.bool("`field_equations`", v)?),
                 "pure_gauge" => c.pure_gauge = Some(self.bool("`pure_gauge`", v)?),
                 "gauge" => c.gauge = self.gauges(v)?,
+                "luminosity" => {
+                    radiation.luminosity = Some(self.expr_or_number("`luminosity`", v)?);
+                }
+                "luminosity_average" => {
+                    radiation.luminosity_average =
+                        Some(self.expr_or_number("`luminosity_average`", v)?);
+                }
+                "waveform" => radiation.waveform = Some(self.waveform(k, self.table(k, v)?)?),
                 _ => return Err(self.unknown_key(k, "claims", &CLAIM_KEYS)),
             }
         }
         Ok(c)
+    }
+
+    /// `[claims.waveform]`: direction, distance, h_plus, h_cross.
+    fn waveform(&self, key: &Key<'_>, t: &DeTable<'_>) -> Result<WaveformTexts, ProblemError> {
+        let mut f: [Option<ExprText>; 4] = Default::default();
+        for (k, v) in entries(t) {
+            let name: &str = k.get_ref();
+            let Some(i) = WAVEFORM_KEYS.iter().position(|w| *w == name) else {
+                return Err(self.unknown_key(k, "claims.waveform", &WAVEFORM_KEYS));
+            };
+            f[i] = Some(self.expr_or_number(&format!("`{name}` in [claims.waveform]"), v)?);
+        }
+        match f {
+            [Some(direction), Some(distance), Some(h_plus), Some(h_cross)] => Ok(WaveformTexts {
+                direction,
+                distance,
+                h_plus,
+                h_cross,
+            }),
+            _ => Err(self
+                .err(
+                    "[claims.waveform] needs direction, distance, h_plus and h_cross",
+                    span_of(key),
+                    "this table",
+                )
+                .with_help(
+                    "e.g. direction = '0,0,1', distance = 'D', h_plus = '...', h_cross = '...' \
+                     (the field at the observer at time t, in the basis of `project`)",
+                )),
+        }
     }
 
     /// A gauge name or a list of them.
@@ -918,6 +968,7 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
         gauge_vector: None,
         domain: None,
         bodies: Vec::new(),
+        radiation_claims: RadiationClaimTexts::default(),
     };
     let mut saw_perturbation = false;
     for (k, v) in entries(root.get_ref()) {
@@ -942,7 +993,9 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
             }
             "gauge_vector" => file.gauge_vector = Some(cx.vector(cx.table(k, v)?)?),
             "domain" => file.domain = Some(cx.domain(cx.table(k, v)?)?),
-            "claims" => file.claims = Some(cx.claims(cx.table(k, v)?)?),
+            "claims" => {
+                file.claims = Some(cx.claims(cx.table(k, v)?, &mut file.radiation_claims)?);
+            }
             "grid" => file.grid = Some(cx.grid(cx.table(k, v)?)?),
             "body" => cx.bodies(v, &mut file.bodies)?,
             "binary" => {

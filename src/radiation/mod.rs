@@ -23,6 +23,8 @@
 //!
 //! **Invariants:** exact forms only (no floating point); never prints.
 
+pub mod claims;
+
 use crate::canon::{CResult, Coeff, Form, KernelId, Q, Store};
 use crate::problem::Body;
 use crate::tt::{Mat3, Vec3};

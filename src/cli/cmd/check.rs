@@ -26,7 +26,22 @@ pub struct CheckArgs {
 /// `lingrav check`.
 pub fn run(a: CheckArgs) -> Result<Outcome, Failure> {
     let mut problem = a.limits.load(&a.file)?;
-    let report = check(&mut problem);
+    // A file that describes only bodies (no [perturbation]) has only claims about them.
+    let only_bodies =
+        !problem.bodies.is_empty() && problem.h_text.iter().flatten().all(Option::is_none);
+    let mut report = if only_bodies {
+        CheckReport {
+            claims: Vec::new(),
+            has_claims: true,
+        }
+    } else {
+        check(&mut problem)
+    };
+    let radiation = lingrav::radiation::claims::reports(&mut problem).map_err(|e| match e {
+        lingrav::radiation::claims::ClaimsError::Limit(l) => crate::cli::out::gave_up(&l),
+        e => Failure::Input(miette::miette!("{}: {e}", problem.path)),
+    })?;
+    report.claims.extend(radiation);
     let label = a.file.display().to_string();
     let text = match a.format {
         Format::Text => render_text(&mut problem.store, &label, problem.name.as_deref(), &report),

@@ -1,0 +1,295 @@
+//! The claims of a file about its bodies' radiation (`luminosity`, `luminosity_average`,
+//! `[claims.waveform]`), decided exactly against the quadrupole formula and audited by the
+//! independent route: each claimed expression minus the definition written from the bodies'
+//! texts, evaluated with certified jets.
+
+use super::{Average, Radiation, time_average};
+use crate::audit::expr::{FileQuantities, Finding};
+use crate::canon::{CResult, Form};
+use crate::check::audit::Audited;
+use crate::check::{ClaimReport, Component, Residual, Status};
+use crate::claim::{Claim, Kind};
+use crate::problem::Problem;
+use crate::tt::{Arg, parse_direction};
+use crate::zero::{Verdict, decide};
+
+/// What the independent route found, as a component's audit.
+fn audited(f: &Finding) -> Audited {
+    match f {
+        Finding::ProofConsistent { points, .. } => Audited::ProofConsistent {
+            points: points.len(),
+        },
+        Finding::ProofContradicted(_) => Audited::ProofContradicted,
+        Finding::WitnessConfirmed(_) | Finding::ConfirmedElsewhere { .. } => {
+            Audited::WitnessConfirmed
+        }
+        Finding::ValuesDisagree { .. } => Audited::ValuesDisagree(f.label().into()),
+        Finding::WitnessUnconfirmed { .. } => Audited::WitnessUnconfirmed,
+        Finding::NotAudited(why) => Audited::NotRun(why.clone()),
+        Finding::Skipped => Audited::Skipped,
+    }
+}
+
+/// One claimed quantity: its residual against the formula, and the texts of the audit
+/// (`claimed` form to print, definition from the bodies' texts), or no audit (the reason).
+struct Item {
+    name: String,
+    residual: Form,
+    audit: Result<(Form, String), String>,
+}
+
+/// The definition of `Q_ij` from the bodies' texts, `[i][j]`, each in parentheses:
+/// `sum m x_i x_j - delta_ij sum m |x|^2 / 3`.
+#[must_use]
+pub fn quadrupole_texts(p: &Problem) -> [[String; 3]; 3] {
+    let i = |a: usize, b: usize| -> String {
+        let terms: Vec<String> = p
+            .bodies
+            .iter()
+            .map(|body| {
+                format!(
+                    "({})*({})*({})",
+                    body.mass_text, body.position_text[a], body.position_text[b]
+                )
+            })
+            .collect();
+        format!("({})", terms.join(" + "))
+    };
+    let trace = format!("({} + {} + {})", i(0, 0), i(1, 1), i(2, 2));
+    std::array::from_fn(|a| {
+        std::array::from_fn(|b| {
+            if a == b {
+                format!("({} - {trace}/3)", i(a, b))
+            } else {
+                i(a, b)
+            }
+        })
+    })
+}
+
+/// Why the claims about radiation could not be decided.
+#[derive(Clone, Debug, thiserror::Error)]
+pub enum ClaimsError {
+    /// The waveform's direction cannot be read.
+    #[error("[claims.waveform] direction: {0}")]
+    Direction(String),
+    /// An algebra limit.
+    #[error(transparent)]
+    Limit(#[from] crate::canon::CanonError),
+}
+
+/// The reports of the file's claims about radiation (none without such claims).
+///
+/// # Errors
+///
+/// A `[claims.waveform]` direction that cannot be read, or an algebra limit.
+pub fn reports(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
+    if p.radiation_claims.is_empty() {
+        return Ok(Vec::new());
+    }
+    let claims = p.radiation_claims.clone();
+    let t_name = p.coordinates[0].clone();
+    let q = quadrupole_texts(p);
+    let d = |k: usize, a: usize, b: usize| {
+        format!("d_{}({})", vec![t_name.as_str(); k].join("_"), q[a][b])
+    };
+    let lim = ClaimsError::Limit;
+    let mut rad = Radiation::new(&mut p.store, &p.bodies, &t_name).map_err(lim)?;
+    let mut out = Vec::new();
+    let mut groups: Vec<(Kind, Vec<Item>)> = Vec::new();
+    let st = &mut p.store;
+    if claims.luminosity.is_some() || claims.luminosity_average.is_some() {
+        let lum = rad.luminosity(st).map_err(lim)?;
+        let mut squares = Vec::new();
+        for a in 0..3 {
+            for b in 0..3 {
+                squares.push(format!("({})^2", d(3, a, b)));
+            }
+        }
+        let definition = format!("({})/5", squares.join(" + "));
+        if let Some(c) = &claims.luminosity {
+            let residual = st.sub(c.form, lum).map_err(lim)?;
+            groups.push((
+                Kind::Luminosity { average: false },
+                vec![Item {
+                    name: "claimed L - (1/5) dddQ_ij dddQ_ij".into(),
+                    residual,
+                    audit: Ok((c.form, definition.clone())),
+                }],
+            ));
+        }
+        if let Some(c) = &claims.luminosity_average {
+            let item = match time_average(st, lum, rad.t).map_err(lim)? {
+                Average::Exact(avg) => Item {
+                    name: "claimed <L> - <(1/5) dddQ_ij dddQ_ij>".into(),
+                    residual: st.sub(c.form, avg).map_err(lim)?,
+                    audit: Err("no independent route for a time average".into()),
+                },
+                Average::NotPeriodic(why) => {
+                    let report = undecided(
+                        Kind::Luminosity { average: true },
+                        format!("no time average: {why}"),
+                    );
+                    out.push(report);
+                    Item {
+                        name: String::new(),
+                        residual: st.zero(),
+                        audit: Err(String::new()),
+                    }
+                }
+            };
+            if !item.name.is_empty() {
+                groups.push((Kind::Luminosity { average: true }, vec![item]));
+            }
+        }
+    }
+    if let Some((direction, distance, plus, cross)) = &claims.waveform {
+        let names = p.names.clone();
+        let sampling = p.sampling.clone();
+        let st = &mut p.store;
+        let dir = parse_direction(
+            st,
+            &names,
+            &sampling,
+            Arg::new("direction", direction),
+            false,
+        )
+        .map_err(|e| ClaimsError::Direction(e.to_string()))?;
+        let w = rad
+            .field(st, (&dir.n, &dir.u, &dir.v), distance.form)
+            .map_err(lim)?;
+        let u: Vec<String> = dir
+            .u
+            .iter()
+            .map(|&f| format!("({})", st.to_text(f)))
+            .collect();
+        let v: Vec<String> = dir
+            .v
+            .iter()
+            .map(|&f| format!("({})", st.to_text(f)))
+            .collect();
+        let contract = |e: &dyn Fn(usize, usize) -> String| -> String {
+            let mut terms = Vec::new();
+            for a in 0..3 {
+                for b in 0..3 {
+                    terms.push(format!("{}*({})", d(2, a, b), e(a, b)));
+                }
+            }
+            format!("({})/({})", terms.join(" + "), distance.text)
+        };
+        let defs = [
+            contract(&|a, b| format!("{}*{} - {}*{}", u[a], u[b], v[a], v[b])),
+            contract(&|a, b| format!("{}*{} + {}*{}", u[a], v[b], v[a], u[b])),
+        ];
+        // The claimed fields shifted to t + distance meet the definitions at t.
+        let t = st.symbol_kernel(&t_name);
+        let tf = st.symbol(&t_name);
+        let ahead = st.add(tf, distance.form).map_err(lim)?;
+        let mut subs = rustc_hash::FxHashMap::default();
+        subs.insert(t, ahead);
+        let mut items = Vec::new();
+        for ((name, c, f), def) in [("h_plus", plus, w.plus), ("h_cross", cross, w.cross)]
+            .into_iter()
+            .zip(defs)
+        {
+            // Decided and audited as one function of t: the residual at t + distance (zero
+            // for all t exactly when the residual at t is).
+            let shifted = st.substitute(c.form, &subs).map_err(lim)?;
+            let residual = st.sub(c.form, f).map_err(lim)?;
+            items.push(Item {
+                name: format!("claimed {name} - quadrupole {name}, at time {t_name} + distance"),
+                residual: st.substitute(residual, &subs).map_err(lim)?,
+                audit: Ok((shifted, def)),
+            });
+        }
+        groups.push((Kind::Waveform, items));
+    }
+    for (kind, items) in groups {
+        out.push(decide_group(p, kind, items)?);
+    }
+    Ok(out)
+}
+
+fn undecided(kind: Kind, why: String) -> ClaimReport {
+    ClaimReport::new(
+        Claim {
+            kind,
+            asserted: Some(true),
+        },
+        Status::Undecided,
+        why,
+        Vec::new(),
+    )
+}
+
+/// The verdicts of one claim's items, audited.
+fn decide_group(p: &mut Problem, kind: Kind, items: Vec<Item>) -> CResult<ClaimReport> {
+    let sampling = p.sampling.clone();
+    let mut verdicts: Vec<Verdict> = items
+        .iter()
+        .map(|it| decide(&mut p.store, it.residual, &sampling))
+        .collect();
+    let texts: Vec<(String, String)> = items
+        .iter()
+        .filter_map(|it| {
+            let (f, def) = it.audit.as_ref().ok()?;
+            Some((
+                it.name.clone(),
+                format!("({}) - {def}", p.store.to_text(*f)),
+            ))
+        })
+        .collect();
+    let route = FileQuantities::texts(p, &texts);
+    // An item without a definition (a time average) is not audited; say why.
+    let why_not: Option<String> = items.iter().find_map(|it| it.audit.as_ref().err().cloned());
+    let mut index = Vec::new();
+    let mut k = 0;
+    for it in &items {
+        index.push(it.audit.as_ref().ok().map(|_| {
+            k += 1;
+            k - 1
+        }));
+    }
+    let seed = p.sampling.seed;
+    let findings =
+        crate::check::verdicts::audit_verdicts(&route, &mut verdicts, |i| index[i], seed);
+    let components: Vec<Component> = items
+        .iter()
+        .zip(&verdicts)
+        .zip(findings.iter().map(Some).chain(std::iter::repeat(None)))
+        .map(|((it, v), f)| Component {
+            name: it.name.clone(),
+            verdict: v.clone(),
+            residual: if matches!(v, Verdict::Zero) {
+                Residual::Zero
+            } else {
+                Residual::Form(it.residual)
+            },
+            audit: match (&it.audit, f) {
+                (Err(why), _) => Audited::NotRun(why.clone()),
+                (Ok(_), Some(f)) => audited(f),
+                (Ok(_), None) => Audited::NotRun("not planned".into()),
+            },
+        })
+        .collect();
+    let refs: Vec<&Verdict> = verdicts.iter().collect();
+    let status = Status::of(&refs, true);
+    let audited: Vec<&Finding> = findings.iter().collect();
+    let mut method =
+        "exact: the claimed expression minus the quadrupole formula of the bodies".to_string();
+    if let Some(why) = why_not {
+        method.push_str(&format!("; not audited: {why}"));
+    } else if !audited.is_empty() {
+        method.push_str("; ");
+        method.push_str(&crate::audit::expr::summary(&audited, seed));
+    }
+    Ok(ClaimReport::new(
+        Claim {
+            kind,
+            asserted: Some(true),
+        },
+        status,
+        method,
+        components,
+    ))
+}

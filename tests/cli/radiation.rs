@@ -1,0 +1,136 @@
+//! `lingrav radiation` and the claims about radiation in `check`, on the worked binary
+//! (a scenario of our own) against the circular-binary closed forms (checks.md 2c: the
+//! luminosity (32/5) mu^2 R^4 w^6 and the waveform's (1 + cos^2 i)/2 and cos i factors; common
+//! practice, e.g. Maggiore 2007 eqs. (3.332)-(3.333), from memory).
+
+use super::support::{lingrav, worked};
+
+#[test]
+fn radiation_of_the_worked_binary() {
+    let f = worked("circular_binary.toml");
+    let args = [
+        "radiation",
+        &f,
+        "--direction",
+        "z",
+        "--distance",
+        "1000",
+        "--format",
+        "json",
+    ];
+    let (out, err, code) = lingrav(&args);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(j["dipole_accelerates"], false);
+    assert_eq!(j["audit"]["defect"], false);
+    // L = (32/5) mu^2 R^4 w^6 = (32/5) m1^2 m2^2 M / R^5, constant, so its average too.
+    let l = j["quantities"]["L"]["expression"].as_str().unwrap();
+    assert_eq!(l, "32*m1^2*m2^2*(m1 + m2)/(5*R^5)");
+    assert_eq!(j["averages"]["L"]["expression"].as_str().unwrap(), l);
+    // Face-on (n = z): h_plus and h_cross have equal amplitude 4 m1 m2/(R r), a quarter
+    // period apart.
+    let hp = j["quantities"]["h_plus"]["expression"].as_str().unwrap();
+    let hx = j["quantities"]["h_cross"]["expression"].as_str().unwrap();
+    assert!(
+        hp.contains("m1*m2") && hp.contains("cos(") && hp.contains("250"),
+        "{hp}"
+    );
+    assert!(
+        hx.contains("m1*m2") && hx.contains("sin(") && hx.contains("250"),
+        "{hx}"
+    );
+    for k in ["Q_xx", "L", "dJ_z/dt", "h_plus", "h_cross"] {
+        assert_eq!(
+            j["quantities"][k]["audit"]["result"], "consistent",
+            "{k}: {}",
+            j["quantities"][k]
+        );
+    }
+}
+
+#[test]
+fn an_accelerated_source_is_flagged_and_a_file_without_bodies_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("push.toml");
+    std::fs::write(
+        &p,
+        "[parameters]\nm = 1.0\ng = 0.1\n[[body]]\nmass = 'm'\nposition = ['g*t^2/2', '0', '0']\n",
+    )
+    .unwrap();
+    let (out, err, code) = lingrav(&["radiation", p.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("FLAG: the mass dipole accelerates"), "{out}");
+    assert!(out.contains("x: g*m"), "{out}");
+    let (_, err, code) = lingrav(&["radiation", &worked("vibrating_rod.toml")]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("describes no bodies"), "{err}");
+}
+
+#[test]
+fn check_decides_claims_about_luminosity_and_waveform() {
+    let (out, err, code) = lingrav(&["check", &worked("circular_binary.toml"), "--format", "json"]);
+    assert_eq!(code, 0, "{out}{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let keys: Vec<(&str, &str)> = j["claims"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| (c["key"].as_str().unwrap(), c["status"].as_str().unwrap()))
+        .collect();
+    assert_eq!(
+        keys,
+        [
+            ("luminosity", "holds"),
+            ("luminosity_average", "holds"),
+            ("waveform", "holds")
+        ]
+    );
+    // The wrong hand-derived waveform: h_plus proved, h_cross fails with a certified witness.
+    let (out, _, code) = lingrav(&["check", &worked("binary_wrong_waveform.toml")]);
+    assert_eq!(code, 1, "{out}");
+    assert!(out.contains("fails      waveform"), "{out}");
+    assert!(
+        out.contains("claimed h_cross - quadrupole h_cross"),
+        "{out}"
+    );
+    assert!(
+        out.contains("1 witness(es) certified again independently"),
+        "{out}"
+    );
+    assert!(!out.contains("claimed h_plus - quadrupole h_plus"), "{out}");
+}
+
+#[test]
+fn bad_binaries_and_waveform_claims_name_their_place() {
+    let dir = tempfile::tempdir().unwrap();
+    for (text, message, at) in [
+        (
+            "[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 10\neccentricity = 0.3\n",
+            "only circular orbits",
+            ":1:2",
+        ),
+        (
+            "[binary]\nm1 = 1\nm2 = 2\n",
+            "exactly one of semimajor_axis and period",
+            ":1:2",
+        ),
+        (
+            "[binary]\nm1 = 1\nm2 = 2\nperiod = 3\n[claims.waveform]\ndirection = 'z'\n",
+            "needs direction, distance, h_plus and h_cross",
+            ":5:9",
+        ),
+        (
+            "[[body]]\nmass = 1\nposition = ['t', '0']\n",
+            "three expressions",
+            ":3:12",
+        ),
+    ] {
+        let p = dir.path().join("bad.toml");
+        std::fs::write(&p, text).unwrap();
+        let (out, err, code) = lingrav(&["check", p.to_str().unwrap()]);
+        assert_eq!(code, 2, "{text}: {out}{err}");
+        let flat = super::support::one_line(&err);
+        assert!(flat.contains(message), "{text}: {flat}");
+        assert!(err.contains(&format!("bad.toml{at}")), "{text}: {err}");
+    }
+}
