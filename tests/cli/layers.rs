@@ -16,7 +16,8 @@ const LAYERS: &[&[&str]] = &[
     &["audit"],
     &["check"],
     &["tt"],
-    &["gauge", "detector"],
+    &["gauge"],
+    &["detector"],
     &["export"],
     &["emit"],
 ];

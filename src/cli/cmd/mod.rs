@@ -12,6 +12,7 @@ pub mod gauge;
 pub mod gauge_curved;
 pub mod grid;
 pub mod project;
+pub mod response;
 pub mod ring;
 pub mod show;
 pub mod simplify;
