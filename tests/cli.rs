@@ -32,6 +32,8 @@ mod general;
 mod layers;
 #[path = "cli/output.rs"]
 mod output;
+#[path = "cli/response.rs"]
+mod response;
 #[path = "cli/safety.rs"]
 mod safety;
 

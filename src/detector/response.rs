@@ -381,3 +381,89 @@ pub fn finite_arm(
         limit_slope,
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::canon::Names;
+
+    fn same(st: &mut Store, a: Form, b: Form) -> bool {
+        let d = st.sub(a, b).unwrap();
+        st.is_zero(d)
+    }
+
+    fn build(st: &mut Store, text: &str) -> Form {
+        let e = crate::parse::parse(text).unwrap();
+        st.build(&e, &Names::free()).unwrap()
+    }
+
+    /// Double antiderivatives in t, checked by differentiating twice (the integrator also
+    /// verifies each step).
+    #[test]
+    fn integrates_twice_in_t() {
+        let mut st = Store::new();
+        let s = Sampling::default();
+        let t = st.symbol_kernel("t");
+        for (f, want) in [
+            ("-w^2*a*cos(w*t)", "a*cos(w*t)"),
+            ("F''(t - 3)", "F(t - 3)"),
+            ("6*t + 2", "t^3 + t^2"),
+            ("exp(2*t)", "exp(2*t)/4"),
+        ] {
+            let ff = build(&mut st, f);
+            let g = integrate_twice(&mut st, ff, &s).unwrap();
+            let d = st.diff(g, t).unwrap();
+            let dd = st.diff(d, t).unwrap();
+            let back = build(&mut st, f);
+            assert!(same(&mut st, dd, back), "{f}");
+            let w = build(&mut st, want);
+            let ok = same(&mut st, g, w);
+            assert!(ok, "{f}: {}", st.to_text(g));
+        }
+        // Outside the class: a reason, not a guess.
+        let f = build(&mut st, "t*sin(t)");
+        assert!(integrate_twice(&mut st, f, &s).is_err());
+    }
+
+    /// checks.md 7d (MTW sign): for h_xx = -h_yy = h_+(t - z), R_0x0x = -(1/2) h_+'', so
+    /// -2 D_ij R_0i0j = h_+'' for arms x, y: the tidal route's second derivative is the TT
+    /// route's.
+    #[test]
+    fn the_tidal_sign_matches_geodesic_deviation() {
+        let mut st = Store::new();
+        let s = Sampling::default();
+        let z = st.zero();
+        let mut h = [[z; 4]; 4];
+        h[1][1] = build(&mut st, "F(t - z)");
+        h[2][2] = build(&mut st, "-F(t - z)");
+        let mut lin = Linearized::new(&mut st, h);
+        let r = lin.riemann_component(&mut st, [0, 1, 0, 1]).unwrap();
+        let want = build(&mut st, "-F''(t - z)/2");
+        assert!(same(&mut st, r, want));
+        let names = Names::free();
+        let dir = crate::tt::parse_direction(
+            &mut st,
+            &names,
+            &s,
+            crate::tt::Arg::new("--direction", "z"),
+            false,
+        )
+        .unwrap();
+        let (x, y) = (
+            crate::tt::Arg::new("--arm-a", "x"),
+            crate::tt::Arg::new("--arm-b", "y"),
+        );
+        let detector = super::super::read_detector(&mut st, &s, x, y).unwrap();
+        let setup = Setup {
+            detector,
+            at: [z; 3],
+            direction: dir,
+        };
+        let resp = respond(&mut st, &h, &setup, &s).unwrap();
+        assert_eq!(resp.agreement, Verdict::Zero);
+        let f = build(&mut st, "F(t)");
+        assert!(same(&mut st, resp.tt.strain, f));
+        let f2 = build(&mut st, "F''(t)");
+        assert!(same(&mut st, resp.tidal.second, f2));
+    }
+}

@@ -263,7 +263,19 @@ pub fn run(a: ResponseArgs) -> Result<Outcome, Failure> {
     };
 
     let h = p.h;
-    let r = respond(&mut p.store, &h, &setup, &sampling)?;
+    let r = respond(&mut p.store, &h, &setup, &sampling).map_err(|e| match e {
+        lingrav::canon::CanonError::DivisionByZero | lingrav::canon::CanonError::Undefined(_) => {
+            arg_failure(
+                ArgError::whole(
+                    "--at",
+                    &a.at,
+                    format!("the perturbation is singular at the detector: {e}"),
+                )
+                .with_help("put the detector where h and its derivatives are defined"),
+            )
+        }
+        other => crate::cli::out::gave_up(&other),
+    })?;
     let finite: Option<Result<FiniteArm, String>> = match &finite_plan {
         Some(fp) => Some(
             match finite_arm(
