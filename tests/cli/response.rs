@@ -33,10 +33,11 @@ fn file(name: &str, body: &str) -> String {
     p.display().to_string()
 }
 
-fn plus_wave_along_z() -> String {
+/// A plus wave along z, written to its own file per test (tests run in parallel).
+fn plus_wave_along_z(name: &str) -> String {
     file(
-        "plus_z.toml",
-        "[perturbation]\nxx = \"F'(t - z)\"\nyy = \"-F'(t - z)\"\n",
+        name,
+        "[functions]\nF = 'exp(-u^2)'\n[perturbation]\nxx = \"F'(t - z)\"\nyy = \"-F'(t - z)\"\n",
     )
 }
 
@@ -44,7 +45,7 @@ fn plus_wave_along_z() -> String {
 /// practice: D = (xx - yy)/2, D_ij e+_ij = 1), by both routes, with the same constants.
 #[test]
 fn a_plus_wave_along_z_strains_x_y_arms_by_h_plus() {
-    let f = plus_wave_along_z();
+    let f = plus_wave_along_z("plus_z_a.toml");
     let j = json(&[&f, "--direction", "z"], 0);
     proves_equal(&text(&j["tt_route"]["strain"]), "F'(t)");
     proves_equal(&text(&j["tt_route"]["h_plus"]), "F'(t)");
@@ -128,7 +129,7 @@ fn the_lorenz_wave_that_is_not_tt_agrees_by_both_routes() {
 /// which tends to F'(t) = s as L -> 0 (proved by the command with a symbolic L).
 #[test]
 fn finite_arms_tend_to_the_long_wavelength_strain() {
-    let f = plus_wave_along_z();
+    let f = plus_wave_along_z("plus_z_b.toml");
     let j = json(&[&f, "--direction", "z", "--arm-length", "1/2"], 0);
     proves_equal(&text(&j["finite_arm"]["strain"]), "F(t) - F(t - 1)");
     assert_eq!(j["finite_arm"]["limit_value"]["verdict"], "zero");
@@ -166,7 +167,7 @@ fn a_static_tidal_field_disagrees_with_the_tt_route() {
 
 #[test]
 fn bad_input_names_the_option() {
-    let f = plus_wave_along_z();
+    let f = plus_wave_along_z("plus_z_c.toml");
     for (args, needle) in [
         (vec!["--direction", "z", "--arm-a", "1,1,0"], "--arm-a"),
         (vec!["--direction", "1,2"], "--direction"),
