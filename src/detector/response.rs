@@ -23,8 +23,8 @@
 //!    `a`, reflected at `x0 + L a` at `t - L` and back at `x0` at `t`, in TT gauge (`h^TT`
 //!    along `n`, in which free mirrors keep their coordinates; `ds^2 = 0` gives
 //!    `dt = (1 + (1/2) h^TT_aa) dl`), is delayed by
-//!    `dT_a = (1/2) int_0^L H_a(u0 - 2L + l (1 - n.a)) dl + (1/2) int_0^L H_a(u0 - L (1 + n.a)
-//!    + l (1 + n.a)) dl` with `H_a(u) = a_i a_j h^TT_ij` as a function of `u = t - n.x` and
+//!    `dT_a = (1/2) int_0^L H_a(u0 - 2L + l (1 - n.a)) dl +
+//!    (1/2) int_0^L H_a(u0 - L (1 + n.a) + l (1 + n.a)) dl` with `H_a(u) = a_i a_j h^TT_ij` as a function of `u = t - n.x` and
 //!    `u0 = t - n.x0`; with `G' = H_a` this is
 //!    `dT_a = [G(u0 - L(1 + n.a)) - G(u0 - 2L)]/(2 (1 - n.a)) + [G(u0) - G(u0 - L(1 + n.a))]/
 //!    (2 (1 + n.a))` (the one-way form `[G(..) - G(..)]/(2 (1 - n.a))` is the standard
@@ -168,9 +168,7 @@ pub fn integrate_twice(store: &mut Store, f: Form, sampling: &Sampling) -> Resul
     let mut h: Sym4 = [[z; 4]; 4];
     h[0][0] = f;
     let wave = find_wave(store, sampling, &h, Some([one, z, z, z])).map_err(plane)?;
-    let first = wave
-        .integrate(store, f, "d^2 s/dt^2")
-        .map_err(plane)?;
+    let first = wave.integrate(store, f, "d^2 s/dt^2").map_err(plane)?;
     wave.integrate(store, first, "ds/dt").map_err(plane)
 }
 

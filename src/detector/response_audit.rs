@@ -148,7 +148,10 @@ pub fn audit(problem: &Problem, inputs: &Inputs, printed: &Printed, seed: u64) -
     let mut report = Report::default();
     let mut extras = vec![
         ("the TT strain".to_string(), printed.tt.clone()),
-        ("the tidal second derivative".to_string(), printed.second.clone()),
+        (
+            "the tidal second derivative".to_string(),
+            printed.second.clone(),
+        ),
     ];
     if let Some(s) = &printed.tidal {
         extras.push(("the tidal strain".into(), format!("d_t_t({s})")));
@@ -164,7 +167,11 @@ pub fn audit(problem: &Problem, inputs: &Inputs, printed: &Printed, seed: u64) -
     };
     let finite = match &printed.finite {
         Some(text) => {
-            match Audit::fields(problem, 0, &[("the finite-arm strain".into(), text.clone())]) {
+            match Audit::fields(
+                problem,
+                0,
+                &[("the finite-arm strain".into(), text.clone())],
+            ) {
                 Ok(a) => Some((a, text)),
                 Err(e) => {
                     report
@@ -266,12 +273,7 @@ pub fn audit(problem: &Problem, inputs: &Inputs, printed: &Printed, seed: u64) -
                 }
                 push("tidal d^2 s/dt^2", v, abs, pair(fields.extra(1)));
                 if printed.tidal.is_some() {
-                    push(
-                        "tidal strain (its d^2/dt^2)",
-                        v,
-                        abs,
-                        pair(fields.extra(2)),
-                    );
+                    push("tidal strain (its d^2/dt^2)", v, abs, pair(fields.extra(2)));
                 }
             }
             None => report
@@ -282,10 +284,7 @@ pub fn audit(problem: &Problem, inputs: &Inputs, printed: &Printed, seed: u64) -
             let t = point.iter().find(|(n, _)| n == "t").map_or(0.0, |p| p.1);
             match quadrature(fin, &point, (&a, &b, &n, &x0), t, len) {
                 Ok((v, abs)) => {
-                    let enc = fin
-                        .fields_at(&point)
-                        .ok()
-                        .and_then(|f| pair(f.extra(0)));
+                    let enc = fin.fields_at(&point).ok().and_then(|f| pair(f.extra(0)));
                     report.rows.push(Row {
                         quantity: "finite-arm strain",
                         point: point.clone(),

@@ -55,7 +55,10 @@ fn a_plus_wave_along_z_strains_x_y_arms_by_h_plus() {
     proves_equal(&text(&j["tidal_route"]["constants"]["c0"]), "0");
     assert_eq!(j["audit"]["defect"], false);
     let rows = j["audit"]["comparisons"].as_array().unwrap();
-    assert!(rows.len() >= 6 && rows.iter().all(|r| r["agrees"] == true), "{rows:?}");
+    assert!(
+        rows.len() >= 6 && rows.iter().all(|r| r["agrees"] == true),
+        "{rows:?}"
+    );
     // Arms swapped: the sign flips.
     let j = json(&[&f, "--direction", "z", "--arm-a", "y", "--arm-b", "x"], 0);
     proves_equal(&text(&j["tt_route"]["strain"]), "-F'(t)");
@@ -91,7 +94,10 @@ fn a_wave_from_theta_phi_strains_by_the_antenna_pattern() {
     ]);
     assert_eq!(ant.2, 0, "{}", ant.1);
     let ant: serde_json::Value = serde_json::from_str(&ant.0).unwrap();
-    let (fp, fc) = (text(&ant["exact"]["F_plus"]), text(&ant["exact"]["F_cross"]));
+    let (fp, fc) = (
+        text(&ant["exact"]["F_plus"]),
+        text(&ant["exact"]["F_cross"]),
+    );
     let want = format!("({fp})*a*cos(w*t) + ({fc})*b*sin(w*t)");
     proves_equal(&text(&j["tt_route"]["strain"]), &want);
     proves_equal(&text(&j["tidal_route"]["strain"]), &want);
@@ -107,10 +113,20 @@ fn a_wave_from_theta_phi_strains_by_the_antenna_pattern() {
 #[test]
 fn the_lorenz_wave_that_is_not_tt_agrees_by_both_routes() {
     let f = worked("detector_gauge_wave.toml");
-    let p = lingrav(&["project", &f, "--direction", "2/3,2/3,1/3", "--format", "json"]);
+    let p = lingrav(&[
+        "project",
+        &f,
+        "--direction",
+        "2/3,2/3,1/3",
+        "--format",
+        "json",
+    ]);
     let p: serde_json::Value = serde_json::from_str(&p.0).unwrap();
     assert_ne!(p["not_tt"]["all"]["value"], serde_json::json!(0), "{p}");
-    let j = json(&[&f, "--direction", "2/3,2/3,1/3", "--arm-length", "1/2"], 0);
+    let j = json(
+        &[&f, "--direction", "2/3,2/3,1/3", "--arm-length", "1/2"],
+        0,
+    );
     assert_eq!(j["agreement"]["result"], "agree");
     assert_eq!(j["finite_arm"]["limit_value"]["verdict"], "zero");
     assert_eq!(j["finite_arm"]["limit_slope"]["verdict"], "zero");
@@ -157,7 +173,13 @@ fn finite_arms_tend_to_the_long_wavelength_strain() {
 #[test]
 fn a_static_tidal_field_disagrees_with_the_tt_route() {
     let j = json(
-        &[&worked("static_mass.toml"), "--direction", "z", "--at", "1,2,2"],
+        &[
+            &worked("static_mass.toml"),
+            "--direction",
+            "z",
+            "--at",
+            "1,2,2",
+        ],
         1,
     );
     assert_eq!(j["agreement"]["result"], "disagree");
@@ -171,8 +193,14 @@ fn bad_input_names_the_option() {
     for (args, needle) in [
         (vec!["--direction", "z", "--arm-a", "1,1,0"], "--arm-a"),
         (vec!["--direction", "1,2"], "--direction"),
-        (vec!["--direction", "x", "--arm-length", "1"], "--arm-length"),
-        (vec!["--direction", "z", "--arm-length", "-1"], "--arm-length"),
+        (
+            vec!["--direction", "x", "--arm-length", "1"],
+            "--arm-length",
+        ),
+        (
+            vec!["--direction", "z", "--arm-length", "-1"],
+            "--arm-length",
+        ),
         (vec!["--direction", "z", "--at", "0,0"], "--at"),
     ] {
         let mut all = vec!["response", f.as_str()];

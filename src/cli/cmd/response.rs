@@ -12,9 +12,7 @@ use clap::Args;
 use lingrav::audit::expr::point_text;
 use lingrav::canon::Form;
 use lingrav::detector::read_detector;
-use lingrav::detector::response::{
-    FiniteArm, Setup, finite_arm, plane_wave_along, respond,
-};
+use lingrav::detector::response::{FiniteArm, Setup, finite_arm, plane_wave_along, respond};
 use lingrav::detector::response_audit::{Inputs, POINTS, Printed, Report, TOLERANCE, audit};
 use lingrav::gauge::plane::{PlaneError, PlaneWave};
 use lingrav::problem::Problem;
@@ -171,8 +169,8 @@ fn plan_finite(
         .build_constant(&mut p.store, &names, &pieces[0])
         .map_err(arg_failure)?;
     let h = p.h;
-    let wave = plane_wave_along(&mut p.store, &h, n, sampling)
-        .map_err(|e| not_applicable(a, text, e))?;
+    let wave =
+        plane_wave_along(&mut p.store, &h, n, sampling).map_err(|e| not_applicable(a, text, e))?;
     Ok(Some(FinitePlan {
         length,
         text: text.clone(),
