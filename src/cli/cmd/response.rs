@@ -6,7 +6,7 @@
 use crate::cli::audit::DEFAULT_SEED;
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, print};
-use crate::cli::plan::{DirectionArgs, arg_failure, kind_word, numbers};
+use crate::cli::plan::{ArmArgs, DirectionArgs, arg_failure, kind_word, numbers};
 use crate::cli::report::{Format, heading, json, point_json, texts, vec_text, verdict_json};
 use clap::Args;
 use lingrav::audit::expr::point_text;
@@ -28,22 +28,8 @@ pub struct ResponseArgs {
     file: PathBuf,
     #[command(flatten)]
     dir: DirectionArgs,
-    /// The first arm: a unit vector `ax,ay,az` (exact) or an axis (`x`, `-y`, ...).
-    #[arg(
-        long,
-        value_name = "AX,AY,AZ",
-        default_value = "1,0,0",
-        allow_hyphen_values = true
-    )]
-    arm_a: String,
-    /// The second arm, as the first; not parallel to it.
-    #[arg(
-        long,
-        value_name = "BX,BY,BZ",
-        default_value = "0,1,0",
-        allow_hyphen_values = true
-    )]
-    arm_b: String,
+    #[command(flatten)]
+    arms: ArmArgs,
     /// The detector's corner `x,y,z` (constant expressions; the file's parameters allowed).
     #[arg(
         long,
@@ -242,8 +228,8 @@ pub fn run(a: ResponseArgs) -> Result<Outcome, Failure> {
     let det = read_detector(
         &mut p.store,
         &sampling,
-        Arg::new("--arm-a", &a.arm_a),
-        Arg::new("--arm-b", &a.arm_b),
+        Arg::new("--arm-a", &a.arms.arm_a),
+        Arg::new("--arm-b", &a.arms.arm_b),
     )
     .map_err(arg_failure)?;
     let at = constant_vector(&mut p, "--at", &a.at)?;
