@@ -268,7 +268,7 @@ theta down, 5-degree cells, the arms marked, a colour legend (--map rms|plus|cro
 appears whole or not at all. Exit 0 proved and audited, 1 internal defect, 3 undecided, 2 bad
 input (a non-unit or parallel arm, an unreadable angle).")]
     Antenna(antenna::AntennaArgs),
-    /// The strain of a two-arm detector for a file's perturbation: TT route, tidal route, finite arms.
+    /// The strain a two-arm detector records for a file's perturbation, by two routes.
     #[command(after_help = "\
 Examples:
   lingrav response worked/lorenz_wave.toml --direction z
