@@ -34,6 +34,8 @@ mod layers;
 mod output;
 #[path = "cli/radiation.rs"]
 mod radiation;
+#[path = "cli/response.rs"]
+mod response;
 #[path = "cli/safety.rs"]
 mod safety;
 

@@ -16,8 +16,8 @@ mod render;
 mod report;
 
 use cmd::{
-    antenna, binary, check, compare, diff, emit, export, gauge, grid, project, radiation, ring,
-    show, simplify, zero,
+    antenna, binary, check, compare, diff, emit, export, gauge, grid, project, radiation, response,
+    ring, show, simplify, zero,
 };
 
 use clap::{Parser, Subcommand};
@@ -283,6 +283,43 @@ dJ_i/dt = -(2/5) eps_ijk ddQ_ja dddQ_ka. Time averages are exact for sums of exp
 Every printed form is audited against its definition evaluated from the bodies' texts by an
 independent route (certified jets); a disagreement is an INTERNAL DEFECT (exit 1).")]
     Radiation(radiation::RadiationArgs),
+    /// The strain a two-arm detector records for a file's perturbation, by two routes.
+    #[command(after_help = "\
+Examples:
+  lingrav response worked/lorenz_wave.toml --direction z
+  lingrav response worked/detector_gauge_wave.toml --direction 2/3,2/3,1/3 --arm-length 1/2
+  lingrav response worked/oblique_wave.toml --direction 3/5,0,4/5 --arm-b '1/2,sqrt(3)/2,0' --format json
+
+Detector: unit arms a, b (--arm-a, --arm-b, as in antenna), D = (a a - b b)/2, corner x0
+(--at, default the origin). The strain s(t) is exact in t, by two routes:
+ 1. TT route (long-wavelength limit): s = D_ij h^TT_ij(t, x0), h^TT the TT projection of h
+    along the propagation direction --direction (as in project); s = F_plus h_plus +
+    F_cross h_cross in the direction's basis.
+ 2. tidal route (gauge invariant): geodesic deviation (MTW sign) gives
+    d^2 s/dt^2 = -(a a - b b)^ij R_0i0j = -2 D_ij R_0i0j at x0, integrated twice in t exactly
+    where the engine can (sin, cos, exp of linear phases, powers of t, F^(n)(t - c) to
+    F^(n-1)); s is defined up to c0 + c1 t, and c0, c1 are printed from route 1.
+The routes agree when d^2/dt^2 of route 1 equals -2 D_ij R_0i0j, decided by the zero test:
+agree (proved), disagree (certified witness: h is not a vacuum plane wave along n, e.g. a
+static tidal field) or undecided (the reason).
+--arm-length L: for a plane wave h(t - n.x) along --direction (proved; else exit 2), the
+light-travel-time response of a Michelson: photon leaves x0 at t - 2L, returns at t; per leg
+(1/2) int h^TT_aa dl, integrated exactly with G' = a_i a_j h^TT_ij:
+dT_a = [G(u0 - L(1 + n.a)) - G(u0 - 2L)]/(2(1 - n.a)) + [G(u0) - G(u0 - L(1 + n.a))]/(2(1 + n.a)),
+u0 = t - n.x0; s_L = (dT_a - dT_b)/(2L). The limit s_L -> s as L -> 0 is proved with a
+symbolic L. Write an arbitrary-function wave as a derivative (F'(t - z)) so G exists.
+Audit: the printed forms are evaluated by the independent jet route at 3 seeded times and
+parameter values against D:Lambda(n):h, -2 D:R_0i0j from the jets of the file's texts, and a
+quadrature of the photon delay; a disagreement is an INTERNAL DEFECT (exit 1).
+JSON keys: detector {a, b, at, tensor}, direction {kind, n, u, v}, tt_route {strain,
+h_plus, h_cross, F_plus, F_cross}, tidal_route {second_derivative, strain, not_integrated,
+constants {c0, c1}, source}, agreement {result: agree|disagree|undecided, verdict, ...},
+finite_arm {arm_length, strain, delay_a, delay_b, symbol, limit_value, limit_slope, source}
+or null, audit {defect, method, comparisons, not_audited, seed}.
+Exit 0 agree (and the limit proved), 1 disagree or INTERNAL DEFECT, 3 undecided, 2 bad input
+(a background file, a non-unit or parallel arm, a direction that does not parse,
+--arm-length for a field that is not a plane wave along --direction).")]
+    Response(response::ResponseArgs),
 }
 
 /// Runs the command line and returns the exit code.
@@ -311,6 +348,7 @@ pub fn run() -> ExitCode {
         Command::Binary(a) => binary::run(a),
         Command::Antenna(a) => antenna::run(a),
         Command::Radiation(a) => radiation::run(a),
+        Command::Response(a) => response::run(a),
     };
     out::finish(result)
 }

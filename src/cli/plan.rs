@@ -38,6 +38,28 @@ pub struct DirectionArgs {
     pub normalize: bool,
 }
 
+/// A two-arm detector's arms (shared by `antenna` and `response`).
+#[derive(Args, Debug)]
+pub struct ArmArgs {
+    /// The first arm: a unit vector `ax,ay,az` (exact: `1/2,sqrt(3)/2,0`; symbols allowed) or
+    /// an axis (`x`, `-y`, ...).
+    #[arg(
+        long,
+        value_name = "AX,AY,AZ",
+        default_value = "1,0,0",
+        allow_hyphen_values = true
+    )]
+    pub arm_a: String,
+    /// The second arm, as the first; not parallel to it.
+    #[arg(
+        long,
+        value_name = "BX,BY,BZ",
+        default_value = "0,1,0",
+        allow_hyphen_values = true
+    )]
+    pub arm_b: String,
+}
+
 /// Reads a direction (`--direction`) and, if given, its basis vector (`--basis`).
 pub fn plan_direction(
     p: &mut Problem,

@@ -37,12 +37,18 @@
 //! are evaluated through the independent jet route ([`crate::audit::expr`]); the sky
 //! averages also by a quadrature ([`numeric::quadrature`]). [`audit`] compares them.
 //!
+//! [`response`] gives the strain of such a detector for a file's perturbation, exact in t, by
+//! the TT route and the tidal route, and with finite arms for a plane wave
+//! ([`response_audit`] audits it).
+//!
 //! **Invariants:** nothing here prints or writes files; a statement is reported proved only
 //! with a `Zero` verdict of the zero test.
 
 pub mod audit;
 pub mod map;
 pub mod numeric;
+pub mod response;
+pub mod response_audit;
 
 use crate::canon::{CResult, Form, Names, Q, Store};
 use crate::tt::{

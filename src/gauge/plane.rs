@@ -19,7 +19,8 @@
 //! one factor that depends on the coordinates: an exponential whose exponent depends on them
 //! only through `P` or only through `Q` (sin, cos, exp, sinh, cosh), or a derivative
 //! `F^(n)`, `n >= 1`, of an arbitrary function, at an argument `s phi + b` (constant
-//! `s != 0`, `b`). Every antiderivative is verified by differentiating it back exactly; an
+//! `s != 0`, `b`), or a nonnegative power of a coordinate that is itself `s phi + b` (the
+//! phase `t` when `detector::response` integrates in time). Every antiderivative is verified by differentiating it back exactly; an
 //! integrand outside this class is reported, never guessed.
 
 use crate::canon::{
@@ -436,9 +437,21 @@ impl PlaneWave {
         let text = store.to_text(gf);
         let (arg, name) = match kernel {
             Kernel::Sym(n) => {
-                return Err(unsupported(format!(
-                    "the coordinate `{n}` appears outside the argument of a function"
-                )));
+                // A power of a coordinate that is itself `s phi + b` (a phase along one
+                // axis, e.g. `t`): (s phi + b)^e integrates to (s phi + b)^(e + 1)/((e + 1) s).
+                let kf = kernel_form(store, k);
+                let Some(s) = self.slope(store, kf)? else {
+                    return Err(unsupported(format!(
+                        "the coordinate `{n}` appears outside the argument of a function"
+                    )));
+                };
+                let ke = store.powi(kf, i64::from(e))?;
+                let c = store.div(gf, ke)?;
+                let up = store.mul(ke, kf)?;
+                let g = store.mul(c, up)?;
+                let e1 = store.int(i64::from(e) + 1);
+                let es = store.mul(e1, s)?;
+                return Ok(store.div(g, es)?);
             }
             _ if e != 1 => {
                 return Err(unsupported(format!(

@@ -16,7 +16,8 @@ const LAYERS: &[&[&str]] = &[
     &["audit"],
     &["check"],
     &["tt"],
-    &["gauge", "detector", "radiation"],
+    &["gauge"],
+    &["detector", "radiation"],
     &["export"],
     &["emit"],
 ];

@@ -6,7 +6,7 @@
 use super::zero::LimitArgs;
 use crate::cli::audit::DEFAULT_SEED;
 use crate::cli::out::{Failure, Outcome, print};
-use crate::cli::plan::{arg_failure, plan_optional_output, write_atomic};
+use crate::cli::plan::{ArmArgs, arg_failure, plan_optional_output, write_atomic};
 use crate::cli::report::{Format, json, point_json, texts, vec_text, verdict_json};
 use clap::{Args, ValueEnum};
 use lingrav::audit::expr::point_text;
@@ -33,23 +33,8 @@ pub enum MapArg {
 /// Arguments of `lingrav antenna`.
 #[derive(Args, Debug)]
 pub struct AntennaArgs {
-    /// The first arm: a unit vector `ax,ay,az` (exact: `1/2,sqrt(3)/2,0`; symbols allowed) or
-    /// an axis (`x`, `-y`, ...).
-    #[arg(
-        long,
-        value_name = "AX,AY,AZ",
-        default_value = "1,0,0",
-        allow_hyphen_values = true
-    )]
-    arm_a: String,
-    /// The second arm, as the first; not parallel to it.
-    #[arg(
-        long,
-        value_name = "BX,BY,BZ",
-        default_value = "0,1,0",
-        allow_hyphen_values = true
-    )]
-    arm_b: String,
+    #[command(flatten)]
+    arms: ArmArgs,
     /// Polar angle of the direction to the source, from the z axis: a number or an expression
     /// (`pi/3`, `0.3`, `th`).
     #[arg(
@@ -126,9 +111,9 @@ fn plan_map(
     }
     if let Some(s) = arm_symbols.first() {
         let (name, text) = if det.a.iter().any(|f| st.free_symbols(*f).contains(s)) {
-            ("--arm-a", &a.arm_a)
+            ("--arm-a", &a.arms.arm_a)
         } else {
-            ("--arm-b", &a.arm_b)
+            ("--arm-b", &a.arms.arm_b)
         };
         return Err(arg_failure(
             ArgError::whole(
@@ -180,8 +165,8 @@ fn plan_map(
         })
     };
     Ok(Some(MapPlan {
-        a: vec(&det.texts[0], "--arm-a", &a.arm_a)?,
-        b: vec(&det.texts[1], "--arm-b", &a.arm_b)?,
+        a: vec(&det.texts[0], "--arm-a", &a.arms.arm_a)?,
+        b: vec(&det.texts[1], "--arm-b", &a.arms.arm_b)?,
         psi,
         quantity,
     }))
@@ -274,8 +259,8 @@ pub fn run(a: AntennaArgs) -> Result<Outcome, Failure> {
     let det = read_detector(
         &mut st,
         &sampling,
-        Arg::new("--arm-a", &a.arm_a),
-        Arg::new("--arm-b", &a.arm_b),
+        Arg::new("--arm-a", &a.arms.arm_a),
+        Arg::new("--arm-b", &a.arms.arm_b),
     )
     .map_err(arg_failure)?;
     let th = read_angle(&mut st, Arg::new("--theta", &a.theta)).map_err(arg_failure)?;

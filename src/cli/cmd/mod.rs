@@ -13,6 +13,7 @@ pub mod gauge_curved;
 pub mod grid;
 pub mod project;
 pub mod radiation;
+pub mod response;
 pub mod ring;
 pub mod show;
 pub mod simplify;
