@@ -114,6 +114,7 @@ impl BinarySpec {
             label: label.to_string(),
             mass: m.clone(),
             position: rel.clone().map(|c| text(format!("{share}*{c}"))),
+            rigid: None,
         };
         Ok(vec![
             body("m1", m1, format!("({})/{mass}", m2.text)),

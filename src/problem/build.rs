@@ -88,6 +88,16 @@ impl Builder<'_> {
         })
     }
 
+    /// A limit reached in the algebra after building, at the start of the file.
+    fn limit_error(&self, e: CanonError) -> ProblemError {
+        self.err(
+            format!("an algebra limit was reached: {e}"),
+            Span::new(0, 0),
+            "here",
+        )
+        .with_limit(e)
+    }
+
     /// Which limit stopped a build: the deadline if it has passed, else the term limit.
     fn limit_reached(&self) -> CanonError {
         match self.store.limits.deadline {
@@ -394,12 +404,52 @@ impl Builder<'_> {
             for (slot, e) in position.iter_mut().zip(&body.position) {
                 *slot = b.parse_and_build(e, &names)?;
             }
+            let rigid = match &body.rigid {
+                None => None,
+                Some(r) => {
+                    let mut f = [mass; 7];
+                    let texts: Vec<&ExprText> =
+                        r.moments.iter().chain(&r.axis).chain([&r.angle]).collect();
+                    for (slot, e) in f.iter_mut().zip(&texts) {
+                        *slot = b.parse_and_build(e, &names)?;
+                    }
+                    let axis = [f[3], f[4], f[5]];
+                    // The axis must be proved a unit vector (Rodrigues' rotation needs it).
+                    let mut sq = Vec::new();
+                    for a in axis {
+                        sq.push(b.store.mul(a, a).map_err(|e| b.limit_error(e))?);
+                    }
+                    let n2 = b.store.sum(&sq).map_err(|e| b.limit_error(e))?;
+                    let one = b.store.one();
+                    let d = b.store.sub(n2, one).map_err(|e| b.limit_error(e))?;
+                    if !b.store.is_zero(d) {
+                        return Err(b
+                            .err(
+                                format!("the axis of {} is not a unit vector", body.label),
+                                r.axis[0].token,
+                                "not of length 1",
+                            )
+                            .with_help("give a unit axis, e.g. axis = ['0', '0', '1']"));
+                    }
+                    Some(super::Rigid {
+                        moments: [f[0], f[1], f[2]],
+                        axis,
+                        angle: f[6],
+                        texts: (
+                            r.moments.clone().map(|e| e.text),
+                            r.axis.clone().map(|e| e.text),
+                            r.angle.text.clone(),
+                        ),
+                    })
+                }
+            };
             bodies.push(super::Body {
                 label: body.label.clone(),
                 mass,
                 position,
                 mass_text: body.mass.text.clone(),
                 position_text: body.position.clone().map(|e| e.text),
+                rigid,
             });
         }
         let rc = &file.radiation_claims;

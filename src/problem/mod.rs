@@ -270,6 +270,33 @@ pub struct BodyText {
     pub mass: ExprText,
     /// The position.
     pub position: [ExprText; 3],
+    /// For an extended rigid body: its moments of inertia and rotation.
+    pub rigid: Option<RigidText>,
+}
+
+/// A rigid body's principal moments of inertia (along x, y, z at angle 0) and its rotation
+/// by `angle` (a function of t) about the unit `axis`, as written.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct RigidText {
+    /// I1, I2, I3.
+    pub moments: [ExprText; 3],
+    /// The unit rotation axis.
+    pub axis: [ExprText; 3],
+    /// The rotation angle, right-handed about the axis.
+    pub angle: ExprText,
+}
+
+/// A rigid body's moments and rotation, built.
+#[derive(Clone, Debug)]
+pub struct Rigid {
+    /// I1, I2, I3.
+    pub moments: [Form; 3],
+    /// The unit axis.
+    pub axis: [Form; 3],
+    /// The angle.
+    pub angle: Form,
+    /// The texts of the moments, the axis and the angle.
+    pub texts: ([String; 3], [String; 3], String),
 }
 
 /// A point mass built: mass and position as forms, with their texts.
@@ -285,6 +312,8 @@ pub struct Body {
     pub mass_text: String,
     /// The position as written.
     pub position_text: [String; 3],
+    /// For an extended rigid body: its moments and rotation.
+    pub rigid: Option<Rigid>,
 }
 
 impl ProblemFile {

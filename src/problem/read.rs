@@ -43,7 +43,10 @@ const CLAIM_KEYS: [&str; 6] = [
     "waveform",
 ];
 const WAVEFORM_KEYS: [&str; 4] = ["direction", "distance", "h_plus", "h_cross"];
-const BODY_KEYS: [&str; 2] = ["mass", "position"];
+const BODY_KEYS: [&str; 5] = ["mass", "position", "moments", "axis", "angle"];
+const RIGID_HELP: &str = "a rigid body has `moments = ['I1', 'I2', 'I3']` (principal moments of \
+    inertia, along x, y, z at angle 0), and optionally a unit `axis = ['0', '0', '1']` and a \
+    rotation `angle = 'W*t'` about it (right-handed)";
 const BINARY_KEYS: [&str; 8] = [
     "m1",
     "m2",
@@ -549,13 +552,30 @@ impl Cx<'_> {
             };
             let label = format!("body {}", out.len() + 1);
             let (mut mass, mut position) = (None, None);
+            let (mut moments, mut axis, mut angle) = (None, None, None);
             for (k, v) in entries(t) {
                 match &**k.get_ref() {
                     "mass" => mass = Some(self.expr_or_number(&format!("the mass of {label}"), v)?),
                     "position" => position = Some(self.position(&label, v)?),
+                    "moments" => moments = Some(self.position(&format!("{label}'s moments"), v)?),
+                    "axis" => axis = Some(self.position(&format!("{label}'s axis"), v)?),
+                    "angle" => {
+                        angle = Some(self.expr_or_number(&format!("the angle of {label}"), v)?);
+                    }
                     _ => return Err(self.unknown_key(k, "[body]", &BODY_KEYS)),
                 }
             }
+            let here = |s: &str| ExprText {
+                text: s.to_string(),
+                token: span_of(item),
+                offset: None,
+            };
+            // A rigid body may sit at the origin; a point mass needs its trajectory.
+            let position = match (position, &moments) {
+                (Some(p), _) => Some(p),
+                (None, Some(_)) => Some([here("0"), here("0"), here("0")]),
+                (None, None) => None,
+            };
             let (Some(mass), Some(position)) = (mass, position) else {
                 return Err(self
                     .err(
@@ -565,10 +585,25 @@ impl Cx<'_> {
                     )
                     .with_help(help));
             };
+            if moments.is_none() && (axis.is_some() || angle.is_some()) {
+                return Err(self
+                    .err(
+                        format!("{label} has an `axis` or `angle` but no `moments`"),
+                        span_of(item),
+                        "this body",
+                    )
+                    .with_help(RIGID_HELP));
+            }
+            let rigid = moments.map(|moments| super::RigidText {
+                moments,
+                axis: axis.unwrap_or_else(|| [here("0"), here("0"), here("1")]),
+                angle: angle.unwrap_or_else(|| here("0")),
+            });
             out.push(BodyText {
                 label,
                 mass,
                 position,
+                rigid,
             });
         }
         Ok(())

@@ -42,6 +42,12 @@ struct Item {
 /// `sum m x_i x_j - delta_ij sum m |x|^2 / 3`.
 #[must_use]
 pub fn quadrupole_texts(p: &Problem) -> [[String; 3]; 3] {
+    let rigid: Vec<[[String; 3]; 3]> = p
+        .bodies
+        .iter()
+        .filter_map(|b| b.rigid.as_ref())
+        .map(|r| super::rigid_second_moment_texts(&r.texts))
+        .collect();
     let i = |a: usize, b: usize| -> String {
         let terms: Vec<String> = p
             .bodies
@@ -52,6 +58,7 @@ pub fn quadrupole_texts(p: &Problem) -> [[String; 3]; 3] {
                     body.mass_text, body.position_text[a], body.position_text[b]
                 )
             })
+            .chain(rigid.iter().map(|m| m[a][b].clone()))
             .collect();
         format!("({})", terms.join(" + "))
     };

@@ -124,6 +124,11 @@ fn bad_binaries_and_waveform_claims_name_their_place() {
             "three expressions",
             ":3:12",
         ),
+        (
+            "[[body]]\nmass = 1\nmoments = [1, 2, 3]\naxis = ['1', '1', '0']\n",
+            "is not a unit vector",
+            ":4:9",
+        ),
     ] {
         let p = dir.path().join("bad.toml");
         std::fs::write(&p, text).unwrap();
