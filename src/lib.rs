@@ -61,6 +61,7 @@ pub mod interval;
 pub mod jet;
 pub mod output;
 pub mod parse;
+pub mod plot;
 pub mod pointwise;
 pub mod problem;
 pub mod radiation;

@@ -7,8 +7,8 @@ use std::path::Path;
 
 /// DEVELOPERS.md's layers, in order.
 const LAYERS: &[&[&str]] = &[
-    &["expr", "interval", "budget", "output", "binary"],
-    &["parse", "jet", "canon"],
+    &["expr", "interval", "budget", "output", "plot"],
+    &["parse", "jet", "canon", "binary"],
     &["zero", "tensor", "tape", "pointwise"],
     &["claim"],
     &["problem"],

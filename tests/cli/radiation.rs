@@ -139,3 +139,45 @@ fn bad_binaries_and_waveform_claims_name_their_place() {
         assert!(err.contains(&format!("bad.toml{at}")), "{text}: {err}");
     }
 }
+
+#[test]
+fn radiation_draws_the_waveform_and_the_pattern() {
+    // h_plus seen from iota = pi/3 at distance 1000 has amplitude (4/1000)(m1 m2/R)(1 +
+    // cos^2 iota)/2 = 7.3125e-5 for m1 = 1.3, m2 = 0.9, R = 40 (checks.md 2c); h_cross
+    // (4/1000)(m1 m2/R) cos iota = 5.85e-5. Over more than a period the drawn ranges reach
+    // them to the sampling's resolution.
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("w.svg");
+    let f = worked("circular_binary.toml");
+    let args = [
+        "radiation",
+        &f,
+        "--direction",
+        "theta=pi/3,phi=0",
+        "--distance",
+        "1000",
+        "--times",
+        "0,2500",
+        "--svg",
+        out.to_str().unwrap(),
+    ];
+    let (o, err, code) = lingrav(&args);
+    assert_eq!(code, 0, "{err}");
+    assert!(o.contains("wrote"), "{o}");
+    let svg = std::fs::read_to_string(&out).unwrap();
+    assert_eq!(svg.matches("<polyline").count(), 3);
+    let labels: Vec<f64> = svg
+        .split("font-size=\"10\">")
+        .skip(1)
+        .filter_map(|s| s.split('<').next()?.parse().ok())
+        .collect();
+    let near = |want: f64| labels.iter().any(|v| (v.abs() / want - 1.0).abs() < 1e-3);
+    assert!(near(7.3125e-5) && near(5.85e-5), "{labels:?}");
+    assert!(
+        svg.contains("&lt;dP/dOmega&gt;"),
+        "the pattern is the time average"
+    );
+    // --svg needs the times, the direction and the distance.
+    let (_, err, code) = lingrav(&["radiation", &f, "--svg", out.to_str().unwrap()]);
+    assert_eq!(code, 2, "{err}");
+}

@@ -13,6 +13,7 @@ pub mod gauge_curved;
 pub mod grid;
 pub mod project;
 pub mod radiation;
+mod radiation_plot;
 pub mod response;
 pub mod ring;
 pub mod show;

@@ -4,7 +4,7 @@
 use crate::cli::audit::{audit_json, point_lines, points_json};
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, gave_up, print};
-use crate::cli::plan::{build_arg, plan_direction};
+use crate::cli::plan::{build_arg, numbers, plan_direction, plan_optional_output, write_atomic};
 use crate::cli::report::{Format, conventions, heading, json};
 use clap::Args;
 use lingrav::canon::{CanonError, Form};
@@ -46,6 +46,16 @@ pub struct RadiationArgs {
     /// Print the audit's seeded points.
     #[arg(long)]
     audit_points: bool,
+    /// Draw h_plus and h_cross over --times at the observer, and the angular pattern of the
+    /// radiated power, as an SVG picture.
+    #[arg(long, value_name = "FILE.svg", requires_all = ["direction", "distance", "times"])]
+    svg: Option<PathBuf>,
+    /// The time range of the picture, `T0,T1`.
+    #[arg(long, value_name = "T0,T1", allow_hyphen_values = true)]
+    times: Option<String>,
+    /// Replace the SVG file if it exists.
+    #[arg(long)]
+    force: bool,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -101,6 +111,20 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
         None => (p.store.symbol(&r_name), r_name.clone()),
     };
 
+    let times = match &a.times {
+        Some(t) => {
+            let v = numbers(&mut p, "--times", t, Some(2), "the times are T0,T1")?;
+            if v[1] <= v[0] {
+                return Err(Failure::Input(miette::miette!(
+                    help = "e.g. --times 0,2000",
+                    "--times needs T0 < T1"
+                )));
+            }
+            Some((v[0], v[1]))
+        }
+        None => None,
+    };
+    let target = plan_optional_output(a.svg.as_deref(), a.force, "--svg")?;
     let limit = |e: CanonError| gave_up(&e);
     let t_name = p.coordinates[0].clone();
     let sampling = p.sampling.clone();
@@ -184,6 +208,11 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
         }
     }
 
+    let wave = wave_rows
+        .first()
+        .zip(wave_rows.get(1))
+        .map(|(a, b)| (a.1, b.1));
+
     // The audit: each printed form against its definition from the file's texts.
     let mut texts: Vec<(String, String)> = rows
         .iter()
@@ -238,6 +267,19 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     }
 
     let label = a.file.display().to_string();
+    let written = match (&target, wave, times) {
+        (Some(t), Some(wave), Some(times)) => {
+            let title = format!(
+                "{}: waveform at distance {distance_text} and angular pattern",
+                p.name.clone().unwrap_or_else(|| label.clone())
+            );
+            let text = super::radiation_plot::picture(&mut p, &mut rad, wave, times, &title)?;
+            write_atomic(t, &text)?;
+            Some(t.path.display().to_string())
+        }
+        _ => None,
+    };
+    let st = &mut p.store;
     let mut printed: Vec<(String, String)> = Vec::new();
     for r in &rows {
         printed.push((r.name.clone(), st.to_text(r.form)));
@@ -334,6 +376,9 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                 let refs: Vec<&lingrav::audit::expr::Finding> = findings.iter().collect();
                 s.push_str(&point_lines(&refs));
             }
+            if let Some(path) = &written {
+                let _ = writeln!(s, "wrote {path}");
+            }
             s
         }
         Format::Json => {
@@ -368,6 +413,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                     "dJ_z/dt": avg_json(&dj_avg[2]),
                 },
                 "distance": dir.as_ref().map(|_| distance_text.clone()),
+                "svg": written,
                 "conventions": conventions(&p.coordinates),
                 "audit": { "defect": defect, "seed": seed, "points": points_json(&refs) },
             }))

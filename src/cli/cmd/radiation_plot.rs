@@ -1,0 +1,124 @@
+//! `lingrav radiation --svg`: the waveform against time at the observer and the angular
+//! pattern of the time-averaged power, numbers from certified enclosures of the exact forms
+//! (whose printed texts the command audits).
+
+use crate::cli::out::{Failure, gave_up};
+use lingrav::canon::{Form, Point, Store};
+use lingrav::interval::{CInterval, Interval};
+use lingrav::plot::{Panel, svg};
+use lingrav::problem::Problem;
+use lingrav::radiation::{Average, Radiation, time_average};
+
+/// Points along each curve.
+const SAMPLES: usize = 241;
+
+/// The value of `f` at `at` (names and values) with the file's parameters and samples; NaN
+/// where it cannot be enclosed (left out of the curve).
+fn value(
+    st: &mut Store,
+    p_params: &[(String, f64)],
+    pt0: &Point,
+    f: Form,
+    at: &[(&str, f64)],
+) -> f64 {
+    let mut pt = pt0.clone();
+    for (name, v) in p_params
+        .iter()
+        .map(|(n, v)| (n.as_str(), *v))
+        .chain(at.iter().copied())
+    {
+        if let Some(i) = Interval::point(v) {
+            let k = st.symbol_kernel(name);
+            pt.values.insert(k, CInterval::from_real(i));
+        }
+    }
+    st.eval_interval(f, &pt).map_or(f64::NAN, |z| z.re.mid())
+}
+
+/// The picture: h_plus and h_cross over `[t0, t1]` at the observer, and the power per solid
+/// angle `r^2/(16 pi) <hdot_plus^2 + hdot_cross^2>` against theta at phi = 0 (time-averaged
+/// when the motion allows, else at t0).
+pub fn picture(
+    p: &mut Problem,
+    rad: &mut Radiation,
+    wave: (Form, Form),
+    (t0, t1): (f64, f64),
+    title: &str,
+) -> Result<String, Failure> {
+    let limit = |e: lingrav::CanonError| gave_up(&e);
+    let t_name = p.coordinates[0].clone();
+    let params = p.parameters.clone();
+    let pt0 = Point {
+        samples: p.sampling.samples.clone(),
+        ..Point::default()
+    };
+    let st = &mut p.store;
+    let times: Vec<f64> = (0..SAMPLES)
+        .map(|k| t0 + (t1 - t0) * k as f64 / (SAMPLES - 1) as f64)
+        .collect();
+    let curve = |st: &mut Store, f: Form| -> Vec<(f64, f64)> {
+        times
+            .iter()
+            .map(|&t| (t, value(st, &params, &pt0, f, &[(t_name.as_str(), t)])))
+            .collect()
+    };
+    let plus = curve(st, wave.0);
+    let cross = curve(st, wave.1);
+    // The pattern in the x-z plane: n = (sin th, 0, cos th), u = e_theta, v = e_phi.
+    let th_name = "lingrav_theta";
+    let th = st.symbol(th_name);
+    let (s, c) = (st.sin(th).map_err(limit)?, st.cos(th).map_err(limit)?);
+    let (z, one) = (st.zero(), st.one());
+    let n = [s, z, c];
+    let u = [c, z, st.neg(s).map_err(limit)?];
+    let v = [z, one, z];
+    let r = st.symbol("lingrav_r");
+    let w = rad.field(st, (&n, &u, &v), r).map_err(limit)?;
+    let mut terms = Vec::new();
+    for h in [w.plus, w.cross] {
+        let d = st.diff(h, rad.t).map_err(limit)?;
+        terms.push(st.mul(d, d).map_err(limit)?);
+    }
+    let sum = st.sum(&terms).map_err(limit)?;
+    let r2 = st.mul(r, r).map_err(limit)?;
+    let sixteen_pi =
+        lingrav::expression(st, "16*pi").map_err(|e| Failure::Input(miette::miette!("{e}")))?;
+    let flux = st.mul(sum, r2).map_err(limit)?;
+    let flux = st.div(flux, sixteen_pi).map_err(limit)?;
+    let (flux, averaged) = match time_average(st, flux, rad.t).map_err(limit)? {
+        Average::Exact(a) => (a, true),
+        Average::NotPeriodic(_) => (flux, false),
+    };
+    let pattern: Vec<(f64, f64)> = (0..=180)
+        .map(|k| {
+            let theta = std::f64::consts::PI * f64::from(k) / 180.0;
+            let at = [(th_name, theta), ("lingrav_r", 1.0), (t_name.as_str(), t0)];
+            (theta, value(st, &params, &pt0, flux, &at))
+        })
+        .collect();
+    let t_label = format!("{t_name} (observer's time)");
+    Ok(svg(
+        title,
+        &[
+            Panel {
+                name: "h_plus".into(),
+                x_label: t_label.clone(),
+                points: plus,
+            },
+            Panel {
+                name: "h_cross".into(),
+                x_label: t_label,
+                points: cross,
+            },
+            Panel {
+                name: if averaged {
+                    "<dP/dOmega>".into()
+                } else {
+                    format!("dP/dOmega at {t_name} = {t0}")
+                },
+                x_label: "theta [rad] from +z, in the x-z plane (phi = 0)".into(),
+                points: pattern,
+            },
+        ],
+    ))
+}
