@@ -291,6 +291,13 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
         Ok(t) => t.clone(),
         Err(why) => format!("none ({why})"),
     };
+    let dir_json = dir.as_ref().map(|d| {
+        let st = &mut p.store;
+        let t = |st: &mut lingrav::Store, v: &[Form; 3]| -> Vec<String> {
+            v.iter().map(|&f| st.to_text(f)).collect()
+        };
+        serde_json::json!({ "n": t(st, &d.n), "u": t(st, &d.u), "v": t(st, &d.v) })
+    });
     let out = match a.format {
         Format::Text => {
             let mut s = String::new();
@@ -413,6 +420,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                     "dJ_z/dt": avg_json(&dj_avg[2]),
                 },
                 "distance": dir.as_ref().map(|_| distance_text.clone()),
+                "direction": dir_json,
                 "svg": written,
                 "conventions": conventions(&p.coordinates),
                 "audit": { "defect": defect, "seed": seed, "points": points_json(&refs) },
