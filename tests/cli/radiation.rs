@@ -181,3 +181,30 @@ fn radiation_draws_the_waveform_and_the_pattern() {
     let (_, err, code) = lingrav(&["radiation", &f, "--svg", out.to_str().unwrap()]);
     assert_eq!(code, 2, "{err}");
 }
+
+#[test]
+fn a_time_average_is_proved_and_checked_over_one_period() {
+    // Two equal masses on an orbit with a second harmonic: <L> = 16238 m^2 w^6 / 243 (the
+    // exact route's average; the independent route takes the mean of (1/5) dddQ dddQ written
+    // from the bodies' texts over one period). A wrong claim fails with a witness.
+    let dir = tempfile::tempdir().unwrap();
+    let body = "[parameters]\nm = 1.0\nw = 0.3\n[[body]]\nmass = 'm'\n\
+                position = ['cos(w*t) + cos(2*w*t)/3', 'sin(w*t)', '0']\n[[body]]\nmass = 'm'\n\
+                position = ['-cos(w*t) - cos(2*w*t)/3', '-sin(w*t)', '0']\n[claims]\n";
+    for (claim, code, word) in [
+        ("16238*m^2*w^6/243", 0, "holds"),
+        ("16238*m^2*w^6/240", 1, "fails"),
+    ] {
+        let p = dir.path().join("two.toml");
+        std::fs::write(&p, format!("{body}luminosity_average = '{claim}'\n")).unwrap();
+        let (out, err, got) = lingrav(&["check", p.to_str().unwrap()]);
+        assert_eq!(got, code, "{claim}: {out}{err}");
+        assert!(
+            out.contains(&format!("{word}      time-averaged luminosity")),
+            "{out}"
+        );
+        assert!(out.contains("audited numerically"), "{out}");
+        assert!(out.contains("one period (32 points)"), "{out}");
+        assert!(!out.contains("INTERNAL DEFECT"), "{out}");
+    }
+}
