@@ -3,6 +3,7 @@
 
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, file_failure, limit_or, print};
+use crate::cli::report::{self, json};
 use crate::cli::quantities::{QuantityArgs, columns, direction_text, frame_texts, plan_quantities};
 use clap::{Args, ValueEnum};
 use lingrav::emit::user::Texts;
@@ -59,6 +60,10 @@ pub struct EmitArgs {
     /// Replace the output file if it exists.
     #[arg(long)]
     force: bool,
+    /// How to report what was generated: the code itself (or nothing with --out), or JSON
+    /// (quantities, language, path, size and checksum; the code itself without --out).
+    #[arg(long, value_enum, value_name = "FORMAT", default_value_t = report::Format::Text)]
+    report: report::Format,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -100,12 +105,30 @@ pub fn run(a: EmitArgs) -> Result<Outcome, Failure> {
             Failure::Input(miette::miette!("cannot generate code: {e}"))
         })
     })?;
+    let written = a.out.as_ref().map(|o| o.display().to_string());
     match file {
         Some(mut f) => {
             f.write_all(text.as_bytes())?;
             f.commit()?;
         }
-        None => print(&text)?,
+        None if a.report == report::Format::Text => print(&text)?,
+        None => {}
+    }
+    if a.report == report::Format::Json {
+        let mut j = serde_json::json!({
+            "result": "generated",
+            "file": path_label,
+            "language": a.lang.lang().name(),
+            "quantities": qs.iter().map(|q| q.name()).collect::<Vec<_>>(),
+            "columns": b.iter().map(|b| b.columns.len()).sum::<usize>(),
+            "path": written,
+            "bytes": text.len(),
+            "checksum": lingrav::output::checksum_of(text.as_bytes()),
+        });
+        if a.out.is_none() {
+            j["code"] = text.into();
+        }
+        print(&json(&j))?;
     }
     Ok(Outcome::Holds)
 }

@@ -9,6 +9,7 @@
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, file_failure, gave_up, limit_or, print};
 use crate::cli::plan::arg_failure;
+use crate::cli::report::{self, json};
 use crate::cli::quantities::{QuantityArgs, columns, direction_json, frame_texts, plan_quantities};
 use clap::{Args, ValueEnum};
 use lingrav::export::points::{Grid, PointSet, read_points};
@@ -83,6 +84,10 @@ pub struct ExportArgs {
     /// Replace the data file and sidecar if they exist.
     #[arg(long)]
     force: bool,
+    /// How to report what was written: a line of text, or JSON (rows, columns, quantities,
+    /// the paths, the data file's size and checksum).
+    #[arg(long, value_enum, value_name = "FORMAT", default_value_t = report::Format::Text)]
+    report: report::Format,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -305,19 +310,36 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
     write_table(data_file.writer(), &ev.table, format)
         .map_err(|e| file_failure(FileError::Io(a.out.clone(), e)))?;
     let mut meta = meta;
-    meta["data_file_bytes"] = data_file.writer().len().into();
-    meta["data_file_checksum"] = data_file.writer().checksum().into();
+    let bytes = data_file.writer().len();
+    let checksum = data_file.writer().checksum();
+    meta["data_file_bytes"] = bytes.into();
+    meta["data_file_checksum"] = checksum.clone().into();
     let text = serde_json::to_string_pretty(&meta).expect("json");
     meta_file.write_all(format!("{text}\n").as_bytes())?;
     commit_with_sidecar(data_file, meta_file)?;
-    print(&format!(
-        "wrote {} rows x {} columns ({}) to {} ({}), sidecar {}\n",
-        ev.table.rows(),
-        ev.table.columns.len(),
-        qs.iter().map(|q| q.name()).collect::<Vec<_>>().join(", "),
-        a.out.display(),
-        format.name(),
-        meta_path.display()
-    ))?;
+    let names: Vec<&str> = qs.iter().map(|q| q.name()).collect();
+    print(&match a.report {
+        report::Format::Text => format!(
+            "wrote {} rows x {} columns ({}) to {} ({}), sidecar {}\n",
+            ev.table.rows(),
+            ev.table.columns.len(),
+            names.join(", "),
+            a.out.display(),
+            format.name(),
+            meta_path.display()
+        ),
+        report::Format::Json => json(&serde_json::json!({
+            "result": "written",
+            "file": path_label,
+            "quantities": names,
+            "rows": ev.table.rows(),
+            "columns": ev.table.columns,
+            "data_file": a.out.display().to_string(),
+            "format": format.name(),
+            "data_file_bytes": bytes,
+            "data_file_checksum": checksum,
+            "sidecar": meta_path.display().to_string(),
+        })),
+    })?;
     Ok(Outcome::Holds)
 }
