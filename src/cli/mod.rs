@@ -313,7 +313,12 @@ pub fn run() -> ExitCode {
 /// result, `--report` for those that write files (`export`, whose `--format` is the data
 /// file's, and `emit`).
 fn report_format(sub: &ArgMatches) -> report::Format {
-    let asked = |id: &str| sub.try_get_one::<report::Format>(id).ok().flatten().copied();
+    let asked = |id: &str| {
+        sub.try_get_one::<report::Format>(id)
+            .ok()
+            .flatten()
+            .copied()
+    };
     asked("report")
         .or_else(|| asked("format"))
         .unwrap_or(report::Format::Text)

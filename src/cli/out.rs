@@ -6,10 +6,10 @@
 
 use super::report::{Format, json};
 use lingrav::canon::CanonError;
-use std::sync::atomic::{AtomicBool, Ordering};
 use lingrav::output::FileError;
 use std::io::{self, Write};
 use std::process::ExitCode;
+use std::sync::atomic::{AtomicBool, Ordering};
 
 /// What a command concluded.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]

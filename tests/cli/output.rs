@@ -190,10 +190,21 @@ fn issue_11_a_limit_before_the_report_is_json_too() {
         vec!["check", &f, "--format", "json"],
         vec!["show", &f, "riemann", "--format", "json"],
         vec!["grid", &f, "--format", "json"],
-        vec!["gauge", &f, "--vector", "0, sin(t), 0, 0", "--format", "json"],
+        vec![
+            "gauge",
+            &f,
+            "--vector",
+            "0, sin(t), 0, 0",
+            "--format",
+            "json",
+        ],
         vec!["project", &f, "--direction", "0,0,1", "--format", "json"],
-        vec!["export", &f, "-q", "riemann", "--grid", "--out", out, "--report", "json"],
-        vec!["emit", &f, "-q", "riemann", "--lang", "c", "--report", "json"],
+        vec![
+            "export", &f, "-q", "riemann", "--grid", "--out", out, "--report", "json",
+        ],
+        vec![
+            "emit", &f, "-q", "riemann", "--lang", "c", "--report", "json",
+        ],
     ] {
         let mut a = args.clone();
         a.extend(["--max-terms", "5"]);
@@ -296,7 +307,10 @@ fn issue_11_export_reports_what_it_wrote_as_json() {
     );
     let meta: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(&sidecar).expect("sidecar")).expect("JSON");
-    assert_eq!(meta["data_file_checksum"], j["data_file_checksum"], "{meta}");
+    assert_eq!(
+        meta["data_file_checksum"], j["data_file_checksum"],
+        "{meta}"
+    );
     assert_eq!(meta["data_file_bytes"], j["data_file_bytes"], "{meta}");
     assert_eq!(
         std::fs::read_to_string(&out).expect("csv").lines().count(),
@@ -314,7 +328,14 @@ fn issue_11_emit_reports_what_it_generated_as_json() {
     assert_eq!(got, 0, "{err}");
     let (j, err) = json_out(
         &[
-            "emit", &f, "-q", "h,riemann", "--lang", "python", "--report", "json",
+            "emit",
+            &f,
+            "-q",
+            "h,riemann",
+            "--lang",
+            "python",
+            "--report",
+            "json",
         ],
         0,
     );

@@ -3,8 +3,8 @@
 
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, file_failure, limit_or, print};
-use crate::cli::report::{self, json};
 use crate::cli::quantities::{QuantityArgs, columns, direction_text, frame_texts, plan_quantities};
+use crate::cli::report::{self, json};
 use clap::{Args, ValueEnum};
 use lingrav::emit::user::Texts;
 use lingrav::emit::{Lang, Source, emit};

@@ -9,8 +9,8 @@
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, file_failure, gave_up, limit_or, print};
 use crate::cli::plan::arg_failure;
-use crate::cli::report::{self, json};
 use crate::cli::quantities::{QuantityArgs, columns, direction_json, frame_texts, plan_quantities};
+use crate::cli::report::{self, json};
 use clap::{Args, ValueEnum};
 use lingrav::export::points::{Grid, PointSet, read_points};
 use lingrav::export::write::{AtomicFile, FileError, Format, commit_with_sidecar, write_table};

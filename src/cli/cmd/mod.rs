@@ -3,6 +3,7 @@
 
 pub mod antenna;
 pub mod binary;
+mod binary_report;
 pub mod check;
 pub mod compare;
 pub mod diff;
