@@ -11,6 +11,7 @@ pub mod emit;
 pub mod export;
 pub mod gauge;
 pub mod gauge_curved;
+mod gauge_tt;
 pub mod grid;
 pub mod project;
 pub mod ring;

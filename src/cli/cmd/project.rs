@@ -8,12 +8,12 @@ use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::plan::{DirectionArgs, kind_word, plan_optional_output, write_atomic};
 use crate::cli::report::{
-    Format, components_json, conventions, heading, json, list_components, texts, vec_text,
-    verification_json, verification_lines,
+    Format, components_json, conventions, heading, json, list_components, proved_claims, texts,
+    tt_solution, vec_text, verification_json, verification_lines,
 };
 use clap::Args;
 use lingrav::canon::{Form, Store};
-use lingrav::check::{CheckReport, Status, check};
+use lingrav::check::{CheckReport, check};
 use lingrav::gauge::file_texts;
 use lingrav::problem::{Claims, Gauge, render_problem};
 use lingrav::tt::audit::audit_projection;
@@ -115,24 +115,16 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
             gauge: vec![Gauge::Tt],
             pure_gauge: None,
         };
-        let report = p.with_derived(tt4, (texts.clone(), Vec::new()), wanted, false, check);
+        let report = p.with_derived(
+            tt4,
+            (texts.clone(), Vec::new()),
+            wanted.clone(),
+            false,
+            check,
+        );
         verification_defect = report.has_defect();
-        let fe = report.status_of("field_equations");
-        let tt = report.status_of("gauge.tt");
-        let claims = Claims {
-            field_equations: report.proved("field_equations"),
-            gauge: if tt == Some(Status::Holds) {
-                vec![Gauge::Tt]
-            } else {
-                Vec::new()
-            },
-            pure_gauge: None,
-        };
-        outcome = match (fe, tt) {
-            (Some(Status::Holds), Some(Status::Holds)) => Outcome::Holds,
-            (Some(Status::Fails), _) | (_, Some(Status::Fails)) => Outcome::Fails,
-            _ => Outcome::Undecided,
-        };
+        let claims = proved_claims(&report, &wanted);
+        outcome = tt_solution(&report);
         let name = format!(
             "TT part of {} along n = {n_text}",
             p.name.clone().unwrap_or_else(|| label.clone())
