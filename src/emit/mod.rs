@@ -492,11 +492,18 @@ pub fn emit(
     all_users.dedup();
     let ids = idents(lang, src, &all_users);
     let header = header_lines(src, blocks, lang, inline_samples, Some(&ids));
+    let unit = Unit {
+        dag: &dag,
+        ids: &ids,
+        src,
+        header: &header,
+        fns: &functions,
+    };
     Ok(match lang {
-        Lang::C => c_file(&dag, &ids, src, &header, &functions, &all_users),
-        Lang::Python => python_file(&dag, &ids, src, &header, &functions),
-        Lang::Fortran => fortran_file(&dag, &ids, src, &header, &functions),
-        Lang::Rust => rust_file(&dag, &ids, src, &header, &functions),
+        Lang::C => c_file(&unit, &all_users),
+        Lang::Python => python_file(&unit),
+        Lang::Fortran => fortran_file(&unit),
+        Lang::Rust => rust_file(&unit),
         Lang::Latex => unreachable!("handled above"),
     })
 }
@@ -508,6 +515,39 @@ fn temp_names(ids: &Idents, f: &Function<'_>) -> FxHashMap<Id, String> {
         .enumerate()
         .map(|(k, &id)| (id, format!("{}{}", ids.temp_prefix, k + 1)))
         .collect()
+}
+
+/// The doc lines of one generated function: its definition, then which output slot
+/// (`slot(k)` for column k) holds which column.
+fn function_doc(src: &Source<'_>, f: &Function<'_>, slot: impl Fn(usize) -> String) -> Vec<String> {
+    let q = f.block.quantity;
+    let outputs: Vec<String> = f
+        .block
+        .columns
+        .iter()
+        .enumerate()
+        .map(|(k, c)| format!("{} = {}", slot(k), c.name))
+        .collect();
+    vec![
+        format!("lingrav_{}: {}.", q.name(), src.definition(q)),
+        outputs.join(", "),
+    ]
+}
+
+/// Appends the statements of one function's body: each temporary (`temp(name, value)`),
+/// then each output column (`out(k, value)`).
+fn body(
+    s: &mut String,
+    (f, temps, p): (&Function<'_>, &FxHashMap<Id, String>, &Printer<'_>),
+    temp: impl Fn(&str, &str) -> String,
+    out: impl Fn(usize, &str) -> String,
+) {
+    for &t in &f.temps {
+        s.push_str(&temp(&temps[&t], &p.expr(t).full()));
+    }
+    for (k, &r) in f.roots.iter().enumerate() {
+        s.push_str(&out(k, &p.reference(r).full()));
+    }
 }
 
 fn printer<'a>(
@@ -525,14 +565,25 @@ fn printer<'a>(
     }
 }
 
-fn c_file(
-    dag: &Dag,
-    ids: &Idents,
-    src: &Source<'_>,
-    header: &[String],
-    fns: &[Function<'_>],
-    users: &[(u32, u32)],
-) -> String {
+/// What every generated file is made of: the DAG, the identifiers, the problem's source,
+/// the header lines and the functions, one per quantity.
+#[derive(Clone, Copy)]
+struct Unit<'a, 'b> {
+    dag: &'a Dag,
+    ids: &'a Idents,
+    src: &'a Source<'b>,
+    header: &'a [String],
+    fns: &'a [Function<'b>],
+}
+
+fn c_file(u: &Unit<'_, '_>, users: &[(u32, u32)]) -> String {
+    let Unit {
+        dag,
+        ids,
+        src,
+        header,
+        fns,
+    } = *u;
     let mut s = String::from("/*\n");
     s.push_str(&comment(header, " * "));
     let cargs = ids.vars[..4]
@@ -569,19 +620,7 @@ fn c_file(
             "const char *const lingrav_{q}_columns[{n}] = {{{}}};\n",
             names.join(", ")
         );
-        let mut doc = vec![format!(
-            "lingrav_{q}: {}.",
-            src.definition(f.block.quantity)
-        )];
-        doc.push(
-            f.block
-                .columns
-                .iter()
-                .enumerate()
-                .map(|(k, c)| format!("out[{k}] = {}", c.name))
-                .collect::<Vec<_>>()
-                .join(", "),
-        );
+        let doc = function_doc(src, f, |k| format!("out[{k}]"));
         s.push_str("/*\n");
         s.push_str(&comment(&doc, " * "));
         s.push_str(" */\n");
@@ -600,12 +639,12 @@ fn c_file(
                 v - 4
             );
         }
-        for &t in &f.temps {
-            let _ = writeln!(s, "    const double {} = {};", temps[&t], p.expr(t).full());
-        }
-        for (k, &r) in f.roots.iter().enumerate() {
-            let _ = writeln!(s, "    out[{k}] = {};", p.reference(r).full());
-        }
+        body(
+            &mut s,
+            (f, &temps, &p),
+            |name, value| format!("    const double {name} = {value};\n"),
+            |k, value| format!("    out[{k}] = {value};\n"),
+        );
         s.push_str("}\n\n");
     }
     s
@@ -615,13 +654,14 @@ fn py_string(s: &str) -> String {
     serde_json::to_string(s).unwrap_or_else(|_| "\"\"".into())
 }
 
-fn python_file(
-    dag: &Dag,
-    ids: &Idents,
-    src: &Source<'_>,
-    header: &[String],
-    fns: &[Function<'_>],
-) -> String {
+fn python_file(u: &Unit<'_, '_>) -> String {
+    let Unit {
+        dag,
+        ids,
+        src,
+        header,
+        fns,
+    } = *u;
     let mut s = String::from("\"\"\"\n");
     for l in header {
         for w in wrap(l, 92) {
@@ -695,24 +735,25 @@ fn python_file(
                 .collect::<Vec<_>>()
                 .join(", ")
         );
-        for &t in &f.temps {
-            let _ = writeln!(s, "    {} = {}", temps[&t], p.expr(t).full());
-        }
-        for (k, &r) in f.roots.iter().enumerate() {
-            let _ = writeln!(s, "    out[{k}] = {}", p.reference(r).full());
-        }
+        body(
+            &mut s,
+            (f, &temps, &p),
+            |name, value| format!("    {name} = {value}\n"),
+            |k, value| format!("    out[{k}] = {value}\n"),
+        );
         s.push_str("    return out\n");
     }
     s
 }
 
-fn fortran_file(
-    dag: &Dag,
-    ids: &Idents,
-    src: &Source<'_>,
-    header: &[String],
-    fns: &[Function<'_>],
-) -> String {
+fn fortran_file(u: &Unit<'_, '_>) -> String {
+    let Unit {
+        dag,
+        ids,
+        src,
+        header,
+        fns,
+    } = *u;
     let mut s = comment(header, "! ");
     let fargs = ids.vars[..4].join(", ");
     let _ = writeln!(
@@ -737,19 +778,7 @@ fn fortran_file(
         let temps = temp_names(ids, f);
         let p = printer(dag, &lang::Fortran, ids, &temps);
         let q = f.block.quantity.name();
-        let mut doc = vec![format!(
-            "lingrav_{q}: {}.",
-            src.definition(f.block.quantity)
-        )];
-        doc.push(
-            f.block
-                .columns
-                .iter()
-                .enumerate()
-                .map(|(k, c)| format!("out({}) = {}", k + 1, c.name))
-                .collect::<Vec<_>>()
-                .join(", "),
-        );
+        let doc = function_doc(src, f, |k| format!("out({})", k + 1));
         s.push('\n');
         s.push_str(&comment(&doc, "  ! "));
         let _ = writeln!(s, "  subroutine lingrav_{q}({fargs}, params, out)");
@@ -771,33 +800,26 @@ fn fortran_file(
         for &v in &f.params_used {
             let _ = writeln!(s, "    {} = params({})", ids.vars[v as usize], v - 3);
         }
-        for &t in &f.temps {
-            s.push_str(&lang::fortran_lines(
-                "    ",
-                &format!("{} = {}", temps[&t], p.expr(t).full()),
-                100,
-            ));
-        }
-        for (k, &r) in f.roots.iter().enumerate() {
-            s.push_str(&lang::fortran_lines(
-                "    ",
-                &format!("out({}) = {}", k + 1, p.reference(r).full()),
-                100,
-            ));
-        }
+        body(
+            &mut s,
+            (f, &temps, &p),
+            |name, value| lang::fortran_lines("    ", &format!("{name} = {value}"), 100),
+            |k, value| lang::fortran_lines("    ", &format!("out({}) = {value}", k + 1), 100),
+        );
         let _ = writeln!(s, "  end subroutine lingrav_{q}");
     }
     s.push_str("\nend module lingrav_formulas\n");
     s
 }
 
-fn rust_file(
-    dag: &Dag,
-    ids: &Idents,
-    src: &Source<'_>,
-    header: &[String],
-    fns: &[Function<'_>],
-) -> String {
+fn rust_file(u: &Unit<'_, '_>) -> String {
+    let Unit {
+        dag,
+        ids,
+        src,
+        header,
+        fns,
+    } = *u;
     let mut s = comment(header, "// ");
     let _ = writeln!(
         s,
@@ -838,12 +860,12 @@ fn rust_file(
         for &v in &f.params_used {
             let _ = writeln!(s, "    let {} = params[{}];", ids.vars[v as usize], v - 4);
         }
-        for &t in &f.temps {
-            let _ = writeln!(s, "    let {} = {};", temps[&t], p.expr(t).full());
-        }
-        for (k, &r) in f.roots.iter().enumerate() {
-            let _ = writeln!(s, "    out[{k}] = {};", p.reference(r).full());
-        }
+        body(
+            &mut s,
+            (f, &temps, &p),
+            |name, value| format!("    let {name} = {value};\n"),
+            |k, value| format!("    out[{k}] = {value};\n"),
+        );
         s.push_str("}\n");
     }
     s

@@ -587,6 +587,20 @@ fn root(x: Interval, q: u32) -> Option<Interval> {
     x.ln()?.mul(inv_q)?.exp()
 }
 
+/// The operations of [`Target`] that are one instruction each: `name(a, b) => Instr`, the
+/// operands registers (`u32`) unless a type is given.
+macro_rules! push_instructions {
+    ($($name:ident($($arg:ident $(: $ty:ty)?),+) => $instr:ident,)+) => {
+        $(
+            fn $name(&mut self, $($arg: push_instructions!(@ty $($ty)?)),+) -> u32 {
+                self.push(Instr::$instr($($arg),+))
+            }
+        )+
+    };
+    (@ty) => { u32 };
+    (@ty $ty:ty) => { $ty };
+}
+
 impl Target for IntervalProgram {
     type Node = u32;
     fn number(&mut self, q: &BigRational) -> Option<u32> {
@@ -613,38 +627,18 @@ impl Target for IntervalProgram {
             }),
         }
     }
-    fn add(&mut self, a: u32, b: u32) -> u32 {
-        self.push(Instr::Add(a, b))
-    }
-    fn sub(&mut self, a: u32, b: u32) -> u32 {
-        self.push(Instr::Sub(a, b))
-    }
-    fn mul(&mut self, a: u32, b: u32) -> u32 {
-        self.push(Instr::Mul(a, b))
-    }
-    fn div(&mut self, a: u32, b: u32) -> u32 {
-        self.push(Instr::Div(a, b))
-    }
-    fn neg(&mut self, a: u32) -> u32 {
-        self.push(Instr::Neg(a))
-    }
-    fn powi(&mut self, a: u32, k: i32) -> u32 {
-        self.push(Instr::PowI(a, k))
-    }
-    fn root(&mut self, a: u32, q: u32) -> u32 {
-        self.push(Instr::Root(a, q))
-    }
-    fn exp(&mut self, a: u32) -> u32 {
-        self.push(Instr::Exp(a))
-    }
-    fn log(&mut self, a: u32) -> u32 {
-        self.push(Instr::Log(a))
-    }
-    fn sin(&mut self, a: u32) -> u32 {
-        self.push(Instr::Sin(a))
-    }
-    fn cos(&mut self, a: u32) -> u32 {
-        self.push(Instr::Cos(a))
+    push_instructions! {
+        add(a, b) => Add,
+        sub(a, b) => Sub,
+        mul(a, b) => Mul,
+        div(a, b) => Div,
+        neg(a) => Neg,
+        powi(a, k: i32) => PowI,
+        root(a, q: u32) => Root,
+        exp(a) => Exp,
+        log(a) => Log,
+        sin(a) => Sin,
+        cos(a) => Cos,
     }
 }
 

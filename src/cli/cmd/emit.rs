@@ -3,7 +3,9 @@
 
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, file_failure, limit_or, print};
-use crate::cli::quantities::{QuantityArgs, columns, direction_text, frame_texts, plan_quantities};
+use crate::cli::quantities::{
+    QuantityArgs, WriteArgs, columns, direction_text, frame_texts, plan_quantities,
+};
 use crate::cli::report::{self, json};
 use clap::{Args, ValueEnum};
 use lingrav::emit::user::Texts;
@@ -57,13 +59,8 @@ pub struct EmitArgs {
     /// Write to this file instead of standard output.
     #[arg(long, value_name = "PATH")]
     out: Option<PathBuf>,
-    /// Replace the output file if it exists.
-    #[arg(long)]
-    force: bool,
-    /// How to report what was generated: the code itself (or nothing with --out), or JSON
-    /// (quantities, language, path, size and checksum; the code itself without --out).
-    #[arg(long, value_enum, value_name = "FORMAT", default_value_t = report::Format::Text)]
-    report: report::Format,
+    #[command(flatten)]
+    write: WriteArgs,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -73,7 +70,7 @@ pub fn run(a: EmitArgs) -> Result<Outcome, Failure> {
     let mut p = a.limits.load(&a.file)?;
     let (qs, dir) = plan_quantities(&mut p, &a.quantities)?;
     let file = match &a.out {
-        Some(o) => Some(AtomicFile::create(o, a.force).map_err(file_failure)?),
+        Some(o) => Some(AtomicFile::create(o, a.write.force).map_err(file_failure)?),
         None => None,
     };
     let b = columns(&mut p, &qs, dir.as_ref())?;
@@ -111,10 +108,10 @@ pub fn run(a: EmitArgs) -> Result<Outcome, Failure> {
             f.write_all(text.as_bytes())?;
             f.commit()?;
         }
-        None if a.report == report::Format::Text => print(&text)?,
+        None if a.write.report == report::Format::Text => print(&text)?,
         None => {}
     }
-    if a.report == report::Format::Json {
+    if a.write.report == report::Format::Json {
         let mut j = serde_json::json!({
             "result": "generated",
             "file": path_label,

@@ -9,7 +9,9 @@
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, file_failure, gave_up, limit_or, print};
 use crate::cli::plan::arg_failure;
-use crate::cli::quantities::{QuantityArgs, columns, direction_json, frame_texts, plan_quantities};
+use crate::cli::quantities::{
+    QuantityArgs, WriteArgs, columns, direction_json, frame_texts, plan_quantities,
+};
 use crate::cli::report::{self, json};
 use clap::{Args, ValueEnum};
 use lingrav::export::points::{Grid, PointSet, read_points};
@@ -81,13 +83,8 @@ pub struct ExportArgs {
     /// (default: --tolerance times the largest magnitude in its column).
     #[arg(long, value_name = "ABS")]
     zero_tolerance: Option<f64>,
-    /// Replace the data file and sidecar if they exist.
-    #[arg(long)]
-    force: bool,
-    /// How to report what was written: a line of text, or JSON (rows, columns, quantities,
-    /// the paths, the data file's size and checksum).
-    #[arg(long, value_enum, value_name = "FORMAT", default_value_t = report::Format::Text)]
-    report: report::Format,
+    #[command(flatten)]
+    write: WriteArgs,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -254,8 +251,8 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
         })?,
     };
     let meta_path = sidecar_path(&a.out);
-    let mut data_file = AtomicFile::create(&a.out, a.force).map_err(file_failure)?;
-    let mut meta_file = AtomicFile::create(&meta_path, a.force).map_err(file_failure)?;
+    let mut data_file = AtomicFile::create(&a.out, a.write.force).map_err(file_failure)?;
+    let mut meta_file = AtomicFile::create(&meta_path, a.write.force).map_err(file_failure)?;
 
     // Compute.
     let b = columns(&mut p, &qs, dir.as_ref())?;
@@ -318,7 +315,7 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
     meta_file.write_all(format!("{text}\n").as_bytes())?;
     commit_with_sidecar(data_file, meta_file)?;
     let names: Vec<&str> = qs.iter().map(|q| q.name()).collect();
-    print(&match a.report {
+    print(&match a.write.report {
         report::Format::Text => format!(
             "wrote {} rows x {} columns ({}) to {} ({}), sidecar {}\n",
             ev.table.rows(),

@@ -5,10 +5,10 @@
 //! (text or JSON).
 
 use super::gauge_tt::{Built, Report, construct};
-use crate::cli::audit::{point_lines, points_json};
+use crate::cli::audit::{AuditedFormat, point_lines, points_json};
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, print};
-use crate::cli::plan::{arg_failure, plan_optional_output, write_atomic};
+use crate::cli::plan::{ProblemOutput, arg_failure, write_atomic};
 use crate::cli::report::{
     Format, components_json, conventions, gauges_of, heading, json, limit_in_report,
     list_components, proved_claims, texts, tt_solution, verdict_json, verification_json,
@@ -52,18 +52,10 @@ pub struct GaugeArgs {
         requires = "to_tt"
     )]
     wave_vector: Option<String>,
-    /// Output format.
-    #[arg(long, value_enum, default_value_t = Format::Text)]
-    format: Format,
-    /// Write the transformed perturbation as a new problem file.
-    #[arg(long, value_name = "FILE.toml")]
-    output: Option<PathBuf>,
-    /// Replace the output file if it exists.
-    #[arg(long)]
-    force: bool,
-    /// Also print the points of the independent audit.
-    #[arg(long)]
-    audit_points: bool,
+    #[command(flatten)]
+    written: ProblemOutput,
+    #[command(flatten)]
+    shown: AuditedFormat,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -73,8 +65,8 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
     let mut p = a.limits.load(&a.file)?;
     if !p.is_flat_cartesian() {
         let label = a.file.display().to_string();
-        return match (&a.vector, a.to_tt || a.output.is_some()) {
-            (Some(v), false) => super::gauge_curved::run(p, v, a.format, &label),
+        return match (&a.vector, a.to_tt || a.written.output.is_some()) {
+            (Some(v), false) => super::gauge_curved::run(p, v, a.shown.format, &label),
             _ => Err(Failure::Input(miette::miette!(
                 help = "about a background, `lingrav gauge --vector XI` applies a gauge \
                         transformation (without --output); --to-tt is for plane waves in flat \
@@ -122,7 +114,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
         }
         None => None,
     };
-    let target = plan_optional_output(a.output.as_deref(), a.force, "--output")?;
+    let target = a.written.plan()?;
     let label = a.file.display().to_string();
     let mut s = String::new();
     let _ = writeln!(s, "{}", heading(&label, p.name.as_deref()));
@@ -135,7 +127,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
         j,
         defect: false,
         audits: Vec::new(),
-        format: a.format,
+        format: a.shown.format,
     };
     let (xi, verify_tt) = match xi_given {
         Some(xi) => (xi, false),
@@ -292,7 +284,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
     let refs: Vec<&Finding> = audits.iter().collect();
     j["audit"] =
         serde_json::json!({ "defect": defect, "seed": seed, "points": points_json(&refs) });
-    if a.audit_points {
+    if a.shown.audit_points {
         s.push_str(&point_lines(&refs));
     }
 
@@ -349,7 +341,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
             serde_json::json!({ "path": t.path.display().to_string(), "claims": claims.summary() });
     }
     j["result"] = outcome_word(outcome).into();
-    print(&match a.format {
+    print(&match a.shown.format {
         Format::Text => s,
         Format::Json => json(&j),
     })?;
