@@ -651,18 +651,23 @@ mod tests {
     use crate::tape::UserExprs;
     use proptest::prelude::*;
 
+    /// The texts of a vacuum perturbation `h` without defines or functions.
+    fn vacuum(h: &[[Option<String>; 4]; 4]) -> Texts<'_> {
+        Texts {
+            h,
+            source: None,
+            user: UserExprs::default(),
+            frame: None,
+        }
+    }
+
     /// The program's enclosures contain the true values: R_txtx of h_xx = sin(w (t - z)) is
     /// (w^2/2) sin(w (t - z)) (MTW sign: R_txtx = -(1/2) d_t d_t h_xx).
     #[test]
     fn curvature_enclosures_contain_the_value() {
         let mut h: [[Option<String>; 4]; 4] = Default::default();
         h[1][1] = Some("sin(w*(t - z))".into());
-        let texts = Texts {
-            h: &h,
-            source: None,
-            user: UserExprs::default(),
-            frame: None,
-        };
+        let texts = vacuum(&h);
         let p = IntervalProgram::new(&[("w".into(), 3.0)]);
         let (p, r) = roots(p, &texts, &[Quantity::Riemann]).unwrap();
         let mut regs = Vec::new();
@@ -675,12 +680,7 @@ mod tests {
         // A singular point gives None, not a number.
         let mut h: [[Option<String>; 4]; 4] = Default::default();
         h[0][0] = Some("1/x".into());
-        let texts = Texts {
-            h: &h,
-            source: None,
-            user: UserExprs::default(),
-            frame: None,
-        };
+        let texts = vacuum(&h);
         let (p, r) = roots(IntervalProgram::new(&[]), &texts, &[Quantity::H]).unwrap();
         p.run([0.0, 0.0, 1.0, 1.0], &mut regs);
         assert!(regs[r[0][0] as usize].is_none());
