@@ -83,7 +83,7 @@ pub(super) fn construct(
         "-({})^2 + ({})^2 + ({})^2 + ({})^2",
         k_texts[0], k_texts[1], k_texts[2], k_texts[3]
     );
-    let route = FileQuantities::texts(&p, &[("k_mu k^mu".into(), norm)]);
+    let route = FileQuantities::texts(p, &[("k_mu k^mu".into(), norm)]);
     let mut null = [wave.null.clone()];
     let finding = audit_verdicts(&route, &mut null, |_| Some(0), seed).remove(0);
     r.defect |= finding.is_defect();
@@ -111,7 +111,7 @@ pub(super) fn construct(
         gauge: vec![Gauge::Lorenz],
         ..Claims::default()
     };
-    let route = FileQuantities::claims(&p, Some(&lorenz));
+    let route = FileQuantities::claims(p, Some(&lorenz));
     let index = |nu: usize| {
         let name = Part::Lorenz(nu).name();
         route.as_ref().ok()?.index_of("gauge.lorenz", &name)
@@ -154,7 +154,7 @@ pub(super) fn construct(
     r.audits.extend(findings);
     match tt_gauge_vector(&mut p.store, &wave, &h) {
         Ok(xi) => Ok(Built::Vector(xi)),
-        Err(e) => return plane_failure(e, r),
+        Err(e) => plane_failure(e, r),
     }
 }
 
