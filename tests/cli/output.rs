@@ -165,6 +165,22 @@ fn issue_11_a_limit_reached_after_loading_reads_the_same_in_every_command() {
     }
 }
 
+/// Asserts that the report `j` gives the size and the FNV-1a 64 checksum of `bytes` under
+/// the keys `[size, checksum]`.
+fn assert_describes(j: &serde_json::Value, [size, checksum]: [&str; 2], bytes: &[u8]) {
+    assert_eq!(j[size], bytes.len(), "{j}");
+    assert_eq!(
+        j[checksum],
+        lingrav::output::checksum_of(bytes).as_str(),
+        "{j}"
+    );
+}
+
+/// Whether `j[key]` is a string that starts with `prefix`.
+fn starts_with(j: &serde_json::Value, key: &str, prefix: &str) -> bool {
+    j[key].as_str().is_some_and(|s| s.starts_with(prefix))
+}
+
 /// Runs `args` (already asking for JSON), expects `code`, and parses the whole standard
 /// output, whatever standard error says.
 fn json_out(args: &[&str], code: i32) -> (serde_json::Value, String) {
@@ -242,9 +258,7 @@ fn issue_11_a_limit_before_the_report_is_json_too() {
     let (j, _) = json_out(&args, 3);
     assert_eq!(j["result"], "undecided", "{j}");
     assert!(
-        j["limit"]
-            .as_str()
-            .is_some_and(|l| l.starts_with("too large: the grid 8,16,400 would take about")),
+        starts_with(&j, "limit", "too large: the grid 8,16,400 would take about"),
         "{j}"
     );
 }
@@ -256,9 +270,7 @@ fn issue_11_an_input_error_is_json_too() {
     let (j, err) = json_out(&["check", "no/such/file.toml", "--format", "json"], 2);
     assert_eq!(j["result"], "error", "{j}");
     assert!(
-        j["error"]
-            .as_str()
-            .is_some_and(|e| e.starts_with("cannot read `no/such/file.toml`")),
+        starts_with(&j, "error", "cannot read `no/such/file.toml`"),
         "{j}"
     );
     assert!(err.contains("cannot read `no/such/file.toml`"), "{err}");
@@ -299,12 +311,7 @@ fn issue_11_export_reports_what_it_wrote_as_json() {
     let sidecar = format!("{out_s}.meta.json");
     assert_eq!(j["sidecar"], sidecar.as_str(), "{j}");
     let data = std::fs::read(&out).expect("data file");
-    assert_eq!(j["data_file_bytes"], data.len(), "{j}");
-    assert_eq!(
-        j["data_file_checksum"],
-        lingrav::output::checksum_of(&data).as_str(),
-        "{j}"
-    );
+    assert_describes(&j, ["data_file_bytes", "data_file_checksum"], &data);
     let meta: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(&sidecar).expect("sidecar")).expect("JSON");
     assert_eq!(
@@ -346,12 +353,7 @@ fn issue_11_emit_reports_what_it_generated_as_json() {
     assert_eq!(j["columns"], 30, "{j}");
     assert!(j["path"].is_null(), "{j}");
     assert_eq!(j["code"], code.as_str(), "{j}");
-    assert_eq!(j["bytes"], code.len(), "{j}");
-    assert_eq!(
-        j["checksum"],
-        lingrav::output::checksum_of(code.as_bytes()).as_str(),
-        "{j}"
-    );
+    assert_describes(&j, ["bytes", "checksum"], code.as_bytes());
 
     let tmp = tempfile::tempdir().expect("temp dir");
     let out = tmp.path().join("h.rs");
@@ -366,10 +368,5 @@ fn issue_11_emit_reports_what_it_generated_as_json() {
     assert_eq!(j["path"], out_s, "{j}");
     assert!(j["code"].is_null(), "{j}");
     let written = std::fs::read(&out).expect("code file");
-    assert_eq!(j["bytes"], written.len(), "{j}");
-    assert_eq!(
-        j["checksum"],
-        lingrav::output::checksum_of(&written).as_str(),
-        "{j}"
-    );
+    assert_describes(&j, ["bytes", "checksum"], &written);
 }
