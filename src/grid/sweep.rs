@@ -306,6 +306,20 @@ fn fit(v: &mut Vec<f64>, len: usize) {
     }
 }
 
+/// Per claim, per component: the largest |residual| so far and the point where it is.
+type Peaks = Vec<Vec<(f64, [usize; 4])>>;
+
+/// The largest residual of every component with where it is (none yet), and the points
+/// skipped per claim (none yet).
+fn no_residuals_yet(plan: &GridPlan) -> (Peaks, Vec<usize>) {
+    let best = plan
+        .claims
+        .iter()
+        .map(|c| vec![(0.0, [0; 4]); c.components.len()])
+        .collect();
+    (best, vec![0usize; plan.claims.len()])
+}
+
 /// Where and how a sweep samples: the box, the stencil, whether non-finite samples are
 /// masked (else they stop the sweep), and the region residuals are taken in (per axis
 /// `[lo, hi]`; `None`: every interior point).
@@ -445,12 +459,7 @@ pub fn sweep_errors(
     let ranges: [std::ops::Range<usize>; 4] =
         std::array::from_fn(|a| measured(b, a, s, region.map(|r| r[a])));
     let len = ranges[3].len();
-    let mut best: Vec<Vec<(f64, [usize; 4])>> = plan
-        .claims
-        .iter()
-        .map(|c| vec![(0.0, [0; 4]); c.components.len()])
-        .collect();
-    let mut skipped = vec![0usize; plan.claims.len()];
+    let (mut best, mut skipped) = no_residuals_yet(plan);
     let mut floors: Option<Vec<Vec<f64>>> = point.as_ref().map(|_| {
         plan.claims
             .iter()
@@ -738,12 +747,7 @@ fn residual_plane(
     it: usize,
 ) -> PlaneResult {
     let (z0, len) = (ranges[3].start, ranges[3].len());
-    let mut best: Vec<Vec<(f64, [usize; 4])>> = plan
-        .claims
-        .iter()
-        .map(|c| vec![(0.0, [0; 4]); c.components.len()])
-        .collect();
-    let mut skipped = vec![0usize; plan.claims.len()];
+    let (mut best, mut skipped) = no_residuals_yet(plan);
     let mut vals = vec![0.0; fused.combos.len() * len];
     let mut r = vec![0.0; len];
     let mut skip = vec![false; len];
