@@ -251,17 +251,7 @@ impl IntervalProgram {
             let v = match *i {
                 Instr::Const(c, _) => Some(c),
                 Instr::Input(k) => Interval::point(point[k as usize]),
-                Instr::Add(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.add(y)),
-                Instr::Sub(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.sub(y)),
-                Instr::Mul(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.mul(y)),
-                Instr::Div(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.div(y)),
-                Instr::Neg(a) => r(a).map(|x| -x),
-                Instr::PowI(a, k) => r(a).and_then(|x| x.powi(i64::from(k))),
-                Instr::Root(a, q) => r(a).and_then(|x| root(x, q)),
-                Instr::Exp(a) => r(a).and_then(Interval::exp),
-                Instr::Log(a) => r(a).and_then(Interval::ln),
-                Instr::Sin(a) => r(a).map(Interval::sin),
-                Instr::Cos(a) => r(a).map(Interval::cos),
+                op => apply(op, r),
             };
             regs.push(v);
         }
@@ -447,16 +437,7 @@ impl IntervalProgram {
                             let s = k as usize * LANES + j;
                             Interval::new(lo_src[s], hi_src[s])
                         };
-                        let v = match *ins {
-                            Instr::Div(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.div(y)),
-                            Instr::PowI(a, k) => r(a).and_then(|x| x.powi(i64::from(k))),
-                            Instr::Root(a, q) => r(a).and_then(|x| root(x, q)),
-                            Instr::Exp(a) => r(a).and_then(Interval::exp),
-                            Instr::Log(a) => r(a).and_then(Interval::ln),
-                            Instr::Sin(a) => r(a).map(Interval::sin),
-                            Instr::Cos(a) => r(a).map(Interval::cos),
-                            _ => None,
-                        };
+                        let v = apply(*ins, r);
                         (lo[j], hi[j]) = v.map_or((f64::NAN, f64::NAN), |v| (v.lo(), v.hi()));
                     }
                 }
@@ -554,6 +535,26 @@ impl<S: Clone> Memo<S> {
             self.values.clear();
         }
         self.values.insert(k, v);
+    }
+}
+
+/// The value of one operation from its operands' values (`r(register)`): the one
+/// definition that [`IntervalProgram::run`] and the per-lane fallback of the block evaluator
+/// share, so the two agree bit for bit. Constants and inputs are not operations: `None`.
+fn apply(ins: Instr, r: impl Fn(u32) -> Option<Interval>) -> Option<Interval> {
+    match ins {
+        Instr::Const(..) | Instr::Input(_) => None,
+        Instr::Add(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.add(y)),
+        Instr::Sub(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.sub(y)),
+        Instr::Mul(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.mul(y)),
+        Instr::Div(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.div(y)),
+        Instr::Neg(a) => r(a).map(|x| -x),
+        Instr::PowI(a, k) => r(a).and_then(|x| x.powi(i64::from(k))),
+        Instr::Root(a, q) => r(a).and_then(|x| root(x, q)),
+        Instr::Exp(a) => r(a).and_then(Interval::exp),
+        Instr::Log(a) => r(a).and_then(Interval::ln),
+        Instr::Sin(a) => r(a).map(Interval::sin),
+        Instr::Cos(a) => r(a).map(Interval::cos),
     }
 }
 
