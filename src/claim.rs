@@ -56,14 +56,26 @@ impl Gauge {
 
     /// The conditions, in report order.
     fn parts(self) -> Vec<Part> {
+        self.parts_with(
+            Part::SpatialTrace,
+            (1..4).map(Part::SpatialDivergence).collect(),
+        )
+    }
+
+    /// The conditions about a background, in report order (TT: the trace with gbar and
+    /// the covariant Lorenz divergence).
+    fn covariant_parts(self) -> Vec<Part> {
+        self.parts_with(Part::Trace, (0..4).map(Part::Lorenz).collect())
+    }
+
+    /// The conditions, TT's trace and transversality given: `h_{t mu}` for synchronous,
+    /// then for TT the trace and the divergences.
+    fn parts_with(self, trace: Part, transverse: Vec<Part>) -> Vec<Part> {
         let synchronous = (0..4).map(|mu| Part::H(0, mu));
         match self {
             Gauge::Lorenz => (0..4).map(Part::Lorenz).collect(),
             Gauge::Synchronous => synchronous.collect(),
-            Gauge::Tt => synchronous
-                .chain([Part::SpatialTrace])
-                .chain((1..4).map(Part::SpatialDivergence))
-                .collect(),
+            Gauge::Tt => synchronous.chain([trace]).chain(transverse).collect(),
         }
     }
 }
@@ -118,6 +130,29 @@ impl Claims {
             parts.join(", ")
         }
     }
+}
+
+/// `(title, negated title)` for a title negated by a leading `not `.
+macro_rules! negated {
+    ($title:literal) => {
+        ($title, concat!("not ", $title))
+    };
+}
+
+/// `(title, negated title)` of the background's equations `$eq`: "background solves $eq",
+/// "background does not solve $eq".
+macro_rules! background {
+    ($eq:literal) => {
+        (
+            concat!("background solves ", $eq),
+            concat!("background does not solve ", $eq),
+        )
+    };
+}
+
+/// The entry of `table` for the terms an equation has: none, Lambda, a source, both.
+fn by_terms<T: Copy>(lambda: bool, sourced: bool, table: [T; 4]) -> T {
+    table[usize::from(lambda) + 2 * usize::from(sourced)]
 }
 
 /// Which condition a claim is about.
@@ -198,20 +233,15 @@ impl Kind {
         self.titles().1
     }
 
+    /// The title and the negated title.
     fn titles(self) -> (&'static str, &'static str) {
         match self {
             Kind::SourceConservation => (
                 "source conservation (d^mu T_{mu nu} = 0)",
                 "not source conservation (d^mu T_{mu nu} != 0)",
             ),
-            Kind::FieldEquations { sourced: true } => (
-                "field equations G1 = 8 pi T",
-                "not field equations G1 = 8 pi T",
-            ),
-            Kind::FieldEquations { sourced: false } => (
-                "vacuum field equations G1 = 0",
-                "not vacuum field equations G1 = 0",
-            ),
+            Kind::FieldEquations { sourced: true } => negated!("field equations G1 = 8 pi T"),
+            Kind::FieldEquations { sourced: false } => negated!("vacuum field equations G1 = 0"),
             Kind::Gauge(Gauge::Lorenz) => (
                 "Lorenz gauge (d^mu hbar_{mu nu} = 0)",
                 "not Lorenz gauge (d^mu hbar_{mu nu} != 0)",
@@ -228,42 +258,29 @@ impl Kind {
                 "pure gauge (linearized Riemann tensor = 0)",
                 "not pure gauge (linearized Riemann tensor != 0)",
             ),
-            Kind::BackgroundEquations { lambda, sourced } => match (lambda, sourced) {
-                (false, false) => (
-                    "background is a vacuum solution (Gbar = 0)",
-                    "background is not a vacuum solution (Gbar != 0)",
-                ),
-                (true, false) => (
-                    "background solves Gbar + Lambda gbar = 0",
-                    "background does not solve Gbar + Lambda gbar = 0",
-                ),
-                (false, true) => (
-                    "background solves Gbar = 8 pi Tbar",
-                    "background does not solve Gbar = 8 pi Tbar",
-                ),
-                (true, true) => (
-                    "background solves Gbar + Lambda gbar = 8 pi Tbar",
-                    "background does not solve Gbar + Lambda gbar = 8 pi Tbar",
-                ),
-            },
-            Kind::CurvedFieldEquations { lambda, sourced } => match (lambda, sourced) {
-                (false, false) => (
-                    "linearized equations about the background dG = 0 (dT = 0)",
-                    "not linearized equations about the background dG = 0 (dT = 0)",
-                ),
-                (true, false) => (
-                    "linearized equations about the background dG + Lambda h = 0",
-                    "not linearized equations about the background dG + Lambda h = 0",
-                ),
-                (false, true) => (
-                    "linearized equations about the background dG = 8 pi dT",
-                    "not linearized equations about the background dG = 8 pi dT",
-                ),
-                (true, true) => (
-                    "linearized equations about the background dG + Lambda h = 8 pi dT",
-                    "not linearized equations about the background dG + Lambda h = 8 pi dT",
-                ),
-            },
+            Kind::BackgroundEquations { lambda, sourced } => by_terms(
+                lambda,
+                sourced,
+                [
+                    (
+                        "background is a vacuum solution (Gbar = 0)",
+                        "background is not a vacuum solution (Gbar != 0)",
+                    ),
+                    background!("Gbar + Lambda gbar = 0"),
+                    background!("Gbar = 8 pi Tbar"),
+                    background!("Gbar + Lambda gbar = 8 pi Tbar"),
+                ],
+            ),
+            Kind::CurvedFieldEquations { lambda, sourced } => by_terms(
+                lambda,
+                sourced,
+                [
+                    negated!("linearized equations about the background dG = 0 (dT = 0)"),
+                    negated!("linearized equations about the background dG + Lambda h = 0"),
+                    negated!("linearized equations about the background dG = 8 pi dT"),
+                    negated!("linearized equations about the background dG + Lambda h = 8 pi dT"),
+                ],
+            ),
             Kind::CovariantGauge(Gauge::Lorenz) => (
                 "Lorenz gauge (gbar^{mu a} D_a hbar_{mu nu} = 0)",
                 "not Lorenz gauge (gbar^{mu a} D_a hbar_{mu nu} != 0)",
@@ -308,48 +325,32 @@ impl Kind {
             Kind::SourceConservation | Kind::CurvedConservation => {
                 (0..4).map(Part::Conservation).collect()
             }
-            Kind::FieldEquations { sourced } => crate::tensor::COMPONENTS
-                .iter()
-                .map(|&(mu, nu)| Part::FieldEquation { mu, nu, sourced })
-                .collect(),
+            Kind::FieldEquations { sourced } => {
+                per_component(|mu, nu| Part::FieldEquation { mu, nu, sourced })
+            }
             Kind::Gauge(g) => g.parts(),
             Kind::PureGauge => riemann_independent()
                 .into_iter()
                 .map(Part::Riemann)
                 .collect(),
-            Kind::BackgroundEquations { lambda, sourced } => crate::tensor::COMPONENTS
-                .iter()
-                .map(|&(mu, nu)| Part::BackgroundEquation {
+            Kind::BackgroundEquations { lambda, sourced } => {
+                per_component(|mu, nu| Part::BackgroundEquation {
                     mu,
                     nu,
                     lambda,
                     sourced,
                 })
-                .collect(),
-            Kind::CurvedFieldEquations { lambda, sourced } => crate::tensor::COMPONENTS
-                .iter()
-                .map(|&(mu, nu)| Part::CurvedFieldEquation {
-                    mu,
-                    nu,
-                    lambda,
-                    sourced,
-                })
-                .collect(),
-            Kind::CovariantGauge(g) => {
-                let synchronous = (0..4).map(|mu| Part::H(0, mu));
-                match g {
-                    Gauge::Lorenz => (0..4).map(Part::Lorenz).collect(),
-                    Gauge::Synchronous => synchronous.collect(),
-                    Gauge::Tt => synchronous
-                        .chain([Part::Trace])
-                        .chain((0..4).map(Part::Lorenz))
-                        .collect(),
-                }
             }
-            Kind::GaugeVector => crate::tensor::COMPONENTS
-                .iter()
-                .map(|&(mu, nu)| Part::GaugeResidual(mu, nu))
-                .collect(),
+            Kind::CurvedFieldEquations { lambda, sourced } => {
+                per_component(|mu, nu| Part::CurvedFieldEquation {
+                    mu,
+                    nu,
+                    lambda,
+                    sourced,
+                })
+            }
+            Kind::CovariantGauge(g) => g.covariant_parts(),
+            Kind::GaugeVector => per_component(Part::GaugeResidual),
         }
     }
 
@@ -359,6 +360,14 @@ impl Kind {
     pub fn refuted_by_witness(self) -> bool {
         !matches!(self, Kind::GaugeVector)
     }
+}
+
+/// One part per component `mu <= nu`, in the order of [`crate::tensor::COMPONENTS`].
+fn per_component(part: impl Fn(usize, usize) -> Part) -> Vec<Part> {
+    crate::tensor::COMPONENTS
+        .iter()
+        .map(|&(mu, nu)| part(mu, nu))
+        .collect()
 }
 
 /// One component of a claim: an expression in h (and T) that must vanish.
@@ -456,33 +465,13 @@ impl Part {
                 nu,
                 lambda,
                 sourced,
-            } => {
-                let k = c(mu, nu);
-                let mut s = format!("Gbar_{k}");
-                if lambda {
-                    s.push_str(&format!(" + Lambda*gbar_{k}"));
-                }
-                if sourced {
-                    s.push_str(&format!(" - 8*pi*Tbar_{k}"));
-                }
-                s
-            }
+            } => equation_name(&c(mu, nu), ["Gbar", "gbar", "Tbar"], lambda, sourced),
             Part::CurvedFieldEquation {
                 mu,
                 nu,
                 lambda,
                 sourced,
-            } => {
-                let k = c(mu, nu);
-                let mut s = format!("dG_{k}");
-                if lambda {
-                    s.push_str(&format!(" + Lambda*h_{k}"));
-                }
-                if sourced {
-                    s.push_str(&format!(" - 8*pi*dT_{k}"));
-                }
-                s
-            }
+            } => equation_name(&c(mu, nu), ["dG", "h", "dT"], lambda, sourced),
             Part::Trace => "gbar^{mu nu} h_{mu nu}".into(),
             Part::GaugeResidual(mu, nu) => {
                 let (a, b) = (frame.coord(mu), frame.coord(nu));
@@ -490,6 +479,18 @@ impl Part {
             }
         }
     }
+}
+
+/// `G_k + Lambda*g_k - 8*pi*T_k` for the names `[G, g, T]`, with the terms there are.
+fn equation_name(k: &str, [g_big, g, t]: [&str; 3], lambda: bool, sourced: bool) -> String {
+    let mut s = format!("{g_big}_{k}");
+    if lambda {
+        s.push_str(&format!(" + Lambda*{g}_{k}"));
+    }
+    if sourced {
+        s.push_str(&format!(" - 8*pi*{t}_{k}"));
+    }
+    s
 }
 
 /// A claim of a plan: what is checked and what the file asserts about it.
@@ -532,11 +533,32 @@ impl Plan {
     /// are asserted to hold.
     #[must_use]
     pub fn of(claims: Option<&Claims>, sourced: bool) -> Plan {
+        Plan::assemble(
+            claims,
+            Vec::new(),
+            sourced.then_some(Kind::SourceConservation),
+            Kind::FieldEquations { sourced },
+            Kind::Gauge,
+            Kind::PureGauge,
+        )
+    }
+
+    /// The plan in report order: `first`, the conservation claim (asserted with the field
+    /// equations), the field equations, the gauges (every one without \[claims\]) and pure
+    /// gauge, each as the file asserts it (every property, unasserted, without \[claims\]).
+    fn assemble(
+        claims: Option<&Claims>,
+        first: Vec<Claim>,
+        conservation: Option<Kind>,
+        field_equations: Kind,
+        gauge: fn(Gauge) -> Kind,
+        pure_gauge: Kind,
+    ) -> Plan {
         let has_claims = claims.is_some();
-        let mut out = Vec::new();
-        if sourced {
+        let mut out = first;
+        if let Some(kind) = conservation {
             out.push(Claim {
-                kind: Kind::SourceConservation,
+                kind,
                 asserted: claims.and_then(|c| c.field_equations.filter(|b| *b)),
             });
         }
@@ -546,19 +568,19 @@ impl Plan {
         };
         if fe.is_some() || !has_claims {
             out.push(Claim {
-                kind: Kind::FieldEquations { sourced },
+                kind: field_equations,
                 asserted: fe,
             });
         }
         for g in gauges {
             out.push(Claim {
-                kind: Kind::Gauge(g),
+                kind: gauge(g),
                 asserted: has_claims.then_some(true),
             });
         }
         if pg.is_some() || !has_claims {
             out.push(Claim {
-                kind: Kind::PureGauge,
+                kind: pure_gauge,
                 asserted: pg,
             });
         }
@@ -600,50 +622,27 @@ impl Plan {
     /// equations (always asserted), source conservation, field equations, gauges, pure gauge.
     #[must_use]
     pub fn curved(s: Setting<'_>) -> Plan {
-        let (claims, lambda, sourced, pure) = (s.claims, s.lambda, s.sourced, s.pure);
-        let has_claims = claims.is_some();
-        let mut out = vec![Claim {
+        let background = Claim {
             kind: Kind::BackgroundEquations {
-                lambda,
+                lambda: s.lambda,
                 sourced: s.background_sourced,
             },
             asserted: Some(true),
-        }];
-        if sourced || s.background_sourced {
-            out.push(Claim {
-                kind: Kind::CurvedConservation,
-                asserted: claims.and_then(|c| c.field_equations.filter(|b| *b)),
-            });
-        }
-        let (fe, gauges, pg) = match claims {
-            Some(c) => (c.field_equations, c.gauge.clone(), c.pure_gauge),
-            None => (None, Gauge::ALL.to_vec(), None),
         };
-        if fe.is_some() || !has_claims {
-            out.push(Claim {
-                kind: Kind::CurvedFieldEquations { lambda, sourced },
-                asserted: fe,
-            });
-        }
-        for g in gauges {
-            out.push(Claim {
-                kind: Kind::CovariantGauge(g),
-                asserted: has_claims.then_some(true),
-            });
-        }
-        if pg.is_some() || !has_claims {
-            out.push(Claim {
-                kind: match pure {
-                    PureGaugeRoute::Vector => Kind::GaugeVector,
-                    PureGaugeRoute::Riemann | PureGaugeRoute::None => Kind::PureGauge,
-                },
-                asserted: pg,
-            });
-        }
-        Plan {
-            claims: out,
-            has_claims,
-        }
+        Plan::assemble(
+            s.claims,
+            vec![background],
+            (s.sourced || s.background_sourced).then_some(Kind::CurvedConservation),
+            Kind::CurvedFieldEquations {
+                lambda: s.lambda,
+                sourced: s.sourced,
+            },
+            Kind::CovariantGauge,
+            match s.pure {
+                PureGaugeRoute::Vector => Kind::GaugeVector,
+                PureGaugeRoute::Riemann | PureGaugeRoute::None => Kind::PureGauge,
+            },
+        )
     }
 }
 

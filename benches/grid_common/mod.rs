@@ -131,6 +131,12 @@ pub fn wave_residual(plan: &GridPlan, b: &Box4) -> f64 {
 /// `lingrav grid` run share theirs).
 pub fn wave_residual_with(bufs: &mut sweep::Buffers, plan: &GridPlan, b: &Box4) -> f64 {
     let st = Stencil::central(ORDER).expect("order");
-    let sw = sweep::sweep_with(bufs, plan, b, &st, false, None, &mut |_, _| {}).expect("samples");
+    let at = sweep::SweepAt {
+        b,
+        st: &st,
+        mask: false,
+        region: None,
+    };
+    let sw = sweep::sweep_with(bufs, plan, at, &mut |_, _| {}).expect("samples");
     sw.best[0].iter().map(|x| x.0).fold(0.0, f64::max)
 }

@@ -17,6 +17,18 @@ use std::fmt::Write as _;
 pub const DEFAULT_SEED: u64 = 0x5eed_1a96_7a7e;
 
 /// Options of the audit of a printed form (`simplify`, `diff`).
+/// `--format` and `--audit-points`, flattened into the commands whose verdicts are audited
+/// at seeded points (`zero`, `compare`, `gauge`, `project`).
+#[derive(Args, Debug, Clone, Copy)]
+pub struct AuditedFormat {
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = crate::cli::report::Format::Text)]
+    pub format: crate::cli::report::Format,
+    /// Also print the points of the independent audit (and its enclosures there).
+    #[arg(long)]
+    pub audit_points: bool,
+}
+
 #[derive(Args, Debug)]
 pub struct FormAuditArgs {
     /// Seed of the points where the printed form is checked against the input.

@@ -117,14 +117,15 @@ pub fn timeout_if_past(limits: &Limits) -> Option<CanonError> {
     }
 }
 
-/// Ends the process from the main thread: `message` on standard output, the temporaries
-/// removed, exit 3. For work that cannot return early (grid sampling); the caller must not
-/// have printed a partial report.
-pub fn stop_now(message: &str) -> ! {
+/// Ends the process from the main thread as a limit reached, `why` the reason after
+/// `undecided: ` (text or JSON, as asked: `out::limit_report`), the temporaries removed,
+/// exit 3. For work that cannot return early (grid sampling); the caller must not have
+/// printed a partial report.
+pub fn stop_now(why: &str) -> ! {
     use std::io::Write as _;
     lingrav::output::remove_temporaries();
     let mut out = std::io::stdout().lock();
-    let _ = writeln!(out, "{message}");
+    let _ = write!(out, "{}", super::out::limit_report(why));
     let _ = out.flush();
     std::process::exit(3);
 }
@@ -173,8 +174,10 @@ fn start_watchdog() {
     });
 }
 
-/// Ends the process as "undecided: too large" without allocating, locking or unwinding.
+/// Ends the process as "undecided: too large" without allocating, locking or unwinding (as
+/// a one-line JSON object with `result` and `limit` when a JSON report was asked for).
 fn stop_over_budget(cap: usize) -> ! {
+    let json = super::out::json_report();
     let mut msg = [0u8; 160];
     let mut n = 0;
     let mut push = |bytes: &[u8]| {
@@ -185,7 +188,11 @@ fn stop_over_budget(cap: usize) -> ! {
             }
         }
     };
-    push(b"undecided: too large: memory use passed the cap of ");
+    push(if json {
+        b"{\"result\": \"undecided\", \"limit\": \"too large: memory use passed the cap of "
+    } else {
+        b"undecided: too large: memory use passed the cap of "
+    });
     let mut digits = [0u8; 20];
     let mut d = 0;
     let mut mb = cap >> 20;
@@ -199,7 +206,8 @@ fn stop_over_budget(cap: usize) -> ! {
     }
     digits[..d].reverse();
     push(&digits[..d]);
-    push(b" MiB (--max-memory raises it)\n");
+    push(b" MiB (--max-memory raises it)");
+    push(if json { b"\"}\n" } else { b"\n" });
     lingrav::output::remove_temporaries();
     #[cfg(unix)]
     // SAFETY: write and _exit only; the buffer is valid for `n` bytes.

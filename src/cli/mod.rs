@@ -20,7 +20,7 @@ use cmd::{
     ring, show, simplify, zero,
 };
 
-use clap::{Parser, Subcommand};
+use clap::{ArgMatches, CommandFactory, FromArgMatches, Parser, Subcommand};
 use std::process::ExitCode;
 
 const AFTER_HELP: &str = "\
@@ -198,8 +198,10 @@ for a TT wave along n). .npy: one float64 array, shape (rows, columns), columns 
 The sidecar PATH.meta.json holds the column names, conventions, parameter values, every
 column's exact expression and certified error bound, and the tool version. Files appear
 whole (temporary file, then rename; the data first, then the sidecar, which records the
-data file's size and FNV-1a 64 checksum); an existing file is kept unless --force. Exit 0
-written, 2 bad input, a point where a value is not finite, or an I/O error (nothing written).")]
+data file's size and FNV-1a 64 checksum); an existing file is kept unless --force.
+--report json prints what was written as JSON (rows, columns, paths, checksum; a limit or an
+error as a JSON object too). Exit 0 written, 2 bad input, a point where a value is not
+finite, or an I/O error (nothing written), 3 undecided (a limit, or values not certified).")]
     Export(export::ExportArgs),
     /// Emit code (C, Python, Fortran, Rust, LaTeX) that computes the quantities at a point.
     #[command(after_help = "\
@@ -216,7 +218,9 @@ Python:  lingrav_<quantity>(t, x, y, z, <parameters with the file's values as de
          returns an array of shape (N,) + the broadcast shape of the arguments.
 params holds the file's parameters in file order; out the columns in the order of export.
 Arbitrary functions F are calls to functions you supply, F_d0(u) = F(u), F_d1(u) = F'(u),
-..., or, with --samples, the file's samples. The header comment documents everything.")]
+..., or, with --samples, the file's samples. The header comment documents everything.
+--report json prints a JSON report instead: the quantities, the language, the path written
+(or the code itself without --out), its size and checksum.")]
     Emit(emit::EmitArgs),
     /// A Keplerian binary in physical units: luminosity, decay, coalescence, chirp, strain.
     #[command(after_help = "\
@@ -324,7 +328,10 @@ Exit 0 agree (and the limit proved), 1 disagree or INTERNAL DEFECT, 3 undecided,
 
 /// Runs the command line and returns the exit code.
 pub fn run() -> ExitCode {
-    let cli = match Cli::try_parse() {
+    let parsed = Cli::command()
+        .try_get_matches()
+        .and_then(|m| Ok((Cli::from_arg_matches(&m)?, m)));
+    let (cli, matches) = match parsed {
         Ok(c) => c,
         Err(e) => {
             let code = if e.use_stderr() { 2 } else { 0 };
@@ -332,6 +339,9 @@ pub fn run() -> ExitCode {
             return ExitCode::from(code);
         }
     };
+    if let Some((_, sub)) = matches.subcommand() {
+        out::report_as(report_format(sub));
+    }
     let result = match cli.command {
         Command::Zero(a) => zero::run(a),
         Command::Simplify(a) => simplify::run(a),
@@ -351,4 +361,19 @@ pub fn run() -> ExitCode {
         Command::Response(a) => response::run(a),
     };
     out::finish(result)
+}
+
+/// The format a command's report was asked in: `--format` for the commands that print a
+/// result, `--report` for those that write files (`export`, whose `--format` is the data
+/// file's, and `emit`).
+fn report_format(sub: &ArgMatches) -> report::Format {
+    let asked = |id: &str| {
+        sub.try_get_one::<report::Format>(id)
+            .ok()
+            .flatten()
+            .copied()
+    };
+    asked("report")
+        .or_else(|| asked("format"))
+        .unwrap_or(report::Format::Text)
 }

@@ -1,9 +1,15 @@
 //! Output, error rendering and exit codes, shared by every command.
+//!
+//! A command run with `--format json` (`--report json` for `export` and `emit`) prints JSON
+//! on standard output whatever ends it: its report, or, when a limit or an input error ends
+//! it first, a JSON object saying so (see [`finish`]), so a script never has to parse text.
 
+use super::report::{Format, json};
 use lingrav::canon::CanonError;
 use lingrav::output::FileError;
 use std::io::{self, Write};
 use std::process::ExitCode;
+use std::sync::atomic::{AtomicBool, Ordering};
 
 /// What a command concluded.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -134,7 +140,40 @@ impl Outcome {
     }
 }
 
-/// Maps a command's result to the exit code, printing errors to standard error.
+/// Set once, before the command runs, when its report was asked for as JSON: then the ends
+/// that are not the command's own report (a limit, an input error, the memory watchdog) are
+/// JSON objects on standard output too.
+static JSON_REPORT: AtomicBool = AtomicBool::new(false);
+
+/// Records the report format the command line asked for (see [`JSON_REPORT`]).
+pub fn report_as(format: Format) {
+    JSON_REPORT.store(format == Format::Json, Ordering::SeqCst);
+}
+
+/// Whether the command line asked for a JSON report.
+pub fn json_report() -> bool {
+    JSON_REPORT.load(Ordering::SeqCst)
+}
+
+/// The JSON object of a command that a limit ended: `result` `undecided` and the `limit`
+/// reached, worded as the text line after `undecided: ` (the key `check` and `gauge` use
+/// when a limit leaves a verdict undecided).
+pub fn limit_json(why: &str) -> String {
+    json(&serde_json::json!({ "result": "undecided", "limit": why }))
+}
+
+/// The line (text or JSON, as asked) that ends a command stopped by a limit: `why` is the
+/// reason after `undecided: `.
+pub fn limit_report(why: &str) -> String {
+    if json_report() {
+        limit_json(why)
+    } else {
+        format!("undecided: {why}\n")
+    }
+}
+
+/// Maps a command's result to the exit code, printing errors to standard error (and, for a
+/// JSON report, an object with `result` `error` and the message to standard output).
 pub fn finish(r: Result<Outcome, Failure>) -> ExitCode {
     match r {
         Ok(Outcome::Holds) => ExitCode::from(0),
@@ -142,11 +181,18 @@ pub fn finish(r: Result<Outcome, Failure>) -> ExitCode {
         Ok(Outcome::Undecided) => ExitCode::from(3),
         Err(Failure::BrokenPipe) => ExitCode::from(0),
         Err(Failure::GaveUp(why)) => {
-            let _ = writeln!(io::stdout(), "undecided: {why}");
+            let _ = write!(io::stdout(), "{}", limit_report(&why));
             ExitCode::from(3)
         }
         Err(Failure::Input(report)) => {
             let report = super::render::safe(report);
+            if json_report() {
+                let mut j = serde_json::json!({ "result": "error", "error": report.to_string() });
+                if let Some(help) = report.help() {
+                    j["help"] = help.to_string().into();
+                }
+                let _ = write!(io::stdout(), "{}", json(&j));
+            }
             let _ = writeln!(io::stderr(), "{report:?}");
             ExitCode::from(2)
         }

@@ -190,3 +190,22 @@ pub fn build_arg(store: &mut Store, text: &str, label: &str) -> Result<Form, Fai
         }
     })
 }
+
+/// `--output FILE.toml` and `--force`, for the commands that write the perturbation they
+/// derive (`gauge`: h'; `project`: the TT part) as a new problem file.
+#[derive(Args, Debug)]
+pub struct ProblemOutput {
+    /// Also write the result as a new problem file, with the claims proved for it.
+    #[arg(long, value_name = "FILE.toml")]
+    pub output: Option<PathBuf>,
+    /// Replace the output file if it exists.
+    #[arg(long)]
+    pub force: bool,
+}
+
+impl ProblemOutput {
+    /// The output file, opened before any work (`None` without `--output`).
+    pub fn plan(&self) -> Result<Option<Target>, Failure> {
+        plan_optional_output(self.output.as_deref(), self.force, "--output")
+    }
+}

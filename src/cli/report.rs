@@ -2,9 +2,11 @@
 //! reports and verdicts, in text and in JSON. Commands assemble their reports from these, so
 //! a verdict, a claim or a list of components reads the same everywhere.
 
+use super::out::Outcome;
 use clap::ValueEnum;
 use lingrav::canon::{Form, Store};
 use lingrav::check::{CheckReport, ClaimReport, Component, Status};
+use lingrav::problem::Claims;
 use lingrav::tensor::Sym4;
 use lingrav::tensor::{COMPONENTS, component_name};
 use lingrav::zero::Verdict;
@@ -247,4 +249,41 @@ pub fn gauges_of(report: &CheckReport) -> (Vec<&str>, String) {
         lingrav::check::audit_text(&components)
     );
     (holding, lines)
+}
+
+/// The claims of `asked` that `report` (the check of a derived perturbation) decided, as
+/// they go into the file written for it: field equations and gauges only where proved; pure
+/// gauge keeps the value asked where it holds and is written negated where it fails.
+pub fn proved_claims(report: &CheckReport, asked: &Claims) -> Claims {
+    let status = |key: &str| report.status_of(key);
+    Claims {
+        field_equations: report.proved("field_equations"),
+        gauge: asked
+            .gauge
+            .iter()
+            .copied()
+            .filter(|g| status(&format!("gauge.{}", g.name())) == Some(Status::Holds))
+            .collect(),
+        pure_gauge: asked
+            .pure_gauge
+            .and_then(|want| match status("pure_gauge") {
+                Some(Status::Holds) => Some(want),
+                Some(Status::Fails) => Some(!want),
+                _ => None,
+            }),
+    }
+}
+
+/// The outcome of a result that must be a TT-gauge solution (the TT part of `project
+/// --output`, the result of `gauge --to-tt`): holds when TT gauge and the field equations
+/// are proved, fails when either fails, else undecided.
+pub fn tt_solution(report: &CheckReport) -> Outcome {
+    match (
+        report.status_of("gauge.tt"),
+        report.status_of("field_equations"),
+    ) {
+        (Some(Status::Holds), Some(Status::Holds)) => Outcome::Holds,
+        (Some(Status::Fails), _) | (_, Some(Status::Fails)) => Outcome::Fails,
+        _ => Outcome::Undecided,
+    }
 }

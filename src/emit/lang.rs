@@ -56,16 +56,31 @@ impl Printed {
 
 /// How a language spells what the printer needs.
 pub(crate) trait Syntax {
-    /// A non-negative finite number.
-    fn num(&self, v: f64) -> String;
-    /// The name of a built-in function.
-    fn fun(&self, f: Fun) -> &'static str;
+    /// The names of the built-in functions: sin, cos, exp, log and the square root.
+    fn functions(&self) -> &'static [&'static str; 5];
+    /// A non-negative finite number (shortest round-trip digits unless the language needs
+    /// more).
+    fn num(&self, v: f64) -> String {
+        float(v)
+    }
     /// `base^n`.
     fn pow(&self, base: &Printed, n: u32) -> Printed;
     /// The principal `arg^(1/q)`, q >= 3 (q = 2 is `fun_sqrt`).
     fn root(&self, arg: &Printed, q: u32) -> Printed;
+    /// The name of a built-in function.
+    fn fun(&self, f: Fun) -> &'static str {
+        let k = match f {
+            Fun::Sin => 0,
+            Fun::Cos => 1,
+            Fun::Exp => 2,
+            Fun::Log => 3,
+        };
+        self.functions()[k]
+    }
     /// The square root's name.
-    fn sqrt(&self) -> &'static str;
+    fn sqrt(&self) -> &'static str {
+        self.functions()[4]
+    }
 }
 
 /// C (C99, `<math.h>`).
@@ -87,17 +102,21 @@ fn float(v: f64) -> String {
     }
 }
 
-impl Syntax for C {
-    fn num(&self, v: f64) -> String {
-        float(v)
+/// `base**exponent` (Python, Fortran), the base parenthesized unless it is an atom.
+fn star_star(base: &Printed, exponent: &str) -> Printed {
+    Printed {
+        text: format!("{}**{exponent}", base.operand(Prec::Atom)),
+        prec: Prec::Pow,
+        neg: false,
     }
-    fn fun(&self, f: Fun) -> &'static str {
-        match f {
-            Fun::Sin => "sin",
-            Fun::Cos => "cos",
-            Fun::Exp => "exp",
-            Fun::Log => "log",
-        }
+}
+
+/// The functions of C's `<math.h>` and Fortran's intrinsics.
+const PLAIN: [&str; 5] = ["sin", "cos", "exp", "log", "sqrt"];
+
+impl Syntax for C {
+    fn functions(&self) -> &'static [&'static str; 5] {
+        &PLAIN
     }
     fn pow(&self, base: &Printed, n: u32) -> Printed {
         Printed::atom(format!("pow({}, {n})", base.full()))
@@ -105,89 +124,44 @@ impl Syntax for C {
     fn root(&self, arg: &Printed, q: u32) -> Printed {
         Printed::atom(format!("pow({}, 1.0/{q}.0)", arg.full()))
     }
-    fn sqrt(&self) -> &'static str {
-        "sqrt"
-    }
 }
 
 impl Syntax for Python {
-    fn num(&self, v: f64) -> String {
-        float(v)
-    }
-    fn fun(&self, f: Fun) -> &'static str {
-        match f {
-            Fun::Sin => "np.sin",
-            Fun::Cos => "np.cos",
-            Fun::Exp => "np.exp",
-            Fun::Log => "np.log",
-        }
+    fn functions(&self) -> &'static [&'static str; 5] {
+        &["np.sin", "np.cos", "np.exp", "np.log", "np.sqrt"]
     }
     fn pow(&self, base: &Printed, n: u32) -> Printed {
-        Printed {
-            text: format!("{}**{n}", base.operand(Prec::Atom)),
-            prec: Prec::Pow,
-            neg: false,
-        }
+        star_star(base, &n.to_string())
     }
     fn root(&self, arg: &Printed, q: u32) -> Printed {
         Printed::atom(format!("np.power({}, 1.0/{q}.0)", arg.full()))
     }
-    fn sqrt(&self) -> &'static str {
-        "np.sqrt"
-    }
 }
 
 impl Syntax for Fortran {
+    fn functions(&self) -> &'static [&'static str; 5] {
+        &PLAIN
+    }
     fn num(&self, v: f64) -> String {
         format!("{}_real64", float(v))
     }
-    fn fun(&self, f: Fun) -> &'static str {
-        match f {
-            Fun::Sin => "sin",
-            Fun::Cos => "cos",
-            Fun::Exp => "exp",
-            Fun::Log => "log",
-        }
-    }
     fn pow(&self, base: &Printed, n: u32) -> Printed {
-        Printed {
-            text: format!("{}**{n}", base.operand(Prec::Atom)),
-            prec: Prec::Pow,
-            neg: false,
-        }
+        star_star(base, &n.to_string())
     }
     fn root(&self, arg: &Printed, q: u32) -> Printed {
-        Printed {
-            text: format!("{}**(1.0_real64/{q}.0_real64)", arg.operand(Prec::Atom)),
-            prec: Prec::Pow,
-            neg: false,
-        }
-    }
-    fn sqrt(&self) -> &'static str {
-        "sqrt"
+        star_star(arg, &format!("(1.0_real64/{q}.0_real64)"))
     }
 }
 
 impl Syntax for Rust {
-    fn num(&self, v: f64) -> String {
-        float(v)
-    }
-    fn fun(&self, f: Fun) -> &'static str {
-        match f {
-            Fun::Sin => "f64::sin",
-            Fun::Cos => "f64::cos",
-            Fun::Exp => "f64::exp",
-            Fun::Log => "f64::ln",
-        }
+    fn functions(&self) -> &'static [&'static str; 5] {
+        &["f64::sin", "f64::cos", "f64::exp", "f64::ln", "f64::sqrt"]
     }
     fn pow(&self, base: &Printed, n: u32) -> Printed {
         Printed::atom(format!("f64::powi({}, {n})", base.full()))
     }
     fn root(&self, arg: &Printed, q: u32) -> Printed {
         Printed::atom(format!("f64::powf({}, 1.0/{q}.0)", arg.full()))
-    }
-    fn sqrt(&self) -> &'static str {
-        "f64::sqrt"
     }
 }
 

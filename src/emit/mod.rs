@@ -492,11 +492,18 @@ pub fn emit(
     all_users.dedup();
     let ids = idents(lang, src, &all_users);
     let header = header_lines(src, blocks, lang, inline_samples, Some(&ids));
+    let unit = Unit {
+        dag: &dag,
+        ids: &ids,
+        src,
+        header: &header,
+        fns: &functions,
+    };
     Ok(match lang {
-        Lang::C => c_file(&dag, &ids, src, &header, &functions, &all_users),
-        Lang::Python => python_file(&dag, &ids, src, &header, &functions),
-        Lang::Fortran => fortran_file(&dag, &ids, src, &header, &functions),
-        Lang::Rust => rust_file(&dag, &ids, src, &header, &functions),
+        Lang::C => c_file(&unit, &all_users),
+        Lang::Python => python_file(&unit),
+        Lang::Fortran => fortran_file(&unit),
+        Lang::Rust => rust_file(&unit),
         Lang::Latex => unreachable!("handled above"),
     })
 }
@@ -508,6 +515,39 @@ fn temp_names(ids: &Idents, f: &Function<'_>) -> FxHashMap<Id, String> {
         .enumerate()
         .map(|(k, &id)| (id, format!("{}{}", ids.temp_prefix, k + 1)))
         .collect()
+}
+
+/// The doc lines of one generated function: its definition, then which output slot
+/// (`slot(k)` for column k) holds which column.
+fn function_doc(src: &Source<'_>, f: &Function<'_>, slot: impl Fn(usize) -> String) -> Vec<String> {
+    let q = f.block.quantity;
+    let outputs: Vec<String> = f
+        .block
+        .columns
+        .iter()
+        .enumerate()
+        .map(|(k, c)| format!("{} = {}", slot(k), c.name))
+        .collect();
+    vec![
+        format!("lingrav_{}: {}.", q.name(), src.definition(q)),
+        outputs.join(", "),
+    ]
+}
+
+/// Appends the statements of one function's body: each temporary (`temp(name, value)`),
+/// then each output column (`out(k, value)`).
+fn body(
+    s: &mut String,
+    (f, temps, p): (&Function<'_>, &FxHashMap<Id, String>, &Printer<'_>),
+    temp: impl Fn(&str, &str) -> String,
+    out: impl Fn(usize, &str) -> String,
+) {
+    for &t in &f.temps {
+        s.push_str(&temp(&temps[&t], &p.expr(t).full()));
+    }
+    for (k, &r) in f.roots.iter().enumerate() {
+        s.push_str(&out(k, &p.reference(r).full()));
+    }
 }
 
 fn printer<'a>(
@@ -525,17 +565,21 @@ fn printer<'a>(
     }
 }
 
-fn c_file(
-    dag: &Dag,
-    ids: &Idents,
-    src: &Source<'_>,
-    header: &[String],
-    fns: &[Function<'_>],
-    users: &[(u32, u32)],
-) -> String {
+/// What every generated file is made of: the DAG, the identifiers, the problem's source,
+/// the header lines and the functions, one per quantity.
+#[derive(Clone, Copy)]
+struct Unit<'a, 'b> {
+    dag: &'a Dag,
+    ids: &'a Idents,
+    src: &'a Source<'b>,
+    header: &'a [String],
+    fns: &'a [Function<'b>],
+}
+
+fn c_file(u: &Unit<'_, '_>, users: &[(u32, u32)]) -> String {
     let mut s = String::from("/*\n");
-    s.push_str(&comment(header, " * "));
-    let cargs = ids.vars[..4]
+    s.push_str(&comment(u.header, " * "));
+    let cargs = u.ids.vars[..4]
         .iter()
         .map(|v| format!("double {v}"))
         .collect::<Vec<_>>()
@@ -544,17 +588,17 @@ fn c_file(
     s.push_str(" *                                    const double *params, double *out);\n");
     s.push_str(" * params may be NULL when the problem has no parameters; out receives the columns.\n */\n");
     s.push_str("#include <math.h>\n\n");
-    let _ = writeln!(s, "#define LINGRAV_NPARAMS {}\n", ids.vars.len() - 4);
+    let _ = writeln!(s, "#define LINGRAV_NPARAMS {}\n", u.ids.vars.len() - 4);
     if !users.is_empty() {
         s.push_str("/* Supplied by you: derivatives of the arbitrary functions. */\n");
-        for u in users {
-            let _ = writeln!(s, "double {}(double u);", ids.users[u]);
+        for fu in users {
+            let _ = writeln!(s, "double {}(double u);", u.ids.users[fu]);
         }
         s.push('\n');
     }
-    for f in fns {
-        let temps = temp_names(ids, f);
-        let p = printer(dag, &lang::C, ids, &temps);
+    for f in u.fns {
+        let temps = temp_names(u.ids, f);
+        let p = printer(u.dag, &lang::C, u.ids, &temps);
         let q = f.block.quantity.name();
         let n = f.roots.len();
         let _ = writeln!(s, "#define LINGRAV_{}_COLUMNS {n}", q.to_ascii_uppercase());
@@ -569,19 +613,7 @@ fn c_file(
             "const char *const lingrav_{q}_columns[{n}] = {{{}}};\n",
             names.join(", ")
         );
-        let mut doc = vec![format!(
-            "lingrav_{q}: {}.",
-            src.definition(f.block.quantity)
-        )];
-        doc.push(
-            f.block
-                .columns
-                .iter()
-                .enumerate()
-                .map(|(k, c)| format!("out[{k}] = {}", c.name))
-                .collect::<Vec<_>>()
-                .join(", "),
-        );
+        let doc = function_doc(u.src, f, |k| format!("out[{k}]"));
         s.push_str("/*\n");
         s.push_str(&comment(&doc, " * "));
         s.push_str(" */\n");
@@ -596,16 +628,16 @@ fn c_file(
             let _ = writeln!(
                 s,
                 "    const double {} = params[{}];",
-                ids.vars[v as usize],
+                u.ids.vars[v as usize],
                 v - 4
             );
         }
-        for &t in &f.temps {
-            let _ = writeln!(s, "    const double {} = {};", temps[&t], p.expr(t).full());
-        }
-        for (k, &r) in f.roots.iter().enumerate() {
-            let _ = writeln!(s, "    out[{k}] = {};", p.reference(r).full());
-        }
+        body(
+            &mut s,
+            (f, &temps, &p),
+            |name, value| format!("    const double {name} = {value};\n"),
+            |k, value| format!("    out[{k}] = {value};\n"),
+        );
         s.push_str("}\n\n");
     }
     s
@@ -615,15 +647,9 @@ fn py_string(s: &str) -> String {
     serde_json::to_string(s).unwrap_or_else(|_| "\"\"".into())
 }
 
-fn python_file(
-    dag: &Dag,
-    ids: &Idents,
-    src: &Source<'_>,
-    header: &[String],
-    fns: &[Function<'_>],
-) -> String {
+fn python_file(u: &Unit<'_, '_>) -> String {
     let mut s = String::from("\"\"\"\n");
-    for l in header {
+    for l in u.header {
         for w in wrap(l, 92) {
             s.push_str(&w.replace('\\', "\\\\").replace("\"\"\"", "\\\"\\\"\\\""));
             s.push('\n');
@@ -633,15 +659,16 @@ fn python_file(
         "\nEach function returns an array of shape (columns,) + the broadcast shape of its\n\
          arguments (a scalar point gives shape (columns,)).\n\"\"\"\n\nimport numpy as np\n\n",
     );
-    let params: Vec<String> = src
+    let params: Vec<String> = u
+        .src
         .parameters
         .iter()
         .enumerate()
-        .map(|(k, (_, v))| format!("{}: {:?}", py_string(&ids.vars[4 + k]), v))
+        .map(|(k, (_, v))| format!("{}: {:?}", py_string(&u.ids.vars[4 + k]), v))
         .collect();
     let _ = writeln!(s, "PARAMETERS = {{{}}}", params.join(", "));
     s.push_str("COLUMNS = {\n");
-    for f in fns {
+    for f in u.fns {
         let names: Vec<String> = f.block.columns.iter().map(|c| py_string(&c.name)).collect();
         let _ = writeln!(
             s,
@@ -651,22 +678,22 @@ fn python_file(
         );
     }
     s.push_str("}\n");
-    for f in fns {
-        let temps = temp_names(ids, f);
-        let p = printer(dag, &lang::Python, ids, &temps);
+    for f in u.fns {
+        let temps = temp_names(u.ids, f);
+        let p = printer(u.dag, &lang::Python, u.ids, &temps);
         let q = f.block.quantity.name();
-        let mut args: Vec<String> = ids.vars[..4].to_vec();
-        for (k, (_, v)) in src.parameters.iter().enumerate() {
-            args.push(format!("{}={:?}", ids.vars[4 + k], v));
+        let mut args: Vec<String> = u.ids.vars[..4].to_vec();
+        for (k, (_, v)) in u.src.parameters.iter().enumerate() {
+            args.push(format!("{}={:?}", u.ids.vars[4 + k], v));
         }
         if !f.users_used.is_empty() {
             args.push("*".into());
-            args.extend(f.users_used.iter().map(|u| ids.users[u].clone()));
+            args.extend(f.users_used.iter().map(|fu| u.ids.users[fu].clone()));
         }
         let _ = writeln!(s, "\n\ndef lingrav_{q}({}):", args.join(", "));
         let doc = format!(
             "{}. Returns COLUMNS[{}] stacked along the first axis.",
-            src.definition(f.block.quantity),
+            u.src.definition(f.block.quantity),
             py_string(q)
         );
         s.push_str("    \"\"\"");
@@ -678,7 +705,7 @@ fn python_file(
             s.push_str(&l.replace('\\', "\\\\"));
         }
         s.push_str("\"\"\"\n");
-        let inputs: Vec<String> = ids.vars.clone();
+        let inputs: Vec<String> = u.ids.vars.clone();
         let _ = writeln!(
             s,
             "    {} = (np.asarray(v, dtype=float) for v in ({},))",
@@ -695,26 +722,20 @@ fn python_file(
                 .collect::<Vec<_>>()
                 .join(", ")
         );
-        for &t in &f.temps {
-            let _ = writeln!(s, "    {} = {}", temps[&t], p.expr(t).full());
-        }
-        for (k, &r) in f.roots.iter().enumerate() {
-            let _ = writeln!(s, "    out[{k}] = {}", p.reference(r).full());
-        }
+        body(
+            &mut s,
+            (f, &temps, &p),
+            |name, value| format!("    {name} = {value}\n"),
+            |k, value| format!("    out[{k}] = {value}\n"),
+        );
         s.push_str("    return out\n");
     }
     s
 }
 
-fn fortran_file(
-    dag: &Dag,
-    ids: &Idents,
-    src: &Source<'_>,
-    header: &[String],
-    fns: &[Function<'_>],
-) -> String {
-    let mut s = comment(header, "! ");
-    let fargs = ids.vars[..4].join(", ");
+fn fortran_file(u: &Unit<'_, '_>) -> String {
+    let mut s = comment(u.header, "! ");
+    let fargs = u.ids.vars[..4].join(", ");
     let _ = writeln!(
         s,
         "!\n! Each routine: subroutine lingrav_<quantity>({fargs}, params, out) with"
@@ -724,32 +745,20 @@ fn fortran_file(
         "! real(real64), intent(in) :: {fargs}, params(*) and real(real64), intent(out) :: out(n)."
     );
     s.push_str("module lingrav_formulas\n  use, intrinsic :: iso_fortran_env, only: real64\n  implicit none\n  private\n");
-    for f in fns {
+    for f in u.fns {
         let _ = writeln!(s, "  public :: lingrav_{}", f.block.quantity.name());
     }
     let _ = writeln!(
         s,
         "  integer, parameter, public :: lingrav_nparams = {}",
-        src.parameters.len()
+        u.src.parameters.len()
     );
     s.push_str("contains\n");
-    for f in fns {
-        let temps = temp_names(ids, f);
-        let p = printer(dag, &lang::Fortran, ids, &temps);
+    for f in u.fns {
+        let temps = temp_names(u.ids, f);
+        let p = printer(u.dag, &lang::Fortran, u.ids, &temps);
         let q = f.block.quantity.name();
-        let mut doc = vec![format!(
-            "lingrav_{q}: {}.",
-            src.definition(f.block.quantity)
-        )];
-        doc.push(
-            f.block
-                .columns
-                .iter()
-                .enumerate()
-                .map(|(k, c)| format!("out({}) = {}", k + 1, c.name))
-                .collect::<Vec<_>>()
-                .join(", "),
-        );
+        let doc = function_doc(u.src, f, |k| format!("out({})", k + 1));
         s.push('\n');
         s.push_str(&comment(&doc, "  ! "));
         let _ = writeln!(s, "  subroutine lingrav_{q}({fargs}, params, out)");
@@ -759,60 +768,46 @@ fn fortran_file(
         let mut locals: Vec<String> = f
             .params_used
             .iter()
-            .map(|&v| ids.vars[v as usize].clone())
+            .map(|&v| u.ids.vars[v as usize].clone())
             .collect();
         locals.extend(f.temps.iter().map(|t| temps[t].clone()));
         for chunk in locals.chunks(8) {
             let _ = writeln!(s, "    real(real64) :: {}", chunk.join(", "));
         }
-        for u in &f.users_used {
-            let _ = writeln!(s, "    real(real64), external :: {}", ids.users[u]);
+        for fu in &f.users_used {
+            let _ = writeln!(s, "    real(real64), external :: {}", u.ids.users[fu]);
         }
         for &v in &f.params_used {
-            let _ = writeln!(s, "    {} = params({})", ids.vars[v as usize], v - 3);
+            let _ = writeln!(s, "    {} = params({})", u.ids.vars[v as usize], v - 3);
         }
-        for &t in &f.temps {
-            s.push_str(&lang::fortran_lines(
-                "    ",
-                &format!("{} = {}", temps[&t], p.expr(t).full()),
-                100,
-            ));
-        }
-        for (k, &r) in f.roots.iter().enumerate() {
-            s.push_str(&lang::fortran_lines(
-                "    ",
-                &format!("out({}) = {}", k + 1, p.reference(r).full()),
-                100,
-            ));
-        }
+        body(
+            &mut s,
+            (f, &temps, &p),
+            |name, value| lang::fortran_lines("    ", &format!("{name} = {value}"), 100),
+            |k, value| lang::fortran_lines("    ", &format!("out({}) = {value}", k + 1), 100),
+        );
         let _ = writeln!(s, "  end subroutine lingrav_{q}");
     }
     s.push_str("\nend module lingrav_formulas\n");
     s
 }
 
-fn rust_file(
-    dag: &Dag,
-    ids: &Idents,
-    src: &Source<'_>,
-    header: &[String],
-    fns: &[Function<'_>],
-) -> String {
-    let mut s = comment(header, "// ");
+fn rust_file(u: &Unit<'_, '_>) -> String {
+    let mut s = comment(u.header, "// ");
     let _ = writeln!(
         s,
         "//\n// Each function: fn lingrav_<quantity>({}, params: &[f64; LINGRAV_NPARAMS],",
-        ids.vars[..4].join(", ")
+        u.ids.vars[..4].join(", ")
     );
     s.push_str("// out: &mut [f64; N], then the supplied functions, if any).\n\n");
-    let np = src.parameters.len();
+    let np = u.src.parameters.len();
     let _ = writeln!(
         s,
         "/// Number of parameters, in file order.\npub const LINGRAV_NPARAMS: usize = {np};"
     );
-    for f in fns {
-        let temps = temp_names(ids, f);
-        let p = printer(dag, &lang::Rust, ids, &temps);
+    for f in u.fns {
+        let temps = temp_names(u.ids, f);
+        let p = printer(u.dag, &lang::Rust, u.ids, &temps);
         let q = f.block.quantity.name();
         let n = f.roots.len();
         let names: Vec<String> = f.block.columns.iter().map(|c| py_string(&c.name)).collect();
@@ -822,28 +817,31 @@ fn rust_file(
             q.to_ascii_uppercase(),
             names.join(", ")
         );
-        for l in wrap(&format!("{}.", src.definition(f.block.quantity)), 92) {
+        for l in wrap(&format!("{}.", u.src.definition(f.block.quantity)), 92) {
             let _ = writeln!(s, "/// {}", l.trim_start());
         }
         s.push_str("#[allow(non_snake_case, unused_variables, clippy::all)]\n");
-        let mut args: Vec<String> = ids.vars[..4].iter().map(|v| format!("{v}: f64")).collect();
+        let mut args: Vec<String> = u.ids.vars[..4]
+            .iter()
+            .map(|v| format!("{v}: f64"))
+            .collect();
         args.push(format!("params: &[f64; {np}]"));
         args.push(format!("out: &mut [f64; {n}]"));
         args.extend(
             f.users_used
                 .iter()
-                .map(|u| format!("{}: &dyn Fn(f64) -> f64", ids.users[u])),
+                .map(|fu| format!("{}: &dyn Fn(f64) -> f64", u.ids.users[fu])),
         );
         let _ = writeln!(s, "pub fn lingrav_{q}({}) {{", args.join(", "));
         for &v in &f.params_used {
-            let _ = writeln!(s, "    let {} = params[{}];", ids.vars[v as usize], v - 4);
+            let _ = writeln!(s, "    let {} = params[{}];", u.ids.vars[v as usize], v - 4);
         }
-        for &t in &f.temps {
-            let _ = writeln!(s, "    let {} = {};", temps[&t], p.expr(t).full());
-        }
-        for (k, &r) in f.roots.iter().enumerate() {
-            let _ = writeln!(s, "    out[{k}] = {};", p.reference(r).full());
-        }
+        body(
+            &mut s,
+            (f, &temps, &p),
+            |name, value| format!("    let {name} = {value};\n"),
+            |k, value| format!("    out[{k}] = {value};\n"),
+        );
         s.push_str("}\n");
     }
     s

@@ -251,17 +251,7 @@ impl IntervalProgram {
             let v = match *i {
                 Instr::Const(c, _) => Some(c),
                 Instr::Input(k) => Interval::point(point[k as usize]),
-                Instr::Add(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.add(y)),
-                Instr::Sub(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.sub(y)),
-                Instr::Mul(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.mul(y)),
-                Instr::Div(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.div(y)),
-                Instr::Neg(a) => r(a).map(|x| -x),
-                Instr::PowI(a, k) => r(a).and_then(|x| x.powi(i64::from(k))),
-                Instr::Root(a, q) => r(a).and_then(|x| root(x, q)),
-                Instr::Exp(a) => r(a).and_then(Interval::exp),
-                Instr::Log(a) => r(a).and_then(Interval::ln),
-                Instr::Sin(a) => r(a).map(Interval::sin),
-                Instr::Cos(a) => r(a).map(Interval::cos),
+                op => apply(op, r),
             };
             regs.push(v);
         }
@@ -447,16 +437,7 @@ impl IntervalProgram {
                             let s = k as usize * LANES + j;
                             Interval::new(lo_src[s], hi_src[s])
                         };
-                        let v = match *ins {
-                            Instr::Div(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.div(y)),
-                            Instr::PowI(a, k) => r(a).and_then(|x| x.powi(i64::from(k))),
-                            Instr::Root(a, q) => r(a).and_then(|x| root(x, q)),
-                            Instr::Exp(a) => r(a).and_then(Interval::exp),
-                            Instr::Log(a) => r(a).and_then(Interval::ln),
-                            Instr::Sin(a) => r(a).map(Interval::sin),
-                            Instr::Cos(a) => r(a).map(Interval::cos),
-                            _ => None,
-                        };
+                        let v = apply(*ins, r);
                         (lo[j], hi[j]) = v.map_or((f64::NAN, f64::NAN), |v| (v.lo(), v.hi()));
                     }
                 }
@@ -557,6 +538,26 @@ impl<S: Clone> Memo<S> {
     }
 }
 
+/// The value of one operation from its operands' values (`r(register)`): the one
+/// definition that [`IntervalProgram::run`] and the per-lane fallback of the block evaluator
+/// share, so the two agree bit for bit. Constants and inputs are not operations: `None`.
+fn apply(ins: Instr, r: impl Fn(u32) -> Option<Interval>) -> Option<Interval> {
+    match ins {
+        Instr::Const(..) | Instr::Input(_) => None,
+        Instr::Add(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.add(y)),
+        Instr::Sub(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.sub(y)),
+        Instr::Mul(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.mul(y)),
+        Instr::Div(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.div(y)),
+        Instr::Neg(a) => r(a).map(|x| -x),
+        Instr::PowI(a, k) => r(a).and_then(|x| x.powi(i64::from(k))),
+        Instr::Root(a, q) => r(a).and_then(|x| root(x, q)),
+        Instr::Exp(a) => r(a).and_then(Interval::exp),
+        Instr::Log(a) => r(a).and_then(Interval::ln),
+        Instr::Sin(a) => r(a).map(Interval::sin),
+        Instr::Cos(a) => r(a).map(Interval::cos),
+    }
+}
+
 /// [`root`] in any enclosure arithmetic.
 fn root_in<S: Scalar>(x: &S, q: u32, ctx: &S::Ctx) -> Option<S> {
     if q == 2 {
@@ -587,6 +588,20 @@ fn root(x: Interval, q: u32) -> Option<Interval> {
     x.ln()?.mul(inv_q)?.exp()
 }
 
+/// The operations of [`Target`] that are one instruction each: `name(a, b) => Instr`, the
+/// operands registers (`u32`) unless a type is given.
+macro_rules! push_instructions {
+    ($($name:ident($($arg:ident $(: $ty:ty)?),+) => $instr:ident,)+) => {
+        $(
+            fn $name(&mut self, $($arg: push_instructions!(@ty $($ty)?)),+) -> u32 {
+                self.push(Instr::$instr($($arg),+))
+            }
+        )+
+    };
+    (@ty) => { u32 };
+    (@ty $ty:ty) => { $ty };
+}
+
 impl Target for IntervalProgram {
     type Node = u32;
     fn number(&mut self, q: &BigRational) -> Option<u32> {
@@ -613,38 +628,18 @@ impl Target for IntervalProgram {
             }),
         }
     }
-    fn add(&mut self, a: u32, b: u32) -> u32 {
-        self.push(Instr::Add(a, b))
-    }
-    fn sub(&mut self, a: u32, b: u32) -> u32 {
-        self.push(Instr::Sub(a, b))
-    }
-    fn mul(&mut self, a: u32, b: u32) -> u32 {
-        self.push(Instr::Mul(a, b))
-    }
-    fn div(&mut self, a: u32, b: u32) -> u32 {
-        self.push(Instr::Div(a, b))
-    }
-    fn neg(&mut self, a: u32) -> u32 {
-        self.push(Instr::Neg(a))
-    }
-    fn powi(&mut self, a: u32, k: i32) -> u32 {
-        self.push(Instr::PowI(a, k))
-    }
-    fn root(&mut self, a: u32, q: u32) -> u32 {
-        self.push(Instr::Root(a, q))
-    }
-    fn exp(&mut self, a: u32) -> u32 {
-        self.push(Instr::Exp(a))
-    }
-    fn log(&mut self, a: u32) -> u32 {
-        self.push(Instr::Log(a))
-    }
-    fn sin(&mut self, a: u32) -> u32 {
-        self.push(Instr::Sin(a))
-    }
-    fn cos(&mut self, a: u32) -> u32 {
-        self.push(Instr::Cos(a))
+    push_instructions! {
+        add(a, b) => Add,
+        sub(a, b) => Sub,
+        mul(a, b) => Mul,
+        div(a, b) => Div,
+        neg(a) => Neg,
+        powi(a, k: i32) => PowI,
+        root(a, q: u32) => Root,
+        exp(a) => Exp,
+        log(a) => Log,
+        sin(a) => Sin,
+        cos(a) => Cos,
     }
 }
 
@@ -657,18 +652,23 @@ mod tests {
     use crate::tape::UserExprs;
     use proptest::prelude::*;
 
+    /// The texts of a vacuum perturbation `h` without defines or functions.
+    fn vacuum(h: &[[Option<String>; 4]; 4]) -> Texts<'_> {
+        Texts {
+            h,
+            source: None,
+            user: UserExprs::default(),
+            frame: None,
+        }
+    }
+
     /// The program's enclosures contain the true values: R_txtx of h_xx = sin(w (t - z)) is
     /// (w^2/2) sin(w (t - z)) (MTW sign: R_txtx = -(1/2) d_t d_t h_xx).
     #[test]
     fn curvature_enclosures_contain_the_value() {
         let mut h: [[Option<String>; 4]; 4] = Default::default();
         h[1][1] = Some("sin(w*(t - z))".into());
-        let texts = Texts {
-            h: &h,
-            source: None,
-            user: UserExprs::default(),
-            frame: None,
-        };
+        let texts = vacuum(&h);
         let p = IntervalProgram::new(&[("w".into(), 3.0)]);
         let (p, r) = roots(p, &texts, &[Quantity::Riemann]).unwrap();
         let mut regs = Vec::new();
@@ -681,12 +681,7 @@ mod tests {
         // A singular point gives None, not a number.
         let mut h: [[Option<String>; 4]; 4] = Default::default();
         h[0][0] = Some("1/x".into());
-        let texts = Texts {
-            h: &h,
-            source: None,
-            user: UserExprs::default(),
-            frame: None,
-        };
+        let texts = vacuum(&h);
         let (p, r) = roots(IntervalProgram::new(&[]), &texts, &[Quantity::H]).unwrap();
         p.run([0.0, 0.0, 1.0, 1.0], &mut regs);
         assert!(regs[r[0][0] as usize].is_none());

@@ -276,26 +276,12 @@ pub fn parse_list(arg: Arg<'_>, out: &mut Vec<Quantity>) -> Result<(), ArgError>
 }
 
 fn suggest(name: &str) -> Option<&'static str> {
-    let dist = |a: &str, b: &str| -> usize {
-        let a: Vec<char> = a.chars().collect();
-        let b: Vec<char> = b.chars().collect();
-        let mut prev: Vec<usize> = (0..=b.len()).collect();
-        for i in 1..=a.len() {
-            let mut cur = vec![i; b.len() + 1];
-            for j in 1..=b.len() {
-                let sub = prev[j - 1] + usize::from(a[i - 1] != b[j - 1]);
-                cur[j] = sub.min(prev[j] + 1).min(cur[j - 1] + 1);
-            }
-            prev = cur;
-        }
-        prev[b.len()]
-    };
     if name.chars().count() > 40 {
         return None;
     }
     Quantity::NAMES
         .iter()
-        .map(|n| (dist(name, n), *n))
+        .map(|n| (crate::problem::edit_distance(name, n), *n))
         .filter(|(d, n)| *d <= (n.len().max(name.len()) + 1) / 3)
         .min()
         .map(|(_, n)| n)

@@ -874,25 +874,22 @@ pub fn run(
         };
         let per_slab = (n as u64).pow(3);
         let base = done;
-        let sw = sweep::sweep_errors(
-            &mut bufs,
-            plan,
-            &b,
-            &st,
-            settings.mask_nonfinite,
-            Some(region),
-            &errors,
-            &mut |slab, slabs| {
-                progress(Progress {
-                    level: li,
-                    levels: nlev,
-                    points: n,
-                    slab,
-                    slabs,
-                    work: (base + slab as u64 * per_slab, total),
-                });
-            },
-        )?;
+        let at = sweep::SweepAt {
+            b: &b,
+            st: &st,
+            mask: settings.mask_nonfinite,
+            region: Some(region),
+        };
+        let sw = sweep::sweep_errors(&mut bufs, plan, at, &errors, &mut |slab, slabs| {
+            progress(Progress {
+                level: li,
+                levels: nlev,
+                points: n,
+                slab,
+                slabs,
+                work: (base + slab as u64 * per_slab, total),
+            });
+        })?;
         done += (n as u64).pow(4);
         levels.push(Level {
             points: n,

@@ -306,23 +306,48 @@ fn fit(v: &mut Vec<f64>, len: usize) {
     }
 }
 
+/// Per claim, per component: the largest |residual| so far and the point where it is.
+type Peaks = Vec<Vec<(f64, [usize; 4])>>;
+
+/// The largest residual of every component with where it is (none yet), and the points
+/// skipped per claim (none yet).
+fn no_residuals_yet(plan: &GridPlan) -> (Peaks, Vec<usize>) {
+    let best = plan
+        .claims
+        .iter()
+        .map(|c| vec![(0.0, [0; 4]); c.components.len()])
+        .collect();
+    (best, vec![0usize; plan.claims.len()])
+}
+
+/// Where and how a sweep samples: the box, the stencil, whether non-finite samples are
+/// masked (else they stop the sweep), and the region residuals are taken in (per axis
+/// `[lo, hi]`; `None`: every interior point).
+#[derive(Clone, Copy, Debug)]
+pub struct SweepAt<'a> {
+    /// The box and its resolution.
+    pub b: &'a Box4,
+    /// The finite-difference stencil.
+    pub st: &'a Stencil,
+    /// Mask non-finite samples instead of stopping.
+    pub mask: bool,
+    /// The region of the residuals.
+    pub region: Option<[[f64; 2]; 4]>,
+}
+
 /// Samples and residuals at one resolution. Residuals are taken at the interior points
-/// (where the stencil fits) that lie in `region` (per axis `[lo, hi]`; `None`: all of them),
-/// so that resolutions can be compared on one region. `progress(done, total)` is called
-/// after every slab.
+/// (where the stencil fits) that lie in the lattice's region, so that resolutions can be
+/// compared on one region. `progress(done, total)` is called after every slab.
 ///
 /// # Errors
 ///
-/// A sample that is not finite (unless `mask`), or one that is not real.
+/// A sample that is not finite (unless masked), or one that is not real.
 pub fn sweep(
     plan: &GridPlan,
-    b: &Box4,
-    st: &Stencil,
-    mask: bool,
-    region: Option<[[f64; 2]; 4]>,
+    at: SweepAt<'_>,
     progress: &mut dyn FnMut(usize, usize),
 ) -> Result<Sweep, GridError> {
-    sweep_with(&mut Buffers::new(), plan, b, st, mask, region, progress)
+    sweep_with(&mut Buffers::new(), plan, at, progress)
 }
 
 /// [`sweep`] with sample buffers kept from earlier sweeps (the result is the same).
@@ -333,21 +358,19 @@ pub fn sweep(
 pub fn sweep_with(
     bufs: &mut Buffers,
     plan: &GridPlan,
-    b: &Box4,
-    st: &Stencil,
-    mask: bool,
-    region: Option<[[f64; 2]; 4]>,
+    at: SweepAt<'_>,
     progress: &mut dyn FnMut(usize, usize),
 ) -> Result<Sweep, GridError> {
     // About a background the round-off floor needs the sample errors during the sweep.
     let errors = match plan.curved {
         Some(_) => {
+            let b = at.b;
             let width = b.spacing * (b.counts[0].max(2) - 1) as f64;
             probe_errors(plan, b.center, width, super::PROBE_POINTS)
         }
         None => Vec::new(),
     };
-    sweep_errors(bufs, plan, b, st, mask, region, &errors, progress)
+    sweep_errors(bufs, plan, at, &errors, progress)
 }
 
 /// [`sweep_with`] with the per-channel sample errors (from [`probe_errors`]) given, which
@@ -356,20 +379,19 @@ pub fn sweep_with(
 /// # Errors
 ///
 /// As [`sweep`].
-#[allow(
-    clippy::too_many_arguments,
-    reason = "the sweep's inputs, each needed; a struct would only rename them"
-)]
 pub fn sweep_errors(
     bufs: &mut Buffers,
     plan: &GridPlan,
-    b: &Box4,
-    st: &Stencil,
-    mask: bool,
-    region: Option<[[f64; 2]; 4]>,
+    at: SweepAt<'_>,
     errors: &[f64],
     progress: &mut dyn FnMut(usize, usize),
 ) -> Result<Sweep, GridError> {
+    let SweepAt {
+        b,
+        st,
+        mask,
+        region,
+    } = at;
     let s = st.half;
     let [nt, nx, ny, nz] = b.counts;
     if b.counts.iter().any(|&n| n < 2 * s + 1) {
@@ -437,12 +459,7 @@ pub fn sweep_errors(
     let ranges: [std::ops::Range<usize>; 4] =
         std::array::from_fn(|a| measured(b, a, s, region.map(|r| r[a])));
     let len = ranges[3].len();
-    let mut best: Vec<Vec<(f64, [usize; 4])>> = plan
-        .claims
-        .iter()
-        .map(|c| vec![(0.0, [0; 4]); c.components.len()])
-        .collect();
-    let mut skipped = vec![0usize; plan.claims.len()];
+    let (mut best, mut skipped) = no_residuals_yet(plan);
     let mut floors: Option<Vec<Vec<f64>>> = point.as_ref().map(|_| {
         plan.claims
             .iter()
@@ -730,12 +747,7 @@ fn residual_plane(
     it: usize,
 ) -> PlaneResult {
     let (z0, len) = (ranges[3].start, ranges[3].len());
-    let mut best: Vec<Vec<(f64, [usize; 4])>> = plan
-        .claims
-        .iter()
-        .map(|c| vec![(0.0, [0; 4]); c.components.len()])
-        .collect();
-    let mut skipped = vec![0usize; plan.claims.len()];
+    let (mut best, mut skipped) = no_residuals_yet(plan);
     let mut vals = vec![0.0; fused.combos.len() * len];
     let mut r = vec![0.0; len];
     let mut skip = vec![false; len];

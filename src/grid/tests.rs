@@ -242,7 +242,7 @@ fn streamed_stencils_reproduce_exact_derivatives_of_polynomials() {
         spacing: 0.05,
         counts: [7, 8, 6, 9],
     };
-    let sw = sweep::sweep(&plan, &b, &st, false, None, &mut |_, _| {}).unwrap();
+    let sw = sweep::sweep(&plan, lattice(&b, &st), &mut |_, _| {}).unwrap();
     let mut want = (0.0f64, [0usize; 4]);
     for it in 2..5 {
         for ix in 2..6 {
@@ -275,7 +275,7 @@ fn a_second_derivative_in_each_direction_comes_out_right() {
             spacing: 0.1,
             counts: [5; 4],
         };
-        let sw = sweep::sweep(&plan, &b, &st, false, None, &mut |_, _| {}).unwrap();
+        let sw = sweep::sweep(&plan, lattice(&b, &st), &mut |_, _| {}).unwrap();
         // d^2/dv^2 (v^4/12) = v^2, largest at the interior point farthest out: index 2 of 5
         // is the centre, so the only interior point is the centre.
         let c = b.center[axis as usize];
@@ -316,7 +316,7 @@ fn box_hbar_of_a_plane_wave_converges_at_the_stencil_order() {
                     spacing: h,
                     counts: [order as usize + 3; 4],
                 };
-                let sw = sweep::sweep(&plan, &b, &st, false, None, &mut |_, _| {}).unwrap();
+                let sw = sweep::sweep(&plan, lattice(&b, &st), &mut |_, _| {}).unwrap();
                 sw.best[0].iter().map(|x| x.0).fold(0.0, f64::max)
             })
             .collect();
@@ -418,9 +418,8 @@ fn kept_sample_buffers_give_the_residuals_of_fresh_ones() {
     ];
     let mut bufs = sweep::Buffers::new();
     for b in &boxes {
-        let fresh = sweep::sweep(&plan, b, &st, false, None, &mut |_, _| {}).unwrap();
-        let kept =
-            sweep::sweep_with(&mut bufs, &plan, b, &st, false, None, &mut |_, _| {}).unwrap();
+        let fresh = sweep::sweep(&plan, lattice(b, &st), &mut |_, _| {}).unwrap();
+        let kept = sweep::sweep_with(&mut bufs, &plan, lattice(b, &st), &mut |_, _| {}).unwrap();
         assert_eq!(fresh, kept, "box {b:?}");
         assert!(fresh.best[0].iter().any(|x| x.0 > 0.0));
     }
@@ -451,8 +450,8 @@ fn minkowski_written_as_a_background_gives_the_flat_residuals() {
         spacing: 0.04,
         counts: [7, 8, 7, 9],
     };
-    let fs = sweep::sweep(&fp, &b, &st, false, None, &mut |_, _| {}).unwrap();
-    let cs = sweep::sweep(&cp, &b, &st, false, None, &mut |_, _| {}).unwrap();
+    let fs = sweep::sweep(&fp, lattice(&b, &st), &mut |_, _| {}).unwrap();
+    let cs = sweep::sweep(&cp, lattice(&b, &st), &mut |_, _| {}).unwrap();
     let fe = |p: &GridPlan| {
         p.claims
             .iter()
@@ -543,4 +542,14 @@ fn default_boxes_fit_inside_the_domain() {
         GridSettings::default_width(&DEFAULT_CENTER, None),
         DEFAULT_WIDTH
     );
+}
+
+/// The whole box at `b`'s resolution with stencil `st`, nothing masked.
+fn lattice<'a>(b: &'a Box4, st: &'a Stencil) -> sweep::SweepAt<'a> {
+    sweep::SweepAt {
+        b,
+        st,
+        mask: false,
+        region: None,
+    }
 }

@@ -196,18 +196,25 @@ impl<A: Arith> Arith for Dual<A> {
 
 /// The ten index pairs `mu <= nu` in the order of the crate's component lists
 /// (`tt, tx, ty, tz, xx, xy, xz, yy, yz, zz` for coordinates `t, x, y, z`).
-pub const PAIRS: [(usize, usize); 10] = [
-    (0, 0),
-    (0, 1),
-    (0, 2),
-    (0, 3),
-    (1, 1),
-    (1, 2),
-    (1, 3),
-    (2, 2),
-    (2, 3),
-    (3, 3),
-];
+/// (The upper triangle row by row, the order of `tensor::COMPONENTS`, which this layer does
+/// not use; a unit test compares them.)
+pub const PAIRS: [(usize, usize); 10] = upper_triangle();
+
+/// The pairs `mu <= nu` of four indices, row by row.
+const fn upper_triangle() -> [(usize, usize); 10] {
+    let mut out = [(0, 0); 10];
+    let (mut k, mut mu) = (0, 0);
+    while mu < 4 {
+        let mut nu = mu;
+        while nu < 4 {
+            out[k] = (mu, nu);
+            k += 1;
+            nu += 1;
+        }
+        mu += 1;
+    }
+    out
+}
 
 /// The position of the pair `{mu, nu}` (either order) in [`PAIRS`].
 pub fn pair(mu: usize, nu: usize) -> usize {

@@ -663,8 +663,10 @@ pub fn from_str_with(
     ProblemFile::parse(path_label, text)?.build_with(limits)
 }
 
-/// Edit distance between two short names (Levenshtein, by chars).
-fn edit_distance(a: &str, b: &str) -> usize {
+/// Edit distance between two short names (Levenshtein, by chars), for "did you mean"
+/// suggestions.
+#[must_use]
+pub fn edit_distance(a: &str, b: &str) -> usize {
     let a: Vec<char> = a.chars().collect();
     let b: Vec<char> = b.chars().collect();
     let mut prev: Vec<usize> = (0..=b.len()).collect();

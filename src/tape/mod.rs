@@ -374,36 +374,32 @@ impl TapeBuilder {
         self.push(Op::PowI(a.0, n))
     }
 
+    /// `f(a)`: folded into a constant for a constant `a`, else the instruction `op(a)`.
+    fn unary(&mut self, a: Node, f: fn(C64) -> C64, op: fn(u32) -> Op) -> Node {
+        match self.fold1(a, f) {
+            Some(c) => c,
+            None => self.push(op(a.0)),
+        }
+    }
+
     /// `exp(a)`.
     pub fn exp(&mut self, a: Node) -> Node {
-        if let Some(c) = self.fold1(a, <C64 as Lane>::exp) {
-            return c;
-        }
-        self.push(Op::Exp(a.0))
+        self.unary(a, <C64 as Lane>::exp, Op::Exp)
     }
 
     /// The principal `log(a)`.
     pub fn log(&mut self, a: Node) -> Node {
-        if let Some(c) = self.fold1(a, <C64 as Lane>::ln) {
-            return c;
-        }
-        self.push(Op::Log(a.0))
+        self.unary(a, <C64 as Lane>::ln, Op::Log)
     }
 
     /// `sin(a)`.
     pub fn sin(&mut self, a: Node) -> Node {
-        if let Some(c) = self.fold1(a, <C64 as Lane>::sin) {
-            return c;
-        }
-        self.push(Op::Sin(a.0))
+        self.unary(a, <C64 as Lane>::sin, Op::Sin)
     }
 
     /// `cos(a)`.
     pub fn cos(&mut self, a: Node) -> Node {
-        if let Some(c) = self.fold1(a, <C64 as Lane>::cos) {
-            return c;
-        }
-        self.push(Op::Cos(a.0))
+        self.unary(a, <C64 as Lane>::cos, Op::Cos)
     }
 
     /// The principal root `a^(1/q)`, `q >= 1`.

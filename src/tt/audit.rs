@@ -219,6 +219,36 @@ mod tests {
         .unwrap_or_else(|e| panic!("direction: {e}"))
     }
 
+    /// The "not TT" shares, both `share`.
+    fn not_tt(share: Share) -> crate::tt::NotTt {
+        crate::tt::NotTt {
+            all: share.clone(),
+            spatial: share,
+            points: 0,
+            seed: 0,
+        }
+    }
+
+    /// The audit of the projection of `p` along `dir` as `project` prints it, with h_plus
+    /// and h_cross swapped if `swapped` (as a defect in the exact route would print them).
+    fn audit_as_printed(
+        p: &mut Problem,
+        direction: &str,
+        dir: &Direction,
+        frac: &mut crate::tt::NotTt,
+        swapped: bool,
+    ) -> ProjectAudit {
+        let h = p.h;
+        let proj = project_perturbation(&mut p.store, &h, dir).expect("small");
+        let tt4 = crate::tt::as_perturbation(&p.store, &proj.tt);
+        let pols = if swapped {
+            (proj.cross, proj.plus)
+        } else {
+            (proj.plus, proj.cross)
+        };
+        audit_projection(p, direction, dir, &tt4, pols, frac, SEED)
+    }
+
     /// False exact statements of `project` (simulated: "not TT = 0, exactly" for a wave that
     /// is not TT along n; "unit length (proved)" for a vector that is not) are caught and not
     /// shown as exact.
@@ -228,24 +258,8 @@ mod tests {
         let direction = "1,1,0";
         let mut dir = direction_of(&mut p, direction, true);
         dir.n_note = "unit length (proved)".into();
-        let h = p.h;
-        let proj = project_perturbation(&mut p.store, &h, &dir).expect("small");
-        let tt4 = crate::tt::as_perturbation(&p.store, &proj.tt);
-        let mut frac = crate::tt::NotTt {
-            all: Share::Exact(0),
-            spatial: Share::Exact(0),
-            points: 0,
-            seed: 0,
-        };
-        let audit = audit_projection(
-            &mut p,
-            direction,
-            &dir,
-            &tt4,
-            (proj.plus, proj.cross),
-            &mut frac,
-            SEED,
-        );
+        let mut frac = not_tt(Share::Exact(0));
+        let audit = audit_as_printed(&mut p, direction, &dir, &mut frac, false);
         assert!(audit.defect());
         assert!(audit.unit.as_ref().is_some_and(Finding::is_defect));
         for share in [&frac.all, &frac.spatial] {
@@ -271,34 +285,10 @@ mod tests {
         let mut p = worked("oblique_wave.toml");
         let direction = "3/5,0,4/5";
         let dir = direction_of(&mut p, direction, false);
-        let h = p.h;
-        let proj = project_perturbation(&mut p.store, &h, &dir).expect("small");
-        let tt4 = crate::tt::as_perturbation(&p.store, &proj.tt);
-        let mut frac = crate::tt::NotTt {
-            all: Share::Numerical(0.5),
-            spatial: Share::Numerical(0.5),
-            points: 0,
-            seed: 0,
-        };
-        let good = audit_projection(
-            &mut p,
-            direction,
-            &dir,
-            &tt4,
-            (proj.plus, proj.cross),
-            &mut frac,
-            SEED,
-        );
+        let mut frac = not_tt(Share::Numerical(0.5));
+        let good = audit_as_printed(&mut p, direction, &dir, &mut frac, false);
         assert!(!good.defect(), "{}", good.polarizations_text(SEED));
-        let bad = audit_projection(
-            &mut p,
-            direction,
-            &dir,
-            &tt4,
-            (proj.cross, proj.plus),
-            &mut frac,
-            SEED,
-        );
+        let bad = audit_as_printed(&mut p, direction, &dir, &mut frac, true);
         assert!(bad.defect());
         assert!(bad.polarizations[0].is_defect() && bad.polarizations[1].is_defect());
         assert!(bad.polarizations[2..].iter().all(|f| !f.is_defect()));

@@ -164,3 +164,209 @@ fn issue_11_a_limit_reached_after_loading_reads_the_same_in_every_command() {
         }
     }
 }
+
+/// Asserts that the report `j` gives the size and the FNV-1a 64 checksum of `bytes` under
+/// the keys `[size, checksum]`.
+fn assert_describes(j: &serde_json::Value, [size, checksum]: [&str; 2], bytes: &[u8]) {
+    assert_eq!(j[size], bytes.len(), "{j}");
+    assert_eq!(
+        j[checksum],
+        lingrav::output::checksum_of(bytes).as_str(),
+        "{j}"
+    );
+}
+
+/// Whether `j[key]` is a string that starts with `prefix`.
+fn starts_with(j: &serde_json::Value, key: &str, prefix: &str) -> bool {
+    j[key].as_str().is_some_and(|s| s.starts_with(prefix))
+}
+
+/// Runs `args` (already asking for JSON), expects `code`, and parses the whole standard
+/// output, whatever standard error says.
+fn json_out(args: &[&str], code: i32) -> (serde_json::Value, String) {
+    let (out, err, got) = lingrav(args);
+    assert_eq!(got, code, "{args:?}\nstdout:\n{out}\nstderr:\n{err}");
+    let j = serde_json::from_str(&out)
+        .unwrap_or_else(|e| panic!("{args:?}: not JSON ({e}):\n{out}\nstderr:\n{err}"));
+    (j, err)
+}
+
+/// A limit that ends a command before its report (here while the file is built) still
+/// leaves a JSON object on standard output when JSON was asked for: `result` `undecided`
+/// and the `limit` worded as the text line, exit 3, in every command that reads a file.
+#[test]
+fn issue_11_a_limit_before_the_report_is_json_too() {
+    let f = worked("vibrating_rod.toml");
+    let limit = "too large: an intermediate result has over 5 terms (--max-terms raises the \
+                 limit)";
+    let tmp = tempfile::tempdir().expect("temp dir");
+    let out = tmp.path().join("r.csv");
+    let out = out.to_str().expect("utf-8 path");
+    for args in [
+        vec!["check", &f, "--format", "json"],
+        vec!["show", &f, "riemann", "--format", "json"],
+        vec!["grid", &f, "--format", "json"],
+        vec![
+            "gauge",
+            &f,
+            "--vector",
+            "0, sin(t), 0, 0",
+            "--format",
+            "json",
+        ],
+        vec!["project", &f, "--direction", "0,0,1", "--format", "json"],
+        vec![
+            "export", &f, "-q", "riemann", "--grid", "--out", out, "--report", "json",
+        ],
+        vec![
+            "emit", &f, "-q", "riemann", "--lang", "c", "--report", "json",
+        ],
+    ] {
+        let mut a = args.clone();
+        a.extend(["--max-terms", "5"]);
+        let (j, err) = json_out(&a, 3);
+        assert!(err.is_empty(), "{a:?}: {err}");
+        assert_eq!(j["result"], "undecided", "{a:?}: {j}");
+        assert_eq!(j["limit"], limit, "{a:?}: {j}");
+        // The same run as text ends with the text line.
+        let text: Vec<&str> = args
+            .iter()
+            .copied()
+            .filter(|s| !["--format", "--report", "json"].contains(s))
+            .chain(["--max-terms", "5"])
+            .collect();
+        let (stdout, _, code) = lingrav(&text);
+        assert_eq!(code, 3, "{text:?}\n{stdout}");
+        assert!(
+            stdout.ends_with(&format!("undecided: {limit}\n")),
+            "{text:?}: {stdout}"
+        );
+    }
+    assert!(
+        std::fs::read_dir(tmp.path()).expect("dir").next().is_none(),
+        "a stopped export wrote a file"
+    );
+    // A grid refused by its estimate before sampling: the same object.
+    let args = [
+        "grid",
+        &worked("oblique_wave.toml"),
+        "--points",
+        "8,16,400",
+        "--format",
+        "json",
+    ];
+    let (j, _) = json_out(&args, 3);
+    assert_eq!(j["result"], "undecided", "{j}");
+    assert!(
+        starts_with(&j, "limit", "too large: the grid 8,16,400 would take about"),
+        "{j}"
+    );
+}
+
+/// Bad input with a JSON report: exit 2, the rendered error on standard error as always,
+/// and on standard output a JSON object with `result` `error` and the message.
+#[test]
+fn issue_11_an_input_error_is_json_too() {
+    let (j, err) = json_out(&["check", "no/such/file.toml", "--format", "json"], 2);
+    assert_eq!(j["result"], "error", "{j}");
+    assert!(
+        starts_with(&j, "error", "cannot read `no/such/file.toml`"),
+        "{j}"
+    );
+    assert!(err.contains("cannot read `no/such/file.toml`"), "{err}");
+
+    let (j, _) = json_out(&["zero", "sin(x", "--format", "json"], 2);
+    assert_eq!(j["result"], "error", "{j}");
+    assert!(j["error"].is_string(), "{j}");
+
+    // Without JSON, standard output stays empty.
+    let (out, err, code) = lingrav(&["check", "no/such/file.toml"]);
+    assert_eq!(code, 2);
+    assert!(out.is_empty(), "{out}");
+    assert!(err.contains("cannot read"), "{err}");
+}
+
+/// `export --report json`: what was written (rows, columns, quantities, paths, the data
+/// file's size and checksum, which the sidecar and the file itself agree with).
+#[test]
+fn issue_11_export_reports_what_it_wrote_as_json() {
+    let f = worked("oblique_wave.toml");
+    let tmp = tempfile::tempdir().expect("temp dir");
+    let out = tmp.path().join("h.csv");
+    let out_s = out.to_str().expect("utf-8 path");
+    let args = [
+        "export", &f, "-q", "h", "--grid", "--points", "2", "--out", out_s, "--report", "json",
+    ];
+    let (j, err) = json_out(&args, 0);
+    assert!(err.is_empty(), "{err}");
+    assert_eq!(j["result"], "written", "{j}");
+    assert_eq!(j["quantities"], serde_json::json!(["h"]), "{j}");
+    assert_eq!(j["rows"], 8, "{j}");
+    let columns = j["columns"].as_array().expect("columns");
+    assert_eq!(columns.len(), 14, "{j}");
+    assert_eq!(columns[0], "t", "{j}");
+    assert_eq!(columns[4], "h_tt", "{j}");
+    assert_eq!(j["format"], "csv", "{j}");
+    assert_eq!(j["data_file"], out_s, "{j}");
+    let sidecar = format!("{out_s}.meta.json");
+    assert_eq!(j["sidecar"], sidecar.as_str(), "{j}");
+    let data = std::fs::read(&out).expect("data file");
+    assert_describes(&j, ["data_file_bytes", "data_file_checksum"], &data);
+    let meta: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&sidecar).expect("sidecar")).expect("JSON");
+    assert_eq!(
+        meta["data_file_checksum"], j["data_file_checksum"],
+        "{meta}"
+    );
+    assert_eq!(meta["data_file_bytes"], j["data_file_bytes"], "{meta}");
+    assert_eq!(
+        std::fs::read_to_string(&out).expect("csv").lines().count(),
+        9,
+        "a header and 8 rows"
+    );
+}
+
+/// `emit --report json`: the quantities, the language, the path and the checksum of what
+/// was written; without --out the code itself, the same as the text output.
+#[test]
+fn issue_11_emit_reports_what_it_generated_as_json() {
+    let f = worked("oblique_wave.toml");
+    let (code, err, got) = lingrav(&["emit", &f, "-q", "h,riemann", "--lang", "python"]);
+    assert_eq!(got, 0, "{err}");
+    let (j, err) = json_out(
+        &[
+            "emit",
+            &f,
+            "-q",
+            "h,riemann",
+            "--lang",
+            "python",
+            "--report",
+            "json",
+        ],
+        0,
+    );
+    assert!(err.is_empty(), "{err}");
+    assert_eq!(j["result"], "generated", "{j}");
+    assert_eq!(j["language"], "python", "{j}");
+    assert_eq!(j["quantities"], serde_json::json!(["h", "riemann"]), "{j}");
+    assert_eq!(j["columns"], 30, "{j}");
+    assert!(j["path"].is_null(), "{j}");
+    assert_eq!(j["code"], code.as_str(), "{j}");
+    assert_describes(&j, ["bytes", "checksum"], code.as_bytes());
+
+    let tmp = tempfile::tempdir().expect("temp dir");
+    let out = tmp.path().join("h.rs");
+    let out_s = out.to_str().expect("utf-8 path");
+    let (j, _) = json_out(
+        &[
+            "emit", &f, "-q", "h", "--lang", "rust", "--out", out_s, "--report", "json",
+        ],
+        0,
+    );
+    assert_eq!(j["language"], "rust", "{j}");
+    assert_eq!(j["path"], out_s, "{j}");
+    assert!(j["code"].is_null(), "{j}");
+    let written = std::fs::read(&out).expect("code file");
+    assert_describes(&j, ["bytes", "checksum"], &written);
+}

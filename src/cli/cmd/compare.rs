@@ -1,7 +1,7 @@
 //! `lingrav compare`: are two perturbations the same physics in different gauges? The 20
 //! independent components of R[A] - R[B] decided exactly and audited from both files' texts.
 
-use crate::cli::audit::{point_lines, points_json};
+use crate::cli::audit::{AuditedFormat, point_lines, points_json};
 use crate::cli::limits::{LimitArgs, load_into, load_with};
 use crate::cli::out::gave_up;
 use crate::cli::out::{Failure, Outcome, print};
@@ -25,12 +25,8 @@ pub struct CompareArgs {
     first: PathBuf,
     /// The second problem file.
     second: PathBuf,
-    /// Output format.
-    #[arg(long, value_enum, default_value_t = Format::Text)]
-    format: Format,
-    /// Also print the points of the independent audit.
-    #[arg(long)]
-    audit_points: bool,
+    #[command(flatten)]
+    shown: AuditedFormat,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -63,7 +59,7 @@ pub fn run(a: CompareArgs) -> Result<Outcome, Failure> {
         .filter(|c| !matches!(c.verdict, Verdict::Zero))
         .collect();
     let n = cmp.components.len();
-    let text = match a.format {
+    let text = match a.shown.format {
         Format::Text => {
             let mut s = String::new();
             let _ = writeln!(s, "A  {}", heading(&la, pa.name.as_deref()));
@@ -127,7 +123,7 @@ pub fn run(a: CompareArgs) -> Result<Outcome, Failure> {
                 }
             }
             let _ = writeln!(s, "{audit_line}");
-            if a.audit_points {
+            if a.shown.audit_points {
                 s.push_str(&point_lines(&finding_refs));
             }
             s

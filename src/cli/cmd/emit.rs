@@ -3,7 +3,10 @@
 
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, file_failure, limit_or, print};
-use crate::cli::quantities::{QuantityArgs, columns, direction_text, frame_texts, plan_quantities};
+use crate::cli::quantities::{
+    QuantityArgs, WriteArgs, columns, direction_text, frame_texts, plan_quantities,
+};
+use crate::cli::report::{self, json};
 use clap::{Args, ValueEnum};
 use lingrav::emit::user::Texts;
 use lingrav::emit::{Lang, Source, emit};
@@ -56,9 +59,8 @@ pub struct EmitArgs {
     /// Write to this file instead of standard output.
     #[arg(long, value_name = "PATH")]
     out: Option<PathBuf>,
-    /// Replace the output file if it exists.
-    #[arg(long)]
-    force: bool,
+    #[command(flatten)]
+    write: WriteArgs,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -68,7 +70,7 @@ pub fn run(a: EmitArgs) -> Result<Outcome, Failure> {
     let mut p = a.limits.load(&a.file)?;
     let (qs, dir) = plan_quantities(&mut p, &a.quantities)?;
     let file = match &a.out {
-        Some(o) => Some(AtomicFile::create(o, a.force).map_err(file_failure)?),
+        Some(o) => Some(AtomicFile::create(o, a.write.force).map_err(file_failure)?),
         None => None,
     };
     let b = columns(&mut p, &qs, dir.as_ref())?;
@@ -100,12 +102,30 @@ pub fn run(a: EmitArgs) -> Result<Outcome, Failure> {
             Failure::Input(miette::miette!("cannot generate code: {e}"))
         })
     })?;
+    let written = a.out.as_ref().map(|o| o.display().to_string());
     match file {
         Some(mut f) => {
             f.write_all(text.as_bytes())?;
             f.commit()?;
         }
-        None => print(&text)?,
+        None if a.write.report == report::Format::Text => print(&text)?,
+        None => {}
+    }
+    if a.write.report == report::Format::Json {
+        let mut j = serde_json::json!({
+            "result": "generated",
+            "file": path_label,
+            "language": a.lang.lang().name(),
+            "quantities": qs.iter().map(|q| q.name()).collect::<Vec<_>>(),
+            "columns": b.iter().map(|b| b.columns.len()).sum::<usize>(),
+            "path": written,
+            "bytes": text.len(),
+            "checksum": lingrav::output::checksum_of(text.as_bytes()),
+        });
+        if a.out.is_none() {
+            j["code"] = text.into();
+        }
+        print(&json(&j))?;
     }
     Ok(Outcome::Holds)
 }

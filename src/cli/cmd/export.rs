@@ -9,7 +9,10 @@
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, file_failure, gave_up, limit_or, print};
 use crate::cli::plan::arg_failure;
-use crate::cli::quantities::{QuantityArgs, columns, direction_json, frame_texts, plan_quantities};
+use crate::cli::quantities::{
+    QuantityArgs, WriteArgs, columns, direction_json, frame_texts, plan_quantities,
+};
+use crate::cli::report::{self, json};
 use clap::{Args, ValueEnum};
 use lingrav::export::points::{Grid, PointSet, read_points};
 use lingrav::export::write::{AtomicFile, FileError, Format, commit_with_sidecar, write_table};
@@ -80,9 +83,8 @@ pub struct ExportArgs {
     /// (default: --tolerance times the largest magnitude in its column).
     #[arg(long, value_name = "ABS")]
     zero_tolerance: Option<f64>,
-    /// Replace the data file and sidecar if they exist.
-    #[arg(long)]
-    force: bool,
+    #[command(flatten)]
+    write: WriteArgs,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -249,8 +251,8 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
         })?,
     };
     let meta_path = sidecar_path(&a.out);
-    let mut data_file = AtomicFile::create(&a.out, a.force).map_err(file_failure)?;
-    let mut meta_file = AtomicFile::create(&meta_path, a.force).map_err(file_failure)?;
+    let mut data_file = AtomicFile::create(&a.out, a.write.force).map_err(file_failure)?;
+    let mut meta_file = AtomicFile::create(&meta_path, a.write.force).map_err(file_failure)?;
 
     // Compute.
     let b = columns(&mut p, &qs, dir.as_ref())?;
@@ -305,19 +307,36 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
     write_table(data_file.writer(), &ev.table, format)
         .map_err(|e| file_failure(FileError::Io(a.out.clone(), e)))?;
     let mut meta = meta;
-    meta["data_file_bytes"] = data_file.writer().len().into();
-    meta["data_file_checksum"] = data_file.writer().checksum().into();
+    let bytes = data_file.writer().len();
+    let checksum = data_file.writer().checksum();
+    meta["data_file_bytes"] = bytes.into();
+    meta["data_file_checksum"] = checksum.clone().into();
     let text = serde_json::to_string_pretty(&meta).expect("json");
     meta_file.write_all(format!("{text}\n").as_bytes())?;
     commit_with_sidecar(data_file, meta_file)?;
-    print(&format!(
-        "wrote {} rows x {} columns ({}) to {} ({}), sidecar {}\n",
-        ev.table.rows(),
-        ev.table.columns.len(),
-        qs.iter().map(|q| q.name()).collect::<Vec<_>>().join(", "),
-        a.out.display(),
-        format.name(),
-        meta_path.display()
-    ))?;
+    let names: Vec<&str> = qs.iter().map(|q| q.name()).collect();
+    print(&match a.write.report {
+        report::Format::Text => format!(
+            "wrote {} rows x {} columns ({}) to {} ({}), sidecar {}\n",
+            ev.table.rows(),
+            ev.table.columns.len(),
+            names.join(", "),
+            a.out.display(),
+            format.name(),
+            meta_path.display()
+        ),
+        report::Format::Json => json(&serde_json::json!({
+            "result": "written",
+            "file": path_label,
+            "quantities": names,
+            "rows": ev.table.rows(),
+            "columns": ev.table.columns,
+            "data_file": a.out.display().to_string(),
+            "format": format.name(),
+            "data_file_bytes": bytes,
+            "data_file_checksum": checksum,
+            "sidecar": meta_path.display().to_string(),
+        })),
+    })?;
     Ok(Outcome::Holds)
 }

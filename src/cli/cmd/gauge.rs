@@ -4,23 +4,21 @@
 //! result) and its audits in [`lingrav::gauge::audit`]; this file plans, calls and reports
 //! (text or JSON).
 
-use crate::cli::audit::{audit_json, point_lines, points_json};
+use super::gauge_tt::{Built, Report, construct};
+use crate::cli::audit::{AuditedFormat, point_lines, points_json};
 use crate::cli::limits::LimitArgs;
-use crate::cli::out::{Failure, Outcome, gave_up, limit_in, print};
-use crate::cli::plan::{arg_failure, plan_optional_output, write_atomic};
+use crate::cli::out::{Failure, Outcome, print};
+use crate::cli::plan::{ProblemOutput, arg_failure, write_atomic};
 use crate::cli::report::{
     Format, components_json, conventions, gauges_of, heading, json, limit_in_report,
-    list_components, texts, verdict_json, verification_json, verification_lines,
+    list_components, proved_claims, texts, tt_solution, verdict_json, verification_json,
+    verification_lines,
 };
 use clap::Args;
-use lingrav::audit::expr::{FileQuantities, Finding, summary};
-use lingrav::canon::{Form, Store};
-use lingrav::check::verdicts::audit_verdicts;
+use lingrav::audit::expr::{Finding, summary};
 use lingrav::check::{Status, check};
-use lingrav::claim::Part;
 use lingrav::gauge::audit::audit_box;
-use lingrav::gauge::plane::{PlaneError, find_wave, tt_gauge_vector};
-use lingrav::gauge::{box_verdicts, file_texts, lorenz_verdicts, transform, transformed_texts};
+use lingrav::gauge::{box_verdicts, file_texts, transform, transformed_texts};
 use lingrav::problem::{Claims, Gauge, render_problem};
 use lingrav::tensor::COORDS;
 use lingrav::tt::Arg;
@@ -54,37 +52,12 @@ pub struct GaugeArgs {
         requires = "to_tt"
     )]
     wave_vector: Option<String>,
-    /// Output format.
-    #[arg(long, value_enum, default_value_t = Format::Text)]
-    format: Format,
-    /// Write the transformed perturbation as a new problem file.
-    #[arg(long, value_name = "FILE.toml")]
-    output: Option<PathBuf>,
-    /// Replace the output file if it exists.
-    #[arg(long)]
-    force: bool,
-    /// Also print the points of the independent audit.
-    #[arg(long)]
-    audit_points: bool,
+    #[command(flatten)]
+    written: ProblemOutput,
+    #[command(flatten)]
+    shown: AuditedFormat,
     #[command(flatten)]
     limits: LimitArgs,
-}
-
-fn plane_failure(e: PlaneError, format: Format, j: serde_json::Value) -> Result<Outcome, Failure> {
-    match e {
-        PlaneError::NotApplicable(why) => Err(Failure::Input(miette::miette!(
-            help = "--to-tt needs a plane wave in Lorenz gauge: every component a function of \
-                    one phase k_mu x^mu (sin, cos, exp or a derivative F'(..) of an arbitrary \
-                    function of it)",
-            "the TT construction does not apply: {why}"
-        ))),
-        PlaneError::Undecided(why) => {
-            if let Some(limit) = limit_in(&why) {
-                return Err(gave_up(&limit));
-            }
-            stop_undecided(&why, format, String::new(), j)
-        }
-    }
 }
 
 /// `lingrav gauge`.
@@ -92,8 +65,8 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
     let mut p = a.limits.load(&a.file)?;
     if !p.is_flat_cartesian() {
         let label = a.file.display().to_string();
-        return match (&a.vector, a.to_tt || a.output.is_some()) {
-            (Some(v), false) => super::gauge_curved::run(p, v, a.format, &label),
+        return match (&a.vector, a.to_tt || a.written.output.is_some()) {
+            (Some(v), false) => super::gauge_curved::run(p, v, a.shown.format, &label),
             _ => Err(Failure::Input(miette::miette!(
                 help = "about a background, `lingrav gauge --vector XI` applies a gauge \
                         transformation (without --output); --to-tt is for plane waves in flat \
@@ -141,128 +114,35 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
         }
         None => None,
     };
-    let target = plan_optional_output(a.output.as_deref(), a.force, "--output")?;
+    let target = a.written.plan()?;
     let label = a.file.display().to_string();
     let mut s = String::new();
     let _ = writeln!(s, "{}", heading(&label, p.name.as_deref()));
-    let mut j = serde_json::json!({ "file": label, "name": p.name, "conventions": conventions(&p.coordinates) });
+    let j = serde_json::json!({ "file": label, "name": p.name, "conventions": conventions(&p.coordinates) });
     let h = p.h;
     let seed = sampling.seed;
     // Every verdict below is audited independently; a contradiction is an internal defect.
-    let mut defect = false;
-    let mut audits: Vec<Finding> = Vec::new();
-
+    let mut r = Report {
+        s,
+        j,
+        defect: false,
+        audits: Vec::new(),
+        format: a.shown.format,
+    };
     let (xi, verify_tt) = match xi_given {
         Some(xi) => (xi, false),
-        None => {
-            let wave = match find_wave(&mut p.store, &sampling, &h, k_given) {
-                Ok(w) => w,
-                Err(e) => return plane_failure(e, a.format, j),
-            };
-            let st = &mut p.store;
-            let k_up: Vec<String> = (0..4)
-                .map(|mu| {
-                    let f = if mu == 0 {
-                        st.neg(wave.k[0]).unwrap_or(wave.k[0])
-                    } else {
-                        wave.k[mu]
-                    };
-                    st.to_text(f)
-                })
-                .collect();
-            let _ = writeln!(
-                s,
-                "plane wave  phase k_mu x^mu = {}, k^mu = ({})  [{}]",
-                st.to_text(wave.phase),
-                k_up.join(", "),
-                if wave.detected {
-                    "read off the perturbation"
-                } else {
-                    "from --wave-vector"
-                }
-            );
-            // k null, audited from the printed k (the texts shown above).
-            let k_texts: Vec<String> = wave.k.iter().map(|f| p.store.to_text(*f)).collect();
-            let norm = format!(
-                "-({})^2 + ({})^2 + ({})^2 + ({})^2",
-                k_texts[0], k_texts[1], k_texts[2], k_texts[3]
-            );
-            let route = FileQuantities::texts(&p, &[("k_mu k^mu".into(), norm)]);
-            let mut null = [wave.null.clone()];
-            let finding = audit_verdicts(&route, &mut null, |_| Some(0), seed).remove(0);
-            defect |= finding.is_defect();
-            let [null] = null;
-            j["plane_wave"] = serde_json::json!({
-                "phase": st_text(&mut p.store, wave.phase),
-                "k_up": k_up,
-                "detected": wave.detected,
-                "k_null": { "verdict": verdict_json(&null), "audit": audit_json(&finding, seed) },
-            });
-            let _ = writeln!(
-                s,
-                "            k null (k_mu k^mu = 0): {}; {}",
-                match &null {
-                    Verdict::Zero => "proved".to_string(),
-                    Verdict::Nonzero(w) => format!("no, nonzero {w}: not a vacuum wave"),
-                    Verdict::Undecided(why) => format!("undecided ({why})"),
-                },
-                finding.method(seed)
-            );
-            audits.push(finding);
-            // The construction starts from Lorenz gauge; say so if the input is not in it.
-            let (div, mut verdicts) = lorenz_verdicts(&mut p.store, &h, &sampling)?;
-            let lorenz = Claims {
-                gauge: vec![Gauge::Lorenz],
-                ..Claims::default()
-            };
-            let route = FileQuantities::claims(&p, Some(&lorenz));
-            let index = |nu: usize| {
-                let name = Part::Lorenz(nu).name();
-                route.as_ref().ok()?.index_of("gauge.lorenz", &name)
-            };
-            let findings = audit_verdicts(&route, &mut verdicts, index, seed);
-            for (nu, (v, finding)) in verdicts.iter().zip(&findings).enumerate() {
-                match v {
-                    Verdict::Zero => {}
-                    Verdict::Nonzero(w) => {
-                        let r = match finding {
-                            Finding::ProofContradicted(_) => {
-                                format!("0 by the exact route, but {}", finding.method(seed))
-                            }
-                            _ => p.store.to_text(div[nu]),
-                        };
-                        return Err(Failure::Input(miette::miette!(
-                            help = "bring the wave to Lorenz gauge first (see `lingrav gauge --vector`), \
-                                    or project its TT part with `lingrav project`",
-                            "the TT construction needs a Lorenz-gauge wave, but {} = {r} \
-                             is nonzero {w}",
-                            Part::Lorenz(nu).name()
-                        )));
-                    }
-                    Verdict::Undecided(why) => {
-                        let reason = format!(
-                            "cannot decide whether the input is in Lorenz gauge: {} ({why})",
-                            Part::Lorenz(nu).name()
-                        );
-                        return stop_undecided(&reason, a.format, s, j);
-                    }
-                }
-            }
-            let refs: Vec<&Finding> = findings.iter().collect();
-            let _ = writeln!(
-                s,
-                "            input in Lorenz gauge: proved; {}",
-                summary(&refs, seed)
-            );
-            j["input_lorenz"] =
-                serde_json::json!({ "status": "holds", "audit": summary(&refs, seed) });
-            audits.extend(findings);
-            match tt_gauge_vector(&mut p.store, &wave, &h) {
-                Ok(xi) => (xi, true),
-                Err(e) => return plane_failure(e, a.format, j),
-            }
-        }
+        None => match construct(&mut p, k_given, &mut r)? {
+            Built::Vector(xi) => (xi, true),
+            Built::Ended(outcome) => return Ok(outcome),
+        },
     };
+    let Report {
+        mut s,
+        mut j,
+        mut defect,
+        mut audits,
+        ..
+    } = r;
 
     let h2 = transform(&mut p.store, &h, &xi)?;
     // The texts of xi the audit evaluates: as given, or as printed for a constructed one.
@@ -370,14 +250,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
     if verify_tt {
         let _ = writeln!(s, "verification of h' (exact):");
         verification_lines(&mut s, st, &report);
-        outcome = match (
-            report.status_of("gauge.tt"),
-            report.status_of("field_equations"),
-        ) {
-            (Some(Status::Holds), Some(Status::Holds)) => Outcome::Holds,
-            (Some(Status::Fails), _) | (_, Some(Status::Fails)) => Outcome::Fails,
-            _ => Outcome::Undecided,
-        };
+        outcome = tt_solution(&report);
         let _ = writeln!(
             s,
             "result: {}",
@@ -411,7 +284,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
     let refs: Vec<&Finding> = audits.iter().collect();
     j["audit"] =
         serde_json::json!({ "defect": defect, "seed": seed, "points": points_json(&refs) });
-    if a.audit_points {
+    if a.shown.audit_points {
         s.push_str(&point_lines(&refs));
     }
 
@@ -430,24 +303,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
                 t.path.display()
             ))
         })?;
-        let status = |key: &str| report.status_of(key);
-        let claims = Claims {
-            field_equations: report.proved("field_equations"),
-            gauge: asked
-                .gauge
-                .iter()
-                .copied()
-                .filter(|g| status(&format!("gauge.{}", g.name())) == Some(Status::Holds))
-                .collect(),
-            // A claim that holds keeps the value asked; one that fails is written negated.
-            pure_gauge: asked
-                .pure_gauge
-                .and_then(|want| match status("pure_gauge") {
-                    Some(Status::Holds) => Some(want),
-                    Some(Status::Fails) => Some(!want),
-                    _ => None,
-                }),
-        };
+        let claims = proved_claims(&report, &asked);
         let name = format!(
             "{}, {}",
             p.name.clone().unwrap_or_else(|| label.clone()),
@@ -485,29 +341,11 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
             serde_json::json!({ "path": t.path.display().to_string(), "claims": claims.summary() });
     }
     j["result"] = outcome_word(outcome).into();
-    print(&match a.format {
+    print(&match a.shown.format {
         Format::Text => s,
         Format::Json => json(&j),
     })?;
     Ok(outcome)
-}
-
-/// Ends the command as undecided for `reason` (not a limit): the report so far and the
-/// reason, in text or JSON.
-fn stop_undecided(
-    reason: &str,
-    format: Format,
-    mut s: String,
-    mut j: serde_json::Value,
-) -> Result<Outcome, Failure> {
-    let _ = writeln!(s, "undecided: {reason}");
-    j["result"] = "undecided".into();
-    j["reason"] = reason.into();
-    print(&match format {
-        Format::Text => s,
-        Format::Json => json(&j),
-    })?;
-    Ok(Outcome::Undecided)
 }
 
 fn outcome_word(o: Outcome) -> &'static str {
@@ -516,8 +354,4 @@ fn outcome_word(o: Outcome) -> &'static str {
         Outcome::Fails => "fails",
         Outcome::Undecided => "undecided",
     }
-}
-
-fn st_text(st: &mut Store, f: Form) -> String {
-    st.to_text(f)
 }

@@ -194,7 +194,7 @@ pub fn run(a: GridArgs) -> Result<Outcome, Failure> {
         {
             line.finish();
             crate::cli::limits::stop_now(&format!(
-                "undecided: too slow: stopped sampling after the time limit of {ms} ms \
+                "too slow: stopped sampling after the time limit of {ms} ms \
                      (--time-limit raises it)"
             ));
         }

@@ -3,6 +3,7 @@
 
 pub mod antenna;
 pub mod binary;
+mod binary_report;
 pub mod check;
 pub mod compare;
 pub mod diff;
@@ -10,6 +11,7 @@ pub mod emit;
 pub mod export;
 pub mod gauge;
 pub mod gauge_curved;
+mod gauge_tt;
 pub mod grid;
 pub mod project;
 pub mod radiation;

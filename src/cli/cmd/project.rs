@@ -3,17 +3,17 @@
 //! with the claims proved for it. Every exact statement is audited
 //! ([`lingrav::tt::audit`]).
 
-use crate::cli::audit::{audit_json, point_lines, points_json};
+use crate::cli::audit::{AuditedFormat, audit_json, point_lines, points_json};
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, print};
-use crate::cli::plan::{DirectionArgs, kind_word, plan_optional_output, write_atomic};
+use crate::cli::plan::{DirectionArgs, ProblemOutput, kind_word, write_atomic};
 use crate::cli::report::{
-    Format, components_json, conventions, heading, json, list_components, texts, vec_text,
-    verification_json, verification_lines,
+    Format, components_json, conventions, heading, json, list_components, proved_claims, texts,
+    tt_solution, vec_text, verification_json, verification_lines,
 };
 use clap::Args;
 use lingrav::canon::{Form, Store};
-use lingrav::check::{CheckReport, Status, check};
+use lingrav::check::{CheckReport, check};
 use lingrav::gauge::file_texts;
 use lingrav::problem::{Claims, Gauge, render_problem};
 use lingrav::tt::audit::audit_projection;
@@ -28,18 +28,10 @@ pub struct ProjectArgs {
     file: PathBuf,
     #[command(flatten)]
     dir: DirectionArgs,
-    /// Output format.
-    #[arg(long, value_enum, default_value_t = Format::Text)]
-    format: Format,
-    /// Also write the TT part as a new problem file, with the claims proved for it.
-    #[arg(long, value_name = "FILE.toml")]
-    output: Option<PathBuf>,
-    /// Replace the output file if it exists.
-    #[arg(long)]
-    force: bool,
-    /// Also print the points of the independent audit.
-    #[arg(long)]
-    audit_points: bool,
+    #[command(flatten)]
+    shown: AuditedFormat,
+    #[command(flatten)]
+    written: ProblemOutput,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -68,7 +60,7 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
         return sphere(a, p);
     }
     let dir = a.dir.plan(&mut p)?;
-    let target = plan_optional_output(a.output.as_deref(), a.force, "--output")?;
+    let target = a.written.plan()?;
 
     let h = p.h;
     let proj = project_perturbation(&mut p.store, &h, &dir)?;
@@ -115,24 +107,16 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
             gauge: vec![Gauge::Tt],
             pure_gauge: None,
         };
-        let report = p.with_derived(tt4, (texts.clone(), Vec::new()), wanted, false, check);
+        let report = p.with_derived(
+            tt4,
+            (texts.clone(), Vec::new()),
+            wanted.clone(),
+            false,
+            check,
+        );
         verification_defect = report.has_defect();
-        let fe = report.status_of("field_equations");
-        let tt = report.status_of("gauge.tt");
-        let claims = Claims {
-            field_equations: report.proved("field_equations"),
-            gauge: if tt == Some(Status::Holds) {
-                vec![Gauge::Tt]
-            } else {
-                Vec::new()
-            },
-            pure_gauge: None,
-        };
-        outcome = match (fe, tt) {
-            (Some(Status::Holds), Some(Status::Holds)) => Outcome::Holds,
-            (Some(Status::Fails), _) | (_, Some(Status::Fails)) => Outcome::Fails,
-            _ => Outcome::Undecided,
-        };
+        let claims = proved_claims(&report, &wanted);
+        outcome = tt_solution(&report);
         let name = format!(
             "TT part of {} along n = {n_text}",
             p.name.clone().unwrap_or_else(|| label.clone())
@@ -159,7 +143,7 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
     }
 
     let st = &mut p.store;
-    let text = match a.format {
+    let text = match a.shown.format {
         Format::Text => {
             let mut s = String::new();
             let _ = writeln!(s, "{}", heading(&label, p.name.as_deref()));
@@ -239,7 +223,7 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
                      (see above); no statement they disagree on is reported as proved"
                 );
             }
-            if a.audit_points {
+            if a.shown.audit_points {
                 s.push_str(&point_lines(&audit.all()));
             }
             s
@@ -325,7 +309,7 @@ pub fn round_sphere_or_refuse(p: &mut lingrav::Problem, command: &str) -> Result
 fn sphere(a: ProjectArgs, mut p: lingrav::Problem) -> Result<Outcome, Failure> {
     use lingrav::tt::sphere::{Leading, polarizations};
     let c = p.coordinates.clone();
-    if a.dir.direction.trim() != "radial" || a.dir.basis.is_some() || a.output.is_some() {
+    if a.dir.direction.trim() != "radial" || a.dir.basis.is_some() || a.written.output.is_some() {
         return Err(Failure::Input(miette::miette!(
             help = format!(
                 "in the coordinates {} (read as t, r, theta, phi), `project` works along the \
@@ -389,7 +373,7 @@ fn sphere(a: ProjectArgs, mut p: lingrav::Problem) -> Result<Outcome, Failure> {
     let pl = leading(&sph.plus_leading);
     let cl = leading(&sph.cross_leading);
     let label = a.file.display().to_string();
-    let out = match a.format {
+    let out = match a.shown.format {
         Format::Text => {
             let mut s = String::new();
             let _ = writeln!(s, "{}", heading(&label, p.name.as_deref()));
@@ -421,7 +405,7 @@ fn sphere(a: ProjectArgs, mut p: lingrav::Problem) -> Result<Outcome, Failure> {
                     "INTERNAL DEFECT: the exact route and the independent evaluation disagree"
                 );
             }
-            if a.audit_points {
+            if a.shown.audit_points {
                 let refs: Vec<&lingrav::audit::expr::Finding> = findings.iter().collect();
                 s.push_str(&point_lines(&refs));
             }

@@ -104,6 +104,8 @@ struct Geometry {
     centre: String,
     /// The direction and basis for JSON.
     json: serde_json::Value,
+    /// The direction in the picture's title, e.g. `n = (0, 0, 1)`.
+    title_n: String,
 }
 
 /// `lingrav ring`.
@@ -154,17 +156,9 @@ pub fn run(a: RingArgs) -> Result<Outcome, Failure> {
             "direction": { "kind": kind_word(dir.kind), "n": texts(st, &dir.n) },
             "basis": { "u": texts(st, &dir.u), "v": texts(st, &dir.v) },
         }),
+        title_n: format!("n = {}", vec_text(st, &dir.n)),
     };
-    let title_n = vec_text(st, &dir.n);
-    report(
-        &a,
-        &mut p,
-        &geometry,
-        &ring,
-        &snaps,
-        &format!("n = {title_n}"),
-        target.as_ref(),
-    )
+    report(&a, &mut p, &geometry, (&ring, &snaps), target.as_ref())
 }
 
 fn unreachable_centre(ring: &Ring, names: &str, why: &str) -> Failure {
@@ -241,16 +235,9 @@ fn on_sphere(a: RingArgs, mut p: Problem) -> Result<Outcome, Failure> {
             "direction": { "kind": "radial", "coordinates": c },
             "basis": { "u": format!("e_{th}"), "v": format!("e_{ph}") },
         }),
+        title_n: format!("n = e_{r}"),
     };
-    report(
-        &a,
-        &mut p,
-        &geometry,
-        &ring,
-        &snaps,
-        &format!("n = e_{r}"),
-        target.as_ref(),
-    )
+    report(&a, &mut p, &geometry, (&ring, &snaps), target.as_ref())
 }
 
 /// The picture (if asked) and the report, text or JSON.
@@ -258,11 +245,10 @@ fn report(
     a: &RingArgs,
     p: &mut Problem,
     geometry: &Geometry,
-    ring: &Ring,
-    snaps: &[Snapshot],
-    title_n: &str,
+    (ring, snaps): (&Ring, &[Snapshot]),
     target: Option<&crate::cli::plan::Target>,
 ) -> Result<Outcome, Failure> {
+    let title_n = &geometry.title_n;
     let label = a.file.display().to_string();
     let radius = ring.radius;
     // The picture first, so that the report can say it was written.

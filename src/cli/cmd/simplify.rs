@@ -9,12 +9,13 @@ use crate::cli::report::{Format, json};
 use clap::Args;
 use lingrav::canon::{Form, Store};
 
-/// Arguments of `lingrav simplify`.
+/// Arguments of `lingrav simplify`, and what `diff` shares with it: the expression and how
+/// its result is printed and audited.
 #[derive(Args, Debug)]
 pub struct SimplifyArgs {
     /// The expression.
     #[arg(allow_hyphen_values = true)]
-    expr: String,
+    pub(super) expr: String,
     /// Print LaTeX instead of plain text.
     #[arg(long)]
     latex: bool,
@@ -24,7 +25,7 @@ pub struct SimplifyArgs {
     #[command(flatten)]
     audit: FormAuditArgs,
     #[command(flatten)]
-    limits: LimitArgs,
+    pub(super) limits: LimitArgs,
 }
 
 /// What `simplify` and `diff` print: the form (LaTeX if asked) and the audit of its plain
@@ -32,10 +33,10 @@ pub struct SimplifyArgs {
 pub fn print_form(
     st: &mut Store,
     f: Form,
-    input: &str,
+    a: &SimplifyArgs,
     by: &[&str],
-    (latex, format, audit): (bool, Format, &FormAuditArgs),
 ) -> Result<Outcome, Failure> {
+    let (input, latex, format, audit) = (a.expr.as_str(), a.latex, a.format, &a.audit);
     let plain = st.to_text(f);
     let shown = if latex { st.to_latex(f) } else { plain.clone() };
     let (note, outcome, finding) = form_audit(audit, input, &plain, by, latex);
@@ -65,5 +66,5 @@ pub fn print_form(
 pub fn run(a: SimplifyArgs) -> Result<Outcome, Failure> {
     let mut st = a.limits.store();
     let f = build_arg(&mut st, &a.expr, "expression")?;
-    print_form(&mut st, f, &a.expr, &[], (a.latex, a.format, &a.audit))
+    print_form(&mut st, f, &a, &[])
 }

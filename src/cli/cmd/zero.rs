@@ -1,7 +1,7 @@
 //! `lingrav zero`: is an expression (or the difference of two) identically zero? The exact
 //! verdict is audited by the independent route before it is printed.
 
-use crate::cli::audit::{audit_json, points_text};
+use crate::cli::audit::{AuditedFormat, audit_json, points_text};
 use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::plan::build_arg;
 use crate::cli::report::{Format, json, point_json};
@@ -29,12 +29,8 @@ pub struct ZeroArgs {
     /// How many random points to try for a certified nonzero witness.
     #[arg(long, default_value_t = 32, value_name = "N")]
     points: usize,
-    /// Output format.
-    #[arg(long, value_enum, default_value_t = Format::Text)]
-    format: Format,
-    /// Also print the points of the independent audit and its enclosures there.
-    #[arg(long)]
-    audit_points: bool,
+    #[command(flatten)]
+    shown: AuditedFormat,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -82,7 +78,7 @@ fn zero_report(
     let finding = audit_verdicts(&route, &mut verdicts, |_| Some(0), a.seed).remove(0);
     let [verdict] = verdicts;
     let independent = matches!(finding, Finding::ProofContradicted(_));
-    let text = match a.format {
+    let text = match a.shown.format {
         Format::Text => {
             let mut s = match &verdict {
                 Verdict::Zero => "zero: proved (the canonical form cancels to 0)\n".to_string(),
@@ -97,7 +93,7 @@ fn zero_report(
             if let Some(r) = &residual_text {
                 let _ = writeln!(s, "canonical form: {r}");
             }
-            if a.audit_points {
+            if a.shown.audit_points {
                 s.push_str(&points_text(&[&finding]));
             }
             s
