@@ -182,6 +182,21 @@ pub fn form_audit(
     (s, outcome, finding)
 }
 
+/// The comparisons of a detector audit (`antenna`, `response`) as JSON rows.
+pub fn comparison_rows(rows: &[lingrav::detector::audit::Row]) -> Vec<serde_json::Value> {
+    rows.iter()
+        .map(|r| {
+            serde_json::json!({
+                "quantity": r.quantity,
+                "point": point_json(&r.point),
+                "f64": r.direct,
+                "enclosure": r.enclosure.map(|(lo, hi)| [lo, hi]),
+                "agrees": r.agrees(),
+            })
+        })
+        .collect()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -44,15 +44,16 @@ pub struct Row {
     pub direct: f64,
     /// The jet route's enclosure of the printed exact form, if it could be evaluated.
     pub enclosure: Option<(f64, f64)>,
+    /// How far outside the enclosure the f64 value may lie (its rounding).
+    pub tolerance: f64,
 }
 
 impl Row {
-    /// True if the f64 value lies in the enclosure, widened by [`TOLERANCE`].
+    /// True if the f64 value lies in the enclosure, widened by the row's tolerance.
     #[must_use]
     pub fn agrees(&self) -> bool {
         self.enclosure.is_some_and(|(lo, hi)| {
-            let tol = TOLERANCE * (1.0 + self.direct.abs());
-            lo - tol <= self.direct && self.direct <= hi + tol
+            lo - self.tolerance <= self.direct && self.direct <= hi + self.tolerance
         })
     }
 }
@@ -198,6 +199,7 @@ pub fn audit(inputs: &Inputs, printed: &Printed, seed: u64) -> Report {
                         point: point.clone(),
                         direct,
                         enclosure: e,
+                        tolerance: TOLERANCE * (1.0 + direct.abs()),
                     });
                 }
                 Err(why) => report

@@ -48,50 +48,7 @@ pub struct Printed {
     pub finite: Option<String>,
 }
 
-/// One comparison.
-#[derive(Clone, Debug, PartialEq)]
-pub struct Row {
-    /// The quantity.
-    pub quantity: &'static str,
-    /// The point: t, the detector's x, y, z, the parameters.
-    pub point: Vec<(String, f64)>,
-    /// The second route's f64 value.
-    pub direct: f64,
-    /// The sum of the absolute values of its terms.
-    pub scale: f64,
-    /// The jet route's enclosure of the printed form.
-    pub enclosure: Option<(f64, f64)>,
-}
-
-impl Row {
-    /// True if the f64 value lies in the enclosure, widened by [`TOLERANCE`] times the scale.
-    #[must_use]
-    pub fn agrees(&self) -> bool {
-        self.enclosure.is_some_and(|(lo, hi)| {
-            let tol = TOLERANCE * self.scale;
-            lo - tol <= self.direct && self.direct <= hi + tol
-        })
-    }
-}
-
-/// The audit's result.
-#[derive(Clone, Debug, Default)]
-pub struct Report {
-    /// Every comparison made.
-    pub rows: Vec<Row>,
-    /// Why some or all could not be made.
-    pub not_audited: Vec<String>,
-}
-
-impl Report {
-    /// The first disagreement: an internal defect.
-    #[must_use]
-    pub fn first_defect(&self) -> Option<&Row> {
-        self.rows
-            .iter()
-            .find(|r| r.enclosure.is_some() && !r.agrees())
-    }
-}
+pub use super::audit::{Report, Row};
 
 /// `Lambda_ij,kl(n) s_kl` contracted with `d`, and the sum of the terms' absolute values.
 fn d_lambda(d: &[[f64; 3]; 3], n: &V3, s: &[[f64; 3]; 3]) -> (f64, f64) {
@@ -248,8 +205,8 @@ pub fn audit(problem: &Problem, inputs: &Inputs, printed: &Printed, seed: u64) -
                 quantity,
                 point: point.clone(),
                 direct,
-                scale,
                 enclosure,
+                tolerance: TOLERANCE * scale,
             });
         };
         match spatial {
@@ -289,8 +246,8 @@ pub fn audit(problem: &Problem, inputs: &Inputs, printed: &Printed, seed: u64) -
                         quantity: "finite-arm strain",
                         point: point.clone(),
                         direct: v,
-                        scale: abs,
                         enclosure: enc,
+                        tolerance: TOLERANCE * abs,
                     });
                 }
                 Err(why) => report

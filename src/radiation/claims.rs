@@ -74,6 +74,91 @@ pub fn quadrupole_texts(p: &Problem) -> [[String; 3]; 3] {
     })
 }
 
+/// The definitions of the radiated quantities written from the bodies' texts, for the
+/// independent route (shared by the claims and the `radiation` command's audit).
+pub struct Definitions {
+    q: [[String; 3]; 3],
+    t: String,
+}
+
+impl Definitions {
+    /// The definitions for `p` (time coordinate first in its coordinates).
+    #[must_use]
+    pub fn of(p: &Problem) -> Definitions {
+        Definitions {
+            q: quadrupole_texts(p),
+            t: p.coordinates[0].clone(),
+        }
+    }
+
+    /// `Q_ij`.
+    #[must_use]
+    pub fn q(&self, i: usize, j: usize) -> &str {
+        &self.q[i][j]
+    }
+
+    /// `d^k Q_ij / dt^k` (k >= 1).
+    #[must_use]
+    pub fn d(&self, k: usize, i: usize, j: usize) -> String {
+        format!("d_{}({})", vec![self.t.as_str(); k].join("_"), self.q[i][j])
+    }
+
+    /// `L = (1/5) dddQ_ij dddQ_ij`.
+    #[must_use]
+    pub fn luminosity(&self) -> String {
+        let mut squares = Vec::new();
+        for a in 0..3 {
+            for b in 0..3 {
+                squares.push(format!("({})^2", self.d(3, a, b)));
+            }
+        }
+        format!("({})/5", squares.join(" + "))
+    }
+
+    /// `dJ_i/dt = -(2/5) eps_ijk ddQ_ja dddQ_ka`.
+    #[must_use]
+    pub fn angular_momentum(&self, i: usize) -> String {
+        let (j, k) = ((i + 1) % 3, (i + 2) % 3);
+        let terms: Vec<String> = (0..3)
+            .map(|m| {
+                format!(
+                    "{}*{} - {}*{}",
+                    self.d(2, j, m),
+                    self.d(3, k, m),
+                    self.d(2, k, m),
+                    self.d(3, j, m)
+                )
+            })
+            .collect();
+        format!("-(2/5)*({})", terms.join(" + "))
+    }
+
+    /// `h_plus` and `h_cross` at time `t + distance`, `(1/R) ddQ_ij(t) e_ij` with the
+    /// polarization tensors of the basis texts `u`, `v` (e+ and ex are transverse and
+    /// traceless, so the TT projector leaves them alone).
+    #[must_use]
+    pub fn polarizations(&self, u: &[String; 3], v: &[String; 3], distance: &str) -> [String; 2] {
+        let contract = |e: &dyn Fn(usize, usize) -> String| -> String {
+            let mut terms = Vec::new();
+            for a in 0..3 {
+                for b in 0..3 {
+                    terms.push(format!("{}*({})", self.d(2, a, b), e(a, b)));
+                }
+            }
+            format!("({})/({distance})", terms.join(" + "))
+        };
+        [
+            contract(&|a, b| format!("({})*({}) - ({})*({})", u[a], u[b], v[a], v[b])),
+            contract(&|a, b| format!("({})*({}) + ({})*({})", u[a], v[b], v[a], u[b])),
+        ]
+    }
+}
+
+/// The texts of a vector's forms.
+pub fn vector_texts(st: &mut crate::canon::Store, v: &[Form; 3]) -> [String; 3] {
+    [st.to_text(v[0]), st.to_text(v[1]), st.to_text(v[2])]
+}
+
 /// Why the claims about radiation could not be decided.
 #[derive(Clone, Debug, thiserror::Error)]
 pub enum ClaimsError {
@@ -96,10 +181,7 @@ pub fn reports(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
     }
     let claims = p.radiation_claims.clone();
     let t_name = p.coordinates[0].clone();
-    let q = quadrupole_texts(p);
-    let d = |k: usize, a: usize, b: usize| {
-        format!("d_{}({})", vec![t_name.as_str(); k].join("_"), q[a][b])
-    };
+    let defs = Definitions::of(p);
     let lim = ClaimsError::Limit;
     let mut rad = Radiation::new(&mut p.store, &p.bodies, &t_name).map_err(lim)?;
     let mut out = Vec::new();
@@ -107,13 +189,7 @@ pub fn reports(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
     let st = &mut p.store;
     if claims.luminosity.is_some() || claims.luminosity_average.is_some() {
         let lum = rad.luminosity(st).map_err(lim)?;
-        let mut squares = Vec::new();
-        for a in 0..3 {
-            for b in 0..3 {
-                squares.push(format!("({})^2", d(3, a, b)));
-            }
-        }
-        let definition = format!("({})/5", squares.join(" + "));
+        let definition = defs.luminosity();
         if let Some(c) = &claims.luminosity {
             let residual = st.sub(c.form, lum).map_err(lim)?;
             groups.push((
@@ -170,29 +246,9 @@ pub fn reports(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
         let w = rad
             .field(st, (&dir.n, &dir.u, &dir.v), distance.form)
             .map_err(lim)?;
-        let u: Vec<String> = dir
-            .u
-            .iter()
-            .map(|&f| format!("({})", st.to_text(f)))
-            .collect();
-        let v: Vec<String> = dir
-            .v
-            .iter()
-            .map(|&f| format!("({})", st.to_text(f)))
-            .collect();
-        let contract = |e: &dyn Fn(usize, usize) -> String| -> String {
-            let mut terms = Vec::new();
-            for a in 0..3 {
-                for b in 0..3 {
-                    terms.push(format!("{}*({})", d(2, a, b), e(a, b)));
-                }
-            }
-            format!("({})/({})", terms.join(" + "), distance.text)
-        };
-        let defs = [
-            contract(&|a, b| format!("{}*{} - {}*{}", u[a], u[b], v[a], v[b])),
-            contract(&|a, b| format!("{}*{} + {}*{}", u[a], v[b], v[a], u[b])),
-        ];
+        let u = vector_texts(st, &dir.u);
+        let v = vector_texts(st, &dir.v);
+        let defs = defs.polarizations(&u, &v, &distance.text);
         // The claimed fields shifted to t + distance meet the definitions at t.
         let t = st.symbol_kernel(&t_name);
         let tf = st.symbol(&t_name);

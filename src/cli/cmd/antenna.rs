@@ -7,7 +7,7 @@ use super::zero::LimitArgs;
 use crate::cli::audit::DEFAULT_SEED;
 use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::plan::{ArmArgs, arg_failure, plan_optional_output, write_atomic};
-use crate::cli::report::{Format, json, point_json, texts, vec_text, verdict_json};
+use crate::cli::report::{Format, json, texts, vec_text, verdict_json};
 use clap::{Args, ValueEnum};
 use lingrav::audit::expr::point_text;
 use lingrav::detector::audit::{Inputs, POINTS, Printed, Report, TOLERANCE, audit};
@@ -432,19 +432,7 @@ pub fn run(a: AntennaArgs) -> Result<Outcome, Failure> {
                 })
                 .collect();
             let avg = |exact: &str, value: Option<f64>, q: Option<f64>| serde_json::json!({ "exact": exact, "value": value, "quadrature": q });
-            let rows: Vec<serde_json::Value> = report
-                .rows
-                .iter()
-                .map(|r| {
-                    serde_json::json!({
-                        "quantity": r.quantity,
-                        "point": point_json(&r.point),
-                        "f64": r.direct,
-                        "enclosure": r.enclosure.map(|(lo, hi)| [lo, hi]),
-                        "agrees": r.agrees(),
-                    })
-                })
-                .collect();
+            let rows = crate::cli::audit::comparison_rows(&report.rows);
             json(&serde_json::json!({
                 "detector": {
                     "a": texts(&mut st, &det.a),

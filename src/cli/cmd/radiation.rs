@@ -128,7 +128,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     let limit = |e: CanonError| gave_up(&e);
     let t_name = p.coordinates[0].clone();
     let sampling = p.sampling.clone();
-    let q = lingrav::radiation::claims::quadrupole_texts(&p);
+    let defs = lingrav::radiation::claims::Definitions::of(&p);
     let st = &mut p.store;
     let mut rad = Radiation::new(st, &p.bodies, &t_name).map_err(limit)?;
     let mut rows = Vec::new();
@@ -136,63 +136,32 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
         rows.push(Row {
             name: format!("Q_{}{}", AXES[i], AXES[j]),
             form: rad.trace_free[i][j],
-            definition: q[i][j].clone(),
+            definition: defs.q(i, j).to_string(),
         });
     }
-    let d3 = |i: usize, j: usize| format!("d_{t_name}_{t_name}_{t_name}({})", q[i][j]);
-    let d2 = |i: usize, j: usize| format!("d_{t_name}_{t_name}({})", q[i][j]);
     let lum = rad.luminosity(st).map_err(limit)?;
-    let mut squares = Vec::new();
-    for i in 0..3 {
-        for j in 0..3 {
-            squares.push(format!("({})^2", d3(i, j)));
-        }
-    }
     rows.push(Row {
         name: "L".into(),
         form: lum,
-        definition: format!("({})/5", squares.join(" + ")),
+        definition: defs.luminosity(),
     });
     let dj = rad.angular_momentum_flux(st).map_err(limit)?;
     for (i, &f) in dj.iter().enumerate() {
-        let (j, k) = ((i + 1) % 3, (i + 2) % 3);
-        let terms: Vec<String> = (0..3)
-            .map(|m| format!("{}*{} - {}*{}", d2(j, m), d3(k, m), d2(k, m), d3(j, m)))
-            .collect();
         rows.push(Row {
             name: format!("dJ_{}/dt", AXES[i]),
             form: f,
-            definition: format!("-(2/5)*({})", terms.join(" + ")),
+            definition: defs.angular_momentum(i),
         });
     }
-    // The waveform: h_plus(t + R) = (1/R) ddQ_ij(t) e+_ij, an identity of the TT basis
-    // (e+ is transverse and traceless, so Lambda leaves it alone).
+    // The waveform, audited at t + R against (1/R) ddQ_ij(t) e_ij.
     let mut wave_rows = Vec::new();
     if let Some(dir) = &dir {
         let w = rad
             .field(st, (&dir.n, &dir.u, &dir.v), distance)
             .map_err(limit)?;
-        let u: Vec<String> = dir
-            .u
-            .iter()
-            .map(|&f| format!("({})", st.to_text(f)))
-            .collect();
-        let v: Vec<String> = dir
-            .v
-            .iter()
-            .map(|&f| format!("({})", st.to_text(f)))
-            .collect();
-        let contract = |e: &dyn Fn(usize, usize) -> String| -> String {
-            let mut terms = Vec::new();
-            for i in 0..3 {
-                for j in 0..3 {
-                    terms.push(format!("{}*({})", d2(i, j), e(i, j)));
-                }
-            }
-            format!("({})/{distance_text}", terms.join(" + "))
-        };
-        let plus_def = contract(&|i, j| format!("{}*{} - {}*{}", u[i], u[j], v[i], v[j]));
-        let cross_def = contract(&|i, j| format!("{}*{} + {}*{}", u[i], v[j], v[i], u[j]));
+        let u = lingrav::radiation::claims::vector_texts(st, &dir.u);
+        let v = lingrav::radiation::claims::vector_texts(st, &dir.v);
+        let [plus_def, cross_def] = defs.polarizations(&u, &v, &distance_text);
         // Shift the printed forms to t + R so that they meet the definitions at t.
         let t = st.symbol_kernel(&t_name);
         let tf = st.symbol(&t_name);

@@ -7,7 +7,7 @@ use crate::cli::audit::DEFAULT_SEED;
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::plan::{ArmArgs, DirectionArgs, arg_failure, kind_word, numbers};
-use crate::cli::report::{Format, heading, json, point_json, texts, vec_text, verdict_json};
+use crate::cli::report::{Format, heading, json, texts, vec_text, verdict_json};
 use clap::Args;
 use lingrav::audit::expr::point_text;
 use lingrav::canon::Form;
@@ -443,19 +443,7 @@ pub fn run(a: ResponseArgs) -> Result<Outcome, Failure> {
                 (Some(Err(why)), _) => serde_json::json!({ "undecided": why }),
                 _ => serde_json::Value::Null,
             };
-            let rows: Vec<serde_json::Value> = report
-                .rows
-                .iter()
-                .map(|r| {
-                    serde_json::json!({
-                        "quantity": r.quantity,
-                        "point": point_json(&r.point),
-                        "f64": r.direct,
-                        "enclosure": r.enclosure.map(|(lo, hi)| [lo, hi]),
-                        "agrees": r.agrees(),
-                    })
-                })
-                .collect();
+            let rows = crate::cli::audit::comparison_rows(&report.rows);
             json(&serde_json::json!({
                 "file": label,
                 "name": p.name,
