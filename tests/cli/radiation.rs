@@ -156,7 +156,7 @@ fn radiation_draws_the_waveform_and_the_pattern() {
         "theta=pi/3,phi=0",
         "--distance",
         "1000",
-        "--times",
+        "--time-range",
         "0,2500",
         "--svg",
         out.to_str().unwrap(),
@@ -177,7 +177,7 @@ fn radiation_draws_the_waveform_and_the_pattern() {
         svg.contains("&lt;dP/dOmega&gt;"),
         "the pattern is the time average"
     );
-    // --svg needs the times, the direction and the distance.
+    // --svg needs the time range, the direction and the distance.
     let (_, err, code) = lingrav(&["radiation", &f, "--svg", out.to_str().unwrap()]);
     assert_eq!(code, 2, "{err}");
 }

@@ -46,13 +46,13 @@ pub struct RadiationArgs {
     /// Print the audit's seeded points.
     #[arg(long)]
     audit_points: bool,
-    /// Draw h_plus and h_cross over --times at the observer, and the angular pattern of the
+    /// Draw h_plus and h_cross over --time-range at the observer, and the angular pattern of the
     /// radiated power, as an SVG picture.
-    #[arg(long, value_name = "FILE.svg", requires_all = ["direction", "distance", "times"])]
+    #[arg(long, value_name = "FILE.svg", requires_all = ["direction", "distance", "time_range"])]
     svg: Option<PathBuf>,
     /// The time range of the picture, `T0,T1`.
     #[arg(long, value_name = "T0,T1", allow_hyphen_values = true)]
-    times: Option<String>,
+    time_range: Option<String>,
     /// Replace the SVG file if it exists.
     #[arg(long)]
     force: bool,
@@ -111,13 +111,13 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
         None => (p.store.symbol(&r_name), r_name.clone()),
     };
 
-    let times = match &a.times {
+    let times = match &a.time_range {
         Some(t) => {
-            let v = numbers(&mut p, "--times", t, Some(2), "the times are T0,T1")?;
+            let v = numbers(&mut p, "--time-range", t, Some(2), "the range is T0,T1")?;
             if v[1] <= v[0] {
                 return Err(Failure::Input(miette::miette!(
-                    help = "e.g. --times 0,2000",
-                    "--times needs T0 < T1"
+                    help = "e.g. --time-range 0,2000",
+                    "--time-range needs T0 < T1"
                 )));
             }
             Some((v[0], v[1]))
