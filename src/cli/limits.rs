@@ -145,6 +145,8 @@ const POLL: Duration = Duration::from_millis(20);
 const GRACE: Duration = Duration::from_secs(1);
 
 fn start_watchdog() {
+    // Armed again for each computation (`check` of several files computes after reporting).
+    DISARMED.store(false, std::sync::atomic::Ordering::SeqCst);
     static ONCE: Once = Once::new();
     ONCE.call_once(|| {
         let spawned = std::thread::Builder::new()
@@ -155,7 +157,8 @@ fn start_watchdog() {
                 loop {
                     std::thread::sleep(POLL);
                     if DISARMED.load(std::sync::atomic::Ordering::SeqCst) {
-                        return;
+                        since = None;
+                        continue;
                     }
                     if !lingrav::budget::over_budget() {
                         since = None;

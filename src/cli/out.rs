@@ -30,6 +30,8 @@ pub enum Failure {
     BrokenPipe,
     /// A size or time limit stopped the algebra: undecided, with the reason.
     GaveUp(String),
+    /// Errors already rendered (several files): only the exit code is left to set.
+    Quiet(u8),
 }
 
 impl From<miette::Report> for Failure {
@@ -180,6 +182,7 @@ pub fn finish(r: Result<Outcome, Failure>) -> ExitCode {
         Ok(Outcome::Fails) => ExitCode::from(1),
         Ok(Outcome::Undecided) => ExitCode::from(3),
         Err(Failure::BrokenPipe) => ExitCode::from(0),
+        Err(Failure::Quiet(code)) => ExitCode::from(code),
         Err(Failure::GaveUp(why)) => {
             let _ = write!(io::stdout(), "{}", limit_report(&why));
             ExitCode::from(3)

@@ -179,3 +179,41 @@ fn a_closed_pipe_is_not_an_error() {
     assert_eq!(out.status.code(), Some(0), "stderr:\n{stderr}");
     assert!(stderr.is_empty(), "stderr:\n{stderr}");
 }
+
+#[test]
+fn check_takes_several_files_and_ends_with_the_worst() {
+    use super::support::worked;
+    let dir = tempfile::tempdir().unwrap();
+    let bad = dir.path().join("bad.toml");
+    std::fs::write(&bad, "[perturbation]\nxx = 'cos(t'\n").unwrap();
+    let (good, wrong) = (worked("lorenz_wave.toml"), worked("wrong_sign_wave.toml"));
+    // Holds and fails: exit 1, each report, then the summary.
+    let (out, _, code) = lingrav(&["check", &good, &wrong]);
+    assert_eq!(code, 1, "{out}");
+    assert!(out.contains("lorenz_wave.toml: ") && out.contains("wrong_sign_wave.toml: "));
+    assert!(
+        out.trim_end()
+            .ends_with("summary: 2 files: 1 hold, 1 fail, 0 undecided, 0 bad input"),
+        "{out}"
+    );
+    // Bad input is the worst: exit 2, its error on stderr with file, line and column; the
+    // other files are still checked.
+    let (out, err, code) = lingrav(&["check", &good, bad.to_str().unwrap(), &wrong]);
+    assert_eq!(code, 2, "{out}{err}");
+    assert!(err.contains("bad.toml:2:"), "{err}");
+    assert!(
+        out.contains("3 files: 1 hold, 1 fail, 0 undecided, 1 bad input"),
+        "{out}"
+    );
+    // JSON: one document with every file's report and the summary.
+    let (out, _, code) = lingrav(&["check", &good, &wrong, "--format", "json"]);
+    assert_eq!(code, 1);
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(j["result"], "fails");
+    assert_eq!(j["files"][0]["result"], "holds");
+    assert_eq!(j["files"][1]["result"], "fails");
+    // One file: the report as before, without a summary line.
+    let (out, _, code) = lingrav(&["check", &good]);
+    assert_eq!(code, 0);
+    assert!(!out.contains("summary:"), "{out}");
+}

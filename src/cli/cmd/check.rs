@@ -14,8 +14,10 @@ use std::path::PathBuf;
 /// Arguments of `lingrav check`.
 #[derive(Args, Debug)]
 pub struct CheckArgs {
-    /// The problem file (TOML).
-    file: PathBuf,
+    /// The problem files (TOML); with several, each is reported in turn, then a summary line,
+    /// and the exit code is the worst (bad input, then fails, then undecided).
+    #[arg(required = true, num_args = 1..)]
+    files: Vec<PathBuf>,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
@@ -25,7 +27,108 @@ pub struct CheckArgs {
 
 /// `lingrav check`.
 pub fn run(a: CheckArgs) -> Result<Outcome, Failure> {
-    let mut problem = a.limits.load(&a.file)?;
+    if let [file] = a.files.as_slice() {
+        let (text, outcome) = one(&a, file)?;
+        print(&text)?;
+        return Ok(outcome);
+    }
+    several(&a)
+}
+
+/// How one of several files ended.
+#[derive(Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+enum End {
+    Holds,
+    Undecided,
+    Fails,
+    BadInput,
+}
+
+/// Several files: each report in turn, a summary, the worst outcome.
+fn several(a: &CheckArgs) -> Result<Outcome, Failure> {
+    let json_mode = a.format == Format::Json;
+    let mut ends = Vec::with_capacity(a.files.len());
+    let mut items = Vec::new();
+    for file in &a.files {
+        let label = file.display().to_string();
+        let (end, text) = match one(a, file) {
+            Ok((text, o)) => {
+                let end = match o {
+                    Outcome::Holds => End::Holds,
+                    Outcome::Fails => End::Fails,
+                    Outcome::Undecided => End::Undecided,
+                };
+                (end, text)
+            }
+            Err(e @ (Failure::BrokenPipe | Failure::Quiet(_))) => return Err(e),
+            Err(Failure::GaveUp(why)) => (
+                End::Undecided,
+                if json_mode {
+                    json(&serde_json::json!({
+                        "file": label, "result": "undecided", "limit": why,
+                    }))
+                } else {
+                    format!("{label}\nundecided: {why}\n")
+                },
+            ),
+            Err(Failure::Input(report)) => {
+                let report = crate::cli::render::safe(report);
+                eprintln!("{report:?}");
+                (
+                    End::BadInput,
+                    if json_mode {
+                        json(&serde_json::json!({
+                            "file": label, "result": "error", "error": report.to_string(),
+                        }))
+                    } else {
+                        format!("{label}\nbad input (see the error above)\n")
+                    },
+                )
+            }
+        };
+        ends.push(end);
+        if json_mode {
+            items.push(serde_json::from_str::<serde_json::Value>(&text).unwrap_or_default());
+        } else {
+            print(&format!("{text}\n"))?;
+        }
+    }
+    let count = |e: End| ends.iter().filter(|x| **x == e).count();
+    let summary = format!(
+        "{} files: {} hold, {} fail, {} undecided, {} bad input",
+        ends.len(),
+        count(End::Holds),
+        count(End::Fails),
+        count(End::Undecided),
+        count(End::BadInput)
+    );
+    let worst = ends.iter().copied().max().unwrap_or(End::Holds);
+    if json_mode {
+        print(&json(&serde_json::json!({
+            "files": items,
+            "summary": summary,
+            "result": match worst {
+                End::Holds => "holds",
+                End::Undecided => "undecided",
+                End::Fails => "fails",
+                End::BadInput => "error",
+            },
+        })))?;
+    } else {
+        print(&format!("summary: {summary}\n"))?;
+    }
+    match worst {
+        End::Holds => Ok(Outcome::Holds),
+        End::Undecided => Ok(Outcome::Undecided),
+        End::Fails => Ok(Outcome::Fails),
+        // The errors were rendered above; this only sets the exit code.
+        End::BadInput => Err(Failure::Quiet(2)),
+    }
+}
+
+/// One file's report (text or JSON) and outcome.
+fn one(a: &CheckArgs, file: &std::path::Path) -> Result<(String, Outcome), Failure> {
+    let mut problem = a.limits.load(file)?;
     // A file that describes only bodies (no [perturbation]) has only claims about them.
     let only_bodies =
         !problem.bodies.is_empty() && problem.h_text.iter().flatten().all(Option::is_none);
@@ -42,13 +145,12 @@ pub fn run(a: CheckArgs) -> Result<Outcome, Failure> {
         e => Failure::Input(miette::miette!("{}: {e}", problem.path)),
     })?;
     report.claims.extend(radiation);
-    let label = a.file.display().to_string();
+    let label = file.display().to_string();
     let text = match a.format {
         Format::Text => render_text(&mut problem.store, &label, problem.name.as_deref(), &report),
         Format::Json => render_json(&mut problem, &label, &report),
     };
-    print(&text)?;
-    Ok(Outcome::of(report.overall()))
+    Ok((text, Outcome::of(report.overall())))
 }
 
 fn status_word(c: &ClaimReport, has_claims: bool) -> &'static str {
