@@ -8,6 +8,10 @@
 
 use std::path::{Path, PathBuf};
 
+// The binary's allocator, so that the time is the time `lingrav` spends.
+#[global_allocator]
+static ALLOCATOR: lingrav::budget::Counting = lingrav::budget::Counting;
+
 fn main() {
     divan::main();
 }

@@ -8,6 +8,10 @@ mod grid_common;
 use grid_common::*;
 use lingrav::tape::Batch;
 
+// The binary's allocator, so that the time is the time `lingrav` spends.
+#[global_allocator]
+static ALLOCATOR: lingrav::budget::Counting = lingrav::budget::Counting;
+
 fn main() {
     divan::main();
 }
