@@ -198,7 +198,7 @@ for a TT wave along n). .npy: one float64 array, shape (rows, columns), columns 
 The sidecar PATH.meta.json holds the column names, conventions, parameter values, every
 column's exact expression and certified error bound, and the tool version. Files appear
 whole (temporary file, then rename; the data first, then the sidecar, which records the
-data file's size and FNV-1a 64 checksum); an existing file is kept unless --force.
+data file's size and CRC-32 checksum (as zlib.crc32)); an existing file is kept unless --force.
 --report json prints what was written as JSON (rows, columns, paths, checksum; a limit or an
 error as a JSON object too). Exit 0 written, 2 bad input, a point where a value is not
 finite, or an I/O error (nothing written), 3 undecided (a limit, or values not certified).")]

@@ -165,7 +165,7 @@ fn issue_11_a_limit_reached_after_loading_reads_the_same_in_every_command() {
     }
 }
 
-/// Asserts that the report `j` gives the size and the FNV-1a 64 checksum of `bytes` under
+/// Asserts that the report `j` gives the size and the CRC-32 checksum of `bytes` under
 /// the keys `[size, checksum]`.
 fn assert_describes(j: &serde_json::Value, [size, checksum]: [&str; 2], bytes: &[u8]) {
     assert_eq!(j[size], bytes.len(), "{j}");

@@ -335,14 +335,29 @@ fn issue_9_grid_plot_is_not_replaced_without_force() {
     assert_eq!(files_in(dir.path()), ["r.svg"]);
 }
 
-/// FNV-1a 64, as the sidecar records it.
-fn fnv1a64(bytes: &[u8]) -> String {
-    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+/// CRC-32 (ISO-HDLC: reflected polynomial 0xedb88320, initial value and final xor all ones),
+/// as the sidecar records it, bit by bit from the definition: a route independent of the
+/// library's table-driven and carry-less-multiplication code.
+fn crc32(bytes: &[u8]) -> String {
+    let mut c: u32 = !0;
     for &b in bytes {
-        h ^= u64::from(b);
-        h = h.wrapping_mul(0x0000_0100_0000_01b3);
+        c ^= u32::from(b);
+        for _ in 0..8 {
+            c = if c & 1 == 1 {
+                (c >> 1) ^ 0xedb8_8320
+            } else {
+                c >> 1
+            };
+        }
     }
-    format!("fnv1a64:{h:016x}")
+    format!("crc32:{:08x}", !c)
+}
+
+#[test]
+fn the_checksum_oracle_gives_the_catalogue_check_value() {
+    // CRC-32/ISO-HDLC of "123456789" is cbf43926 (common practice: the published check value).
+    assert_eq!(crc32(b"123456789"), "crc32:cbf43926");
+    assert_eq!(crc32(b""), "crc32:00000000");
 }
 
 /// Asserts that a data file, if present, has a sidecar that describes it.
@@ -359,7 +374,7 @@ fn assert_pair_consistent(data: &Path) {
     assert_eq!(v["data_file_bytes"].as_u64(), Some(bytes.len() as u64));
     assert_eq!(
         v["data_file_checksum"].as_str(),
-        Some(fnv1a64(&bytes).as_str())
+        Some(crc32(&bytes).as_str())
     );
 }
 
