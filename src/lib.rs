@@ -38,31 +38,38 @@
 //! let f = expression(&mut store, "sin(x)^2 + cos(x)^2 - 1").unwrap();
 //! assert!(matches!(decide(&mut store, f, &Sampling::default()), Verdict::Zero));
 //! ```
+//!
+//! Public are the vocabulary above and the modules a program calls: the exact route
+//! ([`canon`], [`zero`], [`tensor`], [`check`], [`problem`]), certified numbers ([`interval`]),
+//! the capabilities ([`tt`], [`gauge`], [`radiation`], [`binary`], [`detector`]) and the
+//! numeric route ([`grid`], [`tape`]). The independent audit, the jets, the exporters and the
+//! command line are private; [`command_line`] is the whole `lingrav` command as a function.
 #![warn(missing_docs)]
 #![allow(
     clippy::needless_range_loop,
     reason = "index loops over tensor components read like the formulas"
 )]
 
-pub mod adm;
-pub mod audit;
+pub(crate) mod adm;
+pub(crate) mod audit;
 pub mod binary;
 pub mod budget;
 pub mod canon;
 pub mod check;
 pub mod claim;
+mod cli;
 pub mod detector;
-pub mod emit;
-pub mod export;
+pub(crate) mod emit;
+pub(crate) mod export;
 pub mod expr;
 pub mod gauge;
 pub mod grid;
 pub mod interval;
-pub mod jet;
-pub mod output;
+pub(crate) mod jet;
+pub(crate) mod output;
 pub mod parse;
-pub mod plot;
-pub mod pointwise;
+pub(crate) mod plot;
+pub(crate) mod pointwise;
 pub mod problem;
 pub mod radiation;
 pub mod tape;
@@ -76,6 +83,16 @@ pub use expr::{Expr, ExprKind, Span};
 pub use problem::{Problem, ProblemError};
 pub use tensor::Linearized;
 pub use zero::{Sampling, Verdict, Witness, decide};
+
+/// The `lingrav` command line: reads the process's arguments, runs the command, prints its
+/// report and returns the exit code (0 every claim holds, 1 one fails, 2 bad input or I/O
+/// error, 3 undecided). Installs the signal handlers that remove half-written files on
+/// Ctrl-C. The `lingrav` binary is this function and [`budget::Counting`].
+#[must_use]
+pub fn command_line() -> std::process::ExitCode {
+    output::install_signal_cleanup();
+    cli::run()
+}
 
 /// Why [`expression`] could not build a form.
 #[derive(Debug, thiserror::Error)]

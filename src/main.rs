@@ -9,14 +9,11 @@
 //! Rust process); passing the cap raises a flag that computations poll, and a watchdog ends
 //! the process as "undecided: too large" (exit 3) if the flag stays up (see `cli::limits`).
 
-mod cli;
-
 use std::process::ExitCode;
 
 #[global_allocator]
 static ALLOCATOR: lingrav::budget::Counting = lingrav::budget::Counting;
 
 fn main() -> ExitCode {
-    lingrav::output::install_signal_cleanup();
-    cli::run()
+    lingrav::command_line()
 }

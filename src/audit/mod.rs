@@ -25,6 +25,7 @@ use crate::claim::{Kind, Part, Plan, PureGaugeRoute, Setting};
 use crate::expr::Expr;
 use crate::grid::claims::{Atom, Deriv, Field, claim_specs};
 use crate::interval::Interval;
+#[cfg(test)]
 use crate::jet::eval::{called_functions, free_names};
 use crate::jet::{EvalError, Jet, Program, Scalar, Scope};
 use crate::parse::{ParseError, parse};
@@ -855,7 +856,9 @@ pub fn generic_sample_text(index: usize) -> String {
     )
 }
 
-/// A single expression's jet at a point, with the names of its variables.
+/// A single expression's jet at a point, with the names of its variables (tests read jets
+/// through it).
+#[cfg(test)]
 #[derive(Clone, Debug)]
 pub struct ExprJet {
     /// The jet's variables, in order.
@@ -864,6 +867,7 @@ pub struct ExprJet {
     pub jet: Option<Jet<Interval>>,
 }
 
+#[cfg(test)]
 impl ExprJet {
     /// The value.
     pub fn value(&self) -> Option<Interval> {
@@ -894,6 +898,7 @@ impl ExprJet {
 /// # Errors
 ///
 /// A sample that does not parse, a name without a value, a primed built-in, jets too large.
+#[cfg(test)]
 pub fn eval_expr_at<N: AsRef<str>>(
     expr: &Expr,
     point: &[(N, f64)],

@@ -1,5 +1,5 @@
 //! The evolution as an SVG picture: three panels over time (a, e, f_gw), drawn by
-//! [`crate::plot`].
+//! `crate::plot`.
 
 use super::coalesce::Evolution;
 use crate::plot::{Panel, svg as plot};

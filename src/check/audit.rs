@@ -1,6 +1,6 @@
 //! Every verdict of the exact route checked again by the independent jet route.
 //!
-//! A component proved zero is evaluated by [`crate::audit`] at seeded points; an enclosure
+//! A component proved zero is evaluated by `crate::audit` at seeded points; an enclosure
 //! that excludes 0 means the proof was wrong, and the component becomes *nonzero* with that
 //! witness and a loud note (an internal defect). A certified witness is evaluated again at its
 //! own point; if that enclosure contains 0, or the point cannot be evaluated, the component
@@ -100,7 +100,7 @@ pub fn audit_claims(problem: &Problem, claims: &mut [ClaimReport], seed: u64) {
     audit_texts(&Texts::of(problem), claims, seed);
 }
 
-/// [`audit_claims`] for an auditable problem, from its texts alone (see [`Texts`]): the
+/// [`audit_claims`] for an auditable problem, from its texts alone (see `Texts`): the
 /// texts are parsed and planned once, for the seeded points and the witnesses.
 pub fn audit_texts(texts: &Texts, claims: &mut [ClaimReport], seed: u64) {
     match Audit::of_texts(texts) {

@@ -3,7 +3,7 @@
 //!
 //! The claims of a problem file are audited in [`super::audit`]; every other verdict (a
 //! command-line expression, the derived statements of `project`, `gauge` and `compare`)
-//! goes through [`audit_verdicts`] here, with a [`Route`] that evaluates the quantities from
+//! goes through [`audit_verdicts`] here, with a `Route` that evaluates the quantities from
 //! their texts. A finding only ever takes a proof or a witness away: a contradicted proof
 //! becomes nonzero with the independent witness, an unconfirmed witness undecided.
 

@@ -1,16 +1,16 @@
 //! How the independent audit is shown: its points and enclosures in text and JSON, and the
 //! audit of a printed form (`simplify`, `diff`). The audit itself is in the library
-//! ([`lingrav::check::verdicts::audit_verdicts`], [`lingrav::audit::expr`]); it only takes
+//! ([`crate::check::verdicts::audit_verdicts`], [`crate::audit::expr`]); it only takes
 //! away: a contradicted proof is reported nonzero with an `INTERNAL DEFECT` line, an
 //! unconfirmed witness becomes undecided.
 
 use super::out::Outcome;
 use super::report::point_json;
-use clap::Args;
-use lingrav::audit::expr::{
+use crate::audit::expr::{
     Evaluated, Expressions, Finding, Route, audit_proofs, point_text, seeded,
 };
-use lingrav::interval::Interval;
+use crate::interval::Interval;
+use clap::Args;
 use std::fmt::Write as _;
 
 /// The seed of the audit points of `simplify` and `diff` (that of `zero`'s witnesses).
@@ -183,7 +183,7 @@ pub fn form_audit(
 }
 
 /// The comparisons of a detector audit (`antenna`, `response`) as JSON rows.
-pub fn comparison_rows(rows: &[lingrav::detector::audit::Row]) -> Vec<serde_json::Value> {
+pub fn comparison_rows(rows: &[crate::detector::audit::Row]) -> Vec<serde_json::Value> {
     rows.iter()
         .map(|r| {
             serde_json::json!({

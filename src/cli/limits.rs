@@ -5,7 +5,7 @@
 //! algebra too), and every limit reached ends the same way, through `out::gave_up`:
 //! "undecided: too large" or "undecided: too slow", exit 3.
 //!
-//! Memory: the binary's counting allocator raises `lingrav::budget`'s flag when the process
+//! Memory: the binary's counting allocator raises `crate::budget`'s flag when the process
 //! passes `--max-memory`. Computations that poll the flag stop with "too large"; a watchdog
 //! thread ends the process the same way (message on standard output, temporaries removed,
 //! exit 3) if the flag stays up for a second, or at once when use passes one and a half
@@ -13,9 +13,9 @@
 //! cap never aborts the process.
 
 use super::out::{Failure, gave_up};
+use crate::canon::{CanonError, Limits, Store};
+use crate::problem::Problem;
 use clap::Args;
-use lingrav::canon::{CanonError, Limits, Store};
-use lingrav::problem::Problem;
 use std::path::Path;
 use std::sync::Once;
 use std::time::{Duration, Instant};
@@ -44,10 +44,10 @@ impl<const DEFAULT_MS: u64> LimitArgs<DEFAULT_MS> {
     pub fn start(&self) -> Limits {
         let cap = self
             .max_memory
-            .map_or_else(lingrav::budget::default_cap, |mb| {
+            .map_or_else(crate::budget::default_cap, |mb| {
                 usize::try_from(mb.saturating_mul(1 << 20)).unwrap_or(usize::MAX)
             });
-        lingrav::budget::set_cap(cap);
+        crate::budget::set_cap(cap);
         start_watchdog();
         let ms = self.time_limit();
         Limits {
@@ -78,7 +78,7 @@ impl<const DEFAULT_MS: u64> LimitArgs<DEFAULT_MS> {
 
 /// Reads and builds a problem file under `limits` (for a second file under the same clock).
 pub fn load_with(path: &Path, limits: Limits) -> Result<Problem, Failure> {
-    lingrav::problem::read_with(path, limits).map_err(|e| match e.limit.clone() {
+    crate::problem::read_with(path, limits).map_err(|e| match e.limit.clone() {
         Some(l) => gave_up(&l),
         None => Failure::Input(miette::Report::new(e)),
     })
@@ -86,7 +86,7 @@ pub fn load_with(path: &Path, limits: Limits) -> Result<Problem, Failure> {
 
 /// The problem's background as a spacetime (Minkowski without one): a degenerate metric is
 /// bad input naming the file, a limit is undecided.
-pub fn spacetime(p: &mut Problem) -> Result<lingrav::tensor::curved::Background, Failure> {
+pub fn spacetime(p: &mut Problem) -> Result<crate::tensor::curved::Background, Failure> {
     p.spacetime().map_err(|e| match e {
         CanonError::DivisionByZero => Failure::Input(miette::miette!(
             help = "the background metric must be invertible where the fields are meant to hold",
@@ -98,10 +98,10 @@ pub fn spacetime(p: &mut Problem) -> Result<lingrav::tensor::curved::Background,
 }
 
 /// Reads the problem file at `path` and builds it into `store`, another problem's (see
-/// [`lingrav::problem::ProblemFile::build_into`]), under that store's limits; errors as
+/// [`crate::problem::ProblemFile::build_into`]), under that store's limits; errors as
 /// [`load_with`].
-pub fn load_into(path: &Path, store: &mut lingrav::canon::Store) -> Result<Problem, Failure> {
-    lingrav::problem::read_file(path)
+pub fn load_into(path: &Path, store: &mut crate::canon::Store) -> Result<Problem, Failure> {
+    crate::problem::read_file(path)
         .and_then(|f| f.build_into(store))
         .map_err(|e| match e.limit.clone() {
             Some(l) => gave_up(&l),
@@ -123,7 +123,7 @@ pub fn timeout_if_past(limits: &Limits) -> Option<CanonError> {
 /// printed a partial report.
 pub fn stop_now(why: &str) -> ! {
     use std::io::Write as _;
-    lingrav::output::remove_temporaries();
+    crate::output::remove_temporaries();
     let mut out = std::io::stdout().lock();
     let _ = write!(out, "{}", super::out::limit_report(why));
     let _ = out.flush();
@@ -160,13 +160,13 @@ fn start_watchdog() {
                         since = None;
                         continue;
                     }
-                    if !lingrav::budget::over_budget() {
+                    if !crate::budget::over_budget() {
                         since = None;
                         continue;
                     }
-                    let cap = lingrav::budget::cap();
+                    let cap = crate::budget::cap();
                     let first = *since.get_or_insert_with(Instant::now);
-                    let hard = lingrav::budget::in_use() > cap.saturating_add(cap / 2);
+                    let hard = crate::budget::in_use() > cap.saturating_add(cap / 2);
                     if hard || first.elapsed() >= GRACE {
                         stop_over_budget(cap);
                     }
@@ -211,7 +211,7 @@ fn stop_over_budget(cap: usize) -> ! {
     push(&digits[..d]);
     push(b" MiB (--max-memory raises it)");
     push(if json { b"\"}\n" } else { b"\n" });
-    lingrav::output::remove_temporaries();
+    crate::output::remove_temporaries();
     #[cfg(unix)]
     // SAFETY: write and _exit only; the buffer is valid for `n` bytes.
     unsafe {

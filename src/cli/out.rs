@@ -5,8 +5,8 @@
 //! it first, a JSON object saying so (see [`finish`]), so a script never has to parse text.
 
 use super::report::{Format, json};
-use lingrav::canon::CanonError;
-use lingrav::output::FileError;
+use crate::canon::CanonError;
+use crate::output::FileError;
 use std::io::{self, Write};
 use std::process::ExitCode;
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -133,11 +133,11 @@ impl From<FileError> for Failure {
 
 impl Outcome {
     /// The outcome of a claim's (or a report's) status.
-    pub fn of(s: lingrav::check::Status) -> Outcome {
+    pub fn of(s: crate::check::Status) -> Outcome {
         match s {
-            lingrav::check::Status::Holds => Outcome::Holds,
-            lingrav::check::Status::Fails => Outcome::Fails,
-            lingrav::check::Status::Undecided => Outcome::Undecided,
+            crate::check::Status::Holds => Outcome::Holds,
+            crate::check::Status::Fails => Outcome::Fails,
+            crate::check::Status::Undecided => Outcome::Undecided,
         }
     }
 }

@@ -5,13 +5,13 @@
 
 use super::limits::timeout_if_past;
 use super::out::{Failure, gave_up, limit_or, with_source};
-use clap::Args;
-use lingrav::canon::{CanonError, Form, Names, Store};
-use lingrav::output::AtomicFile;
-use lingrav::problem::Problem;
-use lingrav::tt::{
+use crate::canon::{CanonError, Form, Names, Store};
+use crate::output::AtomicFile;
+use crate::problem::Problem;
+use crate::tt::{
     Arg, ArgError, Direction, DirectionKind, numeric_point, parse_direction, set_basis,
 };
+use clap::Args;
 use std::cell::RefCell;
 use std::path::{Path, PathBuf};
 
@@ -178,7 +178,7 @@ pub fn numbers(
 /// Parses and builds one command-line expression, with errors pointing into it. A size or
 /// time limit reached while building is not bad input: it ends the command as undecided.
 pub fn build_arg(store: &mut Store, text: &str, label: &str) -> Result<Form, Failure> {
-    let e = lingrav::parse::parse(text).map_err(|e| with_source(e, label, text))?;
+    let e = crate::parse::parse(text).map_err(|e| with_source(e, label, text))?;
     store.build(&e, &Names::free()).map_err(|e| {
         if e.limit {
             gave_up(&e.cause.clone().unwrap_or_else(|| {

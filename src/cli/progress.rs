@@ -1,6 +1,6 @@
 //! A one-line progress display for long runs (the grid's sampling).
 
-use lingrav::grid::Progress;
+use crate::grid::Progress;
 use std::io::{IsTerminal, Write as _};
 use std::time::{Duration, Instant};
 

@@ -4,10 +4,10 @@
 
 use crate::cli::out::{Failure, gave_up};
 use crate::cli::plan::{arg_failure, plan_direction};
+use crate::export::quantity::{Quantity, QuantityError, direction_help, parse_list};
+use crate::problem::Problem;
+use crate::tt::{Arg, Direction};
 use clap::Args;
-use lingrav::export::quantity::{Quantity, QuantityError, direction_help, parse_list};
-use lingrav::problem::Problem;
-use lingrav::tt::{Arg, Direction};
 
 /// Which quantities, and the direction some of them need.
 #[derive(Args, Debug)]
@@ -82,7 +82,7 @@ pub fn plan_quantities(
 }
 
 pub fn direction_json(p: &mut Problem, d: &Direction) -> serde_json::Value {
-    let mut v = |x: &[lingrav::canon::Form; 3]| -> Vec<String> {
+    let mut v = |x: &[crate::canon::Form; 3]| -> Vec<String> {
         x.iter().map(|f| p.store.to_text(*f)).collect()
     };
     let (n, u, w) = (v(&d.n), v(&d.u), v(&d.v));
@@ -95,14 +95,14 @@ pub fn direction_json(p: &mut Problem, d: &Direction) -> serde_json::Value {
 
 /// The texts of `n`, `u`, `v` for the independent evaluation route.
 pub fn frame_texts(p: &mut Problem, d: &Direction) -> [[String; 3]; 3] {
-    let mut v = |x: &[lingrav::canon::Form; 3]| -> [String; 3] {
+    let mut v = |x: &[crate::canon::Form; 3]| -> [String; 3] {
         std::array::from_fn(|i| p.store.to_text(x[i]))
     };
     [v(&d.n), v(&d.u), v(&d.v)]
 }
 
 pub fn direction_text(p: &mut Problem, d: &Direction) -> String {
-    let mut v = |x: &[lingrav::canon::Form; 3]| -> String {
+    let mut v = |x: &[crate::canon::Form; 3]| -> String {
         let parts: Vec<String> = x.iter().map(|f| p.store.to_text(*f)).collect();
         format!("({})", parts.join(", "))
     };
@@ -116,13 +116,13 @@ pub fn columns(
     p: &mut Problem,
     qs: &[Quantity],
     dir: Option<&Direction>,
-) -> Result<Vec<lingrav::export::quantity::Block>, Failure> {
-    use lingrav::export::quantity::{blocks, blocks_about};
+) -> Result<Vec<crate::export::quantity::Block>, Failure> {
+    use crate::export::quantity::{blocks, blocks_about};
     match &p.background {
         None => blocks(&mut p.store, &p.h, p.source.as_ref(), qs, dir),
         Some(_) => {
             let mut bg = crate::cli::limits::spacetime(p)?;
-            let frame = lingrav::tensor::Frame::covariant(p.coordinates.clone());
+            let frame = crate::tensor::Frame::covariant(p.coordinates.clone());
             blocks_about(&mut p.store, &mut bg, &frame, &p.h, qs)
         }
     }

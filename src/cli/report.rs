@@ -3,13 +3,13 @@
 //! a verdict, a claim or a list of components reads the same everywhere.
 
 use super::out::Outcome;
+use crate::canon::{Form, Store};
+use crate::check::{CheckReport, ClaimReport, Component, Status};
+use crate::problem::Claims;
+use crate::tensor::Sym4;
+use crate::tensor::{COMPONENTS, component_name};
+use crate::zero::Verdict;
 use clap::ValueEnum;
-use lingrav::canon::{Form, Store};
-use lingrav::check::{CheckReport, ClaimReport, Component, Status};
-use lingrav::problem::Claims;
-use lingrav::tensor::Sym4;
-use lingrav::tensor::{COMPONENTS, component_name};
-use lingrav::zero::Verdict;
 use std::fmt::Write as _;
 
 /// Output format of a command's report.
@@ -239,14 +239,14 @@ pub fn gauges_of(report: &CheckReport) -> (Vec<&str>, String) {
         .map(|c| c.key.trim_start_matches("gauge."))
         .collect();
     let names = if holding.is_empty() {
-        format!("none of {}", lingrav::problem::Gauge::NAMES.join(", "))
+        format!("none of {}", crate::problem::Gauge::NAMES.join(", "))
     } else {
         holding.join(", ")
     };
-    let components: Vec<lingrav::check::Component> = report.components().cloned().collect();
+    let components: Vec<crate::check::Component> = report.components().cloned().collect();
     let lines = format!(
         "gauges h' is in (exact): {names}\n  verdicts on h': {}\n",
-        lingrav::check::audit_text(&components)
+        crate::check::audit_text(&components)
     );
     (holding, lines)
 }

@@ -1,5 +1,5 @@
 //! The audit of every number `antenna` reports: the printed exact forms evaluated through the
-//! independent jet route ([`crate::audit::expr::Expressions`], certified f64 intervals)
+//! independent jet route (`crate::audit::expr::Expressions`, certified f64 intervals)
 //! against the f64 contraction of the vectors and the quadrature of [`super::numeric`], at
 //! the given values or, with symbols, at seeded points. A disagreement is an internal defect.
 

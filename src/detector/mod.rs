@@ -34,7 +34,7 @@
 //! with the TT projector, and the closed form of the average (computed here from the moments
 //! for the given arms, then compared with `(2/5)(1 - (a.b)^2)`). The numbers are computed a
 //! second way, in f64, from the vectors themselves ([`numeric`]), and the printed exact forms
-//! are evaluated through the independent jet route ([`crate::audit::expr`]); the sky
+//! are evaluated through the independent jet route (`crate::audit::expr`); the sky
 //! averages also by a quadrature ([`numeric::quadrature`]). [`audit`] compares them.
 //!
 //! [`response`] gives the strain of such a detector for a file's perturbation, exact in t, by

@@ -1,5 +1,5 @@
 //! The audit of `response`: the printed exact strains, evaluated by the independent jet route
-//! ([`crate::audit::Audit`], certified intervals, from the file's texts and the printed
+//! (`crate::audit::Audit`, certified intervals, from the file's texts and the printed
 //! texts, never a canonical form) at seeded times and parameter values, against the same
 //! quantities computed a second way from the file's texts: `D_ij Lambda_ij,kl(n) h_kl` at
 //! the detector, `-2 D_ij R_0i0j` from the jets' second derivatives of `h` (the linearized

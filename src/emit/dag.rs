@@ -185,7 +185,8 @@ impl Dag {
     }
 
     /// The value of node `id` in f64 with variables `vars` (user functions inlined: `None`
-    /// if one is called).
+    /// if one is called): the tests' reference for the generated code.
+    #[cfg(test)]
     #[must_use]
     pub fn eval(&self, id: Id, vars: &[f64], memo: &mut FxHashMap<Id, f64>) -> Option<f64> {
         if let Some(&v) = memo.get(&id) {

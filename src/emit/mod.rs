@@ -72,19 +72,6 @@ impl Lang {
         let i = Lang::ALL.iter().position(|l| *l == self).unwrap_or(0);
         Lang::NAMES[i]
     }
-
-    /// The language with this name (also `py`, `f90`, `rs`, `tex`).
-    #[must_use]
-    pub fn parse(s: &str) -> Option<Lang> {
-        match s.to_ascii_lowercase().as_str() {
-            "c" => Some(Lang::C),
-            "python" | "py" | "numpy" => Some(Lang::Python),
-            "fortran" | "f90" | "f08" => Some(Lang::Fortran),
-            "rust" | "rs" => Some(Lang::Rust),
-            "latex" | "tex" => Some(Lang::Latex),
-            _ => None,
-        }
-    }
 }
 
 /// What the generated file is about, for its header and its inputs.

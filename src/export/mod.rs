@@ -451,14 +451,6 @@ pub struct Evaluated {
     pub audit: ExactAudit,
 }
 
-impl Evaluated {
-    /// The largest bound of each component column.
-    #[must_use]
-    pub fn bounds(&self) -> Vec<f64> {
-        self.columns.iter().map(|c| c.bound).collect()
-    }
-}
-
 /// One value's state during the evaluation of a row.
 #[derive(Clone, Copy, Debug)]
 enum Judged {

@@ -230,19 +230,9 @@ impl IntervalProgram {
         r
     }
 
-    /// Number of instructions.
-    #[must_use]
-    pub fn len(&self) -> usize {
-        self.instrs.len()
-    }
-
-    /// True for an empty program.
-    #[must_use]
-    pub fn is_empty(&self) -> bool {
-        self.instrs.is_empty()
-    }
-
-    /// Runs the program at `(t, x, y, z)` into `regs` (resized as needed).
+    /// Runs the program at `(t, x, y, z)` into `regs` (resized as needed), one point at a
+    /// time: the tests' reference for [`IntervalProgram::run_block`].
+    #[cfg(test)]
     pub fn run(&self, point: [f64; 4], regs: &mut Vec<Option<Interval>>) {
         regs.clear();
         regs.reserve(self.instrs.len());

@@ -275,7 +275,7 @@ pub fn claim_specs(claims: Option<&Claims>, with_source: bool) -> Vec<ClaimSpec>
 
 /// The value of a part about a background from the pointwise quantities `q` at a point with
 /// fields `f` (the grid's differenced samples or the audit's jets): the one mapping from
-/// [`Part`] to [`crate::pointwise::Quantities`]. `None` for a flat-only part, or a gauge
+/// [`Part`] to `crate::pointwise::Quantities`. `None` for a flat-only part, or a gauge
 /// residual without a vector.
 pub fn curved_part<A: crate::pointwise::Arith>(
     q: &crate::pointwise::Quantities<A>,

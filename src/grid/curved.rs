@@ -7,7 +7,7 @@
 //! inputs), slab by slab as in [`super::sweep`]. At every measured point the values and the
 //! central-difference first and second derivatives of the samples (the same Fornberg
 //! stencils, mixed derivatives as products of first-derivative stencils) go into
-//! [`crate::pointwise::evaluate`], the full curvature chain over dual numbers, which gives
+//! `crate::pointwise::evaluate`, the full curvature chain over dual numbers, which gives
 //! every claim's components: the background's equations, `dG + Lambda h - 8 pi dT`, the
 //! covariant gauge conditions, the change of source conservation, the gauge residual for the
 //! file's vector. No symbolic derivative of any field is taken (only the `d_` operators the
@@ -210,7 +210,7 @@ pub(super) fn plan(p: &mut Problem) -> Result<GridPlan, GridError> {
 }
 
 /// A floating-point value with a first-order bound on its accumulated rounding error: `v` is
-/// the plain `f64` result (what [`Arith`] for `f64` computes), `e` bounds `|v - exact|` given
+/// the plain `f64` result (what `Arith` for `f64` computes), `e` bounds `|v - exact|` given
 /// the bounds of the inputs, adding half an ulp of every result (the unit roundoff `u`).
 /// Products of two errors are kept, so the bound holds beyond first order too, up to the
 /// rounding of the bound itself. Nothing is certified: this is the grid's round-off floor.

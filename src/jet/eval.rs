@@ -214,13 +214,9 @@ impl Program {
     }
 
     /// The space of this program's jets.
+    #[cfg(test)]
     pub fn space(&self) -> &Rc<JetSpace> {
         &self.space
-    }
-
-    /// The roots, as given.
-    pub fn roots(&self) -> &[(Expr, u32)] {
-        &self.roots
     }
 
     fn walk(&self, e: &Expr, order: u32, scope: &Scope, n: &mut Needs) -> Result<(), EvalError> {

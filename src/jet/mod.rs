@@ -24,5 +24,5 @@ pub mod scalar;
 pub mod series;
 
 pub use eval::{EvalError, Program, Scope};
-pub use scalar::{Scalar, rational_interval};
-pub use series::{Jet, JetSpace, SpaceError};
+pub use scalar::Scalar;
+pub use series::Jet;

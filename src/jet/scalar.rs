@@ -511,7 +511,7 @@ impl Scalar for crate::interval::Ball {
 #[cfg(test)]
 mod ball_tests {
     use crate::interval::{Ball, Interval};
-    use crate::jet::{Jet, JetSpace};
+    use crate::jet::{Jet, series::JetSpace};
 
     /// Where f64 intervals lose everything to cancellation, balls at 256 bits still decide:
     /// d/dx of exp(x) - exp(x)*(1 + 1e-30) is -1e-30 exp(x) (precision widening, issue 9).

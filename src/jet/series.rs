@@ -75,7 +75,9 @@ fn binom_sat(n: usize, k: usize) -> usize {
 pub struct JetSpace {
     vars: usize,
     max_order: u32,
-    /// Exponents of monomial `i` at `exps[i * vars ..][.. vars]`.
+    /// Exponents of monomial `i` at `exps[i * vars ..][.. vars]` (kept for the tests; the
+    /// tables below are what jets use).
+    #[cfg(test)]
     exps: Vec<u8>,
     /// `len_of[k]`: number of monomials of degree `<= k`.
     len_of: Vec<usize>,
@@ -160,6 +162,7 @@ impl JetSpace {
         Ok(Rc::new(JetSpace {
             vars,
             max_order,
+            #[cfg(test)]
             exps,
             len_of,
             pair_start,
@@ -175,6 +178,7 @@ impl JetSpace {
     }
 
     /// Highest order of jets over this space.
+    #[cfg(test)]
     pub fn max_order(&self) -> u32 {
         self.max_order
     }
@@ -185,6 +189,7 @@ impl JetSpace {
     }
 
     /// Exponents of the `i`-th monomial.
+    #[cfg(test)]
     pub fn monomial(&self, i: usize) -> &[u8] {
         &self.exps[i * self.vars..(i + 1) * self.vars]
     }
@@ -433,6 +438,7 @@ impl<S: Scalar> Jet<S> {
     }
 
     /// Every coefficient times the enclosure `k`.
+    #[cfg(test)]
     pub fn scale(&self, k: &S) -> Option<Jet<S>> {
         let c = if self.constant {
             let mut c = self.c.clone();
@@ -487,11 +493,6 @@ impl<S: Scalar> Jet<S> {
                 .collect::<Option<_>>()?
         };
         Some(self.with(order, c, self.constant))
-    }
-
-    /// Product with the exact rational `q`.
-    pub fn scale_rational(&self, q: &BigRational, ctx: &S::Ctx) -> Option<Jet<S>> {
-        self.scale(&S::from_rational(q, ctx)?)
     }
 
     /// Product, by the space's table.

@@ -183,12 +183,6 @@ impl Sink {
         self.bytes
     }
 
-    /// True when nothing was written.
-    #[must_use]
-    pub fn is_empty(&self) -> bool {
-        self.bytes == 0
-    }
-
     /// The checksum of what was written, as in [`checksum_of`].
     #[must_use]
     pub fn checksum(&self) -> String {
@@ -276,13 +270,8 @@ impl AtomicFile {
         }
     }
 
-    /// The target path.
-    #[must_use]
-    pub fn target(&self) -> &Path {
-        &self.target
-    }
-
     /// The path of the temporary file.
+    #[cfg(test)]
     #[must_use]
     pub fn temp_path(&self) -> &Path {
         &self.temp
@@ -365,18 +354,6 @@ impl Drop for AtomicFile {
             unregister(self.slot.take());
         }
     }
-}
-
-/// Writes `contents` to `target` atomically (a convenience for small files computed before
-/// the target is checked; commands that plan first use [`AtomicFile`] directly).
-///
-/// # Errors
-///
-/// As [`AtomicFile::create`] and [`AtomicFile::commit`].
-pub fn write_whole(target: &Path, force: bool, contents: &[u8]) -> Result<(), FileError> {
-    let mut f = AtomicFile::create(target, force)?;
-    f.write_all(contents)?;
-    f.commit()
 }
 
 /// Puts a data file and its sidecar in place, in the order documented in the module docs:

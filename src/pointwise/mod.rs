@@ -451,6 +451,10 @@ pub struct Curvature<A> {
     /// `R_bd = R^a_bad`.
     pub ricci: Matrix<A>,
     /// `R = g^{bd} R_bd`.
+    #[allow(
+        dead_code,
+        reason = "part of the chain's result (and of Einstein); no caller reads it on its own yet"
+    )]
     pub scalar: A,
     /// `G_ab = R_ab - 1/2 g_ab R`.
     pub einstein: Matrix<A>,

@@ -1,7 +1,7 @@
 //! The independent audit of what `project` states as exact: the unit length of a given
 //! direction, the printed TT part, the exact shares of "not TT", the printed polarizations and
 //! the basis. Each is evaluated from texts (the file's, or what was printed) by
-//! [`crate::audit`] and applied with [`crate::check::verdicts::audit_verdicts`]; a finding
+//! `crate::audit` and applied with `crate::check::verdicts::audit_verdicts`; a finding
 //! only takes a proof away.
 
 use super::{Arg, Direction, NotTt, Share};

@@ -335,29 +335,11 @@ fn issue_9_grid_plot_is_not_replaced_without_force() {
     assert_eq!(files_in(dir.path()), ["r.svg"]);
 }
 
-/// CRC-32 (ISO-HDLC: reflected polynomial 0xedb88320, initial value and final xor all ones),
-/// as the sidecar records it, bit by bit from the definition: a route independent of the
-/// library's table-driven and carry-less-multiplication code.
-fn crc32(bytes: &[u8]) -> String {
-    let mut c: u32 = !0;
-    for &b in bytes {
-        c ^= u32::from(b);
-        for _ in 0..8 {
-            c = if c & 1 == 1 {
-                (c >> 1) ^ 0xedb8_8320
-            } else {
-                c >> 1
-            };
-        }
-    }
-    format!("crc32:{:08x}", !c)
-}
-
 #[test]
 fn the_checksum_oracle_gives_the_catalogue_check_value() {
     // CRC-32/ISO-HDLC of "123456789" is cbf43926 (common practice: the published check value).
-    assert_eq!(crc32(b"123456789"), "crc32:cbf43926");
-    assert_eq!(crc32(b""), "crc32:00000000");
+    assert_eq!(crate::support::crc32(b"123456789"), "crc32:cbf43926");
+    assert_eq!(crate::support::crc32(b""), "crc32:00000000");
 }
 
 /// Asserts that a data file, if present, has a sidecar that describes it.
@@ -374,7 +356,7 @@ fn assert_pair_consistent(data: &Path) {
     assert_eq!(v["data_file_bytes"].as_u64(), Some(bytes.len() as u64));
     assert_eq!(
         v["data_file_checksum"].as_str(),
-        Some(crc32(&bytes).as_str())
+        Some(crate::support::crc32(&bytes).as_str())
     );
 }
 

@@ -147,3 +147,21 @@ pub fn one_line(err: &str) -> String {
         .collect();
     words.join(" ")
 }
+
+/// CRC-32 (ISO-HDLC: reflected polynomial 0xedb88320, initial value and final xor all ones),
+/// as the sidecar records it, bit by bit from the definition: a route independent of the
+/// library's table-driven and carry-less-multiplication code.
+pub fn crc32(bytes: &[u8]) -> String {
+    let mut c: u32 = !0;
+    for &b in bytes {
+        c ^= u32::from(b);
+        for _ in 0..8 {
+            c = if c & 1 == 1 {
+                (c >> 1) ^ 0xedb8_8320
+            } else {
+                c >> 1
+            };
+        }
+    }
+    format!("crc32:{:08x}", !c)
+}

@@ -1,21 +1,21 @@
 //! `lingrav antenna`: the antenna pattern `F_plus`, `F_cross` of a two-arm detector for a
 //! source direction and polarization angle, exactly and in f64, its averages over the sky
 //! and psi, and optionally an SVG sky map. The algebra, the proofs and the audit are in
-//! [`lingrav::detector`]; the convention is [`lingrav::detector::CONVENTION`].
+//! [`crate::detector`]; the convention is [`crate::detector::CONVENTION`].
 
 use super::zero::LimitArgs;
+use crate::audit::expr::point_text;
 use crate::cli::audit::DEFAULT_SEED;
 use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::plan::{ArmArgs, arg_failure, plan_optional_output, write_atomic};
 use crate::cli::report::{Format, json, texts, vec_text, verdict_json};
+use crate::detector::audit::{Inputs, POINTS, Printed, Report, TOLERANCE, audit};
+use crate::detector::map::{MapAudit, Quantity, audit_map, sky_map, svg};
+use crate::detector::numeric::{QUADRATURE_METHOD, eval_text, eval_vector, pattern, quadrature};
+use crate::detector::{Antenna, CONVENTION, Detector, analyse, read_angle, read_detector};
+use crate::tt::{Arg, ArgError};
+use crate::zero::{Sampling, Verdict};
 use clap::{Args, ValueEnum};
-use lingrav::audit::expr::point_text;
-use lingrav::detector::audit::{Inputs, POINTS, Printed, Report, TOLERANCE, audit};
-use lingrav::detector::map::{MapAudit, Quantity, audit_map, sky_map, svg};
-use lingrav::detector::numeric::{QUADRATURE_METHOD, eval_text, eval_vector, pattern, quadrature};
-use lingrav::detector::{Antenna, CONVENTION, Detector, analyse, read_angle, read_detector};
-use lingrav::tt::{Arg, ArgError};
-use lingrav::zero::{Sampling, Verdict};
 use std::fmt::Write as _;
 use std::path::PathBuf;
 
@@ -98,9 +98,9 @@ struct MapPlan {
 
 fn plan_map(
     a: &AntennaArgs,
-    st: &mut lingrav::Store,
+    st: &mut crate::Store,
     det: &Detector,
-    psi: lingrav::Form,
+    psi: crate::Form,
 ) -> Result<Option<MapPlan>, Failure> {
     if a.svg.is_none() {
         return Ok(None);
@@ -282,7 +282,7 @@ pub fn run(a: AntennaArgs) -> Result<Outcome, Failure> {
         arms: det.texts.clone(),
         angles: angles.clone(),
     };
-    let symbolic = !lingrav::detector::audit::symbols(&inputs).is_empty();
+    let symbolic = !crate::detector::audit::symbols(&inputs).is_empty();
     let report = audit(&inputs, &printed, a.seed);
     let nums = numbers(&det, &angles);
     let arms_numeric = det
@@ -494,10 +494,10 @@ pub fn run(a: AntennaArgs) -> Result<Outcome, Failure> {
 }
 
 /// The value of a constant form (the exact route's own enclosure), if it has no symbols.
-fn eval_text_of_form(st: &mut lingrav::Store, f: lingrav::Form) -> Option<f64> {
+fn eval_text_of_form(st: &mut crate::Store, f: crate::Form) -> Option<f64> {
     if !st.free_symbols(f).is_empty() {
         return None;
     }
-    let (re, im) = st.eval_f64(f, &lingrav::canon::Point::default())?;
+    let (re, im) = st.eval_f64(f, &crate::canon::Point::default())?;
     (im.abs() <= 1e-12 * (1.0 + re.abs())).then_some(re)
 }

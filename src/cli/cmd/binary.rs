@@ -2,13 +2,13 @@
 //! evolution, time to coalescence, chirp and strain, each audited by a second route, and
 //! with `--evolve` the orbit's evolution as a table and an SVG picture.
 
+use crate::binary::coalesce::{EvolveError, audit_evolution, evolve};
+use crate::binary::units::{Kind, parse_number, parse_quantity};
+use crate::binary::{Orbit, semimajor_axis_of_period, summarize};
 use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::plan::{Target, plan_optional_output, write_atomic};
 use crate::cli::report::{Format, json};
 use clap::Args;
-use lingrav::binary::coalesce::{EvolveError, audit_evolution, evolve};
-use lingrav::binary::units::{Kind, parse_number, parse_quantity};
-use lingrav::binary::{Orbit, semimajor_axis_of_period, summarize};
 use std::path::PathBuf;
 
 use super::binary_report::{audit_lines, json_report, msun, text_report};
@@ -233,7 +233,7 @@ pub fn run(a: BinaryArgs) -> Result<Outcome, Failure> {
                 msun(o.gm2),
                 o.e
             );
-            write_atomic(t, &lingrav::binary::svg::svg(ev, &title))?;
+            write_atomic(t, &crate::binary::svg::svg(ev, &title))?;
             Some(t.path.display().to_string())
         }
         _ => None,

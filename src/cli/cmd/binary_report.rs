@@ -3,9 +3,9 @@
 //! computing are in `binary.rs`.
 
 use super::binary::Plan;
-use lingrav::binary::coalesce::{Evolution, Stop};
-use lingrav::binary::units::{AU, C, DAY, G, GM_SUN, HOUR, JULIAN_YEAR, PARSEC};
-use lingrav::binary::{AUDIT_TOLERANCE, Check, Summary, enhancement};
+use crate::binary::coalesce::{Evolution, Stop};
+use crate::binary::units::{AU, C, DAY, G, GM_SUN, HOUR, JULIAN_YEAR, PARSEC};
+use crate::binary::{AUDIT_TOLERANCE, Check, Summary, enhancement};
 use std::fmt::Write as _;
 
 /// A mass G m in solar masses, rounded to 13 significant digits (so that `6msun` reads back

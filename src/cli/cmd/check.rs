@@ -1,13 +1,13 @@
 //! `lingrav check`: every claim of a problem file decided exactly, as text or JSON.
 
+use crate::canon::Store;
+use crate::check::{CheckReport, ClaimReport, Status, check};
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::report::{
     Format, claim_json, claim_lines, conventions, heading, json, limit_in_report,
 };
 use clap::Args;
-use lingrav::canon::Store;
-use lingrav::check::{CheckReport, ClaimReport, Status, check};
 use std::fmt::Write as _;
 use std::path::PathBuf;
 
@@ -140,8 +140,8 @@ fn one(a: &CheckArgs, file: &std::path::Path) -> Result<(String, Outcome), Failu
     } else {
         check(&mut problem)
     };
-    let radiation = lingrav::radiation::claims::reports(&mut problem).map_err(|e| match e {
-        lingrav::radiation::claims::ClaimsError::Limit(l) => crate::cli::out::gave_up(&l),
+    let radiation = crate::radiation::claims::reports(&mut problem).map_err(|e| match e {
+        crate::radiation::claims::ClaimsError::Limit(l) => crate::cli::out::gave_up(&l),
         e => Failure::Input(miette::miette!("{}: {e}", problem.path)),
     })?;
     report.claims.extend(radiation);
@@ -208,7 +208,7 @@ fn render_text(store: &mut Store, label: &str, name: Option<&str>, r: &CheckRepo
     s
 }
 
-fn render_json(problem: &mut lingrav::Problem, label: &str, r: &CheckReport) -> String {
+fn render_json(problem: &mut crate::Problem, label: &str, r: &CheckReport) -> String {
     let coordinates = problem.coordinates.clone();
     let name = problem.name.clone();
     let store = &mut problem.store;

@@ -1,17 +1,17 @@
 //! `lingrav compare`: are two perturbations the same physics in different gauges? The 20
 //! independent components of R[A] - R[B] decided exactly and audited from both files' texts.
 
+use crate::audit::expr::{Finding, summary};
+use crate::check::Status;
 use crate::cli::audit::{AuditedFormat, point_lines, points_json};
 use crate::cli::limits::{LimitArgs, load_into, load_with};
 use crate::cli::out::gave_up;
 use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::report::{Format, heading, json};
+use crate::gauge::audit::audit_comparison;
+use crate::gauge::compare::{Comparison, compare, import};
+use crate::zero::Verdict;
 use clap::Args;
-use lingrav::audit::expr::{Finding, summary};
-use lingrav::check::Status;
-use lingrav::gauge::audit::audit_comparison;
-use lingrav::gauge::compare::{Comparison, compare, import};
-use lingrav::zero::Verdict;
 use std::fmt::Write as _;
 use std::path::PathBuf;
 
@@ -162,10 +162,10 @@ pub fn run(a: CompareArgs) -> Result<Outcome, Failure> {
 /// The comparison of two files about one background, which must be proved flat: the same
 /// coordinates and a background proved equal, then the covariant linearized Riemann tensors.
 fn about_background(
-    pa: &mut lingrav::Problem,
-    pb: &lingrav::Problem,
-    hb: &lingrav::tensor::Sym4,
-    sampling: &lingrav::Sampling,
+    pa: &mut crate::Problem,
+    pb: &crate::Problem,
+    hb: &crate::tensor::Sym4,
+    sampling: &crate::Sampling,
 ) -> Result<Comparison, Failure> {
     let paths = format!("{} and {}", pa.path, pb.path);
     let refuse = |why: String| {
@@ -189,17 +189,17 @@ fn about_background(
     }
     // The same background, proved: every component of the difference is exactly 0.
     let st = &mut pa.store;
-    for &(m, n) in &lingrav::tensor::COMPONENTS {
+    for &(m, n) in &crate::tensor::COMPONENTS {
         let d = st.sub(ga.g[m][n], gb.g[m][n])?;
         if !st.is_zero(d) {
             return Err(refuse(format!(
                 "the backgrounds differ in gbar_{} (or are not proved equal)",
-                lingrav::tensor::Frame::covariant(pa.coordinates.clone()).index(&[m, n])
+                crate::tensor::Frame::covariant(pa.coordinates.clone()).index(&[m, n])
             )));
         }
     }
     let mut bg = pa.spacetime().map_err(|e| match e {
-        lingrav::CanonError::DivisionByZero => {
+        crate::CanonError::DivisionByZero => {
             refuse("the background metric is degenerate (its determinant is 0)".into())
         }
         e => gave_up(&e),
@@ -214,9 +214,9 @@ fn about_background(
                 .into(),
         ));
     }
-    let frame = lingrav::tensor::Frame::covariant(pa.coordinates.clone());
+    let frame = crate::tensor::Frame::covariant(pa.coordinates.clone());
     let ha = pa.h;
-    Ok(lingrav::gauge::compare::compare_about(
+    Ok(crate::gauge::compare::compare_about(
         st,
         &mut bg,
         (&ha, hb),

@@ -26,7 +26,7 @@ pub fn run(a: DiffArgs) -> Result<Outcome, Failure> {
                 .next()
                 .is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
             && v.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
-        if !ok || lingrav::canon::BUILTINS.contains(&v.as_str()) || v == "pi" {
+        if !ok || crate::canon::BUILTINS.contains(&v.as_str()) || v == "pi" {
             return Err(Failure::Input(miette::miette!(
                 help = "variables are names such as t, x, y, z or a parameter",
                 "cannot differentiate by `{v}`: not a variable name"

@@ -7,12 +7,12 @@ use crate::cli::quantities::{
     QuantityArgs, WriteArgs, columns, direction_text, frame_texts, plan_quantities,
 };
 use crate::cli::report::{self, json};
+use crate::emit::user::Texts;
+use crate::emit::{Lang, Source, emit};
+use crate::export::lower::About;
+use crate::export::write::AtomicFile;
+use crate::tape::UserExprs;
 use clap::{Args, ValueEnum};
-use lingrav::emit::user::Texts;
-use lingrav::emit::{Lang, Source, emit};
-use lingrav::export::lower::About;
-use lingrav::export::write::AtomicFile;
-use lingrav::tape::UserExprs;
 use std::path::PathBuf;
 
 /// Languages of `emit`.
@@ -120,7 +120,7 @@ pub fn run(a: EmitArgs) -> Result<Outcome, Failure> {
             "columns": b.iter().map(|b| b.columns.len()).sum::<usize>(),
             "path": written,
             "bytes": text.len(),
-            "checksum": lingrav::output::checksum_of(text.as_bytes()),
+            "checksum": crate::output::checksum_of(text.as_bytes()),
         });
         if a.out.is_none() {
             j["code"] = text.into();

@@ -13,12 +13,12 @@ use crate::cli::quantities::{
     QuantityArgs, WriteArgs, columns, direction_json, frame_texts, plan_quantities,
 };
 use crate::cli::report::{self, json};
+use crate::export::points::{Grid, PointSet, read_points};
+use crate::export::write::{AtomicFile, FileError, Format, commit_with_sidecar, write_table};
+use crate::export::{ExportError, Numeric, Settings, SidecarInfo, evaluate, sidecar};
+use crate::problem::{Problem, ProblemError};
+use crate::tt::Arg;
 use clap::{Args, ValueEnum};
-use lingrav::export::points::{Grid, PointSet, read_points};
-use lingrav::export::write::{AtomicFile, FileError, Format, commit_with_sidecar, write_table};
-use lingrav::export::{ExportError, Numeric, Settings, SidecarInfo, evaluate, sidecar};
-use lingrav::problem::{Problem, ProblemError};
-use lingrav::tt::Arg;
 use std::path::{Path, PathBuf};
 
 /// Data formats of `export`.
@@ -100,12 +100,8 @@ fn plan_parameters(p: &Problem, set: &[String]) -> Result<Parameters, Failure> {
         let arg = Arg::new("--set", s);
         let Some((name, value)) = s.split_once('=') else {
             return Err(arg_failure(
-                arg.error(
-                    "expected NAME=VALUE",
-                    lingrav::Span::new(0, s.len()),
-                    "here",
-                )
-                .with_help("e.g. --set A=1e-6"),
+                arg.error("expected NAME=VALUE", crate::Span::new(0, s.len()), "here")
+                    .with_help("e.g. --set A=1e-6"),
             ));
         };
         let name_t = name.trim();
@@ -119,7 +115,7 @@ fn plan_parameters(p: &Problem, set: &[String]) -> Result<Parameters, Failure> {
             return Err(arg_failure(
                 arg.error(
                     format!("`{name_t}` is not a parameter of this problem"),
-                    lingrav::Span::new(0, name.len()),
+                    crate::Span::new(0, name.len()),
                     "unknown",
                 )
                 .with_help(help),
@@ -131,7 +127,7 @@ fn plan_parameters(p: &Problem, set: &[String]) -> Result<Parameters, Failure> {
                 return Err(arg_failure(
                     arg.error(
                         format!("`{}` is not a finite number", value.trim()),
-                        lingrav::Span::new(name.len() + 1, s.len()),
+                        crate::Span::new(name.len() + 1, s.len()),
                         "not a number",
                     )
                     .with_help("e.g. --set A=1e-6"),
@@ -155,7 +151,7 @@ fn plan_points(p: &Problem, a: &ExportArgs) -> Result<PointSet, Failure> {
                 format!("cannot read the points file `{label}`: {e}"),
             )))
         })?;
-        let text = lingrav::problem::utf8_text(&label, bytes)
+        let text = crate::problem::utf8_text(&label, bytes)
             .map_err(|e| Failure::Input(miette::Report::new(e)))?;
         return read_points(&label, &text, &p.coordinates)
             .map_err(|e| Failure::Input(miette::Report::new(e)));
@@ -174,7 +170,7 @@ fn plan_points(p: &Problem, a: &ExportArgs) -> Result<PointSet, Failure> {
         None if p.grid.as_ref().and_then(|g| g.center).is_none() => {
             p.domain.filter(|d| d.iter().any(Option::is_some)).map(|d| {
                 std::array::from_fn(|i| {
-                    d[i].map_or(lingrav::export::points::DEFAULT_CENTER[i], |(lo, hi)| {
+                    d[i].map_or(crate::export::points::DEFAULT_CENTER[i], |(lo, hi)| {
                         lo / 2.0 + hi / 2.0
                     })
                 })
@@ -290,7 +286,7 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
         functions: &p.functions,
         defines: &p.defines,
         coordinates: &p.coordinates,
-        background: lingrav::export::background_json(&p),
+        background: crate::export::background_json(&p),
         h_text: &p.h_text,
         source_text: p.source_text.as_ref(),
         direction,
@@ -303,7 +299,7 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
     let meta = sidecar(&mut p.store, &b, &ev, &info);
 
     // Write the data, then the sidecar that records its size and checksum, then put both in
-    // place (old sidecar removed, data renamed, sidecar renamed: see lingrav::output).
+    // place (old sidecar removed, data renamed, sidecar renamed: see crate::output).
     write_table(data_file.writer(), &ev.table, format)
         .map_err(|e| file_failure(FileError::Io(a.out.clone(), e)))?;
     let mut meta = meta;

@@ -1,10 +1,12 @@
 //! `lingrav gauge`: apply a gauge transformation h -> h - d xi - d xi, or construct the one
 //! that brings a Lorenz-gauge plane wave to TT gauge, and verify the result exactly. The
-//! algebra is in [`lingrav::gauge`] (transformation, construction, box xi, the texts of the
-//! result) and its audits in [`lingrav::gauge::audit`]; this file plans, calls and reports
+//! algebra is in [`crate::gauge`] (transformation, construction, box xi, the texts of the
+//! result) and its audits in [`crate::gauge::audit`]; this file plans, calls and reports
 //! (text or JSON).
 
 use super::gauge_tt::{Built, Report, construct};
+use crate::audit::expr::{Finding, summary};
+use crate::check::{Status, check};
 use crate::cli::audit::{AuditedFormat, point_lines, points_json};
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, print};
@@ -14,15 +16,13 @@ use crate::cli::report::{
     list_components, proved_claims, texts, tt_solution, verdict_json, verification_json,
     verification_lines,
 };
+use crate::gauge::audit::audit_box;
+use crate::gauge::{box_verdicts, file_texts, transform, transformed_texts};
+use crate::problem::{Claims, Gauge, render_problem};
+use crate::tensor::COORDS;
+use crate::tt::Arg;
+use crate::zero::Verdict;
 use clap::Args;
-use lingrav::audit::expr::{Finding, summary};
-use lingrav::check::{Status, check};
-use lingrav::gauge::audit::audit_box;
-use lingrav::gauge::{box_verdicts, file_texts, transform, transformed_texts};
-use lingrav::problem::{Claims, Gauge, render_problem};
-use lingrav::tensor::COORDS;
-use lingrav::tt::Arg;
-use lingrav::zero::Verdict;
 use std::fmt::Write as _;
 use std::path::PathBuf;
 

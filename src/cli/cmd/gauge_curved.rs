@@ -1,19 +1,19 @@
 //! `lingrav gauge --vector` about a background: h'_ab = h_ab - D_a xi_b - D_b xi_a with the
 //! background's covariant derivative, and what holds for h' (checked exactly and audited from
 //! texts written from the background's own texts, see
-//! [`lingrav::gauge::covariant_transformed_texts`]).
+//! [`crate::gauge::covariant_transformed_texts`]).
 
+use crate::canon::CanonError;
+use crate::check::check;
 use crate::cli::out::{Failure, Outcome, gave_up, print};
 use crate::cli::plan::arg_failure;
 use crate::cli::report::{
     Format, claim_lines, conventions, gauges_of, heading, json, limit_in_report, verification_json,
 };
-use lingrav::canon::CanonError;
-use lingrav::check::check;
-use lingrav::problem::{Claims, Gauge, Problem};
-use lingrav::tensor::curved::Perturbation;
-use lingrav::tensor::{COMPONENTS, Frame};
-use lingrav::tt::Arg;
+use crate::problem::{Claims, Gauge, Problem};
+use crate::tensor::curved::Perturbation;
+use crate::tensor::{COMPONENTS, Frame};
+use crate::tt::Arg;
 use std::fmt::Write as _;
 
 /// The gauge transformation by `vector` (four expressions, index down, in the file's
@@ -44,7 +44,7 @@ pub fn run(mut p: Problem, vector: &str, format: Format, label: &str) -> Result<
     // What holds for h', checked exactly and audited from texts of the background's texts.
     let stem = fresh(&p, "lingrav_gt");
     let (defines, h2_text) =
-        lingrav::gauge::covariant_transformed_texts(&c, &bgd.g_text, &p.h_text, &xi_texts, &stem);
+        crate::gauge::covariant_transformed_texts(&c, &bgd.g_text, &p.h_text, &xi_texts, &stem);
     let asked = Claims {
         field_equations: Some(true),
         gauge: Gauge::ALL.to_vec(),

@@ -1,19 +1,19 @@
 //! `lingrav gauge --to-tt`: the gauge vector that brings a Lorenz-gauge plane wave to TT
-//! gauge, constructed by [`lingrav::gauge::plane`] after the wave vector is proved null and
+//! gauge, constructed by [`crate::gauge::plane`] after the wave vector is proved null and
 //! the input proved in Lorenz gauge, each verdict audited. The rest of the command (the
 //! transformation, its verification, the output file) is in `gauge.rs`.
 
+use crate::audit::expr::{FileQuantities, Finding, summary};
+use crate::canon::Form;
+use crate::check::verdicts::audit_verdicts;
+use crate::claim::Part;
 use crate::cli::audit::audit_json;
 use crate::cli::out::{Failure, Outcome, gave_up, limit_in, print};
 use crate::cli::report::{Format, json, verdict_json};
-use lingrav::audit::expr::{FileQuantities, Finding, summary};
-use lingrav::canon::Form;
-use lingrav::check::verdicts::audit_verdicts;
-use lingrav::claim::Part;
-use lingrav::gauge::lorenz_verdicts;
-use lingrav::gauge::plane::{PlaneError, find_wave, tt_gauge_vector};
-use lingrav::problem::{Claims, Gauge, Problem};
-use lingrav::zero::Verdict;
+use crate::gauge::lorenz_verdicts;
+use crate::gauge::plane::{PlaneError, find_wave, tt_gauge_vector};
+use crate::problem::{Claims, Gauge, Problem};
+use crate::zero::Verdict;
 use std::fmt::Write as _;
 
 /// The report of `gauge` as it is assembled: text and JSON side by side, every audit

@@ -4,11 +4,11 @@ use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, limit_or, print};
 use crate::cli::progress::ProgressLine;
 use crate::cli::report::{Format, conventions, json};
-use clap::Args;
-use lingrav::grid::{
+use crate::grid::{
     self, ClaimResult, Finding, GridError, GridPlan, GridReport, GridSettings, GridStatus,
 };
-use lingrav::output::AtomicFile;
+use crate::output::AtomicFile;
+use clap::Args;
 use std::fmt::Write as _;
 use std::path::PathBuf;
 use std::time::Instant;
@@ -74,13 +74,13 @@ fn input_error(message: String, help: &str) -> Failure {
 /// fits inside it, and the box must lie inside it.
 fn settings(
     a: &GridArgs,
-    problem: &lingrav::problem::Problem,
+    problem: &crate::problem::Problem,
 ) -> Result<(GridSettings, Vec<&'static str>), Failure> {
     let spec = problem.grid.as_ref();
     let domain = problem.domain.as_ref();
     let mut s = GridSettings::from_spec(spec, a.order);
     let mut defaults = Vec::new();
-    let given = |f: fn(&lingrav::problem::GridSpec) -> bool| spec.is_some_and(f);
+    let given = |f: fn(&crate::problem::GridSpec) -> bool| spec.is_some_and(f);
     if let Some(p) = &a.points {
         s.points.clone_from(p);
     } else if !given(|g| g.points.is_some()) {
@@ -139,7 +139,7 @@ fn duration(seconds: f64) -> String {
 /// Refuses a run whose estimated memory or time is above the caps, with the estimate.
 fn check_estimate(plan: &GridPlan, settings: &GridSettings, a: &GridArgs) -> Result<(), Failure> {
     let est = plan.estimate(settings);
-    let cap = lingrav::budget::cap() as u64;
+    let cap = crate::budget::cap() as u64;
     let time_cap = a.limits.time_limit() as f64 / 1000.0;
     if a.allow_large || (est.bytes <= cap && est.seconds <= time_cap) {
         return Ok(());

@@ -1,8 +1,10 @@
 //! `lingrav project`: the TT part of a perturbation along a direction, its plus and cross
 //! polarizations and how much of h is not TT; optionally the TT part as a new problem file
 //! with the claims proved for it. Every exact statement is audited
-//! ([`lingrav::tt::audit`]).
+//! ([`crate::tt::audit`]).
 
+use crate::canon::{Form, Store};
+use crate::check::{CheckReport, check};
 use crate::cli::audit::{AuditedFormat, audit_json, point_lines, points_json};
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, print};
@@ -11,13 +13,11 @@ use crate::cli::report::{
     Format, components_json, conventions, heading, json, list_components, proved_claims, texts,
     tt_solution, vec_text, verification_json, verification_lines,
 };
+use crate::gauge::file_texts;
+use crate::problem::{Claims, Gauge, render_problem};
+use crate::tt::audit::audit_projection;
+use crate::tt::{FRACTION_DEFINITION, Share, not_tt_fraction, project_perturbation};
 use clap::Args;
-use lingrav::canon::{Form, Store};
-use lingrav::check::{CheckReport, check};
-use lingrav::gauge::file_texts;
-use lingrav::problem::{Claims, Gauge, render_problem};
-use lingrav::tt::audit::audit_projection;
-use lingrav::tt::{FRACTION_DEFINITION, Share, not_tt_fraction, project_perturbation};
 use std::fmt::Write as _;
 use std::path::PathBuf;
 
@@ -68,7 +68,7 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
         let sampling = p.sampling.clone();
         not_tt_fraction(&mut p.store, &h, &proj.tt, &p.parameters, &sampling)
     };
-    let tt4 = lingrav::tt::as_perturbation(&p.store, &proj.tt);
+    let tt4 = crate::tt::as_perturbation(&p.store, &proj.tt);
     let seed = p.sampling.seed;
     let audit = audit_projection(
         &mut p,
@@ -277,14 +277,14 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
 /// Refuses (bad input) a background whose angular block is not proved to be
 /// r^2 (dtheta^2 + sin^2 theta dphi^2) in the file's coordinates read as (t, r, theta, phi):
 /// the polarizations on the sphere are defined in that frame.
-pub fn round_sphere_or_refuse(p: &mut lingrav::Problem, command: &str) -> Result<(), Failure> {
+pub fn round_sphere_or_refuse(p: &mut crate::Problem, command: &str) -> Result<(), Failure> {
     let c = p.coordinates.clone();
     let names = [c[0].as_str(), c[1].as_str(), c[2].as_str(), c[3].as_str()];
     let g = match &p.background {
         Some(b) => b.g,
         None => return Ok(()),
     };
-    let why = lingrav::tt::sphere::round_sphere(&mut p.store, names, &g)
+    let why = crate::tt::sphere::round_sphere(&mut p.store, names, &g)
         .map_err(|e| crate::cli::out::gave_up(&e))?;
     match why {
         None => Ok(()),
@@ -306,8 +306,8 @@ pub fn round_sphere_or_refuse(p: &mut lingrav::Problem, command: &str) -> Result
 
 /// `project` in spherical coordinates (t, r, theta, phi), along the radial direction: h_plus
 /// and h_cross on the sphere, exactly and at leading order in 1/r at fixed retarded time.
-fn sphere(a: ProjectArgs, mut p: lingrav::Problem) -> Result<Outcome, Failure> {
-    use lingrav::tt::sphere::{Leading, polarizations};
+fn sphere(a: ProjectArgs, mut p: crate::Problem) -> Result<Outcome, Failure> {
+    use crate::tt::sphere::{Leading, polarizations};
     let c = p.coordinates.clone();
     if a.dir.direction.trim() != "radial" || a.dir.basis.is_some() || a.written.output.is_some() {
         return Err(Failure::Input(miette::miette!(
@@ -347,15 +347,15 @@ fn sphere(a: ProjectArgs, mut p: lingrav::Problem) -> Result<Outcome, Failure> {
     let plus = p.store.to_text(sph.plus);
     let cross = p.store.to_text(sph.cross);
     let seed = p.sampling.seed;
-    let route = lingrav::audit::expr::FileQuantities::texts(
+    let route = crate::audit::expr::FileQuantities::texts(
         &p,
         &[
             ("h_plus".into(), format!("({plus}) - {plus_def}")),
             ("h_cross".into(), format!("({cross}) - {cross_def}")),
         ],
     );
-    let mut proved = vec![lingrav::zero::Verdict::Zero; 2];
-    let findings = lingrav::check::verdicts::audit_verdicts(&route, &mut proved, Some, seed);
+    let mut proved = vec![crate::zero::Verdict::Zero; 2];
+    let findings = crate::check::verdicts::audit_verdicts(&route, &mut proved, Some, seed);
     let defect = findings.iter().any(|f| f.is_defect());
     let mut leading = |l: &Leading| match l {
         Leading::Term { power, coefficient } => {
@@ -406,7 +406,7 @@ fn sphere(a: ProjectArgs, mut p: lingrav::Problem) -> Result<Outcome, Failure> {
                 );
             }
             if a.shown.audit_points {
-                let refs: Vec<&lingrav::audit::expr::Finding> = findings.iter().collect();
+                let refs: Vec<&crate::audit::expr::Finding> = findings.iter().collect();
                 s.push_str(&point_lines(&refs));
             }
             s
@@ -419,7 +419,7 @@ fn sphere(a: ProjectArgs, mut p: lingrav::Problem) -> Result<Outcome, Failure> {
                     "unavailable": l.3,
                 })
             };
-            let refs: Vec<&lingrav::audit::expr::Finding> = findings.iter().collect();
+            let refs: Vec<&crate::audit::expr::Finding> = findings.iter().collect();
             json(&serde_json::json!({
                 "file": label,
                 "name": p.name,

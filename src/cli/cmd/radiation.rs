@@ -1,16 +1,16 @@
 //! `lingrav radiation`: what a file's bodies radiate at quadrupole order, exactly: moments,
 //! luminosity, angular-momentum flux, their time averages, and the waveform along a direction.
 
+use crate::canon::{CanonError, Form};
 use crate::cli::audit::{audit_json, point_lines, points_json};
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, gave_up, print};
 use crate::cli::plan::{build_arg, numbers, plan_direction, plan_optional_output, write_atomic};
 use crate::cli::report::{Format, conventions, heading, json};
+use crate::radiation::{Average, Radiation, time_average};
+use crate::tt::DirectionKind;
+use crate::zero::{Verdict, decide};
 use clap::Args;
-use lingrav::canon::{CanonError, Form};
-use lingrav::radiation::{Average, Radiation, time_average};
-use lingrav::tt::DirectionKind;
-use lingrav::zero::{Verdict, decide};
 use std::fmt::Write as _;
 use std::path::PathBuf;
 
@@ -128,7 +128,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     let limit = |e: CanonError| gave_up(&e);
     let t_name = p.coordinates[0].clone();
     let sampling = p.sampling.clone();
-    let defs = lingrav::radiation::claims::Definitions::of(&p);
+    let defs = crate::radiation::claims::Definitions::of(&p);
     let st = &mut p.store;
     let mut rad = Radiation::new(st, &p.bodies, &t_name).map_err(limit)?;
     let mut rows = Vec::new();
@@ -159,8 +159,8 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
         let w = rad
             .field(st, (&dir.n, &dir.u, &dir.v), distance)
             .map_err(limit)?;
-        let u = lingrav::radiation::claims::vector_texts(st, &dir.u);
-        let v = lingrav::radiation::claims::vector_texts(st, &dir.v);
+        let u = crate::radiation::claims::vector_texts(st, &dir.u);
+        let v = crate::radiation::claims::vector_texts(st, &dir.v);
         let [plus_def, cross_def] = defs.polarizations(&u, &v, &distance_text);
         // Shift the printed forms to t + R so that they meet the definitions at t.
         let t = st.symbol_kernel(&t_name);
@@ -202,18 +202,18 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     if added {
         p.parameters.push((r_name.clone(), 7.25));
     }
-    let route = lingrav::audit::expr::FileQuantities::texts(&p, &texts);
+    let route = crate::audit::expr::FileQuantities::texts(&p, &texts);
     if added {
         p.parameters.pop();
     }
     let seed = p.sampling.seed;
     let mut proved = vec![Verdict::Zero; texts.len()];
-    let findings = lingrav::check::verdicts::audit_verdicts(&route, &mut proved, Some, seed);
+    let findings = crate::check::verdicts::audit_verdicts(&route, &mut proved, Some, seed);
     let defect = findings.iter().any(|f| f.is_defect());
 
     // Averages and the centre of mass.
     let st = &mut p.store;
-    let average = |st: &mut lingrav::Store, f: Form| -> Result<Result<String, String>, Failure> {
+    let average = |st: &mut crate::Store, f: Form| -> Result<Result<String, String>, Failure> {
         Ok(match time_average(st, f, rad.t).map_err(limit)? {
             Average::Exact(a) => Ok(st.to_text(a)),
             Average::NotPeriodic(why) => Err(why),
@@ -262,7 +262,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     };
     let dir_json = dir.as_ref().map(|d| {
         let st = &mut p.store;
-        let t = |st: &mut lingrav::Store, v: &[Form; 3]| -> Vec<String> {
+        let t = |st: &mut crate::Store, v: &[Form; 3]| -> Vec<String> {
             v.iter().map(|&f| st.to_text(f)).collect()
         };
         serde_json::json!({ "n": t(st, &d.n), "u": t(st, &d.u), "v": t(st, &d.v) })
@@ -319,7 +319,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
             }
             if let Some(dir) = &dir {
                 let st = &mut p.store;
-                let vec = |st: &mut lingrav::Store, v: &[Form; 3]| {
+                let vec = |st: &mut crate::Store, v: &[Form; 3]| {
                     let t: Vec<String> = v.iter().map(|&f| st.to_text(f)).collect();
                     format!("({})", t.join(", "))
                 };
@@ -349,7 +349,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                 );
             }
             if a.audit_points {
-                let refs: Vec<&lingrav::audit::expr::Finding> = findings.iter().collect();
+                let refs: Vec<&crate::audit::expr::Finding> = findings.iter().collect();
                 s.push_str(&point_lines(&refs));
             }
             if let Some(path) = &written {
@@ -358,7 +358,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
             s
         }
         Format::Json => {
-            let refs: Vec<&lingrav::audit::expr::Finding> = findings.iter().collect();
+            let refs: Vec<&crate::audit::expr::Finding> = findings.iter().collect();
             let quantities: serde_json::Map<String, serde_json::Value> = printed
                 .iter()
                 .zip(&findings)

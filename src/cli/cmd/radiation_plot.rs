@@ -2,12 +2,12 @@
 //! pattern of the time-averaged power, numbers from certified enclosures of the exact forms
 //! (whose printed texts the command audits).
 
+use crate::canon::{Form, Point, Store};
 use crate::cli::out::{Failure, gave_up};
-use lingrav::canon::{Form, Point, Store};
-use lingrav::interval::{CInterval, Interval};
-use lingrav::plot::{Panel, svg};
-use lingrav::problem::Problem;
-use lingrav::radiation::{Average, Radiation, time_average};
+use crate::interval::{CInterval, Interval};
+use crate::plot::{Panel, svg};
+use crate::problem::Problem;
+use crate::radiation::{Average, Radiation, time_average};
 
 /// Points along each curve.
 const SAMPLES: usize = 241;
@@ -45,7 +45,7 @@ pub fn picture(
     (t0, t1): (f64, f64),
     title: &str,
 ) -> Result<String, Failure> {
-    let limit = |e: lingrav::CanonError| gave_up(&e);
+    let limit = |e: crate::CanonError| gave_up(&e);
     let t_name = p.coordinates[0].clone();
     let params = p.parameters.clone();
     let pt0 = Point {
@@ -82,7 +82,7 @@ pub fn picture(
     let sum = st.sum(&terms).map_err(limit)?;
     let r2 = st.mul(r, r).map_err(limit)?;
     let sixteen_pi =
-        lingrav::expression(st, "16*pi").map_err(|e| Failure::Input(miette::miette!("{e}")))?;
+        crate::expression(st, "16*pi").map_err(|e| Failure::Input(miette::miette!("{e}")))?;
     let flux = st.mul(sum, r2).map_err(limit)?;
     let flux = st.div(flux, sixteen_pi).map_err(limit)?;
     let (flux, averaged) = match time_average(st, flux, rad.t).map_err(limit)? {

@@ -1,23 +1,23 @@
 //! `lingrav response`: the strain of a two-arm detector for a file's perturbation, exact in
 //! t, by the TT route and the gauge-invariant tidal route, their agreement decided by the
 //! zero test, and for a plane wave the finite-arm (light travel time) response. The algebra
-//! is [`lingrav::detector::response`], the audit [`lingrav::detector::response_audit`].
+//! is [`crate::detector::response`], the audit [`crate::detector::response_audit`].
 
+use crate::audit::expr::point_text;
+use crate::canon::Form;
 use crate::cli::audit::DEFAULT_SEED;
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::plan::{ArmArgs, DirectionArgs, arg_failure, kind_word, numbers};
 use crate::cli::report::{Format, heading, json, texts, vec_text, verdict_json};
+use crate::detector::read_detector;
+use crate::detector::response::{FiniteArm, Setup, finite_arm, plane_wave_along, respond};
+use crate::detector::response_audit::{Inputs, POINTS, Printed, Report, TOLERANCE, audit};
+use crate::gauge::plane::{PlaneError, PlaneWave};
+use crate::problem::Problem;
+use crate::tt::{Arg, ArgError};
+use crate::zero::{Sampling, Verdict};
 use clap::Args;
-use lingrav::audit::expr::point_text;
-use lingrav::canon::Form;
-use lingrav::detector::read_detector;
-use lingrav::detector::response::{FiniteArm, Setup, finite_arm, plane_wave_along, respond};
-use lingrav::detector::response_audit::{Inputs, POINTS, Printed, Report, TOLERANCE, audit};
-use lingrav::gauge::plane::{PlaneError, PlaneWave};
-use lingrav::problem::Problem;
-use lingrav::tt::{Arg, ArgError};
-use lingrav::zero::{Sampling, Verdict};
 use std::fmt::Write as _;
 use std::path::PathBuf;
 
@@ -248,7 +248,7 @@ pub fn run(a: ResponseArgs) -> Result<Outcome, Failure> {
 
     let h = p.h;
     let r = respond(&mut p.store, &h, &setup, &sampling).map_err(|e| match e {
-        lingrav::canon::CanonError::DivisionByZero | lingrav::canon::CanonError::Undefined(_) => {
+        crate::canon::CanonError::DivisionByZero | crate::canon::CanonError::Undefined(_) => {
             arg_failure(
                 ArgError::whole(
                     "--at",

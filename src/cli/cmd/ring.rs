@@ -7,10 +7,10 @@ use crate::cli::plan::{
     DirectionArgs, arg_failure, kind_word, numbers, plan_optional_output, write_atomic,
 };
 use crate::cli::report::{Format, conventions, heading, json, texts, vec_text};
+use crate::problem::Problem;
+use crate::tt::ring::{Ring, Snapshot, exaggeration, respond, svg};
+use crate::tt::{ArgError, DirectionKind, project_perturbation};
 use clap::Args;
-use lingrav::problem::Problem;
-use lingrav::tt::ring::{Ring, Snapshot, exaggeration, respond, svg};
-use lingrav::tt::{ArgError, DirectionKind, project_perturbation};
 use std::fmt::Write as _;
 use std::path::PathBuf;
 
@@ -175,8 +175,8 @@ fn unreachable_centre(ring: &Ring, names: &str, why: &str) -> Failure {
 /// `ring` about a background, in coordinates read as (t, r, theta, phi): the ring transverse
 /// to e_r at the centre (r, theta, phi), driven by the polarizations on the sphere.
 fn on_sphere(a: RingArgs, mut p: Problem) -> Result<Outcome, Failure> {
-    use lingrav::tt::ring::respond_on_sphere;
-    use lingrav::tt::sphere::polarizations;
+    use crate::tt::ring::respond_on_sphere;
+    use crate::tt::sphere::polarizations;
     let c = p.coordinates.clone();
     let names = [c[0].as_str(), c[1].as_str(), c[2].as_str(), c[3].as_str()];
     let list = format!("{}, {}, {}", c[1], c[2], c[3]);

@@ -1,14 +1,14 @@
 //! `lingrav show`: a derived quantity (Einstein, Ricci, Riemann, ...) component by
 //! component, exactly, as text, LaTeX or JSON.
 
+use crate::canon::{CanonError, Form};
+use crate::claim::{Gauge, Kind, Part};
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, gave_up, print};
 use crate::cli::report::{Format, conventions, json};
+use crate::tensor::COMPONENTS;
+use crate::tensor::{COORDS, Linearized, index_name};
 use clap::{Args, ValueEnum};
-use lingrav::canon::{CanonError, Form};
-use lingrav::claim::{Gauge, Kind, Part};
-use lingrav::tensor::COMPONENTS;
-use lingrav::tensor::{COORDS, Linearized, index_name};
 use std::fmt::Write as _;
 use std::path::PathBuf;
 
@@ -169,18 +169,18 @@ fn latex_label(name: &str) -> String {
 
 /// A gauge's conditions, named as `check` names them.
 fn conditions(
-    store: &mut lingrav::Store,
+    store: &mut crate::Store,
     lin: &mut Linearized,
     g: Gauge,
-) -> lingrav::canon::CResult<Vec<(String, Form)>> {
-    lingrav::check::ExactParts::new(lin, None).named(store, Kind::Gauge(g))
+) -> crate::canon::CResult<Vec<(String, Form)>> {
+    crate::check::ExactParts::new(lin, None).named(store, Kind::Gauge(g))
 }
 
 /// The quantity of a flat problem in Cartesian coordinates.
 fn flat_rows(
-    p: &mut lingrav::Problem,
+    p: &mut crate::Problem,
     quantity: Quantity,
-) -> lingrav::canon::CResult<Vec<(String, Form)>> {
+) -> crate::canon::CResult<Vec<(String, Form)>> {
     let store = &mut p.store;
     let mut lin = Linearized::new(store, p.h);
     let mut rows: Vec<(String, Form)> = Vec::new();
@@ -243,13 +243,10 @@ fn is_background(q: Quantity) -> bool {
 
 /// The quantity about the problem's background (Minkowski in Cartesian coordinates without
 /// one), named in the problem's coordinates; covariant derivatives are the background's.
-fn curved_rows(
-    p: &mut lingrav::Problem,
-    quantity: Quantity,
-) -> Result<Vec<(String, Form)>, Failure> {
-    use lingrav::tensor::curved::Perturbation;
+fn curved_rows(p: &mut crate::Problem, quantity: Quantity) -> Result<Vec<(String, Form)>, Failure> {
+    use crate::tensor::curved::Perturbation;
     let limit = |e: CanonError| gave_up(&e);
-    let frame = lingrav::tensor::Frame::covariant(p.coordinates.clone());
+    let frame = crate::tensor::Frame::covariant(p.coordinates.clone());
     let mut bg = crate::cli::limits::spacetime(p)?;
     let store = &mut p.store;
     let mut h = Perturbation::new(p.h);
@@ -282,9 +279,9 @@ fn curved_rows(
             let mut hb = p.h;
             for &(i, j) in &COMPONENTS {
                 let x = store.mul(bg.g[i][j], tr).map_err(limit)?;
-                let half = lingrav::Coeff::rational(lingrav::canon::Q::new((-1).into(), 2.into()));
+                let half = crate::Coeff::rational(crate::canon::Q::new((-1).into(), 2.into()));
                 let v = store
-                    .linear(&[(&lingrav::Coeff::one(), p.h[i][j]), (&half, x)])
+                    .linear(&[(&crate::Coeff::one(), p.h[i][j]), (&half, x)])
                     .map_err(limit)?;
                 hb[i][j] = v;
                 hb[j][i] = v;
@@ -326,17 +323,17 @@ fn curved_rows(
         Quantity::Lorenz => {
             let v = h.lorenz(store, &bg).map_err(limit)?;
             (0..4)
-                .map(|n| (lingrav::claim::Part::Lorenz(n).name_in(&frame), v[n]))
+                .map(|n| (crate::claim::Part::Lorenz(n).name_in(&frame), v[n]))
                 .collect()
         }
         Quantity::Tt => {
             let v = h.lorenz(store, &bg).map_err(limit)?;
             let tr = h.trace(store, &bg).map_err(limit)?;
             let mut rows: Vec<(String, Form)> = (0..4)
-                .map(|m| (lingrav::claim::Part::H(0, m).name_in(&frame), p.h[0][m]))
+                .map(|m| (crate::claim::Part::H(0, m).name_in(&frame), p.h[0][m]))
                 .collect();
-            rows.push((lingrav::claim::Part::Trace.name_in(&frame), tr));
-            rows.extend((0..4).map(|n| (lingrav::claim::Part::Lorenz(n).name_in(&frame), v[n])));
+            rows.push((crate::claim::Part::Trace.name_in(&frame), tr));
+            rows.extend((0..4).map(|n| (crate::claim::Part::Lorenz(n).name_in(&frame), v[n])));
             rows
         }
         Quantity::BackgroundInverse => sym("gbar^", &bg.ginv),
@@ -350,7 +347,7 @@ fn curved_rows(
         Quantity::BackgroundRicci => sym("Rbar", &bg.ricci(store).map_err(limit)?),
         Quantity::BackgroundEquations => {
             let e = bg.equations(store).map_err(limit)?;
-            let kind = lingrav::claim::Kind::BackgroundEquations {
+            let kind = crate::claim::Kind::BackgroundEquations {
                 lambda: !store.is_zero(bg.lambda),
                 sourced: bg.source.is_some(),
             };

@@ -2,12 +2,12 @@
 //! against the input at seeded points.
 
 use super::zero::LimitArgs;
+use crate::canon::{Form, Store};
 use crate::cli::audit::{FormAuditArgs, audit_json, form_audit};
 use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::plan::build_arg;
 use crate::cli::report::{Format, json};
 use clap::Args;
-use lingrav::canon::{Form, Store};
 
 /// Arguments of `lingrav simplify`, and what `diff` shares with it: the expression and how
 /// its result is printed and audited.

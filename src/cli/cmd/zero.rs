@@ -1,14 +1,14 @@
 //! `lingrav zero`: is an expression (or the difference of two) identically zero? The exact
 //! verdict is audited by the independent route before it is printed.
 
+use crate::audit::expr::{Expressions, Finding};
+use crate::check::verdicts::audit_verdicts;
 use crate::cli::audit::{AuditedFormat, audit_json, points_text};
 use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::plan::build_arg;
 use crate::cli::report::{Format, json, point_json};
+use crate::zero::{Sampling, Verdict, decide};
 use clap::Args;
-use lingrav::audit::expr::{Expressions, Finding};
-use lingrav::check::verdicts::audit_verdicts;
-use lingrav::zero::{Sampling, Verdict, decide};
 use std::fmt::Write as _;
 
 /// Limits of the expression commands: 20 s of algebra by default.
@@ -53,7 +53,7 @@ pub fn run(a: ZeroArgs) -> Result<Outcome, Failure> {
     };
     let (verdict, residual) = match diff {
         Ok(d) => (decide(&mut st, d, &sampling), Some(d)),
-        Err(e) => (lingrav::zero::undecided_from(&e), None),
+        Err(e) => (crate::zero::undecided_from(&e), None),
     };
     let residual_text = residual.filter(|d| !st.is_zero(*d)).map(|d| st.to_text(d));
     // The zero test numbers the generic samples of its residual's functions by sorted name;
@@ -134,9 +134,9 @@ fn outcome_of(v: &Verdict) -> Outcome {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::interval::{CInterval, Interval};
+    use crate::zero::Witness;
     use clap::Parser;
-    use lingrav::interval::{CInterval, Interval};
-    use lingrav::zero::Witness;
 
     #[derive(Parser)]
     struct ZeroCli {

@@ -18,7 +18,7 @@
 //! Key design decision: one formula per quantity, written with explicit index sums over the
 //! background's Christoffel symbols, so that Minkowski in Cartesian coordinates reduces to the
 //! flat formulas term by term; the independent check of these formulas is
-//! [`crate::pointwise`]'s forward-mode derivative of the full curvature chain, which shares
+//! `crate::pointwise`'s forward-mode derivative of the full curvature chain, which shares
 //! nothing with them.
 //!
 //! **Invariant:** every quantity is exact (canonical forms); a zero factor is skipped, never
