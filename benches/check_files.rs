@@ -3,7 +3,8 @@
 //! interpreter start and imports excluded; this excludes lingrav's process start, about 1 ms).
 //!
 //! What is timed is what `lingrav check FILE` computes: reading and building the problem,
-//! checking every claim and the independent audit of every verdict (`check::check`); not
+//! checking every claim (those about h and those about the radiation of bodies) and the
+//! independent audit of every verdict (`lingrav::check_problem`, as the command calls it); not
 //! the rendering of the report (microseconds). One untimed warm-up run, then runs until `REPEAT` (default 3)
 //! samples or 10 s are collected; prints `FILE median_seconds samples` per file, or
 //! `FILE error MESSAGE` when the file does not load.
@@ -31,7 +32,7 @@ fn main() {
         let run = || -> Result<usize, String> {
             let mut problem = lingrav::problem::read(std::path::Path::new(&file))
                 .map_err(|e| e.to_string().replace('\n', " "))?;
-            let report = lingrav::check::check(&mut problem);
+            let report = lingrav::check_problem(&mut problem).map_err(|e| e.to_string())?;
             Ok(report.claims.len())
         };
         if let Err(e) = run() {

@@ -94,6 +94,29 @@ pub fn command_line() -> std::process::ExitCode {
     cli::run()
 }
 
+/// Every claim of a problem file, as `lingrav check FILE` decides them: the claims about h
+/// ([`check()`], skipped for a file that describes only bodies) followed by the claims about
+/// the radiation of its bodies ([`radiation::claims::reports`]).
+///
+/// # Errors
+///
+/// A `[claims.waveform]` direction that cannot be read, or an algebra limit in the radiation
+/// claims (the claims about h end in "undecided" instead).
+pub fn check_problem(problem: &mut Problem) -> Result<CheckReport, radiation::claims::ClaimsError> {
+    let only_bodies =
+        !problem.bodies.is_empty() && problem.h_text.iter().flatten().all(Option::is_none);
+    let mut report = if only_bodies {
+        CheckReport {
+            claims: Vec::new(),
+            has_claims: true,
+        }
+    } else {
+        check(problem)
+    };
+    report.claims.extend(radiation::claims::reports(problem)?);
+    Ok(report)
+}
+
 /// Why [`expression`] could not build a form.
 #[derive(Debug, thiserror::Error)]
 pub enum ExpressionError {

@@ -1,7 +1,7 @@
 //! `lingrav check`: every claim of a problem file decided exactly, as text or JSON.
 
 use crate::canon::Store;
-use crate::check::{CheckReport, ClaimReport, Status, check};
+use crate::check::{CheckReport, ClaimReport, Status};
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::report::{
@@ -129,22 +129,10 @@ fn several(a: &CheckArgs) -> Result<Outcome, Failure> {
 /// One file's report (text or JSON) and outcome.
 fn one(a: &CheckArgs, file: &std::path::Path) -> Result<(String, Outcome), Failure> {
     let mut problem = a.limits.load(file)?;
-    // A file that describes only bodies (no [perturbation]) has only claims about them.
-    let only_bodies =
-        !problem.bodies.is_empty() && problem.h_text.iter().flatten().all(Option::is_none);
-    let mut report = if only_bodies {
-        CheckReport {
-            claims: Vec::new(),
-            has_claims: true,
-        }
-    } else {
-        check(&mut problem)
-    };
-    let radiation = crate::radiation::claims::reports(&mut problem).map_err(|e| match e {
+    let report = crate::check_problem(&mut problem).map_err(|e| match e {
         crate::radiation::claims::ClaimsError::Limit(l) => crate::cli::out::gave_up(&l),
         e => Failure::Input(miette::miette!("{}: {e}", problem.path)),
     })?;
-    report.claims.extend(radiation);
     let label = file.display().to_string();
     let text = match a.format {
         Format::Text => render_text(&mut problem.store, &label, problem.name.as_deref(), &report),
