@@ -1,10 +1,12 @@
 """What the peer scripts share: lingrav's expression language read into a computer-algebra
-library, and the claims of `lingrav check` as textbook formulas over it.
+library, tensors read from a file's tables, and the claims of `lingrav check` about flat
+space in Cartesian coordinates as textbook formulas over it.
 
-Used by benches/check_sympy.py (SymPy) and benches/peers/symengine_check.py (SymEngine).
-Everything here takes the library as a module `cas` with `diff`, `pi` and the elementary
-functions under their usual names, which both provide, so the two scripts differ only in how
-they build arbitrary functions and decide zero.
+Used by benches/check_sympy.py (SymPy) and benches/peers/symengine_check.py (SymEngine), and
+by the other shared modules (curved.py for files about a background or in other coordinates,
+radiation.py for the radiation of a file's bodies). Everything here takes the library as a
+module `cas` with `diff`, `pi` and the elementary functions under their usual names, which both
+provide, so the scripts differ only in how they build arbitrary functions and decide zero.
 
   field equations   G1_mn = R1_mn - 1/2 eta_mn R1 (minus 8 pi T_mn with a source), with
                     R1_mn = 1/2 (d_s d_m h^s_n + d_s d_n h^s_m - d_m d_n h - box h_mn);
@@ -19,6 +21,7 @@ compared component by component.
 """
 
 import re
+from collections import namedtuple
 
 COORDS_NAMES = "t x y z"
 ETA = (-1, 1, 1, 1)
@@ -62,7 +65,8 @@ class Namespace(dict):
     """Name lookup for eval: coordinates, functions, pi, then whatever the caller adds
     (parameters, arbitrary functions, defines), and the d_... and primed operators.
 
-    exact(text) makes an exact number; prime(f, n, a) the n-th derivative of f at a."""
+    exact(text) makes an exact number; prime(f, n, a) the n-th derivative of f at a. `d_r_th`
+    differentiates by the coordinates r and th, whatever the coordinates are called."""
 
     def __init__(self, cas, coords, exact, prime):
         super().__init__({str(c): c for c in coords})
@@ -70,11 +74,12 @@ class Namespace(dict):
         self["pi"] = cas.pi
         self["__exact"] = exact
         self.cas, self.prime = cas, prime
+        self.coords = {str(c): c for c in coords}
         self.functions = {}
 
     def __missing__(self, key):
-        if key.startswith("d_") and all(v in NAMES for v in key[2:].split("_")):
-            variables = [self[v] for v in key[2:].split("_")]
+        if key.startswith("d_") and all(v in self.coords for v in key[2:].split("_")):
+            variables = [self.coords[v] for v in key[2:].split("_")]
             return lambda f: self.cas.diff(f, *variables)
         if key.startswith("__prime_"):
             name, n = key[len("__prime_"):].rsplit("_", 1)
@@ -83,25 +88,37 @@ class Namespace(dict):
         raise KeyError(key)
 
     def evaluate(self, text):
-        """The library's expression for a text of lingrav's language."""
-        py = translate(text)
+        """The library's expression for a text of lingrav's language (a TOML number is read
+        as the exact decimal it is written as)."""
+        py = translate(str(text))
         terms = top_level_terms(py)
         if len(terms) < 100:
             return self.cas.sympify(eval(py, {"__builtins__": {}}, self))
         return self.cas.Add(*[eval(t.strip(), {"__builtins__": {}}, self) for t in terms])
 
 
-def component_key(key):
-    m, n = NAMES.index(key[0]), NAMES.index(key[1])
+def component_key(key, names=NAMES):
+    """(m, n), m <= n, of a component key in the coordinates `names`: `a.b`, or `ab` when every
+    coordinate name is one letter (lingrav's rule)."""
+    if "." in key:
+        a, b = key.split(".", 1)
+    elif all(len(c) == 1 for c in names) and len(key) == 2:
+        a, b = key
+    else:
+        raise ValueError(f"component key {key!r} names no two of the coordinates {list(names)}")
+    m, n = list(names).index(a), list(names).index(b)
     return (m, n) if m <= n else (n, m)
 
 
-def tensor(ns, table, zero):
-    """A symmetric 4x4 from a [perturbation] or [source] table."""
+def tensor(ns, table, zero, names=NAMES):
+    """A symmetric 4x4 from a [perturbation], [source], [background] or [background_source]
+    table; TOML reads a dotted key `t.ph` as the table {t: {ph: ...}}."""
     a = [[zero] * 4 for _ in range(4)]
     for key, text in table.items():
-        m, n = component_key(key)
-        a[m][n] = a[n][m] = ns.evaluate(text)
+        inner = text.items() if isinstance(text, dict) else [(None, text)]
+        for key2, t in inner:
+            m, n = component_key(key if key2 is None else f"{key}.{key2}", names)
+            a[m][n] = a[n][m] = ns.evaluate(t)
     return a
 
 
@@ -209,10 +226,22 @@ def claims_components(doc, h, source, cas, coords):
     return out
 
 
-def status(verdicts, expect_zero):
+# A claim of the curved and radiation routes: its key, whether its components are asserted
+# to vanish, [(name, expr)], whether a nonzero component refutes it (not for a gauge vector:
+# h = D xi + D xi for another xi stays possible), and why it has no components (the claim is
+# then undecided).
+Claim = namedtuple("Claim", "key expect_zero components refutable why", defaults=(True, None))
+
+
+def status(verdicts, expect_zero, refutable=True):
     """lingrav's rule: a vanishing claim holds when every component is zero; a claim written
-    `= false` holds when one is nonzero."""
+    `= false` holds when one is nonzero; a claim that a nonzero component cannot refute is
+    then undecided, and one without components is undecided."""
+    if not verdicts:
+        return "undecided"
     if any(v == "nonzero" for v in verdicts):
+        if not refutable:
+            return "undecided"
         return "fails" if expect_zero else "holds"
     if all(v == "zero" for v in verdicts):
         return "holds" if expect_zero else "fails"

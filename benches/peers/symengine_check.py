@@ -8,24 +8,41 @@ per file every claim's verdict, the time spent in-process (from reading the file
 verdict; importing SymEngine excluded and printed separately) and the peak memory of the
 process (resource.getrusage maxrss, which includes the Python interpreter and the library).
 
-It shares with benches/check_sympy.py (module benches/peers/linearized.py) the translation of
-the expression language, the formulas of every claim, the component names and the claim rule:
-G1 = R1 - 1/2 eta R1 with R1_mn = eta^{rs} R_{r m s n}, the Lorenz, TT and synchronous
-conditions, the 20 independent components of the linearized Riemann tensor (sign of MTW) for
-pure gauge, d^m T_mn for a source.
+Every worked file is covered, with the formulas of the shared modules (generic over the
+library; component names and claim keys are lingrav's, so verdicts compare one by one):
+
+  flat files in t, x, y, z (benches/peers/linearized.py, shared with benches/check_sympy.py):
+    G1 = R1 - 1/2 eta R1 with R1_mn = eta^{rs} R_{r m s n}, the Lorenz, TT and synchronous
+    conditions, the 20 independent components of the linearized Riemann tensor (sign of MTW)
+    for pure gauge, d^m T_mn for a source;
+  files about a background, in any coordinates (benches/peers/curved.py): the background's
+    own equations, dG + Lambda h - 8 pi dT by forward mode in eps through
+    Gamma -> Riemann -> Ricci -> Einstein, the covariant Lorenz, synchronous and TT
+    conditions, the first-order change of the source's divergence, and pure gauge by the
+    linearized Riemann tensor when the background's Riemann tensor is proved zero here, else
+    by the file's [gauge_vector];
+  claims about the radiation of [[body]] and [binary] sources (benches/peers/radiation.py):
+    the quadrupole luminosity, its time average (done here: trigonometric functions through
+    exponentials, expanded, the terms without an oscillating exp(i w t) kept; a luminosity
+    that is no such sum leaves the claim undecided, as lingrav does) and the polarizations of
+    the TT-projected far field along the claimed direction.
 
 SymEngine has no simplify, so each component is decided by normalising and expanding.
 Every component is expanded first (0 is a proof) and then evaluated at a random point
-(arbitrary functions replaced by the samples of the file, exact point, 200-bit arithmetic):
-clearly nonzero is "nonzero", as lingrav ends with a witness. "plain" mode stops there (what
-is left is "undecided"). "tuned" mode (the default, used by benches/engine_ratios.sh) goes on
-with the strongest route we know, like check_sympy.py's: every value of an arbitrary function
-(Q(t - r), Q''(t - r), ...) becomes an independent symbol, every half-integer power b^(k/2) a
-power R_b^k of a new symbol with R_b^2 = b, the expression is brought over a common
-denominator (as_numer_denom) and the numerator expanded and reduced with R_b^2 = b (even and
-odd parts in R_b separately, both must vanish); then the same with sin, cos, tan and their
-hyperbolic cousins rewritten through exponentials of expanded arguments. Each step is an
-identity, so 0 is a proof; a component that survives is "undecided".
+(arbitrary functions replaced by the samples of the file, exact point, 200-bit arithmetic;
+coordinates with a [domain] range taken near its inner edge, the others in +-[1/4, 2]):
+clearly nonzero is "nonzero", as lingrav ends with a witness. "plain" mode stops there (two
+more random points for what is left, then "undecided"). "tuned" mode (the default, used by
+benches/engine_ratios.sh) first goes on with the strongest route we know, like
+check_sympy.py's: every value of an arbitrary function (Q(t - r), Q''(t - r), ...) becomes an
+independent symbol, sin and cos of each argument symbols S and C with C^2 = 1 - S^2 (tan is
+S/C; sinh, cosh, tanh likewise with C^2 = 1 + S^2), every half-integer power b^(k/2) a power
+R_b^k of a new symbol with R_b^2 = b, the expression is brought over a common denominator
+(as_numer_denom) and the numerator expanded and reduced with these relations (even and odd
+parts in R_b, then in each C, separately: all must vanish); failing that, the same with sin,
+cos, tan and their hyperbolic cousins rewritten through exponentials of expanded arguments
+(for arguments related otherwise, such as 2 w t and w t). Each step is an identity, so 0 is a
+proof; a component that survives is "undecided".
 
 Translation of the syntax: `^` is `**`; numbers are exact (`1.5e-3` is 3/2000); `d_x_y(f)`
 is diff(f, x, y); `Q''(a)` is the second derivative of the undefined function Q at a, built
@@ -37,7 +54,10 @@ file's), with a time limit and an address-space limit (RLIMIT_AS); a case that p
 reported as "timeout" or "out of memory", never left hanging. With --lingrav BIN (or
 --lingrav-json DIR holding `lingrav check --format json` output as DIR/<file stem>.json)
 every component's verdict is compared with lingrav's and any difference between two
-decided verdicts is printed as "MISMATCH" and makes the exit code 1.
+decided verdicts, or a component of the peer's that lingrav does not list (the claims
+differ), is printed as "MISMATCH" and makes the exit code 1; one that lingrav lists and the
+peer lacks is noted "peer missing", and a claim that one side leaves undecided without
+components (see above) is noted too, not a mismatch.
 
 Usage:  python3 benches/peers/symengine_check.py [--mode plain|tuned] [--timeout S]
             [--max-memory MB] [--lingrav BIN | --lingrav-json DIR] [--summary FILE] FILES...
@@ -55,18 +75,22 @@ import tomllib
 from fractions import Fraction
 from pathlib import Path
 
-from linearized import COORDS_NAMES, Namespace, claims_components, status, tensor
+import curved
+import radiation
+from linearized import (COORDS_NAMES, Claim, Namespace, claims_components, status,
+                        tensor)
 
 _t0 = time.perf_counter()
 import symengine as se  # noqa: E402  (timed on purpose)
 
 IMPORT_SECONDS = time.perf_counter() - _t0
 
-COORDS = se.symbols(COORDS_NAMES)
 ZERO = se.Integer(0)
 NONZERO_BELOW = 1e-12  # a numeric value at most this large is not called nonzero
 PRECISION_BITS = 200
+MORE_POINTS = 2  # further random points for a component that was not reduced to 0
 _SHIFT = se.Symbol("_lingrav_peer_shift")
+_ANY = se.Symbol("_lingrav_peer_any")
 
 # --- lingrav syntax -> SymEngine -----------------------------------------------------------
 
@@ -89,28 +113,50 @@ def prime(f, n, arg):
     return se.diff(f(arg + _SHIFT), _SHIFT, n).xreplace({_SHIFT: ZERO})
 
 
-def build(path):
-    doc = tomllib.loads(path.read_text())
-    ns = Namespace(se, COORDS, exact, prime)
-    values = {}
-    for name, value in doc.get("parameters", {}).items():
-        s = se.Symbol(name)
-        ns[name] = s
-        values[s] = exact(repr(value))
-    u = se.Symbol("u")
-    samples = {}
-    for name, sample in doc.get("functions", {}).items():
-        f = se.Function(name)
-        ns[name] = f
-        ns.functions[name] = f
-        sub = Namespace(se, COORDS, exact, prime)
-        sub["u"] = u
-        samples[name] = (u, sub.evaluate(sample))
-    for name, text in doc.get("define", {}).items():
-        ns[name] = ns.evaluate(text)
-    h = tensor(ns, doc.get("perturbation", {}), ZERO)
-    source = tensor(ns, doc["source"], ZERO) if "source" in doc else None
-    return doc, h, source, values, samples
+class File:
+    """A problem file read into SymEngine: coordinates, parameters (with their values),
+    arbitrary functions (with their samples), defines, and the ranges of [domain]."""
+
+    def __init__(self, path):
+        self.doc = doc = tomllib.loads(path.read_text())
+        self.names = doc.get("coordinates", COORDS_NAMES.split())
+        self.coords = [se.Symbol(c) for c in self.names]
+        self.ns = ns = Namespace(se, self.coords, exact, prime)
+        self.values = {}
+        for name, value in doc.get("parameters", {}).items():
+            s = se.Symbol(name)
+            ns[name] = s
+            self.values[s] = exact(repr(value))
+        u = se.Symbol("u")
+        self.samples = {}
+        for name, sample in doc.get("functions", {}).items():
+            f = se.Function(name)
+            ns[name] = f
+            ns.functions[name] = f
+            sub = Namespace(se, self.coords, exact, prime)
+            sub["u"] = u
+            self.samples[name] = (u, sub.evaluate(sample))
+        for name, text in doc.get("define", {}).items():
+            ns[name] = ns.evaluate(text)
+        self.domain = {se.Symbol(c): tuple(Fraction(repr(x)) for x in lim)
+                       for c, lim in doc.get("domain", {}).items()}
+
+    def claims(self, decide):
+        """[Claim] of the file, lingrav's order; decide(expr) gives a verdict (the
+        pure-gauge route about a background needs one)."""
+        doc, ns = self.doc, self.ns
+        out = []
+        if curved.is_curved(doc):
+            def is_flat(exprs):
+                return all(decide(e)[0] == "zero" for e in exprs)
+            out += curved.claims_components(doc, ns, se, self.coords, is_flat)
+        else:
+            h = tensor(ns, doc.get("perturbation", {}), ZERO)
+            source = tensor(ns, doc["source"], ZERO) if "source" in doc else None
+            out += [Claim(*c) for c in claims_components(doc, h, source, se, self.coords)]
+        if radiation.has_radiation_claims(doc):
+            out += radiation.claims_components(doc, ns, se, time_average)
+        return out
 
 
 # --- verdicts ------------------------------------------------------------------------------
@@ -134,15 +180,28 @@ def function_values(expr):
     return out
 
 
-def numeric_value(expr, values, samples, rng):
-    """expr at a random point, parameters at their file values, functions by their samples,
-    evaluated in PRECISION_BITS-bit arithmetic. None where it cannot be evaluated."""
-    point = dict(values)
-    for c in COORDS:
-        point[c] = se.Integer(rng.choice([-1, 1]) * rng.randint(250, 2000)) / 1000
+def random_point(file, rng):
+    """Exact random coordinates: in [a, a + min(b - a, 2)] for a [domain] range [a, b] (near
+    its inner edge, where the fields are not small), else +-[1/4, 2]; the parameters at their
+    values."""
+    point = dict(file.values)
+    for c in file.coords:
+        if c in file.domain:
+            a, b = file.domain[c]
+            q = a + min(b - a, 2) * Fraction(rng.randint(1, 999), 1000)
+        else:
+            q = Fraction(rng.choice([-1, 1]) * rng.randint(250, 2000), 1000)
+        point[c] = se.Integer(q.numerator) / se.Integer(q.denominator)
+    return point
+
+
+def numeric_value(expr, file, rng):
+    """expr at a random point, functions by their samples, evaluated in PRECISION_BITS-bit
+    arithmetic. None where it cannot be evaluated."""
+    point = random_point(file, rng)
     replace = {}
     for atom, (name, n, arg) in function_values(expr).items():
-        u, sample = samples[name]
+        u, sample = file.samples[name]
         replace[atom] = se.diff(sample, u, n).xreplace({u: arg.xreplace(point)}) if n \
             else sample.xreplace({u: arg.xreplace(point)})
     try:
@@ -157,8 +216,9 @@ def _is_half_power(p):
     return isinstance(e, se.Rational) and not e.is_integer and (2 * e).is_integer
 
 
-def _reduced_zero(expr):
-    """Common denominator, expand the numerator, reduce every R_b with R_b^2 = b."""
+def _reduced_zero(expr, relations=()):
+    """Common denominator, expand the numerator, reduce every R_b with R_b^2 = b (half-integer
+    powers b^(k/2) become R_b^k), then every symbol C of `relations` (C, C^2) likewise."""
     roots = {}  # base b -> symbol R_b
     half = {}
     for p in expr.atoms(se.Pow):
@@ -169,9 +229,14 @@ def _reduced_zero(expr):
             half[p] = roots[b] ** int(2 * p.args[1])
     num, _ = expr.xreplace(half).as_numer_denom()
     parts = [se.expand(num)]
-    for b, r in roots.items():
+    for r, b in [(r, b) for b, r in roots.items()] + list(relations):
         split = []
         for e in parts:
+            if e == 0:
+                continue
+            if r not in e.free_symbols:
+                split.append(e)
+                continue
             flipped = e.xreplace({r: -r})
             for part in (se.expand((e + flipped) / 2), se.expand((e - flipped) / (2 * r))):
                 even = {p: b ** (int(p.args[1]) // 2) for p in part.atoms(se.Pow)
@@ -179,6 +244,26 @@ def _reduced_zero(expr):
                 split.append(se.expand(part.xreplace(even)))
         parts = split
     return all(e == 0 for e in parts)
+
+
+def _trig_symbols(expr):
+    """sin(a) -> S, cos(a) -> C with C^2 = 1 - S^2, tan(a) -> S/C, and sinh, cosh, tanh
+    likewise with C^2 = 1 + S^2, one pair for each argument: (expr', [(C, C^2)])."""
+    replace, relations = {}, []
+    pairs = {}
+    for kind, (s_f, c_f, t_f, sign) in {"": (se.sin, se.cos, se.tan, -1),
+                                          "h": (se.sinh, se.cosh, se.tanh, 1)}.items():
+        for f in (s_f, c_f, t_f):
+            for atom in expr.atoms(type(f(_ANY))):
+                a = atom.args[0]
+                if (kind, a) not in pairs:
+                    i = len(pairs)
+                    s, c = se.Symbol(f"_S{kind}{i}"), se.Symbol(f"_C{kind}{i}")
+                    pairs[(kind, a)] = (s, c)
+                    relations.append((c, 1 + sign * s**2))
+                s, c = pairs[(kind, a)]
+                replace[atom] = s if f is s_f else c if f is c_f else s / c
+    return (expr.xreplace(replace) if replace else expr), relations
 
 
 def _trig_as_exp(expr):
@@ -196,36 +281,71 @@ def _trig_as_exp(expr):
              se.tanh: lambda a: (e(a) - e(-a)) / (e(a) + e(-a))}
     replace = {}
     for f, rule in rules.items():
-        for atom in expr.atoms(type(f(COORDS[1]))):
+        for atom in expr.atoms(type(f(_ANY))):
             replace[atom] = rule(atom.args[0])
     return expr.xreplace(replace) if replace else None
 
 
 def reduces_to_zero(expr):
-    """The tuned zero test: function values become independent symbols, then _reduced_zero,
-    then the same after rewriting trigonometric functions through exponentials."""
+    """The tuned zero test: function values become independent symbols; then _reduced_zero
+    with sin and cos of each argument as symbols S, C with C^2 = 1 - S^2; then, for arguments
+    related otherwise (2a and a, t - z and t + z), _reduced_zero after rewriting trigonometric
+    functions through exponentials."""
     names = {atom: se.Symbol(f"_F{i}") for i, atom in enumerate(function_values(expr))}
     e = expr.xreplace(names) if names else expr
-    if _reduced_zero(e):
+    if _reduced_zero(*_trig_symbols(e)):
         return True
     rewritten = _trig_as_exp(e)
     return rewritten is not None and _reduced_zero(rewritten)
 
 
-def verdict(expr, values, samples, rng, tuned):
+def verdict(expr, file, rng, tuned):
     """(verdict, detail): expand (0 is a proof); a numeric look at the expanded form (clearly
-    nonzero ends it, as lingrav ends with a witness); tuned: then reduces_to_zero."""
+    nonzero ends it, as lingrav ends with a witness); tuned: then reduces_to_zero; then a
+    numeric look at MORE_POINTS other points."""
     e = se.expand(expr)
     if e == 0:
         return "zero", None
-    v = numeric_value(e, values, samples, rng)
+    v = numeric_value(e, file, rng)
     if v is not None and abs(v) > NONZERO_BELOW:
         return "nonzero", f"{v:.6g} at a random point"
     if tuned and reduces_to_zero(e):
         return "zero", None
+    for _ in range(MORE_POINTS):
+        w = numeric_value(e, file, rng)
+        if w is not None and abs(w) > NONZERO_BELOW:
+            return "nonzero", f"{w:.6g} at a random point"
+        v = w if v is None else v
     if v is None:
         return "undecided", "not reduced to 0; no numeric value at a random point"
     return "undecided", "not reduced to 0; numerically ~0"
+
+
+def time_average(expr, t):
+    """(average over all t, None) of expr when, with trigonometric functions through
+    exponentials and expanded, every term is c exp(i w t + k) with c free of t and w real
+    (the average keeps the terms with w = 0); else (None, why). A frequency with parameters
+    is taken as nonzero, as lingrav does."""
+    e = se.expand(_trig_as_exp(expr) or expr)
+    kept = []
+    for term in e.args if isinstance(e, se.Add) else [e]:
+        factors = term.args if isinstance(term, se.Mul) else [term]
+        expo = sum(f.args[1] for f in factors if isinstance(f, se.Pow) and f.args[0] == se.E)
+        rest = se.Mul(*[f for f in factors
+                        if not (isinstance(f, se.Pow) and f.args[0] == se.E)])
+        if se.diff(rest, t) != 0:
+            return None, "a term depends on the time other than through exp(i w t)"
+        rate = se.expand(se.diff(expo, t)) if expo != 0 else ZERO
+        if rate == 0:
+            kept.append(term)
+            continue
+        if se.diff(rate, t) != 0:
+            return None, "an exponent is not linear in the time"
+        real = sum(k * se.sympify(c).as_real_imag()[0]
+                   for k, c in rate.as_coefficients_dict().items())
+        if se.expand(real) != 0:
+            return None, "an exponential grows or decays in time"
+    return se.Add(*kept), None
 
 
 # --- one file, in the child ----------------------------------------------------------------
@@ -236,22 +356,29 @@ def run_one(path, tuned):
     after_import_kb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
     rng = random.Random(20240601)
     start = time.perf_counter()
-    doc, h, source, values, samples = build(path)
-    claims = claims_components(doc, h, source, se, COORDS)
+    file = File(path)
+
+    def decide(expr):
+        return verdict(expr, file, rng, tuned)
+
     components, statuses = {}, []
-    for key, asserted, comps in claims:
+    for claim in file.claims(decide):
+        if claim.why:
+            components[f"{claim.key}\t*"] = "undecided"
         vs = []
-        for name, expr in comps:
-            v, detail = verdict(expr, values, samples, rng, tuned)
+        for name, expr in claim.components:
+            v, detail = decide(expr)
             vs.append(v)
-            components[f"{key}\t{name}"] = v
+            components[f"{claim.key}\t{name}"] = v
             if v == "undecided":
-                print(f"      {key} {name}: undecided: {detail}", flush=True)
-        st = status(vs, bool(asserted))
-        statuses.append((key, st))
+                print(f"      {claim.key} {name}: undecided: {detail}", flush=True)
+        st = status(vs, bool(claim.expect_zero), claim.refutable)
+        statuses.append((claim.key, st))
         counts = ", ".join(f"{vs.count(v)} {v}" for v in ("zero", "nonzero", "undecided")
                            if vs.count(v))
-        print(f"    {st:<9} {key:<20} {len(vs)} components: {counts}", flush=True)
+        if claim.why:
+            counts = f"undecided: {claim.why}"
+        print(f"    {st:<9} {claim.key:<20} {len(vs)} components: {counts}", flush=True)
     seconds = time.perf_counter() - start
     peak_kb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
     print("RESULT " + json.dumps({"seconds": seconds, "peak_kb": peak_kb,
@@ -309,39 +436,60 @@ def run_child(path, mode, timeout, max_memory_mb, quiet=False):
 
 
 def lingrav_components(text):
-    """Per-component verdicts from `lingrav check --format json`; None if it gave up: no JSON,
-    an "undecided: too large/too slow" line after it, or a claim without components (what a
-    run stopped by a limit has been seen to print, with "holds")."""
+    """Per-component verdicts from `lingrav check --format json`, keyed "claim<TAB>component";
+    a claim that lingrav left undecided without components (a time average of a luminosity
+    that is not periodic, pure gauge about a background without a route) as
+    "claim<TAB>*": "undecided". None if it gave up: no JSON, an "undecided: too large/too
+    slow" line after it, or a claim that holds or fails without components (what a run
+    stopped by a limit has been seen to print)."""
     text = text.strip()
     try:
         doc, end = json.JSONDecoder().raw_decode(text)
     except json.JSONDecodeError:
         return None
-    if "undecided" in text[end:] or any(not c["components"] for c in doc["claims"]):
+    if "undecided" in text[end:] or any(not c["components"] and c["status"] != "undecided"
+                                        for c in doc["claims"]):
         return None
-    return {f"{c['key']}\t{comp['name']}": comp["verdict"]
-            for c in doc["claims"] for comp in c["components"]}
+    out = {f"{c['key']}\t*": "undecided" for c in doc["claims"] if not c["components"]}
+    out.update({f"{c['key']}\t{comp['name']}": comp["verdict"]
+                for c in doc["claims"] for comp in c["components"]})
+    return out
 
 
 def compare(mine, theirs):
-    """'yes', 'MISMATCH', or a note why the comparison is partial."""
+    """'yes', 'MISMATCH', or a note why the comparison is partial. Keys as lingrav_components
+    gives them (the peer's claims without components are "claim<TAB>*" too)."""
     if theirs is None:
         return "lingrav gave up"
     if mine is None:
         return "peer stopped"
+
+    def claim(k):
+        return k.split("\t")[0] + "\t*"
+
     mismatch = [(k, mine.get(k, "absent"), v) for k, v in theirs.items()
                 if mine.get(k) in ("zero", "nonzero") and v in ("zero", "nonzero")
                 and mine[k] != v]
-    mismatch += [(k, v, "absent") for k, v in mine.items() if k not in theirs]
+    mismatch += [(k, v, "absent") for k, v in mine.items()
+                 if k not in theirs and claim(k) not in theirs and claim(k) not in mine]
     for key, m, t in mismatch:
         print(f"    MISMATCH {key.replace(chr(9), ' ')}: SymEngine {m}, lingrav {t}", flush=True)
     if mismatch:
         return "MISMATCH"
     notes = set()
     for k, v in theirs.items():
-        if mine.get(k) != v:
-            notes.add("peer undecided" if mine.get(k) == "undecided" else
-                      "lingrav undecided" if v == "undecided" else f"peer {mine.get(k, 'missing')}")
+        if mine.get(k) == v:
+            if k.endswith("\t*"):
+                notes.add("both undecided")
+            continue
+        if mine.get(k) == "undecided" or claim(k) in mine:
+            notes.add("peer undecided")
+        elif v == "undecided":
+            notes.add("lingrav undecided")
+        else:
+            notes.add(f"peer {mine.get(k, 'missing')}")
+    if any(k not in theirs and claim(k) in theirs for k in mine):
+        notes.add("lingrav undecided")
     return ", ".join(sorted(notes)) if notes else "yes"
 
 
