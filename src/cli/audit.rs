@@ -182,6 +182,20 @@ pub fn form_audit(
     (s, outcome, finding)
 }
 
+/// The line that reports a detector audit's first disagreement (`route`: what gave the direct
+/// value), or `None` when the routes agree.
+pub fn defect_line(r: &crate::detector::audit::Report, route: &str) -> Option<String> {
+    let row = r.first_defect()?;
+    let (lo, hi) = row.enclosure.unwrap_or((f64::NAN, f64::NAN));
+    Some(format!(
+        "INTERNAL DEFECT: {} at {}: {route} gives {:e}, the printed exact form evaluated by \
+         the jet route is in [{lo:e}, {hi:e}]. Please report this as a bug",
+        row.quantity,
+        crate::audit::expr::point_text(&row.point),
+        row.direct
+    ))
+}
+
 /// The comparisons of a detector audit (`antenna`, `response`) as JSON rows.
 pub fn comparison_rows(rows: &[crate::detector::audit::Row]) -> Vec<serde_json::Value> {
     rows.iter()

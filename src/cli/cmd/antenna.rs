@@ -4,7 +4,6 @@
 //! [`crate::detector`]; the convention is [`crate::detector::CONVENTION`].
 
 use super::zero::LimitArgs;
-use crate::audit::expr::point_text;
 use crate::cli::audit::DEFAULT_SEED;
 use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::plan::{ArmArgs, arg_failure, plan_optional_output, write_atomic};
@@ -192,15 +191,8 @@ fn numbers(det: &Detector, angles: &[String; 3]) -> Option<Numbers> {
 
 /// The audit in one line.
 fn audit_line(r: &Report, seed: u64, symbolic: bool) -> String {
-    if let Some(row) = r.first_defect() {
-        let (lo, hi) = row.enclosure.unwrap_or((f64::NAN, f64::NAN));
-        return format!(
-            "INTERNAL DEFECT: {} at {}: the f64 route gives {:e}, the printed exact form \
-             evaluated by the jet route is in [{lo:e}, {hi:e}]. Please report this as a bug",
-            row.quantity,
-            point_text(&row.point),
-            row.direct
-        );
+    if let Some(line) = crate::cli::audit::defect_line(r, "the f64 route") {
+        return line;
     }
     let agreeing = r.rows.iter().filter(|x| x.agrees()).count();
     let at = if symbolic {

@@ -3,7 +3,6 @@
 //! zero test, and for a plane wave the finite-arm (light travel time) response. The algebra
 //! is [`crate::detector::response`], the audit [`crate::detector::response_audit`].
 
-use crate::audit::expr::point_text;
 use crate::canon::Form;
 use crate::cli::audit::DEFAULT_SEED;
 use crate::cli::limits::LimitArgs;
@@ -183,15 +182,8 @@ fn agreement_word(v: &Verdict) -> String {
 
 /// The audit in one line.
 fn audit_line(r: &Report, seed: u64) -> String {
-    if let Some(row) = r.first_defect() {
-        let (lo, hi) = row.enclosure.unwrap_or((f64::NAN, f64::NAN));
-        return format!(
-            "INTERNAL DEFECT: {} at {}: the second route gives {:e}, the printed exact form \
-             evaluated by the jet route is in [{lo:e}, {hi:e}]. Please report this as a bug",
-            row.quantity,
-            point_text(&row.point),
-            row.direct
-        );
+    if let Some(line) = crate::cli::audit::defect_line(r, "the second route") {
+        return line;
     }
     let agreeing = r.rows.iter().filter(|x| x.agrees()).count();
     let mut s = format!(
