@@ -254,10 +254,50 @@ pub struct Covector1<A> {
 }
 
 /// Four results of a fallible function of the index, or `None` if any is `None`.
-fn arr<T>(f: impl FnMut(usize) -> Option<T>) -> Option<[T; 4]> {
-    let v: Vec<T> = (0..4).map(f).collect::<Option<_>>()?;
-    v.try_into().ok()
+fn arr<T>(mut f: impl FnMut(usize) -> Option<T>) -> Option<[T; 4]> {
+    // In order, without a heap allocation (this builds every level of every rank-4 tensor).
+    let (a, b, c, d) = (f(0)?, f(1)?, f(2)?, f(3)?);
+    Some([a, b, c, d])
 }
+
+/// A rank-4 array antisymmetric in its last two indices, from `f(i, j, k, l)` for `k < l`:
+/// the entry with `k > l` is the negation of its mirror and the diagonal is 0. Each mirrored
+/// value equals what `f` would give (negation is exact, and outward rounding is symmetric
+/// about 0), so this only saves work.
+fn antisymmetric_last<A: Arith>(
+    mut f: impl FnMut(usize, usize, usize, usize) -> Option<A>,
+) -> Option<Rank4<A>> {
+    let zero = A::constant(0.0)?;
+    let mut upper: Vec<A> = Vec::with_capacity(96);
+    for i in 0..4 {
+        for j in 0..4 {
+            for k in 0..4 {
+                for l in k + 1..4 {
+                    upper.push(f(i, j, k, l)?);
+                }
+            }
+        }
+    }
+    // Index of (i, j, k, l), k < l, in `upper`: 6 pairs per (i, j).
+    let at = |i: usize, j: usize, k: usize, l: usize| (i * 4 + j) * 6 + PAIR6[k][l];
+    arr(|i| {
+        arr(|j| {
+            arr(|k| {
+                arr(|l| {
+                    Some(match k.cmp(&l) {
+                        std::cmp::Ordering::Less => upper[at(i, j, k, l)].clone(),
+                        std::cmp::Ordering::Greater => upper[at(i, j, l, k)].neg(),
+                        std::cmp::Ordering::Equal => zero.clone(),
+                    })
+                })
+            })
+        })
+    })
+}
+
+/// `PAIR6[k][l]`: the position of the pair `k < l` among (0,1), (0,2), (0,3), (1,2), (1,3),
+/// (2,3); unused for `k >= l`.
+const PAIR6: [[usize; 4]; 4] = [[0, 0, 1, 2], [0, 0, 3, 4], [0, 0, 0, 5], [0, 0, 0, 0]];
 
 /// Ten results of a fallible function of the pair index.
 fn arr10<T>(f: impl FnMut(usize) -> Option<T>) -> Option<[T; 10]> {
@@ -466,14 +506,10 @@ pub fn curvature<A: Arith>(g: &Sym2<A>) -> Option<Curvature<A>> {
     let half = A::constant(0.5)?;
     let metric: Matrix<A> = arr(|a| arr(|b| Some(g.at(a, b).clone())))?;
     let inv = inverse(&metric)?;
-    let dinverse: Rank3<A> = arr(|c| {
-        arr(|a| {
-            arr(|b| {
-                let s = sum4(|p| sum4(|q| inv[a][p].mul(g.d(c, p, q))?.mul(&inv[q][b])))?;
-                Some(s.neg())
-            })
-        })
-    })?;
+    // d_c g^ab = -g^ap (d_c g_pq) g^qb, as two matrix products: m[c][a][q] = g^ap d_c g_pq.
+    let m: Rank3<A> = arr(|c| arr(|a| arr(|q| sum4(|p| inv[a][p].mul(g.d(c, p, q))))))?;
+    let dinverse: Rank3<A> =
+        arr(|c| arr(|a| arr(|b| Some(sum4(|q| m[c][a][q].mul(&inv[q][b]))?.neg()))))?;
     // Christoffel symbols of the first kind, Gamma_dbc, and their derivatives d_e Gamma_dbc.
     let first: Rank3<A> = arr(|d| {
         arr(|b| {
@@ -498,37 +534,41 @@ pub fn curvature<A: Arith>(g: &Sym2<A>) -> Option<Curvature<A>> {
         })
     })?;
     let gamma: Rank3<A> = arr(|a| arr(|b| arr(|c| sum4(|d| inv[a][d].mul(&first[d][b][c])))))?;
-    // dgamma[e][a][b][c] = d_e Gamma^a_bc.
-    let dgamma: Rank4<A> = arr(|e| {
+    // dgamma[e][a][b][c] = d_e Gamma^a_bc, symmetric in b, c (as `first` and `dfirst` are,
+    // exactly): the entries with b > c are copies.
+    let dgamma_at = |e: usize, a: usize, b: usize, c: usize| {
+        sum4(|d| {
+            dinverse[e][a][d]
+                .mul(&first[d][b][c])?
+                .add(&inv[a][d].mul(&dfirst[e][d][b][c])?)
+        })
+    };
+    let lower_bc: Rank4<A> = arr(|e| {
         arr(|a| {
             arr(|b| {
                 arr(|c| {
-                    sum4(|d| {
-                        dinverse[e][a][d]
-                            .mul(&first[d][b][c])?
-                            .add(&inv[a][d].mul(&dfirst[e][d][b][c])?)
-                    })
+                    if b <= c {
+                        dgamma_at(e, a, b, c)
+                    } else {
+                        A::constant(0.0)
+                    }
                 })
             })
         })
     })?;
-    // R^a_bcd.
-    let up: Rank4<A> = arr(|a| {
-        arr(|b| {
-            arr(|c| {
-                arr(|d| {
-                    let quad = sum4(|e| {
-                        gamma[a][c][e]
-                            .mul(&gamma[e][b][d])?
-                            .sub(&gamma[a][d][e].mul(&gamma[e][b][c])?)
-                    })?;
-                    dgamma[c][a][b][d].sub(&dgamma[d][a][b][c])?.add(&quad)
-                })
-            })
-        })
+    let dgamma: Rank4<A> =
+        arr(|e| arr(|a| arr(|b| arr(|c| Some(lower_bc[e][a][b.min(c)][b.max(c)].clone())))))?;
+    // R^a_bcd, antisymmetric in c, d.
+    let up: Rank4<A> = antisymmetric_last(|a, b, c, d| {
+        let quad = sum4(|e| {
+            gamma[a][c][e]
+                .mul(&gamma[e][b][d])?
+                .sub(&gamma[a][d][e].mul(&gamma[e][b][c])?)
+        })?;
+        dgamma[c][a][b][d].sub(&dgamma[d][a][b][c])?.add(&quad)
     })?;
     let riemann: Rank4<A> =
-        arr(|a| arr(|b| arr(|c| arr(|d| sum4(|e| metric[a][e].mul(&up[e][b][c][d]))))))?;
+        antisymmetric_last(|a, b, c, d| sum4(|e| metric[a][e].mul(&up[e][b][c][d])))?;
     let ricci: Matrix<A> = arr(|b| arr(|d| sum4(|a| Some(up[a][b][a][d].clone()))))?;
     let scalar = sum4(|b| sum4(|d| inv[b][d].mul(&ricci[b][d])))?;
     let einstein: Matrix<A> =

@@ -1167,3 +1167,41 @@ proptest! {
         }
     }
 }
+
+/// The chain builds R_abcd antisymmetric in c, d by construction (and R^a_bcd likewise); the
+/// other symmetries are not imposed, so they test the chain: antisymmetry in a, b, pair
+/// symmetry R_abcd = R_cdab and the first Bianchi identity R_a[bcd] = 0, for the Kottler
+/// background's Riemann tensor and for the linearized one of a perturbation about it.
+#[test]
+fn riemann_symmetries_that_the_chain_does_not_impose() {
+    let case = kottler().h(&[("t t", "M*exp(-r)*cos(th)"), ("r ph", "sin(t)*r^2")]);
+    let (_, q) = case.eval();
+    for (r, what) in [(&q.riemann_bar, "background"), (&q.riemann, "linearized")] {
+        for a in 0..4 {
+            for b in 0..4 {
+                for c in 0..4 {
+                    for d in 0..4 {
+                        let x = r[a][b][c][d];
+                        let sum = |v: Interval, w: Interval| v.add(w).unwrap();
+                        for (other, rule) in [
+                            (Scalar::neg(&r[b][a][c][d]), "antisymmetry in a, b"),
+                            (r[c][d][a][b], "pair symmetry"),
+                        ] {
+                            assert!(
+                                x.sub(other).unwrap().contains_zero(),
+                                "{what} R_{a}{b}{c}{d}: {rule}: {x:?} vs {other:?}"
+                            );
+                        }
+                        let bianchi = sum(sum(x, r[a][c][d][b]), r[a][d][b][c]);
+                        assert!(
+                            bianchi.contains_zero(),
+                            "{what} first Bianchi at {a}{b}{c}{d}: {bianchi:?}"
+                        );
+                    }
+                }
+            }
+        }
+    }
+    // Not all zero: Kottler is curved.
+    assert!(!q.riemann_bar[0][1][0][1].contains_zero());
+}
