@@ -176,7 +176,7 @@ fn the_plot_is_written_whole_and_alone() {
         "grid",
         "--points",
         POINTS,
-        "--plot",
+        "--svg",
         svg.to_str().unwrap(),
         "worked/wrong_sign_wave.toml",
     ]);

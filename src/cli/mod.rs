@@ -94,7 +94,7 @@ fails, 3 one is undecided and none fails, 2 bad input.")]
     #[command(after_help = "\
 Examples:
   lingrav grid worked/oblique_wave.toml
-  lingrav grid worked/static_mass.toml --order 6 --points 10,20,40 --plot static_mass.svg
+  lingrav grid worked/static_mass.toml --order 6 --points 10,20,40 --svg static_mass.svg
   lingrav grid --format json --center 0,1,1,1 --width 0.5 worked/vibrating_rod.toml
 
 h (and T) are sampled on a 4-d box at each resolution ([grid] center, width, points, or the
@@ -199,7 +199,7 @@ The sidecar PATH.meta.json holds the column names, conventions, parameter values
 column's exact expression and certified error bound, and the tool version. Files appear
 whole (temporary file, then rename; the data first, then the sidecar, which records the
 data file's size and CRC-32 checksum (as zlib.crc32)); an existing file is kept unless --force.
---report json prints what was written as JSON (rows, columns, paths, checksum; a limit or an
+--format json prints what was written as JSON (rows, columns, paths, checksum; a limit or an
 error as a JSON object too). Exit 0 written, 2 bad input, a point where a value is not
 finite, or an I/O error (nothing written), 3 undecided (a limit, or values not certified).")]
     Export(export::ExportArgs),
@@ -219,7 +219,7 @@ Python:  lingrav_<quantity>(t, x, y, z, <parameters with the file's values as de
 params holds the file's parameters in file order; out the columns in the order of export.
 Arbitrary functions F are calls to functions you supply, F_d0(u) = F(u), F_d1(u) = F'(u),
 ..., or, with --samples, the file's samples. The header comment documents everything.
---report json prints a JSON report instead: the quantities, the language, the path written
+--format json prints a JSON report instead: the quantities, the language, the path written
 (or the code itself without --out), its size and checksum.")]
     Emit(emit::EmitArgs),
     /// A Keplerian binary in physical units: luminosity, decay, coalescence, chirp, strain.
@@ -363,17 +363,11 @@ pub fn run() -> ExitCode {
     out::finish(result)
 }
 
-/// The format a command's report was asked in: `--format` for the commands that print a
-/// result, `--report` for those that write files (`export`, whose `--format` is the data
-/// file's, and `emit`).
+/// The format a command's report was asked in (`--format`, in every command).
 fn report_format(sub: &ArgMatches) -> report::Format {
-    let asked = |id: &str| {
-        sub.try_get_one::<report::Format>(id)
-            .ok()
-            .flatten()
-            .copied()
-    };
-    asked("report")
-        .or_else(|| asked("format"))
+    sub.try_get_one::<report::Format>("format")
+        .ok()
+        .flatten()
+        .copied()
         .unwrap_or(report::Format::Text)
 }

@@ -1,6 +1,6 @@
 //! Output, error rendering and exit codes, shared by every command.
 //!
-//! A command run with `--format json` (`--report json` for `export` and `emit`) prints JSON
+//! A command run with `--format json` prints JSON
 //! on standard output whatever ends it: its report, or, when a limit or an input error ends
 //! it first, a JSON object saying so (see [`finish`]), so a script never has to parse text.
 

@@ -129,16 +129,17 @@ pub fn columns(
     .map_err(quantity_failure)
 }
 
-/// `--force` and `--report`, for the commands that write what they compute (`export`,
+/// `--force` and `--format`, for the commands that write what they compute (`export`,
 /// `emit`).
 #[derive(Args, Debug)]
 pub struct WriteArgs {
     /// Replace the files written (export: the data file and its sidecar) if they exist.
     #[arg(long)]
     pub force: bool,
-    /// How to report what was written: text, or JSON (export: rows, columns, quantities,
-    /// paths, the data file's size and checksum; emit: quantities, language, path, size and
-    /// checksum, and the code itself without --out).
-    #[arg(long, value_enum, value_name = "FORMAT", default_value_t = crate::cli::report::Format::Text)]
-    pub report: crate::cli::report::Format,
+    /// How to report what was written, as everywhere: text, or JSON (export: rows, columns,
+    /// quantities, paths, the data file's size and checksum; emit: quantities, language,
+    /// path, size and checksum, and the code itself without --out). Also accepted as
+    /// `--report`.
+    #[arg(long, alias = "report", value_enum, value_name = "FORMAT", default_value_t = crate::cli::report::Format::Text)]
+    pub format: crate::cli::report::Format,
 }

@@ -212,8 +212,9 @@ fn issue_11_a_limit_before_the_report_is_json_too() {
         ],
         vec!["project", &f, "--direction", "0,0,1", "--format", "json"],
         vec![
-            "export", &f, "-q", "riemann", "--grid", "--out", out, "--report", "json",
+            "export", &f, "-q", "riemann", "--grid", "--out", out, "--format", "json",
         ],
+        // `--report` is the older spelling of `--format` for export and emit: still accepted.
         vec![
             "emit", &f, "-q", "riemann", "--lang", "c", "--report", "json",
         ],
@@ -282,7 +283,7 @@ fn issue_11_an_input_error_is_json_too() {
     assert!(err.contains("cannot read"), "{err}");
 }
 
-/// `export --report json`: what was written (rows, columns, quantities, paths, the data
+/// `export --format json`: what was written (rows, columns, quantities, paths, the data
 /// file's size and checksum, which the sidecar and the file itself agree with).
 #[test]
 fn issue_11_export_reports_what_it_wrote_as_json() {
@@ -291,7 +292,7 @@ fn issue_11_export_reports_what_it_wrote_as_json() {
     let out = tmp.path().join("h.csv");
     let out_s = out.to_str().expect("utf-8 path");
     let args = [
-        "export", &f, "-q", "h", "--grid", "--points", "2", "--out", out_s, "--report", "json",
+        "export", &f, "-q", "h", "--grid", "--points", "2", "--out", out_s, "--format", "json",
     ];
     let (j, err) = json_out(&args, 0);
     assert!(err.is_empty(), "{err}");
@@ -302,7 +303,7 @@ fn issue_11_export_reports_what_it_wrote_as_json() {
     assert_eq!(columns.len(), 14, "{j}");
     assert_eq!(columns[0], "t", "{j}");
     assert_eq!(columns[4], "h_tt", "{j}");
-    assert_eq!(j["format"], "csv", "{j}");
+    assert_eq!(j["data_format"], "csv", "{j}");
     assert_eq!(j["data_file"], out_s, "{j}");
     let sidecar = format!("{out_s}.meta.json");
     assert_eq!(j["sidecar"], sidecar.as_str(), "{j}");
@@ -322,7 +323,34 @@ fn issue_11_export_reports_what_it_wrote_as_json() {
     );
 }
 
-/// `emit --report json`: the quantities, the language, the path and the checksum of what
+/// One meaning per option name: `--format` is how export reports (text or json), and the
+/// data file's type is `--data-format`; a data type given to `--format` is refused (exit 2,
+/// nothing written).
+#[test]
+fn issue_14_export_format_is_the_report_and_data_format_the_file() {
+    let f = worked("oblique_wave.toml");
+    let tmp = tempfile::tempdir().expect("temp dir");
+    let out = tmp.path().join("h.dat");
+    let out_s = out.to_str().expect("utf-8 path");
+    let base = [
+        "export", &f, "-q", "h", "--grid", "--points", "2", "--out", out_s,
+    ];
+    let mut args = base.to_vec();
+    args.extend(["--data-format", "json", "--format", "json"]);
+    let (j, err) = json_out(&args, 0);
+    assert!(err.is_empty(), "{err}");
+    assert_eq!(j["data_format"], "json", "{j}");
+    let data: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&out).expect("data")).expect("JSON data");
+    assert_eq!(data["rows"].as_array().map(Vec::len), Some(8), "{data}");
+    let mut refused = base.to_vec();
+    refused.extend(["--format", "csv", "--force"]);
+    let (stdout, stderr, code) = lingrav(&refused);
+    assert_eq!(code, 2, "{stdout}{stderr}");
+    assert!(stderr.contains("--format"), "{stderr}");
+}
+
+/// `emit --format json` (or its older spelling `--report json`): the quantities, the language, the path and the checksum of what
 /// was written; without --out the code itself, the same as the text output.
 #[test]
 fn issue_11_emit_reports_what_it_generated_as_json() {

@@ -316,7 +316,7 @@ fn issue_9_grid_plot_is_not_replaced_without_force() {
         &worked("oblique_wave.toml"),
         "--points",
         "8,12,16",
-        "--plot",
+        "--svg",
         svg.to_str().unwrap(),
     ];
     let (out, err, code) = lingrav(&args);
@@ -488,7 +488,7 @@ fn issue_9_grid_sampling_stops_at_the_time_limit_and_removes_the_plot_temporary(
             "--time-limit",
             "300",
             "--allow-large",
-            "--plot",
+            "--svg",
             "p.svg",
         ],
     );
@@ -517,7 +517,7 @@ fn issue_9_an_interrupted_grid_leaves_no_plot_and_no_temporary() {
             &worked("vibrating_rod.toml"),
             "--points",
             "16,32,64",
-            "--plot",
+            "--svg",
             "p.svg",
         ],
     )

@@ -108,10 +108,10 @@ pub fn run(a: EmitArgs) -> Result<Outcome, Failure> {
             f.write_all(text.as_bytes())?;
             f.commit()?;
         }
-        None if a.write.report == report::Format::Text => print(&text)?,
+        None if a.write.format == report::Format::Text => print(&text)?,
         None => {}
     }
-    if a.write.report == report::Format::Json {
+    if a.write.format == report::Format::Json {
         let mut j = serde_json::json!({
             "result": "generated",
             "file": path_label,

@@ -69,9 +69,9 @@ pub struct ExportArgs {
     /// Set a parameter's value for this export, e.g. --set A=1e-6 (repeatable).
     #[arg(long = "set", value_name = "NAME=VALUE", allow_hyphen_values = true)]
     set: Vec<String>,
-    /// Data format (default: from the extension of --out).
-    #[arg(long, value_enum)]
-    format: Option<DataFormat>,
+    /// The data file's type (default: from the extension of --out: .csv, .npy, .json).
+    #[arg(long, value_enum, value_name = "TYPE")]
+    data_format: Option<DataFormat>,
     /// The data file to write; the sidecar goes to the same path with `.meta.json` appended.
     #[arg(long, value_name = "PATH")]
     out: PathBuf,
@@ -234,13 +234,13 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
             )));
         }
     }
-    let format = match a.format {
+    let format = match a.data_format {
         Some(DataFormat::Csv) => Format::Csv,
         Some(DataFormat::Npy) => Format::Npy,
         Some(DataFormat::Json) => Format::Json,
         None => Format::from_path(&a.out).ok_or_else(|| {
             Failure::Input(miette::miette!(
-                help = "give --format csv|npy|json, or an --out name ending in .csv, .npy or .json",
+                help = "give --data-format csv|npy|json, or an --out name ending in .csv, .npy or .json",
                 "cannot tell the format of `{}` from its name",
                 a.out.display()
             ))
@@ -311,7 +311,7 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
     meta_file.write_all(format!("{text}\n").as_bytes())?;
     commit_with_sidecar(data_file, meta_file)?;
     let names: Vec<&str> = qs.iter().map(|q| q.name()).collect();
-    print(&match a.write.report {
+    print(&match a.write.format {
         report::Format::Text => format!(
             "wrote {} rows x {} columns ({}) to {} ({}), sidecar {}\n",
             ev.table.rows(),
@@ -328,7 +328,7 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
             "rows": ev.table.rows(),
             "columns": ev.table.columns,
             "data_file": a.out.display().to_string(),
-            "format": format.name(),
+            "data_format": format.name(),
             "data_file_bytes": bytes,
             "data_file_checksum": checksum,
             "sidecar": meta_path.display().to_string(),

@@ -40,8 +40,9 @@ pub struct GridArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
-    /// Also draw residual against spacing (log-log, expected slope marked) into this SVG file.
-    #[arg(long, value_name = "FILE.svg")]
+    /// Also draw residual against spacing (log-log, expected slope marked) into this SVG file
+    /// (the option that draws is --svg in every command; --plot is accepted too).
+    #[arg(long = "svg", alias = "plot", value_name = "FILE.svg")]
     plot: Option<PathBuf>,
     /// Replace the plot file if it exists.
     #[arg(long)]
@@ -166,7 +167,7 @@ pub fn run(a: GridArgs) -> Result<Outcome, Failure> {
     let plot = match &a.plot {
         Some(p) => Some(
             AtomicFile::create(p, a.force)
-                .map_err(|e| Failure::Input(miette::miette!(help = e.help(), "--plot {e}")))?,
+                .map_err(|e| Failure::Input(miette::miette!(help = e.help(), "--svg {e}")))?,
         ),
         None => None,
     };

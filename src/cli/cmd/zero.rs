@@ -26,9 +26,10 @@ pub struct ZeroArgs {
     /// Seed of the random witness points.
     #[arg(long, default_value_t = 0x5eed_1a96_7a7e)]
     seed: u64,
-    /// How many random points to try for a certified nonzero witness.
-    #[arg(long, default_value_t = 32, value_name = "N")]
-    points: usize,
+    /// How many random points to try for a certified nonzero witness (--points is accepted
+    /// too; elsewhere --points counts grid points).
+    #[arg(long, alias = "points", default_value_t = 32, value_name = "N")]
+    tries: usize,
     #[command(flatten)]
     shown: AuditedFormat,
     #[command(flatten)]
@@ -48,7 +49,7 @@ pub fn run(a: ZeroArgs) -> Result<Outcome, Failure> {
     };
     let sampling = Sampling {
         seed: a.seed,
-        points: a.points,
+        points: a.tries,
         ..Sampling::default()
     };
     let (verdict, residual) = match diff {
