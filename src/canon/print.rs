@@ -164,6 +164,19 @@ impl Store {
         to_latex(&self.pretty(f))
     }
 
+    /// Plain text for a summary: [`Store::to_text`], cut after `max_chars` characters and
+    /// then saying how many terms the whole has (`... (34 terms)`). For text reports only:
+    /// a JSON report carries [`Store::to_text`] whole.
+    pub fn to_text_summary(&mut self, f: Form, max_chars: usize) -> String {
+        let t = self.to_text(f);
+        if t.chars().count() > max_chars {
+            let cut: String = t.chars().take(max_chars).collect();
+            format!("{cut}... ({} terms)", self.num_terms(f))
+        } else {
+            t
+        }
+    }
+
     /// Like `pretty_poly`, but with the common kernel powers and the rational content of the
     /// terms written once in front: `m*sqrt(r2)*(y^2 - 2*x^2)` rather than a sum of products.
     /// Display only: the form itself is unchanged.

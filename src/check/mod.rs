@@ -89,21 +89,23 @@ pub enum Residual {
 }
 
 impl Residual {
-    /// The residual as text, cut after [`RESIDUAL_CHARS`] characters with the number of
-    /// terms; `None` when it is zero.
+    /// The residual as text for a summary, cut after [`RESIDUAL_CHARS`] characters with the
+    /// number of terms; `None` when it is zero.
     pub fn text(&self, store: &mut Store) -> Option<String> {
         match self {
             Residual::Zero => None,
             Residual::Note(n) => Some(n.clone()),
-            Residual::Form(f) => {
-                let t = store.to_text(*f);
-                Some(if t.len() > RESIDUAL_CHARS {
-                    let cut: String = t.chars().take(RESIDUAL_CHARS).collect();
-                    format!("{cut}... ({} terms)", store.num_terms(*f))
-                } else {
-                    t
-                })
-            }
+            Residual::Form(f) => Some(store.to_text_summary(*f, RESIDUAL_CHARS)),
+        }
+    }
+
+    /// The whole residual as text and as LaTeX (the LaTeX is `None` for a note); `None`
+    /// when it is zero.
+    pub fn whole(&self, store: &mut Store) -> Option<(String, Option<String>)> {
+        match self {
+            Residual::Zero => None,
+            Residual::Note(n) => Some((n.clone(), None)),
+            Residual::Form(f) => Some((store.to_text(*f), Some(store.to_latex(*f)))),
         }
     }
 }

@@ -209,7 +209,10 @@ pub fn claim_json(store: &mut Store, c: &ClaimReport) -> serde_json::Value {
             let mut v = verdict_json(&k.verdict);
             v["name"] = k.name.clone().into();
             v["audit"] = k.audit.label().into();
-            if let Some(res) = k.residual.text(store) { v["residual"] = res.into(); }
+            if let Some((text, latex)) = k.residual.whole(store) {
+                v["residual"] = text.into();
+                if let Some(l) = latex { v["residual_latex"] = l.into(); }
+            }
             v
         }).collect::<Vec<_>>(),
     })

@@ -50,8 +50,9 @@ pub fn audit_comparison(
     let findings = audit_verdicts(&route, &mut verdicts, index, seed);
     for ((c, v), f) in cmp.components.iter_mut().zip(verdicts).zip(&findings) {
         if matches!(f, Finding::ProofContradicted(_)) {
-            c.residual =
-                Some("0 by the exact route, contradicted by the independent evaluation".into());
+            c.residual = crate::check::Residual::Note(
+                "0 by the exact route, contradicted by the independent evaluation".into(),
+            );
         }
         c.verdict = v;
     }

@@ -93,8 +93,9 @@ pub struct Difference {
     pub name: String,
     /// The verdict on `R[A] - R[B]`.
     pub verdict: Verdict,
-    /// The simplified difference, when it is not proved zero.
-    pub residual: Option<String>,
+    /// The simplified difference (zero when proved equal, or a note when the audit
+    /// contradicted that proof).
+    pub residual: crate::check::Residual,
 }
 
 /// The comparison of two perturbations.
@@ -105,8 +106,6 @@ pub struct Comparison {
     /// Holds: every component proved equal; fails: one certified different; else undecided.
     pub status: Status,
 }
-
-const RESIDUAL_CHARS: usize = 400;
 
 /// Compares the 20 independent linearized Riemann components of `a` and `b`.
 ///
@@ -130,7 +129,11 @@ pub fn compare(
         let fb = pb.form(store, part)?;
         let d = store.sub(fa, fb)?;
         let verdict = decide(store, d, sampling);
-        let residual = (!store.is_zero(d)).then(|| cut(store, d));
+        let residual = if store.is_zero(d) {
+            crate::check::Residual::Zero
+        } else {
+            crate::check::Residual::Form(d)
+        };
         components.push(Difference {
             name: part.name(),
             verdict,
@@ -164,7 +167,11 @@ pub fn compare_about(
     for ((idx, fa), (_, fb)) in ra.into_iter().zip(rb) {
         let d = store.sub(fa, fb)?;
         let verdict = decide(store, d, sampling);
-        let residual = (!store.is_zero(d)).then(|| cut(store, d));
+        let residual = if store.is_zero(d) {
+            crate::check::Residual::Zero
+        } else {
+            crate::check::Residual::Form(d)
+        };
         components.push(Difference {
             name: crate::claim::Part::Riemann(idx).name_in(frame),
             verdict,
@@ -174,16 +181,6 @@ pub fn compare_about(
     let refs: Vec<&Verdict> = components.iter().map(|c| &c.verdict).collect();
     let status = Status::of(&refs, true);
     Ok(Comparison { components, status })
-}
-
-fn cut(store: &mut Store, d: crate::canon::Form) -> String {
-    let t = store.to_text(d);
-    if t.len() > RESIDUAL_CHARS {
-        let cut: String = t.chars().take(RESIDUAL_CHARS).collect();
-        format!("{cut}... ({} terms)", store.num_terms(d))
-    } else {
-        t
-    }
 }
 
 #[cfg(test)]

@@ -394,3 +394,45 @@ fn issue_11_emit_reports_what_it_generated_as_json() {
     let written = std::fs::read(&out).expect("code file");
     assert_describes(&j, ["bytes", "checksum"], &written);
 }
+
+/// A failing claim's residuals: the text report summarises a long one (cut, with its number
+/// of terms), the JSON report carries every residual whole, with its LaTeX, never cut.
+#[test]
+fn issue_14_json_residuals_are_whole_and_text_ones_summarised() {
+    let text = std::fs::read_to_string(worked("vibrating_rod.toml"))
+        .expect("worked file")
+        .replace("pure_gauge = false", "pure_gauge = true");
+    let tmp = tempfile::tempdir().expect("temp dir");
+    let f = tmp.path().join("rod_claimed_pure_gauge.toml");
+    std::fs::write(&f, text).expect("write");
+    let f = f.to_str().expect("utf-8 path");
+    let (j, _) = json_out(&["check", f, "--format", "json"], 1);
+    let pure = j["claims"]
+        .as_array()
+        .expect("claims")
+        .iter()
+        .find(|c| c["key"] == "pure_gauge")
+        .expect("the pure gauge claim");
+    assert_eq!(pure["status"], "fails", "{pure}");
+    let residuals: Vec<&str> = pure["components"]
+        .as_array()
+        .expect("components")
+        .iter()
+        .map(|c| {
+            assert!(
+                c["residual_latex"].as_str().is_some_and(|l| !l.is_empty()),
+                "{c}"
+            );
+            c["residual"].as_str().expect("a residual")
+        })
+        .collect();
+    let longest = residuals.iter().map(|r| r.len()).max().unwrap_or(0);
+    assert!(longest > 1000, "a long residual to test with: {longest}");
+    assert!(
+        residuals.iter().all(|r| !r.contains("...")),
+        "no residual is cut in JSON"
+    );
+    let (out, _, code) = lingrav(&["check", f]);
+    assert_eq!(code, 1, "{out}");
+    assert!(out.contains("terms)"), "the text report summarises: {out}");
+}

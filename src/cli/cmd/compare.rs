@@ -101,7 +101,7 @@ pub fn run(a: CompareArgs) -> Result<Outcome, Failure> {
                             "  {}[A] - {}[B] = {}",
                             c.name,
                             c.name,
-                            c.residual.as_deref().unwrap_or("0")
+                            c.residual.text(&mut pa.store).unwrap_or_else(|| "0".into())
                         );
                         match &c.verdict {
                             Verdict::Nonzero(w) => {
@@ -141,16 +141,17 @@ pub fn run(a: CompareArgs) -> Result<Outcome, Failure> {
                     "components": cmp.components.iter().zip(&findings).map(|(c, f)| (c.name.clone(), serde_json::json!(f.label()))).collect::<serde_json::Map<_, _>>(),
                     "points": points_json(&finding_refs),
                 },
-                "differing": differing.iter().map(|c| serde_json::json!({
+                "differing": differing.iter().map(|c| { let whole = c.residual.whole(&mut pa.store); serde_json::json!({
                     "component": c.name,
                     "verdict": c.verdict.label(),
-                    "residual": c.residual,
+                    "residual": whole.as_ref().map(|w| &w.0),
+                    "residual_latex": whole.as_ref().and_then(|w| w.1.as_ref()),
                     "detail": match &c.verdict {
                         Verdict::Nonzero(w) => w.to_string(),
                         Verdict::Undecided(why) => why.clone(),
                         Verdict::Zero => String::new(),
                     },
-                })).collect::<Vec<_>>(),
+                })}).collect::<Vec<_>>(),
             });
             json(&j)
         }
