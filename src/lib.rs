@@ -40,7 +40,7 @@
 //! ```
 //!
 //! Public are the vocabulary above and the modules a program calls: the exact route
-//! ([`canon`], [`zero`], [`tensor`], [`check`], [`problem`]), certified numbers ([`interval`]),
+//! ([`canon`], [`zero`], [`tensor`], [`check`](mod@check), [`problem`]), certified numbers ([`interval`]),
 //! the capabilities ([`tt`], [`gauge`], [`radiation`], [`binary`], [`detector`]) and the
 //! numeric route ([`grid`], [`tape`]). The independent audit, the jets, the exporters and the
 //! command line are private; [`command_line`] is the whole `lingrav` command as a function.
