@@ -204,6 +204,67 @@ fn the_plot_is_written_whole_and_alone() {
     assert_eq!(out.status.code(), Some(2));
 }
 
+/// The picture says what it means: each claim has its own marker shape, coinciding curves
+/// stay visible (each line narrower than the one drawn before it), a `= false` claim (here
+/// "not pure gauge", which holds because the Riemann tensor is nonzero) is drawn dash-dotted
+/// with hollow markers and labelled as nonzero as claimed, and the slope guide is drawn
+/// apart from the data. Rendered to PNG when `rsvg-convert` is on the machine.
+#[test]
+fn issue_14_the_plot_tells_the_claims_apart() {
+    let dir = tempfile::tempdir().unwrap();
+    let svg = dir.path().join("ow.svg");
+    let out = lingrav(&[
+        "grid",
+        "--points",
+        POINTS,
+        "--svg",
+        svg.to_str().unwrap(),
+        "worked/oblique_wave.toml",
+    ]);
+    assert!(
+        matches!(out.status.code(), Some(0 | 3)),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = std::fs::read_to_string(&svg).unwrap();
+    assert!(
+        text.contains("not pure_gauge: holds (nonzero, as claimed)"),
+        "{text}"
+    );
+    assert!(
+        text.contains(r#"stroke-dasharray="9 3 2 3""#),
+        "dash-dotted = false claim"
+    );
+    assert!(text.contains(r#"fill="white" stroke="#), "hollow markers");
+    assert!(
+        text.contains("<circle") && text.contains("<polygon"),
+        "several marker shapes"
+    );
+    let widths: Vec<&str> = text
+        .match_indices(r#"stroke-width=""#)
+        .map(|(i, m)| {
+            let rest = &text[i + m.len()..];
+            &rest[..rest.find('"').unwrap()]
+        })
+        .collect();
+    assert!(
+        widths.contains(&"5.6") && widths.contains(&"2.0"),
+        "{widths:?}"
+    );
+    let png = dir.path().join("ow.png");
+    match Command::new("rsvg-convert")
+        .args([svg.to_str().unwrap(), "-o", png.to_str().unwrap()])
+        .output()
+    {
+        Ok(r) => {
+            assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+            let bytes = std::fs::read(&png).unwrap();
+            assert!(bytes.starts_with(b"\x89PNG"), "a PNG");
+        }
+        Err(e) => eprintln!("rsvg-convert not available ({e}): the PNG rendering is not checked"),
+    }
+}
+
 #[test]
 fn a_non_finite_sample_names_its_point_unless_masked() {
     let args = [

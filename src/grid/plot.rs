@@ -1,21 +1,50 @@
 //! A log-log picture of residual against spacing, as SVG text.
 //!
-//! One colour per claim: the residual (solid, with a marker per resolution), its round-off
-//! floor (dotted), and the slope the stencil order predicts (dashed, through the coarsest
-//! residual). Hand-written SVG: deterministic text, no fonts or libraries needed.
+//! One colour and one marker shape per claim: the residual (solid, with a marker per
+//! resolution), its round-off floor (dotted), and the slope the stencil order predicts
+//! (dashed, a decade below the coarsest residual so that a curve converging at that order
+//! does not hide it). Curves that coincide stay visible: each claim's line is narrower than
+//! the one drawn before it, and its markers smaller. A claim written `= false` (it holds when
+//! the quantity is nonzero, so its residual should stay away from 0) is drawn dash-dotted with
+//! hollow markers and said so in the legend, not as a failure that stopped converging.
+//! Hand-written SVG: deterministic text, no fonts or libraries needed.
 
 use super::{GridReport, GridStatus};
 use std::fmt::Write as _;
 
-const W: f64 = 780.0;
+const W: f64 = 860.0;
 const H: f64 = 500.0;
 const LEFT: f64 = 80.0;
-const RIGHT: f64 = 250.0;
+const RIGHT: f64 = 330.0;
 const TOP: f64 = 44.0;
 const BOTTOM: f64 = 60.0;
 const COLOURS: [&str; 8] = [
     "#1f6fb4", "#d2601a", "#2e9a3c", "#b5283a", "#7b52ab", "#8a5a44", "#c4429c", "#5b6770",
 ];
+
+/// The marker of claim `i` at `(x, y)`, of size `r`: circle, square, triangle, diamond,
+/// inverted triangle, in turn; `hollow` draws the outline only.
+fn marker(i: usize, x: f64, y: f64, r: f64, col: &str, hollow: bool) -> String {
+    let paint = if hollow {
+        format!(r#"fill="white" stroke="{col}" stroke-width="1.5""#)
+    } else {
+        format!(r#"fill="{col}""#)
+    };
+    let poly = |pts: &[(f64, f64)]| {
+        let p: Vec<String> = pts
+            .iter()
+            .map(|(dx, dy)| format!("{:.1},{:.1}", x + dx * r, y + dy * r))
+            .collect();
+        format!(r#"<polygon points="{}" {paint}/>"#, p.join(" "))
+    };
+    match i % 5 {
+        0 => format!(r#"<circle cx="{x:.1}" cy="{y:.1}" r="{r:.1}" {paint}/>"#),
+        1 => poly(&[(-0.9, -0.9), (0.9, -0.9), (0.9, 0.9), (-0.9, 0.9)]),
+        2 => poly(&[(0.0, -1.2), (1.1, 0.8), (-1.1, 0.8)]),
+        3 => poly(&[(0.0, -1.3), (1.1, 0.0), (0.0, 1.3), (-1.1, 0.0)]),
+        _ => poly(&[(0.0, 1.2), (1.1, -0.8), (-1.1, -0.8)]),
+    }
+}
 
 fn esc(s: &str) -> String {
     s.replace('&', "&amp;")
@@ -149,9 +178,15 @@ pub fn svg(report: &GridReport, title: &str) -> String {
     );
 
     let q = f64::from(report.settings.order);
+    let n = report.claims.len();
     let mut legend = Vec::new();
     for (i, c) in report.claims.iter().enumerate() {
         let col = COLOURS[i % COLOURS.len()];
+        // Earlier claims wider and with larger markers, so a later curve on top of an
+        // earlier one leaves its edges showing.
+        let width = 2.0 + 1.2 * (n - 1 - i) as f64;
+        let size = 3.5 + 1.0 * (n - 1 - i) as f64;
+        let nonzero_expected = c.asserted == Some(false);
         let pts: Vec<(f64, f64)> = c
             .rows
             .iter()
@@ -186,7 +221,9 @@ pub fn svg(report: &GridReport, title: &str) -> String {
             spacings.last(),
             c.asserted != Some(false),
         ) {
-            let (r0, h0) = (first.0.residual.log10(), *first.1);
+            // A decade below the coarsest residual: parallel to a curve that converges at
+            // the stencil's order, not on top of it.
+            let (r0, h0) = (first.0.residual.log10() - 1.0, *first.1);
             let y1 = r0 + q * (hl - h0);
             let _ = writeln!(
                 s,
@@ -198,17 +235,19 @@ pub fn svg(report: &GridReport, title: &str) -> String {
             );
         }
         if pts.len() >= 2 {
+            let dash = if nonzero_expected {
+                r#" stroke-dasharray="9 3 2 3""#
+            } else {
+                ""
+            };
             let _ = writeln!(
                 s,
-                r#"<polyline points="{}" fill="none" stroke="{col}" stroke-width="2"/>"#,
+                r#"<polyline points="{}" fill="none" stroke="{col}" stroke-width="{width:.1}"{dash}/>"#,
                 path(&pts)
             );
         }
         for (x, y) in &pts {
-            let _ = writeln!(
-                s,
-                r#"<circle cx="{x:.1}" cy="{y:.1}" r="3.5" fill="{col}"/>"#
-            );
+            let _ = writeln!(s, "{}", marker(i, *x, *y, size, col, nonzero_expected));
         }
         let _ = writeln!(s, "</g>");
         let word = match c.status {
@@ -218,20 +257,21 @@ pub fn svg(report: &GridReport, title: &str) -> String {
             GridStatus::Unresolved => "not resolvable",
         };
         let zero = if pts.is_empty() { ", exactly 0" } else { "" };
-        let not = if c.asserted == Some(false) {
-            "not "
+        let text = if nonzero_expected {
+            format!("not {}: {word} (nonzero, as claimed)", c.key)
         } else {
-            ""
+            format!("{}: {word}{zero}", c.key)
         };
-        legend.push((col, format!("{not}{}: {word}{zero}", c.key)));
+        legend.push((i, col, nonzero_expected, text));
     }
     let lx = LEFT + pw + 16.0;
     let mut ly = TOP + 8.0;
-    for (col, text) in legend {
+    for (i, col, hollow, text) in legend {
         let _ = writeln!(
             s,
-            r#"<line x1="{lx:.1}" y1="{ly:.1}" x2="{:.1}" y2="{ly:.1}" stroke="{col}" stroke-width="3"/><text x="{:.1}" y="{:.1}">{}</text>"#,
+            r#"<line x1="{lx:.1}" y1="{ly:.1}" x2="{:.1}" y2="{ly:.1}" stroke="{col}" stroke-width="3"/>{}<text x="{:.1}" y="{:.1}">{}</text>"#,
             lx + 18.0,
+            marker(i, lx + 9.0, ly, 4.0, col, hollow),
             lx + 24.0,
             ly + 4.0,
             esc(&text)
@@ -244,7 +284,10 @@ pub fn svg(report: &GridReport, title: &str) -> String {
         ("2 3", "round-off floor (estimate)"),
         (
             "7 4",
-            &*format!("slope {} (stencil order)", report.settings.order),
+            &*format!(
+                "slope {} (stencil order), a decade below",
+                report.settings.order
+            ),
         ),
     ] {
         let _ = writeln!(
