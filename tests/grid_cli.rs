@@ -168,18 +168,23 @@ fn json_output_has_levels_orders_and_floors() {
     assert!(j["method"].as_str().unwrap().contains("numerical evidence"));
 }
 
-#[test]
-fn the_plot_is_written_whole_and_alone() {
-    let dir = tempfile::tempdir().unwrap();
-    let svg = dir.path().join("conv.svg");
-    let out = lingrav(&[
+/// `grid --points POINTS --svg svg file`.
+fn grid_svg(svg: &Path, file: &str) -> Output {
+    lingrav(&[
         "grid",
         "--points",
         POINTS,
         "--svg",
         svg.to_str().unwrap(),
-        "worked/wrong_sign_wave.toml",
-    ]);
+        file,
+    ])
+}
+
+#[test]
+fn the_plot_is_written_whole_and_alone() {
+    let dir = tempfile::tempdir().unwrap();
+    let svg = dir.path().join("conv.svg");
+    let out = grid_svg(&svg, "worked/wrong_sign_wave.toml");
     assert_eq!(
         out.status.code(),
         Some(1),
@@ -213,14 +218,7 @@ fn the_plot_is_written_whole_and_alone() {
 fn issue_14_the_plot_tells_the_claims_apart() {
     let dir = tempfile::tempdir().unwrap();
     let svg = dir.path().join("ow.svg");
-    let out = lingrav(&[
-        "grid",
-        "--points",
-        POINTS,
-        "--svg",
-        svg.to_str().unwrap(),
-        "worked/oblique_wave.toml",
-    ]);
+    let out = grid_svg(&svg, "worked/oblique_wave.toml");
     assert!(
         matches!(out.status.code(), Some(0 | 3)),
         "{}",
