@@ -88,7 +88,9 @@ pub struct Sampling {
     pub seed: u64,
     /// How many points to try before giving up.
     pub points: usize,
-    /// Symbols with a typical value: sampled within a factor of 2 of it, same sign.
+    /// Symbols with a typical value (a file's parameters): the first half of the points
+    /// take exactly that value, so that a witness is at the file's own parameters where that
+    /// certifies it; the rest sample within a factor of 2 of it, same sign.
     pub typical: FxHashMap<KernelId, f64>,
     /// Samples of arbitrary functions; functions without one get a generic built-in sample.
     pub samples: FxHashMap<Rc<str>, FunctionSample>,
@@ -184,24 +186,34 @@ pub fn decide(store: &mut Store, f: Form, sampling: &Sampling) -> Verdict {
     let mut rng = SplitMix64::new(sampling.seed);
     let mut evaluated = 0usize;
     let mut widest = 0f64;
-    for _ in 0..sampling.points {
+    for attempt in 0..sampling.points {
+        let at_file_values = attempt < sampling.points.div_ceil(2);
         let mut coords = Vec::new();
         for (name, k) in &kernels {
-            let v = match (sampling.ranges.get(k), sampling.typical.get(k)) {
+            let (v, exact) = match (sampling.ranges.get(k), sampling.typical.get(k)) {
                 (Some(&(lo, hi)), _) => {
                     let margin = (hi - lo) * 1e-3;
-                    lo + margin + (hi - lo - 2.0 * margin) * rng.next_f64()
+                    (
+                        lo + margin + (hi - lo - 2.0 * margin) * rng.next_f64(),
+                        false,
+                    )
                 }
-                (None, Some(&t)) if t != 0.0 => t * (0.5 + 1.5 * rng.next_f64()),
+                (None, Some(&t)) if t != 0.0 && at_file_values => (t, true),
+                (None, Some(&t)) if t != 0.0 => (t * (0.5 + 1.5 * rng.next_f64()), false),
                 _ => {
                     let mag = 0.25 + 1.75 * rng.next_f64();
-                    if rng.next_u64() & 1 == 1 { -mag } else { mag }
+                    (if rng.next_u64() & 1 == 1 { -mag } else { mag }, false)
                 }
             };
-            // Round to six significant digits so the witness can be typed back in, without
-            // flushing small typical values (an amplitude of 1e-8) to zero; a value rounded
-            // out of its range is kept unrounded.
-            let rounded: f64 = format!("{v:.5e}").parse().unwrap_or(v);
+            // A sampled value is rounded to three significant digits, so that the witness
+            // reads and types back easily (a file's own value is kept as it is; small typical
+            // values, an amplitude of 1e-8, are not flushed to zero); a value rounded out of
+            // its range is kept unrounded.
+            let rounded: f64 = if exact {
+                v
+            } else {
+                format!("{v:.2e}").parse().unwrap_or(v)
+            };
             let inside = sampling
                 .ranges
                 .get(k)
@@ -258,4 +270,31 @@ pub fn decide_equal(
 /// A limit error as an undecided verdict.
 pub fn undecided_from(e: &CanonError) -> Verdict {
     Verdict::Undecided(e.to_string())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A witness a physicist can type back in: the file's parameter values as they are when
+    /// they certify the failure, sampled coordinates at three significant digits.
+    #[test]
+    fn a_witness_takes_the_files_parameter_values_and_short_coordinates() {
+        let mut st = Store::new();
+        let f = crate::expression(&mut st, "a*cos(w*(t - z)) + a*w^2").unwrap();
+        let mut sampling = Sampling::default();
+        sampling.typical.insert(st.symbol_kernel("a"), 1.0e-3);
+        sampling.typical.insert(st.symbol_kernel("w"), 2.0);
+        let Verdict::Nonzero(w) = decide(&mut st, f, &sampling) else {
+            panic!("a nonzero expression gets a witness");
+        };
+        let value = |n: &str| w.point.iter().find(|(k, _)| k == n).map(|p| p.1);
+        assert_eq!(value("a"), Some(1.0e-3), "{:?}", w.point);
+        assert_eq!(value("w"), Some(2.0), "{:?}", w.point);
+        for c in ["t", "z"] {
+            let v = value(c).expect("a coordinate value");
+            let short: f64 = format!("{v:.2e}").parse().unwrap();
+            assert_eq!(v, short, "{c} = {v} has at most three significant digits");
+        }
+    }
 }
