@@ -600,6 +600,6 @@ fn latex_lists_every_component() {
         out.contains("\\begin{aligned}") && out.contains("\\end{aligned}"),
         "{out}"
     );
-    assert!(out.contains("K_{yy} &= \\frac{A \\, \\pi"), "{out}");
+    assert!(out.contains("K_{yy} &= \\frac{A \\pi"), "{out}");
     assert_eq!(out.matches(" &= ").count(), 16);
 }

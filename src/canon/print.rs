@@ -627,25 +627,59 @@ fn latex_coeff(c: &Coeff) -> String {
         .replace('*', " ")
 }
 
+/// A name as a physicist typesets it: Greek names as Greek letters (`omega`, `Lambda`), a
+/// single letter in italic, a longer name upright (`\mathrm{phase}`), a subscript after `_`
+/// or trailing digits (`a_plus` as `a_{\mathrm{plus}}`, `m1` as `m_{1}`).
 fn latex_name(n: &str) -> String {
-    const GREEK: [&str; 24] = [
+    const GREEK: [&str; 35] = [
         "alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa",
         "lambda", "mu", "nu", "xi", "pi", "rho", "sigma", "tau", "upsilon", "phi", "chi", "psi",
-        "omega", "Omega",
+        "omega", "Gamma", "Delta", "Theta", "Lambda", "Xi", "Pi", "Sigma", "Upsilon", "Phi", "Psi",
+        "Omega", "varphi",
     ];
-    let (base, sub) = match n.split_once('_') {
-        Some((b, s)) => (b, Some(s)),
-        None => (n, None),
+    let part = |t: &str| -> String {
+        if GREEK.contains(&t) {
+            format!("\\{t}")
+        } else if t.chars().count() == 1 || t.chars().all(|c| c.is_ascii_digit()) {
+            t.to_string()
+        } else {
+            format!("\\mathrm{{{t}}}")
+        }
     };
-    let b = if GREEK.contains(&base) {
-        format!("\\{base}")
-    } else {
-        base.to_string()
+    let (base, sub) = match n.split_once('_') {
+        Some((b, s)) if !b.is_empty() && !s.is_empty() => (b, Some(s.to_string())),
+        _ => {
+            // Trailing digits are an index: m1 -> m_{1}.
+            let cut = n.trim_end_matches(|c: char| c.is_ascii_digit());
+            if cut.is_empty() || cut.len() == n.len() {
+                (n, None)
+            } else {
+                (cut, Some(n[cut.len()..].to_string()))
+            }
+        }
     };
     match sub {
-        Some(s) => format!("{b}_{{{s}}}"),
-        None => b,
+        Some(s) => format!("{}_{{{}}}", part(base), part(&s)),
+        None => part(base),
     }
+}
+
+/// Appends a factor of a product after `out`'s earlier factors: separated by a space (LaTeX
+/// sets a product of symbols without a sign), by a thin space `\,` only where two numbers
+/// would otherwise run together.
+fn push_factor(out: &mut String, f: &Pretty) {
+    let mut t = String::new();
+    latex_factor(f, &mut t);
+    if !out.is_empty() {
+        let digit_next = t.starts_with(|c: char| c.is_ascii_digit());
+        let digit_before = out.ends_with(|c: char| c.is_ascii_digit());
+        out.push_str(if digit_next && digit_before {
+            " \\, "
+        } else {
+            " "
+        });
+    }
+    out.push_str(&t);
 }
 
 fn latex_factor(p: &Pretty, s: &mut String) {
@@ -721,16 +755,10 @@ fn latex(p: &Pretty, s: &mut String) {
                 }
             }
             for f in n {
-                if !top.is_empty() {
-                    top.push_str(" \\, ");
-                }
-                latex_factor(f, &mut top);
+                push_factor(&mut top, f);
             }
             for f in d {
-                if !bottom.is_empty() {
-                    bottom.push_str(" \\, ");
-                }
-                latex_factor(f, &mut bottom);
+                push_factor(&mut bottom, f);
             }
             if top.is_empty() {
                 top.push('1');

@@ -224,3 +224,31 @@ fn issue9_tiny_and_huge_factors_never_give_a_false_witness() {
         assert!(!matches!(v, Verdict::Nonzero(_)), "{c}: {v:?}");
     }
 }
+
+/// LaTeX as a paper sets it: Greek names as letters, a longer name upright, subscripts from
+/// `_` and trailing digits, products without spacing commands (a thin space only between two
+/// numbers), fractions with `\frac`, derivatives of arbitrary functions as primes.
+#[test]
+fn latex_reads_like_a_paper() {
+    let mut st = Store::new();
+    let f = crate::expression(&mut st, "omega*Lambda*a_plus*m1*phase/(2*r) + Q''(u)").unwrap();
+    let l = st.to_latex(f);
+    for want in [
+        "\\omega",
+        "\\Lambda",
+        "a_{\\mathrm{plus}}",
+        "m_{1}",
+        "\\mathrm{phase}",
+        "\\frac{",
+        "{2 r}",
+        "Q''\\left(u\\right)",
+    ] {
+        assert!(l.contains(want), "{want} in {l}");
+    }
+    assert!(
+        !l.contains("\\,"),
+        "no spacing commands between symbols: {l}"
+    );
+    let g = crate::expression(&mut st, "3*sqrt(2)*x").unwrap();
+    assert_eq!(st.to_latex(g), "3 \\sqrt{2} x");
+}

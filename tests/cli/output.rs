@@ -436,3 +436,52 @@ fn issue_14_json_residuals_are_whole_and_text_ones_summarised() {
     assert_eq!(code, 1, "{out}");
     assert!(out.contains("terms)"), "the text report summarises: {out}");
 }
+
+/// Every LaTeX snippet lingrav prints compiles: `show --latex` (an aligned block) and
+/// `simplify --latex`, set in a minimal amsmath document, when a TeX engine (`pdflatex`) is
+/// on the machine; otherwise the test says so and checks only that the snippets are balanced.
+#[test]
+fn issue_14_latex_snippets_compile_when_tex_is_present() {
+    let (show, _, code) = lingrav(&["show", "--latex", &worked("oblique_wave.toml"), "riemann"]);
+    assert_eq!(code, 0, "{show}");
+    let block: String = show
+        .lines()
+        .filter(|l| !l.starts_with('('))
+        .collect::<Vec<_>>()
+        .join("\n");
+    let (simple, _, code) = lingrav(&[
+        "simplify",
+        "--latex",
+        "omega^2*a_plus*cos(omega*(t - z))/(2*r) + Q''(t - r)/r^3 + sqrt(x^2 + y^2)",
+    ]);
+    assert_eq!(code, 0, "{simple}");
+    let formula = simple.lines().next().expect("the formula line");
+    for s in [block.as_str(), formula] {
+        assert_eq!(s.matches('{').count(), s.matches('}').count(), "{s}");
+        assert_eq!(
+            s.matches("\\left").count(),
+            s.matches("\\right").count(),
+            "{s}"
+        );
+    }
+    let doc = format!(
+        "\\documentclass{{article}}\n\\usepackage{{amsmath}}\n\\begin{{document}}\n\
+         \\[\n{block}\n\\]\n\\[\n{formula}\n\\]\n\\end{{document}}\n"
+    );
+    let dir = tempfile::tempdir().expect("temp dir");
+    std::fs::write(dir.path().join("snippets.tex"), doc).expect("write");
+    match std::process::Command::new("pdflatex")
+        .args(["-interaction=nonstopmode", "-halt-on-error", "snippets.tex"])
+        .current_dir(dir.path())
+        .output()
+    {
+        Ok(out) => assert!(
+            out.status.success(),
+            "pdflatex failed:\n{}",
+            String::from_utf8_lossy(&out.stdout)
+        ),
+        Err(e) => eprintln!(
+            "pdflatex not available ({e}): the LaTeX is not compiled, only checked for balance"
+        ),
+    }
+}

@@ -93,13 +93,23 @@ pub fn run(a: ShowArgs) -> Result<Outcome, Failure> {
     let text = match a.format {
         Format::Text => {
             let mut s = String::new();
-            for (name, f) in shown {
-                let (name, body) = if a.latex {
-                    (latex_label(&name), store.to_latex(f))
-                } else {
-                    (name, store.to_text(f))
-                };
-                let _ = writeln!(s, "{name} = {body}");
+            if a.latex {
+                // One aligned block, ready for a paper: the components aligned at `=`.
+                let lines: Vec<String> = shown
+                    .into_iter()
+                    .map(|(name, f)| format!("  {} &= {}", latex_label(&name), store.to_latex(f)))
+                    .collect();
+                if !lines.is_empty() {
+                    let _ = writeln!(
+                        s,
+                        "\\begin{{aligned}}\n{}\n\\end{{aligned}}",
+                        lines.join(" \\\\\n")
+                    );
+                }
+            } else {
+                for (name, f) in shown {
+                    let _ = writeln!(s, "{name} = {}", store.to_text(f));
+                }
             }
             if zeros > 0 {
                 let _ = writeln!(
