@@ -201,6 +201,13 @@ pub enum Kind {
     /// The file's h_plus and h_cross equal the quadrupole formula's along its direction and
     /// distance; decided in [`crate::radiation`].
     Waveform,
+    /// The file's linear-momentum flux (three components) equals the octupole and
+    /// current-quadrupole formula of its bodies (instantaneous, or averaged over time);
+    /// decided in [`crate::radiation`].
+    MomentumFlux {
+        /// Averaged over time.
+        average: bool,
+    },
 }
 
 impl Kind {
@@ -218,6 +225,8 @@ impl Kind {
             Kind::Luminosity { average: false } => "luminosity".into(),
             Kind::Luminosity { average: true } => "luminosity_average".into(),
             Kind::Waveform => "waveform".into(),
+            Kind::MomentumFlux { average: false } => "momentum_flux".into(),
+            Kind::MomentumFlux { average: true } => "momentum_flux_average".into(),
         }
     }
 
@@ -313,6 +322,18 @@ impl Kind {
                 "waveform = (2/r) Lambda ddQ(t - r) of the bodies (h_plus, h_cross)",
                 "waveform != (2/r) Lambda ddQ(t - r) of the bodies (h_plus, h_cross)",
             ),
+            Kind::MomentumFlux { average: false } => (
+                "momentum flux dP_i/dt = (2/63) d^4Q_iab d^3Q_ab + (16/45) eps_ipq d^3Q_pa d^3S_qa \
+                 of the bodies",
+                "momentum flux dP_i/dt != (2/63) d^4Q_iab d^3Q_ab + (16/45) eps_ipq d^3Q_pa \
+                 d^3S_qa of the bodies",
+            ),
+            Kind::MomentumFlux { average: true } => (
+                "time-averaged momentum flux <dP_i/dt> = <(2/63) d^4Q_iab d^3Q_ab + (16/45) \
+                 eps_ipq d^3Q_pa d^3S_qa> of the bodies",
+                "time-averaged momentum flux <dP_i/dt> != <(2/63) d^4Q_iab d^3Q_ab + (16/45) \
+                 eps_ipq d^3Q_pa d^3S_qa> of the bodies",
+            ),
         }
     }
 
@@ -321,7 +342,7 @@ impl Kind {
     #[must_use]
     pub fn parts(self) -> Vec<Part> {
         match self {
-            Kind::Luminosity { .. } | Kind::Waveform => Vec::new(),
+            Kind::Luminosity { .. } | Kind::Waveform | Kind::MomentumFlux { .. } => Vec::new(),
             Kind::SourceConservation | Kind::CurvedConservation => {
                 (0..4).map(Part::Conservation).collect()
             }

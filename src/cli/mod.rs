@@ -272,18 +272,32 @@ theta down, 5-degree cells, the arms marked, a colour legend (--map rms|plus|cro
 appears whole or not at all. Exit 0 proved and audited, 1 internal defect, 3 undecided, 2 bad
 input (a non-unit or parallel arm, an unreadable angle).")]
     Antenna(antenna::AntennaArgs),
-    /// What a file's bodies radiate at quadrupole order: moments, luminosity, waveform.
+    /// What a file's bodies radiate: moments, luminosity, waveform, recoil.
     #[command(after_help = "\
 Examples:
   lingrav radiation worked/circular_binary.toml
   lingrav radiation worked/circular_binary.toml --direction theta=pi/3,phi=0 --distance 1e6
-  lingrav radiation worked/circular_binary.toml --direction z --format json
+  lingrav radiation worked/recoil_binary.toml --direction z --format json
 
-The source is the file's [[body]] tables (mass, position as functions of t) or its [binary]
-(a circular orbit; see the README). G = c = 1; moments about the origin: Q_ij = sum m (x_i x_j
-- delta_ij |x|^2/3); h^TT = (2/r) Lambda(n) d^2Q/dt^2 (t - r); L = (1/5) dddQ_ij dddQ_ij;
-dJ_i/dt = -(2/5) eps_ijk ddQ_ja dddQ_ka. Time averages are exact for sums of exp(i w t)
-(periodic motion), else said to be unavailable. A mass dipole that accelerates is flagged.
+The source is the file's [[body]] tables (mass, position as functions of t; a rigid body adds
+principal moments, an axis and an angle) or its [binary] (a circular orbit; see the README).
+G = c = 1; moments about the origin: Q_ij = sum m (x_i x_j - delta_ij |x|^2/3);
+h^TT = (2/r) Lambda(n) d^2Q/dt^2 (t - r); L = (1/5) dddQ_ij dddQ_ij;
+dJ_i/dt = -(2/5) eps_ijk ddQ_ja dddQ_ka. Next order: the mass octupole Q_ijk = STF sum m x_i
+x_j x_k, the current quadrupole S_ij = STF sum m x_i (x cross v)_j (Thorne 1980's S_ij), the
+linear momentum the waves carry dP_i/dt = (2/63) d^4Q_iab d^3Q_ab + (16/45) eps_ipq d^3Q_pa
+d^3S_qa (the source recoils at -dP/dt), and with --direction their field h_plus_next,
+h_cross_next (not included in h_plus, h_cross). A rigid body is assumed reflection-symmetric
+in its principal planes (said in the output); one whose moments change is refused at the
+next order, with the reason. Time averages are exact for sums of exp(i w t) (periodic
+motion), else said to be unavailable. A mass dipole that accelerates is flagged.
+
+JSON: quantities.{Q_ij, L, dJ_i/dt, Q_ijk, S_ij, dP_i/dt, h_plus, h_cross, h_plus_next,
+h_cross_next} (i, j, k in x, y, z; symmetric tensors by their sorted indices), each with its
+expression and audit; averages.{L, dJ_i/dt, dP_i/dt}; next_order_refused (null or the
+reason); assumptions (what was assumed of rigid bodies); dipole_accelerates, direction,
+distance, conventions, audit.
+
 Every printed form is audited against its definition evaluated from the bodies' texts by an
 independent route (certified jets); a disagreement is an INTERNAL DEFECT (exit 1).")]
     Radiation(radiation::RadiationArgs),

@@ -474,10 +474,18 @@ impl Builder<'_> {
                 claimed(b, &w.h_cross)?,
             ));
         }
+        if let Some(v) = &rc.momentum_flux {
+            radiation_claims.momentum_flux =
+                Some([claimed(b, &v[0])?, claimed(b, &v[1])?, claimed(b, &v[2])?]);
+        }
+        if let Some(v) = &rc.momentum_flux_average {
+            radiation_claims.momentum_flux_average =
+                Some([claimed(b, &v[0])?, claimed(b, &v[1])?, claimed(b, &v[2])?]);
+        }
         if !radiation_claims.is_empty() && bodies.is_empty() {
             return Err(b.err(
-                "claims about radiation (luminosity, waveform) need the bodies that radiate: \
-                 [[body]] tables or a [binary]",
+                "claims about radiation (luminosity, waveform, momentum flux) need the bodies \
+                 that radiate: [[body]] tables or a [binary]",
                 Span::new(0, 0),
                 "no bodies",
             ));

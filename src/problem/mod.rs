@@ -208,8 +208,8 @@ pub struct ProblemFile {
     pub radiation_claims: RadiationClaimTexts,
 }
 
-/// The claims about radiation as written: `luminosity`, `luminosity_average` and
-/// `[claims.waveform]`.
+/// The claims about radiation as written: `luminosity`, `luminosity_average`,
+/// `[claims.waveform]`, `momentum_flux` and `momentum_flux_average`.
 #[derive(Clone, Debug, Default, PartialEq, Eq)]
 pub struct RadiationClaimTexts {
     /// The luminosity at time t.
@@ -218,6 +218,10 @@ pub struct RadiationClaimTexts {
     pub luminosity_average: Option<ExprText>,
     /// The waveform at an observer.
     pub waveform: Option<WaveformTexts>,
+    /// The linear momentum carried away per unit time, `dP_i/dt` (x, y, z), at time t.
+    pub momentum_flux: Option<[ExprText; 3]>,
+    /// The same averaged over time.
+    pub momentum_flux_average: Option<[ExprText; 3]>,
 }
 
 /// `[claims.waveform]` as written.
@@ -251,13 +255,21 @@ pub struct RadiationClaims {
     pub luminosity_average: Option<Claimed>,
     /// The waveform: direction text, distance, h_plus, h_cross.
     pub waveform: Option<(String, Claimed, Claimed, Claimed)>,
+    /// The linear-momentum flux `dP_i/dt`.
+    pub momentum_flux: Option<[Claimed; 3]>,
+    /// The same averaged over time.
+    pub momentum_flux_average: Option<[Claimed; 3]>,
 }
 
 impl RadiationClaims {
     /// True when the file makes no claim about radiation.
     #[must_use]
     pub fn is_empty(&self) -> bool {
-        self.luminosity.is_none() && self.luminosity_average.is_none() && self.waveform.is_none()
+        self.luminosity.is_none()
+            && self.luminosity_average.is_none()
+            && self.waveform.is_none()
+            && self.momentum_flux.is_none()
+            && self.momentum_flux_average.is_none()
     }
 }
 

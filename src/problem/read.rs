@@ -34,13 +34,15 @@ pub(super) const TOP_KEYS: [&str; 16] = [
     "claims",
     "grid",
 ];
-const CLAIM_KEYS: [&str; 6] = [
+const CLAIM_KEYS: [&str; 8] = [
     "field_equations",
     "gauge",
     "pure_gauge",
     "luminosity",
     "luminosity_average",
     "waveform",
+    "momentum_flux",
+    "momentum_flux_average",
 ];
 const WAVEFORM_KEYS: [&str; 4] = ["direction", "distance", "h_plus", "h_cross"];
 const BODY_KEYS: [&str; 5] = ["mass", "position", "moments", "axis", "angle"];
@@ -610,9 +612,27 @@ impl Cx<'_> {
     }
 
     fn position(&self, label: &str, v: &Value<'_>) -> Result<[ExprText; 3], ProblemError> {
+        self.three(
+            (
+                &format!("the position of {label}"),
+                "e.g. position = ['a*cos(w*t)', 'a*sin(w*t)', '0']",
+            ),
+            v,
+            &|x| format!("the {x} coordinate of {label}"),
+        )
+    }
+
+    /// Three expressions (`what` and a help for a wrong value), the x, y, z components named
+    /// by `component`.
+    fn three(
+        &self,
+        (what, help): (&str, &str),
+        v: &Value<'_>,
+        component: &dyn Fn(&str) -> String,
+    ) -> Result<[ExprText; 3], ProblemError> {
         let wrong = || {
-            self.type_error(&format!("the position of {label}"), "three expressions", v)
-                .with_help("e.g. position = ['a*cos(w*t)', 'a*sin(w*t)', '0']")
+            self.type_error(what, "three expressions", v)
+                .with_help(help.to_string())
         };
         let DeValue::Array(items) = v.get_ref() else {
             return Err(wrong());
@@ -621,11 +641,8 @@ impl Cx<'_> {
             return Err(wrong());
         }
         let mut c = Vec::with_capacity(3);
-        for (i, item) in items.iter().enumerate() {
-            c.push(self.expr_or_number(
-                &format!("the {} coordinate of {label}", ["x", "y", "z"][i]),
-                item,
-            )?);
+        for (item, x) in items.iter().zip(["x", "y", "z"]) {
+            c.push(self.expr_or_number(&component(x), item)?);
         }
         Ok([c[0].clone(), c[1].clone(), c[2].clone()])
     }
@@ -675,10 +692,30 @@ impl Cx<'_> {
                         Some(self.expr_or_number("`luminosity_average`", v)?);
                 }
                 "waveform" => radiation.waveform = Some(self.waveform(k, self.table(k, v)?)?),
+                "momentum_flux" => {
+                    radiation.momentum_flux = Some(self.flux_vector("`momentum_flux`", v)?);
+                }
+                "momentum_flux_average" => {
+                    radiation.momentum_flux_average =
+                        Some(self.flux_vector("`momentum_flux_average`", v)?);
+                }
                 _ => return Err(self.unknown_key(k, "claims", &CLAIM_KEYS)),
             }
         }
         Ok(c)
+    }
+
+    /// A claimed vector of three expressions, `dP_x/dt, dP_y/dt, dP_z/dt`.
+    fn flux_vector(&self, what: &str, v: &Value<'_>) -> Result<[ExprText; 3], ProblemError> {
+        self.three(
+            (
+                what,
+                "e.g. momentum_flux = ['...', '...', '0'], the rates dP_x/dt, dP_y/dt, dP_z/dt \
+                 as expressions in t",
+            ),
+            v,
+            &|x| format!("the {x} component of {what}"),
+        )
     }
 
     /// `[claims.waveform]`: direction, distance, h_plus, h_cross.

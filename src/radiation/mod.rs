@@ -21,9 +21,13 @@
 //! on t. For a periodic motion this is the average over a period. A frequency `w_k` that is
 //! not identically 0 but contains parameters is taken as nonzero (said in the result).
 //!
+//! The next order (mass octupole, current quadrupole, the linear momentum they carry with the
+//! quadrupole, their far-zone field) is [`multipole`].
+//!
 //! **Invariants:** exact forms only (no floating point); never prints.
 
 pub mod claims;
+pub mod multipole;
 
 use crate::canon::{CResult, Coeff, Form, KernelId, Q, Store};
 use crate::problem::Body;
@@ -133,16 +137,8 @@ impl Radiation {
     /// An algebra limit.
     pub fn derivative(&mut self, store: &mut Store, k: usize) -> CResult<Mat3> {
         while self.derivatives.len() <= k {
-            let last = *self.derivatives.last().expect("Q itself");
-            let z = store.zero();
-            let mut next = [[z; 3]; 3];
-            for i in 0..3 {
-                for j in i..3 {
-                    let d = store.diff(last[i][j], self.t)?;
-                    next[i][j] = d;
-                    next[j][i] = d;
-                }
-            }
+            let last = self.derivatives.last().expect("Q itself");
+            let next = symmetric_derivative(store, last, self.t)?;
             self.derivatives.push(next);
         }
         Ok(self.derivatives[k])
@@ -177,14 +173,7 @@ impl Radiation {
         let z = store.zero();
         let mut out = [z; 3];
         for (i, slot) in out.iter_mut().enumerate() {
-            let (j, k) = ((i + 1) % 3, (i + 2) % 3);
-            let mut terms = Vec::with_capacity(6);
-            for a in 0..3 {
-                terms.push(store.mul(q2[j][a], q3[k][a])?);
-                let m = store.mul(q2[k][a], q3[j][a])?;
-                terms.push(store.neg(m)?);
-            }
-            let s = store.sum(&terms)?;
+            let s = eps_contraction(store, i, &q2, &q3)?;
             *slot = store.scale(s, &Coeff::rational(Q::new((-2).into(), 5.into())))?;
         }
         Ok(out)
@@ -203,27 +192,79 @@ impl Radiation {
         r: Form,
     ) -> CResult<Wave> {
         let q2 = self.derivative(store, 2)?;
-        let retarded = store.sub(self.t_form, r)?;
-        let mut subs = rustc_hash::FxHashMap::default();
-        subs.insert(self.t, retarded);
-        let two_over_r = {
-            let two = store.int(2);
-            store.div(two, r)?
-        };
-        let z = store.zero();
-        let mut shifted = [[z; 3]; 3];
+        let mut source = q2;
         for i in 0..3 {
             for j in i..3 {
-                let s = store.substitute(q2[i][j], &subs)?;
-                let s = store.mul(two_over_r, s)?;
-                shifted[i][j] = s;
-                shifted[j][i] = s;
+                let s = store.scale(q2[i][j], &Coeff::int(2))?;
+                source[i][j] = s;
+                source[j][i] = s;
             }
         }
-        let tt = crate::tt::project(store, n, &shifted)?;
-        let (plus, cross) = crate::tt::polarizations(store, &tt, u, v)?;
-        Ok(Wave { tt, plus, cross })
+        retarded_wave(store, (self.t, self.t_form), (n, u, v), r, &source)
     }
+}
+
+/// The time derivative of a symmetric matrix of forms.
+///
+/// # Errors
+///
+/// An algebra limit.
+pub(crate) fn symmetric_derivative(store: &mut Store, m: &Mat3, t: KernelId) -> CResult<Mat3> {
+    let mut next = *m;
+    for i in 0..3 {
+        for j in i..3 {
+            let d = store.diff(m[i][j], t)?;
+            next[i][j] = d;
+            next[j][i] = d;
+        }
+    }
+    Ok(next)
+}
+
+/// `eps_ijk A_ja B_ka` (summed over j, k, a) for the component i.
+///
+/// # Errors
+///
+/// An algebra limit.
+pub(crate) fn eps_contraction(store: &mut Store, i: usize, a: &Mat3, b: &Mat3) -> CResult<Form> {
+    let (j, k) = ((i + 1) % 3, (i + 2) % 3);
+    let mut terms = Vec::with_capacity(6);
+    for c in 0..3 {
+        terms.push(store.mul(a[j][c], b[k][c])?);
+        let m = store.mul(a[k][c], b[j][c])?;
+        terms.push(store.neg(m)?);
+    }
+    store.sum(&terms)
+}
+
+/// The far-zone wave `h^TT = Lambda(n) s(t - r) / r` of a symmetric source `s(t)` (the time
+/// kernel and form `t`), with its polarizations in the basis `(u, v)`.
+///
+/// # Errors
+///
+/// An algebra limit.
+pub(crate) fn retarded_wave(
+    store: &mut Store,
+    (t, t_form): (KernelId, Form),
+    (n, u, v): (&Vec3, &Vec3, &Vec3),
+    r: Form,
+    s: &Mat3,
+) -> CResult<Wave> {
+    let retarded = store.sub(t_form, r)?;
+    let mut subs = rustc_hash::FxHashMap::default();
+    subs.insert(t, retarded);
+    let mut shifted = *s;
+    for i in 0..3 {
+        for j in i..3 {
+            let f = store.substitute(s[i][j], &subs)?;
+            let f = store.div(f, r)?;
+            shifted[i][j] = f;
+            shifted[j][i] = f;
+        }
+    }
+    let tt = crate::tt::project(store, n, &shifted)?;
+    let (plus, cross) = crate::tt::polarizations(store, &tt, u, v)?;
+    Ok(Wave { tt, plus, cross })
 }
 
 /// The second moment `int rho x_i x_j` of a rigid body about its centre:
@@ -235,30 +276,8 @@ impl Radiation {
 ///
 /// An algebra limit.
 pub fn rigid_second_moment(store: &mut Store, r: &crate::problem::Rigid) -> CResult<Mat3> {
-    let (c, s) = (store.cos(r.angle)?, store.sin(r.angle)?);
-    let one = store.one();
-    let one_minus_c = store.sub(one, c)?;
-    let k = r.axis;
+    let rot = multipole::rigid_rotation(store, r)?;
     let z = store.zero();
-    let mut rot = [[z; 3]; 3];
-    for i in 0..3 {
-        for j in 0..3 {
-            let kk = store.mul(k[i], k[j])?;
-            let mut v = store.mul(one_minus_c, kk)?;
-            if i == j {
-                v = store.add(v, c)?;
-            }
-            // [k]_x: (k x v)_i = eps_ilj k_l v_j.
-            if i != j {
-                let l = 3 - i - j;
-                let sign = if (i + 1) % 3 == j { -1 } else { 1 };
-                let t = store.mul(s, k[l])?;
-                let t = store.scale(t, &Coeff::int(sign))?;
-                v = store.add(v, t)?;
-            }
-            rot[i][j] = v;
-        }
-    }
     let trace = store.sum(&r.moments)?;
     let half_trace = store.scale(trace, &Coeff::rational(Q::new(1.into(), 2.into())))?;
     let mut out = [[z; 3]; 3];
@@ -282,17 +301,7 @@ pub fn rigid_second_moment(store: &mut Store, r: &crate::problem::Rigid) -> CRes
 #[must_use]
 pub fn rigid_second_moment_texts(t: &([String; 3], [String; 3], String)) -> [[String; 3]; 3] {
     let (m, k, a) = t;
-    let rot = |i: usize, j: usize| -> String {
-        let mut s = format!("(1 - cos({a}))*({})*({})", k[i], k[j]);
-        if i == j {
-            s.push_str(&format!(" + cos({a})"));
-        } else {
-            let l = 3 - i - j;
-            let sign = if (i + 1) % 3 == j { "-" } else { "+" };
-            s.push_str(&format!(" {sign} sin({a})*({})", k[l]));
-        }
-        format!("({s})")
-    };
+    let rot = |i: usize, j: usize| rotation_text(k, a, i, j);
     std::array::from_fn(|i| {
         std::array::from_fn(|j| {
             let terms: Vec<String> = (0..3)
@@ -306,6 +315,22 @@ pub fn rigid_second_moment_texts(t: &([String; 3], [String; 3], String)) -> [[St
             format!("({base} - ({}))", terms.join(" + "))
         })
     })
+}
+
+/// The text of the rotation matrix element `R_ij` of a rigid body with the axis texts `k`
+/// and the angle text `a` (Rodrigues' formula, as in [`multipole::rigid_rotation`]), in
+/// parentheses, for the audit.
+#[must_use]
+pub fn rotation_text(k: &[String; 3], a: &str, i: usize, j: usize) -> String {
+    let mut s = format!("(1 - cos({a}))*({})*({})", k[i], k[j]);
+    if i == j {
+        s.push_str(&format!(" + cos({a})"));
+    } else {
+        let l = 3 - i - j;
+        let sign = if (i + 1) % 3 == j { "-" } else { "+" };
+        s.push_str(&format!(" {sign} sin({a})*({})", k[l]));
+    }
+    format!("({s})")
 }
 
 /// The average of `f` over all time `t` (see the module documentation).

@@ -5,14 +5,14 @@ use crate::problem::from_str;
 use crate::zero::{Sampling, Verdict, decide};
 
 /// A problem with a circular binary in the x-y plane (symbolic masses and separation).
-const BINARY: &str = "[parameters]\nm1 = 1.5\nm2 = 1.0\nR = 20.0\niota = 0.7\nr = 1e6\n\
+pub(super) const BINARY: &str = "[parameters]\nm1 = 1.5\nm2 = 1.0\nR = 20.0\niota = 0.7\nr = 1e6\n\
                       [binary]\nm1 = 'm1'\nm2 = 'm2'\nsemimajor_axis = 'R'\n";
 
-fn proved_zero(store: &mut Store, f: Form, s: &Sampling) -> bool {
+pub(super) fn proved_zero(store: &mut Store, f: Form, s: &Sampling) -> bool {
     matches!(decide(store, f, s), Verdict::Zero)
 }
 
-fn value(store: &mut Store, f: Form, at: &[(&str, f64)]) -> f64 {
+pub(super) fn value(store: &mut Store, f: Form, at: &[(&str, f64)]) -> f64 {
     let mut pt = Point::default();
     for (n, v) in at {
         let k = store.symbol_kernel(n);
@@ -21,6 +21,33 @@ fn value(store: &mut Store, f: Form, at: &[(&str, f64)]) -> f64 {
     }
     let z = store.eval_interval(f, &pt).expect("finite");
     z.re.mid()
+}
+
+/// The orbit seen at the inclination `iota` (a symbol): `n = (0, sin iota, cos iota)`,
+/// `u = x` (the line of nodes), `v = (0, cos iota, -sin iota)`.
+pub(super) fn inclined_basis(st: &mut Store) -> (Vec3, Vec3, Vec3) {
+    let iota = st.symbol("iota");
+    let (sin, cos) = (st.sin(iota).unwrap(), st.cos(iota).unwrap());
+    let (z, one) = (st.zero(), st.one());
+    let v = [z, cos, st.neg(sin).unwrap()];
+    ([z, sin, cos], [one, z, z], v)
+}
+
+/// `n`, `u = e_theta`, `v = e_phi` as forms of the symbols `th`, `ph`.
+pub(super) fn polar_basis(st: &mut Store) -> (Vec3, Vec3, Vec3) {
+    let (th, ph) = (st.symbol("th"), st.symbol("ph"));
+    let (s, c, sp, cp) = (
+        st.sin(th).unwrap(),
+        st.cos(th).unwrap(),
+        st.sin(ph).unwrap(),
+        st.cos(ph).unwrap(),
+    );
+    let z = st.zero();
+    let mul = |st: &mut Store, a: Form, b: Form| st.mul(a, b).unwrap();
+    let n = [mul(st, s, cp), mul(st, s, sp), c];
+    let u = [mul(st, c, cp), mul(st, c, sp), st.neg(s).unwrap()];
+    let v = [st.neg(sp).unwrap(), cp, z];
+    (n, u, v)
 }
 
 #[test]
@@ -33,12 +60,7 @@ fn circular_binary_field_and_luminosity_match_the_closed_forms() {
     let s = p.sampling.clone();
     let st = &mut p.store;
     let mut rad = Radiation::new(st, &p.bodies, "t").unwrap();
-    let iota = st.symbol("iota");
-    let (sin, cos) = (st.sin(iota).unwrap(), st.cos(iota).unwrap());
-    let (z, one) = (st.zero(), st.one());
-    let n = [z, sin, cos];
-    let u = [one, z, z];
-    let v = [z, cos, st.neg(sin).unwrap()];
+    let (n, u, v) = inclined_basis(st);
     let r = st.symbol("r");
     let wave = rad.field(st, (&n, &u, &v), r).unwrap();
     let want_plus = crate::expression(
@@ -174,18 +196,7 @@ fn the_flux_through_a_large_sphere_is_the_luminosity() {
     let mut p = from_str("binary", BINARY).unwrap();
     let st = &mut p.store;
     let mut rad = Radiation::new(st, &p.bodies, "t").unwrap();
-    let (th, ph) = (st.symbol("th"), st.symbol("ph"));
-    let (st_, ct, sp, cp) = (
-        st.sin(th).unwrap(),
-        st.cos(th).unwrap(),
-        st.sin(ph).unwrap(),
-        st.cos(ph).unwrap(),
-    );
-    let z = st.zero();
-    let mul = |st: &mut Store, a: Form, b: Form| st.mul(a, b).unwrap();
-    let n = [mul(st, st_, cp), mul(st, st_, sp), ct];
-    let u = [mul(st, ct, cp), mul(st, ct, sp), st.neg(st_).unwrap()];
-    let v = [st.neg(sp).unwrap(), cp, z];
+    let (n, u, v) = polar_basis(st);
     let r = st.symbol("r");
     let w = rad.field(st, (&n, &u, &v), r).unwrap();
     let mut power = Vec::new();

@@ -1,9 +1,24 @@
-//! `lingrav radiation` and the claims about radiation in `check`, on the worked binary
-//! (a scenario of our own) against the circular-binary closed forms (checks.md 2c: the
-//! luminosity (32/5) mu^2 R^4 w^6 and the waveform's (1 + cos^2 i)/2 and cos i factors; common
-//! practice, e.g. Maggiore 2007 eqs. (3.332)-(3.333), from memory).
+//! `lingrav radiation` and the claims about radiation in `check`, on the worked binaries
+//! (scenarios of our own) against closed forms: the circular binary's luminosity
+//! (32/5) mu^2 R^4 w^6 and the waveform's (1 + cos^2 i)/2 and cos i factors (checks.md 2c;
+//! common practice, e.g. Maggiore 2007 eqs. (3.332)-(3.333), from memory), and the tilted
+//! unequal-mass binary's recoil, Fitchett's (1983, MNRAS 203, 1049) amplitude along the
+//! lighter star's velocity (`worked/recoil_binary.toml`); the next multipoles, their refusal
+//! for a body that is not rigid, and the symmetric sources that do not recoil.
 
 use super::support::{lingrav, worked};
+
+/// Asserts the `(key, status)` of each claim in `check --format json` output.
+fn assert_statuses(out: &str, want: &[(&str, &str)]) {
+    let j: serde_json::Value = serde_json::from_str(out).unwrap();
+    let got: Vec<(&str, &str)> = j["claims"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| (c["key"].as_str().unwrap(), c["status"].as_str().unwrap()))
+        .collect();
+    assert_eq!(got, want, "{out}");
+}
 
 #[test]
 fn radiation_of_the_worked_binary() {
@@ -70,20 +85,13 @@ fn an_accelerated_source_is_flagged_and_a_file_without_bodies_refused() {
 fn check_decides_claims_about_luminosity_and_waveform() {
     let (out, err, code) = lingrav(&["check", &worked("circular_binary.toml"), "--format", "json"]);
     assert_eq!(code, 0, "{out}{err}");
-    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
-    let keys: Vec<(&str, &str)> = j["claims"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|c| (c["key"].as_str().unwrap(), c["status"].as_str().unwrap()))
-        .collect();
-    assert_eq!(
-        keys,
-        [
+    assert_statuses(
+        &out,
+        &[
             ("luminosity", "holds"),
             ("luminosity_average", "holds"),
-            ("waveform", "holds")
-        ]
+            ("waveform", "holds"),
+        ],
     );
     // The wrong hand-derived waveform: h_plus proved, h_cross fails with a certified witness.
     let (out, _, code) = lingrav(&["check", &worked("binary_wrong_waveform.toml")]);
@@ -207,4 +215,214 @@ fn a_time_average_is_proved_and_checked_over_one_period() {
         assert!(out.contains("one period (32 points)"), "{out}");
         assert!(!out.contains("INTERNAL DEFECT"), "{out}");
     }
+}
+
+#[test]
+fn radiation_prints_the_next_multipoles_and_the_recoil() {
+    // The worked tilted binary (a scenario of our own): every new quantity printed and audited,
+    // the recoil periodic with average zero (it turns with the orbit), no refusal, no
+    // assumption (no rigid body).
+    let f = worked("recoil_binary.toml");
+    let (out, err, code) = lingrav(&["radiation", &f, "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(j["audit"]["defect"], false);
+    assert_eq!(j["next_order_refused"], serde_json::Value::Null);
+    assert_eq!(j["assumptions"].as_array().unwrap().len(), 0);
+    let q = j["quantities"].as_object().unwrap();
+    let names: Vec<&str> = q.keys().map(String::as_str).collect();
+    for k in [
+        "Q_xxx", "Q_xxy", "Q_xxz", "Q_xyy", "Q_xyz", "Q_xzz", "Q_yyy", "Q_yyz", "Q_yzz", "Q_zzz",
+        "S_xx", "S_xy", "S_xz", "S_yy", "S_yz", "S_zz", "dP_x/dt", "dP_y/dt", "dP_z/dt",
+    ] {
+        assert!(names.contains(&k), "{k} missing from {names:?}");
+        assert_eq!(q[k]["audit"]["result"], "consistent", "{k}: {}", q[k]);
+    }
+    for k in ["dP_x/dt", "dP_y/dt", "dP_z/dt"] {
+        assert_eq!(j["averages"][k]["expression"], "0", "{k}");
+        // The recoil of an unequal-mass orbit does not vanish at a given time.
+        assert_ne!(q[k]["expression"], "0", "{k}");
+    }
+    // Without --direction there is no waveform of either order.
+    assert!(!names.contains(&"h_plus_next"), "{names:?}");
+    let (text, err, code) = lingrav(&["radiation", &f]);
+    assert_eq!(code, 0, "{err}");
+    for line in [
+        "mass octupole Q_ijk = STF sum m x_i x_j x_k",
+        "current quadrupole S_ij = STF sum m x_i (x cross v)_j",
+        "linear momentum carried away, dP_i/dt = (2/63) d^4Q_iab d^3Q_ab + (16/45) eps_ipq",
+        "(the source recoils at -dP/dt)",
+        "  dP_x/dt = ",
+        "(average 0)",
+    ] {
+        assert!(text.contains(line), "{line}: {text}");
+    }
+    assert!(!text.contains("ASSUMED"), "{text}");
+}
+
+#[test]
+fn the_next_order_waveform_is_printed_along_a_direction() {
+    let f = worked("recoil_binary.toml");
+    let args = [
+        "radiation",
+        &f,
+        "--direction",
+        "theta=pi/3,phi=pi/4",
+        "--distance",
+        "500",
+        "--format",
+        "json",
+    ];
+    let (out, err, code) = lingrav(&args);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    for k in ["h_plus", "h_cross", "h_plus_next", "h_cross_next"] {
+        let q = &j["quantities"][k];
+        assert_eq!(q["audit"]["result"], "consistent", "{k}: {q}");
+        assert_ne!(q["expression"], "0", "{k}");
+    }
+    let (text, _, _) = lingrav(&args[..6]);
+    assert!(
+        text.contains("next order (not in h_plus, h_cross above)"),
+        "{text}"
+    );
+}
+
+#[test]
+fn equal_masses_and_a_spinning_star_do_not_recoil() {
+    // Equal masses: the orbit is symmetric under a half turn about its axis, which reverses
+    // any recoil in its plane, so dP = 0 exactly. The spinning star sits at the origin and
+    // has no octupole and no current quadrupole; its rigid-body assumption is printed.
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("equal.toml");
+    std::fs::write(
+        &p,
+        "[parameters]\nm = 1.0\nR = 12.0\n[binary]\nm1 = 'm'\nm2 = 'm'\nsemimajor_axis = 'R'\n",
+    )
+    .unwrap();
+    let (out, err, code) = lingrav(&["radiation", p.to_str().unwrap(), "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    for k in ["dP_x/dt", "dP_y/dt", "dP_z/dt"] {
+        assert_eq!(j["quantities"][k]["expression"], "0", "{k}");
+    }
+    let star = worked("spinning_star.toml");
+    let (out, err, code) = lingrav(&["radiation", &star, "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    for k in ["Q_xxx", "S_xy", "dP_z/dt"] {
+        assert_eq!(j["quantities"][k]["expression"], "0", "{k}");
+    }
+    let assumed = j["assumptions"][0].as_str().unwrap();
+    assert!(
+        assumed.contains("reflection-symmetric in its three principal planes"),
+        "{assumed}"
+    );
+    let (text, _, _) = lingrav(&["radiation", &star]);
+    assert!(text.contains("ASSUMED: a rigid body is taken"), "{text}");
+}
+
+#[test]
+fn a_rigid_body_whose_moments_change_is_refused_at_the_next_order() {
+    // Its quadrupole is still printed (it needs only the second moment); the octupole, the
+    // current quadrupole and the recoil are not, with the reason; a claim about the recoil
+    // is undecided (exit 3), not silently dropped.
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("growing.toml");
+    std::fs::write(
+        &p,
+        "[parameters]\nW = 0.05\n[[body]]\nmass = 1\nposition = ['cos(t)', '0', '0']\n\
+         moments = ['1/2 + t/100', '1/3', '1/5']\nangle = 'W*t'\n\
+         [claims]\nmomentum_flux = ['0', '0', '0']\n",
+    )
+    .unwrap();
+    let (out, err, code) = lingrav(&["radiation", p.to_str().unwrap(), "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let why = j["next_order_refused"].as_str().unwrap();
+    assert!(
+        why.contains("1/2 + t/100") && why.contains("not rigid"),
+        "{why}"
+    );
+    assert!(j["quantities"].get("Q_xx").is_some());
+    assert!(j["quantities"].get("dP_x/dt").is_none());
+    let (text, _, _) = lingrav(&["radiation", p.to_str().unwrap()]);
+    assert!(
+        text.contains("mass octupole, current quadrupole and momentum flux: not computed:"),
+        "{text}"
+    );
+    let (out, err, code) = lingrav(&["check", p.to_str().unwrap()]);
+    assert_eq!(code, 3, "{out}{err}");
+    assert!(out.contains("undecided  momentum flux"), "{out}");
+    assert!(out.contains("not rigid"), "{out}");
+}
+
+#[test]
+fn check_decides_claims_about_the_momentum_flux() {
+    let (out, err, code) = lingrav(&["check", &worked("recoil_binary.toml"), "--format", "json"]);
+    assert_eq!(code, 0, "{out}{err}");
+    assert_statuses(
+        &out,
+        &[
+            ("momentum_flux", "holds"),
+            ("momentum_flux_average", "holds"),
+        ],
+    );
+    // The same file with the recoil's sign flipped in y (the classic slip: the direction of
+    // the heavier body's velocity instead of the lighter one's), and a nonzero average: both
+    // fail, each with its component named and a certified witness.
+    let text = std::fs::read_to_string(worked("recoil_binary.toml")).unwrap();
+    let wrong = text
+        .replace("'-A*cos(w*t)*cos(incl)'", "'A*cos(w*t)*cos(incl)'")
+        .replace(
+            "momentum_flux_average = ['0', '0', '0']",
+            "momentum_flux_average = ['0', '0', 'A/10']",
+        );
+    assert_ne!(wrong, text);
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("wrong.toml");
+    std::fs::write(&p, wrong).unwrap();
+    let (out, err, code) = lingrav(&["check", p.to_str().unwrap()]);
+    assert_eq!(code, 1, "{out}{err}");
+    assert!(out.contains("fails      momentum flux"), "{out}");
+    assert!(
+        out.contains("fails      time-averaged momentum flux"),
+        "{out}"
+    );
+    assert!(out.contains("claimed dP_y/dt - formula dP_y/dt"), "{out}");
+    assert!(!out.contains("claimed dP_x/dt - formula dP_x/dt"), "{out}");
+    assert!(
+        out.contains("claimed <dP_z/dt> - <formula dP_z/dt>"),
+        "{out}"
+    );
+    assert!(!out.contains("INTERNAL DEFECT"), "{out}");
+}
+
+#[test]
+fn the_recoil_of_a_head_on_plunge_has_no_time_average() {
+    // Unequal masses falling along x (the worked plunge with m2 != m1): the recoil is along x,
+    // and with no periodic motion a claimed average is undecided with the reason.
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("plunge.toml");
+    std::fs::write(
+        &p,
+        "[parameters]\nm1 = 1.0\nm2 = 0.5\n[functions]\nX = '10 - u^2/40'\n\
+         [[body]]\nmass = 'm1'\nposition = ['m2*X(t)/(m1 + m2)', '0', '0']\n\
+         [[body]]\nmass = 'm2'\nposition = ['-m1*X(t)/(m1 + m2)', '0', '0']\n\
+         [claims]\nmomentum_flux_average = ['0', '0', '0']\n",
+    )
+    .unwrap();
+    let (out, err, code) = lingrav(&["radiation", p.to_str().unwrap(), "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_ne!(j["quantities"]["dP_x/dt"]["expression"], "0");
+    assert_eq!(j["quantities"]["dP_y/dt"]["expression"], "0");
+    assert_eq!(j["quantities"]["dP_z/dt"]["expression"], "0");
+    assert_eq!(
+        j["averages"]["dP_x/dt"]["expression"],
+        serde_json::Value::Null
+    );
+    let (out, err, code) = lingrav(&["check", p.to_str().unwrap()]);
+    assert_eq!(code, 3, "{out}{err}");
+    assert!(out.contains("no time average of dP_x/dt"), "{out}");
 }

@@ -1,5 +1,7 @@
-//! `lingrav radiation`: what a file's bodies radiate at quadrupole order, exactly: moments,
-//! luminosity, angular-momentum flux, their time averages, and the waveform along a direction.
+//! `lingrav radiation`: what a file's bodies radiate, exactly: at quadrupole order the mass
+//! quadrupole, the luminosity, the angular-momentum flux and the waveform along a direction;
+//! at the next order the mass octupole, the current quadrupole, the linear momentum they carry
+//! (with the quadrupole) and their waveform; the time averages of the fluxes.
 
 use crate::canon::{CanonError, Form};
 use crate::cli::audit::{audit_json, point_lines, points_json};
@@ -7,6 +9,7 @@ use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, gave_up, print};
 use crate::cli::plan::{build_arg, numbers, plan_direction, plan_optional_output, write_atomic};
 use crate::cli::report::{Format, conventions, heading, json};
+use crate::radiation::multipole::{IJK, NextOrder, RIGID_ASSUMPTION, refusal};
 use crate::radiation::{Average, Radiation, time_average};
 use crate::tt::DirectionKind;
 use crate::zero::{Verdict, decide};
@@ -153,25 +156,68 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
             definition: defs.angular_momentum(i),
         });
     }
-    // The waveform, audited at t + R against (1/R) ddQ_ij(t) e_ij.
+    // The next multipoles and the momentum they carry, unless a rigid body's motion is not
+    // rigid (the reason is printed instead).
+    let next_refused = refusal(st, &p.bodies, rad.t);
+    let mut next = match next_refused {
+        None => Some(NextOrder::new(st, &p.bodies, &t_name).map_err(limit)?),
+        Some(_) => None,
+    };
+    let mut dp = Vec::new();
+    if let Some(next) = &mut next {
+        for &(i, j, k) in &IJK {
+            rows.push(Row {
+                name: format!("Q_{}{}{}", AXES[i], AXES[j], AXES[k]),
+                form: next.octupole[i][j][k],
+                definition: defs.octupole(i, j, k).to_string(),
+            });
+        }
+        for &(i, j) in &IJ {
+            rows.push(Row {
+                name: format!("S_{}{}", AXES[i], AXES[j]),
+                form: next.current[i][j],
+                definition: defs.current(i, j).to_string(),
+            });
+        }
+        dp = next.momentum_flux(st, &mut rad).map_err(limit)?.to_vec();
+        for (i, &f) in dp.iter().enumerate() {
+            rows.push(Row {
+                name: format!("dP_{}/dt", AXES[i]),
+                form: f,
+                definition: defs.momentum(i),
+            });
+        }
+    }
+    // The waveform, audited at t + R against (1/R) ddQ_ij(t) e_ij (and the next order
+    // against its own definition).
     let mut wave_rows = Vec::new();
     if let Some(dir) = &dir {
         let w = rad
             .field(st, (&dir.n, &dir.u, &dir.v), distance)
             .map_err(limit)?;
+        let n = crate::radiation::claims::vector_texts(st, &dir.n);
         let u = crate::radiation::claims::vector_texts(st, &dir.u);
         let v = crate::radiation::claims::vector_texts(st, &dir.v);
         let [plus_def, cross_def] = defs.polarizations(&u, &v, &distance_text);
+        let mut fields = vec![
+            ("h_plus", w.plus, plus_def),
+            ("h_cross", w.cross, cross_def),
+        ];
+        if let Some(next) = &mut next {
+            let w = next
+                .field(st, (&dir.n, &dir.u, &dir.v), distance)
+                .map_err(limit)?;
+            let [plus_def, cross_def] = defs.polarizations_next(&n, (&u, &v), &distance_text);
+            fields.push(("h_plus_next", w.plus, plus_def));
+            fields.push(("h_cross_next", w.cross, cross_def));
+        }
         // Shift the printed forms to t + R so that they meet the definitions at t.
         let t = st.symbol_kernel(&t_name);
         let tf = st.symbol(&t_name);
         let ahead = st.add(tf, distance).map_err(limit)?;
         let mut subs = rustc_hash::FxHashMap::default();
         subs.insert(t, ahead);
-        for (name, f, def) in [
-            ("h_plus", w.plus, plus_def),
-            ("h_cross", w.cross, cross_def),
-        ] {
+        for (name, f, def) in fields {
             let shifted = st.substitute(f, &subs).map_err(limit)?;
             wave_rows.push((name, f, shifted, def));
         }
@@ -224,6 +270,14 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     for &f in &dj {
         dj_avg.push(average(st, f)?);
     }
+    let mut dp_avg = Vec::new();
+    for &f in &dp {
+        dp_avg.push(average(st, f)?);
+    }
+    let assumptions: Vec<&str> = match &next {
+        Some(n) if n.rigid => vec![RIGID_ASSUMPTION],
+        _ => Vec::new(),
+    };
     let mut accelerates = Vec::new();
     for (i, &f) in rad.dipole_acceleration.iter().enumerate() {
         match decide(st, f, &sampling) {
@@ -298,7 +352,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                 s,
                 "trace-free quadrupole Q_ij = sum m (x_i x_j - delta_ij |x|^2/3), about the origin:"
             );
-            for (n, t) in printed.iter().take(6) {
+            for (n, t) in &printed[..6] {
                 let _ = writeln!(s, "  {n} = {t}");
             }
             let _ = writeln!(s, "luminosity L = (1/5) dddQ_ij dddQ_ij (G = c = 1):");
@@ -308,14 +362,46 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                 s,
                 "angular momentum carried away, dJ_i/dt = -(2/5) eps_ijk ddQ_ja dddQ_ka:"
             );
-            for i in 0..3 {
-                let _ = writeln!(
-                    s,
-                    "  {} = {}   (average {})",
-                    printed[7 + i].0,
-                    printed[7 + i].1,
-                    avg_text(&dj_avg[i])
-                );
+            let with_averages = |s: &mut String, rows: &[(String, String)], avgs: &[_]| {
+                for ((n, t), a) in rows.iter().zip(avgs) {
+                    let _ = writeln!(s, "  {n} = {t}   (average {})", avg_text(a));
+                }
+            };
+            with_averages(&mut s, &printed[7..10], &dj_avg);
+            match &next_refused {
+                Some(why) => {
+                    let _ = writeln!(
+                        s,
+                        "mass octupole, current quadrupole and momentum flux: not computed: {why}"
+                    );
+                }
+                None => {
+                    let _ = writeln!(
+                        s,
+                        "mass octupole Q_ijk = STF sum m x_i x_j x_k (trace-free in every pair), \
+                         about the origin:"
+                    );
+                    for (n, t) in &printed[10..20] {
+                        let _ = writeln!(s, "  {n} = {t}");
+                    }
+                    let _ = writeln!(
+                        s,
+                        "current quadrupole S_ij = STF sum m x_i (x cross v)_j (Thorne 1980's \
+                         normalisation), about the origin:"
+                    );
+                    for (n, t) in &printed[20..26] {
+                        let _ = writeln!(s, "  {n} = {t}");
+                    }
+                    let _ = writeln!(
+                        s,
+                        "linear momentum carried away, dP_i/dt = (2/63) d^4Q_iab d^3Q_ab + \
+                         (16/45) eps_ipq d^3Q_pa d^3S_qa (the source recoils at -dP/dt):"
+                    );
+                    with_averages(&mut s, &printed[26..29], &dp_avg);
+                    for a in &assumptions {
+                        let _ = writeln!(s, "ASSUMED: {a}");
+                    }
+                }
             }
             if let Some(dir) = &dir {
                 let st = &mut p.store;
@@ -331,8 +417,20 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                     vec(st, &dir.u),
                     vec(st, &dir.v)
                 );
-                for (n, t) in printed.iter().skip(10) {
+                let waves = &printed[rows.len()..];
+                for (n, t) in &waves[..2] {
                     let _ = writeln!(s, "  {n} = {t}");
+                }
+                if waves.len() > 2 {
+                    let _ = writeln!(
+                        s,
+                        "next order (not in h_plus, h_cross above): h^TT_next = \
+                         (1/{distance_text}) Lambda(n) [(2/3) n_k dddQ_ijk + (4/3)(eps_kil n_k \
+                         ddS_jl + eps_kjl n_k ddS_il)]({t_name} - {distance_text})"
+                    );
+                    for (n, t) in &waves[2..] {
+                        let _ = writeln!(s, "  {n} = {t}");
+                    }
                 }
             }
             let _ = writeln!(
@@ -373,6 +471,14 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                 Ok(t) => serde_json::json!({ "expression": t }),
                 Err(why) => serde_json::json!({ "expression": null, "reason": why }),
             };
+            let mut averages = serde_json::Map::new();
+            averages.insert("L".into(), avg_json(&l_avg));
+            for (i, a) in dj_avg.iter().enumerate() {
+                averages.insert(format!("dJ_{}/dt", AXES[i]), avg_json(a));
+            }
+            for (i, a) in dp_avg.iter().enumerate() {
+                averages.insert(format!("dP_{}/dt", AXES[i]), avg_json(a));
+            }
             json(&serde_json::json!({
                 "file": label,
                 "name": p.name,
@@ -382,12 +488,9 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                 "dipole_accelerates": !accelerates.is_empty(),
                 "dipole_acceleration": accelerates,
                 "quantities": quantities,
-                "averages": {
-                    "L": avg_json(&l_avg),
-                    "dJ_x/dt": avg_json(&dj_avg[0]),
-                    "dJ_y/dt": avg_json(&dj_avg[1]),
-                    "dJ_z/dt": avg_json(&dj_avg[2]),
-                },
+                "averages": averages,
+                "next_order_refused": next_refused,
+                "assumptions": assumptions,
                 "distance": dir.as_ref().map(|_| distance_text.clone()),
                 "direction": dir_json,
                 "svg": written,
