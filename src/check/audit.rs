@@ -271,6 +271,11 @@ pub fn audit_claims_with(
         let expect_zero = c.asserted.unwrap_or(true);
         let refs: Vec<&Verdict> = c.components.iter().map(|k| &k.verdict).collect();
         c.status = Status::of(&refs, expect_zero);
+        // A disagreement of the two routes is never a pass: a claim written `= false` would
+        // otherwise hold on the independent value of a contradicted proof.
+        if c.status == Status::Holds && c.components.iter().any(|k| k.audit.is_defect()) {
+            c.status = Status::Undecided;
+        }
         c.method = format!(
             "{}; {}",
             method_text(&c.components, c.status, expect_zero),
@@ -513,6 +518,30 @@ mod tests {
             assert_eq!(fe.components[i].audit, Audited::ProofContradicted);
             assert!(matches!(fe.components[i].verdict, Verdict::Nonzero(_)));
         }
+    }
+
+    /// A contradicted proof under a claim written `= false` does not make the claim hold:
+    /// the claim is undecided and the report has a defect (the command exits 1).
+    #[test]
+    fn a_defect_under_a_false_claim_is_never_a_pass() {
+        let text = WRONG.replace("field_equations = true", "field_equations = false");
+        assert_ne!(
+            text, WRONG,
+            "the test file has a field_equations claim to negate"
+        );
+        let mut p = crate::problem::from_str("wrong.toml", &text).unwrap();
+        let mut report = check(&mut p);
+        let fe = &mut report.claims[0];
+        assert_eq!(fe.status, Status::Holds, "nonzero, as claimed");
+        for k in &mut fe.components {
+            k.verdict = Verdict::Zero;
+        }
+        fe.status = Status::Fails;
+        audit_claims(&p, &mut report.claims, 7);
+        let fe = &report.claims[0];
+        assert!(fe.method.contains("INTERNAL DEFECT"), "{}", fe.method);
+        assert_eq!(fe.status, Status::Undecided, "{}", fe.method);
+        assert!(report.has_defect());
     }
 
     /// A witness the independent route cannot confirm becomes undecided, never "fails".

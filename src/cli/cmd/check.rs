@@ -138,7 +138,13 @@ fn one(a: &CheckArgs, file: &std::path::Path) -> Result<(String, Outcome), Failu
         Format::Text => render_text(&mut problem.store, &label, problem.name.as_deref(), &report),
         Format::Json => render_json(&mut problem, &label, &report),
     };
-    Ok((text, Outcome::of(report.overall())))
+    // An INTERNAL DEFECT (the two routes disagree) ends as 1, whatever the claims say.
+    let outcome = if report.has_defect() {
+        Outcome::Fails
+    } else {
+        Outcome::of(report.overall())
+    };
+    Ok((text, outcome))
 }
 
 fn status_word(c: &ClaimReport, has_claims: bool) -> &'static str {
