@@ -124,6 +124,26 @@ impl Budget {
     }
 }
 
+// mimalloc's C interface for its options (the library is linked through the `mimalloc` crate).
+unsafe extern "C" {
+    fn mi_option_set(option: std::ffi::c_int, value: std::ffi::c_long);
+    #[cfg(test)]
+    fn mi_option_get(option: std::ffi::c_int) -> std::ffi::c_long;
+}
+
+/// `mi_option_purge_delay` in the mimalloc version the `mimalloc` crate builds (v3: the 16th
+/// entry of `mi_option_t`); a test checks its default, 1000 ms (`src/options.c`).
+const MI_OPTION_PURGE_DELAY: std::ffi::c_int = 15;
+
+/// Tells mimalloc to return freed memory to the system at once rather than after a second:
+/// with the delay the peak resident memory of the largest benchmark case was 45% above the
+/// system allocator's (263 MB against 182 MB), without it about the same (186 MB), at no
+/// measurable cost in time. Called by [`crate::command_line`] before any work.
+pub fn release_memory_promptly() {
+    // SAFETY: a plain setter of an integer option, valid at any time.
+    unsafe { mi_option_set(MI_OPTION_PURGE_DELAY, 0) };
+}
+
 /// Bytes a thread counts locally before it adds them to [`GLOBAL`]: one shared atomic
 /// updated on every allocation by two busy threads bounced its cache line between the cores
 /// and made counting cost more than allocating. The counter is therefore exact up to this
@@ -281,6 +301,18 @@ mod tests {
         );
         assert!(default_cap() >= 1 << 20);
         assert!(!over_budget(), "unit tests count nothing globally");
+    }
+
+    #[test]
+    fn the_purge_delay_option_is_the_one_set() {
+        // SAFETY: a plain getter of an integer option.
+        let default = unsafe { mi_option_get(MI_OPTION_PURGE_DELAY) };
+        assert_eq!(default, 1000, "mimalloc's purge delay defaults to 1000 ms");
+        release_memory_promptly();
+        // SAFETY: as above.
+        assert_eq!(unsafe { mi_option_get(MI_OPTION_PURGE_DELAY) }, 0);
+        // SAFETY: as above; back to the default for the other tests of this process.
+        unsafe { mi_option_set(MI_OPTION_PURGE_DELAY, 1000) };
     }
 
     #[test]

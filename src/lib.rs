@@ -90,6 +90,7 @@ pub use zero::{Sampling, Verdict, Witness, decide};
 /// Ctrl-C. The `lingrav` binary is this function and [`budget::Counting`].
 #[must_use]
 pub fn command_line() -> std::process::ExitCode {
+    budget::release_memory_promptly();
     output::install_signal_cleanup();
     cli::run()
 }
