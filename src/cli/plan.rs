@@ -209,3 +209,34 @@ impl ProblemOutput {
         plan_optional_output(self.output.as_deref(), self.force, "--output")
     }
 }
+
+/// The names that the expression commands read as arbitrary functions in `forms` (a name
+/// applied to an argument that is not a built-in function, `atan(x)` or `F(t - r)`), sorted.
+pub fn arbitrary_functions(
+    st: &mut crate::canon::Store,
+    forms: &[crate::canon::Form],
+) -> Vec<String> {
+    let mut names: Vec<String> = forms
+        .iter()
+        .flat_map(|&f| st.functions_used(f))
+        .map(|n| n.to_string())
+        .collect();
+    names.sort();
+    names.dedup();
+    names
+}
+
+/// The line that says how those names were read, so that a verdict about an unknown name is
+/// not taken for one about the function the user meant; `None` when there are none.
+pub fn arbitrary_note(names: &[String]) -> Option<String> {
+    if names.is_empty() {
+        return None;
+    }
+    let list: Vec<String> = names.iter().map(|n| format!("`{n}`")).collect();
+    Some(format!(
+        "note: {} {} not a built-in function; read as an arbitrary function of its argument \
+         (a proof holds for every such function; a witness uses a generic sample of it)",
+        list.join(", "),
+        if names.len() == 1 { "is" } else { "are" }
+    ))
+}

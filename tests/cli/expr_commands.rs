@@ -118,8 +118,10 @@ fn check_prints(args: &[&str], want: &str) {
     assert_clean(args, &out, 0);
     let lines: Vec<&str> = out.0.lines().collect();
     assert_eq!(lines.first(), Some(&want), "lingrav {args:?}: {}", out.0);
+    // Then, when the input applies names that are not built-ins, the note that says so.
+    let note_ok = lines.len() == 2 || (lines.len() == 3 && lines[2].starts_with("note: `"));
     assert!(
-        lines.len() == 2 && lines[1].starts_with("audited: agrees"),
+        lines.len() >= 2 && lines[1].starts_with("audited: agrees") && note_ok,
         "lingrav {args:?}: the audit line is missing:\n{}",
         out.0
     );
@@ -206,4 +208,28 @@ fn diff_needs_a_variable_name() {
     }
     let (_, stderr, _) = lingrav(&["diff", "x^2", "2x"]);
     assert!(stderr.contains("cannot differentiate by `2x`"), "{stderr}");
+}
+
+/// A name applied to an argument that is not a built-in function is said to be read as an
+/// arbitrary function (text and JSON), so that a verdict about `atan(x)` is not taken for one
+/// about the arctangent; built-ins alone give no note.
+#[test]
+fn issue_14_unknown_function_names_are_reported() {
+    let (out, _, code) = lingrav(&["zero", "atan(x)^2 - 1"]);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains("note: `atan` is not a built-in function; read as an arbitrary function"),
+        "{out}"
+    );
+    let (out, _, code) = lingrav(&["simplify", "--format", "json", "G(x)*H(y)"]);
+    assert_eq!(code, 0, "{out}");
+    let j: serde_json::Value = serde_json::from_str(&out).expect("JSON");
+    assert_eq!(
+        j["arbitrary_functions"],
+        serde_json::json!(["G", "H"]),
+        "{j}"
+    );
+    let (out, _, code) = lingrav(&["diff", "sin(x)*x", "x"]);
+    assert_eq!(code, 0, "{out}");
+    assert!(!out.contains("note:"), "{out}");
 }

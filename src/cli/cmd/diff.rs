@@ -20,6 +20,7 @@ pub struct DiffArgs {
 pub fn run(a: DiffArgs) -> Result<Outcome, Failure> {
     let mut st = a.form.limits.store();
     let mut f = build_arg(&mut st, &a.form.expr, "expression")?;
+    let arbitrary = crate::cli::plan::arbitrary_functions(&mut st, &[f]);
     for v in &a.vars {
         let ok = !v.is_empty()
             && v.chars()
@@ -35,5 +36,5 @@ pub fn run(a: DiffArgs) -> Result<Outcome, Failure> {
         f = st.diff_by_name(f, v).map_err(|e| gave_up(&e))?;
     }
     let by: Vec<&str> = a.vars.iter().map(String::as_str).collect();
-    print_form(&mut st, f, &a.form, &by)
+    print_form(&mut st, f, &a.form, &by, &arbitrary)
 }

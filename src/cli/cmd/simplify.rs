@@ -35,6 +35,7 @@ pub fn print_form(
     f: Form,
     a: &SimplifyArgs,
     by: &[&str],
+    arbitrary: &[String],
 ) -> Result<Outcome, Failure> {
     let (input, latex, format, audit) = (a.expr.as_str(), a.latex, a.format, &a.audit);
     let plain = st.to_text(f);
@@ -58,6 +59,8 @@ pub fn print_form(
             json(&j)
         }
     };
+    let mut text = text;
+    super::zero::add_arbitrary_note(&mut text, format, arbitrary);
     print(&text)?;
     Ok(outcome)
 }
@@ -66,5 +69,6 @@ pub fn print_form(
 pub fn run(a: SimplifyArgs) -> Result<Outcome, Failure> {
     let mut st = a.limits.store();
     let f = build_arg(&mut st, &a.expr, "expression")?;
-    print_form(&mut st, f, &a, &[])
+    let arbitrary = crate::cli::plan::arbitrary_functions(&mut st, &[f]);
+    print_form(&mut st, f, &a, &[], &arbitrary)
 }

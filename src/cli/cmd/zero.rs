@@ -40,11 +40,14 @@ pub struct ZeroArgs {
 pub fn run(a: ZeroArgs) -> Result<Outcome, Failure> {
     let mut st = a.limits.store();
     let f = build_arg(&mut st, &a.expr, "expression")?;
-    let diff = match &a.other {
-        Some(o) => {
-            let g = build_arg(&mut st, o, "second expression")?;
-            st.sub(f, g)
-        }
+    let g = match &a.other {
+        Some(o) => Some(build_arg(&mut st, o, "second expression")?),
+        None => None,
+    };
+    let inputs: Vec<_> = std::iter::once(f).chain(g).collect();
+    let arbitrary = crate::cli::plan::arbitrary_functions(&mut st, &inputs);
+    let diff = match g {
+        Some(g) => st.sub(f, g),
         None => Ok(f),
     };
     let sampling = Sampling {
@@ -62,9 +65,29 @@ pub fn run(a: ZeroArgs) -> Result<Outcome, Failure> {
     let functions: Vec<String> = residual
         .map(|d| st.functions_used(d).iter().map(|f| f.to_string()).collect())
         .unwrap_or_default();
-    let (text, outcome) = zero_report(&a, verdict, residual_text, &functions);
+    let (mut text, outcome) = zero_report(&a, verdict, residual_text, &functions);
+    add_arbitrary_note(&mut text, a.shown.format, &arbitrary);
     print(&text)?;
     Ok(outcome)
+}
+
+/// The note on names read as arbitrary functions: a line of text, or the key
+/// `arbitrary_functions` of the JSON object.
+pub(super) fn add_arbitrary_note(text: &mut String, format: Format, names: &[String]) {
+    match format {
+        Format::Text => {
+            if let Some(note) = crate::cli::plan::arbitrary_note(names) {
+                text.push_str(&note);
+                text.push('\n');
+            }
+        }
+        Format::Json => {
+            if let Ok(mut j) = serde_json::from_str::<serde_json::Value>(text) {
+                j["arbitrary_functions"] = serde_json::json!(names);
+                *text = json(&j);
+            }
+        }
+    }
 }
 
 /// The audited verdict of `zero` and its report. `verdict` is the exact route's.
