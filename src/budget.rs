@@ -2,9 +2,9 @@
 //!
 //! Model. The `lingrav` binary installs [`Counting`] as its global allocator: mimalloc (a
 //! compact, fast allocator for many small, short-lived blocks, which is what canonical forms
-//! allocate; about 1.3x faster than the system allocator on small checks, `cargo bench --bench
-//! check_files`), calling [`allocated`] and [`freed`] for every allocation; the library only reads the result
-//! through [`over_budget`], which long computations poll and turn into "undecided: too large"
+//! allocate; about 1.3x faster than the system allocator on small checks, `cargo bench
+//! --bench check_files`), calling [`allocated`] and [`freed`] for every allocation; the
+//! library only reads the result through [`over_budget`], which long computations poll and turn into "undecided: too large"
 //! (the same outcome as a term limit). The allocator never refuses memory because of the cap:
 //! an allocation that fails makes Rust abort the process, which is exactly the crash this
 //! budget exists to prevent. Passing the cap only raises the flag, so the computation that
@@ -159,6 +159,9 @@ impl Drop for Pending {
     }
 }
 
+// Registering `Pending`'s destructor must not allocate through this allocator (it would
+// re-enter `count` while the local is being set up): on glibc Rust registers it with
+// `__cxa_thread_atexit_impl`, which allocates with the C library's own malloc.
 thread_local! {
     static PENDING: Pending = const { Pending(Cell::new(0)) };
 }

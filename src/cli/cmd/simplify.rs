@@ -42,13 +42,17 @@ pub fn print_form(
     let shown = if latex { st.to_latex(f) } else { plain.clone() };
     let (note, outcome, finding) = form_audit(audit, input, &plain, by, latex);
     let text = match format {
-        Format::Text => format!("{shown}\n{note}"),
+        Format::Text => match crate::cli::plan::arbitrary_note(arbitrary) {
+            Some(names) => format!("{shown}\n{note}{names}\n"),
+            None => format!("{shown}\n{note}"),
+        },
         Format::Json => {
             let mut j = serde_json::json!({
                 "input": input,
                 "result": plain,
                 "audit": audit_json(&finding, audit.seed),
                 "defect": outcome == Outcome::Fails,
+                "arbitrary_functions": arbitrary,
             });
             if !by.is_empty() {
                 j["by"] = serde_json::json!(by);
@@ -59,8 +63,6 @@ pub fn print_form(
             json(&j)
         }
     };
-    let mut text = text;
-    super::zero::add_arbitrary_note(&mut text, format, arbitrary);
     print(&text)?;
     Ok(outcome)
 }

@@ -5,7 +5,7 @@ use crate::audit::expr::{Expressions, Finding};
 use crate::check::verdicts::audit_verdicts;
 use crate::cli::audit::{AuditedFormat, audit_json, points_text};
 use crate::cli::out::{Failure, Outcome, print};
-use crate::cli::plan::build_arg;
+use crate::cli::plan::{arbitrary_note, build_arg};
 use crate::cli::report::{Format, json, point_json};
 use crate::zero::{Sampling, Verdict, decide};
 use clap::Args;
@@ -65,29 +65,9 @@ pub fn run(a: ZeroArgs) -> Result<Outcome, Failure> {
     let functions: Vec<String> = residual
         .map(|d| st.functions_used(d).iter().map(|f| f.to_string()).collect())
         .unwrap_or_default();
-    let (mut text, outcome) = zero_report(&a, verdict, residual_text, &functions);
-    add_arbitrary_note(&mut text, a.shown.format, &arbitrary);
+    let (text, outcome) = zero_report(&a, verdict, residual_text, &functions, &arbitrary);
     print(&text)?;
     Ok(outcome)
-}
-
-/// The note on names read as arbitrary functions: a line of text, or the key
-/// `arbitrary_functions` of the JSON object.
-pub(super) fn add_arbitrary_note(text: &mut String, format: Format, names: &[String]) {
-    match format {
-        Format::Text => {
-            if let Some(note) = crate::cli::plan::arbitrary_note(names) {
-                text.push_str(&note);
-                text.push('\n');
-            }
-        }
-        Format::Json => {
-            if let Ok(mut j) = serde_json::from_str::<serde_json::Value>(text) {
-                j["arbitrary_functions"] = serde_json::json!(names);
-                *text = json(&j);
-            }
-        }
-    }
 }
 
 /// The audited verdict of `zero` and its report. `verdict` is the exact route's.
@@ -96,6 +76,7 @@ fn zero_report(
     verdict: Verdict,
     residual_text: Option<String>,
     functions: &[String],
+    arbitrary: &[String],
 ) -> (String, Outcome) {
     let route = Expressions::new(&a.expr, a.other.as_deref(), &[], functions);
     let mut verdicts = [verdict];
@@ -120,6 +101,9 @@ fn zero_report(
             if a.shown.audit_points {
                 s.push_str(&points_text(&[&finding]));
             }
+            if let Some(note) = arbitrary_note(arbitrary) {
+                let _ = writeln!(s, "{note}");
+            }
             s
         }
         Format::Json => {
@@ -141,6 +125,7 @@ fn zero_report(
                 j["canonical_form"] = r.clone().into();
             }
             j["audit"] = audit_json(&finding, a.seed);
+            j["arbitrary_functions"] = serde_json::json!(arbitrary);
             json(&j)
         }
     };
@@ -186,7 +171,7 @@ mod tests {
     #[test]
     fn issue9_zero_reports_a_false_proof_as_an_internal_defect() {
         let a = zero_args(&["sin(2*x)", "2*sin(x)"]);
-        let (text, outcome) = zero_report(&a, Verdict::Zero, None, &[]);
+        let (text, outcome) = zero_report(&a, Verdict::Zero, None, &[], &[]);
         assert_eq!(outcome, Outcome::Fails, "{text}");
         assert!(
             text.starts_with("nonzero: certified by the independent evaluation at x = "),
@@ -199,7 +184,7 @@ mod tests {
         assert!(!text.contains("zero: proved"), "{text}");
 
         let a = zero_args(&["sin(2*x)", "2*sin(x)", "--format", "json"]);
-        let (text, outcome) = zero_report(&a, Verdict::Zero, None, &[]);
+        let (text, outcome) = zero_report(&a, Verdict::Zero, None, &[], &[]);
         assert_eq!(outcome, Outcome::Fails);
         let j: serde_json::Value = serde_json::from_str(&text).expect("json");
         assert_eq!(j["verdict"], "nonzero", "{j}");
@@ -218,7 +203,7 @@ mod tests {
     fn issue9_zero_turns_an_unconfirmed_witness_into_undecided() {
         let a = zero_args(&["sin(x)^2 + cos(x)^2 - 1"]);
         let fake = witness(&[("x", 0.5)], 1.0, 2.0);
-        let (text, outcome) = zero_report(&a, fake, Some("residual".into()), &[]);
+        let (text, outcome) = zero_report(&a, fake, Some("residual".into()), &[], &[]);
         assert_eq!(outcome, Outcome::Undecided, "{text}");
         assert!(text.starts_with("undecided: not reduced to zero"), "{text}");
         assert!(
@@ -236,7 +221,7 @@ mod tests {
     fn issue9_zero_reports_disagreeing_values() {
         let a = zero_args(&["x + 1"]);
         let wrong = witness(&[("x", 0.5)], 5.0, 6.0);
-        let (text, outcome) = zero_report(&a, wrong, None, &[]);
+        let (text, outcome) = zero_report(&a, wrong, None, &[], &[]);
         assert_eq!(outcome, Outcome::Fails, "{text}");
         assert!(
             text.contains("INTERNAL DEFECT: both routes certify"),
