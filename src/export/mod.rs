@@ -3,8 +3,9 @@
 //!
 //! Model. An export is a list of [`quantity::Block`]s (exact column forms, fixed names and
 //! orders), a [`points::PointSet`] (a points file or a grid), the parameter values, and a
-//! [`write::Format`]. [`evaluate`] fills a [`write::Table`] whose columns are `t, x, y, z`
-//! and then every component; [`sidecar`] describes it: the conventions, the parameter
+//! [`write::Format`]. [`evaluate`] gives rows whose columns are `t, x, y, z` and then every
+//! component to a sink (the command's [`write::RowWriter`] on a temporary file), one row
+//! at a time; [`sidecar`] describes them: the conventions, the parameter
 //! values, the exact expression of every column, the points and the tool version.
 //!
 //! Key design decision: every value is computed by the independent route ([`certify`]:
@@ -37,7 +38,7 @@ use quantity::Block;
 use quantity::Quantity;
 use rustc_hash::FxHashMap;
 use serde_json::{Value, json};
-use write::{Format, Table};
+use write::Format;
 
 /// A value that could not be computed.
 #[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
@@ -182,25 +183,34 @@ impl Numeric {
         self.audit.coordinates()
     }
 
-    /// Every column at each of `coords` through the interval program in f64 intervals, into
-    /// `out` row after row (`coords.len()` times the number of columns; in parallel with the
-    /// `parallel` feature, [`program::LANES`] points at a time); false without a program.
-    fn fast_block(&self, coords: &[[f64; 4]], out: &mut Vec<Option<Interval>>) -> bool {
+    /// Every column at each of `coords` through the interval program in f64 intervals,
+    /// judged ([`first_judgement`], `exact_zero` per column), into `out` row after row
+    /// (`coords.len()` times the number of columns; in parallel with the `parallel` feature,
+    /// [`program::LANES`] points at a time); false without a program.
+    fn fast_block(
+        &self,
+        coords: &[[f64; 4]],
+        exact_zero: &[bool],
+        tol: f64,
+        out: &mut Vec<Judged>,
+    ) -> bool {
         let Some((p, outs)) = self.program.as_ref() else {
             return false;
         };
         let ncol = outs.len();
+        if ncol != exact_zero.len() {
+            return false;
+        }
         out.clear();
-        out.resize(coords.len() * ncol, None);
+        out.resize(coords.len() * ncol, Judged::Missing);
         if ncol == 0 {
             return true;
         }
-        let one = |regs: &mut program::BlockRegs,
-                   (pts, dst): (&[[f64; 4]], &mut [Option<Interval>])| {
+        let one = |regs: &mut program::BlockRegs, (pts, dst): (&[[f64; 4]], &mut [Judged])| {
             p.run_block(pts, regs);
             for (k, row) in dst.chunks_mut(ncol).enumerate() {
-                for (v, &r) in row.iter_mut().zip(outs) {
-                    *v = regs.get(r, k);
+                for ((v, &r), &z) in row.iter_mut().zip(outs).zip(exact_zero) {
+                    *v = first_judgement(regs.get(r, k).as_ref(), z, tol);
                 }
             }
         };
@@ -402,6 +412,9 @@ pub enum ExportError {
     /// The evaluation could not be set up.
     #[error("cannot evaluate: {0}")]
     Setup(String),
+    /// The sink refused a row (an I/O error of the data file).
+    #[error("cannot write the data: {0}")]
+    Write(String),
 }
 
 fn describe_failures(f: &[Uncertified]) -> String {
@@ -440,11 +453,14 @@ pub struct ExactAudit {
     pub not_enclosed: usize,
 }
 
-/// A filled table and, per component column, its certified bounds.
+/// What an evaluation learnt (its rows went to the sink given to [`evaluate`]): the column
+/// names, the number of rows and, per component column, its certified bounds.
 #[derive(Clone, Debug)]
 pub struct Evaluated {
     /// `t, x, y, z`, then every column of every block.
-    pub table: Table,
+    pub names: Vec<String>,
+    /// How many rows were given to the sink.
+    pub rows: usize,
     /// For each component column (in order, without `t, x, y, z`).
     pub columns: Vec<ColumnReport>,
     /// The second route's summary.
@@ -460,6 +476,24 @@ enum Judged {
     Loose(f64, f64),
     /// Within the relative tolerance.
     Good(f64, f64),
+    /// Proved 0 by the exact route, but this enclosure `[lo, hi]` excludes 0: the two
+    /// routes contradict each other (a defect).
+    Contradicts(f64, f64),
+}
+
+/// The first judgement of a value from its f64 enclosure `v`; `exact_zero` when the exact
+/// route proved the column 0.
+fn first_judgement(v: Option<&Interval>, exact_zero: bool, tol: f64) -> Judged {
+    if !exact_zero {
+        return judge(v, tol);
+    }
+    // Proved 0 by the exact route: written as 0, with the independent enclosure's distance
+    // from 0 as its bound; an enclosure excluding 0 is a contradiction of the two routes.
+    match v.map(Scalar::bounds_f64) {
+        Some((lo, hi)) if lo <= 0.0 && 0.0 <= hi => Judged::Good(0.0, (-lo).max(hi)),
+        Some((lo, hi)) if lo.is_finite() && hi.is_finite() => Judged::Contradicts(lo, hi),
+        _ => judge(v, tol),
+    }
 }
 
 fn judge<S: Scalar>(v: Option<&S>, tol: f64) -> Judged {
@@ -471,13 +505,16 @@ fn judge<S: Scalar>(v: Option<&S>, tol: f64) -> Judged {
 }
 
 /// Evaluates every column of `blocks` at every point through the independent route, with
-/// precision raised where needed, and re-evaluates a sample of rows through the exact
-/// canonical forms (which must agree).
+/// precision raised where needed, gives each row (`t, x, y, z`, then the columns) to `sink`
+/// as soon as it is computed, and re-evaluates a sample of rows through the exact canonical
+/// forms (which must agree). Only those rows are kept: memory does not grow with the points.
 ///
 /// # Errors
 ///
 /// A value that cannot be evaluated, values that cannot be certified, a disagreement of the
-/// two routes, or a limit; nothing is to be written then.
+/// two routes, a limit, or an error of `sink`. The sink has then been given some rows, which
+/// must not be published: the command writes them to a temporary file it removes.
+#[allow(clippy::too_many_arguments)]
 pub fn evaluate(
     store: &mut Store,
     numeric: &Numeric,
@@ -486,6 +523,7 @@ pub fn evaluate(
     parameters: &[(String, f64)],
     sampling: &Sampling,
     settings: &Settings,
+    sink: &mut dyn FnMut(&[f64]) -> std::io::Result<()>,
 ) -> Result<Evaluated, ExportError> {
     let quantities: Vec<Quantity> = blocks.iter().map(|b| b.quantity).collect();
     let forms: Vec<Form> = blocks
@@ -502,8 +540,14 @@ pub fn evaluate(
     let mut columns: Vec<String> = coordinates.to_vec();
     columns.extend(names.iter().map(|s| s.to_string()));
     let width = 4 + ncol;
-    let mut values = Vec::with_capacity(points.coords.len() * width);
-    let mut value_bounds = Vec::with_capacity(points.coords.len() * ncol);
+    // The row being assembled, and the values and bounds of the rows the exact route will
+    // re-evaluate (the others go to `sink` and are not kept).
+    let mut line: Vec<f64> = Vec::with_capacity(width);
+    let mut line_bounds: Vec<f64> = Vec::with_capacity(ncol);
+    let audited = audited_rows(points.coords.len(), settings.audit_rows);
+    let mut kept: Vec<(Vec<f64>, Vec<f64>)> = Vec::with_capacity(audited.len());
+    // The largest magnitude per column, for the zero tolerance.
+    let mut scale = vec![0.0f64; ncol];
     let mut reports = vec![
         ColumnReport {
             precision_bits: 53,
@@ -517,67 +561,56 @@ pub fn evaluate(
     let mut rejected: Vec<(usize, usize, f64, f64)> = Vec::new();
     let tol = settings.tolerance;
     let setup = |e: crate::audit::AuditError| ExportError::Setup(e.to_string());
-    // The f64 pass of the interval program over every row, in parallel, a block at a time.
-    let mut fast: Vec<Option<Interval>> = Vec::new();
-    let mut have_fast = false;
+    // The f64 pass of the interval program over every row, judged, in parallel, a block at
+    // a time; then, row after row, the values not yet good enough at higher precision.
+    let mut block: Vec<Judged> = Vec::new();
     let mut ball_constants: BallState = FxHashMap::default();
-    let mut judged: Vec<Judged> = Vec::with_capacity(ncol);
     let mut bits: Vec<u32> = Vec::with_capacity(ncol);
     let mut want: Vec<bool> = Vec::with_capacity(ncol);
-    let mut slow: Vec<Option<Interval>>;
     for (row, &c) in points.coords.iter().enumerate() {
+        let point = || named_point(coordinates, parameters, c);
         if row % FAST_BLOCK == 0 {
             check_limits(settings)?;
             let end = (row + FAST_BLOCK).min(points.coords.len());
-            have_fast = numeric.fast_block(&points.coords[row..end], &mut fast);
-        }
-        let point = || -> Vec<(String, f64)> {
-            let mut p: Vec<(String, f64)> = coordinates
-                .iter()
-                .zip(c)
-                .map(|(n, v)| (n.to_string(), v))
-                .collect();
-            p.extend(parameters.iter().cloned());
-            p
-        };
-        let first: &[Option<Interval>] = if have_fast {
-            let k = (row % FAST_BLOCK) * ncol;
-            &fast[k..k + ncol]
-        } else {
-            slow = numeric
-                .values::<Interval>(&quantities, &point(), &())
-                .map_err(setup)?;
-            &slow
-        };
-        if first.len() != ncol {
-            return Err(ExportError::Setup(format!(
-                "{} values for {ncol} columns",
-                first.len()
-            )));
-        }
-        judged.clear();
-        for (i, v) in first.iter().enumerate() {
-            judged.push(if exact_zero[i] {
-                // Proved 0 by the exact route: written as 0, with the independent
-                // enclosure's distance from 0 as its bound; an enclosure excluding 0 is a
-                // contradiction of the two routes.
-                match v.as_ref().map(Scalar::bounds_f64) {
-                    Some((lo, hi)) if lo <= 0.0 && 0.0 <= hi => Judged::Good(0.0, (-lo).max(hi)),
-                    Some((lo, hi)) if lo.is_finite() && hi.is_finite() => {
-                        return Err(ExportError::Disagreement {
-                            column: names[i].to_string(),
-                            point: points.describe(row),
-                            value: lo / 2.0 + hi / 2.0,
-                            bound: (hi - lo) / 2.0,
-                            exact: 0.0,
-                            exact_bound: 0.0,
-                        });
+            let coords = &points.coords[row..end];
+            if !numeric.fast_block(coords, &exact_zero, tol, &mut block) {
+                block.clear();
+                for &c in coords {
+                    let first = numeric
+                        .values::<Interval>(
+                            &quantities,
+                            &named_point(coordinates, parameters, c),
+                            &(),
+                        )
+                        .map_err(setup)?;
+                    if first.len() != ncol {
+                        return Err(ExportError::Setup(format!(
+                            "{} values for {ncol} columns",
+                            first.len()
+                        )));
                     }
-                    _ => judge(v.as_ref(), tol),
+                    block.extend(
+                        first
+                            .iter()
+                            .zip(&exact_zero)
+                            .map(|(v, &z)| first_judgement(v.as_ref(), z, tol)),
+                    );
                 }
-            } else {
-                judge(v.as_ref(), tol)
-            });
+            }
+        }
+        let k = (row % FAST_BLOCK) * ncol;
+        let judged = &mut block[k..k + ncol];
+        for (i, j) in judged.iter().enumerate() {
+            if let Judged::Contradicts(lo, hi) = *j {
+                return Err(ExportError::Disagreement {
+                    column: names[i].to_string(),
+                    point: points.describe(row),
+                    value: lo / 2.0 + hi / 2.0,
+                    bound: (hi - lo) / 2.0,
+                    exact: 0.0,
+                    exact_bound: 0.0,
+                });
+            }
         }
         bits.clear();
         bits.resize(ncol, 53);
@@ -600,8 +633,8 @@ pub fn evaluate(
                 }
                 let j = judge(v.as_ref(), tol);
                 let better = match (j, judged[i]) {
-                    (Judged::Missing, _) => false,
-                    (_, Judged::Missing) => true,
+                    (Judged::Missing | Judged::Contradicts(..), _) => false,
+                    (_, Judged::Missing | Judged::Contradicts(..)) => true,
                     (Judged::Good(..), _) => true,
                     (Judged::Loose(_, b), Judged::Loose(_, b0)) => b < b0,
                     (Judged::Loose(..), Judged::Good(..)) => false,
@@ -612,10 +645,12 @@ pub fn evaluate(
                 }
             }
         }
-        values.extend_from_slice(&c);
+        line.clear();
+        line.extend_from_slice(&c);
+        line_bounds.clear();
         for (i, &j) in judged.iter().enumerate() {
             let (x, b) = match j {
-                Judged::Missing => {
+                Judged::Missing | Judged::Contradicts(..) => {
                     return Err(ExportError::Point(EvalError {
                         row,
                         column: names[i].to_string(),
@@ -640,22 +675,20 @@ pub fn evaluate(
                     (x, b)
                 }
             };
-            values.push(x);
-            value_bounds.push(b);
+            line.push(x);
+            line_bounds.push(b);
+            scale[i] = scale[i].max(x.abs());
             reports[i].bound = reports[i].bound.max(b);
             reports[i].precision_bits = reports[i].precision_bits.max(bits[i]);
         }
+        if audited.get(kept.len()) == Some(&row) {
+            kept.push((line.clone(), line_bounds.clone()));
+        }
+        sink(&line).map_err(|e| ExportError::Write(e.to_string()))?;
     }
     // Values indistinguishable from 0: judged against the zero tolerance, by default the
     // relative tolerance times the column's largest magnitude.
     let rows = points.coords.len();
-    // One pass over the rows (a pass per column would stride through the whole table).
-    let mut scale = vec![0.0f64; ncol];
-    for row in values.chunks_exact(width).take(rows) {
-        for (s, v) in scale.iter_mut().zip(&row[4..]) {
-            *s = s.max(v.abs());
-        }
-    }
     for i in 0..ncol {
         reports[i].zero_tolerance = settings.zero_tolerance.unwrap_or(tol * scale[i]);
     }
@@ -694,16 +727,32 @@ pub fn evaluate(
         points,
         parameters,
         sampling,
-        &values,
-        &value_bounds,
+        &audited,
+        &kept,
         settings,
     )?;
     // The bound of a value is its own; `reports` keeps the largest per column.
     Ok(Evaluated {
-        table: Table { columns, values },
+        names: columns,
+        rows,
         columns: reports,
         audit,
     })
+}
+
+/// The coordinates `c` and the parameters, by name (the jets' point).
+fn named_point(
+    coordinates: &[String; 4],
+    parameters: &[(String, f64)],
+    c: [f64; 4],
+) -> Vec<(String, f64)> {
+    let mut p: Vec<(String, f64)> = coordinates
+        .iter()
+        .zip(c)
+        .map(|(n, v)| (n.to_string(), v))
+        .collect();
+    p.extend(parameters.iter().cloned());
+    p
 }
 
 fn check_limits(settings: &Settings) -> Result<(), ExportError> {
@@ -744,13 +793,12 @@ fn audit_rows(
     points: &PointSet,
     parameters: &[(String, f64)],
     sampling: &Sampling,
-    values: &[f64],
-    bounds: &[f64],
+    rows: &[usize],
+    kept: &[(Vec<f64>, Vec<f64>)],
     settings: &Settings,
 ) -> Result<ExactAudit, ExportError> {
-    let width = 4 + forms.len();
     let mut audit = ExactAudit::default();
-    for row in audited_rows(points.coords.len(), settings.audit_rows) {
+    for (&row, (values, bounds)) in rows.iter().zip(kept) {
         check_limits(settings)?;
         let c = points.coords[row];
         let pt = point_at(store, coordinates, parameters, sampling, c);
@@ -760,8 +808,8 @@ fn audit_rows(
             continue;
         };
         for (i, (m, r)) in exact.into_iter().enumerate() {
-            let x = values[row * width + 4 + i];
-            let b = bounds[row * forms.len() + i];
+            let x = values[4 + i];
+            let b = bounds[i];
             let gap = (m - x).abs();
             let slack = (r + b) * (1.0 + 1e-12) + f64::MIN_POSITIVE;
             if gap > slack {
@@ -1020,8 +1068,8 @@ pub fn sidecar(
             "file": info.data_file,
             "format": info.format.name(),
             "layout": layout(info.format),
-            "rows": ev.table.rows(),
-            "columns": ev.table.columns,
+            "rows": ev.rows,
+            "columns": ev.names,
         },
         "problem": {
             "file": info.file,

@@ -1,6 +1,7 @@
 //! Psi4 against the polarizations, quantity lists, and evaluation at points.
 
 use super::quantity::{Quantity, blocks, parse_list, psi4};
+use super::write::Table;
 use super::*;
 use crate::canon::{Names, Store};
 use crate::tensor::Linearized;
@@ -182,6 +183,14 @@ fn problem(text: &str) -> crate::problem::Problem {
         .unwrap()
 }
 
+/// An evaluation and the rows it gave its sink.
+#[derive(Debug)]
+struct Exported {
+    table: Table,
+    columns: Vec<ColumnReport>,
+    audit: ExactAudit,
+}
+
 /// Exports `quantities` of the problem at the points (CSV text), default settings.
 fn export(
     p: &mut crate::problem::Problem,
@@ -189,7 +198,7 @@ fn export(
     dir: Option<&str>,
     points: &str,
     settings: &Settings,
-) -> Result<Evaluated, ExportError> {
+) -> Result<Exported, ExportError> {
     let dir = dir.map(|d| direction(&mut p.store, d));
     let b = blocks(
         &mut p.store,
@@ -209,7 +218,8 @@ fn export(
     let pts =
         points::read_points("p.csv", points, &crate::tensor::COORDS.map(String::from)).unwrap();
     let sampling = p.sampling.clone();
-    evaluate(
+    let mut values = Vec::new();
+    let ev = evaluate(
         &mut p.store,
         &numeric,
         &b,
@@ -217,7 +227,20 @@ fn export(
         &params,
         &sampling,
         settings,
-    )
+        &mut |r: &[f64]| {
+            values.extend_from_slice(r);
+            Ok(())
+        },
+    )?;
+    assert_eq!(values.len(), ev.rows * ev.names.len());
+    Ok(Exported {
+        table: Table {
+            columns: ev.names,
+            values,
+        },
+        columns: ev.columns,
+        audit: ev.audit,
+    })
 }
 
 #[test]

@@ -19,7 +19,8 @@ pub use crate::output::{AtomicFile, FileError, commit_with_sidecar};
 use std::io::{self, Write};
 use std::path::Path;
 
-/// A table of finite values with named columns.
+/// A table of finite values with named columns (the tests' sink).
+#[cfg(test)]
 #[derive(Clone, Debug, PartialEq)]
 pub struct Table {
     /// The column names.
@@ -28,6 +29,7 @@ pub struct Table {
     pub values: Vec<f64>,
 }
 
+#[cfg(test)]
 impl Table {
     /// The number of rows.
     #[must_use]
@@ -81,34 +83,6 @@ impl Format {
     }
 }
 
-/// Shortest round-trip text of a finite f64, with `-0` written as `0.0`.
-#[must_use]
-pub fn number(v: f64) -> String {
-    format!("{:?}", v + 0.0)
-}
-
-/// Writes `table` as CSV.
-///
-/// # Errors
-///
-/// An I/O error of `w`.
-pub fn write_csv(w: &mut impl Write, table: &Table) -> io::Result<()> {
-    writeln!(w, "{}", table.columns.join(","))?;
-    let mut line = String::new();
-    for r in 0..table.rows() {
-        line.clear();
-        for (i, v) in table.row(r).iter().enumerate() {
-            if i > 0 {
-                line.push(',');
-            }
-            line.push_str(&number(*v));
-        }
-        line.push('\n');
-        w.write_all(line.as_bytes())?;
-    }
-    Ok(())
-}
-
 /// The `.npy` version 1.0 header of a float64 C-order array of this shape: magic, version,
 /// header length, and the header dictionary padded with spaces and a final newline so that
 /// the data starts at a multiple of 64 bytes.
@@ -128,52 +102,137 @@ pub fn npy_header(rows: usize, cols: usize) -> Vec<u8> {
     out
 }
 
-/// Writes `table` as `.npy`: shape `(rows, columns)`, `'<f8'`, C order.
-///
-/// # Errors
-///
-/// An I/O error of `w`.
-pub fn write_npy(w: &mut impl Write, table: &Table) -> io::Result<()> {
-    w.write_all(&npy_header(table.rows(), table.columns.len()))?;
-    // A few thousand values per write call, not one (the writer hashes what it is given).
-    let mut buf = Vec::with_capacity(8 * 4096);
-    for chunk in table.values.chunks(4096) {
-        buf.clear();
-        for v in chunk {
-            buf.extend_from_slice(&(v + 0.0).to_le_bytes());
+/// Writes a table one row at a time in one format, a few tens of kilobytes per call to the
+/// underlying writer (which hashes what it is given). The number of rows is declared at the
+/// start (the `.npy` header states the shape); [`RowWriter::finish`] checks it.
+pub struct RowWriter<'w, W: Write> {
+    w: &'w mut W,
+    format: Format,
+    columns: usize,
+    rows: usize,
+    written: usize,
+    buf: Vec<u8>,
+}
+
+/// Bytes gathered before a call to the underlying writer.
+const CHUNK: usize = 1 << 15;
+
+impl<'w, W: Write> RowWriter<'w, W> {
+    /// Writes the header of a table of `rows` rows with these column names.
+    ///
+    /// # Errors
+    ///
+    /// An I/O error of `w`.
+    pub fn begin(
+        w: &'w mut W,
+        columns: &[String],
+        rows: usize,
+        format: Format,
+    ) -> io::Result<RowWriter<'w, W>> {
+        let mut buf = Vec::with_capacity(CHUNK + 4096);
+        match format {
+            Format::Csv => {
+                buf.extend_from_slice(columns.join(",").as_bytes());
+                buf.push(b'\n');
+            }
+            Format::Npy => buf.extend_from_slice(&npy_header(rows, columns.len())),
+            Format::Json => {
+                let cols = serde_json::to_string(columns).map_err(io::Error::other)?;
+                buf.extend_from_slice(format!("{{\"columns\": {cols},\n\"rows\": [\n").as_bytes());
+            }
         }
-        w.write_all(&buf)?;
+        Ok(RowWriter {
+            w,
+            format,
+            columns: columns.len(),
+            rows,
+            written: 0,
+            buf,
+        })
     }
-    Ok(())
+
+    /// Writes one row of finite values (`-0` is written as `0`).
+    ///
+    /// # Errors
+    ///
+    /// An I/O error of the writer, or a row of the wrong length or beyond the declared
+    /// count (a defect of the caller, reported as an error rather than a corrupt file).
+    pub fn row(&mut self, values: &[f64]) -> io::Result<()> {
+        if values.len() != self.columns || self.written == self.rows {
+            return Err(io::Error::other(format!(
+                "row {} of {} values: the table has {} rows of {} columns",
+                self.written,
+                values.len(),
+                self.rows,
+                self.columns
+            )));
+        }
+        self.written += 1;
+        let b = &mut self.buf;
+        match self.format {
+            Format::Npy => {
+                for v in values {
+                    b.extend_from_slice(&(v + 0.0).to_le_bytes());
+                }
+            }
+            Format::Csv | Format::Json => {
+                let json = self.format == Format::Json;
+                if json {
+                    b.push(b'[');
+                }
+                for (i, v) in values.iter().enumerate() {
+                    if i > 0 {
+                        b.extend_from_slice(if json { b", " } else { b"," });
+                    }
+                    write!(b, "{:?}", v + 0.0)?;
+                }
+                if json {
+                    b.push(b']');
+                    if self.written < self.rows {
+                        b.push(b',');
+                    }
+                }
+                b.push(b'\n');
+            }
+        }
+        if self.buf.len() >= CHUNK {
+            self.w.write_all(&self.buf)?;
+            self.buf.clear();
+        }
+        Ok(())
+    }
+
+    /// Writes what is left and the end of the table.
+    ///
+    /// # Errors
+    ///
+    /// An I/O error of the writer, or fewer rows than declared.
+    pub fn finish(mut self) -> io::Result<()> {
+        if self.written != self.rows {
+            return Err(io::Error::other(format!(
+                "{} rows written of the {} declared",
+                self.written, self.rows
+            )));
+        }
+        if self.format == Format::Json {
+            self.buf.extend_from_slice(b"]}\n");
+        }
+        self.w.write_all(&self.buf)
+    }
 }
 
-/// Writes `table` as JSON: `{"columns": [...], "rows": [[...], ...]}`, one row per line.
-///
-/// # Errors
-///
-/// An I/O error of `w`.
-pub fn write_json(w: &mut impl Write, table: &Table) -> io::Result<()> {
-    let cols = serde_json::to_string(&table.columns).map_err(io::Error::other)?;
-    writeln!(w, "{{\"columns\": {cols},\n\"rows\": [")?;
-    for r in 0..table.rows() {
-        let row: Vec<String> = table.row(r).iter().map(|v| number(*v)).collect();
-        let sep = if r + 1 < table.rows() { "," } else { "" };
-        writeln!(w, "[{}]{sep}", row.join(", "))?;
-    }
-    writeln!(w, "]}}")
-}
-
-/// Writes `table` in `format`.
+/// Writes `table` in `format` (through [`RowWriter`]).
+#[cfg(test)]
 ///
 /// # Errors
 ///
 /// An I/O error of `w`.
 pub fn write_table(w: &mut impl Write, table: &Table, format: Format) -> io::Result<()> {
-    match format {
-        Format::Csv => write_csv(w, table),
-        Format::Npy => write_npy(w, table),
-        Format::Json => write_json(w, table),
+    let mut out = RowWriter::begin(w, &table.columns, table.rows(), format)?;
+    for r in 0..table.rows() {
+        out.row(table.row(r))?;
     }
+    out.finish()
 }
 
 #[cfg(test)]
@@ -190,7 +249,7 @@ mod tests {
     #[test]
     fn csv_round_trips() {
         let mut out = Vec::new();
-        write_csv(&mut out, &table()).unwrap();
+        write_table(&mut out, &table(), Format::Csv).unwrap();
         let s = String::from_utf8(out).unwrap();
         assert_eq!(
             s,
@@ -217,7 +276,7 @@ mod tests {
             assert!(text.contains(&format!("'shape': ({r}, {c}), ")), "{text}");
         }
         let mut out = Vec::new();
-        write_npy(&mut out, &table()).unwrap();
+        write_table(&mut out, &table(), Format::Npy).unwrap();
         let h = npy_header(2, 2).len();
         assert_eq!(out.len(), h + 4 * 8);
         assert_eq!(&out[h..h + 8], &0.0f64.to_le_bytes());
@@ -227,9 +286,54 @@ mod tests {
     #[test]
     fn json_parses() {
         let mut out = Vec::new();
-        write_json(&mut out, &table()).unwrap();
+        write_table(&mut out, &table(), Format::Json).unwrap();
         let v: serde_json::Value = serde_json::from_slice(&out).unwrap();
         assert_eq!(v["columns"][1], "h_tt");
         assert_eq!(v["rows"][1][1].as_f64().unwrap(), -7.071067811865475e-9);
+    }
+
+    #[test]
+    fn row_writer_checks_the_declared_shape() {
+        let cols = vec!["t".to_string(), "h".to_string()];
+        for format in [Format::Csv, Format::Npy, Format::Json] {
+            // No rows: still a whole file (JSON parses, the npy header states 0 rows).
+            let mut out = Vec::new();
+            RowWriter::begin(&mut out, &cols, 0, format)
+                .unwrap()
+                .finish()
+                .unwrap();
+            if format == Format::Json {
+                let v: serde_json::Value = serde_json::from_slice(&out).unwrap();
+                assert_eq!(v["rows"].as_array().unwrap().len(), 0);
+            }
+            // A row too many, a row of the wrong width, or a row missing: errors.
+            let mut out = Vec::new();
+            let mut w = RowWriter::begin(&mut out, &cols, 1, format).unwrap();
+            assert!(w.row(&[1.0]).is_err());
+            w.row(&[1.0, -0.0]).unwrap();
+            assert!(w.row(&[1.0, 2.0]).is_err());
+            w.finish().unwrap();
+            let mut out = Vec::new();
+            let mut w = RowWriter::begin(&mut out, &cols, 2, format).unwrap();
+            w.row(&[1.0, 2.0]).unwrap();
+            assert!(w.finish().is_err());
+        }
+        // Many rows: the chunked writes give the same bytes as one write per row would.
+        let n = 10_000;
+        let table = Table {
+            columns: cols.clone(),
+            values: (0..2 * n).map(|k| f64::from(k) / 7.0).collect(),
+        };
+        let mut out = Vec::new();
+        write_table(&mut out, &table, Format::Csv).unwrap();
+        let text = String::from_utf8(out).unwrap();
+        assert_eq!(text.lines().count(), n as usize + 1);
+        let last = text.lines().last().unwrap();
+        let want = format!(
+            "{:?},{:?}",
+            f64::from(2 * n - 2) / 7.0,
+            f64::from(2 * n - 1) / 7.0
+        );
+        assert_eq!(last, want);
     }
 }

@@ -381,8 +381,15 @@ fn issue_9_the_sidecar_records_the_size_and_checksum_of_its_data_file() {
 #[test]
 fn issue_9_a_failed_write_leaves_no_temporary() {
     let dir = tempfile::tempdir().unwrap();
-    // The field is singular at the origin: nothing is written, nothing is left.
-    std::fs::write(dir.path().join("origin.csv"), "t,x,y,z\n0,0,0,0\n").unwrap();
+    // The field is singular at the origin, the last of 3001 points: nothing is written,
+    // nothing is left, though the rows before it were streamed to the temporary file (more
+    // than the writer's 32 KiB chunk).
+    let mut points = String::from("t,x,y,z\n");
+    for k in 0..3000 {
+        points.push_str(&format!("0,{},0.5,0.25\n", 1.0 + f64::from(k) * 1e-3));
+    }
+    points.push_str("0,0,0,0\n");
+    std::fs::write(dir.path().join("origin.csv"), points).unwrap();
     let (_, err, code) = lingrav_in(
         dir.path(),
         &[

@@ -14,7 +14,7 @@ use crate::cli::quantities::{
 };
 use crate::cli::report::{self, json};
 use crate::export::points::{Grid, PointSet, read_points};
-use crate::export::write::{AtomicFile, FileError, Format, commit_with_sidecar, write_table};
+use crate::export::write::{AtomicFile, FileError, Format, RowWriter, commit_with_sidecar};
 use crate::export::{ExportError, Numeric, Settings, SidecarInfo, evaluate, sidecar};
 use crate::problem::{Problem, ProblemError};
 use crate::tt::Arg;
@@ -211,6 +211,7 @@ fn export_failure(e: ExportError) -> Failure {
              that are meant to vanish, or choose other points"
         )),
         e @ ExportError::Disagreement { .. } => Failure::GaveUp(e.to_string()),
+        ExportError::Write(m) => Failure::Input(miette::miette!("{m}")),
     }
 }
 
@@ -261,6 +262,22 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
         deadline: p.store.limits.deadline,
         ..Settings::default()
     };
+    // The rows go to the temporary data file as they are computed (dropped with it if the
+    // evaluation fails; placed, with the sidecar, only when everything is certified).
+    let mut names = p.coordinates.to_vec();
+    names.extend(
+        b.iter()
+            .flat_map(|b| b.columns.iter().map(|c| c.name.clone())),
+    );
+    let io_error = |e: std::io::Error| file_failure(FileError::Io(a.out.clone(), e));
+    let mut rows = RowWriter::begin(data_file.writer(), &names, points.coords.len(), format)
+        .map_err(io_error)?;
+    let mut write_error = None;
+    let mut sink = |r: &[f64]| {
+        rows.row(r).inspect_err(|e| {
+            write_error.get_or_insert_with(|| std::io::Error::new(e.kind(), e.to_string()));
+        })
+    };
     let ev = evaluate(
         &mut p.store,
         &numeric,
@@ -269,8 +286,13 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
         &params,
         &p.sampling,
         &settings,
-    )
-    .map_err(export_failure)?;
+        &mut sink,
+    );
+    let ev = match (ev, write_error) {
+        (Err(_), Some(e)) => return Err(io_error(e)),
+        (ev, _) => ev.map_err(export_failure)?,
+    };
+    rows.finish().map_err(io_error)?;
     let direction = dir.as_ref().map(|d| direction_json(&mut p, d));
     let data_name = a
         .out
@@ -300,8 +322,6 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
 
     // Write the data, then the sidecar that records its size and checksum, then put both in
     // place (old sidecar removed, data renamed, sidecar renamed: see crate::output).
-    write_table(data_file.writer(), &ev.table, format)
-        .map_err(|e| file_failure(FileError::Io(a.out.clone(), e)))?;
     let mut meta = meta;
     let bytes = data_file.writer().len();
     let checksum = data_file.writer().checksum();
@@ -314,8 +334,8 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
     print(&match a.write.format {
         report::Format::Text => format!(
             "wrote {} rows x {} columns ({}) to {} ({}), sidecar {}\n",
-            ev.table.rows(),
-            ev.table.columns.len(),
+            ev.rows,
+            ev.names.len(),
             names.join(", "),
             a.out.display(),
             format.name(),
@@ -325,8 +345,8 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
             "result": "written",
             "file": path_label,
             "quantities": names,
-            "rows": ev.table.rows(),
-            "columns": ev.table.columns,
+            "rows": ev.rows,
+            "columns": ev.names,
             "data_file": a.out.display().to_string(),
             "data_format": format.name(),
             "data_file_bytes": bytes,
