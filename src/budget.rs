@@ -333,7 +333,10 @@ mod tests {
         assert_eq!(unsafe { mi_option_get(MI_OPTION_PURGE_DELAY) }, 0);
         #[cfg(target_os = "linux")]
         // SAFETY: a getter of the process flag.
-        assert_eq!(unsafe { libc::prctl(libc::PR_GET_THP_DISABLE, 0, 0, 0, 0) }, 1);
+        assert_eq!(
+            unsafe { libc::prctl(libc::PR_GET_THP_DISABLE, 0, 0, 0, 0) },
+            1
+        );
         // SAFETY: as above; back to the default for the other tests of this process.
         unsafe { mi_option_set(MI_OPTION_PURGE_DELAY, 1000) };
     }

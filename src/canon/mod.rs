@@ -36,7 +36,7 @@ mod view;
 pub use build::{BUILTINS, BuildError, Names, Unknown};
 pub use coeff::{Basis, Coeff, Q};
 pub use eval::{FunctionSample, Point};
-pub use print::Pretty;
+pub use print::{Naming, Pretty};
 pub use view::{ExpSplit, FormView, MonoView, OwnedTerm, PolyView, TermView};
 
 use num_bigint::BigInt;
@@ -214,6 +214,11 @@ pub struct Store {
     form_deps_cache: FxHashMap<Form, Rc<[KernelId]>>,
     /// The limits in force.
     pub limits: Limits,
+    /// The names the display printers use (`Store::to_display_text`; set by
+    /// `Store::set_display_names`), never the canonical printers.
+    display: Option<Rc<print::Naming>>,
+    /// Set while a display printer runs.
+    naming: Option<Rc<print::Naming>>,
     unit: MonoId,
     zero: Form,
     one: Form,
@@ -244,6 +249,8 @@ impl Store {
             deps_cache: FxHashMap::default(),
             form_deps_cache: FxHashMap::default(),
             limits: Limits::default(),
+            display: None,
+            naming: None,
             unit: MonoId(0),
             zero: Form(0),
             one: Form(0),

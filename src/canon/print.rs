@@ -5,10 +5,21 @@
 //! `e^P ((c + c') cos Q + i (c - c') sin Q)`, so a real expression prints with sin and cos and
 //! no `i`. Terms are ordered by their printed text, never by ids, so output does not depend on
 //! the order in which forms were built.
+//!
+//! Two families of printers. The canonical ones ([`Store::to_text`], [`Store::to_latex`])
+//! print the form as it is, in the input syntax; every text the crate parses again, writes
+//! to a file or hands to the independent route comes from them. The display ones
+//! ([`Store::to_display_text`], [`Store::to_display_latex`], [`Store::to_display_summary`])
+//! print in the file's own terms: a [`Naming`] (the file's `[define]` names) replaces every
+//! argument, radicand, phase or root that equals a defined form by its name, and cancels
+//! powers of a name between numerator and denominator (`2*M*r/r^2` reads `2*M/r`). Display
+//! text reads back, with the file's names, to a form equal to the canonical one (tested on
+//! every worked file).
 
 use super::{Coeff, Form, Kernel, KernelId, MonoId, Rat, Store};
 use rustc_hash::FxHashMap;
 use std::fmt::Write as _;
+use std::rc::Rc;
 
 /// A printable expression tree, produced from a canonical form.
 #[derive(Clone, Debug, PartialEq)]
@@ -32,7 +43,102 @@ pub enum Pretty {
     Quot(Box<Pretty>, Box<Pretty>),
 }
 
+/// The names a display printer writes in place of the forms they stand for.
+#[derive(Clone, Debug, Default)]
+pub struct Naming {
+    /// A defined form and its name.
+    forms: FxHashMap<Form, String>,
+    /// The negation of a defined form and the name.
+    negated: FxHashMap<Form, String>,
+    /// A kernel that is by itself a defined form (`r = sqrt(x^2 + y^2 + z^2)`).
+    kernels: FxHashMap<KernelId, String>,
+    /// The radicand of such a root kernel: the name and the root's order (`x^2 + y^2 + z^2`
+    /// is `r^2`).
+    powers: FxHashMap<Form, (String, u32)>,
+}
+
+impl Naming {
+    /// True when no name would be used.
+    #[must_use]
+    pub fn is_empty(&self) -> bool {
+        self.forms.is_empty()
+    }
+}
+
 impl Store {
+    /// The [`Naming`] of these definitions (a file's `[define]` entries, in file order).
+    /// Definitions that are a number or a single symbol are not used (a `2` in a result is
+    /// not the user's `two`), nor a form already named by an earlier definition.
+    pub fn naming(&mut self, defines: &[(String, Form)]) -> Naming {
+        let mut n = Naming::default();
+        for (name, f) in defines {
+            let f = *f;
+            if self.as_constant(f).is_some()
+                || self.as_symbol(f).is_some()
+                || n.forms.contains_key(&f)
+            {
+                continue;
+            }
+            n.forms.insert(f, name.clone());
+            if let Ok(g) = self.neg(f) {
+                n.negated.entry(g).or_insert_with(|| name.clone());
+            }
+            let r = self.rats[f.0 as usize].clone();
+            if r.den.is_empty()
+                && let [(m, c)] = r.num.as_slice()
+                && c.is_one()
+            {
+                let mono = &self.monos[m.0 as usize];
+                if mono.exp.is_none()
+                    && let [(k, 1)] = mono.pows.as_slice()
+                {
+                    let k = *k;
+                    n.kernels.entry(k).or_insert_with(|| name.clone());
+                    if let Kernel::Root { radicand, q } = self.kernel(k).clone() {
+                        n.powers
+                            .entry(radicand)
+                            .or_insert_with(|| (name.clone(), q));
+                    }
+                }
+            }
+        }
+        n
+    }
+
+    /// Sets the names the display printers use (`None`: print canonical forms).
+    pub fn set_display_names(&mut self, n: Option<Naming>) {
+        self.display = n.filter(|n| !n.is_empty()).map(Rc::new);
+    }
+
+    /// Runs `print` with the display names in force.
+    fn with_display<T>(&mut self, print: impl FnOnce(&mut Store) -> T) -> T {
+        self.naming = self.display.clone();
+        let out = print(self);
+        self.naming = None;
+        out
+    }
+
+    /// The printing tree of `f` in the file's terms (see the module documentation).
+    pub fn display_pretty(&mut self, f: Form) -> Pretty {
+        self.with_display(|s| lead_positive(cancel_names(s.pretty(f))))
+    }
+
+    /// Plain text in the file's terms; reads back (with the file's names) to `f`.
+    pub fn to_display_text(&mut self, f: Form) -> String {
+        to_text(&self.display_pretty(f))
+    }
+
+    /// LaTeX in the file's terms.
+    pub fn to_display_latex(&mut self, f: Form) -> String {
+        to_latex(&self.display_pretty(f))
+    }
+
+    /// [`Store::to_display_text`] cut as [`Store::to_text_summary`] cuts.
+    pub fn to_display_summary(&mut self, f: Form, max_chars: usize) -> String {
+        let t = self.to_display_text(f);
+        summary(t, max_chars, || self.num_terms(f))
+    }
+
     /// A deterministic structural key of a monomial (used to choose a history-independent
     /// leading term).
     pub(super) fn mono_key(&mut self, m: MonoId) -> String {
@@ -91,6 +197,14 @@ impl Store {
 
     /// The real-form printing tree of `f`.
     pub fn pretty(&mut self, f: Form) -> Pretty {
+        if let Some(n) = &self.naming {
+            if let Some(name) = n.forms.get(&f) {
+                return Pretty::Name(name.clone());
+            }
+            if let Some(name) = n.negated.get(&f) {
+                return Pretty::Prod(Coeff::int(-1), vec![Pretty::Name(name.clone())], Vec::new());
+            }
+        }
         let r = self.rats[f.0 as usize].clone();
         if r.den.is_empty() {
             return self.pretty_collected(&r.num, &Coeff::one());
@@ -101,6 +215,16 @@ impl Store {
         let mut den_parts = Vec::new();
         for (fid, e) in &r.den {
             let p = self.factors[fid.0 as usize].clone();
+            if let Some(n) = self.naming.clone() {
+                let pf = self.intern_rat(Rat {
+                    num: p.clone(),
+                    den: Vec::new(),
+                });
+                if let Some((name, q)) = n.powers.get(&pf) {
+                    den_parts.push(Pretty::Pow(Box::new(Pretty::Name(name.clone())), q * e));
+                    continue;
+                }
+            }
             let first = match self.pretty_poly(&p, &Coeff::one()) {
                 Pretty::Sum(ts) => ts.first().map(leading_num).unwrap_or_else(Coeff::one),
                 t => leading_num(&t),
@@ -169,12 +293,7 @@ impl Store {
     /// a JSON report carries [`Store::to_text`] whole.
     pub fn to_text_summary(&mut self, f: Form, max_chars: usize) -> String {
         let t = self.to_text(f);
-        if t.chars().count() > max_chars {
-            let cut: String = t.chars().take(max_chars).collect();
-            format!("{cut}... ({} terms)", self.num_terms(f))
-        } else {
-            t
-        }
+        summary(t, max_chars, || self.num_terms(f))
     }
 
     /// Like `pretty_poly`, but with the common kernel powers and the rational content of the
@@ -260,6 +379,9 @@ impl Store {
     }
 
     fn pretty_kernel(&mut self, k: KernelId) -> Pretty {
+        if let Some(name) = self.naming.as_ref().and_then(|n| n.kernels.get(&k)) {
+            return Pretty::Name(name.clone());
+        }
         match self.kernel(k).clone() {
             Kernel::Sym(n) => Pretty::Name(n.to_string()),
             Kernel::Pi => Pretty::Name("pi".into()),
@@ -320,14 +442,23 @@ impl Store {
                         } else {
                             // Choose the sign of Q whose printed first coefficient is positive.
                             // Decide on the uncollected sum, whose first term carries the sign.
+                            // A phase the file named is printed as named.
+                            let named = self
+                                .naming
+                                .as_ref()
+                                .map(|n| (n.forms.contains_key(&im), n.negated.contains_key(&im)));
                             let im_num = self.rats[im.0 as usize].num.clone();
-                            let neg = match self.pretty_poly(&im_num, &Coeff::one()) {
-                                Pretty::Sum(ts) => {
-                                    ts.first().map(|t| leading_num(t).looks_negative())
+                            let neg = match named {
+                                Some((true, _)) => false,
+                                Some((false, true)) => true,
+                                _ => match self.pretty_poly(&im_num, &Coeff::one()) {
+                                    Pretty::Sum(ts) => {
+                                        ts.first().map(|t| leading_num(t).looks_negative())
+                                    }
+                                    t => Some(leading_num(&t).looks_negative()),
                                 }
-                                t => Some(leading_num(&t).looks_negative()),
-                            }
-                            .unwrap_or(false);
+                                .unwrap_or(false),
+                            };
                             if neg {
                                 let nim = self.neg(im).unwrap_or(im);
                                 (None, re, Some(nim), -1)
@@ -421,6 +552,133 @@ impl Store {
             1 => terms.pop().unwrap(),
             _ => Pretty::Sum(terms),
         }
+    }
+}
+
+/// `t` cut after `max_chars` characters, saying how many terms the whole has.
+fn summary(t: String, max_chars: usize, terms: impl FnOnce() -> usize) -> String {
+    if t.chars().count() > max_chars {
+        let cut: String = t.chars().take(max_chars).collect();
+        format!("{cut}... ({} terms)", terms())
+    } else {
+        t
+    }
+}
+
+/// Every sum of `p` (at any depth) with a positive term first where it has one, the rest in
+/// their order: `t - r`, not `-r + t`. Display only.
+fn lead_positive(p: Pretty) -> Pretty {
+    let boxed = |b: Box<Pretty>| Box::new(lead_positive(*b));
+    match p {
+        Pretty::Num(_) | Pretty::Name(_) => p,
+        Pretty::Call(n, a, f) => Pretty::Call(n, boxed(a), f),
+        Pretty::Root(a, q, f) => Pretty::Root(boxed(a), q, f),
+        Pretty::Pow(a, e) => Pretty::Pow(boxed(a), e),
+        Pretty::Prod(c, n, d) => Pretty::Prod(
+            c,
+            n.into_iter().map(lead_positive).collect(),
+            d.into_iter().map(lead_positive).collect(),
+        ),
+        Pretty::Quot(a, b) => Pretty::Quot(boxed(a), boxed(b)),
+        Pretty::Sum(ts) => {
+            let mut ts: Vec<Pretty> = ts.into_iter().map(lead_positive).collect();
+            if let Some(i) = ts.iter().position(|t| !leading_num(t).looks_negative())
+                && i > 0
+            {
+                let t = ts.remove(i);
+                ts.insert(0, t);
+            }
+            Pretty::Sum(ts)
+        }
+    }
+}
+
+/// The power of a bare name in a factor: `r` is `(r, 1)`, `r^3` is `(r, 3)`.
+fn name_power(p: &Pretty) -> Option<(&str, u32)> {
+    match p {
+        Pretty::Name(n) => Some((n, 1)),
+        Pretty::Pow(b, e) => match b.as_ref() {
+            Pretty::Name(n) => Some((n, *e)),
+            _ => None,
+        },
+        _ => None,
+    }
+}
+
+/// A name to a power (`None` for the power 0).
+fn name_to(name: &str, e: u32) -> Option<Pretty> {
+    match e {
+        0 => None,
+        1 => Some(Pretty::Name(name.to_string())),
+        e => Some(Pretty::Pow(Box::new(Pretty::Name(name.to_string())), e)),
+    }
+}
+
+/// Cancels powers of the same name between the numerator factors of a product and the
+/// denominator factors: `r*(...)/r^3` becomes `(...)/r^2`. Each name stands for a form that
+/// is finite and nonzero wherever the printed expression is defined (it divides by it), so
+/// this is an identity there.
+fn cancel_pair(nums: &mut Vec<Pretty>, dens: &mut Vec<Pretty>) {
+    let mut i = 0;
+    while i < nums.len() {
+        let Some((name, a)) = name_power(&nums[i]).map(|(n, a)| (n.to_string(), a)) else {
+            i += 1;
+            continue;
+        };
+        let Some(j) = dens
+            .iter()
+            .position(|d| name_power(d).is_some_and(|(m, _)| m == name))
+        else {
+            i += 1;
+            continue;
+        };
+        let b = name_power(&dens[j]).map_or(0, |x| x.1);
+        let (top, bottom) = (a.saturating_sub(b), b.saturating_sub(a));
+        match name_to(&name, bottom) {
+            Some(d) => dens[j] = d,
+            None => {
+                dens.remove(j);
+            }
+        }
+        match name_to(&name, top) {
+            Some(t) => {
+                nums[i] = t;
+                i += 1;
+            }
+            None => {
+                nums.remove(i);
+            }
+        }
+    }
+}
+
+/// [`cancel_pair`] applied where a display tree divides: a product's own factors, and a
+/// quotient whose numerator is a product (or a bare name power) and whose denominator is a
+/// product or one factor.
+fn cancel_names(p: Pretty) -> Pretty {
+    match p {
+        Pretty::Prod(c, mut n, mut d) => {
+            cancel_pair(&mut n, &mut d);
+            Pretty::Prod(c, n, d)
+        }
+        Pretty::Quot(num, den) => {
+            let (c, mut n) = match *num {
+                Pretty::Prod(c, n, d) if d.is_empty() => (c, n),
+                other if name_power(&other).is_some() => (Coeff::one(), vec![other]),
+                other => return Pretty::Quot(Box::new(other), den),
+            };
+            let mut d = match *den {
+                Pretty::Prod(k, d, dd) if k.is_one() && dd.is_empty() => d,
+                other => vec![other],
+            };
+            cancel_pair(&mut n, &mut d);
+            if d.is_empty() {
+                return Pretty::Prod(c, n, Vec::new());
+            }
+            // One product: the numerator's factors over the remaining denominator factors.
+            Pretty::Prod(c, n, d)
+        }
+        other => other,
     }
 }
 

@@ -252,3 +252,46 @@ fn latex_reads_like_a_paper() {
     let g = crate::expression(&mut st, "3*sqrt(2)*x").unwrap();
     assert_eq!(st.to_latex(g), "3 \\sqrt{2} x");
 }
+
+/// Display printing in the file's terms (issue 14, item 1): roots, phases and function
+/// arguments the file named print as named; the canonical printer is unchanged.
+#[test]
+fn display_names_replace_what_the_file_defined() {
+    let mut st = Store::new();
+    let defs: Vec<(String, Form)> = [
+        ("two", "2"),
+        ("k", "w"),
+        ("r", "sqrt(x^2 + y^2 + z^2)"),
+        ("phase", "w*(t - (3*x + 4*z)/5)"),
+        ("u", "t - sqrt(x^2 + y^2 + z^2)"),
+    ]
+    .iter()
+    .map(|(n, t)| (n.to_string(), form(&mut st, t)))
+    .collect();
+    let naming = st.naming(&defs);
+    st.set_display_names(Some(naming));
+    let cases = [
+        ("2*M/sqrt(x^2 + y^2 + z^2)", "2*M/r"),
+        ("M/(x^2 + y^2 + z^2)^2", "M/r^4"),
+        ("a*sin(w*(t - (3*x + 4*z)/5))", "a*sin(phase)"),
+        ("a*cos(-w*(t - (3*x + 4*z)/5))", "a*cos(phase)"),
+        (
+            "F(t - sqrt(x^2 + y^2 + z^2))/sqrt(x^2 + y^2 + z^2)",
+            "F(u)/r",
+        ),
+        // A number or a bare symbol that a define equals is left alone.
+        ("2*w", "2*w"),
+    ];
+    for (input, shown) in cases {
+        let f = form(&mut st, input);
+        assert_eq!(st.to_display_text(f), shown, "{input}");
+        assert!(
+            !st.to_text(f).contains("phase") && !st.to_text(f).contains("r^"),
+            "{input}"
+        );
+    }
+    // Without names, display is canonical.
+    st.set_display_names(None);
+    let f = form(&mut st, "2*M/sqrt(x^2 + y^2 + z^2)");
+    assert_eq!(st.to_display_text(f), st.to_text(f));
+}

@@ -89,23 +89,26 @@ pub enum Residual {
 }
 
 impl Residual {
-    /// The residual as text for a summary, cut after [`RESIDUAL_CHARS`] characters with the
+    /// The residual as text for a summary, in the file's terms
+    /// ([`Store::to_display_summary`]), cut after [`RESIDUAL_CHARS`] characters with the
     /// number of terms; `None` when it is zero.
     pub fn text(&self, store: &mut Store) -> Option<String> {
         match self {
             Residual::Zero => None,
             Residual::Note(n) => Some(n.clone()),
-            Residual::Form(f) => Some(store.to_text_summary(*f, RESIDUAL_CHARS)),
+            Residual::Form(f) => Some(store.to_display_summary(*f, RESIDUAL_CHARS)),
         }
     }
 
-    /// The whole residual as text and as LaTeX (the LaTeX is `None` for a note); `None`
-    /// when it is zero.
+    /// The whole residual as text and as LaTeX, in the file's terms (the LaTeX is `None` for
+    /// a note); `None` when it is zero.
     pub fn whole(&self, store: &mut Store) -> Option<(String, Option<String>)> {
         match self {
             Residual::Zero => None,
             Residual::Note(n) => Some((n.clone(), None)),
-            Residual::Form(f) => Some((store.to_text(*f), Some(store.to_latex(*f)))),
+            Residual::Form(f) => {
+                Some((store.to_display_text(*f), Some(store.to_display_latex(*f))))
+            }
         }
     }
 }

@@ -380,12 +380,17 @@ impl Builder<'_> {
                 .insert(Rc::from(f.name.as_str()), FunctionSample { var, form });
         }
 
+        let mut defined = Vec::with_capacity(file.defines.len());
         for (i, d) in file.defines.iter().enumerate() {
             let expr = b.parse(&d.expr)?;
             b.check_define_order(i, &d.expr, &expr)?;
             let form = b.build(&d.expr, &expr, &names)?;
             names.define(&d.name, form);
+            defined.push((d.name.clone(), form));
         }
+        // Results print in the file's terms (`--expanded` turns this off).
+        let naming = b.store.naming(&defined);
+        b.store.set_display_names(Some(naming));
 
         let (h, h_text) = b.tensor(&file.perturbation, &names)?;
         let (source, source_text) = match &file.source {

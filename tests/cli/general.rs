@@ -217,3 +217,34 @@ fn check_takes_several_files_and_ends_with_the_worst() {
     assert_eq!(code, 0);
     assert!(!out.contains("summary:"), "{out}");
 }
+
+/// Issue 14, item 1: `show` and `check` print in the file's own terms (its `[define]`
+/// names), `--expanded` prints the canonical forms.
+#[test]
+fn results_print_in_the_files_terms_unless_expanded() {
+    use crate::support::worked;
+    let wave = worked("oblique_wave.toml");
+    let (out, err, code) = lingrav(&["show", &wave, "riemann"]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("R_txtx = 8*a_plus*w^2*cos(phase)/25"), "{out}");
+    let (out, _, code) = lingrav(&["show", &wave, "riemann", "--expanded"]);
+    assert_eq!(code, 0);
+    assert!(!out.contains("phase") && out.contains("cos("), "{out}");
+
+    // A failing residual: the file's r, powers of r collected in the denominator, and the
+    // retarded time written t - r.
+    let near = worked("dropped_near_zone.toml");
+    let (out, _, code) = lingrav(&["check", &near]);
+    assert_eq!(code, 1, "{out}");
+    assert!(out.contains("d^mu hbar_mux = x*Q''(t - r)/r^3"), "{out}");
+    let (out, _, code) = lingrav(&["check", &near, "--format", "json"]);
+    assert_eq!(code, 1);
+    assert!(out.contains("Q''(t - r)/r^3"), "{out}");
+    assert!(out.contains("\\\\frac"), "the LaTeX residual is there too: {out}");
+    let (out, _, code) = lingrav(&["check", &near, "--expanded"]);
+    assert_eq!(code, 1);
+    assert!(
+        out.contains("sqrt(x^2 + y^2 + z^2)") && !out.contains("/r^3"),
+        "{out}"
+    );
+}

@@ -21,6 +21,10 @@ pub struct CheckArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
+    /// Print failing residuals as canonical (expanded) forms, without the file's [define]
+    /// names.
+    #[arg(long)]
+    expanded: bool,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -129,6 +133,9 @@ fn several(a: &CheckArgs) -> Result<Outcome, Failure> {
 /// One file's report (text or JSON) and outcome.
 fn one(a: &CheckArgs, file: &std::path::Path) -> Result<(String, Outcome), Failure> {
     let mut problem = a.limits.load(file)?;
+    if a.expanded {
+        problem.store.set_display_names(None);
+    }
     let report = crate::check_problem(&mut problem).map_err(|e| match e {
         crate::radiation::claims::ClaimsError::Limit(l) => crate::cli::out::gave_up(&l),
         e => Failure::Input(miette::miette!("{}: {e}", problem.path)),

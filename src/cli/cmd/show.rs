@@ -66,6 +66,9 @@ pub struct ShowArgs {
     /// Also print components that are zero.
     #[arg(long)]
     all: bool,
+    /// Print the canonical (expanded) forms, without the file's [define] names.
+    #[arg(long)]
+    expanded: bool,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -73,6 +76,9 @@ pub struct ShowArgs {
 /// `lingrav show`.
 pub fn run(a: ShowArgs) -> Result<Outcome, Failure> {
     let mut p = a.limits.load(&a.file)?;
+    if a.expanded {
+        p.store.set_display_names(None);
+    }
     let limit = |e: CanonError| gave_up(&e);
     let rows = match a.quantity {
         // About a background, or a background quantity of Minkowski in Cartesian coordinates.
@@ -97,7 +103,9 @@ pub fn run(a: ShowArgs) -> Result<Outcome, Failure> {
                 // One aligned block, ready for a paper: the components aligned at `=`.
                 let lines: Vec<String> = shown
                     .into_iter()
-                    .map(|(name, f)| format!("  {} &= {}", latex_label(&name), store.to_latex(f)))
+                    .map(|(name, f)| {
+                        format!("  {} &= {}", latex_label(&name), store.to_display_latex(f))
+                    })
                     .collect();
                 if !lines.is_empty() {
                     let _ = writeln!(
@@ -108,7 +116,7 @@ pub fn run(a: ShowArgs) -> Result<Outcome, Failure> {
                 }
             } else {
                 for (name, f) in shown {
-                    let _ = writeln!(s, "{name} = {}", store.to_text(f));
+                    let _ = writeln!(s, "{name} = {}", store.to_display_text(f));
                 }
             }
             if zeros > 0 {
@@ -125,12 +133,12 @@ pub fn run(a: ShowArgs) -> Result<Outcome, Failure> {
                 .map(|(name, f)| {
                     let mut c = serde_json::json!({
                         "name": name,
-                        "value": store.to_text(f),
+                        "value": store.to_display_text(f),
                         "zero": store.is_zero(f),
                     });
                     if a.latex {
                         c["latex_name"] = latex_label(&name).into();
-                        c["latex"] = store.to_latex(f).into();
+                        c["latex"] = store.to_display_latex(f).into();
                     }
                     c
                 })
