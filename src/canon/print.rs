@@ -340,7 +340,7 @@ impl Store {
         let g =
             rational_content(&scaled).filter(|g| !content.is_empty() || !g.numer().is_one_int());
         if content.is_empty() && g.is_none() {
-            return self.pretty_poly(p, scale);
+            return self.pretty_grouped(p, scale);
         }
         let g = g.unwrap_or_else(|| super::Q::from_integer(1.into()));
         let ginv = Coeff::rational(g.recip());
@@ -357,7 +357,7 @@ impl Store {
             cofactor.push((id, c.mul(&ginv)));
         }
         cofactor.sort_by_key(|t| t.0);
-        let inner = self.pretty_poly(&cofactor, &Coeff::one());
+        let inner = self.pretty_grouped(&cofactor, &Coeff::one());
         if !matches!(inner, Pretty::Sum(_)) {
             return self.pretty_poly(p, scale);
         }
@@ -376,6 +376,83 @@ impl Store {
         dens.sort_by_key(factor_order);
         nums.push(inner);
         Pretty::Prod(Coeff::rational(g), nums, dens)
+    }
+
+    /// In a display printer, the terms of `p` collected by the arbitrary functions and the
+    /// named roots they contain (`Q'''(t - r)*(x^2 - y^2) + r*Q''(t - r)*(...)`), each group
+    /// with its own common factors; elsewhere, or when no group has two terms, `pretty_poly`.
+    fn pretty_grouped(&mut self, p: &super::Poly, scale: &Coeff) -> Pretty {
+        let Some(n) = self.naming.clone() else {
+            return self.pretty_poly(p, scale);
+        };
+        let collects = |s: &Store, k: KernelId| {
+            matches!(s.kernel(k), Kernel::Func { .. }) || n.kernels.contains_key(&k)
+        };
+        let mut groups: Vec<(Vec<(KernelId, i32)>, super::Poly)> = Vec::new();
+        for (m, c) in p {
+            let mono = self.monos[m.0 as usize].clone();
+            let (key, rest): (Vec<_>, Vec<_>) =
+                mono.pows.iter().partition(|&&(k, _)| collects(self, k));
+            let id = self.intern_mono(super::Mono {
+                pows: rest,
+                exp: mono.exp,
+            });
+            match groups.iter_mut().find(|g| g.0 == key) {
+                Some(g) => g.1.push((id, c.clone())),
+                None => groups.push((key, vec![(id, c.clone())])),
+            }
+        }
+        if groups.len() < 2 || groups.iter().all(|g| g.1.len() < 2) {
+            return self.pretty_poly(p, scale);
+        }
+        let mut terms = Vec::with_capacity(groups.len());
+        for (key, mut rest) in groups {
+            rest.sort_by_key(|t| t.0);
+            let mut nums = Vec::new();
+            let mut dens = Vec::new();
+            for (k, e) in key {
+                let kp = self.pretty_kernel(k);
+                let f = if e.unsigned_abs() == 1 {
+                    kp
+                } else {
+                    Pretty::Pow(Box::new(kp), e.unsigned_abs())
+                };
+                if e > 0 { nums.push(f) } else { dens.push(f) }
+            }
+            nums.sort_by_key(factor_order);
+            dens.sort_by_key(factor_order);
+            let rest = self.pretty_collected(&rest, scale);
+            terms.push(match rest {
+                Pretty::Prod(c, n, d) => {
+                    nums.extend(n);
+                    dens.extend(d);
+                    Pretty::Prod(c, nums, dens)
+                }
+                Pretty::Num(c) => Pretty::Prod(c, nums, dens),
+                other => {
+                    nums.push(other);
+                    Pretty::Prod(Coeff::one(), nums, dens)
+                }
+            });
+        }
+        // Higher derivatives and higher powers first, then by text.
+        terms.sort_by_cached_key(|t| {
+            let Pretty::Prod(_, n, d) = t else {
+                return (0, 0, String::new());
+            };
+            let order = n
+                .iter()
+                .map(|f| to_text(f).matches('\'').count())
+                .sum::<usize>();
+            let deg =
+                n.iter().map(degree).sum::<u32>() as i64 - d.iter().map(degree).sum::<u32>() as i64;
+            (
+                usize::MAX - order,
+                -deg,
+                n.iter().map(to_text).collect::<String>(),
+            )
+        });
+        Pretty::Sum(terms)
     }
 
     fn pretty_kernel(&mut self, k: KernelId) -> Pretty {

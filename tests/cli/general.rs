@@ -240,7 +240,10 @@ fn results_print_in_the_files_terms_unless_expanded() {
     let (out, _, code) = lingrav(&["check", &near, "--format", "json"]);
     assert_eq!(code, 1);
     assert!(out.contains("Q''(t - r)/r^3"), "{out}");
-    assert!(out.contains("\\\\frac"), "the LaTeX residual is there too: {out}");
+    assert!(
+        out.contains("\\\\frac"),
+        "the LaTeX residual is there too: {out}"
+    );
     let (out, _, code) = lingrav(&["check", &near, "--expanded"]);
     assert_eq!(code, 1);
     assert!(
