@@ -899,8 +899,9 @@ impl Ball {
         Ball::one().with_prec(self.prec).div(self)
     }
 
-    /// Integer power; `self^0` is exactly 1. Negative powers are reciprocals (`None` if the
-    /// ball may contain 0); `None` beyond the exponent cap.
+    /// Integer power; `self^0` is exactly 1. Negative powers are reciprocals of the positive
+    /// power (`None` if that ball, at this precision, may contain 0: for a wide ball that
+    /// excludes 0 too); `None` beyond the exponent cap.
     ///
     /// Error analysis: `x^k` is increasing for odd `k`, and for even `k` increasing in `|x|`,
     /// so the result is the hull of the powers of the outward-rounded ends (for even `k` and
