@@ -746,6 +746,7 @@ mod tests {
             field_equations: Some(false),
             gauge: vec![Gauge::Tt],
             pure_gauge: None,
+            far_zone_order: None,
         };
         let plan = Plan::of(Some(&claims), true);
         let kinds: Vec<(Kind, Option<bool>)> =

@@ -556,3 +556,6 @@ fn method_text(components: &[Component], found: &[Found], order: u32, names: &Ra
     }
     s
 }
+
+#[cfg(test)]
+mod tests;
