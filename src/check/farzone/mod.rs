@@ -216,7 +216,12 @@ impl Ray<'_> {
 
     fn component(&self, store: &mut Store, f: Form) -> (Verdict, Residual, Found) {
         if store.is_zero(f) {
-            return (Verdict::Zero, Residual::Zero, Found::default());
+            // Exactly 0: no expansion, no condition; the audit still evaluates it.
+            let found = Found {
+                valid_at: vec![true; self.bases.len()],
+                ..Found::default()
+            };
+            return (Verdict::Zero, Residual::Zero, found);
         }
         let undecided =
             |why: String| (Verdict::Undecided(why), Residual::Form(f), Found::default());
