@@ -91,6 +91,16 @@ fn far_zone_a_wrong_leading_term_fails_at_order_one() {
     );
 }
 
+/// A grid measures whether components vanish on a box, not their falloff: `grid` refuses a
+/// far-zone claim instead of reporting it failed.
+#[test]
+fn far_zone_grid_refuses_a_far_zone_claim() {
+    let (out, err, code) = lingrav(&["grid", &worked("rotating_bar_far_zone.toml")]);
+    assert_eq!(code, 2, "{out}{err}");
+    assert!(err.contains("far_zone_order"), "{err}");
+    assert!(err.contains("lingrav check"), "{err}");
+}
+
 #[test]
 fn far_zone_an_oscillation_at_fixed_position_is_undecided() {
     let dir = tempfile::tempdir().unwrap();
