@@ -499,12 +499,18 @@ impl Ray<'_> {
             store.sum(&sq)
         })();
         let Ok(nn) = nn else { return false };
+        // f or f^2 (for odd powers of s = sqrt(n.n)) a nonzero constant times (n.n)^k.
+        let Ok(f2) = store.mul(f, f) else {
+            return false;
+        };
         let mut p = store.one();
-        for _ in 0..=4 {
-            if let Ok(q) = store.div(f, p)
-                && store.as_constant(q).is_some()
-            {
-                return true;
+        for _ in 0..=8 {
+            for g in [f, f2] {
+                if let Ok(q) = store.div(g, p)
+                    && store.as_constant(q).is_some()
+                {
+                    return true;
+                }
             }
             match store.mul(p, nn) {
                 Ok(next) => p = next,
