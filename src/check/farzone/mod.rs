@@ -249,14 +249,19 @@ impl Ray<'_> {
                     k += 1;
                     continue;
                 }
-                return match decide(store, c, self.sampling) {
-                    Verdict::Nonzero(w) => self.failing(store, c, k, w, &conditions, f),
-                    Verdict::Undecided(why) => undecided(format!(
-                        "the coefficient of 1/rho^{k} is not reduced to 0 and not certified \
-                         nonzero ({why})"
-                    )),
-                    Verdict::Zero => unreachable!("a form that is not empty is never proved 0"),
-                };
+                match decide(store, c, self.sampling) {
+                    Verdict::Nonzero(w) => {
+                        return self.failing(store, c, k, w, &conditions, f);
+                    }
+                    Verdict::Undecided(why) => {
+                        return undecided(format!(
+                            "the coefficient of 1/rho^{k} is not reduced to 0 and not \
+                             certified nonzero ({why})"
+                        ));
+                    }
+                    // Only an empty form is proved 0, and those were skipped above.
+                    Verdict::Zero => k += 1,
+                }
             }
             if s.prec < n {
                 continue;
