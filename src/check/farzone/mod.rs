@@ -31,7 +31,8 @@
 //! - an arbitrary function `F^(k)(a0 + d)`, `d = O(eps)`, is Taylor expanded exactly
 //!   (`F` smooth, the remainder O(d^J)); a growing argument is undecided;
 //! - `exp(E)` needs `E` bounded: a certified nonzero coefficient of a negative power of eps
-//!   (e.g. `sin(w t)` at fixed u, `exp(i w rho)`) is undecided ("grows or oscillates").
+//!   (e.g. `sin(w t)` at fixed u, `exp(i w rho)`; also `exp(-r^2)`, which decays faster than
+//!   any power but is not a series in 1/r) is undecided.
 //!
 //! A verdict with conditions says so: *holds* is claimed for the (u, direction, parameters)
 //! where they hold, and only if a point where all are certified is found (so that it is

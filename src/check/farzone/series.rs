@@ -472,12 +472,13 @@ impl<'a> Expander<'a> {
     }
 
     /// The part of `a` of order 0 and the rest (valuation >= 1), for an `a` that does not
-    /// grow; `what` names it for the report.
+    /// grow; `what` names it for the report, `consequence` says what growth would mean.
     fn bounded_split(
         &mut self,
         store: &mut Store,
         a: &Series,
         what: &str,
+        consequence: &str,
     ) -> SResult<(Form, Series)> {
         if a.is_zero() {
             return Ok((store.zero(), Series::zero()));
@@ -492,7 +493,8 @@ impl<'a> Expander<'a> {
             let lead = a.c[0];
             return Err(match decide(store, lead, self.sampling) {
                 Verdict::Nonzero(_) => Stop::Undecided(format!(
-                    "{what} grows like r^{} at fixed t - r (it grows or oscillates in r)",
+                    "{what} grows like r^{} at fixed t - r, so {consequence} (not a series in \
+                     1/r)",
                     -a.v
                 )),
                 _ => Stop::Undecided(format!(
@@ -514,7 +516,12 @@ impl<'a> Expander<'a> {
     }
 
     fn exp(&mut self, store: &mut Store, e: &Series) -> SResult<Series> {
-        let (e0, d) = self.bounded_split(store, e, "an exponent")?;
+        let (e0, d) = self.bounded_split(
+            store,
+            e,
+            "an exponent",
+            "the field grows, oscillates or decays exponentially in r",
+        )?;
         let lead = store.exp(e0)?;
         let coeffs: Vec<Form> = (0..self.p)
             .map(|j| store.constant(Coeff::rational(inv_factorial(j))))
@@ -525,7 +532,12 @@ impl<'a> Expander<'a> {
 
     fn func(&mut self, store: &mut Store, name: &str, order: u32, arg: &Series) -> SResult<Series> {
         let what = format!("the argument of {name}");
-        let (a0, d) = self.bounded_split(store, arg, &what)?;
+        let (a0, d) = self.bounded_split(
+            store,
+            arg,
+            &what,
+            "the function is not evaluated near a fixed argument",
+        )?;
         // F^(k)(a0 + d) = sum_j F^(k+j)(a0) d^j / j!  (F smooth; d = O(1/r)).
         let mut coeffs = Vec::new();
         let terms = if d.is_zero() { 1 } else { self.p };

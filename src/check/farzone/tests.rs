@@ -122,7 +122,8 @@ fn an_oscillation_at_fixed_position_is_undecided() {
         .collect();
     assert!(!why.is_empty());
     assert!(
-        why.iter().any(|w| w.contains("grows or oscillates in r")),
+        why.iter()
+            .any(|w| w.contains("grows, oscillates or decays exponentially in r")),
         "{why:?}"
     );
 }
@@ -365,4 +366,41 @@ fn a_false_failing_order_is_caught_by_the_audit() {
     assert!(k.audit.is_defect(), "{:?}", k.audit);
     assert!(out[lorenz].method.contains("INTERNAL DEFECT"));
     assert_ne!(out[lorenz].status, Status::Holds);
+}
+
+/// What an expansion in 1/r cannot describe is undecided, with the reason: an exponential
+/// of a growing exponent (here one that decays faster than any power), a logarithm of a
+/// growing quantity, a function of a growing argument. A logarithm of a bounded quantity is
+/// expanded: log(1 + 1/r^2) is O(1/r^2) and falls off only as 1/r^2.
+#[test]
+fn growth_logarithms_and_exponentials() {
+    let mut st = Store::new();
+    let (names, sampling) = (names(), Sampling::default());
+    let r2 = "(x^2 + y^2 + z^2)";
+    for (text, why) in [
+        (format!("exp(-{r2})"), "decays exponentially in r"),
+        (
+            format!("log({r2})/{r2}"),
+            "logarithm of a quantity that grows",
+        ),
+        (
+            format!("F(t + sqrt({r2}))/{r2}"),
+            "not evaluated near a fixed argument",
+        ),
+    ] {
+        let ray = ray_for(&mut st, &names, &sampling, 1);
+        let f = crate::expression(&mut st, &text).unwrap();
+        let (v, _, _) = ray.component(&mut st, f);
+        assert!(
+            matches!(&v, Verdict::Undecided(w) if w.contains(why)),
+            "{text}: {v:?}"
+        );
+    }
+    let f = crate::expression(&mut st, &format!("log(1 + 1/{r2})")).unwrap();
+    let ray = ray_for(&mut st, &names, &sampling, 2);
+    assert_eq!(ray.component(&mut st, f).0, Verdict::Zero);
+    let ray = ray_for(&mut st, &names, &sampling, 3);
+    let (v, _, found) = ray.component(&mut st, f);
+    assert!(matches!(v, Verdict::Nonzero(_)), "{v:?}");
+    assert_eq!(found.failing_order, Some(2));
 }
