@@ -340,7 +340,12 @@ impl Ray<'_> {
         (
             Verdict::Nonzero(w),
             Residual::Note(format!(
-                "{how}; claimed O(1/r^{n}); coefficient of 1/rho^{k}: {text}"
+                "{how}; claimed O(1/r^{n}); coefficient of {}: {text}",
+                match k {
+                    k if k < 0 => format!("rho^{}", -k),
+                    0 => "rho^0".to_string(),
+                    k => format!("1/rho^{k}"),
+                }
             )),
             Found {
                 failing_order: Some(k),

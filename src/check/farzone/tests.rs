@@ -433,3 +433,30 @@ fn growth_logarithms_and_exponentials() {
     assert!(matches!(v, Verdict::Nonzero(_)), "{v:?}");
     assert_eq!(found.failing_order, Some(2));
 }
+
+/// Deep cancellation: r (sqrt(r^2 + 1) - r) minus its own expansion through 1/r^8, times r^2,
+/// is -21/(1024 r^8) + ...: the first precision tried does not reach order 8 after the
+/// cancellations, a larger one does. Without the 1/r^8 term of the expansion the residual
+/// falls off only as 1/r^6 (binomial series of sqrt(1 + 1/r^2)).
+#[test]
+fn deep_cancellations_are_followed_to_the_claimed_order() {
+    let mut st = Store::new();
+    let (names, sampling) = (names(), Sampling::default());
+    let r = "sqrt(x^2 + y^2 + z^2)";
+    let series = format!(
+        "({r}*(sqrt(x^2 + y^2 + z^2 + 1) - {r}) - 1/2 + 1/(8*{r}^2) - 1/(16*{r}^4) \
+         + 5/(128*{r}^6) LAST)*{r}^2"
+    );
+    let f = crate::expression(
+        &mut st,
+        &series.replace("LAST", &format!("- 7/(256*{r}^8)")),
+    )
+    .unwrap();
+    let ray = ray_for(&mut st, &names, &sampling, 8);
+    let (v, _, _) = ray.component(&mut st, f);
+    assert_eq!(v, Verdict::Zero);
+    let g = crate::expression(&mut st, &series.replace("LAST", "")).unwrap();
+    let (v, _, found) = ray.component(&mut st, g);
+    assert!(matches!(v, Verdict::Nonzero(_)), "{v:?}");
+    assert_eq!(found.failing_order, Some(6));
+}
