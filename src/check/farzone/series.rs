@@ -114,8 +114,6 @@ pub(super) struct Expander<'a> {
     certified: FxHashMap<Form, bool>,
     /// Every condition the expansions so far rest on.
     pub(super) conditions: Vec<Condition>,
-    /// The direction symbols, for "manifestly positive" leading coefficients.
-    dir: [Form; 3],
 }
 
 impl<'a> Expander<'a> {
@@ -155,7 +153,6 @@ impl<'a> Expander<'a> {
             forms: FxHashMap::default(),
             certified: FxHashMap::default(),
             conditions: Vec::new(),
-            dir: n,
         })
     }
 
@@ -415,7 +412,6 @@ impl<'a> Expander<'a> {
                 }
             };
         }
-        let _ = self.dir;
         self.note(store, Condition::OffNegativeAxis(c0));
         Ok(())
     }
