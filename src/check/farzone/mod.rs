@@ -37,8 +37,17 @@
 //! A verdict with conditions says so: *holds* is claimed for the (u, direction, parameters)
 //! where they hold, and only if a point where all are certified is found (so that it is
 //! never vacuous); *fails* is claimed at its witness, where they are certified. A coefficient
-//! divided by that is a nonzero constant times a power of n.n is implied by n != 0 and not
-//! listed.
+//! divided by that is a nonzero constant times a power of sqrt(n.n) is nonzero for every
+//! direction n != 0 and is not listed.
+//!
+//! Why "holds" is sound, in short: at every (u, n, parameters) where the listed conditions
+//! hold, each step above turns an asymptotic expansion `f = sum c_k eps^k + O(eps^prec)` into
+//! another one (valuations are only ever lower bounds, precisions only ever shrink), so the
+//! component equals `sum_{k < prec} c_k eps^k + O(eps^prec)` there; every `c_k`, `k < n`, is
+//! an empty canonical form, identically 0 (the canonical form's rewrites are identities),
+//! and `prec >= n`, so the component is O(eps^n) = O(1/r^n). "Fails" uses the same expansion
+//! at one certified point: the lower coefficients vanish identically and `c_k` does not
+//! there, so the component behaves as `c_k eps^k` with `k < n`.
 //!
 //! The second opinion ([`audit`]) evaluates the components from the file's texts along the
 //! ray at rho = 1e6, 1e8, 1e10 in multiprecision balls and compares the falloff with the
