@@ -98,6 +98,10 @@ impl fmt::Display for Gauge {
     }
 }
 
+/// The largest `far_zone_order` a file may claim (each order is one more coefficient of
+/// the expansion in 1/r, whose size grows quickly with the order).
+pub const MAX_FAR_ZONE_ORDER: u32 = 8;
+
 /// What the author of a file asserts; every claim is checked.
 #[derive(Clone, Debug, Default, PartialEq, Eq)]
 pub struct Claims {
@@ -107,6 +111,10 @@ pub struct Claims {
     pub gauge: Vec<Gauge>,
     /// `h` is, or is not, a pure gauge perturbation `d_mu xi_nu + d_nu xi_mu`.
     pub pure_gauge: Option<bool>,
+    /// `far_zone_order = n`: every claim about components of h (and T) is checked as "the
+    /// component is O(1/r^n) as r grows at fixed t - r and fixed direction" instead of "the
+    /// component is 0" (see `crate::check::farzone`).
+    pub far_zone_order: Option<u32>,
 }
 
 impl Claims {
@@ -123,6 +131,9 @@ impl Claims {
         }
         if let Some(b) = self.pure_gauge {
             parts.push(format!("pure_gauge = {b}"));
+        }
+        if let Some(n) = self.far_zone_order {
+            parts.push(format!("far_zone_order = {n}"));
         }
         if parts.is_empty() {
             "none".into()
@@ -735,6 +746,7 @@ mod tests {
             field_equations: Some(false),
             gauge: vec![Gauge::Tt],
             pure_gauge: None,
+            far_zone_order: None,
         };
         let plan = Plan::of(Some(&claims), true);
         let kinds: Vec<(Kind, Option<bool>)> =

@@ -26,6 +26,8 @@ mod binary;
 mod curved_commands;
 #[path = "cli/expr_commands.rs"]
 mod expr_commands;
+#[path = "cli/farzone.rs"]
+mod farzone;
 #[path = "cli/general.rs"]
 mod general;
 #[path = "cli/layers.rs"]

@@ -177,10 +177,11 @@ fn dropped_near_zone_terms_fail() {
 /// fails this test (list it, with its expected result, when adding an example); so does a
 /// listed file that is missing. The claims of each file are asserted by the tests above or,
 /// for files made for other commands, by those commands' tests.
-const WORKED: [(&str, i32); 31] = [
+const WORKED: [(&str, i32); 33] = [
     ("de_sitter_tensor_mode.toml", 0),
     ("detector_gauge_wave.toml", 0),
     ("dropped_near_zone.toml", 1),
+    ("dropped_near_zone_far_zone.toml", 0),
     ("frw_dust_tensor_mode.toml", 0),
     ("frw_radiation_tensor_mode.toml", 0),
     ("kottler_mass_perturbation.toml", 0),
@@ -209,6 +210,7 @@ const WORKED: [(&str, i32); 31] = [
     ("head_on_plunge.toml", 0),
     ("recoil_binary.toml", 0),
     ("wrong_sign_wave.toml", 1),
+    ("rotating_bar_far_zone.toml", 0),
 ];
 
 #[test]
@@ -276,6 +278,16 @@ fn bad_problem_files_give_located_errors() {
         "2:7",
     );
     expect_error("unknown_gauge.toml", "unknown gauge `lorentz`", "4:10");
+    expect_error(
+        "far_zone_order_zero.toml",
+        "`far_zone_order` must be from 1 to 8",
+        "6:18",
+    );
+    expect_error(
+        "far_zone_background.toml",
+        "`far_zone_order` is checked about Minkowski in Cartesian coordinates",
+        "11:1",
+    );
     expect_error("toml_syntax.toml", "invalid TOML", "1:14");
     expect_error("declared_twice.toml", "`r` is declared twice", "4:1");
 }

@@ -94,6 +94,22 @@ const WRONG: [(&str, &[&str]); 4] = [
     ("wrong_sign_wave.toml", &["field_equations", "gauge.tt"]),
 ];
 
+/// Files with `far_zone_order`: their components are claimed O(1/r^n) at fixed t - r, not 0,
+/// so the tests of exact values below do not apply to them (their verdicts are audited along
+/// rays: see `check::farzone`'s tests).
+const FAR_ZONE: [&str; 2] = [
+    "dropped_near_zone_far_zone.toml",
+    "rotating_bar_far_zone.toml",
+];
+
+/// The worked files whose claims are about exact values.
+fn exact_worked() -> Vec<(String, String)> {
+    worked()
+        .into_iter()
+        .filter(|(n, _)| !FAR_ZONE.contains(&n.as_str()))
+        .collect()
+}
+
 fn is_wrong(label: &str) -> bool {
     WRONG.iter().any(|(w, _)| *w == label)
 }
@@ -121,6 +137,7 @@ fn every_worked_file_is_covered() {
         .iter()
         .copied()
         .chain(WRONG.iter().map(|(w, _)| *w))
+        .chain(FAR_ZONE)
         .collect();
     listed.sort_unstable();
     assert_eq!(names, listed);
@@ -132,7 +149,7 @@ fn every_worked_file_is_covered() {
 #[test]
 fn names_and_verdicts_agree_with_the_exact_check() {
     let (mut proved, mut witnessed) = (0, 0);
-    for (label, text) in worked() {
+    for (label, text) in exact_worked() {
         let audit = audit_of(&label, &text);
         let mut problem = from_str(&label, &text).expect("reads");
         let report = check(&mut problem);
@@ -225,7 +242,7 @@ fn names_and_verdicts_agree_with_the_exact_check() {
 /// every asserted claim of the deliberately wrong files has a component excluding 0.
 #[test]
 fn claims_of_worked_files_at_seeded_points() {
-    for (label, text) in worked() {
+    for (label, text) in exact_worked() {
         let audit = audit_of(&label, &text);
         let points = audit.seeded_points(SEED ^ 1, 4);
         let values: Vec<Vec<ComponentValue>> = points

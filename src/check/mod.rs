@@ -8,6 +8,7 @@
 
 pub mod audit;
 pub mod curved;
+mod farzone;
 pub mod verdicts;
 
 pub use audit::{AUDIT_POINTS, Audited, audit_text, auditable};
@@ -389,6 +390,11 @@ pub fn check(problem: &mut Problem) -> CheckReport {
     // computed on a second thread while the exact route works (the two routes share nothing
     // but the parser). The witnesses' audit waits for the exact verdicts. Whichever thread
     // computes the seeded values, the results are the same (see `audit::SeededJob`).
+    if let Some(order) = problem.claims.as_ref().and_then(|c| c.far_zone_order) {
+        // Every claim checked as "O(1/r^n) at fixed t - r", audited along rays.
+        let (claims, has_claims) = farzone::check(problem, order);
+        return CheckReport { claims, has_claims };
+    }
     let seed = problem.sampling.seed;
     let texts = audit::auditable(problem)
         .ok()

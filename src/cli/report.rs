@@ -274,6 +274,8 @@ pub fn proved_claims(report: &CheckReport, asked: &Claims) -> Claims {
                 Some(Status::Fails) => Some(!want),
                 _ => None,
             }),
+        // The derived perturbation is checked exactly, never at a far-zone order.
+        far_zone_order: None,
     }
 }
 

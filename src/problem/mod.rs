@@ -206,6 +206,8 @@ pub struct ProblemFile {
     pub bodies: Vec<BodyText>,
     /// The claims about the bodies' radiation in \[claims\].
     pub radiation_claims: RadiationClaimTexts,
+    /// Where `far_zone_order` is written, if it is.
+    pub far_zone_span: Option<Span>,
 }
 
 /// The claims about radiation as written: `luminosity`, `luminosity_average`,

@@ -9,6 +9,7 @@ use super::{
     ProblemFile, VectorComponent, closest,
 };
 use crate::canon::{Names, Store};
+use crate::claim::MAX_FAR_ZONE_ORDER;
 use crate::expr::Span;
 use crate::tensor::{COMPONENTS, COORDS};
 use std::borrow::Cow;
@@ -34,8 +35,9 @@ pub(super) const TOP_KEYS: [&str; 16] = [
     "claims",
     "grid",
 ];
-const CLAIM_KEYS: [&str; 8] = [
+const CLAIM_KEYS: [&str; 9] = [
     "field_equations",
+    "far_zone_order",
     "gauge",
     "pure_gauge",
     "luminosity",
@@ -677,6 +679,7 @@ impl Cx<'_> {
         &self,
         t: &DeTable<'_>,
         radiation: &mut RadiationClaimTexts,
+        far_zone_span: &mut Option<Span>,
     ) -> Result<Claims, ProblemError> {
         let mut c = Claims::default();
         for (k, v) in entries(t) {
@@ -684,6 +687,10 @@ impl Cx<'_> {
                 "field_equations" => c.field_equations = Some(self.bool("`field_equations`", v)?),
                 "pure_gauge" => c.pure_gauge = Some(self.bool("`pure_gauge`", v)?),
                 "gauge" => c.gauge = self.gauges(v)?,
+                "far_zone_order" => {
+                    c.far_zone_order = Some(self.far_zone_order(v)?);
+                    *far_zone_span = Some(span_of(k));
+                }
                 "luminosity" => {
                     radiation.luminosity = Some(self.expr_or_number("`luminosity`", v)?);
                 }
@@ -703,6 +710,32 @@ impl Cx<'_> {
             }
         }
         Ok(c)
+    }
+
+    /// `far_zone_order = n`: an integer from 1 to [`MAX_FAR_ZONE_ORDER`].
+    fn far_zone_order(&self, v: &Value<'_>) -> Result<u32, ProblemError> {
+        let help = format!(
+            "write the order n of the claim \"every claimed component is O(1/r^n) at fixed \
+             t - r\" as a whole number from 1 to {MAX_FAR_ZONE_ORDER}, e.g. `far_zone_order = 2`"
+        );
+        let n = match v.get_ref() {
+            DeValue::Integer(i) => i64::from_str_radix(i.as_str(), i.radix()).ok(),
+            _ => {
+                return Err(self
+                    .type_error("`far_zone_order`", "a whole number", v)
+                    .with_help(help));
+            }
+        };
+        match n {
+            Some(n) if (1..=i64::from(MAX_FAR_ZONE_ORDER)).contains(&n) => Ok(n as u32),
+            _ => Err(self
+                .err(
+                    format!("`far_zone_order` must be from 1 to {MAX_FAR_ZONE_ORDER}"),
+                    span_of(v),
+                    "out of range",
+                )
+                .with_help(help)),
+        }
     }
 
     /// A claimed vector of three expressions, `dP_x/dt, dP_y/dt, dP_z/dt`.
@@ -1041,6 +1074,7 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
         domain: None,
         bodies: Vec::new(),
         radiation_claims: RadiationClaimTexts::default(),
+        far_zone_span: None,
     };
     let mut saw_perturbation = false;
     for (k, v) in entries(root.get_ref()) {
@@ -1066,7 +1100,11 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
             "gauge_vector" => file.gauge_vector = Some(cx.vector(cx.table(k, v)?)?),
             "domain" => file.domain = Some(cx.domain(cx.table(k, v)?)?),
             "claims" => {
-                file.claims = Some(cx.claims(cx.table(k, v)?, &mut file.radiation_claims)?);
+                file.claims = Some(cx.claims(
+                    cx.table(k, v)?,
+                    &mut file.radiation_claims,
+                    &mut file.far_zone_span,
+                )?);
             }
             "grid" => file.grid = Some(cx.grid(cx.table(k, v)?)?),
             "body" => cx.bodies(v, &mut file.bodies)?,
@@ -1106,6 +1144,25 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
             ));
     }
     let cartesian = file.coordinates == COORDS.map(String::from);
+    let about_a_background = file.background.is_some()
+        || file.cosmological_constant.is_some()
+        || file.background_source.is_some()
+        || file.gauge_vector.is_some()
+        || !cartesian;
+    if let Some(span) = file.far_zone_span.filter(|_| about_a_background) {
+        return Err(cx
+            .err(
+                "`far_zone_order` is checked about Minkowski in Cartesian coordinates t, x, y, z \
+                 only",
+                span,
+                "needs flat Cartesian",
+            )
+            .with_help(
+                "remove `far_zone_order`, or give the perturbation about flat space in t, x, y, z \
+                 without [background], [background_source], [gauge_vector] or \
+                 `cosmological_constant`",
+            ));
+    }
     if file.background.is_none()
         && let Some(span) = file.coordinates_span.filter(|_| !cartesian)
     {

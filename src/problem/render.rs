@@ -57,6 +57,9 @@ pub fn render_problem(
         if let Some(b) = c.pure_gauge {
             let _ = writeln!(s, "pure_gauge = {b}");
         }
+        if let Some(n) = c.far_zone_order {
+            let _ = writeln!(s, "far_zone_order = {n}");
+        }
         sections.push(s);
     }
     sections.join("\n")

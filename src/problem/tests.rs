@@ -165,6 +165,7 @@ fn valid_file_with_every_table() {
             field_equations: Some(false),
             gauge: vec![Gauge::Lorenz, Gauge::Tt],
             pure_gauge: Some(false),
+            far_zone_order: None,
         })
     );
     assert_eq!(

@@ -163,6 +163,16 @@ fn check_estimate(plan: &GridPlan, settings: &GridSettings, a: &GridArgs) -> Res
 pub fn run(a: GridArgs) -> Result<Outcome, Failure> {
     // Plan: read and build the file, resolve the grid, compile, check the plot's folder.
     let mut problem = a.limits.load(&a.file)?;
+    if let Some(n) = problem.claims.as_ref().and_then(|c| c.far_zone_order) {
+        // A grid measures whether components vanish on a box; it says nothing about their
+        // falloff at fixed t - r.
+        return Err(input_error(
+            format!(
+                "the file claims its components only as O(1/r^{n}) far out (far_zone_order),                  which a grid on a box does not measure"
+            ),
+            "check it with `lingrav check`, or remove `far_zone_order` to check on a grid that              the components vanish",
+        ));
+    }
     let (settings, defaults) = settings(&a, &problem)?;
     let plot = match &a.plot {
         Some(p) => Some(

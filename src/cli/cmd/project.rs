@@ -106,6 +106,7 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
             field_equations: Some(true),
             gauge: vec![Gauge::Tt],
             pure_gauge: None,
+            far_zone_order: None,
         };
         let report = p.with_derived(
             tt4,

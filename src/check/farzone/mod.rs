@@ -1,0 +1,592 @@
+//! `far_zone_order = n`: claims checked as "every component is O(1/r^n) as r grows at fixed
+//! retarded time t - r and fixed direction" instead of "every component is 0".
+//!
+//! Model. Along the ray `t = u + rho*s`, `(x, y, z) = rho*(n1, n2, n3)`, with free direction
+//! symbols `n` (not necessarily a unit vector) and `s = sqrt(n1^2 + n2^2 + n3^2)` a root
+//! kernel, `sqrt(x^2 + y^2 + z^2) = sqrt(rho^2 (n.n)) = rho*s` (rho > 0 real, so the principal
+//! root factors), hence `t - r = u` exactly. A component's canonical form is walked through
+//! [`Store::view`] and expanded as a truncated Laurent series in `eps = 1/rho`
+//! ([`series::Series`]: a lower bound of the valuation, exact coefficients that are canonical
+//! forms in u, n and the parameters, and an absolute precision). Since `r = s*rho`, "O(1/r^n)"
+//! and "O(eps^n)" are the same statement at a fixed direction. Supported: Minkowski in
+//! Cartesian coordinates t, x, y, z (the reader refuses `far_zone_order` anywhere else, with
+//! the file's line and column).
+//!
+//! Soundness. *Holds* needs every coefficient of eps^k, k < n, to be an empty canonical form
+//! (the zero test's proof) and the series' precision to reach n; *fails* needs the lowest
+//! coefficient that is not empty, at an order k < n, to be certified nonzero at a point by the
+//! zero test (every lower one being proved zero), at a point where every [`Condition`] is
+//! certified too; everything else is *undecided*. Each step of the expansion is an identity
+//! of asymptotic expansions at a fixed point (u, n, parameters) as eps -> 0+:
+//! - sums and products of series (precision bookkeeping by valuation lower bounds only);
+//! - `1/a`, `a^(1/q)` and `log a` factor `a = c0 eps^v (1 + w)`, `w = O(eps)`, and expand in
+//!   `w`: they need `c0 != 0`, which the zero test certifies at some point (else undecided),
+//!   and the expansion then holds where `c0(u, n) != 0` (recorded as a condition); roots also
+//!   need `q | v` (else a fractional power of r: undecided) and logarithms `v = 0` (else log r
+//!   terms: undecided). `Log(c0 (1 + w)) = Log c0 + Log(1 + w)` for the principal branch as
+//!   soon as `Arg c0 + Arg(1 + w)` stays in (-pi, pi], which holds for small eps wherever c0 is
+//!   not a real number <= 0; this is recorded as a condition unless c0 is manifestly >= 0 (a
+//!   sum of positive rationals times even powers of real symbols) and refused outright when
+//!   c0 is a negative constant;
+//! - an arbitrary function `F^(k)(a0 + d)`, `d = O(eps)`, is Taylor expanded exactly
+//!   (`F` smooth, the remainder O(d^J)); a growing argument is undecided;
+//! - `exp(E)` needs `E` bounded: a certified nonzero coefficient of a negative power of eps
+//!   (e.g. `sin(w t)` at fixed u, `exp(i w rho)`; also `exp(-r^2)`, which decays faster than
+//!   any power but is not a series in 1/r) is undecided.
+//!
+//! A verdict with conditions says so: *holds* is claimed for the (u, direction, parameters)
+//! where they hold, and only if a point where all are certified is found (so that it is
+//! never vacuous); *fails* is claimed at its witness, where they are certified. A coefficient
+//! divided by that is a nonzero constant times a power of sqrt(n.n) is nonzero for every
+//! direction n != 0 and is not listed.
+//!
+//! Why "holds" is sound, in short: at every (u, n, parameters) where the listed conditions
+//! hold, each step above turns an asymptotic expansion `f = sum c_k eps^k + O(eps^prec)` into
+//! another one (valuations are only ever lower bounds, precisions only ever shrink), so the
+//! component equals `sum_{k < prec} c_k eps^k + O(eps^prec)` there; every `c_k`, `k < n`, is
+//! an empty canonical form, identically 0 (the canonical form's rewrites are identities),
+//! and `prec >= n`, so the component is O(eps^n) = O(1/r^n). "Fails" uses the same expansion
+//! at one certified point: the lower coefficients vanish identically and `c_k` does not
+//! there, so the component behaves as `c_k eps^k` with `k < n`.
+//!
+//! The second opinion ([`audit`]) evaluates the components from the file's texts along the
+//! ray at rho = 1e6, 1e8, 1e10 in multiprecision balls and compares the falloff with the
+//! verdict; a disagreement is an INTERNAL DEFECT, never a pass.
+
+mod audit;
+mod series;
+
+use super::{ClaimReport, Component, ExactParts, RESIDUAL_CHARS, Residual, Status};
+use crate::canon::{CanonError, Form, KernelId, Point, Store};
+use crate::check::Audited;
+use crate::claim::{Claim, Plan};
+use crate::interval::{CInterval, Interval};
+use crate::problem::Problem;
+use crate::tensor::Linearized;
+use crate::zero::{Sampling, SplitMix64, Verdict, Witness, decide};
+use series::{Condition, Expander, Stop};
+
+/// The names of the ray's symbols: retarded time and direction.
+#[derive(Clone, Debug)]
+pub(crate) struct RayNames {
+    /// Retarded time `u = t - r`.
+    pub u: String,
+    /// The direction `(n1, n2, n3)`.
+    pub n: [String; 3],
+}
+
+impl RayNames {
+    /// `u`, `n1`, `n2`, `n3`, with `_` appended until no name of the problem is taken.
+    fn of(problem: &Problem) -> RayNames {
+        let taken = |n: &str| {
+            problem.parameters.iter().any(|(m, _)| m == n)
+                || problem.functions.iter().any(|(m, _)| m == n)
+                || problem.defines.iter().any(|(m, _)| m == n)
+                || problem.coordinates.iter().any(|m| m == n)
+        };
+        let mut suffix = String::new();
+        loop {
+            let names = RayNames {
+                u: format!("u{suffix}"),
+                n: std::array::from_fn(|i| format!("n{}{suffix}", i + 1)),
+            };
+            if !taken(&names.u) && !names.n.iter().any(|n| taken(n)) {
+                return names;
+            }
+            suffix.push('_');
+        }
+    }
+
+    /// How the ray is parametrised, for reports.
+    fn ray_text(&self) -> String {
+        let [a, b, c] = &self.n;
+        format!(
+            "along t = {u} + rho*sqrt({a}^2 + {b}^2 + {c}^2), (x, y, z) = rho*({a}, {b}, {c})",
+            u = self.u
+        )
+    }
+}
+
+/// What the exact route found for one component (beside its [`Verdict`]).
+#[derive(Clone, Debug, Default)]
+pub(crate) struct Found {
+    /// The power of 1/rho of the certified nonzero coefficient, for a failing component.
+    pub failing_order: Option<i64>,
+    /// Conditions as text (see the module docs), empty when none.
+    pub conditions: Vec<String>,
+    /// For each of the audit's base points: whether every condition is certified there.
+    pub valid_at: Vec<bool>,
+}
+
+/// Checks every claim of a flat problem at far-zone order `order`, then audits the verdicts
+/// along rays (see the module docs).
+pub(crate) fn check(problem: &mut Problem, order: u32) -> (Vec<ClaimReport>, bool) {
+    let names = RayNames::of(problem);
+    let plan = Plan::of(problem.claims.as_ref(), problem.source.is_some());
+    if problem.background.is_some() {
+        let why = "far_zone_order is checked about Minkowski in Cartesian coordinates only";
+        let out = plan
+            .claims
+            .iter()
+            .map(|&c| ClaimReport::new(c, Status::Undecided, format!("undecided: {why}"), vec![]))
+            .collect();
+        return (out, plan.has_claims);
+    }
+    let bases = audit::base_points(problem, &names);
+    let (mut out, found) = exact(problem, &plan, order, &names, &bases);
+    audit::audit(problem, &mut out, &found, order, &names, &bases);
+    (out, plan.has_claims)
+}
+
+fn exact(
+    problem: &mut Problem,
+    plan: &Plan,
+    order: u32,
+    names: &RayNames,
+    bases: &[Vec<(String, f64)>],
+) -> (Vec<ClaimReport>, Vec<Vec<Found>>) {
+    let sampling = problem.sampling.clone();
+    let parameters = problem.parameters.clone();
+    let store = &mut problem.store;
+    let coords: [KernelId; 4] =
+        std::array::from_fn(|i| store.symbol_kernel(&problem.coordinates[i]));
+    let mut lin = Linearized::new(store, problem.h);
+    let source = problem.source;
+    let mut parts = ExactParts::new(&mut lin, source.as_ref());
+    let ray = Ray {
+        coords,
+        order,
+        names,
+        sampling: &sampling,
+        parameters: &parameters,
+        bases,
+    };
+    let mut found = Vec::new();
+    let out = plan
+        .claims
+        .iter()
+        .map(|&c| match parts.named(store, c.kind) {
+            Ok(named) => {
+                let (report, f) = ray.claim(store, c, named);
+                found.push(f);
+                report
+            }
+            Err(e) => {
+                found.push(Vec::new());
+                super::limit_report(c, e)
+            }
+        })
+        .collect();
+    (out, found)
+}
+
+struct Ray<'a> {
+    coords: [KernelId; 4],
+    order: u32,
+    names: &'a RayNames,
+    sampling: &'a Sampling,
+    parameters: &'a [(String, f64)],
+    bases: &'a [Vec<(String, f64)>],
+}
+
+/// The relative precisions tried, as multiples of the order plus a margin.
+const PRECISIONS: [(usize, usize); 3] = [(1, 3), (2, 6), (4, 12)];
+
+impl Ray<'_> {
+    fn claim(
+        &self,
+        store: &mut Store,
+        claim: Claim,
+        named: Vec<(String, Form)>,
+    ) -> (ClaimReport, Vec<Found>) {
+        let mut components = Vec::new();
+        let mut found = Vec::new();
+        for (name, f) in named {
+            let (verdict, residual, fd) = self.component(store, f);
+            components.push(Component {
+                name,
+                verdict,
+                residual,
+                audit: Audited::NotRun("not yet audited".into()),
+            });
+            found.push(fd);
+        }
+        let expect_zero = claim.asserted.unwrap_or(true);
+        let refs: Vec<&Verdict> = components.iter().map(|c| &c.verdict).collect();
+        let status = Status::of(&refs, expect_zero);
+        let method = method_text(&components, &found, self.order, self.names);
+        (ClaimReport::new(claim, status, method, components), found)
+    }
+
+    fn u_n(&self, store: &mut Store) -> (Form, [Form; 3]) {
+        let u = store.symbol(&self.names.u);
+        let n = std::array::from_fn(|i| store.symbol(&self.names.n[i]));
+        (u, n)
+    }
+
+    fn component(&self, store: &mut Store, f: Form) -> (Verdict, Residual, Found) {
+        if store.is_zero(f) {
+            // Exactly 0: no expansion, no condition; the audit still evaluates it.
+            let found = Found {
+                valid_at: vec![true; self.bases.len()],
+                ..Found::default()
+            };
+            return (Verdict::Zero, Residual::Zero, found);
+        }
+        let undecided =
+            |why: String| (Verdict::Undecided(why), Residual::Form(f), Found::default());
+        let n = i64::from(self.order);
+        let (u, dir) = self.u_n(store);
+        let mut last = 0;
+        for (mult, margin) in PRECISIONS {
+            let p = self.order as usize * mult + margin;
+            last = p;
+            let mut ex = match Expander::new(store, self.sampling, self.coords, u, dir, p) {
+                Ok(e) => e,
+                Err(e) => return undecided(stop_text(e)),
+            };
+            let s = match ex.expand(store, f) {
+                Ok(s) => s,
+                Err(Stop::Precision) => continue,
+                Err(e) => return undecided(stop_text(e)),
+            };
+            let conditions = ex.conditions.clone();
+            let end = s.prec.min(n);
+            let mut k = s.v;
+            while k < end {
+                let c = s.coef(k, store).expect("below the precision");
+                if store.is_zero(c) {
+                    k += 1;
+                    continue;
+                }
+                match decide(store, c, self.sampling) {
+                    Verdict::Nonzero(w) => {
+                        return self.failing(store, c, k, w, &conditions, f);
+                    }
+                    Verdict::Undecided(why) => {
+                        return undecided(format!(
+                            "the coefficient of 1/rho^{k} is not reduced to 0 and not \
+                             certified nonzero ({why})"
+                        ));
+                    }
+                    // Only an empty form is proved 0, and those were skipped above.
+                    Verdict::Zero => k += 1,
+                }
+            }
+            if s.prec < n {
+                continue;
+            }
+            let texts = self.condition_texts(store, &conditions);
+            if !conditions.is_empty() && self.somewhere(store, &conditions).is_none() {
+                return undecided(format!(
+                    "every coefficient below 1/r^{n} reduces to 0, but the expansion rests on \
+                     conditions ({}) that could not be certified at any sampled point",
+                    texts.join("; ")
+                ));
+            }
+            let valid_at = self
+                .bases
+                .iter()
+                .map(|b| self.certified_at(store, &conditions, b))
+                .collect();
+            return (
+                Verdict::Zero,
+                Residual::Zero,
+                Found {
+                    failing_order: None,
+                    conditions: texts,
+                    valid_at,
+                },
+            );
+        }
+        undecided(format!(
+            "too large: the expansion in 1/r did not reach order {n} with {last} terms \
+             (cancellations)"
+        ))
+    }
+
+    /// The verdict of a component whose coefficient `c` of eps^k (k < n, every lower one
+    /// proved 0) the zero test certified nonzero at `w`.
+    fn failing(
+        &self,
+        store: &mut Store,
+        c: Form,
+        k: i64,
+        w: Witness,
+        conditions: &[Condition],
+        f: Form,
+    ) -> (Verdict, Residual, Found) {
+        let point = self.complete(&w.point);
+        let w = if self.certified_at(store, conditions, &point) {
+            Some(Witness { point, ..w })
+        } else {
+            // The zero test's point lies where the expansion is not certified: look for one
+            // where both the coefficient and the conditions are.
+            self.somewhere_nonzero(store, c, conditions)
+        };
+        let Some(w) = w else {
+            return (
+                Verdict::Undecided(format!(
+                    "the coefficient of 1/rho^{k} is certified nonzero, but not at a point where \
+                     the expansion's conditions are certified"
+                )),
+                Residual::Form(f),
+                Found::default(),
+            );
+        };
+        let n = self.order;
+        let how = match k {
+            k if k < 0 => format!("grows like r^{}", -k),
+            0 => "does not fall off (order r^0)".to_string(),
+            k => format!("falls off only as 1/r^{k}"),
+        };
+        let text = store.to_text_summary(c, RESIDUAL_CHARS);
+        let valid_at = self
+            .bases
+            .iter()
+            .map(|b| self.certified_at(store, conditions, b))
+            .collect();
+        (
+            Verdict::Nonzero(w),
+            Residual::Note(format!(
+                "{how}; claimed O(1/r^{n}); coefficient of {}: {text}",
+                match k {
+                    k if k < 0 => format!("rho^{}", -k),
+                    0 => "rho^0".to_string(),
+                    k => format!("1/rho^{k}"),
+                }
+            )),
+            Found {
+                failing_order: Some(k),
+                conditions: self.condition_texts(store, conditions),
+                valid_at,
+            },
+        )
+    }
+
+    /// `point` with u, n and every parameter it lacks filled in (a coefficient does not
+    /// depend on the symbols its witness leaves out).
+    fn complete(&self, point: &[(String, f64)]) -> Vec<(String, f64)> {
+        let mut out = point.to_vec();
+        let fill = [
+            (&self.names.u, 0.5),
+            (&self.names.n[0], 0.6),
+            (&self.names.n[1], -0.7),
+            (&self.names.n[2], 0.8),
+        ];
+        for (name, v) in fill {
+            if !out.iter().any(|(m, _)| m == name) {
+                out.push((name.clone(), v));
+            }
+        }
+        for (name, v) in self.parameters {
+            if !out.iter().any(|(m, _)| m == name) {
+                out.push((name.clone(), *v));
+            }
+        }
+        out.sort_by(|a, b| a.0.cmp(&b.0));
+        out
+    }
+
+    fn point(&self, store: &mut Store, values: &[(String, f64)], forms: &[Form]) -> Option<Point> {
+        let mut pt = Point::default();
+        for (name, v) in values {
+            let k = store.symbol_kernel(name);
+            pt.values
+                .insert(k, CInterval::from_real(Interval::point(*v)?));
+        }
+        for &f in forms {
+            for (i, name) in store.functions_used(f).into_iter().enumerate() {
+                let s = match self.sampling.samples.get(&name) {
+                    Some(s) => s.clone(),
+                    None => crate::zero::generic_sample(store, i),
+                };
+                pt.samples.insert(name, s);
+            }
+        }
+        Some(pt)
+    }
+
+    /// Whether every condition is certified at `values`.
+    fn certified_at(
+        &self,
+        store: &mut Store,
+        conditions: &[Condition],
+        values: &[(String, f64)],
+    ) -> bool {
+        let forms: Vec<Form> = conditions.iter().map(|c| condition_form(*c)).collect();
+        let Some(pt) = self.point(store, values, &forms) else {
+            return false;
+        };
+        conditions.iter().all(|c| {
+            let Some(v) = store.eval_interval(condition_form(*c), &pt) else {
+                return false;
+            };
+            match c {
+                Condition::NonZero(_) => v.excludes_zero(),
+                Condition::OffNegativeAxis(_) => v.im.excludes_zero() || v.re.lo() > 0.0,
+            }
+        })
+    }
+
+    /// Seeded points of u, n and the parameters (as the zero test samples them).
+    fn sampled(&self, attempt: usize, rng: &mut SplitMix64) -> Vec<(String, f64)> {
+        let mut out = Vec::new();
+        let unit = |rng: &mut SplitMix64| {
+            let mag = 0.25 + 1.75 * rng.next_f64();
+            let v = if rng.next_u64() & 1 == 1 { -mag } else { mag };
+            format!("{v:.2e}").parse().unwrap_or(v)
+        };
+        out.push((self.names.u.clone(), unit(rng)));
+        for n in &self.names.n {
+            out.push((n.clone(), unit(rng)));
+        }
+        let at_file_values = attempt < self.sampling.points.div_ceil(2);
+        for (name, t) in self.parameters {
+            let v = if at_file_values || *t == 0.0 {
+                *t
+            } else {
+                t * (0.5 + 1.5 * rng.next_f64())
+            };
+            out.push((name.clone(), v));
+        }
+        out.sort_by(|a, b| a.0.cmp(&b.0));
+        out
+    }
+
+    /// A seeded point where every condition is certified.
+    fn somewhere(&self, store: &mut Store, conditions: &[Condition]) -> Option<Vec<(String, f64)>> {
+        let mut rng = SplitMix64::new(self.sampling.seed);
+        (0..self.sampling.points)
+            .map(|a| self.sampled(a, &mut rng))
+            .find(|p| self.certified_at(store, conditions, p))
+    }
+
+    /// A seeded witness of `c != 0` where every condition is certified.
+    fn somewhere_nonzero(
+        &self,
+        store: &mut Store,
+        c: Form,
+        conditions: &[Condition],
+    ) -> Option<Witness> {
+        let mut rng = SplitMix64::new(self.sampling.seed ^ 0x9e37);
+        for a in 0..self.sampling.points {
+            let p = self.sampled(a, &mut rng);
+            if !self.certified_at(store, conditions, &p) {
+                continue;
+            }
+            let pt = self.point(store, &p, &[c])?;
+            if let Some(v) = store.eval_interval(c, &pt)
+                && v.excludes_zero()
+            {
+                return Some(Witness {
+                    point: p,
+                    value: v,
+                    seed: self.sampling.seed,
+                });
+            }
+        }
+        None
+    }
+
+    /// The conditions as text, without the coefficients whose nonzero value follows from
+    /// n != 0 (a nonzero constant times a power of n.n).
+    fn condition_texts(&self, store: &mut Store, conditions: &[Condition]) -> Vec<String> {
+        let mut out = Vec::new();
+        for &c in conditions {
+            if let Condition::NonZero(f) = c
+                && self.implied_by_direction(store, f)
+            {
+                continue;
+            }
+            let text = store.to_text_summary(condition_form(c), 200);
+            out.push(match c {
+                Condition::NonZero(_) => format!("{text} != 0"),
+                Condition::OffNegativeAxis(_) => format!("{text} is not a real number <= 0"),
+            });
+        }
+        out
+    }
+
+    fn implied_by_direction(&self, store: &mut Store, f: Form) -> bool {
+        let (_, n) = self.u_n(store);
+        let nn = (|| -> Result<Form, CanonError> {
+            let sq = [
+                store.mul(n[0], n[0])?,
+                store.mul(n[1], n[1])?,
+                store.mul(n[2], n[2])?,
+            ];
+            store.sum(&sq)
+        })();
+        let Ok(nn) = nn else { return false };
+        // f or f^2 (for odd powers of s = sqrt(n.n)) a nonzero constant times (n.n)^k.
+        let Ok(f2) = store.mul(f, f) else {
+            return false;
+        };
+        let mut p = store.one();
+        for _ in 0..=8 {
+            for g in [f, f2] {
+                if let Ok(q) = store.div(g, p)
+                    && store.as_constant(q).is_some()
+                {
+                    return true;
+                }
+            }
+            match store.mul(p, nn) {
+                Ok(next) => p = next,
+                Err(_) => return false,
+            }
+        }
+        false
+    }
+}
+
+fn condition_form(c: Condition) -> Form {
+    match c {
+        Condition::NonZero(f) | Condition::OffNegativeAxis(f) => f,
+    }
+}
+
+fn stop_text(e: Stop) -> String {
+    match e {
+        Stop::Undecided(why) => why,
+        Stop::Precision => "too large: the expansion lost its precision to cancellations".into(),
+        Stop::Limit(e) => e.to_string(),
+    }
+}
+
+/// How the claim was decided, in words (the audit appends its own).
+fn method_text(components: &[Component], found: &[Found], order: u32, names: &RayNames) -> String {
+    let n = components.len();
+    let zero = components
+        .iter()
+        .filter(|c| matches!(c.verdict, Verdict::Zero))
+        .count();
+    let nonzero = components
+        .iter()
+        .filter(|c| matches!(c.verdict, Verdict::Nonzero(_)))
+        .count();
+    let undecided = n - zero - nonzero;
+    let mut conditions: Vec<&str> = found
+        .iter()
+        .flat_map(|f| f.conditions.iter().map(String::as_str))
+        .collect();
+    conditions.sort_unstable();
+    conditions.dedup();
+    let mut s = format!(
+        "far zone, expanded in 1/rho {}: {zero} of {n} components O(1/r^{order}) (every \
+         coefficient of 1/rho^k, k < {order}, reduces to 0), {nonzero} certified not O(1/r^{order}), \
+         {undecided} undecided",
+        names.ray_text()
+    );
+    if !conditions.is_empty() {
+        s.push_str(&format!(
+            "; valid for u, direction and parameters where {}",
+            conditions.join(", ")
+        ));
+    }
+    s
+}
+
+#[cfg(test)]
+mod tests;
