@@ -133,6 +133,9 @@ pub struct ClaimReport {
     pub method: String,
     /// Every component and its verdict.
     pub components: Vec<Component>,
+    /// `Some(n)` when the claim was checked as "every component is O(1/r^n) at fixed
+    /// retarded time" (`far_zone_order = n`), not as "every component is 0".
+    pub far_zone: Option<u32>,
 }
 
 impl ClaimReport {
@@ -152,6 +155,7 @@ impl ClaimReport {
             status,
             method,
             components,
+            far_zone: None,
         }
     }
 
@@ -159,6 +163,16 @@ impl ClaimReport {
     #[must_use]
     pub fn heading(&self) -> &'static str {
         self.claim.heading()
+    }
+
+    /// [`ClaimReport::heading`] with the order of a far-zone check: `vacuum field equations
+    /// G1 = 0 up to O(1/r^2)`.
+    #[must_use]
+    pub fn display_heading(&self) -> String {
+        match self.far_zone {
+            Some(n) => format!("{} up to O(1/r^{n})", self.heading()),
+            None => self.heading().to_string(),
+        }
     }
 }
 

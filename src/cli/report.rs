@@ -143,7 +143,7 @@ pub fn claim_lines(
     limit: usize,
     negated_too: bool,
 ) {
-    let title = c.heading();
+    let title = c.display_heading();
     let _ = writeln!(s, "  {word:<10} {title}");
     let _ = writeln!(s, "  {PAD} {}", c.method);
     if (negated_too || c.asserted != Some(false)) && c.status != Status::Holds {
@@ -202,6 +202,7 @@ pub fn claim_json(store: &mut Store, c: &ClaimReport) -> serde_json::Value {
     serde_json::json!({
         "key": c.key,
         "title": c.title,
+        "far_zone_order": c.far_zone,
         "asserted": c.asserted,
         "status": c.status.label(),
         "method": c.method,

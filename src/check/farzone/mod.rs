@@ -215,7 +215,9 @@ impl Ray<'_> {
         let refs: Vec<&Verdict> = components.iter().map(|c| &c.verdict).collect();
         let status = Status::of(&refs, expect_zero);
         let method = method_text(&components, &found, self.order, self.names);
-        (ClaimReport::new(claim, status, method, components), found)
+        let mut report = ClaimReport::new(claim, status, method, components);
+        report.far_zone = Some(self.order);
+        (report, found)
     }
 
     fn u_n(&self, store: &mut Store) -> (Form, [Form; 3]) {
