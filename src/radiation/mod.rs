@@ -24,21 +24,96 @@
 //! The next order (mass octupole, current quadrupole, the linear momentum they carry with the
 //! quadrupole, their far-zone field) is [`multipole`].
 //!
+//! **The clock.** Bodies are functions of the time, or, for an eccentric binary, of its
+//! eccentric anomaly `E` ([`crate::problem::KeplerOrbit`]); a [`Clock`] says which, and every
+//! time derivative goes through it: `d/dt = (dE/dt) d/dE`, exact in `E`. For an eccentric
+//! orbit every instantaneous quantity is then a function of `E`, the far-zone field is the
+//! source's at the retarded anomaly (the `E` of the retarded time `t - r`, by Kepler's
+//! equation: no closed form shifts it, so it is written in `E` and the distance enters as
+//! `1/r` only), and averages over a period are [`kepler::orbit_average`].
+//!
 //! **Invariants:** exact forms only (no floating point); never prints.
 
 pub mod claims;
+pub mod kepler;
 pub mod multipole;
 
 use crate::canon::{CResult, Coeff, Form, KernelId, Q, Store};
 use crate::problem::Body;
 use crate::tt::{Mat3, Vec3};
 
+/// What the bodies are functions of, and how it runs with time.
+#[derive(Clone, Copy, Debug)]
+pub struct Clock {
+    /// The variable: the time coordinate, or an eccentric binary's anomaly.
+    pub var: KernelId,
+    /// The variable as a form.
+    pub var_form: Form,
+    /// For the anomaly: `dE/dt` and the eccentricity. `None` when the variable is the time.
+    pub orbit: Option<(Form, Form)>,
+}
+
+impl Clock {
+    /// The time coordinate named `t_name` as the clock.
+    pub fn time(store: &mut Store, t_name: &str) -> Clock {
+        Clock {
+            var: store.symbol_kernel(t_name),
+            var_form: store.symbol(t_name),
+            orbit: None,
+        }
+    }
+
+    /// The clock of `p`'s bodies: its eccentric orbit's anomaly, else its time coordinate.
+    pub fn of(p: &mut crate::problem::Problem) -> Clock {
+        match &p.orbit {
+            Some(o) => Clock {
+                var: p.store.symbol_kernel(&o.anomaly),
+                var_form: p.store.symbol(&o.anomaly),
+                orbit: Some((o.rate, o.eccentricity)),
+            },
+            None => Clock::time(&mut p.store, &p.coordinates[0]),
+        }
+    }
+
+    /// True when the variable is the time itself.
+    #[must_use]
+    pub fn is_time(&self) -> bool {
+        self.orbit.is_none()
+    }
+
+    /// `df/dt`.
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn d_dt(&self, store: &mut Store, f: Form) -> CResult<Form> {
+        let d = store.diff(f, self.var)?;
+        match self.orbit {
+            None => Ok(d),
+            Some((rate, _)) => store.mul(d, rate),
+        }
+    }
+
+    /// The average of `f` over time: [`time_average`] in t, [`kepler::orbit_average`] over one
+    /// period of an eccentric orbit.
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn average(&self, store: &mut Store, f: Form) -> CResult<Average> {
+        match self.orbit {
+            None => time_average(store, f, self.var),
+            Some((_, e)) => kepler::orbit_average(store, f, (self.var, self.var_form), e),
+        }
+    }
+}
+
 /// The quadrupole radiation of a set of point masses.
 pub struct Radiation {
-    /// The time coordinate.
+    /// The variable the bodies are functions of (the time coordinate, or the clock's anomaly).
     pub t: KernelId,
-    /// The time coordinate as a form.
-    t_form: Form,
+    /// The clock.
+    pub clock: Clock,
     /// `I_ij = sum m x_i x_j`.
     pub quadrupole: Mat3,
     /// `Q_ij = I_ij - delta_ij I_kk / 3`.
@@ -80,8 +155,16 @@ impl Radiation {
     ///
     /// An algebra limit.
     pub fn new(store: &mut Store, bodies: &[Body], t_name: &str) -> CResult<Radiation> {
-        let t = store.symbol_kernel(t_name);
-        let t_form = store.symbol(t_name);
+        let clock = Clock::time(store, t_name);
+        Radiation::with_clock(store, bodies, clock)
+    }
+
+    /// The moments of `bodies`, functions of the clock's variable.
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn with_clock(store: &mut Store, bodies: &[Body], clock: Clock) -> CResult<Radiation> {
         let z = store.zero();
         let mut quadrupole = [[z; 3]; 3];
         for i in 0..3 {
@@ -117,12 +200,12 @@ impl Radiation {
                 terms.push(store.mul(b.mass, b.position[i])?);
             }
             let d = store.sum(&terms)?;
-            let d1 = store.diff(d, t)?;
-            *slot = store.diff(d1, t)?;
+            let d1 = clock.d_dt(store, d)?;
+            *slot = clock.d_dt(store, d1)?;
         }
         Ok(Radiation {
-            t,
-            t_form,
+            t: clock.var,
+            clock,
             quadrupole,
             trace_free,
             dipole_acceleration,
@@ -138,7 +221,7 @@ impl Radiation {
     pub fn derivative(&mut self, store: &mut Store, k: usize) -> CResult<Mat3> {
         while self.derivatives.len() <= k {
             let last = self.derivatives.last().expect("Q itself");
-            let next = symmetric_derivative(store, last, self.t)?;
+            let next = symmetric_derivative(store, last, &self.clock)?;
             self.derivatives.push(next);
         }
         Ok(self.derivatives[k])
@@ -200,7 +283,16 @@ impl Radiation {
                 source[j][i] = s;
             }
         }
-        retarded_wave(store, (self.t, self.t_form), (n, u, v), r, &source)
+        retarded_wave(store, &self.clock, (n, u, v), r, &source)
+    }
+
+    /// The average of `f` over time (see [`Clock::average`]).
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn average(&self, store: &mut Store, f: Form) -> CResult<Average> {
+        self.clock.average(store, f)
     }
 }
 
@@ -209,11 +301,11 @@ impl Radiation {
 /// # Errors
 ///
 /// An algebra limit.
-pub(crate) fn symmetric_derivative(store: &mut Store, m: &Mat3, t: KernelId) -> CResult<Mat3> {
+pub(crate) fn symmetric_derivative(store: &mut Store, m: &Mat3, clock: &Clock) -> CResult<Mat3> {
     let mut next = *m;
     for i in 0..3 {
         for j in i..3 {
-            let d = store.diff(m[i][j], t)?;
+            let d = clock.d_dt(store, m[i][j])?;
             next[i][j] = d;
             next[j][i] = d;
         }
@@ -237,22 +329,25 @@ pub(crate) fn eps_contraction(store: &mut Store, i: usize, a: &Mat3, b: &Mat3) -
     store.sum(&terms)
 }
 
-/// The far-zone wave `h^TT = Lambda(n) s(t - r) / r` of a symmetric source `s(t)` (the time
-/// kernel and form `t`), with its polarizations in the basis `(u, v)`.
+/// The far-zone wave `h^TT = Lambda(n) s(t - r) / r` of a symmetric source `s(t)`, with its
+/// polarizations in the basis `(u, v)`. With an eccentric orbit's clock `s` is a function of
+/// the anomaly and stays one: the wave is the source's at the retarded anomaly, `s(E) / r`.
 ///
 /// # Errors
 ///
 /// An algebra limit.
 pub(crate) fn retarded_wave(
     store: &mut Store,
-    (t, t_form): (KernelId, Form),
+    clock: &Clock,
     (n, u, v): (&Vec3, &Vec3, &Vec3),
     r: Form,
     s: &Mat3,
 ) -> CResult<Wave> {
-    let retarded = store.sub(t_form, r)?;
     let mut subs = rustc_hash::FxHashMap::default();
-    subs.insert(t, retarded);
+    if clock.is_time() {
+        let retarded = store.sub(clock.var_form, r)?;
+        subs.insert(clock.var, retarded);
+    }
     let mut shifted = *s;
     for i in 0..3 {
         for j in i..3 {
@@ -401,4 +496,4 @@ pub fn time_average(store: &mut Store, f: Form, t: KernelId) -> CResult<Average>
 }
 
 #[cfg(test)]
-mod tests;
+pub(super) mod tests;

@@ -200,8 +200,7 @@ fn set_symmetric(t: &mut Ten3, (i, j, k): (usize, usize, usize), v: Form) {
 /// The mass octupole and the current quadrupole of a set of bodies, with their time
 /// derivatives (memoised), and what they radiate at the next order.
 pub struct NextOrder {
-    t: KernelId,
-    t_form: Form,
+    clock: super::Clock,
     /// `Q_ijk = STF sum m x_i x_j x_k` (symmetric, trace-free).
     pub octupole: Ten3,
     /// `S_ij = STF sum m x_i (x x v)_j` (symmetric, trace-free).
@@ -220,8 +219,21 @@ impl NextOrder {
     ///
     /// An algebra limit.
     pub fn new(store: &mut Store, bodies: &[Body], t_name: &str) -> CResult<NextOrder> {
-        let t = store.symbol_kernel(t_name);
-        let t_form = store.symbol(t_name);
+        let clock = super::Clock::time(store, t_name);
+        NextOrder::with_clock(store, bodies, clock)
+    }
+
+    /// The moments of `bodies`, functions of the clock's variable (see [`NextOrder::new`]).
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn with_clock(
+        store: &mut Store,
+        bodies: &[Body],
+        clock: super::Clock,
+    ) -> CResult<NextOrder> {
+        let t = clock.var;
         let z = store.zero();
         let mut cube: Ten3 = [[[z; 3]; 3]; 3];
         let mut j_terms: [[Vec<Form>; 3]; 3] = Default::default();
@@ -229,7 +241,7 @@ impl NextOrder {
             let x = b.position;
             let mut v = [z; 3];
             for (slot, &xi) in v.iter_mut().zip(&x) {
-                *slot = store.diff(xi, t)?;
+                *slot = clock.d_dt(store, xi)?;
             }
             for &(i, j, k) in &IJK {
                 let xx = store.mul(x[i], x[j])?;
@@ -279,8 +291,7 @@ impl NextOrder {
             }
         }
         Ok(NextOrder {
-            t,
-            t_form,
+            clock,
             octupole,
             current,
             rigid: bodies.iter().any(|b| b.rigid.is_some()),
@@ -302,7 +313,7 @@ impl NextOrder {
                 .expect("the octupole itself");
             let mut next = last;
             for &ijk in &IJK {
-                let d = store.diff(last[ijk.0][ijk.1][ijk.2], self.t)?;
+                let d = self.clock.d_dt(store, last[ijk.0][ijk.1][ijk.2])?;
                 set_symmetric(&mut next, ijk, d);
             }
             self.octupole_derivatives.push(next);
@@ -318,7 +329,7 @@ impl NextOrder {
     pub fn current_derivative(&mut self, store: &mut Store, k: usize) -> CResult<Mat3> {
         while self.current_derivatives.len() <= k {
             let last = self.current_derivatives.last().expect("S itself");
-            let next = super::symmetric_derivative(store, last, self.t)?;
+            let next = super::symmetric_derivative(store, last, &self.clock)?;
             self.current_derivatives.push(next);
         }
         Ok(self.current_derivatives[k])
@@ -398,7 +409,7 @@ impl NextOrder {
                 h[j][i] = s;
             }
         }
-        super::retarded_wave(store, (self.t, self.t_form), (n, u, v), r, &h)
+        super::retarded_wave(store, &self.clock, (n, u, v), r, &h)
     }
 }
 
