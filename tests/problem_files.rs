@@ -205,6 +205,7 @@ const WORKED: [(&str, i32); 31] = [
     ("vibrating_rod.toml", 0),
     ("circular_binary.toml", 0),
     ("binary_wrong_waveform.toml", 1),
+    ("eccentric_binary.toml", 0),
     ("spinning_star.toml", 0),
     ("head_on_plunge.toml", 0),
     ("recoil_binary.toml", 0),

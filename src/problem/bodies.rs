@@ -77,6 +77,12 @@ pub struct KeplerOrbitText {
     pub mean_motion: String,
     /// `dE/dt = n/(1 - e cos E)` (generated text).
     pub rate: String,
+    /// The masses' texts and the relative orbit `(X, Y)` in the orbit's own frame (periapsis
+    /// along +X, angular momentum along +Z), before the orientation turns it.
+    pub plane: ([String; 2], [String; 2]),
+    /// The orientation angles (inclination, node, argument of periapsis), when any is given:
+    /// the orbit frame turns into space by `R = Rz(node) Rx(inclination) Rz(phase)`.
+    pub angles: Option<[String; 3]>,
 }
 
 /// Why a `[binary]` table cannot be expanded, and where (the table's key when `None`).
@@ -206,6 +212,15 @@ impl BinarySpec {
         let ecc = format!("({})", e.text);
         let x = format!("{a}*(cos({name}) - {ecc})");
         let y = format!("{a}*sqrt(1 - {ecc}^2)*sin({name})");
+        let plane = (
+            [m1.text.clone(), m2.text.clone()],
+            [x.clone(), y.clone()],
+        );
+        let angles = (self.inclination.is_some() || self.node.is_some() || self.phase.is_some())
+            .then(|| {
+                [&self.inclination, &self.node, &self.phase]
+                    .map(|a| paren(a.as_ref(), "0"))
+            });
         // The in-plane turn by the argument of periapsis, written out only when given.
         let [x, y] = match &self.phase {
             None => [x, y],
@@ -235,6 +250,8 @@ impl BinarySpec {
             anomaly_written: written,
             eccentricity: e.clone(),
             mean_motion: n.clone(),
+            plane,
+            angles,
         };
         let text = |s: String| ExprText {
             text: s,

@@ -654,6 +654,10 @@ impl Builder<'_> {
         };
         let mean_motion = self.parse_and_build(&generated(&o.mean_motion), names)?;
         let rate = self.parse_and_build(&generated(&o.rate), names)?;
+        let frame = match &o.angles {
+            None => None,
+            Some(angles) => Some(self.orbit_frame(o, angles, names)?),
+        };
         Ok(super::KeplerOrbit {
             anomaly: o.anomaly.clone(),
             eccentricity: e,
@@ -661,6 +665,84 @@ impl Builder<'_> {
             mean_motion,
             mean_motion_text: o.mean_motion.clone(),
             rate,
+            frame,
         })
+    }
+
+    /// The bodies in the orbit's own frame and the rotation `Rz(node) Rx(i) Rz(phase)`.
+    fn orbit_frame(
+        &mut self,
+        o: &super::KeplerOrbitText,
+        angles: &[String; 3],
+        names: &Names,
+    ) -> Result<(Vec<super::Body>, [[Form; 3]; 3]), ProblemError> {
+        let generated = |text: String| ExprText {
+            text,
+            token: o.anomaly_span,
+            offset: None,
+        };
+        let ([m1, m2], [x, y]) = &o.plane;
+        let mass = format!("({m1} + {m2})");
+        let mut bodies = Vec::with_capacity(2);
+        for (label, m, share) in [
+            ("m1", m1, format!("({m2})/{mass}")),
+            ("m2", m2, format!("(-({m1})/{mass})")),
+        ] {
+            let position_text = [
+                format!("{share}*({x})"),
+                format!("{share}*({y})"),
+                "0".to_string(),
+            ];
+            let mass_form = self.parse_and_build(&generated(m.clone()), names)?;
+            let mut position = [mass_form; 3];
+            for (slot, t) in position.iter_mut().zip(&position_text) {
+                *slot = self.parse_and_build(&generated(t.clone()), names)?;
+            }
+            bodies.push(super::Body {
+                label: label.to_string(),
+                mass: mass_form,
+                position,
+                mass_text: m.clone(),
+                position_text,
+                rigid: None,
+            });
+        }
+        let lim = |b: &Self, e| b.limit_error(e);
+        let mut turns = Vec::with_capacity(3);
+        for (k, a) in angles.iter().enumerate() {
+            let f = self.parse_and_build(&generated(a.clone()), names)?;
+            let st = &mut self.store;
+            let (c, s) = match (st.cos(f), st.sin(f)) {
+                (Ok(c), Ok(s)) => (c, s),
+                (Err(e), _) | (_, Err(e)) => return Err(lim(self, e)),
+            };
+            let (z, one) = (self.store.zero(), self.store.one());
+            let ms = match self.store.neg(s) {
+                Ok(v) => v,
+                Err(e) => return Err(lim(self, e)),
+            };
+            // k = 0: Rx(i); k = 1, 2: Rz(node), Rz(phase).
+            turns.push(if k == 0 {
+                [[one, z, z], [z, c, ms], [z, s, c]]
+            } else {
+                [[c, ms, z], [s, c, z], [z, z, one]]
+            });
+        }
+        let product = |b: &mut Self, p: [[Form; 3]; 3], q: [[Form; 3]; 3]| {
+            let mut out = p;
+            for i in 0..3 {
+                for j in 0..3 {
+                    let mut terms = Vec::with_capacity(3);
+                    for k in 0..3 {
+                        terms.push(b.store.mul(p[i][k], q[k][j]).map_err(|e| lim(b, e))?);
+                    }
+                    out[i][j] = b.store.sum(&terms).map_err(|e| lim(b, e))?;
+                }
+            }
+            Ok::<_, ProblemError>(out)
+        };
+        let ri = product(self, turns[0], turns[2])?;
+        let r = product(self, turns[1], ri)?;
+        Ok((bodies, r))
     }
 }

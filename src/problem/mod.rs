@@ -333,6 +333,11 @@ pub struct KeplerOrbit {
     pub mean_motion_text: String,
     /// `dE/dt`.
     pub rate: Form,
+    /// With orientation angles: the two bodies in the orbit's own frame (periapsis along +x,
+    /// angular momentum along +z) and the rotation `R` (rows in space) that turns that frame
+    /// into space, `x_space = R x_plane`. Radiation computes in the orbit's frame and turns
+    /// the results (the luminosity is invariant), which keeps the forms small.
+    pub frame: Option<(Vec<Body>, [[Form; 3]; 3])>,
 }
 
 /// A point mass built: mass and position as forms, with their texts.

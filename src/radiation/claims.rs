@@ -489,7 +489,8 @@ fn reports_with(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
     let defs = Definitions::of(p);
     let lim = ClaimsError::Limit;
     let clock = super::Clock::of(p);
-    let mut rad = Radiation::with_clock(&mut p.store, &p.bodies, clock).map_err(lim)?;
+    let mut rad =
+        Radiation::of_problem(&mut p.store, &p.bodies, p.orbit.as_ref(), clock).map_err(lim)?;
     let mut out = Vec::new();
     let mut groups: Vec<(Kind, Vec<Item>)> = Vec::new();
     let st = &mut p.store;
@@ -616,7 +617,8 @@ fn momentum_reports(
         return Ok(());
     }
     let mut next =
-        super::multipole::NextOrder::with_clock(st, &p.bodies, rad.clock).map_err(lim)?;
+        super::multipole::NextOrder::of_problem(st, &p.bodies, p.orbit.as_ref(), rad.clock)
+            .map_err(lim)?;
     let dp = next.momentum_flux(st, rad).map_err(lim)?;
     const AXES: [&str; 3] = ["x", "y", "z"];
     if let Some(c) = &claims.momentum_flux {
@@ -1033,5 +1035,31 @@ mod tests {
         assert_eq!(r.status, Status::Undecided);
         assert!(r.components[0].audit.is_defect());
         assert!(r.method.contains("INTERNAL DEFECT"), "{}", r.method);
+    }
+
+    #[test]
+    fn an_orbit_average_contradicted_by_its_quadrature_is_a_defect() {
+        // The exact average of an eccentric orbit's luminosity, doubled, against the
+        // independent quadrature over one orbit: an INTERNAL DEFECT, never a pass; the true
+        // average is confirmed.
+        let text = "[parameters]\nm1 = 1.3\nm2 = 0.7\na = 30.0\n\
+                    [binary]\nm1 = 'm1'\nm2 = 'm2'\nsemimajor_axis = 'a'\neccentricity = 0.5\n";
+        let mut p = crate::problem::from_str("eccentric", text).unwrap();
+        p.parameters.push(("E".into(), ANOMALY_TYPICAL));
+        let defs = Definitions::of(&p);
+        let clock = super::super::Clock::of(&mut p);
+        let st = &mut p.store;
+        let mut rad = Radiation::of_problem(st, &p.bodies, p.orbit.as_ref(), clock).unwrap();
+        let l = rad.luminosity(st).unwrap();
+        let Average::Exact(avg) = rad.average(st, l).unwrap() else {
+            panic!("an average");
+        };
+        let twice = st.scale(avg, &crate::canon::Coeff::int(2)).unwrap();
+        let good = mean_audit(&mut p, (l, avg, avg), &defs.luminosity(), defs.clock());
+        assert!(good.starts_with("audited numerically:"), "{good}");
+        // checks.md 1b: m1 = 1.3, m2 = 0.7, a = 30, e = 0.5 -> <L> = 2.130540914206e-06.
+        assert!(good.contains("2.130540914206e-6"), "{good}");
+        let bad = mean_audit(&mut p, (l, twice, twice), &defs.luminosity(), defs.clock());
+        assert!(bad.starts_with("INTERNAL DEFECT"), "{bad}");
     }
 }

@@ -120,8 +120,11 @@ pub struct Radiation {
     pub trace_free: Mat3,
     /// `d^2/dt^2 sum m x_i`: zero for an isolated source.
     pub dipole_acceleration: Vec3,
-    /// `d^k Q / dt^k` for k = 0, 1, ... as computed so far.
+    /// `d^k Q / dt^k` for k = 0, 1, ... as computed so far (in the bodies' own frame).
     derivatives: Vec<Mat3>,
+    /// The rotation from the bodies' frame into space, when they were given in an orbit's
+    /// own frame ([`Radiation::of_problem`]).
+    frame: Option<Mat3>,
 }
 
 /// The field along one direction at one distance.
@@ -210,7 +213,34 @@ impl Radiation {
             trace_free,
             dipole_acceleration,
             derivatives: vec![trace_free],
+            frame: None,
         })
+    }
+
+    /// The radiation of a problem's bodies with their clock. An eccentric binary with
+    /// orientation angles is computed in its orbit's own frame and turned into space by its
+    /// rotation `R`: `Q = R Q' R^T`, the luminosity is invariant, fluxes turn as vectors and
+    /// the field along `n` is the orbit frame's along `R^T n` (exact identities, and the
+    /// forms stay as small as for an orbit in the x-y plane).
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn of_problem(
+        store: &mut Store,
+        bodies: &[Body],
+        orbit: Option<&crate::problem::KeplerOrbit>,
+        clock: Clock,
+    ) -> CResult<Radiation> {
+        let Some((plane, r)) = orbit.and_then(|o| o.frame.as_ref()) else {
+            return Radiation::with_clock(store, bodies, clock);
+        };
+        let mut rad = Radiation::with_clock(store, plane, clock)?;
+        rad.quadrupole = turn_matrix(store, r, &rad.quadrupole)?;
+        rad.trace_free = turn_matrix(store, r, &rad.trace_free)?;
+        rad.dipole_acceleration = turn_vector(store, r, &rad.dipole_acceleration, false)?;
+        rad.frame = Some(*r);
+        Ok(rad)
     }
 
     /// `d^k Q_ij / dt^k` (memoised).
@@ -259,7 +289,10 @@ impl Radiation {
             let s = eps_contraction(store, i, &q2, &q3)?;
             *slot = store.scale(s, &Coeff::rational(Q::new((-2).into(), 5.into())))?;
         }
-        Ok(out)
+        match &self.frame {
+            Some(r) => turn_vector(store, r, &out, false),
+            None => Ok(out),
+        }
     }
 
     /// The far-zone field along the unit direction `n` with polarization basis `(u, v)` at
@@ -283,7 +316,7 @@ impl Radiation {
                 source[j][i] = s;
             }
         }
-        retarded_wave(store, &self.clock, (n, u, v), r, &source)
+        framed_wave(store, &self.clock, self.frame.as_ref(), (n, u, v), r, &source)
     }
 
     /// The average of `f` over time (see [`Clock::average`]).
@@ -294,6 +327,81 @@ impl Radiation {
     pub fn average(&self, store: &mut Store, f: Form) -> CResult<Average> {
         self.clock.average(store, f)
     }
+}
+
+/// `R v` (or `R^T v` with `transpose`).
+///
+/// # Errors
+///
+/// An algebra limit.
+pub(crate) fn turn_vector(store: &mut Store, r: &Mat3, v: &Vec3, transpose: bool) -> CResult<Vec3> {
+    let mut out = *v;
+    for (i, slot) in out.iter_mut().enumerate() {
+        let mut terms = Vec::with_capacity(3);
+        for (k, &x) in v.iter().enumerate() {
+            let rik = if transpose { r[k][i] } else { r[i][k] };
+            terms.push(store.mul(rik, x)?);
+        }
+        *slot = store.sum(&terms)?;
+    }
+    Ok(out)
+}
+
+/// `R M R^T`.
+///
+/// # Errors
+///
+/// An algebra limit.
+pub(crate) fn turn_matrix(store: &mut Store, r: &Mat3, m: &Mat3) -> CResult<Mat3> {
+    let mut rm = *m;
+    for i in 0..3 {
+        for j in 0..3 {
+            let mut terms = Vec::with_capacity(3);
+            for k in 0..3 {
+                terms.push(store.mul(r[i][k], m[k][j])?);
+            }
+            rm[i][j] = store.sum(&terms)?;
+        }
+    }
+    let mut out = *m;
+    for i in 0..3 {
+        for j in i..3 {
+            let mut terms = Vec::with_capacity(3);
+            for k in 0..3 {
+                terms.push(store.mul(rm[i][k], r[j][k])?);
+            }
+            let s = store.sum(&terms)?;
+            out[i][j] = s;
+            out[j][i] = s;
+        }
+    }
+    Ok(out)
+}
+
+/// [`retarded_wave`] of a source given in a frame turned into space by `frame`: computed along
+/// the turned-back direction and basis (`R^T n`, `R^T u`, `R^T v`; the polarizations are
+/// scalars), `h^TT` turned into space.
+///
+/// # Errors
+///
+/// An algebra limit.
+pub(crate) fn framed_wave(
+    store: &mut Store,
+    clock: &Clock,
+    frame: Option<&Mat3>,
+    (n, u, v): (&Vec3, &Vec3, &Vec3),
+    r: Form,
+    s: &Mat3,
+) -> CResult<Wave> {
+    let Some(rot) = frame else {
+        return retarded_wave(store, clock, (n, u, v), r, s);
+    };
+    let n = turn_vector(store, rot, n, true)?;
+    let u = turn_vector(store, rot, u, true)?;
+    let v = turn_vector(store, rot, v, true)?;
+    let mut w = retarded_wave(store, clock, (&n, &u, &v), r, s)?;
+    w.tt = turn_matrix(store, rot, &w.tt)?;
+    Ok(w)
 }
 
 /// The time derivative of a symmetric matrix of forms.

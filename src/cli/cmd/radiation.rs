@@ -142,7 +142,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     let defs = crate::radiation::claims::Definitions::of(&p);
     let clock = crate::radiation::Clock::of(&mut p);
     let st = &mut p.store;
-    let mut rad = Radiation::with_clock(st, &p.bodies, clock).map_err(limit)?;
+    let mut rad = Radiation::of_problem(st, &p.bodies, p.orbit.as_ref(), clock).map_err(limit)?;
     let mut rows = Vec::new();
     for &(i, j) in &IJ {
         rows.push(Row {
@@ -169,7 +169,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     // rigid (the reason is printed instead).
     let next_refused = refusal(st, &p.bodies, rad.t);
     let mut next = match next_refused {
-        None => Some(NextOrder::with_clock(st, &p.bodies, clock).map_err(limit)?),
+        None => Some(NextOrder::of_problem(st, &p.bodies, p.orbit.as_ref(), clock).map_err(limit)?),
         Some(_) => None,
     };
     let mut dp = Vec::new();
@@ -461,7 +461,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                         s,
                         "next order (not in h_plus, h_cross above): h^TT_next = \
                          (1/{distance_text}) Lambda(n) [(2/3) n_k dddQ_ijk + (4/3)(eps_kil n_k \
-                         ddS_jl + eps_kjl n_k ddS_il)]({t_name} - {distance_text})"
+                         ddS_jl + eps_kjl n_k ddS_il)]({at})"
                     );
                     for (n, t) in &waves[2..] {
                         let _ = writeln!(s, "  {n} = {t}");
@@ -471,8 +471,13 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
             let _ = writeln!(
                 s,
                 "audit: {} printed forms against their definitions from the bodies' texts \
-                 (certified jets; the waveform shifted by the distance): {}",
+                 (certified jets; {}): {}",
                 findings.len(),
+                if p.orbit.is_some() {
+                    "time derivatives by the chain rule through Kepler's equation"
+                } else {
+                    "the waveform shifted by the distance"
+                },
                 if defect { "DISAGREE" } else { "consistent" }
             );
             if defect {
