@@ -147,7 +147,7 @@ impl BinarySpec {
         let eccentric = match &self.eccentricity {
             None => None,
             Some(e) => match literal_value(&e.text) {
-                Some(v) if v == 0.0 => None,
+                Some(0.0) => None,
                 Some(v) if !(0.0..1.0).contains(&v) => {
                     return Err(BinaryError {
                         message: format!(
@@ -212,15 +212,9 @@ impl BinarySpec {
         let ecc = format!("({})", e.text);
         let x = format!("{a}*(cos({name}) - {ecc})");
         let y = format!("{a}*sqrt(1 - {ecc}^2)*sin({name})");
-        let plane = (
-            [m1.text.clone(), m2.text.clone()],
-            [x.clone(), y.clone()],
-        );
+        let plane = ([m1.text.clone(), m2.text.clone()], [x.clone(), y.clone()]);
         let angles = (self.inclination.is_some() || self.node.is_some() || self.phase.is_some())
-            .then(|| {
-                [&self.inclination, &self.node, &self.phase]
-                    .map(|a| paren(a.as_ref(), "0"))
-            });
+            .then(|| [&self.inclination, &self.node, &self.phase].map(|a| paren(a.as_ref(), "0")));
         // The in-plane turn by the argument of periapsis, written out only when given.
         let [x, y] = match &self.phase {
             None => [x, y],

@@ -13,6 +13,8 @@ use rustc_hash::FxHashMap;
 use std::rc::Rc;
 
 type Tensor = [[Form; 4]; 4];
+/// Parameters confined to a range, by name.
+type ParameterRanges = Vec<(String, (f64, f64))>;
 
 #[derive(Clone, Copy, PartialEq, Eq)]
 enum Kind {
@@ -570,9 +572,7 @@ impl Builder<'_> {
         let message = if o.anomaly_written {
             format!("the anomaly `{n}` is already {what}")
         } else {
-            format!(
-                "the eccentric anomaly is named `{n}` by default, but `{n}` is already {what}"
-            )
+            format!("the eccentric anomaly is named `{n}` by default, but `{n}` is already {what}")
         };
         Err(self
             .err(message, o.anomaly_span, "the anomaly's name")
@@ -587,7 +587,7 @@ impl Builder<'_> {
         &mut self,
         o: &super::KeplerOrbitText,
         names: &Names,
-        (sampling, ranges): (&mut Sampling, &mut Vec<(String, (f64, f64))>),
+        (sampling, ranges): (&mut Sampling, &mut ParameterRanges),
     ) -> Result<super::KeplerOrbit, ProblemError> {
         let help = "give the eccentricity as a number, eccentricity = 0.5, or as one \
                     parameter with its value in [0, 1), eccentricity = 'e0'";

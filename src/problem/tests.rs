@@ -1059,8 +1059,9 @@ fn a_circular_binary_is_expanded_as_before_and_eccentricity_0_is_circular() {
         "(m)/(m + m)*((R)*(cos(E) - (0.5)))"
     );
     // An eccentricity parameter is sampled inside (0, 1) by the zero test and the audit.
-    let p = ok("[parameters]\nm = 1.0\nR = 10.0\ne0 = 0.9\n[binary]\nm1 = 'm'\nm2 = 'm'\n\
-                semimajor_axis = 'R'\neccentricity = 'e0'\n");
+    let p = ok(
+        "[parameters]\nm = 1.0\nR = 10.0\ne0 = 0.9\n[binary]\nm1 = 'm'\nm2 = 'm'\n\
+                semimajor_axis = 'R'\neccentricity = 'e0'\n",
+    );
     assert_eq!(p.parameter_ranges, vec![("e0".to_string(), (0.0, 1.0))]);
 }
-

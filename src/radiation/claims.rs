@@ -513,12 +513,7 @@ fn reports_with(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
                 Average::Exact(avg) => Item {
                     name: "claimed <L> - <(1/5) dddQ_ij dddQ_ij>".into(),
                     residual: st.sub(c.form, avg).map_err(lim)?,
-                    audit: Err(mean_audit(
-                        p,
-                        (lum, avg, c.form),
-                        &definition,
-                        defs.clock(),
-                    )),
+                    audit: Err(mean_audit(p, (lum, avg, c.form), &definition, defs.clock())),
                 },
                 Average::NotPeriodic(why) => {
                     let report = undecided(

@@ -260,7 +260,11 @@ mod tests {
         let d = st.sub(avg, want).unwrap();
         assert!(proved_zero(st, d, &s), "{}", st.to_text(avg));
         // checks.md 1b: m1 = 1.3, m2 = 0.7, a = 30, e = 0.5 -> 2.130540914206e-06.
-        let v = value(st, avg, &[("m1", 1.3), ("m2", 0.7), ("a", 30.0), ("e0", 0.5)]);
+        let v = value(
+            st,
+            avg,
+            &[("m1", 1.3), ("m2", 0.7), ("a", 30.0), ("e0", 0.5)],
+        );
         assert!((v / 2.130540914206e-06 - 1.0).abs() < 1e-12, "{v}");
     }
 
@@ -329,7 +333,11 @@ mod tests {
         let Average::Exact(avg) = rad.average(st, dj[2]).unwrap() else {
             unreachable!()
         };
-        let v = value(st, avg, &[("m1", 1.3), ("m2", 0.7), ("a", 30.0), ("e0", 0.5)]);
+        let v = value(
+            st,
+            avg,
+            &[("m1", 1.3), ("m2", 0.7), ("a", 30.0), ("e0", 0.5)],
+        );
         assert!((v / -1.098109040117e-04 - 1.0).abs() < 1e-12, "{v}");
     }
 
@@ -353,7 +361,10 @@ mod tests {
             ("1/(1 - e0*cos(E))", "1"),
             ("1/(1 - e0*cos(E))^2", "1/sqrt(1 - e0^2)"),
             ("cos(E)/(1 - e0*cos(E))", "0"),
-            ("cos(2*E)/(1 - e0*cos(E))^3", "e0^2/(2*(1 - e0^2)^(3/2))*0 +               ((1 - sqrt(1 - e0^2))/e0)^2*(1 + 2*sqrt(1 - e0^2))/(1 - e0^2)^(3/2)"),
+            (
+                "cos(2*E)/(1 - e0*cos(E))^3",
+                "e0^2/(2*(1 - e0^2)^(3/2))*0 +               ((1 - sqrt(1 - e0^2))/e0)^2*(1 + 2*sqrt(1 - e0^2))/(1 - e0^2)^(3/2)",
+            ),
         ] {
             let f = crate::expression(st, text).unwrap();
             let w = crate::expression(st, want).unwrap();
@@ -401,4 +412,3 @@ mod tests {
         }
     }
 }
-

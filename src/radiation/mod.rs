@@ -316,7 +316,14 @@ impl Radiation {
                 source[j][i] = s;
             }
         }
-        framed_wave(store, &self.clock, self.frame.as_ref(), (n, u, v), r, &source)
+        framed_wave(
+            store,
+            &self.clock,
+            self.frame.as_ref(),
+            (n, u, v),
+            r,
+            &source,
+        )
     }
 
     /// The average of `f` over time (see [`Clock::average`]).

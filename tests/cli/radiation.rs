@@ -278,9 +278,9 @@ fn an_eccentric_binary_is_checked_in_its_eccentric_anomaly() {
         &out,
         &[("luminosity_average", "holds"), ("waveform", "holds")],
     );
+    assert!(out.contains("at the retarded anomaly E"), "{out}");
     let (out, _, _) = lingrav(&["check", &f]);
     assert!(out.contains("over one orbit"), "{out}");
-    assert!(out.contains("at the retarded anomaly E"), "{out}");
     // f(e) with the wrong power of (1 - e^2) fails with a certified witness; so does a
     // waveform with the wrong sign of h_cross.
     let text = std::fs::read_to_string(&f).unwrap();
