@@ -63,6 +63,8 @@ mod problem_files;
 mod soundness;
 #[path = "sympy_cross.rs"]
 mod sympy_cross;
+#[path = "sympy_eccentric.rs"]
+mod sympy_eccentric;
 #[path = "sympy_radiation.rs"]
 mod sympy_radiation;
 #[path = "sympy_tensor.rs"]

@@ -134,6 +134,8 @@ pub struct Audit {
     background: Option<BackgroundRoots>,
     /// Ranges of coordinates (a problem's \[domain\]).
     domain: [Option<(f64, f64)>; 4],
+    /// Parameters confined to a range (an eccentricity).
+    parameter_ranges: Vec<(String, (f64, f64))>,
 }
 
 /// Root indices of a background's texts.
@@ -293,6 +295,7 @@ pub struct Texts {
     source_text: Option<crate::problem::TensorText>,
     coordinates: [String; 4],
     curved: Option<CurvedTexts>,
+    parameter_ranges: Vec<(String, (f64, f64))>,
 }
 
 impl Texts {
@@ -321,6 +324,7 @@ impl Texts {
             functions: problem.functions.clone(),
             h_text: problem.h_text.clone(),
             source_text: problem.source_text.clone(),
+            parameter_ranges: problem.parameter_ranges.clone(),
         }
     }
 }
@@ -432,6 +436,7 @@ impl Audit {
             coords: problem.coordinates.clone(),
             background,
             domain: problem.curved.as_ref().map_or([None; 4], |b| b.domain),
+            parameter_ranges: problem.parameter_ranges.clone(),
         })
     }
 
@@ -440,12 +445,14 @@ impl Audit {
         &self.coords
     }
 
-    /// The coordinates confined to a range by the problem's \[domain\].
+    /// The coordinates confined to a range by the problem's \[domain\], and the parameters
+    /// confined to one (an eccentricity to `[0, 1)`).
     pub fn ranges(&self) -> Vec<(String, (f64, f64))> {
         self.coords
             .iter()
             .zip(self.domain)
             .filter_map(|(c, r)| Some((c.clone(), r?)))
+            .chain(self.parameter_ranges.iter().cloned())
             .collect()
     }
 
@@ -652,7 +659,11 @@ impl Audit {
                     p.push((c.clone(), v));
                 }
                 for (name, typical) in &self.parameters {
-                    let v = if *typical == 0.0 {
+                    let range = self.parameter_ranges.iter().find(|(n, _)| n == name);
+                    let v = if let Some((_, (lo, hi))) = range {
+                        let m = (hi - lo) * 1e-3;
+                        round6(lo + m + (hi - lo - 2.0 * m) * rng.next_f64()).clamp(*lo, *hi)
+                    } else if *typical == 0.0 {
                         rng.signed_unit()
                     } else {
                         round6(typical * (0.5 + 1.5 * rng.next_f64()))

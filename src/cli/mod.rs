@@ -278,9 +278,12 @@ Examples:
   lingrav radiation worked/circular_binary.toml
   lingrav radiation worked/circular_binary.toml --direction theta=pi/3,phi=0 --distance 1e6
   lingrav radiation worked/recoil_binary.toml --direction z --format json
+  lingrav radiation worked/eccentric_binary.toml --direction z --distance R
 
 The source is the file's [[body]] tables (mass, position as functions of t; a rigid body adds
-principal moments, an axis and an angle) or its [binary] (a circular orbit; see the README).
+principal moments, an axis and an angle) or its [binary] (circular: in t; eccentric: in its
+eccentric anomaly E, n t = E - e sin E, every quantity a function of E, averages over one
+orbit; see the README).
 G = c = 1; moments about the origin: Q_ij = sum m (x_i x_j - delta_ij |x|^2/3);
 h^TT = (2/r) Lambda(n) d^2Q/dt^2 (t - r); L = (1/5) dddQ_ij dddQ_ij;
 dJ_i/dt = -(2/5) eps_ijk ddQ_ja dddQ_ka. Next order: the mass octupole Q_ijk = STF sum m x_i

@@ -13,6 +13,8 @@ use rustc_hash::FxHashMap;
 use std::rc::Rc;
 
 type Tensor = [[Form; 4]; 4];
+/// Parameters confined to a range, by name.
+type ParameterRanges = Vec<(String, (f64, f64))>;
 
 #[derive(Clone, Copy, PartialEq, Eq)]
 enum Kind {
@@ -357,6 +359,10 @@ impl Builder<'_> {
         for c in &file.coordinates {
             names.symbol(c);
         }
+        if let Some(o) = &file.orbit {
+            b.check_anomaly(o)?;
+            names.symbol(&o.anomaly);
+        }
         let mut sampling = Sampling::default();
         for p in &file.parameters {
             names.symbol(&p.name);
@@ -457,6 +463,11 @@ impl Builder<'_> {
                 rigid,
             });
         }
+        let mut parameter_ranges = Vec::new();
+        let orbit = match &file.orbit {
+            Some(o) => Some(b.orbit(o, &names, (&mut sampling, &mut parameter_ranges))?),
+            None => None,
+        };
         let rc = &file.radiation_claims;
         let claimed = |b: &mut Self, e: &ExprText| -> Result<super::Claimed, ProblemError> {
             Ok(super::Claimed {
@@ -536,7 +547,207 @@ impl Builder<'_> {
             background,
             domain: file.domain,
             bodies,
+            orbit,
+            parameter_ranges,
             radiation_claims,
         })
+    }
+}
+
+impl Builder<'_> {
+    /// The anomaly's name must be free: not a coordinate, parameter, function, define or
+    /// built-in name.
+    fn check_anomaly(&self, o: &super::KeplerOrbitText) -> Result<(), ProblemError> {
+        let f = self.file;
+        let n = o.anomaly.as_str();
+        let taken = if f.coordinates.iter().any(|c| c == n) {
+            Some("a coordinate")
+        } else if f.parameters.iter().any(|p| p.name == n) {
+            Some("a parameter")
+        } else if f.functions.iter().any(|d| d.name == n) {
+            Some("a function")
+        } else if f.defines.iter().any(|d| d.name == n) {
+            Some("a define")
+        } else if n == "pi" || crate::canon::BUILTINS.contains(&n) {
+            Some("a built-in name")
+        } else {
+            None
+        };
+        let Some(what) = taken else { return Ok(()) };
+        let message = if o.anomaly_written {
+            format!("the anomaly `{n}` is already {what}")
+        } else {
+            format!("the eccentric anomaly is named `{n}` by default, but `{n}` is already {what}")
+        };
+        Err(self
+            .err(message, o.anomaly_span, "the anomaly's name")
+            .with_help(
+                "name the eccentric anomaly with a free name in [binary], e.g. anomaly = 'EA'",
+            ))
+    }
+
+    /// The eccentric orbit's clock: the eccentricity (a number in [0, 1) or one parameter,
+    /// then confined to (0, 1) in `ranges` and the sampling), the mean motion and dE/dt.
+    fn orbit(
+        &mut self,
+        o: &super::KeplerOrbitText,
+        names: &Names,
+        (sampling, ranges): (&mut Sampling, &mut ParameterRanges),
+    ) -> Result<super::KeplerOrbit, ProblemError> {
+        let help = "give the eccentricity as a number, eccentricity = 0.5, or as one \
+                    parameter with its value in [0, 1), eccentricity = 'e0'";
+        let e_text = &o.eccentricity;
+        let e = self.parse_and_build(e_text, names)?;
+        let symbols = self.store.free_symbols(e);
+        let bad = |b: &Self, why: String| b.err(why, e_text.token, "here").with_help(help);
+        match symbols.as_slice() {
+            [] => {
+                let value = self.store.eval_interval(e, &crate::canon::Point::default());
+                let inside = value.is_some_and(|z| {
+                    z.im.lo() == 0.0 && z.im.hi() == 0.0 && z.re.lo() >= 0.0 && z.re.hi() < 1.0
+                });
+                if !inside {
+                    return Err(bad(
+                        self,
+                        format!(
+                            "the eccentricity {} is not certified to lie in [0, 1) (a Kepler \
+                             orbit is a bound ellipse)",
+                            e_text.text
+                        ),
+                    ));
+                }
+            }
+            [name] if self.store.symbol(name) == e => {
+                let Some(p) = self.file.parameters.iter().find(|p| *p.name == **name) else {
+                    return Err(bad(
+                        self,
+                        format!("the eccentricity `{name}` is not a parameter"),
+                    ));
+                };
+                if !(0.0..1.0).contains(&p.value) {
+                    return Err(self
+                        .err(
+                            format!(
+                                "the eccentricity `{name}` has the value {}; a Kepler orbit \
+                                 has 0 <= e < 1",
+                                p.value
+                            ),
+                            p.value_span,
+                            "not in [0, 1)",
+                        )
+                        .with_related(e_text.token, "the eccentricity")
+                        .with_help(help));
+                }
+                let k = self.store.symbol_kernel(name);
+                sampling.ranges.insert(k, (0.0, 1.0));
+                ranges.push((name.to_string(), (0.0, 1.0)));
+            }
+            _ => {
+                return Err(bad(
+                    self,
+                    format!(
+                        "the eccentricity {} is neither a number nor one parameter",
+                        e_text.text
+                    ),
+                ));
+            }
+        }
+        let generated = |text: &str| ExprText {
+            text: text.to_string(),
+            token: o.anomaly_span,
+            offset: None,
+        };
+        let mean_motion = self.parse_and_build(&generated(&o.mean_motion), names)?;
+        let rate = self.parse_and_build(&generated(&o.rate), names)?;
+        let frame = match &o.angles {
+            None => None,
+            Some(angles) => Some(self.orbit_frame(o, angles, names)?),
+        };
+        Ok(super::KeplerOrbit {
+            anomaly: o.anomaly.clone(),
+            eccentricity: e,
+            eccentricity_text: e_text.text.clone(),
+            mean_motion,
+            mean_motion_text: o.mean_motion.clone(),
+            rate,
+            frame,
+        })
+    }
+
+    /// The bodies in the orbit's own frame and the rotation `Rz(node) Rx(i) Rz(phase)`.
+    fn orbit_frame(
+        &mut self,
+        o: &super::KeplerOrbitText,
+        angles: &[String; 3],
+        names: &Names,
+    ) -> Result<(Vec<super::Body>, [[Form; 3]; 3]), ProblemError> {
+        let generated = |text: String| ExprText {
+            text,
+            token: o.anomaly_span,
+            offset: None,
+        };
+        let ([m1, m2], [x, y]) = &o.plane;
+        let mass = format!("({m1} + {m2})");
+        let mut bodies = Vec::with_capacity(2);
+        for (label, m, share) in [
+            ("m1", m1, format!("({m2})/{mass}")),
+            ("m2", m2, format!("(-({m1})/{mass})")),
+        ] {
+            let position_text = [
+                format!("{share}*({x})"),
+                format!("{share}*({y})"),
+                "0".to_string(),
+            ];
+            let mass_form = self.parse_and_build(&generated(m.clone()), names)?;
+            let mut position = [mass_form; 3];
+            for (slot, t) in position.iter_mut().zip(&position_text) {
+                *slot = self.parse_and_build(&generated(t.clone()), names)?;
+            }
+            bodies.push(super::Body {
+                label: label.to_string(),
+                mass: mass_form,
+                position,
+                mass_text: m.clone(),
+                position_text,
+                rigid: None,
+            });
+        }
+        let lim = |b: &Self, e| b.limit_error(e);
+        let mut turns = Vec::with_capacity(3);
+        for (k, a) in angles.iter().enumerate() {
+            let f = self.parse_and_build(&generated(a.clone()), names)?;
+            let st = &mut self.store;
+            let (c, s) = match (st.cos(f), st.sin(f)) {
+                (Ok(c), Ok(s)) => (c, s),
+                (Err(e), _) | (_, Err(e)) => return Err(lim(self, e)),
+            };
+            let (z, one) = (self.store.zero(), self.store.one());
+            let ms = match self.store.neg(s) {
+                Ok(v) => v,
+                Err(e) => return Err(lim(self, e)),
+            };
+            // k = 0: Rx(i); k = 1, 2: Rz(node), Rz(phase).
+            turns.push(if k == 0 {
+                [[one, z, z], [z, c, ms], [z, s, c]]
+            } else {
+                [[c, ms, z], [s, c, z], [z, z, one]]
+            });
+        }
+        let product = |b: &mut Self, p: [[Form; 3]; 3], q: [[Form; 3]; 3]| {
+            let mut out = p;
+            for i in 0..3 {
+                for j in 0..3 {
+                    let mut terms = Vec::with_capacity(3);
+                    for k in 0..3 {
+                        terms.push(b.store.mul(p[i][k], q[k][j]).map_err(|e| lim(b, e))?);
+                    }
+                    out[i][j] = b.store.sum(&terms).map_err(|e| lim(b, e))?;
+                }
+            }
+            Ok::<_, ProblemError>(out)
+        };
+        let ri = product(self, turns[0], turns[2])?;
+        let r = product(self, turns[1], ri)?;
+        Ok((bodies, r))
     }
 }

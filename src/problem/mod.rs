@@ -37,6 +37,7 @@
 
 mod bodies;
 mod build;
+pub use bodies::{DEFAULT_ANOMALY, KeplerOrbitText};
 mod error;
 mod read;
 mod render;
@@ -204,6 +205,9 @@ pub struct ProblemFile {
     pub domain: Option<Domain>,
     /// `[[body]]` tables and the two bodies of a `[binary]`, in file order.
     pub bodies: Vec<BodyText>,
+    /// The clock of an eccentric `[binary]` (its bodies are then functions of the
+    /// eccentric anomaly), `None` when the bodies are functions of t.
+    pub orbit: Option<KeplerOrbitText>,
     /// The claims about the bodies' radiation in \[claims\].
     pub radiation_claims: RadiationClaimTexts,
     /// Where `far_zone_order` is written, if it is.
@@ -311,6 +315,31 @@ pub struct Rigid {
     pub angle: Form,
     /// The texts of the moments, the axis and the angle.
     pub texts: ([String; 3], [String; 3], String),
+}
+
+/// An eccentric Kepler orbit's clock, built: the bodies are functions of the eccentric
+/// anomaly `E` (a symbol of the problem's names), and time enters through Kepler's equation
+/// `n t = E - e sin E` (periapsis at t = 0), so `d/dt = rate * d/dE` with
+/// `rate = dE/dt = n/(1 - e cos E)`. See the `[binary]` documentation of the README.
+#[derive(Clone, Debug)]
+pub struct KeplerOrbit {
+    /// The anomaly's name.
+    pub anomaly: String,
+    /// The eccentricity, `0 <= e < 1` (a number or a parameter confined to `[0, 1)`).
+    pub eccentricity: Form,
+    /// The eccentricity as written.
+    pub eccentricity_text: String,
+    /// The mean motion `n = 2 pi/P`.
+    pub mean_motion: Form,
+    /// The mean motion's text.
+    pub mean_motion_text: String,
+    /// `dE/dt`.
+    pub rate: Form,
+    /// With orientation angles: the two bodies in the orbit's own frame (periapsis along +x,
+    /// angular momentum along +z) and the rotation `R` (rows in space) that turns that frame
+    /// into space, `x_space = R x_plane`. Radiation computes in the orbit's frame and turns
+    /// the results (the luminosity is invariant), which keeps the forms small.
+    pub frame: Option<(Vec<Body>, [[Form; 3]; 3])>,
 }
 
 /// A point mass built: mass and position as forms, with their texts.
@@ -434,6 +463,12 @@ pub struct Problem {
     pub domain: Option<Domain>,
     /// The source's bodies (`[[body]]`, `[binary]`), in file order; empty without.
     pub bodies: Vec<Body>,
+    /// The clock of an eccentric binary: its bodies are functions of the eccentric anomaly
+    /// (see [`KeplerOrbit`]); `None` when the bodies are functions of the time.
+    pub orbit: Option<KeplerOrbit>,
+    /// Parameters confined to a range (an eccentricity to `[0, 1)`): the zero test's and the
+    /// audit's sampled values stay inside.
+    pub parameter_ranges: Vec<(String, (f64, f64))>,
     /// The claims about the bodies' radiation.
     pub radiation_claims: RadiationClaims,
 }
@@ -519,6 +554,8 @@ impl Problem {
             h_text,
             source: if keep_source { self.source } else { None },
             bodies: self.bodies.clone(),
+            orbit: self.orbit.clone(),
+            parameter_ranges: self.parameter_ranges.clone(),
             radiation_claims: RadiationClaims::default(),
             source_text: if keep_source {
                 self.source_text.clone()

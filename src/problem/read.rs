@@ -51,12 +51,13 @@ const BODY_KEYS: [&str; 5] = ["mass", "position", "moments", "axis", "angle"];
 const RIGID_HELP: &str = "a rigid body has `moments = ['I1', 'I2', 'I3']` (principal moments of \
     inertia, along x, y, z at angle 0), and optionally a unit `axis = ['0', '0', '1']` and a \
     rotation `angle = 'W*t'` about it (right-handed)";
-const BINARY_KEYS: [&str; 8] = [
+const BINARY_KEYS: [&str; 9] = [
     "m1",
     "m2",
     "semimajor_axis",
     "period",
     "eccentricity",
+    "anomaly",
     "inclination",
     "node",
     "phase",
@@ -649,8 +650,13 @@ impl Cx<'_> {
         Ok([c[0].clone(), c[1].clone(), c[2].clone()])
     }
 
-    /// `[binary]`: two point masses on a Kepler orbit, expanded into two bodies.
-    fn binary(&self, key: &Key<'_>, t: &DeTable<'_>) -> Result<Vec<BodyText>, ProblemError> {
+    /// `[binary]`: two point masses on a Kepler orbit, expanded into two bodies (and, for an
+    /// eccentric orbit, its clock).
+    fn binary(
+        &self,
+        key: &Key<'_>,
+        t: &DeTable<'_>,
+    ) -> Result<(Vec<BodyText>, Option<super::bodies::KeplerOrbitText>), ProblemError> {
         let mut spec = super::bodies::BinarySpec::default();
         for (k, v) in entries(t) {
             let name: &str = k.get_ref();
@@ -661,6 +667,7 @@ impl Cx<'_> {
                 "semimajor_axis" => &mut spec.semimajor_axis,
                 "period" => &mut spec.period,
                 "eccentricity" => &mut spec.eccentricity,
+                "anomaly" => &mut spec.anomaly,
                 "inclination" => &mut spec.inclination,
                 "node" => &mut spec.node,
                 "phase" => &mut spec.phase,
@@ -669,8 +676,12 @@ impl Cx<'_> {
             *slot = Some(self.expr_or_number(&what, v)?);
         }
         let t_name = self.coords[0].clone();
-        spec.expand(&t_name).map_err(|why| {
-            self.err(why, span_of(key), "this [binary]")
+        spec.expand(&t_name, span_of(key)).map_err(|why| {
+            let (span, label) = match why.at {
+                Some(s) => (s, "here"),
+                None => (span_of(key), "this [binary]"),
+            };
+            self.err(why.message, span, label)
                 .with_help(super::bodies::BINARY_HELP)
         })
     }
@@ -1073,6 +1084,7 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
         gauge_vector: None,
         domain: None,
         bodies: Vec::new(),
+        orbit: None,
         radiation_claims: RadiationClaimTexts::default(),
         far_zone_span: None,
     };
@@ -1109,8 +1121,9 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
             "grid" => file.grid = Some(cx.grid(cx.table(k, v)?)?),
             "body" => cx.bodies(v, &mut file.bodies)?,
             "binary" => {
-                let two = cx.binary(k, cx.table(k, v)?)?;
+                let (two, orbit) = cx.binary(k, cx.table(k, v)?)?;
                 file.bodies.extend(two);
+                file.orbit = orbit;
             }
             _ => {
                 let mut e = cx.unknown_key(k, "", &TOP_KEYS);
@@ -1129,6 +1142,21 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
                 "not Cartesian",
             )
             .with_help("remove `coordinates` (or list t, x, y, z) in a file with bodies"));
+    }
+    if let Some(orbit) = &file.orbit
+        && file.bodies.len() > 2
+    {
+        return Err(cx
+            .err(
+                "an eccentric [binary] is written in its eccentric anomaly, [[body]] tables in \
+                 the time: the two cannot describe one source",
+                orbit.anomaly_span,
+                "eccentric orbit",
+            )
+            .with_help(
+                "describe the source either by the eccentric [binary] alone or by [[body]] \
+                 tables (a circular [binary] may sit beside them)",
+            ));
     }
     if !saw_perturbation && file.bodies.is_empty() {
         return Err(cx

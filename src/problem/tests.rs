@@ -1084,3 +1084,37 @@ fn display_text_reads_back_on_every_worked_file() {
     assert!(checked > 400, "only {checked} forms checked");
     assert!(named > 40, "only {named} forms printed with a file's names");
 }
+
+#[test]
+fn a_circular_binary_is_expanded_as_before_and_eccentricity_0_is_circular() {
+    // Issue 13: the circular expansion is unchanged text for text, with or without
+    // `eccentricity = 0`; a nonzero eccentricity writes the bodies in the anomaly.
+    let base = "[parameters]\nm = 1.0\nR = 10.0\n[binary]\nm1 = 'm'\nm2 = 'm'\n\
+                semimajor_axis = 'R'\n";
+    for extra in ["", "eccentricity = 0\n", "eccentricity = '0.0'\n"] {
+        let p = ok(&format!("{base}{extra}"));
+        assert!(p.orbit.is_none(), "{extra}");
+        assert_eq!(
+            p.bodies[0].position_text,
+            [
+                "(m)/(m + m)*(R)*cos(sqrt((m + m)/(R)^3)*t)".to_string(),
+                "(m)/(m + m)*(R)*sin(sqrt((m + m)/(R)^3)*t)".to_string(),
+                "(m)/(m + m)*0".to_string(),
+            ],
+            "{extra}"
+        );
+    }
+    let p = ok(&format!("{base}eccentricity = 0.5\n"));
+    let o = p.orbit.as_ref().expect("an eccentric orbit");
+    assert_eq!(o.anomaly, "E");
+    assert_eq!(
+        p.bodies[0].position_text[0],
+        "(m)/(m + m)*((R)*(cos(E) - (0.5)))"
+    );
+    // An eccentricity parameter is sampled inside (0, 1) by the zero test and the audit.
+    let p = ok(
+        "[parameters]\nm = 1.0\nR = 10.0\ne0 = 0.9\n[binary]\nm1 = 'm'\nm2 = 'm'\n\
+                semimajor_axis = 'R'\neccentricity = 'e0'\n",
+    );
+    assert_eq!(p.parameter_ranges, vec![("e0".to_string(), (0.0, 1.0))]);
+}

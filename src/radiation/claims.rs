@@ -5,7 +5,7 @@
 //! expression minus the definition written from the bodies' texts, evaluated with certified
 //! jets; a time average by the mean of the definition over one period.
 
-use super::{Average, Radiation, time_average};
+use super::{Average, Radiation};
 use crate::audit::expr::{FileQuantities, Finding};
 use crate::canon::{CResult, Form};
 use crate::check::audit::Audited;
@@ -80,14 +80,17 @@ pub fn quadrupole_texts(p: &Problem) -> [[String; 3]; 3] {
 /// `c_i Sigma_jk + c_j Sigma_ik + c_k Sigma_ij`) and `J_ij = sum m x_i (x x v)_j` (with each
 /// rigid body's `eps_jab (c_i K_ab + c_a K_ib + dc_b/dt Sigma_ia)`) from the bodies' texts,
 /// the velocities as `d_t(...)` of the positions; see [`super::multipole`].
-fn third_moment_and_current_texts(p: &Problem) -> ([[[String; 3]; 3]; 3], [[String; 3]; 3]) {
+fn third_moment_and_current_texts(
+    p: &Problem,
+    clock: &ClockText,
+) -> ([[[String; 3]; 3]; 3], [[String; 3]; 3]) {
     let t = p.coordinates[0].as_str();
     let mut cube: [[[Vec<String>; 3]; 3]; 3] = Default::default();
     let mut cur: [[Vec<String>; 3]; 3] = Default::default();
     for b in &p.bodies {
         let m = &b.mass_text;
         let x = &b.position_text;
-        let v: [String; 3] = std::array::from_fn(|i| format!("d_{t}({})", x[i]));
+        let v: [String; 3] = std::array::from_fn(|i| clock.d(1, &x[i]));
         let cross = |j: usize| -> String {
             let (a, c) = ((j + 1) % 3, (j + 2) % 3);
             format!("(({})*{} - ({})*{})", x[a], v[c], x[c], v[a])
@@ -157,8 +160,11 @@ fn third_moment_and_current_texts(p: &Problem) -> ([[[String; 3]; 3]; 3], [[Stri
 
 /// The definitions of `Q_ijk` (STF of the third moment) and `S_ij` (STF of `J_ij`) from the
 /// bodies' texts, each in parentheses.
-fn octupole_and_current_texts(p: &Problem) -> ([[[String; 3]; 3]; 3], [[String; 3]; 3]) {
-    let (i3, j2) = third_moment_and_current_texts(p);
+fn octupole_and_current_texts(
+    p: &Problem,
+    clock: &ClockText,
+) -> ([[[String; 3]; 3]; 3], [[String; 3]; 3]) {
+    let (i3, j2) = third_moment_and_current_texts(p, clock);
     let trace = |k: usize| format!("({} + {} + {})", i3[0][0][k], i3[1][1][k], i3[2][2][k]);
     let octupole = std::array::from_fn(|i| {
         std::array::from_fn(|j| {
@@ -187,9 +193,67 @@ fn octupole_and_current_texts(p: &Problem) -> ([[[String; 3]; 3]; 3], [[String; 
     (octupole, current)
 }
 
-/// `d^k/dt^k` of a text (k >= 1).
-fn d_text(t: &str, k: usize, s: &str) -> String {
-    format!("d_{}({s})", vec![t; k].join("_"))
+/// Time derivatives written as texts for the independent route: `d_t` in the time, or, for
+/// an eccentric orbit, the chain rule through Kepler's equation written again here:
+/// `d/dt = n / (dM/dE) d/dE` with the mean anomaly `M = E - e sin E` differentiated by the
+/// jets themselves (not the exact route's `n/(1 - e cos E)`).
+#[derive(Clone, Debug)]
+pub enum ClockText {
+    /// The time coordinate's name.
+    Time(String),
+    /// An eccentric orbit: the anomaly's name, the mean motion's and the eccentricity's texts.
+    Anomaly {
+        /// The anomaly.
+        name: String,
+        /// The mean motion `n`.
+        mean_motion: String,
+        /// The eccentricity.
+        eccentricity: String,
+    },
+}
+
+impl ClockText {
+    /// The clock of `p`'s bodies.
+    #[must_use]
+    pub fn of(p: &Problem) -> ClockText {
+        match &p.orbit {
+            Some(o) => ClockText::Anomaly {
+                name: o.anomaly.clone(),
+                mean_motion: o.mean_motion_text.clone(),
+                eccentricity: o.eccentricity_text.clone(),
+            },
+            None => ClockText::Time(p.coordinates[0].clone()),
+        }
+    }
+
+    /// `dM/dE` for the anomaly: the derivative of Kepler's mean anomaly, by the jets.
+    #[must_use]
+    pub fn weight(&self) -> Option<String> {
+        match self {
+            ClockText::Time(_) => None,
+            ClockText::Anomaly {
+                name, eccentricity, ..
+            } => Some(format!("d_{name}({name} - ({eccentricity})*sin({name}))")),
+        }
+    }
+
+    /// `d^k/dt^k` of a text (k >= 1).
+    #[must_use]
+    pub fn d(&self, k: usize, s: &str) -> String {
+        match self {
+            ClockText::Time(t) => format!("d_{}({s})", vec![t.as_str(); k].join("_")),
+            ClockText::Anomaly {
+                name, mean_motion, ..
+            } => {
+                let w = self.weight().unwrap_or_default();
+                let mut out = s.to_string();
+                for _ in 0..k {
+                    out = format!("(({mean_motion})*d_{name}({out})/{w})");
+                }
+                out
+            }
+        }
+    }
 }
 
 /// The definitions of the radiated quantities written from the bodies' texts, for the
@@ -198,20 +262,27 @@ pub struct Definitions {
     q: [[String; 3]; 3],
     octupole: [[[String; 3]; 3]; 3],
     current: [[String; 3]; 3],
-    t: String,
+    clock: ClockText,
 }
 
 impl Definitions {
     /// The definitions for `p` (time coordinate first in its coordinates).
     #[must_use]
     pub fn of(p: &Problem) -> Definitions {
-        let (octupole, current) = octupole_and_current_texts(p);
+        let clock = ClockText::of(p);
+        let (octupole, current) = octupole_and_current_texts(p, &clock);
         Definitions {
             q: quadrupole_texts(p),
             octupole,
             current,
-            t: p.coordinates[0].clone(),
+            clock,
         }
+    }
+
+    /// The clock the derivatives are written with.
+    #[must_use]
+    pub fn clock(&self) -> &ClockText {
+        &self.clock
     }
 
     /// `Q_ij`.
@@ -223,7 +294,7 @@ impl Definitions {
     /// `d^k Q_ij / dt^k` (k >= 1).
     #[must_use]
     pub fn d(&self, k: usize, i: usize, j: usize) -> String {
-        d_text(&self.t, k, &self.q[i][j])
+        self.clock.d(k, &self.q[i][j])
     }
 
     /// The mass octupole `Q_ijk`.
@@ -241,13 +312,13 @@ impl Definitions {
     /// `dP_i/dt = (2/63) d^4Q_iab d^3Q_ab + (16/45) eps_ipq d^3Q_pa d^3S_qa`.
     #[must_use]
     pub fn momentum(&self, i: usize) -> String {
-        let t = self.t.as_str();
+        let d_text = |k: usize, s: &str| self.clock.d(k, s);
         let mut mass = Vec::new();
         for a in 0..3 {
             for b in 0..3 {
                 mass.push(format!(
                     "{}*{}",
-                    d_text(t, 4, &self.octupole[i][a][b]),
+                    d_text(4, &self.octupole[i][a][b]),
                     self.d(3, a, b)
                 ));
             }
@@ -258,9 +329,9 @@ impl Definitions {
                 format!(
                     "{}*{} - {}*{}",
                     self.d(3, j, a),
-                    d_text(t, 3, &self.current[k][a]),
+                    d_text(3, &self.current[k][a]),
                     self.d(3, k, a),
-                    d_text(t, 3, &self.current[j][a])
+                    d_text(3, &self.current[j][a])
                 )
             })
             .collect();
@@ -282,7 +353,7 @@ impl Definitions {
         (u, v): (&[String; 3], &[String; 3]),
         distance: &str,
     ) -> [String; 2] {
-        let t = self.t.as_str();
+        let d_text = |k: usize, s: &str| self.clock.d(k, s);
         let contract = |e: &dyn Fn(usize, usize) -> String| -> String {
             let mut oct = Vec::new();
             let mut cur = Vec::new();
@@ -292,7 +363,7 @@ impl Definitions {
                         oct.push(format!(
                             "({})*{}*({})",
                             n[a],
-                            d_text(t, 3, &self.octupole[i][j][a]),
+                            d_text(3, &self.octupole[i][j][a]),
                             e(i, j)
                         ));
                         if a != i {
@@ -301,7 +372,7 @@ impl Definitions {
                             cur.push(format!(
                                 "({sign})*({})*{}*({})",
                                 n[a],
-                                d_text(t, 2, &self.current[j][m]),
+                                d_text(2, &self.current[j][m]),
                                 e(i, j)
                             ));
                         }
@@ -396,11 +467,30 @@ pub fn reports(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
     if p.radiation_claims.is_empty() {
         return Ok(Vec::new());
     }
+    // The independent route reads an eccentric orbit's anomaly as one more name with a
+    // value at each point (sampled about 1.3 rad, i.e. over [0.65, 2.6]).
+    let anomaly = p.orbit.as_ref().map(|o| o.anomaly.clone());
+    if let Some(a) = &anomaly {
+        p.parameters.push((a.clone(), ANOMALY_TYPICAL));
+    }
+    let out = reports_with(p);
+    if anomaly.is_some() {
+        p.parameters.pop();
+    }
+    out
+}
+
+/// The anomaly's value about which the audit samples it.
+pub const ANOMALY_TYPICAL: f64 = 1.3;
+
+fn reports_with(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
     let claims = p.radiation_claims.clone();
     let t_name = p.coordinates[0].clone();
     let defs = Definitions::of(p);
     let lim = ClaimsError::Limit;
-    let mut rad = Radiation::new(&mut p.store, &p.bodies, &t_name).map_err(lim)?;
+    let clock = super::Clock::of(p);
+    let mut rad =
+        Radiation::of_problem(&mut p.store, &p.bodies, p.orbit.as_ref(), clock).map_err(lim)?;
     let mut out = Vec::new();
     let mut groups: Vec<(Kind, Vec<Item>)> = Vec::new();
     let st = &mut p.store;
@@ -419,16 +509,11 @@ pub fn reports(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
             ));
         }
         if let Some(c) = &claims.luminosity_average {
-            let item = match time_average(st, lum, rad.t).map_err(lim)? {
+            let item = match rad.average(st, lum).map_err(lim)? {
                 Average::Exact(avg) => Item {
                     name: "claimed <L> - <(1/5) dddQ_ij dddQ_ij>".into(),
                     residual: st.sub(c.form, avg).map_err(lim)?,
-                    audit: Err(period_mean_audit(
-                        p,
-                        (lum, avg, c.form),
-                        &definition,
-                        &t_name,
-                    )),
+                    audit: Err(mean_audit(p, (lum, avg, c.form), &definition, defs.clock())),
                 },
                 Average::NotPeriodic(why) => {
                     let report = undecided(
@@ -466,12 +551,19 @@ pub fn reports(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
         let u = vector_texts(st, &dir.u);
         let v = vector_texts(st, &dir.v);
         let defs = defs.polarizations(&u, &v, &distance.text);
-        // The claimed fields shifted to t + distance meet the definitions at t.
-        let t = st.symbol_kernel(&t_name);
-        let tf = st.symbol(&t_name);
-        let ahead = st.add(tf, distance.form).map_err(lim)?;
+        // The claimed fields shifted to t + distance meet the definitions at t; an eccentric
+        // orbit's field is written at the retarded anomaly already (no shift).
         let mut subs = rustc_hash::FxHashMap::default();
-        subs.insert(t, ahead);
+        let at = if rad.clock.is_time() {
+            let t = st.symbol_kernel(&t_name);
+            let tf = st.symbol(&t_name);
+            let ahead = st.add(tf, distance.form).map_err(lim)?;
+            subs.insert(t, ahead);
+            format!("at time {t_name} + distance")
+        } else {
+            let name = p.orbit.as_ref().map_or("E", |o| o.anomaly.as_str());
+            format!("at the retarded anomaly {name}")
+        };
         let mut items = Vec::new();
         for ((name, c, f), def) in [("h_plus", plus, w.plus), ("h_cross", cross, w.cross)]
             .into_iter()
@@ -482,7 +574,7 @@ pub fn reports(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
             let shifted = st.substitute(c.form, &subs).map_err(lim)?;
             let residual = st.sub(c.form, f).map_err(lim)?;
             items.push(Item {
-                name: format!("claimed {name} - quadrupole {name}, at time {t_name} + distance"),
+                name: format!("claimed {name} - quadrupole {name}, {at}"),
                 residual: st.substitute(residual, &subs).map_err(lim)?,
                 audit: Ok((shifted, def)),
             });
@@ -507,7 +599,6 @@ fn momentum_reports(
     (groups, out): (&mut Vec<(Kind, Vec<Item>)>, &mut Vec<ClaimReport>),
 ) -> Result<(), ClaimsError> {
     let lim = ClaimsError::Limit;
-    let t_name = p.coordinates[0].clone();
     let st = &mut p.store;
     if let Some(why) = super::multipole::refusal(st, &p.bodies, rad.t) {
         for (c, average) in [
@@ -520,7 +611,9 @@ fn momentum_reports(
         }
         return Ok(());
     }
-    let mut next = super::multipole::NextOrder::new(st, &p.bodies, &t_name).map_err(lim)?;
+    let mut next =
+        super::multipole::NextOrder::of_problem(st, &p.bodies, p.orbit.as_ref(), rad.clock)
+            .map_err(lim)?;
     let dp = next.momentum_flux(st, rad).map_err(lim)?;
     const AXES: [&str; 3] = ["x", "y", "z"];
     if let Some(c) = &claims.momentum_flux {
@@ -537,7 +630,7 @@ fn momentum_reports(
     if let Some(c) = &claims.momentum_flux_average {
         let mut averages = Vec::new();
         for (i, &f) in dp.iter().enumerate() {
-            match time_average(&mut p.store, f, rad.t).map_err(lim)? {
+            match rad.average(&mut p.store, f).map_err(lim)? {
                 Average::Exact(avg) => averages.push((f, avg)),
                 Average::NotPeriodic(why) => {
                     out.push(undecided(
@@ -550,7 +643,7 @@ fn momentum_reports(
         }
         let mut items = Vec::new();
         for (i, (f, avg)) in averages.into_iter().enumerate() {
-            let audit = period_mean_audit(p, (f, avg, c[i].form), &defs.momentum(i), &t_name);
+            let audit = mean_audit(p, (f, avg, c[i].form), &defs.momentum(i), defs.clock());
             items.push(Item {
                 name: format!("claimed <dP_{0}/dt> - <formula dP_{0}/dt>", AXES[i]),
                 residual: p.store.sub(c[i].form, avg).map_err(lim)?,
@@ -560,6 +653,123 @@ fn momentum_reports(
         groups.push((Kind::MomentumFlux { average: true }, items));
     }
     Ok(())
+}
+
+/// The independent check of an exact average: [`period_mean_audit`] in the time,
+/// [`orbit_mean_audit`] over an eccentric orbit.
+fn mean_audit(
+    p: &mut Problem,
+    (lum, avg, claimed): (Form, Form, Form),
+    definition: &str,
+    clock: &ClockText,
+) -> String {
+    match clock {
+        ClockText::Time(t) => period_mean_audit(p, (lum, avg, claimed), definition, t),
+        ClockText::Anomaly { name, .. } => {
+            let weight = clock.weight().unwrap_or_default();
+            orbit_mean_audit(p, (avg, claimed), definition, (name, &weight))
+        }
+    }
+}
+
+/// The independent check of an exact average `avg` over an eccentric orbit: the mean over
+/// one period of `definition` (written from the bodies' texts with the chain rule through
+/// Kepler's equation, [`ClockText`]) as `(1/(2 pi)) int f(E) dM/dE dE` by the trapezoid rule
+/// in the anomaly (spectrally accurate for these smooth periodic integrands), with N = 64,
+/// 128, ... points until two successive means agree to 1e-12 relative (at most 2048), against
+/// `avg`'s value at the file's parameter values. Returns the sentence for the report.
+fn orbit_mean_audit(
+    p: &mut Problem,
+    (avg, claimed): (Form, Form),
+    definition: &str,
+    (anomaly, weight): (&str, &str),
+) -> String {
+    use crate::interval::{CInterval, Interval};
+    let mut pt = crate::canon::Point {
+        samples: p.sampling.samples.clone(),
+        ..crate::canon::Point::default()
+    };
+    for (n, v) in &p.parameters {
+        if let Some(i) = Interval::point(*v) {
+            let k = p.store.symbol_kernel(n);
+            pt.values.insert(k, CInterval::from_real(i));
+        }
+    }
+    let text = format!("({definition})*{weight}");
+    let audit = match crate::audit::Audit::fields(p, 0, &[("L".into(), text)]) {
+        Ok(a) => a,
+        Err(e) => return format!("not audited: {e}"),
+    };
+    let mut cache: Vec<(usize, f64, f64)> = Vec::new();
+    let mean_with = |n: usize| -> Result<(f64, f64), String> {
+        let mut sum = 0.0;
+        let mut size: f64 = 0.0;
+        for k in 0..n {
+            let e = std::f64::consts::TAU * k as f64 / n as f64;
+            let mut point: Vec<(String, f64)> =
+                p.coordinates.iter().map(|c| (c.clone(), 0.0)).collect();
+            point.extend(
+                p.parameters
+                    .iter()
+                    .map(|(m, v)| (m.clone(), if m == anomaly { e } else { *v })),
+            );
+            let v = audit
+                .fields_in::<String, Interval>(&point, &())
+                .ok()
+                .and_then(|f| f.extra(0));
+            match v {
+                Some(v) => {
+                    sum += v.mid();
+                    size = size.max(v.mid().abs());
+                }
+                None => {
+                    return Err(format!(
+                        "not audited: the definition cannot be evaluated at {anomaly} = {e}"
+                    ));
+                }
+            }
+        }
+        Ok((sum / n as f64, size))
+    };
+    let mut n = 64;
+    let (mean, size) = loop {
+        let (m, size) = match mean_with(n) {
+            Ok(v) => v,
+            Err(why) => return why,
+        };
+        if let Some(&(_, prev, _)) = cache.last()
+            && (m - prev).abs() <= 1e-12 * m.abs().max(size).max(f64::MIN_POSITIVE)
+        {
+            break (m, size);
+        }
+        cache.push((n, m, size));
+        if n >= 2048 {
+            return format!(
+                "not audited: the trapezoid means over the orbit did not settle ({m:.12e} with \
+                 {n} points)"
+            );
+        }
+        n *= 2;
+    };
+    let Some(exact) = p.store.eval_interval(avg, &pt).map(|z| z.re.mid()) else {
+        return "not audited: the average cannot be evaluated".into();
+    };
+    let scale = exact.abs().max(mean.abs()).max(size).max(f64::MIN_POSITIVE);
+    let claimed = p.store.eval_interval(claimed, &pt).map(|z| z.re.mid());
+    let differs = claimed.is_some_and(|c| (c - mean).abs() > 1e-6 * scale.max(c.abs()));
+    if (mean - exact).abs() <= 1e-9 * scale {
+        format!(
+            "audited numerically{}: the mean of the definition over one orbit ({n} points in \
+             {anomaly}, weighted by Kepler's dM/d{anomaly}; independent route) is {mean:.12e}, \
+             the exact average {exact:.12e}",
+            if differs { " (claim differs)" } else { "" },
+        )
+    } else {
+        format!(
+            "INTERNAL DEFECT: the mean of the definition over one orbit ({n} points in \
+             {anomaly}, independent route) is {mean:.12e}, but the exact average is {exact:.12e}"
+        )
+    }
 }
 
 /// The independent check of an exact time average `avg` of `lum`: when the frequencies of
@@ -820,5 +1030,31 @@ mod tests {
         assert_eq!(r.status, Status::Undecided);
         assert!(r.components[0].audit.is_defect());
         assert!(r.method.contains("INTERNAL DEFECT"), "{}", r.method);
+    }
+
+    #[test]
+    fn an_orbit_average_contradicted_by_its_quadrature_is_a_defect() {
+        // The exact average of an eccentric orbit's luminosity, doubled, against the
+        // independent quadrature over one orbit: an INTERNAL DEFECT, never a pass; the true
+        // average is confirmed.
+        let text = "[parameters]\nm1 = 1.3\nm2 = 0.7\na = 30.0\n\
+                    [binary]\nm1 = 'm1'\nm2 = 'm2'\nsemimajor_axis = 'a'\neccentricity = 0.5\n";
+        let mut p = crate::problem::from_str("eccentric", text).unwrap();
+        p.parameters.push(("E".into(), ANOMALY_TYPICAL));
+        let defs = Definitions::of(&p);
+        let clock = super::super::Clock::of(&mut p);
+        let st = &mut p.store;
+        let mut rad = Radiation::of_problem(st, &p.bodies, p.orbit.as_ref(), clock).unwrap();
+        let l = rad.luminosity(st).unwrap();
+        let Average::Exact(avg) = rad.average(st, l).unwrap() else {
+            panic!("an average");
+        };
+        let twice = st.scale(avg, &crate::canon::Coeff::int(2)).unwrap();
+        let good = mean_audit(&mut p, (l, avg, avg), &defs.luminosity(), defs.clock());
+        assert!(good.starts_with("audited numerically:"), "{good}");
+        // checks.md 1b: m1 = 1.3, m2 = 0.7, a = 30, e = 0.5 -> <L> = 2.130540914206e-06.
+        assert!(good.contains("2.130540914206e-6"), "{good}");
+        let bad = mean_audit(&mut p, (l, twice, twice), &defs.luminosity(), defs.clock());
+        assert!(bad.starts_with("INTERNAL DEFECT"), "{bad}");
     }
 }

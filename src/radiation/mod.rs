@@ -24,29 +24,107 @@
 //! The next order (mass octupole, current quadrupole, the linear momentum they carry with the
 //! quadrupole, their far-zone field) is [`multipole`].
 //!
+//! **The clock.** Bodies are functions of the time, or, for an eccentric binary, of its
+//! eccentric anomaly `E` ([`crate::problem::KeplerOrbit`]); a [`Clock`] says which, and every
+//! time derivative goes through it: `d/dt = (dE/dt) d/dE`, exact in `E`. For an eccentric
+//! orbit every instantaneous quantity is then a function of `E`, the far-zone field is the
+//! source's at the retarded anomaly (the `E` of the retarded time `t - r`, by Kepler's
+//! equation: no closed form shifts it, so it is written in `E` and the distance enters as
+//! `1/r` only), and averages over a period are [`kepler::orbit_average`].
+//!
 //! **Invariants:** exact forms only (no floating point); never prints.
 
 pub mod claims;
+pub mod kepler;
 pub mod multipole;
 
 use crate::canon::{CResult, Coeff, Form, KernelId, Q, Store};
 use crate::problem::Body;
 use crate::tt::{Mat3, Vec3};
 
+/// What the bodies are functions of, and how it runs with time.
+#[derive(Clone, Copy, Debug)]
+pub struct Clock {
+    /// The variable: the time coordinate, or an eccentric binary's anomaly.
+    pub var: KernelId,
+    /// The variable as a form.
+    pub var_form: Form,
+    /// For the anomaly: `dE/dt` and the eccentricity. `None` when the variable is the time.
+    pub orbit: Option<(Form, Form)>,
+}
+
+impl Clock {
+    /// The time coordinate named `t_name` as the clock.
+    pub fn time(store: &mut Store, t_name: &str) -> Clock {
+        Clock {
+            var: store.symbol_kernel(t_name),
+            var_form: store.symbol(t_name),
+            orbit: None,
+        }
+    }
+
+    /// The clock of `p`'s bodies: its eccentric orbit's anomaly, else its time coordinate.
+    pub fn of(p: &mut crate::problem::Problem) -> Clock {
+        match &p.orbit {
+            Some(o) => Clock {
+                var: p.store.symbol_kernel(&o.anomaly),
+                var_form: p.store.symbol(&o.anomaly),
+                orbit: Some((o.rate, o.eccentricity)),
+            },
+            None => Clock::time(&mut p.store, &p.coordinates[0]),
+        }
+    }
+
+    /// True when the variable is the time itself.
+    #[must_use]
+    pub fn is_time(&self) -> bool {
+        self.orbit.is_none()
+    }
+
+    /// `df/dt`.
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn d_dt(&self, store: &mut Store, f: Form) -> CResult<Form> {
+        let d = store.diff(f, self.var)?;
+        match self.orbit {
+            None => Ok(d),
+            Some((rate, _)) => store.mul(d, rate),
+        }
+    }
+
+    /// The average of `f` over time: [`time_average`] in t, [`kepler::orbit_average`] over one
+    /// period of an eccentric orbit.
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn average(&self, store: &mut Store, f: Form) -> CResult<Average> {
+        match self.orbit {
+            None => time_average(store, f, self.var),
+            Some((_, e)) => kepler::orbit_average(store, f, (self.var, self.var_form), e),
+        }
+    }
+}
+
 /// The quadrupole radiation of a set of point masses.
 pub struct Radiation {
-    /// The time coordinate.
+    /// The variable the bodies are functions of (the time coordinate, or the clock's anomaly).
     pub t: KernelId,
-    /// The time coordinate as a form.
-    t_form: Form,
+    /// The clock.
+    pub clock: Clock,
     /// `I_ij = sum m x_i x_j`.
     pub quadrupole: Mat3,
     /// `Q_ij = I_ij - delta_ij I_kk / 3`.
     pub trace_free: Mat3,
     /// `d^2/dt^2 sum m x_i`: zero for an isolated source.
     pub dipole_acceleration: Vec3,
-    /// `d^k Q / dt^k` for k = 0, 1, ... as computed so far.
+    /// `d^k Q / dt^k` for k = 0, 1, ... as computed so far (in the bodies' own frame).
     derivatives: Vec<Mat3>,
+    /// The rotation from the bodies' frame into space, when they were given in an orbit's
+    /// own frame ([`Radiation::of_problem`]).
+    frame: Option<Mat3>,
 }
 
 /// The field along one direction at one distance.
@@ -80,8 +158,16 @@ impl Radiation {
     ///
     /// An algebra limit.
     pub fn new(store: &mut Store, bodies: &[Body], t_name: &str) -> CResult<Radiation> {
-        let t = store.symbol_kernel(t_name);
-        let t_form = store.symbol(t_name);
+        let clock = Clock::time(store, t_name);
+        Radiation::with_clock(store, bodies, clock)
+    }
+
+    /// The moments of `bodies`, functions of the clock's variable.
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn with_clock(store: &mut Store, bodies: &[Body], clock: Clock) -> CResult<Radiation> {
         let z = store.zero();
         let mut quadrupole = [[z; 3]; 3];
         for i in 0..3 {
@@ -117,17 +203,44 @@ impl Radiation {
                 terms.push(store.mul(b.mass, b.position[i])?);
             }
             let d = store.sum(&terms)?;
-            let d1 = store.diff(d, t)?;
-            *slot = store.diff(d1, t)?;
+            let d1 = clock.d_dt(store, d)?;
+            *slot = clock.d_dt(store, d1)?;
         }
         Ok(Radiation {
-            t,
-            t_form,
+            t: clock.var,
+            clock,
             quadrupole,
             trace_free,
             dipole_acceleration,
             derivatives: vec![trace_free],
+            frame: None,
         })
+    }
+
+    /// The radiation of a problem's bodies with their clock. An eccentric binary with
+    /// orientation angles is computed in its orbit's own frame and turned into space by its
+    /// rotation `R`: `Q = R Q' R^T`, the luminosity is invariant, fluxes turn as vectors and
+    /// the field along `n` is the orbit frame's along `R^T n` (exact identities, and the
+    /// forms stay as small as for an orbit in the x-y plane).
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn of_problem(
+        store: &mut Store,
+        bodies: &[Body],
+        orbit: Option<&crate::problem::KeplerOrbit>,
+        clock: Clock,
+    ) -> CResult<Radiation> {
+        let Some((plane, r)) = orbit.and_then(|o| o.frame.as_ref()) else {
+            return Radiation::with_clock(store, bodies, clock);
+        };
+        let mut rad = Radiation::with_clock(store, plane, clock)?;
+        rad.quadrupole = turn_matrix(store, r, &rad.quadrupole)?;
+        rad.trace_free = turn_matrix(store, r, &rad.trace_free)?;
+        rad.dipole_acceleration = turn_vector(store, r, &rad.dipole_acceleration, false)?;
+        rad.frame = Some(*r);
+        Ok(rad)
     }
 
     /// `d^k Q_ij / dt^k` (memoised).
@@ -138,7 +251,7 @@ impl Radiation {
     pub fn derivative(&mut self, store: &mut Store, k: usize) -> CResult<Mat3> {
         while self.derivatives.len() <= k {
             let last = self.derivatives.last().expect("Q itself");
-            let next = symmetric_derivative(store, last, self.t)?;
+            let next = symmetric_derivative(store, last, &self.clock)?;
             self.derivatives.push(next);
         }
         Ok(self.derivatives[k])
@@ -176,7 +289,10 @@ impl Radiation {
             let s = eps_contraction(store, i, &q2, &q3)?;
             *slot = store.scale(s, &Coeff::rational(Q::new((-2).into(), 5.into())))?;
         }
-        Ok(out)
+        match &self.frame {
+            Some(r) => turn_vector(store, r, &out, false),
+            None => Ok(out),
+        }
     }
 
     /// The far-zone field along the unit direction `n` with polarization basis `(u, v)` at
@@ -200,8 +316,99 @@ impl Radiation {
                 source[j][i] = s;
             }
         }
-        retarded_wave(store, (self.t, self.t_form), (n, u, v), r, &source)
+        framed_wave(
+            store,
+            &self.clock,
+            self.frame.as_ref(),
+            (n, u, v),
+            r,
+            &source,
+        )
     }
+
+    /// The average of `f` over time (see [`Clock::average`]).
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn average(&self, store: &mut Store, f: Form) -> CResult<Average> {
+        self.clock.average(store, f)
+    }
+}
+
+/// `R v` (or `R^T v` with `transpose`).
+///
+/// # Errors
+///
+/// An algebra limit.
+pub(crate) fn turn_vector(store: &mut Store, r: &Mat3, v: &Vec3, transpose: bool) -> CResult<Vec3> {
+    let mut out = *v;
+    for (i, slot) in out.iter_mut().enumerate() {
+        let mut terms = Vec::with_capacity(3);
+        for (k, &x) in v.iter().enumerate() {
+            let rik = if transpose { r[k][i] } else { r[i][k] };
+            terms.push(store.mul(rik, x)?);
+        }
+        *slot = store.sum(&terms)?;
+    }
+    Ok(out)
+}
+
+/// `R M R^T`.
+///
+/// # Errors
+///
+/// An algebra limit.
+pub(crate) fn turn_matrix(store: &mut Store, r: &Mat3, m: &Mat3) -> CResult<Mat3> {
+    let mut rm = *m;
+    for i in 0..3 {
+        for j in 0..3 {
+            let mut terms = Vec::with_capacity(3);
+            for k in 0..3 {
+                terms.push(store.mul(r[i][k], m[k][j])?);
+            }
+            rm[i][j] = store.sum(&terms)?;
+        }
+    }
+    let mut out = *m;
+    for i in 0..3 {
+        for j in i..3 {
+            let mut terms = Vec::with_capacity(3);
+            for k in 0..3 {
+                terms.push(store.mul(rm[i][k], r[j][k])?);
+            }
+            let s = store.sum(&terms)?;
+            out[i][j] = s;
+            out[j][i] = s;
+        }
+    }
+    Ok(out)
+}
+
+/// [`retarded_wave`] of a source given in a frame turned into space by `frame`: computed along
+/// the turned-back direction and basis (`R^T n`, `R^T u`, `R^T v`; the polarizations are
+/// scalars), `h^TT` turned into space.
+///
+/// # Errors
+///
+/// An algebra limit.
+pub(crate) fn framed_wave(
+    store: &mut Store,
+    clock: &Clock,
+    frame: Option<&Mat3>,
+    (n, u, v): (&Vec3, &Vec3, &Vec3),
+    r: Form,
+    s: &Mat3,
+) -> CResult<Wave> {
+    let Some(rot) = frame else {
+        return retarded_wave(store, clock, (n, u, v), r, s);
+    };
+    let n = turn_vector(store, rot, n, true)?;
+    let u = turn_vector(store, rot, u, true)?;
+    let v = turn_vector(store, rot, v, true)?;
+    let mut w = retarded_wave(store, clock, (&n, &u, &v), r, s)?;
+    w.tt = turn_matrix(store, rot, &w.tt)?;
+    Ok(w)
 }
 
 /// The time derivative of a symmetric matrix of forms.
@@ -209,11 +416,11 @@ impl Radiation {
 /// # Errors
 ///
 /// An algebra limit.
-pub(crate) fn symmetric_derivative(store: &mut Store, m: &Mat3, t: KernelId) -> CResult<Mat3> {
+pub(crate) fn symmetric_derivative(store: &mut Store, m: &Mat3, clock: &Clock) -> CResult<Mat3> {
     let mut next = *m;
     for i in 0..3 {
         for j in i..3 {
-            let d = store.diff(m[i][j], t)?;
+            let d = clock.d_dt(store, m[i][j])?;
             next[i][j] = d;
             next[j][i] = d;
         }
@@ -237,22 +444,25 @@ pub(crate) fn eps_contraction(store: &mut Store, i: usize, a: &Mat3, b: &Mat3) -
     store.sum(&terms)
 }
 
-/// The far-zone wave `h^TT = Lambda(n) s(t - r) / r` of a symmetric source `s(t)` (the time
-/// kernel and form `t`), with its polarizations in the basis `(u, v)`.
+/// The far-zone wave `h^TT = Lambda(n) s(t - r) / r` of a symmetric source `s(t)`, with its
+/// polarizations in the basis `(u, v)`. With an eccentric orbit's clock `s` is a function of
+/// the anomaly and stays one: the wave is the source's at the retarded anomaly, `s(E) / r`.
 ///
 /// # Errors
 ///
 /// An algebra limit.
 pub(crate) fn retarded_wave(
     store: &mut Store,
-    (t, t_form): (KernelId, Form),
+    clock: &Clock,
     (n, u, v): (&Vec3, &Vec3, &Vec3),
     r: Form,
     s: &Mat3,
 ) -> CResult<Wave> {
-    let retarded = store.sub(t_form, r)?;
     let mut subs = rustc_hash::FxHashMap::default();
-    subs.insert(t, retarded);
+    if clock.is_time() {
+        let retarded = store.sub(clock.var_form, r)?;
+        subs.insert(clock.var, retarded);
+    }
     let mut shifted = *s;
     for i in 0..3 {
         for j in i..3 {
@@ -401,4 +611,4 @@ pub fn time_average(store: &mut Store, f: Form, t: KernelId) -> CResult<Average>
 }
 
 #[cfg(test)]
-mod tests;
+pub(super) mod tests;

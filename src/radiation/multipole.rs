@@ -200,8 +200,9 @@ fn set_symmetric(t: &mut Ten3, (i, j, k): (usize, usize, usize), v: Form) {
 /// The mass octupole and the current quadrupole of a set of bodies, with their time
 /// derivatives (memoised), and what they radiate at the next order.
 pub struct NextOrder {
-    t: KernelId,
-    t_form: Form,
+    clock: super::Clock,
+    /// The rotation from the bodies' frame into space (see [`Radiation::of_problem`]).
+    frame: Option<Mat3>,
     /// `Q_ijk = STF sum m x_i x_j x_k` (symmetric, trace-free).
     pub octupole: Ten3,
     /// `S_ij = STF sum m x_i (x x v)_j` (symmetric, trace-free).
@@ -220,8 +221,21 @@ impl NextOrder {
     ///
     /// An algebra limit.
     pub fn new(store: &mut Store, bodies: &[Body], t_name: &str) -> CResult<NextOrder> {
-        let t = store.symbol_kernel(t_name);
-        let t_form = store.symbol(t_name);
+        let clock = super::Clock::time(store, t_name);
+        NextOrder::with_clock(store, bodies, clock)
+    }
+
+    /// The moments of `bodies`, functions of the clock's variable (see [`NextOrder::new`]).
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn with_clock(
+        store: &mut Store,
+        bodies: &[Body],
+        clock: super::Clock,
+    ) -> CResult<NextOrder> {
+        let t = clock.var;
         let z = store.zero();
         let mut cube: Ten3 = [[[z; 3]; 3]; 3];
         let mut j_terms: [[Vec<Form>; 3]; 3] = Default::default();
@@ -229,7 +243,7 @@ impl NextOrder {
             let x = b.position;
             let mut v = [z; 3];
             for (slot, &xi) in v.iter_mut().zip(&x) {
-                *slot = store.diff(xi, t)?;
+                *slot = clock.d_dt(store, xi)?;
             }
             for &(i, j, k) in &IJK {
                 let xx = store.mul(x[i], x[j])?;
@@ -279,8 +293,8 @@ impl NextOrder {
             }
         }
         Ok(NextOrder {
-            t,
-            t_form,
+            clock,
+            frame: None,
             octupole,
             current,
             rigid: bodies.iter().any(|b| b.rigid.is_some()),
@@ -289,7 +303,44 @@ impl NextOrder {
         })
     }
 
-    /// `d^k Q_ijk / dt^k` (memoised).
+    /// The next order of a problem's bodies with their clock, in an eccentric orbit's own
+    /// frame when it has orientation angles (see [`Radiation::of_problem`]): the moments are
+    /// turned into space, the momentum flux as a vector, the field along `R^T n`.
+    ///
+    /// # Errors
+    ///
+    /// An algebra limit.
+    pub fn of_problem(
+        store: &mut Store,
+        bodies: &[Body],
+        orbit: Option<&crate::problem::KeplerOrbit>,
+        clock: super::Clock,
+    ) -> CResult<NextOrder> {
+        let Some((plane, r)) = orbit.and_then(|o| o.frame.as_ref()) else {
+            return NextOrder::with_clock(store, bodies, clock);
+        };
+        let mut next = NextOrder::with_clock(store, plane, clock)?;
+        next.current = super::turn_matrix(store, r, &next.current)?;
+        let o = next.octupole;
+        for &(i, j, k) in &IJK {
+            let mut terms = Vec::new();
+            for a in 0..3 {
+                for b in 0..3 {
+                    let rr = store.mul(r[i][a], r[j][b])?;
+                    for c in 0..3 {
+                        let rrr = store.mul(rr, r[k][c])?;
+                        terms.push(store.mul(rrr, o[a][b][c])?);
+                    }
+                }
+            }
+            let v = store.sum(&terms)?;
+            set_symmetric(&mut next.octupole, (i, j, k), v);
+        }
+        next.frame = Some(*r);
+        Ok(next)
+    }
+
+    /// `d^k Q_ijk / dt^k` (memoised; in the bodies' own frame).
     ///
     /// # Errors
     ///
@@ -302,7 +353,7 @@ impl NextOrder {
                 .expect("the octupole itself");
             let mut next = last;
             for &ijk in &IJK {
-                let d = store.diff(last[ijk.0][ijk.1][ijk.2], self.t)?;
+                let d = self.clock.d_dt(store, last[ijk.0][ijk.1][ijk.2])?;
                 set_symmetric(&mut next, ijk, d);
             }
             self.octupole_derivatives.push(next);
@@ -318,7 +369,7 @@ impl NextOrder {
     pub fn current_derivative(&mut self, store: &mut Store, k: usize) -> CResult<Mat3> {
         while self.current_derivatives.len() <= k {
             let last = self.current_derivatives.last().expect("S itself");
-            let next = super::symmetric_derivative(store, last, self.t)?;
+            let next = super::symmetric_derivative(store, last, &self.clock)?;
             self.current_derivatives.push(next);
         }
         Ok(self.current_derivatives[k])
@@ -348,7 +399,10 @@ impl NextOrder {
             let current = super::eps_contraction(store, i, &q3, &s3)?;
             *slot = store.linear(&[(&rational(2, 63), mass), (&rational(16, 45), current)])?;
         }
-        Ok(out)
+        match &self.frame {
+            Some(r) => super::turn_vector(store, r, &out, false),
+            None => Ok(out),
+        }
     }
 
     /// The next-order far-zone field along the unit direction `n` with polarization basis
@@ -365,6 +419,15 @@ impl NextOrder {
         (n, u, v): (&Vec3, &Vec3, &Vec3),
         r: Form,
     ) -> CResult<Wave> {
+        // In the bodies' own frame: the direction and basis turned back into it.
+        let (n, u, v) = match &self.frame {
+            Some(rot) => (
+                super::turn_vector(store, rot, n, true)?,
+                super::turn_vector(store, rot, u, true)?,
+                super::turn_vector(store, rot, v, true)?,
+            ),
+            None => (*n, *u, *v),
+        };
         let o3 = self.octupole_derivative(store, 3)?;
         let s2 = self.current_derivative(store, 2)?;
         // c_ij = eps_aim n_a ddS_jm.
@@ -398,7 +461,11 @@ impl NextOrder {
                 h[j][i] = s;
             }
         }
-        super::retarded_wave(store, (self.t, self.t_form), (n, u, v), r, &h)
+        let mut w = super::retarded_wave(store, &self.clock, (&n, &u, &v), r, &h)?;
+        if let Some(rot) = &self.frame {
+            w.tt = super::turn_matrix(store, rot, &w.tt)?;
+        }
+        Ok(w)
     }
 }
 

@@ -112,9 +112,58 @@ fn check_decides_claims_about_luminosity_and_waveform() {
 fn bad_binaries_and_waveform_claims_name_their_place() {
     let dir = tempfile::tempdir().unwrap();
     for (text, message, at) in [
+        // A Kepler orbit is bound: 0 <= e < 1 (a number at its value, a parameter at its
+        // value in [parameters]).
         (
-            "[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 10\neccentricity = 0.3\n",
-            "only circular orbits",
+            "[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 10\neccentricity = 1.0\n",
+            "0 <= e < 1",
+            ":5:16",
+        ),
+        (
+            "[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 10\neccentricity = -0.1\n",
+            "0 <= e < 1",
+            ":5:16",
+        ),
+        (
+            "[parameters]\ne0 = 1.5\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 10\n\
+             eccentricity = 'e0'\n",
+            "has the value 1.5",
+            ":2:6",
+        ),
+        (
+            "[parameters]\ne0 = 0.5\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 10\n\
+             eccentricity = 'e0^2'\n",
+            "neither a number nor one parameter",
+            ":7:16",
+        ),
+        // The anomaly's name must be free: by default E, else the name written.
+        (
+            "[parameters]\nE = 1.0\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 10\n\
+             eccentricity = 0.3\n",
+            "named `E` by default, but `E` is already a parameter",
+            ":3:2",
+        ),
+        (
+            "[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 10\neccentricity = 0.3\n\
+             anomaly = 't'\n",
+            "the anomaly `t` is already a coordinate",
+            ":6:11",
+        ),
+        (
+            "[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 10\neccentricity = 0.3\n\
+             anomaly = '2x'\n",
+            "is not a name",
+            ":6:11",
+        ),
+        (
+            "[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 10\nanomaly = 'EA'\n",
+            "this orbit is circular",
+            ":5:11",
+        ),
+        (
+            "[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 10\neccentricity = 0.3\n\
+             [[body]]\nmass = 1\nposition = ['t', '0', '0']\n",
+            "cannot describe one source",
             ":1:2",
         ),
         (
@@ -215,6 +264,91 @@ fn a_time_average_is_proved_and_checked_over_one_period() {
         assert!(out.contains("one period (32 points)"), "{out}");
         assert!(!out.contains("INTERNAL DEFECT"), "{out}");
     }
+}
+
+#[test]
+fn an_eccentric_binary_is_checked_in_its_eccentric_anomaly() {
+    // The worked eccentric binary (a scenario of our own): Peters & Mathews' (1963) orbit
+    // average (checks.md 1a, 1b) proved and checked by a quadrature over one orbit, the
+    // face-on waveform derived by hand proved at the retarded anomaly.
+    let f = worked("eccentric_binary.toml");
+    let (out, err, code) = lingrav(&["check", &f, "--format", "json"]);
+    assert_eq!(code, 0, "{out}{err}");
+    assert_statuses(
+        &out,
+        &[("luminosity_average", "holds"), ("waveform", "holds")],
+    );
+    assert!(out.contains("at the retarded anomaly E"), "{out}");
+    let (out, _, _) = lingrav(&["check", &f]);
+    assert!(out.contains("over one orbit"), "{out}");
+    // f(e) with the wrong power of (1 - e^2) fails with a certified witness; so does a
+    // waveform with the wrong sign of h_cross.
+    let text = std::fs::read_to_string(&f).unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    for (from, to, claim) in [
+        ("/(4/5)^7", "/(4/5)^6", "time-averaged luminosity"),
+        ("h_cross = '-(16/5)", "h_cross = '(16/5)", "waveform"),
+    ] {
+        assert!(text.contains(from), "{from}");
+        let p = dir.path().join("wrong.toml");
+        std::fs::write(&p, text.replace(from, to)).unwrap();
+        let (out, err, code) = lingrav(&["check", p.to_str().unwrap()]);
+        assert_eq!(code, 1, "{out}{err}");
+        assert!(out.contains(&format!("fails      {claim}")), "{out}");
+        assert!(!out.contains("INTERNAL DEFECT"), "{out}");
+    }
+    // `radiation` prints the clock and the exact average, in text and JSON, and refuses a
+    // picture against time.
+    let (out, err, code) = lingrav(&["radiation", &f, "--direction", "z", "--distance", "R"]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("n t = E - e sin E"), "{out}");
+    assert!(
+        out.contains("time average <L> = 1072475*m1^2*m2^2*(m1 + m2)/(16384*a^5)"),
+        "{out}"
+    );
+    assert!(out.contains(": consistent"), "{out}");
+    let (out, err, code) = lingrav(&["radiation", &f, "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(j["orbit"]["anomaly"], "E");
+    assert_eq!(j["orbit"]["eccentricity"], "3/5");
+    assert_eq!(j["audit"]["defect"], false);
+    let svg = dir.path().join("w.svg");
+    let (_, err, code) = lingrav(&[
+        "radiation",
+        &f,
+        "--direction",
+        "z",
+        "--distance",
+        "R",
+        "--time-range",
+        "0,10",
+        "--svg",
+        svg.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("eccentric anomaly"), "{err}");
+}
+
+#[test]
+fn a_tilted_eccentric_orbit_with_symbolic_angles_and_eccentricity() {
+    // Peters & Mathews' <L> (1963) for a symbolic eccentricity on an orbit tilted by symbolic
+    // angles (the average does not depend on the orientation), with the anomaly renamed.
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("tilted.toml");
+    std::fs::write(
+        &p,
+        "[parameters]\nm1 = 1.3\nm2 = 0.7\na = 30.0\ne0 = 0.617134\niota = 0.4\n\
+         Om = 1.1\nw = 0.3\n[binary]\nm1 = 'm1'\nm2 = 'm2'\nsemimajor_axis = 'a'\n\
+         eccentricity = 'e0'\nanomaly = 'psi'\ninclination = 'iota'\nnode = 'Om'\n\
+         phase = 'w'\n[claims]\nluminosity_average = '(32/5)*(m1*m2)^2*(m1 + m2)/a^5*\
+         (1 + 73/24*e0^2 + 37/96*e0^4)/(1 - e0^2)^(7/2)'\n",
+    )
+    .unwrap();
+    let (out, err, code) = lingrav(&["check", p.to_str().unwrap()]);
+    assert_eq!(code, 0, "{out}{err}");
+    assert!(out.contains("holds      time-averaged luminosity"), "{out}");
+    assert!(out.contains("points in psi"), "{out}");
 }
 
 #[test]

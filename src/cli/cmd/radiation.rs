@@ -10,7 +10,7 @@ use crate::cli::out::{Failure, Outcome, gave_up, print};
 use crate::cli::plan::{build_arg, numbers, plan_direction, plan_optional_output, write_atomic};
 use crate::cli::report::{Format, conventions, heading, json};
 use crate::radiation::multipole::{IJK, NextOrder, RIGID_ASSUMPTION, refusal};
-use crate::radiation::{Average, Radiation, time_average};
+use crate::radiation::{Average, Radiation};
 use crate::tt::DirectionKind;
 use crate::zero::{Verdict, decide};
 use clap::Args;
@@ -104,6 +104,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
             || p.parameters.iter().any(|(m, _)| m == n)
             || p.functions.iter().any(|(m, _)| m == n)
             || p.defines.iter().any(|(m, _)| m == n)
+            || p.orbit.as_ref().is_some_and(|o| o.anomaly == n)
     };
     let mut r_name = "r".to_string();
     while taken(&r_name) {
@@ -127,13 +128,21 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
         }
         None => None,
     };
+    if a.svg.is_some() && p.orbit.is_some() {
+        return Err(Failure::Input(miette::miette!(
+            help = "leave out --svg; the exact forms are printed in the anomaly",
+            "--svg draws against time, and an eccentric orbit's forms are functions of its \
+             eccentric anomaly (no picture yet)"
+        )));
+    }
     let target = plan_optional_output(a.svg.as_deref(), a.force, "--svg")?;
     let limit = |e: CanonError| gave_up(&e);
     let t_name = p.coordinates[0].clone();
     let sampling = p.sampling.clone();
     let defs = crate::radiation::claims::Definitions::of(&p);
+    let clock = crate::radiation::Clock::of(&mut p);
     let st = &mut p.store;
-    let mut rad = Radiation::new(st, &p.bodies, &t_name).map_err(limit)?;
+    let mut rad = Radiation::of_problem(st, &p.bodies, p.orbit.as_ref(), clock).map_err(limit)?;
     let mut rows = Vec::new();
     for &(i, j) in &IJ {
         rows.push(Row {
@@ -160,7 +169,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     // rigid (the reason is printed instead).
     let next_refused = refusal(st, &p.bodies, rad.t);
     let mut next = match next_refused {
-        None => Some(NextOrder::new(st, &p.bodies, &t_name).map_err(limit)?),
+        None => Some(NextOrder::of_problem(st, &p.bodies, p.orbit.as_ref(), clock).map_err(limit)?),
         Some(_) => None,
     };
     let mut dp = Vec::new();
@@ -211,12 +220,15 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
             fields.push(("h_plus_next", w.plus, plus_def));
             fields.push(("h_cross_next", w.cross, cross_def));
         }
-        // Shift the printed forms to t + R so that they meet the definitions at t.
-        let t = st.symbol_kernel(&t_name);
-        let tf = st.symbol(&t_name);
-        let ahead = st.add(tf, distance).map_err(limit)?;
+        // Shift the printed forms to t + R so that they meet the definitions at t (an
+        // eccentric orbit's forms are at the retarded anomaly already: no shift).
         let mut subs = rustc_hash::FxHashMap::default();
-        subs.insert(t, ahead);
+        if clock.is_time() {
+            let t = st.symbol_kernel(&t_name);
+            let tf = st.symbol(&t_name);
+            let ahead = st.add(tf, distance).map_err(limit)?;
+            subs.insert(t, ahead);
+        }
         for (name, f, def) in fields {
             let shifted = st.substitute(f, &subs).map_err(limit)?;
             wave_rows.push((name, f, shifted, def));
@@ -248,7 +260,16 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     if added {
         p.parameters.push((r_name.clone(), 7.25));
     }
+    // An eccentric orbit's anomaly is one more name with a value at each audited point.
+    let anomaly = p.orbit.as_ref().map(|o| o.anomaly.clone());
+    if let Some(an) = &anomaly {
+        p.parameters
+            .push((an.clone(), crate::radiation::claims::ANOMALY_TYPICAL));
+    }
     let route = crate::audit::expr::FileQuantities::texts(&p, &texts);
+    if anomaly.is_some() {
+        p.parameters.pop();
+    }
     if added {
         p.parameters.pop();
     }
@@ -260,7 +281,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     // Averages and the centre of mass.
     let st = &mut p.store;
     let average = |st: &mut crate::Store, f: Form| -> Result<Result<String, String>, Failure> {
-        Ok(match time_average(st, f, rad.t).map_err(limit)? {
+        Ok(match rad.average(st, f).map_err(limit)? {
             Average::Exact(a) => Ok(st.to_text(a)),
             Average::NotPeriodic(why) => Err(why),
         })
@@ -325,6 +346,16 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
         Format::Text => {
             let mut s = String::new();
             let _ = writeln!(s, "{}", heading(&label, p.name.as_deref()));
+            if let Some(o) = &p.orbit {
+                let an = &o.anomaly;
+                let _ = writeln!(
+                    s,
+                    "eccentric orbit (e = {}): the bodies and every quantity below are functions \
+                     of the eccentric anomaly {an}, with n t = {an} - e sin {an} (periapsis at t = \
+                     0), n = {}, d/dt = n/(1 - e cos {an}) d/d{an}; averages are over one period",
+                    o.eccentricity_text, o.mean_motion_text
+                );
+            }
             for b in &p.bodies {
                 let _ = writeln!(
                     s,
@@ -409,10 +440,14 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                     let t: Vec<String> = v.iter().map(|&f| st.to_text(f)).collect();
                     format!("({})", t.join(", "))
                 };
+                let at = match &p.orbit {
+                    None => format!("{t_name} - {distance_text}"),
+                    Some(o) => format!("{} at the retarded time", o.anomaly),
+                };
                 let _ = writeln!(
                     s,
                     "waveform along n = {} at distance {distance_text}, basis u = {}, v = {}: \
-                     h^TT = (2/{distance_text}) Lambda(n) ddQ({t_name} - {distance_text})",
+                     h^TT = (2/{distance_text}) Lambda(n) ddQ({at})",
                     vec(st, &dir.n),
                     vec(st, &dir.u),
                     vec(st, &dir.v)
@@ -426,7 +461,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                         s,
                         "next order (not in h_plus, h_cross above): h^TT_next = \
                          (1/{distance_text}) Lambda(n) [(2/3) n_k dddQ_ijk + (4/3)(eps_kil n_k \
-                         ddS_jl + eps_kjl n_k ddS_il)]({t_name} - {distance_text})"
+                         ddS_jl + eps_kjl n_k ddS_il)]({at})"
                     );
                     for (n, t) in &waves[2..] {
                         let _ = writeln!(s, "  {n} = {t}");
@@ -436,8 +471,13 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
             let _ = writeln!(
                 s,
                 "audit: {} printed forms against their definitions from the bodies' texts \
-                 (certified jets; the waveform shifted by the distance): {}",
+                 (certified jets; {}): {}",
                 findings.len(),
+                if p.orbit.is_some() {
+                    "time derivatives by the chain rule through Kepler's equation"
+                } else {
+                    "the waveform shifted by the distance"
+                },
                 if defect { "DISAGREE" } else { "consistent" }
             );
             if defect {
@@ -490,6 +530,12 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                 "quantities": quantities,
                 "averages": averages,
                 "next_order_refused": next_refused,
+                "orbit": p.orbit.as_ref().map(|o| serde_json::json!({
+                    "anomaly": o.anomaly,
+                    "eccentricity": o.eccentricity_text,
+                    "mean_motion": o.mean_motion_text,
+                    "kepler_equation": format!("n*t = {0} - e*sin({0})", o.anomaly),
+                })),
                 "assumptions": assumptions,
                 "distance": dir.as_ref().map(|_| distance_text.clone()),
                 "direction": dir_json,
