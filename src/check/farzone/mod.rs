@@ -338,8 +338,10 @@ impl Ray<'_> {
         };
         let n = self.order;
         let how = match k {
+            -1 => "grows like r".to_string(),
             k if k < 0 => format!("grows like r^{}", -k),
             0 => "does not fall off (order r^0)".to_string(),
+            1 => "falls off only as 1/r".to_string(),
             k => format!("falls off only as 1/r^{k}"),
         };
         let text = store.to_text_summary(c, RESIDUAL_CHARS);
@@ -351,7 +353,12 @@ impl Ray<'_> {
         (
             Verdict::Nonzero(w),
             Residual::Note(format!(
-                "{how}; claimed O(1/r^{n}); coefficient of {}: {text}",
+                "{how}; claimed O({}); coefficient of {}: {text}",
+                if n == 1 {
+                    "1/r".to_string()
+                } else {
+                    format!("1/r^{n}")
+                },
                 match k {
                     k if k < 0 => format!("rho^{}", -k),
                     0 => "rho^0".to_string(),
