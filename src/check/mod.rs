@@ -101,15 +101,14 @@ impl Residual {
         }
     }
 
-    /// The whole residual as text and as LaTeX, in the file's terms (the LaTeX is `None` for
-    /// a note); `None` when it is zero.
+    /// The whole residual as text and as LaTeX, canonical (for JSON: self-contained, in
+    /// coordinates and parameters only; the LaTeX is `None` for a note); `None` when it is
+    /// zero.
     pub fn whole(&self, store: &mut Store) -> Option<(String, Option<String>)> {
         match self {
             Residual::Zero => None,
             Residual::Note(n) => Some((n.clone(), None)),
-            Residual::Form(f) => {
-                Some((store.to_display_text(*f), Some(store.to_display_latex(*f))))
-            }
+            Residual::Form(f) => Some((store.to_text(*f), Some(store.to_latex(*f)))),
         }
     }
 }

@@ -49,6 +49,9 @@ pub struct RadiationArgs {
     /// Print the audit's seeded points.
     #[arg(long)]
     audit_points: bool,
+    /// Print the canonical (expanded) forms, without the file's [define] names.
+    #[arg(long)]
+    expanded: bool,
     /// Draw h_plus and h_cross over --time-range at the observer, and the angular pattern of the
     /// radiated power, as an SVG picture.
     #[arg(long, value_name = "FILE.svg", requires_all = ["direction", "distance", "time_range"])]
@@ -76,6 +79,10 @@ struct Row {
 /// `lingrav radiation`.
 pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     let mut p = a.limits.load(&a.file)?;
+    // JSON is for programs: canonical forms, in coordinates and parameters only.
+    if a.expanded || a.format == Format::Json {
+        p.store.set_display_names(None);
+    }
     if p.bodies.is_empty() {
         return Err(Failure::Input(miette::miette!(
             help = "describe the source with [[body]] tables (mass, position in t) or a \
@@ -282,7 +289,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     let st = &mut p.store;
     let average = |st: &mut crate::Store, f: Form| -> Result<Result<String, String>, Failure> {
         Ok(match rad.average(st, f).map_err(limit)? {
-            Average::Exact(a) => Ok(st.to_text(a)),
+            Average::Exact(a) => Ok(st.to_display_text(a)),
             Average::NotPeriodic(why) => Err(why),
         })
     };
@@ -303,7 +310,9 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     for (i, &f) in rad.dipole_acceleration.iter().enumerate() {
         match decide(st, f, &sampling) {
             Verdict::Zero => {}
-            Verdict::Nonzero(_) => accelerates.push(format!("{}: {}", AXES[i], st.to_text(f))),
+            Verdict::Nonzero(_) => {
+                accelerates.push(format!("{}: {}", AXES[i], st.to_display_text(f)));
+            }
             Verdict::Undecided(why) => {
                 accelerates.push(format!("{}: not proved zero ({why})", AXES[i]));
             }
@@ -326,10 +335,10 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     let st = &mut p.store;
     let mut printed: Vec<(String, String)> = Vec::new();
     for r in &rows {
-        printed.push((r.name.clone(), st.to_text(r.form)));
+        printed.push((r.name.clone(), st.to_display_text(r.form)));
     }
     for (n, f, _, _) in &wave_rows {
-        printed.push((n.to_string(), st.to_text(*f)));
+        printed.push((n.to_string(), st.to_display_text(*f)));
     }
     let avg_text = |a: &Result<String, String>| match a {
         Ok(t) => t.clone(),

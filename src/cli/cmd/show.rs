@@ -133,12 +133,12 @@ pub fn run(a: ShowArgs) -> Result<Outcome, Failure> {
                 .map(|(name, f)| {
                     let mut c = serde_json::json!({
                         "name": name,
-                        "value": store.to_display_text(f),
+                        "value": store.to_text(f),
                         "zero": store.is_zero(f),
                     });
                     if a.latex {
                         c["latex_name"] = latex_label(&name).into();
-                        c["latex"] = store.to_display_latex(f).into();
+                        c["latex"] = store.to_latex(f).into();
                     }
                     c
                 })
