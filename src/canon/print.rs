@@ -739,15 +739,18 @@ fn cancel_names(p: Pretty) -> Pretty {
             Pretty::Prod(c, n, d)
         }
         Pretty::Quot(num, den) => {
-            let (c, mut n) = match *num {
-                Pretty::Prod(c, n, d) if d.is_empty() => (c, n),
-                other if name_power(&other).is_some() => (Coeff::one(), vec![other]),
+            let (c, mut n, inner) = match *num {
+                Pretty::Prod(c, n, d) => (c, n, d),
+                other if name_power(&other).is_some() => (Coeff::one(), vec![other], Vec::new()),
                 other => return Pretty::Quot(Box::new(other), den),
             };
             let mut d = match *den {
                 Pretty::Prod(k, d, dd) if k.is_one() && dd.is_empty() => d,
                 other => vec![other],
             };
+            // One denominator: `x/(6561*a^2*(cos(E) - 5/3)^8)`, not `x/(6561*a^2)/(...)^8`.
+            d.extend(inner);
+            d.sort_by_key(factor_order);
             cancel_pair(&mut n, &mut d);
             if d.is_empty() {
                 return Pretty::Prod(c, n, Vec::new());
