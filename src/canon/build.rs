@@ -18,8 +18,8 @@ pub enum Unknown {
 }
 
 /// The built-in functions of the expression language.
-pub const BUILTINS: [&str; 9] = [
-    "sin", "cos", "tan", "exp", "log", "sqrt", "sinh", "cosh", "tanh",
+pub const BUILTINS: [&str; 10] = [
+    "sin", "cos", "tan", "exp", "log", "sqrt", "sinh", "cosh", "tanh", "atan",
 ];
 
 /// The name table used to build forms.
@@ -250,6 +250,7 @@ impl Store {
                         "sinh" => self.sinh(a),
                         "cosh" => self.cosh(a),
                         "tanh" => self.tanh(a),
+                        "atan" => self.atan(a),
                         _ => unreachable!("every builtin is listed"),
                     });
                 }

@@ -78,6 +78,9 @@ pub enum Kernel {
     },
     /// The principal natural logarithm.
     Log(Form),
+    /// The principal arctangent (real on the real line, cuts on the imaginary axis beyond
+    /// +-i); its argument is canonical.
+    Atan(Form),
     /// An arbitrary function of one argument, differentiated `order` times.
     Func {
         /// The function's name.
@@ -1289,6 +1292,15 @@ impl Store {
         Ok(self.kernel_form(k))
     }
 
+    /// The principal `atan(a)`: a kernel (no rewrite besides atan(0) = 0).
+    pub fn atan(&mut self, a: Form) -> CResult<Form> {
+        if a == self.zero {
+            return Ok(self.zero);
+        }
+        let k = self.intern_kernel(Kernel::Atan(a));
+        Ok(self.kernel_form(k))
+    }
+
     /// `(exp(i a), exp(-i a))`.
     fn exp_i_pair(&mut self, a: Form) -> CResult<(Form, Form)> {
         let ia = self.scale(a, &Coeff::i())?;
@@ -1397,7 +1409,7 @@ impl Store {
                         match self.kernel(*k) {
                             Kernel::Sym(_) | Kernel::Pi => {}
                             Kernel::Root { radicand, .. } => stack.push(*radicand),
-                            Kernel::Log(a) => stack.push(*a),
+                            Kernel::Log(a) | Kernel::Atan(a) => stack.push(*a),
                             Kernel::Func { name, arg, .. } => {
                                 out.push(name.clone());
                                 stack.push(*arg);
@@ -1421,9 +1433,10 @@ impl Store {
             Kernel::Sym(_) => Rc::from(vec![k]),
             // pi is listed so that an exponent's pi part can be found by differentiating.
             Kernel::Pi => Rc::from(vec![k]),
-            Kernel::Root { radicand: a, .. } | Kernel::Log(a) | Kernel::Func { arg: a, .. } => {
-                self.form_deps(a)
-            }
+            Kernel::Root { radicand: a, .. }
+            | Kernel::Log(a)
+            | Kernel::Atan(a)
+            | Kernel::Func { arg: a, .. } => self.form_deps(a),
         };
         self.deps_cache.insert(k, d.clone());
         d
@@ -1600,6 +1613,10 @@ impl Store {
             Kernel::Log(a) => {
                 let a = self.subst_form(a, subs, memo)?;
                 self.log(a)
+            }
+            Kernel::Atan(a) => {
+                let a = self.subst_form(a, subs, memo)?;
+                self.atan(a)
             }
             Kernel::Func { name, order, arg } => {
                 let a = self.subst_form(arg, subs, memo)?;

@@ -56,6 +56,7 @@ fn builtin(name: &str, x: f64) -> Option<Result<f64, EvalError>> {
         "sinh" => Ok(x.sinh()),
         "cosh" => Ok(x.cosh()),
         "tanh" => Ok(x.tanh()),
+        "atan" => Ok(x.atan()),
         _ => return None,
     };
     Some(value.and_then(|v| finite(v, || format!("{name}({x})"))))

@@ -64,6 +64,8 @@ pub trait Scalar: Clone + fmt::Debug {
     fn sin(&self) -> Option<Self>;
     /// Cosine.
     fn cos(&self) -> Option<Self>;
+    /// Arctangent (real, values in (-pi/2, pi/2)).
+    fn atan(&self) -> Option<Self>;
 
     /// Whether 0 may be the enclosed value.
     fn contains_zero(&self) -> bool;
@@ -179,6 +181,9 @@ impl Scalar for Interval {
     }
     fn ln(&self) -> Option<Self> {
         Interval::ln(*self)
+    }
+    fn atan(&self) -> Option<Self> {
+        Some(Interval::atan(*self))
     }
     fn sin(&self) -> Option<Self> {
         Some(Interval::sin(*self))
@@ -478,6 +483,9 @@ impl Scalar for crate::interval::Ball {
     }
     fn ln(&self) -> Option<Self> {
         crate::interval::Ball::ln(self)
+    }
+    fn atan(&self) -> Option<Self> {
+        Some(crate::interval::Ball::atan(self))
     }
     fn sin(&self) -> Option<Self> {
         Some(crate::interval::Ball::sin(self))
