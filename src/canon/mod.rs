@@ -1488,6 +1488,62 @@ impl Store {
         d
     }
 
+    /// Whether `f` is shown real-valued wherever it is defined (for real symbols): every kernel
+    /// it contains, in its terms, denominators and exponents, at any depth, is a symbol, `pi`,
+    /// an `atan` of a form shown real or an arbitrary function of a form shown real (arbitrary
+    /// functions are real-valued by convention), and its formal conjugate (coefficients and
+    /// exponents conjugated, [`Store::conj_formal`]) is the same form. With real kernels the
+    /// formal conjugate is the complex conjugate, so `f` equals its conjugate. Roots and
+    /// logarithms are never shown real (a root of a negative number is not). `false` means
+    /// "not shown", not "not real"; a limit reached also gives `false`.
+    pub fn is_real_shown(&mut self, f: Form) -> bool {
+        // Forms whose kernels must be real (all reached), and those that must also equal
+        // their formal conjugate (`f` and every kernel argument; an exponent need not be real).
+        let mut stack = vec![f];
+        let mut seen = rustc_hash::FxHashSet::default();
+        let mut self_conjugate = vec![f];
+        while let Some(g) = stack.pop() {
+            if !seen.insert(g) {
+                continue;
+            }
+            let r = self.rats[g.0 as usize].clone();
+            let mut polys = vec![r.num.clone()];
+            polys.extend(
+                r.den
+                    .iter()
+                    .map(|(fid, _)| self.factors[fid.0 as usize].clone()),
+            );
+            for p in polys {
+                for (m, _) in p {
+                    let mono = &self.monos[m.0 as usize];
+                    if let Some(e) = mono.exp {
+                        stack.push(e);
+                    }
+                    for (k, _) in &mono.pows {
+                        match self.kernel(*k) {
+                            Kernel::Sym(_) | Kernel::Pi => {}
+                            Kernel::Atan(a) | Kernel::Func { arg: a, .. } => {
+                                stack.push(*a);
+                                self_conjugate.push(*a);
+                            }
+                            Kernel::Root { .. } | Kernel::Log(_) => return false,
+                        }
+                    }
+                }
+            }
+        }
+        // Every kernel reached is real, so a formal conjugate is the complex conjugate.
+        self_conjugate.sort();
+        self_conjugate.dedup();
+        for g in self_conjugate {
+            match self.conj_formal(g) {
+                Ok(c) if c == g => {}
+                _ => return false,
+            }
+        }
+        true
+    }
+
     /// The formal conjugate of `f`: every coefficient and every exponent conjugated, kernels
     /// kept as they are (so it is the complex conjugate when the kernels are real).
     pub fn conj_formal(&mut self, f: Form) -> CResult<Form> {

@@ -800,6 +800,24 @@ impl<S: Scalar> Jet<S> {
         self.by_coeffs(|n| Self::riccati(t0, -1, n, ctx))
     }
 
+    /// Absolute value (of a real jet): `self` or `-self` when the value is certified nonzero
+    /// (the sign is constant near the point); at order 0 (or for a constant jet) the
+    /// enclosure of `|value|`; `None` when the value may be 0 and derivatives are wanted.
+    pub fn abs(&self) -> Option<Jet<S>> {
+        let v = &self.c[0];
+        if v.is_positive() {
+            return Some(self.clone());
+        }
+        if v.neg().is_positive() {
+            return Some(self.neg());
+        }
+        if self.constant || self.order == 0 {
+            let m = v.abs()?;
+            return Some(Jet::constant(&self.space, self.order, m));
+        }
+        None
+    }
+
     /// Arctangent (real). The univariate coefficients at `a`: `atan(a)`, then `g_(k-1)/k` with
     /// `g` the Taylor coefficients of `atan' = 1/(1 + (a + d)^2)`, from
     /// `(q + 2 a d + d^2) g = 1`, `q = 1 + a^2 >= 1`: `g_0 = 1/q`, `g_1 = -2 a g_0 / q`,

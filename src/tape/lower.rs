@@ -628,6 +628,12 @@ impl<T: Target> Lowering<T> {
             "log" => self.push(U::Log(a)),
             "sqrt" => self.push(U::Root(a, 2)),
             "atan" => self.push(U::Atan(a)),
+            // |a| = sqrt(a^2) for real a (the canonical build refuses abs of an argument not
+            // shown real, so a problem that reaches the numeric routes has a real one).
+            "abs" => {
+                let a2 = self.mul(a, a);
+                self.push(U::Root(a2, 2))
+            }
             "sinh" | "cosh" | "tanh" => {
                 let p = self.push(U::Exp(a));
                 let na = self.neg(a);
