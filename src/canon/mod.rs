@@ -1492,7 +1492,7 @@ impl Store {
     /// it contains, in its terms, denominators and exponents, at any depth, is a symbol, `pi`,
     /// an `atan` of a form shown real or an arbitrary function of a form shown real (arbitrary
     /// functions are real-valued by convention), and its formal conjugate (coefficients and
-    /// exponents conjugated, [`Store::conj_formal`]) is the same form. With real kernels the
+    /// exponents conjugated, [`Store::conj_formal`]) minus itself cancels to zero. With real kernels the
     /// formal conjugate is the complex conjugate, so `f` equals its conjugate. Roots and
     /// logarithms are never shown real (a root of a negative number is not). `false` means
     /// "not shown", not "not real"; a limit reached also gives `false`.
@@ -1535,10 +1535,14 @@ impl Store {
         // Every kernel reached is real, so a formal conjugate is the complex conjugate.
         self_conjugate.sort();
         self_conjugate.dedup();
+        // `f - conj(f)` cancelling to no terms proves them equal (forms are not unique, so
+        // comparing ids alone would be too strict).
         for g in self_conjugate {
-            match self.conj_formal(g) {
-                Ok(c) if c == g => {}
-                _ => return false,
+            let Ok(c) = self.conj_formal(g) else {
+                return false;
+            };
+            if c != g && self.sub(g, c) != Ok(self.zero) {
+                return false;
             }
         }
         true
