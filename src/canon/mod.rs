@@ -6,8 +6,8 @@
 //!   at most one exponential `exp(E)`, `E` itself a canonical form.
 //! - `D` is a product of powers of normalised multi-term polynomials, kept *factored*, so that
 //!   common denominators need no gcd: N / D is zero exactly when N is.
-//! - Kernels are symbols, `pi`, principal roots `R^(1/q)`, logarithms and arbitrary functions
-//!   `F^(n)(arg)`, each with canonical arguments, interned once.
+//! - Kernels are symbols, `pi`, principal roots `R^(1/q)`, logarithms, principal arctangents
+//!   and arbitrary functions `F^(n)(arg)`, each with canonical arguments, interned once.
 //!
 //! Key design decision: trigonometric and hyperbolic functions are rewritten through
 //! exponentials (sin a = (e^(ia) - e^(-ia))/(2i)), and exponentials merge (e^a e^b = e^(a+b)),
@@ -18,7 +18,13 @@
 //!
 //! Soundness argument for "zero": each construction step replaces an expression by an equal
 //! one (where both are defined), so a numerator that cancels to no terms proves the expression
-//! zero wherever it is defined. Completeness is partial (kernels may be algebraically
+//! zero wherever it is defined. `atan(A)` is a kernel with no rewrite (only atan(0) = 0), so it
+//! adds no identity; its derivative A'/(1 + A^2) holds wherever atan is analytic (off its cuts
+//! on the imaginary axis). `abs(u)` is built as sqrt(u^2), equal to |u| for real u only, so it is
+//! built only when [`Store::is_real_shown`] proves u real (coordinates, parameters and the
+//! values of arbitrary functions being real by convention); a verdict on an expression with
+//! `abs` therefore holds at the real points where it is defined, with arbitrary functions
+//! real-valued. Completeness is partial (kernels may be algebraically
 //! dependent in ways not modelled, e.g. log(x^2) and log(x)); the zero tester then falls back
 //! to certified numerical witnesses or says "undecided".
 //!
