@@ -630,7 +630,7 @@ impl CInterval {
             return Some(CInterval::from_real(re));
         }
         let m = self.im.mag();
-        if !(m <= 0.5) {
+        if m.is_nan() || m > 0.5 {
             return None;
         }
         // (4/3) m, rounded up.
