@@ -18,8 +18,8 @@ pub enum Unknown {
 }
 
 /// The built-in functions of the expression language.
-pub const BUILTINS: [&str; 9] = [
-    "sin", "cos", "tan", "exp", "log", "sqrt", "sinh", "cosh", "tanh",
+pub const BUILTINS: [&str; 11] = [
+    "sin", "cos", "tan", "exp", "log", "sqrt", "sinh", "cosh", "tanh", "atan", "abs",
 ];
 
 /// The name table used to build forms.
@@ -240,6 +240,26 @@ impl Store {
                             )),
                         ));
                     }
+                    if name == "abs" {
+                        // abs(u) = sqrt(u^2), the principal root: an identity for real u only.
+                        if !self.is_real_shown(a) {
+                            return Err(BuildError::new(
+                                "`abs` of an argument not shown to be real".to_string(),
+                                arg.span,
+                                Some(
+                                    "abs(u) is read as sqrt(u^2), which is |u| only for real u; \
+                                     an argument is shown real when it is built from numbers, \
+                                     symbols, pi, + - * /, integer powers, exp, sin, cos, tan, \
+                                     sinh, cosh, tanh, atan and arbitrary functions (real-valued \
+                                     by convention) of such arguments; sqrt, log, abs and \
+                                     non-integer powers are not shown real"
+                                        .into(),
+                                ),
+                            ));
+                        }
+                        let sq = c(self.mul(a, a))?;
+                        return c(self.root(sq, 2));
+                    }
                     return c(match name.as_str() {
                         "sin" => self.sin(a),
                         "cos" => self.cos(a),
@@ -250,6 +270,7 @@ impl Store {
                         "sinh" => self.sinh(a),
                         "cosh" => self.cosh(a),
                         "tanh" => self.tanh(a),
+                        "atan" => self.atan(a),
                         _ => unreachable!("every builtin is listed"),
                     });
                 }

@@ -179,6 +179,20 @@ impl Store {
                     self.div(da, den)?
                 }
             }
+            Kernel::Atan(a) => {
+                // d(atan A) / atan A = A' / ((1 + A^2) atan A)
+                let da = self.diff(a, var)?;
+                if da == self.zero {
+                    self.zero
+                } else {
+                    let a2 = self.mul(a, a)?;
+                    let one = self.one;
+                    let q = self.add(one, a2)?;
+                    let kf = self.kernel_form(k);
+                    let den = self.mul(q, kf)?;
+                    self.div(da, den)?
+                }
+            }
             Kernel::Func { name, order, arg } => {
                 // d F^(n)(g) = F^(n+1)(g) g'
                 let dg = self.diff(arg, var)?;

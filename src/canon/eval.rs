@@ -155,6 +155,8 @@ impl Store {
                 l.exp()
             }
             Kernel::Log(a) => principal_log(self.eval_form(a, pt, memo)?),
+            // Certified only near the real axis (see `CInterval::atan`), else "cannot evaluate".
+            Kernel::Atan(a) => self.eval_form(a, pt, memo)?.atan(),
             Kernel::Func { name, order, arg } => {
                 let a = self.eval_form(arg, pt, memo)?;
                 let sample = pt.samples.get(&name)?.clone();

@@ -6,8 +6,8 @@
 //!   at most one exponential `exp(E)`, `E` itself a canonical form.
 //! - `D` is a product of powers of normalised multi-term polynomials, kept *factored*, so that
 //!   common denominators need no gcd: N / D is zero exactly when N is.
-//! - Kernels are symbols, `pi`, principal roots `R^(1/q)`, logarithms and arbitrary functions
-//!   `F^(n)(arg)`, each with canonical arguments, interned once.
+//! - Kernels are symbols, `pi`, principal roots `R^(1/q)`, logarithms, principal arctangents
+//!   and arbitrary functions `F^(n)(arg)`, each with canonical arguments, interned once.
 //!
 //! Key design decision: trigonometric and hyperbolic functions are rewritten through
 //! exponentials (sin a = (e^(ia) - e^(-ia))/(2i)), and exponentials merge (e^a e^b = e^(a+b)),
@@ -18,7 +18,13 @@
 //!
 //! Soundness argument for "zero": each construction step replaces an expression by an equal
 //! one (where both are defined), so a numerator that cancels to no terms proves the expression
-//! zero wherever it is defined. Completeness is partial (kernels may be algebraically
+//! zero wherever it is defined. `atan(A)` is a kernel with no rewrite (only atan(0) = 0), so it
+//! adds no identity; its derivative A'/(1 + A^2) holds wherever atan is analytic (off its cuts
+//! on the imaginary axis). `abs(u)` is built as sqrt(u^2), equal to |u| for real u only, so it is
+//! built only when [`Store::is_real_shown`] proves u real (coordinates, parameters and the
+//! values of arbitrary functions being real by convention); a verdict on an expression with
+//! `abs` therefore holds at the real points where it is defined, with arbitrary functions
+//! real-valued. Completeness is partial (kernels may be algebraically
 //! dependent in ways not modelled, e.g. log(x^2) and log(x)); the zero tester then falls back
 //! to certified numerical witnesses or says "undecided".
 //!
@@ -78,6 +84,9 @@ pub enum Kernel {
     },
     /// The principal natural logarithm.
     Log(Form),
+    /// The principal arctangent (real on the real line, cuts on the imaginary axis beyond
+    /// +-i); its argument is canonical.
+    Atan(Form),
     /// An arbitrary function of one argument, differentiated `order` times.
     Func {
         /// The function's name.
@@ -1289,6 +1298,15 @@ impl Store {
         Ok(self.kernel_form(k))
     }
 
+    /// The principal `atan(a)`: a kernel (no rewrite besides atan(0) = 0).
+    pub fn atan(&mut self, a: Form) -> CResult<Form> {
+        if a == self.zero {
+            return Ok(self.zero);
+        }
+        let k = self.intern_kernel(Kernel::Atan(a));
+        Ok(self.kernel_form(k))
+    }
+
     /// `(exp(i a), exp(-i a))`.
     fn exp_i_pair(&mut self, a: Form) -> CResult<(Form, Form)> {
         let ia = self.scale(a, &Coeff::i())?;
@@ -1397,7 +1415,7 @@ impl Store {
                         match self.kernel(*k) {
                             Kernel::Sym(_) | Kernel::Pi => {}
                             Kernel::Root { radicand, .. } => stack.push(*radicand),
-                            Kernel::Log(a) => stack.push(*a),
+                            Kernel::Log(a) | Kernel::Atan(a) => stack.push(*a),
                             Kernel::Func { name, arg, .. } => {
                                 out.push(name.clone());
                                 stack.push(*arg);
@@ -1421,9 +1439,10 @@ impl Store {
             Kernel::Sym(_) => Rc::from(vec![k]),
             // pi is listed so that an exponent's pi part can be found by differentiating.
             Kernel::Pi => Rc::from(vec![k]),
-            Kernel::Root { radicand: a, .. } | Kernel::Log(a) | Kernel::Func { arg: a, .. } => {
-                self.form_deps(a)
-            }
+            Kernel::Root { radicand: a, .. }
+            | Kernel::Log(a)
+            | Kernel::Atan(a)
+            | Kernel::Func { arg: a, .. } => self.form_deps(a),
         };
         self.deps_cache.insert(k, d.clone());
         d
@@ -1473,6 +1492,66 @@ impl Store {
         let d: Rc<[KernelId]> = Rc::from(out);
         self.form_deps_cache.insert(f, d.clone());
         d
+    }
+
+    /// Whether `f` is shown real-valued wherever it is defined (for real symbols): every kernel
+    /// it contains, in its terms, denominators and exponents, at any depth, is a symbol, `pi`,
+    /// an `atan` of a form shown real or an arbitrary function of a form shown real (arbitrary
+    /// functions are real-valued by convention), and its formal conjugate (coefficients and
+    /// exponents conjugated, [`Store::conj_formal`]) minus itself cancels to zero. With real kernels the
+    /// formal conjugate is the complex conjugate, so `f` equals its conjugate. Roots and
+    /// logarithms are never shown real (a root of a negative number is not). `false` means
+    /// "not shown", not "not real"; a limit reached also gives `false`.
+    pub fn is_real_shown(&mut self, f: Form) -> bool {
+        // Forms whose kernels must be real (all reached), and those that must also equal
+        // their formal conjugate (`f` and every kernel argument; an exponent need not be real).
+        let mut stack = vec![f];
+        let mut seen = rustc_hash::FxHashSet::default();
+        let mut self_conjugate = vec![f];
+        while let Some(g) = stack.pop() {
+            if !seen.insert(g) {
+                continue;
+            }
+            let r = self.rats[g.0 as usize].clone();
+            let mut polys = vec![r.num.clone()];
+            polys.extend(
+                r.den
+                    .iter()
+                    .map(|(fid, _)| self.factors[fid.0 as usize].clone()),
+            );
+            for p in polys {
+                for (m, _) in p {
+                    let mono = &self.monos[m.0 as usize];
+                    if let Some(e) = mono.exp {
+                        stack.push(e);
+                    }
+                    for (k, _) in &mono.pows {
+                        match self.kernel(*k) {
+                            Kernel::Sym(_) | Kernel::Pi => {}
+                            Kernel::Atan(a) | Kernel::Func { arg: a, .. } => {
+                                stack.push(*a);
+                                self_conjugate.push(*a);
+                            }
+                            Kernel::Root { .. } | Kernel::Log(_) => return false,
+                        }
+                    }
+                }
+            }
+        }
+        // Every kernel reached is real, so a formal conjugate is the complex conjugate.
+        self_conjugate.sort();
+        self_conjugate.dedup();
+        // `f - conj(f)` cancelling to no terms proves them equal (forms are not unique, so
+        // comparing ids alone would be too strict).
+        for g in self_conjugate {
+            let Ok(c) = self.conj_formal(g) else {
+                return false;
+            };
+            if c != g && self.sub(g, c) != Ok(self.zero) {
+                return false;
+            }
+        }
+        true
     }
 
     /// The formal conjugate of `f`: every coefficient and every exponent conjugated, kernels
@@ -1600,6 +1679,10 @@ impl Store {
             Kernel::Log(a) => {
                 let a = self.subst_form(a, subs, memo)?;
                 self.log(a)
+            }
+            Kernel::Atan(a) => {
+                let a = self.subst_form(a, subs, memo)?;
+                self.atan(a)
             }
             Kernel::Func { name, order, arg } => {
                 let a = self.subst_form(arg, subs, memo)?;

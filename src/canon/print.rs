@@ -159,6 +159,7 @@ impl Store {
             Kernel::Pi => "pi".into(),
             Kernel::Root { radicand, q } => format!("root{q}[{}]", self.form_key(radicand)),
             Kernel::Log(a) => format!("log[{}]", self.form_key(a)),
+            Kernel::Atan(a) => format!("atan[{}]", self.form_key(a)),
             Kernel::Func { name, order, arg } => {
                 format!("f:{name}:{order}[{}]", self.form_key(arg))
             }
@@ -466,6 +467,7 @@ impl Store {
                 Pretty::Root(Box::new(self.pretty(radicand)), q, radicand)
             }
             Kernel::Log(a) => Pretty::Call("log".into(), Box::new(self.pretty(a)), a),
+            Kernel::Atan(a) => Pretty::Call("atan".into(), Box::new(self.pretty(a)), a),
             Kernel::Func { name, order, arg } => Pretty::Call(
                 format!("{name}{}", "'".repeat(order as usize)),
                 Box::new(self.pretty(arg)),
@@ -1049,6 +1051,7 @@ fn latex(p: &Pretty, s: &mut String) {
                 "sin" | "cos" | "exp" | "log" => {
                     let _ = write!(s, "\\{base}");
                 }
+                "atan" => s.push_str("\\arctan"),
                 _ => s.push_str(&latex_name(&base)),
             }
             s.push_str(&"'".repeat(primes));

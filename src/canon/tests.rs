@@ -295,3 +295,68 @@ fn display_names_replace_what_the_file_defined() {
     let f = form(&mut st, "2*M/sqrt(x^2 + y^2 + z^2)");
     assert_eq!(st.to_display_text(f), st.to_text(f));
 }
+
+#[test]
+fn atan_kernel_identities_and_non_identities() {
+    // d/dx atan(x) = 1/(1 + x^2), with a chain rule inside.
+    check_identity("d_x(atan(x))", "1/(1 + x^2)");
+    check_identity("d_x(atan(x^2 + y))", "2*x/(1 + (x^2 + y)^2)");
+    check_identity("atan(x) - atan(x)", "0");
+    check_identity("atan(0)", "0");
+    // atan(x) + atan(1/x) = pi/2 holds only for x > 0: never proved, refuted at x < 0.
+    check_not_identity("atan(x) + atan(1/x)", "pi/2");
+    // atan(-x) = -atan(x) is true but not a rewrite the kernel applies: it must not be
+    // refuted (the zero test then stays undecided or proves nothing false).
+    assert!(!matches!(
+        verdict("atan(-x)", "-atan(x)"),
+        Verdict::Nonzero(_)
+    ));
+    check_text("atan(x)", "atan(x)");
+}
+
+#[test]
+fn atan_enclosure_is_certified_near_the_real_axis_only() {
+    use crate::interval::{CInterval, Interval};
+    let z = CInterval::new(
+        Interval::point(0.3).unwrap(),
+        Interval::new(-0.2, 0.1).unwrap(),
+    );
+    let w = z.atan().unwrap();
+    // mpmath 1.x: atan(0.3 + 0.1j) = 0.294001301773784 + 0.0919311950313293j,
+    // atan(0.3 - 0.2j) = 0.301874666698718 - 0.184994620061011j (both points in the box).
+    assert!(w.re.contains(0.294_001_301_773_784) && w.im.contains(0.091_931_195_031_329_3));
+    assert!(w.re.contains(0.301_874_666_698_718) && w.im.contains(-0.184_994_620_061_011));
+    let far = CInterval::new(
+        Interval::point(0.0).unwrap(),
+        Interval::new(0.0, 0.9).unwrap(),
+    );
+    assert!(far.atan().is_none());
+}
+
+#[test]
+fn abs_is_sqrt_of_square_for_real_arguments_only() {
+    check_identity("abs(x)^2", "x^2");
+    check_identity("abs(sin(x))^2", "sin(x)^2");
+    check_identity("d_x(abs(x))", "x/abs(x)");
+    check_not_identity("abs(x)", "x");
+    check_not_identity("abs(x)", "-x");
+    let mut st = Store::new();
+    for bad in ["abs(sqrt(x))", "abs(log(x))", "abs(x^(1/2))", "abs(abs(x))"] {
+        let e = crate::parse::parse(bad).unwrap();
+        assert!(
+            st.build(&e, &Names::free()).is_err(),
+            "{bad} should be refused"
+        );
+    }
+    for good in [
+        "abs(exp(x) + sin(y)/cos(x))",
+        "abs(atan(x) - F(x*y))",
+        "abs(tanh(x)^-3)",
+    ] {
+        let e = crate::parse::parse(good).unwrap();
+        assert!(
+            st.build(&e, &Names::free()).is_ok(),
+            "{good} should be accepted"
+        );
+    }
+}

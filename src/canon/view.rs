@@ -296,6 +296,10 @@ mod tests {
                 let a = rebuild(store, a);
                 store.log(a).unwrap()
             }
+            Kernel::Atan(a) => {
+                let a = rebuild(store, a);
+                store.atan(a).unwrap()
+            }
             Kernel::Func { name, order, arg } => {
                 let a = rebuild(store, arg);
                 store.func(&name, order, a)

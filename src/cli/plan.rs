@@ -211,7 +211,7 @@ impl ProblemOutput {
 }
 
 /// The names that the expression commands read as arbitrary functions in `forms` (a name
-/// applied to an argument that is not a built-in function, `atan(x)` or `F(t - r)`), sorted.
+/// applied to an argument that is not a built-in function, `erf(x)` or `F(t - r)`), sorted.
 pub fn arbitrary_functions(
     st: &mut crate::canon::Store,
     forms: &[crate::canon::Form],

@@ -21,6 +21,8 @@ pub enum Fun {
     Exp,
     /// The natural logarithm.
     Log,
+    /// The principal arctangent.
+    Atan,
 }
 
 /// One node.
@@ -202,6 +204,7 @@ impl Dag {
                     Fun::Cos => a.cos(),
                     Fun::Exp => a.exp(),
                     Fun::Log => a.ln(),
+                    Fun::Atan => a.atan(),
                 }
             }
             Op::Pow(b, n) => self.eval(*b, vars, memo)?.powi(*n as i32),

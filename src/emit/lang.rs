@@ -56,8 +56,8 @@ impl Printed {
 
 /// How a language spells what the printer needs.
 pub(crate) trait Syntax {
-    /// The names of the built-in functions: sin, cos, exp, log and the square root.
-    fn functions(&self) -> &'static [&'static str; 5];
+    /// The names of the built-in functions: sin, cos, exp, log, the square root and atan.
+    fn functions(&self) -> &'static [&'static str; 6];
     /// A non-negative finite number (shortest round-trip digits unless the language needs
     /// more).
     fn num(&self, v: f64) -> String {
@@ -74,6 +74,7 @@ pub(crate) trait Syntax {
             Fun::Cos => 1,
             Fun::Exp => 2,
             Fun::Log => 3,
+            Fun::Atan => 5,
         };
         self.functions()[k]
     }
@@ -112,10 +113,10 @@ fn star_star(base: &Printed, exponent: &str) -> Printed {
 }
 
 /// The functions of C's `<math.h>` and Fortran's intrinsics.
-const PLAIN: [&str; 5] = ["sin", "cos", "exp", "log", "sqrt"];
+const PLAIN: [&str; 6] = ["sin", "cos", "exp", "log", "sqrt", "atan"];
 
 impl Syntax for C {
-    fn functions(&self) -> &'static [&'static str; 5] {
+    fn functions(&self) -> &'static [&'static str; 6] {
         &PLAIN
     }
     fn pow(&self, base: &Printed, n: u32) -> Printed {
@@ -127,8 +128,15 @@ impl Syntax for C {
 }
 
 impl Syntax for Python {
-    fn functions(&self) -> &'static [&'static str; 5] {
-        &["np.sin", "np.cos", "np.exp", "np.log", "np.sqrt"]
+    fn functions(&self) -> &'static [&'static str; 6] {
+        &[
+            "np.sin",
+            "np.cos",
+            "np.exp",
+            "np.log",
+            "np.sqrt",
+            "np.arctan",
+        ]
     }
     fn pow(&self, base: &Printed, n: u32) -> Printed {
         star_star(base, &n.to_string())
@@ -139,7 +147,7 @@ impl Syntax for Python {
 }
 
 impl Syntax for Fortran {
-    fn functions(&self) -> &'static [&'static str; 5] {
+    fn functions(&self) -> &'static [&'static str; 6] {
         &PLAIN
     }
     fn num(&self, v: f64) -> String {
@@ -154,8 +162,15 @@ impl Syntax for Fortran {
 }
 
 impl Syntax for Rust {
-    fn functions(&self) -> &'static [&'static str; 5] {
-        &["f64::sin", "f64::cos", "f64::exp", "f64::ln", "f64::sqrt"]
+    fn functions(&self) -> &'static [&'static str; 6] {
+        &[
+            "f64::sin",
+            "f64::cos",
+            "f64::exp",
+            "f64::ln",
+            "f64::sqrt",
+            "f64::atan",
+        ]
     }
     fn pow(&self, base: &Printed, n: u32) -> Printed {
         Printed::atom(format!("f64::powi({}, {n})", base.full()))

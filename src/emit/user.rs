@@ -116,6 +116,9 @@ impl Target for EmitTarget {
     fn cos(&mut self, a: Id) -> Id {
         self.dag.node(Op::Call(Fun::Cos, a))
     }
+    fn atan(&mut self, a: Id) -> Id {
+        self.dag.node(Op::Call(Fun::Atan, a))
+    }
     fn call(&mut self, f: &str, k: u32, arg: Id) -> Option<Id> {
         if self.inline {
             return None;

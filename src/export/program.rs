@@ -50,6 +50,7 @@ enum Instr {
     Log(u32),
     Sin(u32),
     Cos(u32),
+    Atan(u32),
 }
 
 impl Instr {
@@ -66,7 +67,8 @@ impl Instr {
             | Instr::Exp(a)
             | Instr::Log(a)
             | Instr::Sin(a)
-            | Instr::Cos(a) => (Some(a), None),
+            | Instr::Cos(a)
+            | Instr::Atan(a) => (Some(a), None),
         };
         a.into_iter().chain(b)
     }
@@ -95,6 +97,7 @@ fn key(i: &Instr) -> Key {
         Instr::Log(a) => Key::Op(8, a, 0),
         Instr::Sin(a) => Key::Op(9, a, 0),
         Instr::Cos(a) => Key::Op(10, a, 0),
+        Instr::Atan(a) => Key::Op(11, a, 0),
     }
 }
 
@@ -211,6 +214,7 @@ impl IntervalProgram {
                 Instr::Log(a) => r(a).and_then(Scalar::ln),
                 Instr::Sin(a) => r(a).and_then(Scalar::sin),
                 Instr::Cos(a) => r(a).and_then(Scalar::cos),
+                Instr::Atan(a) => r(a).and_then(Scalar::atan),
             };
             if let (Some(m), Some(k)) = (memo.as_deref_mut(), key) {
                 m.insert(k, v.clone());
@@ -545,6 +549,7 @@ fn apply(ins: Instr, r: impl Fn(u32) -> Option<Interval>) -> Option<Interval> {
         Instr::Log(a) => r(a).and_then(Interval::ln),
         Instr::Sin(a) => r(a).map(Interval::sin),
         Instr::Cos(a) => r(a).map(Interval::cos),
+        Instr::Atan(a) => r(a).map(Interval::atan),
     }
 }
 
@@ -630,6 +635,7 @@ impl Target for IntervalProgram {
         log(a) => Log,
         sin(a) => Sin,
         cos(a) => Cos,
+        atan(a) => Atan,
     }
 }
 

@@ -56,6 +56,8 @@ fn builtin(name: &str, x: f64) -> Option<Result<f64, EvalError>> {
         "sinh" => Ok(x.sinh()),
         "cosh" => Ok(x.cosh()),
         "tanh" => Ok(x.tanh()),
+        "atan" => Ok(x.atan()),
+        "abs" => Ok(x.abs()),
         _ => return None,
     };
     Some(value.and_then(|v| finite(v, || format!("{name}({x})"))))

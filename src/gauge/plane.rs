@@ -464,7 +464,7 @@ impl PlaneWave {
                     "`{text}` is not of the supported form"
                 )));
             }
-            Kernel::Log(a) => (a, None),
+            Kernel::Log(a) | Kernel::Atan(a) => (a, None),
             Kernel::Func { name, order, arg } => (arg, Some((name, order))),
         };
         let Some(s) = self.slope(store, arg)? else {
@@ -476,6 +476,8 @@ impl PlaneWave {
             None => {
                 let n = if matches!(store.kernel(k), Kernel::Log(_)) {
                     "log"
+                } else if matches!(store.kernel(k), Kernel::Atan(_)) {
+                    "atan"
                 } else {
                     "sqrt"
                 };

@@ -615,6 +615,35 @@ impl CInterval {
         })
     }
 
+    /// Principal arctangent; `None` unless `|im| <= 1/2` everywhere in the box.
+    ///
+    /// Certification. On the strip `|Im z| <= 1/2` the principal `atan` is analytic (its
+    /// branch cuts are the imaginary half-lines `|Im z| >= 1`, `Re z = 0`) with
+    /// `|atan'(z)| = 1/|1 + z^2|`; for `z = x + iy`, `Re(1 + z^2) = 1 + x^2 - y^2 >= 3/4`, so
+    /// `|atan'| <= 4/3` there. Along the vertical segment from `x` to `x + iy` (inside the strip)
+    /// `|atan(x + iy) - atan(x)| <= (4/3)|y|`, and `atan(x)` is real: the real part lies in
+    /// `atan(re) ± (4/3) max|y|` and the imaginary part in `± (4/3) max|y|`. A real box
+    /// (`im` exactly 0) gives the real enclosure with an exact zero imaginary part.
+    pub fn atan(self) -> Option<CInterval> {
+        let re = self.re.atan();
+        if self.im == Interval::ZERO {
+            return Some(CInterval::from_real(re));
+        }
+        let m = self.im.mag();
+        if m.is_nan() || m > 0.5 {
+            return None;
+        }
+        // (4/3) m, rounded up.
+        let w = Interval::point(m)?
+            .mul(Interval::point(4.0)?.div(Interval::point(3.0)?)?)?
+            .hi();
+        let spread = Interval::new(-w, w)?;
+        Some(CInterval {
+            re: re.add(spread)?,
+            im: spread,
+        })
+    }
+
     /// Principal logarithm `ln|z| + i atan(im/re)`; `None` unless the real part is strictly
     /// positive (so the branch cut is far away and `arg z = atan(im/re)`).
     pub fn log(self) -> Option<CInterval> {

@@ -37,8 +37,8 @@ use rustc_hash::FxHashMap;
 use std::rc::Rc;
 
 /// The built-in functions, as the parser's users know them.
-pub const BUILTINS: [&str; 9] = [
-    "sin", "cos", "tan", "exp", "log", "sqrt", "sinh", "cosh", "tanh",
+pub const BUILTINS: [&str; 11] = [
+    "sin", "cos", "tan", "exp", "log", "sqrt", "sinh", "cosh", "tanh", "atan", "abs",
 ];
 
 /// The variable of function samples.
@@ -504,6 +504,8 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
             "sinh" => a.sinh(c),
             "cosh" => a.cosh(c),
             "tanh" => a.tanh(c),
+            "atan" => a.atan(c),
+            "abs" => a.abs(),
             _ => None,
         }
     }

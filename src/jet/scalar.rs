@@ -64,6 +64,21 @@ pub trait Scalar: Clone + fmt::Debug {
     fn sin(&self) -> Option<Self>;
     /// Cosine.
     fn cos(&self) -> Option<Self>;
+    /// Arctangent (real, values in (-pi/2, pi/2)).
+    fn atan(&self) -> Option<Self>;
+    /// Absolute value; by default only where the sign is certified (or the value is exactly
+    /// 0), else `None`.
+    fn abs(&self) -> Option<Self> {
+        if self.is_exact_zero() {
+            Some(Self::zero())
+        } else if self.is_positive() {
+            Some(self.clone())
+        } else if self.neg().is_positive() {
+            Some(self.neg())
+        } else {
+            None
+        }
+    }
 
     /// Whether 0 may be the enclosed value.
     fn contains_zero(&self) -> bool;
@@ -179,6 +194,12 @@ impl Scalar for Interval {
     }
     fn ln(&self) -> Option<Self> {
         Interval::ln(*self)
+    }
+    fn atan(&self) -> Option<Self> {
+        Some(Interval::atan(*self))
+    }
+    fn abs(&self) -> Option<Self> {
+        Some(Interval::abs(*self))
     }
     fn sin(&self) -> Option<Self> {
         Some(Interval::sin(*self))
@@ -478,6 +499,9 @@ impl Scalar for crate::interval::Ball {
     }
     fn ln(&self) -> Option<Self> {
         crate::interval::Ball::ln(self)
+    }
+    fn atan(&self) -> Option<Self> {
+        Some(crate::interval::Ball::atan(self))
     }
     fn sin(&self) -> Option<Self> {
         Some(crate::interval::Ball::sin(self))

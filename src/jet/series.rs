@@ -800,6 +800,49 @@ impl<S: Scalar> Jet<S> {
         self.by_coeffs(|n| Self::riccati(t0, -1, n, ctx))
     }
 
+    /// Absolute value (of a real jet): `self` or `-self` when the value is certified nonzero
+    /// (the sign is constant near the point); at order 0 (or for a constant jet) the
+    /// enclosure of `|value|`; `None` when the value may be 0 and derivatives are wanted.
+    pub fn abs(&self) -> Option<Jet<S>> {
+        let v = &self.c[0];
+        if v.is_positive() {
+            return Some(self.clone());
+        }
+        if v.neg().is_positive() {
+            return Some(self.neg());
+        }
+        if self.constant || self.order == 0 {
+            let m = v.abs()?;
+            return Some(Jet::constant(&self.space, self.order, m));
+        }
+        None
+    }
+
+    /// Arctangent (real). The univariate coefficients at `a`: `atan(a)`, then `g_(k-1)/k` with
+    /// `g` the Taylor coefficients of `atan' = 1/(1 + (a + d)^2)`, from
+    /// `(q + 2 a d + d^2) g = 1`, `q = 1 + a^2 >= 1`: `g_0 = 1/q`, `g_1 = -2 a g_0 / q`,
+    /// `g_k = -(2 a g_(k-1) + g_(k-2)) / q`; every step is an enclosure operation.
+    pub fn atan(&self, ctx: &S::Ctx) -> Option<Jet<S>> {
+        let a = self.c[0].clone();
+        self.by_coeffs(|n| {
+            let q = S::one().add(&a.mul(&a)?)?;
+            let two_a = a.add(&a)?;
+            let mut g: Vec<S> = vec![q.recip()?];
+            for k in 1..n as usize {
+                let mut s = two_a.mul(&g[k - 1])?;
+                if k >= 2 {
+                    s = s.add(&g[k - 2])?;
+                }
+                g.push(s.neg().div(&q)?);
+            }
+            let mut out = vec![a.atan()?];
+            for (k, gk) in g.iter().enumerate().take(n as usize) {
+                out.push(gk.div(&S::from_i64(k as i64 + 1, ctx)?)?);
+            }
+            Some(out)
+        })
+    }
+
     /// General power `self^e = exp(e ln self)`; `None` unless the base is certified positive.
     pub fn pow(&self, e: &Jet<S>, ctx: &S::Ctx) -> Option<Jet<S>> {
         self.ln(ctx)?.mul(e)?.exp(ctx)

@@ -396,6 +396,20 @@ impl<'s> Compiler<'s> {
                 let x = self.form_in(a, scope)?;
                 self.builder.log(x)
             }
+            Kernel::Atan(a) => {
+                // atan(x) = (i/2)(log(1 - i x) - log(1 + i x)), the principal branches.
+                let x = self.form_in(a, scope)?;
+                let one = self.builder.real(1.0);
+                let i = self.builder.constant(C64::new(0.0, 1.0));
+                let ix = self.builder.mul(i, x);
+                let m = self.builder.sub(one, ix);
+                let p = self.builder.add(one, ix);
+                let lm = self.builder.log(m);
+                let lp = self.builder.log(p);
+                let d = self.builder.sub(lm, lp);
+                let half_i = self.builder.constant(C64::new(0.0, 0.5));
+                self.builder.mul(half_i, d)
+            }
             Kernel::Func { name, order, arg } => {
                 let a = self.form_in(arg, scope)?;
                 self.call(&name, order, a, scope)?

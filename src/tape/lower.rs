@@ -51,6 +51,8 @@ enum U {
     Log(u32),
     Sin(u32),
     Cos(u32),
+    /// The principal arctangent.
+    Atan(u32),
     /// An arbitrary function (by name index) differentiated `order` times, at the argument.
     Func(u32, u32, u32),
 }
@@ -112,6 +114,8 @@ pub trait Target {
     fn sin(&mut self, a: Self::Node) -> Self::Node;
     /// `cos(a)`.
     fn cos(&mut self, a: Self::Node) -> Self::Node;
+    /// The principal `atan(a)`.
+    fn atan(&mut self, a: Self::Node) -> Self::Node;
     /// Derivative `k` of the arbitrary function `f` at `arg` as a call the target keeps
     /// (code calling a user-supplied function), or `None` to evaluate `f`'s sample instead.
     fn call(&mut self, _f: &str, _k: u32, _arg: Self::Node) -> Option<Self::Node> {
@@ -179,6 +183,21 @@ impl Target for TapeTarget {
     }
     fn cos(&mut self, a: Node) -> Node {
         self.builder.cos(a)
+    }
+    /// `atan(a) = (i/2) (log(1 - i a) - log(1 + i a))`, the principal branches (the standard
+    /// definition of the principal arctangent, an identity off its cuts `a = i y, |y| >= 1`;
+    /// for real `a` both logarithms have real part 1 > 0 and the result is real).
+    fn atan(&mut self, a: Node) -> Node {
+        let one = self.builder.real(1.0);
+        let i = self.builder.constant(C64::new(0.0, 1.0));
+        let ia = self.builder.mul(i, a);
+        let m = self.builder.sub(one, ia);
+        let p = self.builder.add(one, ia);
+        let lm = self.builder.log(m);
+        let lp = self.builder.log(p);
+        let d = self.builder.sub(lm, lp);
+        let half_i = self.builder.constant(C64::new(0.0, 0.5));
+        self.builder.mul(half_i, d)
     }
 }
 
@@ -608,6 +627,13 @@ impl<T: Target> Lowering<T> {
             "exp" => self.push(U::Exp(a)),
             "log" => self.push(U::Log(a)),
             "sqrt" => self.push(U::Root(a, 2)),
+            "atan" => self.push(U::Atan(a)),
+            // |a| = sqrt(a^2) for real a (the canonical build refuses abs of an argument not
+            // shown real, so a problem that reaches the numeric routes has a real one).
+            "abs" => {
+                let a2 = self.mul(a, a);
+                self.push(U::Root(a2, 2))
+            }
             "sinh" | "cosh" | "tanh" => {
                 let p = self.push(U::Exp(a));
                 let na = self.neg(a);
@@ -692,6 +718,14 @@ impl<T: Target> Lowering<T> {
                 let da = self.diff(a, s)?;
                 self.div(da, a)
             }
+            U::Atan(a) => {
+                // d atan(a) = a' / (1 + a^2)
+                let da = self.diff(a, s)?;
+                let a2 = self.mul(a, a);
+                let one = self.one;
+                let q = self.add(one, a2);
+                self.div(da, q)
+            }
             U::Sin(a) => {
                 let da = self.diff(a, s)?;
                 let c = self.push(U::Cos(a));
@@ -772,6 +806,10 @@ impl<T: Target> Lowering<T> {
             U::Log(a) => {
                 let x = self.emit(a, scope, memo)?;
                 self.target.log(x)
+            }
+            U::Atan(a) => {
+                let x = self.emit(a, scope, memo)?;
+                self.target.atan(x)
             }
             U::Sin(a) => {
                 let x = self.emit(a, scope, memo)?;

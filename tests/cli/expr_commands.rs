@@ -211,14 +211,14 @@ fn diff_needs_a_variable_name() {
 }
 
 /// A name applied to an argument that is not a built-in function is said to be read as an
-/// arbitrary function (text and JSON), so that a verdict about `atan(x)` is not taken for one
-/// about the arctangent; built-ins alone give no note.
+/// arbitrary function (text and JSON), so that a verdict about `erf(x)` is not taken for one
+/// about the error function; built-ins alone give no note (`atan` and `abs` are built in).
 #[test]
 fn issue_14_unknown_function_names_are_reported() {
-    let (out, _, code) = lingrav(&["zero", "atan(x)^2 - 1"]);
+    let (out, _, code) = lingrav(&["zero", "erf(x)^2 - 1"]);
     assert_eq!(code, 1, "{out}");
     assert!(
-        out.contains("note: `atan` is not a built-in function; read as an arbitrary function"),
+        out.contains("note: `erf` is not a built-in function; read as an arbitrary function"),
         "{out}"
     );
     let (out, _, code) = lingrav(&["simplify", "--format", "json", "G(x)*H(y)"]);
@@ -232,4 +232,36 @@ fn issue_14_unknown_function_names_are_reported() {
     let (out, _, code) = lingrav(&["diff", "sin(x)*x", "x"]);
     assert_eq!(code, 0, "{out}");
     assert!(!out.contains("note:"), "{out}");
+}
+
+#[test]
+fn atan_and_abs_are_known_functions() {
+    let table: &[(&[&str], i32, &str)] = &[
+        (&["d_x(atan(x)) - 1/(1 + x^2)"], 0, "zero"),
+        // True only for x > 0: refuted at a negative x, never proved.
+        (&["atan(x) + atan(1/x) - pi/2"], 1, "nonzero"),
+        (&["abs(x)^2 - x^2"], 0, "zero"),
+        (&["abs(x)", "x"], 1, "nonzero"),
+        (
+            &["d_x(abs(sin(x)))", "sin(x)*cos(x)/abs(sin(x))"],
+            0,
+            "zero",
+        ),
+    ];
+    for (args, code, verdict) in table {
+        check_zero(args, *code, verdict);
+    }
+    // No "arbitrary function" note for atan or abs.
+    let out = lingrav(&["zero", "atan(x) - atan(x) + abs(y) - abs(y)"]);
+    assert!(
+        !out.0.contains("arbitrary") && !out.1.contains("arbitrary"),
+        "{out:?}"
+    );
+    // abs of an argument not shown real: an input error at the argument.
+    let out = lingrav(&["zero", "abs(sqrt(x))"]);
+    assert_eq!(out.2, 2, "{out:?}");
+    assert!(
+        out.1.contains("not shown to be real") && out.1.contains("1:5"),
+        "{out:?}"
+    );
 }

@@ -569,6 +569,12 @@ impl<'a> Expander<'a> {
                     let a = self.expand(store, arg)?;
                     self.log(store, &a)?
                 }
+                Kernel::Atan(_) => {
+                    return Err(Stop::Undecided(
+                        "an arctangent of a quantity that depends on r (not expanded in 1/r)"
+                            .into(),
+                    ));
+                }
                 Kernel::Func { name, order, arg } => {
                     let a = self.expand(store, arg)?;
                     self.func(store, &name, order, &a)?
