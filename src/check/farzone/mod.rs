@@ -128,7 +128,12 @@ pub(crate) fn check(problem: &mut Problem, order: u32) -> (Vec<ClaimReport>, boo
         let out = plan
             .claims
             .iter()
-            .map(|&c| ClaimReport::new(c, Status::Undecided, format!("undecided: {why}"), vec![]))
+            .map(|&c| {
+                let mut r =
+                    ClaimReport::new(c, Status::Undecided, format!("undecided: {why}"), vec![]);
+                r.far_zone = Some(order);
+                r
+            })
             .collect();
         return (out, plan.has_claims);
     }
@@ -173,7 +178,9 @@ fn exact(
             }
             Err(e) => {
                 found.push(Vec::new());
-                super::limit_report(c, e)
+                let mut r = super::limit_report(c, e);
+                r.far_zone = Some(order);
+                r
             }
         })
         .collect();
