@@ -1389,9 +1389,11 @@ impl Store {
         v
     }
 
-    /// The names of the arbitrary functions that `f` uses, sorted.
-    pub fn functions_used(&mut self, f: Form) -> Vec<Rc<str>> {
+    /// Every kernel `f` contains, in its terms, denominators and exponents, and inside the
+    /// arguments of those kernels, at any depth; each once, in the order first reached.
+    fn reachable_kernels(&mut self, f: Form) -> Vec<KernelId> {
         let mut out = Vec::new();
+        let mut kernels_seen = rustc_hash::FxHashSet::default();
         let mut stack = vec![f];
         let mut seen = rustc_hash::FxHashSet::default();
         while let Some(g) = stack.pop() {
@@ -1399,32 +1401,40 @@ impl Store {
                 continue;
             }
             let r = self.rats[g.0 as usize].clone();
-            let mut polys = vec![r.num.clone()];
-            polys.extend(
-                r.den
-                    .iter()
-                    .map(|(fid, _)| self.factors[fid.0 as usize].clone()),
-            );
-            for p in polys {
-                for (m, _) in p {
-                    let mono = &self.monos[m.0 as usize];
-                    if let Some(e) = mono.exp {
-                        stack.push(e);
+            let dens = r.den.iter().map(|(fid, _)| &self.factors[fid.0 as usize]);
+            for (m, _) in r.num.iter().chain(dens.flatten()) {
+                let mono = &self.monos[m.0 as usize];
+                if let Some(e) = mono.exp {
+                    stack.push(e);
+                }
+                for &(k, _) in &mono.pows {
+                    if !kernels_seen.insert(k) {
+                        continue;
                     }
-                    for (k, _) in &mono.pows {
-                        match self.kernel(*k) {
-                            Kernel::Sym(_) | Kernel::Pi => {}
-                            Kernel::Root { radicand, .. } => stack.push(*radicand),
-                            Kernel::Log(a) | Kernel::Atan(a) => stack.push(*a),
-                            Kernel::Func { name, arg, .. } => {
-                                out.push(name.clone());
-                                stack.push(*arg);
-                            }
-                        }
+                    out.push(k);
+                    match self.kernel(k) {
+                        Kernel::Sym(_) | Kernel::Pi => {}
+                        Kernel::Root { radicand: a, .. }
+                        | Kernel::Log(a)
+                        | Kernel::Atan(a)
+                        | Kernel::Func { arg: a, .. } => stack.push(*a),
                     }
                 }
             }
         }
+        out
+    }
+
+    /// The names of the arbitrary functions that `f` uses, sorted.
+    pub fn functions_used(&mut self, f: Form) -> Vec<Rc<str>> {
+        let mut out: Vec<Rc<str>> = self
+            .reachable_kernels(f)
+            .into_iter()
+            .filter_map(|k| match self.kernel(k) {
+                Kernel::Func { name, .. } => Some(name.clone()),
+                _ => None,
+            })
+            .collect();
         out.sort();
         out.dedup();
         out
@@ -1503,39 +1513,14 @@ impl Store {
     /// logarithms are never shown real (a root of a negative number is not). `false` means
     /// "not shown", not "not real"; a limit reached also gives `false`.
     pub fn is_real_shown(&mut self, f: Form) -> bool {
-        // Forms whose kernels must be real (all reached), and those that must also equal
-        // their formal conjugate (`f` and every kernel argument; an exponent need not be real).
-        let mut stack = vec![f];
-        let mut seen = rustc_hash::FxHashSet::default();
+        // Every kernel reached must be real; `f` and every kernel argument must also equal
+        // its formal conjugate (an exponent need not be real).
         let mut self_conjugate = vec![f];
-        while let Some(g) = stack.pop() {
-            if !seen.insert(g) {
-                continue;
-            }
-            let r = self.rats[g.0 as usize].clone();
-            let mut polys = vec![r.num.clone()];
-            polys.extend(
-                r.den
-                    .iter()
-                    .map(|(fid, _)| self.factors[fid.0 as usize].clone()),
-            );
-            for p in polys {
-                for (m, _) in p {
-                    let mono = &self.monos[m.0 as usize];
-                    if let Some(e) = mono.exp {
-                        stack.push(e);
-                    }
-                    for (k, _) in &mono.pows {
-                        match self.kernel(*k) {
-                            Kernel::Sym(_) | Kernel::Pi => {}
-                            Kernel::Atan(a) | Kernel::Func { arg: a, .. } => {
-                                stack.push(*a);
-                                self_conjugate.push(*a);
-                            }
-                            Kernel::Root { .. } | Kernel::Log(_) => return false,
-                        }
-                    }
-                }
+        for k in self.reachable_kernels(f) {
+            match self.kernel(k) {
+                Kernel::Sym(_) | Kernel::Pi => {}
+                Kernel::Atan(a) | Kernel::Func { arg: a, .. } => self_conjugate.push(*a),
+                Kernel::Root { .. } | Kernel::Log(_) => return false,
             }
         }
         // Every kernel reached is real, so a formal conjugate is the complex conjugate.
