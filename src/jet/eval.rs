@@ -75,6 +75,8 @@ pub enum EvalError {
 #[derive(Clone, Debug, Default)]
 pub struct Scope {
     /// Active variables (jet variables), in order. Names differentiated by `d_` are added.
+    /// When every root is wanted at order 0, these are constants at the point unless a
+    /// `d_` differentiates by them (see [`Program::of_scope`]).
     pub vars: Vec<String>,
     /// Names that are constants with a value at each point.
     pub parameters: Vec<String>,
@@ -135,7 +137,30 @@ impl Program {
     /// # Errors
     ///
     /// As [`Program::new`].
-    pub fn of_scope(mut scope: Scope, roots: Vec<(Expr, u32)>) -> Result<Program, EvalError> {
+    pub fn of_scope(scope: Scope, roots: Vec<(Expr, u32)>) -> Result<Program, EvalError> {
+        Program::planned(scope, roots, true)
+    }
+
+    /// [`Program::of_scope`]; `prune`: let variables nothing differentiates by be constants
+    /// when every root is wanted at order 0 (not for a sample, whose variable is read by its
+    /// position).
+    fn planned(
+        mut scope: Scope,
+        roots: Vec<(Expr, u32)>,
+        prune: bool,
+    ) -> Result<Program, EvalError> {
+        // When every root is wanted as a value (order 0), a variable enters the jets only
+        // if something differentiates by it (`d_t(...)`, added below); the others are
+        // constants at the point, exactly as parameters are. A jet in one variable instead of
+        // four is the same value with a fraction of the coefficients.
+        if prune && roots.iter().all(|(_, order)| *order == 0) {
+            let vars = std::mem::take(&mut scope.vars);
+            for v in vars {
+                if !scope.parameters.contains(&v) {
+                    scope.parameters.push(v);
+                }
+            }
+        }
         let define_index: FxHashMap<String, usize> = scope
             .defines
             .iter()
@@ -195,7 +220,7 @@ impl Program {
                 defines: Vec::new(),
                 functions: Vec::new(),
             };
-            let program = Program::new(&sub, vec![(sample.clone(), order)])?;
+            let program = Program::planned(sub, vec![(sample.clone(), order)], false)?;
             let u_powers = (0..=order)
                 .map(|k| {
                     let mut exps = vec![0u8; program.vars.len()];
