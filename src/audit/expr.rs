@@ -779,17 +779,17 @@ impl FileQuantities {
     /// Plans the files' jets for the quantities: `files` are the problems with the extra
     /// texts each needs.
     fn plan(
-        files: &[(&Problem, Vec<(String, String)>)],
+        files: &[(&Problem, &[(String, String)], Vec<(String, String)>)],
         quantities: Vec<Quantity>,
     ) -> Result<FileQuantities, AuditError> {
         let mut planned = Vec::new();
-        for (i, (p, extras)) in files.iter().enumerate() {
+        for (i, (p, defines, extras)) in files.iter().enumerate() {
             let parts: Vec<&Part> = quantities
                 .iter()
                 .flat_map(|q| q.parts.iter().filter(|(f, ..)| *f == i).map(|(_, _, p)| p))
                 .collect();
             planned.push(File {
-                audit: Audit::fields(p, h_order(&parts), extras)?,
+                audit: Audit::fields_with(p, h_order(&parts), defines, extras)?,
                 parameters: p.parameters.iter().map(|(n, _)| n.clone()).collect(),
             });
         }
@@ -815,7 +815,7 @@ impl FileQuantities {
                 });
             }
         }
-        Self::plan(&[(problem, Vec::new())], quantities)
+        Self::plan(&[(problem, &[], Vec::new())], quantities)
     }
 
     /// The 20 independent linearized Riemann components of `a` minus those of `b`, named
@@ -837,7 +837,7 @@ impl FileQuantities {
                     parts: vec![(0, 1.0, Part::Curved(p)), (1, -1.0, Part::Curved(p))],
                 });
             }
-            return Self::plan(&[(a, Vec::new()), (b, Vec::new())], quantities);
+            return Self::plan(&[(a, &[], Vec::new()), (b, &[], Vec::new())], quantities);
         }
         for p in Kind::PureGauge.parts() {
             let name = p.name();
@@ -853,7 +853,7 @@ impl FileQuantities {
                 ],
             });
         }
-        Self::plan(&[(a, Vec::new()), (b, Vec::new())], quantities)
+        Self::plan(&[(a, &[], Vec::new()), (b, &[], Vec::new())], quantities)
     }
 
     /// The values of `texts` (`(name, text)`; expressions in the coordinates and the
@@ -863,6 +863,21 @@ impl FileQuantities {
     ///
     /// A text that does not parse or cannot be planned.
     pub fn texts(problem: &Problem, texts: &[(String, String)]) -> Result<Self, AuditError> {
+        Self::texts_with(problem, &[], texts)
+    }
+
+    /// [`FileQuantities::texts`] with named parts the texts may use: `defines`, each a
+    /// `(name, text)` in the file's names and the parts before it, evaluated once per point
+    /// (see [`Audit::fields_with`]).
+    ///
+    /// # Errors
+    ///
+    /// As [`FileQuantities::texts`].
+    pub fn texts_with(
+        problem: &Problem,
+        defines: &[(String, String)],
+        texts: &[(String, String)],
+    ) -> Result<Self, AuditError> {
         let quantities = texts
             .iter()
             .enumerate()
@@ -872,7 +887,7 @@ impl FileQuantities {
                 parts: vec![(0, 1.0, Part::Extra(i))],
             })
             .collect();
-        Self::plan(&[(problem, texts.to_vec())], quantities)
+        Self::plan(&[(problem, defines, texts.to_vec())], quantities)
     }
 
     /// The TT part of `problem`'s `h` along the direction whose components are the texts `n`
@@ -942,7 +957,7 @@ impl FileQuantities {
                 });
             }
         }
-        Self::plan(&[(problem, extras)], quantities)
+        Self::plan(&[(problem, &[], extras)], quantities)
     }
 
     /// The index of the quantity `name` of `claim` (`riemann`, `text`, `h - h^TT`, `h^TT`,

@@ -345,7 +345,7 @@ impl Audit {
     ///
     /// As [`Audit::new`].
     pub fn of_texts(texts: &Texts) -> Result<Audit, AuditError> {
-        let mut audit = Audit::fields_of(texts, H_ORDER, &[])?;
+        let mut audit = Audit::fields_of(texts, H_ORDER, &[], &[])?;
         audit.claims = audit_claims(texts)?;
         Ok(audit)
     }
@@ -363,12 +363,31 @@ impl Audit {
         h_order: u32,
         extras: &[(String, String)],
     ) -> Result<Audit, AuditError> {
-        Audit::fields_of(&Texts::of(problem), h_order, extras)
+        Audit::fields_of(&Texts::of(problem), h_order, &[], extras)
+    }
+
+    /// [`Audit::fields`] with named parts the extras may use: `defines`, each a `(name,
+    /// text)` in the file's names and the parts before it. A part is evaluated once per point
+    /// (at the highest order its uses need), however often the extras use it, so long
+    /// definitions built from repeated pieces are written once. The names must not be names
+    /// of the file (the caller chooses them).
+    ///
+    /// # Errors
+    ///
+    /// As [`Audit::fields`]; a part that does not parse.
+    pub fn fields_with(
+        problem: &Problem,
+        h_order: u32,
+        defines: &[(String, String)],
+        extras: &[(String, String)],
+    ) -> Result<Audit, AuditError> {
+        Audit::fields_of(&Texts::of(problem), h_order, defines, extras)
     }
 
     fn fields_of(
         problem: &Texts,
         h_order: u32,
+        parts: &[(String, String)],
         extras: &[(String, String)],
     ) -> Result<Audit, AuditError> {
         let mut scope = Scope {
@@ -378,6 +397,10 @@ impl Audit {
         };
         for (name, text) in &problem.defines {
             let e = parse_text(|| format!("define `{name}`"), text)?;
+            scope.defines.push((name.clone(), e));
+        }
+        for (name, text) in parts {
+            let e = parse_text(|| format!("part `{name}` of a definition"), text)?;
             scope.defines.push((name.clone(), e));
         }
         for (name, text) in &problem.functions {

@@ -40,103 +40,194 @@ struct Item {
     audit: Result<(Form, String), String>,
 }
 
-/// The definition of `Q_ij` from the bodies' texts, `[i][j]`, each in parentheses:
-/// `sum m x_i x_j - delta_ij sum m |x|^2 / 3`.
-#[must_use]
-pub fn quadrupole_texts(p: &Problem) -> [[String; 3]; 3] {
-    let rigid: Vec<[[String; 3]; 3]> = p
-        .bodies
-        .iter()
-        .filter_map(|b| b.rigid.as_ref())
-        .map(|r| super::rigid_second_moment_texts(&r.texts))
-        .collect();
-    let i = |a: usize, b: usize| -> String {
-        let terms: Vec<String> = p
-            .bodies
-            .iter()
-            .map(|body| {
-                format!(
-                    "({})*({})*({})",
-                    body.mass_text, body.position_text[a], body.position_text[b]
-                )
-            })
-            .chain(rigid.iter().map(|m| m[a][b].clone()))
-            .collect();
-        format!("({})", terms.join(" + "))
-    };
-    let trace = format!("({} + {} + {})", i(0, 0), i(1, 1), i(2, 2));
-    std::array::from_fn(|a| {
-        std::array::from_fn(|b| {
-            if a == b {
-                format!("({} - {trace}/3)", i(a, b))
-            } else {
-                i(a, b)
-            }
-        })
-    })
+/// The named parts of the definitions (see [`Definitions`]): each `(name, text)` uses the
+/// file's names and the parts before it; the independent route evaluates each part once
+/// per point, so the definitions can be written from short pieces that recur.
+struct Parts {
+    /// A prefix that no name of the file starts with.
+    prefix: String,
+    list: Vec<(String, String)>,
 }
 
-/// The third moment `sum m x_i x_j x_k` (with each rigid body's
-/// `c_i Sigma_jk + c_j Sigma_ik + c_k Sigma_ij`) and `J_ij = sum m x_i (x x v)_j` (with each
-/// rigid body's `eps_jab (c_i K_ab + c_a K_ib + dc_b/dt Sigma_ia)`) from the bodies' texts,
-/// the velocities as `d_t(...)` of the positions; see [`super::multipole`].
-fn third_moment_and_current_texts(
+impl Parts {
+    fn new(p: &Problem) -> Parts {
+        let names: Vec<&str> = p
+            .coordinates
+            .iter()
+            .map(String::as_str)
+            .chain(p.parameters.iter().map(|(n, _)| n.as_str()))
+            .chain(p.defines.iter().map(|(n, _)| n.as_str()))
+            .chain(p.functions.iter().map(|(n, _)| n.as_str()))
+            .chain(p.orbit.iter().map(|o| o.anomaly.as_str()))
+            .collect();
+        let mut prefix = String::from("lgv");
+        while names.iter().any(|n| n.starts_with(&prefix)) {
+            prefix.push('_');
+        }
+        Parts {
+            prefix,
+            list: Vec::new(),
+        }
+    }
+
+    /// Adds the part `label` (letters, digits and `_`) with `text`; returns its name.
+    fn add(&mut self, label: &str, text: String) -> String {
+        let name = format!("{}{label}", self.prefix);
+        self.list.push((name.clone(), text));
+        name
+    }
+}
+
+/// A body's texts as parts: mass, position and, for a rigid body, its rotation matrix `R`,
+/// its second moment `Sigma` about its centre and its moment texts.
+struct BodyParts {
+    m: String,
+    x: [String; 3],
+    rigid: Option<RigidParts>,
+}
+
+struct RigidParts {
+    moments: [String; 3],
+    rot: [[String; 3]; 3],
+    sigma: [[String; 3]; 3],
+}
+
+fn body_parts(p: &Problem, parts: &mut Parts) -> Vec<BodyParts> {
+    let mut out = Vec::new();
+    for (b, body) in p.bodies.iter().enumerate() {
+        let m = parts.add(&format!("m{b}"), body.mass_text.clone());
+        let x =
+            std::array::from_fn(|i| parts.add(&format!("x{b}_{i}"), body.position_text[i].clone()));
+        let rigid = body.rigid.as_ref().map(|r| {
+            let (moments, axis, angle) = &r.texts;
+            let rot: [[String; 3]; 3] = std::array::from_fn(|i| {
+                std::array::from_fn(|j| {
+                    parts.add(
+                        &format!("R{b}_{i}{j}"),
+                        super::rotation_text(axis, angle, i, j),
+                    )
+                })
+            });
+            let sigma_text = super::rigid_second_moment_texts(moments, |i, j| rot[i][j].clone());
+            let mut sigma: [[String; 3]; 3] = Default::default();
+            for i in 0..3 {
+                for j in i..3 {
+                    let name = parts.add(&format!("S{b}_{i}{j}"), sigma_text[i][j].clone());
+                    sigma[j][i] = name.clone();
+                    sigma[i][j] = name;
+                }
+            }
+            RigidParts {
+                moments: moments.clone(),
+                rot,
+                sigma,
+            }
+        });
+        out.push(BodyParts { m, x, rigid });
+    }
+    out
+}
+
+/// The parts `Q_ij = sum m x_i x_j - delta_ij sum m |x|^2 / 3` (each rigid body adding its
+/// `Sigma_ij`); returns their names, `[i][j]`.
+fn quadrupole_parts(bodies: &[BodyParts], parts: &mut Parts) -> [[String; 3]; 3] {
+    let mut second: [[String; 3]; 3] = Default::default();
+    for a in 0..3 {
+        for b in a..3 {
+            let terms: Vec<String> = bodies
+                .iter()
+                .map(|body| format!("{}*{}*{}", body.m, body.x[a], body.x[b]))
+                .chain(
+                    bodies
+                        .iter()
+                        .filter_map(|body| Some(body.rigid.as_ref()?.sigma[a][b].clone())),
+                )
+                .collect();
+            let name = parts.add(&format!("I_{a}{b}"), terms.join(" + "));
+            second[b][a] = name.clone();
+            second[a][b] = name;
+        }
+    }
+    let trace = parts.add(
+        "I_tr",
+        format!("{} + {} + {}", second[0][0], second[1][1], second[2][2]),
+    );
+    let mut q: [[String; 3]; 3] = Default::default();
+    for a in 0..3 {
+        for b in a..3 {
+            let text = if a == b {
+                format!("{} - {trace}/3", second[a][b])
+            } else {
+                second[a][b].clone()
+            };
+            let name = parts.add(&format!("Q_{a}{b}"), text);
+            q[b][a] = name.clone();
+            q[a][b] = name;
+        }
+    }
+    q
+}
+
+/// The parts of the third moment `sum m x_i x_j x_k` (with each rigid body's
+/// `c_i Sigma_jk + c_j Sigma_ik + c_k Sigma_ij`) and of `J_ij = sum m x_i (x x v)_j` (with
+/// each rigid body's `eps_jab (c_i K_ab + c_a K_ib + dc_b/dt Sigma_ia)`), the velocities
+/// as time derivatives of the positions; see [`super::multipole`]. Then the parts of their
+/// STF parts: the mass octupole `Q_ijk` and the current quadrupole `S_ij` (names returned).
+fn octupole_and_current_parts(
     p: &Problem,
+    bodies: &[BodyParts],
     clock: &ClockText,
+    parts: &mut Parts,
 ) -> ([[[String; 3]; 3]; 3], [[String; 3]; 3]) {
     let t = p.coordinates[0].as_str();
     let mut cube: [[[Vec<String>; 3]; 3]; 3] = Default::default();
     let mut cur: [[Vec<String>; 3]; 3] = Default::default();
-    for b in &p.bodies {
-        let m = &b.mass_text;
-        let x = &b.position_text;
-        let v: [String; 3] = std::array::from_fn(|i| clock.d(1, &x[i]));
+    for (bi, b) in bodies.iter().enumerate() {
+        let (m, x) = (&b.m, &b.x);
+        let v: [String; 3] =
+            std::array::from_fn(|i| parts.add(&format!("v{bi}_{i}"), clock.d(1, &x[i])));
         let cross = |j: usize| -> String {
             let (a, c) = ((j + 1) % 3, (j + 2) % 3);
-            format!("(({})*{} - ({})*{})", x[a], v[c], x[c], v[a])
+            format!("({}*{} - {}*{})", x[a], v[c], x[c], v[a])
         };
         for i in 0..3 {
             for j in 0..3 {
                 for k in 0..3 {
-                    cube[i][j][k].push(format!("({m})*({})*({})*({})", x[i], x[j], x[k]));
+                    cube[i][j][k].push(format!("{m}*{}*{}*{}", x[i], x[j], x[k]));
                 }
-                cur[i][j].push(format!("({m})*({})*{}", x[i], cross(j)));
+                cur[i][j].push(format!("{m}*{}*{}", x[i], cross(j)));
             }
         }
         let Some(r) = &b.rigid else { continue };
-        let sigma = super::rigid_second_moment_texts(&r.texts);
-        let (moments, axis, angle) = &r.texts;
-        let rot = |i: usize, j: usize| super::rotation_text(axis, angle, i, j);
+        let moments = &r.moments;
         let d0 = |a: usize| {
             format!(
                 "((({}) + ({}) + ({}))/2 - ({}))",
                 moments[0], moments[1], moments[2], moments[a]
             )
         };
-        let k_text = |a: usize, c: usize| -> String {
-            let terms: Vec<String> = (0..3)
-                .map(|q| format!("{}*{}*d_{t}({})", rot(a, q), d0(q), rot(c, q)))
-                .collect();
-            format!("({})", terms.join(" + "))
-        };
+        let k_part: [[String; 3]; 3] = std::array::from_fn(|a| {
+            std::array::from_fn(|c| {
+                let terms: Vec<String> = (0..3)
+                    .map(|q| format!("{}*{}*d_{t}({})", r.rot[a][q], d0(q), r.rot[c][q]))
+                    .collect();
+                parts.add(&format!("K{bi}_{a}{c}"), terms.join(" + "))
+            })
+        });
+        let sigma = &r.sigma;
         for i in 0..3 {
             for j in 0..3 {
                 for k in 0..3 {
                     cube[i][j][k].push(format!(
-                        "({})*{} + ({})*{} + ({})*{}",
+                        "{}*{} + {}*{} + {}*{}",
                         x[i], sigma[j][k], x[j], sigma[i][k], x[k], sigma[i][j]
                     ));
                 }
                 let (a, c) = ((j + 1) % 3, (j + 2) % 3);
                 let part = |a: usize, c: usize| {
                     format!(
-                        "({})*{} + ({})*{} + {}*{}",
-                        x[i],
-                        k_text(a, c),
-                        x[a],
-                        k_text(i, c),
-                        v[c],
-                        sigma[i][a]
+                        "{}*{} + {}*{} + {}*{}",
+                        x[i], k_part[a][c], x[a], k_part[i][c], v[c], sigma[i][a]
                     )
                 };
                 cur[i][j].push(format!("({}) - ({})", part(a, c), part(c, a)));
@@ -147,47 +238,52 @@ fn third_moment_and_current_texts(
         if v.is_empty() {
             "0".to_string()
         } else {
-            format!("({})", v.join(" + "))
+            v.iter()
+                .map(|t| format!("({t})"))
+                .collect::<Vec<_>>()
+                .join(" + ")
         }
     };
-    (
-        std::array::from_fn(|i| {
-            std::array::from_fn(|j| std::array::from_fn(|k| join(&cube[i][j][k])))
-        }),
-        std::array::from_fn(|i| std::array::from_fn(|j| join(&cur[i][j]))),
-    )
-}
-
-/// The definitions of `Q_ijk` (STF of the third moment) and `S_ij` (STF of `J_ij`) from the
-/// bodies' texts, each in parentheses.
-fn octupole_and_current_texts(
-    p: &Problem,
-    clock: &ClockText,
-) -> ([[[String; 3]; 3]; 3], [[String; 3]; 3]) {
-    let (i3, j2) = third_moment_and_current_texts(p, clock);
-    let trace = |k: usize| format!("({} + {} + {})", i3[0][0][k], i3[1][1][k], i3[2][2][k]);
+    let i3: [[[String; 3]; 3]; 3] = std::array::from_fn(|i| {
+        std::array::from_fn(|j| {
+            std::array::from_fn(|k| parts.add(&format!("M3_{i}{j}{k}"), join(&cube[i][j][k])))
+        })
+    });
+    let j2: [[String; 3]; 3] = std::array::from_fn(|i| {
+        std::array::from_fn(|j| parts.add(&format!("J_{i}{j}"), join(&cur[i][j])))
+    });
+    let trace: [String; 3] = std::array::from_fn(|k| {
+        parts.add(
+            &format!("M3_tr{k}"),
+            format!("{} + {} + {}", i3[0][0][k], i3[1][1][k], i3[2][2][k]),
+        )
+    });
     let octupole = std::array::from_fn(|i| {
         std::array::from_fn(|j| {
             std::array::from_fn(|k| {
                 let mut s = i3[i][j][k].clone();
                 for (a, b, c) in [(i, j, k), (i, k, j), (j, k, i)] {
                     if a == b {
-                        s.push_str(&format!(" - {}/5", trace(c)));
+                        s.push_str(&format!(" - {}/5", trace[c]));
                     }
                 }
-                format!("({s})")
+                parts.add(&format!("Oc_{i}{j}{k}"), s)
             })
         })
     });
-    let j_trace = format!("({} + {} + {})", j2[0][0], j2[1][1], j2[2][2]);
+    let j_trace = parts.add(
+        "J_tr",
+        format!("{} + {} + {}", j2[0][0], j2[1][1], j2[2][2]),
+    );
     let current = std::array::from_fn(|i| {
         std::array::from_fn(|j| {
             let sym = format!("({} + {})/2", j2[i][j], j2[j][i]);
-            if i == j {
-                format!("({sym} - {j_trace}/3)")
+            let text = if i == j {
+                format!("{sym} - {j_trace}/3")
             } else {
-                format!("({sym})")
-            }
+                sym
+            };
+            parts.add(&format!("Sc_{i}{j}"), text)
         })
     });
     (octupole, current)
@@ -258,7 +354,13 @@ impl ClockText {
 
 /// The definitions of the radiated quantities written from the bodies' texts, for the
 /// independent route (shared by the claims and the `radiation` command's audit).
+///
+/// The definitions are written from named parts ([`Definitions::parts`]: the bodies'
+/// masses and positions, `Q_ij`, the octupole and current quadrupole, ...), which every
+/// text of this type refers to by name: give the parts to the route with the texts
+/// ([`FileQuantities::texts_with`], [`crate::audit::Audit::fields_with`]).
 pub struct Definitions {
+    parts: Vec<(String, String)>,
     q: [[String; 3]; 3],
     octupole: [[[String; 3]; 3]; 3],
     current: [[String; 3]; 3],
@@ -270,13 +372,25 @@ impl Definitions {
     #[must_use]
     pub fn of(p: &Problem) -> Definitions {
         let clock = ClockText::of(p);
-        let (octupole, current) = octupole_and_current_texts(p, &clock);
+        let mut parts = Parts::new(p);
+        let bodies = body_parts(p, &mut parts);
+        let q = quadrupole_parts(&bodies, &mut parts);
+        // The next order's parts are short; those no text uses are parsed, never evaluated.
+        let (octupole, current) = octupole_and_current_parts(p, &bodies, &clock, &mut parts);
         Definitions {
-            q: quadrupole_texts(p),
+            parts: parts.list,
+            q,
             octupole,
             current,
             clock,
         }
+    }
+
+    /// The named parts every text of these definitions uses, in order (each uses only the
+    /// file's names and the parts before it).
+    #[must_use]
+    pub fn parts(&self) -> &[(String, String)] {
+        &self.parts
     }
 
     /// The clock the derivatives are written with.
@@ -513,7 +627,7 @@ fn reports_with(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
                 Average::Exact(avg) => Item {
                     name: "claimed <L> - <(1/5) dddQ_ij dddQ_ij>".into(),
                     residual: st.sub(c.form, avg).map_err(lim)?,
-                    audit: Err(mean_audit(p, (lum, avg, c.form), &definition, defs.clock())),
+                    audit: Err(mean_audit(p, (lum, avg, c.form), &definition, &defs)),
                 },
                 Average::NotPeriodic(why) => {
                     let report = undecided(
@@ -585,7 +699,7 @@ fn reports_with(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
         momentum_reports(p, &claims, (&defs, &mut rad), (&mut groups, &mut out))?;
     }
     for (kind, items) in groups {
-        out.push(decide_group(p, kind, items)?);
+        out.push(decide_group(p, kind, items, defs.parts())?);
     }
     Ok(out)
 }
@@ -643,7 +757,7 @@ fn momentum_reports(
         }
         let mut items = Vec::new();
         for (i, (f, avg)) in averages.into_iter().enumerate() {
-            let audit = mean_audit(p, (f, avg, c[i].form), &defs.momentum(i), defs.clock());
+            let audit = mean_audit(p, (f, avg, c[i].form), &defs.momentum(i), defs);
             items.push(Item {
                 name: format!("claimed <dP_{0}/dt> - <formula dP_{0}/dt>", AXES[i]),
                 residual: p.store.sub(c[i].form, avg).map_err(lim)?,
@@ -661,13 +775,15 @@ fn mean_audit(
     p: &mut Problem,
     (lum, avg, claimed): (Form, Form, Form),
     definition: &str,
-    clock: &ClockText,
+    defs: &Definitions,
 ) -> String {
+    let clock = defs.clock();
+    let parts = defs.parts();
     match clock {
-        ClockText::Time(t) => period_mean_audit(p, (lum, avg, claimed), definition, t),
+        ClockText::Time(t) => period_mean_audit(p, (lum, avg, claimed), (definition, parts), t),
         ClockText::Anomaly { name, .. } => {
             let weight = clock.weight().unwrap_or_default();
-            orbit_mean_audit(p, (avg, claimed), definition, (name, &weight))
+            orbit_mean_audit(p, (avg, claimed), (definition, parts), (name, &weight))
         }
     }
 }
@@ -681,7 +797,7 @@ fn mean_audit(
 fn orbit_mean_audit(
     p: &mut Problem,
     (avg, claimed): (Form, Form),
-    definition: &str,
+    (definition, parts): (&str, &[(String, String)]),
     (anomaly, weight): (&str, &str),
 ) -> String {
     use crate::interval::{CInterval, Interval};
@@ -696,7 +812,7 @@ fn orbit_mean_audit(
         }
     }
     let text = format!("({definition})*{weight}");
-    let audit = match crate::audit::Audit::fields(p, 0, &[("L".into(), text)]) {
+    let audit = match crate::audit::Audit::fields_with(p, 0, parts, &[("L".into(), text)]) {
         Ok(a) => a,
         Err(e) => return format!("not audited: {e}"),
     };
@@ -781,7 +897,7 @@ fn orbit_mean_audit(
 fn period_mean_audit(
     p: &mut Problem,
     (lum, avg, claimed): (Form, Form, Form),
-    definition: &str,
+    (definition, parts): (&str, &[(String, String)]),
     t_name: &str,
 ) -> String {
     use crate::interval::{CInterval, Interval};
@@ -829,10 +945,11 @@ fn period_mean_audit(
             (2 * top + 16, std::f64::consts::TAU / w0)
         }
     };
-    let audit = match crate::audit::Audit::fields(p, 0, &[("L".into(), definition.into())]) {
-        Ok(a) => a,
-        Err(e) => return format!("not audited: {e}"),
-    };
+    let audit =
+        match crate::audit::Audit::fields_with(p, 0, parts, &[("L".into(), definition.into())]) {
+            Ok(a) => a,
+            Err(e) => return format!("not audited: {e}"),
+        };
     let mut sum = 0.0;
     // The size of the function over the period: the scale of the rounding in its mean (an
     // average of 0, as of a recoil over an orbit, is judged against it).
@@ -896,7 +1013,12 @@ fn undecided(kind: Kind, why: String) -> ClaimReport {
 }
 
 /// The verdicts of one claim's items, audited.
-fn decide_group(p: &mut Problem, kind: Kind, items: Vec<Item>) -> CResult<ClaimReport> {
+fn decide_group(
+    p: &mut Problem,
+    kind: Kind,
+    items: Vec<Item>,
+    parts: &[(String, String)],
+) -> CResult<ClaimReport> {
     let sampling = p.sampling.clone();
     let mut verdicts: Vec<Verdict> = items
         .iter()
@@ -912,7 +1034,7 @@ fn decide_group(p: &mut Problem, kind: Kind, items: Vec<Item>) -> CResult<ClaimR
             ))
         })
         .collect();
-    let route = FileQuantities::texts(p, &texts);
+    let route = FileQuantities::texts_with(p, parts, &texts);
     // An item without a definition (a time average) is not audited; say why.
     let why_not: Option<String> = items.iter().find_map(|it| it.audit.as_ref().err().cloned());
     let mut index = Vec::new();
@@ -1026,7 +1148,7 @@ mod tests {
             residual: zero,
             audit: Err(why.into()),
         }];
-        let r = decide_group(&mut p, Kind::Luminosity { average: true }, items).unwrap();
+        let r = decide_group(&mut p, Kind::Luminosity { average: true }, items, &[]).unwrap();
         assert_eq!(r.status, Status::Undecided);
         assert!(r.components[0].audit.is_defect());
         assert!(r.method.contains("INTERNAL DEFECT"), "{}", r.method);
@@ -1050,11 +1172,11 @@ mod tests {
             panic!("an average");
         };
         let twice = st.scale(avg, &crate::canon::Coeff::int(2)).unwrap();
-        let good = mean_audit(&mut p, (l, avg, avg), &defs.luminosity(), defs.clock());
+        let good = mean_audit(&mut p, (l, avg, avg), &defs.luminosity(), &defs);
         assert!(good.starts_with("audited numerically:"), "{good}");
         // checks.md 1b: m1 = 1.3, m2 = 0.7, a = 30, e = 0.5 -> <L> = 2.130540914206e-06.
         assert!(good.contains("2.130540914206e-6"), "{good}");
-        let bad = mean_audit(&mut p, (l, twice, twice), &defs.luminosity(), defs.clock());
+        let bad = mean_audit(&mut p, (l, twice, twice), &defs.luminosity(), &defs);
         assert!(bad.starts_with("INTERNAL DEFECT"), "{bad}");
     }
 }

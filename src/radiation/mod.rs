@@ -506,12 +506,14 @@ pub fn rigid_second_moment(store: &mut Store, r: &crate::problem::Rigid) -> CRes
     Ok(out)
 }
 
-/// The text of [`rigid_second_moment`] from a rigid body's texts, `[i][j]`, for the audit
-/// (written again from the formula, not printed from forms).
+/// The text of [`rigid_second_moment`] from a rigid body's moment texts `m` and the texts
+/// `rot(i, j)` of its rotation matrix elements, `[i][j]`, for the audit (written again from
+/// the formula, not printed from forms).
 #[must_use]
-pub fn rigid_second_moment_texts(t: &([String; 3], [String; 3], String)) -> [[String; 3]; 3] {
-    let (m, k, a) = t;
-    let rot = |i: usize, j: usize| rotation_text(k, a, i, j);
+pub fn rigid_second_moment_texts(
+    m: &[String; 3],
+    rot: impl Fn(usize, usize) -> String,
+) -> [[String; 3]; 3] {
     std::array::from_fn(|i| {
         std::array::from_fn(|j| {
             let terms: Vec<String> = (0..3)

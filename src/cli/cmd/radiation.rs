@@ -273,7 +273,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
         p.parameters
             .push((an.clone(), crate::radiation::claims::ANOMALY_TYPICAL));
     }
-    let route = crate::audit::expr::FileQuantities::texts(&p, &texts);
+    let route = crate::audit::expr::FileQuantities::texts_with(&p, defs.parts(), &texts);
     if anomaly.is_some() {
         p.parameters.pop();
     }
