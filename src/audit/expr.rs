@@ -754,6 +754,9 @@ pub struct FileQuantities {
     quantities: Vec<Quantity>,
 }
 
+/// A file to plan: the problem, named parts its texts use, and its texts.
+type PlannedFile<'a> = (&'a Problem, &'a [(String, String)], Vec<(String, String)>);
+
 /// The order of derivatives of `h` the parts need.
 fn h_order(parts: &[&Part]) -> u32 {
     let mut order = 0;
@@ -779,7 +782,7 @@ impl FileQuantities {
     /// Plans the files' jets for the quantities: `files` are the problems with the extra
     /// texts each needs.
     fn plan(
-        files: &[(&Problem, &[(String, String)], Vec<(String, String)>)],
+        files: &[PlannedFile<'_>],
         quantities: Vec<Quantity>,
     ) -> Result<FileQuantities, AuditError> {
         let mut planned = Vec::new();
