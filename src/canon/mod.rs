@@ -228,6 +228,10 @@ pub struct Store {
     display: Option<Rc<print::Naming>>,
     /// Set while a display printer runs.
     naming: Option<Rc<print::Naming>>,
+    /// Whether the display printers print in display form (`Store::set_display_names`).
+    display_on: bool,
+    /// True while a display printer runs in display form.
+    displaying: bool,
     unit: MonoId,
     zero: Form,
     one: Form,
@@ -260,6 +264,8 @@ impl Store {
             limits: Limits::default(),
             display: None,
             naming: None,
+            display_on: false,
+            displaying: false,
             unit: MonoId(0),
             zero: Form(0),
             one: Form(0),

@@ -12,9 +12,13 @@
 //! ([`Store::to_display_text`], [`Store::to_display_latex`], [`Store::to_display_summary`])
 //! print in the file's own terms: a [`Naming`] (the file's `[define]` names) replaces every
 //! argument, radicand, phase or root that equals a defined form by its name, and cancels
-//! powers of a name between numerator and denominator (`2*M*r/r^2` reads `2*M/r`). Display
-//! text reads back, with the file's names, to a form equal to the canonical one (tested on
+//! powers of a name between numerator and denominator (`2*M*r/r^2` reads `2*M/r`), and
+//! writes sums of sines and cosines of combined angles as products of sines and cosines of
+//! a few angles where that reads shorter (`sin(th)*cos(ph)`, not `sin(ph + th)/2 - ...`;
+//! [`trig`]). Display text reads back, with the file's names, to a form equal to the canonical one (tested on
 //! every worked file).
+
+mod trig;
 
 use super::{Coeff, Form, Kernel, KernelId, MonoId, Rat, Store};
 use rustc_hash::FxHashMap;
@@ -106,14 +110,19 @@ impl Store {
     }
 
     /// Sets the names the display printers use (`None`: print canonical forms).
+    /// The display printers then also write sums of sines and cosines of combined angles as
+    /// products where that reads shorter; with `None` they print as the canonical ones.
     pub fn set_display_names(&mut self, n: Option<Naming>) {
+        self.display_on = n.is_some();
         self.display = n.filter(|n| !n.is_empty()).map(Rc::new);
     }
 
     /// Runs `print` with the display names in force.
     fn with_display<T>(&mut self, print: impl FnOnce(&mut Store) -> T) -> T {
         self.naming = self.display.clone();
+        self.displaying = self.display_on;
         let out = print(self);
+        self.displaying = false;
         self.naming = None;
         out
     }
@@ -362,17 +371,7 @@ impl Store {
         if !matches!(inner, Pretty::Sum(_)) {
             return self.pretty_poly(p, scale);
         }
-        let mut nums = Vec::new();
-        let mut dens = Vec::new();
-        for (k, e) in content {
-            let kp = self.pretty_kernel(k);
-            let f = if e.unsigned_abs() == 1 {
-                kp
-            } else {
-                Pretty::Pow(Box::new(kp), e.unsigned_abs())
-            };
-            if e > 0 { nums.push(f) } else { dens.push(f) }
-        }
+        let (mut nums, mut dens) = self.kernel_factors(&content);
         nums.sort_by_key(factor_order);
         dens.sort_by_key(factor_order);
         nums.push(inner);
@@ -409,17 +408,7 @@ impl Store {
         let mut terms = Vec::with_capacity(groups.len());
         for (key, mut rest) in groups {
             rest.sort_by_key(|t| t.0);
-            let mut nums = Vec::new();
-            let mut dens = Vec::new();
-            for (k, e) in key {
-                let kp = self.pretty_kernel(k);
-                let f = if e.unsigned_abs() == 1 {
-                    kp
-                } else {
-                    Pretty::Pow(Box::new(kp), e.unsigned_abs())
-                };
-                if e > 0 { nums.push(f) } else { dens.push(f) }
-            }
+            let (mut nums, mut dens) = self.kernel_factors(&key);
             nums.sort_by_key(factor_order);
             dens.sort_by_key(factor_order);
             let rest = self.pretty_collected(&rest, scale);
@@ -497,7 +486,35 @@ impl Store {
         Some((p, q))
     }
 
+    /// The powers of kernels `pows` as numerator and denominator factors.
+    fn kernel_factors(&mut self, pows: &[(KernelId, i32)]) -> (Vec<Pretty>, Vec<Pretty>) {
+        let mut nums = Vec::new();
+        let mut dens = Vec::new();
+        for &(k, e) in pows {
+            let kp = self.pretty_kernel(k);
+            let f = if e.unsigned_abs() == 1 {
+                kp
+            } else {
+                Pretty::Pow(Box::new(kp), e.unsigned_abs())
+            };
+            if e > 0 { nums.push(f) } else { dens.push(f) }
+        }
+        (nums, dens)
+    }
+
+    /// The terms of `p` times `scale`; in a display printer with products of sines and
+    /// cosines where that reads shorter ([`trig`]).
     fn pretty_poly(&mut self, p: &super::Poly, scale: &Coeff) -> Pretty {
+        let plain = self.pretty_poly_plain(p, scale);
+        if self.displaying
+            && let Some(products) = self.pretty_trig_products(p, scale, &plain)
+        {
+            return products;
+        }
+        plain
+    }
+
+    fn pretty_poly_plain(&mut self, p: &super::Poly, scale: &Coeff) -> Pretty {
         // Group terms by (kernel powers, real exponent, |imaginary exponent|).
         type Key = (
             Vec<(KernelId, i32)>,
@@ -563,17 +580,7 @@ impl Store {
         for key in order {
             let (a, b) = groups[&key].clone();
             let (pows, raw, re, im) = key;
-            let mut nums = Vec::new();
-            let mut dens = Vec::new();
-            for (k, e) in pows {
-                let kp = self.pretty_kernel(k);
-                let f = if e.unsigned_abs() == 1 {
-                    kp
-                } else {
-                    Pretty::Pow(Box::new(kp), e.unsigned_abs())
-                };
-                if e > 0 { nums.push(f) } else { dens.push(f) }
-            }
+            let (mut nums, dens) = self.kernel_factors(&pows);
             if let Some(raw) = raw {
                 nums.push(Pretty::Call("exp".into(), Box::new(self.pretty(raw)), raw));
             }
@@ -603,34 +610,39 @@ impl Store {
                 }
             }
         }
-        for t in &mut terms {
-            if let Pretty::Prod(_, n, d) = t {
-                n.sort_by_key(factor_order);
-                d.sort_by_key(factor_order);
-            }
+        finish_terms(terms)
+    }
+}
+
+/// Sorts the factors of each term and the terms (stable, history-independent order) and
+/// makes them one printing tree.
+fn finish_terms(mut terms: Vec<Pretty>) -> Pretty {
+    for t in &mut terms {
+        if let Pretty::Prod(_, n, d) = t {
+            n.sort_by_key(factor_order);
+            d.sort_by_key(factor_order);
         }
-        // Order: more factors first, then by text of the factors, so output is stable.
-        // Order: higher degree first, then terms made of plain names before composite ones
-        // (so `t - sqrt(...)`), then by text, so output is stable.
-        terms.sort_by_cached_key(|t| match t {
-            Pretty::Prod(_, n, d) => {
-                let deg: u32 = n.iter().map(degree).sum::<u32>();
-                let composite = n.iter().chain(d.iter()).filter(|f| !is_plain(f)).count();
-                let text: String = n
-                    .iter()
-                    .chain(d.iter())
-                    .map(to_text)
-                    .collect::<Vec<_>>()
-                    .join("*");
-                (u32::MAX - deg, text.is_empty(), composite, text)
-            }
-            _ => (0, false, 0, String::new()),
-        });
-        match terms.len() {
-            0 => Pretty::Num(Coeff::zero()),
-            1 => terms.pop().unwrap(),
-            _ => Pretty::Sum(terms),
+    }
+    // Order: higher degree first, then terms made of plain names before composite ones
+    // (so `t - sqrt(...)`), then by text, so output is stable.
+    terms.sort_by_cached_key(|t| match t {
+        Pretty::Prod(_, n, d) => {
+            let deg: u32 = n.iter().map(degree).sum::<u32>();
+            let composite = n.iter().chain(d.iter()).filter(|f| !is_plain(f)).count();
+            let text: String = n
+                .iter()
+                .chain(d.iter())
+                .map(to_text)
+                .collect::<Vec<_>>()
+                .join("*");
+            (u32::MAX - deg, text.is_empty(), composite, text)
         }
+        _ => (0, false, 0, String::new()),
+    });
+    match terms.len() {
+        0 => Pretty::Num(Coeff::zero()),
+        1 => terms.pop().unwrap_or(Pretty::Num(Coeff::zero())),
+        _ => Pretty::Sum(terms),
     }
 }
 

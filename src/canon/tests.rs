@@ -296,6 +296,92 @@ fn display_names_replace_what_the_file_defined() {
     assert_eq!(st.to_display_text(f), st.to_text(f));
 }
 
+/// Display printing keeps products of sines and cosines as products (issue 14, item 1),
+/// and the text reads back to the same canonical form; `--expanded` (no display names)
+/// prints the canonical sums of combined angles.
+#[test]
+fn display_keeps_trig_products() {
+    let mut st = Store::new();
+    st.set_display_names(Some(Naming::default()));
+    let cases = [
+        ("A*sin(x)*cos(y)", "A*cos(y)*sin(x)"),
+        ("A*sin(x)^2*cos(y)^2", "A*cos(y)^2*sin(x)^2"),
+        (
+            "sin(k*(t - z))*sin(k*(t - x))",
+            "sin(k*(t - x))*sin(k*(t - z))",
+        ),
+        ("A*cos(k*(t - z))*sin(k*x)", "A*cos(k*(t - z))*sin(k*x)"),
+        // One phase stays one phase; a double angle becomes a product only where that is
+        // shorter.
+        (
+            "a*cos(w*(t - z)) + b*sin(w*(t - z))",
+            "a*cos(w*(t - z)) + b*sin(w*(t - z))",
+        ),
+        ("cos(2*x) + 1", "2*cos(x)^2"),
+        ("A*cos(2*x) + sin(x)^2", "A*cos(2*x) - cos(2*x)/2 + 1/2"),
+    ];
+    for (input, shown) in cases {
+        let f = form(&mut st, input);
+        let text = st.to_display_text(f);
+        assert_eq!(text, shown, "{input}");
+        let back = form(&mut st, &text);
+        assert_eq!(back, f, "{input} read back from {text}");
+    }
+    st.set_display_names(None);
+    let f = form(&mut st, "sin(x)*cos(y)");
+    assert_eq!(st.to_display_text(f), st.to_text(f));
+    assert!(st.to_text(f).contains("sin(x + y)"), "{}", st.to_text(f));
+}
+
+/// Seeded random trigonometric polynomials in two or three angles (with other factors and a
+/// real exponential): the display text always reads back to the same canonical form.
+#[test]
+fn display_trig_products_read_back_random() {
+    let seed: u64 = 0x7219_5eed;
+    let mut state = seed;
+    let mut next = |n: u64| {
+        state = state
+            .wrapping_mul(6_364_136_223_846_793_005)
+            .wrapping_add(1_442_695_040_888_963_407);
+        (state >> 33) % n
+    };
+    let angles = ["x", "y", "k*(t - z)", "2*x - y", "w*t"];
+    let others = ["1", "A", "r", "exp(-x^2)", "F(t - z)", "1/(1 + y^2)"];
+    let mut st = Store::new();
+    st.set_display_names(Some(Naming::default()));
+    let mut rewritten = 0;
+    for case in 0..300 {
+        let mut terms = Vec::new();
+        for _ in 0..1 + next(4) {
+            let mut factors = vec![
+                format!("{}", next(7) as i64 - 3),
+                others[next(others.len() as u64) as usize].to_string(),
+            ];
+            for _ in 0..1 + next(3) {
+                let f = if next(2) == 0 { "sin" } else { "cos" };
+                let a = angles[next(angles.len() as u64) as usize];
+                let k = 1 + next(2);
+                factors.push(format!("{f}({k}*({a}))^{}", 1 + next(2)));
+            }
+            terms.push(factors.join("*"));
+        }
+        let input = terms.join(" + ");
+        let f = form(&mut st, &input);
+        let text = st.to_display_text(f);
+        let back = form(&mut st, &text);
+        assert_eq!(
+            back, f,
+            "seed {seed:#x}, case {case}: {input} printed {text} reads back differently"
+        );
+        rewritten += usize::from(text != st.to_text(f));
+    }
+    // The cases exercise the product printing, not only the canonical one.
+    assert!(
+        rewritten > 100,
+        "only {rewritten} of 300 cases printed differently"
+    );
+}
+
 #[test]
 fn atan_kernel_identities_and_non_identities() {
     // d/dx atan(x) = 1/(1 + x^2), with a chain rule inside.
