@@ -129,7 +129,7 @@ impl Store {
 
     /// The printing tree of `f` in the file's terms (see the module documentation).
     pub fn display_pretty(&mut self, f: Form) -> Pretty {
-        self.with_display(|s| lead_positive(cancel_names(s.pretty(f))))
+        self.with_display(|s| lead_positive(cancel_names(tidy_names(s.pretty(f)))))
     }
 
     /// Plain text in the file's terms; reads back (with the file's names) to `f`.
@@ -313,6 +313,9 @@ impl Store {
         if p.len() < 2 {
             return self.pretty_poly(p, scale);
         }
+        if let Some(named) = self.pretty_named_powers(p, scale) {
+            return named;
+        }
         let monos: Vec<super::Mono> = p
             .iter()
             .map(|(m, _)| self.monos[m.0 as usize].clone())
@@ -376,6 +379,45 @@ impl Store {
         dens.sort_by_key(factor_order);
         nums.push(inner);
         Pretty::Prod(Coeff::rational(g), nums, dens)
+    }
+
+    /// In a display printer, `p` written as a power of a named root times the rest when the
+    /// root's radicand divides `p` exactly (`x^3 + x*y^2 + x*z^2` is `r^2*x` for the file's
+    /// `r = sqrt(x^2 + y^2 + z^2)`): `r^2` is the radicand, so this is an identity.
+    fn pretty_named_powers(&mut self, p: &super::Poly, scale: &Coeff) -> Option<Pretty> {
+        let n = self.naming.clone()?;
+        let mut powers: Vec<(&Form, &(String, u32))> = n.powers.iter().collect();
+        powers.sort_by(|a, b| a.1.cmp(b.1));
+        for (&radicand, (name, q)) in powers {
+            let r = self.rats[radicand.0 as usize].clone();
+            if !r.den.is_empty() || r.num.len() < 2 {
+                continue;
+            }
+            let mut cur = p.clone();
+            let mut count = 0;
+            while count < 8 {
+                match self.poly_div_exact(&cur, &r.num) {
+                    Some(quotient) => {
+                        cur = quotient;
+                        count += 1;
+                    }
+                    None => break,
+                }
+            }
+            if count == 0 {
+                continue;
+            }
+            let power = name_to(name, q * count)?;
+            return Some(match self.pretty_collected(&cur, scale) {
+                Pretty::Prod(c, mut nums, dens) => {
+                    nums.insert(0, power);
+                    Pretty::Prod(c, nums, dens)
+                }
+                Pretty::Num(c) => Pretty::Prod(c, vec![power], Vec::new()),
+                other => Pretty::Prod(Coeff::one(), vec![power, other], Vec::new()),
+            });
+        }
+        None
     }
 
     /// In a display printer, the terms of `p` collected by the arbitrary functions and the
@@ -743,6 +785,147 @@ fn cancel_pair(nums: &mut Vec<Pretty>, dens: &mut Vec<Pretty>) {
     }
 }
 
+/// Powers of a name written once per product, everywhere in a display tree: repeated
+/// factors merge (`r*Q''*r^2` is `r^3*Q''`), a power of a name that every term of a sum
+/// factor has moves out of the sum, and powers cancel between a product's numerator and
+/// denominator ([`cancel_pair`]). Each is an identity wherever the printed expression is
+/// defined.
+fn tidy_names(p: Pretty) -> Pretty {
+    match p {
+        Pretty::Prod(c, nums, dens) => {
+            let mut n = Vec::with_capacity(nums.len());
+            for f in nums {
+                match tidy_names(f) {
+                    Pretty::Sum(ts) => {
+                        let (common, ts) = common_names(ts);
+                        n.extend(common);
+                        n.push(Pretty::Sum(ts));
+                    }
+                    other => n.push(other),
+                }
+            }
+            let mut d: Vec<Pretty> = dens.into_iter().map(tidy_names).collect();
+            merge_names(&mut n);
+            merge_names(&mut d);
+            cancel_pair(&mut n, &mut d);
+            n.sort_by_key(display_factor_order);
+            d.sort_by_key(display_factor_order);
+            Pretty::Prod(c, n, d)
+        }
+        Pretty::Sum(ts) => Pretty::Sum(ts.into_iter().map(tidy_names).collect()),
+        Pretty::Quot(a, b) => {
+            let a = match tidy_names(*a) {
+                Pretty::Sum(ts) => {
+                    let (common, ts) = common_names(ts);
+                    if common.is_empty() {
+                        Pretty::Sum(ts)
+                    } else {
+                        let mut n = common;
+                        n.push(Pretty::Sum(ts));
+                        Pretty::Prod(Coeff::one(), n, Vec::new())
+                    }
+                }
+                other => other,
+            };
+            Pretty::Quot(Box::new(a), Box::new(tidy_names(*b)))
+        }
+        Pretty::Pow(b, e) => Pretty::Pow(Box::new(tidy_names(*b)), e),
+        other => other,
+    }
+}
+
+/// Repeated powers of one name among product factors merged into one.
+fn merge_names(fs: &mut Vec<Pretty>) {
+    let mut i = 0;
+    while i < fs.len() {
+        let Some((name, a)) = name_power(&fs[i]).map(|(n, a)| (n.to_string(), a)) else {
+            i += 1;
+            continue;
+        };
+        let mut total = a;
+        let mut j = i + 1;
+        while j < fs.len() {
+            match name_power(&fs[j]) {
+                Some((m, b)) if m == name => {
+                    total += b;
+                    fs.remove(j);
+                }
+                _ => j += 1,
+            }
+        }
+        if let Some(p) = name_to(&name, total) {
+            fs[i] = p;
+        }
+        i += 1;
+    }
+}
+
+/// The powers of names that every term of a sum has in its numerator (each term a product),
+/// and the terms without them.
+fn common_names(ts: Vec<Pretty>) -> (Vec<Pretty>, Vec<Pretty>) {
+    let powers = |t: &Pretty| -> Vec<(String, u32)> {
+        match t {
+            Pretty::Prod(_, n, _) => {
+                let mut v: Vec<(String, u32)> = Vec::new();
+                for f in n {
+                    if let Some((m, e)) = name_power(f) {
+                        match v.iter_mut().find(|x| x.0 == m) {
+                            Some(x) => x.1 += e,
+                            None => v.push((m.to_string(), e)),
+                        }
+                    }
+                }
+                v
+            }
+            _ => Vec::new(),
+        }
+    };
+    let Some(first) = ts.first() else {
+        return (Vec::new(), ts);
+    };
+    let mut common = powers(first);
+    for t in &ts[1..] {
+        let p = powers(t);
+        common.retain_mut(|(m, e)| match p.iter().find(|x| x.0 == *m) {
+            Some(x) => {
+                *e = (*e).min(x.1);
+                true
+            }
+            None => false,
+        });
+    }
+    if common.is_empty() || ts.len() < 2 {
+        return (Vec::new(), ts);
+    }
+    let ts = ts
+        .into_iter()
+        .map(|t| match t {
+            Pretty::Prod(c, mut n, d) => {
+                merge_names(&mut n);
+                for (m, e) in &common {
+                    if let Some(i) = n
+                        .iter()
+                        .position(|f| name_power(f).is_some_and(|(x, _)| x == m))
+                    {
+                        let left = name_power(&n[i]).map_or(0, |x| x.1) - e;
+                        match name_to(m, left) {
+                            Some(p) => n[i] = p,
+                            None => {
+                                n.remove(i);
+                            }
+                        }
+                    }
+                }
+                n.sort_by_key(display_factor_order);
+                Pretty::Prod(c, n, d)
+            }
+            other => other,
+        })
+        .collect();
+    let front = common.iter().filter_map(|(m, e)| name_to(m, *e)).collect();
+    (front, ts)
+}
+
 /// [`cancel_pair`] applied where a display tree divides: a product's own factors, and a
 /// quotient whose numerator is a product (or a bare name power) and whose denominator is a
 /// product or one factor.
@@ -793,6 +976,18 @@ fn rational_content(cs: &[Coeff]) -> Option<super::Q> {
 /// Factors of a product print plain names and their powers first (`a*w^2*cos(...)`).
 fn factor_order(p: &Pretty) -> (bool, String) {
     (!is_plain(p), to_text(p))
+}
+
+/// In a display printer: plain names and their powers, then calls and other factors, then
+/// sums (`x*y*Q''(t - r)*(x^2 - y^2)`).
+fn display_factor_order(p: &Pretty) -> (u8, String) {
+    let rank = match p {
+        _ if is_plain(p) => 0,
+        Pretty::Sum(_) => 2,
+        Pretty::Pow(b, _) if matches!(**b, Pretty::Sum(_)) => 2,
+        _ => 1,
+    };
+    (rank, to_text(p))
 }
 
 fn is_plain(p: &Pretty) -> bool {
