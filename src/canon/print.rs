@@ -407,7 +407,7 @@ impl Store {
             if count == 0 {
                 continue;
             }
-            let power = name_to(name, q * count)?;
+            let power = name_to(&Pretty::Name(name.clone()), q * count)?;
             return Some(match self.pretty_collected(&cur, scale) {
                 Pretty::Prod(c, mut nums, dens) => {
                     nums.insert(0, power);
@@ -726,24 +726,23 @@ fn lead_positive(p: Pretty) -> Pretty {
     }
 }
 
-/// The power of a bare name in a factor: `r` is `(r, 1)`, `r^3` is `(r, 3)`.
-fn name_power(p: &Pretty) -> Option<(&str, u32)> {
+/// The power of a bare name or call in a factor: `r` is `(r, 1)`, `r^3` is `(r, 3)`,
+/// `(sin(th)^2)^2` is `(sin(th), 4)`.
+fn name_power(p: &Pretty) -> Option<(Pretty, u32)> {
     match p {
-        Pretty::Name(n) => Some((n, 1)),
-        Pretty::Pow(b, e) => match b.as_ref() {
-            Pretty::Name(n) => Some((n, *e)),
-            _ => None,
-        },
+        Pretty::Name(_) | Pretty::Call(..) => Some((p.clone(), 1)),
+        Pretty::Pow(b, e) => name_power(b).map(|(x, a)| (x, a * e)),
+        Pretty::Prod(c, n, d) if c.is_one() && d.is_empty() && n.len() == 1 => name_power(&n[0]),
         _ => None,
     }
 }
 
-/// A name to a power (`None` for the power 0).
-fn name_to(name: &str, e: u32) -> Option<Pretty> {
+/// A name or call to a power (`None` for the power 0).
+fn name_to(base: &Pretty, e: u32) -> Option<Pretty> {
     match e {
         0 => None,
-        1 => Some(Pretty::Name(name.to_string())),
-        e => Some(Pretty::Pow(Box::new(Pretty::Name(name.to_string())), e)),
+        1 => Some(base.clone()),
+        e => Some(Pretty::Pow(Box::new(base.clone()), e)),
     }
 }
 
@@ -754,7 +753,7 @@ fn name_to(name: &str, e: u32) -> Option<Pretty> {
 fn cancel_pair(nums: &mut Vec<Pretty>, dens: &mut Vec<Pretty>) {
     let mut i = 0;
     while i < nums.len() {
-        let Some((name, a)) = name_power(&nums[i]).map(|(n, a)| (n.to_string(), a)) else {
+        let Some((name, a)) = name_power(&nums[i]) else {
             i += 1;
             continue;
         };
@@ -838,7 +837,7 @@ fn tidy_names(p: Pretty) -> Pretty {
 fn merge_names(fs: &mut Vec<Pretty>) {
     let mut i = 0;
     while i < fs.len() {
-        let Some((name, a)) = name_power(&fs[i]).map(|(n, a)| (n.to_string(), a)) else {
+        let Some((name, a)) = name_power(&fs[i]) else {
             i += 1;
             continue;
         };
@@ -863,15 +862,15 @@ fn merge_names(fs: &mut Vec<Pretty>) {
 /// The powers of names that every term of a sum has in its numerator (each term a product),
 /// and the terms without them.
 fn common_names(ts: Vec<Pretty>) -> (Vec<Pretty>, Vec<Pretty>) {
-    let powers = |t: &Pretty| -> Vec<(String, u32)> {
+    let powers = |t: &Pretty| -> Vec<(Pretty, u32)> {
         match t {
             Pretty::Prod(_, n, _) => {
-                let mut v: Vec<(String, u32)> = Vec::new();
+                let mut v: Vec<(Pretty, u32)> = Vec::new();
                 for f in n {
                     if let Some((m, e)) = name_power(f) {
                         match v.iter_mut().find(|x| x.0 == m) {
                             Some(x) => x.1 += e,
-                            None => v.push((m.to_string(), e)),
+                            None => v.push((m, e)),
                         }
                     }
                 }
@@ -905,7 +904,7 @@ fn common_names(ts: Vec<Pretty>) -> (Vec<Pretty>, Vec<Pretty>) {
                 for (m, e) in &common {
                     if let Some(i) = n
                         .iter()
-                        .position(|f| name_power(f).is_some_and(|(x, _)| x == m))
+                        .position(|f| name_power(f).is_some_and(|(x, _)| x == *m))
                     {
                         let left = name_power(&n[i]).map_or(0, |x| x.1) - e;
                         match name_to(m, left) {

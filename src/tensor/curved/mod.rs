@@ -527,7 +527,11 @@ impl Perturbation {
         Ok(v)
     }
 
-    /// dR_{bd} = D_a dGamma^a_{bd} - D_d dGamma^a_{ab}.
+    /// dR_{bd} = D_a dGamma^a_{bd} - D_d dGamma^a_{ab}, with the contractions done first:
+    /// D_a dGamma^a_{bd} = d_a dGamma^a_bd + Gamma^a_af dGamma^f_bd - Gamma^f_ab dGamma^a_fd
+    /// - Gamma^f_ad dGamma^a_bf, and dGamma^a_{ab} = (1/2) d_b h with h = gbar^{ac} h_ac
+    /// (the other two terms of dGamma^a_ab cancel under the symmetric gbar^{ac}), so
+    /// D_d dGamma^a_{ab} = (1/2) (d_d d_b h - Gamma^f_db d_f h).
     ///
     /// # Errors
     ///
@@ -536,18 +540,46 @@ impl Perturbation {
         if let Some(r) = self.dricci {
             return Ok(r);
         }
+        let dg = self.delta_gamma(store, bg)?;
+        let tr = self.trace(store, bg)?;
+        let gm = &bg.gamma;
         let zero = store.zero();
+        // Gamma^a_{af} and d_f h.
+        let mut contracted = [zero; 4];
+        let mut dtr = [zero; 4];
+        for f in 0..4 {
+            contracted[f] = store.sum(&[gm[0][0][f], gm[1][1][f], gm[2][2][f], gm[3][3][f]])?;
+            dtr[f] = store.diff(tr, bg.coords[f])?;
+        }
+        let h = half();
         let mut out = [[zero; 4]; 4];
         for b in 0..4 {
             for d in b..4 {
-                let mut terms = Vec::with_capacity(8);
+                let mut div = Vec::with_capacity(4);
                 for a in 0..4 {
-                    let x = self.d_delta_gamma(store, bg, a, a, b, d)?;
-                    let y = self.d_delta_gamma(store, bg, d, a, a, b)?;
-                    terms.push((1, x));
-                    terms.push((-1, y));
+                    div.push(store.diff(dg[a][b][d], bg.coords[a])?);
                 }
-                let v = combo(store, &terms)?;
+                let div = store.sum(&div)?;
+                let p1: Vec<(Form, Form)> = (0..4).map(|f| (contracted[f], dg[f][b][d])).collect();
+                let mut p2 = Vec::with_capacity(32);
+                for a in 0..4 {
+                    for f in 0..4 {
+                        p2.push((gm[f][a][b], dg[a][f][d]));
+                        p2.push((gm[f][a][d], dg[a][b][f]));
+                    }
+                }
+                let p3: Vec<(Form, Form)> = (0..4).map(|f| (gm[f][d][b], dtr[f])).collect();
+                let q1 = dot(store, &p1)?;
+                let q2 = dot(store, &p2)?;
+                let q3 = dot(store, &p3)?;
+                let ddtr = store.diff(dtr[b], bg.coords[d])?;
+                let v = store.linear(&[
+                    (&Coeff::one(), div),
+                    (&Coeff::one(), q1),
+                    (&Coeff::int(-1), q2),
+                    (&h.neg(), ddtr),
+                    (&h, q3),
+                ])?;
                 out[b][d] = v;
                 out[d][b] = v;
             }
