@@ -528,10 +528,10 @@ impl Perturbation {
     }
 
     /// dR_{bd} = D_a dGamma^a_{bd} - D_d dGamma^a_{ab}, with the contractions done first:
-    /// D_a dGamma^a_{bd} = d_a dGamma^a_bd + Gamma^a_af dGamma^f_bd - Gamma^f_ab dGamma^a_fd
-    /// - Gamma^f_ad dGamma^a_bf, and dGamma^a_{ab} = (1/2) d_b h with h = gbar^{ac} h_ac
-    /// (the other two terms of dGamma^a_ab cancel under the symmetric gbar^{ac}), so
-    /// D_d dGamma^a_{ab} = (1/2) (d_d d_b h - Gamma^f_db d_f h).
+    /// D_a dGamma^a_{bd} is `d_a dGamma^a_bd + Gamma^a_af dGamma^f_bd - Gamma^f_ab
+    /// dGamma^a_fd - Gamma^f_ad dGamma^a_bf`, and dGamma^a_{ab} = (1/2) d_b h with
+    /// h = gbar^{ac} h_ac (the other two terms of dGamma^a_ab cancel under the symmetric
+    /// gbar^{ac}), so D_d dGamma^a_{ab} = (1/2) (d_d d_b h - Gamma^f_db d_f h).
     ///
     /// # Errors
     ///
