@@ -34,9 +34,11 @@
 //!
 //! **Invariants:** exact forms only (no floating point); never prints.
 
+pub mod anomaly;
 pub mod claims;
 pub mod kepler;
 pub mod multipole;
+pub mod si;
 
 use crate::canon::{CResult, Coeff, Form, KernelId, Q, Store};
 use crate::problem::Body;
