@@ -63,6 +63,8 @@ mod handbook;
 mod problem_files;
 #[path = "soundness.rs"]
 mod soundness;
+#[path = "radiation_si_mpmath.rs"]
+mod radiation_si_mpmath;
 #[path = "sympy_cross.rs"]
 mod sympy_cross;
 #[path = "sympy_eccentric.rs"]

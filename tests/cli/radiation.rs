@@ -560,3 +560,115 @@ fn the_recoil_of_a_head_on_plunge_has_no_time_average() {
     assert_eq!(code, 3, "{out}{err}");
     assert!(out.contains("no time average of dP_x/dt"), "{out}");
 }
+
+/// `--mass-unit`: the worked circular binary's luminosity in watts is the closed form
+/// (32/5) m1^2 m2^2 M/R^5 (checks.md 2c) times c^5/G (common practice), its quadrupole
+/// frequency 2 w/(2 pi) in Hz with w = sqrt(M/R^3) in units of G M/c^3 (Kepler's third law),
+/// and the distance in metres; every SI number is audited.
+#[test]
+fn radiation_in_si_units() {
+    let f = worked("circular_binary.toml");
+    let args = [
+        "radiation",
+        &f,
+        "--direction",
+        "theta=pi/3,phi=0",
+        "--distance",
+        "1000",
+        "--mass-unit",
+        "2msun",
+        "--set",
+        "R=50",
+        "--at",
+        "3e-3 s",
+        "--format",
+        "json",
+    ];
+    let (out, err, code) = lingrav(&args);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let si = &j["si"];
+    let (c, g, gm_sun) = (299_792_458.0_f64, 6.674_30e-11_f64, 1.327_124_4e20_f64);
+    let gm = 2.0 * gm_sun;
+    let (m1, m2, r) = (1.3_f64, 0.9_f64, 50.0_f64);
+    let m = m1 + m2;
+    let lum = 32.0 / 5.0 * m1 * m1 * m2 * m2 * m / r.powi(5) * c.powi(5) / g;
+    let rel = |got: &serde_json::Value, want: f64| (got.as_f64().unwrap() / want - 1.0).abs();
+    assert!(rel(&si["averages"]["luminosity_w"], lum) < 1e-12, "{si}");
+    assert!(rel(&si["at"]["luminosity_w"], lum) < 1e-12, "{si}");
+    let w = (m / r.powi(3)).sqrt();
+    let f_gw = 2.0 * w / (2.0 * std::f64::consts::PI * (gm / c.powi(3)));
+    assert!(rel(&si["numbers"]["frequency_1_hz"], f_gw) < 1e-12, "{si}");
+    assert!(rel(&si["numbers"]["distance_m"], 1000.0 * gm / (c * c)) < 1e-12);
+    assert_eq!(si["set"], serde_json::json!(["R"]));
+    assert_eq!(si["values"]["R"], 50.0);
+    assert_eq!(si["audit"]["defect"], false);
+    assert!(si["audit"]["numbers"].as_u64().unwrap() >= 20);
+    // The strain at 60 degrees: h_plus^2/A_plus^2 + h_cross^2/A_cross^2 = 1 with
+    // A_plus = (4 mu M/(R d)) (1 + cos^2 i)/2, A_cross = (4 mu M/(R d)) cos i (checks.md 2c).
+    let amp = 4.0 * (m1 * m2 / m) * m / (r * 1000.0);
+    let (ap, ax) = (amp * (1.0 + 0.25) / 2.0, amp * 0.5);
+    let hp = si["at"]["h_plus"].as_f64().unwrap();
+    let hx = si["at"]["h_cross"].as_f64().unwrap();
+    assert!(((hp / ap).powi(2) + (hx / ax).powi(2) - 1.0).abs() < 1e-9, "{hp} {hx}");
+    // Text: the same numbers with their units, and the audit line.
+    let (text, err, code) = lingrav(&args[..args.len() - 2]);
+    assert_eq!(code, 0, "{err}");
+    assert!(text.contains(" W\n") && text.contains(" Hz\n") && text.contains(" N m\n"));
+    assert!(text.contains("SI numbers, with one mass unit = 2msun"), "{text}");
+    assert!(text.contains("SI numbers, the interval enclosure"), "{text}");
+    assert!(text.contains("consistent"), "{text}");
+}
+
+/// An eccentric binary in SI: the orbital period 2 pi/n in seconds, the instantaneous
+/// numbers at a time found by solving Kepler's equation, and an eccentricity parameter set out
+/// of range on the command line is bad input.
+#[test]
+fn eccentric_radiation_in_si_units() {
+    let f = worked("eccentric_binary.toml");
+    let args = [
+        "radiation",
+        &f,
+        "--mass-unit",
+        "1msun",
+        "--at",
+        "2h",
+        "--format",
+        "json",
+    ];
+    let (out, err, code) = lingrav(&args);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let si = &j["si"];
+    let (c, gm_sun) = (299_792_458.0_f64, 1.327_124_4e20_f64);
+    // Kepler's third law, a = 40, M = 2 (common practice).
+    let p = 2.0 * std::f64::consts::PI * (40.0_f64.powi(3) / 2.0).sqrt() * gm_sun / c.powi(3);
+    let got = si["numbers"]["orbital_period_s"].as_f64().unwrap();
+    assert!((got / p - 1.0).abs() < 1e-12, "{got} {p}");
+    assert!(si["at"]["luminosity_w"].as_f64().unwrap() > 0.0);
+    assert_eq!(si["audit"]["defect"], false);
+}
+
+#[test]
+fn radiation_si_bad_input() {
+    let f = worked("circular_binary.toml");
+    for (extra, needle) in [
+        (
+            vec!["--direction", "z", "--mass-unit", "1msun"],
+            "an SI strain needs a distance",
+        ),
+        (vec!["--mass-unit", "1.4kg"], "unknown unit `kg`"),
+        (vec!["--mass-unit", "-1msun"], "must be positive"),
+        (vec!["--mass-unit", "1", "--set", "w=3"], "is not a parameter"),
+        (vec!["--mass-unit", "1", "--set", "R=abc"], "not a finite number"),
+        (vec!["--mass-unit", "1", "--at", "3 parsecs"], "unknown unit"),
+        (vec!["--at", "1s"], "--mass-unit"),
+    ] {
+        let mut args = vec!["radiation", f.as_str()];
+        args.extend(extra.iter().copied());
+        let (out, err, code) = lingrav(&args);
+        assert_eq!(code, 2, "{args:?}: {out}{err}");
+        assert!(err.contains(needle), "{args:?}: {err}");
+        assert!(!err.contains("panicked"));
+    }
+}

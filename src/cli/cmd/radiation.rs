@@ -66,7 +66,7 @@ pub struct RadiationArgs {
     /// Also print the results as SI numbers: what one geometric unit of mass is, in solar
     /// masses (e.g. --mass-unit 1.4msun). Every parameter then takes its value from the file
     /// (or --set); a waveform needs --distance.
-    #[arg(long, value_name = "MASS")]
+    #[arg(long, value_name = "MASS", allow_hyphen_values = true)]
     mass_unit: Option<String>,
     /// A parameter's value for the SI numbers, e.g. --set R=40 (repeatable).
     #[arg(
@@ -76,8 +76,9 @@ pub struct RadiationArgs {
         requires = "mass_unit"
     )]
     set: Vec<String>,
-    /// The observer's time for instantaneous SI numbers (fluxes at the source, strain at the
-    /// observer), with a unit: s, h, d, yr (e.g. --at 0.01s).
+    /// A time at the source for instantaneous SI numbers, with a unit: s, h, d, yr (e.g. --at
+    /// 0.01s): the fluxes at that time, and the strain it sends, which reaches the observer
+    /// one distance later.
     #[arg(
         long,
         value_name = "TIME",
@@ -381,7 +382,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
             let src = super::radiation_si::Sources {
                 averages: avgs,
                 source,
-                waves: wave_rows.iter().map(|(n, f, _, _)| (n.to_string(), *n, *f)).collect(),
+                waves: wave_rows.iter().map(|(n, _, shifted, _)| (n.to_string(), *n, *shifted)).collect(),
                 distance: a.distance.as_ref().map(|_| distance),
                 quadrupole: clock.is_time().then_some((flat.as_slice(), rad.t)),
                 orbit: orbit_si.clone(),

@@ -107,7 +107,8 @@ pub struct Sources<'a> {
     pub averages: Vec<(String, &'static str, Option<Form>, Dimension)>,
     /// The instantaneous quantities at the source (in the clock's variable).
     pub source: Vec<(String, &'static str, Form, Dimension)>,
-    /// The waveform at the observer (strain; in t, or in the retarded anomaly).
+    /// The waveform as the source sends it at the clock's time (the observer's field shifted
+    /// by the distance, or for an eccentric orbit the field in the retarded anomaly).
     pub waves: Vec<(String, &'static str, Form)>,
     /// The distance, when a direction was given.
     pub distance: Option<Form>,
@@ -242,11 +243,7 @@ pub fn report(st: &mut Store, plan: &SiPlan, src: &Sources<'_>) -> Result<SiRepo
     let mut at_rows: Vec<Computed> = Vec::new();
     let mut acc = Audit::default();
     // The distance, the frequencies or the period.
-    let mut distance_geom = None;
     if let Some(d) = src.distance {
-        let n = si::number(st, d, &values, scale, Dimension::Strain)
-            .map_err(|e| no_value("the distance", &e))?;
-        distance_geom = Some(n.value());
         compute(
             st,
             &mut acc,
@@ -370,46 +367,48 @@ pub fn report(st: &mut Store, plan: &SiPlan, src: &Sources<'_>) -> Result<SiRepo
         let family: Vec<Item> = avg_items.iter().filter(|i| i.dim == dim).map(Item::copy).collect();
         compute(st, &mut acc, scale, &values, family, &mut avg_rows)?;
     }
-    // The instantaneous values at the observer's time.
+    // The instantaneous values at a time T at the source; the strain is the one it sends,
+    // which the observer receives at T + r (the waveform forms are given here shifted by the
+    // distance, so no large retarded phase is ever formed).
     let mut at_header = None;
     if let Some((seconds, written)) = &plan.at {
         let t_geom = seconds / scale.time_s();
-        let r = distance_geom.unwrap_or(0.0);
         let mut source_values = values.clone();
         let mut wave_values = values.clone();
         match (&src.orbit, orbit_values) {
             (Some((anomaly_name, _, _)), Some((n, e))) => {
-                let mut solve = |m: f64| -> Result<f64, Failure> {
-                    let x = anomaly::solve(m, e)
-                        .map_err(|err| Failure::Input(miette::miette!("--at {written}: {err}")))?;
-                    let y = anomaly::solve_by_bisection(m, e)
-                        .map_err(|err| Failure::Input(miette::miette!("--at {written}: {err}")))?;
-                    if (x - y).abs() > 1e-10 * (1.0 + m.abs()) {
-                        acc.defect = true;
-                        acc.defects.push(format!(
-                            "Kepler's equation at M = {m:e}: Newton {x:e}, bisection {y:e}"
-                        ));
-                    }
-                    // The bodies of a [binary] are functions of cos E and sin E, so every
-                    // quantity is 2 pi-periodic in E: evaluate at E reduced to [-pi, pi], where
-                    // the enclosures stay tight.
-                    let turns = (x / (2.0 * std::f64::consts::PI)).round();
-                    Ok(x - 2.0 * std::f64::consts::PI * turns)
-                };
-                let e_now = solve(n * t_geom)?;
-                let e_ret = solve(n * (t_geom - r))?;
-                source_values.push((anomaly_name.clone(), e_now));
-                wave_values.push((anomaly_name.clone(), e_ret));
+                let m = n * t_geom;
+                let x = anomaly::solve(m, e)
+                    .map_err(|err| Failure::Input(miette::miette!("--at {written}: {err}")))?;
+                let y = anomaly::solve_by_bisection(m, e)
+                    .map_err(|err| Failure::Input(miette::miette!("--at {written}: {err}")))?;
+                if (x - y).abs() > 1e-10 * (1.0 + m.abs()) {
+                    acc.defect = true;
+                    acc.defects.push(format!(
+                        "Kepler's equation at M = {m:e}: Newton {x:e}, bisection {y:e}"
+                    ));
+                }
+                // The bodies of a [binary] are functions of cos E and sin E, so every quantity
+                // is 2 pi-periodic in E: evaluate at E reduced to [-pi, pi], where the
+                // enclosures stay tight.
+                let turns = (x / (2.0 * std::f64::consts::PI)).round();
+                let reduced = x - 2.0 * std::f64::consts::PI * turns;
+                source_values.push((anomaly_name.clone(), reduced));
+                wave_values.push((anomaly_name.clone(), reduced));
                 at_header = Some(format!(
-                    "at t = {written} ({t_geom:.6e} time units; eccentric anomaly {e_now:.9} at \
-                     the source, {e_ret:.9} at the retarded time, modulo 2 pi, from Kepler's \
-                     equation by Newton's method, checked by bisection)"
+                    "at the source's time t = {written} ({t_geom:.6e} time units; eccentric \
+                     anomaly {reduced:.9} modulo 2 pi, from Kepler's equation by Newton's \
+                     method, checked by bisection); the strain is what the observer receives \
+                     one distance later"
                 ));
             }
             _ => {
                 source_values.push((src.t_name.clone(), t_geom));
                 wave_values.push((src.t_name.clone(), t_geom));
-                at_header = Some(format!("at t = {written} ({t_geom:.6e} time units)"));
+                at_header = Some(format!(
+                    "at the source's time t = {written} ({t_geom:.6e} time units); the strain \
+                     is what the observer receives one distance later"
+                ));
             }
         }
         values = source_values;
