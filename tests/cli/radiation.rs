@@ -313,21 +313,93 @@ fn an_eccentric_binary_is_checked_in_its_eccentric_anomaly() {
     assert_eq!(j["orbit"]["anomaly"], "E");
     assert_eq!(j["orbit"]["eccentricity"], "3/5");
     assert_eq!(j["audit"]["defect"], false);
+    // The picture against time: Kepler's equation solved for the retarded anomaly at each
+    // time, over exactly two orbital periods P = 2 pi sqrt(a^3/M) (Kepler's third law).
     let svg = dir.path().join("w.svg");
     let (_, err, code) = lingrav(&[
         "radiation",
         &f,
         "--direction",
-        "z",
+        "theta=pi/3,phi=0",
         "--distance",
         "R",
         "--time-range",
-        "0,10",
+        "0,4*pi*sqrt(a^3/(m1 + m2))",
         "--svg",
         svg.to_str().unwrap(),
     ]);
-    assert_eq!(code, 2, "{err}");
-    assert!(err.contains("eccentric anomaly"), "{err}");
+    assert_eq!(code, 0, "{err}");
+    let text = std::fs::read_to_string(&svg).unwrap();
+    assert_well_formed(&text);
+    // The checker itself rejects what is not well formed.
+    for bad in ["<svg><g></svg>", "<svg a=\"1></svg>", "<svg>a & b</svg>", "<svg>"] {
+        assert!(std::panic::catch_unwind(|| assert_well_formed(bad)).is_err(), "{bad}");
+    }
+    let curves = polylines(&text);
+    assert_eq!(curves.len(), 3, "h_plus, h_cross and the pattern");
+    assert!(text.contains("&lt;dP/dOmega&gt;"), "the pattern is orbit-averaged");
+    for c in &curves[..2] {
+        // 241 samples over two periods: sample k and k + 120 are one period apart.
+        assert_eq!(c.len(), 241);
+        let one_period = (0..121).map(|k| (c[k].1 - c[k + 120].1).abs()).fold(0.0, f64::max);
+        assert!(one_period <= 0.05, "not periodic with P: {one_period}");
+        // Not trivially so: the curve moves, and (unlike a circular orbit's, whose waves come
+        // at twice the orbital frequency) it does not repeat after half a period.
+        let (lo, hi) = c.iter().fold((f64::MAX, f64::MIN), |(l, h), p| (l.min(p.1), h.max(p.1)));
+        assert!(hi - lo > 50.0, "{lo} {hi}");
+        let half = (0..181).map(|k| (c[k].1 - c[k + 60].1).abs()).fold(0.0, f64::max);
+        assert!(half > 5.0, "{half}");
+    }
+}
+
+/// Checks that `text` is well-formed XML as far as an SVG of ours goes: every tag closed in
+/// order (or self-closing), attributes quoted, only the five predefined entities.
+fn assert_well_formed(text: &str) {
+    let mut stack: Vec<String> = Vec::new();
+    let mut rest = text;
+    while let Some(open) = rest.find('<') {
+        let between = &rest[..open];
+        for (i, _) in between.match_indices('&') {
+            let ent = &between[i..];
+            assert!(
+                ["&lt;", "&gt;", "&amp;", "&quot;", "&apos;"]
+                    .iter()
+                    .any(|e| ent.starts_with(e)),
+                "a bare & in text: {ent:.20}"
+            );
+        }
+        let close = rest[open..].find('>').expect("an unclosed tag") + open;
+        let tag = &rest[open + 1..close];
+        rest = &rest[close + 1..];
+        if tag.starts_with('?') || tag.starts_with('!') {
+            continue;
+        }
+        assert_eq!(tag.matches('"').count() % 2, 0, "unbalanced quotes in <{tag}>");
+        if let Some(name) = tag.strip_prefix('/') {
+            assert_eq!(stack.pop().as_deref(), Some(name.trim()), "mismatched </{name}>");
+        } else if !tag.ends_with('/') {
+            let name = tag.split_whitespace().next().unwrap().to_string();
+            stack.push(name);
+        }
+    }
+    assert!(stack.is_empty(), "unclosed: {stack:?}");
+    assert!(text.trim_start().starts_with("<svg") || text.trim_start().starts_with("<?xml"));
+}
+
+/// The points of every polyline of an SVG.
+fn polylines(text: &str) -> Vec<Vec<(f64, f64)>> {
+    text.lines()
+        .filter(|l| l.starts_with("<polyline"))
+        .map(|l| {
+            let pts = l.split("points=\"").nth(1).unwrap().split('"').next().unwrap();
+            pts.split_whitespace()
+                .map(|p| {
+                    let (x, y) = p.split_once(',').unwrap();
+                    (x.parse().unwrap(), y.parse().unwrap())
+                })
+                .collect()
+        })
+        .collect()
 }
 
 #[test]

@@ -159,13 +159,6 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
         }
         None => None,
     };
-    if a.svg.is_some() && p.orbit.is_some() {
-        return Err(Failure::Input(miette::miette!(
-            help = "leave out --svg; the exact forms are printed in the anomaly",
-            "--svg draws against time, and an eccentric orbit's forms are functions of its \
-             eccentric anomaly (no picture yet)"
-        )));
-    }
     let si_plan = match &a.mass_unit {
         Some(m) => {
             if dir.is_some() && a.distance.is_none() {
@@ -415,7 +408,8 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                 "{}: waveform at distance {distance_text} and angular pattern",
                 p.name.clone().unwrap_or_else(|| label.clone())
             );
-            let text = super::radiation_plot::picture(&mut p, &mut rad, wave, times, &title)?;
+            let text =
+                super::radiation_plot::picture(&mut p, &mut rad, (wave, distance), times, &title)?;
             write_atomic(t, &text)?;
             Some(t.path.display().to_string())
         }
