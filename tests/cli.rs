@@ -61,10 +61,10 @@ mod grid_cli;
 mod handbook;
 #[path = "problem_files.rs"]
 mod problem_files;
-#[path = "soundness.rs"]
-mod soundness;
 #[path = "radiation_si_mpmath.rs"]
 mod radiation_si_mpmath;
+#[path = "soundness.rs"]
+mod soundness;
 #[path = "sympy_cross.rs"]
 mod sympy_cross;
 #[path = "sympy_eccentric.rs"]

@@ -13,11 +13,56 @@ use std::path::Path;
 use std::process::Command;
 
 /// (label, m1, m2, a, e, mass unit in msun, distance, --at)
-const CASES: [(&str, &str, &str, &str, &str, &str, Option<&str>, Option<&str>); 4] = [
-    ("two neutron stars", "1", "0.93", "60", "0", "1.4", Some("3e17"), Some("0.002s")),
-    ("black holes", "36", "29", "400", "0", "1", Some("1e22"), Some("1.5s")),
-    ("eccentric pulsar", "1.44", "1.39", "1.3e6", "0.617", "1", Some("4.5e17"), None),
-    ("white dwarfs", "0.6", "0.4", "5e4", "9/10", "1.2", None, None),
+const CASES: [(
+    &str,
+    &str,
+    &str,
+    &str,
+    &str,
+    &str,
+    Option<&str>,
+    Option<&str>,
+); 4] = [
+    (
+        "two neutron stars",
+        "1",
+        "0.93",
+        "60",
+        "0",
+        "1.4",
+        Some("3e17"),
+        Some("0.002s"),
+    ),
+    (
+        "black holes",
+        "36",
+        "29",
+        "400",
+        "0",
+        "1",
+        Some("1e22"),
+        Some("1.5s"),
+    ),
+    (
+        "eccentric pulsar",
+        "1.44",
+        "1.39",
+        "1.3e6",
+        "0.617",
+        "1",
+        Some("4.5e17"),
+        None,
+    ),
+    (
+        "white dwarfs",
+        "0.6",
+        "0.4",
+        "5e4",
+        "9/10",
+        "1.2",
+        None,
+        None,
+    ),
 ];
 
 #[test]
@@ -70,8 +115,7 @@ fn si_numbers_agree_with_mpmath() {
         println!("skipped: mpmath SI radiation check: {why}");
         return;
     }
-    let script =
-        Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/mpmath/radiation_si_check.py");
+    let script = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/mpmath/radiation_si_check.py");
     let out = Command::new(&python)
         .arg(&script)
         .arg(&lines_path)

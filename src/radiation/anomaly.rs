@@ -90,8 +90,7 @@ pub fn solve(m: f64, e: f64) -> Result<f64, KeplerError> {
         } else {
             0.5 * (lo + hi)
         };
-        if (next - x).abs() <= 4.0 * f64::EPSILON * (1.0 + x.abs()) || hi - lo <= f64::EPSILON
-        {
+        if (next - x).abs() <= 4.0 * f64::EPSILON * (1.0 + x.abs()) || hi - lo <= f64::EPSILON {
             return Ok(turns + sign * next);
         }
         x = next;
@@ -161,7 +160,10 @@ mod tests {
     #[test]
     fn refuses_what_it_cannot_solve() {
         assert!(matches!(solve(1.0, 1.0), Err(KeplerError::Eccentricity(_))));
-        assert!(matches!(solve(1.0, -0.1), Err(KeplerError::Eccentricity(_))));
+        assert!(matches!(
+            solve(1.0, -0.1),
+            Err(KeplerError::Eccentricity(_))
+        ));
         assert!(matches!(
             solve(f64::NAN, 0.3),
             Err(KeplerError::MeanAnomaly(_))

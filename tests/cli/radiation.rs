@@ -130,10 +130,36 @@ fn bad_binaries_and_waveform_claims_name_their_place() {
             "has the value 1.5",
             ":2:6",
         ),
+        // An expression of parameters must be real and strictly inside (0, 1) near the
+        // parameters' values, use parameters only, and not be identically 0.
         (
-            "[parameters]\ne0 = 0.5\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 10\n\
+            "[parameters]\ne0 = 1.2\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 10\n\
              eccentricity = 'e0^2'\n",
-            "neither a number nor one parameter",
+            "is about 1.440000e0 at the file's parameter values, not certified",
+            ":7:16",
+        ),
+        (
+            "[parameters]\nb = 2.0\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 1\n\
+             eccentricity = 'sqrt(1 - b^2)'\n",
+            "is not a real number at the file's parameter values",
+            ":7:16",
+        ),
+        (
+            "[parameters]\nb = 0.5\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 1\n\
+             eccentricity = '2*b - 1'\n",
+            "the eccentricity 2*b - 1 is about",
+            ":7:16",
+        ),
+        (
+            "[parameters]\nb = 0.5\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 1\n\
+             eccentricity = 'b*cos(t)'\n",
+            "uses `t`, which is not a parameter",
+            ":7:16",
+        ),
+        (
+            "[parameters]\nb = 0.5\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 1\n\
+             eccentricity = 'b*(1 + sin(E))/2'\n",
+            "uses `E`, which is not a parameter",
             ":7:16",
         ),
         // The anomaly's name must be free: by default E, else the name written.
@@ -332,22 +358,39 @@ fn an_eccentric_binary_is_checked_in_its_eccentric_anomaly() {
     let text = std::fs::read_to_string(&svg).unwrap();
     assert_well_formed(&text);
     // The checker itself rejects what is not well formed.
-    for bad in ["<svg><g></svg>", "<svg a=\"1></svg>", "<svg>a & b</svg>", "<svg>"] {
-        assert!(std::panic::catch_unwind(|| assert_well_formed(bad)).is_err(), "{bad}");
+    for bad in [
+        "<svg><g></svg>",
+        "<svg a=\"1></svg>",
+        "<svg>a & b</svg>",
+        "<svg>",
+    ] {
+        assert!(
+            std::panic::catch_unwind(|| assert_well_formed(bad)).is_err(),
+            "{bad}"
+        );
     }
     let curves = polylines(&text);
     assert_eq!(curves.len(), 3, "h_plus, h_cross and the pattern");
-    assert!(text.contains("&lt;dP/dOmega&gt;"), "the pattern is orbit-averaged");
+    assert!(
+        text.contains("&lt;dP/dOmega&gt;"),
+        "the pattern is orbit-averaged"
+    );
     for c in &curves[..2] {
         // 241 samples over two periods: sample k and k + 120 are one period apart.
         assert_eq!(c.len(), 241);
-        let one_period = (0..121).map(|k| (c[k].1 - c[k + 120].1).abs()).fold(0.0, f64::max);
+        let one_period = (0..121)
+            .map(|k| (c[k].1 - c[k + 120].1).abs())
+            .fold(0.0, f64::max);
         assert!(one_period <= 0.05, "not periodic with P: {one_period}");
         // Not trivially so: the curve moves, and (unlike a circular orbit's, whose waves come
         // at twice the orbital frequency) it does not repeat after half a period.
-        let (lo, hi) = c.iter().fold((f64::MAX, f64::MIN), |(l, h), p| (l.min(p.1), h.max(p.1)));
+        let (lo, hi) = c
+            .iter()
+            .fold((f64::MAX, f64::MIN), |(l, h), p| (l.min(p.1), h.max(p.1)));
         assert!(hi - lo > 50.0, "{lo} {hi}");
-        let half = (0..181).map(|k| (c[k].1 - c[k + 60].1).abs()).fold(0.0, f64::max);
+        let half = (0..181)
+            .map(|k| (c[k].1 - c[k + 60].1).abs())
+            .fold(0.0, f64::max);
         assert!(half > 5.0, "{half}");
     }
 }
@@ -374,9 +417,17 @@ fn assert_well_formed(text: &str) {
         if tag.starts_with('?') || tag.starts_with('!') {
             continue;
         }
-        assert_eq!(tag.matches('"').count() % 2, 0, "unbalanced quotes in <{tag}>");
+        assert_eq!(
+            tag.matches('"').count() % 2,
+            0,
+            "unbalanced quotes in <{tag}>"
+        );
         if let Some(name) = tag.strip_prefix('/') {
-            assert_eq!(stack.pop().as_deref(), Some(name.trim()), "mismatched </{name}>");
+            assert_eq!(
+                stack.pop().as_deref(),
+                Some(name.trim()),
+                "mismatched </{name}>"
+            );
         } else if !tag.ends_with('/') {
             let name = tag.split_whitespace().next().unwrap().to_string();
             stack.push(name);
@@ -391,7 +442,13 @@ fn polylines(text: &str) -> Vec<Vec<(f64, f64)>> {
     text.lines()
         .filter(|l| l.starts_with("<polyline"))
         .map(|l| {
-            let pts = l.split("points=\"").nth(1).unwrap().split('"').next().unwrap();
+            let pts = l
+                .split("points=\"")
+                .nth(1)
+                .unwrap()
+                .split('"')
+                .next()
+                .unwrap();
             pts.split_whitespace()
                 .map(|p| {
                     let (x, y) = p.split_once(',').unwrap();
@@ -682,13 +739,22 @@ fn radiation_in_si_units() {
     let (ap, ax) = (amp * (1.0 + 0.25) / 2.0, amp * 0.5);
     let hp = si["at"]["h_plus"].as_f64().unwrap();
     let hx = si["at"]["h_cross"].as_f64().unwrap();
-    assert!(((hp / ap).powi(2) + (hx / ax).powi(2) - 1.0).abs() < 1e-9, "{hp} {hx}");
+    assert!(
+        ((hp / ap).powi(2) + (hx / ax).powi(2) - 1.0).abs() < 1e-9,
+        "{hp} {hx}"
+    );
     // Text: the same numbers with their units, and the audit line.
     let (text, err, code) = lingrav(&args[..args.len() - 2]);
     assert_eq!(code, 0, "{err}");
     assert!(text.contains(" W\n") && text.contains(" Hz\n") && text.contains(" N m\n"));
-    assert!(text.contains("SI numbers, with one mass unit = 2msun"), "{text}");
-    assert!(text.contains("SI numbers, the interval enclosure"), "{text}");
+    assert!(
+        text.contains("SI numbers, with one mass unit = 2msun"),
+        "{text}"
+    );
+    assert!(
+        text.contains("SI numbers, the interval enclosure"),
+        "{text}"
+    );
     assert!(text.contains("consistent"), "{text}");
 }
 
@@ -731,9 +797,18 @@ fn radiation_si_bad_input() {
         ),
         (vec!["--mass-unit", "1.4kg"], "unknown unit `kg`"),
         (vec!["--mass-unit", "-1msun"], "must be positive"),
-        (vec!["--mass-unit", "1", "--set", "w=3"], "is not a parameter"),
-        (vec!["--mass-unit", "1", "--set", "R=abc"], "not a finite number"),
-        (vec!["--mass-unit", "1", "--at", "3 parsecs"], "unknown unit"),
+        (
+            vec!["--mass-unit", "1", "--set", "w=3"],
+            "is not a parameter",
+        ),
+        (
+            vec!["--mass-unit", "1", "--set", "R=abc"],
+            "not a finite number",
+        ),
+        (
+            vec!["--mass-unit", "1", "--at", "3 parsecs"],
+            "unknown unit",
+        ),
         (vec!["--at", "1s"], "--mass-unit"),
     ] {
         let mut args = vec!["radiation", f.as_str()];
@@ -743,4 +818,58 @@ fn radiation_si_bad_input() {
         assert!(err.contains(needle), "{args:?}: {err}");
         assert!(!err.contains("panicked"));
     }
+}
+
+/// An eccentricity written as an expression of parameters (here from the axes of the ellipse,
+/// e = sqrt(1 - b^2/a^2)): Peters & Mathews' (1963) <L> holds for it, the condition 0 < e < 1
+/// is printed with the box of parameter values on which interval arithmetic certified it, and
+/// a wrong coefficient fails with a witness inside that box, where 0 < e < 1.
+#[test]
+fn an_eccentricity_written_as_an_expression_of_parameters() {
+    let dir = tempfile::tempdir().unwrap();
+    let text = |c37: &str| {
+        format!(
+            "[parameters]\nm1 = 1.4\nm2 = 0.6\na = 40.0\nb = 32.0\n[define]\n\
+             e = 'sqrt(1 - b^2/a^2)'\n[binary]\nm1 = 'm1'\nm2 = 'm2'\nsemimajor_axis = 'a'\n\
+             eccentricity = 'sqrt(1 - b^2/a^2)'\n[claims]\nluminosity_average = \
+             '(32/5)*(m1*m2)^2*(m1 + m2)/a^5*(1 + 73/24*e^2 + {c37}*e^4)/(1 - e^2)^(7/2)'\n"
+        )
+    };
+    let good = dir.path().join("good.toml");
+    std::fs::write(&good, text("37/96")).unwrap();
+    let g = good.to_str().unwrap();
+    let (out, err, code) = lingrav(&["check", g]);
+    assert_eq!(code, 0, "{out}{err}");
+    assert!(out.contains("ASSUMED: 0 < sqrt(1 - b^2/a^2) < 1"), "{out}");
+    let (out, err, code) = lingrav(&["radiation", g, "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let cond = j["orbit"]["condition"].as_str().unwrap();
+    assert!(cond.contains("a in [") && cond.contains("b in ["), "{cond}");
+    // The box: read it back and check e over its corners (b/a < 1 everywhere in it).
+    let bounds = |name: &str| -> (f64, f64) {
+        let s = cond.split(&format!("{name} in [")).nth(1).unwrap();
+        let (lo, rest) = s.split_once(", ").unwrap();
+        (
+            lo.parse().unwrap(),
+            rest.split(']').next().unwrap().parse().unwrap(),
+        )
+    };
+    let ((alo, ahi), (blo, bhi)) = (bounds("a"), bounds("b"));
+    assert!(alo <= 40.0 && 40.0 <= ahi && blo <= 32.0 && 32.0 <= bhi);
+    assert!(bhi < alo && blo > 0.0, "0 < e < 1 on the whole box");
+    let bad = dir.path().join("bad.toml");
+    std::fs::write(&bad, text("37/95")).unwrap();
+    let (out, err, code) = lingrav(&["check", bad.to_str().unwrap(), "--format", "json"]);
+    assert_eq!(code, 1, "{out}{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let point = &j["claims"][0]["components"][0]["witness"]["point"];
+    let value = |name: &str| point[name].as_f64().unwrap();
+    let (a, b) = (value("a"), value("b"));
+    assert!(
+        (alo..=ahi).contains(&a) && (blo..=bhi).contains(&b),
+        "{a} {b}"
+    );
+    let e = (1.0 - b * b / (a * a)).sqrt();
+    assert!(e > 0.0 && e < 1.0, "{e}");
 }

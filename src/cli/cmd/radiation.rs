@@ -348,34 +348,53 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     let si_report = match &si_plan {
         None => None,
         Some(plan) => {
-            let mut avgs = vec![("<L>".to_string(), "luminosity", average_forms[0], SiDim::Power)];
+            let mut avgs = vec![(
+                "<L>".to_string(),
+                "luminosity",
+                average_forms[0],
+                SiDim::Power,
+            )];
             let mut source = vec![("L".to_string(), "luminosity", lum, SiDim::Power)];
             for i in 0..3 {
                 avgs.push((
                     format!("<dJ_{}/dt>", AXES[i]),
-                    ["angular_momentum_flux_x", "angular_momentum_flux_y", "angular_momentum_flux_z"]
-                        [i],
+                    [
+                        "angular_momentum_flux_x",
+                        "angular_momentum_flux_y",
+                        "angular_momentum_flux_z",
+                    ][i],
                     average_forms[1 + i],
                     SiDim::Torque,
                 ));
                 source.push((
                     format!("dJ_{}/dt", AXES[i]),
-                    ["angular_momentum_flux_x", "angular_momentum_flux_y", "angular_momentum_flux_z"]
-                        [i],
+                    [
+                        "angular_momentum_flux_x",
+                        "angular_momentum_flux_y",
+                        "angular_momentum_flux_z",
+                    ][i],
                     dj[i],
                     SiDim::Torque,
                 ));
             }
             for (i, &f) in dp.iter().enumerate() {
                 let key = ["momentum_flux_x", "momentum_flux_y", "momentum_flux_z"][i];
-                avgs.push((format!("<dP_{}/dt>", AXES[i]), key, average_forms[4 + i], SiDim::Force));
+                avgs.push((
+                    format!("<dP_{}/dt>", AXES[i]),
+                    key,
+                    average_forms[4 + i],
+                    SiDim::Force,
+                ));
                 source.push((format!("dP_{}/dt", AXES[i]), key, f, SiDim::Force));
             }
             let flat: Vec<Form> = rad.trace_free.iter().flatten().copied().collect();
             let src = super::radiation_si::Sources {
                 averages: avgs,
                 source,
-                waves: wave_rows.iter().map(|(n, _, shifted, _)| (n.to_string(), *n, *shifted)).collect(),
+                waves: wave_rows
+                    .iter()
+                    .map(|(n, _, shifted, _)| (n.to_string(), *n, *shifted))
+                    .collect(),
                 distance: a.distance.as_ref().map(|_| distance),
                 quadrupole: clock.is_time().then_some((flat.as_slice(), rad.t)),
                 orbit: orbit_si.clone(),
@@ -447,6 +466,9 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                      0), n = {}, d/dt = n/(1 - e cos {an}) d/d{an}; averages are over one period",
                     o.eccentricity_text, o.mean_motion_text
                 );
+                if let Some(c) = &o.condition {
+                    let _ = writeln!(s, "ASSUMED: {c}");
+                }
             }
             for b in &p.bodies {
                 let _ = writeln!(
@@ -630,6 +652,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                     "eccentricity": o.eccentricity_text,
                     "mean_motion": o.mean_motion_text,
                     "kepler_equation": format!("n*t = {0} - e*sin({0})", o.anomaly),
+                    "condition": o.condition,
                 })),
                 "assumptions": assumptions,
                 "distance": dir.as_ref().map(|_| distance_text.clone()),

@@ -40,10 +40,16 @@ pub fn plan(
     at: Option<&str>,
 ) -> Result<SiPlan, Failure> {
     let help = "say what one geometric unit of mass is, in solar masses, e.g. --mass-unit 1.4msun";
-    let (gm, _) =
-        parse_quantity(mass_unit, Kind::Mass).map_err(|e| bad("--mass-unit", mass_unit, e, help))?;
-    let scale = Scale::new(gm / GM_SUN)
-        .ok_or_else(|| bad("--mass-unit", mass_unit, "the mass unit must be positive", help))?;
+    let (gm, _) = parse_quantity(mass_unit, Kind::Mass)
+        .map_err(|e| bad("--mass-unit", mass_unit, e, help))?;
+    let scale = Scale::new(gm / GM_SUN).ok_or_else(|| {
+        bad(
+            "--mass-unit",
+            mass_unit,
+            "the mass unit must be positive",
+            help,
+        )
+    })?;
     let (values, overridden) = plan_parameters(p, set)?;
     let at = match at {
         None => None,
@@ -201,7 +207,9 @@ fn compute(
                 acc.uncertified = true;
                 (
                     None,
-                    Some(format!("not certified: the enclosure is {rel:.1e} wide, relative")),
+                    Some(format!(
+                        "not certified: the enclosure is {rel:.1e} wide, relative"
+                    )),
                 )
             }
             Judgement::Disagree => {
@@ -257,29 +265,58 @@ pub fn report(st: &mut Store, plan: &SiPlan, src: &Sources<'_>) -> Result<SiRepo
     if let Some((_, n, e)) = &src.orbit {
         let nv = si::number(st, *n, &values, scale, Dimension::Strain)
             .map_err(|err| no_value("the mean motion", &err))?;
-        let ev = si::number(st, *e, &values, scale, Dimension::Strain)
-            .map_err(|err| no_value("the eccentricity", &err))?;
-        if !(ev.enclosure.lo() >= 0.0 && ev.enclosure.hi() < 1.0) {
+        let ev =
+            si::number(st, *e, &values, scale, Dimension::Strain).map_err(|err| match err {
+                si::SiError::NoValue(_) | si::SiError::Function(_) => {
+                    no_value("the eccentricity", &err)
+                }
+                _ => Failure::Input(miette::miette!(
+                    help = "a Kepler orbit has 0 < e < 1 here (e = 0 is a circular orbit: leave \
+                        the eccentricity out); change the values with --set",
+                    "--mass-unit: the eccentricity is not a real number in (0, 1) at these \
+                 parameter values ({err})"
+                )),
+            })?;
+        // Real (roots of certified positive radicands) and strictly inside (0, 1): the exact
+        // averages divide by e and take sqrt(1 - e^2).
+        let mut pt = crate::canon::Point::default();
+        for (name, v) in &values {
+            if let Some(i) = crate::interval::Interval::point(*v) {
+                let k = st.symbol_kernel(name);
+                pt.values
+                    .insert(k, crate::interval::CInterval::from_real(i));
+            }
+        }
+        if !(st.is_real_on(*e, &pt) && ev.enclosure.lo() > 0.0 && ev.enclosure.hi() < 1.0) {
             return Err(Failure::Input(miette::miette!(
-                help = "a Kepler orbit has 0 <= e < 1; change the values with --set",
+                help = "a Kepler orbit has 0 < e < 1 here (e = 0 is a circular orbit: leave \
+                        the eccentricity out); change the values with --set",
                 "--mass-unit: the eccentricity at these parameter values is {:e}, not \
-                 certified to lie in [0, 1)",
+                 certified to lie strictly between 0 and 1",
                 ev.value()
             )));
         }
         orbit_values = Some((nv.value(), ev.value()));
         let two_pi = st.int(2);
-        let pi = crate::expression(st, "pi")
-            .map_err(|e| Failure::Input(miette::miette!("{e}")))?;
-        let two_pi = st.mul(two_pi, pi).map_err(|e| crate::cli::out::gave_up(&e))?;
-        let period = st.div(two_pi, *n).map_err(|e| crate::cli::out::gave_up(&e))?;
+        let pi = crate::expression(st, "pi").map_err(|e| Failure::Input(miette::miette!("{e}")))?;
+        let two_pi = st
+            .mul(two_pi, pi)
+            .map_err(|e| crate::cli::out::gave_up(&e))?;
+        let period = st
+            .div(two_pi, *n)
+            .map_err(|e| crate::cli::out::gave_up(&e))?;
         compute(
             st,
             &mut acc,
             scale,
             &values,
             vec![
-                Item::new("orbital period 2 pi/n", "orbital_period", period, Dimension::Time),
+                Item::new(
+                    "orbital period 2 pi/n",
+                    "orbital_period",
+                    period,
+                    Dimension::Time,
+                ),
                 Item::new(
                     "orbital frequency n/(2 pi)",
                     "orbital_frequency",
@@ -295,7 +332,8 @@ pub fn report(st: &mut Store, plan: &SiPlan, src: &Sources<'_>) -> Result<SiRepo
         let mut forms = Vec::new();
         let mut shaped = true;
         for &f in q {
-            match crate::radiation::frequencies(st, f, t).map_err(|e| crate::cli::out::gave_up(&e))?
+            match crate::radiation::frequencies(st, f, t)
+                .map_err(|e| crate::cli::out::gave_up(&e))?
             {
                 Some(ws) => {
                     for w in ws {
@@ -316,9 +354,7 @@ pub fn report(st: &mut Store, plan: &SiPlan, src: &Sources<'_>) -> Result<SiRepo
                 &values,
                 forms
                     .iter()
-                    .map(|&w| {
-                        Item::new("frequency", "frequency", w, Dimension::AngularFrequency)
-                    })
+                    .map(|&w| Item::new("frequency", "frequency", w, Dimension::AngularFrequency))
                     .collect(),
                 &mut fr,
             )?;
@@ -364,7 +400,11 @@ pub fn report(st: &mut Store, plan: &SiPlan, src: &Sources<'_>) -> Result<SiRepo
     }
     // Judged per dimension, so that each family has its own floor.
     for dim in [Dimension::Power, Dimension::Torque, Dimension::Force] {
-        let family: Vec<Item> = avg_items.iter().filter(|i| i.dim == dim).map(Item::copy).collect();
+        let family: Vec<Item> = avg_items
+            .iter()
+            .filter(|i| i.dim == dim)
+            .map(Item::copy)
+            .collect();
         compute(st, &mut acc, scale, &values, family, &mut avg_rows)?;
     }
     // The instantaneous values at a time T at the source; the strain is the one it sends,
@@ -495,7 +535,10 @@ pub fn report(st: &mut Store, plan: &SiPlan, src: &Sources<'_>) -> Result<SiRepo
         if acc.defect {
             "DISAGREE".to_string()
         } else {
-            format!("consistent (largest relative difference {:.1e})", acc.largest)
+            format!(
+                "consistent (largest relative difference {:.1e})",
+                acc.largest
+            )
         }
     );
     for d in &acc.defects {
