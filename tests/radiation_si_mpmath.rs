@@ -12,57 +12,54 @@ use std::io::Write as _;
 use std::path::Path;
 use std::process::Command;
 
-/// (label, m1, m2, a, e, mass unit in msun, distance, --at)
-const CASES: [(
-    &str,
-    &str,
-    &str,
-    &str,
-    &str,
-    &str,
-    Option<&str>,
-    Option<&str>,
-); 4] = [
-    (
-        "two neutron stars",
-        "1",
-        "0.93",
-        "60",
-        "0",
-        "1.4",
-        Some("3e17"),
-        Some("0.002s"),
-    ),
-    (
-        "black holes",
-        "36",
-        "29",
-        "400",
-        "0",
-        "1",
-        Some("1e22"),
-        Some("1.5s"),
-    ),
-    (
-        "eccentric pulsar",
-        "1.44",
-        "1.39",
-        "1.3e6",
-        "0.617",
-        "1",
-        Some("4.5e17"),
-        None,
-    ),
-    (
-        "white dwarfs",
-        "0.6",
-        "0.4",
-        "5e4",
-        "9/10",
-        "1.2",
-        None,
-        None,
-    ),
+/// One binary: label, m1, m2, a, e, the mass unit in msun, the distance, `--at`.
+struct Case {
+    label: &'static str,
+    masses: (&'static str, &'static str),
+    a: &'static str,
+    e: &'static str,
+    unit: &'static str,
+    distance: Option<&'static str>,
+    at: Option<&'static str>,
+}
+
+const CASES: [Case; 4] = [
+    Case {
+        label: "two neutron stars",
+        masses: ("1", "0.93"),
+        a: "60",
+        e: "0",
+        unit: "1.4",
+        distance: Some("3e17"),
+        at: Some("0.002s"),
+    },
+    Case {
+        label: "black holes",
+        masses: ("36", "29"),
+        a: "400",
+        e: "0",
+        unit: "1",
+        distance: Some("1e22"),
+        at: Some("1.5s"),
+    },
+    Case {
+        label: "eccentric pulsar",
+        masses: ("1.44", "1.39"),
+        a: "1.3e6",
+        e: "0.617",
+        unit: "1",
+        distance: Some("4.5e17"),
+        at: None,
+    },
+    Case {
+        label: "white dwarfs",
+        masses: ("0.6", "0.4"),
+        a: "5e4",
+        e: "9/10",
+        unit: "1.2",
+        distance: None,
+        at: None,
+    },
 ];
 
 #[test]
@@ -71,7 +68,16 @@ fn si_numbers_agree_with_mpmath() {
     let dir = tempfile::tempdir().unwrap();
     let lines_path = dir.path().join("cases.jsonl");
     let mut lines = std::fs::File::create(&lines_path).unwrap();
-    for (k, (label, m1, m2, a, e, unit, distance, at)) in CASES.iter().enumerate() {
+    for (k, c) in CASES.iter().enumerate() {
+        let Case {
+            label,
+            masses: (m1, m2),
+            a,
+            e,
+            unit,
+            distance,
+            at,
+        } = c;
         let ecc = if *e == "0" {
             String::new()
         } else {
