@@ -787,6 +787,42 @@ fn eccentric_radiation_in_si_units() {
     assert_eq!(si["audit"]["defect"], false);
 }
 
+/// A time so late that the orbital phase w t is beyond double precision: the oscillating
+/// numbers are said to be not certified (exit 3), never printed as if they were; the constant
+/// luminosity still is.
+#[test]
+fn radiation_si_numbers_that_cannot_be_certified() {
+    let f = worked("circular_binary.toml");
+    let args = [
+        "radiation",
+        &f,
+        "--direction",
+        "z",
+        "--distance",
+        "1e6",
+        "--mass-unit",
+        "1msun",
+        "--at",
+        "1e9yr",
+    ];
+    let (out, err, code) = lingrav(&args);
+    assert_eq!(code, 3, "{out}{err}");
+    // The last h_plus line is the SI one (the first is the exact form).
+    let h = out
+        .lines()
+        .filter(|l| l.trim_start().starts_with("h_plus "))
+        .last()
+        .unwrap();
+    assert!(h.contains("not certified: the enclosure"), "{h}");
+    assert!(out.contains("not certified (exit 3)"), "{out}");
+    let l = out
+        .lines()
+        .filter(|l| l.trim_start().starts_with("L "))
+        .last()
+        .unwrap();
+    assert!(l.ends_with(" W"), "{l}");
+}
+
 #[test]
 fn radiation_si_bad_input() {
     let f = worked("circular_binary.toml");

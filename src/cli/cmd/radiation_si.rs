@@ -172,7 +172,7 @@ struct Audit {
     audited: usize,
     largest: f64,
     defect: bool,
-    uncertified: bool,
+    uncertified: usize,
     defects: Vec<String>,
 }
 
@@ -203,12 +203,15 @@ fn compute(
                 acc.largest = acc.largest.max(d);
                 (Some(n.value()), None)
             }
-            Judgement::Wide(rel) => {
-                acc.uncertified = true;
+            Judgement::Wide(_) => {
+                acc.uncertified += 1;
                 (
                     None,
                     Some(format!(
-                        "not certified: the enclosure is {rel:.1e} wide, relative"
+                        "not certified: the enclosure [{:.3e}, {:.3e}] is wider than 1e-9 \
+                         relative (at large times a phase w t is beyond double precision)",
+                        n.enclosure.lo(),
+                        n.enclosure.hi()
                     )),
                 )
             }
@@ -534,6 +537,12 @@ pub fn report(st: &mut Store, plan: &SiPlan, src: &Sources<'_>) -> Result<SiRepo
         acc.audited,
         if acc.defect {
             "DISAGREE".to_string()
+        } else if acc.uncertified > 0 {
+            format!(
+                "consistent where certified (largest relative difference {:.1e}); {} not \
+                 certified (exit 3)",
+                acc.largest, acc.uncertified
+            )
         } else {
             format!(
                 "consistent (largest relative difference {:.1e})",
@@ -580,12 +589,13 @@ pub fn report(st: &mut Store, plan: &SiPlan, src: &Sources<'_>) -> Result<SiRepo
             .map(|n| (c.key.clone(), serde_json::json!(n))))
             .collect::<serde_json::Map<_, _>>(),
         "audit": { "numbers": acc.audited, "defect": acc.defect,
+                   "not_certified": acc.uncertified,
                    "largest_relative_difference": acc.largest, "defects": acc.defects },
     });
     Ok(SiReport {
         text: s,
         json,
         defect: acc.defect,
-        uncertified: acc.uncertified,
+        uncertified: acc.uncertified > 0,
     })
 }
