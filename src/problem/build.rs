@@ -604,10 +604,25 @@ impl Builder<'_> {
         let bad = |b: &Self, why: String| b.err(why, e_text.token, "here").with_help(help);
         match symbols.as_slice() {
             [] => {
-                let value = self.store.eval_interval(e, &crate::canon::Point::default());
-                let inside = value.is_some_and(|z| {
-                    z.im.lo() == 0.0 && z.im.hi() == 0.0 && z.re.lo() >= 0.0 && z.re.hi() < 1.0
-                });
+                let at = crate::canon::Point::default();
+                let value = self.store.eval_interval(e, &at);
+                // Real: exactly (a rational or surd coefficient), or shown real (a root of a
+                // certified positive number, `sqrt(1/3)`), and then its real part is its value.
+                let real = value.is_some_and(|z| z.im.lo() == 0.0 && z.im.hi() == 0.0)
+                    || self.store.is_real_on(e, &at);
+                let inside = real && value.is_some_and(|z| z.re.lo() >= 0.0 && z.re.hi() < 1.0);
+                // An expression that is 0 (`1/2 - 1/2`; the number 0 itself is read as a
+                // circular orbit) would be an eccentric orbit whose averages divide by e.
+                if self.store.is_zero(e) {
+                    return Err(bad(
+                        self,
+                        format!(
+                            "the eccentricity {} is 0: a circular orbit, written without \
+                             eccentricity (the eccentric anomaly's averages divide by e)",
+                            e_text.text
+                        ),
+                    ));
+                }
                 if !inside {
                     return Err(bad(
                         self,

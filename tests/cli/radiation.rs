@@ -151,6 +151,11 @@ fn bad_binaries_and_waveform_claims_name_their_place() {
             ":7:16",
         ),
         (
+            "[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 1\neccentricity = '1/2 - 1/2'\n",
+            "the eccentricity 1/2 - 1/2 is 0: a circular orbit",
+            ":5:16",
+        ),
+        (
             "[parameters]\nb = 0.5\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 1\n\
              eccentricity = 'b*cos(t)'\n",
             "uses `t`, which is not a parameter",

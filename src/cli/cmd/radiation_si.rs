@@ -418,6 +418,11 @@ pub fn report(st: &mut Store, plan: &SiPlan, src: &Sources<'_>) -> Result<SiRepo
         let t_geom = seconds / scale.time_s();
         let mut source_values = values.clone();
         let mut wave_values = values.clone();
+        let strain_note = if src.waves.is_empty() {
+            ""
+        } else {
+            "; the strain is what the observer receives one distance later"
+        };
         match (&src.orbit, orbit_values) {
             (Some((anomaly_name, _, _)), Some((n, e))) => {
                 let m = n * t_geom;
@@ -441,16 +446,14 @@ pub fn report(st: &mut Store, plan: &SiPlan, src: &Sources<'_>) -> Result<SiRepo
                 at_header = Some(format!(
                     "at the source's time t = {written} ({t_geom:.6e} time units; eccentric \
                      anomaly {reduced:.9} modulo 2 pi, from Kepler's equation by Newton's \
-                     method, checked by bisection); the strain is what the observer receives \
-                     one distance later"
+                     method, checked by bisection){strain_note}"
                 ));
             }
             _ => {
                 source_values.push((src.t_name.clone(), t_geom));
                 wave_values.push((src.t_name.clone(), t_geom));
                 at_header = Some(format!(
-                    "at the source's time t = {written} ({t_geom:.6e} time units); the strain \
-                     is what the observer receives one distance later"
+                    "at the source's time t = {written} ({t_geom:.6e} time units){strain_note}"
                 ));
             }
         }
