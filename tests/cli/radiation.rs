@@ -815,15 +815,13 @@ fn radiation_si_numbers_that_cannot_be_certified() {
     // The last h_plus line is the SI one (the first is the exact form).
     let h = out
         .lines()
-        .filter(|l| l.trim_start().starts_with("h_plus "))
-        .last()
+        .rfind(|l| l.trim_start().starts_with("h_plus "))
         .unwrap();
     assert!(h.contains("not certified: the enclosure"), "{h}");
     assert!(out.contains("not certified (exit 3)"), "{out}");
     let l = out
         .lines()
-        .filter(|l| l.trim_start().starts_with("L "))
-        .last()
+        .rfind(|l| l.trim_start().starts_with("L "))
         .unwrap();
     assert!(l.ends_with(" W"), "{l}");
 }
