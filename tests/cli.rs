@@ -61,6 +61,8 @@ mod grid_cli;
 mod handbook;
 #[path = "problem_files.rs"]
 mod problem_files;
+#[path = "radiation_si_mpmath.rs"]
+mod radiation_si_mpmath;
 #[path = "soundness.rs"]
 mod soundness;
 #[path = "sympy_cross.rs"]

@@ -1545,6 +1545,38 @@ impl Store {
         true
     }
 
+    /// True when `f` is shown real for every value of its symbols in `pt` (intervals: a box):
+    /// as [`Store::is_real_shown`], except that a root or a logarithm counts as real when its
+    /// argument is itself shown real and its enclosure over `pt` is certified positive (the
+    /// principal root or logarithm of a positive real is real). `false` means "not shown".
+    pub fn is_real_on(&mut self, f: Form, pt: &Point) -> bool {
+        let mut self_conjugate = vec![f];
+        for k in self.reachable_kernels(f) {
+            match self.kernel(k).clone() {
+                Kernel::Sym(_) | Kernel::Pi => {}
+                Kernel::Atan(a) | Kernel::Func { arg: a, .. } => self_conjugate.push(a),
+                Kernel::Root { radicand: a, .. } | Kernel::Log(a) => {
+                    // Every kernel `a` reaches is reached from `f` too, so checked here as well.
+                    match self.eval_interval(a, pt) {
+                        Some(z) if z.re.lo() > 0.0 => self_conjugate.push(a),
+                        _ => return false,
+                    }
+                }
+            }
+        }
+        self_conjugate.sort();
+        self_conjugate.dedup();
+        for g in self_conjugate {
+            let Ok(c) = self.conj_formal(g) else {
+                return false;
+            };
+            if c != g && self.sub(g, c) != Ok(self.zero) {
+                return false;
+            }
+        }
+        true
+    }
+
     /// The formal conjugate of `f`: every coefficient and every exponent conjugated, kernels
     /// kept as they are (so it is the complex conjugate when the kernels are real).
     pub fn conj_formal(&mut self, f: Form) -> CResult<Form> {

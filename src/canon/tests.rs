@@ -485,3 +485,35 @@ fn abs_is_sqrt_of_square_for_real_arguments_only() {
         );
     }
 }
+
+/// `is_real_on`: roots and logarithms count as real only where their argument is certified
+/// positive on the box; otherwise not shown real.
+#[test]
+fn real_on_a_box() {
+    let mut st = Store::new();
+    let boxed = |st: &mut Store, name: &str, lo: f64, hi: f64| {
+        let mut pt = Point::default();
+        let k = st.symbol_kernel(name);
+        let iv = crate::interval::Interval::new(lo, hi).unwrap();
+        pt.values
+            .insert(k, crate::interval::CInterval::from_real(iv));
+        pt
+    };
+    let e = form(&mut st, "sqrt(1 - b^2)");
+    let inside = boxed(&mut st, "b", 0.1, 0.5);
+    let across = boxed(&mut st, "b", 0.5, 1.5);
+    assert!(st.is_real_on(e, &inside));
+    assert!(!st.is_real_on(e, &across));
+    assert!(
+        !st.is_real_shown(e),
+        "roots are never shown real without a box"
+    );
+    let l = form(&mut st, "log(1 + b^2) + sqrt(2)*b");
+    assert!(st.is_real_on(l, &across));
+    let c = form(&mut st, "b*sqrt(-1 - b^2)");
+    assert!(!st.is_real_on(c, &inside));
+    let nested = form(&mut st, "sqrt(sqrt(1 - b) - 1/2)");
+    // sqrt(1 - b) - 1/2 > 0 needs b < 3/4: certified on [0.1, 0.5], not on [0.5, 1.5].
+    assert!(st.is_real_on(nested, &inside));
+    assert!(!st.is_real_on(nested, &across));
+}

@@ -279,6 +279,7 @@ Examples:
   lingrav radiation worked/circular_binary.toml --direction theta=pi/3,phi=0 --distance 1e6
   lingrav radiation worked/recoil_binary.toml --direction z --format json
   lingrav radiation worked/eccentric_binary.toml --direction z --distance R
+  lingrav radiation worked/circular_binary.toml --direction z --distance 1e15 --mass-unit 1.4msun --at 0.01s
 
 The source is the file's [[body]] tables (mass, position as functions of t; a rigid body adds
 principal moments, an axis and an angle) or its [binary] (circular: in t; eccentric: in its
@@ -300,6 +301,18 @@ h_cross_next} (i, j, k in x, y, z; symmetric tensors by their sorted indices), e
 expression and audit; averages.{L, dJ_i/dt, dP_i/dt}; next_order_refused (null or the
 reason); assumptions (what was assumed of rigid bodies); dipole_accelerates, direction,
 distance, conventions, audit.
+
+SI numbers (--mass-unit: one geometric unit of mass, in msun; lengths are then in G M/c^2,
+times in G M/c^3): the parameters take the file's values (--set NAME=VALUE overrides), and
+the distance (m), the frequencies of Q_ij (Hz) or an eccentric orbit's period (s), the
+averaged luminosity (W, L c^5/G), angular-momentum flux (N m, dJ/dt M c^2) and momentum
+flux (N, c^4/G) are printed; --at T adds the instantaneous values at the source's time T and
+the strain it sends (received one distance later). JSON: si.{numbers, averages, at} with
+unit suffixes (distance_m, luminosity_w, angular_momentum_flux_z_n_m, momentum_flux_x_n,
+orbital_period_s, frequency_1_hz, h_plus), si.audit. Each SI number is the enclosure of the
+exact form times the factor, checked against a floating-point evaluation of the printed
+text: a disagreement is an INTERNAL DEFECT (exit 1), an enclosure wider than 1e-9 relative
+is not printed (exit 3).
 
 Every printed form is audited against its definition evaluated from the bodies' texts by an
 independent route (certified jets); a disagreement is an INTERNAL DEFECT (exit 1).")]

@@ -175,6 +175,60 @@ pub fn numbers(
     Ok(out)
 }
 
+/// Parameter values in file order, and the names set on the command line.
+pub type Parameters = (Vec<(String, f64)>, Vec<String>);
+
+/// `--set NAME=VALUE` entries applied to the file's parameter values (`export`, and the SI
+/// numbers of `radiation`).
+pub fn plan_parameters(p: &Problem, set: &[String]) -> Result<Parameters, Failure> {
+    let mut params = p.parameters.clone();
+    let mut overridden = Vec::new();
+    for s in set {
+        let arg = Arg::new("--set", s);
+        let Some((name, value)) = s.split_once('=') else {
+            return Err(arg_failure(
+                arg.error("expected NAME=VALUE", crate::Span::new(0, s.len()), "here")
+                    .with_help("e.g. --set A=1e-6"),
+            ));
+        };
+        let name_t = name.trim();
+        let Some(slot) = params.iter_mut().find(|(n, _)| n == name_t) else {
+            let known: Vec<&str> = p.parameters.iter().map(|(n, _)| n.as_str()).collect();
+            let help = if known.is_empty() {
+                "this problem has no [parameters]".to_string()
+            } else {
+                format!("the parameters are {}", known.join(", "))
+            };
+            return Err(arg_failure(
+                arg.error(
+                    format!("`{name_t}` is not a parameter of this problem"),
+                    crate::Span::new(0, name.len()),
+                    "unknown",
+                )
+                .with_help(help),
+            ));
+        };
+        let v: f64 = match value.trim().parse::<f64>() {
+            Ok(v) if v.is_finite() => v,
+            _ => {
+                return Err(arg_failure(
+                    arg.error(
+                        format!("`{}` is not a finite number", value.trim()),
+                        crate::Span::new(name.len() + 1, s.len()),
+                        "not a number",
+                    )
+                    .with_help("e.g. --set A=1e-6"),
+                ));
+            }
+        };
+        slot.1 = v;
+        if !overridden.iter().any(|o| o == name_t) {
+            overridden.push(name_t.to_string());
+        }
+    }
+    Ok((params, overridden))
+}
+
 /// Parses and builds one command-line expression, with errors pointing into it. A size or
 /// time limit reached while building is not bad input: it ends the command as undecided.
 pub fn build_arg(store: &mut Store, text: &str, label: &str) -> Result<Form, Failure> {

@@ -14,7 +14,8 @@
 //! - **Circular** (no `eccentricity`, or the number 0): `(X, Y) = a (cos n t, sin n t)`, so
 //!   `phase` is the orbital phase at t = 0 measured from the line of nodes. The bodies are
 //!   functions of the time coordinate (exactly the expansion of earlier versions).
-//! - **Eccentric** (`0 <= e < 1`, a number or a parameter): the bodies are functions of the
+//! - **Eccentric** (`0 <= e < 1`, a number, a parameter, or an expression of parameters
+//!   certified in (0, 1) on a box around their values, see `problem::build`): the bodies are functions of the
 //!   eccentric anomaly, named by `anomaly` (default `E`): `X = a (cos E - e)`,
 //!   `Y = a sqrt(1 - e^2) sin E` (focus at the origin of the relative orbit, periapsis along
 //!   +X at E = 0), and time enters only through Kepler's equation `n t = E - e sin E`: the
@@ -30,7 +31,8 @@ use crate::expr::Span;
 
 /// What to write in a `[binary]` table.
 pub const BINARY_HELP: &str = "[binary] takes m1, m2, semimajor_axis or period (one of them), \
-    and optionally eccentricity (0 <= e < 1: a number or a parameter; 0 means circular), \
+    and optionally eccentricity (0 <= e < 1: a number, a parameter, or an expression of \
+    parameters strictly between 0 and 1 at their values; 0 means circular), \
     anomaly (the name of the eccentric anomaly, default E), inclination, node and phase \
     (radians); at inclination 0 the orbit is in the x-y plane, turning counterclockwise about \
     +z; an eccentric orbit is written in its eccentric anomaly, n t = E - e sin E";
@@ -49,7 +51,7 @@ pub struct BinarySpec {
     pub semimajor_axis: Option<ExprText>,
     /// The orbital period.
     pub period: Option<ExprText>,
-    /// The eccentricity, `0 <= e < 1` (a number or a parameter).
+    /// The eccentricity, `0 <= e < 1` (a number, a parameter or an expression of parameters).
     pub eccentricity: Option<ExprText>,
     /// The name of the eccentric anomaly (eccentric orbits only).
     pub anomaly: Option<ExprText>,

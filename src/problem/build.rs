@@ -594,18 +594,35 @@ impl Builder<'_> {
         names: &Names,
         (sampling, ranges): (&mut Sampling, &mut ParameterRanges),
     ) -> Result<super::KeplerOrbit, ProblemError> {
-        let help = "give the eccentricity as a number, eccentricity = 0.5, or as one \
-                    parameter with its value in [0, 1), eccentricity = 'e0'";
+        let help = "give the eccentricity as a number, eccentricity = 0.5, as one parameter \
+                    with its value in [0, 1), eccentricity = 'e0', or as an expression of \
+                    parameters whose value is in (0, 1), eccentricity = 'sqrt(1 - b^2/a^2)'";
+        let mut condition_text = None;
         let e_text = &o.eccentricity;
         let e = self.parse_and_build(e_text, names)?;
         let symbols = self.store.free_symbols(e);
         let bad = |b: &Self, why: String| b.err(why, e_text.token, "here").with_help(help);
         match symbols.as_slice() {
             [] => {
-                let value = self.store.eval_interval(e, &crate::canon::Point::default());
-                let inside = value.is_some_and(|z| {
-                    z.im.lo() == 0.0 && z.im.hi() == 0.0 && z.re.lo() >= 0.0 && z.re.hi() < 1.0
-                });
+                let at = crate::canon::Point::default();
+                let value = self.store.eval_interval(e, &at);
+                // Real: exactly (a rational or surd coefficient), or shown real (a root of a
+                // certified positive number, `sqrt(1/3)`), and then its real part is its value.
+                let real = value.is_some_and(|z| z.im.lo() == 0.0 && z.im.hi() == 0.0)
+                    || self.store.is_real_on(e, &at);
+                let inside = real && value.is_some_and(|z| z.re.lo() >= 0.0 && z.re.hi() < 1.0);
+                // An expression that is 0 (`1/2 - 1/2`; the number 0 itself is read as a
+                // circular orbit) would be an eccentric orbit whose averages divide by e.
+                if self.store.is_zero(e) {
+                    return Err(bad(
+                        self,
+                        format!(
+                            "the eccentricity {} is 0: a circular orbit, written without \
+                             eccentricity (the eccentric anomaly's averages divide by e)",
+                            e_text.text
+                        ),
+                    ));
+                }
                 if !inside {
                     return Err(bad(
                         self,
@@ -642,14 +659,9 @@ impl Builder<'_> {
                 sampling.ranges.insert(k, (0.0, 1.0));
                 ranges.push((name.to_string(), (0.0, 1.0)));
             }
-            _ => {
-                return Err(bad(
-                    self,
-                    format!(
-                        "the eccentricity {} is neither a number nor one parameter",
-                        e_text.text
-                    ),
-                ));
+            syms => {
+                let condition = self.eccentricity_box(e, e_text, syms, (sampling, ranges))?;
+                condition_text = Some(condition);
             }
         }
         let generated = |text: &str| ExprText {
@@ -671,7 +683,137 @@ impl Builder<'_> {
             mean_motion_text: o.mean_motion.clone(),
             rate,
             frame,
+            condition: condition_text,
         })
+    }
+
+    /// An eccentricity written as an expression of parameters: every name in it a parameter,
+    /// not identically 0, and a box of parameter values around the file's values on which
+    /// interval arithmetic certifies `0 < e < 1`. The parameters of `e` are then confined to
+    /// that box for the zero test's and the audit's points (`sampling.ranges`,
+    /// `parameter_ranges`), so that every point where a verdict is certified is one where the
+    /// orbit's formulas hold (the exact averages divide by `e` and take `sqrt(1 - e^2)`).
+    /// Returns the condition as printed, with the box.
+    fn eccentricity_box(
+        &mut self,
+        e: Form,
+        e_text: &ExprText,
+        symbols: &[Rc<str>],
+        (sampling, ranges): (&mut Sampling, &mut ParameterRanges),
+    ) -> Result<String, ProblemError> {
+        let help = "an eccentricity expression may use parameters only, and its value at the \
+                    file's parameter values must lie strictly between 0 and 1 (e = 0 is a \
+                    circular orbit: leave eccentricity out)";
+        let bad = |b: &Self, why: String| b.err(why, e_text.token, "here").with_help(help);
+        let mut values = Vec::with_capacity(symbols.len());
+        for name in symbols {
+            match self.file.parameters.iter().find(|p| *p.name == **name) {
+                Some(p) => values.push((name.to_string(), p.value)),
+                None => {
+                    return Err(bad(
+                        self,
+                        format!(
+                            "the eccentricity {} uses `{name}`, which is not a parameter",
+                            e_text.text
+                        ),
+                    ));
+                }
+            }
+        }
+        if let Some(f) = self.store.functions_used(e).first() {
+            return Err(bad(
+                self,
+                format!(
+                    "the eccentricity {} uses the arbitrary function `{f}`",
+                    e_text.text
+                ),
+            ));
+        }
+        // The box: each parameter within delta of its value (relative, at least 1e-3
+        // absolute), delta halved from 1/4 until the enclosure of e over the whole box lies
+        // in (0, 1).
+        let kernels: Vec<_> = values
+            .iter()
+            .map(|(n, _)| self.store.symbol_kernel(n))
+            .collect();
+        let mut delta = 0.25_f64;
+        let mut found = None;
+        let mut at_values = None;
+        for _ in 0..24 {
+            let mut pt = crate::canon::Point::default();
+            let mut boxes = Vec::with_capacity(values.len());
+            for ((name, v), k) in values.iter().zip(&kernels) {
+                let w = delta * v.abs().max(1e-3);
+                let (mut lo, mut hi) = (v - w, v + w);
+                // A [domain] range already confining the name is kept.
+                if let Some(&(dlo, dhi)) = sampling.ranges.get(k) {
+                    lo = lo.max(dlo);
+                    hi = hi.min(dhi);
+                }
+                let Some(iv) = crate::interval::Interval::new(lo.min(*v), hi.max(*v)) else {
+                    return Err(bad(
+                        self,
+                        format!("the parameter `{name}` has no finite range"),
+                    ));
+                };
+                pt.values
+                    .insert(*k, crate::interval::CInterval::from_real(iv));
+                boxes.push((name.clone(), (iv.lo(), iv.hi())));
+            }
+            if at_values.is_none() {
+                let mut exact = crate::canon::Point::default();
+                for ((_, v), k) in values.iter().zip(&kernels) {
+                    if let Some(iv) = crate::interval::Interval::point(*v) {
+                        exact
+                            .values
+                            .insert(*k, crate::interval::CInterval::from_real(iv));
+                    }
+                }
+                at_values = Some(self.store.eval_interval(e, &exact));
+            }
+            // Real on the box (roots of certified positive radicands), and its real part,
+            // which is then its value, inside (0, 1).
+            let inside = self.store.is_real_on(e, &pt)
+                && self
+                    .store
+                    .eval_interval(e, &pt)
+                    .is_some_and(|z| z.re.lo() > 0.0 && z.re.hi() < 1.0);
+            if inside {
+                found = Some(boxes);
+                break;
+            }
+            delta *= 0.5;
+        }
+        let Some(boxes) = found else {
+            let value = match at_values.flatten() {
+                Some(z) if z.im.mag() <= 1e-12 * (1.0 + z.re.mag()) => {
+                    format!("about {:.6e}", z.re.mid())
+                }
+                _ => "not a real number".to_string(),
+            };
+            return Err(bad(
+                self,
+                format!(
+                    "the eccentricity {} is {value} at the file's parameter values, not \
+                     certified to lie strictly between 0 and 1 near them (a Kepler orbit is a \
+                     bound ellipse; the exact averages divide by e)",
+                    e_text.text
+                ),
+            ));
+        };
+        let mut parts = Vec::with_capacity(boxes.len());
+        for ((name, (lo, hi)), k) in boxes.into_iter().zip(kernels) {
+            sampling.ranges.insert(k, (lo, hi));
+            ranges.retain(|(n, _)| *n != name);
+            ranges.push((name.clone(), (lo, hi)));
+            parts.push(format!("{name} in [{lo:.6e}, {hi:.6e}]"));
+        }
+        Ok(format!(
+            "0 < {} < 1 (the exact averages assume it; certified by interval arithmetic for {}, \
+             where the checks sample these parameters)",
+            e_text.text,
+            parts.join(", ")
+        ))
     }
 
     /// The bodies in the orbit's own frame and the rotation `Rz(node) Rx(i) Rz(phase)`.

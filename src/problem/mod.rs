@@ -340,6 +340,10 @@ pub struct KeplerOrbit {
     /// into space, `x_space = R x_plane`. Radiation computes in the orbit's frame and turns
     /// the results (the luminosity is invariant), which keeps the forms small.
     pub frame: Option<(Vec<Body>, [[Form; 3]; 3])>,
+    /// For an eccentricity written as an expression of parameters: the condition `0 < e < 1`
+    /// the exact averages assume, with the box of parameter values on which it was certified
+    /// (the checks sample the parameters inside it). `None` for a number or one parameter.
+    pub condition: Option<String>,
 }
 
 /// A point mass built: mass and position as forms, with their texts.

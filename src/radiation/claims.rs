@@ -1112,6 +1112,9 @@ fn decide_group(
         _ => "the quadrupole formula",
     };
     let mut method = format!("exact: the claimed expression minus {formula} of the bodies");
+    if let Some(c) = p.orbit.as_ref().and_then(|o| o.condition.as_ref()) {
+        method.push_str(&format!("; ASSUMED: {c}"));
+    }
     if let Some(why) = why_not {
         method.push_str(&format!("; {why}"));
     } else if !audited.is_empty() {

@@ -20,8 +20,15 @@
 //! `A(k, m) = (1/(2 pi)) int exp(i k E)/D^m dE = (-2/e)^m (1/(2 pi i)) oint z^(k+m-1) /
 //! ((z - z0)^m (z - z1)^m) dz`.
 //!
-//! Soundness, for `0 < e < 1` (the problem reader confines the eccentricity to `[0, 1)`, and
-//! e = 0 is the circular orbit, written in t): `s` is the principal square root of
+//! Soundness, for `0 < e < 1`. The problem reader makes sure of it where verdicts are
+//! certified: a number must be certified in `[0, 1)` (the number 0 is the circular orbit,
+//! written in t); one parameter is sampled inside `(0, 1)`; an expression of parameters must be
+//! shown real and certified strictly inside `(0, 1)` by interval arithmetic on a box around the
+//! parameters' values, and its parameters are then sampled only inside that box (by the zero
+//! test and the audit), so every witness and audited point has `0 < e < 1`; the condition is
+//! printed (`KeplerOrbit::condition`). `e = 0` must be excluded, not only `e >= 1`: the
+//! residues divide by `e` (the average is continuous at `e = 0`, but the printed form is not
+//! evaluable there). For such `e`: `s` is the principal square root of
 //! `1 - e^2 > 0`, so `0 < s < 1`; `z0 z1 = 1` and `0 < z0 < 1` (as `1 - s < e` iff
 //! `(1 - e)^2 < 1 - e^2` iff `e < 1`), so `z0` is the only zero of `D` inside the unit circle
 //! and `z1` lies outside; neither is on it. Since `A(k, m)` is real and even in `k`

@@ -34,9 +34,11 @@
 //!
 //! **Invariants:** exact forms only (no floating point); never prints.
 
+pub mod anomaly;
 pub mod claims;
 pub mod kepler;
 pub mod multipole;
+pub mod si;
 
 use crate::canon::{CResult, Coeff, Form, KernelId, Q, Store};
 use crate::problem::Body;
@@ -610,6 +612,39 @@ pub fn time_average(store: &mut Store, f: Form, t: KernelId) -> CResult<Average>
     }
     let num = store.sum(&kept)?;
     Ok(Average::Exact(store.div(num, den_form)?))
+}
+
+/// The angular frequencies `w` of a form that is a sum of `c exp(i w t)` (each up to its
+/// sign, in no particular order, repeats possible), or `None` when it is not of that shape
+/// (the shape [`time_average`] accepts). For the SI numbers: the frequencies the quadrupole,
+/// and so the waveform, contains.
+///
+/// # Errors
+///
+/// An algebra limit.
+pub fn frequencies(store: &mut Store, f: Form, t: KernelId) -> CResult<Option<Vec<Form>>> {
+    if matches!(time_average(store, f, t)?, Average::NotPeriodic(_)) {
+        return Ok(None);
+    }
+    let view = store.view(f);
+    let terms = view.numerator().owned_terms();
+    let mut out = Vec::new();
+    for term in &terms {
+        let Some(e) = term.exp else { continue };
+        let rate = store.diff(e, t)?;
+        if store.is_zero(rate) {
+            continue;
+        }
+        match store.exponent_parts(rate) {
+            crate::canon::ExpSplit::Parts { im, .. } => {
+                if !out.contains(&im) {
+                    out.push(im);
+                }
+            }
+            crate::canon::ExpSplit::Whole(_) => return Ok(None),
+        }
+    }
+    Ok(Some(out))
 }
 
 #[cfg(test)]

@@ -130,10 +130,41 @@ fn bad_binaries_and_waveform_claims_name_their_place() {
             "has the value 1.5",
             ":2:6",
         ),
+        // An expression of parameters must be real and strictly inside (0, 1) near the
+        // parameters' values, use parameters only, and not be identically 0.
         (
-            "[parameters]\ne0 = 0.5\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 10\n\
+            "[parameters]\ne0 = 1.2\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 10\n\
              eccentricity = 'e0^2'\n",
-            "neither a number nor one parameter",
+            "is about 1.440000e0 at the file's parameter values, not certified",
+            ":7:16",
+        ),
+        (
+            "[parameters]\nb = 2.0\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 1\n\
+             eccentricity = 'sqrt(1 - b^2)'\n",
+            "is not a real number at the file's parameter values",
+            ":7:16",
+        ),
+        (
+            "[parameters]\nb = 0.5\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 1\n\
+             eccentricity = '2*b - 1'\n",
+            "the eccentricity 2*b - 1 is about",
+            ":7:16",
+        ),
+        (
+            "[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 1\neccentricity = '1/2 - 1/2'\n",
+            "the eccentricity 1/2 - 1/2 is 0: a circular orbit",
+            ":5:16",
+        ),
+        (
+            "[parameters]\nb = 0.5\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 1\n\
+             eccentricity = 'b*cos(t)'\n",
+            "uses `t`, which is not a parameter",
+            ":7:16",
+        ),
+        (
+            "[parameters]\nb = 0.5\n[binary]\nm1 = 1\nm2 = 2\nsemimajor_axis = 1\n\
+             eccentricity = 'b*(1 + sin(E))/2'\n",
+            "uses `E`, which is not a parameter",
             ":7:16",
         ),
         // The anomaly's name must be free: by default E, else the name written.
@@ -313,21 +344,124 @@ fn an_eccentric_binary_is_checked_in_its_eccentric_anomaly() {
     assert_eq!(j["orbit"]["anomaly"], "E");
     assert_eq!(j["orbit"]["eccentricity"], "3/5");
     assert_eq!(j["audit"]["defect"], false);
+    // The picture against time: Kepler's equation solved for the retarded anomaly at each
+    // time, over exactly two orbital periods P = 2 pi sqrt(a^3/M) (Kepler's third law).
     let svg = dir.path().join("w.svg");
     let (_, err, code) = lingrav(&[
         "radiation",
         &f,
         "--direction",
-        "z",
+        "theta=pi/3,phi=0",
         "--distance",
         "R",
         "--time-range",
-        "0,10",
+        "0,4*pi*sqrt(a^3/(m1 + m2))",
         "--svg",
         svg.to_str().unwrap(),
     ]);
-    assert_eq!(code, 2, "{err}");
-    assert!(err.contains("eccentric anomaly"), "{err}");
+    assert_eq!(code, 0, "{err}");
+    let text = std::fs::read_to_string(&svg).unwrap();
+    assert_well_formed(&text);
+    // The checker itself rejects what is not well formed.
+    for bad in [
+        "<svg><g></svg>",
+        "<svg a=\"1></svg>",
+        "<svg>a & b</svg>",
+        "<svg>",
+    ] {
+        assert!(
+            std::panic::catch_unwind(|| assert_well_formed(bad)).is_err(),
+            "{bad}"
+        );
+    }
+    let curves = polylines(&text);
+    assert_eq!(curves.len(), 3, "h_plus, h_cross and the pattern");
+    assert!(
+        text.contains("&lt;dP/dOmega&gt;"),
+        "the pattern is orbit-averaged"
+    );
+    for c in &curves[..2] {
+        // 241 samples over two periods: sample k and k + 120 are one period apart.
+        assert_eq!(c.len(), 241);
+        let one_period = (0..121)
+            .map(|k| (c[k].1 - c[k + 120].1).abs())
+            .fold(0.0, f64::max);
+        assert!(one_period <= 0.05, "not periodic with P: {one_period}");
+        // Not trivially so: the curve moves, and (unlike a circular orbit's, whose waves come
+        // at twice the orbital frequency) it does not repeat after half a period.
+        let (lo, hi) = c
+            .iter()
+            .fold((f64::MAX, f64::MIN), |(l, h), p| (l.min(p.1), h.max(p.1)));
+        assert!(hi - lo > 50.0, "{lo} {hi}");
+        let half = (0..181)
+            .map(|k| (c[k].1 - c[k + 60].1).abs())
+            .fold(0.0, f64::max);
+        assert!(half > 5.0, "{half}");
+    }
+}
+
+/// Checks that `text` is well-formed XML as far as an SVG of ours goes: every tag closed in
+/// order (or self-closing), attributes quoted, only the five predefined entities.
+fn assert_well_formed(text: &str) {
+    let mut stack: Vec<String> = Vec::new();
+    let mut rest = text;
+    while let Some(open) = rest.find('<') {
+        let between = &rest[..open];
+        for (i, _) in between.match_indices('&') {
+            let ent = &between[i..];
+            assert!(
+                ["&lt;", "&gt;", "&amp;", "&quot;", "&apos;"]
+                    .iter()
+                    .any(|e| ent.starts_with(e)),
+                "a bare & in text: {ent:.20}"
+            );
+        }
+        let close = rest[open..].find('>').expect("an unclosed tag") + open;
+        let tag = &rest[open + 1..close];
+        rest = &rest[close + 1..];
+        if tag.starts_with('?') || tag.starts_with('!') {
+            continue;
+        }
+        assert_eq!(
+            tag.matches('"').count() % 2,
+            0,
+            "unbalanced quotes in <{tag}>"
+        );
+        if let Some(name) = tag.strip_prefix('/') {
+            assert_eq!(
+                stack.pop().as_deref(),
+                Some(name.trim()),
+                "mismatched </{name}>"
+            );
+        } else if !tag.ends_with('/') {
+            let name = tag.split_whitespace().next().unwrap().to_string();
+            stack.push(name);
+        }
+    }
+    assert!(stack.is_empty(), "unclosed: {stack:?}");
+    assert!(text.trim_start().starts_with("<svg") || text.trim_start().starts_with("<?xml"));
+}
+
+/// The points of every polyline of an SVG.
+fn polylines(text: &str) -> Vec<Vec<(f64, f64)>> {
+    text.lines()
+        .filter(|l| l.starts_with("<polyline"))
+        .map(|l| {
+            let pts = l
+                .split("points=\"")
+                .nth(1)
+                .unwrap()
+                .split('"')
+                .next()
+                .unwrap();
+            pts.split_whitespace()
+                .map(|p| {
+                    let (x, y) = p.split_once(',').unwrap();
+                    (x.parse().unwrap(), y.parse().unwrap())
+                })
+                .collect()
+        })
+        .collect()
 }
 
 #[test]
@@ -559,4 +693,222 @@ fn the_recoil_of_a_head_on_plunge_has_no_time_average() {
     let (out, err, code) = lingrav(&["check", p.to_str().unwrap()]);
     assert_eq!(code, 3, "{out}{err}");
     assert!(out.contains("no time average of dP_x/dt"), "{out}");
+}
+
+/// `--mass-unit`: the worked circular binary's luminosity in watts is the closed form
+/// (32/5) m1^2 m2^2 M/R^5 (checks.md 2c) times c^5/G (common practice), its quadrupole
+/// frequency 2 w/(2 pi) in Hz with w = sqrt(M/R^3) in units of G M/c^3 (Kepler's third law),
+/// and the distance in metres; every SI number is audited.
+#[test]
+fn radiation_in_si_units() {
+    let f = worked("circular_binary.toml");
+    let args = [
+        "radiation",
+        &f,
+        "--direction",
+        "theta=pi/3,phi=0",
+        "--distance",
+        "1000",
+        "--mass-unit",
+        "2msun",
+        "--set",
+        "R=50",
+        "--at",
+        "3e-3 s",
+        "--format",
+        "json",
+    ];
+    let (out, err, code) = lingrav(&args);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let si = &j["si"];
+    let (c, g, gm_sun) = (299_792_458.0_f64, 6.674_30e-11_f64, 1.327_124_4e20_f64);
+    let gm = 2.0 * gm_sun;
+    let (m1, m2, r) = (1.3_f64, 0.9_f64, 50.0_f64);
+    let m = m1 + m2;
+    let lum = 32.0 / 5.0 * m1 * m1 * m2 * m2 * m / r.powi(5) * c.powi(5) / g;
+    let rel = |got: &serde_json::Value, want: f64| (got.as_f64().unwrap() / want - 1.0).abs();
+    assert!(rel(&si["averages"]["luminosity_w"], lum) < 1e-12, "{si}");
+    assert!(rel(&si["at"]["luminosity_w"], lum) < 1e-12, "{si}");
+    let w = (m / r.powi(3)).sqrt();
+    let f_gw = 2.0 * w / (2.0 * std::f64::consts::PI * (gm / c.powi(3)));
+    assert!(rel(&si["numbers"]["frequency_1_hz"], f_gw) < 1e-12, "{si}");
+    assert!(rel(&si["numbers"]["distance_m"], 1000.0 * gm / (c * c)) < 1e-12);
+    assert_eq!(si["set"], serde_json::json!(["R"]));
+    assert_eq!(si["values"]["R"], 50.0);
+    assert_eq!(si["audit"]["defect"], false);
+    assert!(si["audit"]["numbers"].as_u64().unwrap() >= 20);
+    // The strain at 60 degrees: h_plus^2/A_plus^2 + h_cross^2/A_cross^2 = 1 with
+    // A_plus = (4 mu M/(R d)) (1 + cos^2 i)/2, A_cross = (4 mu M/(R d)) cos i (checks.md 2c).
+    let amp = 4.0 * (m1 * m2 / m) * m / (r * 1000.0);
+    let (ap, ax) = (amp * (1.0 + 0.25) / 2.0, amp * 0.5);
+    let hp = si["at"]["h_plus"].as_f64().unwrap();
+    let hx = si["at"]["h_cross"].as_f64().unwrap();
+    assert!(
+        ((hp / ap).powi(2) + (hx / ax).powi(2) - 1.0).abs() < 1e-9,
+        "{hp} {hx}"
+    );
+    // Text: the same numbers with their units, and the audit line.
+    let (text, err, code) = lingrav(&args[..args.len() - 2]);
+    assert_eq!(code, 0, "{err}");
+    assert!(text.contains(" W\n") && text.contains(" Hz\n") && text.contains(" N m\n"));
+    assert!(
+        text.contains("SI numbers, with one mass unit = 2msun"),
+        "{text}"
+    );
+    assert!(
+        text.contains("SI numbers, the interval enclosure"),
+        "{text}"
+    );
+    assert!(text.contains("consistent"), "{text}");
+}
+
+/// An eccentric binary in SI: the orbital period 2 pi/n in seconds, the instantaneous
+/// numbers at a time found by solving Kepler's equation, and an eccentricity parameter set out
+/// of range on the command line is bad input.
+#[test]
+fn eccentric_radiation_in_si_units() {
+    let f = worked("eccentric_binary.toml");
+    let args = [
+        "radiation",
+        &f,
+        "--mass-unit",
+        "1msun",
+        "--at",
+        "2h",
+        "--format",
+        "json",
+    ];
+    let (out, err, code) = lingrav(&args);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let si = &j["si"];
+    let (c, gm_sun) = (299_792_458.0_f64, 1.327_124_4e20_f64);
+    // Kepler's third law, a = 40, M = 2 (common practice).
+    let p = 2.0 * std::f64::consts::PI * (40.0_f64.powi(3) / 2.0).sqrt() * gm_sun / c.powi(3);
+    let got = si["numbers"]["orbital_period_s"].as_f64().unwrap();
+    assert!((got / p - 1.0).abs() < 1e-12, "{got} {p}");
+    assert!(si["at"]["luminosity_w"].as_f64().unwrap() > 0.0);
+    assert_eq!(si["audit"]["defect"], false);
+}
+
+/// A time so late that the orbital phase w t is beyond double precision: the oscillating
+/// numbers are said to be not certified (exit 3), never printed as if they were; the constant
+/// luminosity still is.
+#[test]
+fn radiation_si_numbers_that_cannot_be_certified() {
+    let f = worked("circular_binary.toml");
+    let args = [
+        "radiation",
+        &f,
+        "--direction",
+        "z",
+        "--distance",
+        "1e6",
+        "--mass-unit",
+        "1msun",
+        "--at",
+        "1e9yr",
+    ];
+    let (out, err, code) = lingrav(&args);
+    assert_eq!(code, 3, "{out}{err}");
+    // The last h_plus line is the SI one (the first is the exact form).
+    let h = out
+        .lines()
+        .rfind(|l| l.trim_start().starts_with("h_plus "))
+        .unwrap();
+    assert!(h.contains("not certified: the enclosure"), "{h}");
+    assert!(out.contains("not certified (exit 3)"), "{out}");
+    let l = out
+        .lines()
+        .rfind(|l| l.trim_start().starts_with("L "))
+        .unwrap();
+    assert!(l.ends_with(" W"), "{l}");
+}
+
+#[test]
+fn radiation_si_bad_input() {
+    let f = worked("circular_binary.toml");
+    for (extra, needle) in [
+        (
+            vec!["--direction", "z", "--mass-unit", "1msun"],
+            "an SI strain needs a distance",
+        ),
+        (vec!["--mass-unit", "1.4kg"], "unknown unit `kg`"),
+        (vec!["--mass-unit", "-1msun"], "must be positive"),
+        (
+            vec!["--mass-unit", "1", "--set", "w=3"],
+            "is not a parameter",
+        ),
+        (
+            vec!["--mass-unit", "1", "--set", "R=abc"],
+            "not a finite number",
+        ),
+        (
+            vec!["--mass-unit", "1", "--at", "3 parsecs"],
+            "unknown unit",
+        ),
+        (vec!["--at", "1s"], "--mass-unit"),
+    ] {
+        let mut args = vec!["radiation", f.as_str()];
+        args.extend(extra.iter().copied());
+        let (out, err, code) = lingrav(&args);
+        assert_eq!(code, 2, "{args:?}: {out}{err}");
+        assert!(err.contains(needle), "{args:?}: {err}");
+        assert!(!err.contains("panicked"));
+    }
+}
+
+/// An eccentricity written as an expression of parameters (here from the axes of the ellipse,
+/// e = sqrt(1 - b^2/a^2)): Peters & Mathews' (1963) <L> holds for it, the condition 0 < e < 1
+/// is printed with the box of parameter values on which interval arithmetic certified it, and
+/// a wrong coefficient fails with a witness inside that box, where 0 < e < 1.
+#[test]
+fn an_eccentricity_written_as_an_expression_of_parameters() {
+    let dir = tempfile::tempdir().unwrap();
+    let text = |c37: &str| {
+        format!(
+            "[parameters]\nm1 = 1.4\nm2 = 0.6\na = 40.0\nb = 32.0\n[define]\n\
+             e = 'sqrt(1 - b^2/a^2)'\n[binary]\nm1 = 'm1'\nm2 = 'm2'\nsemimajor_axis = 'a'\n\
+             eccentricity = 'sqrt(1 - b^2/a^2)'\n[claims]\nluminosity_average = \
+             '(32/5)*(m1*m2)^2*(m1 + m2)/a^5*(1 + 73/24*e^2 + {c37}*e^4)/(1 - e^2)^(7/2)'\n"
+        )
+    };
+    let good = dir.path().join("good.toml");
+    std::fs::write(&good, text("37/96")).unwrap();
+    let g = good.to_str().unwrap();
+    let (out, err, code) = lingrav(&["check", g]);
+    assert_eq!(code, 0, "{out}{err}");
+    assert!(out.contains("ASSUMED: 0 < sqrt(1 - b^2/a^2) < 1"), "{out}");
+    let (out, err, code) = lingrav(&["radiation", g, "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let cond = j["orbit"]["condition"].as_str().unwrap();
+    assert!(cond.contains("a in [") && cond.contains("b in ["), "{cond}");
+    // The box: read it back and check e over its corners (b/a < 1 everywhere in it).
+    let bounds = |name: &str| -> (f64, f64) {
+        let s = cond.split(&format!("{name} in [")).nth(1).unwrap();
+        let (lo, rest) = s.split_once(", ").unwrap();
+        (
+            lo.parse().unwrap(),
+            rest.split(']').next().unwrap().parse().unwrap(),
+        )
+    };
+    let ((alo, ahi), (blo, bhi)) = (bounds("a"), bounds("b"));
+    assert!(alo <= 40.0 && 40.0 <= ahi && blo <= 32.0 && 32.0 <= bhi);
+    assert!(bhi < alo && blo > 0.0, "0 < e < 1 on the whole box");
+    let bad = dir.path().join("bad.toml");
+    std::fs::write(&bad, text("37/95")).unwrap();
+    let (out, err, code) = lingrav(&["check", bad.to_str().unwrap(), "--format", "json"]);
+    assert_eq!(code, 1, "{out}{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let point = &j["claims"][0]["components"][0]["witness"]["point"];
+    let value = |name: &str| point[name].as_f64().unwrap();
+    let (a, b) = (value("a"), value("b"));
+    assert!(
+        (alo..=ahi).contains(&a) && (blo..=bhi).contains(&b),
+        "{a} {b}"
+    );
+    let e = (1.0 - b * b / (a * a)).sqrt();
+    assert!(e > 0.0 && e < 1.0, "{e}");
 }

@@ -8,7 +8,7 @@
 
 use crate::cli::limits::LimitArgs;
 use crate::cli::out::{Failure, Outcome, file_failure, gave_up, limit_or, print};
-use crate::cli::plan::arg_failure;
+use crate::cli::plan::plan_parameters;
 use crate::cli::quantities::{
     QuantityArgs, WriteArgs, columns, direction_json, frame_texts, plan_quantities,
 };
@@ -17,7 +17,6 @@ use crate::export::points::{Grid, PointSet, read_points};
 use crate::export::write::{AtomicFile, FileError, Format, RowWriter, commit_with_sidecar};
 use crate::export::{ExportError, Numeric, Settings, SidecarInfo, evaluate, sidecar};
 use crate::problem::{Problem, ProblemError};
-use crate::tt::Arg;
 use clap::{Args, ValueEnum};
 use std::path::{Path, PathBuf};
 
@@ -87,59 +86,6 @@ pub struct ExportArgs {
     write: WriteArgs,
     #[command(flatten)]
     limits: LimitArgs,
-}
-
-/// Parameter values in file order, and the names set on the command line.
-type Parameters = (Vec<(String, f64)>, Vec<String>);
-
-/// `--set NAME=VALUE` entries applied to the file's parameter values.
-fn plan_parameters(p: &Problem, set: &[String]) -> Result<Parameters, Failure> {
-    let mut params = p.parameters.clone();
-    let mut overridden = Vec::new();
-    for s in set {
-        let arg = Arg::new("--set", s);
-        let Some((name, value)) = s.split_once('=') else {
-            return Err(arg_failure(
-                arg.error("expected NAME=VALUE", crate::Span::new(0, s.len()), "here")
-                    .with_help("e.g. --set A=1e-6"),
-            ));
-        };
-        let name_t = name.trim();
-        let Some(slot) = params.iter_mut().find(|(n, _)| n == name_t) else {
-            let known: Vec<&str> = p.parameters.iter().map(|(n, _)| n.as_str()).collect();
-            let help = if known.is_empty() {
-                "this problem has no [parameters]".to_string()
-            } else {
-                format!("the parameters are {}", known.join(", "))
-            };
-            return Err(arg_failure(
-                arg.error(
-                    format!("`{name_t}` is not a parameter of this problem"),
-                    crate::Span::new(0, name.len()),
-                    "unknown",
-                )
-                .with_help(help),
-            ));
-        };
-        let v: f64 = match value.trim().parse::<f64>() {
-            Ok(v) if v.is_finite() => v,
-            _ => {
-                return Err(arg_failure(
-                    arg.error(
-                        format!("`{}` is not a finite number", value.trim()),
-                        crate::Span::new(name.len() + 1, s.len()),
-                        "not a number",
-                    )
-                    .with_help("e.g. --set A=1e-6"),
-                ));
-            }
-        };
-        slot.1 = v;
-        if !overridden.iter().any(|o| o == name_t) {
-            overridden.push(name_t.to_string());
-        }
-    }
-    Ok((params, overridden))
 }
 
 fn plan_points(p: &Problem, a: &ExportArgs) -> Result<PointSet, Failure> {

@@ -16,6 +16,7 @@ pub mod grid;
 pub mod project;
 pub mod radiation;
 mod radiation_plot;
+mod radiation_si;
 pub mod response;
 pub mod ring;
 pub mod show;

@@ -10,6 +10,7 @@ use crate::cli::out::{Failure, Outcome, gave_up, print};
 use crate::cli::plan::{build_arg, numbers, plan_direction, plan_optional_output, write_atomic};
 use crate::cli::report::{Format, conventions, heading, json};
 use crate::radiation::multipole::{IJK, NextOrder, RIGID_ASSUMPTION, refusal};
+use crate::radiation::si::Dimension as SiDim;
 use crate::radiation::{Average, Radiation};
 use crate::tt::DirectionKind;
 use crate::zero::{Verdict, decide};
@@ -62,6 +63,29 @@ pub struct RadiationArgs {
     /// Replace the SVG file if it exists.
     #[arg(long)]
     force: bool,
+    /// Also print the results as SI numbers: what one geometric unit of mass is, in solar
+    /// masses (e.g. --mass-unit 1.4msun). Every parameter then takes its value from the file
+    /// (or --set); a waveform needs --distance.
+    #[arg(long, value_name = "MASS", allow_hyphen_values = true)]
+    mass_unit: Option<String>,
+    /// A parameter's value for the SI numbers, e.g. --set R=40 (repeatable).
+    #[arg(
+        long = "set",
+        value_name = "NAME=VALUE",
+        allow_hyphen_values = true,
+        requires = "mass_unit"
+    )]
+    set: Vec<String>,
+    /// A time at the source for instantaneous SI numbers, with a unit: s, h, d, yr (e.g. --at
+    /// 0.01s): the fluxes at that time, and the strain it sends, which reaches the observer
+    /// one distance later.
+    #[arg(
+        long,
+        value_name = "TIME",
+        allow_hyphen_values = true,
+        requires = "mass_unit"
+    )]
+    at: Option<String>,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -135,13 +159,20 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
         }
         None => None,
     };
-    if a.svg.is_some() && p.orbit.is_some() {
-        return Err(Failure::Input(miette::miette!(
-            help = "leave out --svg; the exact forms are printed in the anomaly",
-            "--svg draws against time, and an eccentric orbit's forms are functions of its \
-             eccentric anomaly (no picture yet)"
-        )));
-    }
+    let si_plan = match &a.mass_unit {
+        Some(m) => {
+            if dir.is_some() && a.distance.is_none() {
+                return Err(Failure::Input(miette::miette!(
+                    help = "give the observer's distance in length units G M/c^2, e.g. \
+                            --distance 1e15, or a parameter",
+                    "--mass-unit: an SI strain needs a distance with a value, and --distance \
+                     is not given"
+                )));
+            }
+            Some(super::radiation_si::plan(&p, m, &a.set, a.at.as_deref())?)
+        }
+        None => None,
+    };
     let target = plan_optional_output(a.svg.as_deref(), a.force, "--svg")?;
     let limit = |e: CanonError| gave_up(&e);
     let t_name = p.coordinates[0].clone();
@@ -286,11 +317,22 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     let defect = findings.iter().any(|f| f.is_defect());
 
     // Averages and the centre of mass.
+    let orbit_si = p
+        .orbit
+        .as_ref()
+        .map(|o| (o.anomaly.clone(), o.mean_motion, o.eccentricity));
     let st = &mut p.store;
-    let average = |st: &mut crate::Store, f: Form| -> Result<Result<String, String>, Failure> {
+    let mut average_forms = Vec::new();
+    let mut average = |st: &mut crate::Store, f: Form| -> Result<Result<String, String>, Failure> {
         Ok(match rad.average(st, f).map_err(limit)? {
-            Average::Exact(a) => Ok(st.to_display_text(a)),
-            Average::NotPeriodic(why) => Err(why),
+            Average::Exact(a) => {
+                average_forms.push(Some(a));
+                Ok(st.to_display_text(a))
+            }
+            Average::NotPeriodic(why) => {
+                average_forms.push(None);
+                Err(why)
+            }
         })
     };
     let l_avg = average(st, lum)?;
@@ -302,6 +344,65 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
     for &f in &dp {
         dp_avg.push(average(st, f)?);
     }
+    // The SI numbers, from the exact forms above.
+    let si_report = match &si_plan {
+        None => None,
+        Some(plan) => {
+            let mut avgs = vec![(
+                "<L>".to_string(),
+                "luminosity",
+                average_forms[0],
+                SiDim::Power,
+            )];
+            let mut source = vec![("L".to_string(), "luminosity", lum, SiDim::Power)];
+            for i in 0..3 {
+                avgs.push((
+                    format!("<dJ_{}/dt>", AXES[i]),
+                    [
+                        "angular_momentum_flux_x",
+                        "angular_momentum_flux_y",
+                        "angular_momentum_flux_z",
+                    ][i],
+                    average_forms[1 + i],
+                    SiDim::Torque,
+                ));
+                source.push((
+                    format!("dJ_{}/dt", AXES[i]),
+                    [
+                        "angular_momentum_flux_x",
+                        "angular_momentum_flux_y",
+                        "angular_momentum_flux_z",
+                    ][i],
+                    dj[i],
+                    SiDim::Torque,
+                ));
+            }
+            for (i, &f) in dp.iter().enumerate() {
+                let key = ["momentum_flux_x", "momentum_flux_y", "momentum_flux_z"][i];
+                avgs.push((
+                    format!("<dP_{}/dt>", AXES[i]),
+                    key,
+                    average_forms[4 + i],
+                    SiDim::Force,
+                ));
+                source.push((format!("dP_{}/dt", AXES[i]), key, f, SiDim::Force));
+            }
+            let flat: Vec<Form> = rad.trace_free.iter().flatten().copied().collect();
+            let src = super::radiation_si::Sources {
+                averages: avgs,
+                source,
+                waves: wave_rows
+                    .iter()
+                    .map(|(n, _, shifted, _)| (n.to_string(), *n, *shifted))
+                    .collect(),
+                distance: a.distance.as_ref().map(|_| distance),
+                quadrupole: clock.is_time().then_some((flat.as_slice(), rad.t)),
+                orbit: orbit_si.clone(),
+                t_name: t_name.clone(),
+            };
+            Some(super::radiation_si::report(st, plan, &src)?)
+        }
+    };
     let assumptions: Vec<&str> = match &next {
         Some(n) if n.rigid => vec![RIGID_ASSUMPTION],
         _ => Vec::new(),
@@ -326,7 +427,8 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                 "{}: waveform at distance {distance_text} and angular pattern",
                 p.name.clone().unwrap_or_else(|| label.clone())
             );
-            let text = super::radiation_plot::picture(&mut p, &mut rad, wave, times, &title)?;
+            let text =
+                super::radiation_plot::picture(&mut p, &mut rad, (wave, distance), times, &title)?;
             write_atomic(t, &text)?;
             Some(t.path.display().to_string())
         }
@@ -364,6 +466,9 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                      0), n = {}, d/dt = n/(1 - e cos {an}) d/d{an}; averages are over one period",
                     o.eccentricity_text, o.mean_motion_text
                 );
+                if let Some(c) = &o.condition {
+                    let _ = writeln!(s, "ASSUMED: {c}");
+                }
             }
             for b in &p.bodies {
                 let _ = writeln!(
@@ -499,6 +604,9 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                 let refs: Vec<&crate::audit::expr::Finding> = findings.iter().collect();
                 s.push_str(&point_lines(&refs));
             }
+            if let Some(r) = &si_report {
+                s.push_str(&r.text);
+            }
             if let Some(path) = &written {
                 let _ = writeln!(s, "wrote {path}");
             }
@@ -544,19 +652,25 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                     "eccentricity": o.eccentricity_text,
                     "mean_motion": o.mean_motion_text,
                     "kepler_equation": format!("n*t = {0} - e*sin({0})", o.anomaly),
+                    "condition": o.condition,
                 })),
                 "assumptions": assumptions,
                 "distance": dir.as_ref().map(|_| distance_text.clone()),
                 "direction": dir_json,
                 "svg": written,
+                "si": si_report.as_ref().map(|r| r.json.clone()),
                 "conventions": conventions(&p.coordinates),
                 "audit": { "defect": defect, "seed": seed, "points": points_json(&refs) },
             }))
         }
     };
     print(&out)?;
-    Ok(if defect {
+    let si_defect = si_report.as_ref().is_some_and(|r| r.defect);
+    let si_uncertified = si_report.as_ref().is_some_and(|r| r.uncertified);
+    Ok(if defect || si_defect {
         Outcome::Fails
+    } else if si_uncertified {
+        Outcome::Undecided
     } else {
         Outcome::Holds
     })
