@@ -129,7 +129,7 @@ fn cases(dir: &Path) -> Vec<Case> {
             floor: 0.0,
             quantities: "h,dh,adm",
             extra: vec![],
-            points: pts,
+            points: pts.clone(),
         },
         Case {
             file: dir.join("angles.toml").display().to_string(),
@@ -137,7 +137,7 @@ fn cases(dir: &Path) -> Vec<Case> {
             floor: 0.0,
             quantities: "h,dh,riemann",
             extra: vec![],
-            points: pts.clone(),
+            points: pts,
         },
         // About backgrounds, in their own coordinates: the emitted curvature chain of
         // gbar + eps h against the exported (certified) values.

@@ -389,7 +389,7 @@ impl Store {
         }
         let inv = c(self.inv(den))?;
         let q = c(self.mul(fy, inv))?;
-        let a = c(self.atan(q))?;
+        let a = c(self.half_angle_atan(q, fy, fx))?;
         c(self.scale(a, &Coeff::int(2)))
     }
 

@@ -224,6 +224,9 @@ pub struct Store {
     /// Root kernels `sqrt(u^2)` built by [`Store::abs_of_real`] for a `u` shown real: their
     /// radicand is `>= 0` ([`Store::is_real_shown`]).
     square_roots: rustc_hash::FxHashSet<KernelId>,
+    /// `atan` kernels that are half angles of `atan2(y, x)` ([`Store::half_angle_atan`]),
+    /// with their `(y, x)`: differentiated by the angle's own rule.
+    atan2_args: FxHashMap<KernelId, (Form, Form)>,
     /// The limits in force.
     pub limits: Limits,
     /// The names the display printers use (`Store::to_display_text`; set by
@@ -261,6 +264,7 @@ impl Store {
             deps_cache: FxHashMap::default(),
             form_deps_cache: FxHashMap::default(),
             square_roots: rustc_hash::FxHashSet::default(),
+            atan2_args: FxHashMap::default(),
             limits: Limits::default(),
             display: None,
             naming: None,
@@ -1308,6 +1312,22 @@ impl Store {
             return Ok(self.zero);
         }
         let k = self.intern_kernel(Kernel::Atan(a));
+        Ok(self.kernel_form(k))
+    }
+
+    /// The half angle `atan(q)` of `atan2(y, x)`, for `q = y / (sqrt(x^2 + y^2) + x)` built
+    /// by the caller from real `y` and `x` (`atan2` in `build.rs`). The kernel remembers
+    /// `(y, x)`, so that its derivative is `(x y' - y x') / (2 (x^2 + y^2))`: equal to the
+    /// general `q' / (1 + q^2)` wherever `q` is defined, since `1 + q^2 = 2 r / (r + x)` and
+    /// `q' = (x y' - y x') / (r (r + x))` there, with `r^2 = x^2 + y^2`. Any recorded pair
+    /// whose `q` is this kernel's argument gives the same value (the identity depends on `q`
+    /// only through that equation), so which pair is remembered does not matter.
+    pub(crate) fn half_angle_atan(&mut self, q: Form, y: Form, x: Form) -> CResult<Form> {
+        if q == self.zero {
+            return Ok(self.zero);
+        }
+        let k = self.intern_kernel(Kernel::Atan(q));
+        self.atan2_args.entry(k).or_insert((y, x));
         Ok(self.kernel_form(k))
     }
 
