@@ -34,7 +34,10 @@ const CASES: [(&str, &str); 8] = [
     ),
     ("abs(abs(x) - y)", "fabs(fabs(x) - y)"),
     ("abs(sqrt(x^2 + 1) - 2)*y", "fabs(sqrt(x**2 + 1) - 2)*y"),
-    ("d_x(abs(sqrt(x^2 + y^2) - 1))", "diff(lambda s: fabs(sqrt(s**2 + y**2) - 1), x)"),
+    (
+        "d_x(abs(sqrt(x^2 + y^2) - 1))",
+        "diff(lambda s: fabs(sqrt(s**2 + y**2) - 1), x)",
+    ),
 ];
 
 fn uniform(rng: &mut SplitMix64, lo: f64, hi: f64) -> f64 {

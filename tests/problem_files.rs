@@ -328,7 +328,11 @@ fn arctan_front_with_angle_gauge() {
     let dir = tempfile::tempdir().unwrap();
     for (from, to, key) in [
         ("ret = 't - z'", "ret = 't - 2*z'", "field_equations"),
-        ("phi = 'atan2(y, x)'", "phi = 'atan2(y, x)^2'", "gauge.lorenz"),
+        (
+            "phi = 'atan2(y, x)'",
+            "phi = 'atan2(y, x)^2'",
+            "gauge.lorenz",
+        ),
     ] {
         assert!(text.contains(from), "{from}");
         let path = dir.path().join("variant.toml");

@@ -372,7 +372,8 @@ impl Store {
         let xx = c(self.mul(fx, fx))?;
         let yy = c(self.mul(fy, fy))?;
         let rr = c(self.add(xx, yy))?;
-        let r = c(self.root(rr, 2))?;
+        // x^2 + y^2 >= 0 for the real x, y checked above.
+        let r = c(self.sqrt_of_squares(rr))?;
         let den = c(self.add(r, fx))?;
         if den == self.zero {
             return Err(BuildError::new(

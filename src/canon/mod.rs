@@ -221,8 +221,9 @@ pub struct Store {
     dlog_mono_cache: FxHashMap<(MonoId, KernelId), Form>,
     deps_cache: FxHashMap<KernelId, Rc<[KernelId]>>,
     form_deps_cache: FxHashMap<Form, Rc<[KernelId]>>,
-    /// Root kernels `sqrt(u^2)` built by [`Store::abs_of_real`] for a `u` shown real: their
-    /// radicand is `>= 0` ([`Store::is_real_shown`]).
+    /// Root kernels `sqrt(u^2)` and `sqrt(x^2 + y^2)` built by [`Store::sqrt_of_squares`]
+    /// for `abs` and `atan2` of arguments shown real: their radicand is `>= 0`
+    /// ([`Store::is_real_shown`]).
     square_roots: rustc_hash::FxHashSet<KernelId>,
     /// `atan` kernels that are half angles of `atan2(y, x)` ([`Store::half_angle_atan`]),
     /// with their `(y, x)`: differentiated by the angle's own rule.
@@ -1633,6 +1634,14 @@ impl Store {
     /// because `u` is real, whatever the expanded radicand looks like.
     pub fn abs_of_real(&mut self, u: Form) -> CResult<Form> {
         let sq = self.mul(u, u)?;
+        self.sqrt_of_squares(sq)
+    }
+
+    /// `sqrt(sq)` for a radicand the caller knows to be a sum of squares of forms shown real
+    /// (`u^2` for `abs`, `x^2 + y^2` for `atan2`), hence `>= 0`: the root kernel is recorded
+    /// as such ([`Store::is_real_shown`] then accepts it without looking at the expanded
+    /// radicand).
+    pub(crate) fn sqrt_of_squares(&mut self, sq: Form) -> CResult<Form> {
         let root = self.root(sq, 2)?;
         let r = self.rats[root.0 as usize].clone();
         if let [(m, c)] = r.num.as_slice()

@@ -376,6 +376,7 @@ fn abs_is_sqrt_of_square_for_real_arguments_only() {
         "abs(sqrt(1/(x - 1)^2))",
         "abs((x^2 + 1)^(3/2))",
         "abs(atan2(y, x))",
+        "abs(atan2(x - 1, y + 2))",
     ] {
         let e = crate::parse::parse(good).unwrap();
         assert!(
@@ -413,8 +414,14 @@ fn atan2_is_the_half_angle_arctangent_off_its_cut() {
     ));
     let mut st = Store::new();
     for (bad, why) in [
-        ("atan2(sqrt(x), 1)", "first argument is not shown to be real"),
-        ("atan2(1, log(x))", "second argument is not shown to be real"),
+        (
+            "atan2(sqrt(x), 1)",
+            "first argument is not shown to be real",
+        ),
+        (
+            "atan2(1, log(x))",
+            "second argument is not shown to be real",
+        ),
         ("atan2(0, -2)", "on its cut"),
         ("atan2(0, 0)", "on its cut"),
     ] {

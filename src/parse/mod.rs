@@ -484,9 +484,15 @@ impl Parser<'_> {
             return self.unclosed(open, Some(name));
         }
         let (message, label) = if found == 1 {
-            ("`atan2` takes two arguments, found one", "expected `, x` before this")
+            (
+                "`atan2` takes two arguments, found one",
+                "expected `, x` before this",
+            )
         } else {
-            ("`atan2` takes two arguments, found more", "a third argument starts after this")
+            (
+                "`atan2` takes two arguments, found more",
+                "a third argument starts after this",
+            )
         };
         Box::new(
             ParseError::new(message, tok.span, label)
@@ -945,12 +951,24 @@ mod tests {
             ("f()", "`f()` has no argument", (0, 3)),
             ("f(x, y)", "functions take one argument", (3, 4)),
             ("atan2(y)", "`atan2` takes two arguments, found one", (7, 8)),
-            ("atan2(y, x, z)", "`atan2` takes two arguments, found more", (10, 11)),
-            ("atan2(y, )", "expected an operand after `,`, found `)`", (9, 10)),
+            (
+                "atan2(y, x, z)",
+                "`atan2` takes two arguments, found more",
+                (10, 11),
+            ),
+            (
+                "atan2(y, )",
+                "expected an operand after `,`, found `)`",
+                (9, 10),
+            ),
             ("atan2(y, x", "unclosed `(`", (10, 10)),
             ("atan2(y x)", "missing operator", (6, 9)),
             ("atan2'(y, x)", "primes cannot mark `atan2`", (5, 6)),
-            ("sin(atan2(1))", "`atan2` takes two arguments, found one", (11, 12)),
+            (
+                "sin(atan2(1))",
+                "`atan2` takes two arguments, found one",
+                (11, 12),
+            ),
             ("(x, y)", "unexpected `,`", (2, 3)),
             ("x, y", "unexpected `,`", (1, 2)),
             ("x $ y", "unexpected character `$`", (2, 3)),

@@ -280,10 +280,22 @@ fn atan2_through_the_command_line() {
     // (expression, message, where the report starts: its first label, the function's name
     // when the call is labelled too)
     let bad: &[(&str, &str, &str)] = &[
-        ("1 + atan2(y)", "`atan2` takes two arguments, found one", "1:5"),
-        ("atan2(y, x, z)", "`atan2` takes two arguments, found more", "1:1"),
+        (
+            "1 + atan2(y)",
+            "`atan2` takes two arguments, found one",
+            "1:5",
+        ),
+        (
+            "atan2(y, x, z)",
+            "`atan2` takes two arguments, found more",
+            "1:1",
+        ),
         ("sin(x, y)", "functions take one argument", "1:1"),
-        ("atan2(sqrt(x), y)", "first argument is not shown to be real", "1:7"),
+        (
+            "atan2(sqrt(x), y)",
+            "first argument is not shown to be real",
+            "1:7",
+        ),
         ("atan2(0, -1)", "on its cut", "1:1"),
         ("abs(sqrt(x - 1))", "not shown to be real", "1:5"),
     ];
@@ -291,6 +303,10 @@ fn atan2_through_the_command_line() {
         let out = lingrav(&["zero", text]);
         assert_eq!(out.2, 2, "{text}: {out:?}");
         assert!(out.1.contains(msg), "{text}: {}", out.1);
-        assert!(out.1.contains(&format!("expression:{at}")), "{text}: {}", out.1);
+        assert!(
+            out.1.contains(&format!("expression:{at}")),
+            "{text}: {}",
+            out.1
+        );
     }
 }

@@ -266,7 +266,10 @@ fn gauge_project_and_ring_print_in_the_files_terms() {
     assert!(out.contains("  h'_tx = -e*y/(x^2 + y^2)\n"), "{out}");
     let (out, _, code) = lingrav(&[&gauge[..], &["--expanded"]].concat());
     assert_eq!(code, 0);
-    assert!(out.contains("  h'_xx = a*atan(") && !out.contains("= front"), "{out}");
+    assert!(
+        out.contains("  h'_xx = a*atan(") && !out.contains("= front"),
+        "{out}"
+    );
     let (out, _, code) = lingrav(&[&gauge[..], &["--format", "json"]].concat());
     assert_eq!(code, 0);
     assert!(out.contains("a*atan(") && !out.contains("\"front"), "{out}");
@@ -278,7 +281,10 @@ fn gauge_project_and_ring_print_in_the_files_terms() {
     assert!(out.contains("h^TT_xx = 16*a_plus*cos(phase)/25"), "{out}");
     let (out, _, code) = lingrav(&[&project[..], &["--expanded"]].concat());
     assert_eq!(code, 0);
-    assert!(!out.contains("phase") && out.contains("h^TT_xx = "), "{out}");
+    assert!(
+        !out.contains("phase") && out.contains("h^TT_xx = "),
+        "{out}"
+    );
     let (out, _, code) = lingrav(&[&project[..], &["--format", "json"]].concat());
     assert_eq!(code, 0);
     assert!(!out.contains("phase"), "{out}");
@@ -287,7 +293,11 @@ fn gauge_project_and_ring_print_in_the_files_terms() {
     // canonical texts, whichever way they are printed.
     let teuk = worked("teukolsky_l2_wave.toml");
     for extra in [&[][..], &["--expanded"][..]] {
-        let args = [&["project", teuk.as_str(), "--direction", "radial"][..], extra].concat();
+        let args = [
+            &["project", teuk.as_str(), "--direction", "radial"][..],
+            extra,
+        ]
+        .concat();
         let (out, err, code) = lingrav(&args);
         assert_eq!(code, 0, "{err}");
         assert!(out.contains("audited: consistent"), "{out}");
@@ -300,7 +310,14 @@ fn gauge_project_and_ring_print_in_the_files_terms() {
         );
     }
 
-    let ring = ["ring", wave.as_str(), "--direction", "3/5,0,4/5", "--times", "0"];
+    let ring = [
+        "ring",
+        wave.as_str(),
+        "--direction",
+        "3/5,0,4/5",
+        "--times",
+        "0",
+    ];
     for extra in [&[][..], &["--expanded"][..]] {
         let (out, _, code) = lingrav(&[&ring[..], extra].concat());
         assert_eq!(code, 0);

@@ -65,8 +65,7 @@ pub fn run(mut p: Problem, vector: &str, format: Format, label: &str) -> Result<
             rows.push((frame.index(&[m, n]), shown(st, h2[m][n])));
         }
     }
-    let xi_rows: Vec<(String, String)> =
-        (0..4).map(|m| (c[m].clone(), shown(st, xi[m]))).collect();
+    let xi_rows: Vec<(String, String)> = (0..4).map(|m| (c[m].clone(), shown(st, xi[m]))).collect();
     let defect = report.has_defect();
     let (holding, gauge_lines) = gauges_of(&report);
     let limit = limit_in_report(&report);

@@ -377,7 +377,12 @@ fn sphere(a: ProjectArgs, mut p: crate::Problem) -> Result<Outcome, Failure> {
         Leading::Term { power, coefficient } => {
             let c = p.store.to_text(*coefficient);
             let shown = p.store.to_display_text(*coefficient);
-            (format!("({shown}) * {r}^{power}"), Some(*power), Some(c), None)
+            (
+                format!("({shown}) * {r}^{power}"),
+                Some(*power),
+                Some(c),
+                None,
+            )
         }
         Leading::Zero => ("0".to_string(), None, Some("0".into()), None),
         Leading::Unavailable(why) => (
