@@ -24,7 +24,10 @@
 //! built only when [`Store::is_real_shown`] proves u real (coordinates, parameters and the
 //! values of arbitrary functions being real by convention); a verdict on an expression with
 //! `abs` therefore holds at the real points where it is defined, with arbitrary functions
-//! real-valued. Completeness is partial (kernels may be algebraically
+//! real-valued. `atan2(y, x)` is built as 2 atan(y/(sqrt(x^2 + y^2) + x)) for y, x shown real,
+//! exact off its cut x <= 0, y = 0, where it is left undefined (the argument is in
+//! `build.rs`); its half-angle kernel is differentiated by the equal (x y' - y x') /
+//! (2 (x^2 + y^2)) (`Store::half_angle_atan`). Completeness is partial (kernels may be algebraically
 //! dependent in ways not modelled, e.g. log(x^2) and log(x)); the zero tester then falls back
 //! to certified numerical witnesses or says "undecided".
 //!
@@ -1533,7 +1536,9 @@ impl Store {
     /// it contains, in its terms, denominators and exponents, at any depth, is a symbol, `pi`,
     /// an `atan` of a form shown real, an arbitrary function of a form shown real (arbitrary
     /// functions are real-valued by convention), or a principal root or logarithm of a form
-    /// shown real *and* shown nonnegative ([`Store::is_nonneg_shown`]); and `f` and every
+    /// shown real *and* shown nonnegative (a sum of nonnegative terms, the private
+    /// `is_nonneg_shown`, or a root [`Store::abs_of_real`] or `atan2` built from a sum of
+    /// squares of forms shown real); and `f` and every
     /// kernel argument minus its formal conjugate (coefficients and exponents conjugated,
     /// [`Store::conj_formal`]) cancels to zero. `false` means "not shown", not "not real"; a
     /// limit reached also gives `false`.
