@@ -43,6 +43,8 @@ mod safety;
 
 // The other areas, kept at the top of tests/ (outside checks against reference libraries,
 // the soundness fuzz, the engine's laws, the later commands): modules of this one binary.
+#[path = "atan2_mpmath.rs"]
+mod atan2_mpmath;
 #[path = "atan_mpmath.rs"]
 mod atan_mpmath;
 #[path = "ball_mpmath.rs"]

@@ -73,6 +73,11 @@ struct Case {
     points: Vec<[f64; 4]>,
 }
 
+/// A field with atan2, abs and atan.
+const ANGLES: &str = "name = 'angles and absolute values'\n[parameters]\nq = 0.3\n\
+     [perturbation]\ntt = 'q*atan2(y, x)*abs(z - 1)'\nxy = 'abs(sin(t) + 2*q)*atan(x*y)'\n\
+     zz = 'atan2(y - 1, x + t)'\n";
+
 fn cases(dir: &Path) -> Vec<Case> {
     // A field with a user function F (sample sin) at retarded time, roots and denominators.
     std::fs::write(
@@ -83,6 +88,10 @@ fn cases(dir: &Path) -> Vec<Case> {
          xy = \"lambda*F''(t - r)*x*y/r^3\"\n",
     )
     .unwrap();
+    // atan2 and abs (issue 14): the language's own atan2 and absolute value in the code, the
+    // half-angle form in the exact route, jets by half-plane in the export; the points stay off
+    // atan2's cut (x <= 0, y = 0) and away from the zeros of abs's arguments.
+    std::fs::write(dir.join("angles.toml"), ANGLES).unwrap();
     let pts = vec![
         [0.3, 0.7, -0.4, 1.1],
         [-1.2, 0.25, 0.5, -0.75],
@@ -119,6 +128,14 @@ fn cases(dir: &Path) -> Vec<Case> {
             header: "t,x,y,z",
             floor: 0.0,
             quantities: "h,dh,adm",
+            extra: vec![],
+            points: pts.clone(),
+        },
+        Case {
+            file: dir.join("angles.toml").display().to_string(),
+            header: "t,x,y,z",
+            floor: 0.0,
+            quantities: "h,dh,riemann",
             extra: vec![],
             points: pts,
         },
@@ -602,4 +619,26 @@ fn latex_lists_every_component() {
     );
     assert!(out.contains("K_{yy} &= \\frac{A \\pi"), "{out}");
     assert_eq!(out.matches(" &= ").count(), 16);
+}
+
+/// Generated code calls each language's own atan2 and absolute value for `atan2` and `abs`
+/// (issue 14), rather than the half-angle formula or sqrt(u*u).
+#[test]
+fn emitted_code_calls_atan2_and_abs() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("angles.toml"), ANGLES).unwrap();
+    for (lang, atan2, abs) in [
+        ("c", "atan2(y, x)", "fabs(z - 1"),
+        ("python", "np.arctan2(y, x)", "np.abs(z - 1"),
+        ("rust", "f64::atan2(y, x)", "f64::abs(z - 1"),
+        ("fortran", "atan2(y, x)", "abs(z - 1"),
+    ] {
+        let code = lingrav(
+            dir.path(),
+            &["emit", "angles.toml", "-q", "h", "--lang", lang],
+        );
+        assert!(code.contains(atan2), "{lang}: no `{atan2}` in\n{code}");
+        assert!(code.contains(abs), "{lang}: no `{abs}` in\n{code}");
+        assert!(!code.contains("sqrt"), "{lang}: a root is left in\n{code}");
+    }
 }

@@ -214,6 +214,7 @@ const WORKED: [(&str, i32); 36] = [
     ("wrong_sign_wave.toml", 1),
     ("rod_quadrupole_formula_match.toml", 0),
     ("rotating_bar_far_zone.toml", 0),
+    ("arctan_front_with_angle_gauge.toml", 0),
 ];
 
 #[test]
@@ -304,4 +305,52 @@ fn missing_file_is_an_input_error() {
     assert_eq!(out.status.code(), Some(2));
     let stderr = String::from_utf8_lossy(&out.stderr);
     assert!(stderr.contains("no/such/file.toml"), "{stderr}");
+}
+
+/// worked/arctan_front_with_angle_gauge.toml (issue 14): an arctangent front in t - z and a
+/// gauge ripple from the polar angle atan2(y, x). Every claim holds; the same front moving at
+/// the wrong speed (a function of t - 2 z) fails the field equations, and a ripple from the
+/// angle's square (not harmonic) fails Lorenz: the claims rest on the profile and on atan2.
+#[test]
+fn arctan_front_with_angle_gauge() {
+    expect(
+        "arctan_front_with_angle_gauge.toml",
+        &[
+            ("field_equations", "holds"),
+            ("gauge.lorenz", "holds"),
+            ("pure_gauge", "holds"),
+        ],
+        0,
+    );
+    let text = std::fs::read_to_string(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("worked/arctan_front_with_angle_gauge.toml"),
+    )
+    .unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    for (from, to, key) in [
+        ("ret = 't - z'", "ret = 't - 2*z'", "field_equations"),
+        (
+            "phi = 'atan2(y, x)'",
+            "phi = 'atan2(y, x)^2'",
+            "gauge.lorenz",
+        ),
+    ] {
+        assert!(text.contains(from), "{from}");
+        let path = dir.path().join("variant.toml");
+        std::fs::write(&path, text.replace(from, to)).unwrap();
+        let out = Command::new(env!("CARGO_BIN_EXE_lingrav"))
+            .args(["check", "--format", "json"])
+            .arg(&path)
+            .output()
+            .unwrap();
+        assert_eq!(out.status.code(), Some(1), "{to}");
+        let json: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+        let claim = json["claims"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|c| c["key"] == key)
+            .unwrap();
+        assert_eq!(claim["status"], "fails", "{to}: {claim}");
+    }
 }

@@ -18,9 +18,17 @@ pub enum Unknown {
 }
 
 /// The built-in functions of the expression language.
-pub const BUILTINS: [&str; 11] = [
-    "sin", "cos", "tan", "exp", "log", "sqrt", "sinh", "cosh", "tanh", "atan", "abs",
+/// All take one argument except `atan2(y, x)`, which the parser reads as [`ExprKind::Atan2`].
+pub const BUILTINS: [&str; 12] = [
+    "sin", "cos", "tan", "exp", "log", "sqrt", "sinh", "cosh", "tanh", "atan", "abs", "atan2",
 ];
+
+/// What "shown real" covers ([`Store::is_real_shown`]), for the help of `abs` and `atan2`.
+const REAL_SHOWN: &str = "an argument is shown real when it is built from numbers, symbols, pi, \
+     + - * /, integer powers, exp, sin, cos, tan, sinh, cosh, tanh, atan, atan2, abs, arbitrary \
+     functions (real-valued by convention) of such arguments, and sqrt, log and non-integer \
+     powers of arguments that are also shown nonnegative (sums of even powers, pi, exp, sqrt \
+     and abs with positive coefficients, e.g. sqrt(x^2 + 1))";
 
 /// The name table used to build forms.
 #[derive(Clone, Debug)]
@@ -240,25 +248,27 @@ impl Store {
                             )),
                         ));
                     }
+                    if name == "atan2" {
+                        // Only a tree built by hand gets here: the parser reads `atan2(y, x)`.
+                        return Err(BuildError::new(
+                            "`atan2` takes two arguments, found one",
+                            *name_span,
+                            Some("write `atan2(y, x)`".into()),
+                        ));
+                    }
                     if name == "abs" {
                         // abs(u) = sqrt(u^2), the principal root: an identity for real u only.
                         if !self.is_real_shown(a) {
                             return Err(BuildError::new(
                                 "`abs` of an argument not shown to be real".to_string(),
                                 arg.span,
-                                Some(
+                                Some(format!(
                                     "abs(u) is read as sqrt(u^2), which is |u| only for real u; \
-                                     an argument is shown real when it is built from numbers, \
-                                     symbols, pi, + - * /, integer powers, exp, sin, cos, tan, \
-                                     sinh, cosh, tanh, atan and arbitrary functions (real-valued \
-                                     by convention) of such arguments; sqrt, log, abs and \
-                                     non-integer powers are not shown real"
-                                        .into(),
-                                ),
+                                     {REAL_SHOWN}"
+                                )),
                             ));
                         }
-                        let sq = c(self.mul(a, a))?;
-                        return c(self.root(sq, 2));
+                        return c(self.abs_of_real(a));
                     }
                     return c(match name.as_str() {
                         "sin" => self.sin(a),
@@ -298,6 +308,11 @@ impl Store {
                 };
                 Err(BuildError::new(what, *name_span, help))
             }
+            ExprKind::Atan2 { y, x, .. } => {
+                let fy = self.build(y, names)?;
+                let fx = self.build(x, names)?;
+                self.atan2_of(fy, fx, y.span, x.span, e.span)
+            }
             ExprKind::Deriv { vars, arg } => {
                 let mut f = self.build(arg, names)?;
                 for (v, span) in vars {
@@ -319,6 +334,64 @@ impl Store {
                 Ok(f)
             }
         }
+    }
+
+    /// `atan2(y, x)` as `2 atan(y / (sqrt(x^2 + y^2) + x))`, for arguments shown real.
+    ///
+    /// Soundness. For real `(x, y)` off the cut `x <= 0, y = 0`, let `r = sqrt(x^2 + y^2)`
+    /// (the principal root of a nonnegative number, so `r >= 0` and `r + x > 0` there: `r > |x|`
+    /// when `y != 0`, `r = x > 0` when `y = 0`) and `theta = atan2(y, x)` in `(-pi, pi)`. Then
+    /// `y / (r + x) = sin(theta) / (1 + cos(theta)) = tan(theta / 2)` with `theta / 2` in
+    /// `(-pi/2, pi/2)`, where the principal `atan` inverts `tan`: the formula is exact off the
+    /// cut. On the cut `r + x = 0`, the formula is undefined and so is lingrav's `atan2` (its
+    /// value `pi` on the negative axis is not represented): identities proved with it hold
+    /// wherever both sides are defined, like every identity of the canonical form. For complex
+    /// arguments the formula is not atan2 of anything standard, so they are refused, like
+    /// `abs`'s.
+    fn atan2_of(
+        &mut self,
+        fy: Form,
+        fx: Form,
+        y_span: Span,
+        x_span: Span,
+        span: Span,
+    ) -> Result<Form, BuildError> {
+        for (f, at, which) in [(fy, y_span, "first"), (fx, x_span, "second")] {
+            if !self.is_real_shown(f) {
+                return Err(BuildError::new(
+                    format!("`atan2`'s {which} argument is not shown to be real"),
+                    at,
+                    Some(format!(
+                        "atan2(y, x) is read as 2*atan(y/(sqrt(x^2 + y^2) + x)), the angle of \
+                         the point (x, y) only for real x and y; {REAL_SHOWN}"
+                    )),
+                ));
+            }
+        }
+        let c = |r: Result<Form, CanonError>| r.map_err(|err| BuildError::canon(err, span));
+        let xx = c(self.mul(fx, fx))?;
+        let yy = c(self.mul(fy, fy))?;
+        let rr = c(self.add(xx, yy))?;
+        // x^2 + y^2 >= 0 for the real x, y checked above.
+        let r = c(self.sqrt_of_squares(rr))?;
+        let den = c(self.add(r, fx))?;
+        if den == self.zero {
+            return Err(BuildError::new(
+                "`atan2(y, x)` on its cut: y = 0 and x <= 0 here",
+                span,
+                Some(
+                    "atan2 is defined off the cut x <= 0, y = 0 (where sqrt(x^2 + y^2) + x = 0)"
+                        .into(),
+                ),
+            ));
+        }
+        if fy == self.zero {
+            return Ok(self.zero);
+        }
+        let inv = c(self.inv(den))?;
+        let q = c(self.mul(fy, inv))?;
+        let a = c(self.half_angle_atan(q, fy, fx))?;
+        c(self.scale(a, &Coeff::int(2)))
     }
 
     /// `1 / b` for the denominator `b` (already built as `fb`), inverting a written product

@@ -179,6 +179,27 @@ impl Store {
                     self.div(da, den)?
                 }
             }
+            Kernel::Atan(_) if self.atan2_args.contains_key(&k) => {
+                // The half angle of atan2(y, x): atan(y/(r + x)) with r = sqrt(x^2 + y^2) has
+                // the derivative (x y' - y x') / (2 (x^2 + y^2)) wherever it is defined (the
+                // general rule below gives the same value, unsimplified: `Store::atan2_of`).
+                let (y, x) = self.atan2_args[&k];
+                let (dy, dx) = (self.diff(y, var)?, self.diff(x, var)?);
+                let a = self.mul(x, dy)?;
+                let b = self.mul(y, dx)?;
+                let num = self.sub(a, b)?;
+                if num == self.zero {
+                    self.zero
+                } else {
+                    let xx = self.mul(x, x)?;
+                    let yy = self.mul(y, y)?;
+                    let rr = self.add(xx, yy)?;
+                    let kf = self.kernel_form(k);
+                    let den = self.mul(rr, kf)?;
+                    let den = self.scale(den, &Coeff::int(2))?;
+                    self.div(num, den)?
+                }
+            }
             Kernel::Atan(a) => {
                 // d(atan A) / atan A = A' / ((1 + A^2) atan A)
                 let da = self.diff(a, var)?;

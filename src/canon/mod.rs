@@ -24,7 +24,10 @@
 //! built only when [`Store::is_real_shown`] proves u real (coordinates, parameters and the
 //! values of arbitrary functions being real by convention); a verdict on an expression with
 //! `abs` therefore holds at the real points where it is defined, with arbitrary functions
-//! real-valued. Completeness is partial (kernels may be algebraically
+//! real-valued. `atan2(y, x)` is built as 2 atan(y/(sqrt(x^2 + y^2) + x)) for y, x shown real,
+//! exact off its cut x <= 0, y = 0, where it is left undefined (the argument is in
+//! `build.rs`); its half-angle kernel is differentiated by the equal (x y' - y x') /
+//! (2 (x^2 + y^2)) (`Store::half_angle_atan`). Completeness is partial (kernels may be algebraically
 //! dependent in ways not modelled, e.g. log(x^2) and log(x)); the zero tester then falls back
 //! to certified numerical witnesses or says "undecided".
 //!
@@ -221,6 +224,13 @@ pub struct Store {
     dlog_mono_cache: FxHashMap<(MonoId, KernelId), Form>,
     deps_cache: FxHashMap<KernelId, Rc<[KernelId]>>,
     form_deps_cache: FxHashMap<Form, Rc<[KernelId]>>,
+    /// Root kernels `sqrt(u^2)` and `sqrt(x^2 + y^2)` built by [`Store::sqrt_of_squares`]
+    /// for `abs` and `atan2` of arguments shown real: their radicand is `>= 0`
+    /// ([`Store::is_real_shown`]).
+    square_roots: rustc_hash::FxHashSet<KernelId>,
+    /// `atan` kernels that are half angles of `atan2(y, x)` ([`Store::half_angle_atan`]),
+    /// with their `(y, x)`: differentiated by the angle's own rule.
+    atan2_args: FxHashMap<KernelId, (Form, Form)>,
     /// The limits in force.
     pub limits: Limits,
     /// The names the display printers use (`Store::to_display_text`; set by
@@ -261,6 +271,8 @@ impl Store {
             dlog_mono_cache: FxHashMap::default(),
             deps_cache: FxHashMap::default(),
             form_deps_cache: FxHashMap::default(),
+            square_roots: rustc_hash::FxHashSet::default(),
+            atan2_args: FxHashMap::default(),
             limits: Limits::default(),
             display: None,
             naming: None,
@@ -1313,6 +1325,22 @@ impl Store {
         Ok(self.kernel_form(k))
     }
 
+    /// The half angle `atan(q)` of `atan2(y, x)`, for `q = y / (sqrt(x^2 + y^2) + x)` built
+    /// by the caller from real `y` and `x` (`atan2` in `build.rs`). The kernel remembers
+    /// `(y, x)`, so that its derivative is `(x y' - y x') / (2 (x^2 + y^2))`: equal to the
+    /// general `q' / (1 + q^2)` wherever `q` is defined, since `1 + q^2 = 2 r / (r + x)` and
+    /// `q' = (x y' - y x') / (r (r + x))` there, with `r^2 = x^2 + y^2`. Any recorded pair
+    /// whose `q` is this kernel's argument gives the same value (the identity depends on `q`
+    /// only through that equation), so which pair is remembered does not matter.
+    pub(crate) fn half_angle_atan(&mut self, q: Form, y: Form, x: Form) -> CResult<Form> {
+        if q == self.zero {
+            return Ok(self.zero);
+        }
+        let k = self.intern_kernel(Kernel::Atan(q));
+        self.atan2_args.entry(k).or_insert((y, x));
+        Ok(self.kernel_form(k))
+    }
+
     /// `(exp(i a), exp(-i a))`.
     fn exp_i_pair(&mut self, a: Form) -> CResult<(Form, Form)> {
         let ia = self.scale(a, &Coeff::i())?;
@@ -1512,21 +1540,38 @@ impl Store {
 
     /// Whether `f` is shown real-valued wherever it is defined (for real symbols): every kernel
     /// it contains, in its terms, denominators and exponents, at any depth, is a symbol, `pi`,
-    /// an `atan` of a form shown real or an arbitrary function of a form shown real (arbitrary
-    /// functions are real-valued by convention), and its formal conjugate (coefficients and
-    /// exponents conjugated, [`Store::conj_formal`]) minus itself cancels to zero. With real kernels the
-    /// formal conjugate is the complex conjugate, so `f` equals its conjugate. Roots and
-    /// logarithms are never shown real (a root of a negative number is not). `false` means
-    /// "not shown", not "not real"; a limit reached also gives `false`.
+    /// an `atan` of a form shown real, an arbitrary function of a form shown real (arbitrary
+    /// functions are real-valued by convention), or a principal root or logarithm of a form
+    /// shown real *and* shown nonnegative (a sum of nonnegative terms, the private
+    /// `is_nonneg_shown`, or a root [`Store::abs_of_real`] or `atan2` built from a sum of
+    /// squares of forms shown real); and `f` and every
+    /// kernel argument minus its formal conjugate (coefficients and exponents conjugated,
+    /// [`Store::conj_formal`]) cancels to zero. `false` means "not shown", not "not real"; a
+    /// limit reached also gives `false`.
+    ///
+    /// Soundness, by induction on the depth of kernels. Symbols, `pi` and arbitrary functions
+    /// are real by convention. A kernel whose argument `a` is real (induction, and `a` equal to
+    /// its conjugate) is real: `atan` of a real number is real; the principal `q`-th root of a
+    /// real `a >= 0` is the real `a^(1/q) >= 0`, and the principal logarithm of a real `a > 0`
+    /// is real (at `a = 0` it is undefined, so "where defined" covers it). A root of a
+    /// negative number is not real, which is why a root needs its radicand shown nonnegative,
+    /// not just real. With every kernel real, the formal conjugate of `f` is its complex
+    /// conjugate, so `f - conj(f) = 0` makes `f` real.
     pub fn is_real_shown(&mut self, f: Form) -> bool {
         // Every kernel reached must be real; `f` and every kernel argument must also equal
         // its formal conjugate (an exponent need not be real).
         let mut self_conjugate = vec![f];
+        let mut nonneg = Vec::new();
         for k in self.reachable_kernels(f) {
             match self.kernel(k) {
                 Kernel::Sym(_) | Kernel::Pi => {}
                 Kernel::Atan(a) | Kernel::Func { arg: a, .. } => self_conjugate.push(*a),
-                Kernel::Root { .. } | Kernel::Log(_) => return false,
+                Kernel::Root { radicand: a, .. } | Kernel::Log(a) => {
+                    self_conjugate.push(*a);
+                    if !self.square_roots.contains(&k) {
+                        nonneg.push(*a);
+                    }
+                }
             }
         }
         // Every kernel reached is real, so a formal conjugate is the complex conjugate.
@@ -1535,14 +1580,91 @@ impl Store {
         // `f - conj(f)` cancelling to no terms proves them equal (forms are not unique, so
         // comparing ids alone would be too strict).
         for g in self_conjugate {
-            let Ok(c) = self.conj_formal(g) else {
-                return false;
-            };
-            if c != g && self.sub(g, c) != Ok(self.zero) {
+            if !self.self_conjugate_shown(g) {
                 return false;
             }
         }
-        true
+        // With every kernel real (given the roots' radicands are nonnegative, which this
+        // checks for each of them), every root kernel is >= 0: `is_nonneg_shown` may use that.
+        nonneg.iter().all(|&a| self.is_nonneg_shown(a))
+    }
+
+    /// Whether `g` minus its formal conjugate cancels (so `g` is real when its kernels are).
+    fn self_conjugate_shown(&mut self, g: Form) -> bool {
+        let Ok(c) = self.conj_formal(g) else {
+            return false;
+        };
+        c == g || self.sub(g, c) == Ok(self.zero)
+    }
+
+    /// Whether the form `g`, whose kernels are all real and root kernels nonnegative (the
+    /// caller, [`Store::is_real_shown`], establishes both), is shown `>= 0` wherever it is
+    /// defined: its numerator and each denominator factor are sums of terms `c * m` with `c`
+    /// real and certified `>= 0`, `m` a product of even powers of (real) kernels, any powers of
+    /// `pi` and of root kernels (`>= 0`), and at most one `exp(E)` with `E` equal to its formal
+    /// conjugate (so real, and `exp(E) > 0`); a denominator factor raised to an even power
+    /// needs only to be real. A sum of nonnegative terms is nonnegative, a quotient of
+    /// nonnegative numbers too (where defined). Cheap and incomplete: `x^2 - 2*x + 1` is not
+    /// shown (the root of `abs(x - 1)` is recorded when `abs` builds it instead).
+    fn is_nonneg_shown(&mut self, g: Form) -> bool {
+        let r = self.rats[g.0 as usize].clone();
+        if !self.poly_nonneg_shown(&r.num) {
+            return false;
+        }
+        r.den.iter().all(|&(fid, e)| {
+            let p = self.factors[fid.0 as usize].clone();
+            (e % 2 == 0 && self.poly_real_shown(&p)) || self.poly_nonneg_shown(&p)
+        })
+    }
+
+    /// Every term nonnegative (see [`Store::is_nonneg_shown`]).
+    fn poly_nonneg_shown(&mut self, p: &Poly) -> bool {
+        p.iter().all(|(m, c)| {
+            let nonneg_coeff = c.is_real() && c.to_interval().is_some_and(|v| v.re.lo() >= 0.0);
+            let mono = self.monos[m.0 as usize].clone();
+            nonneg_coeff
+                && mono.exp.is_none_or(|e| self.self_conjugate_shown(e))
+                && mono.pows.iter().all(|&(k, e)| {
+                    e % 2 == 0 || matches!(self.kernel(k), Kernel::Pi | Kernel::Root { .. })
+                })
+        })
+    }
+
+    /// Every coefficient real and every exponent equal to its conjugate: a real polynomial
+    /// when its kernels are real.
+    fn poly_real_shown(&mut self, p: &Poly) -> bool {
+        p.iter().all(|(m, c)| {
+            let e = self.monos[m.0 as usize].exp;
+            c.is_real() && e.is_none_or(|e| self.self_conjugate_shown(e))
+        })
+    }
+
+    /// `|u| = sqrt(u^2)` for `u` shown real ([`Store::is_real_shown`], which the caller must
+    /// have checked). The root kernel is recorded as the root of a real square, so that it is
+    /// shown real and nonnegative itself (`abs(abs(x))`): its radicand `u^2` is `>= 0`
+    /// because `u` is real, whatever the expanded radicand looks like.
+    pub fn abs_of_real(&mut self, u: Form) -> CResult<Form> {
+        let sq = self.mul(u, u)?;
+        self.sqrt_of_squares(sq)
+    }
+
+    /// `sqrt(sq)` for a radicand the caller knows to be a sum of squares of forms shown real
+    /// (`u^2` for `abs`, `x^2 + y^2` for `atan2`), hence `>= 0`: the root kernel is recorded
+    /// as such ([`Store::is_real_shown`] then accepts it without looking at the expanded
+    /// radicand).
+    pub(crate) fn sqrt_of_squares(&mut self, sq: Form) -> CResult<Form> {
+        let root = self.root(sq, 2)?;
+        let r = self.rats[root.0 as usize].clone();
+        if let [(m, c)] = r.num.as_slice()
+            && r.den.is_empty()
+            && c.is_one()
+            && let [(k, 1)] = self.monos[m.0 as usize].pows.as_slice()
+            && self.monos[m.0 as usize].exp.is_none()
+            && matches!(self.kernel(*k), Kernel::Root { radicand, q: 2 } if *radicand == sq)
+        {
+            self.square_roots.insert(*k);
+        }
+        Ok(root)
     }
 
     /// True when `f` is shown real for every value of its symbols in `pt` (intervals: a box):

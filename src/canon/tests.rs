@@ -466,7 +466,20 @@ fn abs_is_sqrt_of_square_for_real_arguments_only() {
     check_not_identity("abs(x)", "x");
     check_not_identity("abs(x)", "-x");
     let mut st = Store::new();
-    for bad in ["abs(sqrt(x))", "abs(log(x))", "abs(x^(1/2))", "abs(abs(x))"] {
+    for bad in [
+        "abs(sqrt(x))",
+        "abs(log(x))",
+        "abs(x^(1/2))",
+        "abs(sqrt(x^2 - 1))",
+        "abs(sqrt(-x^2 - 1))",
+        "abs(sqrt(x^3 + 1))",
+        "abs(sqrt(x^2*y + 1))",
+        "abs(log(-x^2 - 1))",
+        "abs(sqrt(sqrt(x) + 1))",
+        "abs(sqrt(sin(x) + 1))",
+        "abs(sqrt(x^2 + 1)*sqrt(x))",
+        "abs(sqrt(1/(x - 1)))",
+    ] {
         let e = crate::parse::parse(bad).unwrap();
         assert!(
             st.build(&e, &Names::free()).is_err(),
@@ -477,6 +490,18 @@ fn abs_is_sqrt_of_square_for_real_arguments_only() {
         "abs(exp(x) + sin(y)/cos(x))",
         "abs(atan(x) - F(x*y))",
         "abs(tanh(x)^-3)",
+        // Roots and logarithms of arguments shown real and nonnegative (issue 14, item 2).
+        "abs(abs(x))",
+        "abs(abs(x - 1) - 2)",
+        "abs(sqrt(x^2 + 1))",
+        "abs(sqrt(x^2 + y^4 + pi*exp(x)) - 3)",
+        "abs(log(x^2 + 1))",
+        "abs(sqrt(sqrt(x^2 + 1) + x^2))",
+        "abs(sqrt(1/(x^2 + 1)))",
+        "abs(sqrt(1/(x - 1)^2))",
+        "abs((x^2 + 1)^(3/2))",
+        "abs(atan2(y, x))",
+        "abs(atan2(x - 1, y + 2))",
     ] {
         let e = crate::parse::parse(good).unwrap();
         assert!(
@@ -506,7 +531,7 @@ fn real_on_a_box() {
     assert!(!st.is_real_on(e, &across));
     assert!(
         !st.is_real_shown(e),
-        "roots are never shown real without a box"
+        "a root of a radicand not shown nonnegative is not shown real without a box"
     );
     let l = form(&mut st, "log(1 + b^2) + sqrt(2)*b");
     assert!(st.is_real_on(l, &across));
@@ -516,4 +541,51 @@ fn real_on_a_box() {
     // sqrt(1 - b) - 1/2 > 0 needs b < 3/4: certified on [0.1, 0.5], not on [0.5, 1.5].
     assert!(st.is_real_on(nested, &inside));
     assert!(!st.is_real_on(nested, &across));
+}
+
+#[test]
+fn abs_of_roots_shown_nonnegative() {
+    // |u| = u for u >= 0: proved where the root's radicand is shown nonnegative.
+    check_identity("abs(abs(x))", "abs(x)");
+    check_identity("abs(abs(x - 1))", "abs(x - 1)");
+    check_identity("abs(sqrt(x^2 + 1))", "sqrt(x^2 + 1)");
+    check_identity("abs(-sqrt(x^2 + 1))", "sqrt(x^2 + 1)");
+    // Not identities: |u| is not u for u < 0 (refuted at a point where it differs).
+    check_not_identity("abs(abs(x) - 2)", "abs(x) - 2");
+    check_not_identity("abs(log(x^2 + 1/2))", "log(x^2 + 1/2)");
+}
+
+#[test]
+fn atan2_is_the_half_angle_arctangent_off_its_cut() {
+    // d atan2(y, x) = (x dy - y dx)/(x^2 + y^2) (common practice: the angle's gradient).
+    check_identity("d_x(atan2(y, x))", "-y/(x^2 + y^2)");
+    check_identity("d_y(atan2(y, x))", "x/(x^2 + y^2)");
+    check_identity("atan2(y, x)", "2*atan(y/(sqrt(x^2 + y^2) + x))");
+    check_identity("atan2(0, x^2 + 1)", "0");
+    // atan2(y, x) = atan(y/x) only for x > 0: refuted (at a point with x < 0).
+    check_not_identity("atan2(y, x)", "atan(y/x)");
+    // Antisymmetry in y is true but no rewrite proves it: never refuted.
+    assert!(!matches!(
+        verdict("atan2(-y, x)", "-atan2(y, x)"),
+        Verdict::Nonzero(_)
+    ));
+    let mut st = Store::new();
+    for (bad, why) in [
+        (
+            "atan2(sqrt(x), 1)",
+            "first argument is not shown to be real",
+        ),
+        (
+            "atan2(1, log(x))",
+            "second argument is not shown to be real",
+        ),
+        ("atan2(0, -2)", "on its cut"),
+        ("atan2(0, 0)", "on its cut"),
+    ] {
+        let e = crate::parse::parse(bad).unwrap();
+        match st.build(&e, &Names::free()) {
+            Err(err) => assert!(err.message.contains(why), "{bad}: {}", err.message),
+            Ok(_) => panic!("{bad} should be refused"),
+        }
+    }
 }

@@ -50,13 +50,19 @@ pub fn vec_text(store: &mut Store, v: &[Form]) -> String {
     format!("({})", texts(store, v).join(", "))
 }
 
+/// `(a, b, c)` in the file's terms ([`Store::to_display_text`]), for text reports.
+pub fn vec_display(store: &mut Store, v: &[Form]) -> String {
+    let shown: Vec<String> = v.iter().map(|f| store.to_display_text(*f)).collect();
+    format!("({})", shown.join(", "))
+}
+
 /// The printed forms.
 pub fn texts(store: &mut Store, v: &[Form]) -> Vec<String> {
     v.iter().map(|f| store.to_text(*f)).collect()
 }
 
 /// The components of `h` (the spatial ones only, if asked) that are not exactly zero, with
-/// their printed forms, and how many are zero.
+/// their forms printed in the file's terms (for text reports), and how many are zero.
 pub fn nonzero_components(
     store: &mut Store,
     h: &Sym4,
@@ -71,7 +77,7 @@ pub fn nonzero_components(
         if store.is_zero(h[mu][nu]) {
             zeros += 1;
         } else {
-            shown.push((component_name(mu, nu), store.to_text(h[mu][nu])));
+            shown.push((component_name(mu, nu), store.to_display_text(h[mu][nu])));
         }
     }
     (shown, zeros)

@@ -23,6 +23,8 @@ pub enum Fun {
     Log,
     /// The principal arctangent.
     Atan,
+    /// The absolute value (of a real argument).
+    Abs,
 }
 
 /// One node.
@@ -34,6 +36,8 @@ pub enum Op {
     Var(u32),
     /// A built-in function.
     Call(Fun, Id),
+    /// `atan2(y, x)`, the language's own (equal to lingrav's off the cut `x <= 0, y = 0`).
+    Atan2(Id, Id),
     /// `base^n`, n >= 2.
     Pow(Id, u32),
     /// The principal `arg^(1/q)`.
@@ -104,7 +108,7 @@ impl Dag {
             Op::Call(_, a) | Op::Pow(a, _) | Op::Root(a, _) | Op::User(_, _, a) => vec![*a],
             Op::Prod(_, n, d) => n.iter().chain(d).copied().collect(),
             Op::Sum(ts) => ts.clone(),
-            Op::Quot(a, b) => vec![*a, *b],
+            Op::Quot(a, b) | Op::Atan2(a, b) => vec![*a, *b],
         }
     }
 
@@ -205,7 +209,12 @@ impl Dag {
                     Fun::Exp => a.exp(),
                     Fun::Log => a.ln(),
                     Fun::Atan => a.atan(),
+                    Fun::Abs => a.abs(),
                 }
+            }
+            Op::Atan2(y, x) => {
+                let y = self.eval(*y, vars, memo)?;
+                y.atan2(self.eval(*x, vars, memo)?)
             }
             Op::Pow(b, n) => self.eval(*b, vars, memo)?.powi(*n as i32),
             Op::Root(a, q) => {

@@ -56,8 +56,9 @@ impl Printed {
 
 /// How a language spells what the printer needs.
 pub(crate) trait Syntax {
-    /// The names of the built-in functions: sin, cos, exp, log, the square root and atan.
-    fn functions(&self) -> &'static [&'static str; 6];
+    /// The names of the built-in functions: sin, cos, exp, log, the square root, atan, the
+    /// absolute value and atan2 (arguments `y, x`).
+    fn functions(&self) -> &'static [&'static str; 8];
     /// A non-negative finite number (shortest round-trip digits unless the language needs
     /// more).
     fn num(&self, v: f64) -> String {
@@ -75,6 +76,7 @@ pub(crate) trait Syntax {
             Fun::Exp => 2,
             Fun::Log => 3,
             Fun::Atan => 5,
+            Fun::Abs => 6,
         };
         self.functions()[k]
     }
@@ -113,10 +115,12 @@ fn star_star(base: &Printed, exponent: &str) -> Printed {
 }
 
 /// The functions of C's `<math.h>` and Fortran's intrinsics.
-const PLAIN: [&str; 6] = ["sin", "cos", "exp", "log", "sqrt", "atan"];
+const PLAIN: [&str; 8] = ["sin", "cos", "exp", "log", "sqrt", "atan", "fabs", "atan2"];
+/// Fortran's intrinsics (generic `abs`).
+const FORTRAN: [&str; 8] = ["sin", "cos", "exp", "log", "sqrt", "atan", "abs", "atan2"];
 
 impl Syntax for C {
-    fn functions(&self) -> &'static [&'static str; 6] {
+    fn functions(&self) -> &'static [&'static str; 8] {
         &PLAIN
     }
     fn pow(&self, base: &Printed, n: u32) -> Printed {
@@ -128,7 +132,7 @@ impl Syntax for C {
 }
 
 impl Syntax for Python {
-    fn functions(&self) -> &'static [&'static str; 6] {
+    fn functions(&self) -> &'static [&'static str; 8] {
         &[
             "np.sin",
             "np.cos",
@@ -136,6 +140,8 @@ impl Syntax for Python {
             "np.log",
             "np.sqrt",
             "np.arctan",
+            "np.abs",
+            "np.arctan2",
         ]
     }
     fn pow(&self, base: &Printed, n: u32) -> Printed {
@@ -147,8 +153,8 @@ impl Syntax for Python {
 }
 
 impl Syntax for Fortran {
-    fn functions(&self) -> &'static [&'static str; 6] {
-        &PLAIN
+    fn functions(&self) -> &'static [&'static str; 8] {
+        &FORTRAN
     }
     fn num(&self, v: f64) -> String {
         format!("{}_real64", float(v))
@@ -162,7 +168,7 @@ impl Syntax for Fortran {
 }
 
 impl Syntax for Rust {
-    fn functions(&self) -> &'static [&'static str; 6] {
+    fn functions(&self) -> &'static [&'static str; 8] {
         &[
             "f64::sin",
             "f64::cos",
@@ -170,6 +176,8 @@ impl Syntax for Rust {
             "f64::ln",
             "f64::sqrt",
             "f64::atan",
+            "f64::abs",
+            "f64::atan2",
         ]
     }
     fn pow(&self, base: &Printed, n: u32) -> Printed {
@@ -224,6 +232,12 @@ impl Printer<'_> {
             }
             Op::Var(i) => Printed::atom(self.vars[*i as usize].clone()),
             Op::Call(f, a) => Printed::atom(format!("{}({})", s.fun(*f), self.child(*a).full())),
+            Op::Atan2(y, x) => Printed::atom(format!(
+                "{}({}, {})",
+                s.functions()[7],
+                self.child(*y).full(),
+                self.child(*x).full()
+            )),
             Op::User(f, k, a) => Printed::atom(format!(
                 "{}({})",
                 self.users[&(*f, *k)],

@@ -119,6 +119,12 @@ impl Target for EmitTarget {
     fn atan(&mut self, a: Id) -> Id {
         self.dag.node(Op::Call(Fun::Atan, a))
     }
+    fn abs(&mut self, a: Id) -> Id {
+        self.dag.node(Op::Call(Fun::Abs, a))
+    }
+    fn atan2(&mut self, y: Id, x: Id) -> Id {
+        self.dag.node(Op::Atan2(y, x))
+    }
     fn call(&mut self, f: &str, k: u32, arg: Id) -> Option<Id> {
         if self.inline {
             return None;

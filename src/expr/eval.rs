@@ -111,9 +111,20 @@ impl Expr {
             ExprKind::Call {
                 name, primes, arg, ..
             } => call(name, *primes, arg.eval(ev)?, ev),
+            ExprKind::Atan2 { y, x, .. } => atan2(y.eval(ev)?, x.eval(ev)?),
             ExprKind::Deriv { .. } => Err(EvalError::Unsupported("derivative operator".into())),
         }
     }
+}
+
+/// `atan2(y, x)`, refused on its cut `x <= 0, y = 0`, where lingrav leaves it undefined.
+fn atan2(y: f64, x: f64) -> Result<f64, EvalError> {
+    if y == 0.0 && x <= 0.0 {
+        return Err(EvalError::Domain(format!(
+            "atan2({y}, {x}) on its cut (x <= 0, y = 0)"
+        )));
+    }
+    finite(y.atan2(x), || format!("atan2({y}, {x})"))
 }
 
 fn symbol(name: &str, ev: &Evaluator) -> Result<f64, EvalError> {

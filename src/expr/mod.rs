@@ -103,6 +103,16 @@ pub enum ExprKind {
         /// The single argument.
         arg: Box<Expr>,
     },
+    /// `atan2(y, x)`, the one built-in function of two arguments: the angle of the point
+    /// `(x, y)`, defined off its cut `x <= 0, y = 0` (see [`crate::canon`]).
+    Atan2 {
+        /// Where the name `atan2` stands.
+        name_span: Span,
+        /// The first argument (the ordinate).
+        y: Box<Expr>,
+        /// The second argument (the abscissa).
+        x: Box<Expr>,
+    },
     /// `d_x(f)`, `d_t_z(f)`: partial derivatives of `f` by the listed variables, in order.
     Deriv {
         /// The variables, each with the span of its name.
@@ -150,6 +160,10 @@ impl Expr {
                 b.walk(f);
             }
             ExprKind::Call { arg, .. } | ExprKind::Deriv { arg, .. } => arg.walk(f),
+            ExprKind::Atan2 { y, x, .. } => {
+                y.walk(f);
+                x.walk(f);
+            }
         }
     }
 }
@@ -202,6 +216,7 @@ impl fmt::Display for Expr {
             } => {
                 write!(f, "{name}{}({arg})", "'".repeat(*primes as usize))
             }
+            ExprKind::Atan2 { y, x, .. } => write!(f, "atan2({y}, {x})"),
             ExprKind::Deriv { vars, arg } => {
                 write!(f, "d")?;
                 for (v, _) in vars {

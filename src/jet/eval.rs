@@ -284,6 +284,10 @@ impl Program {
                 }
                 self.walk(arg, order, scope, n)
             }
+            ExprKind::Atan2 { y, x, .. } => {
+                self.walk(y, order, scope, n)?;
+                self.walk(x, order, scope, n)
+            }
             ExprKind::Deriv { vars, arg } => {
                 for (v, span) in vars {
                     if self.define_index.contains_key(v) || v == "pi" {
@@ -423,6 +427,10 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
             ExprKind::Call {
                 name, primes, arg, ..
             } => self.call(name, *primes, arg, order),
+            ExprKind::Atan2 { y, x, .. } => {
+                let (y, x) = (self.eval(y, order)?, self.eval(x, order)?);
+                atan2(&y, &x, self.ctx).here()
+            }
             ExprKind::Deriv { vars, arg } => self.deriv(vars, arg, order),
         }
     }
@@ -568,6 +576,32 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
             j = j.derivative(i).here()?;
         }
         Ok(j)
+    }
+}
+
+/// `atan2(y, x)` of jets, by the half-plane the point lies in (certified), independently of
+/// the canonical form's half-angle formula: `atan(y/x)` where `x > 0`, `pi/2 - atan(x/y)`
+/// where `y > 0` and `-pi/2 - atan(x/y)` where `y < 0` (each the principal angle of `(x, y)`
+/// on its open half-plane, which covers the plane off the cut `x <= 0, y = 0`). `None` where
+/// no half-plane is certified (near the cut or the origin).
+fn atan2<S: Scalar>(y: &Jet<S>, x: &Jet<S>, c: &S::Ctx) -> Option<Jet<S>> {
+    if x.value().is_positive() {
+        return y.div(x, c)?.atan(c);
+    }
+    let sign = if y.value().is_positive() {
+        1
+    } else if y.value().neg().is_positive() {
+        -1
+    } else {
+        return None;
+    };
+    let half_pi = S::pi(c)?.div(&S::from_rational(&BigRational::from_integer(2.into()), c)?)?;
+    let quarter = Jet::constant(x.space(), x.order(), half_pi);
+    let a = x.div(y, c)?.atan(c)?;
+    if sign > 0 {
+        quarter.sub(&a)
+    } else {
+        quarter.neg().sub(&a)
     }
 }
 

@@ -1,7 +1,8 @@
 //! Text to [`Expr`]: a hand-written lexer and a Pratt parser.
 //!
 //! The language is small: exact numbers (`12`, `1.5`, `.5`, `1.5e-3`), ASCII names, the
-//! operators `+ - * / ^`, parentheses, calls of one argument `f(x)`, derivatives of arbitrary
+//! operators `+ - * / ^`, parentheses, calls of one argument `f(x)` (and `atan2(y, x)`, the one
+//! built-in function of two arguments), derivatives of arbitrary
 //! functions `F'(u)`, `F''(t - r)`, and partial-derivative operators `d_x(f)`, `d_t_t(f)`.
 //!
 //! Precedence, loosest first: `+ -` (left), `* /` (left), unary `-` and `+`, `^` (right).
@@ -128,6 +129,9 @@ pub fn parse(src: &str) -> Result<Expr, ParseError> {
 /// of the recursive descent stay small; [`MAX_DEPTH`] levels must fit a thread's stack even
 /// in unoptimised builds.
 type PResult<T> = Result<T, Box<ParseError>>;
+
+/// The one function of two arguments.
+const ATAN2: &str = "atan2";
 
 /// Binding powers `(left, right)` of the binary operators; a higher number binds tighter.
 /// Left-associative operators have `right = left + 1`, the right-associative `^` has
@@ -353,9 +357,43 @@ impl Parser<'_> {
     /// `name(arg)`, `name''(arg)` or `d_x_y(arg)`; [`Parser::at_call`] holds.
     fn call(&mut self) -> PResult<Node> {
         let head = self.call_head()?;
+        if head.name == ATAN2 && head.vars.is_none() {
+            return self.atan2(head);
+        }
         let arg = self.expr(0)?;
         let close = self.close(head.open, Some(head.name_span))?;
         self.finish_call(head, arg, close)
+    }
+
+    /// The rest of `atan2(y, x)` after its `(`: exactly two arguments, no primes.
+    fn atan2(&mut self, head: CallHead) -> PResult<Node> {
+        if head.primes > 0 {
+            return Err(primed_atan2(head.name_span));
+        }
+        let y = self.expr(0)?;
+        if self.peek().kind != TokKind::Comma {
+            return Err(self.atan2_arity(head.name_span, head.open, 1));
+        }
+        self.bump();
+        if matches!(self.peek().kind, TokKind::RParen | TokKind::Eof) {
+            return Err(self.expected_operand());
+        }
+        let x = self.expr(0)?;
+        if self.peek().kind == TokKind::Comma {
+            return Err(self.atan2_arity(head.name_span, head.open, 3));
+        }
+        let close = self.close(head.open, Some(head.name_span))?;
+        let span = head.name_span.join(close);
+        let depth = y.depth.max(x.depth) + 1;
+        self.node(
+            ExprKind::Atan2 {
+                name_span: head.name_span,
+                y: y.expr,
+                x: x.expr,
+            },
+            span,
+            depth,
+        )
     }
 
     /// Consumes the name and the `(` of a call, checking the name of a derivative operator
@@ -429,10 +467,38 @@ impl Parser<'_> {
                 tok.span,
                 "second argument starts after this",
             )
-            .with_related(name, "this function"),
+            .with_related(name, "this function")
+            .with_help("only `atan2(y, x)` takes two arguments"),
             _ => return self.stray(tok),
         };
         Box::new(err)
+    }
+
+    /// `atan2` with one argument (`found` = 1) or more than two (`found` = 3); points at the
+    /// `)` or `,` where the count goes wrong, with the name as the second place.
+    #[cold]
+    #[inline(never)]
+    fn atan2_arity(&self, name: Span, open: Span, found: u8) -> Box<ParseError> {
+        let tok = self.peek();
+        if found == 1 && tok.kind != TokKind::RParen {
+            return self.unclosed(open, Some(name));
+        }
+        let (message, label) = if found == 1 {
+            (
+                "`atan2` takes two arguments, found one",
+                "expected `, x` before this",
+            )
+        } else {
+            (
+                "`atan2` takes two arguments, found more",
+                "a third argument starts after this",
+            )
+        };
+        Box::new(
+            ParseError::new(message, tok.span, label)
+                .with_related(name, "this function")
+                .with_help("write `atan2(y, x)`, the angle of the point (x, y)"),
+        )
     }
 
     #[cold]
@@ -554,7 +620,9 @@ impl Parser<'_> {
             "not expected here",
         );
         Box::new(if tok.kind == TokKind::Comma {
-            err.with_help("a `,` can only separate arguments, and functions take one argument")
+            err.with_help(
+                "a `,` can only separate arguments, and only `atan2(y, x)` takes more than one",
+            )
         } else {
             err
         })
@@ -615,6 +683,18 @@ fn primed_operator(name: &str, name_span: Span) -> Box<ParseError> {
 
 #[cold]
 #[inline(never)]
+fn primed_atan2(name_span: Span) -> Box<ParseError> {
+    let primes = Span::new(name_span.start + ATAN2.len(), name_span.end);
+    Box::new(
+        ParseError::new("primes cannot mark `atan2`", primes, "remove these").with_help(
+            "differentiate with the operator, e.g. `d_x(atan2(y, x))`; primes mark \
+             derivatives of arbitrary functions of one argument",
+        ),
+    )
+}
+
+#[cold]
+#[inline(never)]
 fn too_deep(span: Span) -> Box<ParseError> {
     Box::new(
         ParseError::new("expression nested too deeply", span, "too deep here").with_help(format!(
@@ -645,6 +725,11 @@ mod tests {
                 name_span: Span::default(),
                 primes: *primes,
                 arg: Box::new(strip(arg)),
+            },
+            ExprKind::Atan2 { y, x, .. } => ExprKind::Atan2 {
+                name_span: Span::default(),
+                y: Box::new(strip(y)),
+                x: Box::new(strip(x)),
             },
             ExprKind::Deriv { vars, arg } => ExprKind::Deriv {
                 vars: vars
@@ -684,6 +769,7 @@ mod tests {
                 ExprKind::Neg(a) => vec![a.span],
                 ExprKind::Binary(_, a, b) => vec![a.span, b.span],
                 ExprKind::Call { name_span, arg, .. } => vec![*name_span, arg.span],
+                ExprKind::Atan2 { name_span, y, x } => vec![*name_span, y.span, x.span],
                 ExprKind::Deriv { vars, arg } => {
                     vars.iter().map(|(_, s)| *s).chain([arg.span]).collect()
                 }
@@ -825,6 +911,25 @@ mod tests {
     }
 
     #[test]
+    fn atan2_takes_two_arguments() {
+        check("atan2(y, x)", "atan2(y, x)");
+        check("atan2(-y, x^2 + 1)*2", "atan2(-y, x^2 + 1) * 2");
+        check("sin(atan2(a, b))", "sin(atan2(a, b))");
+        let src = "1 + atan2(y - 1, x)";
+        let e = parse(src).expect("parses");
+        let ExprKind::Binary(_, _, call) = &e.kind else {
+            panic!("{e:?}")
+        };
+        let ExprKind::Atan2 { name_span, y, x } = &call.kind else {
+            panic!("{call:?}")
+        };
+        assert_eq!(call.span, Span::new(4, 19));
+        assert_eq!(*name_span, Span::new(4, 9));
+        assert_eq!(y.span, Span::new(10, 15));
+        assert_eq!(x.span, Span::new(17, 18));
+    }
+
+    #[test]
     fn bad_inputs() {
         let table: &[(&str, &str, (usize, usize))] = &[
             ("", "empty expression", (0, 0)),
@@ -845,6 +950,25 @@ mod tests {
             ("()", "empty parentheses", (0, 2)),
             ("f()", "`f()` has no argument", (0, 3)),
             ("f(x, y)", "functions take one argument", (3, 4)),
+            ("atan2(y)", "`atan2` takes two arguments, found one", (7, 8)),
+            (
+                "atan2(y, x, z)",
+                "`atan2` takes two arguments, found more",
+                (10, 11),
+            ),
+            (
+                "atan2(y, )",
+                "expected an operand after `,`, found `)`",
+                (9, 10),
+            ),
+            ("atan2(y, x", "unclosed `(`", (10, 10)),
+            ("atan2(y x)", "missing operator", (6, 9)),
+            ("atan2'(y, x)", "primes cannot mark `atan2`", (5, 6)),
+            (
+                "sin(atan2(1))",
+                "`atan2` takes two arguments, found one",
+                (11, 12),
+            ),
             ("(x, y)", "unexpected `,`", (2, 3)),
             ("x, y", "unexpected `,`", (1, 2)),
             ("x $ y", "unexpected character `$`", (2, 3)),
@@ -1046,6 +1170,14 @@ mod tests {
                         };
                         Expr::new(kind, at)
                     }),
+                (inner.clone(), inner.clone()).prop_map(move |(y, x)| {
+                    let kind = ExprKind::Atan2 {
+                        name_span: at,
+                        y: Box::new(y),
+                        x: Box::new(x),
+                    };
+                    Expr::new(kind, at)
+                }),
                 (
                     prop::collection::vec(prop::sample::select(vec!["x", "t", "r"]), 1..4),
                     inner

@@ -1035,7 +1035,8 @@ proptest! {
 
 /// Issue 14, item 1: results print in the file's own terms, and what they print reads back.
 /// For every worked file: each component of h and of the linearized Einstein tensor (and,
-/// for bodies, the trace-free quadrupole and the luminosity), printed with the file's
+/// for bodies, the trace-free quadrupole and the luminosity; in flat Cartesian coordinates,
+/// the TT part and polarizations that `project` prints), printed with the file's
 /// `[define]` names, parses with the file's names to exactly the canonical form (the same
 /// interned form, or a difference proved 0).
 #[test]
@@ -1061,6 +1062,21 @@ fn display_text_reads_back_on_every_worked_file() {
         let mut lin = crate::tensor::Linearized::new(&mut p.store, p.h);
         let g = lin.einstein(&mut p.store).unwrap();
         forms.extend(crate::tensor::COMPONENTS.iter().map(|&(m, n)| g[m][n]));
+        if p.is_flat_cartesian() {
+            // What `project` prints: the TT part and the polarizations along an oblique
+            // direction.
+            let dir = crate::tt::parse_direction(
+                &mut p.store,
+                &p.names,
+                &p.sampling,
+                crate::tt::Arg::new("--direction", "3/5,0,4/5"),
+                false,
+            )
+            .unwrap();
+            let proj = crate::tt::project_perturbation(&mut p.store, &p.h, &dir).unwrap();
+            forms.extend(proj.tt.iter().flatten().copied());
+            forms.extend([proj.plus, proj.cross]);
+        }
         if !p.bodies.is_empty() {
             // What `radiation` prints: the trace-free quadrupole and the luminosity.
             let clock = crate::radiation::Clock::of(&mut p);

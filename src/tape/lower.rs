@@ -53,6 +53,10 @@ enum U {
     Cos(u32),
     /// The principal arctangent.
     Atan(u32),
+    /// `|a|` of a real `a`.
+    Abs(u32),
+    /// `atan2(y, x)` of real arguments, off its cut `x <= 0, y = 0`.
+    Atan2(u32, u32),
     /// An arbitrary function (by name index) differentiated `order` times, at the argument.
     Func(u32, u32, u32),
 }
@@ -116,6 +120,23 @@ pub trait Target {
     fn cos(&mut self, a: Self::Node) -> Self::Node;
     /// The principal `atan(a)`.
     fn atan(&mut self, a: Self::Node) -> Self::Node;
+    /// `|a|` of a real `a`; by default `sqrt(a^2)`, the principal root (equal for real `a`).
+    fn abs(&mut self, a: Self::Node) -> Self::Node {
+        let a2 = self.mul(a, a);
+        self.root(a2, 2)
+    }
+    /// `atan2(y, x)` of real arguments; by default `2 atan(y / (sqrt(x^2 + y^2) + x))`,
+    /// equal off the cut `x <= 0, y = 0` (see `canon`'s `atan2`), undefined on it (0/0).
+    fn atan2(&mut self, y: Self::Node, x: Self::Node) -> Self::Node {
+        let xx = self.mul(x, x);
+        let yy = self.mul(y, y);
+        let s = self.add(xx, yy);
+        let r = self.root(s, 2);
+        let d = self.add(r, x);
+        let q = self.div(y, d);
+        let a = self.atan(q);
+        self.add(a, a)
+    }
     /// Derivative `k` of the arbitrary function `f` at `arg` as a call the target keeps
     /// (code calling a user-supplied function), or `None` to evaluate `f`'s sample instead.
     fn call(&mut self, _f: &str, _k: u32, _arg: Self::Node) -> Option<Self::Node> {
@@ -592,6 +613,11 @@ impl<T: Target> Lowering<T> {
                 let f = self.function(name);
                 self.push(U::Func(f, *primes, a))
             }
+            ExprKind::Atan2 { y, x, .. } => {
+                let y = self.build(y, in_sample)?;
+                let x = self.build(x, in_sample)?;
+                self.push(U::Atan2(y, x))
+            }
             ExprKind::Deriv { vars, arg } => {
                 let mut f = self.build(arg, in_sample)?;
                 for (v, _) in vars {
@@ -628,12 +654,9 @@ impl<T: Target> Lowering<T> {
             "log" => self.push(U::Log(a)),
             "sqrt" => self.push(U::Root(a, 2)),
             "atan" => self.push(U::Atan(a)),
-            // |a| = sqrt(a^2) for real a (the canonical build refuses abs of an argument not
-            // shown real, so a problem that reaches the numeric routes has a real one).
-            "abs" => {
-                let a2 = self.mul(a, a);
-                self.push(U::Root(a2, 2))
-            }
+            // |a| for real a (the canonical build refuses abs of an argument not shown real,
+            // so a problem that reaches the numeric routes has a real one).
+            "abs" => self.push(U::Abs(a)),
             "sinh" | "cosh" | "tanh" => {
                 let p = self.push(U::Exp(a));
                 let na = self.neg(a);
@@ -717,6 +740,23 @@ impl<T: Target> Lowering<T> {
             U::Log(a) => {
                 let da = self.diff(a, s)?;
                 self.div(da, a)
+            }
+            U::Abs(a) => {
+                // |a|' = a a' / |a| (real a, away from a = 0)
+                let da = self.diff(a, s)?;
+                let t = self.mul(a, da);
+                self.div(t, n)
+            }
+            U::Atan2(y, x) => {
+                // atan2(y, x)' = (x y' - y x') / (x^2 + y^2)
+                let (dy, dx) = (self.diff(y, s)?, self.diff(x, s)?);
+                let a = self.mul(x, dy);
+                let b = self.mul(y, dx);
+                let num = self.sub(a, b);
+                let xx = self.mul(x, x);
+                let yy = self.mul(y, y);
+                let den = self.add(xx, yy);
+                self.div(num, den)
             }
             U::Atan(a) => {
                 // d atan(a) = a' / (1 + a^2)
@@ -810,6 +850,14 @@ impl<T: Target> Lowering<T> {
             U::Atan(a) => {
                 let x = self.emit(a, scope, memo)?;
                 self.target.atan(x)
+            }
+            U::Abs(a) => {
+                let x = self.emit(a, scope, memo)?;
+                self.target.abs(x)
+            }
+            U::Atan2(y, x) => {
+                let (yn, xn) = (self.emit(y, scope, memo)?, self.emit(x, scope, memo)?);
+                self.target.atan2(yn, xn)
             }
             U::Sin(a) => {
                 let x = self.emit(a, scope, memo)?;

@@ -11,7 +11,7 @@
 //! **Invariant:** "zero" is only ever claimed from an empty canonical form; floating point
 //! can produce "nonzero" (with a certified enclosure) or "undecided", never "zero".
 
-use crate::canon::{CanonError, Form, FunctionSample, KernelId, Names, Point, Store};
+use crate::canon::{CanonError, Form, FunctionSample, KernelId, Names, OwnedTerm, Point, Store};
 use crate::interval::{CInterval, Interval};
 use rustc_hash::FxHashMap;
 use std::fmt;
@@ -186,6 +186,10 @@ pub fn decide(store: &mut Store, f: Form, sampling: &Sampling) -> Verdict {
     let mut rng = SplitMix64::new(sampling.seed);
     let mut evaluated = 0usize;
     let mut widest = 0f64;
+    // A certified point near a pole (a denominator factor almost cancelling) is kept only
+    // until a point clear of every pole certifies too: the witness should be easy to
+    // reproduce by hand.
+    let mut near_pole: Option<Witness> = None;
     for attempt in 0..sampling.points {
         let at_file_values = attempt < sampling.points.div_ceil(2);
         let mut coords = Vec::new();
@@ -227,14 +231,22 @@ pub fn decide(store: &mut Store, f: Form, sampling: &Sampling) -> Verdict {
         if let Some(val) = store.eval_interval(f, &point) {
             evaluated += 1;
             if val.excludes_zero() {
-                return Verdict::Nonzero(Witness {
+                let w = Witness {
                     point: coords,
                     value: val,
                     seed: sampling.seed,
-                });
+                };
+                if clear_of_poles(store, f, &point) {
+                    return Verdict::Nonzero(w);
+                }
+                near_pole.get_or_insert(w);
+                continue;
             }
             widest = widest.max(val.re.width()).max(val.im.width());
         }
+    }
+    if let Some(w) = near_pole {
+        return Verdict::Nonzero(w);
     }
     let n = store.num_terms(f);
     let n = if n == 1 {
@@ -267,6 +279,41 @@ pub fn decide_equal(
     Ok(decide(store, d, sampling))
 }
 
+/// How far from its zero set a denominator factor must be at a reported witness: its value
+/// at least this share of the sum of its terms' magnitudes.
+const CLEARANCE: f64 = 1e-2;
+
+/// Whether every denominator factor of `f` is clear of its zero set at `pt` (see
+/// [`CLEARANCE`]): a factor that cancels to less than 1% of its terms marks a point near a
+/// pole (r = 0, x = y, sqrt(x^2 + y^2) + x = 0), where a witness is hard to reproduce by hand.
+/// This only chooses among certified points; it proves nothing.
+fn clear_of_poles(store: &mut Store, f: Form, pt: &Point) -> bool {
+    let factors: Vec<Vec<OwnedTerm>> = store
+        .view(f)
+        .denominator()
+        .map(|(p, _)| p.owned_terms())
+        .collect();
+    for terms in factors {
+        let mut sum = CInterval::ZERO;
+        let mut magnitude = 0f64;
+        for t in &terms {
+            let tf = store.term_form(t);
+            let Some(v) = store.eval_interval(tf, pt) else {
+                return false;
+            };
+            let Some(s) = sum.add(v) else {
+                return false;
+            };
+            sum = s;
+            magnitude += v.re.mag().hypot(v.im.mag());
+        }
+        if sum.abs_lower_bound() < CLEARANCE * magnitude {
+            return false;
+        }
+    }
+    true
+}
+
 /// A limit error as an undecided verdict.
 pub fn undecided_from(e: &CanonError) -> Verdict {
     Verdict::Undecided(e.to_string())
@@ -275,6 +322,38 @@ pub fn undecided_from(e: &CanonError) -> Verdict {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A witness is reported away from the poles when a certified point there exists: with x
+    /// and y confined near the line x = y, most points are within 1% of the pole of
+    /// 1/(x - y), and the one reported is not; the criterion itself on chosen points.
+    #[test]
+    fn a_witness_is_chosen_clear_of_poles() {
+        let mut st = Store::new();
+        let f = crate::expression(&mut st, "1/(x - y) + x").unwrap();
+        let (kx, ky) = (st.symbol_kernel("x"), st.symbol_kernel("y"));
+        let at = |x: f64, y: f64| {
+            let mut pt = Point::default();
+            for (k, v) in [(kx, x), (ky, y)] {
+                pt.values
+                    .insert(k, CInterval::from_real(Interval::point(v).unwrap()));
+            }
+            pt
+        };
+        assert!(!clear_of_poles(&mut st, f, &at(1.0, 1.005)));
+        assert!(clear_of_poles(&mut st, f, &at(1.0, 1.05)));
+        let mut sampling = Sampling::default();
+        sampling.ranges.insert(kx, (1.0, 1.1));
+        sampling.ranges.insert(ky, (1.0, 1.1));
+        let Verdict::Nonzero(w) = decide(&mut st, f, &sampling) else {
+            panic!("1/(x - y) + x is nonzero");
+        };
+        let (x, y) = (w.point[0].1, w.point[1].1);
+        assert!((x - y).abs() >= 1e-2 * (x.abs() + y.abs()), "{:?}", w.point);
+        // Confined to the pole's neighbourhood, a certified point near it is still reported.
+        sampling.ranges.insert(ky, (1.0, 1.000_01));
+        sampling.ranges.insert(kx, (1.000_02, 1.000_03));
+        assert!(matches!(decide(&mut st, f, &sampling), Verdict::Nonzero(_)));
+    }
 
     /// A witness a physicist can type back in: the file's parameter values as they are when
     /// they certify the failure, sampled coordinates at three significant digits.

@@ -287,7 +287,7 @@ fn issue9_project_audits_its_exact_statements() {
     for want in [
         "[vector; unit length (proved)]\n           unit length: audited: consistent with an \
          independent evaluation at 3 seeded points",
-        "(as printed, against an independent projection of the texts: audited: 6 proof(s) \
+        "(the exact forms, against an independent projection of the texts: audited: 6 proof(s) \
          consistent",
         "not TT     0, exactly: h is already TT along n\n           audited: 10 proof(s) \
          consistent",

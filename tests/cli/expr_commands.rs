@@ -265,3 +265,48 @@ fn atan_and_abs_are_known_functions() {
         "{out:?}"
     );
 }
+
+/// `atan2(y, x)` (issue 14): its derivatives proved, its value refuted where a formula valid
+/// only for x > 0 differs, bad calls located (exit 2, line and column), complex-looking or
+/// cut arguments refused with the reason.
+#[test]
+fn atan2_through_the_command_line() {
+    // d atan2(y, x) = (x dy - y dx)/(x^2 + y^2) (common practice: gradient of the polar angle).
+    check_zero(&["d_x(atan2(y,x)) + y/(x^2+y^2)"], 0, "zero");
+    check_zero(&["d_y(atan2(y, x))", "x/(x^2 + y^2)"], 0, "zero");
+    check_zero(&["atan2(y, x)", "atan(y/x)"], 1, "nonzero");
+    check_zero(&["abs(abs(x - 1))", "abs(x - 1)"], 0, "zero");
+    check_zero(&["abs(sqrt(x^2 + 1))", "sqrt(x^2 + 1)"], 0, "zero");
+    // (expression, message, where the report starts: its first label, the function's name
+    // when the call is labelled too)
+    let bad: &[(&str, &str, &str)] = &[
+        (
+            "1 + atan2(y)",
+            "`atan2` takes two arguments, found one",
+            "1:5",
+        ),
+        (
+            "atan2(y, x, z)",
+            "`atan2` takes two arguments, found more",
+            "1:1",
+        ),
+        ("sin(x, y)", "functions take one argument", "1:1"),
+        (
+            "atan2(sqrt(x), y)",
+            "first argument is not shown to be real",
+            "1:7",
+        ),
+        ("atan2(0, -1)", "on its cut", "1:1"),
+        ("abs(sqrt(x - 1))", "not shown to be real", "1:5"),
+    ];
+    for (text, msg, at) in bad {
+        let out = lingrav(&["zero", text]);
+        assert_eq!(out.2, 2, "{text}: {out:?}");
+        assert!(out.1.contains(msg), "{text}: {}", out.1);
+        assert!(
+            out.1.contains(&format!("expression:{at}")),
+            "{text}: {}",
+            out.1
+        );
+    }
+}

@@ -251,3 +251,76 @@ fn results_print_in_the_files_terms_unless_expanded() {
         "{out}"
     );
 }
+
+/// Issue 14: `gauge`, `project` and `ring` print in the file's terms too (text), with
+/// `--expanded` for the canonical forms; their JSON stays canonical.
+#[test]
+fn gauge_project_and_ring_print_in_the_files_terms() {
+    use crate::support::worked;
+    let front = worked("arctan_front_with_angle_gauge.toml");
+    let gauge = ["gauge", front.as_str(), "--vector", "0, 0, 0, e*ret^2"];
+    let (out, err, code) = lingrav(&gauge);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("  h'_xx = front\n"), "{out}");
+    // The polar angle's derivative, by its own rule (not the half-angle formula's).
+    assert!(out.contains("  h'_tx = -e*y/(x^2 + y^2)\n"), "{out}");
+    let (out, _, code) = lingrav(&[&gauge[..], &["--expanded"]].concat());
+    assert_eq!(code, 0);
+    assert!(
+        out.contains("  h'_xx = a*atan(") && !out.contains("= front"),
+        "{out}"
+    );
+    let (out, _, code) = lingrav(&[&gauge[..], &["--format", "json"]].concat());
+    assert_eq!(code, 0);
+    assert!(out.contains("a*atan(") && !out.contains("\"front"), "{out}");
+
+    let wave = worked("oblique_wave.toml");
+    let project = ["project", wave.as_str(), "--direction", "3/5,0,4/5"];
+    let (out, _, code) = lingrav(&project);
+    assert_eq!(code, 0);
+    assert!(out.contains("h^TT_xx = 16*a_plus*cos(phase)/25"), "{out}");
+    let (out, _, code) = lingrav(&[&project[..], &["--expanded"]].concat());
+    assert_eq!(code, 0);
+    assert!(
+        !out.contains("phase") && out.contains("h^TT_xx = "),
+        "{out}"
+    );
+    let (out, _, code) = lingrav(&[&project[..], &["--format", "json"]].concat());
+    assert_eq!(code, 0);
+    assert!(!out.contains("phase"), "{out}");
+
+    // On the sphere: the printed polarizations in the file's terms; the audit reads the
+    // canonical texts, whichever way they are printed.
+    let teuk = worked("teukolsky_l2_wave.toml");
+    for extra in [&[][..], &["--expanded"][..]] {
+        let args = [
+            &["project", teuk.as_str(), "--direction", "radial"][..],
+            extra,
+        ]
+        .concat();
+        let (out, err, code) = lingrav(&args);
+        assert_eq!(code, 0, "{err}");
+        assert!(out.contains("audited: consistent"), "{out}");
+        let plus = out.lines().find(|l| l.starts_with("  h_plus  = ")).unwrap();
+        // Collected by the arbitrary function's derivatives (display), or expanded.
+        assert_eq!(
+            plus.starts_with("  h_plus  = 3*(F''''(t - r)*("),
+            extra.is_empty(),
+            "{plus}"
+        );
+    }
+
+    let ring = [
+        "ring",
+        wave.as_str(),
+        "--direction",
+        "3/5,0,4/5",
+        "--times",
+        "0",
+    ];
+    for extra in [&[][..], &["--expanded"][..]] {
+        let (out, _, code) = lingrav(&[&ring[..], extra].concat());
+        assert_eq!(code, 0);
+        assert!(out.contains("direction  n = (3/5, 0, 4/5)"), "{out}");
+    }
+}

@@ -73,7 +73,27 @@ FUNCS = {
     "sinh": mpmath.sinh,
     "cosh": mpmath.cosh,
     "tanh": mpmath.tanh,
+    "atan": mpmath.atan,
+    # lingrav builds abs only of arguments it shows real; a complex one is undefined here.
+    "abs": lambda a: real_only(a, "abs", mpmath.fabs),
 }
+
+
+def real_only(a, name, f):
+    if isinstance(a, mpmath.mpc):
+        if a.imag != 0:
+            raise Undefined(f"{name} of a complex number")
+        a = a.real
+    return f(a)
+
+
+def atan2(y, x):
+    """mpmath's atan2 of real arguments, undefined (as in lingrav) on the cut x <= 0, y = 0."""
+    y = real_only(y, "atan2", lambda v: v)
+    x = real_only(x, "atan2", lambda v: v)
+    if is_zero(y) and x <= 0:
+        raise Undefined("atan2 on its cut")
+    return mpmath.atan2(y, x)
 
 
 class SyntaxErr(Exception):
@@ -87,6 +107,7 @@ class Undefined(Exception):
 # ----- lingrav syntax to a tree ---------------------------------------------------------
 # Nodes: ("num", Fraction) ("pi",) ("sym", name) ("add"|"sub"|"mul"|"div"|"pow", a, b)
 # ("neg", a) ("call", name, a) ("func", name, primes, a) ("d", [vars], a)
+# ("atan2", y, x)
 
 
 def tokenize(src):
@@ -121,7 +142,7 @@ def tokenize(src):
                 j += 1
             toks.append(("name", (name, primes)))
             i = j
-        elif c in "+-*/^()":
+        elif c in "+-*/^(),":
             toks.append(("op", c))
             i += 1
         else:
@@ -209,6 +230,11 @@ class Parser:
             if self.peek() == ("op", "("):
                 self.take()
                 arg = self.sum()
+                if name == "atan2" and not primes:
+                    self.expect("op", ",")
+                    second = self.sum()
+                    self.expect("op", ")")
+                    return ("atan2", arg, second)
                 self.expect("op", ")")
                 if name.startswith("d_"):
                     return ("d", name[2:].split("_"), arg)
@@ -227,7 +253,7 @@ def symbols(node, out):
     tag = node[0]
     if tag == "sym":
         out.add(node[1])
-    elif tag in ("add", "sub", "mul", "div", "pow"):
+    elif tag in ("add", "sub", "mul", "div", "pow", "atan2"):
         symbols(node[1], out)
         symbols(node[2], out)
     elif tag in ("neg",):
@@ -287,6 +313,8 @@ DERIVS = {
     "sinh": mpmath.cosh,
     "cosh": mpmath.sinh,
     "tanh": lambda a: 1 - mpmath.tanh(a) ** 2,
+    "atan": lambda a: 1 / (1 + a**2),
+    "abs": lambda a: 1,
 }
 
 
@@ -365,6 +393,11 @@ def ev(node, env):
         if isinstance(v, mpmath.mpc) and v.imag == 0:
             v = v.real
         return v, abs(v) + abs(DERIVS[name](a)) * ma
+    if tag == "atan2":
+        (y, my), (x, mx) = ev(node[1], env), ev(node[2], env)
+        v = atan2(y, x)
+        # |d atan2| = |x dy - y dx| / (x^2 + y^2)
+        return v, abs(v) + (abs(x) * my + abs(y) * mx) / (x * x + y * y)
     if tag == "func":
         name, primes, arg = node[1], node[2], node[3]
         if name not in SAMPLE_TREES:
@@ -458,7 +491,7 @@ def fold(node):
     if q is not None:
         return ("num", q)
     tag = node[0]
-    if tag in ("add", "sub", "mul", "div", "pow"):
+    if tag in ("add", "sub", "mul", "div", "pow", "atan2"):
         return (tag, fold(node[1]), fold(node[2]))
     if tag == "neg":
         return (tag, fold(node[1]))

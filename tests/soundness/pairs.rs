@@ -190,7 +190,7 @@ impl Gen {
         } else {
             self.argument()
         };
-        match self.below(16) {
+        match self.below(18) {
             0 => format!("sin({a})"),
             1 => format!("cos({a})"),
             2 => format!("tan({a})"),
@@ -210,7 +210,37 @@ impl Gen {
             12 => format!("F({a})"),
             13 => format!("F'({a})"),
             14 => format!("G({a})"),
+            15 => format!("atan({a})"),
+            16 => format!("abs({})", self.real_term()),
             _ => format!("{}*({a})", self.mild_constant()),
+        }
+    }
+
+    /// A term lingrav shows real (`Store::is_real_shown`), the only kind `abs` and `atan2`
+    /// accept: real functions of an argument, and a root of a sum of a square and a positive
+    /// constant.
+    fn real_term(&mut self) -> String {
+        let a = self.argument();
+        match self.below(9) {
+            0 => format!("sin({a})"),
+            1 => format!("cos({a})"),
+            2 => format!("exp({a})"),
+            3 => format!("atan({a})"),
+            4 => format!("F({a})"),
+            5 => format!("({a})^3"),
+            6 => format!("sqrt({}^2 + {})", self.sym(), self.pos()),
+            7 => format!("abs({a})"),
+            _ => a,
+        }
+    }
+
+    /// A term that is positive at every real point: a square plus a positive constant.
+    fn positive_term(&mut self) -> String {
+        let s = self.sym();
+        match self.below(3) {
+            0 => format!("({s}^2 + {})", self.pos()),
+            1 => format!("(exp({}) + {})", self.argument(), self.pos()),
+            _ => format!("sqrt({s}^2 + {})", self.pos()),
         }
     }
 
@@ -227,7 +257,9 @@ impl Gen {
         } else {
             self.term(0)
         };
-        let (l, r, w, name): (String, String, String, &str) = match self.below(30) {
+        // Real arguments for the templates of abs and atan2.
+        let (ra, rb) = (self.real_term(), self.real_term());
+        let (l, r, w, name): (String, String, String, &str) = match self.below(42) {
             0 => (
                 format!("sin({a} + {b})"),
                 format!("(sin({a})*cos({b}) + cos({a})*sin({b}))"),
@@ -446,6 +478,96 @@ impl Gen {
                 format!("exp(3*({a}))"),
                 format!("exp(2*({a}))"),
                 "exp(a)^3 = exp(3a)",
+            ),
+            30 => (
+                format!("abs({ra})^2"),
+                format!("({ra})^2"),
+                format!("(({ra})^2*(1 + 10^(-40)))"),
+                "abs(a)^2 = a^2 (a real)",
+            ),
+            31 => (
+                format!("abs(({ra})*({rb}))"),
+                format!("(abs({ra})*abs({rb}))"),
+                format!("(abs({ra})*abs({rb} + 1e-30))"),
+                "abs(a b) = abs(a) abs(b) (a, b real)",
+            ),
+            32 => (
+                format!("abs(abs({ra}))"),
+                format!("abs({ra})"),
+                format!("abs(abs({ra}) + 1e-30)"),
+                "abs(abs(a)) = abs(a) (a real)",
+            ),
+            33 => {
+                let p = self.positive_term();
+                (
+                    format!("abs({p})"),
+                    format!("({p})"),
+                    format!("(-({p}))"),
+                    "abs(p) = p (p > 0)",
+                )
+            }
+            34 => (
+                format!("atan(-({ra}))"),
+                format!("(-atan({ra}))"),
+                format!("(1e-30 - atan({ra}))"),
+                "atan(-a) = -atan(a)",
+            ),
+            35 => {
+                let (s, f) = (self.sym(), self.pick(&["F", "G"]));
+                (
+                    format!("d_{s}(atan({f}({s})))"),
+                    format!("({f}'({s})/(1 + {f}({s})^2))"),
+                    format!("({f}'({s})/(1 + {f}({s})))"),
+                    "d atan(F(s)) = F'(s)/(1 + F(s)^2)",
+                )
+            }
+            36 => {
+                let p = self.positive_term();
+                (
+                    format!("(atan({p}) + atan(1/({p})))"),
+                    "(pi/2)".into(),
+                    "(pi/2*(1 + 10^(-40)))".into(),
+                    "atan(p) + atan(1/p) = pi/2 (p > 0)",
+                )
+            }
+            37 => {
+                let p = self.positive_term();
+                (
+                    format!("atan2({ra}, {p})"),
+                    format!("atan(({ra})/({p}))"),
+                    format!("(atan(({ra})/({p})) + 1e-30)"),
+                    "atan2(a, p) = atan(a/p) (p > 0)",
+                )
+            }
+            38 => (
+                format!("atan2({ra}, {rb})"),
+                format!("(-atan2(-({ra}), {rb}))"),
+                format!("atan2(-({ra}), {rb})"),
+                "atan2(a, b) = -atan2(-a, b) (off the cut)",
+            ),
+            39 => {
+                let (s, r) = self.two_syms();
+                (
+                    format!("d_{r}(atan2({s}, {r}))"),
+                    format!("(-{s}/({r}^2 + {s}^2))"),
+                    format!("({s}/({r}^2 + {s}^2))"),
+                    "d_x atan2(y, x) = -y/(x^2 + y^2)",
+                )
+            }
+            40 => {
+                let k = self.pos();
+                (
+                    format!("atan2({k}*({ra}), {k}*({rb}))"),
+                    format!("atan2({ra}, {rb})"),
+                    format!("atan2({k}*({ra}), {rb} + 1e-30)"),
+                    "atan2(k a, k b) = atan2(a, b) (k > 0)",
+                )
+            }
+            41 => (
+                format!("tan(atan({a}))"),
+                format!("({a})"),
+                format!("(({a})*(1 + 10^(-40)))"),
+                "tan(atan(a)) = a",
             ),
             28 => (
                 format!("exp(({a})*log(2))"),

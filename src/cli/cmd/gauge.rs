@@ -52,6 +52,9 @@ pub struct GaugeArgs {
         requires = "to_tt"
     )]
     wave_vector: Option<String>,
+    /// Print the canonical (expanded) forms, without the file's [define] names.
+    #[arg(long)]
+    expanded: bool,
     #[command(flatten)]
     written: ProblemOutput,
     #[command(flatten)]
@@ -63,6 +66,9 @@ pub struct GaugeArgs {
 /// `lingrav gauge`.
 pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
     let mut p = a.limits.load(&a.file)?;
+    if a.expanded {
+        p.store.set_display_names(None);
+    }
     if !p.is_flat_cartesian() {
         let label = a.file.display().to_string();
         return match (&a.vector, a.to_tt || a.written.output.is_some()) {
@@ -163,7 +169,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
         }
     );
     for (mu, f) in xi.iter().enumerate() {
-        let _ = writeln!(s, "  xi_{} = {}", COORDS[mu], st.to_text(*f));
+        let _ = writeln!(s, "  xi_{} = {}", COORDS[mu], st.to_display_text(*f));
     }
     let _ = writeln!(
         s,
@@ -233,7 +239,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
                     s,
                     "  box xi_{} = {}, nonzero {w}",
                     COORDS[nu],
-                    st.to_text(bx[nu])
+                    st.to_display_text(bx[nu])
                 );
             }
             Verdict::Undecided(why) => {
@@ -241,7 +247,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
                     s,
                     "  box xi_{} = {}, undecided: {why}",
                     COORDS[nu],
-                    st.to_text(bx[nu])
+                    st.to_display_text(bx[nu])
                 );
             }
         }

@@ -54,14 +54,18 @@ pub fn run(mut p: Problem, vector: &str, format: Format, label: &str) -> Result<
     let report = p.with_derived(h2, (h2_text, defines), asked, true, check);
     let frame = Frame::covariant(c.clone());
     let st = &mut p.store;
+    // Text reports print in the file's terms, JSON the canonical forms.
+    let shown = |st: &mut crate::canon::Store, f| match format {
+        Format::Text => st.to_display_text(f),
+        Format::Json => st.to_text(f),
+    };
     let mut rows: Vec<(String, String)> = Vec::new();
     for &(m, n) in &COMPONENTS {
         if !st.is_zero(h2[m][n]) {
-            rows.push((frame.index(&[m, n]), st.to_text(h2[m][n])));
+            rows.push((frame.index(&[m, n]), shown(st, h2[m][n])));
         }
     }
-    let xi_rows: Vec<(String, String)> =
-        (0..4).map(|m| (c[m].clone(), st.to_text(xi[m]))).collect();
+    let xi_rows: Vec<(String, String)> = (0..4).map(|m| (c[m].clone(), shown(st, xi[m]))).collect();
     let defect = report.has_defect();
     let (holding, gauge_lines) = gauges_of(&report);
     let limit = limit_in_report(&report);

@@ -11,7 +11,7 @@ use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::plan::{DirectionArgs, ProblemOutput, kind_word, write_atomic};
 use crate::cli::report::{
     Format, components_json, conventions, heading, json, list_components, proved_claims, texts,
-    tt_solution, vec_text, verification_json, verification_lines,
+    tt_solution, vec_display, vec_text, verification_json, verification_lines,
 };
 use crate::gauge::file_texts;
 use crate::problem::{Claims, Gauge, render_problem};
@@ -28,6 +28,9 @@ pub struct ProjectArgs {
     file: PathBuf,
     #[command(flatten)]
     dir: DirectionArgs,
+    /// Print the canonical (expanded) forms, without the file's [define] names.
+    #[arg(long)]
+    expanded: bool,
     #[command(flatten)]
     shown: AuditedFormat,
     #[command(flatten)]
@@ -56,6 +59,9 @@ fn share_json(x: &Share) -> serde_json::Value {
 /// `lingrav project`.
 pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
     let mut p = a.limits.load(&a.file)?;
+    if a.expanded {
+        p.store.set_display_names(None);
+    }
     if !p.is_flat_cartesian() {
         return sphere(a, p);
     }
@@ -81,11 +87,16 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
     );
     let label = a.file.display().to_string();
     let st = &mut p.store;
+    // The canonical texts go into the written file and JSON; text reports print in the
+    // file's terms.
     let n_text = vec_text(st, &dir.n);
-    let u_text = vec_text(st, &dir.u);
-    let v_text = vec_text(st, &dir.v);
+    let n_shown = vec_display(st, &dir.n);
+    let u_shown = vec_display(st, &dir.u);
+    let v_shown = vec_display(st, &dir.v);
     let plus = st.to_text(proj.plus);
     let cross = st.to_text(proj.cross);
+    let plus_shown = st.to_display_text(proj.plus);
+    let cross_shown = st.to_display_text(proj.cross);
 
     // The output file: the TT part, with the claims proved for it.
     let mut written: Option<(String, Claims, CheckReport)> = None;
@@ -150,14 +161,14 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
             let _ = writeln!(s, "{}", heading(&label, p.name.as_deref()));
             let _ = writeln!(
                 s,
-                "direction  n = {n_text}  [{}; {}]",
+                "direction  n = {n_shown}  [{}; {}]",
                 kind_word(dir.kind),
                 dir.n_note
             );
             if let Some(f) = &audit.unit {
                 let _ = writeln!(s, "           unit length: {}", f.method(seed));
             }
-            let _ = writeln!(s, "basis      u = {u_text}, v = {v_text}");
+            let _ = writeln!(s, "basis      u = {u_shown}, v = {v_shown}");
             let _ = writeln!(s, "           {}", dir.basis_note);
             let _ = writeln!(
                 s,
@@ -166,18 +177,18 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
             list_components(&mut s, st, &tt4, "h^TT", true);
             let _ = writeln!(
                 s,
-                "  (as printed, against an independent projection of the texts: {})",
+                "  (the exact forms, against an independent projection of the texts: {})",
                 audit.printed_text(seed)
             );
             let _ = writeln!(
                 s,
                 "polarizations, h^TT = h_plus (u u - v v) + h_cross (u v + v u):"
             );
-            let _ = writeln!(s, "  h_plus  = {plus}");
-            let _ = writeln!(s, "  h_cross = {cross}");
+            let _ = writeln!(s, "  h_plus  = {plus_shown}");
+            let _ = writeln!(s, "  h_cross = {cross_shown}");
             let _ = writeln!(
                 s,
-                "  (as printed, against the printed TT part and an orthonormal basis u, v \
+                "  (the exact forms, against the exact TT part and an orthonormal basis u, v \
                  transverse to n: {})",
                 audit.polarizations_text(seed)
             );
@@ -345,8 +356,12 @@ fn sphere(a: ProjectArgs, mut p: crate::Problem) -> Result<Outcome, Failure> {
     let (r, th) = (&c[1], &c[2]);
     let plus_def = format!("({} - {}/sin({th})^2)/(2*{r}^2)", text(2, 2), text(3, 3));
     let cross_def = format!("{}/({r}^2*sin({th}))", text(2, 3));
+    // The audit reads the canonical texts (also JSON's); the text report prints in the file's
+    // terms.
     let plus = p.store.to_text(sph.plus);
     let cross = p.store.to_text(sph.cross);
+    let plus_shown = p.store.to_display_text(sph.plus);
+    let cross_shown = p.store.to_display_text(sph.cross);
     let seed = p.sampling.seed;
     let route = crate::audit::expr::FileQuantities::texts(
         &p,
@@ -361,7 +376,13 @@ fn sphere(a: ProjectArgs, mut p: crate::Problem) -> Result<Outcome, Failure> {
     let mut leading = |l: &Leading| match l {
         Leading::Term { power, coefficient } => {
             let c = p.store.to_text(*coefficient);
-            (format!("({c}) * {r}^{power}"), Some(*power), Some(c), None)
+            let shown = p.store.to_display_text(*coefficient);
+            (
+                format!("({shown}) * {r}^{power}"),
+                Some(*power),
+                Some(c),
+                None,
+            )
         }
         Leading::Zero => ("0".to_string(), None, Some("0".into()), None),
         Leading::Unavailable(why) => (
@@ -384,11 +405,11 @@ fn sphere(a: ProjectArgs, mut p: crate::Problem) -> Result<Outcome, Failure> {
                  h_{1}{1}/sin({th})^2)/(2 {r}^2), h_cross = h_{th}{1}/({r}^2 sin({th}))",
                 c[3], c[3]
             );
-            let _ = writeln!(s, "  h_plus  = {plus}");
-            let _ = writeln!(s, "  h_cross = {cross}");
+            let _ = writeln!(s, "  h_plus  = {plus_shown}");
+            let _ = writeln!(s, "  h_cross = {cross_shown}");
             let _ = writeln!(
                 s,
-                "  (as printed, against the definitions evaluated from the file's texts: {}; {})",
+                "  (the exact forms, against the definitions evaluated from the file's texts: {}; {})",
                 findings[0].method(seed),
                 findings[1].method(seed)
             );

@@ -6,7 +6,7 @@ use crate::cli::out::{Failure, Outcome, print};
 use crate::cli::plan::{
     DirectionArgs, arg_failure, kind_word, numbers, plan_optional_output, write_atomic,
 };
-use crate::cli::report::{Format, conventions, heading, json, texts, vec_text};
+use crate::cli::report::{Format, conventions, heading, json, texts, vec_display};
 use crate::problem::Problem;
 use crate::tt::ring::{Ring, Snapshot, exaggeration, respond, svg};
 use crate::tt::{ArgError, DirectionKind, project_perturbation};
@@ -53,6 +53,9 @@ pub struct RingArgs {
     /// Replace the SVG file if it exists.
     #[arg(long)]
     force: bool,
+    /// Print the canonical (expanded) forms, without the file's [define] names.
+    #[arg(long)]
+    expanded: bool,
     #[command(flatten)]
     limits: LimitArgs,
 }
@@ -111,6 +114,9 @@ struct Geometry {
 /// `lingrav ring`.
 pub fn run(a: RingArgs) -> Result<Outcome, Failure> {
     let mut p = a.limits.load(&a.file)?;
+    if a.expanded {
+        p.store.set_display_names(None);
+    }
     if !p.is_flat_cartesian() {
         return on_sphere(a, p);
     }
@@ -149,14 +155,18 @@ pub fn run(a: RingArgs) -> Result<Outcome, Failure> {
     .map_err(|why| unreachable_centre(&ring, "x, y, z", &why))?;
     let st = &mut p.store;
     let geometry = Geometry {
-        direction: format!("n = {}  [{}]", vec_text(st, &dir.n), kind_word(dir.kind)),
-        basis: format!("u = {}, v = {}", vec_text(st, &dir.u), vec_text(st, &dir.v)),
+        direction: format!("n = {}  [{}]", vec_display(st, &dir.n), kind_word(dir.kind)),
+        basis: format!(
+            "u = {}, v = {}",
+            vec_display(st, &dir.u),
+            vec_display(st, &dir.v)
+        ),
         centre: format!("(x, y, z) = ({}, {}, {})", centre[0], centre[1], centre[2]),
         json: serde_json::json!({
             "direction": { "kind": kind_word(dir.kind), "n": texts(st, &dir.n) },
             "basis": { "u": texts(st, &dir.u), "v": texts(st, &dir.v) },
         }),
-        title_n: format!("n = {}", vec_text(st, &dir.n)),
+        title_n: format!("n = {}", vec_display(st, &dir.n)),
     };
     report(&a, &mut p, &geometry, (&ring, &snaps), target.as_ref())
 }
