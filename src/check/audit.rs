@@ -350,6 +350,7 @@ fn audit_proof(k: &mut Component, id: &str, at_points: &[PointValues], seed: u64
                 point: point.clone(),
                 value: CInterval::from_real(*v),
                 seed,
+                chosen: None,
             });
             return Audited::ProofContradicted;
         }
@@ -560,6 +561,7 @@ mod tests {
             point: vec![("t".into(), 0.5), ("z".into(), 0.25)],
             value: CInterval::from_real(Interval::new(1.0, 2.0).unwrap()),
             seed: 1,
+            chosen: None,
         });
         audit_claims(&p, &mut report.claims, 7);
         let fe = report

@@ -79,6 +79,7 @@ fn apply(v: &mut Verdict, f: &Finding, seed: u64) {
                     point: e.point.clone(),
                     value: CInterval::from_real(iv),
                     seed,
+                    chosen: None,
                 }),
                 // f64 interval bounds are finite; never "zero" in any case.
                 None => Verdict::Undecided(f.method(seed)),

@@ -115,6 +115,7 @@ mod tests {
             point: vec![("t".into(), 0.5), ("x".into(), 0.25)],
             value: CInterval::from_real(Interval::new(1.0, 2.0).expect("interval")),
             seed: 1,
+            chosen: None,
         });
         cmp.status = Status::Fails;
         let findings = audit_comparison(&mut cmp, &pa, &mut pb, SEED);
@@ -144,6 +145,7 @@ mod tests {
             point: vec![("t".into(), 0.5)],
             value: CInterval::from_real(Interval::new(1.0, 2.0).expect("interval")),
             seed: 1,
+            chosen: None,
         });
         let xi = ["sin(t - z)", "0", "0", "0"].map(String::from);
         let findings = audit_box(&p, &xi, &mut verdicts, SEED);

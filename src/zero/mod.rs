@@ -48,6 +48,9 @@ pub struct Witness {
     pub value: CInterval,
     /// The seed that produced the point.
     pub seed: u64,
+    /// How the point was chosen, when the zero test chose it: the file's parameter values or
+    /// not, clear of every pole or not (printed after the value).
+    pub chosen: Option<String>,
 }
 
 impl fmt::Display for Witness {
@@ -62,13 +65,13 @@ impl fmt::Display for Witness {
         }
         let (re, im) = (self.value.re, self.value.im);
         if im.contains_zero() {
-            write!(f, "value {:.6e} (certified in {re})", re.mid())
+            write!(f, "value {:.6e} (certified in {re})", re.mid())?;
         } else if re.contains_zero() {
             write!(
                 f,
                 "value {:.6e}*i (imaginary part certified in {im})",
                 im.mid()
-            )
+            )?;
         } else {
             write!(
                 f,
@@ -76,7 +79,11 @@ impl fmt::Display for Witness {
                 re.mid(),
                 if im.mid() < 0.0 { "-" } else { "+" },
                 im.mid().abs()
-            )
+            )?;
+        }
+        match &self.chosen {
+            Some(c) => write!(f, "; {c}"),
+            None => Ok(()),
         }
     }
 }
@@ -190,6 +197,12 @@ pub fn decide(store: &mut Store, f: Form, sampling: &Sampling) -> Verdict {
     // until a point clear of every pole certifies too: the witness should be easy to
     // reproduce by hand.
     let mut near_pole: Option<Witness> = None;
+    // Whether some name has a value in the file (a parameter), so that "the file's values"
+    // means something.
+    let file_valued = kernels.iter().any(|(_, k)| {
+        !sampling.ranges.contains_key(k) && sampling.typical.get(k).is_some_and(|&t| t != 0.0)
+    });
+    let has_poles = store.view(f).denominator().next().is_some();
     for attempt in 0..sampling.points {
         let at_file_values = attempt < sampling.points.div_ceil(2);
         let mut coords = Vec::new();
@@ -231,12 +244,17 @@ pub fn decide(store: &mut Store, f: Form, sampling: &Sampling) -> Verdict {
         if let Some(val) = store.eval_interval(f, &point) {
             evaluated += 1;
             if val.excludes_zero() {
+                let clear = clear_of_poles(store, f, &point);
                 let w = Witness {
                     point: coords,
                     value: val,
                     seed: sampling.seed,
+                    chosen: chosen(
+                        file_valued.then_some(at_file_values),
+                        has_poles.then_some(clear),
+                    ),
                 };
-                if clear_of_poles(store, f, &point) {
+                if clear {
                     return Verdict::Nonzero(w);
                 }
                 near_pole.get_or_insert(w);
@@ -277,6 +295,31 @@ pub fn decide_equal(
 ) -> Result<Verdict, CanonError> {
     let d = store.sub(a, b)?;
     Ok(decide(store, d, sampling))
+}
+
+/// The sentence saying how a witness point was chosen.
+/// `file_values`: `None` when no name has a value in the file.
+/// `poles`: `None` without a denominator, else whether the point is clear of every pole.
+fn chosen(file_values: Option<bool>, poles: Option<bool>) -> Option<String> {
+    let params = file_values.map(|at| {
+        if at {
+            "parameters at the file's values"
+        } else {
+            "parameters sampled near the file's values"
+        }
+    });
+    let poles = poles.map(|clear| {
+        if clear {
+            "clear of every pole"
+        } else {
+            "near a pole (no point clear of the poles certified)"
+        }
+    });
+    match (params, poles) {
+        (Some(a), Some(b)) => Some(format!("{a}, {b}")),
+        (Some(a), None) | (None, Some(a)) => Some(a.to_string()),
+        (None, None) => None,
+    }
 }
 
 /// How far from its zero set a denominator factor must be at a reported witness: its value
@@ -349,6 +392,7 @@ mod tests {
         };
         let (x, y) = (w.point[0].1, w.point[1].1);
         assert!((x - y).abs() >= 1e-2 * (x.abs() + y.abs()), "{:?}", w.point);
+        assert!(w.to_string().ends_with("; clear of every pole"), "{w}");
         // Confined to the pole's neighbourhood, a certified point near it is still reported.
         sampling.ranges.insert(ky, (1.0, 1.000_01));
         sampling.ranges.insert(kx, (1.000_02, 1.000_03));
@@ -375,5 +419,8 @@ mod tests {
             let short: f64 = format!("{v:.2e}").parse().unwrap();
             assert_eq!(v, short, "{c} = {v} has at most three significant digits");
         }
+        // The report says how the point was chosen (no denominator: nothing about poles).
+        let text = w.to_string();
+        assert!(text.ends_with("; parameters at the file's values"), "{text}");
     }
 }

@@ -499,6 +499,7 @@ impl Ray<'_> {
                     point: p,
                     value: v,
                     seed: self.sampling.seed,
+                    chosen: None,
                 });
             }
         }

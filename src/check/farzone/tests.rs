@@ -388,6 +388,7 @@ fn a_false_failing_order_is_caught_by_the_audit() {
         point,
         value: CInterval::from_real(Interval::new(0.5, 0.5).unwrap()),
         seed: 1,
+        chosen: None,
     });
     found[lorenz][0].failing_order = Some(1);
     audit::audit(&p, &mut out, &found, 2, &names, &bases);

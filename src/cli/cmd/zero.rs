@@ -162,6 +162,7 @@ mod tests {
             point: point.iter().map(|(n, v)| (n.to_string(), *v)).collect(),
             value: CInterval::from_real(Interval::new(lo, hi).expect("interval")),
             seed: 1,
+            chosen: None,
         })
     }
 
