@@ -302,9 +302,10 @@ fn gauge_project_and_ring_print_in_the_files_terms() {
         assert_eq!(code, 0, "{err}");
         assert!(out.contains("audited: consistent"), "{out}");
         let plus = out.lines().find(|l| l.starts_with("  h_plus  = ")).unwrap();
-        // Collected by the arbitrary function's derivatives (display), or expanded.
+        // The common sin(th)^2 in front and the terms by the arbitrary function's
+        // derivatives (display), or expanded.
         assert_eq!(
-            plus.starts_with("  h_plus  = 3*(F''''(t - r)*("),
+            plus.starts_with("  h_plus  = 3*sin(th)^2*(16*F''''(t - r) + "),
             extra.is_empty(),
             "{plus}"
         );
