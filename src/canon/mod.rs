@@ -45,7 +45,7 @@ mod view;
 pub use build::{BUILTINS, BuildError, Names, Unknown};
 pub use coeff::{Basis, Coeff, Q};
 pub use eval::{FunctionSample, Point};
-pub use print::{Naming, Pretty};
+pub use print::{Naming, Pretty, latex_name};
 pub use view::{ExpSplit, FormView, MonoView, OwnedTerm, PolyView, TermView};
 
 use num_bigint::BigInt;

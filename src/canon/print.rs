@@ -1176,7 +1176,7 @@ fn latex_coeff(c: &Coeff) -> String {
 /// A name as a physicist typesets it: Greek names as Greek letters (`omega`, `Lambda`), a
 /// single letter in italic, a longer name upright (`\mathrm{phase}`), a subscript after `_`
 /// or trailing digits (`a_plus` as `a_{\mathrm{plus}}`, `m1` as `m_{1}`).
-fn latex_name(n: &str) -> String {
+pub fn latex_name(n: &str) -> String {
     const GREEK: [&str; 35] = [
         "alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa",
         "lambda", "mu", "nu", "xi", "pi", "rho", "sigma", "tau", "upsilon", "phi", "chi", "psi",
@@ -1273,6 +1273,14 @@ fn latex(p: &Pretty, s: &mut String) {
             }
             latex(a, s);
             s.push('}');
+        }
+        // sin^2(x), as typeset, rather than sin(x)^2.
+        Pretty::Pow(b, n) if matches!(b.as_ref(), Pretty::Call(f, ..) if matches!(f.as_str(), "sin" | "cos")) => {
+            if let Pretty::Call(f, a, _) = b.as_ref() {
+                let _ = write!(s, "\\{f}^{{{n}}}\\left(");
+                latex(a, s);
+                s.push_str("\\right)");
+            }
         }
         Pretty::Pow(b, n) => {
             latex_atom(b, s);

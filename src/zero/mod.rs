@@ -421,6 +421,9 @@ mod tests {
         }
         // The report says how the point was chosen (no denominator: nothing about poles).
         let text = w.to_string();
-        assert!(text.ends_with("; parameters at the file's values"), "{text}");
+        assert!(
+            text.ends_with("; parameters at the file's values"),
+            "{text}"
+        );
     }
 }

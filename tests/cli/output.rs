@@ -487,3 +487,15 @@ fn issue_14_latex_snippets_compile_when_tex_is_present() {
         ),
     }
 }
+
+/// LaTeX as a paper sets it (issue 14, item 3): components of coordinates with longer names
+/// (`t.ph`) as subscripts of names, and powers of sines and cosines as `\sin^{2}(...)`.
+#[test]
+fn issue_14_latex_labels_and_trig_powers() {
+    let f = worked("schwarzschild_odd_l2_static.toml");
+    let (out, err, code) = lingrav(&["show", f.as_str(), "h", "--latex"]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("h_{t \\mathrm{ph}} &= "), "{out}");
+    assert!(out.contains("\\sin^{2}\\left(\\mathrm{th}\\right)"), "{out}");
+    assert!(!out.contains(".ph"), "{out}");
+}

@@ -167,15 +167,24 @@ fn latex_label(name: &str) -> String {
     let mut chars = name.chars().peekable();
     while let Some(c) = chars.next() {
         if c == '_' || c == '^' {
-            out.push(c);
-            out.push('{');
+            // Indices: one letter each (`tx`), or coordinate names joined by `.` (`t.ph`),
+            // each then set as a name (`t \mathrm{ph}`, `r \theta`).
+            let mut index = String::new();
             while let Some(&n) = chars.peek() {
-                if n.is_ascii_alphanumeric() {
-                    out.push(n);
+                if n.is_ascii_alphanumeric() || n == '.' {
+                    index.push(n);
                     chars.next();
                 } else {
                     break;
                 }
+            }
+            out.push(c);
+            out.push('{');
+            if index.contains('.') {
+                let parts: Vec<String> = index.split('.').map(crate::canon::latex_name).collect();
+                out.push_str(&parts.join(" "));
+            } else {
+                out.push_str(&index);
             }
             out.push('}');
         } else {
