@@ -231,6 +231,9 @@ pub struct Store {
     /// `atan` kernels that are half angles of `atan2(y, x)` ([`Store::half_angle_atan`]),
     /// with their `(y, x)`: differentiated by the angle's own rule.
     atan2_args: FxHashMap<KernelId, (Form, Form)>,
+    /// Root kernels `sqrt(u^2)` built by [`Store::abs_of_real`], with their `u`: the display
+    /// printers write them as `abs(u)`.
+    abs_args: FxHashMap<KernelId, Form>,
     /// The limits in force.
     pub limits: Limits,
     /// The names the display printers use (`Store::to_display_text`; set by
@@ -273,6 +276,7 @@ impl Store {
             form_deps_cache: FxHashMap::default(),
             square_roots: rustc_hash::FxHashSet::default(),
             atan2_args: FxHashMap::default(),
+            abs_args: FxHashMap::default(),
             limits: Limits::default(),
             display: None,
             naming: None,
@@ -1645,7 +1649,27 @@ impl Store {
     /// because `u` is real, whatever the expanded radicand looks like.
     pub fn abs_of_real(&mut self, u: Form) -> CResult<Form> {
         let sq = self.mul(u, u)?;
-        self.sqrt_of_squares(sq)
+        let root = self.sqrt_of_squares(sq)?;
+        // The display printers write the root as abs(u) again (it reads back to this root).
+        if let Some(k) = self.square_root_kernel(root, sq) {
+            self.abs_args.entry(k).or_insert(u);
+        }
+        Ok(root)
+    }
+
+    /// The kernel of `root` when it is the single kernel `sqrt(sq)`.
+    fn square_root_kernel(&self, root: Form, sq: Form) -> Option<KernelId> {
+        let r = &self.rats[root.0 as usize];
+        if let [(m, c)] = r.num.as_slice()
+            && r.den.is_empty()
+            && c.is_one()
+            && let [(k, 1)] = self.monos[m.0 as usize].pows.as_slice()
+            && self.monos[m.0 as usize].exp.is_none()
+            && matches!(self.kernel(*k), Kernel::Root { radicand, q: 2 } if *radicand == sq)
+        {
+            return Some(*k);
+        }
+        None
     }
 
     /// `sqrt(sq)` for a radicand the caller knows to be a sum of squares of forms shown real
@@ -1654,15 +1678,8 @@ impl Store {
     /// radicand).
     pub(crate) fn sqrt_of_squares(&mut self, sq: Form) -> CResult<Form> {
         let root = self.root(sq, 2)?;
-        let r = self.rats[root.0 as usize].clone();
-        if let [(m, c)] = r.num.as_slice()
-            && r.den.is_empty()
-            && c.is_one()
-            && let [(k, 1)] = self.monos[m.0 as usize].pows.as_slice()
-            && self.monos[m.0 as usize].exp.is_none()
-            && matches!(self.kernel(*k), Kernel::Root { radicand, q: 2 } if *radicand == sq)
-        {
-            self.square_roots.insert(*k);
+        if let Some(k) = self.square_root_kernel(root, sq) {
+            self.square_roots.insert(k);
         }
         Ok(root)
     }

@@ -491,6 +491,12 @@ impl Store {
         if let Some(name) = self.naming.as_ref().and_then(|n| n.kernels.get(&k)) {
             return Pretty::Name(name.clone());
         }
+        // In display form, the root `abs` built reads as `abs(u)` again.
+        if self.displaying
+            && let Some(&u) = self.abs_args.get(&k)
+        {
+            return Pretty::Call("abs".into(), Box::new(self.pretty(u)), u);
+        }
         match self.kernel(k).clone() {
             Kernel::Sym(n) => Pretty::Name(n.to_string()),
             Kernel::Pi => Pretty::Name("pi".into()),
@@ -1250,6 +1256,11 @@ fn latex(p: &Pretty, s: &mut String) {
     match p {
         Pretty::Num(c) => s.push_str(&latex_coeff(c)),
         Pretty::Name(n) => s.push_str(&latex_name(n)),
+        Pretty::Call(f, a, _) if f == "abs" => {
+            s.push_str("\\left|");
+            latex(a, s);
+            s.push_str("\\right|");
+        }
         Pretty::Call(f, a, _) => {
             let primes = f.chars().filter(|c| *c == '\'').count();
             let base: String = f.chars().filter(|c| *c != '\'').collect();

@@ -358,6 +358,12 @@ fn display_keeps_trig_products() {
         ),
         ("cos(2*x) + 1", "2*cos(x)^2"),
         ("A*cos(2*x) + sin(x)^2", "A*cos(2*x) - cos(2*x)/2 + 1/2"),
+        // A root that abs built prints as abs again.
+        ("A*abs(x - 1)", "A*abs(x - 1)"),
+        (
+            "abs(abs(y)) + abs(sin(x))^3",
+            "abs(sin(x))*sin(x)^2 + abs(y)",
+        ),
     ];
     for (input, shown) in cases {
         let f = form(&mut st, input);

@@ -8,9 +8,9 @@
 //! the far-zone field `h^TT_ij(t, r n) = (2/r) Lambda_ij,kl(n) d^2 Q_kl/dt^2 (t - r)` with
 //! `Lambda` the TT projector of [`crate::tt::lambda`]; `h_plus`, `h_cross` in the
 //! polarization basis `(u, v)` of the direction, as `project` documents; the luminosity
-//! `L = (1/5) (d^3 Q_ij/dt^3)(d^3 Q_ij/dt^3)`; the angular momentum carried away,
-//! `dJ_i/dt = -(2/5) eps_ijk (d^2 Q_ja/dt^2)(d^3 Q_ka/dt^3)` (the source loses it at this
-//! rate). The second derivative of the mass dipole `sum_A m_A x_A` must vanish for the
+//! `L = (1/5) (d^3 Q_ij/dt^3)(d^3 Q_ij/dt^3)`; the source's angular momentum changes at
+//! `dJ_i/dt = -(2/5) eps_ijk (d^2 Q_ja/dt^2)(d^3 Q_ka/dt^3)` (the waves carry away
+//! `-dJ_i/dt`). The second derivative of the mass dipole `sum_A m_A x_A` must vanish for the
 //! quadrupole formula to describe an isolated source (momentum conserved); [`Radiation`]
 //! reports it.
 //!

@@ -496,6 +496,9 @@ fn issue_14_latex_labels_and_trig_powers() {
     let (out, err, code) = lingrav(&["show", f.as_str(), "h", "--latex"]);
     assert_eq!(code, 0, "{err}");
     assert!(out.contains("h_{t \\mathrm{ph}} &= "), "{out}");
-    assert!(out.contains("\\sin^{2}\\left(\\mathrm{th}\\right)"), "{out}");
+    assert!(
+        out.contains("\\sin^{2}\\left(\\mathrm{th}\\right)"),
+        "{out}"
+    );
     assert!(!out.contains(".ph"), "{out}");
 }

@@ -505,7 +505,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
             let _ = writeln!(s, "  time average <L> = {}", avg_text(&l_avg));
             let _ = writeln!(
                 s,
-                "angular momentum carried away, dJ_i/dt = -(2/5) eps_ijk ddQ_ja dddQ_ka:"
+                "the source's angular momentum, dJ_i/dt = -(2/5) eps_ijk ddQ_ja dddQ_ka (the waves carry away -dJ_i/dt):"
             );
             let with_averages = |s: &mut String, rows: &[(String, String)], avgs: &[_]| {
                 for ((n, t), a) in rows.iter().zip(avgs) {
