@@ -358,7 +358,7 @@ impl ClockText {
 /// The definitions are written from named parts ([`Definitions::parts`]: the bodies'
 /// masses and positions, `Q_ij`, the octupole and current quadrupole, ...), which every
 /// text of this type refers to by name: give the parts to the route with the texts
-/// ([`FileQuantities::texts_with`], [`crate::audit::Audit::fields_with`]).
+/// (`FileQuantities::texts_with`, `Audit::fields_with` of the audit module).
 pub struct Definitions {
     parts: Vec<(String, String)>,
     q: [[String; 3]; 3],
