@@ -264,17 +264,26 @@ impl ProblemOutput {
     }
 }
 
-/// The names that the expression commands read as arbitrary functions in `forms` (a name
-/// applied to an argument that is not a built-in function, `erf(x)` or `F(t - r)`), sorted.
+/// The names that the expression commands read as arbitrary functions in `forms` and in the
+/// input `texts` they were built from (a name applied to an argument that is not a built-in
+/// function, `erf(x)` or `F(t - r)`), sorted. The texts count too, so that a name is reported
+/// even where it cancels (`erf(x) - erf(x)` is 0 for every function, the error function
+/// included, but the reader should know how `erf` was read).
 pub fn arbitrary_functions(
     st: &mut crate::canon::Store,
     forms: &[crate::canon::Form],
+    texts: &[&str],
 ) -> Vec<String> {
     let mut names: Vec<String> = forms
         .iter()
         .flat_map(|&f| st.functions_used(f))
         .map(|n| n.to_string())
         .collect();
+    for t in texts {
+        if let Ok(e) = crate::parse::parse(t) {
+            names.extend(crate::jet::eval::called_functions(&e));
+        }
+    }
     names.sort();
     names.dedup();
     names

@@ -20,7 +20,7 @@ pub struct DiffArgs {
 pub fn run(a: DiffArgs) -> Result<Outcome, Failure> {
     let mut st = a.form.limits.store();
     let mut f = build_arg(&mut st, &a.form.expr, "expression")?;
-    let arbitrary = crate::cli::plan::arbitrary_functions(&mut st, &[f]);
+    let arbitrary = crate::cli::plan::arbitrary_functions(&mut st, &[f], &[&a.form.expr]);
     for v in &a.vars {
         let ok = !v.is_empty()
             && v.chars()

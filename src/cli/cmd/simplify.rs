@@ -71,6 +71,6 @@ pub fn print_form(
 pub fn run(a: SimplifyArgs) -> Result<Outcome, Failure> {
     let mut st = a.limits.store();
     let f = build_arg(&mut st, &a.expr, "expression")?;
-    let arbitrary = crate::cli::plan::arbitrary_functions(&mut st, &[f]);
+    let arbitrary = crate::cli::plan::arbitrary_functions(&mut st, &[f], &[&a.expr]);
     print_form(&mut st, f, &a, &[], &arbitrary)
 }

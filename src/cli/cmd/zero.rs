@@ -45,7 +45,10 @@ pub fn run(a: ZeroArgs) -> Result<Outcome, Failure> {
         None => None,
     };
     let inputs: Vec<_> = std::iter::once(f).chain(g).collect();
-    let arbitrary = crate::cli::plan::arbitrary_functions(&mut st, &inputs);
+    let texts: Vec<&str> = std::iter::once(a.expr.as_str())
+        .chain(a.other.as_deref())
+        .collect();
+    let arbitrary = crate::cli::plan::arbitrary_functions(&mut st, &inputs, &texts);
     let diff = match g {
         Some(g) => st.sub(f, g),
         None => Ok(f),
