@@ -434,7 +434,24 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
         }
         _ => None,
     };
+    // The bodies as built (a binary's positions simplified), in the file's terms.
+    let body_forms: Vec<(String, Form, [Form; 3])> = p
+        .bodies
+        .iter()
+        .map(|b| (b.label.clone(), b.mass, b.position))
+        .collect();
     let st = &mut p.store;
+    let body_lines: Vec<String> = body_forms
+        .into_iter()
+        .map(|(label, m, x)| {
+            let x: Vec<String> = x.iter().map(|&f| st.to_display_text(f)).collect();
+            format!(
+                "{label:<10} mass {}, position ({})",
+                st.to_display_text(m),
+                x.join(", ")
+            )
+        })
+        .collect();
     let mut printed: Vec<(String, String)> = Vec::new();
     for r in &rows {
         printed.push((r.name.clone(), st.to_display_text(r.form)));
@@ -470,14 +487,8 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
                     let _ = writeln!(s, "ASSUMED: {c}");
                 }
             }
-            for b in &p.bodies {
-                let _ = writeln!(
-                    s,
-                    "{:<10} mass {}, position ({})",
-                    b.label,
-                    b.mass_text,
-                    b.position_text.join(", ")
-                );
+            for line in &body_lines {
+                let _ = writeln!(s, "{line}");
             }
             if accelerates.is_empty() {
                 let _ = writeln!(
