@@ -313,6 +313,15 @@ impl Store {
             let f = self.angle_form(&a);
             keyed.push((len, prio, self.to_text(f), a));
         }
+        // The rank of the angles: the candidates span the same space (they are made from
+        // the angles), so a basis is complete once it has this many.
+        let mut spanning: Vec<Angle> = Vec::new();
+        for a in &angles {
+            if independent(&spanning, a) {
+                spanning.push(a.clone());
+            }
+        }
+        let rank = spanning.len();
         let limit = to_text(plain).len();
         let mut best: Option<(usize, Pretty)> = None;
         for derived_first in [false, true] {
@@ -325,7 +334,7 @@ impl Store {
             });
             let mut basis: Vec<Angle> = Vec::new();
             for (.., a) in &keyed {
-                if angles.iter().all(|x| !independent(&basis, x)) {
+                if basis.len() == rank {
                     break;
                 }
                 if independent(&basis, a) {
