@@ -28,7 +28,7 @@ ETA = (-1, 1, 1, 1)
 NAMES = "txyz"
 PAIRS = [(0, 1), (0, 2), (0, 3), (1, 2), (1, 3), (2, 3)]
 COMPONENTS = [(m, n) for m in range(4) for n in range(m, 4)]
-FUNCTIONS = ("sin", "cos", "tan", "exp", "log", "sqrt", "sinh", "cosh", "tanh")
+FUNCTIONS = ("sin", "cos", "tan", "exp", "log", "sqrt", "sinh", "cosh", "tanh", "atan", "atan2")
 
 # --- lingrav syntax -> Python over the library ------------------------------------------------
 
@@ -71,6 +71,7 @@ class Namespace(dict):
     def __init__(self, cas, coords, exact, prime):
         super().__init__({str(c): c for c in coords})
         self.update({name: getattr(cas, name) for name in FUNCTIONS})
+        self["abs"] = cas.Abs
         self["pi"] = cas.pi
         self["__exact"] = exact
         self.cas, self.prime = cas, prime

@@ -1079,7 +1079,13 @@ impl Route for FileQuantities {
                     .iter()
                     .any(|(k, _, p)| *k == i && matches!(p, Part::Curved(_)))
             });
-            curved.push(needs_curved.then(|| fl.curved_quantities(ctx)));
+            let riemann = self.quantities.iter().any(|q| {
+                q.parts.iter().any(|(k, _, p)| {
+                    *k == i && matches!(p, Part::Curved(crate::claim::Part::Riemann(_)))
+                })
+            });
+            let needs = crate::pointwise::Needs { riemann };
+            curved.push(needs_curved.then(|| fl.curved_quantities(ctx, needs)));
             fields.push(fl);
         }
         Ok(self

@@ -595,6 +595,17 @@ impl Audit {
     /// # Errors
     ///
     /// As [`Audit::fields_at`].
+    /// What the pointwise route must compute for this audit's claims (the full Riemann
+    /// tensors only for a pure-gauge claim).
+    fn curved_needs(&self) -> pointwise::Needs {
+        let riemann = self.claims.iter().any(|c| {
+            c.components
+                .iter()
+                .any(|(_, f)| matches!(f, Formula::Curved(Part::Riemann(_))))
+        });
+        pointwise::Needs { riemann }
+    }
+
     pub fn components_in<N: AsRef<str>, S: Scalar>(
         &self,
         point: &[(N, f64)],
@@ -604,7 +615,7 @@ impl Audit {
         let mut cache: FxHashMap<Atom, Option<S>> = FxHashMap::default();
         // About a background: every quantity at once, by the pointwise route.
         let quantities = match &fields.background {
-            Some(_) => fields.curved_quantities(ctx),
+            Some(_) => fields.curved_quantities(ctx, self.curved_needs()),
             None => None,
         };
         let mut out = Vec::new();
@@ -842,9 +853,10 @@ impl<S: Scalar> Fields<S> {
     pub(crate) fn curved_quantities(
         &self,
         ctx: &S::Ctx,
+        needs: pointwise::Needs,
     ) -> Option<(pointwise::Quantities<S>, pointwise::Fields<S>)> {
         let f = self.pointwise()?;
-        Some((pointwise::evaluate(&f, ctx)?, f))
+        Some((pointwise::evaluate_for(&f, ctx, needs)?, f))
     }
 
     /// The inputs of [`pointwise::evaluate`]; `None` without a background or if a field

@@ -177,12 +177,27 @@ pub(super) fn exact_claims(problem: &mut Problem) -> (Vec<ClaimReport>, bool) {
         }
     };
     let mut parts = CurvedParts::new(bg, problem.h, problem.source, bgd.gauge_vector);
-    // Flat background? Then the linearized Riemann tensor decides pure gauge.
-    let flat = parts
-        .background()
-        .riemann_down(store)
-        .map(|r| r.iter().all(|(_, f)| store.is_zero(*f)))
-        .unwrap_or(false);
+    let lambda = !store.is_zero(bgd.lambda);
+    let setting = |pure| Setting {
+        claims: problem.claims.as_ref(),
+        sourced: problem.source.is_some(),
+        background_sourced: bgd.source.is_some(),
+        lambda,
+        pure,
+    };
+    // Whether pure gauge is asked at all does not depend on its route.
+    let pure_gauge_asked = crate::claim::Plan::curved(setting(PureGaugeRoute::None))
+        .claims
+        .iter()
+        .any(|c| c.kind == Kind::PureGauge);
+    // Flat background? Then the linearized Riemann tensor decides pure gauge. (The
+    // background's Riemann tensor is computed only when pure gauge is asked.)
+    let flat = pure_gauge_asked
+        && parts
+            .background()
+            .riemann_down(store)
+            .map(|r| r.iter().all(|(_, f)| store.is_zero(*f)))
+            .unwrap_or(false);
     let pure = if flat {
         PureGaugeRoute::Riemann
     } else if bgd.gauge_vector.is_some() {
@@ -190,13 +205,7 @@ pub(super) fn exact_claims(problem: &mut Problem) -> (Vec<ClaimReport>, bool) {
     } else {
         PureGaugeRoute::None
     };
-    let plan = crate::claim::Plan::curved(Setting {
-        claims: problem.claims.as_ref(),
-        sourced: problem.source.is_some(),
-        background_sourced: bgd.source.is_some(),
-        lambda: !store.is_zero(bgd.lambda),
-        pure,
-    });
+    let plan = crate::claim::Plan::curved(setting(pure));
     let out = plan
         .claims
         .iter()

@@ -260,7 +260,7 @@ pub fn values_about<S: crate::pointwise::Arith>(
             .map(|(r, a, b)| Some(f.h.d(r, a, b).clone()))
             .collect(),
         Quantity::Riemann => riemann_order()
-            .map(|[a, b, c, d]| Some(pq.riemann[a][b][c][d].clone()))
+            .map(|[a, b, c, d]| Some(pq.riemann.as_ref()?[a][b][c][d].clone()))
             .collect(),
         Quantity::Ricci => sym(&|a, b| Some(pq.ricci[a][b].clone())),
         Quantity::Einstein => sym(&|a, b| Some(pq.einstein[a][b].clone())),

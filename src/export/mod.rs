@@ -277,7 +277,10 @@ impl Numeric {
     ) -> Result<Vec<Option<S>>, crate::audit::AuditError> {
         let f = self.audit.fields_in::<String, S>(point, ctx)?;
         if self.about {
-            let curved = f.curved_quantities(ctx);
+            let needs = crate::pointwise::Needs {
+                riemann: quantities.contains(&Quantity::Riemann),
+            };
+            let curved = f.curved_quantities(ctx, needs);
             let mut out = Vec::new();
             for &q in quantities {
                 let n = certify::column_count(q);

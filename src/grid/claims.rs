@@ -289,7 +289,7 @@ pub fn curved_part<A: crate::pointwise::Arith>(
         Part::Conservation(nu) => q.conservation[nu].clone(),
         Part::H(mu, nu) => f.h.at(mu, nu).clone(),
         Part::Trace => q.trace.clone(),
-        Part::Riemann([a, b, c, d]) => q.riemann[a][b][c][d].clone(),
+        Part::Riemann([a, b, c, d]) => q.riemann.as_ref()?[a][b][c][d].clone(),
         Part::GaugeResidual(mu, nu) => q.gauge.as_ref()?[mu][nu].clone(),
         Part::FieldEquation { .. } | Part::SpatialTrace | Part::SpatialDivergence(_) => {
             return None;

@@ -423,6 +423,13 @@ pub(super) fn residual_plane(
         .map(|c| vec![0.0; c.components.len()])
         .collect();
     let mut skipped = vec![0usize; plan.claims.len()];
+    let riemann = k
+        .plan
+        .parts
+        .iter()
+        .flatten()
+        .any(|p| matches!(p, crate::claim::Part::Riemann(_)));
+    let needs = pointwise::Needs { riemann };
     for iy in ranges[2].clone() {
         for iz in ranges[3].clone() {
             let at = At {
@@ -434,7 +441,7 @@ pub(super) fn residual_plane(
             };
             let evaluated = at
                 .fields(k)
-                .and_then(|f| Some((pointwise::evaluate(&f, &())?, f)));
+                .and_then(|f| Some((pointwise::evaluate_for(&f, &(), needs)?, f)));
             for (ci, claim) in plan.claims.iter().enumerate() {
                 if claim.not_checked.is_some() {
                     continue;

@@ -49,11 +49,13 @@ const TRIG_MAX_ARG: f64 = 1e6;
 const TRIG_FULL_PERIOD: f64 = 6.3;
 
 /// One ulp below: a lower bound on the exact result of a correctly rounded operation.
+#[inline]
 fn down(x: f64) -> f64 {
     x.next_down()
 }
 
 /// One ulp above: an upper bound on the exact result of a correctly rounded operation.
+#[inline]
 fn up(x: f64) -> f64 {
     x.next_up()
 }
@@ -129,6 +131,7 @@ impl Interval {
     pub const ONE: Interval = Interval { lo: 1.0, hi: 1.0 };
 
     /// `[lo, hi]`, or `None` unless both bounds are finite and `lo <= hi`.
+    #[inline]
     pub fn new(lo: f64, hi: f64) -> Option<Interval> {
         (lo.is_finite() && hi.is_finite() && lo <= hi).then_some(Interval { lo, hi })
     }
@@ -211,6 +214,7 @@ impl Interval {
     }
 
     /// Sum; `None` on overflow.
+    #[inline]
     pub fn add(self, rhs: Interval) -> Option<Interval> {
         // Adding the exact 0 is exact (and keeps zeros exact, which sparse jets rely on).
         if rhs.is_zero_point() {
@@ -227,11 +231,13 @@ impl Interval {
     }
 
     /// True for the exact point 0.
+    #[inline]
     fn is_zero_point(self) -> bool {
         self.lo == 0.0 && self.hi == 0.0
     }
 
     /// Difference; `None` on overflow.
+    #[inline]
     pub fn sub(self, rhs: Interval) -> Option<Interval> {
         if rhs.is_zero_point() {
             return Some(self);
@@ -244,6 +250,7 @@ impl Interval {
     }
 
     /// Product; `None` on overflow.
+    #[inline]
     pub fn mul(self, rhs: Interval) -> Option<Interval> {
         // A product with the exact 0 is the exact 0.
         if self.is_zero_point() || rhs.is_zero_point() {

@@ -168,18 +168,22 @@ impl Scalar for Interval {
         // PI is the double nearest to π (below it); one ulp either side encloses π.
         Interval::around(std::f64::consts::PI)
     }
+    #[inline]
     fn add(&self, rhs: &Self) -> Option<Self> {
         Interval::add(*self, *rhs)
     }
+    #[inline]
     fn sub(&self, rhs: &Self) -> Option<Self> {
         Interval::sub(*self, *rhs)
     }
+    #[inline]
     fn mul(&self, rhs: &Self) -> Option<Self> {
         Interval::mul(*self, *rhs)
     }
     fn div(&self, rhs: &Self) -> Option<Self> {
         Interval::div(*self, *rhs)
     }
+    #[inline]
     fn neg(&self) -> Self {
         -*self
     }

@@ -486,8 +486,8 @@ pub struct Curvature<A> {
     pub dinverse: Rank3<A>,
     /// `christoffel[a][b][c] = Gamma^a_bc = 1/2 g^{ad} (d_b g_dc + d_c g_db - d_d g_bc)`.
     pub christoffel: Rank3<A>,
-    /// `riemann[a][b][c][d] = R_abcd = g_ae R^e_bcd` (MTW signs).
-    pub riemann: Box<Rank4<A>>,
+    /// `riemann[a][b][c][d] = R_abcd = g_ae R^e_bcd` (MTW signs), when [`Needs::riemann`].
+    pub riemann: Option<Box<Rank4<A>>>,
     /// `R_bd = R^a_bad`.
     pub ricci: Matrix<A>,
     /// `R = g^{bd} R_bd`.
@@ -502,7 +502,7 @@ pub struct Curvature<A> {
 
 /// The curvature chain of the metric `g` at the point; `None` if it cannot be evaluated
 /// there (the metric's inverse cannot be certified, an overflow).
-pub fn curvature<A: Arith>(g: &Sym2<A>) -> Option<Curvature<A>> {
+pub fn curvature<A: Arith>(g: &Sym2<A>, needs: Needs) -> Option<Curvature<A>> {
     let half = A::constant(0.5)?;
     let metric: Matrix<A> = arr(|a| arr(|b| Some(g.at(a, b).clone())))?;
     let inv = inverse(&metric)?;
@@ -558,18 +558,42 @@ pub fn curvature<A: Arith>(g: &Sym2<A>) -> Option<Curvature<A>> {
     })?;
     let dgamma: Rank4<A> =
         arr(|e| arr(|a| arr(|b| arr(|c| Some(lower_bc[e][a][b.min(c)][b.max(c)].clone())))))?;
-    // R^a_bcd, antisymmetric in c, d.
-    let up: Rank4<A> = antisymmetric_last(|a, b, c, d| {
+    // R^a_bcd (MTW), for c != d.
+    let up_at = |a: usize, b: usize, c: usize, d: usize| {
         let quad = sum4(|e| {
             gamma[a][c][e]
                 .mul(&gamma[e][b][d])?
                 .sub(&gamma[a][d][e].mul(&gamma[e][b][c])?)
         })?;
         dgamma[c][a][b][d].sub(&dgamma[d][a][b][c])?.add(&quad)
+    };
+    let riemann = if needs.riemann {
+        // Antisymmetric in c, d.
+        let up: Rank4<A> = antisymmetric_last(up_at)?;
+        Some(Box::new(antisymmetric_last(|a, b, c, d| {
+            sum4(|e| metric[a][e].mul(&up[e][b][c][d]))
+        })?))
+    } else {
+        None
+    };
+    // R_bd = R^a_bad, the terms a = d being 0 (antisymmetry in the last pair). R^a_bad
+    // for a > d is -R^a_bda, and interval and ball operations are symmetric under negation,
+    // so this is the enclosure the contraction of the antisymmetric tensor gives. R_bd is
+    // symmetric for the Levi-Civita connection (inputs with symmetric second derivatives), so
+    // an enclosure of R_bd encloses R_db: the entries b > d are copies.
+    let ricci_upper: Matrix<A> = arr(|b| {
+        arr(|d| {
+            if b > d {
+                return A::constant(0.0);
+            }
+            let mut acc = A::constant(0.0)?;
+            for a in (0..4).filter(|&a| a != d) {
+                acc = acc.add(&up_at(a, b, a, d)?)?;
+            }
+            Some(acc)
+        })
     })?;
-    let riemann: Rank4<A> =
-        antisymmetric_last(|a, b, c, d| sum4(|e| metric[a][e].mul(&up[e][b][c][d])))?;
-    let ricci: Matrix<A> = arr(|b| arr(|d| sum4(|a| Some(up[a][b][a][d].clone()))))?;
+    let ricci: Matrix<A> = arr(|b| arr(|d| Some(ricci_upper[b.min(d)][b.max(d)].clone())))?;
     let scalar = sum4(|b| sum4(|d| inv[b][d].mul(&ricci[b][d])))?;
     let einstein: Matrix<A> =
         arr(|a| arr(|b| ricci[a][b].sub(&metric[a][b].mul(&scalar)?.mul(&half)?)))?;
@@ -577,7 +601,7 @@ pub fn curvature<A: Arith>(g: &Sym2<A>) -> Option<Curvature<A>> {
         inverse: inv,
         dinverse,
         christoffel: gamma,
-        riemann: Box::new(riemann),
+        riemann,
         ricci,
         scalar,
         einstein,
@@ -595,10 +619,11 @@ pub struct Quantities<A> {
     pub ricci: Matrix<A>,
     /// `E_ab = dG_ab + Lambda h_ab - 8 pi dT_ab`: zero iff the linearized equations hold.
     pub field: Matrix<A>,
-    /// `dR_abcd`, the linearized Riemann tensor, all indices down.
-    pub riemann: Box<Rank4<A>>,
-    /// `Rbar_abcd`, the background's Riemann tensor, all indices down.
-    pub riemann_bar: Box<Rank4<A>>,
+    /// `dR_abcd`, the linearized Riemann tensor, all indices down, when [`Needs::riemann`].
+    pub riemann: Option<Box<Rank4<A>>>,
+    /// `Rbar_abcd`, the background's Riemann tensor, all indices down, when
+    /// [`Needs::riemann`].
+    pub riemann_bar: Option<Box<Rank4<A>>>,
     /// `h = gbar^{ab} h_ab`.
     pub trace: A,
     /// `L_nu = gbar^{mu alpha} nablabar_alpha (h_{mu nu} - 1/2 gbar_{mu nu} h)`.
@@ -610,8 +635,27 @@ pub struct Quantities<A> {
     pub conservation: [A; 4],
 }
 
+/// Which of the optional quantities [`curvature`] and [`evaluate_for`] compute.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Needs {
+    /// The Riemann tensors (the full tensor costs more than the rest of the chain's
+    /// contractions; Ricci and Einstein do not need it).
+    pub riemann: bool,
+}
+
+impl Needs {
+    /// Everything.
+    pub const ALL: Needs = Needs { riemann: true };
+}
+
 /// Every quantity of [`Quantities`] at the point; `None` if any cannot be evaluated there.
 pub fn evaluate<A: Arith>(f: &Fields<A>, ctx: &A::Ctx) -> Option<Quantities<A>> {
+    evaluate_for(f, ctx, Needs::ALL)
+}
+
+/// The quantities of [`Quantities`] at the point, the optional ones only as `needs` asks;
+/// `None` if any cannot be evaluated there.
+pub fn evaluate_for<A: Arith>(f: &Fields<A>, ctx: &A::Ctx, needs: Needs) -> Option<Quantities<A>> {
     let (gbar, h) = (&f.gbar, &f.h);
     let eight_pi = A::pi(ctx)?.mul(&A::constant(8.0)?)?;
     let half = A::constant(0.5)?;
@@ -620,7 +664,7 @@ pub fn evaluate<A: Arith>(f: &Fields<A>, ctx: &A::Ctx) -> Option<Quantities<A>> 
     let dt = f.dt.as_ref().unwrap_or(&zero_source);
 
     // The full chain for gbar + eps h: value parts are the background's, eps parts d/deps.
-    let lin = curvature(&Sym2::dual(gbar, h))?;
+    let lin = curvature(&Sym2::dual(gbar, h), needs)?;
     let value = |m: &Matrix<Dual<A>>| -> Matrix<A> {
         std::array::from_fn(|a| std::array::from_fn(|b| m[a][b].value.clone()))
     };
@@ -734,8 +778,8 @@ pub fn evaluate<A: Arith>(f: &Fields<A>, ctx: &A::Ctx) -> Option<Quantities<A>> 
         einstein,
         ricci,
         field,
-        riemann: rank4(&lin.riemann, true),
-        riemann_bar: rank4(&lin.riemann, false),
+        riemann: lin.riemann.as_deref().map(|r| rank4(r, true)),
+        riemann_bar: lin.riemann.as_deref().map(|r| rank4(r, false)),
         trace,
         lorenz,
         gauge,

@@ -274,13 +274,31 @@ impl Background {
         if let Some(r) = self.ricci {
             return Ok(r);
         }
-        let rm = self.riemann(store)?;
+        // R_bd = R^a_bad = d_a Gamma^a_bd - d_d C_b + C_e Gamma^e_bd - Gamma^a_de Gamma^e_ab
+        // with C_b = Gamma^a_ab: the contraction taken first, so the 96 components of the
+        // Riemann tensor are not needed. Symmetric in b, d (Levi-Civita connection).
+        let gm = self.gamma;
         let zero = store.zero();
+        let mut contracted = [zero; 4];
+        for (b, c) in contracted.iter_mut().enumerate() {
+            let terms: Vec<Form> = (0..4).map(|a| gm[a][a][b]).collect();
+            *c = store.sum(&terms)?;
+        }
         let mut out = [[zero; 4]; 4];
         for b in 0..4 {
             for d in b..4 {
-                let terms: Vec<Form> = (0..4).map(|a| rm[a][b][a][d]).collect();
-                let v = store.sum(&terms)?;
+                let mut terms = Vec::with_capacity(7);
+                for a in 0..4 {
+                    terms.push((1, store.diff(gm[a][b][d], self.coords[a])?));
+                }
+                terms.push((-1, store.diff(contracted[b], self.coords[d])?));
+                let p1: Vec<(Form, Form)> = (0..4).map(|e| (contracted[e], gm[e][b][d])).collect();
+                terms.push((1, dot(store, &p1)?));
+                let p2: Vec<(Form, Form)> = (0..4)
+                    .flat_map(|a| (0..4).map(move |e| (gm[a][d][e], gm[e][a][b])))
+                    .collect();
+                terms.push((-1, dot(store, &p2)?));
+                let v = combo(store, &terms)?;
                 out[b][d] = v;
                 out[d][b] = v;
             }
