@@ -826,6 +826,28 @@ impl Store {
                 .or_default()
                 .insert(vector(&mono.pows), c.clone());
         }
+        // Cheap refusals first. In each variable, and in the total degree, the highest and the
+        // lowest degree of a product are the sums of the factors' (the ring has no zero
+        // divisors), so each group's degree span in every kernel of f, and its total-degree
+        // span, must reach f's. (A refusal is always safe: cancellation is optional.)
+        let spans = |vs: &mut dyn Iterator<Item = &Vec<i32>>| -> Vec<(i32, i32)> {
+            let mut out = vec![(i32::MAX, i32::MIN); kf.len() + 1];
+            for v in vs {
+                let total: i32 = v.iter().sum();
+                for (s, x) in out.iter_mut().zip(v.iter().chain(std::iter::once(&total))) {
+                    s.0 = s.0.min(*x);
+                    s.1 = s.1.max(*x);
+                }
+            }
+            out
+        };
+        let fspan = spans(&mut fterms.iter().map(|(v, _)| v));
+        for rem in groups.values() {
+            let g = spans(&mut rem.keys());
+            if g.iter().zip(&fspan).any(|(a, b)| a.1 - a.0 < b.1 - b.0) {
+                return None;
+            }
+        }
         let mut out: FxHashMap<MonoId, Coeff> = FxHashMap::default();
         let mut budget = 4 * (n.len() + f.len()) + 64;
         for ((rest, exp), mut rem) in groups {

@@ -595,3 +595,45 @@ fn atan2_is_the_half_angle_arctangent_off_its_cut() {
         }
     }
 }
+
+/// A quotient whose denominator divides the numerator exactly is cancelled to the same
+/// form as the quotient written directly, for seeded random polynomials in x, y, z (the
+/// division's early refusals by degree span must never refuse a divisible case).
+#[test]
+fn exact_division_cancels_random_products() {
+    let mut rng = crate::zero::SplitMix64::new(20_261_203);
+    let mut pick = |n: u64| rng.next_u64() % n;
+    let poly = |terms: u64, pick: &mut dyn FnMut(u64) -> u64| -> String {
+        let mut out = Vec::new();
+        for _ in 0..terms {
+            let c = pick(7) as i64 - 3;
+            let c = if c == 0 { 1 } else { c };
+            let [a, b, d] = [pick(3), pick(3), pick(2)];
+            out.push(format!("({c})*x^{a}*y^{b}*z^{d}"));
+        }
+        out.join(" + ")
+    };
+    let mut cancelled = 0;
+    for case in 0..200 {
+        let mut st = Store::new();
+        let f = poly(2 + pick(2), &mut pick);
+        let q = poly(1 + pick(4), &mut pick);
+        let ff = form(&mut st, &f);
+        if st.num_terms(ff) < 2 {
+            continue; // a monomial (or 0): not a trial-division case
+        }
+        let product = form(&mut st, &format!("({f})*({q})"));
+        let text = st.to_text(product);
+        let quotient = form(&mut st, &format!("({text})/({f})"));
+        let direct = form(&mut st, &q);
+        assert_eq!(
+            quotient, direct,
+            "case {case}: ({text})/({f}) should cancel to {q}"
+        );
+        cancelled += 1;
+    }
+    assert!(
+        cancelled > 100,
+        "only {cancelled} cases had a divisor of 2 or more terms"
+    );
+}
