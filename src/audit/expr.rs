@@ -730,6 +730,43 @@ enum Part {
     Curved(crate::claim::Part),
 }
 
+/// The named parts that `texts` use, directly or through other parts, in their order (a
+/// part that nothing uses need not be parsed or planned). Names are matched as whole
+/// identifiers (runs of letters, digits and `_`).
+fn referenced(parts: &[(String, String)], texts: &[(String, String)]) -> Vec<(String, String)> {
+    fn words(text: &str, into: &mut rustc_hash::FxHashSet<String>) {
+        for w in text.split(|c: char| !(c.is_alphanumeric() || c == '_')) {
+            if !w.is_empty() && !into.contains(w) {
+                into.insert(w.to_string());
+            }
+        }
+    }
+    let mut used = rustc_hash::FxHashSet::default();
+    for (_, t) in texts {
+        words(t, &mut used);
+    }
+    let mut keep = vec![false; parts.len()];
+    loop {
+        let mut grew = false;
+        for (k, (name, text)) in parts.iter().enumerate() {
+            if !keep[k] && used.contains(name.as_str()) {
+                keep[k] = true;
+                grew = true;
+                words(text, &mut used);
+            }
+        }
+        if !grew {
+            break;
+        }
+    }
+    parts
+        .iter()
+        .zip(keep)
+        .filter(|(_, k)| *k)
+        .map(|(p, _)| p.clone())
+        .collect()
+}
+
 /// One problem file's jets and the names it accepts.
 #[derive(Debug)]
 struct File {
@@ -890,7 +927,8 @@ impl FileQuantities {
                 parts: vec![(0, 1.0, Part::Extra(i))],
             })
             .collect();
-        Self::plan(&[(problem, defines, texts.to_vec())], quantities)
+        let defines = referenced(defines, texts);
+        Self::plan(&[(problem, &defines, texts.to_vec())], quantities)
     }
 
     /// The TT part of `problem`'s `h` along the direction whose components are the texts `n`
