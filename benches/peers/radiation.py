@@ -1,5 +1,6 @@
 """The claims of `lingrav check` about the radiation of a file's bodies (`luminosity`,
-`luminosity_average`, [claims.waveform]), as textbook formulas over a computer-algebra
+`luminosity_average`, [claims.waveform], `momentum_flux`, `momentum_flux_average`), as
+textbook formulas over a computer-algebra
 library `cas` (SymEngine or SymPy: `diff`, `sqrt`, `sin`, `cos` and arithmetic).
 
 Quadrupole order, G = c = 1, moments about the coordinate origin:
@@ -27,7 +28,12 @@ Quadrupole order, G = c = 1, moments about the coordinate origin:
                u = e_theta, v = e_phi of n (on the z axis phi = 0: u = (n_z, 0, 0),
                v = (0, 1, 0)); each claimed polarization minus the formula's, at time
                t + distance (the formula's retarded time is then t), components
-               `claimed h_plus - quadrupole h_plus, at time t + distance` and h_cross's.
+               `claimed h_plus - quadrupole h_plus, at time t + distance` and h_cross's;
+  momentum     dP_i/dt = (2/63) d^4Q_iab d^3Q_ab + (16/45) eps_ipq d^3Q_pa d^3S_qa with the
+               trace-free mass octupole Q_ijk of sum m x_i x_j x_k and the current quadrupole
+               S_ij, the symmetric trace-free part of sum m x_i (x cross dx/dt)_j (point
+               masses only: with a rigid body the claim is left without components), each
+               claimed component minus the formula's; the average as for the luminosity.
 """
 
 from linearized import Claim
@@ -38,7 +44,8 @@ AXES = {"x": "1,0,0", "+x": "1,0,0", "-x": "-1,0,0", "y": "0,1,0", "+y": "0,1,0"
 
 def has_radiation_claims(doc):
     c = doc.get("claims") or {}
-    return any(k in c for k in ("luminosity", "luminosity_average", "waveform"))
+    return any(k in c for k in ("luminosity", "luminosity_average", "waveform",
+                                "momentum_flux", "momentum_flux_average"))
 
 
 def _rotation(cas, k, a):
@@ -100,6 +107,29 @@ def trace_free_quadrupole(cas, masses):
     return [[q[i][j] - (tr / 3 if i == j else 0) for j in r] for i in r]
 
 
+def octupole_and_current(cas, masses, t):
+    """(Q_ijk, S_ij) of point masses, or None when a body is rigid."""
+    if any(moment is not None for _, _, moment in masses):
+        return None
+    r = range(3)
+    i3 = [[[sum(m * x[i] * x[j] * x[k] for m, x, _ in masses) for k in r] for j in r]
+          for i in r]
+    tr = [i3[0][0][k] + i3[1][1][k] + i3[2][2][k] for k in r]
+    oct_ = [[[i3[i][j][k] - ((tr[k] if i == j else 0) + (tr[j] if i == k else 0)
+                             + (tr[i] if j == k else 0)) / 5
+              for k in r] for j in r] for i in r]
+    cur = [[0] * 3 for _ in r]
+    for m, x, _ in masses:
+        v = [cas.diff(c, t) for c in x]
+        cross = [x[1] * v[2] - x[2] * v[1], x[2] * v[0] - x[0] * v[2], x[0] * v[1] - x[1] * v[0]]
+        for i in r:
+            for j in r:
+                cur[i][j] += m * x[i] * cross[j]
+    sym = [[(cur[i][j] + cur[j][i]) / 2 for j in r] for i in r]
+    jtr = sym[0][0] + sym[1][1] + sym[2][2]
+    return oct_, [[sym[i][j] - (jtr / 3 if i == j else 0) for j in r] for i in r]
+
+
 def direction(text, ns, cas):
     """(n, u, v) of a direction: `theta=..,phi=..`, an axis (`z`, `-x`), a vector `a,b,c`
     (taken as written: lingrav requires it to be a unit vector) or `radial`."""
@@ -143,7 +173,8 @@ def claims_components(doc, ns, cas, time_average):
     no time average (the claim is then left without components, and said so)."""
     claims = doc.get("claims") or {}
     t = ns.coords["t"]
-    q = trace_free_quadrupole(cas, bodies(doc, ns, cas))
+    masses = bodies(doc, ns, cas)
+    q = trace_free_quadrupole(cas, masses)
     r = range(3)
 
     def dt(k):
@@ -174,4 +205,35 @@ def claims_components(doc, ns, cas, time_average):
             comps.append((f"claimed {name} - quadrupole {name}, at time t + distance",
                           claimed - f))
         out.append(Claim("waveform", True, comps))
+    if "momentum_flux" in claims or "momentum_flux_average" in claims:
+        moments = octupole_and_current(cas, masses, t)
+        flux = None
+        if moments is not None:
+            oct_, cur = moments
+            q3 = dt(3)
+            o4 = [[[cas.diff(oct_[i][a][b], t, 4) for b in r] for a in r] for i in r]
+            s3 = [[cas.diff(cur[i][j], t, 3) for j in r] for i in r]
+            flux = []
+            for i in r:
+                j, k = (i + 1) % 3, (i + 2) % 3
+                mass = sum(o4[i][a][b] * q3[a][b] for a in r for b in r)
+                current = sum(q3[j][a] * s3[k][a] - q3[k][a] * s3[j][a] for a in r)
+                flux.append(mass * 2 / 63 + current * 16 / 45)
+        axes = "xyz"
+        if "momentum_flux" in claims:
+            comps = [] if flux is None else [
+                (f"claimed dP_{axes[i]}/dt - formula dP_{axes[i]}/dt",
+                 ns.evaluate(claims["momentum_flux"][i]) - flux[i]) for i in r]
+            out.append(Claim("momentum_flux", True, comps,
+                             why=None if flux is not None else "peer missing: a rigid body"))
+        if "momentum_flux_average" in claims:
+            comps, why = [], None if flux is not None else "peer missing: a rigid body"
+            for i in r if flux is not None else ():
+                avg, why = time_average(flux[i], t) if time_average else (None, "peer missing")
+                if avg is None:
+                    comps = []
+                    break
+                comps.append((f"claimed <dP_{axes[i]}/dt> - <formula dP_{axes[i]}/dt>",
+                              ns.evaluate(claims["momentum_flux_average"][i]) - avg))
+            out.append(Claim("momentum_flux_average", True, comps, why=why))
     return out
