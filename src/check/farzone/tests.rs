@@ -160,20 +160,26 @@ fn ray_for<'a>(
     order: u32,
 ) -> Ray<'a> {
     let coords = ["t", "x", "y", "z"].map(|c| store.symbol_kernel(c));
+    let u = store.symbol(&names.u);
+    let n = std::array::from_fn(|i| store.symbol(&names.n[i]));
     Ray {
-        coords,
+        moving: series::cartesian_ray(store, coords, u, n).expect("small"),
         order,
         names,
         sampling,
         parameters: &[],
         bases: &[],
+        frame: None,
     }
 }
 
 fn names() -> RayNames {
     RayNames {
         u: "u".into(),
-        n: ["n1".into(), "n2".into(), "n3".into()],
+        n: vec!["n1".into(), "n2".into(), "n3".into()],
+        radial: None,
+        coords: ["t", "x", "y", "z"].map(String::from),
+        ranges: vec![None; 3],
     }
 }
 
@@ -186,11 +192,11 @@ fn a_direction_dependent_denominator_is_a_reported_condition() {
     let f = crate::expression(&mut st, "F(t - sqrt(x^2 + y^2 + z^2))/(x - y)^2").unwrap();
     let (names, sampling) = (names(), Sampling::default());
     let ray = ray_for(&mut st, &names, &sampling, 2);
-    let (v, _, found) = ray.component(&mut st, f);
+    let (v, _, found) = ray.component(&mut st, f, 0);
     assert_eq!(v, Verdict::Zero);
     assert_eq!(found.conditions, vec!["-n1 + n2 != 0".to_string()]);
     let g = crate::expression(&mut st, "F(t - sqrt(x^2 + y^2 + z^2))/(x^2 + y^2 + z^2)").unwrap();
-    let (v, _, found) = ray.component(&mut st, g);
+    let (v, _, found) = ray.component(&mut st, g, 0);
     assert_eq!(v, Verdict::Zero);
     assert!(found.conditions.is_empty(), "{:?}", found.conditions);
 }
@@ -203,13 +209,13 @@ fn roots_need_an_even_power_and_a_branch_condition() {
     let (names, sampling) = (names(), Sampling::default());
     let ray = ray_for(&mut st, &names, &sampling, 1);
     let f = crate::expression(&mut st, "1/sqrt(x)").unwrap();
-    let (v, _, _) = ray.component(&mut st, f);
+    let (v, _, _) = ray.component(&mut st, f, 0);
     assert!(
         matches!(&v, Verdict::Undecided(w) if w.contains("fractional power")),
         "{v:?}"
     );
     let g = crate::expression(&mut st, "1/sqrt(x^2 - y^2 + 1)").unwrap();
-    let (v, _, found) = ray.component(&mut st, g);
+    let (v, _, found) = ray.component(&mut st, g, 0);
     assert_eq!(v, Verdict::Zero);
     assert!(
         found
@@ -286,7 +292,7 @@ fn seeded_residuals_with_known_falloff_are_never_misjudged() {
         let mut st = Store::new();
         let f = crate::expression(&mut st, &text).unwrap();
         let ray = ray_for(&mut st, &names, &sampling, order);
-        let (v, residual, found) = ray.component(&mut st, f);
+        let (v, residual, found) = ray.component(&mut st, f, 0);
         let claim_true = true_order >= i64::from(order);
         if off_cone {
             assert!(
@@ -357,7 +363,7 @@ fn a_false_falloff_proof_is_caught_by_the_audit() {
         c.status = Status::Holds;
     }
     assert!(forged > 0);
-    audit::audit(&p, &mut out, &found, 3, &names, &bases);
+    audit::audit(&p, &mut out, &found, 3, &names, &bases, None);
     let report = CheckReport {
         claims: out,
         has_claims: true,
@@ -391,7 +397,7 @@ fn a_false_failing_order_is_caught_by_the_audit() {
         chosen: None,
     });
     found[lorenz][0].failing_order = Some(1);
-    audit::audit(&p, &mut out, &found, 2, &names, &bases);
+    audit::audit(&p, &mut out, &found, 2, &names, &bases, None);
     let k = &out[lorenz].components[0];
     assert!(k.audit.is_defect(), "{:?}", k.audit);
     assert!(out[lorenz].method.contains("INTERNAL DEFECT"));
@@ -420,7 +426,7 @@ fn growth_logarithms_and_exponentials() {
     ] {
         let ray = ray_for(&mut st, &names, &sampling, 1);
         let f = crate::expression(&mut st, &text).unwrap();
-        let (v, _, _) = ray.component(&mut st, f);
+        let (v, _, _) = ray.component(&mut st, f, 0);
         assert!(
             matches!(&v, Verdict::Undecided(w) if w.contains(why)),
             "{text}: {v:?}"
@@ -428,9 +434,9 @@ fn growth_logarithms_and_exponentials() {
     }
     let f = crate::expression(&mut st, &format!("log(1 + 1/{r2})")).unwrap();
     let ray = ray_for(&mut st, &names, &sampling, 2);
-    assert_eq!(ray.component(&mut st, f).0, Verdict::Zero);
+    assert_eq!(ray.component(&mut st, f, 0).0, Verdict::Zero);
     let ray = ray_for(&mut st, &names, &sampling, 3);
-    let (v, _, found) = ray.component(&mut st, f);
+    let (v, _, found) = ray.component(&mut st, f, 0);
     assert!(matches!(v, Verdict::Nonzero(_)), "{v:?}");
     assert_eq!(found.failing_order, Some(2));
 }
@@ -454,10 +460,10 @@ fn deep_cancellations_are_followed_to_the_claimed_order() {
     )
     .unwrap();
     let ray = ray_for(&mut st, &names, &sampling, 8);
-    let (v, _, _) = ray.component(&mut st, f);
+    let (v, _, _) = ray.component(&mut st, f, 0);
     assert_eq!(v, Verdict::Zero);
     let g = crate::expression(&mut st, &series.replace("LAST", "")).unwrap();
-    let (v, _, found) = ray.component(&mut st, g);
+    let (v, _, found) = ray.component(&mut st, g, 0);
     assert!(matches!(v, Verdict::Nonzero(_)), "{v:?}");
     assert_eq!(found.failing_order, Some(6));
 }
