@@ -16,8 +16,35 @@ use crate::check::{ClaimReport, Status, claim, limit_report};
 use crate::claim::{Kind, PureGaugeRoute};
 use crate::problem::Problem;
 
-/// Checks every claim of a problem about a background at far-zone order `order`.
+/// Checks every claim of a problem about a background at far-zone order `order`, then
+/// audits the verdicts.
 pub(super) fn check(problem: &mut Problem, order: u32) -> (Vec<ClaimReport>, bool) {
+    match exact(problem, order) {
+        Ok(mut checked) => {
+            audit_all(problem, &mut checked);
+            (checked.out, checked.has_claims)
+        }
+        Err(early) => early,
+    }
+}
+
+/// The exact route's reports, before the audit, with what the audit needs.
+pub(super) struct Checked {
+    pub(super) out: Vec<ClaimReport>,
+    pub(super) found: Vec<Vec<Found>>,
+    pub(super) names: RayNames,
+    pub(super) bases: Vec<Vec<(String, f64)>>,
+    pub(super) frame: Option<Frame>,
+    order: u32,
+    has_claims: bool,
+}
+
+/// The exact route's verdicts; `Err` with the final reports when nothing can be expanded
+/// (a background that cannot be built, no radius).
+pub(super) fn exact(
+    problem: &mut Problem,
+    order: u32,
+) -> Result<Checked, (Vec<ClaimReport>, bool)> {
     let radius_name = problem
         .claims
         .as_ref()
@@ -30,7 +57,6 @@ pub(super) fn check(problem: &mut Problem, order: u32) -> (Vec<ClaimReport>, boo
         .filter(|&i| i > 0);
     let sampling = problem.sampling.clone();
     let parameters = problem.parameters.clone();
-    let seed = sampling.seed;
     let Prepared {
         mut parts,
         plan,
@@ -38,7 +64,7 @@ pub(super) fn check(problem: &mut Problem, order: u32) -> (Vec<ClaimReport>, boo
         frame: names_frame,
     } = match prepare(problem) {
         Ok(p) => p,
-        Err(early) => return early,
+        Err(early) => return Err(early),
     };
     let background = problem
         .background
@@ -58,7 +84,7 @@ pub(super) fn check(problem: &mut Problem, order: u32) -> (Vec<ClaimReport>, boo
                 )
             })
             .collect();
-        return (out, plan.has_claims);
+        return Err((out, plan.has_claims));
     };
     let names = RayNames::radial(problem, radius);
     let bases = audit::base_points(problem, &names);
@@ -122,26 +148,38 @@ pub(super) fn check(problem: &mut Problem, order: u32) -> (Vec<ClaimReport>, boo
             Err(e) => out.push(far(limit_report(c, e), order)),
         }
     }
-    // The exact claims (the background's equations) by the exact audit, the far-zone ones
-    // along the ray.
+    Ok(Checked {
+        out,
+        found,
+        bases,
+        frame: frame.ok(),
+        names,
+        order,
+        has_claims: plan.has_claims,
+    })
+}
+
+/// The audits: the exact claims (the background's equations) by the exact audit at seeded
+/// points, the far-zone ones along the ray ([`audit::audit`]).
+pub(super) fn audit_all(problem: &Problem, c: &mut Checked) {
+    let out = &mut c.out;
     let exact: Vec<usize> = (0..out.len())
         .filter(|&i| out[i].far_zone.is_none())
         .collect();
     let mut audited: Vec<ClaimReport> = exact.iter().map(|&i| out[i].clone()).collect();
-    crate::check::audit::audit_claims(problem, &mut audited, seed);
+    crate::check::audit::audit_claims(problem, &mut audited, problem.sampling.seed);
     for (i, r) in exact.into_iter().zip(audited) {
         out[i] = r;
     }
     audit::audit(
         problem,
-        &mut out,
-        &found,
-        order,
-        &names,
-        &bases,
-        frame.as_ref().ok(),
+        out,
+        &c.found,
+        c.order,
+        &c.names,
+        &c.bases,
+        c.frame.as_ref(),
     );
-    (out, plan.has_claims)
 }
 
 fn far(mut r: ClaimReport, order: u32) -> ClaimReport {

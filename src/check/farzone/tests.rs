@@ -467,3 +467,86 @@ fn deep_cancellations_are_followed_to_the_claimed_order() {
     assert!(matches!(v, Verdict::Nonzero(_)), "{v:?}");
     assert_eq!(found.failing_order, Some(6));
 }
+
+/// About a background the audit evaluates the pointwise curvature chain along the radial
+/// ray and scales by the frame's weights: a proof the exact route got wrong (the failing
+/// components of the l = 2 wave at order 3 overwritten as proved) is an INTERNAL DEFECT.
+#[test]
+fn a_false_falloff_proof_about_a_background_is_caught_by_the_audit() {
+    let mut p = with_order("spherical_wave_far_zone.toml", 3);
+    let mut checked = curved::exact(&mut p, 3).expect("expanded");
+    let mut forged = 0;
+    for (c, fd) in checked.out.iter_mut().zip(checked.found.iter_mut()) {
+        for (k, f) in c.components.iter_mut().zip(fd.iter_mut()) {
+            if matches!(k.verdict, Verdict::Nonzero(_)) {
+                k.verdict = Verdict::Zero;
+                f.failing_order = None;
+                f.valid_at = vec![true; checked.bases.len()];
+                forged += 1;
+            }
+        }
+    }
+    assert!(forged > 0);
+    curved::audit_all(&p, &mut checked);
+    let report = CheckReport {
+        claims: checked.out,
+        has_claims: true,
+    };
+    assert!(report.has_defect());
+    for c in report.claims.iter().filter(|c| c.far_zone.is_some()) {
+        assert_ne!(c.status, Status::Holds, "{}", c.method);
+        assert!(c.method.contains("INTERNAL DEFECT"), "{}", c.method);
+    }
+    // The background's own equations stay exact and hold.
+    assert_eq!(report.claims[0].far_zone, None);
+    assert_eq!(report.claims[0].status, Status::Holds);
+}
+
+/// The frame's weights enter the audit: with the weight of a failing angular component
+/// forged (dG_th.th of the Schwarzschild truncation, weight 2, judged as if it were 0) the
+/// exact coefficient no longer matches rho^k times the independent value.
+#[test]
+fn a_wrong_frame_weight_is_caught_by_the_audit() {
+    let mut p = with_order("schwarzschild_mass_far_zone.toml", 6);
+    let mut checked = curved::exact(&mut p, 6).expect("expanded");
+    let field = checked
+        .out
+        .iter()
+        .position(|c| c.key == "field_equations")
+        .expect("field equations");
+    let i = checked.out[field]
+        .components
+        .iter()
+        .position(|k| k.name == "dG_th.th")
+        .expect("dG_th.th");
+    assert!(matches!(
+        checked.out[field].components[i].verdict,
+        Verdict::Nonzero(_)
+    ));
+    assert_eq!(checked.found[field][i].weight, 2);
+    assert_eq!(checked.found[field][i].failing_order, Some(5));
+    checked.found[field][i].weight = 0;
+    curved::audit_all(&p, &mut checked);
+    let k = &checked.out[field].components[i];
+    assert!(k.audit.is_defect(), "{:?}", k.audit);
+    assert!(checked.out[field].method.contains("INTERNAL DEFECT"));
+}
+
+/// The worked slow rotation about Schwarzschild (exact to first order in the spin) holds at
+/// every order: its residuals reduce to 0 identically, and the audit agrees along the ray.
+#[test]
+fn an_exact_solution_about_schwarzschild_holds_at_any_order() {
+    for n in [1, 4] {
+        let mut p = with_order("schwarzschild_slow_rotation.toml", n);
+        let report = check(&mut p);
+        assert_eq!(report.overall(), Status::Holds, "{n}: {:?}", report.claims);
+        assert!(!report.has_defect());
+        let far: Vec<_> = report
+            .claims
+            .iter()
+            .filter(|c| c.far_zone.is_some())
+            .collect();
+        assert_eq!(far.len(), 2, "{n}");
+        assert!(far.iter().all(|c| c.method.contains("e_ph = (1/r) d_ph")));
+    }
+}
