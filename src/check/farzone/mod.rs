@@ -8,9 +8,21 @@
 //! [`Store::view`] and expanded as a truncated Laurent series in `eps = 1/rho`
 //! ([`series::Series`]: a lower bound of the valuation, exact coefficients that are canonical
 //! forms in u, n and the parameters, and an absolute precision). Since `r = s*rho`, "O(1/r^n)"
-//! and "O(eps^n)" are the same statement at a fixed direction. Supported: Minkowski in
-//! Cartesian coordinates t, x, y, z (the reader refuses `far_zone_order` anywhere else, with
-//! the file's line and column).
+//! and "O(eps^n)" are the same statement at a fixed direction. This is the ray of Minkowski in
+//! Cartesian coordinates t, x, y, z.
+//!
+//! About a background ([`curved`]), in spherical-type coordinates, the ray is `t = u + rho`,
+//! `r = rho` with the other two coordinates (the angles) fixed symbols: the time is the first
+//! coordinate, the radius the coordinate named `r` or by `far_zone_radius` (the reader refuses
+//! a file about a background with neither, with its line and column). The residuals are the
+//! exact route's `dG + Lambda h - 8 pi dT` and covariant gauge forms, expanded as they are;
+//! each component is judged in the background's orthonormal frame, `E_{ab} rho^-(w_a + w_b)`
+//! with weights read from gbar's own expansion ([`frame`], whose docs say why that is the
+//! frame's order); the background must approach flat space (else undecided, with the reason).
+//! Outgoing fields about Schwarzschild depend on `t - r_*`, `r_* = r + 2M log(r/2M - 1)`: at
+//! fixed `t - r` their argument grows like `log r`, so they are undecided, which is correct
+//! (the expansion is not a series in 1/r), not a defect. The background's own equations stay
+//! exact claims.
 //!
 //! Soundness. *Holds* needs every coefficient of eps^k, k < n, to be an empty canonical form
 //! (the zero test's proof) and the series' precision to reach n; *fails* needs the lowest
@@ -49,9 +61,15 @@
 //! at one certified point: the lower coefficients vanish identically and `c_k` does not
 //! there, so the component behaves as `c_k eps^k` with `k < n`.
 //!
+//! The frame's scaling adds nothing to this argument: multiplying a series by `eps^w` shifts
+//! its valuation, precision and coefficients' orders by `w` exactly, and the conditions the
+//! weights rest on (their leading coefficients nonzero) are conditions of the verdict like the
+//! residual's own.
+//!
 //! The second opinion ([`audit`]) evaluates the components from the file's texts along the
-//! ray at rho = 1e6, 1e8, 1e10 in multiprecision balls and compares the falloff with the
-//! verdict; a disagreement is an INTERNAL DEFECT, never a pass.
+//! ray at rho = 1e6, 1e8, 1e10 in multiprecision balls (about a background by the pointwise
+//! curvature chain, scaled by the same weights) and compares the falloff with the verdict; a
+//! disagreement is an INTERNAL DEFECT, never a pass.
 
 mod audit;
 mod curved;

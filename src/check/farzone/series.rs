@@ -1,5 +1,8 @@
 //! Truncated Laurent series in `eps = 1/rho` whose coefficients are canonical forms, and the
-//! expansion of a canonical form along the ray `t = u + rho*s`, `x_i = rho*n_i`.
+//! expansion of a canonical form along a ray: the Cartesian `t = u + rho*s`, `x_i = rho*n_i`
+//! ([`cartesian_ray`]) or the radial `t = u + rho`, `r = rho` ([`radial_ray`]). The ray is
+//! given by the exact series of the coordinates that move along it; every other symbol is a
+//! constant of the expansion.
 //!
 //! A [`Series`] `{v, prec, c}` stands for `sum_k c[k] eps^(v+k) + O(eps^prec)`: `v` is a
 //! *lower bound* of the valuation (a coefficient that is not an empty form may still vanish
