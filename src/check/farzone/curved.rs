@@ -62,10 +62,7 @@ pub(super) fn exact(
         plan,
         pure,
         frame: names_frame,
-    } = match prepare(problem) {
-        Ok(p) => p,
-        Err(early) => return Err(early),
-    };
+    } = prepare(problem)?;
     let background = problem
         .background
         .as_ref()
