@@ -121,7 +121,7 @@ pub(super) fn exact(
             Err(why) => {
                 let why = format!(
                     "undecided: the far-zone orders are judged in the background's orthonormal \
-                     frame along {}, which needs a background that approaches flat space: {why}",
+                     frame {}, which needs a background that approaches flat space: {why}",
                     names.ray_text()
                 );
                 out.push(far(

@@ -23,9 +23,14 @@
 //! `E~ = D^-1 E D^-1` the scaled components: each frame component is a bounded combination
 //! of the scaled ones and conversely, and for each pair the diagonal coefficient tends to a
 //! nonzero constant while the others vanish. So every scaled component is O(eps^n) exactly
-//! when every frame component is (the claim's verdict is the frame's), and a scaled
-//! component's leading order is the frame component's (the off-diagonal mixing of lower order
-//! does not change a valuation). The leading coefficients `c_a` may vanish at some angles
+//! when every frame component is: the claim's verdict is the frame's. For a diagonal
+//! background `M` is diagonal, each frame component is its scaled component times
+//! `1/sqrt(|g~_aa g~_bb|)`, a factor tending to a nonzero constant, and the two have the same
+//! leading order; with off-diagonal terms (of lower order, as required) a frame component is
+//! its scaled component plus O(eps) times the others, so its order is the scaled one's unless
+//! another component is larger by more than the mixing's order. The reports' per-component
+//! orders are those of the scaled coordinate components. The leading coefficients `c_a` may
+//! vanish at some angles
 //! (`sin(th)^2` on the axis): there the frame is singular, so `c_a != 0` is one of the
 //! verdict's conditions, as for the residuals' own divisions.
 
