@@ -115,6 +115,10 @@ pub struct Claims {
     /// component is O(1/r^n) as r grows at fixed t - r and fixed direction" instead of "the
     /// component is 0" (see `crate::check::farzone`).
     pub far_zone_order: Option<u32>,
+    /// `far_zone_radius = 'NAME'`: the coordinate that grows along the far-zone ray in a
+    /// file about a background (default `r`; resolved against the coordinates by the
+    /// reader). `None` in t, x, y, z about flat space, whose ray is Cartesian.
+    pub far_zone_radius: Option<String>,
 }
 
 impl Claims {
@@ -134,6 +138,9 @@ impl Claims {
         }
         if let Some(n) = self.far_zone_order {
             parts.push(format!("far_zone_order = {n}"));
+        }
+        if let Some(r) = &self.far_zone_radius {
+            parts.push(format!("far_zone_radius = '{r}'"));
         }
         if parts.is_empty() {
             "none".into()
@@ -747,6 +754,7 @@ mod tests {
             gauge: vec![Gauge::Tt],
             pure_gauge: None,
             far_zone_order: None,
+            far_zone_radius: None,
         };
         let plan = Plan::of(Some(&claims), true);
         let kinds: Vec<(Kind, Option<bool>)> =

@@ -139,13 +139,26 @@ impl CurvedParts {
     }
 }
 
-/// Every claim of a problem about a background, decided by the exact route.
-pub(super) fn exact_claims(problem: &mut Problem) -> (Vec<ClaimReport>, bool) {
+/// What every route about a background starts from: the exact parts, the plan, how pure
+/// gauge is decided, and the frame that names the components.
+pub(crate) struct Prepared {
+    /// The parts, memoised.
+    pub parts: CurvedParts,
+    /// The claims.
+    pub plan: crate::claim::Plan,
+    /// How pure gauge is decided.
+    pub pure: PureGaugeRoute,
+    /// The names of the components.
+    pub frame: Frame,
+}
+
+/// The background, its parts and the plan of a problem about a background; or, when the
+/// background cannot be built (degenerate, a limit), the one report that says so.
+pub(crate) fn prepare(problem: &mut Problem) -> Result<Prepared, (Vec<ClaimReport>, bool)> {
     let bgd = problem
         .background
         .clone()
         .expect("a problem with a background");
-    let sampling = problem.sampling.clone();
     let frame = Frame::covariant(problem.coordinates.clone());
     let spacetime = problem.spacetime();
     let store = &mut problem.store;
@@ -173,7 +186,7 @@ pub(super) fn exact_claims(problem: &mut Problem) -> (Vec<ClaimReport>, bool) {
                 format!("undecided: {why}"),
                 Vec::new(),
             );
-            return (vec![report], problem.claims.is_some());
+            return Err((vec![report], problem.claims.is_some()));
         }
     };
     let mut parts = CurvedParts::new(bg, problem.h, problem.source, bgd.gauge_vector);
@@ -206,20 +219,46 @@ pub(super) fn exact_claims(problem: &mut Problem) -> (Vec<ClaimReport>, bool) {
         PureGaugeRoute::None
     };
     let plan = crate::claim::Plan::curved(setting(pure));
+    Ok(Prepared {
+        parts,
+        plan,
+        pure,
+        frame,
+    })
+}
+
+/// The report of pure gauge on a background not proved flat, without a gauge vector.
+pub(crate) fn pure_gauge_undecided(c: Claim) -> ClaimReport {
+    ClaimReport::new(
+        c,
+        Status::Undecided,
+        "undecided: the background's Riemann tensor is not proved zero, so the linearized \
+         Riemann tensor is no test of pure gauge; give the candidate vector xi_mu in a \
+         [gauge_vector] table to test h = D xi + D xi"
+            .into(),
+        Vec::new(),
+    )
+}
+
+/// Every claim of a problem about a background, decided by the exact route.
+pub(super) fn exact_claims(problem: &mut Problem) -> (Vec<ClaimReport>, bool) {
+    let sampling = problem.sampling.clone();
+    let Prepared {
+        mut parts,
+        plan,
+        pure,
+        frame,
+    } = match prepare(problem) {
+        Ok(p) => p,
+        Err(early) => return early,
+    };
+    let store = &mut problem.store;
     let out = plan
         .claims
         .iter()
         .map(|&c| {
             if c.kind == Kind::PureGauge && pure == PureGaugeRoute::None {
-                return ClaimReport::new(
-                    c,
-                    Status::Undecided,
-                    "undecided: the background's Riemann tensor is not proved zero, so the \
-                     linearized Riemann tensor is no test of pure gauge; give the candidate \
-                     vector xi_mu in a [gauge_vector] table to test h = D xi + D xi"
-                        .into(),
-                    Vec::new(),
-                );
+                return pure_gauge_undecided(c);
             }
             match parts.named(store, c.kind, &frame) {
                 Ok(named) => claim(store, c, named, &sampling),

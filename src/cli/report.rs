@@ -283,6 +283,7 @@ pub fn proved_claims(report: &CheckReport, asked: &Claims) -> Claims {
             }),
         // The derived perturbation is checked exactly, never at a far-zone order.
         far_zone_order: None,
+        far_zone_radius: None,
     }
 }
 

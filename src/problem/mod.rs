@@ -212,6 +212,8 @@ pub struct ProblemFile {
     pub radiation_claims: RadiationClaimTexts,
     /// Where `far_zone_order` is written, if it is.
     pub far_zone_span: Option<Span>,
+    /// Where the value of `far_zone_radius` is written, if it is.
+    pub far_zone_radius_span: Option<Span>,
 }
 
 /// The claims about radiation as written: `luminosity`, `luminosity_average`,

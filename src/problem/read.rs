@@ -35,9 +35,10 @@ pub(super) const TOP_KEYS: [&str; 16] = [
     "claims",
     "grid",
 ];
-const CLAIM_KEYS: [&str; 9] = [
+const CLAIM_KEYS: [&str; 10] = [
     "field_equations",
     "far_zone_order",
+    "far_zone_radius",
     "gauge",
     "pure_gauge",
     "luminosity",
@@ -67,6 +68,10 @@ const GRID_KEYS: [&str; 3] = ["center", "width", "points"];
 pub(super) const MIN_RESOLUTIONS: usize = 3;
 /// Fewest points per side at one resolution.
 pub(super) const MIN_POINTS: usize = 5;
+
+const RADIUS_HELP: &str = "name the coordinate that grows along the far-zone ray (the radius \
+    of spherical-type coordinates), e.g. `far_zone_radius = 'R'`; without the key it is the \
+    coordinate named `r`";
 
 const PARAMETER_HELP: &str = "a parameter's value is its typical size for numeric checks, \
                               e.g. `A = 1.0e-3` or `k = '3/5'`";
@@ -691,6 +696,7 @@ impl Cx<'_> {
         t: &DeTable<'_>,
         radiation: &mut RadiationClaimTexts,
         far_zone_span: &mut Option<Span>,
+        radius_span: &mut Option<Span>,
     ) -> Result<Claims, ProblemError> {
         let mut c = Claims::default();
         for (k, v) in entries(t) {
@@ -702,6 +708,17 @@ impl Cx<'_> {
                     c.far_zone_order = Some(self.far_zone_order(v)?);
                     *far_zone_span = Some(span_of(k));
                 }
+                "far_zone_radius" => match v.get_ref() {
+                    DeValue::String(name) => {
+                        c.far_zone_radius = Some(name.to_string());
+                        *radius_span = Some(span_of(v));
+                    }
+                    _ => {
+                        return Err(self
+                            .type_error("`far_zone_radius`", "a string", v)
+                            .with_help(RADIUS_HELP));
+                    }
+                },
                 "luminosity" => {
                     radiation.luminosity = Some(self.expr_or_number("`luminosity`", v)?);
                 }
@@ -1087,6 +1104,7 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
         orbit: None,
         radiation_claims: RadiationClaimTexts::default(),
         far_zone_span: None,
+        far_zone_radius_span: None,
     };
     let mut saw_perturbation = false;
     for (k, v) in entries(root.get_ref()) {
@@ -1116,6 +1134,7 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
                     cx.table(k, v)?,
                     &mut file.radiation_claims,
                     &mut file.far_zone_span,
+                    &mut file.far_zone_radius_span,
                 )?);
             }
             "grid" => file.grid = Some(cx.grid(cx.table(k, v)?)?),
@@ -1177,20 +1196,7 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
         || file.background_source.is_some()
         || file.gauge_vector.is_some()
         || !cartesian;
-    if let Some(span) = file.far_zone_span.filter(|_| about_a_background) {
-        return Err(cx
-            .err(
-                "`far_zone_order` is checked about Minkowski in Cartesian coordinates t, x, y, z \
-                 only",
-                span,
-                "needs flat Cartesian",
-            )
-            .with_help(
-                "remove `far_zone_order`, or give the perturbation about flat space in t, x, y, z \
-                 without [background], [background_source], [gauge_vector] or \
-                 `cosmological_constant`",
-            ));
-    }
+    far_zone_radius(&cx, &file, about_a_background)?;
     if file.background.is_none()
         && let Some(span) = file.coordinates_span.filter(|_| !cartesian)
     {
@@ -1217,4 +1223,88 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
             }));
     }
     Ok(file)
+}
+
+/// The far-zone ray's coordinates: about flat space in t, x, y, z the ray is Cartesian and
+/// takes no radius; anywhere else the radius is `far_zone_radius` or the coordinate named
+/// `r`, a coordinate other than the first (time). Errors point at the key.
+fn far_zone_radius(
+    cx: &Cx<'_>,
+    file: &ProblemFile,
+    about_a_background: bool,
+) -> Result<(), ProblemError> {
+    let radius = file
+        .claims
+        .as_ref()
+        .and_then(|c| c.far_zone_radius.as_deref());
+    let radius_span = file.far_zone_radius_span.unwrap_or(Span::new(0, 0));
+    let Some(order_span) = file.far_zone_span else {
+        if radius.is_some() {
+            return Err(cx
+                .err(
+                    "`far_zone_radius` names the radius of a far-zone claim, but the file has \
+                     no `far_zone_order`",
+                    radius_span,
+                    "no far-zone claim",
+                )
+                .with_help("add `far_zone_order = n` to [claims], or remove `far_zone_radius`"));
+        }
+        return Ok(());
+    };
+    let coords = &file.coordinates;
+    let listed = coords
+        .iter()
+        .map(|c| format!("`{c}`"))
+        .collect::<Vec<_>>()
+        .join(", ");
+    if !about_a_background {
+        return match radius {
+            None => Ok(()),
+            Some(_) => Err(cx
+                .err(
+                    "`far_zone_radius` is for files about a [background]: about flat space in \
+                     t, x, y, z the far-zone ray is Cartesian (t = u + r, (x, y, z) = r n)",
+                    radius_span,
+                    "not used here",
+                )
+                .with_help("remove `far_zone_radius`")),
+        };
+    }
+    match radius {
+        Some(name) => match coords.iter().position(|c| c == name) {
+            Some(0) => Err(cx
+                .err(
+                    format!("`far_zone_radius` names `{name}`, the time coordinate"),
+                    radius_span,
+                    "the time coordinate",
+                )
+                .with_help(format!(
+                    "the ray runs out at fixed retarded time: name one of {listed} other than \
+                     the first (time) coordinate"
+                ))),
+            Some(_) => Ok(()),
+            None => Err(cx
+                .err(
+                    format!("`far_zone_radius` names `{name}`, which is not a coordinate"),
+                    radius_span,
+                    "not a coordinate",
+                )
+                .with_help(format!("the coordinates are {listed}; {RADIUS_HELP}"))),
+        },
+        None => match coords.iter().position(|c| c == "r") {
+            Some(i) if i > 0 => Ok(()),
+            _ => Err(cx
+                .err(
+                    "`far_zone_order` about a background needs a radial coordinate, and no \
+                     coordinate is named `r`",
+                    order_span,
+                    "which coordinate is the radius?",
+                )
+                .with_help(format!(
+                    "the coordinates are {listed}; the far-zone ray is t = u + r, r growing, \
+                     the other coordinates fixed: write spherical-type coordinates with a radius \
+                     `r`, or {RADIUS_HELP}"
+                ))),
+        },
+    }
 }

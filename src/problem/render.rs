@@ -60,6 +60,9 @@ pub fn render_problem(
         if let Some(n) = c.far_zone_order {
             let _ = writeln!(s, "far_zone_order = {n}");
         }
+        if let Some(r) = &c.far_zone_radius {
+            let _ = writeln!(s, "far_zone_radius = '{r}'");
+        }
         sections.push(s);
     }
     sections.join("\n")

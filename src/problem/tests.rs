@@ -166,6 +166,7 @@ fn valid_file_with_every_table() {
             gauge: vec![Gauge::Lorenz, Gauge::Tt],
             pure_gauge: Some(false),
             far_zone_order: None,
+            far_zone_radius: None,
         })
     );
     assert_eq!(

@@ -1,6 +1,11 @@
 //! The second opinion on far-zone verdicts: the components evaluated from the file's texts
 //! (`crate::audit`'s jets, never a canonical form) at points far out along the ray, in
-//! multiprecision balls, and their falloff compared with the verdict.
+//! multiprecision balls, and their falloff compared with the verdict. About a background the
+//! components come from the `pointwise` curvature chain of gbar + eps h over dual numbers
+//! (`Audit::components_in`, the curved audit's route, sharing only the parser with the exact
+//! one) at the radial ray's points `t = u + rho`, `r = rho`, and each is multiplied by
+//! `rho^-w`, the frame weight the exact route used (`Found::weight`), so both judge the same
+//! quantity; "component" below means the scaled one.
 //!
 //! - *O(1/r^n) proved*: at each seeded ray (retarded time, direction, parameters) where the
 //!   exact route's conditions are certified, `g(rho) = rho^n |component|` at rho = 1e6, 1e8,
@@ -47,8 +52,8 @@ pub(super) fn base_points(problem: &Problem, names: &RayNames) -> Vec<Vec<(Strin
     (0..BASES)
         .map(|i| {
             let mut p = vec![(names.u.clone(), unit(&mut rng))];
-            for n in &names.n {
-                p.push((n.clone(), unit(&mut rng)));
+            for (i, n) in names.n.iter().enumerate() {
+                p.push((n.clone(), names.direction(i, &mut rng)));
             }
             for (name, t) in &problem.parameters {
                 let v = if i == 0 || *t == 0.0 {
@@ -64,24 +69,27 @@ pub(super) fn base_points(problem: &Problem, names: &RayNames) -> Vec<Vec<(Strin
 }
 
 /// The point of the problem's coordinates and parameters at `rho` on the ray of `base`.
-fn on_ray(
-    coords: &[String; 4],
-    names: &RayNames,
-    base: &[(String, f64)],
-    rho: f64,
-) -> Option<Vec<(String, f64)>> {
+fn on_ray(names: &RayNames, base: &[(String, f64)], rho: f64) -> Option<Vec<(String, f64)>> {
     let get = |n: &str| base.iter().find(|(m, _)| m == n).map(|p| p.1);
     let u = get(&names.u)?;
-    let n: Vec<f64> = names.n.iter().map(|m| get(m)).collect::<Option<_>>()?;
-    let s = (n[0] * n[0] + n[1] * n[1] + n[2] * n[2]).sqrt();
-    let mut out = vec![
-        (coords[0].clone(), u + rho * s),
-        (coords[1].clone(), rho * n[0]),
-        (coords[2].clone(), rho * n[1]),
-        (coords[3].clone(), rho * n[2]),
-    ];
+    let coords = &names.coords;
+    let mut out = match names.radial {
+        Some((t, r)) => vec![(coords[t].clone(), u + rho), (coords[r].clone(), rho)],
+        None => {
+            let n: Vec<f64> = names.n.iter().map(|m| get(m)).collect::<Option<_>>()?;
+            let s = (n[0] * n[0] + n[1] * n[1] + n[2] * n[2]).sqrt();
+            vec![
+                (coords[0].clone(), u + rho * s),
+                (coords[1].clone(), rho * n[0]),
+                (coords[2].clone(), rho * n[1]),
+                (coords[3].clone(), rho * n[2]),
+            ]
+        }
+    };
+    // The angles of the radial ray are coordinates, the Cartesian direction is not.
     for (name, v) in base {
-        if *name != names.u && !names.n.contains(name) {
+        let direction = names.n.contains(name) && names.radial.is_none();
+        if *name != names.u && !direction {
             out.push((name.clone(), *v));
         }
     }
@@ -97,7 +105,6 @@ type RayValues = Vec<FxHashMap<String, Interval>>;
 
 struct Evaluator<'a> {
     audit: &'a Audit,
-    coords: &'a [String; 4],
     names: &'a RayNames,
     cache: FxHashMap<Vec<(String, u64)>, RayValues>,
 }
@@ -107,12 +114,12 @@ impl Evaluator<'_> {
         let mut tag: Vec<(String, u64)> =
             base.iter().map(|(n, v)| (n.clone(), v.to_bits())).collect();
         tag.sort();
-        let (audit, coords, names) = (self.audit, self.coords, self.names);
+        let (audit, names) = (self.audit, self.names);
         self.cache.entry(tag).or_insert_with(|| {
             RADII
                 .iter()
                 .map(|&rho| {
-                    let Some(point) = on_ray(coords, names, base, rho) else {
+                    let Some(point) = on_ray(names, base, rho) else {
                         return FxHashMap::default();
                     };
                     audit
@@ -143,6 +150,7 @@ pub(super) fn audit(
     order: u32,
     names: &RayNames,
     bases: &[Vec<(String, f64)>],
+    frame: Option<&super::frame::Frame>,
 ) {
     if let Err(why) = auditable(problem) {
         return not_run(claims, &why);
@@ -153,13 +161,13 @@ pub(super) fn audit(
     };
     let mut ev = Evaluator {
         audit: &audit,
-        coords: &problem.coordinates,
         names,
         cache: FxHashMap::default(),
     };
     let n = i64::from(order);
     for (c, fd) in claims.iter_mut().zip(found) {
-        if c.components.is_empty() {
+        // A claim checked exactly (a background's own equations) is audited as such.
+        if c.components.is_empty() || c.far_zone.is_none() {
             continue;
         }
         for (k, f) in c.components.iter_mut().zip(fd) {
@@ -173,7 +181,7 @@ pub(super) fn audit(
                         let g: Option<Vec<Interval>> = vals
                             .iter()
                             .zip(RADII)
-                            .map(|(m, rho)| scaled(m.get(&id)?.abs(), rho, n))
+                            .map(|(m, rho)| scaled(m.get(&id)?.abs(), rho, n - f.weight))
                             .collect();
                         let Some(g) = g else { continue };
                         evaluated += 1;
@@ -216,7 +224,9 @@ pub(super) fn audit(
                             .iter()
                             .zip(RADII)
                             .map(|(m, rho)| {
-                                scaled(*m.get(&id)?, rho, kk)?.sub(ck).map(Interval::abs)
+                                scaled(*m.get(&id)?, rho, kk - f.weight)?
+                                    .sub(ck)
+                                    .map(Interval::abs)
                             })
                             .collect();
                         let small = ck.abs().lo();
@@ -255,16 +265,15 @@ pub(super) fn audit(
                 Verdict::Undecided(_) => Audited::Skipped,
             };
         }
-        let expect_zero = c.asserted.unwrap_or(true);
         let refs: Vec<&Verdict> = c.components.iter().map(|k| &k.verdict).collect();
-        c.status = Status::of(&refs, expect_zero);
+        c.status = super::status_of(c.claim, &refs);
         // A disagreement of the two routes is never a pass.
         if c.status == Status::Holds && c.components.iter().any(|k| k.audit.is_defect()) {
             c.status = Status::Undecided;
         }
         c.method = format!(
             "{}; {}",
-            super::method_text(&c.components, fd, order, names),
+            super::method_text(&c.components, fd, order, names, frame),
             audit_text(c)
         );
     }

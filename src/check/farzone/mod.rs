@@ -8,9 +8,21 @@
 //! [`Store::view`] and expanded as a truncated Laurent series in `eps = 1/rho`
 //! ([`series::Series`]: a lower bound of the valuation, exact coefficients that are canonical
 //! forms in u, n and the parameters, and an absolute precision). Since `r = s*rho`, "O(1/r^n)"
-//! and "O(eps^n)" are the same statement at a fixed direction. Supported: Minkowski in
-//! Cartesian coordinates t, x, y, z (the reader refuses `far_zone_order` anywhere else, with
-//! the file's line and column).
+//! and "O(eps^n)" are the same statement at a fixed direction. This is the ray of Minkowski in
+//! Cartesian coordinates t, x, y, z.
+//!
+//! About a background ([`curved`]), in spherical-type coordinates, the ray is `t = u + rho`,
+//! `r = rho` with the other two coordinates (the angles) fixed symbols: the time is the first
+//! coordinate, the radius the coordinate named `r` or by `far_zone_radius` (the reader refuses
+//! a file about a background with neither, with its line and column). The residuals are the
+//! exact route's `dG + Lambda h - 8 pi dT` and covariant gauge forms, expanded as they are;
+//! each component is judged in the background's orthonormal frame, `E_{ab} rho^-(w_a + w_b)`
+//! with weights read from gbar's own expansion ([`frame`], whose docs say why that is the
+//! frame's order); the background must approach flat space (else undecided, with the reason).
+//! Outgoing fields about Schwarzschild depend on `t - r_*`, `r_* = r + 2M log(r/2M - 1)`: at
+//! fixed `t - r` their argument grows like `log r`, so they are undecided, which is correct
+//! (the expansion is not a series in 1/r), not a defect. The background's own equations stay
+//! exact claims.
 //!
 //! Soundness. *Holds* needs every coefficient of eps^k, k < n, to be an empty canonical form
 //! (the zero test's proof) and the series' precision to reach n; *fails* needs the lowest
@@ -49,11 +61,19 @@
 //! at one certified point: the lower coefficients vanish identically and `c_k` does not
 //! there, so the component behaves as `c_k eps^k` with `k < n`.
 //!
+//! The frame's scaling adds nothing to this argument: multiplying a series by `eps^w` shifts
+//! its valuation, precision and coefficients' orders by `w` exactly, and the conditions the
+//! weights rest on (their leading coefficients nonzero) are conditions of the verdict like the
+//! residual's own.
+//!
 //! The second opinion ([`audit`]) evaluates the components from the file's texts along the
-//! ray at rho = 1e6, 1e8, 1e10 in multiprecision balls and compares the falloff with the
-//! verdict; a disagreement is an INTERNAL DEFECT, never a pass.
+//! ray at rho = 1e6, 1e8, 1e10 in multiprecision balls (about a background by the pointwise
+//! curvature chain, scaled by the same weights) and compares the falloff with the verdict; a
+//! disagreement is an INTERNAL DEFECT, never a pass.
 
 mod audit;
+mod curved;
+mod frame;
 mod series;
 
 use super::{ClaimReport, Component, ExactParts, RESIDUAL_CHARS, Residual, Status};
@@ -71,12 +91,20 @@ use series::{Condition, Expander, Stop};
 pub(crate) struct RayNames {
     /// Retarded time `u = t - r`.
     pub u: String,
-    /// The direction `(n1, n2, n3)`.
-    pub n: [String; 3],
+    /// What fixes the direction: `(n1, n2, n3)` on the Cartesian ray, the two angles (the
+    /// coordinates other than time and radius) on the radial one.
+    pub n: Vec<String>,
+    /// The radial ray's time and radius (positions in the coordinates); `None`: Cartesian.
+    pub radial: Option<(usize, usize)>,
+    /// The problem's coordinates.
+    pub coords: [String; 4],
+    /// The \[domain\] range of each direction symbol (the angles of the radial ray).
+    pub ranges: Vec<Option<(f64, f64)>>,
 }
 
 impl RayNames {
-    /// `u`, `n1`, `n2`, `n3`, with `_` appended until no name of the problem is taken.
+    /// The Cartesian ray's names: `u`, `n1`, `n2`, `n3`, with `_` appended until no name of
+    /// the problem is taken.
     fn of(problem: &Problem) -> RayNames {
         let taken = |n: &str| {
             problem.parameters.iter().any(|(m, _)| m == n)
@@ -88,7 +116,10 @@ impl RayNames {
         loop {
             let names = RayNames {
                 u: format!("u{suffix}"),
-                n: std::array::from_fn(|i| format!("n{}{suffix}", i + 1)),
+                n: (1..=3).map(|i| format!("n{i}{suffix}")).collect(),
+                radial: None,
+                coords: problem.coordinates.clone(),
+                ranges: vec![None; 3],
             };
             if !taken(&names.u) && !names.n.iter().any(|n| taken(n)) {
                 return names;
@@ -97,13 +128,68 @@ impl RayNames {
         }
     }
 
+    /// The radial ray's names: a fresh `u`, the time (the first coordinate), the radius
+    /// `radius` and the two other coordinates as the direction.
+    fn radial(problem: &Problem, radius: usize) -> RayNames {
+        let mut names = RayNames::of(problem);
+        let angles: Vec<usize> = (1..4).filter(|&i| i != radius).collect();
+        names.n = angles
+            .iter()
+            .map(|&i| problem.coordinates[i].clone())
+            .collect();
+        names.ranges = angles
+            .iter()
+            .map(|&i| problem.domain.and_then(|d| d[i]))
+            .collect();
+        names.radial = Some((0, radius));
+        names
+    }
+
     /// How the ray is parametrised, for reports.
     fn ray_text(&self) -> String {
-        let [a, b, c] = &self.n;
-        format!(
-            "along t = {u} + rho*sqrt({a}^2 + {b}^2 + {c}^2), (x, y, z) = rho*({a}, {b}, {c})",
-            u = self.u
-        )
+        match self.radial {
+            Some((t, r)) => format!(
+                "along {t} = {u} + rho, {r} = rho at fixed {a}, {b}",
+                t = self.coords[t],
+                r = self.coords[r],
+                u = self.u,
+                a = self.n[0],
+                b = self.n[1],
+            ),
+            None => {
+                let [a, b, c] = [&self.n[0], &self.n[1], &self.n[2]];
+                format!(
+                    "along t = {u} + rho*sqrt({a}^2 + {b}^2 + {c}^2), (x, y, z) = rho*({a}, {b}, \
+                     {c})",
+                    u = self.u
+                )
+            }
+        }
+    }
+
+    /// A seeded value of direction symbol `i`: inside its \[domain\] range, if it has one,
+    /// else in `±[0.25, 2]`; three significant digits.
+    fn direction(&self, i: usize, rng: &mut SplitMix64) -> f64 {
+        let round = |v: f64| format!("{v:.2e}").parse().unwrap_or(v);
+        match self.ranges.get(i).copied().flatten() {
+            Some((lo, hi)) => {
+                let m = (hi - lo) * 1e-3;
+                round(lo + m + (hi - lo - 2.0 * m) * rng.next_f64()).clamp(lo, hi)
+            }
+            None => {
+                let mag = 0.25 + 1.75 * rng.next_f64();
+                round(if rng.next_u64() & 1 == 1 { -mag } else { mag })
+            }
+        }
+    }
+
+    /// `v` as the value of direction symbol `i`, or the middle of its range when `v` is
+    /// outside it.
+    fn fill(&self, i: usize, v: f64) -> f64 {
+        match self.ranges.get(i).copied().flatten() {
+            Some((lo, hi)) if !(lo..=hi).contains(&v) => (lo + hi) / 2.0,
+            _ => v,
+        }
     }
 }
 
@@ -116,30 +202,22 @@ pub(crate) struct Found {
     pub conditions: Vec<String>,
     /// For each of the audit's base points: whether every condition is certified there.
     pub valid_at: Vec<bool>,
+    /// The frame weight: the component judged is the coordinate component times
+    /// `rho^-weight` (0 on the Cartesian ray; see [`frame`]).
+    pub weight: i64,
 }
 
-/// Checks every claim of a flat problem at far-zone order `order`, then audits the verdicts
+/// Checks every claim of a problem at far-zone order `order`, then audits the verdicts
 /// along rays (see the module docs).
 pub(crate) fn check(problem: &mut Problem, order: u32) -> (Vec<ClaimReport>, bool) {
+    if problem.background.is_some() {
+        return curved::check(problem, order);
+    }
     let names = RayNames::of(problem);
     let plan = Plan::of(problem.claims.as_ref(), problem.source.is_some());
-    if problem.background.is_some() {
-        let why = "far_zone_order is checked about Minkowski in Cartesian coordinates only";
-        let out = plan
-            .claims
-            .iter()
-            .map(|&c| {
-                let mut r =
-                    ClaimReport::new(c, Status::Undecided, format!("undecided: {why}"), vec![]);
-                r.far_zone = Some(order);
-                r
-            })
-            .collect();
-        return (out, plan.has_claims);
-    }
     let bases = audit::base_points(problem, &names);
     let (mut out, found) = exact(problem, &plan, order, &names, &bases);
-    audit::audit(problem, &mut out, &found, order, &names, &bases);
+    audit::audit(problem, &mut out, &found, order, &names, &bases, None);
     (out, plan.has_claims)
 }
 
@@ -155,16 +233,34 @@ fn exact(
     let store = &mut problem.store;
     let coords: [KernelId; 4] =
         std::array::from_fn(|i| store.symbol_kernel(&problem.coordinates[i]));
+    let u = store.symbol(&names.u);
+    let dir: [Form; 3] = std::array::from_fn(|i| store.symbol(&names.n[i]));
+    let moving = match series::cartesian_ray(store, coords, u, dir) {
+        Ok(m) => m,
+        Err(e) => {
+            let out = plan
+                .claims
+                .iter()
+                .map(|&c| {
+                    let mut r = super::limit_report(c, e.clone());
+                    r.far_zone = Some(order);
+                    r
+                })
+                .collect();
+            return (out, vec![Vec::new(); plan.claims.len()]);
+        }
+    };
     let mut lin = Linearized::new(store, problem.h);
     let source = problem.source;
     let mut parts = ExactParts::new(&mut lin, source.as_ref());
     let ray = Ray {
-        coords,
+        moving,
         order,
         names,
         sampling: &sampling,
         parameters: &parameters,
         bases,
+        frame: None,
     };
     let mut found = Vec::new();
     let out = plan
@@ -172,6 +268,7 @@ fn exact(
         .iter()
         .map(|&c| match parts.named(store, c.kind) {
             Ok(named) => {
+                let named = named.into_iter().map(|(n, f)| (n, f, 0)).collect();
                 let (report, f) = ray.claim(store, c, named);
                 found.push(f);
                 report
@@ -188,12 +285,15 @@ fn exact(
 }
 
 struct Ray<'a> {
-    coords: [KernelId; 4],
+    /// The coordinates that move along the ray, with their exact series.
+    moving: Vec<(KernelId, series::Series)>,
     order: u32,
     names: &'a RayNames,
     sampling: &'a Sampling,
     parameters: &'a [(String, f64)],
     bases: &'a [Vec<(String, f64)>],
+    /// The orthonormal frame's weights, on the radial ray.
+    frame: Option<&'a frame::Frame>,
 }
 
 /// The relative precisions tried, as multiples of the order plus a margin.
@@ -204,12 +304,13 @@ impl Ray<'_> {
         &self,
         store: &mut Store,
         claim: Claim,
-        named: Vec<(String, Form)>,
+        named: Vec<(String, Form, i64)>,
     ) -> (ClaimReport, Vec<Found>) {
         let mut components = Vec::new();
         let mut found = Vec::new();
-        for (name, f) in named {
-            let (verdict, residual, fd) = self.component(store, f);
+        for (name, f, weight) in named {
+            let (verdict, residual, mut fd) = self.component(store, f, weight);
+            fd.weight = weight;
             components.push(Component {
                 name,
                 verdict,
@@ -218,22 +319,15 @@ impl Ray<'_> {
             });
             found.push(fd);
         }
-        let expect_zero = claim.asserted.unwrap_or(true);
         let refs: Vec<&Verdict> = components.iter().map(|c| &c.verdict).collect();
-        let status = Status::of(&refs, expect_zero);
-        let method = method_text(&components, &found, self.order, self.names);
+        let status = status_of(claim, &refs);
+        let method = method_text(&components, &found, self.order, self.names, self.frame);
         let mut report = ClaimReport::new(claim, status, method, components);
         report.far_zone = Some(self.order);
         (report, found)
     }
 
-    fn u_n(&self, store: &mut Store) -> (Form, [Form; 3]) {
-        let u = store.symbol(&self.names.u);
-        let n = std::array::from_fn(|i| store.symbol(&self.names.n[i]));
-        (u, n)
-    }
-
-    fn component(&self, store: &mut Store, f: Form) -> (Verdict, Residual, Found) {
+    fn component(&self, store: &mut Store, f: Form, weight: i64) -> (Verdict, Residual, Found) {
         if store.is_zero(f) {
             // Exactly 0: no expansion, no condition; the audit still evaluates it.
             let found = Found {
@@ -245,21 +339,23 @@ impl Ray<'_> {
         let undecided =
             |why: String| (Verdict::Undecided(why), Residual::Form(f), Found::default());
         let n = i64::from(self.order);
-        let (u, dir) = self.u_n(store);
         let mut last = 0;
         for (mult, margin) in PRECISIONS {
             let p = self.order as usize * mult + margin;
             last = p;
-            let mut ex = match Expander::new(store, self.sampling, self.coords, u, dir, p) {
-                Ok(e) => e,
-                Err(e) => return undecided(stop_text(e)),
-            };
+            let mut ex = Expander::new(self.sampling, self.moving.clone(), p);
             let s = match ex.expand(store, f) {
-                Ok(s) => s,
+                // The component in the orthonormal frame: times rho^-weight = eps^weight.
+                Ok(s) => series::shift(s, weight),
                 Err(Stop::Precision) => continue,
                 Err(e) => return undecided(stop_text(e)),
             };
-            let conditions = ex.conditions.clone();
+            let mut conditions = self.frame.map_or(Vec::new(), |fr| fr.conditions.clone());
+            for c in &ex.conditions {
+                if !conditions.contains(c) {
+                    conditions.push(*c);
+                }
+            }
             let end = s.prec.min(n);
             let mut k = s.v;
             while k < end {
@@ -305,6 +401,7 @@ impl Ray<'_> {
                     failing_order: None,
                     conditions: texts,
                     valid_at,
+                    weight,
                 },
             );
         }
@@ -376,6 +473,7 @@ impl Ray<'_> {
                 failing_order: Some(k),
                 conditions: self.condition_texts(store, conditions),
                 valid_at,
+                weight: 0,
             },
         )
     }
@@ -384,13 +482,13 @@ impl Ray<'_> {
     /// depend on the symbols its witness leaves out).
     fn complete(&self, point: &[(String, f64)]) -> Vec<(String, f64)> {
         let mut out = point.to_vec();
-        let fill = [
-            (&self.names.u, 0.5),
-            (&self.names.n[0], 0.6),
-            (&self.names.n[1], -0.7),
-            (&self.names.n[2], 0.8),
-        ];
+        let fill = [0.6, -0.7, 0.8]
+            .into_iter()
+            .enumerate()
+            .map(|(i, v)| (self.names.n.get(i), self.names.fill(i, v)));
+        let fill = std::iter::once((Some(&self.names.u), 0.5)).chain(fill);
         for (name, v) in fill {
+            let Some(name) = name else { continue };
             if !out.iter().any(|(m, _)| m == name) {
                 out.push((name.clone(), v));
             }
@@ -454,8 +552,9 @@ impl Ray<'_> {
             format!("{v:.2e}").parse().unwrap_or(v)
         };
         out.push((self.names.u.clone(), unit(rng)));
-        for n in &self.names.n {
-            out.push((n.clone(), unit(rng)));
+        for i in 0..self.names.n.len() {
+            let v = self.names.direction(i, rng);
+            out.push((self.names.n[i].clone(), v));
         }
         let at_file_values = attempt < self.sampling.points.div_ceil(2);
         for (name, t) in self.parameters {
@@ -526,7 +625,10 @@ impl Ray<'_> {
     }
 
     fn implied_by_direction(&self, store: &mut Store, f: Form) -> bool {
-        let (_, n) = self.u_n(store);
+        if self.names.radial.is_some() {
+            return false;
+        }
+        let n: [Form; 3] = std::array::from_fn(|i| store.symbol(&self.names.n[i]));
         let nn = (|| -> Result<Form, CanonError> {
             let sq = [
                 store.mul(n[0], n[0])?,
@@ -572,8 +674,27 @@ fn stop_text(e: Stop) -> String {
     }
 }
 
+/// A claim's status from its components' verdicts: [`Status::of`], except that a claim a
+/// witness does not refute (h as the gauge transformation of the file's vector) is then
+/// undecided.
+fn status_of(claim: Claim, verdicts: &[&Verdict]) -> Status {
+    let status = Status::of(verdicts, claim.asserted.unwrap_or(true));
+    let nonzero = verdicts.iter().any(|v| matches!(v, Verdict::Nonzero(_)));
+    if !claim.kind.refuted_by_witness() && nonzero {
+        Status::Undecided
+    } else {
+        status
+    }
+}
+
 /// How the claim was decided, in words (the audit appends its own).
-fn method_text(components: &[Component], found: &[Found], order: u32, names: &RayNames) -> String {
+fn method_text(
+    components: &[Component],
+    found: &[Found],
+    order: u32,
+    names: &RayNames,
+    frame: Option<&frame::Frame>,
+) -> String {
     let n = components.len();
     let zero = components
         .iter()
@@ -592,10 +713,22 @@ fn method_text(components: &[Component], found: &[Found], order: u32, names: &Ra
     conditions.dedup();
     let mut s = format!(
         "far zone, expanded in 1/rho {}: {zero} of {n} components O(1/r^{order}) (every \
-         coefficient of 1/rho^k, k < {order}, reduces to 0), {nonzero} certified not O(1/r^{order}), \
-         {undecided} undecided",
+         coefficient of 1/rho^k, k < {order}, reduces to 0), {nonzero} certified not \
+         O(1/r^{order}), {undecided} undecided",
         names.ray_text()
     );
+    if let Some(fr) = frame {
+        let weighted: Vec<String> = components
+            .iter()
+            .zip(found)
+            .filter(|(_, f)| f.weight != 0)
+            .map(|(c, f)| format!("{}/{}", c.name, fr.power_text(f.weight)))
+            .collect();
+        s.push_str(&format!("; components in the frame {}", fr.text()));
+        if !weighted.is_empty() {
+            s.push_str(&format!(": {}", weighted.join(", ")));
+        }
+    }
     if !conditions.is_empty() {
         s.push_str(&format!(
             "; valid for u, direction and parameters where {}",

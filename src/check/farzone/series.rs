@@ -1,5 +1,8 @@
 //! Truncated Laurent series in `eps = 1/rho` whose coefficients are canonical forms, and the
-//! expansion of a canonical form along the ray `t = u + rho*s`, `x_i = rho*n_i`.
+//! expansion of a canonical form along a ray: the Cartesian `t = u + rho*s`, `x_i = rho*n_i`
+//! ([`cartesian_ray`]) or the radial `t = u + rho`, `r = rho` ([`radial_ray`]). The ray is
+//! given by the exact series of the coordinates that move along it; every other symbol is a
+//! constant of the expansion.
 //!
 //! A [`Series`] `{v, prec, c}` stands for `sum_k c[k] eps^(v+k) + O(eps^prec)`: `v` is a
 //! *lower bound* of the valuation (a coefficient that is not an empty form may still vanish
@@ -102,12 +105,56 @@ impl Series {
     }
 }
 
+/// The Cartesian ray `t = u + rho*s`, `(x, y, z) = rho*n`, `s = sqrt(n.n)` (a root kernel):
+/// the exact series of the kernels of t, x, y, z.
+pub(super) fn cartesian_ray(
+    store: &mut Store,
+    coords: [KernelId; 4],
+    u: Form,
+    n: [Form; 3],
+) -> Result<Vec<(KernelId, Series)>, CanonError> {
+    let sq: Vec<Form> = n
+        .iter()
+        .map(|&f| store.mul(f, f))
+        .collect::<Result<_, _>>()?;
+    let nn = store.sum(&sq)?;
+    let s = store.root(nn, 2)?;
+    let t = Series {
+        v: -1,
+        prec: INF,
+        c: vec![s, u],
+    };
+    Ok(vec![
+        (coords[0], t),
+        (coords[1], Series::monomial(n[0], -1)),
+        (coords[2], Series::monomial(n[1], -1)),
+        (coords[3], Series::monomial(n[2], -1)),
+    ])
+}
+
+/// The radial ray `t = u + rho`, `r = rho` (every other coordinate fixed): the exact series
+/// of the kernels of t and r.
+pub(super) fn radial_ray(
+    store: &mut Store,
+    time: KernelId,
+    radius: KernelId,
+    u: Form,
+) -> Vec<(KernelId, Series)> {
+    let one = store.one();
+    let t = Series {
+        v: -1,
+        prec: INF,
+        c: vec![one, u],
+    };
+    vec![(time, t), (radius, Series::monomial(one, -1))]
+}
+
 /// Expands forms along the ray at one relative precision `p` (the number of terms kept after
 /// each result's leading one, where a result is not exact).
 pub(super) struct Expander<'a> {
     pub(super) sampling: &'a Sampling,
-    /// The kernels of t, x, y, z and their exact series.
-    coords: [(KernelId, Series); 4],
+    /// The kernels of the coordinates that move along the ray and their exact series.
+    coords: Vec<(KernelId, Series)>,
     p: usize,
     kernels: FxHashMap<KernelId, Series>,
     forms: FxHashMap<Form, Series>,
@@ -117,43 +164,22 @@ pub(super) struct Expander<'a> {
 }
 
 impl<'a> Expander<'a> {
-    /// The expander for coordinates `coords` (kernels of t, x, y, z), retarded time `u`,
-    /// direction `n`, `s = sqrt(n.n)`, at relative precision `p`.
+    /// The expander for the ray on which the coordinates `moving` (kernels) have the exact
+    /// series given; every other symbol is fixed along it. `p` is the relative precision.
     pub(super) fn new(
-        store: &mut Store,
         sampling: &'a Sampling,
-        coords: [KernelId; 4],
-        u: Form,
-        n: [Form; 3],
+        moving: Vec<(KernelId, Series)>,
         p: usize,
-    ) -> SResult<Expander<'a>> {
-        let nn = {
-            let sq: Vec<Form> = n
-                .iter()
-                .map(|&f| store.mul(f, f))
-                .collect::<Result<_, _>>()?;
-            store.sum(&sq)?
-        };
-        let s = store.root(nn, 2)?;
-        let t = Series {
-            v: -1,
-            prec: INF,
-            c: vec![s, u],
-        };
-        Ok(Expander {
+    ) -> Expander<'a> {
+        Expander {
             sampling,
-            coords: [
-                (coords[0], t),
-                (coords[1], Series::monomial(n[0], -1)),
-                (coords[2], Series::monomial(n[1], -1)),
-                (coords[3], Series::monomial(n[2], -1)),
-            ],
+            coords: moving,
             p: p.max(1),
             kernels: FxHashMap::default(),
             forms: FxHashMap::default(),
             certified: FxHashMap::default(),
             conditions: Vec::new(),
-        })
+        }
     }
 
     fn depends(&self, store: &mut Store, f: Form) -> bool {
@@ -642,7 +668,7 @@ fn inv_factorial(j: usize) -> Q {
 }
 
 /// `a * eps^k`.
-fn shift(mut a: Series, k: i64) -> Series {
+pub(super) fn shift(mut a: Series, k: i64) -> Series {
     if a.is_zero() {
         return a;
     }

@@ -160,20 +160,26 @@ fn ray_for<'a>(
     order: u32,
 ) -> Ray<'a> {
     let coords = ["t", "x", "y", "z"].map(|c| store.symbol_kernel(c));
+    let u = store.symbol(&names.u);
+    let n = std::array::from_fn(|i| store.symbol(&names.n[i]));
     Ray {
-        coords,
+        moving: series::cartesian_ray(store, coords, u, n).expect("small"),
         order,
         names,
         sampling,
         parameters: &[],
         bases: &[],
+        frame: None,
     }
 }
 
 fn names() -> RayNames {
     RayNames {
         u: "u".into(),
-        n: ["n1".into(), "n2".into(), "n3".into()],
+        n: vec!["n1".into(), "n2".into(), "n3".into()],
+        radial: None,
+        coords: ["t", "x", "y", "z"].map(String::from),
+        ranges: vec![None; 3],
     }
 }
 
@@ -186,11 +192,11 @@ fn a_direction_dependent_denominator_is_a_reported_condition() {
     let f = crate::expression(&mut st, "F(t - sqrt(x^2 + y^2 + z^2))/(x - y)^2").unwrap();
     let (names, sampling) = (names(), Sampling::default());
     let ray = ray_for(&mut st, &names, &sampling, 2);
-    let (v, _, found) = ray.component(&mut st, f);
+    let (v, _, found) = ray.component(&mut st, f, 0);
     assert_eq!(v, Verdict::Zero);
     assert_eq!(found.conditions, vec!["-n1 + n2 != 0".to_string()]);
     let g = crate::expression(&mut st, "F(t - sqrt(x^2 + y^2 + z^2))/(x^2 + y^2 + z^2)").unwrap();
-    let (v, _, found) = ray.component(&mut st, g);
+    let (v, _, found) = ray.component(&mut st, g, 0);
     assert_eq!(v, Verdict::Zero);
     assert!(found.conditions.is_empty(), "{:?}", found.conditions);
 }
@@ -203,13 +209,13 @@ fn roots_need_an_even_power_and_a_branch_condition() {
     let (names, sampling) = (names(), Sampling::default());
     let ray = ray_for(&mut st, &names, &sampling, 1);
     let f = crate::expression(&mut st, "1/sqrt(x)").unwrap();
-    let (v, _, _) = ray.component(&mut st, f);
+    let (v, _, _) = ray.component(&mut st, f, 0);
     assert!(
         matches!(&v, Verdict::Undecided(w) if w.contains("fractional power")),
         "{v:?}"
     );
     let g = crate::expression(&mut st, "1/sqrt(x^2 - y^2 + 1)").unwrap();
-    let (v, _, found) = ray.component(&mut st, g);
+    let (v, _, found) = ray.component(&mut st, g, 0);
     assert_eq!(v, Verdict::Zero);
     assert!(
         found
@@ -286,7 +292,7 @@ fn seeded_residuals_with_known_falloff_are_never_misjudged() {
         let mut st = Store::new();
         let f = crate::expression(&mut st, &text).unwrap();
         let ray = ray_for(&mut st, &names, &sampling, order);
-        let (v, residual, found) = ray.component(&mut st, f);
+        let (v, residual, found) = ray.component(&mut st, f, 0);
         let claim_true = true_order >= i64::from(order);
         if off_cone {
             assert!(
@@ -357,7 +363,7 @@ fn a_false_falloff_proof_is_caught_by_the_audit() {
         c.status = Status::Holds;
     }
     assert!(forged > 0);
-    audit::audit(&p, &mut out, &found, 3, &names, &bases);
+    audit::audit(&p, &mut out, &found, 3, &names, &bases, None);
     let report = CheckReport {
         claims: out,
         has_claims: true,
@@ -391,7 +397,7 @@ fn a_false_failing_order_is_caught_by_the_audit() {
         chosen: None,
     });
     found[lorenz][0].failing_order = Some(1);
-    audit::audit(&p, &mut out, &found, 2, &names, &bases);
+    audit::audit(&p, &mut out, &found, 2, &names, &bases, None);
     let k = &out[lorenz].components[0];
     assert!(k.audit.is_defect(), "{:?}", k.audit);
     assert!(out[lorenz].method.contains("INTERNAL DEFECT"));
@@ -420,7 +426,7 @@ fn growth_logarithms_and_exponentials() {
     ] {
         let ray = ray_for(&mut st, &names, &sampling, 1);
         let f = crate::expression(&mut st, &text).unwrap();
-        let (v, _, _) = ray.component(&mut st, f);
+        let (v, _, _) = ray.component(&mut st, f, 0);
         assert!(
             matches!(&v, Verdict::Undecided(w) if w.contains(why)),
             "{text}: {v:?}"
@@ -428,9 +434,9 @@ fn growth_logarithms_and_exponentials() {
     }
     let f = crate::expression(&mut st, &format!("log(1 + 1/{r2})")).unwrap();
     let ray = ray_for(&mut st, &names, &sampling, 2);
-    assert_eq!(ray.component(&mut st, f).0, Verdict::Zero);
+    assert_eq!(ray.component(&mut st, f, 0).0, Verdict::Zero);
     let ray = ray_for(&mut st, &names, &sampling, 3);
-    let (v, _, found) = ray.component(&mut st, f);
+    let (v, _, found) = ray.component(&mut st, f, 0);
     assert!(matches!(v, Verdict::Nonzero(_)), "{v:?}");
     assert_eq!(found.failing_order, Some(2));
 }
@@ -454,10 +460,93 @@ fn deep_cancellations_are_followed_to_the_claimed_order() {
     )
     .unwrap();
     let ray = ray_for(&mut st, &names, &sampling, 8);
-    let (v, _, _) = ray.component(&mut st, f);
+    let (v, _, _) = ray.component(&mut st, f, 0);
     assert_eq!(v, Verdict::Zero);
     let g = crate::expression(&mut st, &series.replace("LAST", "")).unwrap();
-    let (v, _, found) = ray.component(&mut st, g);
+    let (v, _, found) = ray.component(&mut st, g, 0);
     assert!(matches!(v, Verdict::Nonzero(_)), "{v:?}");
     assert_eq!(found.failing_order, Some(6));
+}
+
+/// About a background the audit evaluates the pointwise curvature chain along the radial
+/// ray and scales by the frame's weights: a proof the exact route got wrong (the failing
+/// components of the l = 2 wave at order 3 overwritten as proved) is an INTERNAL DEFECT.
+#[test]
+fn a_false_falloff_proof_about_a_background_is_caught_by_the_audit() {
+    let mut p = with_order("spherical_wave_far_zone.toml", 3);
+    let mut checked = curved::exact(&mut p, 3).expect("expanded");
+    let mut forged = 0;
+    for (c, fd) in checked.out.iter_mut().zip(checked.found.iter_mut()) {
+        for (k, f) in c.components.iter_mut().zip(fd.iter_mut()) {
+            if matches!(k.verdict, Verdict::Nonzero(_)) {
+                k.verdict = Verdict::Zero;
+                f.failing_order = None;
+                f.valid_at = vec![true; checked.bases.len()];
+                forged += 1;
+            }
+        }
+    }
+    assert!(forged > 0);
+    curved::audit_all(&p, &mut checked);
+    let report = CheckReport {
+        claims: checked.out,
+        has_claims: true,
+    };
+    assert!(report.has_defect());
+    for c in report.claims.iter().filter(|c| c.far_zone.is_some()) {
+        assert_ne!(c.status, Status::Holds, "{}", c.method);
+        assert!(c.method.contains("INTERNAL DEFECT"), "{}", c.method);
+    }
+    // The background's own equations stay exact and hold.
+    assert_eq!(report.claims[0].far_zone, None);
+    assert_eq!(report.claims[0].status, Status::Holds);
+}
+
+/// The frame's weights enter the audit: with the weight of a failing angular component
+/// forged (dG_th.th of the Schwarzschild truncation, weight 2, judged as if it were 0) the
+/// exact coefficient no longer matches rho^k times the independent value.
+#[test]
+fn a_wrong_frame_weight_is_caught_by_the_audit() {
+    let mut p = with_order("schwarzschild_mass_far_zone.toml", 6);
+    let mut checked = curved::exact(&mut p, 6).expect("expanded");
+    let field = checked
+        .out
+        .iter()
+        .position(|c| c.key == "field_equations")
+        .expect("field equations");
+    let i = checked.out[field]
+        .components
+        .iter()
+        .position(|k| k.name == "dG_th.th")
+        .expect("dG_th.th");
+    assert!(matches!(
+        checked.out[field].components[i].verdict,
+        Verdict::Nonzero(_)
+    ));
+    assert_eq!(checked.found[field][i].weight, 2);
+    assert_eq!(checked.found[field][i].failing_order, Some(5));
+    checked.found[field][i].weight = 0;
+    curved::audit_all(&p, &mut checked);
+    let k = &checked.out[field].components[i];
+    assert!(k.audit.is_defect(), "{:?}", k.audit);
+    assert!(checked.out[field].method.contains("INTERNAL DEFECT"));
+}
+
+/// The worked slow rotation about Schwarzschild (exact to first order in the spin) holds at
+/// every order: its residuals reduce to 0 identically, and the audit agrees along the ray.
+#[test]
+fn an_exact_solution_about_schwarzschild_holds_at_any_order() {
+    for n in [1, 4] {
+        let mut p = with_order("schwarzschild_slow_rotation.toml", n);
+        let report = check(&mut p);
+        assert_eq!(report.overall(), Status::Holds, "{n}: {:?}", report.claims);
+        assert!(!report.has_defect());
+        let far: Vec<_> = report
+            .claims
+            .iter()
+            .filter(|c| c.far_zone.is_some())
+            .collect();
+        assert_eq!(far.len(), 2, "{n}");
+        assert!(far.iter().all(|c| c.method.contains("e_ph = (1/r) d_ph")));
+    }
 }

@@ -198,6 +198,7 @@ pub fn run(a: GaugeArgs) -> Result<Outcome, Failure> {
             p.claims.as_ref().and_then(|c| c.pure_gauge)
         },
         far_zone_order: None,
+        far_zone_radius: None,
     };
     // The audits of h' and of box xi read xi as defines, so that each of its components is
     // evaluated once per point rather than once per derivative of it.

@@ -50,6 +50,7 @@ pub fn run(mut p: Problem, vector: &str, format: Format, label: &str) -> Result<
         gauge: Gauge::ALL.to_vec(),
         pure_gauge: None,
         far_zone_order: None,
+        far_zone_radius: None,
     };
     let report = p.with_derived(h2, (h2_text, defines), asked, true, check);
     let frame = Frame::covariant(c.clone());

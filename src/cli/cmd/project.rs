@@ -118,6 +118,7 @@ pub fn run(a: ProjectArgs) -> Result<Outcome, Failure> {
             gauge: vec![Gauge::Tt],
             pure_gauge: None,
             far_zone_order: None,
+            far_zone_radius: None,
         };
         let report = p.with_derived(
             tt4,
