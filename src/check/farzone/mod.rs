@@ -609,13 +609,23 @@ impl Ray<'_> {
     /// n != 0 (a nonzero constant times a power of n.n).
     fn condition_texts(&self, store: &mut Store, conditions: &[Condition]) -> Vec<String> {
         let mut out = Vec::new();
+        let mut kept: Vec<Form> = Vec::new();
         for &c in conditions {
-            if let Condition::NonZero(f) = c
-                && self.implied_by_direction(store, f)
-            {
-                continue;
+            if let Condition::NonZero(f) = c {
+                if self.implied_by_direction(store, f) {
+                    continue;
+                }
+                // A constant multiple of a condition already listed says nothing new: f/g
+                // proved free of every symbol (each partial derivative proved 0).
+                let same = kept
+                    .iter()
+                    .any(|&g| constant_ratio(store, f, g, self.sampling));
+                if same {
+                    continue;
+                }
+                kept.push(f);
             }
-            let text = store.to_text_summary(condition_form(c), 200);
+            let text = store.to_display_summary(condition_form(c), 200);
             out.push(match c {
                 Condition::NonZero(_) => format!("{text} != 0"),
                 Condition::OffNegativeAxis(_) => format!("{text} is not a real number <= 0"),
@@ -730,12 +740,35 @@ fn method_text(
         }
     }
     if !conditions.is_empty() {
+        let direction = if names.radial.is_some() {
+            "angles"
+        } else {
+            "direction"
+        };
         s.push_str(&format!(
-            "; valid for u, direction and parameters where {}",
+            "; valid for u, {direction} and parameters where {}",
             conditions.join(", ")
         ));
     }
     s
+}
+
+/// Whether `f / g` is proved to be a constant: every partial derivative reduces to 0 by the
+/// zero test (a proof, so a condition is never dropped on a guess).
+fn constant_ratio(store: &mut Store, f: Form, g: Form, sampling: &Sampling) -> bool {
+    let Ok(q) = store.div(f, g) else {
+        return false;
+    };
+    if store.as_constant(q).is_some() {
+        return true;
+    }
+    let names = store.free_symbols(q);
+    names.iter().all(|n| {
+        let k = store.symbol_kernel(n);
+        store
+            .diff(q, k)
+            .is_ok_and(|d| matches!(decide(store, d, sampling), Verdict::Zero))
+    })
 }
 
 #[cfg(test)]

@@ -194,7 +194,7 @@ fn a_direction_dependent_denominator_is_a_reported_condition() {
     let ray = ray_for(&mut st, &names, &sampling, 2);
     let (v, _, found) = ray.component(&mut st, f, 0);
     assert_eq!(v, Verdict::Zero);
-    assert_eq!(found.conditions, vec!["-n1 + n2 != 0".to_string()]);
+    assert_eq!(found.conditions, vec!["n2 - n1 != 0".to_string()]);
     let g = crate::expression(&mut st, "F(t - sqrt(x^2 + y^2 + z^2))/(x^2 + y^2 + z^2)").unwrap();
     let (v, _, found) = ray.component(&mut st, g, 0);
     assert_eq!(v, Verdict::Zero);
@@ -549,4 +549,24 @@ fn an_exact_solution_about_schwarzschild_holds_at_any_order() {
         assert_eq!(far.len(), 2, "{n}");
         assert!(far.iter().all(|c| c.method.contains("e_ph = (1/r) d_ph")));
     }
+}
+
+/// Conditions that are constant multiples of one another are listed once; the ratio must be
+/// proved constant (a condition depending on u through F(u), or a different power, stays).
+#[test]
+fn constant_multiples_of_a_condition_are_recognised_by_proof() {
+    let mut st = Store::new();
+    let mut form = |s: &str| {
+        let e = crate::parse::parse(s).expect("parses");
+        st.build(&e, &crate::canon::Names::free()).expect("builds")
+    };
+    let a = form("-cos(2*th)/2 + 1/2");
+    let b = form("2*cos(2*th) - 2");
+    let c = form("sin(th)");
+    let d = form("F(u)*(2*cos(2*th) - 2)");
+    let sampling = Sampling::default();
+    assert!(constant_ratio(&mut st, a, b, &sampling));
+    assert!(constant_ratio(&mut st, b, a, &sampling));
+    assert!(!constant_ratio(&mut st, a, c, &sampling));
+    assert!(!constant_ratio(&mut st, d, b, &sampling));
 }
