@@ -1226,8 +1226,9 @@ pub(super) fn parse_file(path: &str, text: &str) -> Result<ProblemFile, ProblemE
 }
 
 /// The far-zone ray's coordinates: about flat space in t, x, y, z the ray is Cartesian and
-/// takes no radius; anywhere else the radius is `far_zone_radius` or the coordinate named
-/// `r`, a coordinate other than the first (time). Errors point at the key.
+/// takes no radius (about a background in t, x, y, z too, unless `far_zone_radius` names
+/// one); anywhere else the radius is `far_zone_radius` or the coordinate named `r`, a
+/// coordinate other than the first (time). Errors point at the key.
 fn far_zone_radius(
     cx: &Cx<'_>,
     file: &ProblemFile,
@@ -1293,6 +1294,8 @@ fn far_zone_radius(
         },
         None => match coords.iter().position(|c| c == "r") {
             Some(i) if i > 0 => Ok(()),
+            // t, x, y, z: the Cartesian ray, as about flat space.
+            _ if *coords == COORDS.map(String::from) => Ok(()),
             _ => Err(cx
                 .err(
                     "`far_zone_order` about a background needs a radial coordinate, and no \

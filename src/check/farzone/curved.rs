@@ -1,6 +1,7 @@
 //! `far_zone_order` about a background: the radial ray `t = u + rho`, `r = rho` (the other
-//! two coordinates fixed), components judged in the background's orthonormal frame
-//! ([`super::frame`]).
+//! two coordinates fixed), or in t, x, y, z without a named radius the Cartesian ray
+//! `t = u + rho*sqrt(n.n)`, `(x, y, z) = rho*n` as about flat space; components judged in the
+//! background's orthonormal frame ([`super::frame`]).
 //!
 //! The residuals are the exact route's own ([`crate::check::curved::CurvedParts`]: the
 //! field residual `dG + Lambda h - 8 pi dT`, the covariant Lorenz divergence, ...), expanded
@@ -55,6 +56,13 @@ pub(super) fn exact(
         .iter()
         .position(|c| *c == radius_name)
         .filter(|&i| i > 0);
+    // In t, x, y, z without a named radius the ray is the Cartesian one, as about flat space.
+    let cartesian = radius.is_none()
+        && problem
+            .claims
+            .as_ref()
+            .is_none_or(|c| c.far_zone_radius.is_none())
+        && problem.coordinates == crate::tensor::COORDS.map(String::from);
     let sampling = problem.sampling.clone();
     let parameters = problem.parameters.clone();
     let Prepared {
@@ -68,7 +76,12 @@ pub(super) fn exact(
         .as_ref()
         .expect("a problem with a background")
         .g;
-    let Some(radius) = radius else {
+    let ray = match radius {
+        Some(radius) => Some(RayNames::radial(problem, radius)),
+        None if cartesian => Some(RayNames::of(problem)),
+        None => None,
+    };
+    let Some(names) = ray else {
         // The reader refuses this; a problem built otherwise is undecided.
         let why = format!("no coordinate `{radius_name}` other than time to grow along the ray");
         let out = plan
@@ -83,13 +96,30 @@ pub(super) fn exact(
             .collect();
         return Err((out, plan.has_claims));
     };
-    let names = RayNames::radial(problem, radius);
     let bases = audit::base_points(problem, &names);
     let store = &mut problem.store;
-    let time = store.symbol_kernel(&names.coords[0]);
-    let rk = store.symbol_kernel(&names.coords[radius]);
     let u = store.symbol(&names.u);
-    let moving = series::radial_ray(store, time, rk, u);
+    let moving = match names.radial {
+        Some((t, r)) => {
+            let time = store.symbol_kernel(&names.coords[t]);
+            let rk = store.symbol_kernel(&names.coords[r]);
+            series::radial_ray(store, time, rk, u)
+        }
+        None => {
+            let coords = std::array::from_fn(|i| store.symbol_kernel(&names.coords[i]));
+            let n = std::array::from_fn(|i| store.symbol(&names.n[i]));
+            match series::cartesian_ray(store, coords, u, n) {
+                Ok(m) => m,
+                Err(e) => {
+                    let out = plan
+                        .claims
+                        .iter()
+                        .map(|&c| far(limit_report(c, e.clone()), order));
+                    return Err((out.collect(), plan.has_claims));
+                }
+            }
+        }
+    };
     let frame = Frame::of(store, &sampling, &moving, &background, &names);
     let ray = Ray {
         moving,

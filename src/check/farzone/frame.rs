@@ -50,6 +50,8 @@ pub(super) struct Frame {
     pub conditions: Vec<Condition>,
     coords: [String; 4],
     radius: String,
+    /// On the Cartesian ray (every weight 0).
+    cartesian: bool,
 }
 
 /// Relative precisions tried for the background's components.
@@ -84,7 +86,14 @@ impl Frame {
         p: usize,
     ) -> Result<Frame, Stop> {
         let coords = &names.coords;
+        // On the Cartesian ray every coordinate moves with rho: all weights must be 0.
+        let cartesian = names.radial.is_none();
         let (time, radius) = names.radial.unwrap_or((0, 1));
+        let radius_name = if cartesian {
+            "r".to_string()
+        } else {
+            coords[radius].clone()
+        };
         let mut ex = Expander::new(sampling, moving.to_vec(), p);
         let mut weights = [0i64; 4];
         let mut leading = Vec::new();
@@ -123,18 +132,18 @@ impl Frame {
                     "{} behaves as {} far out, so sqrt(|{}|) is not a whole nonnegative power \
                      of {}",
                     key(a, a),
-                    power(&coords[radius], -v),
+                    power(&radius_name, -v),
                     key(a, a),
-                    coords[radius]
+                    radius_name
                 )));
             }
             weights[a] = -v / 2;
-            if (a == time || a == radius) && weights[a] != 0 {
+            if (cartesian || a == time || a == radius) && weights[a] != 0 {
                 return Err(undecided(format!(
                     "{} grows like {} far out, so the background does not approach flat space \
                      (it must tend to a nonzero constant)",
                     key(a, a),
-                    power(&coords[radius], -v)
+                    power(&radius_name, -v)
                 )));
             }
             if store.as_constant(c0).is_none() {
@@ -151,7 +160,7 @@ impl Frame {
                          the diagonal's powers of {} it does not vanish far out), so the \
                          diagonal does not fix the orthonormal frame's scaling",
                         key(a, b),
-                        coords[radius]
+                        radius_name
                     )));
                 }
             }
@@ -166,7 +175,8 @@ impl Frame {
             weights,
             conditions,
             coords: coords.clone(),
-            radius: coords[radius].clone(),
+            radius: radius_name,
+            cartesian,
         })
     }
 
@@ -202,8 +212,13 @@ impl Frame {
                 w => format!("e_{c} = (1/{}) d_{c}", self.power_text(w)),
             })
             .collect();
+        let of = if self.cartesian {
+            "the direction"
+        } else {
+            "the angles"
+        };
         format!(
-            "{} (orthonormal up to factors tending to functions of the angles)",
+            "{} (orthonormal up to factors tending to functions of {of})",
             each.join(", ")
         )
     }
@@ -307,6 +322,7 @@ mod tests {
             conditions: Vec::new(),
             coords: ["t", "r", "th", "ph"].map(String::from),
             radius: "r".into(),
+            cartesian: false,
         };
         let field = |mu, nu| Part::CurvedFieldEquation {
             mu,
