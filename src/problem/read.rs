@@ -71,7 +71,7 @@ pub(super) const MIN_POINTS: usize = 5;
 
 const RADIUS_HELP: &str = "name the coordinate that grows along the far-zone ray (the radius \
     of spherical-type coordinates), e.g. `far_zone_radius = 'R'`; without the key it is the \
-    coordinate named `r`";
+    coordinate named `r` (in t, x, y, z the ray is Cartesian and needs no radius)";
 
 const PARAMETER_HELP: &str = "a parameter's value is its typical size for numeric checks, \
                               e.g. `A = 1.0e-3` or `k = '3/5'`";
