@@ -16,9 +16,6 @@ use lingrav::expr::Evaluator;
 use lingrav::interval::{CInterval, Interval};
 use lingrav::zero::SplitMix64;
 use serde_json::json;
-use std::io::Write as _;
-use std::path::Path;
-use std::process::Command;
 
 const DEFAULT_SEED: u64 = 0xa7a2_2014;
 
@@ -98,36 +95,17 @@ fn atan2_and_abs_agree_with_mpmath() {
         "too many points skipped ({skipped}): the check would say little"
     );
 
-    let python = std::env::var("LINGRAV_PYTHON").unwrap_or_else(|_| "python3".into());
-    if let Some(why) = crate::support::python_missing(&python, "mpmath") {
-        if crate::support::in_ci() {
-            panic!("CI is set, so the mpmath check must run, but {why} (pip install mpmath)");
-        }
-        println!("skipped: atan2 mpmath check: {why}");
-        return;
-    }
     let dir = tempfile::tempdir().expect("a temporary directory");
     let path = dir.path().join("atan2.jsonl");
-    {
-        let mut file = std::io::BufWriter::new(std::fs::File::create(&path).expect("create"));
-        for r in &records {
-            writeln!(file, "{r}").expect("write the cases");
-        }
-        file.flush().expect("write the cases");
-    }
-    let script = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/mpmath/atan2_check.py");
-    let out = Command::new(&python)
-        .arg(&script)
-        .arg(&path)
-        .output()
-        .expect("run the mpmath script");
-    let stdout = String::from_utf8_lossy(&out.stdout);
-    print!("{stdout}");
-    eprint!("{}", String::from_utf8_lossy(&out.stderr));
-    assert!(
-        out.status.success(),
-        "the mpmath check failed: see its output above"
-    );
+    crate::support::write_jsonl(&path, &records);
+    let Some(stdout) = crate::support::outside_check(
+        "atan2 mpmath check",
+        "mpmath",
+        "tests/mpmath/atan2_check.py",
+        &[path.as_os_str()],
+    ) else {
+        return;
+    };
     let summary = stdout
         .lines()
         .find_map(|l| l.strip_prefix("mpmath atan2 check: "))

@@ -13,9 +13,6 @@
 use lingrav::interval::{CInterval, Interval};
 use lingrav::zero::SplitMix64;
 use serde_json::json;
-use std::io::Write as _;
-use std::path::Path;
-use std::process::Command;
 
 const DEFAULT_SEED: u64 = 0xa7a2_2026;
 
@@ -63,37 +60,18 @@ fn atan_and_abs_enclosures_contain_mpmath_values() {
     );
     assert!(off.atan().is_none());
 
-    let python = std::env::var("LINGRAV_PYTHON").unwrap_or_else(|_| "python3".into());
-    if let Some(why) = crate::support::python_missing(&python, "mpmath") {
-        if crate::support::in_ci() {
-            panic!("CI is set, so the mpmath check must run, but {why} (pip install mpmath)");
-        }
-        println!("skipped: atan mpmath check: {why}");
-        return;
-    }
     let dir = tempfile::tempdir().expect("a temporary directory");
     let path = dir.path().join("atan.jsonl");
-    {
-        let mut file = std::io::BufWriter::new(std::fs::File::create(&path).expect("create"));
-        for r in &records {
-            writeln!(file, "{r}").expect("write the cases");
-        }
-        file.flush().expect("write the cases");
-    }
-    let script = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/mpmath/atan_check.py");
-    let out = Command::new(&python)
-        .arg(&script)
-        .arg(&path)
-        .arg(seed.to_string())
-        .output()
-        .expect("run the mpmath script");
-    let stdout = String::from_utf8_lossy(&out.stdout);
-    print!("{stdout}");
-    eprint!("{}", String::from_utf8_lossy(&out.stderr));
-    assert!(
-        out.status.success(),
-        "the mpmath check failed: see its output above"
-    );
+    crate::support::write_jsonl(&path, &records);
+    let seed_arg = seed.to_string();
+    let Some(stdout) = crate::support::outside_check(
+        "atan mpmath check",
+        "mpmath",
+        "tests/mpmath/atan_check.py",
+        &[path.as_os_str(), seed_arg.as_ref()],
+    ) else {
+        return;
+    };
     let summary = stdout
         .lines()
         .find_map(|l| l.strip_prefix("mpmath atan check: "))

@@ -9,8 +9,6 @@
 //! where it fails. `LINGRAV_PYTHON` names the interpreter.
 
 use std::io::Write as _;
-use std::path::Path;
-use std::process::Command;
 
 /// One binary: label, m1, m2, a, e, the mass unit in msun, the distance, `--at`.
 struct Case {
@@ -64,7 +62,6 @@ const CASES: [Case; 4] = [
 
 #[test]
 fn si_numbers_agree_with_mpmath() {
-    let python = crate::support::python();
     let dir = tempfile::tempdir().unwrap();
     let lines_path = dir.path().join("cases.jsonl");
     let mut lines = std::fs::File::create(&lines_path).unwrap();
@@ -113,27 +110,14 @@ fn si_numbers_agree_with_mpmath() {
         writeln!(lines, "{case}").unwrap();
     }
     drop(lines);
-    if let Some(why) = crate::support::python_missing(&python, "mpmath") {
-        assert!(
-            !crate::support::in_ci(),
-            "CI is set, so the mpmath SI check must run, but {why} (pip install mpmath)"
-        );
-        println!("skipped: mpmath SI radiation check: {why}");
+    let Some(stdout) = crate::support::outside_check(
+        "mpmath SI radiation check",
+        "mpmath",
+        "tests/mpmath/radiation_si_check.py",
+        &[lines_path.as_os_str()],
+    ) else {
         return;
-    }
-    let script = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/mpmath/radiation_si_check.py");
-    let out = Command::new(&python)
-        .arg(&script)
-        .arg(&lines_path)
-        .output()
-        .unwrap();
-    let stdout = String::from_utf8_lossy(&out.stdout);
-    println!("{stdout}");
-    assert!(
-        out.status.success(),
-        "the mpmath check failed:\n{stdout}\n{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    };
     // Every case was judged: <L> and <dJ_z/dt> each, and P or f_gw.
     assert!(stdout.lines().filter(|l| l.starts_with("ok ")).count() >= 3 * CASES.len());
 }

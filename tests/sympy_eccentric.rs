@@ -9,8 +9,6 @@
 //! CI, where it fails. `LINGRAV_PYTHON` names the interpreter.
 
 use std::io::Write as _;
-use std::path::Path;
-use std::process::Command;
 
 /// The cases: file text (or a worked file), and what the script needs to rebuild the orbit.
 struct Case {
@@ -23,7 +21,6 @@ struct Case {
 
 #[test]
 fn eccentric_radiation_agrees_with_sympy() {
-    let python = std::env::var("LINGRAV_PYTHON").unwrap_or_else(|_| "python3".into());
     let dir = tempfile::tempdir().unwrap();
     let worked = std::fs::read_to_string(crate::support::worked("eccentric_binary.toml")).unwrap();
     let cases = [
@@ -88,27 +85,14 @@ fn eccentric_radiation_agrees_with_sympy() {
         writeln!(lines, "{line}").unwrap();
     }
     drop(lines);
-    if let Some(why) = crate::support::python_missing(&python, "sympy, mpmath") {
-        assert!(
-            !crate::support::in_ci(),
-            "CI is set, so the SymPy eccentric check must run, but {why} (pip install sympy mpmath)"
-        );
-        println!("skipped: sympy eccentric radiation check: {why}");
+    let Some(stdout) = crate::support::outside_check(
+        "SymPy eccentric radiation check",
+        "sympy, mpmath",
+        "tests/sympy/eccentric_check.py",
+        &[lines_path.as_os_str()],
+    ) else {
         return;
-    }
-    let script = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/sympy/eccentric_check.py");
-    let out = Command::new(&python)
-        .arg(&script)
-        .arg(&lines_path)
-        .output()
-        .expect("run the SymPy script");
-    let stdout = String::from_utf8_lossy(&out.stdout);
-    print!("{stdout}");
-    eprint!("{}", String::from_utf8_lossy(&out.stderr));
-    assert!(
-        out.status.success(),
-        "the SymPy eccentric check failed: see above"
-    );
+    };
     // 2 cases x (3 quantities x 4 anomalies + 2 averages).
     assert!(
         stdout.contains("28 comparisons, 0 disagreements"),

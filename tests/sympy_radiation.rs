@@ -14,8 +14,6 @@
 
 use lingrav::zero::SplitMix64;
 use std::io::Write as _;
-use std::path::Path;
-use std::process::Command;
 
 const SEED: u64 = 0x5ad1_a7e5_2026;
 const CASES: usize = 6;
@@ -57,7 +55,6 @@ fn expressions(j: &serde_json::Value) -> serde_json::Map<String, serde_json::Val
 
 #[test]
 fn radiation_agrees_with_sympy() {
-    let python = std::env::var("LINGRAV_PYTHON").unwrap_or_else(|_| "python3".into());
     let dir = tempfile::tempdir().unwrap();
     let lines_path = dir.path().join("cases.jsonl");
     let mut lines = std::fs::File::create(&lines_path).unwrap();
@@ -132,27 +129,14 @@ fn radiation_agrees_with_sympy() {
     });
     writeln!(lines, "{line}").unwrap();
     drop(lines);
-    if let Some(why) = crate::support::python_missing(&python, "sympy, mpmath") {
-        assert!(
-            !crate::support::in_ci(),
-            "CI is set, so the SymPy radiation check must run, but {why} (pip install sympy mpmath)"
-        );
-        println!("skipped: sympy radiation check: {why}");
+    let Some(stdout) = crate::support::outside_check(
+        "SymPy radiation check",
+        "sympy, mpmath",
+        "tests/sympy/radiation_check.py",
+        &[lines_path.as_os_str()],
+    ) else {
         return;
-    }
-    let script = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/sympy/radiation_check.py");
-    let out = Command::new(&python)
-        .arg(&script)
-        .arg(&lines_path)
-        .output()
-        .expect("run the SymPy script");
-    let stdout = String::from_utf8_lossy(&out.stdout);
-    print!("{stdout}");
-    eprint!("{}", String::from_utf8_lossy(&out.stderr));
-    assert!(
-        out.status.success(),
-        "the SymPy radiation check failed: see above"
-    );
+    };
     assert!(
         stdout.contains(&format!(
             "{} cases, {} quantities, 0 disagreements",

@@ -165,3 +165,49 @@ pub fn crc32(bytes: &[u8]) -> String {
     }
     format!("crc32:{:08x}", !c)
 }
+
+/// Runs an outside-check script (`script`, a path under the crate root) with `args` under
+/// [`python`], after checking that Python imports `modules`. Outside CI a missing Python or
+/// library skips the check (says so, returns `None`); under CI it is a failure. The script's
+/// output is echoed, it must exit 0, and its standard output is returned for the caller's
+/// own assertions. `what` names the check in messages.
+pub fn outside_check(
+    what: &str,
+    modules: &str,
+    script: &str,
+    args: &[&std::ffi::OsStr],
+) -> Option<String> {
+    let python = python();
+    if let Some(why) = python_missing(&python, modules) {
+        let pip = modules.replace(',', "");
+        assert!(
+            !in_ci(),
+            "CI is set, so the {what} must run, but {why} (pip install {pip})"
+        );
+        println!("skipped: {what}: {why}");
+        return None;
+    }
+    let out = Command::new(&python)
+        .arg(Path::new(env!("CARGO_MANIFEST_DIR")).join(script))
+        .args(args)
+        .output()
+        .unwrap_or_else(|e| panic!("run the {what} ({script}): {e}"));
+    let stdout = String::from_utf8_lossy(&out.stdout).into_owned();
+    print!("{stdout}");
+    eprint!("{}", String::from_utf8_lossy(&out.stderr));
+    assert!(
+        out.status.success(),
+        "the {what} failed: see its output above"
+    );
+    Some(stdout)
+}
+
+/// Writes `records` to `path`, one JSON value per line (the outside checks' case files).
+pub fn write_jsonl(path: &Path, records: &[serde_json::Value]) {
+    use std::io::Write as _;
+    let mut file = std::io::BufWriter::new(std::fs::File::create(path).expect("create"));
+    for r in records {
+        writeln!(file, "{r}").expect("write the cases");
+    }
+    file.flush().expect("write the cases");
+}
