@@ -3,9 +3,10 @@
 //! multiprecision balls, and their falloff compared with the verdict. About a background the
 //! components come from the `pointwise` curvature chain of gbar + eps h over dual numbers
 //! (`Audit::components_in`, the curved audit's route, sharing only the parser with the exact
-//! one) at the radial ray's points `t = u + rho`, `r = rho`, and each is multiplied by
-//! `rho^-w`, the frame weight the exact route used (`Found::weight`), so both judge the same
-//! quantity; "component" below means the scaled one.
+//! one) at the ray's points (`t = u + rho`, `r = rho`, or the Cartesian ray in t, x, y, z),
+//! and each is multiplied by `rho^-w`, the frame weight the exact route used
+//! (`Found::weight`), so both judge the same quantity; "component" below means the scaled
+//! one.
 //!
 //! - *O(1/r^n) proved*: at each seeded ray (retarded time, direction, parameters) where the
 //!   exact route's conditions are certified, `g(rho) = rho^n |component|` at rho = 1e6, 1e8,
