@@ -466,7 +466,8 @@ impl Part {
     /// (Cartesian coordinates, partial derivatives).
     #[must_use]
     pub fn name(self) -> String {
-        self.name_in(&Frame::cartesian())
+        static CARTESIAN: std::sync::OnceLock<Frame> = std::sync::OnceLock::new();
+        self.name_in(CARTESIAN.get_or_init(Frame::cartesian))
     }
 
     /// The component's name in `frame`'s coordinates and derivatives.

@@ -84,8 +84,9 @@ pub struct AuditClaim {
 /// How the audit computes a component.
 #[derive(Clone, Debug)]
 enum Formula {
-    /// Flat problems: a combination of derivatives of h and T (coefficient, atom).
-    Combo(Vec<(Coef, Atom)>),
+    /// Flat problems: a combination of derivatives of h and T (coefficient, index of the
+    /// atom in [`Audit`]'s list of distinct atoms, each evaluated once per point).
+    Combo(Vec<(Coef, usize)>),
     /// About a background: a part of [`crate::pointwise::Quantities`].
     Curved(Part),
 }
@@ -128,6 +129,8 @@ pub struct Audit {
     extras: Vec<usize>,
     parameters: Vec<(String, f64)>,
     claims: Vec<AuditClaim>,
+    /// The distinct atoms of the flat claims' formulas ([`Formula::Combo`] indexes them).
+    atoms: Vec<Atom>,
     /// The coordinate names, time first.
     coords: [String; 4],
     /// The background's roots, for a problem about one.
@@ -212,16 +215,28 @@ pub(crate) fn claim_terms(
 
 /// The claims of the problem with enclosed coefficients, named as the exact check names
 /// them.
-fn audit_claims(problem: &Texts) -> Result<Vec<AuditClaim>, AuditError> {
+/// With them, the distinct atoms their formulas use (indexed by [`Formula::Combo`]).
+fn audit_claims(problem: &Texts) -> Result<(Vec<AuditClaim>, Vec<Atom>), AuditError> {
     if let Some(bg) = &problem.curved {
-        return Ok(curved_claims(problem, bg));
+        return Ok((curved_claims(problem, bg), Vec::new()));
     }
     let specs = claim_specs(problem.claims.as_ref(), problem.has_source);
     let mut out = Vec::new();
+    let mut atoms: Vec<Atom> = Vec::new();
+    let mut index: FxHashMap<Atom, usize> = FxHashMap::default();
     for spec in specs {
         let mut components = Vec::new();
         for (name, combo) in spec.components {
-            let terms = claim_terms(&name, &combo)?;
+            let terms = claim_terms(&name, &combo)?
+                .into_iter()
+                .map(|(c, a)| {
+                    let i = *index.entry(a).or_insert_with(|| {
+                        atoms.push(a);
+                        atoms.len() - 1
+                    });
+                    (c, i)
+                })
+                .collect();
             components.push((name, Formula::Combo(terms)));
         }
         out.push(AuditClaim {
@@ -230,7 +245,7 @@ fn audit_claims(problem: &Texts) -> Result<Vec<AuditClaim>, AuditError> {
             components,
         });
     }
-    Ok(out)
+    Ok((out, atoms))
 }
 
 /// The claims about a background: every claim the exact route may report (pure gauge both by
@@ -346,7 +361,7 @@ impl Audit {
     /// As [`Audit::new`].
     pub fn of_texts(texts: &Texts) -> Result<Audit, AuditError> {
         let mut audit = Audit::fields_of(texts, H_ORDER, &[], &[])?;
-        audit.claims = audit_claims(texts)?;
+        (audit.claims, audit.atoms) = audit_claims(texts)?;
         Ok(audit)
     }
 
@@ -456,6 +471,7 @@ impl Audit {
             extras: extra_roots,
             parameters: problem.parameters.clone(),
             claims: Vec::new(),
+            atoms: Vec::new(),
             coords: problem.coordinates.clone(),
             background,
             domain: problem.curved.as_ref().map_or([None; 4], |b| b.domain),
@@ -612,7 +628,8 @@ impl Audit {
         ctx: &S::Ctx,
     ) -> Result<Vec<ComponentValue>, AuditError> {
         let fields = self.fields_in::<N, S>(point, ctx)?;
-        let mut cache: FxHashMap<Atom, Option<S>> = FxHashMap::default();
+        // Every distinct atom once, in the order of first use.
+        let atoms: Vec<Option<S>> = self.atoms.iter().map(|a| fields.atom(a)).collect();
         // About a background: every quantity at once, by the pointwise route.
         let quantities = match &fields.background {
             Some(_) => fields.curved_quantities(ctx, self.curved_needs()),
@@ -624,11 +641,8 @@ impl Audit {
                 let acc = match formula {
                     Formula::Combo(terms) => {
                         let mut acc = Some(S::zero());
-                        for (c, atom) in terms {
-                            let v = cache
-                                .entry(*atom)
-                                .or_insert_with(|| fields.atom(atom))
-                                .clone();
+                        for &(c, i) in terms {
+                            let v = atoms[i].as_ref();
                             acc = acc.and_then(|a| a.add(&v?.mul(&c.enclose::<S>(ctx)?)?));
                         }
                         acc
@@ -837,11 +851,19 @@ impl<S: Scalar> Comp<S> {
             Comp::Zero => Some(S::zero()),
             Comp::NotHere => None,
             Comp::Jet(j) => {
-                let mut exps = vec![0u8; j.space().vars()];
+                let vars = j.space().vars();
+                let mut small = [0u8; 8];
+                let mut large = Vec::new();
+                let exps: &mut [u8] = if vars <= small.len() {
+                    &mut small[..vars]
+                } else {
+                    large.resize(vars, 0);
+                    &mut large
+                };
                 for &a in d {
                     exps[a] += 1;
                 }
-                j.partial(&exps, ctx)
+                j.partial(exps, ctx)
             }
         }
     }

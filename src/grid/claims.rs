@@ -159,7 +159,14 @@ fn d2(a: usize, b: usize) -> Deriv {
     Deriv::D2(a as u8, b as u8)
 }
 
-fn ricci() -> [[Combo; 4]; 4] {
+/// The linearized Ricci tensor's combinations, built once (every field-equation part uses
+/// them).
+fn ricci() -> &'static [[Combo; 4]; 4] {
+    static RICCI: std::sync::OnceLock<[[Combo; 4]; 4]> = std::sync::OnceLock::new();
+    RICCI.get_or_init(build_ricci)
+}
+
+fn build_ricci() -> [[Combo; 4]; 4] {
     let mut r: [[Combo; 4]; 4] = Default::default();
     for m in 0..4 {
         for n in m..4 {
