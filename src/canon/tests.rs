@@ -378,6 +378,31 @@ fn display_keeps_trig_products() {
     assert!(st.to_text(f).contains("sin(x + y)"), "{}", st.to_text(f));
 }
 
+/// A polynomial in the sines and cosines of two angles whose canonical form has more
+/// than a dozen combined angles (2*ph - 3*th, 2*ph + 5*th, ...) still prints as products
+/// of sines and cosines of the two angles, and reads back to the same form.
+#[test]
+fn display_trig_products_with_many_combined_angles() {
+    let mut st = Store::new();
+    st.set_display_names(Some(Naming::default()));
+    let input = "8*M*t^2*cos(th)^3*sin(ph)^2*sin(th)^2/r^2 + 2*r^2*t^2*cos(th)^2*sin(ph)^2*sin(th) \
+                 - 8*r*t^2*cos(ph)*cos(th)^2*sin(ph) + 4*r*t*cos(th)^3*sin(th) + 2*sin(ph)*sin(th)^2";
+    let f = form(&mut st, input);
+    let canonical = st.to_text(f);
+    assert!(
+        canonical.contains("5*th") && canonical.contains("2*ph - 3*th"),
+        "the canonical form combines the angles: {canonical}"
+    );
+    let text = st.to_display_text(f);
+    for combined in ["th)", "ph)"] {
+        assert!(text.contains(combined), "{text}");
+    }
+    for combined in ["*th", "*ph", "ph +", "ph -", "th +", "th -"] {
+        assert!(!text.contains(combined), "{combined} in {text}");
+    }
+    assert_eq!(form(&mut st, &text), f, "{text} reads back");
+}
+
 /// Seeded random trigonometric polynomials in two or three angles (with other factors and a
 /// real exponential): the display text always reads back to the same canonical form.
 #[test]

@@ -28,8 +28,12 @@ use std::collections::BTreeMap;
 /// A real angle as a sparse rational vector over the monomials of its numerator.
 type Angle = BTreeMap<MonoId, Q>;
 
-/// At most this many distinct angles are combined (pairs of them are candidates).
-const MAX_ANGLES: usize = 12;
+/// At most this many distinct angles are written in a few generators.
+const MAX_ANGLES: usize = 64;
+/// Half sums and differences are candidate generators only for pairs among this many of
+/// the angles with the fewest terms (the generators of many combined angles are usually
+/// among the simplest of them, or their half sums).
+const MAX_PAIRED: usize = 12;
 /// At most this multiple of one angle, and this total degree, per term.
 const MAX_MULTIPLE: u32 = 8;
 const MAX_DEGREE: u32 = 12;
@@ -297,11 +301,15 @@ impl Store {
         for a in &angles {
             push(a.clone(), 0, &mut cands);
         }
-        for i in 0..angles.len() {
-            for j in i + 1..angles.len() {
+        // The angles with the fewest terms, in order of appearance among equals.
+        let mut simplest: Vec<&Angle> = angles.iter().collect();
+        simplest.sort_by_key(|a| a.len());
+        simplest.truncate(MAX_PAIRED);
+        for i in 0..simplest.len() {
+            for j in i + 1..simplest.len() {
                 for sign in [1, -1] {
                     push(
-                        scaled(&combined(&angles[i], &angles[j], sign), &half),
+                        scaled(&combined(simplest[i], simplest[j], sign), &half),
                         1,
                         &mut cands,
                     );
