@@ -20,7 +20,8 @@
 
 mod trig;
 
-use super::{Coeff, Form, Kernel, KernelId, MonoId, Rat, Store};
+use super::{Coeff, Form, Kernel, KernelId, MonoId, Q, Rat, Store};
+use num_traits::Signed as _;
 use rustc_hash::FxHashMap;
 use std::fmt::Write as _;
 use std::rc::Rc;
@@ -235,12 +236,20 @@ impl Store {
                     continue;
                 }
             }
-            let first = match self.pretty_poly(&p, &Coeff::one()) {
-                Pretty::Sum(ts) => ts.first().map(leading_num).unwrap_or_else(Coeff::one),
-                t => leading_num(&t),
+            let printed: Vec<Coeff> = match self.pretty_poly(&p, &Coeff::one()) {
+                Pretty::Sum(ts) => ts.iter().map(leading_num).collect(),
+                t => vec![leading_num(&t)],
             };
+            let first = printed.first().cloned().unwrap_or_else(Coeff::one);
             let u = if first.is_zero() { Coeff::one() } else { first };
-            let uinv = u.inv().unwrap_or_else(Coeff::one);
+            // Printed coefficients all rational: the factor with coprime integer
+            // coefficients and its first printed term positive (`2*M - r`, not
+            // `M - r/2`); otherwise the first printed term's coefficient is made one.
+            let uinv = match (primitive_scale(&printed), u.as_rational()) {
+                (Some(m), Some(q)) if q.is_negative() => m.neg(),
+                (Some(m), Some(_)) => m,
+                _ => u.inv().unwrap_or_else(Coeff::one),
+            };
             for _ in 0..*e {
                 scale = scale.mul(&uinv);
             }
@@ -1008,6 +1017,24 @@ fn degree(p: &Pretty) -> u32 {
         Pretty::Pow(_, n) => *n,
         _ => 1,
     }
+}
+
+/// `l / g` for rational coefficients, `l` the least common multiple of their denominators
+/// and `g` the greatest common divisor of their numerators: the positive rational that
+/// makes them coprime integers. `None` if one is not rational (or all are zero).
+fn primitive_scale(coeffs: &[Coeff]) -> Option<Coeff> {
+    use num_integer::Integer;
+    let mut l = num_bigint::BigInt::from(1);
+    let mut g = num_bigint::BigInt::from(0);
+    for c in coeffs {
+        let q = c.as_rational()?;
+        l = l.lcm(q.denom());
+        g = g.gcd(q.numer());
+    }
+    if g == num_bigint::BigInt::from(0) {
+        return None;
+    }
+    Some(Coeff::rational(Q::new(l, g)))
 }
 
 fn leading_num(t: &Pretty) -> Coeff {

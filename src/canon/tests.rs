@@ -378,6 +378,25 @@ fn display_keeps_trig_products() {
     assert!(st.to_text(f).contains("sin(x + y)"), "{}", st.to_text(f));
 }
 
+/// A denominator factor with rational coefficients prints with coprime integer
+/// coefficients (`2*M - r`, not `M - r/2`), its first term positive, and reads back.
+#[test]
+fn display_denominators_with_integer_coefficients() {
+    let mut st = Store::new();
+    st.set_display_names(Some(Naming::default()));
+    for (input, shown) in [
+        ("1/(1 - 2*M/r)", "-r/(2*M - r)"),
+        ("x/(a/3 + b/2)", "6*x/(2*a + 3*b)"),
+        ("x/(r - 2*M)^2", "x/(2*M - r)^2"),
+        ("x/(4*a + 6*b)", "x/(2*(2*a + 3*b))"),
+    ] {
+        let f = form(&mut st, input);
+        let text = st.to_display_text(f);
+        assert_eq!(text, shown, "{input}");
+        assert_eq!(form(&mut st, &text), f, "{input} read back from {text}");
+    }
+}
+
 /// A polynomial in the sines and cosines of two angles whose canonical form has more
 /// than a dozen combined angles (2*ph - 3*th, 2*ph + 5*th, ...) still prints as products
 /// of sines and cosines of the two angles, and reads back to the same form.

@@ -266,6 +266,22 @@ fn word(c: &ClaimResult, has_claims: bool) -> String {
     }
 }
 
+/// A coordinate as a person would write it: the shortest decimal within 1e-12 of `v`
+/// relative (a midpoint (0.2 + 2.9)/2 reads 1.55, not 1.5499999999999998).
+fn coord(v: f64) -> String {
+    if v == 0.0 || !v.is_finite() {
+        return format!("{v}");
+    }
+    for digits in 1..17 {
+        if let Ok(r) = format!("{:.*e}", digits - 1, v).parse::<f64>()
+            && (r - v).abs() <= 1e-12 * v.abs()
+        {
+            return format!("{r}");
+        }
+    }
+    format!("{v}")
+}
+
 fn num(v: f64) -> String {
     if v == 0.0 {
         "0".into()
@@ -313,11 +329,11 @@ fn render_text(label: &str, name: Option<&str>, r: &GridReport, defaults: &[&str
         s,
         "  box: centre ({}) = ({}, {}, {}, {}), side {}; {} points per side",
         r.coordinates.join(", "),
-        s0.center[0],
-        s0.center[1],
-        s0.center[2],
-        s0.center[3],
-        s0.width,
+        coord(s0.center[0]),
+        coord(s0.center[1]),
+        coord(s0.center[2]),
+        coord(s0.center[3]),
+        coord(s0.width),
         pts.join(", ")
     );
     let _ = writeln!(
@@ -490,4 +506,20 @@ fn render_json(label: &str, name: Option<&str>, r: &GridReport, defaults: &[&str
         j["grid"]["coordinates"] = serde_json::json!(r.coordinates);
     }
     json(&j)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::coord;
+
+    #[test]
+    fn coordinates_print_as_written() {
+        assert_eq!(coord((0.2 + 2.9) / 2.0), "1.55");
+        assert_eq!(coord(21.5), "21.5");
+        assert_eq!(coord(0.3), "0.3");
+        assert_eq!(coord(-4.0), "-4");
+        assert_eq!(coord(0.0), "0");
+        assert_eq!(coord(1.0 / 3.0), "0.333333333333");
+        assert_eq!(coord(2.5e-9), "0.0000000025");
+    }
 }
