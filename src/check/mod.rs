@@ -135,6 +135,9 @@ pub struct ClaimReport {
     /// `Some(n)` when the claim was checked as "every component is O(1/r^n) at fixed
     /// retarded time" (`far_zone_order = n`), not as "every component is 0".
     pub far_zone: Option<u32>,
+    /// The radius of a far-zone check as the headings name it (`r` unless the file's
+    /// `far_zone_radius` names another coordinate).
+    pub far_zone_radius: String,
 }
 
 impl ClaimReport {
@@ -155,6 +158,7 @@ impl ClaimReport {
             method,
             components,
             far_zone: None,
+            far_zone_radius: "r".into(),
         }
     }
 
@@ -169,7 +173,7 @@ impl ClaimReport {
     #[must_use]
     pub fn display_heading(&self) -> String {
         match self.far_zone {
-            Some(n) => format!("{} up to O(1/r^{n})", self.heading()),
+            Some(n) => format!("{} up to O(1/{}^{n})", self.heading(), self.far_zone_radius),
             None => self.heading().to_string(),
         }
     }

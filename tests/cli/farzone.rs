@@ -288,6 +288,10 @@ fn far_zone_radius_names_another_radial_coordinate() {
         "{out}"
     );
     assert!(out.contains("e_th = (1/R) d_th"), "{out}");
+    // Headings and counts name the file's radius.
+    assert!(out.contains("up to O(1/R^2)"), "{out}");
+    assert!(out.contains("components O(1/R^2)"), "{out}");
+    assert!(!out.contains("O(1/r^"), "{out}");
 }
 
 /// The worked l = 2 wave: O(1/r^2) in the orthonormal frame holds, with the frame named in

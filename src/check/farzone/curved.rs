@@ -20,13 +20,24 @@ use crate::problem::Problem;
 /// Checks every claim of a problem about a background at far-zone order `order`, then
 /// audits the verdicts.
 pub(super) fn check(problem: &mut Problem, order: u32) -> (Vec<ClaimReport>, bool) {
-    match exact(problem, order) {
+    let radius = problem
+        .claims
+        .as_ref()
+        .and_then(|c| c.far_zone_radius.clone());
+    let (mut out, has_claims) = match exact(problem, order) {
         Ok(mut checked) => {
             audit_all(problem, &mut checked);
             (checked.out, checked.has_claims)
         }
         Err(early) => early,
+    };
+    // Headings name the file's radius: "up to O(1/R^2)".
+    if let Some(name) = radius {
+        for r in out.iter_mut().filter(|r| r.far_zone.is_some()) {
+            r.far_zone_radius.clone_from(&name);
+        }
     }
+    (out, has_claims)
 }
 
 /// The exact route's reports, before the audit, with what the audit needs.

@@ -145,6 +145,15 @@ impl RayNames {
         names
     }
 
+    /// The radius as reports name it: the radial coordinate, or `r` (= |x|) on the
+    /// Cartesian ray.
+    fn radius_text(&self) -> &str {
+        match self.radial {
+            Some((_, r)) => &self.coords[r],
+            None => "r",
+        }
+    }
+
     /// How the ray is parametrised, for reports.
     fn ray_text(&self) -> String {
         match self.radial {
@@ -721,10 +730,11 @@ fn method_text(
         .collect();
     conditions.sort_unstable();
     conditions.dedup();
+    let r = names.radius_text();
     let mut s = format!(
-        "far zone, expanded in 1/rho {}: {zero} of {n} components O(1/r^{order}) (every \
+        "far zone, expanded in 1/rho {}: {zero} of {n} components O(1/{r}^{order}) (every \
          coefficient of 1/rho^k, k < {order}, reduces to 0), {nonzero} certified not \
-         O(1/r^{order}), {undecided} undecided",
+         O(1/{r}^{order}), {undecided} undecided",
         names.ray_text()
     );
     if let Some(fr) = frame {
