@@ -2,7 +2,8 @@
 # How `lingrav check` compares with the same checks done in SymEngine (a compiled
 # general-purpose CAS, benches/peers/symengine_check.py), on every worked file and on the
 # scaling series of benches/peers/scaling.py (N oblique plane waves, exact l-pole fields,
-# pure gauge from polynomial gauge vectors of growing degree). Issue 10, item 5.
+# pure gauge from polynomial gauge vectors of growing degree, pure gauge about Schwarzschild
+# from gauge vectors of growing length). Issue 10, item 5.
 #
 # lingrav: one run of the whole process under /usr/bin/time -v gives the peak RSS, the status
 # and the JSON verdicts; then the median of 3 more whole-process runs, timed by the shell
@@ -39,7 +40,7 @@ while (($#)); do
         --max-memory) max_memory=$2; shift 2 ;;
         --only) only=$2; shift 2 ;;
         --keep) keep=$2; shift 2 ;;
-        -h | --help) sed -n '2,27p' "$0" | sed 's/^# \{0,1\}//'; exit 0 ;;
+        -h | --help) sed -n '2,29p' "$0" | sed 's/^# \{0,1\}//'; exit 0 ;;
         *) echo "engine_ratios.sh: unknown argument $1" >&2; exit 2 ;;
     esac
 done

@@ -1,7 +1,7 @@
 #!/usr/bin/env python3
 """Writes the scaling series of the engine benchmark (issue 10) as lingrav problem files.
 
-Three families, each file with its claims, so that `lingrav check` and
+Four families, each file with its claims, so that `lingrav check` and
 benches/peers/symengine_check.py decide the same things and can be timed side by side:
 
   waves_N{8,16,32}.toml      a sum of N oblique monochromatic plane waves in TT gauge. Each
@@ -20,6 +20,13 @@ benches/peers/symengine_check.py decide the same things and can be timed side by
                              random polynomial of degree d in t, x, y, z (every monomial of
                              degree <= d present with probability 1/2, integer coefficients in
                              [-3, 3] without 0). Claims: pure gauge, vacuum field equations.
+  schw_gauge_k{02,...,16}.toml  pure gauge about Schwarzschild in t, r, th, ph:
+                             h_ab = D_a xi_b + D_b xi_a = d_a xi_b + d_b xi_a - 2 Gamma^c_ab xi_c
+                             with the background's Christoffel symbols written out, each xi_mu
+                             a seeded sum of k terms c t^a r^b cos(th)^p sin(ph)^q (a in 0..2,
+                             b in -2..2, p in 0..3, q in 0..2, c in [-3, 3] without 0). Claims:
+                             the background is vacuum, the linearized equations about it hold,
+                             pure gauge by the file's vector holds, Lorenz gauge (fails).
 
 Usage:  python3 benches/peers/scaling.py OUTDIR [--seed N]     (prints the files written)
 """
@@ -35,6 +42,7 @@ from pathlib import Path
 WAVES = (8, 16, 32)
 POLES = (2, 4, 6, 8, 10, 12)
 DEGREES = (4, 8, 12, 16, 20, 24)
+GAUGE_TERMS = (2, 4, 8, 16)
 AXES = "xyz"
 
 
@@ -168,6 +176,43 @@ def gauge_file(degree, rng):
     return "\n".join(lines)
 
 
+def schwarzschild_term(rng):
+    c = rng.choice([-3, -2, -1, 1, 2, 3])
+    a, b, p, q = rng.randint(0, 2), rng.randint(-2, 2), rng.randint(0, 3), rng.randint(0, 2)
+    parts = [str(c)]
+    parts += [f"t^{a}"] if a else []
+    parts += [f"r^{b}" if b > 0 else f"r^({b})"] if b else []
+    parts += [f"cos(th)^{p}"] if p else []
+    parts += [f"sin(ph)^{q}"] if q else []
+    return "*".join(parts)
+
+
+def schwarzschild_gauge_file(k, rng):
+    xi = {n: " + ".join(schwarzschild_term(rng) for _ in range(k)) for n in ("xt", "xr", "xth", "xph")}
+    lines = [f"# Pure gauge about Schwarzschild from a random gauge vector, {k} terms per component;",
+             "# written by benches/peers/scaling.py. h_ab = d_a xi_b + d_b xi_a - 2 Gamma^c_ab xi_c.",
+             f'name = "pure gauge about Schwarzschild, {k} terms per component"',
+             'coordinates = ["t", "r", "th", "ph"]', "", "[parameters]", "M = 1.0", "",
+             "[define]", "f = '1 - 2*M/r'"]
+    lines += [f"{n} = '{v}'" for n, v in xi.items()]
+    lines += ["", "[background]", "t.t = '-f'", "r.r = '1/f'", "th.th = 'r^2'",
+              "ph.ph = 'r^2*sin(th)^2'", "", "[perturbation]",
+              "t.t = '2*d_t(xt) - 2*M*f/r^2*xr'",
+              "t.r = 'd_t(xr) + d_r(xt) - 2*M/(r^2*f)*xt'",
+              "t.th = 'd_t(xth) + d_th(xt)'",
+              "t.ph = 'd_t(xph) + d_ph(xt)'",
+              "r.r = '2*d_r(xr) + 2*M/(r^2*f)*xr'",
+              "r.th = 'd_r(xth) + d_th(xr) - 2/r*xth'",
+              "r.ph = 'd_r(xph) + d_ph(xr) - 2/r*xph'",
+              "th.th = '2*d_th(xth) + 2*r*f*xr'",
+              "th.ph = 'd_th(xph) + d_ph(xth) - 2*cos(th)/sin(th)*xph'",
+              "ph.ph = '2*d_ph(xph) + 2*r*f*sin(th)^2*xr + 2*sin(th)*cos(th)*xth'",
+              "", "[gauge_vector]", "t = 'xt'", "r = 'xr'", "th = 'xth'", "ph = 'xph'",
+              "", "[domain]", "r = [3, 40]", "th = [0.2, 2.9]",
+              "", "[claims]", "field_equations = true", 'gauge = ["lorenz"]', "pure_gauge = true", ""]
+    return "\n".join(lines)
+
+
 def main():
     ap = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     ap.add_argument("outdir", type=Path, help="directory for the problem files (created)")
@@ -181,6 +226,8 @@ def main():
         files[f"lpole_l{l:02}.toml"] = lpole_file(l)
     for d in DEGREES:
         files[f"gauge_poly_d{d:02}.toml"] = gauge_file(d, random.Random(args.seed + 1000 + d))
+    for k in GAUGE_TERMS:
+        files[f"schw_gauge_k{k:02}.toml"] = schwarzschild_gauge_file(k, random.Random(args.seed + 2000 + k))
     for name, text in files.items():
         (args.outdir / name).write_text(text)
         print(args.outdir / name)
