@@ -76,7 +76,7 @@ const WGK: [f64; 8] = [
     0.204_432_940_075_298_892_414_161_999_234_649,
     0.209_482_141_084_727_828_012_999_174_891_714,
 ];
-/// Weights of the embedded 7-point Gauss rule (at XGK[1], XGK[3], XGK[5], XGK[7]).
+/// Weights of the embedded 7-point Gauss rule (at `XGK[1]`, `XGK[3]`, `XGK[5]`, `XGK[7]`).
 #[allow(
     clippy::excessive_precision,
     reason = "QUADPACK's 33-digit constants, as published, so they can be compared"

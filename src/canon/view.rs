@@ -8,7 +8,7 @@
 //!   exponential factor `exp(E)`, `E` a form;
 //! - [`FormView::denominator`]: the factors of `D`, each a [`PolyView`] (two or more terms)
 //!   with its positive exponent;
-//! - a kernel is a [`Kernel`] ([`Store::kernel`]): a symbol, `pi`, a principal root, a
+//! - a kernel is a [`Kernel`](super::Kernel) ([`Store::kernel`]): a symbol, `pi`, a principal root, a
 //!   logarithm or an arbitrary function with its derivative order, whose arguments are forms
 //!   of the same store, to be viewed in turn.
 //!

@@ -268,7 +268,7 @@ pub struct BlockRegs {
 }
 
 impl BlockRegs {
-    /// The value of register `r` at lane `k`, as [`IntervalProgram::run`] would give it.
+    /// The value of register `r` at lane `k`, as `IntervalProgram::run` (tests only) would give it.
     #[must_use]
     pub fn get(&self, r: u32, k: usize) -> Option<Interval> {
         let i = r as usize * LANES + k;
@@ -338,7 +338,7 @@ impl IntervalProgram {
 
     /// Runs the program at up to [`LANES`] points at once (lane `k` is `points[k]`), one
     /// instruction over all lanes at a time; lane `k` of register `r` is then exactly what
-    /// [`IntervalProgram::run`] gives at `points[k]` (same operations, same rounding, tested
+    /// `IntervalProgram::run` (tests only) gives at `points[k]` (same operations, same rounding, tested
     /// bit for bit), read with [`BlockRegs::get`].
     ///
     /// Addition, subtraction, multiplication and negation are written out over the lanes
@@ -569,7 +569,7 @@ impl<S: Clone> Memo<S> {
 }
 
 /// The value of one operation from its operands' values (`r(register)`): the one
-/// definition that [`IntervalProgram::run`] and the per-lane fallback of the block evaluator
+/// definition that `IntervalProgram::run` (tests only) and the per-lane fallback of the block evaluator
 /// share, so the two agree bit for bit. Constants and inputs are not operations: `None`.
 fn apply(ins: Instr, r: impl Fn(u32) -> Option<Interval>) -> Option<Interval> {
     match ins {

@@ -9,7 +9,7 @@
 //!
 //! - [`scalar`]: the enclosure arithmetic jets are generic over ([`Scalar`]), implemented
 //!   for [`crate::interval::Interval`], with an exact enclosure of big rationals;
-//! - [`series`]: [`Jet`] and the shared tables of a [`JetSpace`];
+//! - [`series`]: [`Jet`] and the shared tables of a [`JetSpace`](series::JetSpace);
 //! - [`eval`]: from an [`crate::expr::Expr`] and a [`Scope`] to jets at a point.
 //!
 //! Key design decision: independence. The exact route proves identities by canonical forms;
