@@ -128,17 +128,6 @@ impl Store {
         out
     }
 
-    /// Plain text with the display's forms (products of sines and cosines, denominators
-    /// with integer coefficients) but none of the file's names: self-contained, and it reads
-    /// back to `f` with no names defined.
-    pub fn to_unnamed_display_text(&mut self, f: Form) -> String {
-        let (names, on) = (self.display.take(), self.display_on);
-        self.display_on = true;
-        let text = self.to_display_text(f);
-        (self.display, self.display_on) = (names, on);
-        text
-    }
-
     /// The printing tree of `f` in the file's terms (see the module documentation).
     pub fn display_pretty(&mut self, f: Form) -> Pretty {
         self.with_display(|s| lead_positive(cancel_names(tidy_names(s.pretty(f)))))

@@ -420,18 +420,6 @@ fn display_trig_products_with_many_combined_angles() {
         assert!(!text.contains(combined), "{combined} in {text}");
     }
     assert_eq!(form(&mut st, &text), f, "{text} reads back");
-    // Without any display names in force (as in an export's sidecar), the same forms, and
-    // the text reads back in a store that knows no names.
-    let mut plain = Store::new();
-    let g = form(&mut plain, input);
-    let unnamed = plain.to_unnamed_display_text(g);
-    assert_eq!(unnamed, text);
-    assert_eq!(form(&mut plain, &unnamed), g);
-    assert_eq!(
-        plain.to_text(g),
-        canonical,
-        "canonical printing is unchanged"
-    );
 }
 
 /// Seeded random trigonometric polynomials in two or three angles (with other factors and a

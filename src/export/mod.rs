@@ -1029,7 +1029,7 @@ pub fn sidecar(
                     k += 1;
                     json!({
                         "name": c.name,
-                        "expression": store.to_unnamed_display_text(c.form),
+                        "expression": store.to_text(c.form),
                         "exactly_zero": store.is_zero(c.form),
                         "error_bound": r.bound,
                         "relative_error_bound": r.relative,
