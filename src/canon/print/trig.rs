@@ -39,6 +39,9 @@ const MAX_MULTIPLE: u32 = 8;
 const MAX_DEGREE: u32 = 12;
 /// At most this many product monomials per group.
 const MAX_MONOMIALS: usize = 400;
+/// Sums of more terms than this print as they are: rewriting them costs more than their
+/// (truncated) display is worth.
+const MAX_TERMS: usize = 200;
 
 fn scaled(a: &Angle, k: &Q) -> Angle {
     a.iter().map(|(m, c)| (*m, c * k)).collect()
@@ -258,6 +261,9 @@ impl Store {
         scale: &Coeff,
         plain: &Pretty,
     ) -> Option<Pretty> {
+        if p.len() > MAX_TERMS {
+            return None;
+        }
         // Each term: the other factors (kernel powers, real exponent), its angle, coefficient.
         let mut terms: Vec<(Key, Option<Angle>, Coeff)> = Vec::with_capacity(p.len());
         for (m, c) in p {
