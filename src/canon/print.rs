@@ -20,7 +20,7 @@
 
 mod trig;
 
-use super::{Coeff, Form, Kernel, KernelId, MonoId, Q, Rat, Store};
+use super::{Coeff, Form, Kernel, KernelId, MonoId, Rat, Store};
 use num_traits::Signed as _;
 use rustc_hash::FxHashMap;
 use std::fmt::Write as _;
@@ -973,18 +973,16 @@ fn cancel_names(p: Pretty) -> Pretty {
     }
 }
 
-/// The positive rational gcd of rational coefficients, when it is not one.
+/// The positive rational gcd of rational coefficients (gcd of the numerators over lcm of
+/// the denominators); `None` if one is not rational or all are zero.
+fn coeff_content(cs: &[Coeff]) -> Option<super::Q> {
+    let qs: Vec<super::Q> = cs.iter().map(Coeff::as_rational).collect::<Option<_>>()?;
+    trig::content(qs.iter())
+}
+
+/// [`coeff_content`] when it is not one.
 fn rational_content(cs: &[Coeff]) -> Option<super::Q> {
-    use num_integer::Integer;
-    let mut num = num_bigint::BigInt::from(0);
-    let mut den = num_bigint::BigInt::from(1);
-    for c in cs {
-        let q = c.as_rational()?;
-        num = num.gcd(q.numer());
-        den = den.lcm(q.denom());
-    }
-    let g = super::Q::new(num, den);
-    (g != super::Q::from_integer(1.into()) && g != super::Q::from_integer(0.into())).then_some(g)
+    coeff_content(cs).filter(|g| *g != super::Q::from_integer(1.into()))
 }
 
 /// Factors of a product print plain names and their powers first (`a*w^2*cos(...)`).
@@ -1019,22 +1017,10 @@ fn degree(p: &Pretty) -> u32 {
     }
 }
 
-/// `l / g` for rational coefficients, `l` the least common multiple of their denominators
-/// and `g` the greatest common divisor of their numerators: the positive rational that
-/// makes them coprime integers. `None` if one is not rational (or all are zero).
+/// The positive rational that makes rational coefficients coprime integers (the reciprocal
+/// of [`coeff_content`]); `None` if one is not rational or all are zero.
 fn primitive_scale(coeffs: &[Coeff]) -> Option<Coeff> {
-    use num_integer::Integer;
-    let mut l = num_bigint::BigInt::from(1);
-    let mut g = num_bigint::BigInt::from(0);
-    for c in coeffs {
-        let q = c.as_rational()?;
-        l = l.lcm(q.denom());
-        g = g.gcd(q.numer());
-    }
-    if g == num_bigint::BigInt::from(0) {
-        return None;
-    }
-    Some(Coeff::rational(Q::new(l, g)))
+    coeff_content(coeffs).map(|g| Coeff::rational(g.recip()))
 }
 
 fn leading_num(t: &Pretty) -> Coeff {

@@ -72,7 +72,7 @@ fn primitive(a: &Angle) -> Option<Angle> {
 
 /// The positive rational gcd of rationals (gcd of numerators over lcm of denominators);
 /// `None` if all are zero.
-fn content<'a>(qs: impl Iterator<Item = &'a Q>) -> Option<Q> {
+pub(super) fn content<'a>(qs: impl Iterator<Item = &'a Q>) -> Option<Q> {
     let mut num = num_bigint::BigInt::zero();
     let mut den = num_bigint::BigInt::one();
     let mut any = false;
