@@ -59,13 +59,15 @@ impl Basis {
 
 /// An element of Q(sqrt 2, sqrt 3, i).
 ///
-/// Two representations, chosen canonically so that derived equality is value equality: a
-/// single basis element times a rational whose numerator fits an `i64` (other than
-/// `i64::MIN`) and whose denominator fits a `u64` is always `Small(n, d, basis)` (lowest
-/// terms, positive denominator; zero is `Small(0, 1, 0)`), and everything else is `Parts`,
-/// sorted by basis index with no zero component. The small case (nearly every coefficient of
-/// a polynomial computation, and the `±i/2` of every sine) needs no allocation and adds and
-/// multiplies in machine words, with exact overflow to big integers.
+/// Three representations, chosen canonically so that derived equality is value equality. A
+/// rational is *small* when its numerator fits an `i64` (other than `i64::MIN`) and its
+/// denominator a `u64` (lowest terms, positive denominator). A single basis element times a
+/// small rational is always `Small(n, d, basis)` (zero is `Small(0, 1, 0)`); two or more
+/// components, all small, are always `Multi`; everything else is `Parts`. `Multi` and `Parts`
+/// are sorted by basis index with no zero component. The small cases (nearly every
+/// coefficient of a polynomial computation, the `±i/2` of every sine and the `a/2 ± b i/2` of
+/// every `a cos + b sin` in exponentials) add and multiply in machine words, with exact
+/// overflow to big integers.
 #[derive(Clone, PartialEq, Eq, Debug)]
 pub struct Coeff {
     repr: Repr,
@@ -74,7 +76,80 @@ pub struct Coeff {
 #[derive(Clone, PartialEq, Eq, Debug)]
 enum Repr {
     Small(i64, u64, u8),
+    /// `(basis, numerator, denominator)`, two to eight of them.
+    Multi(Vec<(u8, i64, u64)>),
     Parts(Vec<(u8, Q)>),
+}
+
+/// The components of a coefficient whose components are all small: `(basis, numerator,
+/// denominator)`, sorted by basis, no zeros; at most 8 (the field's dimension).
+#[derive(Clone, Copy)]
+struct SmallParts {
+    len: usize,
+    v: [(u8, i64, u64); 8],
+}
+
+impl SmallParts {
+    fn new() -> SmallParts {
+        SmallParts {
+            len: 0,
+            v: [(0, 0, 1); 8],
+        }
+    }
+    fn as_slice(&self) -> &[(u8, i64, u64)] {
+        &self.v[..self.len]
+    }
+    fn push(&mut self, p: (u8, i64, u64)) {
+        self.v[self.len] = p;
+        self.len += 1;
+    }
+    /// The canonical coefficient of these parts.
+    fn to_coeff(self) -> Coeff {
+        match self.as_slice() {
+            [] => Coeff::zero(),
+            [(b, n, d)] => Coeff {
+                repr: Repr::Small(*n, *d, *b),
+            },
+            parts => Coeff {
+                repr: Repr::Multi(parts.to_vec()),
+            },
+        }
+    }
+}
+
+/// `n/d` (d > 0) in lowest terms as a small rational, if it fits (zero is `(0, 1)`).
+fn small_pair(n: i128, d: u128) -> Option<(i64, u64)> {
+    if n == 0 {
+        return Some((0, 1));
+    }
+    let (n, d) = if d == 1 {
+        (n, d)
+    } else {
+        let g = gcd_u128(n.unsigned_abs(), d);
+        (n / g as i128, d / g)
+    };
+    let n = i64::try_from(n).ok().filter(|&n| n != i64::MIN)?;
+    Some((n, u64::try_from(d).ok()?))
+}
+
+/// `a/b + c/d` as a small rational, if it fits.
+fn small_add(a: i64, b: u64, c: i64, d: u64) -> Option<(i64, u64)> {
+    // |a d|, |c b| < 2^127: exact in 128 bits, the sum checked.
+    let (a, b, c, d) = (a as i128, b as u128, c as i128, d as u128);
+    if b == d {
+        return small_pair(a + c, b);
+    }
+    let n = a
+        .checked_mul(d as i128)?
+        .checked_add(c.checked_mul(b as i128)?)?;
+    small_pair(n, b.checked_mul(d)?)
+}
+
+/// `(a/b) (c/d) f` as a small rational, if it fits.
+fn small_mul(a: i64, b: u64, c: i64, d: u64, f: i64) -> Option<(i64, u64)> {
+    // |a c| < 2^126 and b d < 2^128: exact in 128 bits; the factor f is checked.
+    let n = ((a as i128) * (c as i128)).checked_mul(i128::from(f))?;
+    small_pair(n, (b as u128) * (d as u128))
 }
 
 impl Default for Coeff {
@@ -96,6 +171,14 @@ impl std::hash::Hash for Coeff {
                 h.write_i64(*n);
                 h.write_u64(*d);
             }
+            Repr::Multi(parts) => {
+                h.write_usize(parts.len());
+                for (b, n, d) in parts {
+                    h.write_u8(*b);
+                    h.write_i64(*n);
+                    h.write_u64(*d);
+                }
+            }
             Repr::Parts(parts) => {
                 h.write_usize(parts.len());
                 for (b, q) in parts {
@@ -116,26 +199,6 @@ fn gcd_u128(a: u128, b: u128) -> u128 {
         (Ok(a), Ok(b)) => u128::from(a.gcd(&b)),
         _ => a.gcd(&b),
     }
-}
-
-/// `(n/d) * basis` (d > 0) in lowest terms as a small coefficient, if it fits.
-fn small_of(n: i128, d: u128, basis: u8) -> Option<Coeff> {
-    if n == 0 {
-        return Some(Coeff::zero());
-    }
-    if d == 1 {
-        let n = i64::try_from(n).ok().filter(|&n| n != i64::MIN)?;
-        return Some(Coeff {
-            repr: Repr::Small(n, 1, basis),
-        });
-    }
-    let g = gcd_u128(n.unsigned_abs(), d);
-    let (n, d) = (n / g as i128, d / g);
-    let n = i64::try_from(n).ok().filter(|&n| n != i64::MIN)?;
-    let d = u64::try_from(d).ok()?;
-    Some(Coeff {
-        repr: Repr::Small(n, d, basis),
-    })
 }
 
 fn big_q(n: i64, d: u64) -> Q {
@@ -160,23 +223,26 @@ fn basis_product(a: u8, b: u8) -> (u8, i64) {
 impl Coeff {
     /// The canonical coefficient of sorted, merged, nonzero parts.
     fn from_normal(parts: Vec<(u8, Q)>) -> Coeff {
-        match parts.as_slice() {
-            [] => Coeff::zero(),
-            [(b, q)] => {
-                if let (Some(n), Some(d)) = (q.numer().to_i64(), q.denom().to_u64())
-                    && n != i64::MIN
-                {
-                    return Coeff {
-                        repr: Repr::Small(n, d, *b),
-                    };
-                }
-                Coeff {
-                    repr: Repr::Parts(parts),
+        let small = |q: &Q| match (q.numer().to_i64(), q.denom().to_u64()) {
+            (Some(n), Some(d)) if n != i64::MIN => Some((n, d)),
+            _ => None,
+        };
+        if parts.len() <= 8 {
+            let mut out = SmallParts::new();
+            for (b, q) in &parts {
+                match small(q) {
+                    Some((n, d)) => out.push((*b, n, d)),
+                    None => {
+                        return Coeff {
+                            repr: Repr::Parts(parts),
+                        };
+                    }
                 }
             }
-            _ => Coeff {
-                repr: Repr::Parts(parts),
-            },
+            return out.to_coeff();
+        }
+        Coeff {
+            repr: Repr::Parts(parts),
         }
     }
 
@@ -185,8 +251,87 @@ impl Coeff {
         match &self.repr {
             Repr::Small(0, _, _) => std::borrow::Cow::Owned(Vec::new()),
             Repr::Small(n, d, b) => std::borrow::Cow::Owned(vec![(*b, big_q(*n, *d))]),
+            Repr::Multi(p) => {
+                std::borrow::Cow::Owned(p.iter().map(|&(b, n, d)| (b, big_q(n, d))).collect())
+            }
             Repr::Parts(p) => std::borrow::Cow::Borrowed(p),
         }
+    }
+
+    /// `(n/d) * basis` from a small rational in lowest terms.
+    fn small(n: i64, d: u64, basis: u8) -> Coeff {
+        if n == 0 {
+            Coeff::zero()
+        } else {
+            Coeff {
+                repr: Repr::Small(n, d, basis),
+            }
+        }
+    }
+
+    /// The parts in machine words, when every one is small.
+    fn small_parts(&self) -> Option<SmallParts> {
+        let mut out = SmallParts::new();
+        match &self.repr {
+            Repr::Small(0, _, _) => {}
+            Repr::Small(n, d, b) => out.push((*b, *n, *d)),
+            Repr::Multi(p) => {
+                out.len = p.len();
+                out.v[..p.len()].copy_from_slice(p);
+            }
+            Repr::Parts(_) => return None,
+        }
+        Some(out)
+    }
+
+    /// The sum in machine words, when both sides' parts and the result's are small.
+    fn add_small(&self, o: &Coeff) -> Option<Coeff> {
+        let (a, b) = (self.small_parts()?, o.small_parts()?);
+        let (a, b) = (a.as_slice(), b.as_slice());
+        let mut out = SmallParts::new();
+        let (mut i, mut j) = (0, 0);
+        while i < a.len() || j < b.len() {
+            let take_a = j == b.len() || (i < a.len() && a[i].0 < b[j].0);
+            let take_b = i == a.len() || (j < b.len() && b[j].0 < a[i].0);
+            if take_a {
+                out.push(a[i]);
+                i += 1;
+            } else if take_b {
+                out.push(b[j]);
+                j += 1;
+            } else {
+                let (n, d) = small_add(a[i].1, a[i].2, b[j].1, b[j].2)?;
+                if n != 0 {
+                    out.push((a[i].0, n, d));
+                }
+                i += 1;
+                j += 1;
+            }
+        }
+        Some(out.to_coeff())
+    }
+
+    /// The product in machine words, when both sides' parts, every partial product and
+    /// every partial sum are small.
+    fn mul_small(&self, o: &Coeff) -> Option<Coeff> {
+        let (a, b) = (self.small_parts()?, o.small_parts()?);
+        // One slot per basis element: (numerator, denominator), zero as (0, 1).
+        let mut slot = [(0i64, 1u64); 8];
+        for &(ea, na, da) in a.as_slice() {
+            for &(eb, nb, db) in b.as_slice() {
+                let (e, f) = basis_product(ea, eb);
+                let (n, d) = small_mul(na, da, nb, db, f)?;
+                let s = &mut slot[e as usize];
+                *s = small_add(s.0, s.1, n, d)?;
+            }
+        }
+        let mut out = SmallParts::new();
+        for (e, &(n, d)) in slot.iter().enumerate() {
+            if n != 0 {
+                out.push((e as u8, n, d));
+            }
+        }
+        Some(out.to_coeff())
     }
 
     /// Zero.
@@ -277,7 +422,7 @@ impl Coeff {
         match &self.repr {
             Repr::Small(0, _, _) => Some(Q::zero()),
             Repr::Small(n, d, 0) => Some(big_q(*n, *d)),
-            Repr::Small(..) => None,
+            Repr::Small(..) | Repr::Multi(_) => None,
             Repr::Parts(p) => match p.as_slice() {
                 [(0, q)] => Some(q.clone()),
                 _ => None,
@@ -343,20 +488,11 @@ impl Coeff {
         if let (Repr::Small(a, b, e1), Repr::Small(c, d, e2)) = (&self.repr, &o.repr)
             && e1 == e2
         {
-            // a/b + c/d = (a d + c b)/(b d): |a d|, |c b| < 2^127, checked.
-            let (a, b, c, d) = (*a as i128, *b as u128, *c as i128, *d as u128);
-            if b == d {
-                if let Some(r) = small_of(a + c, b, *e1) {
-                    return r;
-                }
-            } else if let (Some(x), Some(y), Some(bd)) = (
-                a.checked_mul(d as i128),
-                c.checked_mul(b as i128),
-                b.checked_mul(d),
-            ) && let Some(r) = x.checked_add(y).and_then(|n| small_of(n, bd, *e1))
-            {
-                return r;
+            if let Some((n, d)) = small_add(*a, *b, *c, *d) {
+                return Coeff::small(n, d, *e1);
             }
+        } else if let Some(r) = self.add_small(o) {
+            return r;
         }
         let mut v = self.parts().into_owned();
         v.extend(o.parts().iter().cloned());
@@ -367,6 +503,9 @@ impl Coeff {
         match &self.repr {
             Repr::Small(n, d, b) => Coeff {
                 repr: Repr::Small(-n, *d, *b),
+            },
+            Repr::Multi(p) => Coeff {
+                repr: Repr::Multi(p.iter().map(|&(b, n, d)| (b, -n, d)).collect()),
             },
             Repr::Parts(p) => Coeff {
                 repr: Repr::Parts(p.iter().map(|(b, q)| (*b, -q)).collect()),
@@ -389,13 +528,12 @@ impl Coeff {
             return o.clone();
         }
         if let (Repr::Small(a, b, e1), Repr::Small(c, d, e2)) = (&self.repr, &o.repr) {
-            // |a c| < 2^126 and b d < 2^128: exact in 128 bits; the basis factor is checked.
             let (e, f) = basis_product(*e1, *e2);
-            let n = ((*a as i128) * (*c as i128)).checked_mul(i128::from(f));
-            let dd = (*b as u128) * (*d as u128);
-            if let Some(r) = n.and_then(|n| small_of(n, dd, e)) {
-                return r;
+            if let Some((n, d)) = small_mul(*a, *b, *c, *d, f) {
+                return Coeff::small(n, d, e);
             }
+        } else if let Some(r) = self.mul_small(o) {
+            return r;
         }
         let (sp, op) = (self.parts(), o.parts());
         if let [(0, q)] = op.as_ref() {
@@ -422,6 +560,18 @@ impl Coeff {
                 }
             } else {
                 self.clone()
+            };
+        }
+        if let Repr::Multi(p) = &self.repr {
+            let flip = |b: u8, n: i64| {
+                if (b & mask).count_ones() % 2 == 1 {
+                    -n
+                } else {
+                    n
+                }
+            };
+            return Coeff {
+                repr: Repr::Multi(p.iter().map(|&(b, n, d)| (b, flip(b, n), d)).collect()),
             };
         }
         Coeff::from_normal(
@@ -536,6 +686,11 @@ impl Coeff {
             Repr::Small(0, _, _) => {}
             // The machine-word form without a big rational: the same enclosure.
             Repr::Small(n, d, b) => part(*b, small_rational_interval(*n, *d)?)?,
+            Repr::Multi(p) => {
+                for &(b, n, d) in p {
+                    part(b, small_rational_interval(n, d)?)?;
+                }
+            }
             Repr::Parts(p) => {
                 for (b, q) in p {
                     part(*b, rational_interval(q)?)?;
@@ -589,9 +744,13 @@ impl Coeff {
     /// The size in bits of the largest numerator or denominator (a cost measure: the limits
     /// refuse products of coefficients that would grow past a cap).
     pub fn bits(&self) -> u64 {
-        if let Repr::Small(n, d, _) = self.repr {
-            return u64::from(64 - n.unsigned_abs().leading_zeros())
-                .max(u64::from(64 - d.leading_zeros()));
+        let small = |n: i64, d: u64| {
+            u64::from(64 - n.unsigned_abs().leading_zeros()).max(u64::from(64 - d.leading_zeros()))
+        };
+        match &self.repr {
+            Repr::Small(n, d, _) => return small(*n, *d),
+            Repr::Multi(p) => return p.iter().map(|&(_, n, d)| small(n, d)).max().unwrap_or(0),
+            Repr::Parts(_) => {}
         }
         self.parts()
             .iter()
@@ -987,6 +1146,85 @@ mod tests {
                 let c = Coeff::basis(e, q.clone());
                 let general = via_parts(&q).mul(&Coeff::basis(e, Q::one()));
                 prop_assert_eq!(c.to_interval(), general.to_interval());
+            }
+        }
+
+        /// A coefficient from up to eight `(basis, n, d)` components with edge values.
+        fn coeff_parts() -> impl Strategy<Value = Vec<(u8, i64, u64)>> {
+            proptest::collection::vec(
+                (
+                    0u8..8,
+                    prop_oneof![edge(), -20i64..20],
+                    prop_oneof![1u64.., 1u64..12, Just(u64::MAX)],
+                ),
+                0..8,
+            )
+        }
+
+        /// The reference: big rationals per basis element, summed without any fast path.
+        fn reference(parts: &[(u8, i64, u64)]) -> Vec<Q> {
+            let mut v = vec![Q::zero(); 8];
+            for &(b, n, d) in parts {
+                v[b as usize] += big(n, d);
+            }
+            v
+        }
+
+        fn build(parts: &[(u8, i64, u64)]) -> Coeff {
+            parts.iter().fold(Coeff::zero(), |acc, &(b, n, d)| {
+                acc.add(&Coeff::basis(b, big(n, d)))
+            })
+        }
+
+        fn of_reference(v: &[Q]) -> Coeff {
+            Coeff::from_parts(
+                v.iter()
+                    .enumerate()
+                    .filter(|(_, q)| !q.is_zero())
+                    .map(|(b, q)| (b as u8, q.clone()))
+                    .collect(),
+            )
+        }
+
+        proptest! {
+            /// Coefficients of several components (the `a/2 - b i/2` of `a cos + b sin` in
+            /// exponentials) add, multiply, negate, conjugate and invert in machine words
+            /// exactly as big rationals do, across the overflow boundary, with one
+            /// representation per value.
+            #[test]
+            fn several_components_agree_with_big_rationals(
+                pa in coeff_parts(), pb in coeff_parts(),
+            ) {
+                let (x, y) = (build(&pa), build(&pb));
+                let (rx, ry) = (reference(&pa), reference(&pb));
+                prop_assert_eq!(&x, &of_reference(&rx));
+                let sum: Vec<Q> = rx.iter().zip(&ry).map(|(a, b)| a + b).collect();
+                let mut prod = vec![Q::zero(); 8];
+                for (ea, qa) in rx.iter().enumerate() {
+                    for (eb, qb) in ry.iter().enumerate() {
+                        let (e, f) = basis_product(ea as u8, eb as u8);
+                        prod[e as usize] += qa * qb * Q::from_integer(BigInt::from(f));
+                    }
+                }
+                let (s, p) = (x.add(&y), x.mul(&y));
+                let (ws, wp) = (of_reference(&sum), of_reference(&prod));
+                prop_assert_eq!(&s, &ws);
+                prop_assert_eq!(hash(&s), hash(&ws));
+                prop_assert_eq!(&p, &wp);
+                prop_assert_eq!(hash(&p), hash(&wp));
+                prop_assert!(x.sub(&x).is_zero());
+                prop_assert_eq!(x.neg().add(&x), Coeff::zero());
+                let conj: Vec<Q> = rx
+                    .iter()
+                    .enumerate()
+                    .map(|(b, q)| if b as u8 & IMAG != 0 { -q.clone() } else { q.clone() })
+                    .collect();
+                prop_assert_eq!(x.conj(), of_reference(&conj));
+                prop_assert_eq!(x.bits(), of_reference(&rx).bits());
+                prop_assert_eq!(x.to_interval(), of_reference(&rx).to_interval());
+                if !x.is_zero() {
+                    prop_assert!(x.mul(&x.inv().unwrap()).is_one());
+                }
             }
         }
 
