@@ -83,37 +83,34 @@ enum Repr {
 
 /// The components of a coefficient whose components are all small: `(basis, numerator,
 /// denominator)`, sorted by basis, no zeros; at most 8 (the field's dimension).
-#[derive(Clone, Copy)]
-struct SmallParts {
-    len: usize,
-    v: [(u8, i64, u64); 8],
+enum SmallView<'a> {
+    One([(u8, i64, u64); 1]),
+    Many(&'a [(u8, i64, u64)]),
 }
 
-impl SmallParts {
-    fn new() -> SmallParts {
-        SmallParts {
-            len: 0,
-            v: [(0, 0, 1); 8],
-        }
-    }
+impl SmallView<'_> {
     fn as_slice(&self) -> &[(u8, i64, u64)] {
-        &self.v[..self.len]
-    }
-    fn push(&mut self, p: (u8, i64, u64)) {
-        self.v[self.len] = p;
-        self.len += 1;
-    }
-    /// The canonical coefficient of these parts.
-    fn to_coeff(self) -> Coeff {
-        match self.as_slice() {
-            [] => Coeff::zero(),
-            [(b, n, d)] => Coeff {
-                repr: Repr::Small(*n, *d, *b),
-            },
-            parts => Coeff {
-                repr: Repr::Multi(parts.to_vec()),
-            },
+        match self {
+            SmallView::One(p) if p[0].1 == 0 => &[],
+            SmallView::One(p) => p,
+            SmallView::Many(p) => p,
         }
+    }
+}
+
+/// The canonical coefficient of small components, sorted by basis, no zeros.
+fn of_small_parts(mut parts: Vec<(u8, i64, u64)>) -> Coeff {
+    match parts.len() {
+        0 => Coeff::zero(),
+        1 => {
+            let (b, n, d) = parts.pop().expect("one part");
+            Coeff {
+                repr: Repr::Small(n, d, b),
+            }
+        }
+        _ => Coeff {
+            repr: Repr::Multi(parts),
+        },
     }
 }
 
@@ -228,7 +225,7 @@ impl Coeff {
             _ => None,
         };
         if parts.len() <= 8 {
-            let mut out = SmallParts::new();
+            let mut out = Vec::with_capacity(parts.len());
             for (b, q) in &parts {
                 match small(q) {
                     Some((n, d)) => out.push((*b, n, d)),
@@ -239,7 +236,7 @@ impl Coeff {
                     }
                 }
             }
-            return out.to_coeff();
+            return of_small_parts(out);
         }
         Coeff {
             repr: Repr::Parts(parts),
@@ -270,25 +267,19 @@ impl Coeff {
     }
 
     /// The parts in machine words, when every one is small.
-    fn small_parts(&self) -> Option<SmallParts> {
-        let mut out = SmallParts::new();
+    fn small_parts(&self) -> Option<SmallView<'_>> {
         match &self.repr {
-            Repr::Small(0, _, _) => {}
-            Repr::Small(n, d, b) => out.push((*b, *n, *d)),
-            Repr::Multi(p) => {
-                out.len = p.len();
-                out.v[..p.len()].copy_from_slice(p);
-            }
-            Repr::Parts(_) => return None,
+            Repr::Small(n, d, b) => Some(SmallView::One([(*b, *n, *d)])),
+            Repr::Multi(p) => Some(SmallView::Many(p)),
+            Repr::Parts(_) => None,
         }
-        Some(out)
     }
 
     /// The sum in machine words, when both sides' parts and the result's are small.
     fn add_small(&self, o: &Coeff) -> Option<Coeff> {
         let (a, b) = (self.small_parts()?, o.small_parts()?);
         let (a, b) = (a.as_slice(), b.as_slice());
-        let mut out = SmallParts::new();
+        let mut out = Vec::with_capacity(a.len() + b.len());
         let (mut i, mut j) = (0, 0);
         while i < a.len() || j < b.len() {
             let take_a = j == b.len() || (i < a.len() && a[i].0 < b[j].0);
@@ -308,30 +299,45 @@ impl Coeff {
                 j += 1;
             }
         }
-        Some(out.to_coeff())
+        Some(of_small_parts(out))
     }
 
     /// The product in machine words, when both sides' parts, every partial product and
     /// every partial sum are small.
     fn mul_small(&self, o: &Coeff) -> Option<Coeff> {
         let (a, b) = (self.small_parts()?, o.small_parts()?);
+        let (a, b) = (a.as_slice(), b.as_slice());
+        if let [(eb, nb, db)] = b {
+            // Times one basis element: a permutation of the basis, each part scaled.
+            let mut out = Vec::with_capacity(a.len());
+            for &(ea, na, da) in a {
+                let (e, f) = basis_product(ea, *eb);
+                let (n, d) = small_mul(na, da, *nb, *db, f)?;
+                out.push((e, n, d));
+            }
+            out.sort_unstable_by_key(|p| p.0);
+            return Some(of_small_parts(out));
+        }
+        if a.len() == 1 {
+            return o.mul_small(self);
+        }
         // One slot per basis element: (numerator, denominator), zero as (0, 1).
         let mut slot = [(0i64, 1u64); 8];
-        for &(ea, na, da) in a.as_slice() {
-            for &(eb, nb, db) in b.as_slice() {
+        for &(ea, na, da) in a {
+            for &(eb, nb, db) in b {
                 let (e, f) = basis_product(ea, eb);
                 let (n, d) = small_mul(na, da, nb, db, f)?;
                 let s = &mut slot[e as usize];
                 *s = small_add(s.0, s.1, n, d)?;
             }
         }
-        let mut out = SmallParts::new();
-        for (e, &(n, d)) in slot.iter().enumerate() {
-            if n != 0 {
-                out.push((e as u8, n, d));
-            }
-        }
-        Some(out.to_coeff())
+        let out = slot
+            .iter()
+            .enumerate()
+            .filter(|(_, p)| p.0 != 0)
+            .map(|(e, &(n, d))| (e as u8, n, d))
+            .collect();
+        Some(of_small_parts(out))
     }
 
     /// Zero.
@@ -431,46 +437,54 @@ impl Coeff {
     }
     /// True if the imaginary part is zero.
     pub fn is_real(&self) -> bool {
-        self.parts().iter().all(|p| p.0 & IMAG == 0)
+        match &self.repr {
+            Repr::Small(_, _, b) => self.is_zero() || b & IMAG == 0,
+            Repr::Multi(p) => p.iter().all(|p| p.0 & IMAG == 0),
+            Repr::Parts(p) => p.iter().all(|p| p.0 & IMAG == 0),
+        }
+    }
+
+    /// The parts whose basis element has (`imag`) or lacks the factor i, with it divided out.
+    fn part_by_i(&self, imag: bool) -> Coeff {
+        let keep = |b: u8| (b & IMAG != 0) == imag;
+        match &self.repr {
+            Repr::Small(n, d, b) => {
+                if keep(*b) {
+                    Coeff::small(*n, *d, b & !IMAG)
+                } else {
+                    Coeff::zero()
+                }
+            }
+            Repr::Multi(p) => of_small_parts(
+                p.iter()
+                    .filter(|p| keep(p.0))
+                    .map(|&(b, n, d)| (b & !IMAG, n, d))
+                    .collect(),
+            ),
+            Repr::Parts(p) => Coeff::from_normal(
+                p.iter()
+                    .filter(|(b, _)| keep(*b))
+                    .map(|(b, q)| (b & !IMAG, q.clone()))
+                    .collect(),
+            ),
+        }
     }
     /// The real part.
     pub fn re(&self) -> Coeff {
-        if let Repr::Small(_, _, b) = self.repr {
-            return if b & IMAG == 0 {
-                self.clone()
-            } else {
-                Coeff::zero()
-            };
-        }
-        Coeff::from_normal(
-            self.parts()
-                .iter()
-                .filter(|p| p.0 & IMAG == 0)
-                .cloned()
-                .collect(),
-        )
+        self.part_by_i(false)
     }
     /// The imaginary part (a real number).
     pub fn im(&self) -> Coeff {
-        if let Repr::Small(n, d, b) = self.repr {
-            return if b & IMAG == 0 {
-                Coeff::zero()
-            } else {
-                Coeff {
-                    repr: Repr::Small(n, d, b & !IMAG),
-                }
-            };
-        }
-        Coeff::from_normal(
-            self.parts()
-                .iter()
-                .filter(|p| p.0 & IMAG != 0)
-                .map(|(b, q)| (b & !IMAG, q.clone()))
-                .collect(),
-        )
+        self.part_by_i(true)
     }
     /// If this is `i*q` with q rational, returns q.
     pub fn as_imag_rational(&self) -> Option<Q> {
+        match &self.repr {
+            Repr::Small(0, _, _) | Repr::Multi(_) => return None,
+            Repr::Small(n, d, IMAG) => return Some(big_q(*n, *d)),
+            Repr::Small(..) => return None,
+            Repr::Parts(_) => {}
+        }
         match self.parts().as_ref() {
             [(IMAG, q)] => Some(q.clone()),
             _ => None,

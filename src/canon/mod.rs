@@ -112,6 +112,22 @@ struct Mono {
 type Term = (MonoId, Coeff);
 /// Sorted by monomial id, no zero coefficients.
 type Poly = Vec<Term>;
+/// The terms of a product of numerators: those summed by monomial (distinct monomials, no
+/// zero coefficient, in no order), and those that bring a further factor along (see
+/// [`Store::products_by_monomial`]).
+type Products = (Vec<Term>, Vec<(MonoId, Coeff, Form)>);
+/// The number of term pairs from which a product packs its exponents.
+const PACKED_MIN_PAIRS: usize = 32;
+/// Kernels per packed exponent vector ([`Store::products_packed`]).
+const LANES: usize = 8;
+/// Bits per kernel in a packed exponent vector.
+const LANE_BITS: u32 = 16;
+/// A lane holds the exponent plus this bias; operands' exponents are within `±LANE_MAX`, so
+/// a lane of a product (at most `2 LANE_MAX + 2 LANE_BIAS` before the bias is taken off
+/// once) never carries into the next.
+const LANE_BIAS: u128 = 1 << 14;
+/// The largest exponent (in magnitude) that [`Store::products_packed`] packs.
+const LANE_MAX: i32 = 1 << 13;
 /// The terms of [`Store::linear`] over one denominator: its factors (like [`Rat::den`]) and
 /// the numerator's coefficient per monomial.
 type DenGroup = (Vec<(FactorId, u32)>, FxHashMap<MonoId, Coeff>);
@@ -219,6 +235,11 @@ pub struct Store {
     rats: Vec<Rc<Rat>>,
     rat_ids: FxHashMap<Rc<Rat>, Form>,
     mono_mul_cache: FxHashMap<(MonoId, MonoId), (MonoId, Coeff, Form)>,
+    exp_mul_cache: FxHashMap<(Option<Form>, Option<Form>), (Option<Form>, Coeff, Form)>,
+    /// The kernel lists of packed products ([`Store::products_packed`]), numbered.
+    kernel_sets: FxHashMap<Vec<KernelId>, u32>,
+    /// Monomials by kernel list, packed powers and exponential.
+    packed_monos: FxHashMap<(u32, u128, Option<Form>), MonoId>,
     diff_cache: FxHashMap<(Form, KernelId), Form>,
     dlog_cache: FxHashMap<(KernelId, KernelId), Form>,
     dlog_mono_cache: FxHashMap<(MonoId, KernelId), Form>,
@@ -269,6 +290,9 @@ impl Store {
             rats: Vec::new(),
             rat_ids: FxHashMap::default(),
             mono_mul_cache: FxHashMap::default(),
+            exp_mul_cache: FxHashMap::default(),
+            kernel_sets: FxHashMap::default(),
+            packed_monos: FxHashMap::default(),
             diff_cache: FxHashMap::default(),
             dlog_cache: FxHashMap::default(),
             dlog_mono_cache: FxHashMap::default(),
@@ -533,26 +557,26 @@ impl Store {
         if ba + bb > MAX_COEFF_BITS {
             return Err(CanonError::NumberTooLarge(MAX_COEFF_BITS));
         }
-        let mut acc: FxHashMap<MonoId, Coeff> = FxHashMap::default();
-        let mut extras: Vec<(MonoId, Coeff, Form)> = Vec::new();
-        for (ma, ca) in a {
-            for (mb, cb) in b {
-                let (m, f, extra) = self.mono_mul(*ma, *mb)?;
-                let c = ca.mul(cb).mul(&f);
-                if c.is_zero() {
-                    continue;
-                }
-                if extra == self.one {
-                    let e = acc.entry(m).or_insert_with(Coeff::zero);
-                    *e = e.add(&c);
-                } else {
-                    extras.push((m, c, extra));
-                }
-            }
-            self.check_size(acc.len() + extras.len())?;
-        }
+        // Small products (a term times a sum, above all) reuse the cached monomial products;
+        // packing pays for itself only over many pairs.
+        let packed = if a.len().min(b.len()) >= 2 && a.len() * b.len() >= PACKED_MIN_PAIRS {
+            self.products_packed(a, b)?
+        } else {
+            None
+        };
+        let products = match packed {
+            Some(products) => products,
+            None => self.products_by_monomial(a, b)?,
+        };
+        self.finish_products(products)
+    }
+
+    /// The numerator of a product from its terms: those needing no further factor sorted,
+    /// the others summed per factor, multiplied once and added.
+    fn finish_products(&mut self, (mut num, extras): Products) -> CResult<Rat> {
+        num.sort_unstable_by_key(|t| t.0);
         let mut r = Rat {
-            num: Self::sort_terms(acc),
+            num,
             den: Vec::new(),
         };
         // Terms that brought a radicand power along: sum those sharing one, then multiply once.
@@ -576,6 +600,209 @@ impl Store {
             let s = self.add(cur, p)?;
             r = (*self.rats[s.0 as usize]).clone();
         }
+        Ok(r)
+    }
+
+    /// The terms of `a * b`, each pair's monomials multiplied by [`Store::mono_mul`] (cached
+    /// per pair): the sum of the terms that need no further factor, by monomial, and those
+    /// that bring one along (a radicand's power, or `A^q` from an exponent).
+    fn products_by_monomial(&mut self, a: &Poly, b: &Poly) -> CResult<Products> {
+        let mut acc: FxHashMap<MonoId, Coeff> = FxHashMap::default();
+        let mut extras: Vec<(MonoId, Coeff, Form)> = Vec::new();
+        for (ma, ca) in a {
+            for (mb, cb) in b {
+                let (m, f, extra) = self.mono_mul(*ma, *mb)?;
+                let c = ca.mul(cb).mul(&f);
+                if c.is_zero() {
+                    continue;
+                }
+                if extra == self.one {
+                    let e = acc.entry(m).or_insert_with(Coeff::zero);
+                    *e = e.add(&c);
+                } else {
+                    extras.push((m, c, extra));
+                }
+            }
+            self.check_size(acc.len() + extras.len())?;
+        }
+        Ok((
+            acc.into_iter().filter(|(_, c)| !c.is_zero()).collect(),
+            extras,
+        ))
+    }
+
+    /// The same terms as [`Store::products_by_monomial`], with the kernel powers of each
+    /// monomial packed into one machine word (a 16-bit lane per kernel, up to [`LANES`]
+    /// kernels in both operands together): a product of powers is one addition, and terms are
+    /// summed by packed key, so no intermediate monomial is interned. Exponentials are
+    /// combined once per pair of distinct exponents, exactly as [`Store::make_mono`] does.
+    /// `None` when the operands have more kernels or larger exponents than the lanes hold, or
+    /// a root kernel.
+    fn products_packed<'p>(&mut self, a: &'p Poly, b: &'p Poly) -> CResult<Option<Products>> {
+        // The kernels of both operands, sorted: lanes in kernel order unpack to sorted powers.
+        let mut kernels: Vec<KernelId> = Vec::with_capacity(LANES);
+        for (m, _) in a.iter().chain(b) {
+            for &(k, e) in &self.monos[m.0 as usize].pows {
+                if e.abs() > LANE_MAX {
+                    return Ok(None);
+                }
+                if !kernels.contains(&k) {
+                    if kernels.len() == LANES {
+                        return Ok(None);
+                    }
+                    kernels.push(k);
+                }
+            }
+        }
+        // Root kernels reduce through their radicands, term by term: the cached monomial
+        // products remember those reductions, which this path would redo per product.
+        if kernels
+            .iter()
+            .any(|&k| matches!(self.kernel(k), Kernel::Root { .. }))
+        {
+            return Ok(None);
+        }
+        kernels.sort_unstable();
+        let set = match self.kernel_sets.get(&kernels) {
+            Some(&id) => id,
+            None => {
+                let id = self.kernel_sets.len() as u32;
+                self.kernel_sets.insert(kernels.clone(), id);
+                id
+            }
+        };
+        let bias: u128 = (0..LANES)
+            .map(|i| LANE_BIAS << (LANE_BITS * i as u32))
+            .sum();
+        // Each operand's terms as (packed powers, index of the exponential, coefficient).
+        let mut exp_index: FxHashMap<Option<Form>, usize> = FxHashMap::default();
+        let mut pack = |p: &'p Poly,
+                        exps: &mut Vec<Option<Form>>|
+         -> Vec<(u128, usize, &'p Coeff)> {
+            exp_index.clear();
+            exp_index.insert(None, 0);
+            exps.clear();
+            exps.push(None);
+            p.iter()
+                .map(|(m, c)| {
+                    let mono = &self.monos[m.0 as usize];
+                    let mut key = bias;
+                    for &(k, e) in &mono.pows {
+                        let lane = kernels.iter().position(|&x| x == k).expect("collected");
+                        key = key.wrapping_add(((e as i128) as u128) << (LANE_BITS * lane as u32));
+                    }
+                    let x = *exp_index.entry(mono.exp).or_insert_with(|| {
+                        exps.push(mono.exp);
+                        exps.len() - 1
+                    });
+                    (key, x, c)
+                })
+                .collect()
+        };
+        let (mut exps_a, mut exps_b) = (Vec::new(), Vec::new());
+        let pa = pack(a, &mut exps_a);
+        let pb = pack(b, &mut exps_b);
+        // The product of two exponentials, per pair of distinct exponents: an index into
+        // `exps`, a coefficient and a further factor (as `make_mono` gives them).
+        let mut exps: Vec<Option<Form>> = vec![None];
+        let mut exp_ids: FxHashMap<Option<Form>, u32> = FxHashMap::default();
+        exp_ids.insert(None, 0);
+        let nb = exps_b.len();
+        let mut pair: Vec<Option<(u32, Coeff, Form)>> = vec![None; exps_a.len() * nb];
+        pair[0] = Some((0, Coeff::one(), self.one));
+        let mut acc: FxHashMap<(u128, u32), Coeff> =
+            FxHashMap::with_capacity_and_hasher(pa.len() + pb.len(), Default::default());
+        let mut raw_extras: Vec<(u128, u32, Coeff, Form)> = Vec::new();
+        for &(ka, xa, ca) in &pa {
+            for &(kb, xb, cb) in &pb {
+                let slot = xa * nb + xb;
+                if pair[slot].is_none() {
+                    let (e, c, extra) = self.exp_mul(exps_a[xa], exps_b[xb])?;
+                    let id = *exp_ids.entry(e).or_insert_with(|| {
+                        exps.push(e);
+                        (exps.len() - 1) as u32
+                    });
+                    pair[slot] = Some((id, c, extra));
+                }
+                let (x, f, extra) = pair[slot].as_ref().expect("filled above");
+                let mut c = ca.mul(cb);
+                if !f.is_one() {
+                    c = c.mul(f);
+                }
+                if c.is_zero() {
+                    continue;
+                }
+                let key = (ka.wrapping_add(kb).wrapping_sub(bias), *x);
+                if *extra == self.one {
+                    let e = acc.entry(key).or_insert_with(Coeff::zero);
+                    *e = e.add(&c);
+                } else {
+                    raw_extras.push((key.0, key.1, c, *extra));
+                }
+            }
+            self.check_size(acc.len() + raw_extras.len())?;
+        }
+        // Unpack: distinct keys are distinct monomials (no root kernel reduces).
+        let mut terms: Vec<Term> = Vec::with_capacity(acc.len());
+        let mut extras: Vec<(MonoId, Coeff, Form)> = Vec::with_capacity(raw_extras.len());
+        for ((key, x), c) in acc {
+            if !c.is_zero() {
+                terms.push((self.unpack_mono(set, &kernels, key, exps[x as usize]), c));
+            }
+        }
+        for (key, x, c, extra) in raw_extras {
+            extras.push((
+                self.unpack_mono(set, &kernels, key, exps[x as usize]),
+                c,
+                extra,
+            ));
+        }
+        Ok(Some((terms, extras)))
+    }
+
+    /// The monomial of packed powers over the kernel set `set` (its kernels `kernels`) and an
+    /// exponential; cached by key, so that a recurring monomial is not hashed as a list.
+    fn unpack_mono(
+        &mut self,
+        set: u32,
+        kernels: &[KernelId],
+        key: u128,
+        exp: Option<Form>,
+    ) -> MonoId {
+        if let Some(&m) = self.packed_monos.get(&(set, key, exp)) {
+            return m;
+        }
+        let mut pows = Vec::with_capacity(kernels.len());
+        for (lane, &k) in kernels.iter().enumerate() {
+            let v = ((key >> (LANE_BITS * lane as u32)) & 0xffff) as i32 - LANE_BIAS as i32;
+            if v != 0 {
+                pows.push((k, v));
+            }
+        }
+        let m = self.intern_mono(Mono { pows, exp });
+        self.packed_monos.insert((set, key, exp), m);
+        m
+    }
+
+    /// The product of two monomials' exponentials as [`Store::make_mono`] reduces it: the
+    /// exponent, a coefficient and a further factor; cached.
+    fn exp_mul(
+        &mut self,
+        a: Option<Form>,
+        b: Option<Form>,
+    ) -> CResult<(Option<Form>, Coeff, Form)> {
+        let key = if a <= b { (a, b) } else { (b, a) };
+        if let Some(r) = self.exp_mul_cache.get(&key) {
+            return Ok(r.clone());
+        }
+        let exp = match key {
+            (None, None) => None,
+            (Some(x), None) | (None, Some(x)) => Some(x),
+            (Some(x), Some(y)) => Some(self.add(x, y)?),
+        };
+        let (m, c, extra) = self.make_mono(Vec::new(), exp)?;
+        let r = (self.monos[m.0 as usize].exp, c, extra);
+        self.exp_mul_cache.insert(key, r.clone());
         Ok(r)
     }
 
@@ -640,6 +867,26 @@ impl Store {
         mut pows: Vec<(KernelId, i32)>,
         exp: Option<Form>,
     ) -> CResult<(MonoId, Coeff, Form)> {
+        let mut extra = self.reduce_roots(&mut pows)?;
+        let mut coeff = Coeff::one();
+        let exp = match exp {
+            Some(e) => {
+                let (rest, c, pulled) = self.split_exponent(e)?;
+                coeff = c;
+                if pulled != self.one {
+                    extra = self.mul(extra, pulled)?;
+                }
+                if rest == self.zero { None } else { Some(rest) }
+            }
+            None => None,
+        };
+        let m = self.intern_mono(Mono { pows, exp });
+        Ok((m, coeff, extra))
+    }
+
+    /// Brings root powers into `0..q` through `k^q = radicand`; returns the radicand powers
+    /// taken out.
+    fn reduce_roots(&mut self, pows: &mut Vec<(KernelId, i32)>) -> CResult<Form> {
         let mut extra = self.one;
         let mut i = 0;
         while i < pows.len() {
@@ -659,20 +906,7 @@ impl Store {
             }
             i += 1;
         }
-        let mut coeff = Coeff::one();
-        let exp = match exp {
-            Some(e) => {
-                let (rest, c, pulled) = self.split_exponent(e)?;
-                coeff = c;
-                if pulled != self.one {
-                    extra = self.mul(extra, pulled)?;
-                }
-                if rest == self.zero { None } else { Some(rest) }
-            }
-            None => None,
-        };
-        let m = self.intern_mono(Mono { pows, exp });
-        Ok((m, coeff, extra))
+        Ok(extra)
     }
 
     /// Splits an exponent E into (rest, c, p) with exp(E) = c * p * exp(rest):
