@@ -750,13 +750,15 @@ impl Store {
             }
             self.check_size(acc.len() + raw_extras.len())?;
         }
-        // Unpack: distinct keys are distinct monomials (no root kernel reduces).
-        let mut terms: Vec<Term> = Vec::with_capacity(acc.len());
+        // Unpack: distinct keys are distinct monomials (no root kernel reduces). In key order,
+        // so that new monomials are numbered independently of the hash map's order.
+        let mut keyed: Vec<((u128, u32), Coeff)> =
+            acc.into_iter().filter(|(_, c)| !c.is_zero()).collect();
+        keyed.sort_unstable_by_key(|t| t.0);
+        let mut terms: Vec<Term> = Vec::with_capacity(keyed.len());
         let mut extras: Vec<(MonoId, Coeff, Form)> = Vec::with_capacity(raw_extras.len());
-        for ((key, x), c) in acc {
-            if !c.is_zero() {
-                terms.push((self.unpack_mono(set, &kernels, key, exps[x as usize]), c));
-            }
+        for ((key, x), c) in keyed {
+            terms.push((self.unpack_mono(set, &kernels, key, exps[x as usize]), c));
         }
         for (key, x, c, extra) in raw_extras {
             extras.push((
