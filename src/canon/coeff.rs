@@ -202,6 +202,7 @@ fn big_q(n: i64, d: u64) -> Q {
     Q::new_raw(BigInt::from(n), BigInt::from(d))
 }
 
+#[inline]
 fn basis_product(a: u8, b: u8) -> (u8, i64) {
     let both = a & b;
     let mut f = 1i64;
@@ -256,6 +257,7 @@ impl Coeff {
     }
 
     /// `(n/d) * basis` from a small rational in lowest terms.
+    #[inline]
     fn small(n: i64, d: u64, basis: u8) -> Coeff {
         if n == 0 {
             Coeff::zero()
@@ -492,7 +494,20 @@ impl Coeff {
     }
 
     /// Sum.
+    #[inline]
     pub fn add(&self, o: &Coeff) -> Coeff {
+        // Integers times one basis element (nearly every coefficient of a polynomial), inline.
+        if let (Repr::Small(a, 1, e1), Repr::Small(c, 1, e2)) = (&self.repr, &o.repr)
+            && e1 == e2
+            && let Some(n) = a.checked_add(*c)
+            && n != i64::MIN
+        {
+            return Coeff::small(n, 1, *e1);
+        }
+        self.add_general(o)
+    }
+
+    fn add_general(&self, o: &Coeff) -> Coeff {
         if o.is_zero() {
             return self.clone();
         }
@@ -531,7 +546,21 @@ impl Coeff {
         self.add(&o.neg())
     }
     /// Product.
+    #[inline]
     pub fn mul(&self, o: &Coeff) -> Coeff {
+        // Integers times one basis element, inline.
+        if let (Repr::Small(a, 1, e1), Repr::Small(c, 1, e2)) = (&self.repr, &o.repr) {
+            let (e, f) = basis_product(*e1, *e2);
+            if let Some(n) = a.checked_mul(*c).and_then(|n| n.checked_mul(f))
+                && n != i64::MIN
+            {
+                return Coeff::small(n, 1, e);
+            }
+        }
+        self.mul_general(o)
+    }
+
+    fn mul_general(&self, o: &Coeff) -> Coeff {
         if self.is_zero() || o.is_zero() {
             return Coeff::zero();
         }
