@@ -118,6 +118,9 @@ type Poly = Vec<Term>;
 type Products = (Vec<Term>, Vec<(MonoId, Coeff, Form)>);
 /// The number of term pairs from which a product packs its exponents.
 const PACKED_MIN_PAIRS: usize = 32;
+/// The product of two monomials' exponentials: the exponent (none for 1), a coefficient and a
+/// further factor ([`Store::exp_mul`]).
+type ExpProduct = (Option<Form>, Coeff, Form);
 /// Kernels per packed exponent vector ([`Store::products_packed`]).
 const LANES: usize = 8;
 /// Bits per kernel in a packed exponent vector.
@@ -235,7 +238,7 @@ pub struct Store {
     rats: Vec<Rc<Rat>>,
     rat_ids: FxHashMap<Rc<Rat>, Form>,
     mono_mul_cache: FxHashMap<(MonoId, MonoId), (MonoId, Coeff, Form)>,
-    exp_mul_cache: FxHashMap<(Option<Form>, Option<Form>), (Option<Form>, Coeff, Form)>,
+    exp_mul_cache: FxHashMap<(Option<Form>, Option<Form>), ExpProduct>,
     /// The kernel lists of packed products ([`Store::products_packed`]), numbered.
     kernel_sets: FxHashMap<Vec<KernelId>, u32>,
     /// Monomials by kernel list, packed powers and exponential.
