@@ -461,6 +461,9 @@ impl Store {
                 format!("undeclared name `{n}`"),
                 span,
                 Some(match names.suggest(n) {
+                    _ if matches!(n, "i" | "I" | "j") => format!(
+                        "there is no imaginary unit: fields are real, so write a complex wave's real part with cos and sin; or declare `{n}` in [parameters] if it is one"
+                    ),
                     Some(s) => format!(
                         "did you mean `{s}`? Parameters go in [parameters], named subexpressions in [define]"
                     ),

@@ -736,6 +736,14 @@ fn undeclared_name_with_suggestion() {
 }
 
 #[test]
+fn the_imaginary_unit_is_not_a_name() {
+    let text = "[perturbation]\nxx = 'exp(i*(t - z))'\n";
+    let e = check_error(text, "undeclared name `i`", "i*", 0);
+    assert!(help(&e).contains("no imaginary unit"), "{}", help(&e));
+    assert!(help(&e).contains("cos and sin"), "{}", help(&e));
+}
+
+#[test]
 fn unknown_function() {
     let text = "[functions]\nF = 'u'\n[perturbation]\nxx = 'G(t)'\n";
     let e = check_error(text, "unknown function `G`", "G(", 0);
