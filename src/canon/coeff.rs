@@ -76,9 +76,10 @@ pub struct Coeff {
 #[derive(Clone, PartialEq, Eq, Debug)]
 enum Repr {
     Small(i64, u64, u8),
-    /// `(basis, numerator, denominator)`, two to eight of them.
-    Multi(Vec<(u8, i64, u64)>),
-    Parts(Vec<(u8, Q)>),
+    /// `(basis, numerator, denominator)`, two to eight of them. Boxed slices, not vectors, keep
+    /// a coefficient at 24 bytes (a term at 32).
+    Multi(Box<[(u8, i64, u64)]>),
+    Parts(Box<[(u8, Q)]>),
 }
 
 /// The components of a coefficient whose components are all small: `(basis, numerator,
@@ -109,7 +110,7 @@ fn of_small_parts(mut parts: Vec<(u8, i64, u64)>) -> Coeff {
             }
         }
         _ => Coeff {
-            repr: Repr::Multi(parts),
+            repr: Repr::Multi(parts.into_boxed_slice()),
         },
     }
 }
@@ -232,7 +233,7 @@ impl Coeff {
                     Some((n, d)) => out.push((*b, n, d)),
                     None => {
                         return Coeff {
-                            repr: Repr::Parts(parts),
+                            repr: Repr::Parts(parts.into_boxed_slice()),
                         };
                     }
                 }
@@ -240,7 +241,7 @@ impl Coeff {
             return of_small_parts(out);
         }
         Coeff {
-            repr: Repr::Parts(parts),
+            repr: Repr::Parts(parts.into_boxed_slice()),
         }
     }
 
@@ -431,7 +432,7 @@ impl Coeff {
             Repr::Small(0, _, _) => Some(Q::zero()),
             Repr::Small(n, d, 0) => Some(big_q(*n, *d)),
             Repr::Small(..) | Repr::Multi(_) => None,
-            Repr::Parts(p) => match p.as_slice() {
+            Repr::Parts(p) => match &**p {
                 [(0, q)] => Some(q.clone()),
                 _ => None,
             },
@@ -1269,6 +1270,13 @@ mod tests {
                     prop_assert!(x.mul(&x.inv().unwrap()).is_one());
                 }
             }
+        }
+
+        #[test]
+        fn a_coefficient_is_24_bytes() {
+            // Every term of every form holds one: boxed slices keep the heap variants at 16
+            // bytes of payload, so the enum is as small as its machine-word variant.
+            assert_eq!(std::mem::size_of::<Coeff>(), 24);
         }
 
         #[test]
