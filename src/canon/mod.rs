@@ -586,6 +586,10 @@ impl Store {
     /// the others summed per factor, multiplied once and added.
     fn finish_products(&mut self, (mut num, extras): Products) -> CResult<Rat> {
         num.sort_unstable_by_key(|t| t.0);
+        debug_assert!(
+            num.windows(2).all(|w| w[0].0 < w[1].0),
+            "a product's terms have distinct monomials"
+        );
         let mut r = Rat {
             num,
             den: Vec::new(),
