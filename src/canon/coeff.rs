@@ -1276,7 +1276,7 @@ mod tests {
         fn a_coefficient_is_24_bytes() {
             // Every term of every form holds one: boxed slices keep the heap variants at 16
             // bytes of payload, so the enum is as small as its machine-word variant.
-            assert_eq!(std::mem::size_of::<Coeff>(), 24);
+            assert!(std::mem::size_of::<Coeff>() <= 24);
         }
 
         #[test]

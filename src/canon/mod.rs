@@ -121,6 +121,8 @@ const PACKED_MIN_PAIRS: usize = 32;
 /// The product of two monomials' exponentials: the exponent (none for 1), a coefficient and a
 /// further factor ([`Store::exp_mul`]).
 type ExpProduct = (Option<Form>, Coeff, Form);
+/// The most pairs of distinct exponentials a packed product tabulates.
+const PAIR_TABLE_MAX: usize = 1 << 16;
 /// Kernels per packed exponent vector ([`Store::products_packed`]).
 const LANES: usize = 8;
 /// Bits per kernel in a packed exponent vector.
@@ -651,8 +653,8 @@ impl Store {
     /// kernels in both operands together): a product of powers is one addition, and terms are
     /// summed by packed key, so no intermediate monomial is interned. Exponentials are
     /// combined once per pair of distinct exponents, exactly as [`Store::make_mono`] does.
-    /// `None` when the operands have more kernels or larger exponents than the lanes hold, or
-    /// a root kernel.
+    /// `None` when the operands have more kernels or larger exponents than the lanes hold, a
+    /// root kernel, or too many distinct exponentials.
     fn products_packed<'p>(&mut self, a: &'p Poly, b: &'p Poly) -> CResult<Option<Products>> {
         // The kernels of both operands, sorted: lanes in kernel order unpack to sorted powers.
         let mut kernels: Vec<KernelId> = Vec::with_capacity(LANES);
@@ -723,6 +725,12 @@ impl Store {
         let mut exp_ids: FxHashMap<Option<Form>, u32> = FxHashMap::default();
         exp_ids.insert(None, 0);
         let nb = exps_b.len();
+        // The table of exponential products is dense: past PAIR_TABLE_MAX entries (operands
+        // with thousands of distinct exponentials each) it would outgrow the result, so such
+        // products keep the monomial route.
+        if exps_a.len() * nb > PAIR_TABLE_MAX {
+            return Ok(None);
+        }
         let mut pair: Vec<Option<(u32, Coeff, Form)>> = vec![None; exps_a.len() * nb];
         pair[0] = Some((0, Coeff::one(), self.one));
         let mut acc: FxHashMap<(u128, u32), Coeff> =
@@ -802,7 +810,8 @@ impl Store {
     }
 
     /// The product of two monomials' exponentials as [`Store::make_mono`] reduces it: the
-    /// exponent, a coefficient and a further factor; cached.
+    /// exponent, a coefficient and a further factor; cached. Both product routes
+    /// ([`Store::mono_mul`] and [`Store::products_packed`]) combine exponentials here.
     fn exp_mul(
         &mut self,
         a: Option<Form>,
@@ -866,12 +875,12 @@ impl Store {
         }
         pows.extend_from_slice(&pa[i..]);
         pows.extend_from_slice(&pb[j..]);
-        let exp = match (ma.exp, mb.exp) {
-            (None, None) => None,
-            (Some(x), None) | (None, Some(x)) => Some(x),
-            (Some(x), Some(y)) => Some(self.add(x, y)?),
-        };
-        let r = self.make_mono(pows, exp)?;
+        let (exp, coeff, exp_extra) = self.exp_mul(ma.exp, mb.exp)?;
+        let mut extra = self.reduce_roots(&mut pows)?;
+        if exp_extra != self.one {
+            extra = self.mul(extra, exp_extra)?;
+        }
+        let r = (self.intern_mono(Mono { pows, exp }), coeff, extra);
         self.mono_mul_cache.insert(key, r.clone());
         Ok(r)
     }
