@@ -137,6 +137,46 @@ const LANE_MAX: i32 = 1 << 13;
 /// the numerator's coefficient per monomial.
 type DenGroup = (Vec<(FactorId, u32)>, FxHashMap<MonoId, Coeff>);
 
+/// A linear combination being summed: its terms by denominator, in order of first
+/// appearance ([`Store::linear`], [`Store::dot`]).
+#[derive(Default)]
+struct Combination {
+    groups: Vec<DenGroup>,
+    total: usize,
+}
+
+impl Combination {
+    /// Adds `k * r`; returns the largest group's term count so far (for the size limit).
+    fn add(&mut self, k: &Coeff, r: &Rat) -> usize {
+        let g = match self.groups.iter().position(|(d, _)| *d == r.den) {
+            Some(i) => i,
+            None => {
+                self.groups.push((r.den.clone(), FxHashMap::default()));
+                self.groups.len() - 1
+            }
+        };
+        let acc = &mut self.groups[g].1;
+        let unit = k.is_one();
+        for (m, c) in &r.num {
+            let scaled;
+            let c = if unit {
+                c
+            } else {
+                scaled = c.mul(k);
+                &scaled
+            };
+            match acc.get_mut(m) {
+                Some(e) => *e = e.add(c),
+                None => {
+                    acc.insert(*m, c.clone());
+                }
+            }
+        }
+        self.total = self.total.max(acc.len());
+        self.total
+    }
+}
+
 #[derive(Clone, PartialEq, Eq, Debug)]
 struct Rat {
     num: Poly,
@@ -252,6 +292,8 @@ pub struct Store {
     dlog_mono_cache: FxHashMap<(MonoId, KernelId), Form>,
     deps_cache: FxHashMap<KernelId, Rc<[KernelId]>>,
     form_deps_cache: FxHashMap<Form, Rc<[KernelId]>>,
+    /// Real and imaginary parts of exponents ([`Store::split_re_im`]), for the printers.
+    re_im_cache: FxHashMap<Form, (Form, Form)>,
     /// Root kernels `sqrt(u^2)` and `sqrt(x^2 + y^2)` built by [`Store::sqrt_of_squares`]
     /// for `abs` and `atan2` of arguments shown real: their radicand is `>= 0`
     /// ([`Store::is_real_shown`]).
@@ -306,6 +348,7 @@ impl Store {
             dlog_mono_cache: FxHashMap::default(),
             deps_cache: FxHashMap::default(),
             form_deps_cache: FxHashMap::default(),
+            re_im_cache: FxHashMap::default(),
             square_roots: rustc_hash::FxHashSet::default(),
             atan2_args: FxHashMap::default(),
             abs_args: FxHashMap::default(),
@@ -1007,16 +1050,30 @@ impl Store {
 
     /// Interns a quotient after cancelling every denominator factor that divides the
     /// numerator exactly, so that (x + 1)/(x + 1) is 1 and equal quotients share one form.
-    fn intern_cancelled(&mut self, mut r: Rat) -> Form {
+    fn intern_cancelled(&mut self, r: Rat) -> Form {
+        if let Some(&id) = self.rat_ids.get(&r) {
+            return id;
+        }
+        let r = self.divide_out(r);
+        self.intern_rat(r)
+    }
+
+    /// `r` as [`Store::intern_cancelled`] would intern it, not interned.
+    fn cancelled(&mut self, r: Rat) -> Rat {
+        // A quotient already in the store was interned as the result of this cancellation
+        // (or needs none: a constant over factors), so trying again would change nothing.
+        if self.rat_ids.contains_key(&r) {
+            return r;
+        }
+        self.divide_out(r)
+    }
+
+    /// `r` with the denominator factors that divide its numerator exactly divided out.
+    fn divide_out(&mut self, mut r: Rat) -> Rat {
         // Trial division costs about |N| |F| per factor and attempt; large numerators (deep in a
         // tensor computation) skip it: cancellation is for readable and unique small forms,
         // the zero test does not need it.
         const CANCEL_MAX_TERMS: usize = 48;
-        // A quotient already in the store was interned as the result of this cancellation
-        // (or needs none: a constant over factors), so trying again would change nothing.
-        if let Some(&id) = self.rat_ids.get(&r) {
-            return id;
-        }
         if !r.den.is_empty() && !r.num.is_empty() && r.num.len() <= CANCEL_MAX_TERMS {
             let mut den = Vec::with_capacity(r.den.len());
             for (fid, mut e) in std::mem::take(&mut r.den) {
@@ -1036,7 +1093,7 @@ impl Store {
             }
             r.den = den;
         }
-        self.intern_rat(r)
+        r
     }
 
     /// `n / f` when `f` divides `n` exactly as polynomials in the kernels (exponentials of
@@ -1280,42 +1337,57 @@ impl Store {
             self.check_size(self.rats[f.0 as usize].num.len())?;
             return Ok(f);
         }
-        let mut groups: Vec<DenGroup> = Vec::new();
-        let mut total = 0usize;
+        let mut acc = Combination::default();
         for &(k, f) in terms {
             if f == self.zero || k.is_zero() {
                 continue;
             }
-            let r = &self.rats[f.0 as usize];
-            let g = match groups.iter().position(|(d, _)| *d == r.den) {
-                Some(i) => i,
-                None => {
-                    groups.push((r.den.clone(), FxHashMap::default()));
-                    groups.len() - 1
-                }
-            };
-            let acc = &mut groups[g].1;
-            let unit = k.is_one();
-            for (m, c) in &r.num {
-                let scaled;
-                let c = if unit {
-                    c
-                } else {
-                    scaled = c.mul(k);
-                    &scaled
-                };
-                match acc.get_mut(m) {
-                    Some(e) => *e = e.add(c),
-                    None => {
-                        acc.insert(*m, c.clone());
-                    }
-                }
-            }
-            total = total.max(acc.len());
+            let total = acc.add(k, &self.rats[f.0 as usize]);
             self.check_size(total)?;
         }
+        self.finish_combination(acc)
+    }
+
+    /// `sum_k a_k b_k`, equal to [`Store::sum`] of the [`Store::mul`] products but built
+    /// once: each product is formed and cancelled exactly as `mul` forms and cancels it,
+    /// added to the sum and dropped, so no product is interned (memory is the result's).
+    ///
+    /// # Errors
+    ///
+    /// A size or time limit.
+    pub fn dot(&mut self, pairs: &[(Form, Form)]) -> CResult<Form> {
+        let live: Vec<(Form, Form)> = pairs
+            .iter()
+            .copied()
+            .filter(|&(a, b)| a != self.zero && b != self.zero)
+            .collect();
+        if let [(a, b)] = live.as_slice() {
+            return self.mul(*a, *b);
+        }
+        let one = Coeff::one();
+        let mut acc = Combination::default();
+        for (a, b) in live {
+            let total = if a == self.one || b == self.one {
+                let f = if a == self.one { b } else { a };
+                acc.add(&one, &self.rats[f.0 as usize])
+            } else {
+                // Formed and cancelled as `mul` forms and cancels it.
+                let r = self.product_rat(a, b)?;
+                if r.num.is_empty() {
+                    continue;
+                }
+                let r = self.cancelled(r);
+                acc.add(&one, &r)
+            };
+            self.check_size(total)?;
+        }
+        self.finish_combination(acc)
+    }
+
+    /// Interns every denominator group of `acc` and adds them.
+    fn finish_combination(&mut self, acc: Combination) -> CResult<Form> {
         let mut out = self.zero;
-        for (den, acc) in groups {
+        for (den, acc) in acc.groups {
             let num = Self::sort_terms(acc);
             let den = if num.is_empty() { Vec::new() } else { den };
             let g = self.intern_cancelled(Rat { num, den });
@@ -1360,11 +1432,24 @@ impl Store {
         if b == self.one {
             return Ok(a);
         }
+        let r = self.product_rat(a, b)?;
+        if r.num.is_empty() {
+            return Ok(self.zero);
+        }
+        Ok(self.intern_cancelled(r))
+    }
+
+    /// The quotient `a * b` before cancellation (a zero product has no terms); `a` and `b`
+    /// neither zero nor one.
+    fn product_rat(&mut self, a: Form, b: Form) -> CResult<Rat> {
         let ra = self.rats[a.0 as usize].clone();
         let rb = self.rats[b.0 as usize].clone();
         let prod = self.poly_mul(&ra.num, &rb.num)?;
         if prod.num.is_empty() {
-            return Ok(self.zero);
+            return Ok(Rat {
+                num: Vec::new(),
+                den: Vec::new(),
+            });
         }
         let mut den = prod.den;
         for &(f, e) in ra.den.iter().chain(&rb.den) {
@@ -1373,7 +1458,7 @@ impl Store {
                 Err(i) => den.insert(i, (f, e)),
             }
         }
-        Ok(self.intern_cancelled(Rat { num: prod.num, den }))
+        Ok(Rat { num: prod.num, den })
     }
 
     /// `1 / a`; an error if `a` is identically zero.

@@ -525,6 +525,15 @@ impl Store {
     /// Splits an exponent into real and imaginary parts, each a form; `None` if the exponent
     /// has a denominator.
     pub(super) fn split_re_im(&mut self, e: Form) -> Option<(Form, Form)> {
+        if let Some(&parts) = self.re_im_cache.get(&e) {
+            return Some(parts);
+        }
+        let parts = self.split_re_im_uncached(e)?;
+        self.re_im_cache.insert(e, parts);
+        Some(parts)
+    }
+
+    fn split_re_im_uncached(&mut self, e: Form) -> Option<(Form, Form)> {
         // E = P + iQ with P = (E + E*)/2 and Q = (E - E*)/(2i), where E* conjugates every
         // coefficient and exponent but keeps kernels: an algebraic identity for any E, and
         // the true real and imaginary parts when the kernels are real.
@@ -571,6 +580,42 @@ impl Store {
         plain
     }
 
+    /// How a term's exponential `exp(e)` prints: `(raw, re, phase, sign)` with `raw` the
+    /// exponent when it does not split into real and imaginary parts, `re` the real part
+    /// (`None` if 0), and `phase` the imaginary part with the sign (`sign`, +1 or -1) that
+    /// makes its printed first coefficient positive (a phase the file named prints as
+    /// named).
+    fn print_split(&mut self, e: Form) -> (Option<Form>, Option<Form>, Option<Form>, i32) {
+        let Some((re, im)) = self.split_re_im(e) else {
+            return (Some(e), None, None, 1);
+        };
+        let re = (re != self.zero).then_some(re);
+        if im == self.zero {
+            return (None, re, None, 1);
+        }
+        // Decide on the uncollected sum, whose first term carries the sign.
+        let named = self
+            .naming
+            .as_ref()
+            .map(|n| (n.forms.contains_key(&im), n.negated.contains_key(&im)));
+        let im_num = self.rats[im.0 as usize].num.clone();
+        let neg = match named {
+            Some((true, _)) => false,
+            Some((false, true)) => true,
+            _ => match self.pretty_poly(&im_num, &Coeff::one()) {
+                Pretty::Sum(ts) => ts.first().map(|t| leading_num(t).looks_negative()),
+                t => Some(leading_num(&t).looks_negative()),
+            }
+            .unwrap_or(false),
+        };
+        if neg {
+            let nim = self.neg(im).unwrap_or(im);
+            (None, re, Some(nim), -1)
+        } else {
+            (None, re, Some(im), 1)
+        }
+    }
+
     fn pretty_poly_plain(&mut self, p: &super::Poly, scale: &Coeff) -> Pretty {
         // Group terms by (kernel powers, real exponent, |imaginary exponent|).
         type Key = (
@@ -581,48 +626,24 @@ impl Store {
         );
         let mut groups: FxHashMap<Key, (Coeff, Coeff)> = FxHashMap::default();
         let mut order: Vec<Key> = Vec::new();
+        // How each exponential prints (raw, real part, phase, sign of the phase): many terms
+        // share one exponential.
+        type Split = (Option<Form>, Option<Form>, Option<Form>, i32);
+        let mut splits: FxHashMap<Form, Split> = FxHashMap::default();
         for (m, c) in p {
             let c = c.mul(scale);
-            let mono = self.monos[m.0 as usize].clone();
-            let (raw, re, im, sign) = match mono.exp {
+            let mono = &self.monos[m.0 as usize];
+            let (pows, exp) = (mono.pows.clone(), mono.exp);
+            let (raw, re, im, sign) = match exp {
                 None => (None, None, None, 1),
-                Some(e) => match self.split_re_im(e) {
-                    None => (Some(e), None, None, 1),
-                    Some((re, im)) => {
-                        let re = (re != self.zero).then_some(re);
-                        if im == self.zero {
-                            (None, re, None, 1)
-                        } else {
-                            // Choose the sign of Q whose printed first coefficient is positive.
-                            // Decide on the uncollected sum, whose first term carries the sign.
-                            // A phase the file named is printed as named.
-                            let named = self
-                                .naming
-                                .as_ref()
-                                .map(|n| (n.forms.contains_key(&im), n.negated.contains_key(&im)));
-                            let im_num = self.rats[im.0 as usize].num.clone();
-                            let neg = match named {
-                                Some((true, _)) => false,
-                                Some((false, true)) => true,
-                                _ => match self.pretty_poly(&im_num, &Coeff::one()) {
-                                    Pretty::Sum(ts) => {
-                                        ts.first().map(|t| leading_num(t).looks_negative())
-                                    }
-                                    t => Some(leading_num(&t).looks_negative()),
-                                }
-                                .unwrap_or(false),
-                            };
-                            if neg {
-                                let nim = self.neg(im).unwrap_or(im);
-                                (None, re, Some(nim), -1)
-                            } else {
-                                (None, re, Some(im), 1)
-                            }
-                        }
-                    }
-                },
+                Some(e) if splits.contains_key(&e) => splits[&e],
+                Some(e) => {
+                    let split = self.print_split(e);
+                    splits.insert(e, split);
+                    split
+                }
             };
-            let key = (mono.pows.clone(), raw, re, im);
+            let key = (pows, raw, re, im);
             let entry = groups.entry(key.clone()).or_insert_with(|| {
                 order.push(key);
                 (Coeff::zero(), Coeff::zero())

@@ -761,3 +761,59 @@ fn packed_products_are_the_monomial_products() {
     );
     assert!(st.products_packed(&a, &b).unwrap().is_none());
 }
+
+/// `Store::dot` builds `sum a_k b_k` without interning the products; it must be the very form
+/// that `sum` of `mul` gives (same cancellation, same grouping), on products that cancel a
+/// denominator, that vanish, that involve one and zero, and that share denominators.
+#[test]
+fn dot_is_the_sum_of_the_products() {
+    let seed = std::env::var("LINGRAV_SEED")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(20261205u64);
+    println!("seed {seed}");
+    let mut state = seed;
+    let mut next = |n: u64| {
+        // SplitMix64.
+        state = state.wrapping_add(0x9e37_79b9_7f4a_7c15);
+        let mut z = state;
+        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+        (z ^ (z >> 31)) % n
+    };
+    const FORMS: [&str; 12] = [
+        "0",
+        "1",
+        "x + 1",
+        "1/(x + 1)",
+        "y*(x + 1)/(r - 2*M)",
+        "(r - 2*M)/(x + 1)^2",
+        "r^2*sin(th)/(r - 2*M)",
+        "cos(th) - x/r",
+        "-cos(th) + x/r",
+        "(x^2 - 1)/(r^2 + 1)",
+        "exp(-x^2)*(r^2 + 1)",
+        "3/2",
+    ];
+    for round in 0..200 {
+        let mut st = Store::new();
+        let n = 1 + next(6) as usize;
+        let texts: Vec<(&str, &str)> = (0..n)
+            .map(|_| (FORMS[next(12) as usize], FORMS[next(12) as usize]))
+            .collect();
+        let pairs: Vec<(Form, Form)> = texts
+            .iter()
+            .map(|&(a, b)| (form(&mut st, a), form(&mut st, b)))
+            .collect();
+        let got = st.dot(&pairs).unwrap();
+        let products: Vec<Form> = pairs.iter().map(|&(a, b)| st.mul(a, b).unwrap()).collect();
+        let want = st.sum(&products).unwrap();
+        assert_eq!(
+            got,
+            want,
+            "seed {seed}, round {round}: {texts:?}: {} against {}",
+            st.to_text(got),
+            st.to_text(want)
+        );
+    }
+}

@@ -39,14 +39,7 @@ fn half() -> Coeff {
 
 /// The sum of the products `a_i * b_i`, zero factors skipped.
 fn dot(store: &mut Store, pairs: &[(Form, Form)]) -> CResult<Form> {
-    let zero = store.zero();
-    let mut terms = Vec::with_capacity(pairs.len());
-    for &(a, b) in pairs {
-        if a != zero && b != zero {
-            terms.push(store.mul(a, b)?);
-        }
-    }
-    store.sum(&terms)
+    store.dot(pairs)
 }
 
 /// A combination `sum c_i * f_i` with integer coefficients.
