@@ -1273,34 +1273,68 @@ impl Store {
         let mb = missing(&rb.den);
         let xa = self.expand_factors(&ma)?;
         let xb = self.expand_factors(&mb)?;
-        let na = self.intern_rat(Rat {
-            num: ra.num.clone(),
-            den: Vec::new(),
-        });
-        let nb = self.intern_rat(Rat {
-            num: rb.num.clone(),
-            den: Vec::new(),
-        });
-        let pa = self.mul(na, xa)?;
-        let pb = self.mul(nb, xb)?;
-        let sum = self.add(pa, pb)?;
+        // The numerators times the missing factors, and their sum, as `mul` and `add` would
+        // intern them but not interned: only the result is kept.
+        let pa = self.numerator_times(&ra.num, xa)?;
+        let pb = self.numerator_times(&rb.num, xb)?;
+        let rs = if pa.num.is_empty() {
+            pb
+        } else if pb.num.is_empty() {
+            pa
+        } else if pa.den == pb.den {
+            let num = Self::poly_add(&pa.num, &pb.num);
+            self.check_size(num.len())?;
+            let den = if num.is_empty() { Vec::new() } else { pa.den };
+            self.cancelled(Rat { num, den })
+        } else {
+            // Denominators from root reductions: the general sum.
+            let (fa, fb) = (self.intern_rat(pa), self.intern_rat(pb));
+            let sum = self.add(fa, fb)?;
+            (*self.rats[sum.0 as usize]).clone()
+        };
         // pa, pb came from numerators times polynomials: their own denominators (from root
-        // reductions) are merged by the recursive add; now divide by the common denominator.
-        let rs = self.rats[sum.0 as usize].clone();
+        // reductions) are merged in their sum; now divide by the common denominator.
         if rs.num.is_empty() {
             return Ok(self.zero);
         }
-        let mut den = rs.den.clone();
+        let Rat { num, mut den } = rs;
         for (f, e) in lcm {
             match den.binary_search_by_key(&f, |p| p.0) {
                 Ok(i) => den[i].1 += e,
                 Err(i) => den.insert(i, (f, e)),
             }
         }
-        Ok(self.intern_cancelled(Rat {
-            num: rs.num.clone(),
-            den,
-        }))
+        Ok(self.intern_cancelled(Rat { num, den }))
+    }
+
+    /// `num * x` (`num` a numerator, `x` nonzero) as [`Store::mul`] forms and cancels it, not
+    /// interned (a zero product has no terms).
+    fn numerator_times(&mut self, num: &Poly, x: Form) -> CResult<Rat> {
+        let rx = self.rats[x.0 as usize].clone();
+        if x == self.one {
+            return Ok(Rat {
+                num: num.clone(),
+                den: Vec::new(),
+            });
+        }
+        if *num == self.rats[self.one.0 as usize].num {
+            return Ok((*rx).clone());
+        }
+        let prod = self.poly_mul(num, &rx.num)?;
+        if prod.num.is_empty() {
+            return Ok(Rat {
+                num: Vec::new(),
+                den: Vec::new(),
+            });
+        }
+        let mut den = prod.den;
+        for &(f, e) in &rx.den {
+            match den.binary_search_by_key(&f, |p| p.0) {
+                Ok(i) => den[i].1 += e,
+                Err(i) => den.insert(i, (f, e)),
+            }
+        }
+        Ok(self.cancelled(Rat { num: prod.num, den }))
     }
 
     /// The sum of many forms, built once: forms with the same denominator are merged in one

@@ -817,3 +817,31 @@ fn dot_is_the_sum_of_the_products() {
         );
     }
 }
+
+/// A sum over different denominators brings both numerators to the common denominator
+/// without interning them, their products with the missing factors or their sum: the store
+/// grows by the result and the expanded missing factors only. Its value is the sum's.
+#[test]
+fn a_sum_over_different_denominators_keeps_only_its_result() {
+    let mut st = Store::new();
+    let a = form(&mut st, "(x^3 + y*x + 2)/((r - 2*M)^2*(x + 1))");
+    let b = form(&mut st, "(y^2 - x)/((r - 2*M)*(y + 3))");
+    // The missing factors, interned ahead so that only the sum's own forms are counted.
+    form(&mut st, "r - 2*M");
+    form(&mut st, "(x + 1)*(r - 2*M)");
+    form(&mut st, "y + 3");
+    let before = st.rats.len();
+    let s = st.add(a, b).unwrap();
+    assert_eq!(
+        st.rats.len(),
+        before + 1,
+        "{} forms interned for one sum",
+        st.rats.len() - before
+    );
+    let want = form(
+        &mut st,
+        "((x^3 + y*x + 2)*(y + 3) + (y^2 - x)*(r - 2*M)*(x + 1))/((r - 2*M)^2*(x + 1)*(y + 3))",
+    );
+    let d = st.sub(s, want).unwrap();
+    assert!(st.is_zero(d), "{}", st.to_text(d));
+}
