@@ -1243,6 +1243,15 @@ impl Store {
         }
         let ra = self.rats[a.0 as usize].clone();
         let rb = self.rats[b.0 as usize].clone();
+        let r = self.sum_rat(&ra, &rb)?;
+        Ok(self.intern_cancelled(r))
+    }
+
+    /// `ra + rb` (both nonzero) before the final cancellation, not interned: over the
+    /// common denominator, the numerators times the missing factors formed, cancelled and
+    /// summed as [`Store::mul`] and [`Store::add`] would intern them, but only the caller
+    /// keeps the result.
+    fn sum_rat(&mut self, ra: &Rat, rb: &Rat) -> CResult<Rat> {
         if ra.den == rb.den {
             let num = Self::poly_add(&ra.num, &rb.num);
             self.check_size(num.len())?;
@@ -1251,7 +1260,7 @@ impl Store {
             } else {
                 ra.den.clone()
             };
-            return Ok(self.intern_cancelled(Rat { num, den }));
+            return Ok(Rat { num, den });
         }
         // Common denominator: the factor-wise maximum of the exponents.
         let mut lcm = ra.den.clone();
@@ -1273,29 +1282,23 @@ impl Store {
         let mb = missing(&rb.den);
         let xa = self.expand_factors(&ma)?;
         let xb = self.expand_factors(&mb)?;
-        // The numerators times the missing factors, and their sum, as `mul` and `add` would
-        // intern them but not interned: only the result is kept.
         let pa = self.numerator_times(&ra.num, xa)?;
         let pb = self.numerator_times(&rb.num, xb)?;
+        // pa, pb came from numerators times polynomials: their own denominators (from root
+        // reductions) are merged in their sum; then divide by the common denominator.
         let rs = if pa.num.is_empty() {
             pb
         } else if pb.num.is_empty() {
             pa
-        } else if pa.den == pb.den {
-            let num = Self::poly_add(&pa.num, &pb.num);
-            self.check_size(num.len())?;
-            let den = if num.is_empty() { Vec::new() } else { pa.den };
-            self.cancelled(Rat { num, den })
         } else {
-            // Denominators from root reductions: the general sum.
-            let (fa, fb) = (self.intern_rat(pa), self.intern_rat(pb));
-            let sum = self.add(fa, fb)?;
-            (*self.rats[sum.0 as usize]).clone()
+            let sum = self.sum_rat(&pa, &pb)?;
+            self.cancelled(sum)
         };
-        // pa, pb came from numerators times polynomials: their own denominators (from root
-        // reductions) are merged in their sum; now divide by the common denominator.
         if rs.num.is_empty() {
-            return Ok(self.zero);
+            return Ok(Rat {
+                num: Vec::new(),
+                den: Vec::new(),
+            });
         }
         let Rat { num, mut den } = rs;
         for (f, e) in lcm {
@@ -1304,7 +1307,7 @@ impl Store {
                 Err(i) => den.insert(i, (f, e)),
             }
         }
-        Ok(self.intern_cancelled(Rat { num, den }))
+        Ok(Rat { num, den })
     }
 
     /// `num * x` (`num` a numerator, `x` nonzero) as [`Store::mul`] forms and cancels it, not
@@ -1419,15 +1422,33 @@ impl Store {
     }
 
     /// Interns every denominator group of `acc` and adds them.
+    /// The groups are added in order as [`Store::add`] would add their interned forms, but
+    /// only the final sum is interned.
     fn finish_combination(&mut self, acc: Combination) -> CResult<Form> {
-        let mut out = self.zero;
+        // The sum so far before its cancellation (`None`: zero).
+        let mut out: Option<Rat> = None;
         for (den, acc) in acc.groups {
             let num = Self::sort_terms(acc);
-            let den = if num.is_empty() { Vec::new() } else { den };
-            let g = self.intern_cancelled(Rat { num, den });
-            out = self.add(out, g)?;
+            if num.is_empty() {
+                continue;
+            }
+            let g = Rat { num, den };
+            out = Some(match out {
+                None => g,
+                Some(o) => {
+                    let (o, g) = (self.cancelled(o), self.cancelled(g));
+                    if o.num.is_empty() {
+                        g
+                    } else {
+                        self.sum_rat(&o, &g)?
+                    }
+                }
+            });
         }
-        Ok(out)
+        Ok(match out {
+            None => self.zero,
+            Some(r) => self.intern_cancelled(r),
+        })
     }
 
     /// `-a`.

@@ -845,3 +845,36 @@ fn a_sum_over_different_denominators_keeps_only_its_result() {
     let d = st.sub(s, want).unwrap();
     assert!(st.is_zero(d), "{}", st.to_text(d));
 }
+
+/// A sum of terms over several denominators adds its groups without interning them or the
+/// partial sums: the store grows by the result (and the expanded missing factors) only.
+#[test]
+fn a_sum_over_several_denominators_keeps_only_its_result() {
+    let mut st = Store::new();
+    let terms: Vec<Form> = [
+        "(x^2 + y)/(x + 1)",
+        "(y^3 - 2*x)/(y + 3)",
+        "x*y/(x + 1)",
+        "(r^2 + x)/(r - 2*M)",
+    ]
+    .iter()
+    .map(|t| form(&mut st, t))
+    .collect();
+    for t in ["x + 1", "y + 3", "r - 2*M", "(x + 1)*(y + 3)"] {
+        form(&mut st, t);
+    }
+    let before = st.rats.len();
+    let s = st.sum(&terms).unwrap();
+    assert_eq!(
+        st.rats.len(),
+        before + 1,
+        "{} forms interned for one sum",
+        st.rats.len() - before
+    );
+    let want = form(
+        &mut st,
+        "(x^2 + y + x*y)/(x + 1) + (y^3 - 2*x)/(y + 3) + (r^2 + x)/(r - 2*M)",
+    );
+    let d = st.sub(s, want).unwrap();
+    assert!(st.is_zero(d), "{}", st.to_text(d));
+}
