@@ -5,8 +5,10 @@
 //! What is timed is what `lingrav check FILE` computes: reading and building the problem,
 //! checking every claim (those about h and those about the radiation of bodies) and the
 //! independent audit of every verdict (`lingrav::check_problem`, as the command calls it); not
-//! the rendering of the report (microseconds). One untimed warm-up run, then runs until `REPEAT` (default 3)
-//! samples or 10 s are collected; prints `FILE median_seconds samples` per file, or
+//! the rendering of the report (microseconds for most files, but a large failing residual's
+//! display, built in the file's terms with its sines and cosines regrouped, can take as long
+//! as its check: see the whole-process column of `benches/engine_ratios.sh`). One untimed
+//! warm-up run, then runs until `REPEAT` (default 3) samples or 10 s are collected; prints `FILE median_seconds samples` per file, or
 //! `FILE error MESSAGE` when the file does not load.
 //!
 //! Usage: cargo bench --bench check_files -- FILE...
