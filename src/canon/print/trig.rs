@@ -159,11 +159,11 @@ fn binomial(n: u32, k: u32) -> num_bigint::BigInt {
     r
 }
 
-/// `c * prod_j (cos G_j +- i sin G_j)^|n_j|` added into `out`.
-fn expand_into(out: &mut Expansion, c: &Coeff, n: &[i32]) {
+/// `prod_j (cos G_j +- i sin G_j)^|n_j|` expanded (zero coefficients kept).
+fn expansion(n: &[i32]) -> Expansion {
     let m = n.len();
     let mut acc: Expansion = BTreeMap::new();
-    acc.insert(vec![0; 2 * m], c.clone());
+    acc.insert(vec![0; 2 * m], Coeff::one());
     for (j, &nj) in n.iter().enumerate() {
         if nj == 0 {
             continue;
@@ -187,10 +187,7 @@ fn expand_into(out: &mut Expansion, c: &Coeff, n: &[i32]) {
         }
         acc = next;
     }
-    for (e, v) in acc {
-        let slot = out.entry(e).or_insert_with(Coeff::zero);
-        *slot = slot.add(&v);
-    }
+    acc
 }
 
 /// Brings each angle's monomials of one parity to the highest degree of that parity by
@@ -282,14 +279,25 @@ impl Store {
             };
             terms.push(((mono.pows.clone(), re), angle, c.mul(scale)));
         }
-        // Distinct angles up to sign.
+        // Distinct angles up to sign, and each term's angle as (index, sign).
         let mut angles: Vec<Angle> = Vec::new();
+        let mut placed: Vec<Option<(usize, i32)>> = Vec::with_capacity(terms.len());
         for (_, a, _) in &terms {
-            let Some(a) = a else { continue };
-            let neg = scaled(a, &-Q::one());
-            if !angles.contains(a) && !angles.contains(&neg) {
-                angles.push(a.clone());
+            let Some(a) = a else {
+                placed.push(None);
+                continue;
+            };
+            if let Some(i) = angles.iter().position(|x| x == a) {
+                placed.push(Some((i, 1)));
+                continue;
             }
+            let neg = scaled(a, &-Q::one());
+            if let Some(i) = angles.iter().position(|x| *x == neg) {
+                placed.push(Some((i, -1)));
+                continue;
+            }
+            placed.push(Some((angles.len(), 1)));
+            angles.push(a.clone());
         }
         if angles.is_empty() || angles.len() > MAX_ANGLES {
             return None;
@@ -372,7 +380,7 @@ impl Store {
                     // Every angle is one of the angles: nothing to write as a product.
                     continue;
                 }
-                let Some(t) = self.expanded_products(&terms, &angles, gens, n) else {
+                let Some(t) = self.expanded_products(&terms, &placed, gens, n) else {
                     continue;
                 };
                 let len = to_text(&t).len();
@@ -385,12 +393,12 @@ impl Store {
     }
 
     /// The terms with every angle written through the generators `gens` (`n[i]`: the
-    /// coordinates of `angles[i]`); `None` if a coefficient is not real or the expansion is
-    /// too large.
+    /// coordinates of angle `i`; `placed[t]`: the index and sign of term `t`'s angle);
+    /// `None` if a coefficient is not real or the expansion is too large.
     fn expanded_products(
         &mut self,
         terms: &[(Key, Option<Angle>, Coeff)],
-        angles: &[Angle],
+        placed: &[Option<(usize, i32)>],
         mut gens: Vec<Angle>,
         mut n: Vec<Vec<i32>>,
     ) -> Option<Pretty> {
@@ -416,18 +424,13 @@ impl Store {
         }
         // Expand per group of other factors.
         let mut groups: Vec<(Key, Expansion)> = Vec::new();
-        for (key, a, c) in terms {
-            let row: Vec<i32> = match a {
+        // The expansion of prod_j (cos G_j + i sin G_j)^(n_j) for each row met (many terms
+        // share an angle).
+        let mut expansions: rustc_hash::FxHashMap<Vec<i32>, Expansion> = Default::default();
+        for ((key, _, c), at) in terms.iter().zip(placed) {
+            let row: Vec<i32> = match *at {
                 None => vec![0; m],
-                Some(a) => {
-                    let neg = scaled(a, &-Q::one());
-                    let (i, s) = angles
-                        .iter()
-                        .position(|x| x == a)
-                        .map(|i| (i, 1))
-                        .or_else(|| angles.iter().position(|x| *x == neg).map(|i| (i, -1)))?;
-                    n[i].iter().map(|k| k * s).collect()
-                }
+                Some((i, s)) => n[i].iter().map(|k| k * s).collect(),
             };
             let slot = match groups.iter().position(|g| g.0 == *key) {
                 Some(i) => &mut groups[i].1,
@@ -436,7 +439,13 @@ impl Store {
                     &mut groups.last_mut()?.1
                 }
             };
-            expand_into(slot, c, &row);
+            let unit = expansions
+                .entry(row)
+                .or_insert_with_key(|row| expansion(row));
+            for (e, v) in unit.iter() {
+                let t = slot.entry(e.clone()).or_insert_with(Coeff::zero);
+                *t = t.add(&v.mul(c));
+            }
             if slot.len() > MAX_MONOMIALS {
                 return None;
             }
