@@ -32,7 +32,7 @@
 //! samples and are evaluated as fused stencil passes along lines; here they are not linear,
 //! so each measured point gathers its own derivatives (`15` per second-order channel) and
 //! runs the chain once. Memory is that of the flat sweep (a ring of `(order + 2)` slabs of
-//! the `t`-dependent channels and one slab of the others), whose [`super::sweep::Window`] it
+//! the `t`-dependent channels and one slab of the others), whose `sweep::Window` it
 //! reads; the time per measured point is that of one curvature chain over dual numbers.
 
 use super::claims::{Deriv, Field};

@@ -33,9 +33,9 @@
 //!
 //! Key design decision: memory stays bounded by streaming ([`sweep`], over `x` with every `t`
 //! held, or over `t` when the box is longer in `t`): only a ring of the `q + 2` slabs (3-d
-//! cuts of the lattice) that the stencils being evaluated reach is held, plus one slab of the
-//! channels that do not depend on `t`: about `(q + 3) * n^3 * channels * 8` bytes for `n`
-//! points per side, never `n^4`.
+//! cuts of the lattice; `q + 4` on several threads) that the stencils being evaluated reach
+//! is held, plus one slab of the channels that do not depend on `t`: about
+//! `(q + 3) * n^3 * channels * 8` bytes for `n` points per side, never `n^4`.
 //!
 //! **Invariants:** no symbolic derivative of `h` or `T` is taken here (samples of arbitrary
 //! functions are differentiated symbolically, which defines the sample, not the
@@ -454,13 +454,14 @@ pub struct Estimate {
 
 impl GridPlan {
     /// The cost of running `settings`: per resolution of `n` points per side, `n^4` lattice
-    /// points each evaluating the tape and every claim's stencils, and `(order + 2)` slabs of
-    /// `n^3` points of every `t`-dependent channel plus one slab of the others in memory.
+    /// points each evaluating the tape and every claim's stencils, and the sweep's ring
+    /// (`order + 2` slabs of `n^3` points of every `t`-dependent channel, `order + 4` on
+    /// several threads) plus one slab of the others in memory.
     #[must_use]
     pub fn estimate(&self, settings: &GridSettings) -> Estimate {
         let nd = self.dynamic.outputs() as f64;
         let ns = self.statics.outputs() as f64;
-        let slabs = f64::from(settings.order) + 2.0;
+        let slabs = sweep::ring_slabs(settings.order) as f64;
         let per_point = self.dynamic.len() as f64
             + self.atoms.len() as f64 * (2.0 * f64::from(settings.order) + 1.0)
             + self

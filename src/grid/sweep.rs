@@ -19,12 +19,13 @@
 //! its `t`-dependent values once.
 //!
 //! Parallel: each step's sampling (a task per plane) and the residuals of the slab `s + 1`
-//! behind (a task per plane and block of rows) run as one batch of tasks. Reductions merge
+//! behind (a task per plane and block of rows) run as one batch of tasks (two steps per
+//! batch on several threads, with a ring of `order + 4` slabs). Reductions merge
 //! by value and lattice index (a tie goes to the first point in `(t, x, y, z)` order), so the
 //! result does not depend on the streaming axis, the tasks or the threads (tested bit for bit
 //! against the slab-by-slab sweep over `t` this replaced).
 //!
-//! Residuals: a task computes each fused combination (see [`fuse`]) over its rows, one
+//! Residuals: a task computes each fused combination (see `fuse`) over its rows, one
 //! combination at a time, so every stencil term reads a long run of one plane, then every
 //! component row by row. The hot loops have AVX-512 and AVX2 builds chosen at run time: the
 //! same IEEE operations (no fused multiply-add), so the same bits.
@@ -364,6 +365,7 @@ pub fn sweep_errors(
     let order = Order {
         stream: if nt <= nx { Stream::X } else { Stream::T },
         rows: None,
+        group: None,
     };
     sweep_in(bufs, plan, at, errors, order, progress)
 }
@@ -379,12 +381,14 @@ pub(super) enum Stream {
     X,
 }
 
-/// How a sweep is ordered: the axis it streams over, and how many rows (`y`) one task of
-/// residuals takes (`None`: chosen from the number of workers). Neither changes a result.
+/// How a sweep is ordered: the axis it streams over, how many rows (`y`) one task of
+/// residuals takes, and how many steps one batch of parallel tasks takes (`None`: chosen
+/// from the number of workers). None of them changes a result.
 #[derive(Clone, Copy, Debug)]
 struct Order {
     stream: Stream,
     rows: Option<usize>,
+    group: Option<usize>,
 }
 
 /// One piece of a step's work: sampling plane `(it, ix)` into `out`, or the residuals of rows
@@ -414,9 +418,13 @@ type FirstBad = ([usize; 2], usize, usize, usize, crate::tape::C64);
 
 /// [`sweep_errors`] in a given order. Every step samples one slab along the streamed axis and
 /// takes the residuals of the slab `s + 1` behind it (whose stencils reach only slabs sampled
-/// in earlier steps), both as one batch of tasks in parallel; the results are merged by value
-/// and lattice index (a tie goes to the first point in `(t, x, y, z)` order, as a sweep in
-/// that order would find it), so nothing depends on the order, the tasks or the threads.
+/// in earlier steps); `g` steps at a time form one batch of tasks run in parallel (one step
+/// on one thread, where nothing waits; two on several, so that the workers meet half as
+/// often, at the cost of a ring of `2s + 2g` slabs: on the benchmark's box with two threads,
+/// one, two and four steps took 11 to 14, 10 to 12 and 13 to 14 ms). The results are merged
+/// by value and lattice index (a tie goes to the first point in `(t, x, y, z)` order, as a
+/// sweep in that order would find it), so nothing depends on the order, the tasks or the
+/// threads.
 #[allow(clippy::too_many_lines)]
 fn sweep_in(
     bufs: &mut Buffers,
@@ -485,7 +493,9 @@ fn sweep_in(
         Stream::T => (nt, nx),
         Stream::X => (nx, nt),
     };
-    let w = 2 * s + 2;
+    let nworkers = workers();
+    let g = order.group.unwrap_or_else(steps_per_batch).max(1);
+    let w = 2 * s + 2 * g;
     let slot_len = across * nd * plane;
     let ring = &mut bufs.ring;
     ring.truncate(w);
@@ -493,24 +503,22 @@ fn sweep_in(
     for slot in ring.iter_mut() {
         fit(slot, slot_len);
     }
-    // One lattice per t held at once: the current one streaming over t, every one streaming
-    // over x (each computes its t-dependent values once).
+    // One lattice per t held at once: those of a batch's steps streaming over t, every one
+    // streaming over x (each computes its t-dependent values once).
     let mut lats: Vec<Lattice> = Vec::new();
     if nd > 0 {
         let lat = Lattice::new(&plan.dynamic, &ys, &zs);
-        if order.stream == Stream::X {
-            lats = (0..nt)
+        lats = match order.stream {
+            Stream::X => (0..nt)
                 .map(|it| {
                     let mut l = lat.clone();
                     l.set_t(ts[it]);
                     l
                 })
-                .collect();
-        } else {
-            lats.push(lat);
-        }
+                .collect(),
+            Stream::T => vec![lat; g],
+        };
     }
-    let nworkers = workers();
     let works: Vec<std::sync::Mutex<Scratch>> = (0..nworkers)
         .map(|_| {
             std::sync::Mutex::new(Scratch {
@@ -552,7 +560,7 @@ fn sweep_in(
     let nrows = ranges[2].len().max(1);
     let rows = order.rows.unwrap_or_else(|| {
         let fit = (1 << 15) / (fused.combos.len() * len).max(1);
-        let pieces = (4 * nworkers).div_ceil(per_step.max(1));
+        let pieces = (4 * nworkers).div_ceil((per_step * g).max(1));
         let share = if nworkers == 1 {
             nrows
         } else {
@@ -563,25 +571,32 @@ fn sweep_in(
     let rows = rows.clamp(1, nrows);
     let mut bad: Option<FirstBad> = None;
 
-    for k in 0..=along {
-        // Sample slab k (if any) while the residuals of slab k - 1 - s are taken.
-        let (done, current) = ring.split_at_mut(k % w);
-        let (current, after) = current.split_first_mut().expect("a ring slot");
+    let mut k = 0;
+    loop {
+        // Sample slabs k..k + g while the residuals of the slabs s + 1..s + g behind them
+        // are taken (their stencils reach only slabs sampled in earlier batches).
+        let units = k..(k + g).min(along);
+        let behind = k.saturating_sub(g + s)..k.saturating_sub(s);
         let mut tasks: Vec<Task<'_>> = Vec::new();
-        if k < along && nd > 0 {
+        let mut slots: Vec<&[f64]> = Vec::with_capacity(w);
+        for (i, slot) in ring.iter_mut().enumerate() {
+            let Some(u) = units.clone().find(|u| u % w == i).filter(|_| nd > 0) else {
+                slots.push(slot.as_slice());
+                continue;
+            };
+            slots.push(&[]);
             if order.stream == Stream::T {
-                lats[0].set_t(ts[k]);
+                lats[u % g].set_t(ts[u]);
             }
-            for (j, out) in current.chunks_mut(nd * plane).enumerate() {
+            for (j, out) in slot.chunks_mut(nd * plane).enumerate() {
                 let (it, ix) = match order.stream {
-                    Stream::T => (k, j),
-                    Stream::X => (j, k),
+                    Stream::T => (u, j),
+                    Stream::X => (j, u),
                 };
                 tasks.push(Task::Sample { it, ix, out });
             }
         }
-        let center = (k > s).then(|| k - 1 - s);
-        if let Some(c) = center.filter(|c| centers.contains(c) && len > 0 && bad.is_none()) {
+        for c in behind.filter(|c| centers.contains(c) && len > 0 && bad.is_none()) {
             for j in match order.stream {
                 Stream::T => ranges[1].clone(),
                 Stream::X => ranges[0].clone(),
@@ -602,12 +617,6 @@ fn sweep_in(
                 }
             }
         }
-        let slots: Vec<&[f64]> = done
-            .iter()
-            .map(Vec::as_slice)
-            .chain(std::iter::once(&[][..]))
-            .chain(after.iter().map(Vec::as_slice))
-            .collect();
         let run = |task: Task<'_>| -> Done {
             let i = thread_index() % works.len();
             let mut scratch = works[i]
@@ -616,7 +625,7 @@ fn sweep_in(
             match task {
                 Task::Sample { it, ix, out } => {
                     let lat = match order.stream {
-                        Stream::T => &lats[0],
+                        Stream::T => &lats[it % g],
                         Stream::X => &lats[it],
                     };
                     let ws = scratch
@@ -663,15 +672,17 @@ fn sweep_in(
         }
         if !mask && let Some(first) = bad {
             // Streaming over t no later slab comes first; over x one at a smaller t might.
-            if order.stream == Stream::T || first.0[0] == 0 || k + 1 >= along {
+            if order.stream == Stream::T || first.0[0] == 0 || units.end >= along {
                 return Err(nonfinite(plan, b, &dyn_channels, first));
             }
         } else {
             bad = None;
         }
-        if k > 0 {
-            progress(k, along);
+        progress(units.end, along);
+        if k >= along {
+            break;
         }
+        k += g;
     }
     if let Some(first) = bad.filter(|_| !mask) {
         return Err(nonfinite(plan, b, &dyn_channels, first));
@@ -697,6 +708,19 @@ fn sweep_in(
         masked,
         floors,
     })
+}
+
+/// Steps per batch of parallel tasks: one on one thread, two on several.
+fn steps_per_batch() -> usize {
+    if workers() == 1 { 1 } else { 2 }
+}
+
+/// Slabs in the ring of a sweep with stencils of order `order` (each `n^3` points of every
+/// `t`-dependent channel when the box has `n` points per side): `order + 2` on one thread,
+/// `order + 4` on several.
+#[must_use]
+pub(super) fn ring_slabs(order: u32) -> usize {
+    order as usize + 2 * steps_per_batch()
 }
 
 /// A worker's buffers, kept through a sweep: the tape's registers and the residuals'
@@ -1758,15 +1782,21 @@ mod tests {
                     Err(_) => 2,
                 }] += 1;
                 let orders = [
-                    (Stream::T, None),
-                    (Stream::X, None),
-                    (Stream::T, Some(1)),
-                    (Stream::X, Some(1)),
-                    (Stream::X, Some(2)),
+                    (Stream::T, None, None),
+                    (Stream::X, None, None),
+                    (Stream::T, Some(1), Some(1)),
+                    (Stream::X, Some(1), Some(1)),
+                    (Stream::X, Some(2), Some(3)),
+                    (Stream::T, Some(3), Some(2)),
+                    (Stream::X, None, Some(5)),
                 ];
                 let mut bufs = Buffers::new();
-                for (stream, rows) in orders {
-                    let order = Order { stream, rows };
+                for (stream, rows, group) in orders {
+                    let order = Order {
+                        stream,
+                        rows,
+                        group,
+                    };
                     let mut calls = Vec::new();
                     let got = sweep_in(&mut bufs, &plan, at, &errors, order, &mut |k, n| {
                         calls.push((k, n));
@@ -1794,6 +1824,7 @@ mod tests {
                     let order = Order {
                         stream: Stream::X,
                         rows: None,
+                        group: None,
                     };
                     let got = pool.install(|| {
                         sweep_in(
