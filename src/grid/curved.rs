@@ -4,8 +4,9 @@
 //! the background source `Tbar`, the source perturbation `dT`, the gauge vector `xi_mu` and
 //! the cosmological constant are sampled on the lattices from the user's own texts (the
 //! same [`crate::tape::Lowering`] as the flat grid, with the problem's coordinates as tape
-//! inputs), slab by slab as in [`super::sweep`]. At every measured point the values and the
-//! central-difference first and second derivatives of the samples (the same Fornberg
+//! inputs), slab by slab as in [`super::sweep`] (the same streaming order and tasks). At
+//! every measured point the values and the central-difference first and second derivatives
+//! of the samples (the same Fornberg
 //! stencils, mixed derivatives as products of first-derivative stencils) go into
 //! `crate::pointwise::evaluate`, the full curvature chain over dual numbers, which gives
 //! every claim's components: the background's equations, `dG + Lambda h - 8 pi dT`, the
@@ -30,8 +31,9 @@
 //! Key design decision: a point at a time. The flat grid's components are linear in the
 //! samples and are evaluated as fused stencil passes along lines; here they are not linear,
 //! so each measured point gathers its own derivatives (`15` per second-order channel) and
-//! runs the chain once. Memory is that of the flat sweep (`(order + 2)` slabs of every
-//! channel); the time per measured point is that of one curvature chain over dual numbers.
+//! runs the chain once. Memory is that of the flat sweep (a ring of `(order + 2)` slabs of
+//! the `t`-dependent channels and one slab of the others), whose `sweep::Window` it
+//! reads; the time per measured point is that of one curvature chain over dual numbers.
 
 use super::claims::{Deriv, Field};
 use super::stencil::Stencil;

@@ -31,10 +31,11 @@
 //! is the largest over its components. It is an estimate (a bound at the probe points), so a
 //! claim is called false only well above it.
 //!
-//! Key design decision: memory stays bounded by streaming over `t` ([`sweep`]): only the
-//! `q + 1` slabs (3-d grids at one `t`) that the stencil reaches are held, plus one slab of
-//! the channels that do not depend on `t`: `(q + 2) * n^3 * channels * 8` bytes for `n` points
-//! per side, never `n^4`.
+//! Key design decision: memory stays bounded by streaming ([`sweep`], over `x` with every `t`
+//! held, or over `t` when the box is longer in `t`): only a ring of the `q + 2` slabs (3-d
+//! cuts of the lattice; `q + 4` on several threads) that the stencils being evaluated reach
+//! is held, plus one slab of the channels that do not depend on `t`: about
+//! `(q + 3) * n^3 * channels * 8` bytes for `n` points per side, never `n^4`.
 //!
 //! **Invariants:** no symbolic derivative of `h` or `T` is taken here (samples of arbitrary
 //! functions are differentiated symbolically, which defines the sample, not the
@@ -453,13 +454,14 @@ pub struct Estimate {
 
 impl GridPlan {
     /// The cost of running `settings`: per resolution of `n` points per side, `n^4` lattice
-    /// points each evaluating the tape and every claim's stencils, and `(order + 1)` slabs of
-    /// `n^3` points of every `t`-dependent channel plus one slab of the others in memory.
+    /// points each evaluating the tape and every claim's stencils, and the sweep's ring
+    /// (`order + 2` slabs of `n^3` points of every `t`-dependent channel, `order + 4` on
+    /// several threads) plus one slab of the others in memory.
     #[must_use]
     pub fn estimate(&self, settings: &GridSettings) -> Estimate {
         let nd = self.dynamic.outputs() as f64;
         let ns = self.statics.outputs() as f64;
-        let slabs = f64::from(settings.order) + 1.0;
+        let slabs = sweep::ring_slabs(settings.order) as f64;
         let per_point = self.dynamic.len() as f64
             + self.atoms.len() as f64 * (2.0 * f64::from(settings.order) + 1.0)
             + self
@@ -654,7 +656,7 @@ pub struct Progress {
     pub levels: usize,
     /// Points per side of this resolution.
     pub points: usize,
-    /// Slabs done at this resolution.
+    /// Slabs done at this resolution (3-d cuts along the axis the sweep streams over).
     pub slab: usize,
     /// Slabs at this resolution.
     pub slabs: usize,

@@ -333,7 +333,7 @@ impl Shape {
 }
 
 /// `d = f(a, b)` elementwise over `ds`, broadcasting `a` and `b` where their shape is 1.
-#[inline]
+#[inline(always)]
 pub(crate) fn zip2<T: Lane>(
     d: &mut [T],
     ds: Shape,
@@ -370,7 +370,7 @@ pub(crate) fn zip2<T: Lane>(
 }
 
 /// `d = f(a)` elementwise (same shape).
-#[inline]
+#[inline(always)]
 pub(crate) fn map1<T: Lane>(d: &mut [T], a: &[T], f: impl Fn(T) -> T) {
     for (o, &x) in d.iter_mut().zip(a) {
         *o = f(x);
@@ -378,6 +378,7 @@ pub(crate) fn map1<T: Lane>(d: &mut [T], a: &[T], f: impl Fn(T) -> T) {
 }
 
 /// Copies `a` into `d` of shape `ds`, broadcasting where `a`'s shape is 1.
+#[inline(always)]
 pub(crate) fn spread<T: Lane>(d: &mut [T], ds: Shape, a: &[T], sa: Shape) {
     for iy in 0..ds.ny {
         let ra = if sa.ny == 1 { 0 } else { iy * sa.nz };

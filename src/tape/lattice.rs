@@ -26,6 +26,7 @@ const Y_BIT: u8 = 4;
 const Z_BIT: u8 = 8;
 
 /// A tape prepared for one lattice's `y` and `z` coordinates.
+#[derive(Clone)]
 pub struct Lattice<'t> {
     tape: &'t Tape,
     ny: usize,
@@ -73,6 +74,7 @@ pub struct PlaneOutcome {
 }
 
 /// True if every value is finite: branch-free over blocks, so it vectorizes.
+#[inline(always)]
 fn all_finite(v: &[f64]) -> bool {
     const EXP: u64 = 0x7ff0_0000_0000_0000;
     v.chunks(16).all(|c| {
@@ -371,6 +373,29 @@ impl<'t> Lattice<'t> {
     ///
     /// If `out` is not `outputs * ny * nz` long or `ws` belongs to another lattice.
     pub fn plane(&self, ws: &mut PlaneWork, x: f64, out: &mut [f64]) -> PlaneOutcome {
+        #[cfg(target_arch = "x86_64")]
+        if std::is_x86_feature_detected!("avx2") {
+            // SAFETY: the processor has AVX2 (detected just above), the only requirement of
+            // `plane_avx2`.
+            return unsafe { self.plane_avx2(ws, x, out) };
+        }
+        self.plane_lanes(ws, x, out)
+    }
+
+    /// [`Lattice::plane`] compiled for AVX2 (the same operations, so the same bits).
+    ///
+    /// # Safety
+    ///
+    /// The processor must support AVX2.
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx2")]
+    unsafe fn plane_avx2(&self, ws: &mut PlaneWork, x: f64, out: &mut [f64]) -> PlaneOutcome {
+        self.plane_lanes(ws, x, out)
+    }
+
+    /// The body of [`Lattice::plane`], inlined into each compiled variant.
+    #[inline(always)]
+    fn plane_lanes(&self, ws: &mut PlaneWork, x: f64, out: &mut [f64]) -> PlaneOutcome {
         let m = self.tape.outputs.len();
         let len = self.ny * self.nz;
         assert_eq!(out.len(), m * len, "output length");

@@ -452,3 +452,53 @@ fn issue11_real_forms_compile_to_real_tapes_with_shared_trig_arguments() {
     assert_eq!(sins, coss);
     assert!(!ops.iter().any(|o| matches!(o, Op::Exp(a) if *a == sins[0])));
 }
+
+#[test]
+fn every_compiled_variant_of_the_lane_loops_gives_the_same_bits() {
+    // `apply` runs a variant chosen at run time (AVX2 or the baseline build); over every
+    // broadcast of the operands it must give exactly what the baseline body gives.
+    let seed = 0xa991_5eed_u64;
+    let mut rng = SplitMix64::new(seed);
+    let (ny, nz) = (5, 13);
+    let full = lane::Shape { ny, nz };
+    let shapes = [
+        full,
+        lane::Shape { ny: 1, nz },
+        lane::Shape { ny, nz: 1 },
+        lane::Shape::ONE,
+    ];
+    let value = |rng: &mut SplitMix64| {
+        (rng.next_f64() * 4.0 - 1.0) * 10f64.powi((rng.next_u64() % 6) as i32 - 3)
+    };
+    let binary = [Op::Add(0, 1), Op::Sub(0, 1), Op::Mul(0, 1), Op::Div(0, 1)];
+    let unary = [
+        Op::Neg(0),
+        Op::PowI(0, 3),
+        Op::PowI(0, -2),
+        Op::Exp(0),
+        Op::Log(0),
+        Op::Root(0, 2),
+        Op::Root(0, 3),
+    ];
+    for &sa in &shapes {
+        for &sb in &shapes {
+            let a: Vec<f64> = (0..sa.len()).map(|_| value(&mut rng)).collect();
+            let b: Vec<f64> = (0..sb.len()).map(|_| value(&mut rng)).collect();
+            let ops: Vec<(Op, lane::Shape)> = binary
+                .iter()
+                .map(|&op| (op, full))
+                .chain(unary.iter().map(|&op| (op, sa)))
+                .collect();
+            for (op, ds) in ops {
+                let (mut got, mut want) = (vec![0.0; ds.len()], vec![0.0; ds.len()]);
+                apply(op, &mut got, ds, (&a, sa), (&b, sb));
+                apply_lanes(op, &mut want, ds, (&a, sa), (&b, sb));
+                let same = got
+                    .iter()
+                    .zip(&want)
+                    .all(|(g, w)| g.to_bits() == w.to_bits());
+                assert!(same, "seed {seed:#x} {op:?} {sa:?} {sb:?}");
+            }
+        }
+    }
+}
