@@ -289,6 +289,32 @@ pub fn arbitrary_functions(
     names
 }
 
+/// The line that says that `i`, `I` or `j` in `texts` was read as a real variable (the
+/// expression language has no imaginary unit), so that a witness at `i = 1.97` is not taken
+/// for a verdict about complex numbers; `None` when no text uses those names.
+pub fn unit_note(texts: &[&str]) -> Option<String> {
+    let mut used: Vec<String> = Vec::new();
+    for t in texts {
+        if let Ok(e) = crate::parse::parse(t) {
+            for n in crate::jet::eval::free_names(&e) {
+                if matches!(n.as_str(), "i" | "I" | "j") && !used.contains(&n) {
+                    used.push(n);
+                }
+            }
+        }
+    }
+    if used.is_empty() {
+        return None;
+    }
+    let list: Vec<String> = used.iter().map(|n| format!("`{n}`")).collect();
+    Some(format!(
+        "note: {} {} read as a real variable: there is no imaginary unit (write a complex \
+         quantity through its real and imaginary parts, e.g. cos and sin for exp(i*x))",
+        list.join(", "),
+        if used.len() == 1 { "is" } else { "are" }
+    ))
+}
+
 /// The line that says how those names were read, so that a verdict about an unknown name is
 /// not taken for one about the function the user meant; `None` when there are none.
 pub fn arbitrary_note(names: &[String]) -> Option<String> {

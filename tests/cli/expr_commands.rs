@@ -242,6 +242,40 @@ fn issue_14_unknown_function_names_are_reported() {
     );
 }
 
+/// `i`, `I` and `j` are real variables (there is no imaginary unit): `zero`, `simplify` and
+/// `diff` say so, so that a witness at `i = 1.97` is not read as a verdict about complex
+/// numbers; other names give no such note.
+#[test]
+fn imaginary_unit_names_are_said_to_be_real_variables() {
+    let (out, _, code) = lingrav(&["zero", "exp(i*pi/6) - sqrt(3)/2 - i/2"]);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains("note: `i` is read as a real variable: there is no imaginary unit"),
+        "{out}"
+    );
+    let (out, _, code) = lingrav(&["zero", "x", "I"]);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains("note: `I` is read as a real variable"),
+        "{out}"
+    );
+    let (out, _, code) = lingrav(&["simplify", "j^2 + 1"]);
+    assert_eq!(code, 0, "{out}");
+    assert!(
+        out.contains("note: `j` is read as a real variable"),
+        "{out}"
+    );
+    let (out, _, code) = lingrav(&["diff", "i*x^2", "x"]);
+    assert_eq!(code, 0, "{out}");
+    assert!(
+        out.contains("note: `i` is read as a real variable"),
+        "{out}"
+    );
+    let (out, _, code) = lingrav(&["zero", "ii*x - x*ii"]);
+    assert_eq!(code, 0, "{out}");
+    assert!(!out.contains("note:"), "{out}");
+}
+
 #[test]
 fn atan_and_abs_are_known_functions() {
     let table: &[(&[&str], i32, &str)] = &[

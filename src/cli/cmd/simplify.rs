@@ -42,10 +42,18 @@ pub fn print_form(
     let shown = if latex { st.to_latex(f) } else { plain.clone() };
     let (note, outcome, finding) = form_audit(audit, input, &plain, by, latex);
     let text = match format {
-        Format::Text => match crate::cli::plan::arbitrary_note(arbitrary) {
-            Some(names) => format!("{shown}\n{note}{names}\n"),
-            None => format!("{shown}\n{note}"),
-        },
+        Format::Text => {
+            let mut s = format!("{shown}\n{note}");
+            let notes = [
+                crate::cli::plan::arbitrary_note(arbitrary),
+                crate::cli::plan::unit_note(&[input]),
+            ];
+            for n in notes.into_iter().flatten() {
+                s.push_str(&n);
+                s.push('\n');
+            }
+            s
+        }
         Format::Json => {
             let mut j = serde_json::json!({
                 "input": input,

@@ -5,7 +5,7 @@ use crate::audit::expr::{Expressions, Finding};
 use crate::check::verdicts::audit_verdicts;
 use crate::cli::audit::{AuditedFormat, audit_json, points_text};
 use crate::cli::out::{Failure, Outcome, print};
-use crate::cli::plan::{arbitrary_note, build_arg};
+use crate::cli::plan::{arbitrary_note, build_arg, unit_note};
 use crate::cli::report::{Format, json, point_json};
 use crate::zero::{Sampling, Verdict, decide};
 use clap::Args;
@@ -105,6 +105,12 @@ fn zero_report(
                 s.push_str(&points_text(&[&finding]));
             }
             if let Some(note) = arbitrary_note(arbitrary) {
+                let _ = writeln!(s, "{note}");
+            }
+            let texts: Vec<&str> = std::iter::once(a.expr.as_str())
+                .chain(a.other.as_deref())
+                .collect();
+            if let Some(note) = unit_note(&texts) {
                 let _ = writeln!(s, "{note}");
             }
             s
