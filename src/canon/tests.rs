@@ -694,15 +694,8 @@ fn packed_products_are_the_monomial_products() {
         .and_then(|v| v.parse().ok())
         .unwrap_or(20261204u64);
     println!("seed {seed}");
-    let mut state = seed;
-    let mut next = |n: u64| {
-        // SplitMix64.
-        state = state.wrapping_add(0x9e37_79b9_7f4a_7c15);
-        let mut z = state;
-        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
-        (z ^ (z >> 31)) % n
-    };
+    let mut rng = crate::zero::SplitMix64::new(seed);
+    let mut next = |n: u64| rng.next_u64() % n;
     const FACTORS: [&str; 13] = [
         "x",
         "y",
@@ -772,15 +765,8 @@ fn dot_is_the_sum_of_the_products() {
         .and_then(|v| v.parse().ok())
         .unwrap_or(20261205u64);
     println!("seed {seed}");
-    let mut state = seed;
-    let mut next = |n: u64| {
-        // SplitMix64.
-        state = state.wrapping_add(0x9e37_79b9_7f4a_7c15);
-        let mut z = state;
-        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
-        (z ^ (z >> 31)) % n
-    };
+    let mut rng = crate::zero::SplitMix64::new(seed);
+    let mut next = |n: u64| rng.next_u64() % n;
     const FORMS: [&str; 12] = [
         "0",
         "1",

@@ -1679,22 +1679,10 @@ mod tests {
 
     /// A problem's grid plan, and the sample errors its sweep uses.
     fn plan_of(text: &str, hbar: bool) -> (GridPlan, Vec<f64>) {
-        let mut p = crate::problem::from_str("test.toml", text).unwrap();
         let plan = if hbar {
-            let h = p.h;
-            let params = p.parameters.clone();
-            let samples = p.sampling.samples.clone();
-            GridPlan::new(
-                &mut p.store,
-                &h,
-                None,
-                vec![super::super::box_hbar()],
-                true,
-                &params,
-                &samples,
-            )
-            .unwrap()
+            super::super::tests::box_hbar_plan(text)
         } else {
+            let mut p = crate::problem::from_str("test.toml", text).unwrap();
             GridPlan::for_problem(&mut p).unwrap()
         };
         let errors = match plan.curved {

@@ -375,6 +375,11 @@ fn wave_plan() -> GridPlan {
                 xx = '-hp/3 + 4*hc/9'\nxy = '-5*hc/9'\nxz = '2*hp/3 + 2*hc/9'\n\
                 yy = 'hp/3 + 4*hc/9'\nyz = '-2*hp/3 + 2*hc/9'\nzz = '-8*hc/9'\n\
                 tt = 'x^2*y/7'\n";
+    box_hbar_plan(text)
+}
+
+/// The plan of box hbar = 0 for the perturbation of a problem file's text.
+pub(super) fn box_hbar_plan(text: &str) -> GridPlan {
     let mut p = crate::problem::from_str("test.toml", text).unwrap();
     let h = p.h;
     let params = p.parameters.clone();
