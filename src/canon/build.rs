@@ -4,8 +4,9 @@
 //! every identifier means (symbol, defined subexpression, arbitrary function) and what to do
 //! with an unknown one. Errors keep the span of the offending node.
 
-use super::{CanonError, Coeff, Form, Store};
+use super::{CanonError, Coeff, Form, KernelId, Mono, Q, Rat, Store};
 use crate::expr::{BinOp, Expr, ExprKind, Span};
+use num_traits::{One, Signed, ToPrimitive, Zero};
 use rustc_hash::{FxHashMap, FxHashSet};
 
 /// What an identifier that [`Names`] does not know means.
@@ -216,6 +217,11 @@ impl Store {
                 c(self.linear(&terms))
             }
             ExprKind::Binary(op, a, b) => {
+                if *op == BinOp::Mul
+                    && let Some((q, pows)) = self.written_monomial(e, names)
+                {
+                    return c(self.monomial_form(q, pows));
+                }
                 let fa = self.build(a, names)?;
                 let fb = self.build(b, names)?;
                 match op {
@@ -436,6 +442,107 @@ impl Store {
                 other => BuildError::canon(other, b.span),
             }),
         }
+    }
+
+    /// A product as written of numbers, declared symbols and declared symbols to positive
+    /// integer powers (a term of a written polynomial, `3*t^2*x*y`): its rational
+    /// coefficient and the powers of its symbol kernels, sorted, without zeros. `None` for
+    /// any other product, which is built factor by factor.
+    ///
+    /// Soundness. Multiplying such factors one at a time multiplies single terms without
+    /// denominators whose monomials are powers of symbols (no root to reduce, no exponential):
+    /// the result is the one term with the product of the numbers as coefficient and the
+    /// summed powers as monomial, which [`Store::monomial_form`] interns directly. Numbers
+    /// above 64 bits, and powers whose sum leaves `i32`, go the long way, so that its limits
+    /// and errors stay the same.
+    fn written_monomial(&mut self, e: &Expr, names: &Names) -> Option<(Q, Vec<(KernelId, i32)>)> {
+        let small = |q: &Q| q.numer().bits() <= 64 && q.denom().bits() <= 64;
+        // What `resolve_ident` reads as a symbol: a declared one, or with free names any
+        // name that is not declared as something else.
+        let symbol = |n: &str| {
+            names.symbols.contains(n)
+                && !names.defined.contains_key(n)
+                && !names.functions.contains(n)
+                && !BUILTINS.contains(&n)
+                && n != "pi"
+                || names.unknown == Unknown::Free && !names.is_declared(n)
+        };
+        // The numbers, multiplied at the end (most terms have one).
+        let mut numbers: Vec<(&Q, bool)> = Vec::new();
+        let mut pows: Vec<(KernelId, i64)> = Vec::new();
+        let mut cur = e;
+        loop {
+            let (factor, rest) = match &cur.kind {
+                ExprKind::Binary(BinOp::Mul, l, r) => (&**r, Some(&**l)),
+                _ => (cur, None),
+            };
+            let (name, power) = match &factor.kind {
+                ExprKind::Num(x) if small(x) => {
+                    numbers.push((x, false));
+                    (None, 0)
+                }
+                ExprKind::Neg(x) => match &x.kind {
+                    ExprKind::Num(x) if small(x) => {
+                        numbers.push((x, true));
+                        (None, 0)
+                    }
+                    _ => return None,
+                },
+                ExprKind::Ident(n) if symbol(n) => (Some(n), 1),
+                ExprKind::Binary(BinOp::Pow, base, exp) => match (&base.kind, &exp.kind) {
+                    (ExprKind::Ident(n), ExprKind::Num(x))
+                        if symbol(n) && x.denom().is_one() && x.is_positive() =>
+                    {
+                        (Some(n), x.numer().to_i64().filter(|&k| k <= 10_000)?)
+                    }
+                    _ => return None,
+                },
+                _ => return None,
+            };
+            if let Some(n) = name {
+                let k = self.symbol_kernel(n);
+                match pows.iter_mut().find(|p| p.0 == k) {
+                    Some(p) => p.1 += power,
+                    None => pows.push((k, power)),
+                }
+            }
+            match rest {
+                Some(l) => cur = l,
+                None => break,
+            }
+        }
+        let negative = numbers.iter().filter(|n| n.1).count() % 2 == 1;
+        let mut q = match numbers.split_first() {
+            None => Q::one(),
+            Some((first, rest)) => rest.iter().fold(first.0.clone(), |q, n| q * n.0),
+        };
+        if negative {
+            q = -q;
+        }
+        pows.sort_unstable_by_key(|p| p.0);
+        let pows = pows
+            .into_iter()
+            .map(|(k, e)| i32::try_from(e).ok().map(|e| (k, e)))
+            .collect::<Option<Vec<_>>>()?;
+        Some((q, pows))
+    }
+
+    /// The form `q` times the monomial `pows` (sorted by kernel, positive powers of symbol
+    /// kernels), interned directly: see [`Store::written_monomial`].
+    fn monomial_form(&mut self, q: Q, pows: Vec<(KernelId, i32)>) -> Result<Form, CanonError> {
+        self.check_size(1)?;
+        if q.is_zero() {
+            return Ok(self.zero);
+        }
+        let c = Coeff::rational(q);
+        if pows.is_empty() {
+            return Ok(self.constant(c));
+        }
+        let m = self.intern_mono(Mono { pows, exp: None });
+        Ok(self.intern_rat(Rat {
+            num: vec![(m, c)],
+            den: Vec::new(),
+        }))
     }
 
     fn resolve_ident(&mut self, n: &str, span: Span, names: &Names) -> Result<Form, BuildError> {

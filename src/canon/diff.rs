@@ -6,7 +6,6 @@
 //! derivative twice pays once.
 
 use super::{CResult, Coeff, Form, Kernel, KernelId, MonoId, Rat, Store};
-use rustc_hash::FxHashMap;
 
 impl Store {
     /// The partial derivative of `f` by the symbol `var` (other symbols are independent).
@@ -63,7 +62,9 @@ impl Store {
     /// the rest (root reductions, quotients) is built as forms and summed once at the end
     /// (see `Store::sum`).
     fn diff_poly(&mut self, p: &super::Poly, var: KernelId) -> CResult<Form> {
-        let mut acc: FxHashMap<MonoId, Coeff> = FxHashMap::default();
+        // The products in the order made; `merge_terms` sorts them and adds those with one
+        // monomial (for a polynomial in symbols every monomial comes once).
+        let mut acc: Vec<(MonoId, Coeff)> = Vec::with_capacity(p.len());
         let mut rest = Vec::new();
         for (m, c) in p {
             let dlog = self.dlog_mono(*m, var)?;
@@ -86,12 +87,7 @@ impl Store {
                     continue;
                 }
                 if extra == self.one {
-                    match acc.get_mut(&mm) {
-                        Some(e) => *e = e.add(&cc),
-                        None => {
-                            acc.insert(mm, cc);
-                        }
-                    }
+                    acc.push((mm, cc));
                 } else {
                     let term = self.intern_rat(Rat {
                         num: vec![(mm, cc)],
@@ -103,7 +99,7 @@ impl Store {
             self.check_size(acc.len())?;
         }
         let direct = self.intern_rat(Rat {
-            num: Self::sort_terms(acc),
+            num: Self::merge_terms(acc),
             den: Vec::new(),
         });
         rest.push(direct);

@@ -298,6 +298,9 @@ pub struct Store {
     /// for `abs` and `atan2` of arguments shown real: their radicand is `>= 0`
     /// ([`Store::is_real_shown`]).
     square_roots: rustc_hash::FxHashSet<KernelId>,
+    /// Symbol kernels by name ([`Store::symbol_kernel`]), so that a name read again (every
+    /// coordinate of every written term) is found without building a kernel to look up.
+    symbol_ids: FxHashMap<Box<str>, KernelId>,
     /// `atan` kernels that are half angles of `atan2(y, x)` ([`Store::half_angle_atan`]),
     /// with their `(y, x)`: differentiated by the angle's own rule.
     atan2_args: FxHashMap<KernelId, (Form, Form)>,
@@ -350,6 +353,7 @@ impl Store {
             form_deps_cache: FxHashMap::default(),
             re_im_cache: FxHashMap::default(),
             square_roots: rustc_hash::FxHashSet::default(),
+            symbol_ids: FxHashMap::default(),
             atan2_args: FxHashMap::default(),
             abs_args: FxHashMap::default(),
             limits: Limits::default(),
@@ -462,7 +466,12 @@ impl Store {
     }
     /// The kernel of the symbol called `name`.
     pub fn symbol_kernel(&mut self, name: &str) -> KernelId {
-        self.intern_kernel(Kernel::Sym(Rc::from(name)))
+        if let Some(&k) = self.symbol_ids.get(name) {
+            return k;
+        }
+        let k = self.intern_kernel(Kernel::Sym(Rc::from(name)));
+        self.symbol_ids.insert(name.into(), k);
+        k
     }
     /// The constant pi.
     pub fn pi(&mut self) -> Form {
@@ -590,6 +599,23 @@ impl Store {
             return Vec::new();
         }
         a.iter().map(|(m, x)| (*m, x.mul(c))).collect()
+    }
+
+    /// Terms in any order, possibly several per monomial, as a polynomial: sorted by
+    /// monomial, the coefficients of one monomial added, zeros dropped. The same polynomial
+    /// as accumulating them per monomial and calling [`Store::sort_terms`] (exact addition
+    /// does not depend on the order).
+    fn merge_terms(mut v: Vec<Term>) -> Poly {
+        v.sort_unstable_by_key(|t| t.0);
+        let mut out: Poly = Vec::with_capacity(v.len());
+        for (m, c) in v {
+            match out.last_mut() {
+                Some(last) if last.0 == m => last.1 = last.1.add(&c),
+                _ => out.push((m, c)),
+            }
+        }
+        out.retain(|t| !t.1.is_zero());
+        out
     }
 
     fn sort_terms(acc: FxHashMap<MonoId, Coeff>) -> Poly {
@@ -1487,11 +1513,47 @@ impl Store {
         if b == self.one {
             return Ok(a);
         }
+        if let Some(f) = self.term_product(a, b)? {
+            return Ok(f);
+        }
         let r = self.product_rat(a, b)?;
         if r.num.is_empty() {
             return Ok(self.zero);
         }
         Ok(self.intern_cancelled(r))
+    }
+
+    /// `a * b` for two single terms without denominators (a coefficient times a monomial,
+    /// every factor of a written monomial such as `3*t^2*x*y`), when their monomials multiply
+    /// without a further factor: exactly the form the general product interns (one term
+    /// `mono_mul`'s monomial with coefficient `ca cb f`, nothing to cancel), without its
+    /// accumulator, sorting and second lookup. `None` when it does not apply.
+    fn term_product(&mut self, a: Form, b: Form) -> CResult<Option<Form>> {
+        let (ra, rb) = (&self.rats[a.0 as usize], &self.rats[b.0 as usize]);
+        let ([(ma, ca)], [(mb, cb)]) = (ra.num.as_slice(), rb.num.as_slice()) else {
+            return Ok(None);
+        };
+        if !ra.den.is_empty() || !rb.den.is_empty() {
+            return Ok(None);
+        }
+        if ca.bits() + cb.bits() > MAX_COEFF_BITS {
+            return Err(CanonError::NumberTooLarge(MAX_COEFF_BITS));
+        }
+        let c = ca.mul(cb);
+        let (ma, mb) = (*ma, *mb);
+        let (m, f, extra) = self.mono_mul(ma, mb)?;
+        if extra != self.one {
+            return Ok(None);
+        }
+        let c = c.mul(&f);
+        self.check_size(1)?;
+        if c.is_zero() {
+            return Ok(Some(self.zero));
+        }
+        Ok(Some(self.intern_rat(Rat {
+            num: vec![(m, c)],
+            den: Vec::new(),
+        })))
     }
 
     /// The quotient `a * b` before cancellation (a zero product has no terms); `a` and `b`

@@ -864,3 +864,35 @@ fn a_sum_over_several_denominators_keeps_only_its_result() {
     let d = st.sub(s, want).unwrap();
     assert!(st.is_zero(d), "{}", st.to_text(d));
 }
+
+proptest::proptest! {
+    /// A written product of numbers, symbols and symbols to positive powers (built in one
+    /// step as a monomial) is the same form as the product of its factors built one by one
+    /// and multiplied in written order; so is the product with a non-monomial factor mixed
+    /// in (which goes the long way).
+    #[test]
+    fn a_written_monomial_is_the_product_of_its_factors(
+        factors in proptest::collection::vec((0u8..6, -4i64..5, 1u32..5), 1..7),
+    ) {
+        let mut st = Store::new();
+        let texts: Vec<String> = factors
+            .iter()
+            .map(|&(kind, n, k)| match kind {
+                0 => format!("{n}"),
+                1 => format!("({n}/{k})"),
+                2 => ["x", "y", "t"][k as usize % 3].to_string(),
+                3 => format!("{}^{k}", ["x", "y", "t"][n.unsigned_abs() as usize % 3]),
+                4 => format!("-{}", n.unsigned_abs()),
+                _ => "(1 + x)".to_string(),
+            })
+            .collect();
+        let text = texts.join("*");
+        let whole = form(&mut st, &text);
+        let mut product = st.one();
+        for t in &texts {
+            let f = form(&mut st, t);
+            product = st.mul(product, f).expect("small");
+        }
+        proptest::prop_assert_eq!(whole, product, "{}", text);
+    }
+}

@@ -87,8 +87,14 @@ pub struct JetSpace {
     /// `deriv[v][i] = (j, e)`: monomial `i` times `x_v` is monomial `j`, and `e` is the
     /// exponent of `x_v` in `j`; for `i` of degree below `max_order`.
     deriv: Vec<Vec<(u32, u32)>>,
+    /// `pure[i]`: the variable `v` if monomial `i` is a power `x_v^p` with `p >= 1`,
+    /// [`NOT_PURE`] otherwise (the constant and every mixed monomial).
+    pure: Vec<u8>,
     index: FxHashMap<Vec<u8>, u32>,
 }
+
+/// [`JetSpace::pure`] of a monomial that is not a power of one variable.
+const NOT_PURE: u8 = u8::MAX;
 
 impl JetSpace {
     /// The space of jets in `vars` variables up to total order `max_order`.
@@ -159,6 +165,19 @@ impl JetSpace {
                     .collect()
             })
             .collect();
+        let pure = (0..len)
+            .map(|i| {
+                let m = mono(i);
+                match m.iter().filter(|&&e| e > 0).count() {
+                    1 => m
+                        .iter()
+                        .position(|&e| e > 0)
+                        .and_then(|v| u8::try_from(v).ok())
+                        .unwrap_or(NOT_PURE),
+                    _ => NOT_PURE,
+                }
+            })
+            .collect();
         Ok(Rc::new(JetSpace {
             vars,
             max_order,
@@ -168,6 +187,7 @@ impl JetSpace {
             pair_start,
             pairs: table,
             deriv,
+            pure,
             index,
         }))
     }
@@ -515,6 +535,14 @@ impl<S: Scalar> Jet<S> {
             }
             if linear(a) {
                 return Some(self.with(order, mul_linear(sp, order, b, a)?, false));
+            }
+            // A factor in one variable (a power of a coordinate, a function of one
+            // coordinate) multiplies through the shift table too, in O(len * order).
+            if let Some(v) = univariate(sp, b) {
+                return Some(self.with(order, mul_univariate(sp, order, a, b, v)?, false));
+            }
+            if let Some(v) = univariate(sp, a) {
+                return Some(self.with(order, mul_univariate(sp, order, b, a, v)?, false));
             }
         }
         Self::mul_pairs(sp, a, b).map(|c| self.with(order, c, false))
@@ -902,6 +930,69 @@ fn mul_linear<S: Scalar>(sp: &JetSpace, order: u32, a: &[S], lin: &[S]) -> Optio
             c[j] = Some(match c[j].take() {
                 None => p,
                 Some(x) => x.add(&p)?,
+            });
+        }
+    }
+    Some(c.into_iter().map(|x| x.unwrap_or_else(S::zero)).collect())
+}
+
+/// The variable `v` if every coefficient of `x` beyond the constant that is not an exact 0
+/// belongs to a power of `x_v` (and at least one does), else `None`.
+fn univariate<S: Scalar>(sp: &JetSpace, x: &[S]) -> Option<usize> {
+    let mut var = None;
+    for (i, c) in x.iter().enumerate().skip(1) {
+        if c.is_exact_zero() {
+            continue;
+        }
+        let v = sp.pure[i];
+        if v == NOT_PURE || var.is_some_and(|w| w != v) {
+            return None;
+        }
+        var = Some(v);
+    }
+    var.map(usize::from)
+}
+
+/// `a * u` where `u`'s coefficients are exact zeros except at the powers `x_v^p`
+/// ([`univariate`]): `sum_p u_p x_v^p a`, each `x_v^p a` by `p` steps of the shift table
+/// (`deriv[v][i]`: monomial `i` times `x_v`), so the cost is `O(len * order)` instead of the
+/// pairs table's. As in [`mul_linear`], exact zeros are skipped and stay exact, and every
+/// coefficient is a sum of enclosed products, so it encloses the exact coefficient.
+fn mul_univariate<S: Scalar>(
+    sp: &JetSpace,
+    order: u32,
+    a: &[S],
+    u: &[S],
+    v: usize,
+) -> Option<Vec<S>> {
+    let n = a.len();
+    let table = &sp.deriv[v];
+    let mut c: Vec<Option<S>> = vec![None; n];
+    // `at[i]`: the monomial `i` times `x_v^p`, for every `i` of degree at most `order - p`;
+    // `up`: the position of `x_v^p` itself.
+    let mut at: Vec<u32> = (0..n as u32).collect();
+    let mut up = 0usize;
+    for p in 0..=order {
+        if p > 0 {
+            for t in &mut at[..sp.len(order - p)] {
+                *t = table[*t as usize].0;
+            }
+            up = table[up].0 as usize;
+        }
+        let up_coeff = &u[up];
+        if up_coeff.is_exact_zero() {
+            continue;
+        }
+        let m = sp.len(order - p);
+        for (ai, &j) in a[..m].iter().zip(&at[..m]) {
+            if ai.is_exact_zero() {
+                continue;
+            }
+            let prod = ai.mul(up_coeff)?;
+            let j = j as usize;
+            c[j] = Some(match c[j].take() {
+                None => prod,
+                Some(x) => x.add(&prod)?,
             });
         }
     }

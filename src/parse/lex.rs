@@ -272,28 +272,61 @@ fn number(src: &str, start: usize) -> Result<(TokKind, usize), ParseError> {
             }
         }
     }
-    let mut digits = String::with_capacity(frac_end - start);
-    digits.push_str(&src[start..int_end]);
-    digits.push_str(&src[frac_start..frac_end]);
+    let frac_len = i64::try_from(frac_end - frac_start).unwrap_or(i64::MAX);
+    let scale = exponent.saturating_sub(frac_len);
+    let value = exact_value(&src[start..int_end], &src[frac_start..frac_end], scale);
+    Ok((TokKind::Num(value), end))
+}
+
+/// The exact value of the decimal digits `int` followed by `frac`, times `10^scale`.
+///
+/// A mantissa of at most 19 digits (every literal a person writes) is read into a `u64`
+/// (`10^19 - 1 < 2^64`) instead of through a digit string and a big-integer parse, and a
+/// scale of 0 multiplies by nothing; [`exact_value_general`] is the same value by the long
+/// road (the tests compare the two).
+fn exact_value(int: &str, frac: &str, scale: i64) -> BigRational {
+    if int.len() + frac.len() > 19 {
+        return exact_value_general(int, frac, scale);
+    }
+    let mut m: u64 = 0;
+    for &d in int.as_bytes().iter().chain(frac.as_bytes()) {
+        m = m * 10 + u64::from(d - b'0');
+    }
+    if m == 0 {
+        return BigRational::zero();
+    }
+    let mantissa = BigInt::from(m);
+    if scale == 0 {
+        return BigRational::from_integer(mantissa);
+    }
+    let power = num_traits::pow(BigInt::from(10), scale.unsigned_abs() as usize);
+    if scale > 0 {
+        BigRational::from_integer(mantissa * power)
+    } else {
+        BigRational::new(mantissa, power)
+    }
+}
+
+/// [`exact_value`] through a digit string and a big-integer parse, for any length.
+fn exact_value_general(int: &str, frac: &str, scale: i64) -> BigRational {
+    let mut digits = String::with_capacity(int.len() + frac.len());
+    digits.push_str(int);
+    digits.push_str(frac);
     let mantissa = if digits.is_empty() {
         BigInt::zero()
     } else {
         // Only ASCII digits were collected, so this cannot fail.
         BigInt::parse_bytes(digits.as_bytes(), 10).unwrap_or_default()
     };
-    let frac_len = i64::try_from(frac_end - frac_start).unwrap_or(i64::MAX);
-    let scale = exponent.saturating_sub(frac_len);
-    let value = if mantissa.is_zero() {
-        BigRational::zero()
+    if mantissa.is_zero() {
+        return BigRational::zero();
+    }
+    let power = |k: i64| num_traits::pow(BigInt::from(10), k.unsigned_abs() as usize);
+    if scale >= 0 {
+        BigRational::from_integer(mantissa * power(scale))
     } else {
-        let power = |k: i64| num_traits::pow(BigInt::from(10), k.unsigned_abs() as usize);
-        if scale >= 0 {
-            BigRational::from_integer(mantissa * power(scale))
-        } else {
-            BigRational::new(mantissa, power(scale))
-        }
-    };
-    Ok((TokKind::Num(value), end))
+        BigRational::new(mantissa, power(scale))
+    }
 }
 
 #[cfg(test)]
@@ -361,5 +394,21 @@ mod tests {
         let err = tokenize("1e999999999999999999999999").unwrap_err();
         assert_eq!(err.message, "exponent too large");
         assert_eq!(err.span, Span::new(0, 26));
+    }
+
+    proptest::proptest! {
+        /// The short-mantissa road and the digit-string road give the same value, for
+        /// mantissas on both sides of 19 digits and scales of both signs.
+        #[test]
+        fn short_mantissas_read_as_the_long_road_reads_them(
+            int in "[0-9]{0,12}",
+            frac in "[0-9]{0,12}",
+            scale in -30i64..30,
+        ) {
+            proptest::prop_assert_eq!(
+                exact_value(&int, &frac, scale),
+                exact_value_general(&int, &frac, scale)
+            );
+        }
     }
 }

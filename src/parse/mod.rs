@@ -25,6 +25,9 @@ mod lex;
 
 use crate::expr::{BinOp, Expr, ExprKind, Span};
 use lex::{TokKind, Token};
+use num_bigint::BigInt;
+use num_rational::BigRational;
+use num_traits::Zero;
 
 /// Most levels of nesting accepted, counted two ways: the parser descends at most this deep
 /// (each parenthesis, sign, power and call is a level), and an accepted tree has at most this
@@ -188,6 +191,31 @@ impl Parser<'_> {
         tok
     }
 
+    /// [`Parser::bump`] for a number or a name, moving its payload out instead of copying
+    /// it (every leaf of a long polynomial passes here). The token left behind keeps its
+    /// kind and span, which is all the error messages read of earlier tokens ([`Parser::prev`]):
+    /// a name becomes empty and a number the placeholder `0/0`, never read as a value.
+    fn take(&mut self) -> Token {
+        if self.pos >= self.toks.len() - 1 {
+            return self.bump();
+        }
+        let tok = &mut self.toks[self.pos];
+        let kind = match &mut tok.kind {
+            TokKind::Ident { name, primes } => TokKind::Ident {
+                name: std::mem::take(name),
+                primes: *primes,
+            },
+            TokKind::Num(q) => TokKind::Num(std::mem::replace(
+                q,
+                BigRational::new_raw(BigInt::zero(), BigInt::zero()),
+            )),
+            other => other.clone(),
+        };
+        let span = tok.span;
+        self.pos += 1;
+        Token { kind, span }
+    }
+
     fn prev(&self) -> Option<&Token> {
         self.pos.checked_sub(1).map(|i| &self.toks[i])
     }
@@ -345,7 +373,7 @@ impl Parser<'_> {
 
     /// A number or a name that is not called.
     fn leaf(&mut self) -> PResult<Node> {
-        let tok = self.bump();
+        let tok = self.take();
         match tok.kind {
             TokKind::Ident { name, primes: 0 } => self.node(ExprKind::Ident(name), tok.span, 1),
             TokKind::Ident { name, .. } => Err(self.primes_without_call(&name, tok.span)),
@@ -399,7 +427,7 @@ impl Parser<'_> {
     /// Consumes the name and the `(` of a call, checking the name of a derivative operator
     /// and that an argument follows.
     fn call_head(&mut self) -> PResult<CallHead> {
-        let tok = self.bump();
+        let tok = self.take();
         let TokKind::Ident { name, primes } = tok.kind else {
             return Err(self.stray(&tok));
         };

@@ -198,10 +198,75 @@ proptest! {
     }
 }
 
+/// Small integers `-3..=3` (zero one time in seven) from a seeded xorshift.
+fn small_ints(seed: u64) -> impl FnMut() -> i64 {
+    let mut state = seed | 1;
+    move || {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        (state % 7) as i64 - 3
+    }
+}
+
+/// Checks a shift-table product `fast(a, b)` of the jets with integer coefficients `ai`
+/// and `bi` against their exact product (convolved in integers here): it, the pairs-table
+/// product and `Jet::mul` in both operand orders enclose every exact coefficient, and where
+/// every product is an exact zero the fast route keeps the zero exact.
+fn check_fast_product(
+    sp: &Rc<JetSpace>,
+    order: u32,
+    ai: &[i64],
+    bi: &[i64],
+    fast: impl Fn(&[Interval], &[Interval]) -> Option<Vec<Interval>>,
+) -> Result<(), TestCaseError> {
+    let n = sp.len(order);
+    let mut exact = vec![0i64; n];
+    for i in 0..n {
+        for j in 0..n {
+            let m: Vec<u8> = sp
+                .monomial(i)
+                .iter()
+                .zip(sp.monomial(j))
+                .map(|(x, y)| x + y)
+                .collect();
+            if let Some(k) = sp.position(&m) {
+                exact[k] += ai[i] * bi[j];
+            }
+        }
+    }
+    let a: Vec<Interval> = ai.iter().map(|&v| pt(v as f64)).collect();
+    let b: Vec<Interval> = bi.iter().map(|&v| pt(v as f64)).collect();
+    let pairs = Jet::<Interval>::mul_pairs(sp, &a, &b).expect("finite");
+    let shift = fast(&a, &b).expect("finite");
+    let ja = Jet {
+        space: sp.clone(),
+        order,
+        c: a.clone(),
+        constant: false,
+    };
+    let jb = Jet {
+        space: sp.clone(),
+        order,
+        c: b.clone(),
+        constant: false,
+    };
+    let (p1, p2) = (ja.mul(&jb).expect("finite"), jb.mul(&ja).expect("finite"));
+    for k in 0..n {
+        let e = exact[k] as f64;
+        for c in [&pairs[k], &shift[k], &p1.coeffs()[k], &p2.coeffs()[k]] {
+            prop_assert!(c.lo() <= e && e <= c.hi(), "coefficient {} misses {}", k, e);
+        }
+        if pairs[k].is_exact_zero() {
+            prop_assert!(shift[k].is_exact_zero());
+        }
+    }
+    Ok(())
+}
+
 proptest! {
-    /// The shift-table product by a factor of degree at most 1 and the pairs-table product
-    /// both enclose the exact product (small integer coefficients, convolved exactly in
-    /// integers here), coefficient by coefficient, with exact zeros kept exact.
+    /// The shift-table product by a factor of degree at most 1 encloses the exact product
+    /// as the pairs-table product does ([`check_fast_product`]).
     #[test]
     fn linear_factor_product_encloses_the_exact_product_as_the_pairs_product(
         vars in 1usize..4,
@@ -210,44 +275,59 @@ proptest! {
     ) {
         let sp = JetSpace::new(vars, order).expect("small");
         let n = sp.len(order);
-        let mut state = seed | 1;
-        let mut next = || {
-            state ^= state << 13;
-            state ^= state >> 7;
-            state ^= state << 17;
-            // -3..=3, zero one time in seven.
-            (state % 7) as i64 - 3
-        };
+        let mut next = small_ints(seed);
         let ai: Vec<i64> = (0..n).map(|_| next()).collect();
         let li: Vec<i64> = (0..n).map(|k| if k < sp.len(1) { next() } else { 0 }).collect();
-        let mut exact = vec![0i64; n];
-        for i in 0..n {
-            for j in 0..n {
-                let m: Vec<u8> =
-                    sp.monomial(i).iter().zip(sp.monomial(j)).map(|(x, y)| x + y).collect();
-                if let Some(k) = sp.position(&m) {
-                    exact[k] += ai[i] * li[j];
-                }
-            }
-        }
-        let a: Vec<Interval> = ai.iter().map(|&v| pt(v as f64)).collect();
-        let lin: Vec<Interval> = li.iter().map(|&v| pt(v as f64)).collect();
-        let pairs = Jet::<Interval>::mul_pairs(&sp, &a, &lin).expect("finite");
-        let shift = mul_linear(&sp, order, &a, &lin).expect("finite");
-        let ja = Jet { space: sp.clone(), order, c: a.clone(), constant: false };
-        let jl = Jet { space: sp.clone(), order, c: lin.clone(), constant: false };
-        let (p1, p2) = (ja.mul(&jl).expect("finite"), jl.mul(&ja).expect("finite"));
-        for k in 0..n {
-            let e = exact[k] as f64;
-            for c in [&pairs[k], &shift[k], &p1.coeffs()[k], &p2.coeffs()[k]] {
-                prop_assert!(c.lo() <= e && e <= c.hi(), "coefficient {} misses {}", k, e);
-            }
-            // Where every product is an exact zero, the fast route keeps the zero exact.
-            if pairs[k].is_exact_zero() {
-                prop_assert!(shift[k].is_exact_zero());
-            }
-        }
+        check_fast_product(&sp, order, &ai, &li, |a, l| mul_linear(&sp, order, a, l))?;
     }
+
+    /// The shift-table product by a factor in one variable (coefficients only at the powers
+    /// of `x_v`) likewise, and [`univariate`] finds that variable.
+    #[test]
+    fn one_variable_factor_product_encloses_the_exact_product(
+        vars in 1usize..5,
+        order in 1u32..6,
+        var in 0usize..4,
+        seed in any::<u64>(),
+    ) {
+        let v = var % vars;
+        let sp = JetSpace::new(vars, order).expect("small");
+        let n = sp.len(order);
+        let mut next = small_ints(seed);
+        let ai: Vec<i64> = (0..n).map(|_| next()).collect();
+        let ui: Vec<i64> = (0..n)
+            .map(|k| {
+                let m = sp.monomial(k);
+                let pure = m.iter().enumerate().all(|(w, &e)| w == v || e == 0);
+                if pure { next() } else { 0 }
+            })
+            .collect();
+        let u: Vec<Interval> = ui.iter().map(|&x| pt(x as f64)).collect();
+        let found = univariate(&sp, &u);
+        prop_assert!(found.is_none() || found == Some(v));
+        check_fast_product(&sp, order, &ai, &ui, |a, u| mul_univariate(&sp, order, a, u, v))?;
+    }
+}
+
+#[test]
+fn a_mixed_factor_is_not_taken_for_one_variable() {
+    // x*y is in two variables; x^2 + 3 in one; a constant in none.
+    let sp = JetSpace::new(2, 3).expect("small");
+    let n = sp.len(3);
+    let at = |exps: &[u8], v: f64| {
+        let mut c = vec![pt(0.0); n];
+        c[sp.position(exps).expect("in the space")] = pt(v);
+        c
+    };
+    assert_eq!(univariate(&sp, &at(&[1, 1], 2.0)), None);
+    let mut x2 = at(&[2, 0], 1.0);
+    x2[0] = pt(3.0);
+    assert_eq!(univariate(&sp, &x2), Some(0));
+    assert_eq!(univariate(&sp, &at(&[0, 3], 1.0)), Some(1));
+    assert_eq!(univariate(&sp, &at(&[0, 0], 5.0)), None);
+    let mut both = at(&[2, 0], 1.0);
+    both[sp.position(&[0, 1]).expect("in the space")] = pt(1.0);
+    assert_eq!(univariate(&sp, &both), None);
 }
 
 #[test]
