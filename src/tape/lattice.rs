@@ -94,15 +94,27 @@ pub struct PlaneOutcome {
     pub max_abs: Vec<f64>,
 }
 
-/// True if every value is finite: branch-free over blocks, so it vectorizes.
+/// True if every value is finite: `x - x` is 0 for a finite `x` and NaN otherwise, summed in
+/// 16 lanes without a branch, so it vectorizes (no early exit: the values are in cache).
 #[inline(always)]
+#[allow(
+    clippy::eq_op,
+    reason = "x - x is the test: 0 for a finite x, NaN for an infinite or NaN one"
+)]
 fn all_finite(v: &[f64]) -> bool {
-    const EXP: u64 = 0x7ff0_0000_0000_0000;
-    v.chunks(16).all(|c| {
-        c.iter()
-            .fold(0u64, |acc, x| acc | u64::from(x.to_bits() & EXP == EXP))
-            == 0
-    })
+    const L: usize = 16;
+    let mut acc = [0.0f64; L];
+    let blocks = v.chunks_exact(L);
+    let tail = blocks.remainder();
+    for c in blocks {
+        for (a, &x) in acc.iter_mut().zip(c) {
+            *a += x - x;
+        }
+    }
+    for (a, &x) in acc.iter_mut().zip(tail) {
+        *a += x - x;
+    }
+    acc.iter().all(|a| *a == 0.0)
 }
 
 /// Moves `cos(a)` right after `sin(a)` (or the other way round) where both are in
@@ -439,51 +451,51 @@ impl<'t> Lattice<'t> {
         self.ny * self.nz
     }
 
-    /// Runs the plane's instructions at `x`: those that do not depend on `y` once, the
-    /// others over blocks of `brows` rows. With a non-empty `out` (the real pass), the
-    /// instructions marked in `direct` write their output's values straight into it (output
-    /// `j` at `out[j * len..]`), where their readers read them, and every other output is
-    /// copied there block by block; with an empty one the registers must hold whole planes
-    /// (`brows` = `ny`) and the outputs are left in them.
+    /// Runs the plane instructions that depend on `y` over the block of rows `rows` (those
+    /// that do not must have run). With a non-empty `out` (the real pass), the instructions
+    /// marked in `direct` write their output's values straight into it (output `j` at
+    /// `out[j * len..]`), where their readers read them, and every other output but the
+    /// repeated ones is copied there; with an empty one the registers must hold whole planes
+    /// (`rows` every row) and the outputs are left in them.
     #[inline(always)]
-    fn plane_pass<T: Lane>(
+    fn plane_block<T: Lane>(
         &self,
         regs: &mut [Vec<T>],
         persistent: &[Vec<T>],
         x: f64,
         out: &mut [T],
-        brows: usize,
+        rows: std::ops::Range<usize>,
     ) {
         let (len, nz) = (self.ny * self.nz, self.nz);
-        let to_out = !out.is_empty();
-        let (inv, rowwise) = self.plane.split_at(self.ninv);
-        self.plane_run(inv, regs, persistent, x, out, 0..1);
-        let mut r0 = 0;
-        while r0 < self.ny {
-            let rows = r0..(r0 + brows).min(self.ny);
-            self.plane_run(rowwise, regs, persistent, x, out, rows.clone());
-            if to_out {
-                for (j, &o) in self.tape.outputs.iter().enumerate() {
-                    let o = o as usize;
-                    if self.direct[o] != u32::MAX {
-                        continue;
-                    }
-                    let src = Sources {
-                        lat: self,
-                        regs,
-                        persistent,
-                        lo: &[],
-                        hi: &[],
-                        at: usize::MAX,
-                        to_out: false,
-                        rows: rows.clone(),
-                    };
-                    let d = &mut out[j * len + rows.start * nz..j * len + rows.end * nz];
-                    let ds = Shape { ny: rows.len(), nz };
-                    spread(d, ds, src.get(o), src.shape(o));
-                }
+        self.plane_run(
+            &self.plane[self.ninv..],
+            regs,
+            persistent,
+            x,
+            out,
+            rows.clone(),
+        );
+        if out.is_empty() {
+            return;
+        }
+        for (j, &o) in self.tape.outputs.iter().enumerate() {
+            let o = o as usize;
+            if self.direct[o] != u32::MAX {
+                continue;
             }
-            r0 = rows.end;
+            let src = Sources {
+                lat: self,
+                regs,
+                persistent,
+                lo: &[],
+                hi: &[],
+                at: usize::MAX,
+                to_out: false,
+                rows: rows.clone(),
+            };
+            let d = &mut out[j * len + rows.start * nz..j * len + rows.end * nz];
+            let ds = Shape { ny: rows.len(), nz };
+            spread(d, ds, src.get(o), src.shape(o));
         }
     }
 
@@ -633,15 +645,32 @@ impl<'t> Lattice<'t> {
             ..PlaneOutcome::default()
         };
         if !self.tape.complex {
-            self.plane_pass(&mut ws.real, &self.real, x, out, self.brows);
+            let regs = &mut ws.real;
+            self.plane_run(&self.plane[..self.ninv], regs, &self.real, x, out, 0..1);
+            // Block by block, each block's outputs checked while they are in cache; a repeated
+            // output (a copy of an earlier one) is copied at the end.
+            let repeated = |j: usize, o: u32| {
+                let m = self.direct[o as usize];
+                m != u32::MAX && m as usize != j
+            };
             let mut finite = true;
+            let mut r0 = 0;
+            while r0 < self.ny {
+                let rows = r0..(r0 + self.brows).min(self.ny);
+                self.plane_block(regs, &self.real, x, out, rows.clone());
+                for (j, &o) in self.tape.outputs.iter().enumerate() {
+                    if !repeated(j, o) {
+                        let at = j * len + rows.start * self.nz;
+                        finite &= all_finite(&out[at..at + rows.len() * self.nz]);
+                    }
+                }
+                r0 = rows.end;
+            }
             for (j, &o) in self.tape.outputs.iter().enumerate() {
-                let m = self.direct[o as usize] as usize;
-                if m != u32::MAX as usize && m != j {
-                    // The same value as an earlier output, which was written in place.
+                if repeated(j, o) {
+                    let m = self.direct[o as usize] as usize;
                     out.copy_within(m * len..(m + 1) * len, j * len);
                 }
-                finite &= all_finite(&out[j * len..(j + 1) * len]);
             }
             if finite {
                 return outcome;
@@ -652,7 +681,8 @@ impl<'t> Lattice<'t> {
         let regs = ws
             .cplx
             .get_or_insert_with(|| vec![vec![C64::default(); len]; npreg]);
-        self.plane_pass(regs, &self.cplx, x, &mut [], self.ny);
+        self.plane_run(&self.plane[..self.ninv], regs, &self.cplx, x, &mut [], 0..1);
+        self.plane_block(regs, &self.cplx, x, &mut [], 0..self.ny);
         let mut tmp = vec![C64::default(); len];
         for (j, &o) in self.tape.outputs.iter().enumerate() {
             let o = o as usize;
