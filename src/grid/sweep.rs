@@ -20,7 +20,9 @@
 //!
 //! Parallel: each step's sampling (a task per plane) and the residuals of the slab `s + 1`
 //! behind (a task per plane and block of rows) run as one batch of tasks (two steps per
-//! batch on several threads, with a ring of `order + 4` slabs). Reductions merge
+//! batch on several threads, with a ring of `order + 4` slabs; on one thread the residuals of
+//! the slab `s` behind run after the step's sampling, so that they read the slab just
+//! written while it is in cache). Reductions merge
 //! by value and lattice index (a tie goes to the first point in `(t, x, y, z)` order), so the
 //! result does not depend on the streaming axis, the tasks or the threads (tested bit for bit
 //! against the slab-by-slab sweep over `t` this replaced).
@@ -418,7 +420,8 @@ type FirstBad = ([usize; 2], usize, usize, usize, crate::tape::C64);
 
 /// [`sweep_errors`] in a given order. Every step samples one slab along the streamed axis and
 /// takes the residuals of the slab `s + 1` behind it (whose stencils reach only slabs sampled
-/// in earlier steps); `g` steps at a time form one batch of tasks run in parallel (one step
+/// in earlier steps; one step per batch, those of the slab `s` behind, after the step's
+/// sampling); `g` steps at a time form one batch of tasks run in parallel (one step
 /// on one thread, where nothing waits; two on several, so that the workers meet half as
 /// often, at the cost of a ring of `2s + 2g` slabs: on the benchmark's box with two threads,
 /// one, two and four steps took 11 to 14, 10 to 12 and 13 to 14 ms). The results are merged
@@ -571,12 +574,19 @@ fn sweep_in(
     let rows = rows.clamp(1, nrows);
     let mut bad: Option<FirstBad> = None;
 
+    // One step per batch (one thread): the residuals of the slab s behind are taken after the
+    // step's sampling, so that they read the slab just written while it is still in cache
+    // (as a batch of parallel tasks they would read the slab being written).
+    let fresh = g == 1;
     let mut k = 0;
     loop {
         // Sample slabs k..k + g while the residuals of the slabs s + 1..s + g behind them
-        // are taken (their stencils reach only slabs sampled in earlier batches).
+        // are taken (their stencils reach only slabs sampled in earlier batches); one step
+        // at a time, sample slab k, then take the residuals of the slab s behind.
         let units = k..(k + g).min(along);
-        let behind = k.saturating_sub(g + s)..k.saturating_sub(s);
+        let end = if fresh { k + 1 } else { k };
+        let behind = end.saturating_sub(g + s)..end.saturating_sub(s);
+        let stopped = bad.is_some();
         let mut tasks: Vec<Task<'_>> = Vec::new();
         let mut slots: Vec<&[f64]> = Vec::with_capacity(w);
         for (i, slot) in ring.iter_mut().enumerate() {
@@ -596,7 +606,8 @@ fn sweep_in(
                 tasks.push(Task::Sample { it, ix, out });
             }
         }
-        for c in behind.filter(|c| centers.contains(c) && len > 0 && bad.is_none()) {
+        let mut later: Vec<(usize, usize, std::ops::Range<usize>)> = Vec::new();
+        for c in behind.filter(|c| centers.contains(c) && len > 0 && !stopped) {
             for j in match order.stream {
                 Stream::T => ranges[1].clone(),
                 Stream::X => ranges[0].clone(),
@@ -608,16 +619,12 @@ fn sweep_in(
                 let mut y = ranges[2].start;
                 while y < ranges[2].end {
                     let end = (y + rows).min(ranges[2].end);
-                    tasks.push(Task::Residual {
-                        it,
-                        ix,
-                        rows: y..end,
-                    });
+                    later.push((it, ix, y..end));
                     y = end;
                 }
             }
         }
-        let run = |task: Task<'_>| -> Done {
+        let run = |task: Task<'_>, slots: &[&[f64]]| -> Done {
             let i = thread_index() % works.len();
             let mut scratch = works[i]
                 .lock()
@@ -636,7 +643,7 @@ fn sweep_in(
                 }
                 Task::Residual { it, ix, rows } => {
                     let win = Window {
-                        slots: &slots,
+                        slots,
                         stream: order.stream,
                         center: it,
                         stat,
@@ -654,7 +661,16 @@ fn sweep_in(
                 }
             }
         };
-        for d in run_tasks(tasks, run) {
+        if !fresh {
+            tasks.extend(later.drain(..).map(residual_task));
+        }
+        let mut done = run_tasks(tasks, |t| run(t, &slots));
+        if !later.is_empty() {
+            let all: Vec<&[f64]> = ring.iter().map(Vec::as_slice).collect();
+            let tasks = later.into_iter().map(residual_task).collect();
+            done.extend(run_tasks(tasks, |t| run(t, &all)));
+        }
+        for d in done {
             match d {
                 Done::Sampled(it, ix, o) => absorb(
                     &o,
@@ -708,6 +724,11 @@ fn sweep_in(
         masked,
         floors,
     })
+}
+
+/// The task of the residuals of rows `rows` of plane `(it, ix)`.
+fn residual_task<'a>((it, ix, rows): (usize, usize, std::ops::Range<usize>)) -> Task<'a> {
+    Task::Residual { it, ix, rows }
 }
 
 /// Steps per batch of parallel tasks: one on one thread, two on several.
@@ -998,13 +1019,31 @@ fn fuse(plan: &GridPlan, atom_terms: &[Vec<Term>]) -> Fused {
 /// `acc[i] = sum_k w[k] * lines[k][i]`, the terms taken in groups of four in order, each
 /// group summed as `(w0 x0 + w1 x1) + (w2 x2 + w3 x3)` (fewer terms: the same tree cut
 /// short) and added to the running sum, which starts at 0. One pass over `acc`: the running
-/// sums of eight lanes stay in registers through all the groups.
+/// sums of a block of lanes stay in registers through all the groups. Blocks of 32 lanes
+/// (four AVX-512 registers) first, so that a group's dispatch and its weights' broadcasts are
+/// paid once per 32 lanes rather than once per 8 (the same sums, so the same bits).
 #[inline(always)]
 fn combine(acc: &mut [f64], w: &[f64], lines: &[&[f64]]) {
-    const L: usize = 8;
-    let n = acc.len();
-    let mut at = 0;
-    for out in acc.chunks_exact_mut(L) {
+    let at = combine_blocks::<32>(acc, w, lines, 0);
+    let at = combine_blocks::<8>(acc, w, lines, at);
+    for i in at..acc.len() {
+        let mut a = [0.0f64; 1];
+        for (wg, lg) in w.chunks(4).zip(lines.chunks(4)) {
+            add_group(&mut a, wg, lg, i);
+        }
+        acc[i] = a[0];
+    }
+}
+
+/// [`combine`] over the whole blocks of `L` lanes from lane `at` on; returns where they end.
+#[inline(always)]
+fn combine_blocks<const L: usize>(
+    acc: &mut [f64],
+    w: &[f64],
+    lines: &[&[f64]],
+    mut at: usize,
+) -> usize {
+    for out in acc[at..].chunks_exact_mut(L) {
         let mut a = [0.0f64; L];
         for (wg, lg) in w.chunks(4).zip(lines.chunks(4)) {
             add_group(&mut a, wg, lg, at);
@@ -1012,13 +1051,7 @@ fn combine(acc: &mut [f64], w: &[f64], lines: &[&[f64]]) {
         out.copy_from_slice(&a);
         at += L;
     }
-    for i in at..n {
-        let mut a = [0.0f64; 1];
-        for (wg, lg) in w.chunks(4).zip(lines.chunks(4)) {
-            add_group(&mut a, wg, lg, i);
-        }
-        acc[i] = a[0];
-    }
+    at
 }
 
 /// `a[j] += group sum at lane at + j`: one group of up to four terms of [`combine`].

@@ -342,6 +342,33 @@ pub(crate) fn zip2<T: Lane>(
     f: impl Fn(T, T) -> T,
 ) {
     let nz = ds.nz;
+    // Each operand either of the result's shape or one value: one run over the whole block
+    // (rows are contiguous), not one per row.
+    let n = ds.len();
+    let whole = |s: Shape| s == ds || s == Shape::ONE;
+    if ds.ny > 1 && whole(sa) && whole(sb) {
+        match (sa == Shape::ONE, sb == Shape::ONE) {
+            (false, false) => {
+                for ((o, &x), &y) in d[..n].iter_mut().zip(&a[..n]).zip(&b[..n]) {
+                    *o = f(x, y);
+                }
+            }
+            (true, false) => {
+                let x = a[0];
+                for (o, &y) in d[..n].iter_mut().zip(&b[..n]) {
+                    *o = f(x, y);
+                }
+            }
+            (false, true) => {
+                let y = b[0];
+                for (o, &x) in d[..n].iter_mut().zip(&a[..n]) {
+                    *o = f(x, y);
+                }
+            }
+            (true, true) => d[..n].fill(f(a[0], b[0])),
+        }
+        return;
+    }
     for iy in 0..ds.ny {
         let ra = if sa.ny == 1 { 0 } else { iy * sa.nz };
         let rb = if sb.ny == 1 { 0 } else { iy * sb.nz };

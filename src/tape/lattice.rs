@@ -9,6 +9,12 @@
 //! Operands are broadcast to the result's shape as the instruction runs. Values of the first
 //! two kinds are held for the whole slab; plane values live in a per-thread [`PlaneWork`]
 //! whose registers are reused once a value is dead.
+//!
+//! Within a plane, the instructions that do not depend on `y` run once; the others run over
+//! blocks of rows, so that their registers stay in cache (a plane's registers would not), and
+//! in the real pass an output computed on the whole plane is written by its instruction
+//! straight into the caller's buffer (no register, no copy). Every value is computed by the
+//! same operations as on whole planes, so the bits do not depend on the blocks (tested).
 
 use super::lane::{Shape, spread};
 use super::{C64, Lane, Op, Tape, allocate, apply};
@@ -24,6 +30,12 @@ const T_BIT: u8 = 1;
 const X_BIT: u8 = 2;
 const Y_BIT: u8 = 4;
 const Z_BIT: u8 = 8;
+
+/// Values (f64) of plane registers per block of rows: 64 KB. On the benchmark's oblique wave
+/// (10 registers, 68 lanes a row: blocks of 12 rows) this was faster than whole planes (the
+/// registers then take 370 KB) and than blocks within the first-level cache (2 to 6 rows),
+/// where running each instruction once per block costs more than the cache saves.
+const BLOCK_VALUES: usize = 8192;
 
 /// A tape prepared for one lattice's `y` and `z` coordinates.
 #[derive(Clone)]
@@ -44,8 +56,17 @@ pub struct Lattice<'t> {
     partner: Vec<u32>,
     /// True for the second of such a pair (skipped: its partner computed it).
     second: Vec<bool>,
+    /// For a plane instruction whose value is output `j` (its first output, on the whole
+    /// plane, not one of a sin/cos pair): `j`, so that the real pass writes it straight into
+    /// the caller's output instead of a register; `u32::MAX` otherwise.
+    direct: Vec<u32>,
     preg: Vec<u32>,
     npreg: usize,
+    /// The plane schedule is `plane[..ninv]`, the instructions that do not depend on `y`
+    /// (run once per plane), then the others, run over blocks of `brows` rows at a time so
+    /// that their registers stay in the first-level cache.
+    ninv: usize,
+    brows: usize,
     real: Vec<Vec<f64>>,
     cplx: Vec<Vec<C64>>,
 }
@@ -73,15 +94,27 @@ pub struct PlaneOutcome {
     pub max_abs: Vec<f64>,
 }
 
-/// True if every value is finite: branch-free over blocks, so it vectorizes.
+/// True if every value is finite: `x - x` is 0 for a finite `x` and NaN otherwise, summed in
+/// 16 lanes without a branch, so it vectorizes (no early exit: the values are in cache).
 #[inline(always)]
+#[allow(
+    clippy::eq_op,
+    reason = "x - x is the test: 0 for a finite x, NaN for an infinite or NaN one"
+)]
 fn all_finite(v: &[f64]) -> bool {
-    const EXP: u64 = 0x7ff0_0000_0000_0000;
-    v.chunks(16).all(|c| {
-        c.iter()
-            .fold(0u64, |acc, x| acc | u64::from(x.to_bits() & EXP == EXP))
-            == 0
-    })
+    const L: usize = 16;
+    let mut acc = [0.0f64; L];
+    let blocks = v.chunks_exact(L);
+    let tail = blocks.remainder();
+    for c in blocks {
+        for (a, &x) in acc.iter_mut().zip(c) {
+            *a += x - x;
+        }
+    }
+    for (a, &x) in acc.iter_mut().zip(tail) {
+        *a += x - x;
+    }
+    acc.iter().all(|a| *a == 0.0)
 }
 
 /// Moves `cos(a)` right after `sin(a)` (or the other way round) where both are in
@@ -136,6 +169,85 @@ fn sincos<T: Lane>(op: Op, d: &mut [T], dj: &mut [T], a: &[T], n: usize) {
     T::sincos_block(&mut s[..n], &mut c[..n], &a[..n]);
 }
 
+/// Where a plane instruction's operands are, for the block of rows `rows`: the plane
+/// registers (a value that depends on `y` holds the block's rows only), the values held for
+/// the slab, and (in the real pass) the outputs written straight into the caller's buffer,
+/// split around the one being written (`at`; `usize::MAX` when the result goes to a register
+/// and `lo` is the whole buffer).
+struct Sources<'a, 't, T> {
+    lat: &'a Lattice<'t>,
+    regs: &'a [Vec<T>],
+    persistent: &'a [Vec<T>],
+    lo: &'a [T],
+    hi: &'a [T],
+    at: usize,
+    to_out: bool,
+    rows: std::ops::Range<usize>,
+}
+
+impl<T: Lane> Sources<'_, '_, T> {
+    /// The shape of instruction `k`'s values within the block.
+    #[inline(always)]
+    fn shape(&self, k: usize) -> Shape {
+        let s = self.lat.shape[k];
+        if s.ny > 1 {
+            Shape {
+                ny: self.rows.len(),
+                nz: s.nz,
+            }
+        } else {
+            s
+        }
+    }
+
+    /// The values of instruction `k` within the block.
+    #[inline(always)]
+    fn get(&self, k: usize) -> &[T] {
+        let lat = self.lat;
+        let s = lat.shape[k];
+        let rows = if s.ny > 1 {
+            self.rows.start * s.nz..self.rows.end * s.nz
+        } else {
+            0..s.len()
+        };
+        if lat.level[k] != Level::Plane {
+            return &self.persistent[lat.slot[k] as usize][rows];
+        }
+        let m = lat.direct[k];
+        if self.to_out && m != u32::MAX {
+            let len = lat.ny * lat.nz;
+            let m = m as usize;
+            return if m < self.at {
+                &self.lo[m * len..(m + 1) * len][rows]
+            } else {
+                &self.hi[(m - self.at - 1) * len..(m - self.at) * len][rows]
+            };
+        }
+        &self.regs[lat.preg[k] as usize]
+    }
+
+    /// Runs instruction `i` (not the first of a sin/cos pair) into `d`.
+    #[inline(always)]
+    fn run(&self, i: usize, op: Op, d: &mut [T], x: f64) {
+        match op {
+            Op::Input(1) => d[0] = T::from_f64(x),
+            Op::Const(_) | Op::Input(_) => unreachable!("only x is a plane leaf"),
+            _ => {
+                let [a, b] = op.operands();
+                let a = a.expect("operand") as usize;
+                let b = b.map_or(a, |b| b as usize);
+                apply(
+                    op,
+                    d,
+                    self.shape(i),
+                    (self.get(a), self.shape(a)),
+                    (self.get(b), self.shape(b)),
+                );
+            }
+        }
+    }
+}
+
 impl<'t> Lattice<'t> {
     /// Prepares `tape` (inputs `t, x, y, z`) for the coordinates `ys` and `zs`, and computes
     /// everything that depends on neither `t` nor `x`.
@@ -185,8 +297,36 @@ impl<'t> Lattice<'t> {
         for &o in &tape.outputs {
             keep[o as usize] = true;
         }
+        // The plane instructions that do not depend on y first (their values are kept through
+        // every block of rows), then those that do; sin/cos pairs have one shape, so they stay
+        // adjacent.
+        let (mut plane, rowwise): (Vec<u32>, Vec<u32>) = plane
+            .into_iter()
+            .partition(|&i| tape.masks[i as usize] & Y_BIT == 0);
+        let ninv = plane.len();
+        for &i in &rowwise {
+            for a in tape.ops[i as usize].operands().into_iter().flatten() {
+                if level[a as usize] == Level::Plane && tape.masks[a as usize] & Y_BIT == 0 {
+                    keep[a as usize] = true;
+                }
+            }
+        }
+        plane.extend(rowwise);
         let external: Vec<bool> = level.iter().map(|&l| l != Level::Plane).collect();
         let (preg, npreg) = allocate(&tape.ops, &plane, &keep, &external);
+        // Rows per block: the registers within BLOCK_VALUES, an even number of rows.
+        let brows = (BLOCK_VALUES / (npreg.max(1) * nz)).clamp(1, ny.max(1));
+        let brows = if brows > 2 { brows & !1 } else { brows };
+        let mut direct = vec![u32::MAX; n];
+        for (j, &o) in tape.outputs.iter().enumerate() {
+            let o = o as usize;
+            let whole = shape[o].len() == ny * nz;
+            let paired = partner[o] != u32::MAX || second[o];
+            let first = !tape.outputs[..j].contains(&(o as u32));
+            if level[o] == Level::Plane && whole && !paired && first {
+                direct[o] = j as u32;
+            }
+        }
         let mut lat = Lattice {
             tape,
             ny,
@@ -201,8 +341,11 @@ impl<'t> Lattice<'t> {
             slot,
             partner,
             second,
+            direct,
             preg,
             npreg,
+            ninv,
+            brows,
             real,
             cplx,
         };
@@ -210,6 +353,13 @@ impl<'t> Lattice<'t> {
         lat.run_persistent(&fixed, 0.0);
         lat.fixed = fixed;
         lat
+    }
+
+    /// The same lattice evaluating `rows` rows per block (at least 1).
+    #[cfg(test)]
+    pub(crate) fn with_block_rows(mut self, rows: usize) -> Lattice<'t> {
+        self.brows = rows.clamp(1, self.ny.max(1));
+        self
     }
 
     /// How many `sin(a)`, `cos(a)` pairs are computed together.
@@ -289,7 +439,7 @@ impl<'t> Lattice<'t> {
     pub fn workspace(&self) -> PlaneWork {
         let lanes = self.ny * self.nz;
         PlaneWork {
-            real: vec![vec![0.0; lanes]; self.npreg],
+            real: vec![vec![0.0; self.brows * self.nz]; self.npreg],
             cplx: None,
             lanes,
         }
@@ -301,52 +451,125 @@ impl<'t> Lattice<'t> {
         self.ny * self.nz
     }
 
-    fn plane_pass<T: Lane>(&self, regs: &mut [Vec<T>], persistent: &[Vec<T>], x: f64) {
-        for &i in &self.plane {
+    /// Runs the plane instructions that depend on `y` over the block of rows `rows` (those
+    /// that do not must have run). With a non-empty `out` (the real pass), the instructions
+    /// marked in `direct` write their output's values straight into it (output `j` at
+    /// `out[j * len..]`), where their readers read them, and every other output but the
+    /// repeated ones is copied there; with an empty one the registers must hold whole planes
+    /// (`rows` every row) and the outputs are left in them.
+    #[inline(always)]
+    fn plane_block<T: Lane>(
+        &self,
+        regs: &mut [Vec<T>],
+        persistent: &[Vec<T>],
+        x: f64,
+        out: &mut [T],
+        rows: std::ops::Range<usize>,
+    ) {
+        let (len, nz) = (self.ny * self.nz, self.nz);
+        self.plane_run(
+            &self.plane[self.ninv..],
+            regs,
+            persistent,
+            x,
+            out,
+            rows.clone(),
+        );
+        if out.is_empty() {
+            return;
+        }
+        for (j, &o) in self.tape.outputs.iter().enumerate() {
+            let o = o as usize;
+            if self.direct[o] != u32::MAX {
+                continue;
+            }
+            let src = Sources {
+                lat: self,
+                regs,
+                persistent,
+                lo: &[],
+                hi: &[],
+                at: usize::MAX,
+                to_out: false,
+                rows: rows.clone(),
+            };
+            let d = &mut out[j * len + rows.start * nz..j * len + rows.end * nz];
+            let ds = Shape { ny: rows.len(), nz };
+            spread(d, ds, src.get(o), src.shape(o));
+        }
+    }
+
+    /// Runs `schedule` (a part of the plane schedule) over the block of rows `rows`.
+    #[allow(clippy::too_many_arguments)]
+    #[inline(always)]
+    fn plane_run<T: Lane>(
+        &self,
+        schedule: &[u32],
+        regs: &mut [Vec<T>],
+        persistent: &[Vec<T>],
+        x: f64,
+        out: &mut [T],
+        rows: std::ops::Range<usize>,
+    ) {
+        let (len, nz) = (self.ny * self.nz, self.nz);
+        let to_out = !out.is_empty();
+        for &i in schedule {
             let i = i as usize;
             if self.second[i] {
                 continue;
             }
             let op = self.tape.ops[i];
+            let j = if to_out { self.direct[i] } else { u32::MAX };
+            if j != u32::MAX {
+                let j = j as usize;
+                let (lo, rest) = out.split_at_mut(j * len);
+                let (d, hi) = rest.split_at_mut(len);
+                let src = Sources {
+                    lat: self,
+                    regs,
+                    persistent,
+                    lo,
+                    hi,
+                    at: j,
+                    to_out,
+                    rows: rows.clone(),
+                };
+                src.run(i, op, &mut d[rows.start * nz..rows.end * nz], x);
+                continue;
+            }
             let r = self.preg[i] as usize;
             let mut d = std::mem::take(&mut regs[r]);
-            match op {
-                Op::Input(1) => d[0] = T::from_f64(x),
-                Op::Sin(a) | Op::Cos(a) if self.partner[i] != u32::MAX => {
-                    // The partner is next in the schedule, so its register holds no live
-                    // value now (see `pair_trig`).
-                    let j = self.partner[i] as usize;
-                    let rj = self.preg[j] as usize;
-                    let mut dj = std::mem::take(&mut regs[rj]);
-                    let a = a as usize;
-                    let src: &[T] = if self.level[a] == Level::Plane {
-                        &regs[self.preg[a] as usize]
-                    } else {
-                        &persistent[self.slot[a] as usize]
-                    };
-                    sincos(op, &mut d, &mut dj, src, self.shape[i].len());
-                    regs[rj] = dj;
-                }
-                Op::Const(_) | Op::Input(_) => unreachable!("only x is a plane leaf"),
-                _ => {
-                    let [a, b] = op.operands();
-                    let a = a.expect("operand") as usize;
-                    let b = b.map_or(a, |b| b as usize);
-                    let src = |k: usize| -> &[T] {
-                        if self.level[k] == Level::Plane {
-                            &regs[self.preg[k] as usize]
-                        } else {
-                            &persistent[self.slot[k] as usize]
-                        }
-                    };
-                    apply(
-                        op,
-                        &mut d,
-                        self.shape[i],
-                        (src(a), self.shape[a]),
-                        (src(b), self.shape[b]),
-                    );
-                }
+            if let (Op::Sin(a) | Op::Cos(a), true) = (op, self.partner[i] != u32::MAX) {
+                // The partner is next in the schedule, so its register holds no live
+                // value now (see `pair_trig`).
+                let pj = self.partner[i] as usize;
+                let rj = self.preg[pj] as usize;
+                let mut dj = std::mem::take(&mut regs[rj]);
+                let src = Sources {
+                    lat: self,
+                    regs,
+                    persistent,
+                    lo: out,
+                    hi: &[],
+                    at: usize::MAX,
+                    to_out,
+                    rows: rows.clone(),
+                };
+                let n = src.shape(i).len();
+                sincos(op, &mut d, &mut dj, src.get(a as usize), n);
+                regs[rj] = dj;
+            } else {
+                let src = Sources {
+                    lat: self,
+                    regs,
+                    persistent,
+                    lo: out,
+                    hi: &[],
+                    at: usize::MAX,
+                    to_out,
+                    rows: rows.clone(),
+                };
+                src.run(i, op, &mut d, x);
             }
             regs[r] = d;
         }
@@ -374,6 +597,11 @@ impl<'t> Lattice<'t> {
     /// If `out` is not `outputs * ny * nz` long or `ws` belongs to another lattice.
     pub fn plane(&self, ws: &mut PlaneWork, x: f64, out: &mut [f64]) -> PlaneOutcome {
         #[cfg(target_arch = "x86_64")]
+        if std::is_x86_feature_detected!("avx512f") {
+            // SAFETY: detected just above.
+            return unsafe { self.plane_avx512(ws, x, out) };
+        }
+        #[cfg(target_arch = "x86_64")]
         if std::is_x86_feature_detected!("avx2") {
             // SAFETY: the processor has AVX2 (detected just above), the only requirement of
             // `plane_avx2`.
@@ -390,6 +618,13 @@ impl<'t> Lattice<'t> {
     #[cfg(target_arch = "x86_64")]
     #[target_feature(enable = "avx2")]
     unsafe fn plane_avx2(&self, ws: &mut PlaneWork, x: f64, out: &mut [f64]) -> PlaneOutcome {
+        self.plane_lanes(ws, x, out)
+    }
+
+    /// AVX-512.
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx512f")]
+    unsafe fn plane_avx512(&self, ws: &mut PlaneWork, x: f64, out: &mut [f64]) -> PlaneOutcome {
         self.plane_lanes(ws, x, out)
     }
 
@@ -410,18 +645,32 @@ impl<'t> Lattice<'t> {
             ..PlaneOutcome::default()
         };
         if !self.tape.complex {
-            self.plane_pass(&mut ws.real, &self.real, x);
+            let regs = &mut ws.real;
+            self.plane_run(&self.plane[..self.ninv], regs, &self.real, x, out, 0..1);
+            // Block by block, each block's outputs checked while they are in cache; a repeated
+            // output (a copy of an earlier one) is copied at the end.
+            let repeated = |j: usize, o: u32| {
+                let m = self.direct[o as usize];
+                m != u32::MAX && m as usize != j
+            };
             let mut finite = true;
+            let mut r0 = 0;
+            while r0 < self.ny {
+                let rows = r0..(r0 + self.brows).min(self.ny);
+                self.plane_block(regs, &self.real, x, out, rows.clone());
+                for (j, &o) in self.tape.outputs.iter().enumerate() {
+                    if !repeated(j, o) {
+                        let at = j * len + rows.start * self.nz;
+                        finite &= all_finite(&out[at..at + rows.len() * self.nz]);
+                    }
+                }
+                r0 = rows.end;
+            }
             for (j, &o) in self.tape.outputs.iter().enumerate() {
-                let o = o as usize;
-                let dst = &mut out[j * len..(j + 1) * len];
-                spread(
-                    dst,
-                    full,
-                    self.output_source(o, &ws.real, &self.real),
-                    self.shape[o],
-                );
-                finite &= all_finite(dst);
+                if repeated(j, o) {
+                    let m = self.direct[o as usize] as usize;
+                    out.copy_within(m * len..(m + 1) * len, j * len);
+                }
             }
             if finite {
                 return outcome;
@@ -432,7 +681,8 @@ impl<'t> Lattice<'t> {
         let regs = ws
             .cplx
             .get_or_insert_with(|| vec![vec![C64::default(); len]; npreg]);
-        self.plane_pass(regs, &self.cplx, x);
+        self.plane_run(&self.plane[..self.ninv], regs, &self.cplx, x, &mut [], 0..1);
+        self.plane_block(regs, &self.cplx, x, &mut [], 0..self.ny);
         let mut tmp = vec![C64::default(); len];
         for (j, &o) in self.tape.outputs.iter().enumerate() {
             let o = o as usize;

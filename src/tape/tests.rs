@@ -181,6 +181,65 @@ fn lattice_agrees_with_pointwise_evaluation() {
 }
 
 #[test]
+fn lattice_blocks_of_rows_give_the_same_bits() {
+    // Rows per block change nothing: random expressions plus outputs of every kind (one that
+    // does not depend on y, one held for the slab, a constant, a sin/cos pair, the same value
+    // twice, one that is another's operand), each block size against whole planes, bit for
+    // bit; and a plane that needs the complex pass.
+    let seed = 0x7a9e_0003_u64;
+    let mut rng = SplitMix64::new(seed);
+    let mut s = setup();
+    let mut texts: Vec<String> = (0..6).map(|_| random_expr(&mut rng, 3)).collect();
+    texts.extend(
+        [
+            "cos(2*(t - x - y + z))",
+            "sin(2*(t - x - y + z))",
+            "a*cos(x - z)",
+            "sin(y)*t/3",
+            "pi/7",
+            "cos(2*(t - x - y + z))",
+            "3*cos(2*(t - x - y + z)) + y",
+            "sqrt(x - y)",
+        ]
+        .map(String::from),
+    );
+    let forms: Vec<_> = texts.iter().map(|t| build(&mut s.store, t)).collect();
+    let samples = s.samples.clone();
+    let consts = s.constants.clone();
+    let mut c = Compiler::new(&mut s.store, &COORDS, &consts, &samples);
+    let nodes: Vec<Node> = forms.iter().map(|&f| c.form(f).unwrap()).collect();
+    let tape = c.builder.finish(&nodes);
+    let ys = [0.3, 0.5, 0.7, 0.8, 1.1, 1.3, 1.7];
+    let zs = [-0.4, -0.1, 0.2, 0.6, 0.9];
+    let whole = Lattice::new(&tape, &ys, &zs).with_block_rows(ys.len());
+    let n = tape.outputs() * whole.plane_len();
+    for rows in [1, 2, 3, 4, 6] {
+        let mut want_lat = whole.clone();
+        let mut lat = whole.clone().with_block_rows(rows);
+        let (mut ws0, mut ws) = (want_lat.workspace(), lat.workspace());
+        for t in [0.25, -0.5] {
+            want_lat.set_t(t);
+            lat.set_t(t);
+            // x = 0.1 and 0.9 need the complex pass (the root of x - y < 0); x = 2 does not.
+            for x in [0.1, 0.9, 2.0] {
+                let (mut want, mut got) = (vec![0.0; n], vec![1.0; n]);
+                let o0 = want_lat.plane(&mut ws0, x, &mut want);
+                let o = lat.plane(&mut ws, x, &mut got);
+                assert_eq!(o, o0, "seed {seed:#x} rows {rows} at t {t}, x {x}");
+                for (k, (g, w)) in got.iter().zip(&want).enumerate() {
+                    assert_eq!(
+                        g.to_bits(),
+                        w.to_bits(),
+                        "seed {seed:#x} rows {rows} at t {t}, x {x}: `{}` value {k}",
+                        texts[k / whole.plane_len()]
+                    );
+                }
+            }
+        }
+    }
+}
+
+#[test]
 fn common_subexpressions_are_shared_across_outputs() {
     let mut s = setup();
     let texts = [
