@@ -493,7 +493,10 @@ impl Store {
                     (ExprKind::Ident(n), ExprKind::Num(x))
                         if symbol(n) && x.denom().is_one() && x.is_positive() =>
                     {
-                        (Some(n), x.numer().to_i64().filter(|&k| k <= 10_000)?)
+                        (
+                            Some(n),
+                            x.numer().to_i64().filter(|&k| k <= super::MAX_POWER)?,
+                        )
                     }
                     _ => return None,
                 },

@@ -227,7 +227,20 @@ pub enum CanonError {
     /// An exact coefficient would grow past the size cap (in bits).
     #[error("too large: an exact number would have over {0} bits")]
     NumberTooLarge(u64),
+    /// A power or root beyond the exponent caps ([`MAX_POWER`], [`MAX_ROOT`]).
+    #[error(
+        "too large: an exponent beyond the limits (integer powers up to {MAX_POWER} in \
+         magnitude, roots up to order {MAX_ROOT})"
+    )]
+    PowerTooLarge,
 }
+
+/// The largest magnitude of an integer power (or of the numerator of a rational one) that
+/// the canonical form builds.
+pub const MAX_POWER: i64 = 10_000;
+
+/// The largest order of a root (the denominator of a rational power).
+pub const MAX_ROOT: u32 = 1000;
 
 impl CanonError {
     /// True for the errors that mean "a size, time or memory limit was reached" (the answer
@@ -238,6 +251,7 @@ impl CanonError {
             CanonError::TooLarge(_)
                 | CanonError::Timeout(_)
                 | CanonError::NumberTooLarge(_)
+                | CanonError::PowerTooLarge
                 | CanonError::MemoryCap(_)
         )
     }
@@ -1732,10 +1746,8 @@ impl Store {
             let n = q
                 .to_integer()
                 .to_i64()
-                .ok_or(CanonError::TooLarge(self.limits.max_terms))?;
-            if n.abs() > 10_000 {
-                return Err(CanonError::TooLarge(self.limits.max_terms));
-            }
+                .filter(|n| n.abs() <= MAX_POWER)
+                .ok_or(CanonError::PowerTooLarge)?;
             return self.powi(a, n);
         }
         if a == self.zero {
@@ -1751,13 +1763,13 @@ impl Store {
         let den = q
             .denom()
             .to_u32()
-            .filter(|d| *d <= 1000)
-            .ok_or(CanonError::TooLarge(self.limits.max_terms))?;
+            .filter(|d| *d <= MAX_ROOT)
+            .ok_or(CanonError::PowerTooLarge)?;
         let num = q
             .numer()
             .to_i64()
-            .filter(|n| n.abs() <= 10_000)
-            .ok_or(CanonError::TooLarge(self.limits.max_terms))?;
+            .filter(|n| n.abs() <= MAX_POWER)
+            .ok_or(CanonError::PowerTooLarge)?;
         let root = self.root(a, den)?;
         self.powi(root, num)
     }

@@ -182,6 +182,22 @@ fn issue9_huge_coefficients_are_refused_not_computed() {
 }
 
 #[test]
+fn powers_beyond_the_exponent_caps_are_refused_as_such() {
+    // One term each, so the refusal names the exponent caps, not the term limit; a power
+    // at the cap is built.
+    for text in ["x^20000", "x^(-10001)", "x^(1/1001)", "x^(20001/2)"] {
+        let mut st = Store::new();
+        let e = crate::parse::parse(text).unwrap();
+        let err = st.build(&e, &Names::free()).unwrap_err();
+        assert!(err.limit, "{text}: {err:?}");
+        assert!(err.message.contains("exponent"), "{text}: {}", err.message);
+    }
+    let mut st = Store::new();
+    let e = crate::parse::parse("x^10000*x^(1/1000)").unwrap();
+    assert!(st.build(&e, &Names::free()).is_ok());
+}
+
+#[test]
 fn issue9_rational_enclosures_contain_the_value_at_every_scale() {
     use num_bigint::BigInt;
     use num_traits::Pow;

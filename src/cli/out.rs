@@ -69,7 +69,7 @@ pub fn limit_reason(e: &CanonError) -> Option<String> {
     match e {
         CanonError::TooLarge(_) => Some(format!("{e} (--max-terms raises the limit)")),
         CanonError::Timeout(_) => Some(format!("{e} (--time-limit raises it)")),
-        CanonError::NumberTooLarge(_) => Some(e.to_string()),
+        CanonError::NumberTooLarge(_) | CanonError::PowerTooLarge => Some(e.to_string()),
         CanonError::MemoryCap(_) => Some(format!("{e} (--max-memory raises it)")),
         CanonError::DivisionByZero | CanonError::Undefined(_) => None,
     }
@@ -109,6 +109,9 @@ pub fn limit_in(message: &str) -> Option<CanonError> {
     }
     if let Some(bits) = number_after("too large: an exact number would have over ") {
         return Some(CanonError::NumberTooLarge(bits));
+    }
+    if message.contains("too large: an exponent beyond the limits") {
+        return Some(CanonError::PowerTooLarge);
     }
     number_after("too large: an intermediate result has over ")
         .map(|n| CanonError::TooLarge(usize::try_from(n).unwrap_or(usize::MAX)))
