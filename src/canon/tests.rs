@@ -698,6 +698,17 @@ fn exact_division_cancels_random_products() {
     );
 }
 
+/// The seeded generator of a randomised test: `LINGRAV_SEED` if set, else `default`; the
+/// seed is printed (and returned, for the messages) so that a failure can be rerun.
+fn seeded(default: u64) -> (u64, crate::zero::SplitMix64) {
+    let seed = std::env::var("LINGRAV_SEED")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(default);
+    println!("seed {seed}");
+    (seed, crate::zero::SplitMix64::new(seed))
+}
+
 /// Products with packed exponent vectors (`Store::products_packed`) give exactly the terms of
 /// monomial-by-monomial products (`Store::products_by_monomial`), on seeded random sums over
 /// symbols with negative powers, sines and cosines (exponentials that combine), a Gaussian,
@@ -705,12 +716,7 @@ fn exact_division_cancels_random_products() {
 /// coefficient). Run with a printed seed; a mismatch names the operands.
 #[test]
 fn packed_products_are_the_monomial_products() {
-    let seed = std::env::var("LINGRAV_SEED")
-        .ok()
-        .and_then(|v| v.parse().ok())
-        .unwrap_or(20261204u64);
-    println!("seed {seed}");
-    let mut rng = crate::zero::SplitMix64::new(seed);
+    let (seed, mut rng) = seeded(20261204);
     let mut next = |n: u64| rng.next_u64() % n;
     const FACTORS: [&str; 13] = [
         "x",
@@ -776,12 +782,7 @@ fn packed_products_are_the_monomial_products() {
 /// denominator, that vanish, that involve one and zero, and that share denominators.
 #[test]
 fn dot_is_the_sum_of_the_products() {
-    let seed = std::env::var("LINGRAV_SEED")
-        .ok()
-        .and_then(|v| v.parse().ok())
-        .unwrap_or(20261205u64);
-    println!("seed {seed}");
-    let mut rng = crate::zero::SplitMix64::new(seed);
+    let (seed, mut rng) = seeded(20261205);
     let mut next = |n: u64| rng.next_u64() % n;
     const FORMS: [&str; 12] = [
         "0",

@@ -539,37 +539,32 @@ impl<'t> Lattice<'t> {
             }
             let r = self.preg[i] as usize;
             let mut d = std::mem::take(&mut regs[r]);
-            if let (Op::Sin(a) | Op::Cos(a), true) = (op, self.partner[i] != u32::MAX) {
-                // The partner is next in the schedule, so its register holds no live
-                // value now (see `pair_trig`).
-                let pj = self.partner[i] as usize;
-                let rj = self.preg[pj] as usize;
-                let mut dj = std::mem::take(&mut regs[rj]);
-                let src = Sources {
-                    lat: self,
-                    regs,
-                    persistent,
-                    lo: out,
-                    hi: &[],
-                    at: usize::MAX,
-                    to_out,
-                    rows: rows.clone(),
-                };
-                let n = src.shape(i).len();
-                sincos(op, &mut d, &mut dj, src.get(a as usize), n);
-                regs[rj] = dj;
-            } else {
-                let src = Sources {
-                    lat: self,
-                    regs,
-                    persistent,
-                    lo: out,
-                    hi: &[],
-                    at: usize::MAX,
-                    to_out,
-                    rows: rows.clone(),
-                };
-                src.run(i, op, &mut d, x);
+            // A sin/cos pair: the partner is next in the schedule, so its register holds no
+            // live value now (see `pair_trig`).
+            let pair = match op {
+                Op::Sin(a) | Op::Cos(a) if self.partner[i] != u32::MAX => {
+                    let rj = self.preg[self.partner[i] as usize] as usize;
+                    Some((a as usize, rj, std::mem::take(&mut regs[rj])))
+                }
+                _ => None,
+            };
+            let src = Sources {
+                lat: self,
+                regs,
+                persistent,
+                lo: out,
+                hi: &[],
+                at: usize::MAX,
+                to_out,
+                rows: rows.clone(),
+            };
+            match pair {
+                Some((a, rj, mut dj)) => {
+                    let n = src.shape(i).len();
+                    sincos(op, &mut d, &mut dj, src.get(a), n);
+                    regs[rj] = dj;
+                }
+                None => src.run(i, op, &mut d, x),
             }
             regs[r] = d;
         }

@@ -128,6 +128,17 @@ fn tape_agrees_with_interval_evaluation_on_random_forms() {
     }
 }
 
+/// One tape for the outputs `texts`, compiled in the setup's store with its constants and
+/// function samples.
+fn tape_of(s: &mut Setup, texts: &[String]) -> Tape {
+    let forms: Vec<_> = texts.iter().map(|t| build(&mut s.store, t)).collect();
+    let samples = s.samples.clone();
+    let consts = s.constants.clone();
+    let mut c = Compiler::new(&mut s.store, &COORDS, &consts, &samples);
+    let nodes: Vec<Node> = forms.iter().map(|&f| c.form(f).unwrap()).collect();
+    c.builder.finish(&nodes)
+}
+
 #[test]
 fn lattice_agrees_with_pointwise_evaluation() {
     let seed = 0x7a9e_0002_u64;
@@ -145,12 +156,7 @@ fn lattice_agrees_with_pointwise_evaluation() {
         ]
         .map(String::from),
     );
-    let forms: Vec<_> = texts.iter().map(|t| build(&mut s.store, t)).collect();
-    let samples = s.samples.clone();
-    let consts = s.constants.clone();
-    let mut c = Compiler::new(&mut s.store, &COORDS, &consts, &samples);
-    let nodes: Vec<Node> = forms.iter().map(|&f| c.form(f).unwrap()).collect();
-    let tape = c.builder.finish(&nodes);
+    let tape = tape_of(&mut s, &texts);
     let ys = [0.3, 0.5, 0.7];
     let zs = [-0.4, -0.1, 0.2, 0.6];
     let mut lat = Lattice::new(&tape, &ys, &zs);
@@ -203,12 +209,7 @@ fn lattice_blocks_of_rows_give_the_same_bits() {
         ]
         .map(String::from),
     );
-    let forms: Vec<_> = texts.iter().map(|t| build(&mut s.store, t)).collect();
-    let samples = s.samples.clone();
-    let consts = s.constants.clone();
-    let mut c = Compiler::new(&mut s.store, &COORDS, &consts, &samples);
-    let nodes: Vec<Node> = forms.iter().map(|&f| c.form(f).unwrap()).collect();
-    let tape = c.builder.finish(&nodes);
+    let tape = tape_of(&mut s, &texts);
     let ys = [0.3, 0.5, 0.7, 0.8, 1.1, 1.3, 1.7];
     let zs = [-0.4, -0.1, 0.2, 0.6, 0.9];
     let whole = Lattice::new(&tape, &ys, &zs).with_block_rows(ys.len());
