@@ -4,7 +4,7 @@
 //!
 //! What is timed is what `lingrav check FILE` computes: reading and building the problem,
 //! checking every claim (those about h and those about the radiation of bodies) and the
-//! independent audit of every verdict (`lingrav::check_problem`, as the command calls it); not
+//! independent audit of every verdict (`lingrav::check_file`, as the command calls it); not
 //! the rendering of the report (microseconds for most files, but a large failing residual's
 //! display, built in the file's terms with its sines and cosines regrouped, can take as long
 //! as its check: see the whole-process column of `benches/engine_ratios.sh`). One untimed
@@ -32,9 +32,12 @@ fn main() {
         .collect();
     for file in files {
         let run = || -> Result<usize, String> {
-            let mut problem = lingrav::problem::read(std::path::Path::new(&file))
+            let parsed = lingrav::problem::read_file(std::path::Path::new(&file))
                 .map_err(|e| e.to_string().replace('\n', " "))?;
-            let report = lingrav::check_problem(&mut problem).map_err(|e| e.to_string())?;
+            let (_problem, report) =
+                lingrav::check_file(&parsed, lingrav::canon::Limits::default())
+                    .map_err(|e| e.to_string().replace('\n', " "))?;
+            let report = report.map_err(|e| e.to_string())?;
             Ok(report.claims.len())
         };
         if let Err(e) = run() {

@@ -104,6 +104,32 @@ pub fn command_line() -> std::process::ExitCode {
 /// A `[claims.waveform]` direction that cannot be read, or an algebra limit in the radiation
 /// claims (the claims about h end in "undecided" instead).
 pub fn check_problem(problem: &mut Problem) -> Result<CheckReport, radiation::claims::ClaimsError> {
+    check_problem_with(problem, None)
+}
+
+/// Builds the problem of `file` under `limits` and checks it as [`check_problem`] does, the
+/// independent audit starting from the file's texts while the forms are built (see
+/// [`check::EarlyAudit`]): what `lingrav check` computes for one file. The report is the
+/// same as that of [`check_problem`] on the built problem.
+///
+/// # Errors
+///
+/// The outer result: the file does not build (as [`problem::ProblemFile::build_with`]); the
+/// inner: as [`check_problem`].
+pub fn check_file(
+    file: &problem::ProblemFile,
+    limits: canon::Limits,
+) -> Result<(Problem, Result<CheckReport, radiation::claims::ClaimsError>), ProblemError> {
+    let early = check::EarlyAudit::start(file);
+    let mut problem = file.build_with(limits)?;
+    let report = check_problem_with(&mut problem, early);
+    Ok((problem, report))
+}
+
+fn check_problem_with(
+    problem: &mut Problem,
+    early: Option<check::EarlyAudit>,
+) -> Result<CheckReport, radiation::claims::ClaimsError> {
     let only_bodies =
         !problem.bodies.is_empty() && problem.h_text.iter().flatten().all(Option::is_none);
     let mut report = if only_bodies {
@@ -112,7 +138,7 @@ pub fn check_problem(problem: &mut Problem) -> Result<CheckReport, radiation::cl
             has_claims: true,
         }
     } else {
-        check(problem)
+        check::check_with(problem, early)
     };
     report.claims.extend(radiation::claims::reports(problem)?);
     Ok(report)

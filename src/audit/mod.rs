@@ -286,7 +286,7 @@ fn curved_claims(problem: &Texts, bg: &CurvedTexts) -> Vec<AuditClaim> {
 
 /// What the audit reads of a problem's background: texts, and whether Lambda is zero (which
 /// only names the components).
-#[derive(Clone, Debug)]
+#[derive(Clone, Debug, PartialEq)]
 pub struct CurvedTexts {
     g: crate::problem::TensorText,
     tbar: Option<crate::problem::TensorText>,
@@ -299,7 +299,7 @@ pub struct CurvedTexts {
 /// What the audit reads of a problem: its texts, parameters and claims, owned, so that the
 /// audit can run on another thread while the exact route works on the problem's store
 /// (see [`crate::check::check`]). Nothing of the canonical forms is in it.
-#[derive(Clone, Debug)]
+#[derive(Clone, Debug, PartialEq)]
 pub struct Texts {
     claims: Option<crate::problem::Claims>,
     has_source: bool,
@@ -341,6 +341,43 @@ impl Texts {
             source_text: problem.source_text.clone(),
             parameter_ranges: problem.parameter_ranges.clone(),
         }
+    }
+
+    /// The texts the problem built from `file` will have, foreseen before it is built, so
+    /// that the audit can start while the forms are built (see
+    /// [`crate::check::EarlyAudit`]); `None` when that needs the built forms (the parameter
+    /// ranges of an eccentric orbit). Whether Lambda is zero is foreseen from its text (a
+    /// written 0 or none), so the foresight can be wrong: it is compared with
+    /// [`Texts::of`] the built problem before it is used.
+    pub fn of_file(file: &crate::problem::ProblemFile) -> Option<Texts> {
+        use crate::problem::{named_texts, tensor_text, vector_text};
+        if file.orbit.is_some() {
+            return None;
+        }
+        let curved = file.has_background().then(|| CurvedTexts {
+            g: file.background_text(),
+            tbar: file.background_source.as_deref().map(tensor_text),
+            lambda: file.cosmological_constant.as_ref().map(|e| e.text.clone()),
+            lambda_nonzero: file.cosmological_constant.as_ref().is_some_and(|e| {
+                parse(&e.text).map_or(true, |x| {
+                    !matches!(x.kind, crate::expr::ExprKind::Num(ref q) if num_traits::Zero::is_zero(q))
+                })
+            }),
+            xi: file.gauge_vector.as_deref().map(vector_text),
+            domain: file.domain.unwrap_or([None; 4]),
+        });
+        Some(Texts {
+            coordinates: file.coordinates.clone(),
+            curved,
+            claims: file.claims.clone(),
+            has_source: file.source.is_some(),
+            parameters: file.parameter_values(),
+            defines: named_texts(&file.defines),
+            functions: named_texts(&file.functions),
+            h_text: tensor_text(&file.perturbation),
+            source_text: file.source.as_deref().map(tensor_text),
+            parameter_ranges: Vec::new(),
+        })
     }
 }
 

@@ -9,17 +9,11 @@ const SEED: u64 = 0xa0d1_7e57;
 
 fn worked() -> Vec<(String, String)> {
     let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("worked");
-    let mut files: Vec<_> = std::fs::read_dir(&dir)
-        .expect("worked/ exists")
-        .map(|e| e.expect("entry").path())
-        .filter(|p| p.extension().is_some_and(|e| e == "toml"))
-        .collect();
-    files.sort();
-    files
+    crate::problem::worked_names()
         .into_iter()
-        .map(|p| {
-            let text = std::fs::read_to_string(&p).expect("readable");
-            (p.file_name().unwrap().to_string_lossy().into_owned(), text)
+        .map(|name| {
+            let text = std::fs::read_to_string(dir.join(&name)).expect("readable");
+            (name, text)
         })
         .collect()
 }

@@ -125,6 +125,7 @@ pub struct SeededJob {
     texts: Texts,
     seed: u64,
     claimed: AtomicBool,
+    cancelled: AtomicBool,
     done: Mutex<Option<JobResult>>,
     ready: Condvar,
 }
@@ -136,9 +137,22 @@ impl SeededJob {
             texts,
             seed,
             claimed: AtomicBool::new(false),
+            cancelled: AtomicBool::new(false),
             done: Mutex::new(None),
             ready: Condvar::new(),
         }
+    }
+
+    /// True when the job is for `texts` and `seed`.
+    pub fn is_for(&self, texts: &Texts, seed: u64) -> bool {
+        self.seed == seed && self.texts == *texts
+    }
+
+    /// Gives the job up: a helper that has not started will not start, one at work stops
+    /// after the point it is evaluating. Nobody may wait for its values afterwards.
+    pub fn cancel(&self) {
+        self.cancelled.store(true, Ordering::Release);
+        self.claimed.store(true, Ordering::Release);
     }
 
     /// On the helper thread: the seeded values, unless the caller has taken the job.
@@ -148,7 +162,7 @@ impl SeededJob {
         }
         let values = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
             let audit = Audit::of_texts(&self.texts).map_err(|e| e.to_string())?;
-            Ok(seeded_values(&audit, self.seed))
+            Ok(seeded_values_unless(&audit, self.seed, &self.cancelled))
         }));
         *self.done.lock().unwrap_or_else(PoisonError::into_inner) = Some(values);
         self.ready.notify_all();
@@ -194,9 +208,18 @@ pub fn not_run(claims: &mut [ClaimReport], why: &str) {
 /// needs, computed from the problem's texts alone, so that it can run beside the exact route
 /// (see [`super::check`]).
 pub fn seeded_values(audit: &Audit, seed: u64) -> Vec<PointValues> {
+    seeded_values_unless(audit, seed, &AtomicBool::new(false))
+}
+
+/// [`seeded_values`], stopping before the next point once `cancelled` is set (the values
+/// are then incomplete, for nobody: see [`SeededJob::cancel`]).
+fn seeded_values_unless(audit: &Audit, seed: u64, cancelled: &AtomicBool) -> Vec<PointValues> {
     let points = audit.seeded_points(seed, AUDIT_POINTS);
     let mut at_points: Vec<PointValues> = Vec::new();
     for p in points {
+        if cancelled.load(Ordering::Acquire) {
+            break;
+        }
         let values = match audit.components_at(&p) {
             Ok(v) => by_key(v),
             Err(_) => FxHashMap::default(),
@@ -461,6 +484,67 @@ mod tests {
             }));
         }
         assert!(threaded >= 2, "the thread was started for {threaded} files");
+    }
+
+    /// The audit started from a file's texts before the file is built
+    /// ([`crate::check::EarlyAudit`], as `lingrav check` does) gives the report of the audit
+    /// started after the build, on every worked file; the texts foreseen from the file are
+    /// those of the built problem (none are foreseen only for an eccentric orbit).
+    #[test]
+    fn issue10_the_audit_started_before_the_build_gives_the_same_report() {
+        let mut early = 0;
+        for name in crate::problem::worked_names() {
+            let file = crate::problem::worked_file(&name);
+            let mut built = crate::problem::worked(&name);
+            match Texts::of_file(&file) {
+                Some(t) => assert_eq!(t, Texts::of(&built), "{name}"),
+                None => assert!(file.orbit.is_some(), "{name}: no texts foreseen"),
+            }
+            early += usize::from(crate::check::EarlyAudit::start(&file).is_some());
+            let (_, report) = crate::check_file(&file, crate::canon::Limits::default())
+                .unwrap_or_else(|e| panic!("{name}: {e:?}"));
+            let report = report.unwrap_or_else(|e| panic!("{name}: {e}"));
+            let after = crate::check_problem(&mut built).unwrap_or_else(|e| panic!("{name}: {e}"));
+            assert_eq!(
+                format!("{:?}", report.claims),
+                format!("{:?}", after.claims),
+                "{name}"
+            );
+        }
+        assert!(early >= 10, "the audit started early for {early} files");
+    }
+
+    /// Texts foreseen wrongly are not used: a cosmological constant written `1 - 1` is
+    /// foreseen nonzero but built as 0, which names the components differently. The job
+    /// started from the file is given up, and the report is that of the audit started after
+    /// the build, with every component audited.
+    #[test]
+    fn issue10_texts_foreseen_wrongly_are_not_used() {
+        let name = "schwarzschild_slow_rotation.toml";
+        let text = std::fs::read_to_string(
+            std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+                .join("worked")
+                .join(name),
+        )
+        .expect("readable");
+        let text = format!("cosmological_constant = '1 - 1'\n{text}");
+        let file = crate::problem::ProblemFile::parse(name, &text).expect("parses");
+        let mut built = file.build().expect("builds");
+        let foreseen = Texts::of_file(&file).expect("no orbit");
+        assert_ne!(foreseen, Texts::of(&built), "the foresight is wrong here");
+        let (_, report) = crate::check_file(&file, crate::canon::Limits::default()).unwrap();
+        let report = report.unwrap();
+        let after = crate::check_problem(&mut built).unwrap();
+        assert_eq!(
+            format!("{:?}", report.claims),
+            format!("{:?}", after.claims)
+        );
+        assert!(!report.claims.is_empty());
+        assert!(report.claims.iter().all(|c| {
+            c.components
+                .iter()
+                .all(|k| !matches!(k.audit, Audited::NotRun(_)))
+        }));
     }
 
     /// Whichever thread takes the seeded job (the helper first, or the caller because the

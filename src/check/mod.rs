@@ -19,6 +19,7 @@ use crate::claim::{Claim, Kind, Part, Plan};
 use crate::problem::Problem;
 use crate::tensor::{Linearized, Sym4, divergence};
 use crate::zero::{Sampling, Verdict, decide};
+use std::sync::Arc;
 
 /// The status of a claim or property.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
@@ -400,6 +401,82 @@ impl<'a> ExactParts<'a> {
 
 /// Checks every claim of the problem (or, without claims, reports every property).
 pub fn check(problem: &mut Problem) -> CheckReport {
+    check_with(problem, None)
+}
+
+/// The audit's seeded values, started from a problem file's texts before the file is built
+/// (see [`check_with`]): the audit needs only the texts, so it runs while the exact route's
+/// forms are built. It is used only if the built problem's texts are the same; a job not
+/// used is given up when this is dropped.
+pub struct EarlyAudit(Option<Arc<audit::SeededJob>>);
+
+impl EarlyAudit {
+    /// Starts the audit of `file` on a helper thread, when it will be audited beside the
+    /// exact route: a file about a background, or one whose perturbation, source and
+    /// defines are written in [`EARLY_AUDIT_BYTES`] or more (a flat problem too small to be
+    /// worth a thread is audited after the exact route, see [`audit_beside`]); not for
+    /// claims in the far zone, nor when the texts need the built forms (see
+    /// [`crate::audit::Texts::of_file`]).
+    #[must_use]
+    pub fn start(file: &crate::problem::ProblemFile) -> Option<EarlyAudit> {
+        if file.perturbation.is_empty()
+            || file
+                .claims
+                .as_ref()
+                .is_some_and(|c| c.far_zone_order.is_some())
+        {
+            return None;
+        }
+        let written = |c: &[crate::problem::Component]| -> usize {
+            c.iter().map(|c| c.expr.text.len()).sum()
+        };
+        let size = written(&file.perturbation)
+            + file.source.as_deref().map_or(0, written)
+            + file
+                .defines
+                .iter()
+                .map(|d| d.expr.text.len())
+                .sum::<usize>();
+        if !file.has_background() && size < EARLY_AUDIT_BYTES {
+            return None;
+        }
+        let texts = crate::audit::Texts::of_file(file)?;
+        let job = Arc::new(audit::SeededJob::new(texts, Sampling::default().seed));
+        beside(&job);
+        Some(EarlyAudit(Some(job)))
+    }
+
+    /// The job, if it is for `texts` and `seed`; else it is given up.
+    fn take_for(mut self, texts: &crate::audit::Texts, seed: u64) -> Option<Arc<audit::SeededJob>> {
+        self.0.take_if(|job| job.is_for(texts, seed))
+    }
+}
+
+impl Drop for EarlyAudit {
+    fn drop(&mut self) {
+        if let Some(job) = &self.0 {
+            job.cancel();
+        }
+    }
+}
+
+/// See [`EarlyAudit::start`]: about the size of a flat problem with [`PARALLEL_AUDIT_TERMS`]
+/// terms (a scheduling choice only).
+pub const EARLY_AUDIT_BYTES: usize = 300;
+
+/// Starts `job` on a detached helper thread: if the caller takes the job first, the helper
+/// is not waited for (it finds the job taken and ends). No thread could be started: the job
+/// stays unclaimed, and the caller runs it.
+fn beside(job: &Arc<audit::SeededJob>) {
+    let helper = job.clone();
+    let _detached = std::thread::Builder::new()
+        .name("audit".into())
+        .spawn(move || helper.run_beside());
+}
+
+/// [`check`], with the audit perhaps started already from the file's texts (see
+/// [`EarlyAudit`]); the report is the same either way.
+pub fn check_with(problem: &mut Problem, early: Option<EarlyAudit>) -> CheckReport {
     // Every verdict is checked again through the independent route, which can only take a
     // proof or a witness away, never add one.
     //
@@ -415,9 +492,10 @@ pub fn check(problem: &mut Problem) -> CheckReport {
     let seed = problem.sampling.seed;
     let texts = audit::auditable(problem)
         .ok()
-        .filter(|()| audit_beside(problem))
+        .filter(|()| early.is_some() || audit_beside(problem))
         .map(|()| crate::audit::Texts::of(problem));
     let Some(texts) = texts else {
+        drop(early);
         // Not auditable (the report says why), or small: the audit runs after the exact
         // route on this thread.
         let (mut out, has_claims) = exact_claims(problem);
@@ -427,15 +505,13 @@ pub fn check(problem: &mut Problem) -> CheckReport {
             has_claims,
         };
     };
-    // The helper is detached: if the caller takes the job first, it is not waited for (it
-    // finds the job taken and ends).
-    let job = std::sync::Arc::new(audit::SeededJob::new(texts, seed));
-    let helper = job.clone();
-    let _detached = std::thread::Builder::new()
-        .name("audit".into())
-        .spawn(move || helper.run_beside());
+    let early = early.and_then(|e| e.take_for(&texts, seed));
+    let job = early.unwrap_or_else(|| {
+        let job = Arc::new(audit::SeededJob::new(texts, seed));
+        beside(&job);
+        job
+    });
     let (mut out, has_claims) = exact_claims(problem);
-    // No thread could be started: the job is still unclaimed, and runs here.
     job.audit(&mut out);
     CheckReport {
         claims: out,

@@ -78,10 +78,16 @@ impl<const DEFAULT_MS: u64> LimitArgs<DEFAULT_MS> {
 
 /// Reads and builds a problem file under `limits` (for a second file under the same clock).
 pub fn load_with(path: &Path, limits: Limits) -> Result<Problem, Failure> {
-    crate::problem::read_with(path, limits).map_err(|e| match e.limit.clone() {
+    crate::problem::read_with(path, limits).map_err(load_failure)
+}
+
+/// How a problem file that does not load ends: a limit reached while building is
+/// "undecided", anything else bad input.
+pub fn load_failure(e: crate::problem::ProblemError) -> Failure {
+    match e.limit.clone() {
         Some(l) => gave_up(&l),
         None => Failure::Input(miette::Report::new(e)),
-    })
+    }
 }
 
 /// The problem's background as a spacetime (Minkowski without one): a degenerate metric is
@@ -103,10 +109,7 @@ pub fn spacetime(p: &mut Problem) -> Result<crate::tensor::curved::Background, F
 pub fn load_into(path: &Path, store: &mut crate::canon::Store) -> Result<Problem, Failure> {
     crate::problem::read_file(path)
         .and_then(|f| f.build_into(store))
-        .map_err(|e| match e.limit.clone() {
-            Some(l) => gave_up(&l),
-            None => Failure::Input(miette::Report::new(e)),
-        })
+        .map_err(load_failure)
 }
 
 /// The limit in force when the deadline has passed, for results that carry no `CanonError`.

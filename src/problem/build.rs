@@ -249,15 +249,12 @@ impl Builder<'_> {
     ) -> Result<(Tensor, TensorText), ProblemError> {
         let zero = self.store.zero();
         let mut m = [[zero; 4]; 4];
-        let mut text: TensorText = Default::default();
         for c in components {
             let f = self.parse_and_build(&c.expr, names)?;
             m[c.mu][c.nu] = f;
             m[c.nu][c.mu] = f;
-            text[c.mu][c.nu] = Some(c.expr.text.clone());
-            text[c.nu][c.mu] = Some(c.expr.text.clone());
         }
-        Ok((m, text))
+        Ok((m, super::tensor_text(components)))
     }
 }
 
@@ -267,13 +264,7 @@ impl Builder<'_> {
     /// a gauge vector); Minkowski's components fill in a missing \[background\].
     fn background(&mut self, names: &Names) -> Result<Option<BackgroundData>, ProblemError> {
         let f = self.file;
-        let cartesian = f.coordinates == COORDS.map(String::from);
-        let any = f.background.is_some()
-            || !cartesian
-            || f.cosmological_constant.is_some()
-            || f.background_source.is_some()
-            || f.gauge_vector.is_some();
-        if !any {
+        if !f.has_background() {
             return Ok(None);
         }
         let (g, g_text) = match &f.background {
@@ -283,12 +274,10 @@ impl Builder<'_> {
                 let one = self.store.one();
                 let minus = self.store.int(-1);
                 let mut g = [[zero; 4]; 4];
-                let mut text: TensorText = Default::default();
-                for mu in 0..4 {
-                    g[mu][mu] = if mu == 0 { minus } else { one };
-                    text[mu][mu] = Some(if mu == 0 { "-1" } else { "1" }.to_string());
+                for (mu, row) in g.iter_mut().enumerate() {
+                    row[mu] = if mu == 0 { minus } else { one };
                 }
-                (g, text)
+                (g, f.background_text())
             }
         };
         let (source, source_text) = match &f.background_source {
@@ -305,12 +294,10 @@ impl Builder<'_> {
         let (gauge_vector, gauge_vector_text) = match &f.gauge_vector {
             Some(components) => {
                 let mut xi = [self.store.zero(); 4];
-                let mut text: [Option<String>; 4] = Default::default();
                 for c in components {
                     xi[c.mu] = self.parse_and_build(&c.expr, names)?;
-                    text[c.mu] = Some(c.expr.text.clone());
                 }
-                (Some(xi), Some(text))
+                (Some(xi), Some(super::vector_text(components)))
             }
             None => (None, None),
         };
@@ -521,21 +508,9 @@ impl Builder<'_> {
             text: file.text.clone(),
             store: Store::new(),
             names,
-            parameters: file
-                .parameters
-                .iter()
-                .map(|p| (p.name.clone(), p.value))
-                .collect(),
-            functions: file
-                .functions
-                .iter()
-                .map(|f| (f.name.clone(), f.expr.text.clone()))
-                .collect(),
-            defines: file
-                .defines
-                .iter()
-                .map(|d| (d.name.clone(), d.expr.text.clone()))
-                .collect(),
+            parameters: file.parameter_values(),
+            functions: super::named_texts(&file.functions),
+            defines: super::named_texts(&file.defines),
             h,
             h_text,
             source,

@@ -52,6 +52,25 @@ pub(crate) fn worked(name: &str) -> Problem {
         .unwrap_or_else(|e| panic!("{name}: {e:?}"))
 }
 
+/// The names of the worked files (`*.toml` in worked/), sorted (tests).
+#[cfg(test)]
+pub(crate) fn worked_names() -> Vec<String> {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("worked");
+    let mut names: Vec<String> = std::fs::read_dir(&dir)
+        .expect("worked/ exists")
+        .map(|e| e.expect("entry").path())
+        .filter(|p| p.extension().is_some_and(|x| x == "toml"))
+        .map(|p| {
+            p.file_name()
+                .expect("a file")
+                .to_string_lossy()
+                .into_owned()
+        })
+        .collect();
+    names.sort();
+    names
+}
+
 /// The worked file `name`, read but not built (tests).
 #[cfg(test)]
 pub(crate) fn worked_file(name: &str) -> ProblemFile {
@@ -76,6 +95,36 @@ use std::fmt;
 pub type TensorText = [[Option<String>; 4]; 4];
 
 pub use crate::claim::{Claims, Gauge};
+
+/// The texts of a symmetric tensor's components as written (both orders of each pair).
+#[must_use]
+pub fn tensor_text(components: &[Component]) -> TensorText {
+    let mut text: TensorText = Default::default();
+    for c in components {
+        text[c.mu][c.nu] = Some(c.expr.text.clone());
+        text[c.nu][c.mu] = Some(c.expr.text.clone());
+    }
+    text
+}
+
+/// Each name with its expression's text, as written (\[define\], \[functions\]).
+#[must_use]
+pub fn named_texts(named: &[NamedExpr]) -> Vec<(String, String)> {
+    named
+        .iter()
+        .map(|d| (d.name.clone(), d.expr.text.clone()))
+        .collect()
+}
+
+/// The texts of a vector's components as written.
+#[must_use]
+pub fn vector_text(components: &[VectorComponent]) -> [Option<String>; 4] {
+    let mut text: [Option<String>; 4] = Default::default();
+    for c in components {
+        text[c.mu] = Some(c.expr.text.clone());
+    }
+    text
+}
 
 /// Settings for the numerical grid check, as written (the grid check supplies defaults).
 #[derive(Clone, Debug, Default, PartialEq)]
@@ -411,6 +460,43 @@ impl ProblemFile {
     /// As [`ProblemFile::build_with`].
     pub fn build_into(&self, store: &mut Store) -> Result<Problem, ProblemError> {
         build::build_into(self, store)
+    }
+
+    /// Each parameter with its typical value.
+    #[must_use]
+    pub fn parameter_values(&self) -> Vec<(String, f64)> {
+        self.parameters
+            .iter()
+            .map(|p| (p.name.clone(), p.value))
+            .collect()
+    }
+
+    /// True when the file has anything beyond Minkowski in Cartesian coordinates: a
+    /// \[background\], other coordinates, a cosmological constant, a background source or a
+    /// gauge vector (the built problem then has a [`Problem::background`]).
+    #[must_use]
+    pub fn has_background(&self) -> bool {
+        self.background.is_some()
+            || self.coordinates != crate::tensor::COORDS.map(String::from)
+            || self.cosmological_constant.is_some()
+            || self.background_source.is_some()
+            || self.gauge_vector.is_some()
+    }
+
+    /// The texts of the background metric as the built problem keeps them: the file's
+    /// \[background\], or Minkowski's `-1, 1, 1, 1` on the diagonal when it has none.
+    #[must_use]
+    pub fn background_text(&self) -> TensorText {
+        match &self.background {
+            Some(components) => tensor_text(components),
+            None => {
+                let mut text: TensorText = Default::default();
+                for (mu, row) in text.iter_mut().enumerate() {
+                    row[mu] = Some(if mu == 0 { "-1" } else { "1" }.to_string());
+                }
+                text
+            }
+        }
     }
 
     /// An error at `span` of this file.

@@ -1051,12 +1051,7 @@ proptest! {
 #[test]
 fn display_text_reads_back_on_every_worked_file() {
     let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("worked");
-    let mut files: Vec<_> = std::fs::read_dir(&dir)
-        .unwrap()
-        .map(|e| e.unwrap().path())
-        .filter(|p| p.extension().is_some_and(|x| x == "toml"))
-        .collect();
-    files.sort();
+    let files = worked_names().into_iter().map(|name| dir.join(name));
     let mut checked = 0;
     let mut named = 0;
     for path in files {

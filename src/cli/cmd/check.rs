@@ -132,11 +132,14 @@ fn several(a: &CheckArgs) -> Result<Outcome, Failure> {
 
 /// One file's report (text or JSON) and outcome.
 fn one(a: &CheckArgs, file: &std::path::Path) -> Result<(String, Outcome), Failure> {
-    let mut problem = a.limits.load(file)?;
+    let limits = a.limits.start();
+    let parsed = crate::problem::read_file(file).map_err(crate::cli::limits::load_failure)?;
+    let (mut problem, report) =
+        crate::check_file(&parsed, limits).map_err(crate::cli::limits::load_failure)?;
     if a.expanded {
         problem.store.set_display_names(None);
     }
-    let report = crate::check_problem(&mut problem).map_err(|e| match e {
+    let report = report.map_err(|e| match e {
         crate::radiation::claims::ClaimsError::Limit(l) => crate::cli::out::gave_up(&l),
         e => Failure::Input(miette::miette!("{}: {e}", problem.path)),
     })?;
