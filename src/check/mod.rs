@@ -413,10 +413,10 @@ pub struct EarlyAudit(Option<Arc<audit::SeededJob>>);
 impl EarlyAudit {
     /// Starts the audit of `file` on a helper thread, when it will be audited beside the
     /// exact route: a file about a background, or one whose perturbation, source and
-    /// defines are written in [`EARLY_AUDIT_BYTES`] or more (a flat problem too small to be
-    /// worth a thread is audited after the exact route, see [`audit_beside`]); not for
+    /// defines are written in 300 bytes or more (a flat problem too small to be
+    /// worth a thread is audited after the exact route); not for
     /// claims in the far zone, nor when the texts need the built forms (see
-    /// [`crate::audit::Texts::of_file`]).
+    /// `audit::Texts::of_file`).
     #[must_use]
     pub fn start(file: &crate::problem::ProblemFile) -> Option<EarlyAudit> {
         if file.perturbation.is_empty()
@@ -462,7 +462,7 @@ impl Drop for EarlyAudit {
 
 /// See [`EarlyAudit::start`]: about the size of a flat problem with [`PARALLEL_AUDIT_TERMS`]
 /// terms (a scheduling choice only).
-pub const EARLY_AUDIT_BYTES: usize = 300;
+const EARLY_AUDIT_BYTES: usize = 300;
 
 /// Starts `job` on a detached helper thread: if the caller takes the job first, the helper
 /// is not waited for (it finds the job taken and ends). No thread could be started: the job
