@@ -468,6 +468,11 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
                 return self.eval(a, order)?.pow_rational(r, self.ctx).here();
             }
         }
+        if op == BinOp::Mul
+            && let Some(j) = self.product_in_place(a, b, order)?
+        {
+            return Ok(j);
+        }
         let x = self.eval(a, order)?;
         let y = self.eval(b, order)?;
         match op {
@@ -478,6 +483,43 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
             BinOp::Pow => x.pow(&y, self.ctx),
         }
         .here()
+    }
+
+    /// `a * b` without the jet of a factor that is a written number or a variable: the
+    /// other factor's jet scaled, or shifted by the variable, in place. The same operations
+    /// as the general product of the two jets ([`Jet::mul_into`]), so the same enclosures;
+    /// `None` when neither shape applies.
+    fn product_in_place(&mut self, a: &Expr, b: &Expr, order: u32) -> Result<Option<Jet<S>>, Here> {
+        // A constant's jet has the order `order` at most the space's.
+        let constant_order = order.min(self.p.space.max_order());
+        if let ExprKind::Num(q) = &a.kind {
+            let k = S::from_rational(q, self.ctx).here()?;
+            let y = self.eval(b, order)?;
+            return y.scale_prefix_into(constant_order, &k).here().map(Some);
+        }
+        if let ExprKind::Num(q) = &b.kind {
+            let x = self.eval(a, order)?;
+            let k = S::from_rational(q, self.ctx).here()?;
+            return x.scale_prefix_into(constant_order, &k).here().map(Some);
+        }
+        let ExprKind::Ident(name) = &b.kind else {
+            return Ok(None);
+        };
+        if self.p.define_index.contains_key(name) {
+            return Ok(None);
+        }
+        let Some(&v) = self.p.var_index.get(name) else {
+            return Ok(None);
+        };
+        let x = self.eval(a, order)?;
+        let value = self.values.get(name).here()?;
+        match x.mul_variable_into(order, v, value) {
+            Ok(j) => j.here().map(Some),
+            Err(x) => {
+                let y = Jet::variable(&self.p.space, order, v, value.clone());
+                x.mul_into(y).here().map(Some)
+            }
+        }
     }
 
     /// `name^r`, memoised per point (see `applied`).

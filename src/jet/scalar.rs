@@ -97,6 +97,13 @@ pub trait Scalar: Clone + fmt::Debug {
         false
     }
 
+    /// Certified: the enclosure is the single point 1, and a product with it may be taken
+    /// as the other factor unchanged (an enclosure of `x` encloses `x * 1`). False unless
+    /// both hold (a ball's product also rounds to its precision, so it keeps the product).
+    fn is_exact_one(&self) -> bool {
+        false
+    }
+
     /// The exactly known `x` as an input at the context's working precision (for a
     /// multiprecision type, later operations on it keep that precision).
     fn input(x: f64, _ctx: &Self::Ctx) -> Option<Self> {
@@ -228,6 +235,9 @@ impl Scalar for Interval {
     }
     fn is_exact_zero(&self) -> bool {
         self.lo() == 0.0 && self.hi() == 0.0
+    }
+    fn is_exact_one(&self) -> bool {
+        self.lo() == 1.0 && self.hi() == 1.0
     }
     fn is_positive(&self) -> bool {
         self.lo() > 0.0

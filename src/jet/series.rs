@@ -90,8 +90,14 @@ pub struct JetSpace {
     /// `pure[i]`: the variable `v` if monomial `i` is a power `x_v^p` with `p >= 1`,
     /// [`NOT_PURE`] otherwise (the constant and every mixed monomial).
     pure: Vec<u8>,
+    /// `below[v][j]`: the monomial `i` with `i * x_v = j`, [`NO_MONOMIAL`] when `j` has
+    /// no `x_v` (the inverse of `deriv[v]`).
+    below: Vec<Vec<u32>>,
     index: FxHashMap<Vec<u8>, u32>,
 }
+
+/// [`JetSpace::below`] of a monomial without the variable.
+const NO_MONOMIAL: u32 = u32::MAX;
 
 /// [`JetSpace::pure`] of a monomial that is not a power of one variable.
 const NOT_PURE: u8 = u8::MAX;
@@ -154,7 +160,7 @@ impl JetSpace {
         } else {
             len_of[max_order as usize - 1]
         };
-        let deriv = (0..vars)
+        let deriv: Vec<Vec<(u32, u32)>> = (0..vars)
             .map(|v| {
                 (0..below)
                     .map(|i| {
@@ -178,9 +184,20 @@ impl JetSpace {
                 }
             })
             .collect();
+        let below_of = deriv
+            .iter()
+            .map(|table| {
+                let mut down = vec![NO_MONOMIAL; len];
+                for (i, &(j, _)) in table.iter().enumerate() {
+                    down[j as usize] = i as u32;
+                }
+                down
+            })
+            .collect();
         Ok(Rc::new(JetSpace {
             vars,
             max_order,
+            below: below_of,
             #[cfg(test)]
             exps,
             len_of,
@@ -198,7 +215,6 @@ impl JetSpace {
     }
 
     /// Highest order of jets over this space.
-    #[cfg(test)]
     pub fn max_order(&self) -> u32 {
         self.max_order
     }
@@ -483,8 +499,59 @@ impl<S: Scalar> Jet<S> {
         self.mul(&rhs)
     }
 
+    /// The product by the variable `var` at the point `value`, in place: the same
+    /// operations, so the same enclosures, as [`Jet::mul`] by
+    /// `Jet::variable(space, order, var, value)` when this jet is not a constant (the shift
+    /// product of `mul_linear`), without allocating the variable's jet or a new one; `None`
+    /// on overflow. `Err(self)` when this jet is a constant or the order is 0: the caller
+    /// takes the general road.
+    pub(super) fn mul_variable_into(
+        self,
+        order: u32,
+        var: usize,
+        value: &S,
+    ) -> Result<Option<Self>, Self> {
+        let order = order.min(self.space.max_order).min(self.order);
+        // At order 0 the variable's jet is a constant: the general road scales.
+        if self.constant || var >= self.space.vars || order == 0 {
+            return Err(self);
+        }
+        Ok(self.shifted_by_variable(order, var, value))
+    }
+
+    fn shifted_by_variable(mut self, order: u32, var: usize, value: &S) -> Option<Self> {
+        let n = self.space.len(order);
+        self.c.truncate(n);
+        self.order = order;
+        // mul_linear with lin = value + dx_var: c[j] = a[j] value (if neither is an exact
+        // 0), then + a[i] * 1 where j = i + e_var (if a[i] is not an exact 0). Every a[i] has
+        // a smaller index than its j, so going down the indices reads only coefficients not
+        // yet overwritten.
+        let one = S::one();
+        let below = &self.space.below[var];
+        for j in (0..n).rev() {
+            let scaled = if value.is_exact_zero() || self.c[j].is_exact_zero() {
+                None
+            } else {
+                Some(self.c[j].mul(value)?)
+            };
+            let shifted = match below.get(j) {
+                Some(&i) if i != NO_MONOMIAL && !self.c[i as usize].is_exact_zero() => {
+                    Some(times(&self.c[i as usize], &one)?)
+                }
+                _ => None,
+            };
+            self.c[j] = match (scaled, shifted) {
+                (Some(x), Some(p)) => x.add(&p)?,
+                (Some(x), None) | (None, Some(x)) => x,
+                (None, None) => S::zero(),
+            };
+        }
+        Some(self)
+    }
+
     /// [`Jet::scaled_prefix`] in place.
-    fn scale_prefix_into(mut self, order: u32, k: &S) -> Option<Jet<S>> {
+    pub(super) fn scale_prefix_into(mut self, order: u32, k: &S) -> Option<Jet<S>> {
         let order = order.min(self.order);
         self.c.truncate(self.space.len(order));
         self.order = order;
@@ -926,7 +993,7 @@ fn mul_linear<S: Scalar>(sp: &JetSpace, order: u32, a: &[S], lin: &[S]) -> Optio
                 continue;
             }
             let j = table[i].0 as usize;
-            let p = ai.mul(bv)?;
+            let p = times(ai, bv)?;
             c[j] = Some(match c[j].take() {
                 None => p,
                 Some(x) => x.add(&p)?,
@@ -934,6 +1001,16 @@ fn mul_linear<S: Scalar>(sp: &JetSpace, order: u32, a: &[S], lin: &[S]) -> Optio
         }
     }
     Some(c.into_iter().map(|x| x.unwrap_or_else(S::zero)).collect())
+}
+
+/// `a * b` in the shift products: `a` itself when `b` is an exact 1 (the product is
+/// exact), else the enclosed product.
+fn times<S: Scalar>(a: &S, b: &S) -> Option<S> {
+    if b.is_exact_one() {
+        Some(a.clone())
+    } else {
+        a.mul(b)
+    }
 }
 
 /// The variable `v` if every coefficient of `x` beyond the constant that is not an exact 0
@@ -988,7 +1065,7 @@ fn mul_univariate<S: Scalar>(
             if ai.is_exact_zero() {
                 continue;
             }
-            let prod = ai.mul(up_coeff)?;
+            let prod = times(ai, up_coeff)?;
             let j = j as usize;
             c[j] = Some(match c[j].take() {
                 None => prod,

@@ -342,6 +342,43 @@ fn helpers_list_names() {
     assert_eq!(exact_rational(&p("1/(2 - 2)")), None);
 }
 
+/// A product with a written number or a variable, taken in place, is the product of the
+/// two jets bit for bit: each pair is written once so that the in-place road applies and
+/// once so that it does not (`(3 + 0)` and `(y + 0)` are not a number or a variable, but
+/// the same jets), at points with rounding and at an exact 0.
+#[test]
+fn products_in_place_are_the_general_products() {
+    let pairs = [
+        (
+            "3*x*y^2 - 2*t*x*z",
+            "(3 + 0)*x*(y + 0)^2 - (2 + 0)*t*(x + 0)*(z + 0)",
+        ),
+        ("x*t*7", "(x + 0)*(t + 0)*(7 + 0)"),
+        ("sin(x)*y*z", "sin(x)*(y + 0)*(z + 0)"),
+        ("(x^2 + y)*x*0.1", "(x^2 + y)*(x + 0)*(0.1 + 0)"),
+        ("a*x*2", "a*(x + 0)*(2 + 0)"),
+    ];
+    for point in [["0.3", "-1.7", "2.25", "1/3"], ["0", "-1.7", "0", "1/7"]] {
+        let values: Vec<(&'static str, &'static str)> = ["t", "x", "y", "z"]
+            .into_iter()
+            .zip(point)
+            .chain([("a", "5/7")])
+            .collect();
+        let c = Case::new(&["t", "x", "y", "z"], &values);
+        for (fast, general) in pairs {
+            for order in 0..=3 {
+                let f = c.jet(fast, order).expect("evaluable");
+                let g = c.jet(general, order).expect("evaluable");
+                assert_eq!(
+                    format!("{f:?}"),
+                    format!("{g:?}"),
+                    "{fast} at {point:?}, order {order}"
+                );
+            }
+        }
+    }
+}
+
 mod against_direct_evaluation {
     use super::*;
     use crate::expr::Evaluator;

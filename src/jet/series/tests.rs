@@ -309,6 +309,45 @@ proptest! {
     }
 }
 
+proptest! {
+    /// The product by a variable in place is the general product by the variable's jet,
+    /// bit for bit: coefficients with rounding (thirds), exact zeros, and a point exactly
+    /// at 0 among the values.
+    #[test]
+    fn the_product_by_a_variable_in_place_is_the_general_product(
+        vars in 1usize..5,
+        order in 0u32..5,
+        var in 0usize..4,
+        at_zero in any::<bool>(),
+        seed in any::<u64>(),
+    ) {
+        let v = var % vars;
+        let sp = JetSpace::new(vars, order).expect("small");
+        let n = sp.len(order);
+        let mut next = small_ints(seed);
+        let third = pt(1.0).div(pt(3.0)).expect("finite");
+        let c: Vec<Interval> = (0..n)
+            .map(|_| pt(next() as f64).mul(third).expect("finite"))
+            .collect();
+        let a = J { space: sp.clone(), order, c, constant: false };
+        let value = if at_zero { pt(0.0) } else { pt(next() as f64).mul(third).expect("finite") };
+        let general = a.mul(&Jet::variable(&sp, order, v, value)).expect("finite");
+        match a.clone().mul_variable_into(order, v, &value) {
+            Ok(fast) => {
+                let fast = fast.expect("finite");
+                prop_assert_eq!(format!("{:?}", fast), format!("{:?}", general));
+            }
+            Err(back) => {
+                prop_assert_eq!(order, 0);
+                prop_assert_eq!(format!("{:?}", back), format!("{:?}", a));
+            }
+        }
+        // A constant goes back to the caller untouched.
+        let k = Jet::constant(&sp, order, third);
+        prop_assert!(k.mul_variable_into(order, v, &value).is_err());
+    }
+}
+
 #[test]
 fn a_mixed_factor_is_not_taken_for_one_variable() {
     // x*y is in two variables; x^2 + 3 in one; a constant in none.
