@@ -362,28 +362,60 @@ impl ClockText {
 pub struct Definitions {
     parts: Vec<(String, String)>,
     q: [[String; 3]; 3],
-    octupole: [[[String; 3]; 3]; 3],
-    current: [[String; 3]; 3],
+    next: Option<NextParts>,
     clock: ClockText,
 }
 
+/// The names of the next order's parts: the mass octupole and the current quadrupole.
+struct NextParts {
+    octupole: [[[String; 3]; 3]; 3],
+    current: [[String; 3]; 3],
+}
+
+/// The definitions that need the next order (see [`Definitions::next`]).
+pub struct Next<'a> {
+    defs: &'a Definitions,
+    octupole: &'a [[[String; 3]; 3]; 3],
+    current: &'a [[String; 3]; 3],
+}
+
 impl Definitions {
-    /// The definitions for `p` (time coordinate first in its coordinates).
+    /// The definitions for `p` (time coordinate first in its coordinates), with the next
+    /// order's.
     #[must_use]
     pub fn of(p: &Problem) -> Definitions {
+        Definitions::of_order(p, true)
+    }
+
+    /// The definitions for `p`; the next order's parts (the octupole and the current
+    /// quadrupole, many texts per body) only with `next`.
+    #[must_use]
+    pub fn of_order(p: &Problem, next: bool) -> Definitions {
         let clock = ClockText::of(p);
         let mut parts = Parts::new(p);
         let bodies = body_parts(p, &mut parts);
         let q = quadrupole_parts(&bodies, &mut parts);
         // The next order's parts are short; those no text uses are parsed, never evaluated.
-        let (octupole, current) = octupole_and_current_parts(p, &bodies, &clock, &mut parts);
+        let next = next.then(|| {
+            let (octupole, current) = octupole_and_current_parts(p, &bodies, &clock, &mut parts);
+            NextParts { octupole, current }
+        });
         Definitions {
             parts: parts.list,
             q,
-            octupole,
-            current,
+            next,
             clock,
         }
+    }
+
+    /// The definitions of the next order, if these were written with it.
+    #[must_use]
+    pub fn next(&self) -> Option<Next<'_>> {
+        self.next.as_ref().map(|n| Next {
+            defs: self,
+            octupole: &n.octupole,
+            current: &n.current,
+        })
     }
 
     /// The named parts every text of these definitions uses, in order (each uses only the
@@ -409,100 +441,6 @@ impl Definitions {
     #[must_use]
     pub fn d(&self, k: usize, i: usize, j: usize) -> String {
         self.clock.d(k, &self.q[i][j])
-    }
-
-    /// The mass octupole `Q_ijk`.
-    #[must_use]
-    pub fn octupole(&self, i: usize, j: usize, k: usize) -> &str {
-        &self.octupole[i][j][k]
-    }
-
-    /// The current quadrupole `S_ij`.
-    #[must_use]
-    pub fn current(&self, i: usize, j: usize) -> &str {
-        &self.current[i][j]
-    }
-
-    /// `dP_i/dt = (2/63) d^4Q_iab d^3Q_ab + (16/45) eps_ipq d^3Q_pa d^3S_qa`.
-    #[must_use]
-    pub fn momentum(&self, i: usize) -> String {
-        let d_text = |k: usize, s: &str| self.clock.d(k, s);
-        let mut mass = Vec::new();
-        for a in 0..3 {
-            for b in 0..3 {
-                mass.push(format!(
-                    "{}*{}",
-                    d_text(4, &self.octupole[i][a][b]),
-                    self.d(3, a, b)
-                ));
-            }
-        }
-        let (j, k) = ((i + 1) % 3, (i + 2) % 3);
-        let current: Vec<String> = (0..3)
-            .map(|a| {
-                format!(
-                    "{}*{} - {}*{}",
-                    self.d(3, j, a),
-                    d_text(3, &self.current[k][a]),
-                    self.d(3, k, a),
-                    d_text(3, &self.current[j][a])
-                )
-            })
-            .collect();
-        format!(
-            "((2/63)*({}) + (16/45)*({}))",
-            mass.join(" + "),
-            current.join(" + ")
-        )
-    }
-
-    /// The next-order `h_plus` and `h_cross` at time `t + distance`: `(1/R) [(1/3) n_a
-    /// dddQ_ija(t) + (4/3) eps_aim n_a ddS_jm(t)] e_ij` with the polarization tensors of the
-    /// basis texts `u`, `v` (transverse and traceless, so the TT projector leaves them alone,
-    /// and symmetric, so one of the two current terms counts twice).
-    #[must_use]
-    pub fn polarizations_next(
-        &self,
-        n: &[String; 3],
-        (u, v): (&[String; 3], &[String; 3]),
-        distance: &str,
-    ) -> [String; 2] {
-        let d_text = |k: usize, s: &str| self.clock.d(k, s);
-        let contract = |e: &dyn Fn(usize, usize) -> String| -> String {
-            let mut oct = Vec::new();
-            let mut cur = Vec::new();
-            for i in 0..3 {
-                for j in 0..3 {
-                    for a in 0..3 {
-                        oct.push(format!(
-                            "({})*{}*({})",
-                            n[a],
-                            d_text(3, &self.octupole[i][j][a]),
-                            e(i, j)
-                        ));
-                        if a != i {
-                            let m = 3 - a - i;
-                            let sign = super::multipole::levi_civita(a, i, m);
-                            cur.push(format!(
-                                "({sign})*({})*{}*({})",
-                                n[a],
-                                d_text(2, &self.current[j][m]),
-                                e(i, j)
-                            ));
-                        }
-                    }
-                }
-            }
-            format!(
-                "((1/3)*({}) + (4/3)*({}))/({distance})",
-                oct.join(" + "),
-                cur.join(" + ")
-            )
-        };
-        [
-            contract(&|a, b| format!("({})*({}) - ({})*({})", u[a], u[b], v[a], v[b])),
-            contract(&|a, b| format!("({})*({}) + ({})*({})", u[a], v[b], v[a], u[b])),
-        ]
     }
 
     /// `L = (1/5) dddQ_ij dddQ_ij`.
@@ -556,6 +494,102 @@ impl Definitions {
     }
 }
 
+impl<'a> Next<'a> {
+    /// The mass octupole `Q_ijk`.
+    #[must_use]
+    pub fn octupole(&self, i: usize, j: usize, k: usize) -> &'a str {
+        &self.octupole[i][j][k]
+    }
+
+    /// The current quadrupole `S_ij`.
+    #[must_use]
+    pub fn current(&self, i: usize, j: usize) -> &'a str {
+        &self.current[i][j]
+    }
+
+    /// `dP_i/dt = (2/63) d^4Q_iab d^3Q_ab + (16/45) eps_ipq d^3Q_pa d^3S_qa`.
+    #[must_use]
+    pub fn momentum(&self, i: usize) -> String {
+        let d_text = |k: usize, s: &str| self.defs.clock.d(k, s);
+        let mut mass = Vec::new();
+        for a in 0..3 {
+            for b in 0..3 {
+                mass.push(format!(
+                    "{}*{}",
+                    d_text(4, &self.octupole[i][a][b]),
+                    self.defs.d(3, a, b)
+                ));
+            }
+        }
+        let (j, k) = ((i + 1) % 3, (i + 2) % 3);
+        let current: Vec<String> = (0..3)
+            .map(|a| {
+                format!(
+                    "{}*{} - {}*{}",
+                    self.defs.d(3, j, a),
+                    d_text(3, &self.current[k][a]),
+                    self.defs.d(3, k, a),
+                    d_text(3, &self.current[j][a])
+                )
+            })
+            .collect();
+        format!(
+            "((2/63)*({}) + (16/45)*({}))",
+            mass.join(" + "),
+            current.join(" + ")
+        )
+    }
+
+    /// The next-order `h_plus` and `h_cross` at time `t + distance`: `(1/R) [(1/3) n_a
+    /// dddQ_ija(t) + (4/3) eps_aim n_a ddS_jm(t)] e_ij` with the polarization tensors of the
+    /// basis texts `u`, `v` (transverse and traceless, so the TT projector leaves them alone,
+    /// and symmetric, so one of the two current terms counts twice).
+    #[must_use]
+    pub fn polarizations_next(
+        &self,
+        n: &[String; 3],
+        (u, v): (&[String; 3], &[String; 3]),
+        distance: &str,
+    ) -> [String; 2] {
+        let d_text = |k: usize, s: &str| self.defs.clock.d(k, s);
+        let contract = |e: &dyn Fn(usize, usize) -> String| -> String {
+            let mut oct = Vec::new();
+            let mut cur = Vec::new();
+            for i in 0..3 {
+                for j in 0..3 {
+                    for a in 0..3 {
+                        oct.push(format!(
+                            "({})*{}*({})",
+                            n[a],
+                            d_text(3, &self.octupole[i][j][a]),
+                            e(i, j)
+                        ));
+                        if a != i {
+                            let m = 3 - a - i;
+                            let sign = super::multipole::levi_civita(a, i, m);
+                            cur.push(format!(
+                                "({sign})*({})*{}*({})",
+                                n[a],
+                                d_text(2, &self.current[j][m]),
+                                e(i, j)
+                            ));
+                        }
+                    }
+                }
+            }
+            format!(
+                "((1/3)*({}) + (4/3)*({}))/({distance})",
+                oct.join(" + "),
+                cur.join(" + ")
+            )
+        };
+        [
+            contract(&|a, b| format!("({})*({}) - ({})*({})", u[a], u[b], v[a], v[b])),
+            contract(&|a, b| format!("({})*({}) + ({})*({})", u[a], v[b], v[a], u[b])),
+        ]
+    }
+}
+
 /// The texts of a vector's forms.
 pub fn vector_texts(st: &mut crate::canon::Store, v: &[Form; 3]) -> [String; 3] {
     [st.to_text(v[0]), st.to_text(v[1]), st.to_text(v[2])]
@@ -600,7 +634,8 @@ pub const ANOMALY_TYPICAL: f64 = 1.3;
 fn reports_with(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
     let claims = p.radiation_claims.clone();
     let t_name = p.coordinates[0].clone();
-    let defs = Definitions::of(p);
+    let momentum = claims.momentum_flux.is_some() || claims.momentum_flux_average.is_some();
+    let defs = Definitions::of_order(p, momentum);
     let lim = ClaimsError::Limit;
     let clock = super::Clock::of(p);
     let mut rad =
@@ -695,7 +730,7 @@ fn reports_with(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
         }
         groups.push((Kind::Waveform, items));
     }
-    if claims.momentum_flux.is_some() || claims.momentum_flux_average.is_some() {
+    if momentum {
         momentum_reports(p, &claims, (&defs, &mut rad), (&mut groups, &mut out))?;
     }
     for (kind, items) in groups {
@@ -714,7 +749,11 @@ fn momentum_reports(
 ) -> Result<(), ClaimsError> {
     let lim = ClaimsError::Limit;
     let st = &mut p.store;
-    if let Some(why) = super::multipole::refusal(st, &p.bodies, rad.t) {
+    let refused = match defs.next() {
+        None => Some("the next order's definitions were not written (an internal defect)".into()),
+        Some(_) => super::multipole::refusal(st, &p.bodies, rad.t),
+    };
+    if let Some(why) = refused {
         for (c, average) in [
             (&claims.momentum_flux, false),
             (&claims.momentum_flux_average, true),
@@ -729,6 +768,9 @@ fn momentum_reports(
         super::multipole::NextOrder::of_problem(st, &p.bodies, p.orbit.as_ref(), rad.clock)
             .map_err(lim)?;
     let dp = next.momentum_flux(st, rad).map_err(lim)?;
+    let Some(next_defs) = defs.next() else {
+        return Ok(());
+    };
     const AXES: [&str; 3] = ["x", "y", "z"];
     if let Some(c) = &claims.momentum_flux {
         let mut items = Vec::new();
@@ -736,7 +778,7 @@ fn momentum_reports(
             items.push(Item {
                 name: format!("claimed dP_{0}/dt - formula dP_{0}/dt", AXES[i]),
                 residual: st.sub(c[i].form, dp[i]).map_err(lim)?,
-                audit: Ok((c[i].form, defs.momentum(i))),
+                audit: Ok((c[i].form, next_defs.momentum(i))),
             });
         }
         groups.push((Kind::MomentumFlux { average: false }, items));
@@ -757,7 +799,7 @@ fn momentum_reports(
         }
         let mut items = Vec::new();
         for (i, (f, avg)) in averages.into_iter().enumerate() {
-            let audit = mean_audit(p, (f, avg, c[i].form), &defs.momentum(i), defs);
+            let audit = mean_audit(p, (f, avg, c[i].form), &next_defs.momentum(i), defs);
             items.push(Item {
                 name: format!("claimed <dP_{0}/dt> - <formula dP_{0}/dt>", AXES[i]),
                 residual: p.store.sub(c[i].form, avg).map_err(lim)?,
@@ -1155,6 +1197,30 @@ mod tests {
         assert_eq!(r.status, Status::Undecided);
         assert!(r.components[0].audit.is_defect());
         assert!(r.method.contains("INTERNAL DEFECT"), "{}", r.method);
+    }
+
+    /// Definitions written without the next order have the same quadrupole parts and
+    /// texts as the full ones, and none of the octupole's or the current quadrupole's.
+    #[test]
+    fn definitions_without_the_next_order_are_the_leading_ones() {
+        let p = crate::problem::worked("spinning_star.toml");
+        let (full, short) = (Definitions::of(&p), Definitions::of_order(&p, false));
+        assert!(full.next().is_some() && short.next().is_none());
+        assert_eq!(full.luminosity(), short.luminosity());
+        assert_eq!(full.angular_momentum(2), short.angular_momentum(2));
+        let names =
+            |d: &Definitions| -> Vec<String> { d.parts().iter().map(|(n, _)| n.clone()).collect() };
+        let (all, leading) = (names(&full), names(&short));
+        assert!(leading.len() < all.len());
+        assert_eq!(all[..leading.len()], leading[..]);
+        assert_eq!(full.parts()[..leading.len()], short.parts()[..]);
+        assert!(
+            leading
+                .iter()
+                .all(|n| !n.contains("Oc_") && !n.contains("Sc_"))
+        );
+        assert!(all.iter().any(|n| n.contains("Oc_")));
+        assert!(all.iter().any(|n| n.contains("Sc_")));
     }
 
     #[test]

@@ -211,19 +211,20 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
         Some(_) => None,
     };
     let mut dp = Vec::new();
-    if let Some(next) = &mut next {
+    let next_defs = defs.next();
+    if let (Some(next), Some(next_defs)) = (&mut next, &next_defs) {
         for &(i, j, k) in &IJK {
             rows.push(Row {
                 name: format!("Q_{}{}{}", AXES[i], AXES[j], AXES[k]),
                 form: next.octupole[i][j][k],
-                definition: defs.octupole(i, j, k).to_string(),
+                definition: next_defs.octupole(i, j, k).to_string(),
             });
         }
         for &(i, j) in &IJ {
             rows.push(Row {
                 name: format!("S_{}{}", AXES[i], AXES[j]),
                 form: next.current[i][j],
-                definition: defs.current(i, j).to_string(),
+                definition: next_defs.current(i, j).to_string(),
             });
         }
         dp = next.momentum_flux(st, &mut rad).map_err(limit)?.to_vec();
@@ -231,7 +232,7 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
             rows.push(Row {
                 name: format!("dP_{}/dt", AXES[i]),
                 form: f,
-                definition: defs.momentum(i),
+                definition: next_defs.momentum(i),
             });
         }
     }
@@ -250,11 +251,11 @@ pub fn run(a: RadiationArgs) -> Result<Outcome, Failure> {
             ("h_plus", w.plus, plus_def),
             ("h_cross", w.cross, cross_def),
         ];
-        if let Some(next) = &mut next {
+        if let (Some(next), Some(next_defs)) = (&mut next, &next_defs) {
             let w = next
                 .field(st, (&dir.n, &dir.u, &dir.v), distance)
                 .map_err(limit)?;
-            let [plus_def, cross_def] = defs.polarizations_next(&n, (&u, &v), &distance_text);
+            let [plus_def, cross_def] = next_defs.polarizations_next(&n, (&u, &v), &distance_text);
             fields.push(("h_plus_next", w.plus, plus_def));
             fields.push(("h_cross_next", w.cross, cross_def));
         }
