@@ -514,6 +514,23 @@ mod tests {
         assert!(early >= 10, "the audit started early for {early} files");
     }
 
+    /// A job given up is not run by a helper that starts later, and a helper at work stops
+    /// before its next point: it leaves fewer values than the points, for nobody.
+    #[test]
+    fn issue10_a_cancelled_job_does_not_run() {
+        let p = crate::problem::worked("lorenz_oblique.toml");
+        let job = SeededJob::new(Texts::of(&p), p.sampling.seed);
+        job.cancel();
+        job.run_beside();
+        assert!(job.done.lock().unwrap().is_none());
+        let audit = Audit::of_texts(&Texts::of(&p)).unwrap();
+        let stop = AtomicBool::new(true);
+        assert!(seeded_values_unless(&audit, p.sampling.seed, &stop).is_empty());
+        stop.store(false, Ordering::Release);
+        let all = seeded_values_unless(&audit, p.sampling.seed, &stop);
+        assert_eq!(all.len(), AUDIT_POINTS);
+    }
+
     /// Texts foreseen wrongly are not used: a cosmological constant written `1 - 1` is
     /// foreseen nonzero but built as 0, which names the components differently. The job
     /// started from the file is given up, and the report is that of the audit started after
