@@ -20,8 +20,9 @@
 //! `R_bd = R^a_bad`, `G_ab = R_ab - 1/2 g_ab R`.
 //!
 //! Key design decision: forward-mode differentiation in `eps`. The whole curvature chain
-//! (inverse metric, Christoffel symbols and their derivatives, Riemann, Ricci, scalar,
-//! Einstein) is written once, from the definitions, over any [`Arith`], and run over
+//! (inverse metric, Christoffel symbols, the Riemann tensor with every index down from the
+//! metric's second derivatives and the Christoffel symbols, Ricci, scalar, Einstein; see
+//! [`curvature`]) is written once, from the definitions, over any [`Arith`], and run over
 //! [`Dual`] numbers `a + b eps` (`eps^2 = 0`) for the metric `gbar + eps h`. The `eps` parts
 //! are then exactly `d/deps` of the full nonlinear chain at `eps = 0`, and the value parts are
 //! the background's quantities. No linearized formula (the Palatini identity, which the exact
@@ -260,41 +261,6 @@ fn arr<T>(mut f: impl FnMut(usize) -> Option<T>) -> Option<[T; 4]> {
     Some([a, b, c, d])
 }
 
-/// A rank-4 array antisymmetric in its last two indices, from `f(i, j, k, l)` for `k < l`:
-/// the entry with `k > l` is the negation of its mirror and the diagonal is 0. Each mirrored
-/// value equals what `f` would give (negation is exact, and outward rounding is symmetric
-/// about 0), so this only saves work.
-fn antisymmetric_last<A: Arith>(
-    mut f: impl FnMut(usize, usize, usize, usize) -> Option<A>,
-) -> Option<Rank4<A>> {
-    let zero = A::constant(0.0)?;
-    let mut upper: Vec<A> = Vec::with_capacity(96);
-    for i in 0..4 {
-        for j in 0..4 {
-            for k in 0..4 {
-                for l in k + 1..4 {
-                    upper.push(f(i, j, k, l)?);
-                }
-            }
-        }
-    }
-    // Index of (i, j, k, l), k < l, in `upper`: 6 pairs per (i, j).
-    let at = |i: usize, j: usize, k: usize, l: usize| (i * 4 + j) * 6 + PAIR6[k][l];
-    arr(|i| {
-        arr(|j| {
-            arr(|k| {
-                arr(|l| {
-                    Some(match k.cmp(&l) {
-                        std::cmp::Ordering::Less => upper[at(i, j, k, l)].clone(),
-                        std::cmp::Ordering::Greater => upper[at(i, j, l, k)].neg(),
-                        std::cmp::Ordering::Equal => zero.clone(),
-                    })
-                })
-            })
-        })
-    })
-}
-
 /// `PAIR6[k][l]`: the position of the pair `k < l` among (0,1), (0,2), (0,3), (1,2), (1,3),
 /// (2,3); unused for `k >= l`.
 const PAIR6: [[usize; 4]; 4] = [[0, 0, 1, 2], [0, 0, 3, 4], [0, 0, 0, 5], [0, 0, 0, 0]];
@@ -482,13 +448,11 @@ pub fn inverse_by_cofactors<A: Arith>(m: &Matrix<A>) -> Option<Matrix<A>> {
 pub struct Curvature<A> {
     /// `g^{ab}`.
     pub inverse: Matrix<A>,
-    /// `dinverse[c][a][b] = d_c g^{ab} = -g^{ap} d_c g_pq g^{qb}`.
-    pub dinverse: Rank3<A>,
     /// `christoffel[a][b][c] = Gamma^a_bc = 1/2 g^{ad} (d_b g_dc + d_c g_db - d_d g_bc)`.
     pub christoffel: Rank3<A>,
-    /// `riemann[a][b][c][d] = R_abcd = g_ae R^e_bcd` (MTW signs), when [`Needs::riemann`].
+    /// `riemann[a][b][c][d] = R_abcd` (MTW signs), when [`Needs::riemann`].
     pub riemann: Option<Box<Rank4<A>>>,
-    /// `R_bd = R^a_bad`.
+    /// `R_bd = R^a_bad = g^{ae} R_ebad`.
     pub ricci: Matrix<A>,
     /// `R = g^{bd} R_bd`.
     #[allow(
@@ -502,15 +466,18 @@ pub struct Curvature<A> {
 
 /// The curvature chain of the metric `g` at the point; `None` if it cannot be evaluated
 /// there (the metric's inverse cannot be certified, an overflow).
+///
+/// The Riemann tensor with every index down comes from the second derivatives of the metric
+/// and the Christoffel symbols of both kinds, without derivatives of the Christoffel
+/// symbols (the same tensor as `g_ae R^e_bcd` with MTW's `R^a_bcd = d_c Gamma^a_bd -
+/// d_d Gamma^a_bc + Gamma^a_ce Gamma^e_bd - Gamma^a_de Gamma^e_bc`, expanded):
+/// `R_abcd = 1/2 (d_b d_c g_ad + d_a d_d g_bc - d_b d_d g_ac - d_a d_c g_bd)
+///         + Gamma_fbc Gamma^f_ad - Gamma_fbd Gamma^f_ac`.
 pub fn curvature<A: Arith>(g: &Sym2<A>, needs: Needs) -> Option<Curvature<A>> {
     let half = A::constant(0.5)?;
     let metric: Matrix<A> = arr(|a| arr(|b| Some(g.at(a, b).clone())))?;
     let inv = inverse(&metric)?;
-    // d_c g^ab = -g^ap (d_c g_pq) g^qb, as two matrix products: m[c][a][q] = g^ap d_c g_pq.
-    let m: Rank3<A> = arr(|c| arr(|a| arr(|q| sum4(|p| inv[a][p].mul(g.d(c, p, q))))))?;
-    let dinverse: Rank3<A> =
-        arr(|c| arr(|a| arr(|b| Some(sum4(|q| m[c][a][q].mul(&inv[q][b]))?.neg()))))?;
-    // Christoffel symbols of the first kind, Gamma_dbc, and their derivatives d_e Gamma_dbc.
+    // Christoffel symbols of the first kind, Gamma_dbc.
     let first: Rank3<A> = arr(|d| {
         arr(|b| {
             arr(|c| {
@@ -521,66 +488,44 @@ pub fn curvature<A: Arith>(g: &Sym2<A>, needs: Needs) -> Option<Curvature<A>> {
             })
         })
     })?;
-    let dfirst: Rank4<A> = arr(|e| {
-        arr(|d| {
-            arr(|b| {
-                arr(|c| {
-                    g.dd(e, b, d, c)
-                        .add(g.dd(e, c, d, b))?
-                        .sub(g.dd(e, d, b, c))?
-                        .mul(&half)
-                })
-            })
-        })
-    })?;
     let gamma: Rank3<A> = arr(|a| arr(|b| arr(|c| sum4(|d| inv[a][d].mul(&first[d][b][c])))))?;
-    // dgamma[e][a][b][c] = d_e Gamma^a_bc, symmetric in b, c (as `first` and `dfirst` are,
-    // exactly): the entries with b > c are copies.
-    let dgamma_at = |e: usize, a: usize, b: usize, c: usize| {
-        sum4(|d| {
-            dinverse[e][a][d]
-                .mul(&first[d][b][c])?
-                .add(&inv[a][d].mul(&dfirst[e][d][b][c])?)
-        })
-    };
-    let lower_bc: Rank4<A> = arr(|e| {
-        arr(|a| {
-            arr(|b| {
-                arr(|c| {
-                    if b <= c {
-                        dgamma_at(e, a, b, c)
-                    } else {
-                        A::constant(0.0)
-                    }
-                })
-            })
-        })
-    })?;
-    let dgamma: Rank4<A> =
-        arr(|e| arr(|a| arr(|b| arr(|c| Some(lower_bc[e][a][b.min(c)][b.max(c)].clone())))))?;
-    // R^a_bcd (MTW), for c != d.
-    let up_at = |a: usize, b: usize, c: usize, d: usize| {
-        let quad = sum4(|e| {
-            gamma[a][c][e]
-                .mul(&gamma[e][b][d])?
-                .sub(&gamma[a][d][e].mul(&gamma[e][b][c])?)
+    // R_abcd for a < b and c < d; the others by antisymmetry in each pair (negation is
+    // exact, and outward rounding is symmetric about 0), the pairs a = b or c = d being 0.
+    let lower_at = |a: usize, b: usize, c: usize, d: usize| {
+        let second = g
+            .dd(b, c, a, d)
+            .add(g.dd(a, d, b, c))?
+            .sub(g.dd(b, d, a, c))?
+            .sub(g.dd(a, c, b, d))?
+            .mul(&half)?;
+        let quad = sum4(|f| {
+            first[f][b][c]
+                .mul(&gamma[f][a][d])?
+                .sub(&first[f][b][d].mul(&gamma[f][a][c])?)
         })?;
-        dgamma[c][a][b][d].sub(&dgamma[d][a][b][c])?.add(&quad)
+        second.add(&quad)
     };
-    let riemann = if needs.riemann {
-        // Antisymmetric in c, d.
-        let up: Rank4<A> = antisymmetric_last(up_at)?;
-        Some(Box::new(antisymmetric_last(|a, b, c, d| {
-            sum4(|e| metric[a][e].mul(&up[e][b][c][d]))
-        })?))
-    } else {
-        None
+    let mut upper: Vec<A> = Vec::with_capacity(36);
+    for (a, b) in PAIRS6 {
+        for (c, d) in PAIRS6 {
+            upper.push(lower_at(a, b, c, d)?);
+        }
+    }
+    let zero = A::constant(0.0)?;
+    let at = |a: usize, b: usize, c: usize, d: usize| -> A {
+        if a == b || c == d {
+            return zero.clone();
+        }
+        let v = &upper[PAIR6[a.min(b)][a.max(b)] * 6 + PAIR6[c.min(d)][c.max(d)]];
+        if (a > b) != (c > d) {
+            v.neg()
+        } else {
+            v.clone()
+        }
     };
-    // R_bd = R^a_bad, the terms a = d being 0 (antisymmetry in the last pair). R^a_bad
-    // for a > d is -R^a_bda, and interval and ball operations are symmetric under negation,
-    // so this is the enclosure the contraction of the antisymmetric tensor gives. R_bd is
-    // symmetric for the Levi-Civita connection (inputs with symmetric second derivatives), so
-    // an enclosure of R_bd encloses R_db: the entries b > d are copies.
+    // R_bd = g^{ae} R_ebad, the terms e = b or a = d being 0. R_bd is symmetric for the
+    // Levi-Civita connection (inputs with symmetric second derivatives), so an enclosure of
+    // R_bd encloses R_db: the entries b > d are copies.
     let ricci_upper: Matrix<A> = arr(|b| {
         arr(|d| {
             if b > d {
@@ -588,18 +533,26 @@ pub fn curvature<A: Arith>(g: &Sym2<A>, needs: Needs) -> Option<Curvature<A>> {
             }
             let mut acc = A::constant(0.0)?;
             for a in (0..4).filter(|&a| a != d) {
-                acc = acc.add(&up_at(a, b, a, d)?)?;
+                for e in (0..4).filter(|&e| e != b) {
+                    acc = acc.add(&inv[a][e].mul(&at(e, b, a, d))?)?;
+                }
             }
             Some(acc)
         })
     })?;
     let ricci: Matrix<A> = arr(|b| arr(|d| Some(ricci_upper[b.min(d)][b.max(d)].clone())))?;
+    let riemann = if needs.riemann {
+        Some(Box::new(arr(|a| {
+            arr(|b| arr(|c| arr(|d| Some(at(a, b, c, d)))))
+        })?))
+    } else {
+        None
+    };
     let scalar = sum4(|b| sum4(|d| inv[b][d].mul(&ricci[b][d])))?;
     let einstein: Matrix<A> =
         arr(|a| arr(|b| ricci[a][b].sub(&metric[a][b].mul(&scalar)?.mul(&half)?)))?;
     Some(Curvature {
         inverse: inv,
-        dinverse,
         christoffel: gamma,
         riemann,
         ricci,
@@ -607,6 +560,9 @@ pub fn curvature<A: Arith>(g: &Sym2<A>, needs: Needs) -> Option<Curvature<A>> {
         einstein,
     })
 }
+
+/// The six pairs `a < b` of indices, in the order of [`PAIR6`].
+const PAIRS6: [(usize, usize); 6] = [(0, 1), (0, 2), (0, 3), (1, 2), (1, 3), (2, 3)];
 
 /// What [`evaluate`] computes at a point (see the module documentation).
 #[derive(Clone, Debug)]
@@ -681,7 +637,10 @@ pub fn evaluate_for<A: Arith>(f: &Fields<A>, ctx: &A::Ctx, needs: Needs) -> Opti
         }))
     };
     let inv_bar = value(&lin.inverse);
-    let dinv_bar: Rank3<A> = std::array::from_fn(|c| value(&lin.dinverse[c]));
+    // d_c gbar^ab = -gbar^ap (d_c gbar_pq) gbar^qb, as two matrix products.
+    let m: Rank3<A> = arr(|c| arr(|a| arr(|q| sum4(|p| inv_bar[a][p].mul(gbar.d(c, p, q))))))?;
+    let dinv_bar: Rank3<A> =
+        arr(|c| arr(|a| arr(|b| Some(sum4(|q| m[c][a][q].mul(&inv_bar[q][b]))?.neg()))))?;
     let gamma_bar: Rank3<A> = std::array::from_fn(|a| value(&lin.christoffel[a]));
 
     let background = arr(|a| {

@@ -1171,10 +1171,10 @@ proptest! {
     }
 }
 
-/// The chain builds R_abcd antisymmetric in c, d by construction (and R^a_bcd likewise); the
-/// other symmetries are not imposed, so they test the chain: antisymmetry in a, b, pair
-/// symmetry R_abcd = R_cdab and the first Bianchi identity R_a[bcd] = 0, for the Kottler
-/// background's Riemann tensor and for the linearized one of a perturbation about it.
+/// The chain builds R_abcd antisymmetric in a, b and in c, d by construction (checked here
+/// too); the other symmetries are not imposed, so they test the chain: pair symmetry
+/// R_abcd = R_cdab and the first Bianchi identity R_a[bcd] = 0, for the Kottler background's
+/// Riemann tensor and for the linearized one of a perturbation about it.
 #[test]
 fn riemann_symmetries_that_the_chain_does_not_impose() {
     let case = kottler().h(&[("t t", "M*exp(-r)*cos(th)"), ("r ph", "sin(t)*r^2")]);
