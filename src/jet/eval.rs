@@ -600,10 +600,9 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
         // F^(n)(a0 + s) = sum_k F^(n+k)(a0)/k! s^k, and F^(n+k)(a0) = (n+k)! u_{n+k}.
         let mut g = Vec::with_capacity(k_max as usize + 1);
         for k in 0..=k_max {
-            let f = factorial(primes + k) / factorial(k);
             g.push(
                 u[(primes + k) as usize]
-                    .mul(&S::from_rational(&f, c).here()?)
+                    .mul(&rising(k, primes, c).here()?)
                     .here()?,
             );
         }
@@ -645,6 +644,19 @@ fn atan2<S: Scalar>(y: &Jet<S>, x: &Jet<S>, c: &S::Ctx) -> Option<Jet<S>> {
     } else {
         quarter.neg().sub(&a)
     }
+}
+
+/// `(k + n)! / k!`, the exact integer `(k + 1) (k + 2) ... (k + n)`: in machine integers
+/// while it fits, else through the factorials.
+fn rising<S: Scalar>(k: u32, n: u32, c: &S::Ctx) -> Option<S> {
+    let mut p: i64 = 1;
+    for j in k + 1..=k + n {
+        match p.checked_mul(i64::from(j)) {
+            Some(q) => p = q,
+            None => return S::from_rational(&(factorial(k + n) / factorial(k)), c),
+        }
+    }
+    S::from_i64(p, c)
 }
 
 /// The Taylor coefficients `u_k = F^(k)(u0)/k!`, `k = 0..=n`, of a sample at `u0`.

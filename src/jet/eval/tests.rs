@@ -379,6 +379,20 @@ fn products_in_place_are_the_general_products() {
     }
 }
 
+/// The rising product `(k + n)!/k!` is the quotient of the factorials, bit for bit, also
+/// beyond the machine integers (26!/1! does not fit in 64 bits).
+#[test]
+fn rising_products_are_the_quotients_of_factorials() {
+    for k in 0..30 {
+        for n in 0..30 {
+            let q = factorial(k + n) / factorial(k);
+            let want = <Interval as Scalar>::from_rational(&q, &()).expect("finite");
+            let got = rising::<Interval>(k, n, &()).expect("finite");
+            assert_eq!(format!("{got:?}"), format!("{want:?}"), "k = {k}, n = {n}");
+        }
+    }
+}
+
 mod against_direct_evaluation {
     use super::*;
     use crate::expr::Evaluator;
