@@ -749,28 +749,27 @@ fn momentum_reports(
 ) -> Result<(), ClaimsError> {
     let lim = ClaimsError::Limit;
     let st = &mut p.store;
-    let refused = match defs.next() {
-        None => Some("the next order's definitions were not written (an internal defect)".into()),
-        Some(_) => super::multipole::refusal(st, &p.bodies, rad.t),
-    };
-    if let Some(why) = refused {
-        for (c, average) in [
-            (&claims.momentum_flux, false),
-            (&claims.momentum_flux_average, true),
-        ] {
-            if c.is_some() {
-                out.push(undecided(Kind::MomentumFlux { average }, why.clone()));
+    let next_defs = match (defs.next(), super::multipole::refusal(st, &p.bodies, rad.t)) {
+        (Some(next_defs), None) => next_defs,
+        (_, refused) => {
+            let why = refused.unwrap_or_else(|| {
+                "the next order's definitions were not written (an internal defect)".into()
+            });
+            for (c, average) in [
+                (&claims.momentum_flux, false),
+                (&claims.momentum_flux_average, true),
+            ] {
+                if c.is_some() {
+                    out.push(undecided(Kind::MomentumFlux { average }, why.clone()));
+                }
             }
+            return Ok(());
         }
-        return Ok(());
-    }
+    };
     let mut next =
         super::multipole::NextOrder::of_problem(st, &p.bodies, p.orbit.as_ref(), rad.clock)
             .map_err(lim)?;
     let dp = next.momentum_flux(st, rad).map_err(lim)?;
-    let Some(next_defs) = defs.next() else {
-        return Ok(());
-    };
     const AXES: [&str; 3] = ["x", "y", "z"];
     if let Some(c) = &claims.momentum_flux {
         let mut items = Vec::new();
