@@ -20,15 +20,16 @@
 //! table holds finite values only; column names and orders come from [`quantity`] alone.
 
 pub mod certify;
+mod lanes;
 pub mod lower;
 pub mod points;
 pub mod program;
 pub mod quantity;
+mod rows;
 pub mod write;
 
 use crate::audit::Audit;
 use crate::canon::{CanonError, Form, Point, Store};
-use crate::interval::Interval;
 use crate::jet::Scalar;
 use crate::problem::Problem;
 use crate::zero::Sampling;
@@ -36,7 +37,6 @@ use certify::Frame;
 use points::{Origin, PointSet};
 use quantity::Block;
 use quantity::Quantity;
-use rustc_hash::FxHashMap;
 use serde_json::{Value, json};
 use write::Format;
 
@@ -183,91 +183,6 @@ impl Numeric {
         self.audit.coordinates()
     }
 
-    /// Every column at each of `coords` through the interval program in f64 intervals,
-    /// judged ([`first_judgement`], `exact_zero` per column), into `out` row after row
-    /// (`coords.len()` times the number of columns; in parallel with the `parallel` feature,
-    /// [`program::LANES`] points at a time); false without a program.
-    fn fast_block(
-        &self,
-        coords: &[[f64; 4]],
-        exact_zero: &[bool],
-        tol: f64,
-        out: &mut Vec<Judged>,
-    ) -> bool {
-        let Some((p, outs)) = self.program.as_ref() else {
-            return false;
-        };
-        let ncol = outs.len();
-        if ncol != exact_zero.len() {
-            return false;
-        }
-        out.clear();
-        out.resize(coords.len() * ncol, Judged::Missing);
-        if ncol == 0 {
-            return true;
-        }
-        let one = |regs: &mut program::BlockRegs, (pts, dst): (&[[f64; 4]], &mut [Judged])| {
-            p.run_block(pts, regs);
-            for (k, row) in dst.chunks_mut(ncol).enumerate() {
-                for ((v, &r), &z) in row.iter_mut().zip(outs).zip(exact_zero) {
-                    *v = first_judgement(regs.get(r, k).as_ref(), z, tol);
-                }
-            }
-        };
-        #[cfg(feature = "parallel")]
-        {
-            use rayon::prelude::*;
-            coords
-                .par_chunks(program::LANES)
-                .zip(out.par_chunks_mut(program::LANES * ncol))
-                .for_each_init(|| p.block_regs(), one);
-        }
-        #[cfg(not(feature = "parallel"))]
-        {
-            let mut regs = p.block_regs();
-            coords
-                .chunks(program::LANES)
-                .zip(out.chunks_mut(program::LANES * ncol))
-                .for_each(|c| one(&mut regs, c));
-        }
-        true
-    }
-
-    /// The columns marked in `want` at `c` through the interval program in multiprecision
-    /// balls at `prec` bits (constants enclosed once per precision, kept in `constants`;
-    /// only the instructions those columns need are run, the others columns are `None`);
-    /// `None` without a program.
-    fn ball_values(
-        &self,
-        c: [f64; 4],
-        want: &[bool],
-        prec: u32,
-        constants: &mut BallState,
-    ) -> Option<Vec<Option<crate::interval::Ball>>> {
-        let (p, outs) = self.program.as_ref()?;
-        let (k, memo) = constants.entry(prec).or_insert_with(|| {
-            (
-                p.constants::<crate::interval::Ball>(&prec),
-                program::Memo::new(p),
-            )
-        });
-        // Only the instructions the wanted columns depend on.
-        let wanted: Vec<u32> = outs
-            .iter()
-            .zip(want)
-            .filter_map(|(&r, &w)| w.then_some(r))
-            .collect();
-        let need = p.needed(&wanted);
-        let mut regs = Vec::new();
-        p.run_in(c, &prec, k, Some(&need), Some(memo), &mut regs);
-        Some(
-            outs.iter()
-                .zip(want)
-                .map(|(&r, &w)| if w { regs[r as usize].clone() } else { None })
-                .collect(),
-        )
-    }
-
     /// Every column of `quantities` at `point`, in enclosure arithmetic `S`.
     fn values<S: Scalar>(
         &self,
@@ -328,15 +243,6 @@ pub struct Settings {
     /// How many rows the exact route re-evaluates (evenly spread, first and last included).
     pub audit_rows: usize,
 }
-
-/// Per precision, the program's constants and its [`program::Memo`] in balls.
-type BallState = FxHashMap<
-    u32,
-    (
-        Vec<Option<crate::interval::Ball>>,
-        program::Memo<crate::interval::Ball>,
-    ),
->;
 
 /// Rows evaluated together (in parallel) by the interval program.
 const FAST_BLOCK: usize = 4096;
@@ -470,43 +376,6 @@ pub struct Evaluated {
     pub audit: ExactAudit,
 }
 
-/// One value's state during the evaluation of a row.
-#[derive(Clone, Copy, Debug)]
-enum Judged {
-    /// Not evaluated at any precision yet, or not evaluable.
-    Missing,
-    /// Written value and bound, not yet within the relative tolerance.
-    Loose(f64, f64),
-    /// Within the relative tolerance.
-    Good(f64, f64),
-    /// Proved 0 by the exact route, but this enclosure `[lo, hi]` excludes 0: the two
-    /// routes contradict each other (a defect).
-    Contradicts(f64, f64),
-}
-
-/// The first judgement of a value from its f64 enclosure `v`; `exact_zero` when the exact
-/// route proved the column 0.
-fn first_judgement(v: Option<&Interval>, exact_zero: bool, tol: f64) -> Judged {
-    if !exact_zero {
-        return judge(v, tol);
-    }
-    // Proved 0 by the exact route: written as 0, with the independent enclosure's distance
-    // from 0 as its bound; an enclosure excluding 0 is a contradiction of the two routes.
-    match v.map(Scalar::bounds_f64) {
-        Some((lo, hi)) if lo <= 0.0 && 0.0 <= hi => Judged::Good(0.0, (-lo).max(hi)),
-        Some((lo, hi)) if lo.is_finite() && hi.is_finite() => Judged::Contradicts(lo, hi),
-        _ => judge(v, tol),
-    }
-}
-
-fn judge<S: Scalar>(v: Option<&S>, tol: f64) -> Judged {
-    match v.and_then(certify::written) {
-        None => Judged::Missing,
-        Some((x, b)) if b <= tol * x.abs() => Judged::Good(x, b),
-        Some((x, b)) => Judged::Loose(x, b),
-    }
-}
-
 /// Evaluates every column of `blocks` at every point through the independent route, with
 /// precision raised where needed, gives each row (`t, x, y, z`, then the columns) to `sink`
 /// as soon as it is computed, and re-evaluates a sample of rows through the exact canonical
@@ -543,68 +412,48 @@ pub fn evaluate(
     let mut columns: Vec<String> = coordinates.to_vec();
     columns.extend(names.iter().map(|s| s.to_string()));
     let width = 4 + ncol;
-    // The row being assembled, and the values and bounds of the rows the exact route will
-    // re-evaluate (the others go to `sink` and are not kept).
-    let mut line: Vec<f64> = Vec::with_capacity(width);
-    let mut line_bounds: Vec<f64> = Vec::with_capacity(ncol);
+    let stride = rows::bounds_stride(ncol);
     let audited = audited_rows(points.coords.len(), settings.audit_rows);
+    // The values and bounds of the rows the exact route will re-evaluate (the others go to
+    // `sink` and are not kept).
     let mut kept: Vec<(Vec<f64>, Vec<f64>)> = Vec::with_capacity(audited.len());
-    // The largest magnitude per column, for the zero tolerance.
-    let mut scale = vec![0.0f64; ncol];
-    let mut reports = vec![
-        ColumnReport {
-            precision_bits: 53,
-            ..ColumnReport::default()
-        };
-        ncol
-    ];
+    let mut stats = vec![rows::Stats::default(); ncol];
+    let mut bits = vec![53u32; ncol];
     // (row, column, value, bound) of values containing 0 at the top precision.
     let mut near_zero: Vec<(usize, usize, f64, f64)> = Vec::new();
     // (row, column, value, bound) of values that cannot be certified.
     let mut rejected: Vec<(usize, usize, f64, f64)> = Vec::new();
     let tol = settings.tolerance;
-    let setup = |e: crate::audit::AuditError| ExportError::Setup(e.to_string());
-    // The f64 pass of the interval program over every row, judged, in parallel, a block at
-    // a time; then, row after row, the values not yet good enough at higher precision.
-    let mut block: Vec<Judged> = Vec::new();
-    let mut ball_constants: BallState = FxHashMap::default();
-    let mut bits: Vec<u32> = Vec::with_capacity(ncol);
-    let mut want: Vec<bool> = Vec::with_capacity(ncol);
-    for (row, &c) in points.coords.iter().enumerate() {
-        let point = || named_point(coordinates, parameters, c);
-        if row % FAST_BLOCK == 0 {
-            check_limits(settings)?;
-            let end = (row + FAST_BLOCK).min(points.coords.len());
-            let coords = &points.coords[row..end];
-            if !numeric.fast_block(coords, &exact_zero, tol, &mut block) {
-                block.clear();
-                for &c in coords {
-                    let first = numeric
-                        .values::<Interval>(
-                            &quantities,
-                            &named_point(coordinates, parameters, c),
-                            &(),
-                        )
-                        .map_err(setup)?;
-                    if first.len() != ncol {
-                        return Err(ExportError::Setup(format!(
-                            "{} values for {ncol} columns",
-                            first.len()
-                        )));
-                    }
-                    block.extend(
-                        first
-                            .iter()
-                            .zip(&exact_zero)
-                            .map(|(v, &z)| first_judgement(v.as_ref(), z, tol)),
-                    );
-                }
-            }
+    let job = rows::Job {
+        quantities: &quantities,
+        parameters,
+        exact_zero: &exact_zero,
+        tolerance: tol,
+    };
+    let check = || check_limits(settings);
+    // A block of rows at a time: the first pass in f64 intervals and the refinement of the
+    // values it leaves too wide, both in parallel; then, in row order, the pending rows'
+    // verdicts and every row to the sink.
+    let mut pass = rows::FirstPass::default();
+    let states = rows::BallStates::new();
+    for (first_row, coords) in (0..)
+        .step_by(FAST_BLOCK)
+        .zip(points.coords.chunks(FAST_BLOCK))
+    {
+        check_limits(settings)?;
+        numeric.first_pass(&job, coords, &mut pass)?;
+        for (s, o) in stats.iter_mut().zip(&pass.stats) {
+            s.merge(o);
         }
-        let k = (row % FAST_BLOCK) * ncol;
-        let judged = &mut block[k..k + ncol];
-        for (i, j) in judged.iter().enumerate() {
-            if let Judged::Contradicts(lo, hi) = *j {
+        let refined = numeric.refine_all(&job, coords, &mut pass.pending, &states, &check);
+        for (p, r) in pass.pending.iter().zip(refined) {
+            let row = first_row + p.row;
+            if let Some((i, &rows::Judged::Contradicts(lo, hi))) = p
+                .judged
+                .iter()
+                .enumerate()
+                .find(|(_, j)| matches!(j, rows::Judged::Contradicts(..)))
+            {
                 return Err(ExportError::Disagreement {
                     column: names[i].to_string(),
                     point: points.describe(row),
@@ -614,81 +463,57 @@ pub fn evaluate(
                     exact_bound: 0.0,
                 });
             }
-        }
-        bits.clear();
-        bits.resize(ncol, 53);
-        for &prec in &certify::PRECISIONS {
-            if judged.iter().all(|j| matches!(j, Judged::Good(..))) {
-                break;
-            }
-            check_limits(settings)?;
-            want.clear();
-            want.extend(judged.iter().map(|j| !matches!(j, Judged::Good(..))));
-            let vals = match numeric.ball_values(c, &want, prec, &mut ball_constants) {
-                Some(v) => v,
-                None => numeric
-                    .values::<crate::interval::Ball>(&quantities, &point(), &prec)
-                    .map_err(setup)?,
-            };
-            for (i, v) in vals.iter().enumerate() {
-                if matches!(judged[i], Judged::Good(..)) {
-                    continue;
-                }
-                let j = judge(v.as_ref(), tol);
-                let better = match (j, judged[i]) {
-                    (Judged::Missing | Judged::Contradicts(..), _) => false,
-                    (_, Judged::Missing | Judged::Contradicts(..)) => true,
-                    (Judged::Good(..), _) => true,
-                    (Judged::Loose(_, b), Judged::Loose(_, b0)) => b < b0,
-                    (Judged::Loose(..), Judged::Good(..)) => false,
+            r?;
+            let values = &mut pass.values[p.row * width + 4..(p.row + 1) * width];
+            let bounds = &mut pass.bounds[p.row * stride..p.row * stride + ncol];
+            for (i, &j) in p.judged.iter().enumerate() {
+                let (x, b, good) = match j {
+                    rows::Judged::Missing | rows::Judged::Contradicts(..) => {
+                        return Err(ExportError::Point(EvalError {
+                            row,
+                            column: names[i].to_string(),
+                            point: points.describe(row),
+                            reason: "the value is not finite or not real there (a singularity \
+                                such as r = 0, or a root or logarithm at or past its branch \
+                                point)"
+                                .into(),
+                        }));
+                    }
+                    rows::Judged::Good(x, b) => (x, b, true),
+                    rows::Judged::Loose(x, b) => {
+                        if b >= x.abs() {
+                            near_zero.push((row, i, x, b));
+                        } else {
+                            rejected.push((row, i, x, b));
+                        }
+                        (x, b, false)
+                    }
                 };
-                if better {
-                    judged[i] = j;
-                    bits[i] = prec;
-                }
+                values[i] = x;
+                bounds[i] = b;
+                stats[i].add(x, b, good);
+                bits[i] = bits[i].max(p.bits[i]);
             }
         }
-        line.clear();
-        line.extend_from_slice(&c);
-        line_bounds.clear();
-        for (i, &j) in judged.iter().enumerate() {
-            let (x, b) = match j {
-                Judged::Missing | Judged::Contradicts(..) => {
-                    return Err(ExportError::Point(EvalError {
-                        row,
-                        column: names[i].to_string(),
-                        point: points.describe(row),
-                        reason: "the value is not finite or not real there (a singularity \
-                            such as r = 0, or a root or logarithm at or past its branch point)"
-                            .into(),
-                    }));
-                }
-                Judged::Good(x, b) => {
-                    if x != 0.0 {
-                        reports[i].relative = reports[i].relative.max(b / x.abs());
-                    }
-                    (x, b)
-                }
-                Judged::Loose(x, b) => {
-                    if b >= x.abs() {
-                        near_zero.push((row, i, x, b));
-                    } else {
-                        rejected.push((row, i, x, b));
-                    }
-                    (x, b)
-                }
-            };
-            line.push(x);
-            line_bounds.push(b);
-            scale[i] = scale[i].max(x.abs());
-            reports[i].bound = reports[i].bound.max(b);
-            reports[i].precision_bits = reports[i].precision_bits.max(bits[i]);
+        for (k, line) in pass.values.chunks(width).enumerate() {
+            if audited.get(kept.len()) == Some(&(first_row + k)) {
+                let bounds = &pass.bounds[k * stride..k * stride + ncol];
+                kept.push((line.to_vec(), bounds.to_vec()));
+            }
+            sink(line).map_err(|e| ExportError::Write(e.to_string()))?;
         }
-        if audited.get(kept.len()) == Some(&row) {
-            kept.push((line.clone(), line_bounds.clone()));
-        }
-        sink(&line).map_err(|e| ExportError::Write(e.to_string()))?;
     }
+    let mut reports: Vec<ColumnReport> = stats
+        .iter()
+        .zip(&bits)
+        .map(|(s, &b)| ColumnReport {
+            bound: s.bound,
+            relative: s.relative,
+            precision_bits: b,
+            ..ColumnReport::default()
+        })
+        .collect();
+    let scale: Vec<f64> = stats.iter().map(|s| s.scale).collect();
     // Values indistinguishable from 0: judged against the zero tolerance, by default the
     // relative tolerance times the column's largest magnitude.
     let rows = points.coords.len();

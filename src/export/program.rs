@@ -17,6 +17,7 @@
 //! in its operands, or `None` ("cannot evaluate here"), which spreads; constants are exact
 //! rationals enclosed outward; parameters are the exact f64 values given.
 
+use super::lanes;
 use crate::interval::Interval;
 use crate::jet::Scalar;
 use crate::jet::scalar::rational_interval;
@@ -276,59 +277,6 @@ impl BlockRegs {
     }
 }
 
-/// One ulp above `x` for every finite `x` (equal to `f64::next_up` there, and at `-inf`),
-/// NaN for NaN and `+inf`; branch-free, so that a loop over lanes vectorises.
-///
-/// Why it is right. `x + 0.0` is `x` except that `-0.0` becomes `+0.0` (round to nearest),
-/// so the sign bit `s` of `b = bits(x + 0.0)` is set exactly when `x < 0`. IEEE 754 orders the
-/// bit patterns of nonnegative doubles like their values, and those of negative doubles in
-/// reverse; so the next double above is `b + 1` for `x >= 0` (`+0` goes to the smallest
-/// subnormal, `f64::MAX` to `+inf`) and `b - 1` for `x < 0` (the smallest negative
-/// subnormal goes to `-0.0`, `-inf` to `-f64::MAX`), which is `b + 1 - 2 s`. A NaN keeps
-/// NaN (selected explicitly: a payload of all ones would otherwise wrap to `-0.0`).
-#[inline]
-fn up(x: f64) -> f64 {
-    let b = (x + 0.0).to_bits();
-    let r = f64::from_bits(b.wrapping_add(1).wrapping_sub((b >> 63) << 1));
-    if x.is_nan() { x } else { r }
-}
-
-/// One ulp below `x`: `-up(-x)` (negation is exact), so `f64::next_down` for finite `x`.
-#[inline]
-fn down(x: f64) -> f64 {
-    -up(-x)
-}
-
-/// The interval `[lo, hi]` if finite and ordered (as [`Interval::new`]), else NaN in both:
-/// the lane cannot be evaluated.
-#[inline]
-fn checked(lo: f64, hi: f64) -> (f64, f64) {
-    if lo >= -f64::MAX && hi <= f64::MAX && lo <= hi {
-        (lo, hi)
-    } else {
-        (f64::NAN, f64::NAN)
-    }
-}
-
-/// [`checked`] as selects, for the vectorised lane loops.
-#[inline]
-fn checked_sel(lo: f64, hi: f64) -> (f64, f64) {
-    let ok = lo >= -f64::MAX && hi <= f64::MAX && lo <= hi;
-    (sel(ok, lo, f64::NAN), sel(ok, hi, f64::NAN))
-}
-
-/// `if c { a } else { b }` on values already computed (a select, not a branch).
-#[inline]
-fn sel(c: bool, a: f64, b: f64) -> f64 {
-    if c { a } else { b }
-}
-
-/// True for the exact point 0 (false for NaN).
-#[inline]
-fn zero_point(lo: f64, hi: f64) -> bool {
-    lo == 0.0 && hi == 0.0
-}
-
 impl IntervalProgram {
     /// An empty register file for [`IntervalProgram::run_block`].
     #[must_use]
@@ -341,12 +289,10 @@ impl IntervalProgram {
     /// `IntervalProgram::run` (tests only) gives at `points[k]` (same operations, same rounding, tested
     /// bit for bit), read with [`BlockRegs::get`].
     ///
-    /// Addition, subtraction, multiplication and negation are written out over the lanes
-    /// with the branch-free `up`/`down` (they mirror [`Interval::add`],
-    /// [`Interval::sub`], [`Interval::mul`] case by case, including the exact point 0, so
-    /// their enclosures follow from the same rounding argument: a correctly rounded result
-    /// is within half an ulp of the exact one, and one step outward encloses it); the other
-    /// instructions call the [`Interval`] operations lane by lane.
+    /// The four operations, negation, square roots, integer powers, sine and cosine are
+    /// loops over the lanes of the branch-free operations of [`super::lanes`], which the
+    /// per-point evaluator calls too; exp, log, atan and other roots call the [`Interval`]
+    /// operations lane by lane.
     ///
     /// # Panics
     ///
@@ -404,62 +350,35 @@ impl IntervalProgram {
                 Instr::Input(k) => {
                     for (j, p) in points.iter().enumerate() {
                         let x = p[k as usize];
-                        (lo[j], hi[j]) = checked(x, x);
+                        (lo[j], hi[j]) = lanes::checked(x, x);
                     }
                 }
-                // Add, Sub and Mul are written without branches (selects in the order of
-                // precedence, the last one winning) so that the lane loops vectorise; each
-                // gives the lane exactly what the scalar rule gives.
-                Instr::Add(a, b) => {
-                    let ((alo, ahi), (blo, bhi)) = (reg(a), reg(b));
-                    for j in 0..n {
-                        let (al, ah, bl, bh) = (alo[j], ahi[j], blo[j], bhi[j]);
-                        let (mut l, mut h) = checked_sel(down(al + bl), up(ah + bh));
-                        // A point plus its negative is exactly 0.
-                        let cancel = al == ah && bl == bh && al == -bl;
-                        (l, h) = (sel(cancel, 0.0, l), sel(cancel, 0.0, h));
-                        // Adding the exact 0 is exact (b's zero first, as the scalar rule).
-                        let az = zero_point(al, ah);
-                        (l, h) = (sel(az, bl, l), sel(az, bh, h));
-                        let bz = zero_point(bl, bh);
-                        lo[j] = sel(bz, al, l);
-                        hi[j] = sel(bz, ah, h);
-                    }
-                }
-                Instr::Sub(a, b) => {
-                    let ((alo, ahi), (blo, bhi)) = (reg(a), reg(b));
-                    for j in 0..n {
-                        let (al, ah, bl, bh) = (alo[j], ahi[j], blo[j], bhi[j]);
-                        let (mut l, mut h) = checked_sel(down(al - bh), up(ah - bl));
-                        // A point minus itself is exactly 0.
-                        let same = al == ah && bl == bh && al == bl;
-                        (l, h) = (sel(same, 0.0, l), sel(same, 0.0, h));
-                        let bz = zero_point(bl, bh);
-                        lo[j] = sel(bz, al, l);
-                        hi[j] = sel(bz, ah, h);
-                    }
-                }
-                Instr::Mul(a, b) => {
-                    let ((alo, ahi), (blo, bhi)) = (reg(a), reg(b));
-                    for j in 0..n {
-                        let (al, ah, bl, bh) = (alo[j], ahi[j], blo[j], bhi[j]);
-                        let p = [al * bl, al * bh, ah * bl, ah * bh];
-                        let mn = p[0].min(p[1]).min(p[2].min(p[3]));
-                        let mx = p[0].max(p[1]).max(p[2].max(p[3]));
-                        let (mut l, mut h) = checked_sel(down(mn), up(mx));
-                        let zero = zero_point(al, ah) || zero_point(bl, bh);
-                        (l, h) = (sel(zero, 0.0, l), sel(zero, 0.0, h));
-                        let invalid = al.is_nan() || bl.is_nan();
-                        lo[j] = sel(invalid, f64::NAN, l);
-                        hi[j] = sel(invalid, f64::NAN, h);
-                    }
-                }
+                Instr::Add(a, b) => binary_lanes(reg(a), reg(b), (lo, hi), lanes::add),
+                Instr::Sub(a, b) => binary_lanes(reg(a), reg(b), (lo, hi), lanes::sub),
+                Instr::Mul(a, b) => binary_lanes(reg(a), reg(b), (lo, hi), lanes::mul),
+                Instr::Div(a, b) => binary_lanes(reg(a), reg(b), (lo, hi), lanes::div),
                 Instr::Neg(a) => {
                     let (alo, ahi) = reg(a);
                     for j in 0..n {
-                        lo[j] = -ahi[j];
-                        hi[j] = -alo[j];
+                        (lo[j], hi[j]) = lanes::neg(alo[j], ahi[j]);
                     }
+                }
+                Instr::Root(a, 2) => {
+                    let (alo, ahi) = reg(a);
+                    for j in 0..n {
+                        (lo[j], hi[j]) = lanes::sqrt(alo[j], ahi[j]);
+                    }
+                }
+                Instr::PowI(a, k) => {
+                    let (alo, ahi) = reg(a);
+                    for j in 0..n {
+                        (lo[j], hi[j]) = lanes::powi(alo[j], ahi[j], k);
+                    }
+                }
+                Instr::Sin(a) | Instr::Cos(a) => {
+                    let (alo, ahi) = reg(a);
+                    let cosine = matches!(ins, Instr::Cos(_));
+                    lanes::sin_or_cos_lanes(alo, ahi, lo, hi, cosine);
                 }
                 _ => {
                     for j in 0..n {
@@ -568,23 +487,46 @@ impl<S: Clone> Memo<S> {
     }
 }
 
+/// `(lo, hi)[j] = f(a[j], b[j])` over the lanes (`f` inlined, so the loop vectorises).
+#[inline(always)]
+fn binary_lanes<F: Fn(f64, f64, f64, f64) -> (f64, f64)>(
+    (alo, ahi): (&[f64], &[f64]),
+    (blo, bhi): (&[f64], &[f64]),
+    (lo, hi): (&mut [f64], &mut [f64]),
+    f: F,
+) {
+    for j in 0..lo.len() {
+        (lo[j], hi[j]) = f(alo[j], ahi[j], blo[j], bhi[j]);
+    }
+}
+
 /// The value of one operation from its operands' values (`r(register)`): the one
 /// definition that `IntervalProgram::run` (tests only) and the per-lane fallback of the block evaluator
 /// share, so the two agree bit for bit. Constants and inputs are not operations: `None`.
 fn apply(ins: Instr, r: impl Fn(u32) -> Option<Interval>) -> Option<Interval> {
+    let lane = |k: u32| r(k).map_or((f64::NAN, f64::NAN), |v| (v.lo(), v.hi()));
+    let binary = |a: u32, b: u32, f: fn(f64, f64, f64, f64) -> (f64, f64)| {
+        let ((al, ah), (bl, bh)) = (lane(a), lane(b));
+        lanes::interval(f(al, ah, bl, bh))
+    };
     match ins {
         Instr::Const(..) | Instr::Input(_) => None,
-        Instr::Add(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.add(y)),
-        Instr::Sub(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.sub(y)),
-        Instr::Mul(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.mul(y)),
-        Instr::Div(a, b) => r(a).zip(r(b)).and_then(|(x, y)| x.div(y)),
+        Instr::Add(a, b) => binary(a, b, lanes::add),
+        Instr::Sub(a, b) => binary(a, b, lanes::sub),
+        Instr::Mul(a, b) => binary(a, b, lanes::mul),
+        Instr::Div(a, b) => binary(a, b, lanes::div),
         Instr::Neg(a) => r(a).map(|x| -x),
-        Instr::PowI(a, k) => r(a).and_then(|x| x.powi(i64::from(k))),
+        Instr::PowI(a, k) => {
+            let (l, h) = lane(a);
+            lanes::interval(lanes::powi(l, h, k))
+        }
         Instr::Root(a, q) => r(a).and_then(|x| root(x, q)),
         Instr::Exp(a) => r(a).and_then(Interval::exp),
         Instr::Log(a) => r(a).and_then(Interval::ln),
-        Instr::Sin(a) => r(a).map(Interval::sin),
-        Instr::Cos(a) => r(a).map(Interval::cos),
+        Instr::Sin(a) | Instr::Cos(a) => {
+            let (l, h) = lane(a);
+            lanes::interval(lanes::sin_or_cos(l, h, matches!(ins, Instr::Cos(_))))
+        }
         Instr::Atan(a) => r(a).map(Interval::atan),
     }
 }
@@ -678,6 +620,7 @@ impl Target for IntervalProgram {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::export::lanes::{down, up};
     use crate::export::lower::{Texts, roots};
     use crate::export::quantity::Quantity;
     use crate::interval::Ball;

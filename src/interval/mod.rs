@@ -43,10 +43,10 @@ pub const LIBM_ULPS: u32 = 4;
 /// Beyond this magnitude, sin and cos of an interval are just [-1, 1].
 ///
 /// Keeps the enclosure independent of how well libm reduces huge arguments.
-const TRIG_MAX_ARG: f64 = 1e6;
+pub(crate) const TRIG_MAX_ARG: f64 = 1e6;
 
 /// An interval wider than this (a safe over-estimate of 2π) covers a full period.
-const TRIG_FULL_PERIOD: f64 = 6.3;
+pub(crate) const TRIG_FULL_PERIOD: f64 = 6.3;
 
 /// One ulp below: a lower bound on the exact result of a correctly rounded operation.
 #[inline]
@@ -89,6 +89,13 @@ fn pow_bounds(a: f64, n: u64) -> (f64, f64) {
         // Exact, and keeps 1^n from drifting away by an ulp per squaring.
         return (a, a);
     }
+    pow_bounds_by_squaring(a, n)
+}
+
+/// The repeated squaring of [`pow_bounds`] without its exact cases (0 and 1): also the
+/// export program's lanes' (which select those cases afterwards, without a branch).
+#[inline(always)]
+pub(crate) fn pow_bounds_by_squaring(a: f64, n: u64) -> (f64, f64) {
     let (mut base_lo, mut base_hi) = (a, a);
     let mut acc: Option<(f64, f64)> = None;
     let mut k = n;

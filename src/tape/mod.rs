@@ -38,7 +38,7 @@ mod lattice;
 mod lower;
 #[cfg(test)]
 mod tests;
-mod trig;
+pub(crate) mod trig;
 
 pub use compile::{Compiler, TapeError};
 pub use lane::{C64, Lane};

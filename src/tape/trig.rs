@@ -45,7 +45,7 @@ fn two_sum(a: f64, b: f64) -> (f64, f64) {
 
 /// `(sin x, cos x)` for `|x| <= LIMIT`; meaningless (but no panic) beyond.
 #[inline(always)]
-fn kernel(x: f64) -> (f64, f64) {
+pub(crate) fn kernel(x: f64) -> (f64, f64) {
     let shifted = x * INV_PIO2 + ROUNDER;
     let q = shifted.to_bits() & 3;
     let n = shifted - ROUNDER;
@@ -86,7 +86,7 @@ fn kernel(x: f64) -> (f64, f64) {
     clippy::neg_cmp_op_on_partial_ord,
     reason = "the negated comparison is what makes NaN count as outside"
 )]
-fn outside(x: f64) -> bool {
+pub(crate) fn outside(x: f64) -> bool {
     !(x.abs() <= LIMIT)
 }
 

@@ -1,0 +1,422 @@
+//! The certified values of a block of rows: a first pass in f64 intervals over every row,
+//! then multiprecision balls for the values it leaves too wide, both in parallel.
+//!
+//! Model. [`Numeric::first_pass`] runs the interval program ([`super::program`]) over
+//! [`LANES`] points at a time, or the jets of [`super::certify`] point by point where there
+//! is no program, and judges every value against the tolerance in the same parallel task: a
+//! row whose values are all good is written at once (values, bounds, and the per-column
+//! [`Stats`] of the task), any other row is left [`Pending`] with its judgements.
+//! [`Numeric::refine`] raises the precision of a pending row's values (128, 256, 512 bits),
+//! only the columns that need it; pending rows are refined in parallel, each thread with its
+//! own constants and memo ([`BallStates`]). The caller takes the pending rows in row order,
+//! so errors and reports do not depend on the schedule.
+//!
+//! **Invariants:** every value's state is the same as a one-row-at-a-time evaluation would
+//! give: the block program is the per-point program bit for bit, ball arithmetic is
+//! deterministic, and a memo only returns values computed at points with the same bits in the
+//! coordinates they depend on.
+
+use super::certify;
+use super::program::{self, BlockRegs, LANES};
+use super::quantity::Quantity;
+use super::{ExportError, Numeric, named_point};
+use crate::interval::{Ball, Interval};
+use crate::jet::Scalar;
+use rustc_hash::FxHashMap;
+use std::sync::Mutex;
+
+/// One value's state during the evaluation of a row.
+#[derive(Clone, Copy, Debug)]
+pub(super) enum Judged {
+    /// Not evaluated at any precision yet, or not evaluable.
+    Missing,
+    /// Written value and bound, not yet within the relative tolerance.
+    Loose(f64, f64),
+    /// Within the relative tolerance.
+    Good(f64, f64),
+    /// Proved 0 by the exact route, but this enclosure `[lo, hi]` excludes 0: the two
+    /// routes contradict each other (a defect).
+    Contradicts(f64, f64),
+}
+
+/// The first judgement of a value from its f64 enclosure `v`; `exact_zero` when the exact
+/// route proved the column 0.
+fn first_judgement(v: Option<&Interval>, exact_zero: bool, tol: f64) -> Judged {
+    if !exact_zero {
+        return judge(v, tol);
+    }
+    // Proved 0 by the exact route: written as 0, with the independent enclosure's distance
+    // from 0 as its bound; an enclosure excluding 0 is a contradiction of the two routes.
+    match v.map(Scalar::bounds_f64) {
+        Some((lo, hi)) if lo <= 0.0 && 0.0 <= hi => Judged::Good(0.0, (-lo).max(hi)),
+        Some((lo, hi)) if lo.is_finite() && hi.is_finite() => Judged::Contradicts(lo, hi),
+        _ => judge(v, tol),
+    }
+}
+
+fn judge<S: Scalar>(v: Option<&S>, tol: f64) -> Judged {
+    match v.and_then(certify::written) {
+        None => Judged::Missing,
+        Some((x, b)) if b <= tol * x.abs() => Judged::Good(x, b),
+        Some((x, b)) => Judged::Loose(x, b),
+    }
+}
+
+/// What the report keeps of a column's values: the largest bound, relative bound (of
+/// nonzero good values) and magnitude.
+#[derive(Clone, Copy, Debug, Default)]
+pub(super) struct Stats {
+    pub bound: f64,
+    pub relative: f64,
+    pub scale: f64,
+}
+
+impl Stats {
+    /// Takes in a written value `x` with bound `b` (`good`: within the tolerance).
+    #[inline]
+    pub fn add(&mut self, x: f64, b: f64, good: bool) {
+        if good && x != 0.0 {
+            self.relative = self.relative.max(b / x.abs());
+        }
+        self.scale = self.scale.max(x.abs());
+        self.bound = self.bound.max(b);
+    }
+
+    /// Takes in another set of values.
+    pub fn merge(&mut self, o: &Stats) {
+        self.bound = self.bound.max(o.bound);
+        self.relative = self.relative.max(o.relative);
+        self.scale = self.scale.max(o.scale);
+    }
+}
+
+/// A row the first pass left with values not yet good.
+#[derive(Clone, Debug)]
+pub(super) struct Pending {
+    /// The row within its block.
+    pub row: usize,
+    /// Every column's state.
+    pub judged: Vec<Judged>,
+    /// Every column's working precision (53: f64 intervals).
+    pub bits: Vec<u32>,
+}
+
+/// The first pass over a block of rows.
+#[derive(Debug, Default)]
+pub(super) struct FirstPass {
+    /// Rows of `4 + ncol` values, `t, x, y, z` first; the component values of pending rows
+    /// are set by the caller.
+    pub values: Vec<f64>,
+    /// Per row, `ncol` bounds, [`bounds_stride`] apart.
+    pub bounds: Vec<f64>,
+    /// The rows with a value not yet good, in row order.
+    pub pending: Vec<Pending>,
+    /// Per column, over the rows not pending.
+    pub stats: Vec<Stats>,
+}
+
+/// The distance between rows of [`FirstPass::bounds`]: `ncol`, at least 1 (so that the
+/// rows can be chunked when there are no columns).
+pub(super) fn bounds_stride(ncol: usize) -> usize {
+    ncol.max(1)
+}
+
+/// One parallel task's share of a block: its index, its points, and its rows of values and
+/// bounds.
+type Chunk<'a> = (usize, ((&'a [[f64; 4]], &'a mut [f64]), &'a mut [f64]));
+
+/// The values of the wanted columns at a point in balls of a precision:
+/// `(point, wanted columns, bits)`.
+type BallRoute<'a> = dyn Fn([f64; 4], &[bool], u32) -> Result<Vec<Option<Ball>>, ExportError> + 'a;
+
+/// What one parallel task of the first pass gives besides the rows it wrote.
+struct TaskOut {
+    stats: Vec<Stats>,
+    pending: Vec<Pending>,
+}
+
+/// Per precision, the program's constants and its [`program::Memo`] in balls.
+type BallState = FxHashMap<u32, (Vec<Option<Ball>>, program::Memo<Ball>)>;
+
+/// One [`BallState`] per thread of the pool (a thread takes the one of its index, so the
+/// locks are not contended).
+pub(super) struct BallStates(Vec<Mutex<BallState>>);
+
+impl BallStates {
+    pub fn new() -> BallStates {
+        #[cfg(feature = "parallel")]
+        let n = rayon::current_num_threads().max(1);
+        #[cfg(not(feature = "parallel"))]
+        let n = 1;
+        BallStates((0..n).map(|_| Mutex::new(BallState::default())).collect())
+    }
+
+    fn mine(&self) -> std::sync::MutexGuard<'_, BallState> {
+        #[cfg(feature = "parallel")]
+        let k = rayon::current_thread_index().unwrap_or(0) % self.0.len();
+        #[cfg(not(feature = "parallel"))]
+        let k = 0;
+        // A panic elsewhere cannot leave a state half-updated in a way that matters: the
+        // memo only holds finished values.
+        self.0[k]
+            .lock()
+            .unwrap_or_else(std::sync::PoisonError::into_inner)
+    }
+}
+
+/// What the first pass and the refinement need to know of the export.
+pub(super) struct Job<'a> {
+    pub quantities: &'a [Quantity],
+    pub parameters: &'a [(String, f64)],
+    /// Per column, whether the exact route proved it 0.
+    pub exact_zero: &'a [bool],
+    pub tolerance: f64,
+}
+
+impl Numeric {
+    /// The first pass over the rows at `coords` into `pass` (see the module's doc): in
+    /// parallel through the interval program; point by point through the jets where there
+    /// is none (they are not shared between threads).
+    ///
+    /// # Errors
+    ///
+    /// The jets cannot be set up, or give the wrong number of values.
+    pub(super) fn first_pass(
+        &self,
+        job: &Job<'_>,
+        coords: &[[f64; 4]],
+        pass: &mut FirstPass,
+    ) -> Result<(), ExportError> {
+        let ncol = job.exact_zero.len();
+        let width = 4 + ncol;
+        let stride = bounds_stride(ncol);
+        pass.values.clear();
+        pass.values.resize(coords.len() * width, 0.0);
+        pass.bounds.clear();
+        pass.bounds.resize(coords.len() * stride, 0.0);
+        pass.pending.clear();
+        pass.stats.clear();
+        pass.stats.resize(ncol, Stats::default());
+        let mut judged = vec![Judged::Missing; ncol];
+        let Some((p, outs)) = self.program.as_ref().filter(|(_, outs)| outs.len() == ncol) else {
+            let mut out = TaskOut::new(ncol);
+            for (k, c) in coords.iter().enumerate() {
+                let point = named_point(self.coordinates(), job.parameters, *c);
+                let first = self
+                    .values::<Interval>(job.quantities, &point, &())
+                    .map_err(|e| ExportError::Setup(e.to_string()))?;
+                if first.len() != ncol {
+                    return Err(ExportError::Setup(format!(
+                        "{} values for {ncol} columns",
+                        first.len()
+                    )));
+                }
+                for ((j, v), &z) in judged.iter_mut().zip(&first).zip(job.exact_zero) {
+                    *j = first_judgement(v.as_ref(), z, job.tolerance);
+                }
+                let row = &mut pass.values[k * width..(k + 1) * width];
+                let bounds = &mut pass.bounds[k * stride..k * stride + ncol];
+                out.settle(k, c, &judged, row, bounds);
+            }
+            pass.stats = out.stats;
+            pass.pending = out.pending;
+            return Ok(());
+        };
+        let task = |regs: &mut BlockRegs, (t, ((pts, values), bounds)): Chunk<'_>| {
+            let mut out = TaskOut::new(ncol);
+            p.run_block(pts, regs);
+            let mut judged = vec![Judged::Missing; ncol];
+            for (k, c) in pts.iter().enumerate() {
+                for ((j, &r), &z) in judged.iter_mut().zip(outs).zip(job.exact_zero) {
+                    *j = first_judgement(regs.get(r, k).as_ref(), z, job.tolerance);
+                }
+                let row = &mut values[k * width..(k + 1) * width];
+                let b = &mut bounds[k * stride..k * stride + ncol];
+                out.settle(t * LANES + k, c, &judged, row, b);
+            }
+            out
+        };
+        let chunks = coords
+            .chunks(LANES)
+            .zip(pass.values.chunks_mut(LANES * width))
+            .zip(pass.bounds.chunks_mut(LANES * stride))
+            .enumerate();
+        #[cfg(feature = "parallel")]
+        let tasks: Vec<TaskOut> = {
+            use rayon::prelude::*;
+            chunks
+                .collect::<Vec<_>>()
+                .into_par_iter()
+                .map_init(|| p.block_regs(), task)
+                .collect()
+        };
+        #[cfg(not(feature = "parallel"))]
+        let tasks: Vec<TaskOut> = {
+            let mut regs = p.block_regs();
+            chunks.map(|c| task(&mut regs, c)).collect()
+        };
+        for t in tasks {
+            for (s, o) in pass.stats.iter_mut().zip(&t.stats) {
+                s.merge(o);
+            }
+            pass.pending.extend(t.pending);
+        }
+        Ok(())
+    }
+
+    /// The refinement of the pending rows of a block at `coords` (see [`refine`]): in
+    /// parallel through the interval program in balls; row after row through the jets where
+    /// there is no program. The results are in row order, one per pending row.
+    pub(super) fn refine_all(
+        &self,
+        job: &Job<'_>,
+        coords: &[[f64; 4]],
+        pending: &mut [Pending],
+        states: &BallStates,
+        check: &(dyn Fn() -> Result<(), ExportError> + Sync),
+    ) -> Vec<Result<(), ExportError>> {
+        let ncol = job.exact_zero.len();
+        let Some((p, outs)) = self.program.as_ref().filter(|(_, outs)| outs.len() == ncol) else {
+            let jets = |c: [f64; 4], _: &[bool], prec: u32| {
+                let point = named_point(self.coordinates(), job.parameters, c);
+                self.values::<Ball>(job.quantities, &point, &prec)
+                    .map_err(|e| ExportError::Setup(e.to_string()))
+            };
+            return pending
+                .iter_mut()
+                .map(|r| refine(job, coords[r.row], r, check, &jets))
+                .collect();
+        };
+        let balls =
+            |c: [f64; 4], want: &[bool], prec: u32| Ok(ball_values(p, outs, c, want, prec, states));
+        let one = |r: &mut Pending| refine(job, coords[r.row], r, check, &balls);
+        #[cfg(feature = "parallel")]
+        {
+            use rayon::prelude::*;
+            pending.par_iter_mut().map(one).collect()
+        }
+        #[cfg(not(feature = "parallel"))]
+        {
+            pending.iter_mut().map(one).collect()
+        }
+    }
+}
+
+impl TaskOut {
+    fn new(ncol: usize) -> TaskOut {
+        TaskOut {
+            stats: vec![Stats::default(); ncol],
+            pending: Vec::new(),
+        }
+    }
+
+    /// Writes row `k` (at `c`, with these judgements) into `row` and `bounds` if all its
+    /// values are good, else keeps it pending.
+    #[inline]
+    fn settle(
+        &mut self,
+        k: usize,
+        c: &[f64; 4],
+        judged: &[Judged],
+        row: &mut [f64],
+        bounds: &mut [f64],
+    ) {
+        row[..4].copy_from_slice(c);
+        if judged.iter().all(|j| matches!(j, Judged::Good(..))) {
+            for (i, j) in judged.iter().enumerate() {
+                if let Judged::Good(x, b) = *j {
+                    row[4 + i] = x;
+                    bounds[i] = b;
+                    self.stats[i].add(x, b, true);
+                }
+            }
+        } else {
+            self.pending.push(Pending {
+                row: k,
+                judged: judged.to_vec(),
+                bits: vec![53; judged.len()],
+            });
+        }
+    }
+}
+
+/// Raises the precision of the values of `p` (at `c`) that are not yet good, through 128,
+/// 256 and 512 bits (`values(c, wanted columns, bits)`), keeping for each the best
+/// judgement; `check` is called before each precision (the limits). A row with a
+/// contradiction of the two routes is left as it is (the caller reports it).
+///
+/// # Errors
+///
+/// What `check` or `values` returns.
+fn refine(
+    job: &Job<'_>,
+    c: [f64; 4],
+    p: &mut Pending,
+    check: &(dyn Fn() -> Result<(), ExportError> + Sync),
+    values: &BallRoute<'_>,
+) -> Result<(), ExportError> {
+    if p.judged
+        .iter()
+        .any(|j| matches!(j, Judged::Contradicts(..)))
+    {
+        return Ok(());
+    }
+    let mut want = Vec::with_capacity(p.judged.len());
+    for &prec in &certify::PRECISIONS {
+        if p.judged.iter().all(|j| matches!(j, Judged::Good(..))) {
+            break;
+        }
+        check()?;
+        want.clear();
+        want.extend(p.judged.iter().map(|j| !matches!(j, Judged::Good(..))));
+        let vals = values(c, &want, prec)?;
+        for (i, v) in vals.iter().enumerate() {
+            if matches!(p.judged[i], Judged::Good(..)) {
+                continue;
+            }
+            let j = judge(v.as_ref(), job.tolerance);
+            let better = match (j, p.judged[i]) {
+                (Judged::Missing | Judged::Contradicts(..), _) => false,
+                (_, Judged::Missing | Judged::Contradicts(..)) => true,
+                (Judged::Good(..), _) => true,
+                (Judged::Loose(_, b), Judged::Loose(_, b0)) => b < b0,
+                (Judged::Loose(..), Judged::Good(..)) => false,
+            };
+            if better {
+                p.judged[i] = j;
+                p.bits[i] = prec;
+            }
+        }
+    }
+    Ok(())
+}
+
+/// The columns marked in `want` at `c` through the program `p` (outputs `outs`) in
+/// multiprecision balls at `prec` bits: constants enclosed once per precision and thread,
+/// only the instructions those columns need run; the other columns are `None`.
+fn ball_values(
+    p: &program::IntervalProgram,
+    outs: &[u32],
+    c: [f64; 4],
+    want: &[bool],
+    prec: u32,
+    states: &BallStates,
+) -> Vec<Option<Ball>> {
+    let mut state = states.mine();
+    let (k, memo) = state
+        .entry(prec)
+        .or_insert_with(|| (p.constants::<Ball>(&prec), program::Memo::new(p)));
+    // Only the instructions the wanted columns depend on.
+    let wanted: Vec<u32> = outs
+        .iter()
+        .zip(want)
+        .filter_map(|(&r, &w)| w.then_some(r))
+        .collect();
+    let need = p.needed(&wanted);
+    let mut regs = Vec::new();
+    p.run_in(c, &prec, k, Some(&need), Some(memo), &mut regs);
+    outs.iter()
+        .zip(want)
+        .map(|(&r, &w)| if w { regs[r as usize].clone() } else { None })
+        .collect()
+}
