@@ -4,8 +4,8 @@
 //! Model. An export is a list of [`quantity::Block`]s (exact column forms, fixed names and
 //! orders), a [`points::PointSet`] (a points file or a grid), the parameter values, and a
 //! [`write::Format`]. [`evaluate`] gives rows whose columns are `t, x, y, z` and then every
-//! component to a sink (the command's [`write::RowWriter`] on a temporary file), one row
-//! at a time; [`sidecar`] describes them: the conventions, the parameter
+//! component to a sink (the command's [`write::RowWriter`] on a temporary file), a block
+//! of rows at a time; [`sidecar`] describes them: the conventions, the parameter
 //! values, the exact expression of every column, the points and the tool version.
 //!
 //! Key design decision: every value is computed by the independent route ([`certify`]:
@@ -245,7 +245,7 @@ pub struct Settings {
 }
 
 /// Rows evaluated together (in parallel) by the interval program.
-const FAST_BLOCK: usize = 4096;
+const FAST_BLOCK: usize = 16384;
 
 /// The default relative tolerance of an export.
 pub const DEFAULT_TOLERANCE: f64 = 1e-12;
@@ -377,8 +377,9 @@ pub struct Evaluated {
 }
 
 /// Evaluates every column of `blocks` at every point through the independent route, with
-/// precision raised where needed, gives each row (`t, x, y, z`, then the columns) to `sink`
-/// as soon as it is computed, and re-evaluates a sample of rows through the exact canonical
+/// precision raised where needed, gives the rows (`t, x, y, z`, then the columns; several
+/// rows one after the other in each call) to `sink` a block at a time as soon as they are
+/// computed, and re-evaluates a sample of rows through the exact canonical
 /// forms (which must agree). Only those rows are kept: memory does not grow with the points.
 ///
 /// # Errors
@@ -495,13 +496,16 @@ pub fn evaluate(
                 bits[i] = bits[i].max(p.bits[i]);
             }
         }
-        for (k, line) in pass.values.chunks(width).enumerate() {
-            if audited.get(kept.len()) == Some(&(first_row + k)) {
-                let bounds = &pass.bounds[k * stride..k * stride + ncol];
-                kept.push((line.to_vec(), bounds.to_vec()));
-            }
-            sink(line).map_err(|e| ExportError::Write(e.to_string()))?;
+        while let Some(&row) = audited.get(kept.len())
+            && row < first_row + coords.len()
+        {
+            let k = row - first_row;
+            kept.push((
+                pass.values[k * width..(k + 1) * width].to_vec(),
+                pass.bounds[k * stride..k * stride + ncol].to_vec(),
+            ));
         }
+        sink(&pass.values).map_err(|e| ExportError::Write(e.to_string()))?;
     }
     let mut reports: Vec<ColumnReport> = stats
         .iter()
@@ -920,8 +924,9 @@ pub fn sidecar(
         "conventions": conventions_in(info.coordinates, info.background.is_some()),
         "evaluation": {
             "method": "each value is computed from the problem's texts as written (defines \
-                kept, derivatives by Taylor-mode jets, arbitrary functions through their \
-                samples) in outward-rounded interval arithmetic, never from the expanded \
+                kept, derivatives taken on the texts' expression graph, or by Taylor-mode \
+                jets about a background or where that graph cannot be built, arbitrary \
+                functions through their samples) in outward-rounded interval arithmetic, never from the expanded \
                 canonical form; where the certified relative error exceeds the tolerance the \
                 point is computed again in multiprecision balls (128, 256, 512 bits). The \
                 value written is the midpoint of the certified f64 bounds, so |exact - value| \
@@ -937,8 +942,10 @@ pub fn sidecar(
                 tolerance, and counted in rows_indistinguishable_from_zero",
             "largest_error_bound": ev.columns.iter().map(|c| c.bound).fold(0.0, f64::max),
             "largest_relative_error_bound": ev.columns.iter().map(|c| c.relative).fold(0.0, f64::max),
-            "libm": "f64 intervals assume sin, cos, exp, log accurate to 4 ulp (libm); the \
-                multiprecision balls use their own certified series",
+            "libm": "f64 intervals assume sin, cos, exp, log, atan accurate to 4 ulp (libm; \
+                sin and cos on the expression graph from the fdlibm kernel, within one ulp, \
+                for arguments up to 5e5); the multiprecision balls use their own certified \
+                series",
             "second_route": {
                 "method": "the exact canonical form of every column, enclosed by interval \
                     evaluation at these rows; each enclosure must meet the written value's \

@@ -275,6 +275,14 @@ impl BlockRegs {
         let i = r as usize * LANES + k;
         Interval::new(self.lo[i], self.hi[i])
     }
+
+    /// The lower and upper bounds of register `r` at every lane (NaN where it cannot be
+    /// evaluated; lanes beyond the last block's points hold stale values).
+    #[must_use]
+    pub fn lanes(&self, r: u32) -> (&[f64], &[f64]) {
+        let i = r as usize * LANES;
+        (&self.lo[i..i + LANES], &self.hi[i..i + LANES])
+    }
 }
 
 impl IntervalProgram {

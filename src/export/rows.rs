@@ -17,6 +17,7 @@
 //! coordinates they depend on.
 
 use super::certify;
+use super::lanes;
 use super::program::{self, BlockRegs, LANES};
 use super::quantity::Quantity;
 use super::{ExportError, Numeric, named_point};
@@ -60,6 +61,33 @@ fn judge<S: Scalar>(v: Option<&S>, tol: f64) -> Judged {
         Some((x, b)) if b <= tol * x.abs() => Judged::Good(x, b),
         Some((x, b)) => Judged::Loose(x, b),
     }
+}
+
+/// [`judge`] of the enclosure `[lo, hi]` (a lane of the block evaluator: finite and ordered,
+/// or NaN) when it is good: `(x, b, true)` with the same `x` and `b` as
+/// [`certify::written`], else `ok` false (the caller then judges it with [`first_judgement`]).
+#[inline(always)]
+fn good_value(lo: f64, hi: f64, tol: f64) -> (f64, f64, bool) {
+    let point = lo == hi;
+    let x = if point {
+        lo
+    } else {
+        (lo / 2.0 + hi / 2.0).max(lo).min(hi)
+    };
+    let b = if point {
+        0.0
+    } else {
+        lanes::up(hi - x).max(lanes::up(x - lo))
+    };
+    let ok = lo.is_finite() && hi.is_finite() && lo <= hi && b.is_finite() && b <= tol * x.abs();
+    (x, b, ok)
+}
+
+/// [`first_judgement`] of a column the exact route proved 0, when the enclosure contains 0:
+/// `(0, its distance from 0, true)`; else `ok` false.
+#[inline(always)]
+fn good_zero(lo: f64, hi: f64) -> (f64, f64, bool) {
+    (0.0, (-lo).max(hi), lo <= 0.0 && 0.0 <= hi)
 }
 
 /// What the report keeps of a column's values: the largest bound, relative bound (of
@@ -111,7 +139,8 @@ pub(super) struct FirstPass {
     pub bounds: Vec<f64>,
     /// The rows with a value not yet good, in row order.
     pub pending: Vec<Pending>,
-    /// Per column, over the rows not pending.
+    /// Per column, over the values good at once (of pending rows too: the caller takes in
+    /// all values of those again, which changes no maximum).
     pub stats: Vec<Stats>,
 }
 
@@ -225,14 +254,41 @@ impl Numeric {
         let task = |regs: &mut BlockRegs, (t, ((pts, values), bounds)): Chunk<'_>| {
             let mut out = TaskOut::new(ncol);
             p.run_block(pts, regs);
-            let mut judged = vec![Judged::Missing; ncol];
-            for (k, c) in pts.iter().enumerate() {
-                for ((j, &r), &z) in judged.iter_mut().zip(outs).zip(job.exact_zero) {
-                    *j = first_judgement(regs.get(r, k).as_ref(), z, job.tolerance);
+            let n = pts.len();
+            for (row, c) in values.chunks_mut(width).zip(pts) {
+                row[..4].copy_from_slice(c);
+            }
+            // Column by column over the lanes: the values good at once are written (and
+            // counted), a lane with any other is taken again below.
+            let mut good = [true; LANES];
+            for (i, (&r, &zero)) in outs.iter().zip(job.exact_zero).enumerate() {
+                let (lo, hi) = regs.lanes(r);
+                let stats = &mut out.stats[i];
+                for k in 0..n {
+                    let (x, b, ok) = if zero {
+                        good_zero(lo[k], hi[k])
+                    } else {
+                        good_value(lo[k], hi[k], job.tolerance)
+                    };
+                    values[k * width + 4 + i] = x;
+                    bounds[k * stride + i] = b;
+                    good[k] &= ok;
+                    if ok {
+                        stats.add(x, b, true);
+                    }
                 }
-                let row = &mut values[k * width..(k + 1) * width];
-                let b = &mut bounds[k * stride..k * stride + ncol];
-                out.settle(t * LANES + k, c, &judged, row, b);
+            }
+            for k in (0..n).filter(|&k| !good[k]) {
+                let judged = outs
+                    .iter()
+                    .zip(job.exact_zero)
+                    .map(|(&r, &z)| first_judgement(regs.get(r, k).as_ref(), z, job.tolerance))
+                    .collect();
+                out.pending.push(Pending {
+                    row: t * LANES + k,
+                    judged,
+                    bits: vec![53; ncol],
+                });
             }
             out
         };
@@ -419,4 +475,48 @@ fn ball_values(
         .zip(want)
         .map(|(&r, &w)| if w { regs[r as usize].clone() } else { None })
         .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn endpoint() -> impl Strategy<Value = f64> {
+        prop_oneof![
+            Just(0.0),
+            Just(-0.0),
+            Just(1.0),
+            -3.0..3.0f64,
+            -1e-300..1e-300f64,
+            -1e300..1e300f64,
+            Just(f64::MAX),
+            Just(-f64::MAX),
+        ]
+    }
+
+    proptest! {
+        /// The lane judgement is the value-by-value one: the same value and bound, bit for
+        /// bit, exactly when that one says `Good` (NaN lanes: never good).
+        #[test]
+        fn lane_judgement_is_the_scalar_one(
+            a in endpoint(),
+            b in endpoint(),
+            tol in prop_oneof![Just(0.0), Just(1e-12), Just(1e-3), Just(1.0)],
+            nan in any::<bool>(),
+        ) {
+            let (lo, hi) = if nan { (f64::NAN, f64::NAN) } else { (a.min(b), a.max(b)) };
+            let v = Interval::new(lo, hi);
+            for zero in [false, true] {
+                let lane = if zero { good_zero(lo, hi) } else { good_value(lo, hi, tol) };
+                match first_judgement(v.as_ref(), zero, tol) {
+                    Judged::Good(x, bound) => {
+                        prop_assert!(lane.2, "[{:e}, {:e}] zero {}", lo, hi, zero);
+                        prop_assert_eq!((lane.0.to_bits(), lane.1.to_bits()), (x.to_bits(), bound.to_bits()));
+                    }
+                    _ => prop_assert!(!lane.2, "[{:e}, {:e}] zero {}", lo, hi, zero),
+                }
+            }
+        }
+    }
 }

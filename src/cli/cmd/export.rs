@@ -220,7 +220,7 @@ pub fn run(a: ExportArgs) -> Result<Outcome, Failure> {
         .map_err(io_error)?;
     let mut write_error = None;
     let mut sink = |r: &[f64]| {
-        rows.row(r).inspect_err(|e| {
+        rows.rows(r).inspect_err(|e| {
             write_error.get_or_insert_with(|| std::io::Error::new(e.kind(), e.to_string()));
         })
     };
