@@ -349,7 +349,8 @@ pub struct ColumnReport {
     pub near_zero_rows: usize,
     /// The zero tolerance applied to them.
     pub zero_tolerance: f64,
-    /// The highest working precision used (53: f64 intervals).
+    /// The highest working precision used (53: f64 intervals; 106: double-double balls;
+    /// then multiprecision balls).
     pub precision_bits: u32,
 }
 
@@ -928,7 +929,9 @@ pub fn sidecar(
                 jets about a background or where that graph cannot be built, arbitrary \
                 functions through their samples) in outward-rounded interval arithmetic, never from the expanded \
                 canonical form; where the certified relative error exceeds the tolerance the \
-                point is computed again in multiprecision balls (128, 256, 512 bits). The \
+                point is computed again in double-double balls (106 bits; arithmetic, powers \
+                and square roots only) and then in multiprecision balls (128, 256, 512 bits). \
+                The \
                 value written is the midpoint of the certified f64 bounds, so |exact - value| \
                 <= error_bound. 'exact' is the column's definition at the point whose \
                 coordinates and parameters are the f64 numbers written here",

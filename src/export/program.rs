@@ -631,7 +631,7 @@ mod tests {
     use crate::export::lanes::{down, up};
     use crate::export::lower::{Texts, roots};
     use crate::export::quantity::Quantity;
-    use crate::interval::Ball;
+    use crate::interval::{Ball, DdBall};
     use crate::tape::UserExprs;
     use proptest::prelude::*;
 
@@ -788,8 +788,8 @@ mod tests {
             }
         }
 
-        /// Every enclosure of the block evaluator meets the 256-bit ball of the same value
-        /// (both contain the exact value), and running only the instructions an output
+        /// Every enclosure of the block evaluator, and of the double-double tier, meets the
+        /// 256-bit ball of the same value (all contain the exact value), and running only the instructions an output
         /// needs, with values kept from earlier points, gives that output unchanged.
         #[test]
         fn block_enclosures_meet_multiprecision_balls(
@@ -802,8 +802,9 @@ mod tests {
             let consts = p.constants::<Ball>(&256);
             let last = *nodes.last().unwrap();
             let need = p.needed(&[last]);
-            let (mut balls, mut sliced) = (Vec::new(), Vec::new());
+            let (mut balls, mut sliced, mut dds) = (Vec::new(), Vec::new(), Vec::new());
             let mut memo = Memo::new(&p);
+            let dd_consts = p.constants::<DdBall>(&());
             for (k, &pt) in points.iter().enumerate() {
                 p.run_in(pt, &256, &consts, None, None, &mut balls);
                 for (r, b) in balls.iter().enumerate() {
@@ -816,6 +817,15 @@ mod tests {
                 p.run_in(pt, &256, &consts, Some(&need), Some(&mut memo), &mut sliced);
                 let (a, b) = (&balls[last as usize], &sliced[last as usize]);
                 prop_assert_eq!(a.as_ref().map(Ball::bounds_f64), b.as_ref().map(Ball::bounds_f64));
+                // The double-double tier meets them too (where it evaluates at all).
+                p.run_in(pt, &(), &dd_consts, None, None, &mut dds);
+                for (r, (d, b)) in dds.iter().zip(&balls).enumerate() {
+                    if let (Some(d), Some(b)) = (d, b) {
+                        let ((dl, dh), (bl, bh)) = (d.bounds_f64(), b.bounds_f64());
+                        prop_assert!(dl <= bh && bl <= dh,
+                            "register {} at {:?}: double-double [{:e}, {:e}], ball [{:e}, {:e}]", r, pt, dl, dh, bl, bh);
+                    }
+                }
             }
         }
     }

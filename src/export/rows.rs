@@ -1,14 +1,18 @@
 //! The certified values of a block of rows: a first pass in f64 intervals over every row,
-//! then multiprecision balls for the values it leaves too wide, both in parallel.
+//! then double-double and multiprecision balls for the values it leaves too wide, both in
+//! parallel.
 //!
 //! Model. [`Numeric::first_pass`] runs the interval program ([`super::program`]) over
 //! [`LANES`] points at a time, or the jets of [`super::certify`] point by point where there
 //! is no program, and judges every value against the tolerance in the same parallel task: a
 //! row whose values are all good is written at once (values, bounds, and the per-column
 //! [`Stats`] of the task), any other row is left [`Pending`] with its judgements.
-//! [`Numeric::refine`] raises the precision of a pending row's values (128, 256, 512 bits),
-//! only the columns that need it; pending rows are refined in parallel, each thread with its
-//! own constants and memo ([`BallStates`]). The caller takes the pending rows in row order,
+//! [`Numeric::refine_all`] raises the precision of a pending row's values, only the columns
+//! that need it: through the program, double-double balls ([`DdBall`], about 106 bits, for
+//! arithmetic, powers and square roots; a value that needs sin, exp, ... is not evaluated
+//! there) and then multiprecision balls at 128, 256 and 512 bits; through the jets, the
+//! balls. Pending rows are refined in parallel, each thread with its own constants and memos
+//! ([`BallStates`]). The caller takes the pending rows in row order,
 //! so errors and reports do not depend on the schedule.
 //!
 //! **Invariants:** every value's state is the same as a one-row-at-a-time evaluation would
@@ -21,7 +25,7 @@ use super::lanes;
 use super::program::{self, BlockRegs, LANES};
 use super::quantity::Quantity;
 use super::{ExportError, Numeric, named_point};
-use crate::interval::{Ball, Interval};
+use crate::interval::{Ball, DdBall, Interval};
 use crate::jet::Scalar;
 use rustc_hash::FxHashMap;
 use std::sync::Mutex;
@@ -154,9 +158,9 @@ pub(super) fn bounds_stride(ncol: usize) -> usize {
 /// bounds.
 type Chunk<'a> = (usize, ((&'a [[f64; 4]], &'a mut [f64]), &'a mut [f64]));
 
-/// The values of the wanted columns at a point in balls of a precision:
+/// The judgements of the wanted columns at a point in a tier of the refinement:
 /// `(point, wanted columns, bits)`.
-type BallRoute<'a> = dyn Fn([f64; 4], &[bool], u32) -> Result<Vec<Option<Ball>>, ExportError> + 'a;
+type TierRoute<'a> = dyn Fn([f64; 4], &[bool], u32) -> Result<Vec<Judged>, ExportError> + 'a;
 
 /// What one parallel task of the first pass gives besides the rows it wrote.
 struct TaskOut {
@@ -164,8 +168,15 @@ struct TaskOut {
     pending: Vec<Pending>,
 }
 
-/// Per precision, the program's constants and its [`program::Memo`] in balls.
-type BallState = FxHashMap<u32, (Vec<Option<Ball>>, program::Memo<Ball>)>;
+/// A program's constants in one arithmetic and its [`program::Memo`] there.
+type Tier<S> = (Vec<Option<S>>, program::Memo<S>);
+
+/// One thread's constants and memos: the double-double tier and, per precision, balls.
+#[derive(Default)]
+struct BallState {
+    dd: Option<Tier<DdBall>>,
+    balls: FxHashMap<u32, Tier<Ball>>,
+}
 
 /// One [`BallState`] per thread of the pool (a thread takes the one of its index, so the
 /// locks are not contended).
@@ -192,6 +203,19 @@ impl BallStates {
             .unwrap_or_else(std::sync::PoisonError::into_inner)
     }
 }
+
+/// The precision reported for the double-double tier ([`DdBall`]: a centre of two f64).
+pub(super) const DD_BITS: u32 = 106;
+
+/// The tiers of the refinement through the interval program: double-double balls (algebraic
+/// operations only; a value that needs sin, exp, ... is `None` there), then multiprecision
+/// balls.
+const PROGRAM_TIERS: [u32; 4] = [
+    DD_BITS,
+    certify::PRECISIONS[0],
+    certify::PRECISIONS[1],
+    certify::PRECISIONS[2],
+];
 
 /// What the first pass and the refinement need to know of the export.
 pub(super) struct Job<'a> {
@@ -335,17 +359,35 @@ impl Numeric {
         let Some((p, outs)) = self.program.as_ref().filter(|(_, outs)| outs.len() == ncol) else {
             let jets = |c: [f64; 4], _: &[bool], prec: u32| {
                 let point = named_point(self.coordinates(), job.parameters, c);
-                self.values::<Ball>(job.quantities, &point, &prec)
-                    .map_err(|e| ExportError::Setup(e.to_string()))
+                let v = self
+                    .values::<Ball>(job.quantities, &point, &prec)
+                    .map_err(|e| ExportError::Setup(e.to_string()))?;
+                Ok(judge_all(&v, job.tolerance))
             };
             return pending
                 .iter_mut()
-                .map(|r| refine(job, coords[r.row], r, check, &jets))
+                .map(|r| refine(coords[r.row], r, check, &certify::PRECISIONS, &jets))
                 .collect();
         };
-        let balls =
-            |c: [f64; 4], want: &[bool], prec: u32| Ok(ball_values(p, outs, c, want, prec, states));
-        let one = |r: &mut Pending| refine(job, coords[r.row], r, check, &balls);
+        let tiers = |c: [f64; 4], want: &[bool], prec: u32| {
+            let mut state = states.mine();
+            Ok(if prec == DD_BITS {
+                let tier = state
+                    .dd
+                    .get_or_insert_with(|| (p.constants::<DdBall>(&()), program::Memo::new(p)));
+                judge_all(&program_values(p, outs, c, want, &(), tier), job.tolerance)
+            } else {
+                let tier = state
+                    .balls
+                    .entry(prec)
+                    .or_insert_with(|| (p.constants::<Ball>(&prec), program::Memo::new(p)));
+                judge_all(
+                    &program_values(p, outs, c, want, &prec, tier),
+                    job.tolerance,
+                )
+            })
+        };
+        let one = |r: &mut Pending| refine(coords[r.row], r, check, &PROGRAM_TIERS, &tiers);
         #[cfg(feature = "parallel")]
         {
             use rayon::prelude::*;
@@ -396,20 +438,21 @@ impl TaskOut {
     }
 }
 
-/// Raises the precision of the values of `p` (at `c`) that are not yet good, through 128,
-/// 256 and 512 bits (`values(c, wanted columns, bits)`), keeping for each the best
-/// judgement; `check` is called before each precision (the limits). A row with a
-/// contradiction of the two routes is left as it is (the caller reports it).
+/// Raises the precision of the values of `p` (at `c`) that are not yet good, through the
+/// `tiers` (bits; `values(c, wanted columns, bits)` judges the wanted columns there, the
+/// others `Missing`), keeping for each the best judgement; `check` is called before each
+/// tier (the limits). A row with a contradiction of the two routes is left as it is (the
+/// caller reports it).
 ///
 /// # Errors
 ///
 /// What `check` or `values` returns.
 fn refine(
-    job: &Job<'_>,
     c: [f64; 4],
     p: &mut Pending,
     check: &(dyn Fn() -> Result<(), ExportError> + Sync),
-    values: &BallRoute<'_>,
+    tiers: &[u32],
+    values: &TierRoute<'_>,
 ) -> Result<(), ExportError> {
     if p.judged
         .iter()
@@ -418,19 +461,18 @@ fn refine(
         return Ok(());
     }
     let mut want = Vec::with_capacity(p.judged.len());
-    for &prec in &certify::PRECISIONS {
+    for &prec in tiers {
         if p.judged.iter().all(|j| matches!(j, Judged::Good(..))) {
             break;
         }
         check()?;
         want.clear();
         want.extend(p.judged.iter().map(|j| !matches!(j, Judged::Good(..))));
-        let vals = values(c, &want, prec)?;
-        for (i, v) in vals.iter().enumerate() {
+        let judged = values(c, &want, prec)?;
+        for (i, &j) in judged.iter().enumerate() {
             if matches!(p.judged[i], Judged::Good(..)) {
                 continue;
             }
-            let j = judge(v.as_ref(), job.tolerance);
             let better = match (j, p.judged[i]) {
                 (Judged::Missing | Judged::Contradicts(..), _) => false,
                 (_, Judged::Missing | Judged::Contradicts(..)) => true,
@@ -447,22 +489,22 @@ fn refine(
     Ok(())
 }
 
-/// The columns marked in `want` at `c` through the program `p` (outputs `outs`) in
-/// multiprecision balls at `prec` bits: constants enclosed once per precision and thread,
-/// only the instructions those columns need run; the other columns are `None`.
-fn ball_values(
+/// Every value of `v` judged against the tolerance.
+fn judge_all<S: Scalar>(v: &[Option<S>], tol: f64) -> Vec<Judged> {
+    v.iter().map(|x| judge(x.as_ref(), tol)).collect()
+}
+
+/// The columns marked in `want` at `c` through the program `p` (outputs `outs`) in the
+/// arithmetic `S` (constants and memo in `tier`, one per thread), only the instructions those
+/// columns need run; the other columns are `None`.
+fn program_values<S: Scalar>(
     p: &program::IntervalProgram,
     outs: &[u32],
     c: [f64; 4],
     want: &[bool],
-    prec: u32,
-    states: &BallStates,
-) -> Vec<Option<Ball>> {
-    let mut state = states.mine();
-    let (k, memo) = state
-        .entry(prec)
-        .or_insert_with(|| (p.constants::<Ball>(&prec), program::Memo::new(p)));
-    // Only the instructions the wanted columns depend on.
+    ctx: &S::Ctx,
+    (constants, memo): &mut Tier<S>,
+) -> Vec<Option<S>> {
     let wanted: Vec<u32> = outs
         .iter()
         .zip(want)
@@ -470,7 +512,7 @@ fn ball_values(
         .collect();
     let need = p.needed(&wanted);
     let mut regs = Vec::new();
-    p.run_in(c, &prec, k, Some(&need), Some(memo), &mut regs);
+    p.run_in(c, ctx, constants, Some(&need), Some(memo), &mut regs);
     outs.iter()
         .zip(want)
         .map(|(&r, &w)| if w { regs[r as usize].clone() } else { None })

@@ -31,8 +31,10 @@ use std::fmt;
 use std::ops::Neg;
 
 pub mod ball;
+pub mod dd;
 
 pub use ball::Ball;
+pub use dd::DdBall;
 
 /// Steps of `next_down`/`next_up` by which a libm result is widened on each side.
 ///

@@ -13,6 +13,8 @@
 /// Largest |argument| reduced here; larger ones (and NaN, infinities) go to libm.
 pub(crate) const LIMIT: f64 = 5.0e5;
 
+use crate::interval::dd::two_sum;
+
 const INV_PIO2: f64 = f64::from_bits(0x3FE4_5F30_6DC9_C883);
 const PIO2_1: f64 = f64::from_bits(0x3FF9_21FB_5440_0000);
 const PIO2_2: f64 = f64::from_bits(0x3DD0_B461_1A60_0000);
@@ -34,14 +36,6 @@ const C3: f64 = f64::from_bits(0x3EFA_01A0_19CB_1590);
 const C4: f64 = f64::from_bits(0xBE92_7E4F_809C_52AD);
 const C5: f64 = f64::from_bits(0x3E21_EE9E_BDB4_B1C4);
 const C6: f64 = f64::from_bits(0xBDA8_FAE9_BE88_38D4);
-
-/// `a + b` and its rounding error, exactly (Knuth's two-sum).
-#[inline(always)]
-fn two_sum(a: f64, b: f64) -> (f64, f64) {
-    let s = a + b;
-    let bb = s - a;
-    (s, (a - (s - bb)) + (b - bb))
-}
 
 /// `(sin x, cos x)` for `|x| <= LIMIT`; meaningless (but no panic) beyond.
 #[inline(always)]
