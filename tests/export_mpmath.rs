@@ -145,6 +145,41 @@ fn issue9_a_pulse_far_from_the_origin_is_within_its_bounds() {
     );
 }
 
+/// Issue 10: near a surface where curvature components of a static mass change sign
+/// (3 z^2 = r^2, 3 x^2 = r^2), f64 intervals cannot give 12 digits; the double-double tier
+/// does, and its values are right to their bounds.
+#[test]
+fn issue10_values_from_the_double_double_tier_are_within_their_bounds() {
+    if !available() {
+        return;
+    }
+    let dir = tempfile::tempdir().unwrap();
+    let points = "t,x,y,z\n0,0.4,0.5,0.45276925690687087\n0,0.3,0.45,0.5\n\
+        0,0.6403124237432849,0.5,0.3\n";
+    let s = check(&worked("static_mass.toml"), "riemann,h", &[], points);
+    assert!(s.contains("\"rows\": 3"), "{s}");
+    // The tier was used (the checker's run above is in its own directory; export again
+    // here to read the sidecar).
+    std::fs::write(dir.path().join("p.csv"), points).unwrap();
+    let file = worked("static_mass.toml");
+    lingrav(
+        dir.path(),
+        &[
+            "export", &file, "-q", "riemann", "--at", "p.csv", "--out", "d.csv",
+        ],
+    );
+    let meta: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.path().join("d.csv.meta.json")).unwrap())
+            .unwrap();
+    let bits: Vec<u64> = meta["quantities"][0]["columns"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter_map(|c| c["precision_bits"].as_u64())
+        .collect();
+    assert!(bits.contains(&106), "{bits:?}");
+}
+
 /// The checker can fail: a value moved by one part in 1e9 (far beyond its bound) is caught.
 #[test]
 fn the_checker_catches_a_value_outside_its_bound() {
