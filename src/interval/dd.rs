@@ -23,7 +23,6 @@
 //! containing the exact result for every choice of reals in its operands, or `None` (an
 //! overflow, a divisor or root argument not certified away from 0 or below it).
 
-use num_bigint::BigInt;
 use num_rational::BigRational;
 use num_traits::{Signed, ToPrimitive, Zero};
 
@@ -269,6 +268,18 @@ impl DdBall {
         }
     }
 
+    /// Certified: the ball is the single point 0.
+    #[must_use]
+    pub fn is_exact_zero(&self) -> bool {
+        self.hi == 0.0 && self.lo == 0.0 && self.rad == 0.0
+    }
+
+    /// A point near the centre (`hi + lo` rounded; not certified).
+    #[must_use]
+    pub fn mid_f64(&self) -> f64 {
+        self.hi + self.lo
+    }
+
     /// Certified f64 bounds of the ball.
     #[must_use]
     pub fn bounds(&self) -> (f64, f64) {
@@ -280,85 +291,12 @@ impl DdBall {
     }
 }
 
-impl crate::jet::Scalar for DdBall {
-    type Ctx = ();
-    fn from_f64(x: f64) -> Option<Self> {
-        DdBall::point(x)
-    }
-    fn from_rational(q: &BigRational, _: &()) -> Option<Self> {
-        DdBall::from_rational(q)
-    }
-    fn pi(_: &()) -> Option<Self> {
-        Some(DdBall::pi())
-    }
-    fn add(&self, rhs: &Self) -> Option<Self> {
-        DdBall::add(self, rhs)
-    }
-    fn sub(&self, rhs: &Self) -> Option<Self> {
-        DdBall::sub(self, rhs)
-    }
-    fn mul(&self, rhs: &Self) -> Option<Self> {
-        DdBall::mul(self, rhs)
-    }
-    fn div(&self, rhs: &Self) -> Option<Self> {
-        DdBall::div(self, rhs)
-    }
-    fn neg(&self) -> Self {
-        DdBall::neg(self)
-    }
-    fn powi(&self, n: i64) -> Option<Self> {
-        DdBall::powi(self, n)
-    }
-    fn sqrt(&self) -> Option<Self> {
-        DdBall::sqrt(self)
-    }
-    fn exp(&self) -> Option<Self> {
-        None
-    }
-    fn ln(&self) -> Option<Self> {
-        None
-    }
-    fn sin(&self) -> Option<Self> {
-        None
-    }
-    fn cos(&self) -> Option<Self> {
-        None
-    }
-    fn atan(&self) -> Option<Self> {
-        None
-    }
-    fn contains_zero(&self) -> bool {
-        let (lo, hi) = self.bounds();
-        lo <= 0.0 && 0.0 <= hi
-    }
-    fn excludes_zero(&self) -> bool {
-        let (lo, hi) = self.bounds();
-        lo > 0.0 || hi < 0.0
-    }
-    fn mid_f64(&self) -> f64 {
-        self.hi + self.lo
-    }
-    fn rad_f64(&self) -> f64 {
-        let (lo, hi) = self.bounds();
-        let m = self.mid_f64();
-        (m - lo).next_up().max((hi - m).next_up())
-    }
-    fn bounds_f64(&self) -> (f64, f64) {
-        self.bounds()
-    }
-    fn is_exact_zero(&self) -> bool {
-        self.hi == 0.0 && self.lo == 0.0 && self.rad == 0.0
-    }
-    fn from_i64(n: i64, _: &()) -> Option<Self> {
-        DdBall::from_rational(&BigRational::from_integer(BigInt::from(n)))
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
     use crate::interval::Ball;
     use crate::jet::Scalar;
+    use num_bigint::BigInt;
     use proptest::prelude::*;
 
     /// The precision of the reference balls: enough for every bit of the operands below

@@ -546,6 +546,82 @@ impl Scalar for crate::interval::Ball {
     }
 }
 
+/// Double-double balls ([`crate::interval::DdBall`]): arithmetic, powers and square roots;
+/// no transcendental functions (`None`, so that a caller moves on to [`crate::interval::Ball`]).
+impl Scalar for crate::interval::DdBall {
+    type Ctx = ();
+    fn from_f64(x: f64) -> Option<Self> {
+        crate::interval::DdBall::point(x)
+    }
+    fn from_rational(q: &BigRational, _: &()) -> Option<Self> {
+        crate::interval::DdBall::from_rational(q)
+    }
+    fn pi(_: &()) -> Option<Self> {
+        Some(crate::interval::DdBall::pi())
+    }
+    fn add(&self, rhs: &Self) -> Option<Self> {
+        crate::interval::DdBall::add(self, rhs)
+    }
+    fn sub(&self, rhs: &Self) -> Option<Self> {
+        crate::interval::DdBall::sub(self, rhs)
+    }
+    fn mul(&self, rhs: &Self) -> Option<Self> {
+        crate::interval::DdBall::mul(self, rhs)
+    }
+    fn div(&self, rhs: &Self) -> Option<Self> {
+        crate::interval::DdBall::div(self, rhs)
+    }
+    fn neg(&self) -> Self {
+        crate::interval::DdBall::neg(self)
+    }
+    fn powi(&self, n: i64) -> Option<Self> {
+        crate::interval::DdBall::powi(self, n)
+    }
+    fn sqrt(&self) -> Option<Self> {
+        crate::interval::DdBall::sqrt(self)
+    }
+    fn exp(&self) -> Option<Self> {
+        None
+    }
+    fn ln(&self) -> Option<Self> {
+        None
+    }
+    fn sin(&self) -> Option<Self> {
+        None
+    }
+    fn cos(&self) -> Option<Self> {
+        None
+    }
+    fn atan(&self) -> Option<Self> {
+        None
+    }
+    fn contains_zero(&self) -> bool {
+        let (lo, hi) = self.bounds();
+        lo <= 0.0 && 0.0 <= hi
+    }
+    fn excludes_zero(&self) -> bool {
+        let (lo, hi) = self.bounds();
+        lo > 0.0 || hi < 0.0
+    }
+    fn mid_f64(&self) -> f64 {
+        crate::interval::DdBall::mid_f64(self)
+    }
+    fn rad_f64(&self) -> f64 {
+        let (lo, hi) = self.bounds();
+        let m = self.mid_f64();
+        (m - lo).next_up().max((hi - m).next_up())
+    }
+    fn bounds_f64(&self) -> (f64, f64) {
+        self.bounds()
+    }
+    fn is_exact_zero(&self) -> bool {
+        crate::interval::DdBall::is_exact_zero(self)
+    }
+    fn from_i64(n: i64, _: &()) -> Option<Self> {
+        crate::interval::DdBall::from_rational(&BigRational::from_integer(BigInt::from(n)))
+    }
+}
+
 #[cfg(test)]
 mod ball_tests {
     use crate::interval::{Ball, Interval};
