@@ -94,6 +94,93 @@ fn good_zero(lo: f64, hi: f64) -> (f64, f64, bool) {
     (0.0, (-lo).max(hi), lo <= 0.0 && 0.0 <= hi)
 }
 
+/// What [`judge_columns`] reads: the block's registers, the output registers, the job, and
+/// the number of lanes and the row shape (`width` values, `stride` bounds apart).
+struct ColumnsIn<'a> {
+    regs: &'a BlockRegs,
+    outs: &'a [u32],
+    job: &'a Job<'a>,
+    n: usize,
+    width: usize,
+    stride: usize,
+}
+
+/// What [`judge_columns`] writes: the rows' values and bounds, which lanes are good, and the
+/// columns' [`Stats`].
+struct ColumnsOut<'a> {
+    values: &'a mut [f64],
+    bounds: &'a mut [f64],
+    good: &'a mut [bool; LANES],
+    stats: &'a mut [Stats],
+}
+
+/// The first pass's judgement of every column over the `n` lanes of the registers (see
+/// [`good_value`]): values and bounds into the rows, `good[k]` cleared for a lane with a
+/// value not good at once, and the [`Stats`] of the good values. Compiled for AVX2 where the
+/// processor has it (the same operations, so the same bits).
+fn judge_columns(i: &ColumnsIn<'_>, o: &mut ColumnsOut<'_>) {
+    #[cfg(target_arch = "x86_64")]
+    if std::is_x86_feature_detected!("avx2") {
+        // SAFETY: the processor has AVX2 (detected just above), the only requirement.
+        unsafe { judge_columns_avx2(i, o) };
+        return;
+    }
+    judge_columns_lanes(i, o);
+}
+
+/// [`judge_columns`] compiled for AVX2.
+///
+/// # Safety
+///
+/// The processor must support AVX2.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+unsafe fn judge_columns_avx2(i: &ColumnsIn<'_>, o: &mut ColumnsOut<'_>) {
+    judge_columns_lanes(i, o);
+}
+
+/// The body of [`judge_columns`]: per column, the judgement of all lanes into arrays (selects
+/// only, so the loop vectorises), then the values into the rows.
+#[inline(always)]
+fn judge_columns_lanes(inp: &ColumnsIn<'_>, o: &mut ColumnsOut<'_>) {
+    let ColumnsIn {
+        regs,
+        outs,
+        job,
+        n,
+        width,
+        stride,
+    } = *inp;
+    let (mut xs, mut bs, mut oks) = ([0.0f64; LANES], [0.0f64; LANES], [false; LANES]);
+    for (i, (&r, &zero)) in outs.iter().zip(job.exact_zero).enumerate() {
+        let (lo, hi) = regs.lanes(r);
+        let (mut bound, mut relative, mut scale) = (0.0f64, 0.0f64, 0.0f64);
+        for k in 0..LANES {
+            let (x, b, ok) = if zero {
+                good_zero(lo[k], hi[k])
+            } else {
+                good_value(lo[k], hi[k], job.tolerance)
+            };
+            // Lanes past `n` hold stale values: never good, never counted.
+            let ok = ok && k < n;
+            (xs[k], bs[k], oks[k]) = (x, b, ok);
+            bound = bound.max(lanes::sel(ok, b, 0.0));
+            scale = scale.max(lanes::sel(ok, x.abs(), 0.0));
+            relative = relative.max(lanes::sel(ok && x != 0.0, b / x.abs(), 0.0));
+        }
+        o.stats[i].merge(&Stats {
+            bound,
+            relative,
+            scale,
+        });
+        for k in 0..n {
+            o.values[k * width + 4 + i] = xs[k];
+            o.bounds[k * stride + i] = bs[k];
+            o.good[k] &= oks[k];
+        }
+    }
+}
+
 /// What the report keeps of a column's values: the largest bound, relative bound (of
 /// nonzero good values) and magnitude.
 #[derive(Clone, Copy, Debug, Default)]
@@ -285,23 +372,22 @@ impl Numeric {
             // Column by column over the lanes: the values good at once are written (and
             // counted), a lane with any other is taken again below.
             let mut good = [true; LANES];
-            for (i, (&r, &zero)) in outs.iter().zip(job.exact_zero).enumerate() {
-                let (lo, hi) = regs.lanes(r);
-                let stats = &mut out.stats[i];
-                for k in 0..n {
-                    let (x, b, ok) = if zero {
-                        good_zero(lo[k], hi[k])
-                    } else {
-                        good_value(lo[k], hi[k], job.tolerance)
-                    };
-                    values[k * width + 4 + i] = x;
-                    bounds[k * stride + i] = b;
-                    good[k] &= ok;
-                    if ok {
-                        stats.add(x, b, true);
-                    }
-                }
-            }
+            judge_columns(
+                &ColumnsIn {
+                    regs,
+                    outs,
+                    job,
+                    n,
+                    width,
+                    stride,
+                },
+                &mut ColumnsOut {
+                    values,
+                    bounds,
+                    good: &mut good,
+                    stats: &mut out.stats,
+                },
+            );
             for k in (0..n).filter(|&k| !good[k]) {
                 let judged = outs
                     .iter()

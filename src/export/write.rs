@@ -179,35 +179,41 @@ impl<'w, W: Write> RowWriter<'w, W> {
         if self.columns == 0 || n * self.columns != values.len() || n > self.rows - self.written {
             return Err(self.shape_error(values.len()));
         }
+        if self.format == Format::Npy {
+            // All rows at once: little-endian f64, one after the other.
+            self.written += n;
+            let start = self.buf.len();
+            self.buf.resize(start + 8 * values.len(), 0);
+            for (b, v) in self.buf[start..].chunks_exact_mut(8).zip(values) {
+                b.copy_from_slice(&(v + 0.0).to_le_bytes());
+            }
+            if self.buf.len() >= CHUNK {
+                self.w.write_all(&self.buf)?;
+                self.buf.clear();
+            }
+            return Ok(());
+        }
+        // CSV and JSON: one line per row.
+        let json = self.format == Format::Json;
         for row in values.chunks(self.columns) {
             self.written += 1;
             let b = &mut self.buf;
-            match self.format {
-                Format::Npy => {
-                    for v in row {
-                        b.extend_from_slice(&(v + 0.0).to_le_bytes());
-                    }
+            if json {
+                b.push(b'[');
+            }
+            for (i, v) in row.iter().enumerate() {
+                if i > 0 {
+                    b.extend_from_slice(if json { b", " } else { b"," });
                 }
-                Format::Csv | Format::Json => {
-                    let json = self.format == Format::Json;
-                    if json {
-                        b.push(b'[');
-                    }
-                    for (i, v) in row.iter().enumerate() {
-                        if i > 0 {
-                            b.extend_from_slice(if json { b", " } else { b"," });
-                        }
-                        write!(b, "{:?}", v + 0.0)?;
-                    }
-                    if json {
-                        b.push(b']');
-                        if self.written < self.rows {
-                            b.push(b',');
-                        }
-                    }
-                    b.push(b'\n');
+                write!(b, "{:?}", v + 0.0)?;
+            }
+            if json {
+                b.push(b']');
+                if self.written < self.rows {
+                    b.push(b',');
                 }
             }
+            b.push(b'\n');
             if self.buf.len() >= CHUNK {
                 self.w.write_all(&self.buf)?;
                 self.buf.clear();
