@@ -415,7 +415,22 @@ impl Audit {
         h_order: u32,
         extras: &[(String, String)],
     ) -> Result<Audit, AuditError> {
-        Audit::fields_of(&Texts::of(problem), h_order, &[], extras)
+        Audit::fields_from(&Texts::of(problem), h_order, extras)
+    }
+
+    /// [`Audit::fields`] from the problem's texts ([`Texts::of`]): the same plan, built
+    /// where the problem is not at hand (another thread: the jets are not shared between
+    /// threads, their texts are).
+    ///
+    /// # Errors
+    ///
+    /// As [`Audit::fields`].
+    pub fn fields_from(
+        texts: &Texts,
+        h_order: u32,
+        extras: &[(String, String)],
+    ) -> Result<Audit, AuditError> {
+        Audit::fields_of(texts, h_order, &[], extras)
     }
 
     /// [`Audit::fields`] with named parts the extras may use: `defines`, each a `(name,

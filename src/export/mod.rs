@@ -109,10 +109,9 @@ fn eval_forms(
 #[derive(Debug)]
 pub struct Numeric {
     audit: Audit,
-    frame: bool,
-    /// About a background: every column from the pointwise route
-    /// ([`certify::values_about`]).
-    about: bool,
+    /// What `audit` was planned from, so that other threads can plan their own
+    /// ([`Audit::fields_from`]).
+    plan: JetsPlan,
     /// The fast path: the columns as one interval program and its output registers (`None`
     /// if the texts could not be lowered; the jets then do everything).
     program: Option<(program::IntervalProgram, Vec<u32>)>,
@@ -169,10 +168,16 @@ impl Numeric {
             .ok()
             .map(|(p, r)| (p, r.into_iter().flatten().collect()))
         };
-        Ok(Numeric {
-            audit: Audit::fields(problem, order, &extras)?,
+        let plan = JetsPlan {
+            texts: crate::audit::Texts::of(problem),
+            order,
+            extras,
             frame: frame.is_some(),
             about,
+        };
+        Ok(Numeric {
+            audit: Audit::fields_from(&plan.texts, order, &plan.extras)?,
+            plan,
             program,
         })
     }
@@ -182,15 +187,38 @@ impl Numeric {
     pub fn coordinates(&self) -> &[String; 4] {
         self.audit.coordinates()
     }
+}
 
-    /// Every column of `quantities` at `point`, in enclosure arithmetic `S`.
-    fn values<S: Scalar>(
+/// The texts, derivative order and extra texts of a [`Numeric`]'s jets.
+#[derive(Clone, Debug)]
+struct JetsPlan {
+    texts: crate::audit::Texts,
+    order: u32,
+    extras: Vec<(String, String)>,
+    /// Whether the extras are the direction frame (`n`, `u`, `v`).
+    frame: bool,
+    /// About a background: every column from the pointwise route
+    /// ([`certify::values_about`]).
+    about: bool,
+}
+
+impl JetsPlan {
+    /// The jets of this plan (the same as the [`Numeric`]'s own).
+    fn audit(&self) -> Result<Audit, ExportError> {
+        Audit::fields_from(&self.texts, self.order, &self.extras)
+            .map_err(|e| ExportError::Setup(e.to_string()))
+    }
+
+    /// Every column of `quantities` at `point`, in enclosure arithmetic `S`, through the
+    /// jets `audit` (a [`Numeric`]'s own, or one planned from the same texts).
+    fn values_in<S: Scalar>(
         &self,
+        audit: &Audit,
         quantities: &[Quantity],
         point: &[(String, f64)],
         ctx: &S::Ctx,
     ) -> Result<Vec<Option<S>>, crate::audit::AuditError> {
-        let f = self.audit.fields_in::<String, S>(point, ctx)?;
+        let f = audit.fields_in::<String, S>(point, ctx)?;
         if self.about {
             let needs = crate::pointwise::Needs {
                 riemann: quantities.contains(&Quantity::Riemann),

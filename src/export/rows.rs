@@ -4,7 +4,8 @@
 //!
 //! Model. [`Numeric::first_pass`] runs the interval program ([`super::program`]) over
 //! [`LANES`] points at a time, or the jets of [`super::certify`] point by point where there
-//! is no program, and judges every value against the tolerance in the same parallel task: a
+//! is no program (on several threads from [`PARALLEL_JETS`] points on, each with its own
+//! jets planned from the texts), and judges every value against the tolerance in the same parallel task: a
 //! row whose values are all good is written at once (values, bounds, and the per-column
 //! [`Stats`] of the task), any other row is left [`Pending`] with its judgements.
 //! [`Numeric::refine_all`] raises the precision of a pending row's values, only the columns
@@ -25,6 +26,7 @@ use super::lanes;
 use super::program::{self, BlockRegs, LANES};
 use super::quantity::Quantity;
 use super::{ExportError, Numeric, named_point};
+use crate::audit::Audit;
 use crate::interval::{Ball, DdBall, Interval};
 use crate::jet::Scalar;
 use rustc_hash::FxHashMap;
@@ -235,6 +237,16 @@ pub(super) struct FirstPass {
     pub stats: Vec<Stats>,
 }
 
+impl FirstPass {
+    /// Takes in what one task found (tasks are taken in row order).
+    fn take(&mut self, t: TaskOut) {
+        for (s, o) in self.stats.iter_mut().zip(&t.stats) {
+            s.merge(o);
+        }
+        self.pending.extend(t.pending);
+    }
+}
+
 /// The distance between rows of [`FirstPass::bounds`]: `ncol`, at least 1 (so that the
 /// rows can be chunked when there are no columns).
 pub(super) fn bounds_stride(ncol: usize) -> usize {
@@ -316,7 +328,7 @@ pub(super) struct Job<'a> {
 impl Numeric {
     /// The first pass over the rows at `coords` into `pass` (see the module's doc): in
     /// parallel through the interval program; point by point through the jets where there
-    /// is none (they are not shared between threads).
+    /// is none, on several threads from [`PARALLEL_JETS`] points on.
     ///
     /// # Errors
     ///
@@ -337,30 +349,8 @@ impl Numeric {
         pass.pending.clear();
         pass.stats.clear();
         pass.stats.resize(ncol, Stats::default());
-        let mut judged = vec![Judged::Missing; ncol];
         let Some((p, outs)) = self.program.as_ref().filter(|(_, outs)| outs.len() == ncol) else {
-            let mut out = TaskOut::new(ncol);
-            for (k, c) in coords.iter().enumerate() {
-                let point = named_point(self.coordinates(), job.parameters, *c);
-                let first = self
-                    .values::<Interval>(job.quantities, &point, &())
-                    .map_err(|e| ExportError::Setup(e.to_string()))?;
-                if first.len() != ncol {
-                    return Err(ExportError::Setup(format!(
-                        "{} values for {ncol} columns",
-                        first.len()
-                    )));
-                }
-                for ((j, v), &z) in judged.iter_mut().zip(&first).zip(job.exact_zero) {
-                    *j = first_judgement(v.as_ref(), z, job.tolerance);
-                }
-                let row = &mut pass.values[k * width..(k + 1) * width];
-                let bounds = &mut pass.bounds[k * stride..k * stride + ncol];
-                out.settle(k, c, &judged, row, bounds);
-            }
-            pass.stats = out.stats;
-            pass.pending = out.pending;
-            return Ok(());
+            return self.first_pass_jets(job, coords, pass);
         };
         let task = |regs: &mut BlockRegs, (t, ((pts, values), bounds)): Chunk<'_>| {
             let mut out = TaskOut::new(ncol);
@@ -422,10 +412,7 @@ impl Numeric {
             chunks.map(|c| task(&mut regs, c)).collect()
         };
         for t in tasks {
-            for (s, o) in pass.stats.iter_mut().zip(&t.stats) {
-                s.merge(o);
-            }
-            pass.pending.extend(t.pending);
+            pass.take(t);
         }
         Ok(())
     }
@@ -443,17 +430,7 @@ impl Numeric {
     ) -> Vec<Result<(), ExportError>> {
         let ncol = job.exact_zero.len();
         let Some((p, outs)) = self.program.as_ref().filter(|(_, outs)| outs.len() == ncol) else {
-            let jets = |c: [f64; 4], _: &[bool], prec: u32| {
-                let point = named_point(self.coordinates(), job.parameters, c);
-                let v = self
-                    .values::<Ball>(job.quantities, &point, &prec)
-                    .map_err(|e| ExportError::Setup(e.to_string()))?;
-                Ok(judge_all(&v, job.tolerance))
-            };
-            return pending
-                .iter_mut()
-                .map(|r| refine(coords[r.row], r, check, &certify::PRECISIONS, &jets))
-                .collect();
+            return self.refine_jets(job, coords, pending, check);
         };
         let tiers = |c: [f64; 4], want: &[bool], prec: u32| {
             let mut state = states.mine();
@@ -483,6 +460,116 @@ impl Numeric {
         {
             pending.iter_mut().map(one).collect()
         }
+    }
+}
+
+/// Points per parallel task of the jets (each point costs tens of microseconds).
+const JETS_CHUNK: usize = 16;
+
+/// Points (or pending rows) from which the jets run on several threads; each thread first
+/// plans its own jets from the texts.
+const PARALLEL_JETS: usize = 64;
+
+impl Numeric {
+    /// [`Numeric::first_pass`] through the jets, where there is no program: point by point,
+    /// on several threads when there are enough points (each thread plans its own jets from
+    /// the same texts, [`super::JetsPlan`]), else on this one with the `Numeric`'s own.
+    fn first_pass_jets(
+        &self,
+        job: &Job<'_>,
+        coords: &[[f64; 4]],
+        pass: &mut FirstPass,
+    ) -> Result<(), ExportError> {
+        let ncol = job.exact_zero.len();
+        let width = 4 + ncol;
+        let stride = bounds_stride(ncol);
+        let coordinates = self.coordinates().clone();
+        let plan = &self.plan;
+        let task = |audit: &Audit, (t, ((pts, values), bounds)): Chunk<'_>| {
+            let mut out = TaskOut::new(ncol);
+            let mut judged = vec![Judged::Missing; ncol];
+            for (k, c) in pts.iter().enumerate() {
+                let point = named_point(&coordinates, job.parameters, *c);
+                let first = plan
+                    .values_in::<Interval>(audit, job.quantities, &point, &())
+                    .map_err(|e| ExportError::Setup(e.to_string()))?;
+                if first.len() != ncol {
+                    return Err(ExportError::Setup(format!(
+                        "{} values for {ncol} columns",
+                        first.len()
+                    )));
+                }
+                for ((j, v), &z) in judged.iter_mut().zip(&first).zip(job.exact_zero) {
+                    *j = first_judgement(v.as_ref(), z, job.tolerance);
+                }
+                let row = &mut values[k * width..(k + 1) * width];
+                let b = &mut bounds[k * stride..k * stride + ncol];
+                out.settle(t * JETS_CHUNK + k, c, &judged, row, b);
+            }
+            Ok(out)
+        };
+        let chunks = coords
+            .chunks(JETS_CHUNK)
+            .zip(pass.values.chunks_mut(JETS_CHUNK * width))
+            .zip(pass.bounds.chunks_mut(JETS_CHUNK * stride))
+            .enumerate();
+        #[cfg(feature = "parallel")]
+        let tasks: Vec<Result<TaskOut, ExportError>> = if coords.len() >= PARALLEL_JETS {
+            use rayon::prelude::*;
+            chunks
+                .collect::<Vec<_>>()
+                .into_par_iter()
+                .map_init(
+                    || plan.audit(),
+                    |audit, c| task(audit.as_ref().map_err(Clone::clone)?, c),
+                )
+                .collect()
+        } else {
+            chunks.map(|c| task(&self.audit, c)).collect()
+        };
+        #[cfg(not(feature = "parallel"))]
+        let tasks: Vec<Result<TaskOut, ExportError>> =
+            chunks.map(|c| task(&self.audit, c)).collect();
+        for t in tasks {
+            pass.take(t?);
+        }
+        Ok(())
+    }
+
+    /// [`Numeric::refine_all`] through the jets in balls, where there is no program: on
+    /// several threads when there are enough pending rows (each planning its own jets), else
+    /// on this one.
+    fn refine_jets(
+        &self,
+        job: &Job<'_>,
+        coords: &[[f64; 4]],
+        pending: &mut [Pending],
+        check: &(dyn Fn() -> Result<(), ExportError> + Sync),
+    ) -> Vec<Result<(), ExportError>> {
+        let coordinates = self.coordinates().clone();
+        let plan = &self.plan;
+        let one = |audit: &Audit, r: &mut Pending| {
+            let jets = |c: [f64; 4], _: &[bool], prec: u32| {
+                let point = named_point(&coordinates, job.parameters, c);
+                let v = plan
+                    .values_in::<Ball>(audit, job.quantities, &point, &prec)
+                    .map_err(|e| ExportError::Setup(e.to_string()))?;
+                Ok(judge_all(&v, job.tolerance))
+            };
+            refine(coords[r.row], r, check, &certify::PRECISIONS, &jets)
+        };
+        #[cfg(feature = "parallel")]
+        if pending.len() >= PARALLEL_JETS {
+            use rayon::prelude::*;
+            return pending
+                .par_iter_mut()
+                .map_init(
+                    || plan.audit(),
+                    |audit, r| one(audit.as_ref().map_err(Clone::clone)?, r),
+                )
+                .collect();
+        }
+        pending.iter_mut().map(|r| one(&self.audit, r)).collect()
     }
 }
 

@@ -140,6 +140,62 @@ fn export_about_a_background_gives_the_published_values() {
     assert!(cols.iter().any(|(n, _)| n == "dR_t.r.t.r"), "{cols:?}");
 }
 
+/// Issue 10: about a background, from 64 points on the jets run on several threads (each
+/// planning its own from the file's texts); every row is the row of that point exported
+/// alone (one thread), to the last bit, and the first point that cannot be evaluated is
+/// still the one named.
+#[test]
+fn issue10_export_about_a_background_on_several_threads_gives_the_rows_of_single_points() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = worked("schwarzschild_mass_perturbation.toml");
+    let point = |k: u32| {
+        let k = f64::from(k);
+        format!(
+            "{},{},{},{}",
+            0.1 * k,
+            3.0 + 0.05 * k,
+            0.4 + 0.02 * k,
+            0.03 * k
+        )
+    };
+    let export = |rows: &[String], name: &str| -> (Vec<String>, String, i32) {
+        let pts = dir.path().join(format!("{name}.csv"));
+        std::fs::write(&pts, format!("t,r,th,ph\n{}\n", rows.join("\n"))).unwrap();
+        let out = dir.path().join(format!("{name}_out.csv"));
+        let (o, err, code) = lingrav(&[
+            "export",
+            &f,
+            "-q",
+            "riemann,h",
+            "--at",
+            pts.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+        ]);
+        let lines = std::fs::read_to_string(&out)
+            .map(|t| t.lines().skip(1).map(String::from).collect())
+            .unwrap_or_default();
+        (lines, format!("{o}{err}"), code)
+    };
+    let all: Vec<String> = (0..80).map(point).collect();
+    let (rows, out, code) = export(&all, "all");
+    assert_eq!(code, 0, "{out}");
+    assert_eq!(rows.len(), 80);
+    for k in [0u32, 17, 40, 79] {
+        let (one, out, code) = export(&[point(k)], &format!("one{k}"));
+        assert_eq!(code, 0, "{out}");
+        assert_eq!(one, [rows[k as usize].clone()], "row {k}");
+    }
+    // r = 0 at two rows: the first of them is named, and nothing is written.
+    let mut bad = all.clone();
+    bad[50] = "0,0,1,1".into();
+    bad[20] = "0,0,1,2".into();
+    let (rows, out, code) = export(&bad, "bad");
+    assert_eq!(code, 2, "{out}");
+    assert!(rows.is_empty());
+    assert!(out.contains("point 21 "), "{out}");
+}
+
 #[test]
 fn export_about_a_background_states_its_coordinates_and_stays_in_the_domain() {
     let dir = tempfile::tempdir().unwrap();
