@@ -441,8 +441,6 @@ pub fn evaluate(
     let coordinates = numeric.coordinates();
     let mut columns: Vec<String> = coordinates.to_vec();
     columns.extend(names.iter().map(|s| s.to_string()));
-    let width = 4 + ncol;
-    let stride = rows::bounds_stride(ncol);
     let audited = audited_rows(points.coords.len(), settings.audit_rows);
     // The values and bounds of the rows the exact route will re-evaluate (the others go to
     // `sink` and are not kept).
@@ -460,6 +458,7 @@ pub fn evaluate(
         exact_zero: &exact_zero,
         tolerance: tol,
     };
+    let (_, width, stride) = job.shape();
     let check = || check_limits(settings);
     // A block of rows at a time: the first pass in f64 intervals and the refinement of the
     // values it leaves too wide, both in parallel; then, in row order, the pending rows'

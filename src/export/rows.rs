@@ -325,6 +325,15 @@ pub(super) struct Job<'a> {
     pub tolerance: f64,
 }
 
+impl Job<'_> {
+    /// The columns, the values per row (`t, x, y, z` and the columns) and the distance
+    /// between rows of bounds ([`bounds_stride`]).
+    pub fn shape(&self) -> (usize, usize, usize) {
+        let ncol = self.exact_zero.len();
+        (ncol, 4 + ncol, bounds_stride(ncol))
+    }
+}
+
 impl Numeric {
     /// The first pass over the rows at `coords` into `pass` (see the module's doc): in
     /// parallel through the interval program; point by point through the jets where there
@@ -339,9 +348,7 @@ impl Numeric {
         coords: &[[f64; 4]],
         pass: &mut FirstPass,
     ) -> Result<(), ExportError> {
-        let ncol = job.exact_zero.len();
-        let width = 4 + ncol;
-        let stride = bounds_stride(ncol);
+        let (ncol, width, stride) = job.shape();
         pass.values.clear();
         pass.values.resize(coords.len() * width, 0.0);
         pass.bounds.clear();
@@ -480,9 +487,7 @@ impl Numeric {
         coords: &[[f64; 4]],
         pass: &mut FirstPass,
     ) -> Result<(), ExportError> {
-        let ncol = job.exact_zero.len();
-        let width = 4 + ncol;
-        let stride = bounds_stride(ncol);
+        let (ncol, width, stride) = job.shape();
         let coordinates = self.coordinates().clone();
         let plan = &self.plan;
         let task = |audit: &Audit, (t, ((pts, values), bounds)): Chunk<'_>| {
