@@ -160,7 +160,7 @@ pub(super) fn plan(p: &mut Problem) -> Result<GridPlan, GridError> {
         comps.push((Field::Lambda, name, 0, 0, node));
     }
     let mut grid = GridPlan::assemble(
-        lowering.target.builder,
+        &lowering.target.builder,
         comps,
         Vec::new(),
         claims.has_claims,

@@ -25,7 +25,9 @@
 //!
 //! Round-off floor. Every sample carries a running error bound from its tape
 //! ([`crate::tape::Tape::eval_bounds`]), the largest over a 6^4 lattice spanning the box
-//! taken as the sample error `e_c` of channel `c`. A first difference amplifies it by
+//! taken as the sample error `e_c` of channel `c` (a component, or a linear part of the
+//! components when they have fewer distinct parts than there are components:
+//! [`GridPlan::assemble_flat`]). A first difference amplifies it by
 //! `sum |w1| / spacing`, a second by `sum |w2| / spacing^2` (mixed: `(sum |w1|)^2 /
 //! spacing^2`), and a component by the sum of |coefficients| of its terms; the floor of a claim
 //! is the largest over its components. It is an estimate (a bound at the probe points), so a
@@ -214,7 +216,17 @@ pub struct GridPlan {
     pub curved: Option<CurvedPlan>,
     pub(crate) dynamic: Tape,
     pub(crate) statics: Tape,
+    /// When the channels are the linear parts of the components
+    /// ([`GridPlan::assemble_flat`]): the plan with a channel per component.
+    pub by_component: Option<Box<GridPlan>>,
 }
+
+/// Per component of `h` and `T` (field, indices): its channels with their coefficients.
+type Expansion = FxHashMap<(Field, usize, usize), Vec<(usize, f64)>>;
+
+/// Nodes visited at most to write one component as a linear combination
+/// ([`crate::tape::TapeBuilder::linear_parts`]); beyond, the component is sampled whole.
+const LINEAR_VISITS: usize = 4096;
 
 impl GridPlan {
     /// The plan for a problem's claims (or, without [claims], every property).
@@ -264,7 +276,7 @@ impl GridPlan {
                 comps.push((field, name, mu, nu, node));
             }
         }
-        GridPlan::assemble(lowering.target.builder, comps, specs, has_claims)
+        GridPlan::assemble_flat(&lowering.target.builder, comps, specs, has_claims)
     }
 
     /// The plan for `specs` over the canonical forms `h` and `source`, with parameter values
@@ -297,27 +309,88 @@ impl GridPlan {
                 comps.push((field, name, mu, nu, node));
             }
         }
-        let builder = std::mem::replace(&mut compiler.builder, crate::tape::TapeBuilder::new(4));
-        GridPlan::assemble(builder, comps, specs, has_claims)
+        GridPlan::assemble_flat(&compiler.builder, comps, specs, has_claims)
     }
 
+    /// The plan sampling every component of `comps` that is not identically 0 as a channel
+    /// of its own (about a background, where the curvature chain takes the components).
     pub(crate) fn assemble(
-        builder: crate::tape::TapeBuilder,
+        builder: &crate::tape::TapeBuilder,
         comps: Vec<(Field, String, usize, usize, Node)>,
         specs: Vec<ClaimSpec>,
         has_claims: bool,
     ) -> Result<GridPlan, GridError> {
-        let mut channels = Vec::new();
-        let mut nodes: Vec<Node> = Vec::new();
-        let mut index: FxHashMap<(Field, usize, usize), usize> = FxHashMap::default();
+        let mut sampled = Vec::new();
+        let mut expand: Expansion = FxHashMap::default();
         for (field, name, mu, nu, node) in comps {
             // Identically zero components are not sampled: their terms drop out.
             if builder.is_zero(node) {
                 continue;
             }
+            expand.insert((field, mu, nu), vec![(sampled.len(), 1.0)]);
+            sampled.push((field, name, mu, nu, node));
+        }
+        Ok(GridPlan::from_channels(
+            builder, sampled, &expand, specs, has_claims,
+        ))
+    }
+
+    /// Flat problems: derivatives are linear, so when the components are linear combinations
+    /// (with constant coefficients) of fewer distinct terms than there are components (the
+    /// polarizations of a wave: `h_ij = e+_ij hp + ex_ij hc`), the plan samples those terms
+    /// ([`crate::tape::TapeBuilder::linear_parts`]) and takes every component's derivatives
+    /// as the same combination of theirs: fewer samples and fewer stencils. The plan with a
+    /// channel per component is kept in [`GridPlan::by_component`], for what is said about
+    /// samples (a sample that is not finite or not real, masking, the sample errors).
+    pub(crate) fn assemble_flat(
+        builder: &crate::tape::TapeBuilder,
+        comps: Vec<(Field, String, usize, usize, Node)>,
+        specs: Vec<ClaimSpec>,
+        has_claims: bool,
+    ) -> Result<GridPlan, GridError> {
+        let plain = GridPlan::assemble(builder, comps.clone(), specs.clone(), has_claims)?;
+        let mut sampled: Vec<(Field, String, usize, usize, Node)> = Vec::new();
+        let mut at: FxHashMap<Node, usize> = FxHashMap::default();
+        let mut expand: Expansion = FxHashMap::default();
+        for (field, name, mu, nu, node) in comps {
+            if builder.is_zero(node) {
+                continue;
+            }
+            let parts = builder
+                .linear_parts(node, LINEAR_VISITS)
+                .into_iter()
+                .map(|(m, c)| {
+                    let i = *at.entry(m).or_insert_with(|| {
+                        sampled.push((field, name.clone(), mu, nu, m));
+                        sampled.len() - 1
+                    });
+                    (i, c)
+                })
+                .collect();
+            expand.insert((field, mu, nu), parts);
+        }
+        if sampled.len() >= plain.channels.len() {
+            return Ok(plain);
+        }
+        let mut linear = GridPlan::from_channels(builder, sampled, &expand, specs, has_claims);
+        linear.by_component = Some(Box::new(plain));
+        Ok(linear)
+    }
+
+    /// The plan sampling `sampled` (field, name, indices, node), with each component of `h`
+    /// and `T` the combination `expand` gives of the channels.
+    fn from_channels(
+        builder: &crate::tape::TapeBuilder,
+        sampled: Vec<(Field, String, usize, usize, Node)>,
+        expand: &Expansion,
+        specs: Vec<ClaimSpec>,
+        has_claims: bool,
+    ) -> GridPlan {
+        let mut channels = Vec::new();
+        let mut nodes: Vec<Node> = Vec::new();
+        for (field, name, mu, nu, node) in sampled {
             let axes = builder.mask(node);
             let dynamic = axes & 1 != 0;
-            index.insert((field, mu, nu), channels.len());
             channels.push(Channel {
                 name,
                 field,
@@ -349,23 +422,30 @@ impl GridPlan {
         for spec in specs {
             let mut components = Vec::new();
             for (name, combo) in spec.components {
-                let mut terms = Vec::new();
+                let mut terms: Vec<(usize, f64)> = Vec::new();
                 for (atom, coef) in combo.0 {
-                    let Some(&c) = index.get(&(atom.field, atom.mu as usize, atom.nu as usize))
+                    let Some(parts) = expand.get(&(atom.field, atom.mu as usize, atom.nu as usize))
                     else {
                         continue;
                     };
-                    // A channel that does not depend on t has t-derivatives exactly 0.
-                    if !channels[c].dynamic && atom.deriv.involves(0) {
-                        continue;
+                    for &(c, w) in parts {
+                        // A channel that does not depend on t has t-derivatives exactly 0.
+                        if !channels[c].dynamic && atom.deriv.involves(0) {
+                            continue;
+                        }
+                        let key = (c, atom.deriv);
+                        let a = *atom_index.entry(key).or_insert_with(|| {
+                            atoms.push(key);
+                            atoms.len() - 1
+                        });
+                        // One term per atom (components sharing a channel add up).
+                        match terms.iter_mut().find(|t| t.0 == a) {
+                            Some(t) => t.1 += coef * w,
+                            None => terms.push((a, coef * w)),
+                        }
                     }
-                    let key = (c, atom.deriv);
-                    let a = *atom_index.entry(key).or_insert_with(|| {
-                        atoms.push(key);
-                        atoms.len() - 1
-                    });
-                    terms.push((a, coef));
                 }
+                terms.retain(|t| t.1 != 0.0);
                 components.push(ComponentPlan { name, terms });
             }
             claims.push(ClaimPlan {
@@ -378,7 +458,7 @@ impl GridPlan {
                 refutable: true,
             });
         }
-        Ok(GridPlan {
+        GridPlan {
             channels,
             atoms,
             claims,
@@ -387,7 +467,18 @@ impl GridPlan {
             curved: None,
             dynamic,
             statics,
-        })
+            by_component: None,
+        }
+    }
+
+    /// The plan whose samples a run with `settings` takes: with masking, a channel per
+    /// component (masked samples are counted per component).
+    #[must_use]
+    pub fn sampled(&self, settings: &GridSettings) -> &GridPlan {
+        match &self.by_component {
+            Some(plain) if settings.mask_nonfinite => plain,
+            _ => self,
+        }
     }
 
     /// Instructions in the tapes: (channels that depend on t, channels that do not).
@@ -459,6 +550,10 @@ impl GridPlan {
     /// several threads) plus one slab of the others in memory.
     #[must_use]
     pub fn estimate(&self, settings: &GridSettings) -> Estimate {
+        let sampled = self.sampled(settings);
+        if !std::ptr::eq(sampled, self) {
+            return sampled.estimate(settings);
+        }
         let nd = self.dynamic.outputs() as f64;
         let ns = self.statics.outputs() as f64;
         let slabs = sweep::ring_slabs(settings.order) as f64;
@@ -849,6 +944,43 @@ pub fn run(
     settings: &GridSettings,
     progress: &mut dyn FnMut(Progress),
 ) -> Result<GridReport, GridError> {
+    let Some(plain) = &plan.by_component else {
+        return run_sampled(plan, settings, progress);
+    };
+    if settings.mask_nonfinite {
+        return run_sampled(plain, settings, progress);
+    }
+    // What is said about samples is said of the components: a sample of a linear part that
+    // is not finite, or not real, sends the run to the plan with a channel per component,
+    // whose report (or error) it then is.
+    match run_sampled(plan, settings, progress) {
+        Err(GridError::NonFinite { .. } | GridError::NotReal { .. }) => {
+            run_sampled(plain, settings, progress)
+        }
+        Ok(mut report) => {
+            let errors = sweep::probe_errors(plain, settings.center, settings.width, PROBE_POINTS);
+            report.sample_errors = named_errors(plain, &errors);
+            Ok(report)
+        }
+        Err(e) => Err(e),
+    }
+}
+
+/// Each channel's name with the estimated rounding error of its samples.
+fn named_errors(plan: &GridPlan, errors: &[f64]) -> Vec<(String, f64)> {
+    plan.channels
+        .iter()
+        .zip(errors)
+        .map(|(c, &e)| (c.name.clone(), e))
+        .collect()
+}
+
+/// [`run`] on the samples of `plan` itself.
+fn run_sampled(
+    plan: &GridPlan,
+    settings: &GridSettings,
+    progress: &mut dyn FnMut(Progress),
+) -> Result<GridReport, GridError> {
     settings.validate()?;
     let st = Stencil::central(settings.order).expect("validated order");
     let errors = sweep::probe_errors(plan, settings.center, settings.width, PROBE_POINTS);
@@ -998,11 +1130,6 @@ pub fn run(
         has_claims: plan.has_claims,
         coordinates: plan.coordinates.clone(),
         background: plan.curved.is_some(),
-        sample_errors: plan
-            .channels
-            .iter()
-            .zip(&errors)
-            .map(|(c, &e)| (c.name.clone(), e))
-            .collect(),
+        sample_errors: named_errors(plan, &errors),
     })
 }

@@ -558,3 +558,143 @@ fn lattice<'a>(b: &'a Box4, st: &'a Stencil) -> sweep::SweepAt<'a> {
         region: None,
     }
 }
+
+// ----- linear parts of the components ---------------------------------------------------
+
+/// `plan` and its plan with a channel per component, swept on one box: per claim, per
+/// component, the two residuals.
+fn both_residuals(plan: &GridPlan, b: &Box4, order: u32) -> Vec<(f64, f64)> {
+    let plain = plan
+        .by_component
+        .as_deref()
+        .expect("sampled by linear parts");
+    let st = Stencil::central(order).unwrap();
+    let lin = sweep::sweep(plan, lattice(b, &st), &mut |_, _| {}).unwrap();
+    let per = sweep::sweep(plain, lattice(b, &st), &mut |_, _| {}).unwrap();
+    assert_eq!(lin.interior, per.interior);
+    lin.best
+        .iter()
+        .flatten()
+        .zip(per.best.iter().flatten())
+        .map(|(l, p)| (l.0, p.0))
+        .collect()
+}
+
+#[test]
+fn components_sharing_linear_parts_sample_the_parts_and_give_the_same_residuals() {
+    // Six components of a wave are combinations of cos and sin of one phase (and h_tt its
+    // own): three channels instead of seven, and the residuals of every component agree with
+    // those of the six samples to rounding, at a resolution where they are truncation error
+    // and at one where a claim fails (the phase is not null: box hbar != 0).
+    let plan = wave_plan();
+    let plain = plan
+        .by_component
+        .as_deref()
+        .expect("fewer parts than components");
+    assert_eq!((plan.channels.len(), plain.channels.len()), (3, 7));
+    assert!(plain.by_component.is_none());
+    let b = Box4 {
+        center: [0.3, 0.4, 0.5, 0.6],
+        spacing: 0.02,
+        counts: [7, 12, 10, 11],
+    };
+    let pairs = both_residuals(&plan, &b, 4);
+    assert!(pairs.iter().filter(|p| p.1 > 0.0).count() >= 6, "{pairs:?}");
+    for &(l, p) in &pairs {
+        assert!((l - p).abs() <= 1e-9 * p + 1e-13, "{pairs:?}");
+    }
+    let fails = "[parameters]\na = 1.0e-3\n[define]\nphase = '3*t - 2*x - y - z'\n\
+                 [perturbation]\nxx = 'a*cos(phase)'\nyy = '-a*cos(phase)'\nxy = 'a*sin(phase)/2'\n\
+                 xz = '-a*sin(phase)/4'\n";
+    let plan = box_hbar_plan(fails);
+    assert_eq!(plan.channels.len(), 2);
+    let pairs = both_residuals(&plan, &b, 2);
+    assert!(
+        pairs.iter().filter(|p| p.1 > 1e-4).count() >= 4,
+        "{pairs:?}"
+    );
+    for &(l, p) in &pairs {
+        assert!((l - p).abs() <= 1e-9 * p, "{pairs:?}");
+    }
+    // With a channel per component as many as the parts, nothing changes.
+    let plain = box_hbar_plan("[perturbation]\nxx = 'sin(t + x)'\nyy = 'cos(t - y)'\n");
+    assert!(plain.by_component.is_none() && plain.channels.len() == 2);
+}
+
+/// The plan of a problem file's text, checked to sample `parts` linear parts of its
+/// components.
+fn sampled_by_parts(text: &str, parts: usize) -> GridPlan {
+    let mut p = crate::problem::from_str("test.toml", text).unwrap();
+    let plan = GridPlan::for_problem(&mut p).unwrap();
+    assert_eq!(plan.channels.len(), parts);
+    assert!(plan.by_component.is_some());
+    plan
+}
+
+#[test]
+fn what_is_said_of_samples_is_said_of_the_components() {
+    // An isotropic point mass: four components, one part (1/r). On a box through r = 0 the
+    // error names the component and point that a channel per component names, and masking
+    // counts the masked samples of the components.
+    let text = "[parameters]\nm = 0.01\n[define]\nphi = 'm/sqrt(x^2 + y^2 + z^2)'\n\
+                [perturbation]\ntt = '2*phi'\nxx = '2*phi'\nyy = '2*phi'\nzz = '2*phi'\n\
+                [claims]\nfield_equations = true\n";
+    let plan = sampled_by_parts(text, 1);
+    let plain = plan
+        .by_component
+        .as_deref()
+        .expect("one part, four components");
+    let mut s = GridSettings::from_spec(None, 2);
+    s.center = [0.0; 4];
+    s.width = 0.4;
+    s.points = vec![5, 7, 9];
+    let lin = run(&plan, &s, &mut |_| {});
+    assert!(matches!(lin, Err(GridError::NonFinite { .. })), "{lin:?}");
+    assert_eq!(lin, run_sampled(plain, &s, &mut |_| {}));
+    s.mask_nonfinite = true;
+    assert!(std::ptr::eq(plan.sampled(&s), plain));
+    let masked = run(&plan, &s, &mut |_| {}).unwrap();
+    let want = run_sampled(plain, &s, &mut |_| {}).unwrap();
+    assert_eq!(masked, want);
+    assert!(masked.levels.iter().all(|l| l.masked > 0));
+    // Away from r = 0 the report names the sample errors of the components.
+    s.mask_nonfinite = false;
+    s.center = [0.3, 0.4, 0.5, 0.6];
+    let r = run(&plan, &s, &mut |_| {}).unwrap();
+    let names: Vec<&str> = r.sample_errors.iter().map(|e| e.0.as_str()).collect();
+    assert_eq!(names, ["h_tt", "h_xx", "h_yy", "h_zz"]);
+    assert!(r.sample_errors.iter().all(|e| e.1 > 0.0));
+
+    // Parts that are not real though the components are (the imaginary parts cancel in each
+    // component): the run is that of a channel per component, which finds them real.
+    let text = "[define]\nf = 'sqrt(-1 - x^2)*cos(t) - sqrt(-4 - 4*x^2)*cos(t)/2 + cos(t - y)'\n\
+                [perturbation]\nxx = 'f'\nyy = '-f'\nxy = '2*f'\nzz = 'f/3'\n\
+                [claims]\nfield_equations = true\n";
+    let plan = sampled_by_parts(text, 3);
+    let plain = plan
+        .by_component
+        .as_deref()
+        .expect("three parts, four components");
+    let s = GridSettings::from_spec(None, 2);
+    let st = Stencil::central(2).unwrap();
+    let b = Box4 {
+        center: [0.3, 0.4, 0.5, 0.6],
+        spacing: 0.05,
+        counts: [5; 4],
+    };
+    let lin = sweep::sweep(&plan, lattice(&b, &st), &mut |_, _| {});
+    assert!(matches!(lin, Err(GridError::NotReal { .. })), "{lin:?}");
+    let r = run(&plan, &s, &mut |_| {}).unwrap();
+    assert_eq!(r, run_sampled(plain, &s, &mut |_| {}).unwrap());
+    // An imaginary part far below the 1e-6 taken as rounding in a component's samples still
+    // sends the run to a channel per component: in a part it is not known to be rounding.
+    let text = "[define]\ne = 'sqrt(-1e-20 - 1e-20*x^2)'\nf = '(1 + e)*cos(t) - (2 + e)*cos(t) + cos(t - y)'\n\
+                [perturbation]\nxx = 'f'\nyy = '-f'\nxy = '2*f'\nzz = 'f/3'\n\
+                [claims]\nfield_equations = true\n";
+    let plan = sampled_by_parts(text, 3);
+    let lin = sweep::sweep(&plan, lattice(&b, &st), &mut |_, _| {});
+    assert!(matches!(lin, Err(GridError::NotReal { .. })), "{lin:?}");
+    let plain = plan.by_component.as_deref().unwrap();
+    assert!(sweep::sweep(plain, lattice(&b, &st), &mut |_, _| {}).is_ok());
+    assert!(run(&plan, &s, &mut |_| {}).is_ok());
+}

@@ -457,6 +457,56 @@ impl TapeBuilder {
         self.push(Op::Root(a.0, q))
     }
 
+    /// `n` as a linear combination `sum c_k n_k` with real constant coefficients `c_k` of
+    /// nodes `n_k` that are not sums, differences, negations or products with a real
+    /// constant (the derivatives of `n` are then the same combination of theirs). The parts
+    /// are in node order, each node once, with no zero coefficient; the coefficients are
+    /// products and sums of the tape's constants in `f64`, so they equal the exact ones to
+    /// rounding. `n` itself (coefficient 1) when it has a nonzero constant term, a complex
+    /// coefficient, or more than `limit` nodes to visit (a shared subexpression is visited
+    /// once per use); nothing for the constant 0.
+    #[must_use]
+    pub fn linear_parts(&self, n: Node, limit: usize) -> Vec<(Node, f64)> {
+        let whole = || vec![(n, 1.0)];
+        let real = |x: u32| match self.ops[x as usize] {
+            Op::Const(c) if c.im == 0.0 && c.re.is_finite() => Some(c.re),
+            _ => None,
+        };
+        let mut parts: Vec<(Node, f64)> = Vec::new();
+        let mut stack = vec![(n.0, 1.0f64)];
+        let mut visited = 0usize;
+        while let Some((i, c)) = stack.pop() {
+            visited += 1;
+            if visited > limit {
+                return whole();
+            }
+            match self.ops[i as usize] {
+                Op::Const(v) if v.re == 0.0 && v.im == 0.0 => {}
+                Op::Const(_) => return whole(),
+                Op::Add(a, b) => stack.extend([(b, c), (a, c)]),
+                Op::Sub(a, b) => stack.extend([(b, -c), (a, c)]),
+                Op::Neg(a) => stack.push((a, -c)),
+                Op::Mul(a, b) if real(a).is_some() => stack.push((b, c * real(a).unwrap_or(1.0))),
+                Op::Mul(a, b) if real(b).is_some() => stack.push((a, c * real(b).unwrap_or(1.0))),
+                _ => parts.push((Node(i), c)),
+            }
+        }
+        if parts.iter().any(|p| !p.1.is_finite()) {
+            return whole();
+        }
+        // Each node once (stable sort: the coefficients add in the order they were found).
+        parts.sort_by_key(|p| p.0);
+        let mut merged: Vec<(Node, f64)> = Vec::with_capacity(parts.len());
+        for (m, c) in parts {
+            match merged.last_mut() {
+                Some(last) if last.0 == m => last.1 += c,
+                _ => merged.push((m, c)),
+            }
+        }
+        merged.retain(|p| p.1 != 0.0);
+        merged
+    }
+
     /// The tape that computes `outputs`, in that order: only the instructions they need,
     /// renumbered in dependency order.
     #[must_use]

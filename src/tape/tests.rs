@@ -562,3 +562,136 @@ fn every_compiled_variant_of_the_lane_loops_gives_the_same_bits() {
         }
     }
 }
+
+/// A random expression over the builder's four inputs: sums, differences, negations,
+/// products with constants and with each other, and a few functions, `depth` levels deep.
+fn random_node(b: &mut TapeBuilder, rng: &mut SplitMix64, depth: u32) -> Node {
+    let pick = rng.next_u64() % if depth == 0 { 2 } else { 9 };
+    let sub = |b: &mut TapeBuilder, rng: &mut SplitMix64| random_node(b, rng, depth - 1);
+    match pick {
+        0 => b.input((rng.next_u64() % 4) as usize),
+        1 => b.real(((rng.next_u64() % 7) as f64 - 3.0) / 4.0),
+        2 => {
+            let (x, y) = (sub(b, rng), sub(b, rng));
+            b.add(x, y)
+        }
+        3 => {
+            let (x, y) = (sub(b, rng), sub(b, rng));
+            b.sub(x, y)
+        }
+        4 => {
+            let x = sub(b, rng);
+            b.neg(x)
+        }
+        5 => {
+            let c = b.real(rng.next_f64() * 4.0 - 2.0);
+            let x = sub(b, rng);
+            b.mul(c, x)
+        }
+        6 => {
+            let (x, y) = (sub(b, rng), sub(b, rng));
+            b.mul(x, y)
+        }
+        7 => {
+            let x = sub(b, rng);
+            b.sin(x)
+        }
+        _ => {
+            let x = sub(b, rng);
+            let c = b.real(3.0);
+            b.div(x, c)
+        }
+    }
+}
+
+#[test]
+fn linear_parts_recombine_to_the_expression() {
+    // Seeded: every node is the combination of its parts to rounding at random points, no
+    // part is itself a sum, difference, negation or product with a constant, and each part
+    // appears once with a nonzero coefficient.
+    let seed = 0x11_7ea5;
+    let mut rng = SplitMix64::new(seed);
+    let mut split = 0;
+    for case in 0..1000 {
+        let mut b = TapeBuilder::new(4);
+        let n = random_node(&mut b, &mut rng, 5);
+        let parts = b.linear_parts(n, 4096);
+        split += usize::from(parts.len() > 1);
+        let mut seen = FxHashMap::default();
+        for &(m, c) in &parts {
+            assert!(c != 0.0 && c.is_finite(), "seed {seed} case {case}");
+            assert!(
+                seen.insert(m, ()).is_none(),
+                "seed {seed} case {case}: twice"
+            );
+            if parts != [(n, 1.0)] {
+                assert!(
+                    !matches!(b.ops[m.0 as usize], Op::Add(..) | Op::Sub(..) | Op::Neg(_)),
+                    "seed {seed} case {case}"
+                );
+            }
+        }
+        let outs: Vec<Node> = std::iter::once(n)
+            .chain(parts.iter().map(|p| p.0))
+            .collect();
+        let tape = b.finish(&outs);
+        for _ in 0..4 {
+            let x: Vec<f64> = (0..4).map(|_| rng.next_f64() * 2.0 - 1.0).collect();
+            let v = tape.eval_point(&x);
+            let (mut sum, mut scale) = (0.0, v[0].re.abs());
+            for (p, val) in parts.iter().zip(&v[1..]) {
+                sum += p.1 * val.re;
+                scale += (p.1 * val.re).abs();
+            }
+            assert!(
+                (sum - v[0].re).abs() <= 1e-12 * scale.max(1e-300) || !v[0].re.is_finite(),
+                "seed {seed} case {case}: {} against {sum} from {parts:?}",
+                v[0].re
+            );
+        }
+    }
+    assert!(split > 40, "only {split} expressions had several parts");
+    // (50 of the 1000 at this seed.)
+}
+
+#[test]
+fn linear_parts_keep_constant_terms_complex_coefficients_and_large_graphs_whole() {
+    let mut b = TapeBuilder::new(4);
+    let (t, x) = (b.input(0), b.input(1));
+    let (s, c) = (b.sin(t), b.cos(x));
+    let k = b.real(-0.5);
+    let ks = b.mul(k, s);
+    let f = b.sub(c, ks);
+    let three = b.real(3.0);
+    let g = b.div(f, three);
+    let third = 1.0 / 3.0;
+    assert_eq!(b.linear_parts(g, 100), [(s, 0.5 * third), (c, third)]);
+    // A constant term: the node whole.
+    let one = b.real(1.0);
+    let h = b.add(g, one);
+    assert_eq!(b.linear_parts(h, 100), [(h, 1.0)]);
+    // A complex coefficient: the product is a part.
+    let i = b.constant(C64::new(0.0, 1.0));
+    let is = b.mul(i, s);
+    let j = b.add(is, c);
+    assert_eq!(b.linear_parts(j, 100), [(c, 1.0), (is, 1.0)]);
+    // Terms that cancel leave nothing; a difference of a node with itself is folded to 0.
+    let two = b.real(2.0);
+    let cc = b.add(c, c);
+    let c2 = b.mul(two, c);
+    let zero = b.sub(c2, cc);
+    assert_eq!(b.linear_parts(zero, 100), []);
+    // A sum of 3000 terms is fine at a limit above it and whole below it (no recursion).
+    let mut sum = c;
+    for _ in 0..3000 {
+        sum = b.add(sum, s);
+    }
+    assert_eq!(b.linear_parts(sum, 10_000), [(s, 3000.0), (c, 1.0)]);
+    assert_eq!(b.linear_parts(sum, 1000), [(sum, 1.0)]);
+    // A graph whose tree is exponential (each level used twice) stops at the limit.
+    let mut d = s;
+    for _ in 0..60 {
+        d = b.add(d, d);
+    }
+    assert_eq!(b.linear_parts(d, 4096), [(d, 1.0)]);
+}
