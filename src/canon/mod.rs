@@ -332,6 +332,9 @@ pub struct Store {
     display_on: bool,
     /// True while a display printer runs in display form.
     displaying: bool,
+    /// Sums of more terms than this print their sines and cosines as they are, not
+    /// regrouped into products (lower while a summary is printed).
+    trig_terms: usize,
     unit: MonoId,
     zero: Form,
     one: Form,
@@ -375,6 +378,7 @@ impl Store {
             naming: None,
             display_on: false,
             displaying: false,
+            trig_terms: print::trig::MAX_TERMS,
             unit: MonoId(0),
             zero: Form(0),
             one: Form(0),

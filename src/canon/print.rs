@@ -18,7 +18,7 @@
 //! [`trig`]). Display text reads back, with the file's names, to a form equal to the canonical one (tested on
 //! every worked file).
 
-mod trig;
+pub(super) mod trig;
 
 use super::{Coeff, Form, Kernel, KernelId, MonoId, Rat, Store};
 use num_traits::Signed as _;
@@ -144,8 +144,13 @@ impl Store {
     }
 
     /// [`Store::to_display_text`] cut as [`Store::to_text_summary`] cuts.
+    /// Sums of more than [`trig::SUMMARY_TERMS`] terms print their sines and cosines as they
+    /// are, not regrouped into products (the rewriting would cost more than the cut text is
+    /// worth).
     pub fn to_display_summary(&mut self, f: Form, max_chars: usize) -> String {
+        let saved = std::mem::replace(&mut self.trig_terms, trig::SUMMARY_TERMS);
         let t = self.to_display_text(f);
+        self.trig_terms = saved;
         summary(t, max_chars, || self.num_terms(f))
     }
 

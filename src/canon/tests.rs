@@ -438,6 +438,45 @@ fn display_trig_products_with_many_combined_angles() {
     assert_eq!(form(&mut st, &text), f, "{text} reads back");
 }
 
+/// A summary of a long sum (more terms than `print::trig::SUMMARY_TERMS`) prints its sines
+/// and cosines as they are, not regrouped into products (most of the text is cut away), and
+/// still reads back; whole texts and short summaries are regrouped as before.
+#[test]
+fn summaries_of_long_sums_leave_sines_and_cosines_as_they_are() {
+    let mut st = Store::new();
+    st.set_display_names(Some(Naming::default()));
+    let input: Vec<String> = (1..=10)
+        .map(|k| format!("t^{k}*cos(th)^3*sin(ph)^2"))
+        .collect();
+    let f = form(&mut st, &input.join(" + "));
+    let n = st.num_terms(f);
+    assert!(
+        n > super::print::trig::SUMMARY_TERMS && n <= super::print::trig::MAX_TERMS,
+        "{n} terms"
+    );
+    let whole = st.to_display_text(f);
+    let summary = st.to_display_summary(f, usize::MAX);
+    assert!(
+        whole.contains("sin(ph)^2") && !whole.contains("2*ph"),
+        "{whole}"
+    );
+    assert!(
+        summary.contains("2*ph") && !summary.contains("sin(ph)^2"),
+        "{summary}"
+    );
+    assert_eq!(form(&mut st, &summary), f, "{summary} reads back");
+    assert_eq!(
+        st.to_display_text(f),
+        whole,
+        "the whole text after a summary"
+    );
+    let short = form(&mut st, "t*cos(th)^3*sin(ph)^2");
+    assert_eq!(
+        st.to_display_summary(short, usize::MAX),
+        st.to_display_text(short)
+    );
+}
+
 /// Seeded random trigonometric polynomials in two or three angles (with other factors and a
 /// real exponential): the display text always reads back to the same canonical form.
 #[test]

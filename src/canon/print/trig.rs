@@ -41,7 +41,10 @@ const MAX_DEGREE: u32 = 12;
 const MAX_MONOMIALS: usize = 400;
 /// Sums of more terms than this print as they are: rewriting them costs more than their
 /// (truncated) display is worth.
-const MAX_TERMS: usize = 200;
+pub(in crate::canon) const MAX_TERMS: usize = 200;
+/// The same for a summary (`Store::to_display_summary`), which shows only the start of the
+/// text: rewriting a sum costs more than linearly in its terms, and most of it is cut away.
+pub(in crate::canon) const SUMMARY_TERMS: usize = 48;
 
 fn scaled(a: &Angle, k: &Q) -> Angle {
     a.iter().map(|(m, c)| (*m, c * k)).collect()
@@ -258,7 +261,7 @@ impl Store {
         scale: &Coeff,
         plain: &Pretty,
     ) -> Option<Pretty> {
-        if p.len() > MAX_TERMS {
+        if p.len() > self.trig_terms {
             return None;
         }
         // Each term: the other factors (kernel powers, real exponent), its angle, coefficient.
