@@ -595,6 +595,40 @@ mod tests {
         }
     }
 
+    /// The audit helper is started once and kept: it runs the jobs handed to it in turn, and
+    /// each report is the sequential one.
+    #[test]
+    fn issue10_the_audit_helper_is_kept_and_runs_the_jobs_in_turn() {
+        use std::sync::atomic::Ordering::Relaxed;
+        let mut started = None;
+        for round in 0..3 {
+            for file in ["lorenz_oblique.toml", "schwarzschild_slow_rotation.toml"] {
+                let mut q = crate::problem::worked(file);
+                let seed = q.sampling.seed;
+                let mut sequential = super::super::exact_claims(&mut q).0;
+                audit_claims(&q, &mut sequential, seed);
+                let mut p = crate::problem::worked(file);
+                let job = std::sync::Arc::new(SeededJob::new(Texts::of(&p), seed));
+                super::super::beside(&job);
+                let helpers = super::super::HELPERS_STARTED.load(Relaxed);
+                assert_eq!(*started.get_or_insert(helpers), helpers, "a new helper");
+                // The helper runs the job (within a minute, on the busiest machine).
+                let t = std::time::Instant::now();
+                while job.done.lock().unwrap().is_none() {
+                    assert!(t.elapsed().as_secs() < 60, "the helper never ran the job");
+                    std::thread::sleep(std::time::Duration::from_millis(1));
+                }
+                let mut claims = super::super::exact_claims(&mut p).0;
+                job.audit(&mut claims);
+                assert_eq!(
+                    format!("{claims:?}"),
+                    format!("{sequential:?}"),
+                    "{file}, round {round}"
+                );
+            }
+        }
+    }
+
     /// A proof that the exact route got wrong (simulated by overwriting a failing component's
     /// verdict with Zero) must be caught: the claim fails with the independent witness and
     /// the method says loudly that the routes disagree.

@@ -464,14 +464,48 @@ impl Drop for EarlyAudit {
 /// terms (a scheduling choice only).
 const EARLY_AUDIT_BYTES: usize = 300;
 
-/// Starts `job` on a detached helper thread: if the caller takes the job first, the helper
-/// is not waited for (it finds the job taken and ends). No thread could be started: the job
-/// stays unclaimed, and the caller runs it.
+/// Hands `job` to the audit helper, a thread started on first use and kept for the process
+/// (so that a check hands its audit over in microseconds, not the tens a new thread costs),
+/// which runs the jobs in the order given. If the caller takes a job first, the helper is not
+/// waited for (it finds the job taken and goes on). No helper could be started, or it has
+/// gone: the job stays unclaimed, and the caller runs it.
 fn beside(job: &Arc<audit::SeededJob>) {
-    let helper = job.clone();
-    let _detached = std::thread::Builder::new()
+    let mut helper = AUDIT_HELPER
+        .lock()
+        .unwrap_or_else(std::sync::PoisonError::into_inner);
+    if let Some(tx) = helper.as_ref()
+        && tx.send(job.clone()).is_ok()
+    {
+        return;
+    }
+    *helper = start_helper();
+    if let Some(tx) = helper.as_ref()
+        && tx.send(job.clone()).is_err()
+    {
+        *helper = None;
+    }
+}
+
+/// The queue of the audit helper ([`beside`]); `None` until it is started.
+type Helper = Option<std::sync::mpsc::Sender<Arc<audit::SeededJob>>>;
+static AUDIT_HELPER: std::sync::Mutex<Helper> = std::sync::Mutex::new(None);
+
+/// How many audit helpers this process has started (one, unless a helper has gone).
+static HELPERS_STARTED: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+
+/// A new audit helper thread, and its queue; `None` if no thread could be started.
+fn start_helper() -> Helper {
+    HELPERS_STARTED.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+    let (tx, rx) = std::sync::mpsc::channel::<Arc<audit::SeededJob>>();
+    std::thread::Builder::new()
         .name("audit".into())
-        .spawn(move || helper.run_beside());
+        .spawn(move || {
+            for job in rx {
+                job.run_beside();
+            }
+        })
+        .ok()?;
+    Some(tx)
 }
 
 /// [`check`], with the audit perhaps started already from the file's texts (see
@@ -521,9 +555,11 @@ pub fn check_with(problem: &mut Problem, early: Option<EarlyAudit>) -> CheckRepo
 
 /// Whether the audit's seeded points are evaluated on a second thread: about a background
 /// (where each point runs the whole curvature chain), or from [`PARALLEL_AUDIT_TERMS`]
-/// (terms of `h` plus defines) on. Starting and joining a thread costs 50 to 65 us here
-/// (measured), so smaller flat problems (checked in well under a millisecond) audit on one
-/// thread. A scheduling choice only: the results are the same.
+/// (terms of `h` plus defines) on. Starting a thread cost 50 to 65 us here (measured), and
+/// handing a job to the running helper ([`beside`]) and taking its values back still costs
+/// 25 to 45 us (measured with every problem audited beside: linear_wave_testbed went from
+/// 117 to 142 us), so smaller flat problems (checked in well under a millisecond) audit on
+/// one thread. A scheduling choice only: the results are the same.
 fn audit_beside(problem: &Problem) -> bool {
     if problem.background.is_some() {
         return true;
