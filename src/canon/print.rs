@@ -144,7 +144,7 @@ impl Store {
     }
 
     /// [`Store::to_display_text`] cut as [`Store::to_text_summary`] cuts.
-    /// Sums of more than [`trig::SUMMARY_TERMS`] terms print their sines and cosines as they
+    /// Sums of more than 48 terms (`print/trig.rs`, `SUMMARY_TERMS`) print their sines and cosines as they
     /// are, not regrouped into products (the rewriting would cost more than the cut text is
     /// worth).
     pub fn to_display_summary(&mut self, f: Form, max_chars: usize) -> String {

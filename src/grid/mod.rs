@@ -27,7 +27,7 @@
 //! ([`crate::tape::Tape::eval_bounds`]), the largest over a 6^4 lattice spanning the box
 //! taken as the sample error `e_c` of channel `c` (a component, or a linear part of the
 //! components when they have fewer distinct parts than there are components:
-//! [`GridPlan::assemble_flat`]). A first difference amplifies it by
+//! [`crate::tape::TapeBuilder::linear_parts`]). A first difference amplifies it by
 //! `sum |w1| / spacing`, a second by `sum |w2| / spacing^2` (mixed: `(sum |w1|)^2 /
 //! spacing^2`), and a component by the sum of |coefficients| of its terms; the floor of a claim
 //! is the largest over its components. It is an estimate (a bound at the probe points), so a
@@ -217,7 +217,7 @@ pub struct GridPlan {
     pub(crate) dynamic: Tape,
     pub(crate) statics: Tape,
     /// When the channels are the linear parts of the components
-    /// ([`GridPlan::assemble_flat`]): the plan with a channel per component.
+    /// ([`crate::tape::TapeBuilder::linear_parts`]): the plan with a channel per component.
     pub by_component: Option<Box<GridPlan>>,
 }
 
