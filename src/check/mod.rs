@@ -490,7 +490,8 @@ fn beside(job: &Arc<audit::SeededJob>) {
 type Helper = Option<std::sync::mpsc::Sender<Arc<audit::SeededJob>>>;
 static AUDIT_HELPER: std::sync::Mutex<Helper> = std::sync::Mutex::new(None);
 
-/// How many audit helpers this process has started (one, unless a helper has gone).
+/// How many times this process has started an audit helper (once, unless one has gone or
+/// could not be started).
 static HELPERS_STARTED: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
 
 /// A new audit helper thread, and its queue; `None` if no thread could be started.
