@@ -110,6 +110,17 @@ struct Mono {
 }
 
 type Term = (MonoId, Coeff);
+/// The most kernels a denominator factor may involve to be divided out
+/// ([`Store::divide_terms`]).
+const DIV_KERNELS: usize = 8;
+/// An exponent vector over a factor's kernels ([`Store::divide_terms`]).
+type DivExponents = [i32; DIV_KERNELS];
+/// A long division's quotient monomials, in the order made, and its quotient (indices into
+/// them) if it divided exactly ([`Store::divide_terms`]).
+struct Division {
+    made: Vec<Mono>,
+    quotient: Option<Vec<(usize, Coeff)>>,
+}
 /// Sorted by monomial id, no zero coefficients.
 type Poly = Vec<Term>;
 /// The terms of a product of numerators: those summed by monomial (distinct monomials, no
@@ -1121,9 +1132,8 @@ impl Store {
         if !r.den.is_empty() && !r.num.is_empty() && r.num.len() <= CANCEL_MAX_TERMS {
             let mut den = Vec::with_capacity(r.den.len());
             for (fid, mut e) in std::mem::take(&mut r.den) {
-                let f = self.factors[fid.0 as usize].clone();
                 while e > 0 {
-                    match self.poly_div_exact(&r.num, &f) {
+                    match self.divide_by_factor(&r.num, fid) {
                         Some(q) => {
                             r.num = q;
                             e -= 1;
@@ -1144,119 +1154,215 @@ impl Store {
     /// `n` ride along as independent labels; `f` must have none). Exact division in the free
     /// polynomial ring is also exact modulo the root relations, so the result is an identity.
     fn poly_div_exact(&mut self, n: &Poly, f: &Poly) -> Option<Poly> {
-        use std::collections::BTreeMap;
-        let fmonos: Vec<Mono> = f
-            .iter()
-            .map(|(m, _)| self.monos[m.0 as usize].clone())
-            .collect();
-        if fmonos.iter().any(|m| m.exp.is_some()) || f.len() < 2 {
-            return None;
+        let division = self.divide_terms(n, f);
+        self.finish_division(division)
+    }
+
+    /// `n` divided by the denominator factor `f`, as [`Store::poly_div_exact`].
+    fn divide_by_factor(&mut self, n: &Poly, f: FactorId) -> Option<Poly> {
+        let division = self.divide_terms(n, &self.factors[f.0 as usize]);
+        self.finish_division(division)
+    }
+
+    /// Interns the quotient's monomials in the order the division made them (also those of
+    /// a division that failed part-way, so that the store's numbering does not depend on
+    /// how a refusal is reached), and returns the quotient if the division succeeded.
+    fn finish_division(&mut self, d: Division) -> Option<Poly> {
+        let ids: Vec<MonoId> = d.made.into_iter().map(|m| self.intern_mono(m)).collect();
+        let quotient = d.quotient?;
+        let mut out: FxHashMap<MonoId, Coeff> = FxHashMap::default();
+        for (i, q) in quotient {
+            let e = out.entry(ids[i]).or_insert_with(Coeff::zero);
+            *e = e.add(&q);
         }
-        let kf: Vec<KernelId> = {
-            let set: std::collections::BTreeSet<KernelId> = fmonos
-                .iter()
-                .flat_map(|m| m.pows.iter().map(|p| p.0))
-                .collect();
-            set.into_iter().collect()
+        Some(Self::sort_terms(out))
+    }
+
+    /// The long division of `n` by `f` ([`Store::poly_div_exact`]), without touching the
+    /// store: the quotient's monomials in the order they were made, and the quotient (its
+    /// terms index those monomials) if `f` divides `n`.
+    ///
+    /// Exponent vectors over `f`'s kernels (at most [`DIV_KERNELS`] of them; a factor with
+    /// more is not divided out) are fixed arrays, compared lexicographically in kernel order;
+    /// `n` is divided group by group, a group being the terms that agree in everything `f`
+    /// does not involve, in the order of those parts.
+    fn divide_terms(&self, n: &Poly, f: &Poly) -> Division {
+        let refused = Division {
+            made: Vec::new(),
+            quotient: None,
         };
-        let vector = |pows: &[(KernelId, i32)]| -> Vec<i32> {
-            kf.iter()
-                .map(|k| pows.iter().find(|p| p.0 == *k).map(|p| p.1).unwrap_or(0))
-                .collect()
-        };
-        let fterms: Vec<(Vec<i32>, Coeff)> = fmonos
-            .iter()
-            .zip(f)
-            .map(|(m, (_, c))| (vector(&m.pows), c.clone()))
-            .collect();
-        let (flead, fcoef) = fterms.iter().max_by(|a, b| a.0.cmp(&b.0)).cloned()?;
-        let finv = fcoef.inv()?;
-        // Group the numerator by everything f does not involve.
-        type Rest = (Vec<(KernelId, i32)>, Option<Form>);
-        let mut groups: BTreeMap<Rest, BTreeMap<Vec<i32>, Coeff>> = BTreeMap::new();
-        for (m, c) in n {
+        if f.len() < 2 {
+            return refused;
+        }
+        let mut kf: Vec<KernelId> = Vec::new();
+        for (m, _) in f {
             let mono = &self.monos[m.0 as usize];
-            let rest: Vec<(KernelId, i32)> = mono
-                .pows
-                .iter()
-                .filter(|p| !kf.contains(&p.0))
-                .cloned()
-                .collect();
-            groups
-                .entry((rest, mono.exp))
-                .or_default()
-                .insert(vector(&mono.pows), c.clone());
+            if mono.exp.is_some() {
+                return refused;
+            }
+            kf.extend(mono.pows.iter().map(|p| p.0));
+        }
+        kf.sort_unstable();
+        kf.dedup();
+        let k = kf.len();
+        if k > DIV_KERNELS {
+            return refused;
+        }
+        let vector = |pows: &[(KernelId, i32)]| -> DivExponents {
+            let mut v = [0; DIV_KERNELS];
+            for &(kid, e) in pows {
+                if let Ok(i) = kf.binary_search(&kid) {
+                    v[i] = e;
+                }
+            }
+            v
+        };
+        let fterms: Vec<(DivExponents, &Coeff)> = f
+            .iter()
+            .map(|(m, c)| (vector(&self.monos[m.0 as usize].pows), c))
+            .collect();
+        let Some(&(flead, fcoef)) = fterms.iter().max_by(|a, b| a.0.cmp(&b.0)) else {
+            return refused;
+        };
+        // The numerator's terms grouped by everything f does not involve (the kernels
+        // outside f, then the exponential), groups in that order.
+        let outside = |m: MonoId| {
+            let mono = &self.monos[m.0 as usize];
+            (
+                mono.pows.iter().filter(|p| kf.binary_search(&p.0).is_err()),
+                mono.exp,
+            )
+        };
+        let same_group = |a: MonoId, b: MonoId| {
+            let ((pa, ea), (pb, eb)) = (outside(a), outside(b));
+            pa.cmp(pb).then(ea.cmp(&eb))
+        };
+        let mut order: Vec<usize> = (0..n.len()).collect();
+        order.sort_by(|&i, &j| same_group(n[i].0, n[j].0));
+        let mut groups: Vec<(MonoId, Vec<(DivExponents, Coeff)>)> = Vec::new();
+        for i in order {
+            let (m, c) = &n[i];
+            let v = vector(&self.monos[m.0 as usize].pows);
+            match groups.last_mut() {
+                Some((first, terms)) if same_group(*first, *m).is_eq() => {
+                    terms.push((v, c.clone()))
+                }
+                _ => groups.push((*m, vec![(v, c.clone())])),
+            }
         }
         // Cheap refusals first. In each variable, and in the total degree, the highest and the
         // lowest degree of a product are the sums of the factors' (the ring has no zero
         // divisors), so each group's degree span in every kernel of f, and its total-degree
         // span, must reach f's. (A refusal is always safe: cancellation is optional.)
-        let spans = |vs: &mut dyn Iterator<Item = &Vec<i32>>| -> Vec<(i32, i32)> {
-            let mut out = vec![(i32::MAX, i32::MIN); kf.len() + 1];
+        let spans = |vs: &mut dyn Iterator<Item = &DivExponents>| -> [(i32, i32); DIV_KERNELS + 1] {
+            let mut out = [(i32::MAX, i32::MIN); DIV_KERNELS + 1];
             for v in vs {
-                let total: i32 = v.iter().sum();
-                for (s, x) in out.iter_mut().zip(v.iter().chain(std::iter::once(&total))) {
-                    s.0 = s.0.min(*x);
-                    s.1 = s.1.max(*x);
+                let total: i32 = v[..k].iter().sum();
+                for (i, s) in out[..=k].iter_mut().enumerate() {
+                    let x = if i < k { v[i] } else { total };
+                    s.0 = s.0.min(x);
+                    s.1 = s.1.max(x);
                 }
             }
             out
         };
         let fspan = spans(&mut fterms.iter().map(|(v, _)| v));
-        for rem in groups.values() {
-            let g = spans(&mut rem.keys());
-            if g.iter().zip(&fspan).any(|(a, b)| a.1 - a.0 < b.1 - b.0) {
-                return None;
+        for (_, terms) in &groups {
+            let g = spans(&mut terms.iter().map(|(v, _)| v));
+            if g[..=k]
+                .iter()
+                .zip(&fspan[..=k])
+                .any(|(a, b)| a.1 - a.0 < b.1 - b.0)
+            {
+                return refused;
             }
         }
-        let mut out: FxHashMap<MonoId, Coeff> = FxHashMap::default();
+        let Some(finv) = fcoef.inv() else {
+            return refused;
+        };
+        let mut made: Vec<Mono> = Vec::new();
+        let mut quotient: Vec<(usize, Coeff)> = Vec::new();
         let mut budget = 4 * (n.len() + f.len()) + 64;
-        for ((rest, exp), mut rem) in groups {
+        for (first, mut rem) in groups {
+            let (rest, exp) = outside(first);
+            let rest: Vec<(KernelId, i32)> = rest.copied().collect();
+            // The remainder, ascending: the leading term is the last.
+            rem.sort_unstable_by_key(|t| t.0);
             // f has lowest power 0 in each of its kernels (its content was taken out), so a
             // quotient q = n/f has, kernel by kernel, the same lowest power as n: a quotient
             // term below it proves that f does not divide n.
-            let lowest: Vec<i32> = (0..kf.len())
-                .map(|i| rem.keys().map(|v| v[i]).min().unwrap_or(0))
-                .collect();
-            while let Some((lead, c)) = rem.iter().next_back().map(|(k, v)| (k.clone(), v.clone()))
-            {
-                budget = budget.checked_sub(1)?;
-                let d: Vec<i32> = lead.iter().zip(&flead).map(|(a, b)| a - b).collect();
-                if d.iter().zip(&lowest).any(|(a, b)| a < b) {
-                    return None;
+            let mut lowest = [0; DIV_KERNELS];
+            for (i, l) in lowest[..k].iter_mut().enumerate() {
+                *l = rem.iter().map(|t| t.0[i]).min().unwrap_or(0);
+            }
+            while let Some((lead, c)) = rem.last().cloned() {
+                let Some(b) = budget.checked_sub(1) else {
+                    return Division {
+                        made,
+                        quotient: None,
+                    };
+                };
+                budget = b;
+                let mut d = [0; DIV_KERNELS];
+                for i in 0..k {
+                    d[i] = lead[i] - flead[i];
+                }
+                if d[..k].iter().zip(&lowest[..k]).any(|(a, b)| a < b) {
+                    return Division {
+                        made,
+                        quotient: None,
+                    };
                 }
                 let q = c.mul(&finv);
                 for (fv, fc) in &fterms {
-                    let key: Vec<i32> = fv.iter().zip(&d).map(|(a, b)| a + b).collect();
+                    let mut key = [0; DIV_KERNELS];
+                    for i in 0..k {
+                        key[i] = fv[i] + d[i];
+                    }
                     let sub = fc.mul(&q);
-                    let entry = rem.entry(key.clone()).or_insert_with(Coeff::zero);
-                    *entry = entry.sub(&sub);
-                    if entry.is_zero() {
-                        rem.remove(&key);
+                    match rem.binary_search_by(|t| t.0.cmp(&key)) {
+                        Ok(at) => {
+                            let e = rem[at].1.sub(&sub);
+                            if e.is_zero() {
+                                rem.remove(at);
+                            } else {
+                                rem[at].1 = e;
+                            }
+                        }
+                        Err(at) => {
+                            let e = Coeff::zero().sub(&sub);
+                            if !e.is_zero() {
+                                rem.insert(at, (key, e));
+                            }
+                        }
                     }
                 }
                 let mut pows = rest.clone();
-                for (k, e) in kf.iter().zip(&d) {
+                for (kid, e) in kf.iter().zip(&d[..k]) {
                     if *e != 0 {
-                        pows.push((*k, *e));
+                        pows.push((*kid, *e));
                     }
                 }
                 pows.sort_by_key(|p| p.0);
-                if pows
-                    .iter()
-                    .any(|(k, e)| *e < 0 && matches!(self.kernel(*k), Kernel::Root { .. }))
+                let no_progress = rem.last().is_some_and(|t| t.0 >= lead);
+                if no_progress
+                    || pows
+                        .iter()
+                        .any(|(kid, e)| *e < 0 && matches!(self.kernel(*kid), Kernel::Root { .. }))
                 {
-                    return None;
+                    return Division {
+                        made,
+                        quotient: None,
+                    };
                 }
-                if rem.keys().next_back().is_some_and(|k| *k >= lead) {
-                    return None; // no progress: not divisible in this order
-                }
-                let id = self.intern_mono(Mono { pows, exp });
-                let e = out.entry(id).or_insert_with(Coeff::zero);
-                *e = e.add(&q);
+                quotient.push((made.len(), q));
+                made.push(Mono { pows, exp });
             }
         }
-        Some(Self::sort_terms(out))
+        Division {
+            made,
+            quotient: Some(quotient),
+        }
     }
 
     /// Expands a factored denominator (or any product of factors) into a numerator.

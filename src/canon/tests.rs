@@ -737,6 +737,60 @@ fn exact_division_cancels_random_products() {
     );
 }
 
+/// The long division never cancels what does not divide: `(f q + m) / f`, with `f` of two or
+/// more terms in x, y, z and `m` a monomial (which no such `f` divides), keeps `f` in its
+/// denominator, and times `f` gives `f q + m` back. Seeded random `f`; `q` and `m` also carry
+/// a symbol and a sine that `f` does not have (so the division works group by group, the
+/// sine's exponentials riding along).
+#[test]
+fn exact_division_refuses_what_does_not_divide() {
+    let (seed, mut rng) = seeded(20_261_205);
+    let mut pick = |n: u64| rng.next_u64() % n;
+    let poly = |terms: u64, outside: bool, pick: &mut dyn FnMut(u64) -> u64| -> String {
+        let mut out = Vec::new();
+        for _ in 0..terms {
+            let c = pick(7) as i64 - 3;
+            let c = if c == 0 { 1 } else { c };
+            let [a, b, d] = [pick(3), pick(3), pick(2)];
+            let more = if outside {
+                format!("*v^{}*sin(w)^{}", pick(3), pick(2))
+            } else {
+                String::new()
+            };
+            out.push(format!("({c})*x^{a}*y^{b}*z^{d}{more}"));
+        }
+        out.join(" + ")
+    };
+    let mut kept = 0;
+    for case in 0..200 {
+        let mut st = Store::new();
+        let f = poly(2 + pick(2), false, &mut pick);
+        let q = poly(1 + pick(4), true, &mut pick);
+        let m = format!("x^{}*y^{}*z^{}*v^{}", pick(3), pick(3), pick(2), pick(3));
+        let ff = form(&mut st, &f);
+        if st.num_terms(ff) < 2 {
+            continue;
+        }
+        let num = form(&mut st, &format!("({f})*({q}) + {m}"));
+        let quotient = form(&mut st, &format!("(({f})*({q}) + {m})/({f})"));
+        assert!(
+            !st.view(quotient).is_polynomial(),
+            "seed {seed}, case {case}: (({f})*({q}) + {m})/({f}) lost its denominator"
+        );
+        let text = st.to_text(quotient);
+        let back = form(&mut st, &format!("({text})*({f})"));
+        assert_eq!(
+            back, num,
+            "seed {seed}, case {case}: ({text})*({f}) is not ({f})*({q}) + {m}"
+        );
+        kept += 1;
+    }
+    assert!(
+        kept > 100,
+        "only {kept} cases had a divisor of 2 or more terms"
+    );
+}
+
 /// The seeded generator of a randomised test: `LINGRAV_SEED` if set, else `default`; the
 /// seed is printed (and returned, for the messages) so that a failure can be rerun.
 fn seeded(default: u64) -> (u64, crate::zero::SplitMix64) {
