@@ -357,6 +357,8 @@ struct Evaluation<'p, S: Scalar> {
 enum Applied {
     Pow(BigRational),
     Builtin(&'static str),
+    /// A function given by a sample (its name), differentiated this many times.
+    Sample(String, u32),
 }
 
 /// An exact rational if `e` is a constant built from numbers by `+ - * /` and integer
@@ -593,6 +595,25 @@ impl<'p, S: Scalar> Evaluation<'p, S> {
             }
             return Self::builtin(f, &self.eval(arg, order)?, c).here();
         }
+        // A sample of a name (`X(t)`, `F(u)`): the same name and derivative recur across
+        // the parts of a problem (a body's position, its quadrupole, the claim), so it is
+        // computed once per point, order and derivative.
+        if let ExprKind::Ident(x) = &arg.kind {
+            let is_this =
+                |op: &Applied| matches!(op, Applied::Sample(n, k) if n == name && *k == primes);
+            if let Some(j) = self.recall(x, order, is_this) {
+                return Ok(j);
+            }
+            let j = self.sampled(name, primes, arg, order)?;
+            self.remember(x, Applied::Sample(name.to_string(), primes), order, &j);
+            return Ok(j);
+        }
+        self.sampled(name, primes, arg, order)
+    }
+
+    /// The function `name`, given by a sample, differentiated `primes` times, of `arg`.
+    fn sampled(&mut self, name: &str, primes: u32, arg: &Expr, order: u32) -> Result<Jet<S>, Here> {
+        let c = self.ctx;
         let a = self.eval(arg, order)?;
         let sample = self.p.samples.get(name).here()?;
         let k_max = if a.is_constant() { 0 } else { a.order() };

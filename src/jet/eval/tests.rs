@@ -166,6 +166,43 @@ fn arbitrary_functions_through_samples_match_mpmath() {
     );
 }
 
+/// Samples of one name recur with different derivatives, and two functions share an
+/// argument: each (function, derivative, order) is its own, also when computed once per
+/// point. Q = exp(-u^2/2) sin(3u), F = u^3, w = t - r, at (0.5, 1.25, -0.75, 0.5); the
+/// values from mpmath (45 digits, `mpmath.diff`).
+#[test]
+fn samples_of_one_argument_keep_their_derivatives_apart() {
+    let c = Case::new(
+        &["t", "x", "y", "z"],
+        &[("t", "0.5"), ("x", "1.25"), ("y", "-0.75"), ("z", "0.5")],
+    )
+    .function("Q", "exp(-u^2/2)*sin(3*u)")
+    .function("F", "u^3")
+    .define("w", "t - sqrt(x^2 + y^2 + z^2)");
+    let e = "Q(w) + 2*Q'(w) + Q''(w)*Q(w) + F(w) + F'(w)";
+    c.check(
+        e,
+        &[0, 0, 0, 0],
+        "-1.361016670012622971504295923051991822118",
+    );
+    c.check(
+        e,
+        &[1, 0, 0, 0],
+        "-5.780774086401358556795941450857504677822",
+    );
+    c.check(
+        e,
+        &[1, 1, 0, 0],
+        "12.69531674835226091221346454923981558253",
+    );
+    // The same at order 0 first, then a higher order in the same expression.
+    c.check(
+        &format!("Q(w) + d_t_x({e})"),
+        &[0, 0, 0, 0],
+        "12.68468418515275995383625449526172145242",
+    );
+}
+
 /// The sample's variable `u` is its own, also when the outer expression has a symbol `u`:
 /// F(x) with F = u^2 is x^2, whatever u is (found by the audit of `lingrav zero 'F(x)*u'`,
 /// issue 9).
