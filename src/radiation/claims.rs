@@ -33,11 +33,12 @@ fn audited(f: &Finding) -> Audited {
 }
 
 /// One claimed quantity: its residual against the formula, and the texts of the audit
-/// (`claimed` form to print, definition from the bodies' texts), or no audit (the reason).
+/// (the claimed value, as the file wrote it where it can be, and the definition from the
+/// bodies' texts), or no audit (the reason).
 struct Item {
     name: String,
     residual: Form,
-    audit: Result<(Form, String), String>,
+    audit: Result<(String, String), String>,
 }
 
 /// The named parts of the definitions (see [`Definitions`]): each `(name, text)` uses the
@@ -653,7 +654,7 @@ fn reports_with(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
                 vec![Item {
                     name: "claimed L - (1/5) dddQ_ij dddQ_ij".into(),
                     residual,
-                    audit: Ok((c.form, definition.clone())),
+                    audit: Ok((c.text.clone(), definition.clone())),
                 }],
             ));
         }
@@ -725,7 +726,7 @@ fn reports_with(p: &mut Problem) -> Result<Vec<ClaimReport>, ClaimsError> {
             items.push(Item {
                 name: format!("claimed {name} - quadrupole {name}, {at}"),
                 residual: st.substitute(residual, &subs).map_err(lim)?,
-                audit: Ok((shifted, def)),
+                audit: Ok((st.to_text(shifted), def)),
             });
         }
         groups.push((Kind::Waveform, items));
@@ -777,7 +778,7 @@ fn momentum_reports(
             items.push(Item {
                 name: format!("claimed dP_{0}/dt - formula dP_{0}/dt", AXES[i]),
                 residual: st.sub(c[i].form, dp[i]).map_err(lim)?,
-                audit: Ok((c[i].form, next_defs.momentum(i))),
+                audit: Ok((c[i].text.clone(), next_defs.momentum(i))),
             });
         }
         groups.push((Kind::MomentumFlux { average: false }, items));
@@ -1068,11 +1069,8 @@ fn decide_group(
     let texts: Vec<(String, String)> = items
         .iter()
         .filter_map(|it| {
-            let (f, def) = it.audit.as_ref().ok()?;
-            Some((
-                it.name.clone(),
-                format!("({}) - {def}", p.store.to_text(*f)),
-            ))
+            let (claimed, def) = it.audit.as_ref().ok()?;
+            Some((it.name.clone(), format!("({claimed}) - {def}")))
         })
         .collect();
     let route = FileQuantities::texts_with(p, parts, &texts);
@@ -1196,6 +1194,35 @@ mod tests {
         assert_eq!(r.status, Status::Undecided);
         assert!(r.components[0].audit.is_defect());
         assert!(r.method.contains("INTERNAL DEFECT"), "{}", r.method);
+    }
+
+    /// The audit evaluates the claimed value as the file wrote it, not the exact route's
+    /// form of it: were the claim's form wrong (here: the exact verdict "zero" given with a
+    /// claimed text that is twice the formula), the audit contradicts the verdict.
+    #[test]
+    fn the_audit_reads_the_claim_as_written() {
+        let mut p = crate::problem::worked("head_on_plunge.toml");
+        let claimed = p
+            .radiation_claims
+            .luminosity
+            .clone()
+            .expect("a luminosity claim");
+        let defs = Definitions::of_order(&p, false);
+        let zero = p.store.zero();
+        let item = |text: String| Item {
+            name: "claimed L - (1/5) dddQ_ij dddQ_ij".into(),
+            residual: zero,
+            audit: Ok((text, defs.luminosity())),
+        };
+        let kind = Kind::Luminosity { average: false };
+        let right = decide_group(&mut p, kind, vec![item(claimed.text.clone())], defs.parts());
+        let right = right.expect("decided");
+        assert_eq!(right.status, Status::Holds, "{}", right.method);
+        assert!(!right.components[0].audit.is_defect(), "{}", right.method);
+        let wrong = format!("2*({})", claimed.text);
+        let wrong = decide_group(&mut p, kind, vec![item(wrong)], defs.parts()).expect("decided");
+        assert!(wrong.components[0].audit.is_defect(), "{}", wrong.method);
+        assert_ne!(wrong.status, Status::Holds, "{}", wrong.method);
     }
 
     /// Definitions written without the next order have the same quadrupole parts and
