@@ -1225,29 +1225,28 @@ impl Store {
             return refused;
         };
         // The numerator's terms grouped by everything f does not involve (the kernels
-        // outside f, then the exponential), groups in that order.
-        let outside = |m: MonoId| {
+        // outside f, then the exponential); the groups are put in that order once they have
+        // passed the refusals below.
+        type Outside = (Vec<(KernelId, i32)>, Option<Form>);
+        let mut group_of: FxHashMap<Outside, usize> = FxHashMap::default();
+        let mut groups: Vec<(Outside, Vec<(DivExponents, &Coeff)>)> = Vec::new();
+        for (m, c) in n {
             let mono = &self.monos[m.0 as usize];
-            (
-                mono.pows.iter().filter(|p| kf.binary_search(&p.0).is_err()),
+            let outside: Outside = (
+                mono.pows
+                    .iter()
+                    .filter(|p| kf.binary_search(&p.0).is_err())
+                    .copied()
+                    .collect(),
                 mono.exp,
-            )
-        };
-        let same_group = |a: MonoId, b: MonoId| {
-            let ((pa, ea), (pb, eb)) = (outside(a), outside(b));
-            pa.cmp(pb).then(ea.cmp(&eb))
-        };
-        let mut order: Vec<usize> = (0..n.len()).collect();
-        order.sort_by(|&i, &j| same_group(n[i].0, n[j].0));
-        let mut groups: Vec<(MonoId, Vec<(DivExponents, Coeff)>)> = Vec::new();
-        for i in order {
-            let (m, c) = &n[i];
-            let v = vector(&self.monos[m.0 as usize].pows);
-            match groups.last_mut() {
-                Some((first, terms)) if same_group(*first, *m).is_eq() => {
-                    terms.push((v, c.clone()))
+            );
+            let v = vector(&mono.pows);
+            match group_of.get(&outside) {
+                Some(&g) => groups[g].1.push((v, c)),
+                None => {
+                    group_of.insert(outside.clone(), groups.len());
+                    groups.push((outside, vec![(v, c)]));
                 }
-                _ => groups.push((*m, vec![(v, c.clone())])),
             }
         }
         // Cheap refusals first. In each variable, and in the total degree, the highest and the
@@ -1280,13 +1279,14 @@ impl Store {
         let Some(finv) = fcoef.inv() else {
             return refused;
         };
+        groups.sort_unstable_by(|a, b| a.0.cmp(&b.0));
         let mut made: Vec<Mono> = Vec::new();
         let mut quotient: Vec<(usize, Coeff)> = Vec::new();
         let mut budget = 4 * (n.len() + f.len()) + 64;
-        for (first, mut rem) in groups {
-            let (rest, exp) = outside(first);
-            let rest: Vec<(KernelId, i32)> = rest.copied().collect();
+        for ((rest, exp), terms) in groups {
             // The remainder, ascending: the leading term is the last.
+            let mut rem: Vec<(DivExponents, Coeff)> =
+                terms.into_iter().map(|(v, c)| (v, c.clone())).collect();
             rem.sort_unstable_by_key(|t| t.0);
             // f has lowest power 0 in each of its kernels (its content was taken out), so a
             // quotient q = n/f has, kernel by kernel, the same lowest power as n: a quotient

@@ -262,7 +262,11 @@ pub fn audit_claims_with(
         .map(|(n, v)| (n.as_str(), *v))
         .collect();
     // Witness points repeat across components (the zero test draws them from one seed):
-    // each point is evaluated once.
+    // each point is evaluated once. A component's witness names only the symbols its form
+    // depends on; the others are filled in where the other witnesses name them, so that
+    // components of one seed meet at one point (one evaluation of the whole chain, not one
+    // per set of named symbols).
+    let shared = shared_values(claims);
     let mut at_witness: FxHashMap<Vec<(String, u64)>, FxHashMap<String, Interval>> =
         FxHashMap::default();
     for c in claims.iter_mut() {
@@ -276,7 +280,7 @@ pub fn audit_claims_with(
                 (Verdict::Zero, _) => audit_proof(k, &id, at_points, seed),
                 // `audit` is at hand whenever a verdict is nonzero.
                 (Verdict::Nonzero(w), Some(audit)) => {
-                    let point = witness_point(audit, &w, &typical);
+                    let point = witness_point(audit, &w, &shared, &typical);
                     let mut tag: Vec<(String, u64)> = point
                         .iter()
                         .map(|(n, v)| (n.clone(), v.to_bits()))
@@ -314,11 +318,46 @@ fn by_key(values: Vec<ComponentValue>) -> FxHashMap<String, Interval> {
         .collect()
 }
 
+/// The values that the witnesses of `claims` give a symbol, where they all give it the same
+/// value, in order of first appearance.
+fn shared_values(claims: &[ClaimReport]) -> Vec<(String, f64)> {
+    let mut seen: Vec<(&str, Option<u64>)> = Vec::new();
+    for k in claims.iter().flat_map(|c| &c.components) {
+        let Verdict::Nonzero(w) = &k.verdict else {
+            continue;
+        };
+        for (name, v) in &w.point {
+            match seen.iter_mut().find(|(n, _)| n == name) {
+                Some((_, agreed)) => {
+                    if *agreed != Some(v.to_bits()) {
+                        *agreed = None;
+                    }
+                }
+                None => seen.push((name, Some(v.to_bits()))),
+            }
+        }
+    }
+    seen.into_iter()
+        .filter_map(|(n, v)| Some((n.to_string(), f64::from_bits(v?))))
+        .collect()
+}
+
 /// The witness's point with every coordinate and parameter it does not name filled in (the
-/// component does not depend on them, so any value serves; parameters take their typical
-/// value).
-fn witness_point(audit: &Audit, w: &Witness, typical: &FxHashMap<&str, f64>) -> Vec<(String, f64)> {
-    let mut p = audit.complete(&w.point, 0.5);
+/// component does not depend on them, so any value serves): the value the other witnesses
+/// agree on (`shared`), else a coordinate's default and a parameter's typical value.
+fn witness_point(
+    audit: &Audit,
+    w: &Witness,
+    shared: &[(String, f64)],
+    typical: &FxHashMap<&str, f64>,
+) -> Vec<(String, f64)> {
+    let mut named = w.point.clone();
+    for (n, v) in shared {
+        if !named.iter().any(|(m, _)| m == n) {
+            named.push((n.clone(), *v));
+        }
+    }
+    let mut p = audit.complete(&named, 0.5);
     for (name, v) in typical {
         if !p.iter().any(|(n, _)| n == name) {
             p.push(((*name).to_string(), *v));
@@ -453,6 +492,58 @@ mod tests {
     const WRONG: &str = "name = 'wrong sign'\n[parameters]\na = 1e-3\nw = 2.0\n\
         [perturbation]\nxx = 'a*cos(w*(t - z))'\nyy = 'a*cos(w*(t - z))'\n\
         [claims]\nfield_equations = true\n";
+
+    /// Witnesses name only the symbols their component depends on; a symbol they do not name
+    /// is filled in with the value the other witnesses agree on (so components of one seed
+    /// meet at one point), never with a value two witnesses disagree on. On the point mass
+    /// in spherical coordinates, the six nonzero Riemann components of "not pure gauge" name
+    /// {m, r} or {m, r, th}: all are completed to one point, and each is still certified.
+    #[test]
+    fn issue10_witnesses_of_one_seed_meet_at_one_point() {
+        let mut p = crate::problem::worked("spherical_point_mass.toml");
+        let (mut claims, _) = super::super::exact_claims(&mut p);
+        let witnesses: Vec<Witness> = claims
+            .iter()
+            .flat_map(|c| &c.components)
+            .filter_map(|k| match &k.verdict {
+                Verdict::Nonzero(w) => Some(w.clone()),
+                _ => None,
+            })
+            .collect();
+        assert_eq!(witnesses.len(), 6);
+        assert!(witnesses.iter().any(|w| w.point.len() < 3), "{witnesses:?}");
+        let shared = shared_values(&claims);
+        let texts = Texts::of(&p);
+        let audit = Audit::of_texts(&texts).expect("plans");
+        let typical = FxHashMap::default();
+        let mut points: Vec<Vec<(String, f64)>> = witnesses
+            .iter()
+            .map(|w| {
+                let mut q = witness_point(&audit, w, &shared, &typical);
+                q.sort_by(|a, b| a.0.cmp(&b.0));
+                q
+            })
+            .collect();
+        for (w, q) in witnesses.iter().zip(&points) {
+            for named in &w.point {
+                assert!(q.contains(named), "{q:?} keeps {named:?}");
+            }
+        }
+        points.dedup();
+        assert_eq!(points.len(), 1, "{points:?}");
+        // Two witnesses that disagree on a symbol leave it to the default.
+        let Verdict::Nonzero(w) = &mut claims[3].components[0].verdict else {
+            panic!(
+                "the first Riemann component has a witness: {:?}",
+                claims[3].components[0]
+            );
+        };
+        w.point[1].1 += 1.0;
+        let r = w.point[1].0.clone();
+        let shared = shared_values(&claims);
+        assert!(!shared.iter().any(|(n, _)| *n == r), "{shared:?}");
+        assert!(shared.iter().any(|(n, _)| n == "th"), "{shared:?}");
+    }
 
     /// The audit's seeded points evaluated on a second thread beside the exact route give
     /// exactly the report of the sequential audit (a scheduling choice, nothing else), for
