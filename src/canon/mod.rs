@@ -1224,36 +1224,11 @@ impl Store {
         let Some(&(flead, fcoef)) = fterms.iter().max_by(|a, b| a.0.cmp(&b.0)) else {
             return refused;
         };
-        // The numerator's terms grouped by everything f does not involve (the kernels
-        // outside f, then the exponential); the groups are put in that order once they have
-        // passed the refusals below.
-        type Outside = (Vec<(KernelId, i32)>, Option<Form>);
-        let mut group_of: FxHashMap<Outside, usize> = FxHashMap::default();
-        let mut groups: Vec<(Outside, Vec<(DivExponents, &Coeff)>)> = Vec::new();
-        for (m, c) in n {
-            let mono = &self.monos[m.0 as usize];
-            let outside: Outside = (
-                mono.pows
-                    .iter()
-                    .filter(|p| kf.binary_search(&p.0).is_err())
-                    .copied()
-                    .collect(),
-                mono.exp,
-            );
-            let v = vector(&mono.pows);
-            match group_of.get(&outside) {
-                Some(&g) => groups[g].1.push((v, c)),
-                None => {
-                    group_of.insert(outside.clone(), groups.len());
-                    groups.push((outside, vec![(v, c)]));
-                }
-            }
-        }
         // Cheap refusals first. In each variable, and in the total degree, the highest and the
         // lowest degree of a product are the sums of the factors' (the ring has no zero
         // divisors), so each group's degree span in every kernel of f, and its total-degree
         // span, must reach f's. (A refusal is always safe: cancellation is optional.)
-        let spans = |vs: &mut dyn Iterator<Item = &DivExponents>| -> [(i32, i32); DIV_KERNELS + 1] {
+        let spans = |vs: &mut dyn Iterator<Item = DivExponents>| -> [(i32, i32); DIV_KERNELS + 1] {
             let mut out = [(i32::MAX, i32::MIN); DIV_KERNELS + 1];
             for v in vs {
                 let total: i32 = v[..k].iter().sum();
@@ -1265,9 +1240,47 @@ impl Store {
             }
             out
         };
-        let fspan = spans(&mut fterms.iter().map(|(v, _)| v));
+        let fspan = spans(&mut fterms.iter().map(|(v, _)| *v));
+        // The whole numerator's spans first (each group's are within them), before any
+        // grouping: small numerators that no factor divides are mostly refused here.
+        let vectors: Vec<DivExponents> = n
+            .iter()
+            .map(|(m, _)| vector(&self.monos[m.0 as usize].pows))
+            .collect();
+        let whole = spans(&mut vectors.iter().copied());
+        if whole[..=k]
+            .iter()
+            .zip(&fspan[..=k])
+            .any(|(a, b)| a.1 - a.0 < b.1 - b.0)
+        {
+            return refused;
+        }
+        // The numerator's terms grouped by everything f does not involve (the kernels
+        // outside f, then the exponential); the groups are put in that order once they have
+        // passed the refusals below.
+        type Outside = (Vec<(KernelId, i32)>, Option<Form>);
+        let mut group_of: FxHashMap<Outside, usize> = FxHashMap::default();
+        let mut groups: Vec<(Outside, Vec<(DivExponents, &Coeff)>)> = Vec::new();
+        for ((m, c), &v) in n.iter().zip(&vectors) {
+            let mono = &self.monos[m.0 as usize];
+            let outside: Outside = (
+                mono.pows
+                    .iter()
+                    .filter(|p| kf.binary_search(&p.0).is_err())
+                    .copied()
+                    .collect(),
+                mono.exp,
+            );
+            match group_of.get(&outside) {
+                Some(&g) => groups[g].1.push((v, c)),
+                None => {
+                    group_of.insert(outside.clone(), groups.len());
+                    groups.push((outside, vec![(v, c)]));
+                }
+            }
+        }
         for (_, terms) in &groups {
-            let g = spans(&mut terms.iter().map(|(v, _)| v));
+            let g = spans(&mut terms.iter().map(|(v, _)| *v));
             if g[..=k]
                 .iter()
                 .zip(&fspan[..=k])
