@@ -8,7 +8,9 @@
 //! the rendering of the report (microseconds for most files, but a large failing residual's
 //! display, built in the file's terms with its sines and cosines regrouped, can take as long
 //! as its check: see the whole-process column of `benches/engine_ratios.sh`). One untimed
-//! warm-up run, then runs until `REPEAT` (default 3) samples or 10 s are collected; prints `FILE median_seconds samples` per file, or
+//! warm-up run, then runs until `REPEAT` (default 3) samples are collected and, with
+//! `MIN_SECONDS` set, until the samples add up to that many seconds (at most 1000 samples;
+//! the peer's `--min-seconds` does the same), within 10 s; prints `FILE median_seconds samples` per file, or
 //! `FILE error MESSAGE` when the file does not load.
 //!
 //! Usage: cargo bench --bench check_files -- FILE...
@@ -25,6 +27,10 @@ fn main() {
         .and_then(|v| v.parse().ok())
         .unwrap_or(3)
         .max(1);
+    let min_seconds: f64 = std::env::var("MIN_SECONDS")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(0.0);
     // cargo bench passes `--bench`; every other argument is a file.
     let files: Vec<String> = std::env::args()
         .skip(1)
@@ -44,9 +50,15 @@ fn main() {
             println!("{file} error {e}");
             continue;
         }
-        let mut times = Vec::new();
+        let mut times: Vec<f64> = Vec::new();
         let budget = Instant::now();
-        while times.len() < repeat && (times.is_empty() || budget.elapsed().as_secs_f64() < 10.0) {
+        let more = |times: &[f64]| {
+            let wall = budget.elapsed().as_secs_f64();
+            times.is_empty()
+                || (times.len() < repeat && wall < 10.0)
+                || (times.iter().sum::<f64>() < min_seconds && times.len() < 1000 && wall < 10.0)
+        };
+        while more(&times) {
             let start = Instant::now();
             let n = run().unwrap_or(0);
             times.push(start.elapsed().as_secs_f64());

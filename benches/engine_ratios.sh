@@ -8,10 +8,15 @@
 # lingrav: one run of the whole process under /usr/bin/time -v gives the peak RSS, the status
 # and the JSON verdicts; then the median of 3 more whole-process runs, timed by the shell
 # (EPOCHREALTIME, no wrapper process), and the in-process time of the same check
-# (benches/check_files.rs: median of 3, process start excluded, as for the peer). The ratio
-# compares in-process times. A run that reaches a limit is not repeated. SymEngine: time in-process from reading the file to the last verdict
-# (interpreter start and `import symengine` excluded), median of 3, and the process's peak
-# RSS (getrusage maxrss, interpreter and library included). The script compares every
+# (benches/check_files.rs, process start excluded, as for the peer). The ratio compares
+# in-process times, both sides timed alike: one untimed warm-up check, then the median of
+# repeated checks in the same process, at least 3 for lingrav and at least one in each of 3
+# processes for SymEngine (the median of the 3 medians), repeated until they add up to
+# MIN_SECONDS (0.2 s; at most 1000 repeats), so that a check of a tenth of a millisecond is
+# not timed by three samples. A run that reaches a limit is not repeated. SymEngine: time
+# in-process from reading the file to the last verdict (interpreter start and `import
+# symengine` excluded), and the process's peak RSS (getrusage maxrss, interpreter and
+# library included). The script compares every
 # component's verdict with lingrav's and says MISMATCH loudly (exit 1) when two decided
 # verdicts differ.
 #
@@ -32,6 +37,7 @@ cd "$(dirname "$0")/.."
 
 timeout_s=120
 max_memory=4096
+min_seconds=0.2
 only=
 keep=
 while (($#)); do
@@ -40,7 +46,7 @@ while (($#)); do
         --max-memory) max_memory=$2; shift 2 ;;
         --only) only=$2; shift 2 ;;
         --keep) keep=$2; shift 2 ;;
-        -h | --help) sed -n '2,29p' "$0" | sed 's/^# \{0,1\}//'; exit 0 ;;
+        -h | --help) sed -n '2,34p' "$0" | sed 's/^# \{0,1\}//'; exit 0 ;;
         *) echo "engine_ratios.sh: unknown argument $1" >&2; exit 2 ;;
     esac
 done
@@ -131,7 +137,7 @@ for f in "${files[@]}"; do
             times+=("$secs")
         done
         lg_proc[$f]=$(printf '%s\n' "${times[@]}" | sort -g | sed -n 2p)
-        lg_time[$f]=$(REPEAT=3 timeout -s KILL "$guard" "$timer" "$f" | awk '{ print $2 }')
+        lg_time[$f]=$(REPEAT=3 MIN_SECONDS=$min_seconds timeout -s KILL "$guard" "$timer" "$f" | awk '{ print $2 }')
     fi
     printf 'lingrav check %s: %s s in-process, %s s whole process, peak %s MB, %s\n' "$f" \
         "${lg_time[$f]}" "${lg_proc[$f]:--}" "${lg_peak[$f]}" "$status"
@@ -140,7 +146,8 @@ done
 echo
 summary="$work/symengine_summary.tsv"
 peer_rc=0
-python3 benches/peers/symengine_check.py --repeat 3 --timeout "$timeout_s" \
+python3 benches/peers/symengine_check.py --repeat 3 --min-seconds "$min_seconds" \
+    --timeout "$timeout_s" \
     --max-memory "$max_memory" --lingrav-json "$work/json" --summary "$summary" \
     "${files[@]}" || peer_rc=$?
 

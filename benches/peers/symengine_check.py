@@ -351,8 +351,9 @@ def time_average(expr, t):
 # --- one file, in the child ----------------------------------------------------------------
 
 
-def run_one(path, tuned):
-    """Every claim of one file; prints a line per claim, then 'RESULT <json>' last."""
+def run_one(path, tuned, quiet=False):
+    """Every claim of one file, timed; prints a line per claim unless quiet. Returns the
+    result (seconds, peak memory, verdicts)."""
     after_import_kb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
     rng = random.Random(20240601)
     start = time.perf_counter()
@@ -370,7 +371,7 @@ def run_one(path, tuned):
             v, detail = decide(expr)
             vs.append(v)
             components[f"{claim.key}\t{name}"] = v
-            if v == "undecided":
+            if v == "undecided" and not quiet:
                 print(f"      {claim.key} {name}: undecided: {detail}", flush=True)
         st = status(vs, bool(claim.expect_zero), claim.refutable)
         statuses.append((claim.key, st))
@@ -378,17 +379,35 @@ def run_one(path, tuned):
                            if vs.count(v))
         if claim.why:
             counts = f"undecided: {claim.why}"
-        print(f"    {st:<9} {claim.key:<20} {len(vs)} components: {counts}", flush=True)
+        if not quiet:
+            print(f"    {st:<9} {claim.key:<20} {len(vs)} components: {counts}", flush=True)
     seconds = time.perf_counter() - start
     peak_kb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
-    print("RESULT " + json.dumps({"seconds": seconds, "peak_kb": peak_kb,
-                                  "after_import_kb": after_import_kb, "claims": statuses,
-                                  "components": components}), flush=True)
+    return {"seconds": seconds, "peak_kb": peak_kb, "after_import_kb": after_import_kb,
+            "claims": statuses, "components": components}
 
 
-def child_main(path, tuned):
+def run_repeated(path, tuned, min_seconds):
+    """run_one, printed as 'RESULT <json>' last. With min_seconds > 0 that first run is a
+    warm-up, as in lingrav's timer (benches/check_files.rs), and the reported time is the
+    median of further runs in the same process (quiet), at least one, until they add up to
+    min_seconds (at most 1000 runs); the verdicts are the first run's."""
+    result = run_one(path, tuned)
+    times = [result["seconds"]]
+    if min_seconds > 0:
+        times = []
+        while not times or (sum(times) < min_seconds and len(times) < 1000):
+            times.append(run_one(path, tuned, quiet=True)["seconds"])
+    times.sort()
+    result["seconds"] = times[len(times) // 2]
+    result["runs"] = len(times)
+    result["peak_kb"] = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
+    print("RESULT " + json.dumps(result), flush=True)
+
+
+def child_main(path, tuned, min_seconds):
     try:
-        run_one(path, tuned)
+        run_repeated(path, tuned, min_seconds)
     except MemoryError:
         print("OUT OF MEMORY", flush=True)
         return 4
@@ -403,15 +422,17 @@ def child_main(path, tuned):
 # --- the parent: one child per file, limits, comparison with lingrav ------------------------
 
 
-def run_child(path, mode, timeout, max_memory_mb, quiet=False):
+def run_child(path, mode, timeout, max_memory_mb, quiet=False, min_seconds=0.0):
     """(outcome, result): outcome is 'ok', 'timeout', 'out of memory' or 'error'. The child's
-    lines are echoed unless quiet."""
+    lines are echoed unless quiet. The child repeats the check in-process until its runs add
+    up to min_seconds and reports their median."""
     def limit():
         if max_memory_mb:
             cap = max_memory_mb * 1024 * 1024
             resource.setrlimit(resource.RLIMIT_AS, (cap, cap))
 
-    cmd = [sys.executable, str(Path(__file__).resolve()), "--child", "--mode", mode, str(path)]
+    cmd = [sys.executable, str(Path(__file__).resolve()), "--child", "--mode", mode,
+           "--min-seconds", str(min_seconds), str(path)]
     try:
         proc = subprocess.run(cmd, capture_output=True, text=True, timeout=timeout,
                               preexec_fn=limit, check=False)
@@ -518,6 +539,11 @@ def main():
     ap.add_argument("--repeat", type=int, default=1, metavar="N",
                     help="run each file N times; the median time is reported, with the "
                          "largest peak memory (1)")
+    ap.add_argument("--min-seconds", type=float, default=0.0, metavar="S",
+                    help="within each run, check once untimed (a warm-up, as lingrav's timer "
+                         "does), then repeat the check in-process until the repeats add up to "
+                         "S seconds (at least one, at most 1000) and take their median (0: "
+                         "one timed check, no warm-up)")
     ap.add_argument("--lingrav", metavar="BIN",
                     help="compare every component's verdict with `BIN check --format json`")
     ap.add_argument("--lingrav-json", metavar="DIR",
@@ -528,7 +554,7 @@ def main():
     ap.add_argument("--child", action="store_true", help=argparse.SUPPRESS)
     args = ap.parse_args()
     if args.child:
-        return child_main(Path(args.files[0]), args.mode == "tuned")
+        return child_main(Path(args.files[0]), args.mode == "tuned", args.min_seconds)
 
     print(f"SymEngine {se.__version__}, Python {sys.version.split()[0]}; "
           f"import symengine: {IMPORT_SECONDS:.2f} s (not counted); mode {args.mode}")
@@ -541,10 +567,12 @@ def main():
             print(f"  not covered: {why}", flush=True)
             rows.append(f"{path}\tnot covered\t-\t-")
             continue
-        outcome, result = run_child(path, args.mode, args.timeout, args.max_memory)
+        outcome, result = run_child(path, args.mode, args.timeout, args.max_memory,
+                                    min_seconds=args.min_seconds)
         if outcome == "ok" and args.repeat > 1:
             runs = [result] + [run_child(path, args.mode, args.timeout, args.max_memory,
-                                         quiet=True)[1] for _ in range(args.repeat - 1)]
+                                         quiet=True, min_seconds=args.min_seconds)[1]
+                               for _ in range(args.repeat - 1)]
             runs = [r for r in runs if r is not None]
             seconds = sorted(r["seconds"] for r in runs)
             result["seconds"] = seconds[len(seconds) // 2]
