@@ -374,20 +374,32 @@ pub fn seeded_points_in(
     seed: u64,
     count: usize,
 ) -> Vec<Point> {
-    let mut rng = SplitMix64(seed);
-    let mut one = |name: &str, typical: Option<f64>| {
-        if let Some((_, (lo, hi))) = ranges.iter().find(|(n, _)| n == name) {
-            let m = (hi - lo) * 1e-3;
-            return round6(lo + m + (hi - lo - 2.0 * m) * rng.next_f64()).clamp(*lo, *hi);
-        }
-        match typical {
-            Some(t) if t != 0.0 => round6(t * (0.5 + 1.5 * rng.next_f64())),
-            _ => rng.signed_unit(),
-        }
-    };
-    (0..count)
-        .map(|_| names.iter().map(|(n, t)| (n.clone(), one(n, *t))).collect())
+    seeded_point_stream(names, ranges, seed)
+        .take(count)
         .collect()
+}
+
+/// The points of [`seeded_points_in`], one at a time (the first `count` are the same
+/// points): a caller that needs only a few of its candidates draws only those.
+fn seeded_point_stream<'a>(
+    names: &'a [(String, Option<f64>)],
+    ranges: &'a [(String, (f64, f64))],
+    seed: u64,
+) -> impl Iterator<Item = Point> + 'a {
+    let mut rng = SplitMix64(seed);
+    std::iter::repeat_with(move || {
+        let mut one = |name: &str, typical: Option<f64>| {
+            if let Some((_, (lo, hi))) = ranges.iter().find(|(n, _)| n == name) {
+                let m = (hi - lo) * 1e-3;
+                return round6(lo + m + (hi - lo - 2.0 * m) * rng.next_f64()).clamp(*lo, *hi);
+            }
+            match typical {
+                Some(t) if t != 0.0 => round6(t * (0.5 + 1.5 * rng.next_f64())),
+                _ => rng.signed_unit(),
+            }
+        };
+        names.iter().map(|(n, t)| (n.clone(), one(n, *t))).collect()
+    })
 }
 
 /// A witness's point completed with a value for every name of `route` it lacks (the exact
@@ -423,7 +435,8 @@ pub fn audit_proofs<R: Route>(route: &R, which: &[usize], seed: u64) -> Vec<Find
         })
         .collect();
     let mut error = None;
-    for p in seeded_points_in(&route.names(), &route.ranges(), seed, CANDIDATES) {
+    let (names, ranges) = (route.names(), route.ranges());
+    for p in seeded_point_stream(&names, &ranges, seed).take(CANDIDATES) {
         if states.iter().all(done) {
             break;
         }
@@ -569,7 +582,8 @@ pub fn audit_witness<R: Route>(
     };
     // Points the f64 route cannot evaluate are skipped at once here (domain), so the search
     // costs at most a few evaluations per candidate.
-    for p in seeded_points_in(&route.names(), &route.ranges(), seed, CANDIDATES) {
+    let (names, ranges) = (route.names(), route.ranges());
+    for p in seeded_point_stream(&names, &ranges, seed).take(CANDIDATES) {
         if let Ok(Some(value)) = certified_value(route, index, &p, false) {
             return Finding::ConfirmedElsewhere {
                 why: "a singularity, or a value that is not real".into(),
