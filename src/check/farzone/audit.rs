@@ -24,7 +24,7 @@
 
 use super::{Found, RayNames};
 use crate::audit::Audit;
-use crate::check::audit::{auditable, not_run};
+use crate::check::audit::{auditable, key, not_run};
 use crate::check::{Audited, ClaimReport, Status};
 use crate::interval::{Ball, Interval};
 use crate::problem::Problem;
@@ -95,10 +95,6 @@ fn on_ray(names: &RayNames, base: &[(String, f64)], rho: f64) -> Option<Vec<(Str
         }
     }
     Some(out)
-}
-
-fn key(claim: &str, component: &str) -> String {
-    format!("{claim}\u{0}{component}")
 }
 
 /// The components at the three radii of one ray, by key.
