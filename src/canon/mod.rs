@@ -1241,18 +1241,20 @@ impl Store {
             out
         };
         let fspan = spans(&mut fterms.iter().map(|(v, _)| *v));
+        // A span in some kernel, or in the total degree, narrower than f's.
+        let narrower = |g: &[(i32, i32); DIV_KERNELS + 1]| {
+            g[..=k]
+                .iter()
+                .zip(&fspan[..=k])
+                .any(|(a, b)| a.1 - a.0 < b.1 - b.0)
+        };
         // The whole numerator's spans first (each group's are within them), before any
         // grouping: small numerators that no factor divides are mostly refused here.
         let vectors: Vec<DivExponents> = n
             .iter()
             .map(|(m, _)| vector(&self.monos[m.0 as usize].pows))
             .collect();
-        let whole = spans(&mut vectors.iter().copied());
-        if whole[..=k]
-            .iter()
-            .zip(&fspan[..=k])
-            .any(|(a, b)| a.1 - a.0 < b.1 - b.0)
-        {
+        if narrower(&spans(&mut vectors.iter().copied())) {
             return refused;
         }
         // The numerator's terms grouped by everything f does not involve (the kernels
@@ -1279,15 +1281,11 @@ impl Store {
                 }
             }
         }
-        for (_, terms) in &groups {
-            let g = spans(&mut terms.iter().map(|(v, _)| *v));
-            if g[..=k]
-                .iter()
-                .zip(&fspan[..=k])
-                .any(|(a, b)| a.1 - a.0 < b.1 - b.0)
-            {
-                return refused;
-            }
+        if groups
+            .iter()
+            .any(|(_, terms)| narrower(&spans(&mut terms.iter().map(|(v, _)| *v))))
+        {
+            return refused;
         }
         let Some(finv) = fcoef.inv() else {
             return refused;

@@ -537,6 +537,22 @@ mod tests {
         }
         points.dedup();
         assert_eq!(points.len(), 1, "{points:?}");
+        // Each witness is still certified again at the shared point.
+        let mut audited = claims.clone();
+        audit_claims(&p, &mut audited, p.sampling.seed);
+        let riemann = &audited[3];
+        assert!(
+            riemann
+                .method
+                .contains("6 witness(es) certified again independently"),
+            "{}",
+            riemann.method
+        );
+        assert!(
+            audited
+                .iter()
+                .all(|c| c.components.iter().all(|k| !k.audit.is_defect()))
+        );
         // Two witnesses that disagree on a symbol leave it to the default.
         let Verdict::Nonzero(w) = &mut claims[3].components[0].verdict else {
             panic!(

@@ -123,16 +123,22 @@ fn derivatives_match_mpmath() {
     u("-0.6").check("cosh(x)", &[2], "1.185465218242267703751913292697716194357");
 }
 
-#[test]
-fn arbitrary_functions_through_samples_match_mpmath() {
-    // Q''(t - r)/r with Q = exp(-u^2/2) sin(3u), at (t, x, y, z) = (0.5, 1.25, -0.75, 0.5).
-    let c = Case::new(
+/// The point (t, x, y, z) = (0.5, 1.25, -0.75, 0.5) with the sample Q = exp(-u^2/2) sin(3u),
+/// shared by the tests of sampled functions.
+fn sampled_case() -> Case {
+    Case::new(
         &["t", "x", "y", "z"],
         &[("t", "0.5"), ("x", "1.25"), ("y", "-0.75"), ("z", "0.5")],
     )
     .function("Q", "exp(-u^2/2)*sin(3*u)")
-    .define("r", "sqrt(x^2 + y^2 + z^2)")
-    .define("q2", "Q''(t - r)/r");
+}
+
+#[test]
+fn arbitrary_functions_through_samples_match_mpmath() {
+    // Q''(t - r)/r with Q = exp(-u^2/2) sin(3u), at (t, x, y, z) = (0.5, 1.25, -0.75, 0.5).
+    let c = sampled_case()
+        .define("r", "sqrt(x^2 + y^2 + z^2)")
+        .define("q2", "Q''(t - r)/r");
     c.check(
         "q2",
         &[0, 0, 0, 0],
@@ -172,13 +178,9 @@ fn arbitrary_functions_through_samples_match_mpmath() {
 /// values from mpmath (45 digits, `mpmath.diff`).
 #[test]
 fn samples_of_one_argument_keep_their_derivatives_apart() {
-    let c = Case::new(
-        &["t", "x", "y", "z"],
-        &[("t", "0.5"), ("x", "1.25"), ("y", "-0.75"), ("z", "0.5")],
-    )
-    .function("Q", "exp(-u^2/2)*sin(3*u)")
-    .function("F", "u^3")
-    .define("w", "t - sqrt(x^2 + y^2 + z^2)");
+    let c = sampled_case()
+        .function("F", "u^3")
+        .define("w", "t - sqrt(x^2 + y^2 + z^2)");
     let e = "Q(w) + 2*Q'(w) + Q''(w)*Q(w) + F(w) + F'(w)";
     c.check(
         e,
